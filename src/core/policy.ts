@@ -1,0 +1,88 @@
+import type { ConditionKind, Indicator, SaturationRange } from './types.js';
+
+/**
+ * The local oxygen policy as the core sees it: parsed, unit-converted and frozen by src/policy.
+ * Every threshold a rule uses lives here, never as a literal in the rule.
+ */
+
+/** A pressure threshold: canonical mmHg for comparison, and the words the policy author wrote. */
+export interface PressureThreshold {
+  readonly mmHg: number;
+  /** e.g. "6.0 kPa", exactly as the policy file gave it. */
+  readonly display: string;
+}
+
+export interface PublishedReference {
+  /** Short label for card sources, e.g. "BTS 2017". */
+  readonly label: string;
+  /** Full citation, e.g. "BTS guideline for oxygen use in adults…, Thorax 72 Suppl 1 (2017)". */
+  readonly citation: string;
+  readonly url?: string;
+}
+
+export interface Policy {
+  readonly id: string;
+  readonly version: string;
+  readonly title: string;
+  /** Key into `references` for the guideline the policy is based on. */
+  readonly basisKey: string;
+  readonly site: {
+    readonly name: string;
+    readonly altitudeM: number;
+    /** A measured or agreed site pressure overrides the altitude model when given. */
+    readonly barometricPressureMmHg: number | undefined;
+  };
+  readonly targets: {
+    /** Acutely ill adults not at risk of hypercapnic respiratory failure (BTS 2017: 94–98 %). */
+    readonly standard: SaturationRange;
+    /** At risk of hypercapnic respiratory failure (BTS 2017 Table 4: 88–92 %). */
+    readonly hypercapnicRisk: SaturationRange;
+    /** Paraquat poisoning or bleomycin lung injury (BTS 2017 Table 3: 85–88 %). */
+    readonly oxygenToxicityRisk: SaturationRange;
+  };
+  readonly hypercapnicRisk: {
+    /** Conditions that by themselves put a patient at risk (BTS 2017 Table 4). */
+    readonly conditions: readonly ConditionKind[];
+    /** PaCO2 at or above this on a gas means hypercapnia (BTS 2017 clarification: ≥ 6 kPa). */
+    readonly hypercapniaPaco2: PressureThreshold;
+    /** HCO3 above this with normal pH suggests long-standing hypercapnia (BTS 2017, V2). */
+    readonly chronicBicarbonateAboveMmolPerL: number;
+    /** BMI above which obesity counts as a risk (BTS 2017 Table 4, ambulance material: > 40). */
+    readonly morbidObesityBmiAbove: number;
+  };
+  readonly freshness: {
+    /** How old an SpO2, FiO2, flow or respiratory rate may be and still count as current. */
+    readonly vitalSignsMinutes: number;
+    readonly bloodGasMinutes: number;
+    readonly haemoglobinHours: number;
+    /** How far back an old gas may show previous hypercapnia. */
+    readonly previousHypercapniaDays: number;
+  };
+  readonly thresholds: {
+    /** pH below this is acidosis (RCEM normal range 7.35–7.45). */
+    readonly acidosisPhBelow: number;
+    /** Consider NIV: pH below and PaCO2 above these after initial therapy (BTS/ICS 2016). */
+    readonly nivPhBelow: number;
+    readonly nivPaco2Above: PressureThreshold;
+    /** Consider invasive ventilation below this pH (BTS/ICS 2016). */
+    readonly invasiveVentilationPhBelow: number;
+    /** SpO2 below this is critical, whatever the target (BTS 2017 Table 2: < 85 % → reservoir mask). */
+    readonly criticalSpo2BelowPercent: number;
+    /** Points below the target's lower bound that make a low SpO2 critical rather than a warning. */
+    readonly criticalPointsBelowTarget: number;
+    /** FiO2 at or above this needs senior or critical-care review. */
+    readonly highOxygenFio2AtLeast: number;
+    /** Respiratory rate above which a Venturi flow is raised by half (BTS 2017 Table 4). */
+    readonly venturiTachypnoeaRespRateAbove: number;
+    readonly venturiTachypnoeaFlowMultiplier: number;
+    /** Repeat blood gas window after starting or changing oxygen in an at-risk patient (BTS 2017). */
+    readonly repeatGasMinutes: { readonly from: number; readonly to: number };
+  };
+  /** Severity overrides by rule id; a hospital may raise or lower a rule's indicator. */
+  readonly severity: Readonly<Record<string, Indicator>>;
+  /** Rules switched off by the hospital, by rule id. */
+  readonly disabledRules: readonly string[];
+  readonly references: Readonly<Record<string, PublishedReference>>;
+  /** Lines added to every card's detail (oximetry limits, advisory-only wording, local contacts). */
+  readonly cautions: readonly string[];
+}

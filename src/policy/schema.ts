@@ -1,0 +1,80 @@
+import { z } from 'zod';
+import { CONDITION_KINDS } from '../core/types.js';
+
+/**
+ * The policy file format (format version 1). Strict: an unknown key is an error, so a typo in a
+ * threshold name cannot silently fall back to a default. Pressures are written as a value with a
+ * UCUM unit (`kPa` or `mm[Hg]`) and converted to mmHg when the file is loaded.
+ */
+
+const percent = z.number().min(50).max(100);
+
+export const SaturationRangeSchema = z
+  .strictObject({ lowPercent: percent, highPercent: percent })
+  .refine((r) => r.lowPercent < r.highPercent, {
+    message: 'lowPercent must be below highPercent',
+  });
+
+export const PressureSchema = z.strictObject({
+  value: z.number().positive(),
+  unit: z.enum(['kPa', 'mm[Hg]', 'mmHg']),
+});
+
+const IndicatorSchema = z.enum(['info', 'warning', 'critical']);
+
+export const ReferenceSchema = z.strictObject({
+  label: z.string().min(1).max(40),
+  citation: z.string().min(1),
+  url: z.url().optional(),
+});
+
+export const PolicyFileSchema = z.strictObject({
+  format: z.literal(1),
+  id: z.string().regex(/^[a-z0-9][a-z0-9-]*$/, 'use lower-case letters, digits and hyphens'),
+  version: z.string().min(1),
+  title: z.string().min(1),
+  basis: z.string().min(1),
+  site: z.strictObject({
+    name: z.string().min(1),
+    /** metres above sea level */
+    altitudeM: z.number().min(-500).max(6000),
+    barometricPressure: PressureSchema.optional(),
+  }),
+  targets: z.strictObject({
+    standard: SaturationRangeSchema,
+    hypercapnicRisk: SaturationRangeSchema,
+    oxygenToxicityRisk: SaturationRangeSchema,
+  }),
+  hypercapnicRisk: z.strictObject({
+    conditions: z.array(z.enum(CONDITION_KINDS)).min(1),
+    hypercapniaPaco2AtLeast: PressureSchema,
+    chronicBicarbonateAboveMmolPerL: z.number().min(20).max(40),
+    morbidObesityBmiAbove: z.number().min(25).max(80),
+  }),
+  freshness: z.strictObject({
+    vitalSignsMinutes: z.number().int().min(1).max(1440),
+    bloodGasMinutes: z.number().int().min(1).max(10080),
+    haemoglobinHours: z.number().int().min(1).max(720),
+    previousHypercapniaDays: z.number().int().min(0).max(3650),
+  }),
+  thresholds: z.strictObject({
+    acidosisPhBelow: z.number().min(7).max(7.6),
+    nivPhBelow: z.number().min(7).max(7.6),
+    nivPaco2Above: PressureSchema,
+    invasiveVentilationPhBelow: z.number().min(6.9).max(7.5),
+    criticalSpo2BelowPercent: z.number().min(50).max(100),
+    criticalPointsBelowTarget: z.number().min(0).max(30),
+    highOxygenFio2AtLeast: z.number().min(0.21).max(1),
+    venturiTachypnoeaRespRateAbove: z.number().min(10).max(60),
+    venturiTachypnoeaFlowMultiplier: z.number().min(1).max(3),
+    repeatGasMinutes: z
+      .strictObject({ from: z.number().int().min(5), to: z.number().int().max(240) })
+      .refine((w) => w.from <= w.to, { message: 'from must not exceed to' }),
+  }),
+  severity: z.record(z.string(), IndicatorSchema).default({}),
+  disabledRules: z.array(z.string()).default([]),
+  references: z.record(z.string(), ReferenceSchema),
+  cautions: z.array(z.string().min(1)).min(1),
+});
+
+export type PolicyFile = z.infer<typeof PolicyFileSchema>;

@@ -1,0 +1,78 @@
+import ucum from '@lhncbc/ucum-lhc';
+
+/**
+ * The one place units are converted: at the edge (FHIR reader, policy loader, CLI, card display),
+ * through the UCUM library rather than a hand table, so kPa, mm[Hg], %, L/min and the rest all follow
+ * the UCUM definitions.
+ */
+
+export type Conversion =
+  | { readonly kind: 'ok'; readonly value: number }
+  | { readonly kind: 'failed'; readonly reason: string };
+
+/**
+ * Display spellings that are not valid UCUM but that real systems send; mapped before UCUM sees them.
+ * UCUM spells millimetres of mercury `mm[Hg]` and a fraction `1`.
+ */
+const ALIASES: Readonly<Record<string, string>> = {
+  mmhg: 'mm[Hg]',
+  'mm hg': 'mm[Hg]',
+  torr: 'mm[Hg]',
+  kpa: 'kPa',
+  'l/min': 'L/min',
+  lpm: 'L/min',
+  'liters/min': 'L/min',
+  'litres/min': 'L/min',
+  'breaths/min': '/min',
+  '{breaths}/min': '/min',
+  'mmol/l': 'mmol/L',
+  'meq/l': 'meq/L',
+  'g/dl': 'g/dL',
+  'g/l': 'g/L',
+  percent: '%',
+  fraction: '1',
+  ratio: '1',
+  '': '1',
+};
+
+const utils = ucum.UcumLhcUtils.getInstance();
+
+/** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
+export function normaliseUnit(unit: string): string | undefined {
+  const trimmed = unit.trim();
+  const alias = ALIASES[trimmed.toLowerCase()];
+  if (alias !== undefined) {
+    return alias;
+  }
+  const check = utils.validateUnitString(trimmed);
+  return check.status === 'valid' ? (check.ucumCode ?? trimmed) : undefined;
+}
+
+/** Converts `value` from one unit to another; both may be UCUM codes or the aliases above. */
+export function convertUnit(value: number, fromUnit: string, toUnit: string): Conversion {
+  const from = normaliseUnit(fromUnit);
+  const to = normaliseUnit(toUnit);
+  if (from === undefined) {
+    return { kind: 'failed', reason: `'${fromUnit}' is not a UCUM unit` };
+  }
+  if (to === undefined) {
+    return { kind: 'failed', reason: `'${toUnit}' is not a UCUM unit` };
+  }
+  if (from === to) {
+    return { kind: 'ok', value };
+  }
+  const result = utils.convertUnitTo(from, value, to);
+  if (result.status !== 'succeeded' || result.toVal === null || !Number.isFinite(result.toVal)) {
+    return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+  }
+  return { kind: 'ok', value: result.toVal };
+}
+
+/** Convenience for callers that have already checked the units are convertible (e.g. kPa ↔ mm[Hg]). */
+export function convertKnown(value: number, fromUnit: string, toUnit: string): number {
+  const result = convertUnit(value, fromUnit, toUnit);
+  if (result.kind === 'failed') {
+    throw new Error(`unit conversion failed: ${result.reason}`);
+  }
+  return result.value;
+}
