@@ -1,0 +1,171 @@
+import { pino, type DestinationStream, type Logger } from 'pino';
+import type { LogLevel } from '../config/env-config.js';
+
+export type { Logger } from 'pino';
+
+/**
+ * Paths pino blanks before a line is written. The summary lines below are built from an allowlist
+ * and never carry these, so this is the second line of defence: for a request object or an error's
+ * context logged by mistake. Bearer tokens (CDS Hooks 2.0 §Security: never log the token), cookies,
+ * and the patient identifiers a hook context or prefetch carries.
+ */
+export const REDACT_PATHS: readonly string[] = [
+  'req.headers.authorization',
+  'req.headers.cookie',
+  'res.headers["set-cookie"]',
+  'headers.authorization',
+  'headers.cookie',
+  'authorization',
+  'fhirAuthorization',
+  '*.fhirAuthorization',
+  '*.*.fhirAuthorization',
+  'access_token',
+  '*.access_token',
+  '*.*.access_token',
+  'patientId',
+  '*.patientId',
+  '*.*.patientId',
+  'prefetch',
+  '*.prefetch',
+  'context',
+  '*.context',
+  'req.body',
+];
+
+export interface LoggerOptions {
+  readonly level: LogLevel;
+  /** Where lines go; stdout when omitted. Tests pass a memory stream. */
+  readonly destination?: DestinationStream;
+}
+
+export function createLogger(options: LoggerOptions): Logger {
+  const settings = {
+    level: options.level,
+    base: { service: 'oxygen-order-checker' },
+    redact: { paths: [...REDACT_PATHS], censor: '[Redacted]' },
+  };
+  return options.destination === undefined ? pino(settings) : pino(settings, options.destination);
+}
+
+/** What the FHIR fallback did for one hook call: key names and failure kinds only, never URLs. */
+export interface FallbackSummary {
+  readonly used: boolean;
+  readonly keysFetched: readonly string[];
+  readonly keysFailed: readonly string[];
+  /** Keys whose search had more pages than could be followed; the pages had were used. */
+  readonly keysIncomplete: readonly string[];
+}
+
+/** The decision-level facts of one hook call: no identifiers, tokens or clinical values. */
+export interface HookCallSummary {
+  readonly kind: 'hook-call';
+  readonly serviceId: string;
+  readonly hook: string;
+  readonly hookInstance: string;
+  readonly ruleIds: readonly string[];
+  readonly policyId: string;
+  readonly policyVersion: string;
+  readonly cardCount: number;
+  readonly fhirFallback: FallbackSummary;
+  /** Optional prefetch keys that could not be had; the call went on without them. */
+  readonly missingKeys: readonly string[];
+}
+
+/** One feedback item as logged: the outcome and the override reason code, nothing else. */
+export interface FeedbackItemSummary {
+  readonly outcome: string;
+  readonly overrideReasonCode: string | undefined;
+  readonly duplicate: boolean;
+}
+
+export interface FeedbackSummary {
+  readonly kind: 'feedback';
+  readonly serviceId: string;
+  readonly items: readonly FeedbackItemSummary[];
+}
+
+export type RequestDetail = HookCallSummary | FeedbackSummary;
+
+export interface RequestSummary {
+  readonly requestId: string;
+  readonly method: string;
+  /** The route's name (`discovery`, `service`, ...), never the raw URL, which a caller controls. */
+  readonly route: string;
+  readonly status: number;
+  readonly durationMs: number;
+  readonly errorCode: string | undefined;
+  readonly detail: RequestDetail | undefined;
+}
+
+/**
+ * Copies only the named fields, so an object with extra properties (a whole request, say) cannot
+ * smuggle them into the line.
+ */
+function pickDetail(detail: RequestDetail): Record<string, unknown> {
+  if (detail.kind === 'hook-call') {
+    return {
+      serviceId: detail.serviceId,
+      hook: detail.hook,
+      hookInstance: detail.hookInstance,
+      ruleIds: [...detail.ruleIds],
+      policyId: detail.policyId,
+      policyVersion: detail.policyVersion,
+      cardCount: detail.cardCount,
+      fhirFallback: {
+        used: detail.fhirFallback.used,
+        keysFetched: [...detail.fhirFallback.keysFetched],
+        keysFailed: [...detail.fhirFallback.keysFailed],
+        keysIncomplete: [...detail.fhirFallback.keysIncomplete],
+      },
+      missingKeys: [...detail.missingKeys],
+    };
+  }
+  return {
+    serviceId: detail.serviceId,
+    feedback: detail.items.map((item) => ({
+      outcome: item.outcome,
+      ...(item.overrideReasonCode === undefined ? {} : { overrideReasonCode: item.overrideReasonCode }),
+      duplicate: item.duplicate,
+    })),
+  };
+}
+
+/** Writes the one summary line a request gets. */
+export function logRequestSummary(logger: Logger, summary: RequestSummary): void {
+  const line: Record<string, unknown> = {
+    requestId: summary.requestId,
+    method: summary.method,
+    route: summary.route,
+    status: summary.status,
+    durationMs: Math.round(summary.durationMs * 10) / 10,
+  };
+  if (summary.errorCode !== undefined) {
+    line['errorCode'] = summary.errorCode;
+  }
+  if (summary.detail !== undefined) {
+    Object.assign(line, pickDetail(summary.detail));
+  }
+  const message = summary.detail?.kind === 'hook-call' ? 'hook call' : 'request';
+  if (summary.status >= 500) {
+    logger.error(line, message);
+  } else {
+    logger.info(line, message);
+  }
+}
+
+/**
+ * Logs an unexpected error without its message: a message may quote data it was handed. The type and
+ * stack frames are enough to find the fault; the request id ties the line to the client's 500.
+ */
+export function logInternalError(logger: Logger, requestId: string, error: unknown): void {
+  const type = error instanceof Error ? error.name : typeof error;
+  const frames =
+    error instanceof Error && typeof error.stack === 'string'
+      ? error.stack
+          .split('\n')
+          .slice(1)
+          .map((frame) => frame.trim())
+          .filter((frame) => frame.startsWith('at '))
+      : [];
+  logger.error({ requestId, errorType: type, frames }, 'internal error');
+}

@@ -1,0 +1,189 @@
+import { describe, expect, it } from 'vitest';
+import {
+  createLogger,
+  logInternalError,
+  logRequestSummary,
+  type HookCallSummary,
+} from '../../src/log/logger.js';
+import { createMemoryLog } from './memory-log.js';
+
+// Invented demo values (Larkspur Bay General Hospital); none is a real person or token.
+const TOKEN = 'lbgh-demo-access-token-7f3a9c';
+const PATIENT_ID = 'lbgh-pt-000417';
+
+const hookCall: HookCallSummary = {
+  kind: 'hook-call',
+  serviceId: 'oxygen-order-sign',
+  hook: 'order-sign',
+  hookInstance: 'd1577c69-dfbe-44ad-ba6d-3e05e953b2ea',
+  ruleIds: ['target-range-hypercapnic-risk'],
+  policyId: 'bts-2017-default',
+  policyVersion: '1.0.0',
+  cardCount: 1,
+  fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
+  missingKeys: ['encounter'],
+};
+
+describe('createLogger', () => {
+  it('blanks authorization and cookie headers on a logged request', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    logger.info({
+      req: { method: 'POST', headers: { authorization: `Bearer ${TOKEN}`, cookie: 'sid=lbgh-session' } },
+    });
+    expect(log.lines()[0]?.['req']).toStrictEqual({
+      method: 'POST',
+      headers: { authorization: '[Redacted]', cookie: '[Redacted]' },
+    });
+    expect(log.text()).not.toContain(TOKEN);
+    expect(log.text()).not.toContain('lbgh-session');
+  });
+
+  it('blanks fhirAuthorization, access_token, patientId, context and prefetch wherever they sit', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    logger.info({
+      body: {
+        fhirAuthorization: { access_token: TOKEN, token_type: 'Bearer' },
+        context: { patientId: PATIENT_ID },
+        prefetch: { patient: { resourceType: 'Patient', id: PATIENT_ID } },
+      },
+      access_token: TOKEN,
+      patientId: PATIENT_ID,
+      nested: { deeper: { access_token: TOKEN, patientId: PATIENT_ID } },
+    });
+    expect(log.text()).not.toContain(TOKEN);
+    expect(log.text()).not.toContain(PATIENT_ID);
+    expect(log.lines()[0]?.['body']).toStrictEqual({
+      fhirAuthorization: '[Redacted]',
+      context: '[Redacted]',
+      prefetch: '[Redacted]',
+    });
+  });
+});
+
+describe('logRequestSummary', () => {
+  it('writes one line with the decision-level fields of a hook call', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    logRequestSummary(logger, {
+      requestId: 'req-1',
+      method: 'POST',
+      route: 'service',
+      status: 200,
+      durationMs: 12.345,
+      errorCode: undefined,
+      detail: hookCall,
+    });
+    const lines = log.lines();
+    expect(lines).toHaveLength(1);
+    const { time, ...line } = lines[0] ?? {};
+    expect(typeof time).toBe('number');
+    expect(line).toStrictEqual({
+      level: 30,
+      service: 'oxygen-order-checker',
+      requestId: 'req-1',
+      method: 'POST',
+      route: 'service',
+      status: 200,
+      durationMs: 12.3,
+      serviceId: 'oxygen-order-sign',
+      hook: 'order-sign',
+      hookInstance: 'd1577c69-dfbe-44ad-ba6d-3e05e953b2ea',
+      ruleIds: ['target-range-hypercapnic-risk'],
+      policyId: 'bts-2017-default',
+      policyVersion: '1.0.0',
+      cardCount: 1,
+      fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
+      missingKeys: ['encounter'],
+      msg: 'hook call',
+    });
+  });
+
+  it('drops fields the summary types do not name, even when an object carries them', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const smuggled = { ...hookCall, patientId: PATIENT_ID, token: TOKEN, name: 'Ada Quillfeather' };
+    logRequestSummary(logger, {
+      requestId: 'req-2',
+      method: 'POST',
+      route: 'service',
+      status: 200,
+      durationMs: 1,
+      errorCode: undefined,
+      detail: smuggled,
+    });
+    expect(log.text()).not.toContain(PATIENT_ID);
+    expect(log.text()).not.toContain(TOKEN);
+    expect(log.text()).not.toContain('Quillfeather');
+  });
+
+  it('logs feedback as outcome and override reason code only', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    logRequestSummary(logger, {
+      requestId: 'req-3',
+      method: 'POST',
+      route: 'feedback',
+      status: 200,
+      durationMs: 1,
+      errorCode: undefined,
+      detail: {
+        kind: 'feedback',
+        serviceId: 'oxygen-order-sign',
+        items: [
+          { outcome: 'overridden', overrideReasonCode: 'patient-specific-target', duplicate: false },
+          { outcome: 'accepted', overrideReasonCode: undefined, duplicate: true },
+        ],
+      },
+    });
+    expect(log.lines()[0]?.['feedback']).toStrictEqual([
+      { outcome: 'overridden', overrideReasonCode: 'patient-specific-target', duplicate: false },
+      { outcome: 'accepted', duplicate: true },
+    ]);
+  });
+
+  describe('edge cases', () => {
+    it('logs a 5xx summary at error level with its code', () => {
+      const log = createMemoryLog();
+      const logger = createLogger({ level: 'info', destination: log.stream });
+      logRequestSummary(logger, {
+        requestId: 'req-4',
+        method: 'GET',
+        route: 'discovery',
+        status: 500,
+        durationMs: 1,
+        errorCode: 'CDS_ERR_INTERNAL',
+        detail: undefined,
+      });
+      expect(log.lines()[0]).toMatchObject({ level: 50, errorCode: 'CDS_ERR_INTERNAL', msg: 'request' });
+    });
+
+    it('logs an internal error by type and stack frames, without its message', () => {
+      const log = createMemoryLog();
+      const logger = createLogger({ level: 'info', destination: log.stream });
+      logInternalError(logger, 'req-5', new TypeError(`cannot read ${PATIENT_ID} with ${TOKEN}`));
+      const line = log.lines()[0] ?? {};
+      expect(line['errorType']).toBe('TypeError');
+      expect(Array.isArray(line['frames'])).toBe(true);
+      expect((line['frames'] as string[]).length).toBeGreaterThan(0);
+      expect(log.text()).not.toContain(PATIENT_ID);
+      expect(log.text()).not.toContain(TOKEN);
+    });
+
+    it('writes nothing below its level', () => {
+      const log = createMemoryLog();
+      const logger = createLogger({ level: 'warn', destination: log.stream });
+      logRequestSummary(logger, {
+        requestId: 'req-6',
+        method: 'GET',
+        route: 'healthz',
+        status: 200,
+        durationMs: 1,
+        errorCode: undefined,
+        detail: undefined,
+      });
+      expect(log.text()).toBe('');
+    });
+  });
+});
