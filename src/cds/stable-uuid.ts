@@ -1,0 +1,45 @@
+import { createHash } from 'node:crypto';
+
+/**
+ * Name-based UUIDs (version 5, SHA-1; RFC 9562 §5.5). A card's uuid is derived from what the card
+ * is about, so the same hook call always yields the same uuids: a retried call or a replayed
+ * feedback message refers to the same card, and nothing random enters the pure layers.
+ */
+
+/** Our namespace: uuidv5(NAMESPACE_URL, 'urn:oxygen-order-checker'). */
+export const CARD_UUID_NAMESPACE = '31201df7-a1bc-50cf-904a-9723497658d9';
+
+const UUID_PATTERN = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name, version 5, variant 10. */
+export function uuidV5(namespace: string, name: string): string {
+  if (!UUID_PATTERN.test(namespace)) {
+    throw new Error('uuidV5: namespace must be a UUID');
+  }
+  const hash = createHash('sha1')
+    .update(Buffer.from(namespace.replaceAll('-', ''), 'hex'))
+    .update(name, 'utf8')
+    .digest();
+  const bytes = hash.subarray(0, 16);
+  bytes[6] = ((bytes[6] ?? 0) & 0x0f) | 0x50;
+  bytes[8] = ((bytes[8] ?? 0) & 0x3f) | 0x80;
+  const hex = bytes.toString('hex');
+  return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-${hex.slice(12, 16)}-${hex.slice(16, 20)}-${hex.slice(20)}`;
+}
+
+/**
+ * The uuid of the card for one finding. `occurrence` separates two findings of one rule about the
+ * same order in one call (0 for the first, and then it is left out of the name).
+ */
+export function cardUuid(hookInstance: string, ruleId: string, orderReference: string | undefined, occurrence = 0): string {
+  const parts = [hookInstance, ruleId, orderReference ?? '-'];
+  if (occurrence > 0) {
+    parts.push(String(occurrence));
+  }
+  return uuidV5(CARD_UUID_NAMESPACE, parts.join('\n'));
+}
+
+/** The uuid of a card's suggestion, derived from the card's uuid and the suggestion's position. */
+export function suggestionUuid(cardUuidValue: string, index: number): string {
+  return uuidV5(cardUuidValue, `suggestion\n${index}`);
+}

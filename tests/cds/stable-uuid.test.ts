@@ -1,0 +1,58 @@
+import { describe, expect, it } from 'vitest';
+import { CARD_UUID_NAMESPACE, cardUuid, suggestionUuid, uuidV5 } from '../../src/cds/stable-uuid.js';
+
+const NAMESPACE_DNS = '6ba7b810-9dad-11d1-80b4-00c04fd430c8'; // RFC 9562 §6.6 (from memory)
+const NAMESPACE_URL = '6ba7b811-9dad-11d1-80b4-00c04fd430c8'; // RFC 9562 §6.6 (from memory)
+const V5 = /^[0-9a-f]{8}-[0-9a-f]{4}-5[0-9a-f]{3}-[89ab][0-9a-f]{3}-[0-9a-f]{12}$/;
+
+describe('uuidV5', () => {
+  it.each([
+    // RFC 9562 Appendix A.4 example (from memory; the same value from Python's uuid.uuid5)
+    [NAMESPACE_DNS, 'www.example.com', '2ed6657d-e927-568b-95e1-2665a8aea6a2'],
+    // Python documentation example for uuid.uuid5 (from memory; checked with Python's uuid module)
+    [NAMESPACE_DNS, 'python.org', '886313e1-3b8a-5372-9b90-0c9aee199e5d'],
+    // Our namespace is itself derived this way (stable-uuid.ts)
+    [NAMESPACE_URL, 'urn:oxygen-order-checker', CARD_UUID_NAMESPACE],
+  ])('derives uuidv5(%s, %s) = %s', (namespace, name, expected) => {
+    expect(uuidV5(namespace, name)).toBe(expected);
+  });
+
+  it('throws on a namespace that is not a UUID (a programmer error)', () => {
+    expect(() => uuidV5('not-a-uuid', 'x')).toThrow('uuidV5: namespace must be a UUID');
+  });
+});
+
+describe('cardUuid', () => {
+  const hookInstance = '5b0e8f9c-7a41-4d2e-9c1b-1f6a2d3e4b5c';
+
+  it('gives the same uuid for the same hook call, rule and order', () => {
+    const first = cardUuid(hookInstance, 'target-above-hypercapnic-range', 'ServiceRequest/lb-o2-0001');
+    expect(cardUuid(hookInstance, 'target-above-hypercapnic-range', 'ServiceRequest/lb-o2-0001')).toBe(first);
+    expect(first).toMatch(V5);
+  });
+
+  it('gives different uuids when any input differs', () => {
+    const uuids = new Set([
+      cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1'),
+      cardUuid(hookInstance, 'rule-b', 'ServiceRequest/1'),
+      cardUuid(hookInstance, 'rule-a', 'ServiceRequest/2'),
+      cardUuid(hookInstance, 'rule-a', undefined),
+      cardUuid('0c6b1e2a-3d4f-4a5b-8c6d-7e8f9a0b1c2d', 'rule-a', 'ServiceRequest/1'),
+      cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1', 1),
+    ]);
+    expect(uuids.size).toBe(6);
+  });
+
+  it('derives suggestion uuids from the card uuid and position', () => {
+    const card = cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1');
+    expect(suggestionUuid(card, 0)).toBe(suggestionUuid(card, 0));
+    expect(suggestionUuid(card, 0)).not.toBe(suggestionUuid(card, 1));
+    expect(suggestionUuid(card, 0)).toMatch(V5);
+  });
+
+  describe('edge cases', () => {
+    it('treats occurrence 0 as the plain name', () => {
+      expect(cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1', 0)).toBe(cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1'));
+    });
+  });
+});
