@@ -1,0 +1,160 @@
+/**
+ * The one catalogue of errors a caller can see. `docs/errors.md` holds the same codes with how to fix
+ * each; tests/http/errors.test.ts keeps the two in step. Codes are never reused for a new meaning.
+ */
+export const ERROR_CATALOGUE = {
+  CDS_ERR_REQUEST_MALFORMED_JSON: {
+    status: 400,
+    message: 'The request body could not be read as JSON.',
+  },
+  CDS_ERR_REQUEST_INVALID: {
+    status: 400,
+    message: 'The request does not have the shape CDS Hooks 2.0 requires; see issues.',
+  },
+  CDS_ERR_HOOK_NOT_SUPPORTED: {
+    status: 400,
+    message: 'This CDS service is not registered for that hook.',
+  },
+  CDS_ERR_AUTH_MISSING: {
+    status: 401,
+    message: 'Authentication is required.',
+  },
+  CDS_ERR_AUTH_INVALID_TOKEN: {
+    status: 401,
+    message: 'The credentials were not accepted.',
+  },
+  CDS_ERR_SERVICE_NOT_FOUND: {
+    status: 404,
+    message: 'No CDS service has that id; GET /cds-services lists them.',
+  },
+  CDS_ERR_NOT_FOUND: {
+    status: 404,
+    message: 'There is nothing at this path for this method.',
+  },
+  CDS_ERR_PREFETCH_UNAVAILABLE: {
+    status: 412,
+    message: 'Required FHIR data was neither prefetched nor obtainable from the FHIR server.',
+  },
+  CDS_ERR_PAYLOAD_TOO_LARGE: {
+    status: 413,
+    message: 'The request body is larger than this service accepts.',
+  },
+  CDS_ERR_UNSUPPORTED_MEDIA_TYPE: {
+    status: 415,
+    message: 'Send the request body as JSON (Content-Type: application/json, UTF-8).',
+  },
+  CDS_ERR_INTERNAL: {
+    status: 500,
+    message: 'The service failed unexpectedly; quote the request id when reporting it.',
+  },
+} as const satisfies Readonly<Record<string, { status: number; message: string }>>;
+
+export type ErrorCode = keyof typeof ERROR_CATALOGUE;
+export const ERROR_CODES = Object.keys(ERROR_CATALOGUE) as readonly ErrorCode[];
+
+/** A problem with one field of the request, named by its dot path; the value is never echoed. */
+export interface RequestIssue {
+  readonly path: string;
+  readonly message: string;
+}
+
+/** A prefetch key that could not be had, and why (shown to the caller in an OperationOutcome). */
+export interface UnavailablePrefetch {
+  readonly key: string;
+  readonly reason: string;
+}
+
+export interface AppErrorOptions {
+  readonly issues?: readonly RequestIssue[];
+  readonly unavailable?: readonly UnavailablePrefetch[];
+  readonly supportedHooks?: readonly string[];
+  readonly cause?: unknown;
+}
+
+/**
+ * An error the service means to report. Its message is the catalogue's fixed text, so nothing a
+ * caller sent (and no token) can reach a response or a log line through it; detail for the operator
+ * stays in `cause`, which is never serialised to the client.
+ */
+export class AppError extends Error {
+  readonly code: ErrorCode;
+  readonly status: number;
+  readonly issues: readonly RequestIssue[] | undefined;
+  readonly unavailable: readonly UnavailablePrefetch[] | undefined;
+  readonly supportedHooks: readonly string[] | undefined;
+
+  constructor(code: ErrorCode, options: AppErrorOptions = {}) {
+    super(ERROR_CATALOGUE[code].message, options.cause === undefined ? {} : { cause: options.cause });
+    this.name = 'AppError';
+    this.code = code;
+    this.status = ERROR_CATALOGUE[code].status;
+    this.issues = options.issues;
+    this.unavailable = options.unavailable;
+    this.supportedHooks = options.supportedHooks;
+  }
+}
+
+/** What one writer sends: a status, headers and a JSON body. */
+export interface HttpResult {
+  readonly status: number;
+  readonly headers?: Readonly<Record<string, string>>;
+  readonly body: unknown;
+}
+
+/** Our own code system, so an OperationOutcome names the catalogue code it stands for. */
+export const ERROR_CODE_SYSTEM = 'urn:oxygen-order-checker:error-code';
+
+/**
+ * 412 as a FHIR R4 OperationOutcome, as the CDS Hooks 3.0 ballot recommends for non-2xx bodies
+ * (harmless under 2.0): one issue per missing key, severity `error`, code `processing`.
+ */
+function operationOutcomeFor(error: AppError): Record<string, unknown> {
+  const unavailable = error.unavailable ?? [];
+  return {
+    resourceType: 'OperationOutcome',
+    issue: unavailable.map((item) => ({
+      severity: 'error',
+      code: 'processing',
+      details: {
+        coding: [{ system: ERROR_CODE_SYSTEM, code: error.code }],
+        text: ERROR_CATALOGUE[error.code].message,
+      },
+      diagnostics: `Prefetch key '${item.key}': ${item.reason}`,
+    })),
+  };
+}
+
+/**
+ * RFC 6750 §3: with no credentials at all the challenge carries no error code; with bad ones,
+ * `error="invalid_token"`. The description stays generic on purpose (best practices: 401, no detail).
+ */
+const CHALLENGES: Partial<Record<ErrorCode, string>> = {
+  CDS_ERR_AUTH_MISSING: 'Bearer realm="cds-services"',
+  CDS_ERR_AUTH_INVALID_TOKEN: 'Bearer realm="cds-services", error="invalid_token"',
+};
+
+/** Turns an AppError into the response the client sees. `requestId` appears only on 500. */
+export function errorResult(error: AppError, requestId: string): HttpResult {
+  const challenge = CHALLENGES[error.code];
+  const headers = challenge === undefined ? undefined : { 'WWW-Authenticate': challenge };
+  if (error.code === 'CDS_ERR_PREFETCH_UNAVAILABLE') {
+    return {
+      status: error.status,
+      headers: { 'Content-Type': 'application/fhir+json; charset=utf-8' },
+      body: operationOutcomeFor(error),
+    };
+  }
+  const body: Record<string, unknown> = { code: error.code, message: error.message };
+  if (error.issues !== undefined) {
+    body['issues'] = error.issues.map((issue) => ({ path: issue.path, message: issue.message }));
+  }
+  if (error.supportedHooks !== undefined) {
+    body['supportedHooks'] = [...error.supportedHooks];
+  }
+  if (error.code === 'CDS_ERR_INTERNAL') {
+    body['requestId'] = requestId;
+  }
+  return headers === undefined
+    ? { status: error.status, body }
+    : { status: error.status, headers, body };
+}

@@ -1,0 +1,140 @@
+/**
+ * The FHIR reads the service makes itself when prefetch did not supply what it needs (CDS Hooks 2.0
+ * §FHIR Resource Access). Only ever called with both `fhirServer` and `fhirAuthorization` in hand.
+ * The token goes in the Authorization header and nowhere else: failures are reported by kind, never
+ * with a URL, a header or a body.
+ */
+
+export type FetchFailure =
+  | 'timeout'
+  | 'network'
+  | 'redirect'
+  | 'http-status'
+  | 'too-large'
+  | 'invalid-json'
+  | 'not-fhir'
+  | 'outside-server';
+
+export type FhirFetchOutcome =
+  | { readonly kind: 'ok'; readonly resource: Readonly<Record<string, unknown>> }
+  /** 404 or 410 on a read: the server looked and found nothing, as a `null` prefetch says. */
+  | { readonly kind: 'not-found' }
+  | { readonly kind: 'failed'; readonly failure: FetchFailure; readonly status?: number };
+
+export interface FhirCallOptions {
+  readonly fetch: typeof fetch;
+  readonly accessToken: string;
+  /** Aborts the call: the per-call timeout and the hook call's overall budget, combined. */
+  readonly signal: AbortSignal;
+  readonly maxResponseBytes: number;
+}
+
+/** `fhirServer` with one trailing slash, so relative URLs resolve beneath it, not beside it. */
+function baseWithSlash(fhirServer: string): URL {
+  return new URL(fhirServer.endsWith('/') ? fhirServer : `${fhirServer}/`);
+}
+
+/**
+ * True when `url` lies on the FHIR server the client named: same origin and under its base path.
+ * Anything else (another host, `..` out of the base) would send the token where it was not granted.
+ */
+export function isUnderServer(url: URL, fhirServer: string): boolean {
+  const base = baseWithSlash(fhirServer);
+  return url.origin === base.origin && url.pathname.startsWith(base.pathname);
+}
+
+/** Resolves a relative FHIR URL (an expanded prefetch template) against `fhirServer`. */
+export function resolveUnderServer(relative: string, fhirServer: string): URL | undefined {
+  let url: URL;
+  try {
+    url = new URL(relative.replace(/^\/+/, ''), baseWithSlash(fhirServer));
+  } catch {
+    return undefined;
+  }
+  return isUnderServer(url, fhirServer) ? url : undefined;
+}
+
+/** Reads at most `maxBytes` of the body; undefined when it is longer (the rest is not downloaded). */
+async function readCapped(response: Response, maxBytes: number): Promise<string | undefined> {
+  const declared = Number(response.headers.get('content-length') ?? Number.NaN);
+  if (Number.isFinite(declared) && declared > maxBytes) {
+    await response.body?.cancel();
+    return undefined;
+  }
+  if (response.body === null) {
+    return '';
+  }
+  const reader = response.body.getReader();
+  const chunks: Uint8Array[] = [];
+  let total = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) {
+      break;
+    }
+    total += value.byteLength;
+    if (total > maxBytes) {
+      await reader.cancel();
+      return undefined;
+    }
+    chunks.push(value);
+  }
+  return Buffer.concat(chunks).toString('utf8');
+}
+
+function failureOf(error: unknown): FetchFailure {
+  const name = error instanceof Error ? error.name : '';
+  return name === 'TimeoutError' || name === 'AbortError' ? 'timeout' : 'network';
+}
+
+/**
+ * GETs one FHIR URL with `Accept: application/fhir+json` and the bearer token. Redirects are not
+ * followed (`redirect: 'manual'`): a 3xx could point at another host, so it counts as a failure.
+ */
+export async function getFhirJson(url: URL, options: FhirCallOptions): Promise<FhirFetchOutcome> {
+  let response: Response;
+  try {
+    response = await options.fetch(url, {
+      method: 'GET',
+      headers: { Accept: 'application/fhir+json', Authorization: `Bearer ${options.accessToken}` },
+      redirect: 'manual',
+      signal: options.signal,
+    });
+  } catch (error) {
+    return { kind: 'failed', failure: failureOf(error) };
+  }
+  try {
+    if (response.type === 'opaqueredirect' || (response.status >= 300 && response.status < 400)) {
+      await response.body?.cancel();
+      return { kind: 'failed', failure: 'redirect', status: response.status };
+    }
+    if (response.status === 404 || response.status === 410) {
+      await response.body?.cancel();
+      return { kind: 'not-found' };
+    }
+    if (!response.ok) {
+      await response.body?.cancel();
+      return { kind: 'failed', failure: 'http-status', status: response.status };
+    }
+    const text = await readCapped(response, options.maxResponseBytes);
+    if (text === undefined) {
+      return { kind: 'failed', failure: 'too-large' };
+    }
+    let json: unknown;
+    try {
+      json = JSON.parse(text);
+    } catch {
+      return { kind: 'failed', failure: 'invalid-json' };
+    }
+    if (json === null || typeof json !== 'object' || Array.isArray(json)) {
+      return { kind: 'failed', failure: 'not-fhir' };
+    }
+    const resource = json as Readonly<Record<string, unknown>>;
+    if (typeof resource['resourceType'] !== 'string') {
+      return { kind: 'failed', failure: 'not-fhir' };
+    }
+    return { kind: 'ok', resource };
+  } catch (error) {
+    return { kind: 'failed', failure: failureOf(error) };
+  }
+}

@@ -1,0 +1,52 @@
+import { performance } from 'node:perf_hooks';
+import type { RequestHandler, Response } from 'express';
+import { logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
+
+/** Per-request bookkeeping the summary line is written from. */
+export interface RequestState {
+  readonly requestId: string;
+  readonly startedAt: number;
+  route: string;
+  errorCode: string | undefined;
+  detail: RequestDetail | undefined;
+}
+
+const STATE_KEY = 'o2checkRequest';
+
+export function requestState(res: Response): RequestState {
+  const state = res.locals[STATE_KEY] as RequestState | undefined;
+  if (state === undefined) {
+    throw new Error('requestContext middleware must run first');
+  }
+  return state;
+}
+
+/**
+ * Gives each request an id (sent back as `X-Request-Id`; an incoming one is ignored, since a caller
+ * could put anything in it) and writes exactly one summary line when the response closes.
+ */
+export function requestContext(logger: Logger, newRequestId: () => string): RequestHandler {
+  return (req, res, next) => {
+    const state: RequestState = {
+      requestId: newRequestId(),
+      startedAt: performance.now(),
+      route: 'unmatched',
+      errorCode: undefined,
+      detail: undefined,
+    };
+    res.locals[STATE_KEY] = state;
+    res.setHeader('X-Request-Id', state.requestId);
+    res.once('close', () => {
+      logRequestSummary(logger, {
+        requestId: state.requestId,
+        method: req.method,
+        route: state.route,
+        status: res.statusCode,
+        durationMs: performance.now() - state.startedAt,
+        errorCode: state.errorCode,
+        detail: state.detail,
+      });
+    });
+    next();
+  };
+}
