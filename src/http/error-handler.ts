@@ -35,10 +35,21 @@ function bodyParserCode(error: unknown): ErrorCode | undefined {
     : undefined;
 }
 
+/**
+ * The router marks a path segment it cannot percent-decode as a 400 URIError: the path names
+ * nothing this service has, so it is a 404 like any unknown path.
+ */
+function isUndecodablePath(error: unknown): boolean {
+  return error instanceof URIError && (error as { status?: unknown }).status === 400;
+}
+
 /** Any error becomes a catalogue error; unknown ones become the generic 500 and are logged. */
 export function toAppError(error: unknown): AppError | undefined {
   if (error instanceof AppError) {
     return error;
+  }
+  if (isUndecodablePath(error)) {
+    return new AppError('CDS_ERR_NOT_FOUND', { cause: error });
   }
   const code = bodyParserCode(error);
   return code === undefined ? undefined : new AppError(code, { cause: error });

@@ -69,6 +69,8 @@ export interface HookCallSummary {
   readonly fhirFallback: FallbackSummary;
   /** Optional prefetch keys that could not be had; the call went on without them. */
   readonly missingKeys: readonly string[];
+  /** Template or policy slips found while building cards (src/cds promises no patient data). */
+  readonly cardProblems: readonly string[];
 }
 
 /** One feedback item as logged: the outcome and the override reason code, nothing else. */
@@ -118,6 +120,7 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
         keysIncomplete: [...detail.fhirFallback.keysIncomplete],
       },
       missingKeys: [...detail.missingKeys],
+      ...(detail.cardProblems.length === 0 ? {} : { cardProblems: [...detail.cardProblems] }),
     };
   }
   return {
@@ -146,8 +149,11 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary): void
     Object.assign(line, pickDetail(summary.detail));
   }
   const message = summary.detail?.kind === 'hook-call' ? 'hook call' : 'request';
+  const slipped = summary.detail?.kind === 'hook-call' && summary.detail.cardProblems.length > 0;
   if (summary.status >= 500) {
     logger.error(line, message);
+  } else if (slipped) {
+    logger.warn(line, message);
   } else {
     logger.info(line, message);
   }

@@ -9,6 +9,7 @@ import {
   fullPrefetch,
   paco2,
   patient,
+  ph,
   PATIENT_ID,
   respRate,
   searchset,
@@ -91,7 +92,7 @@ describe('createGatherer', () => {
       data: {
         patient,
         encounter,
-        observations: [spo2, respRate, paco2, fullPrefetch.observations.entry[3]?.resource],
+        observations: [spo2, respRate, paco2, ph],
         conditions: [copd],
         activeOrders: [],
         missing: [],

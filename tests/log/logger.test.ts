@@ -22,6 +22,7 @@ const hookCall: HookCallSummary = {
   cardCount: 1,
   fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
   missingKeys: ['encounter'],
+  cardProblems: [],
 };
 
 describe('createLogger', () => {
@@ -144,6 +145,22 @@ describe('logRequestSummary', () => {
   });
 
   describe('edge cases', () => {
+    it('logs a hook call with card-building slips at warn level, listing them', () => {
+      const log = createMemoryLog();
+      const logger = createLogger({ level: 'info', destination: log.stream });
+      const slip = "template 'low-spo2' names {{spo2}} but the finding has no value for it";
+      logRequestSummary(logger, {
+        requestId: 'req-7',
+        method: 'POST',
+        route: 'service',
+        status: 200,
+        durationMs: 1,
+        errorCode: undefined,
+        detail: { ...hookCall, cardProblems: [slip] },
+      });
+      expect(log.lines()[0]).toMatchObject({ level: 40, cardProblems: [slip] });
+    });
+
     it('logs a 5xx summary at error level with its code', () => {
       const log = createMemoryLog();
       const logger = createLogger({ level: 'info', destination: log.stream });

@@ -1,0 +1,81 @@
+import { randomUUID } from 'node:crypto';
+import express, { type Express } from 'express';
+import type { CardTemplates } from '../cds/card-templates.js';
+import type { EnvConfig } from '../config/env-config.js';
+import type { Policy } from '../core/policy.js';
+import type { Logger } from '../log/logger.js';
+import { requireAuthentication, type Authenticate } from './auth.js';
+import { answerPreflight, corsHeaders } from './cors.js';
+import { jsonErrorHandler, notFound } from './error-handler.js';
+import { createMemoryFeedbackStore, type FeedbackStore } from './feedback-store.js';
+import { createGatherer, type Gather } from './gather-data.js';
+import { parseJsonBody, requireJsonContentType } from './json-body.js';
+import { requestContext } from './request-context.js';
+import { route } from './respond.js';
+import { serviceHandler } from './routes/cds-service.js';
+import { discoveryHandler } from './routes/discovery.js';
+import { feedbackHandler } from './routes/feedback.js';
+import { healthHandler } from './routes/health.js';
+
+/** The settings the app reads: a slice of EnvConfig, so tests need not invent host or paths. */
+export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'>;
+
+export interface AppDeps {
+  readonly policy: Policy;
+  readonly templates: CardTemplates;
+  readonly logger: Logger;
+  /** The time a hook call is evaluated at; injected so tests are not at the mercy of the date. */
+  readonly clock: () => Date;
+  /** Used for the FHIR fallback; tests pass the real global fetch against a loopback server. */
+  readonly fetch: typeof fetch;
+  /** The one authentication decision for every /cds-services route (see auth.ts). */
+  readonly authenticate: Authenticate;
+  /** Defaults to the prefetch-then-FHIR gatherer built from `fetch` and `config.fhir`. */
+  readonly gather?: Gather;
+  /** Defaults to an in-memory store. */
+  readonly feedbackStore?: FeedbackStore;
+  /** Defaults to random UUIDs. */
+  readonly newRequestId?: () => string;
+}
+
+const ROUTES = {
+  discovery: '/cds-services',
+  service: '/cds-services/:id',
+  feedback: '/cds-services/:id/feedback',
+  health: '/healthz',
+} as const;
+
+/**
+ * Builds the express app. Route handlers are thin: they validate, call src/cds and src/fhir, and
+ * return a result that one writer sends; every error leaves through one JSON error middleware.
+ */
+export function createApp(config: AppConfig, deps: AppDeps): Express {
+  const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
+  const store = deps.feedbackStore ?? createMemoryFeedbackStore();
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('etag', false);
+
+  app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID));
+  app.use(corsHeaders(config.corsOrigins));
+  // Browsers send preflights without credentials, so they are answered before authentication.
+  app.options(Object.values(ROUTES), answerPreflight);
+  app.get(ROUTES.health, route('healthz', healthHandler));
+
+  app.use('/cds-services', requireAuthentication(deps.authenticate));
+  app.use(requireJsonContentType);
+  app.use(parseJsonBody(config.bodyLimitBytes));
+  app.get(ROUTES.discovery, route('discovery', discoveryHandler));
+  app.post(ROUTES.feedback, route('feedback', feedbackHandler(store)));
+  app.post(
+    ROUTES.service,
+    route(
+      'service',
+      serviceHandler({ policy: deps.policy, templates: deps.templates, clock: deps.clock, gather }),
+    ),
+  );
+
+  app.use(notFound);
+  app.use(jsonErrorHandler(deps.logger));
+  return app;
+}

@@ -1,0 +1,62 @@
+import type { CardTemplates } from '../../cds/card-templates.js';
+import { evaluateHook } from '../../cds/evaluate-hook.js';
+import { parseHookRequest } from '../../cds/parse-hook-request.js';
+import type { Policy } from '../../core/policy.js';
+import { AppError } from '../errors.js';
+import type { Gather } from '../gather-data.js';
+import type { RouteHandler } from '../respond.js';
+
+export interface ServiceRouteDeps {
+  readonly policy: Policy;
+  readonly templates: CardTemplates;
+  readonly clock: () => Date;
+  readonly gather: Gather;
+}
+
+/**
+ * `POST /cds-services/{id}` (CDS Hooks 2.0 §Calling a CDS Service): unknown id 404, a hook the id
+ * is not registered for 400, a body or context that does not validate 400 (all decided by
+ * src/cds/parse-hook-request.ts), required data unobtainable 412, else 200 with the cards the pure
+ * orchestrator in src/cds builds.
+ */
+export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
+  return async (req) => {
+    const parsed = parseHookRequest(String(req.params['id'] ?? ''), req.body);
+    switch (parsed.kind) {
+      case 'unknown-service':
+        throw new AppError('CDS_ERR_SERVICE_NOT_FOUND');
+      case 'unsupported-hook':
+        throw new AppError('CDS_ERR_HOOK_NOT_SUPPORTED', { supportedHooks: parsed.supportedHooks });
+      case 'invalid':
+        throw new AppError('CDS_ERR_REQUEST_INVALID', { issues: parsed.issues });
+      case 'ok':
+        break;
+    }
+    const { service, request } = parsed;
+    const gathered = await deps.gather(request, service.prefetch);
+    if (gathered.kind === 'unavailable') {
+      throw new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable: gathered.unavailable });
+    }
+    const result = evaluateHook(
+      { serviceId: service.id, request, data: gathered.data },
+      { policy: deps.policy, templates: deps.templates, now: deps.clock() },
+    );
+    return {
+      status: 200,
+      body: result.response,
+      detail: {
+        kind: 'hook-call',
+        serviceId: service.id,
+        hook: service.hook,
+        hookInstance: request.hookInstance,
+        ruleIds: result.ruleIds,
+        policyId: result.policyId,
+        policyVersion: result.policyVersion,
+        cardCount: result.response.cards.length,
+        fhirFallback: gathered.fallback,
+        missingKeys: gathered.data.missing,
+        cardProblems: result.problems,
+      },
+    };
+  };
+}

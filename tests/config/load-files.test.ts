@@ -1,0 +1,95 @@
+import { cpSync, mkdtempSync, readFileSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { ENV_DEFAULTS } from '../../src/config/env-config.js';
+import { formatLoadProblems, loadPolicyAndCards } from '../../src/config/load-files.js';
+import { RULES } from '../../src/core/rules/index.js';
+
+const scratch = mkdtempSync(join(tmpdir(), 'o2check-load-'));
+
+afterAll(() => {
+  rmSync(scratch, { recursive: true, force: true });
+});
+
+/** A copy of the bundled cards folder that a test may break. */
+function copyOfCards(name: string): string {
+  const dir = join(scratch, name);
+  cpSync(ENV_DEFAULTS.O2CHECK_CARDS_DIR, dir, { recursive: true });
+  return dir;
+}
+
+describe('loadPolicyAndCards', () => {
+  it('loads the bundled policy and a template for every registered rule', async () => {
+    const files = await loadPolicyAndCards({
+      policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
+      cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+    });
+    expect(files.kind).toBe('ok');
+    if (files.kind !== 'ok') return;
+    expect([files.policy.id, files.policy.version]).toStrictEqual(['bts-2017-default', '1.0.0']);
+    // BTS 2017 Table 4: the bundled default's hypercapnic-risk target
+    expect(files.policy.targets.hypercapnicRisk).toStrictEqual({ lowPercent: 88, highPercent: 92 });
+    expect([...files.templates.keys()].sort()).toStrictEqual(RULES.map((rule) => rule.id).sort());
+  });
+
+  it('lists every problem in every file: policy, broken template, misnamed file, missing template', async () => {
+    const cardsDir = copyOfCards('broken');
+    const [first, second] = RULES.map((rule) => rule.id);
+    if (first === undefined || second === undefined) throw new Error('expected at least two rules');
+    writeFileSync(join(cardsDir, `${first}.yaml`), 'summary: ""\ndetail: text\nsumary: typo\n');
+    unlinkSync(join(cardsDir, `${second}.yaml`));
+    writeFileSync(join(cardsDir, 'Not_Kebab.yaml'), readFileSync(join(ENV_DEFAULTS.O2CHECK_CARDS_DIR, `${first}.yaml`)));
+    const policyPath = join(scratch, 'broken-policy.yaml');
+    writeFileSync(
+      policyPath,
+      readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8').replace('basis: bts-2017', 'basis: nowhere'),
+    );
+
+    const files = await loadPolicyAndCards({ policyPath, cardsDir });
+    expect(files.kind).toBe('invalid');
+    if (files.kind !== 'invalid') return;
+    const where = files.problems.map((p) => `${p.file.replace(scratch, '')} ${p.path}`);
+    expect(where).toContain('/broken-policy.yaml basis');
+    expect(where).toContain(`/broken/${first}.yaml summary`);
+    expect(where).toContain(`/broken/${first}.yaml (root)`);
+    expect(where).toContain(`/broken/${first}.yaml overrideReasons`);
+    expect(where).toContain('/broken/Not_Kebab.yaml (file)');
+    expect(where).toContain(`/broken/${second}.yaml (file)`);
+    expect(files.problems.find((p) => p.file.endsWith(`${second}.yaml`))?.message).toBe(
+      `is missing: rule '${second}' has no card template`,
+    );
+  });
+
+  describe('edge cases', () => {
+    it('names an unreadable policy file by its error code', async () => {
+      const policyPath = join(scratch, 'absent.yaml');
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      expect(files).toStrictEqual({
+        kind: 'invalid',
+        problems: [{ file: policyPath, path: '(file)', message: 'cannot be read (ENOENT)' }],
+      });
+    });
+
+    it('reports a missing cards folder once, not once per rule', async () => {
+      const cardsDir = join(scratch, 'no-such-folder');
+      const files = await loadPolicyAndCards({ policyPath: ENV_DEFAULTS.O2CHECK_POLICY, cardsDir });
+      expect(files).toStrictEqual({
+        kind: 'invalid',
+        problems: [{ file: cardsDir, path: '(file)', message: 'cannot be read (ENOENT)' }],
+      });
+    });
+
+    it('formats problems one a line as file: path: message', () => {
+      expect(
+        formatLoadProblems([
+          { file: '/etc/o2check/policy.yaml', path: 'basis', message: "'nowhere' is not a key of references" },
+          { file: '/etc/o2check/cards/x.yaml', path: '(file)', message: 'cannot be read (EACCES)' },
+        ]),
+      ).toBe(
+        "/etc/o2check/policy.yaml: basis: 'nowhere' is not a key of references\n" +
+          '/etc/o2check/cards/x.yaml: (file): cannot be read (EACCES)',
+      );
+    });
+  });
+});

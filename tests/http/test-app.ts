@@ -1,0 +1,55 @@
+import type { Express } from 'express';
+import { ENV_DEFAULTS } from '../../src/config/env-config.js';
+import { formatLoadProblems, loadPolicyAndCards } from '../../src/config/load-files.js';
+import { createApp, type AppConfig, type AppDeps } from '../../src/http/app.js';
+import { allowEveryRequest } from '../../src/http/auth.js';
+import { createLogger } from '../../src/log/logger.js';
+import { createMemoryLog, type MemoryLog } from '../log/memory-log.js';
+import { NOW } from './larkspur-fixtures.js';
+
+/** The bundled policy and card templates, loaded the way the server loads them. */
+export async function loadBundledFiles() {
+  const files = await loadPolicyAndCards({
+    policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
+    cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+  });
+  if (files.kind === 'invalid') {
+    throw new Error(`bundled files invalid:\n${formatLoadProblems(files.problems)}`);
+  }
+  return files;
+}
+
+export const TEST_CONFIG: AppConfig = {
+  bodyLimitBytes: 1_048_576,
+  corsOrigins: '*',
+  fhir: { callTimeoutMs: 1000, budgetMs: 2000, maxResponseBytes: 1_048_576, maxPages: 5 },
+};
+
+export interface TestApp {
+  readonly app: Express;
+  readonly log: MemoryLog;
+}
+
+/** The app as the server builds it, with the clock fixed, a memory log and counting request ids. */
+export async function buildTestApp(
+  overrides: Partial<AppDeps> = {},
+  config: Partial<AppConfig> = {},
+): Promise<TestApp> {
+  const files = await loadBundledFiles();
+  const log = createMemoryLog();
+  let next = 0;
+  const app = createApp(
+    { ...TEST_CONFIG, ...config },
+    {
+      policy: files.policy,
+      templates: files.templates,
+      logger: createLogger({ level: 'info', destination: log.stream }),
+      clock: () => NOW,
+      fetch: globalThis.fetch,
+      authenticate: allowEveryRequest,
+      newRequestId: () => `req-${++next}`,
+      ...overrides,
+    },
+  );
+  return { app, log };
+}
