@@ -1,0 +1,71 @@
+import { describe, expect, it } from 'vitest';
+import {
+  estimateHighFlowNasalCannula,
+  highFlowNasalCannulaModel,
+} from '../../../src/core/devices/high-flow-nasal-cannula.js';
+import { openSourceFio2 } from '../../../src/core/devices/mixing.js';
+import { expectWithin, okValue } from './expect-helpers.js';
+
+const hfnc = (flowLPerMin: number, setFio2Fraction: number, respRatePerMin: number) =>
+  okValue(estimateHighFlowNasalCannula({ flowLPerMin, setFio2Fraction, respRatePerMin }));
+
+describe('high-flow nasal cannula', () => {
+  it('runs up to 60 L/min', () => {
+    // Annual Update in Intensive Care and Emergency Medicine 2017 (PMC5359952): up to 60 L/min in adults;
+    // the 10 L/min lower bound is from memory
+    expect(highFlowNasalCannulaModel.flowRangeLPerMin).toStrictEqual({ min: 10, max: 60 });
+  });
+
+  it('delivers the set FiO2 while its flow meets the peak inspiratory flow', () => {
+    // mixing model; resting peak 40 L/min (4/3 × 30, docs/basis/devices.md)
+    const value = hfnc(50, 0.6, 20);
+    expect(value.fixedPerformance).toBe(true);
+    expect(value.fio2.estimate).toBe(0.6);
+    expect(value.fio2.high).toBe(0.6);
+    expect(value.totalFlowLPerMin).toBe(50);
+  });
+
+  it('keeps the range narrow at a typical set flow', () => {
+    // Li et al., Ann Intensive Care 11:164 (2021): median set flow 45 L/min at FiO2 about 0.62
+    const { estimate, low } = hfnc(45, 0.62, 20).fio2;
+    expect(estimate).toBe(0.62);
+    expect(0.62 - low).toBeLessThan(0.05);
+  });
+
+  it('falls below the set FiO2 when the flow is below peak demand', () => {
+    // mixing model (derived): open source of 40 L/min at 0.6 against a 60 L/min peak (4/3 × 45) at RR 30
+    const value = hfnc(40, 0.6, 30);
+    expect(value.fixedPerformance).toBe(false);
+    expectWithin(value.fio2.estimate, openSourceFio2(0.6, 40, 60), 1e-9);
+    expect(value.fio2.low).toBeLessThan(value.fio2.estimate);
+    expect(value.fio2.high).toBe(0.6);
+    expect(value.notes.join(' ')).toContain('below the estimated peak inspiratory flow of 60 L/min');
+  });
+
+  describe('edge cases', () => {
+    it('needs the set FiO2 and the flow', () => {
+      expect(estimateHighFlowNasalCannula({ flowLPerMin: 40 })).toMatchObject({
+        kind: 'unknown',
+        missing: ['setFio2Fraction'],
+      });
+      expect(estimateHighFlowNasalCannula({})).toMatchObject({
+        kind: 'unknown',
+        missing: ['setFio2Fraction', 'flowLPerMin'],
+      });
+    });
+
+    it('refuses an FiO2 outside 0.21-1', () => {
+      expect(estimateHighFlowNasalCannula({ flowLPerMin: 40, setFio2Fraction: 1.2 }).kind).toBe('unknown');
+    });
+
+    it('still estimates above 60 L/min, with a note', () => {
+      const value = hfnc(70, 0.5, 20);
+      expect(value.fio2.estimate).toBe(0.5);
+      expect(value.notes.join(' ')).toContain('70 L/min is above the usual 10-60 L/min');
+    });
+
+    it('gives air at a set FiO2 of 0.21 whatever the flow', () => {
+      expect(hfnc(20, 0.21, 30).fio2).toStrictEqual({ estimate: 0.21, low: 0.21, high: 0.21 });
+    });
+  });
+});
