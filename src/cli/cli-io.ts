@@ -1,0 +1,17 @@
+/**
+ * What a CLI command gets from the shell and gives back: arguments in, text out, an exit code.
+ * Commands never touch process.* themselves, so tests drive them with captured output.
+ */
+export interface CliIo {
+  readonly stdout: (text: string) => void;
+  readonly stderr: (text: string) => void;
+  readonly readFile: (path: string) => string;
+  readonly now: () => Date;
+}
+
+/** 0: ran (whatever it found); 1: input could not be read or evaluated; 2: usage or configuration error. */
+export type ExitCode = 0 | 1 | 2;
+
+export class UsageError extends Error {
+  override readonly name = 'UsageError';
+}

@@ -1,0 +1,23 @@
+import type { Policy } from '../core/policy.js';
+import { bundledPath } from '../config/package-root.js';
+import { parsePolicyText } from '../policy/parse-policy.js';
+import { UsageError, type CliIo } from './cli-io.js';
+
+export const DEFAULT_POLICY_PATH = bundledPath('policies', 'bts-2017.yaml');
+
+/** Reads and validates a policy file; every problem is reported, as the service does at start. */
+export function loadPolicy(path: string | undefined, io: CliIo): Policy {
+  const file = path ?? DEFAULT_POLICY_PATH;
+  let text: string;
+  try {
+    text = io.readFile(file);
+  } catch {
+    throw new UsageError(`cannot read the policy file ${file}`);
+  }
+  const parsed = parsePolicyText(text);
+  if (parsed.kind === 'invalid') {
+    const lines = parsed.problems.map((p) => `  ${p.path}: ${p.message}`);
+    throw new UsageError(`the policy file ${file} is not valid:\n${lines.join('\n')}`);
+  }
+  return parsed.policy;
+}
