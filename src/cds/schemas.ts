@@ -56,11 +56,16 @@ function requireServerWithAuthorization(
   }
 }
 
+/** Run a cross-field check even when other fields failed, so one 400 lists every problem. */
+const RUN_ON_ANY_OBJECT = {
+  when: (payload: { readonly value: unknown }): boolean => typeof payload.value === 'object' && payload.value !== null,
+};
+
 /**
  * A service call body (CDS Hooks 2.0 §Calling a CDS Service, #http-request_1). `context` is checked
  * per hook with {@link OrderSignContextSchema} or {@link OrderSelectContextSchema}.
  */
-export const CdsRequestSchema = z.object(requestShape).superRefine(requireServerWithAuthorization);
+export const CdsRequestSchema = z.object(requestShape).superRefine(requireServerWithAuthorization, RUN_ON_ANY_OBJECT);
 export type CdsRequest = z.infer<typeof CdsRequestSchema>;
 
 /**
@@ -81,12 +86,13 @@ export const OrderSignContextSchema = z.looseObject({
 });
 export type OrderSignContext = z.infer<typeof OrderSignContextSchema>;
 
-function draftReferences(draftOrders: z.infer<typeof DraftOrdersSchema>): Set<string> {
+function draftReferences(draftOrders: unknown): Set<string> {
   const references = new Set<string>();
-  for (const entry of draftOrders.entry ?? []) {
-    const id = entry.resource?.['id'];
-    if (entry.resource !== undefined && typeof id === 'string') {
-      references.add(`${entry.resource.resourceType}/${id}`);
+  const entries = (draftOrders as { entry?: unknown } | undefined)?.entry;
+  for (const entry of Array.isArray(entries) ? (entries as unknown[]) : []) {
+    const resource = (entry as { resource?: { resourceType?: unknown; id?: unknown } } | null)?.resource;
+    if (typeof resource?.resourceType === 'string' && typeof resource.id === 'string') {
+      references.add(`${resource.resourceType}/${resource.id}`);
     }
   }
   return references;
@@ -95,26 +101,35 @@ function draftReferences(draftOrders: z.infer<typeof DraftOrdersSchema>): Set<st
 /**
  * order-select context (Hook Library STU1, order-select): as order-sign plus `selections`, the
  * `Type/id` of the newly selected orders, each of which must point at a `draftOrders` entry.
+ * The pointing check runs even when other fields failed, so one 400 names every problem.
  */
 export const OrderSelectContextSchema = z
   .looseObject({ ...OrderSignContextSchema.shape, selections: z.array(relativeReference).min(1) })
-  .superRefine((context, ctx) => {
-    const known = draftReferences(context.draftOrders);
-    context.selections.forEach((selection, index) => {
-      if (!known.has(selection)) {
-        ctx.addIssue({ code: 'custom', path: ['selections', index], message: 'does not point to an entry in draftOrders' });
-      }
-    });
-  });
+  .superRefine(
+    (context, ctx) => {
+      const known = draftReferences(context.draftOrders);
+      (context.selections as unknown[]).forEach((selection, index) => {
+        if (typeof selection === 'string' && RELATIVE_REFERENCE_PATTERN.test(selection) && !known.has(selection)) {
+          ctx.addIssue({ code: 'custom', path: ['selections', index], message: 'does not point to an entry in draftOrders' });
+        }
+      });
+    },
+    {
+      when: (payload) => {
+        const value = payload.value as { selections?: unknown; draftOrders?: unknown } | null;
+        return typeof value === 'object' && value !== null && Array.isArray(value.selections);
+      },
+    },
+  );
 export type OrderSelectContext = z.infer<typeof OrderSelectContextSchema>;
 
 /** Whole request bodies with the hook's context, so issue paths read `context.selections.0`. */
 export const OrderSignRequestSchema = z
   .object({ ...requestShape, hook: z.literal('order-sign'), context: OrderSignContextSchema })
-  .superRefine(requireServerWithAuthorization);
+  .superRefine(requireServerWithAuthorization, RUN_ON_ANY_OBJECT);
 export const OrderSelectRequestSchema = z
   .object({ ...requestShape, hook: z.literal('order-select'), context: OrderSelectContextSchema })
-  .superRefine(requireServerWithAuthorization);
+  .superRefine(requireServerWithAuthorization, RUN_ON_ANY_OBJECT);
 
 /** Coding as CDS Hooks trims it (CDS Hooks 2.0 §Data Types › Coding). */
 export const CodingSchema = z.strictObject({ code: text, system: text, display: text.optional() });

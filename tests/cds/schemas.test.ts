@@ -190,3 +190,10 @@ describe('FeedbackRequestSchema', () => {
     ]);
   });
 });
+
+describe('describeIssues with several problems', () => {
+  it('lists a cross-field problem together with the others in one pass', () => {
+    const { fhirServer: _s, hookInstance: _h, ...rest } = signRequest;
+    expect(issuesOf(CdsRequestSchema, rest).map((issue) => issue.path)).toStrictEqual(['hookInstance', 'fhirServer']);
+  });
+});

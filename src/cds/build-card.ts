@@ -1,0 +1,161 @@
+import type { Assessment } from '../core/assessment/types.js';
+import { formatFlow, formatRange } from '../core/assessment/format.js';
+import type { Policy } from '../core/policy.js';
+import type { Facts, Finding, OrderChange } from '../core/types.js';
+import { applyOrderChange } from '../fhir/apply-change.js';
+import type { FhirResource } from '../fhir/gathered-data.js';
+import {
+  calculationSection,
+  cautionsSection,
+  deviceLabel,
+  inputsSection,
+  renderSections,
+  setAsideSection,
+  sourcesSection,
+} from './card-detail.js';
+import { renderTemplate, type CardTemplate } from './card-templates.js';
+import type { Card, Suggestion } from './schemas.js';
+import { cardUuid, suggestionUuid } from './stable-uuid.js';
+
+/** System of the override-reason codes in `cards/<rule-id>.yaml` (CDS Hooks 2.0 §Card, overrideReasons). */
+export const OVERRIDE_REASON_SYSTEM = 'urn:oxygen-order-checker:override-reason';
+/** System of `source.topic`: the rule id that produced the card. */
+export const RULE_TOPIC_SYSTEM = 'urn:oxygen-order-checker:rule';
+/** CDS Hooks 2.0 §Card: summary "fewer than 140 characters". */
+export const SUMMARY_MAX_LENGTH = 139;
+
+export interface CardBuildContext {
+  readonly template: CardTemplate;
+  readonly policy: Policy;
+  readonly hookInstance: string;
+  /** The draft resource `finding.orderReference` points at, when there is one. */
+  readonly draftResource: FhirResource | undefined;
+  readonly facts: Facts;
+  readonly assessment: Assessment;
+  readonly now: Date;
+  /** 0 for the first finding of a rule about an order in this call, 1 for the next, … */
+  readonly occurrence?: number;
+}
+
+export interface CardReport {
+  readonly card: Card;
+  /** Programmer or configuration slips found while building (no patient data): for the logs. */
+  readonly problems: readonly string[];
+}
+
+/**
+ * Shortens a summary to under 140 characters at a word boundary, ending with an ellipsis; a
+ * clipped sentence is better than a card the client rejects.
+ */
+export function truncateSummary(summary: string, maxLength = SUMMARY_MAX_LENGTH): string {
+  if (summary.length <= maxLength) {
+    return summary;
+  }
+  const room = summary.slice(0, maxLength - 1);
+  const space = room.lastIndexOf(' ');
+  const cut = space > maxLength / 2 ? room.slice(0, space) : room;
+  return `${cut.replace(/[\s,;:.–-]+$/, '')}…`;
+}
+
+/** The change in plain words, used as the action's description. */
+export function describeChange(change: OrderChange): string {
+  switch (change.kind) {
+    case 'set-target':
+      return `Set the target SpO2 range to ${formatRange(change.range)}`;
+    case 'set-flow':
+      return `Set the oxygen flow to ${formatFlow(change.flowLPerMin)}`;
+    case 'set-device': {
+      const setting = change.setFio2Fraction === undefined ? '' : `, FiO2 ${change.setFio2Fraction.toFixed(2)}`;
+      return `Change the device: ${deviceLabel(change.device)} at ${formatFlow(change.flowLPerMin)}${setting}`;
+    }
+  }
+}
+
+function buildSuggestion(
+  finding: Finding,
+  ctx: CardBuildContext,
+  uuid: string,
+  problems: string[],
+): Suggestion | undefined {
+  const change = finding.change;
+  if (change === undefined) {
+    return undefined;
+  }
+  if (ctx.draftResource === undefined) {
+    problems.push(`${finding.ruleId}: change offered but its order is not in draftOrders; suggestion left out`);
+    return undefined;
+  }
+  const resource = applyOrderChange(ctx.draftResource, change);
+  if (resource.resourceType !== ctx.draftResource.resourceType || resource.id !== ctx.draftResource.id) {
+    problems.push(`${finding.ruleId}: the changed resource lost its type or id; suggestion left out`);
+    return undefined;
+  }
+  let label = describeChange(change);
+  if (ctx.template.suggestionLabel === undefined) {
+    problems.push(`${finding.ruleId}: template has no suggestionLabel`);
+  } else {
+    const rendered = renderTemplate(ctx.template.suggestionLabel, finding.values, 'plain');
+    problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
+    label = rendered.text;
+  }
+  return {
+    label,
+    uuid: suggestionUuid(uuid, 0),
+    isRecommended: true,
+    actions: [{ type: 'update', description: `${describeChange(change)} on the draft order.`, resource }],
+  };
+}
+
+/**
+ * Builds the card for one finding (CDS Hooks 2.0 §Card Attributes), with any problems found.
+ * Pure. Optional fields are omitted rather than sent empty (§Use of JSON).
+ */
+export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardReport {
+  const problems: string[] = [];
+  const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
+
+  const summary = renderTemplate(ctx.template.summary, finding.values, 'plain');
+  const detail = renderTemplate(ctx.template.detail, finding.values, 'markdown');
+  for (const [part, rendered] of [['summary', summary], ['detail', detail]] as const) {
+    problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
+  }
+
+  const sourceKeys = [...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)];
+  const sources = sourcesSection(sourceKeys, ctx.policy);
+  problems.push(...sources.unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
+  const sections = renderSections([
+    inputsSection(ctx.facts, ctx.assessment, ctx.policy, ctx.now),
+    calculationSection(finding.computations, ctx.policy),
+    setAsideSection(ctx.facts.setAside),
+    sources,
+    cautionsSection(ctx.policy),
+  ]);
+
+  const basis = ctx.policy.references[ctx.policy.basisKey];
+  const source: Card['source'] = {
+    label: `${ctx.policy.title} (${ctx.policy.id} v${ctx.policy.version}) · ${basis?.label ?? ctx.policy.basisKey}`,
+    ...(basis?.url === undefined ? {} : { url: basis.url }),
+    topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
+  };
+
+  const suggestion = buildSuggestion(finding, ctx, uuid, problems);
+  const card: Card = {
+    uuid,
+    summary: truncateSummary(summary.text.trim()),
+    detail: `${detail.text.trim()}\n\n${sections}`,
+    indicator: finding.indicator,
+    source,
+    ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
+    overrideReasons: ctx.template.overrideReasons.map((reason) => ({
+      code: reason.code,
+      system: OVERRIDE_REASON_SYSTEM,
+      display: reason.display,
+    })),
+  };
+  return { card, problems };
+}
+
+/** Builds the card for one finding; see {@link buildCardReport} for the problems found on the way. */
+export function buildCard(finding: Finding, ctx: CardBuildContext): Card {
+  return buildCardReport(finding, ctx).card;
+}

@@ -1,0 +1,36 @@
+import {
+  describeIssues,
+  OrderSelectRequestSchema,
+  OrderSignRequestSchema,
+  type CdsRequest,
+  type Issue,
+} from './schemas.js';
+import { findService, type CdsServiceDefinition } from './services.js';
+
+/**
+ * One place that decides whether a service call body is usable, for the http layer and the CLI
+ * alike: unknown service id (404), a hook this id does not serve (400), or issues with dot paths (400), or a request ready for
+ * `evaluateHook`. Pure.
+ */
+export type HookRequestParse =
+  | { readonly kind: 'ok'; readonly service: CdsServiceDefinition; readonly request: CdsRequest }
+  | { readonly kind: 'unknown-service' }
+  | { readonly kind: 'unsupported-hook'; readonly supportedHooks: readonly string[] }
+  | { readonly kind: 'invalid'; readonly issues: readonly Issue[] };
+
+export function parseHookRequest(serviceId: string, body: unknown): HookRequestParse {
+  const service = findService(serviceId);
+  if (service === undefined) {
+    return { kind: 'unknown-service' };
+  }
+  const hook = typeof body === 'object' && body !== null ? (body as { hook?: unknown }).hook : undefined;
+  if (typeof hook === 'string' && hook !== service.hook) {
+    // CDS Hooks 2.0: one id may serve several hooks; ours serve one each, so any other is a 400.
+    return { kind: 'unsupported-hook', supportedHooks: [service.hook] };
+  }
+  const schema = service.hook === 'order-select' ? OrderSelectRequestSchema : OrderSignRequestSchema;
+  const parsed = schema.safeParse(body);
+  return parsed.success
+    ? { kind: 'ok', service, request: parsed.data }
+    : { kind: 'invalid', issues: describeIssues(parsed.error) };
+}

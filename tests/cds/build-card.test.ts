@@ -1,0 +1,231 @@
+import { describe, expect, it } from 'vitest';
+import {
+  buildCard,
+  buildCardReport,
+  OVERRIDE_REASON_SYSTEM,
+  truncateSummary,
+  type CardBuildContext,
+} from '../../src/cds/build-card.js';
+import { cardUuid, suggestionUuid } from '../../src/cds/stable-uuid.js';
+import { expectConformant } from '../helpers/card-conformance.js';
+import { fhirSchemaErrors } from '../helpers/fhir-schema.js';
+import {
+  assessment,
+  bundledPolicy,
+  draftServiceRequest,
+  facts,
+  finding,
+  HOOK_INSTANCE,
+  NOW,
+  template,
+} from './support/card-inputs.js';
+
+const policy = bundledPolicy();
+const ctx: CardBuildContext = {
+  template,
+  policy,
+  hookInstance: HOOK_INSTANCE,
+  draftResource: draftServiceRequest,
+  facts,
+  assessment,
+  now: NOW,
+};
+const TARGET_EXTENSION = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+
+function section(detail: string, heading: string): string[] {
+  const start = detail.indexOf(`**${heading}**\n\n`);
+  expect(start).toBeGreaterThan(-1);
+  const rest = detail.slice(start + heading.length + 6);
+  const end = rest.indexOf('\n\n**');
+  return (end === -1 ? rest : rest.slice(0, end)).split('\n');
+}
+
+describe('buildCard', () => {
+  const card = buildCard(finding, ctx);
+
+  it('renders the summary, indicator, source and override reasons', () => {
+    expect(card.summary).toBe('Target 94–98 % ordered, but this patient is at risk of hypercapnia: 88–92 % advised');
+    expect(card.indicator).toBe('critical');
+    expect(card.source).toStrictEqual({
+      label: 'Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0) · BTS 2017',
+      url: 'https://www.brit-thoracic.org.uk/',
+      topic: { system: 'urn:oxygen-order-checker:rule', code: 'target-above-hypercapnic-range' },
+    });
+    expect(card.overrideReasons).toStrictEqual([
+      { code: 'patient-specific-target', system: OVERRIDE_REASON_SYSTEM, display: 'Patient has an individual target agreed by the team' },
+      { code: 'senior-decision', system: OVERRIDE_REASON_SYSTEM, display: 'A senior clinician has set this target' },
+    ]);
+  });
+
+  it('starts the detail with the template, values escaped for Markdown', () => {
+    expect(card.detail?.split('\n\n')[0]).toBe(
+      'Risk: kyphoscoliosis\\_(chest wall deformity). Delivered FiO2 about 0.32 (0.28–0.36). Repeat the gas in 30 min to 1 h.',
+    );
+  });
+
+  it('appends the five sections in order', () => {
+    const headings = [...(card.detail ?? '').matchAll(/^\*\*([^*]+)\*\*$/gm)].map((m) => m[1]);
+    expect(headings).toStrictEqual(['Inputs used', 'Calculation', 'Set aside', 'Sources', 'Cautions']);
+  });
+
+  it('lists each input with its time and FHIR reference', () => {
+    expect(section(card.detail ?? '', 'Inputs used')).toStrictEqual([
+      '- Order under check: Nasal cannula, 3 L/min, target 94–98 % (read from the order text) (ServiceRequest/lb-o2-0001)',
+      '- Estimated FiO2 delivered by the ordered device: 0.32 (0.28–0.36)',
+      '- Age 64 years',
+      '- SpO2 93 % at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-spo2-0001)',
+      '- Respiratory rate 22/min at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-rr-0001)',
+      '- Recorded oxygen flow 2 L/min at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-flow-0001)',
+      '- Blood gas (arterial) at 2025-03-14T06:40:00Z (1 h 30 min before this check): pH 7.37, PCO2 6.7 kPa, PO2 8.1 kPa, HCO3 29 mmol/L',
+      '- Risk of hypercapnic respiratory failure: Chest wall deformity: Kyphoscoliosis deformity of spine (SNOMED CT 405773007) (Condition/lb-cond-0001)',
+      '- Risk of hypercapnic respiratory failure: PaCO2 6.7 kPa at 06:40',
+      '- Barometric pressure 756 mmHg (ICAO standard atmosphere at 40 m)',
+    ]);
+  });
+
+  it('shows each calculation with the patient numbers substituted', () => {
+    expect(section(card.detail ?? '', 'Calculation')).toStrictEqual([
+      '- **Barometric pressure at the site** (ICAO ISA)',
+      '  - Formula: P = 760 × (1 − 2.25577e-5 × h)^5.25588',
+      "  - With this patient's values: h = 40 m",
+      '  - Result: **756 mmHg**',
+      '- **Alveolar PO2 (simplified alveolar gas equation)** (Alveolar gas equation)',
+      '  - Formula: PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
+      "  - With this patient's values: 0.32 × (756 − 47) − 50.3 / 0.8",
+      '  - Result: **164 mmHg**',
+    ]);
+  });
+
+  it('lists what was set aside', () => {
+    expect(section(card.detail ?? '', 'Set aside')).toStrictEqual([
+      '- SpO2 of 38 %: implausible value. Outside the plausible range for a pulse oximeter reading. (Observation/lb-spo2-0000)',
+    ]);
+  });
+
+  it('cites each source key from the policy, then the policy itself', () => {
+    const lines = section(card.detail ?? '', 'Sources');
+    expect(lines.map((line) => line.slice(0, line.indexOf(':')))).toStrictEqual([
+      '- **BTS 2017**',
+      '- **Low-flow mixing model**',
+      '- **ICAO ISA**',
+      '- **Alveolar gas equation**',
+      '- Local policy',
+    ]);
+    expect(lines[0]).toContain("O'Driscoll BR et al. BTS guideline for oxygen use in adults");
+    expect(lines[0]).toMatch(/ <https:\/\/www\.brit-thoracic\.org\.uk\/>$/);
+    expect(lines[4]).toBe(
+      '- Local policy: Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0), Larkspur Bay General Hospital (demo site)',
+    );
+  });
+
+  it('ends with every caution of the policy: advisory only and pulse oximetry limits', () => {
+    const lines = section(card.detail ?? '', 'Cautions');
+    expect(lines).toHaveLength(policy.cautions.length);
+    expect(lines[0]).toMatch(/^- Advisory only: this check supports, and does not replace, the clinical judgement/);
+    // ISO 80601-2-61 (Arms <= 4 %) and Sjoding 2020 (skin pigmentation), as the bundled policy words them
+    expect(lines[1]).toContain('within about 4 % of arterial saturation (ISO 80601-2-61)');
+    expect(lines[1]).toContain('darker skin (Sjoding 2020)');
+  });
+
+  it('offers one recommended update of the whole draft with the new target', () => {
+    expect(card.selectionBehavior).toBe('at-most-one');
+    expect(card.suggestions).toHaveLength(1);
+    const suggestion = card.suggestions?.[0];
+    expect(suggestion?.label).toBe('Change target to 88–92 %');
+    expect(suggestion?.uuid).toBe(suggestionUuid(card.uuid ?? '', 0));
+    expect(suggestion?.isRecommended).toBe(true);
+    const action = suggestion?.actions?.[0];
+    expect(action?.type).toBe('update');
+    expect(action?.description).toBe('Set the target SpO2 range to 88–92 % on the draft order.');
+    const resource = action?.resource as Record<string, unknown>;
+    // CDS Hooks 2.0 §Action: update carries the whole resource, same type and id
+    expect(resource['resourceType']).toBe('ServiceRequest');
+    expect(resource['id']).toBe('lb-o2-0001');
+    for (const key of ['status', 'intent', 'code', 'subject', 'authoredOn']) {
+      expect(resource[key]).toStrictEqual(draftServiceRequest[key]);
+    }
+    expect(resource['extension']).toContainEqual(
+      expect.objectContaining({
+        url: TARGET_EXTENSION,
+        valueRange: expect.objectContaining({
+          low: expect.objectContaining({ value: 88 }),
+          high: expect.objectContaining({ value: 92 }),
+        }),
+      }),
+    );
+    expect(JSON.stringify(resource)).not.toMatch(/94\s*[-–]\s*98/);
+    expect(fhirSchemaErrors(resource)).toStrictEqual([]);
+  });
+
+  it('leaves the draft resource as it was', () => {
+    expect(draftServiceRequest['patientInstruction']).toBe('Oxygen 3 L/min via nasal cannula, target SpO2 94-98%');
+    expect(draftServiceRequest['extension']).toBeUndefined();
+  });
+
+  it('gives a stable uuid from hook instance, rule and order', () => {
+    expect(card.uuid).toBe(cardUuid(HOOK_INSTANCE, 'target-above-hypercapnic-range', 'ServiceRequest/lb-o2-0001'));
+    expect(buildCard(finding, ctx)).toStrictEqual(card);
+    expect(buildCard(finding, { ...ctx, hookInstance: '0c6b1e2a-3d4f-4a5b-8c6d-7e8f9a0b1c2d' }).uuid).not.toBe(card.uuid);
+    expect(buildCard(finding, { ...ctx, occurrence: 1 }).uuid).not.toBe(card.uuid);
+  });
+
+  it('passes the response checklist and the R4 schema', () => {
+    expectConformant({ cards: [card] });
+  });
+
+  describe('edge cases', () => {
+    it('omits suggestions and selectionBehavior when the finding has no change', () => {
+      const plain = buildCard({ ...finding, change: undefined }, ctx);
+      expect(Object.keys(plain)).toStrictEqual(['uuid', 'summary', 'detail', 'indicator', 'source', 'overrideReasons']);
+      expectConformant({ cards: [plain] });
+    });
+
+    it('omits the suggestion, and says why, when the order is not in the draft bundle', () => {
+      const report = buildCardReport(finding, { ...ctx, draftResource: undefined });
+      expect(report.card.suggestions).toBeUndefined();
+      expect(report.problems).toStrictEqual([
+        'target-above-hypercapnic-range: change offered but its order is not in draftOrders; suggestion left out',
+      ]);
+    });
+
+    it('reports placeholders without values and source keys the policy lacks', () => {
+      const { advisedRange: _a, ...values } = finding.values;
+      const report = buildCardReport({ ...finding, values, sourceKeys: ['bts-2017', 'no-such-key'] }, ctx);
+      expect(report.problems).toStrictEqual([
+        "target-above-hypercapnic-range: summary placeholder 'advisedRange' has no value",
+        "target-above-hypercapnic-range: source key 'no-such-key' is not in the policy references",
+        "target-above-hypercapnic-range: suggestionLabel placeholder 'advisedRange' has no value",
+      ]);
+      expect(report.card.summary).toBe('Target 94–98 % ordered, but this patient is at risk of hypercapnia: (not available) advised');
+      expectConformant({ cards: [report.card] });
+    });
+
+    it('says so when nothing was set aside and no calculation was needed', () => {
+      const bare = buildCard({ ...finding, computations: [] }, { ...ctx, facts: { ...facts, setAside: [] } });
+      expect(section(bare.detail ?? '', 'Calculation')).toStrictEqual(['- No calculation was needed for this advice.']);
+      expect(section(bare.detail ?? '', 'Set aside')).toStrictEqual(['- Nothing was set aside.']);
+    });
+
+    it('shortens a long rendered summary at a word boundary with an ellipsis', () => {
+      const long = buildCard(finding, {
+        ...ctx,
+        template: { ...template, summary: `${'Oxygen target review needed '.repeat(6)}{{advisedRange}}` },
+      });
+      // CDS Hooks 2.0 #card-attributes: summary fewer than 140 characters
+      expect(long.summary.length).toBeLessThan(140);
+      expect(long.summary).toBe(`${'Oxygen target review needed '.repeat(4)}Oxygen target review…`);
+    });
+  });
+});
+
+describe('truncateSummary', () => {
+  it.each([
+    ['x'.repeat(139), 'x'.repeat(139)],
+    [`${'word '.repeat(30)}end`, `${'word '.repeat(27).trim()}…`],
+    ['y'.repeat(200), `${'y'.repeat(138)}…`],
+  ])('keeps a summary under 140 characters (%#)', (input, expected) => {
+    const result = truncateSummary(input);
+    expect(result).toBe(expected);
+    expect(result.length).toBeLessThanOrEqual(139);
+  });
+});
