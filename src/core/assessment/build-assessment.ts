@@ -1,0 +1,159 @@
+import { estimateDelivery } from '../devices/index.js';
+import type { DeliveryEstimate } from '../devices/types.js';
+import { siteBarometricPressureMmHg } from '../physiology/index.js';
+import type { Policy } from '../policy.js';
+import type { Facts, Outcome, OxygenOrder } from '../types.js';
+import {
+  computeGasInterpretation,
+  computeOxygenContent,
+  computeRox,
+  computeSfRatio,
+} from './bedside-physiology.js';
+import { newestFirst, pickCurrentValues } from './current-values.js';
+import { fio2InForceAt } from './fio2-in-force.js';
+import { formatMmHg, formatNumber } from './format.js';
+import { computeGasPhysiology } from './gas-physiology.js';
+import { assessHypercapnicRisk } from './hypercapnic-risk.js';
+import { compareOrderedTarget, selectTarget, selectTitrationTarget } from './target-selection.js';
+import type { Assessment, BarometricPressureUsed, CurrentValues } from './types.js';
+
+/** The pressure the site uses: a measured or agreed policy value wins over the altitude model. */
+export function siteBarometricPressure(policy: Policy): BarometricPressureUsed {
+  const configured = policy.site.barometricPressureMmHg;
+  if (configured !== undefined) {
+    return {
+      mmHg: configured,
+      model: 'site-value',
+      sourceKey: 'local-policy',
+      computation: {
+        name: 'Barometric pressure',
+        formula: 'site pressure set in the local policy',
+        substituted: policy.site.name,
+        result: formatMmHg(configured),
+        sourceKey: 'local-policy',
+      },
+    };
+  }
+  const altitude = policy.site.altitudeM;
+  const site = siteBarometricPressureMmHg(altitude);
+  const formula =
+    site.model === 'isa-1993'
+      ? 'PB = 760 × (1 − 2.25577×10⁻⁵ × h)^5.25588 (ICAO Standard Atmosphere, h in m)'
+      : 'PB = exp(6.63268 − 0.1112 × h − 0.00149 × h²) (West 1996, h in km)';
+  return {
+    mmHg: site.mmHg,
+    model: site.model,
+    sourceKey: site.model,
+    computation: {
+      name: 'Barometric pressure',
+      formula,
+      substituted:
+        site.model === 'isa-1993' ? `h = ${formatNumber(altitude, 0)} m` : `h = ${formatNumber(altitude / 1000, 2)} km`,
+      result: formatMmHg(site.mmHg),
+      sourceKey: site.model,
+    },
+  };
+}
+
+/** The delivered-FiO2 estimate for the order's device and settings, at the current respiratory rate. */
+export function estimateOrderDelivery(
+  order: OxygenOrder | undefined,
+  current: CurrentValues,
+): Outcome<DeliveryEstimate> {
+  if (order === undefined) {
+    return { kind: 'unknown', reason: 'no oxygen order to estimate' };
+  }
+  if (order.device === undefined) {
+    return {
+      kind: 'unknown',
+      reason: `device not recognised${order.deviceText === undefined ? '' : `: '${order.deviceText}'`}`,
+      missing: ['device'],
+    };
+  }
+  return estimateDelivery(order.device, {
+    ...(order.flowLPerMin === undefined ? {} : { flowLPerMin: order.flowLPerMin }),
+    ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
+    ...(current.respRate === undefined ? {} : { respRatePerMin: current.respRate.value }),
+  });
+}
+
+/** Hours since the earliest high-flow order (draft or on record) was written, when known. */
+function hoursOnHighFlow(orders: readonly OxygenOrder[], now: Date): number | undefined {
+  const starts = orders
+    .filter((o) => o.device === 'high-flow-nasal-cannula' && o.authoredOn !== undefined)
+    .map((o) => Date.parse(o.authoredOn ?? ''))
+    .filter((t) => !Number.isNaN(t));
+  return starts.length === 0 ? undefined : Math.max(0, (now.getTime() - Math.min(...starts)) / 3_600_000);
+}
+
+/**
+ * Builds the assessment for one subject order (the first `isSubject` order unless one is named).
+ * Pure: the same facts, policy, order and clock always give the same assessment.
+ */
+export function buildAssessment(
+  facts: Facts,
+  policy: Policy,
+  options: { readonly now: Date; readonly order?: OxygenOrder | undefined },
+): Assessment {
+  const { now } = options;
+  const order = 'order' in options ? options.order : facts.orders.find((o) => o.isSubject);
+  const current = pickCurrentValues(facts, policy, now);
+  const barometricPressure = siteBarometricPressure(policy);
+  const delivery = estimateOrderDelivery(order, current);
+  const fio2AtGas = fio2InForceAt(current.arterialGas?.at, facts, order, delivery, policy);
+  const fio2AtSpo2 = fio2InForceAt(current.spo2?.at, facts, order, delivery, policy);
+
+  // An earlier arterial gas on a different FiO2 lets the mechanism hint test for shunt.
+  const earlierArterial = newestFirst(facts.bloodGases).find(
+    (g) => g.specimen === 'arterial' && g !== current.arterialGas && g.pao2MmHg !== undefined,
+  );
+  const earlierFio2 = fio2InForceAt(earlierArterial?.at, facts, order, delivery, policy);
+  const previous =
+    earlierArterial?.pao2MmHg !== undefined &&
+    earlierFio2.kind === 'ok' &&
+    earlierFio2.value.basis !== 'order-estimate'
+      ? { fio2Fraction: earlierFio2.value.estimate, pao2MmHg: earlierArterial.pao2MmHg }
+      : undefined;
+
+  const allOrders = [...facts.activeOrders, ...(order === undefined ? [] : [order])];
+  const onHighFlow = allOrders.some((o) => o.device === 'high-flow-nasal-cannula');
+  const hypercapnicRisk = assessHypercapnicRisk(facts, policy, current, now);
+  const target = selectTarget(facts, policy, hypercapnicRisk);
+
+  return {
+    order,
+    barometricPressure,
+    delivery,
+    current,
+    physiology: {
+      fio2AtGas,
+      fio2AtSpo2,
+      ...computeGasPhysiology({
+        arterialGas: current.arterialGas,
+        fio2AtGas,
+        barometricPressureMmHg: barometricPressure.mmHg,
+        ageYears: facts.patient.ageYears,
+        previous,
+        policy,
+      }),
+      sfRatio: computeSfRatio(current.spo2, fio2AtSpo2),
+      rox: computeRox({
+        onHighFlow,
+        hoursOnHighFlow: hoursOnHighFlow(allOrders, now),
+        spo2: current.spo2,
+        respRate: current.respRate,
+        fio2AtSpo2,
+      }),
+      oxygenContent: computeOxygenContent({
+        haemoglobin: current.haemoglobin,
+        spo2: current.spo2,
+        arterialGas: current.arterialGas,
+      }),
+      gasInterpretation: computeGasInterpretation(current.gas, policy),
+    },
+    hypercapnicRisk,
+    target,
+    targetComparison: compareOrderedTarget(order, target, policy),
+    titrationTarget: selectTitrationTarget(order, target),
+  };
+}

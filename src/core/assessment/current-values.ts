@@ -1,0 +1,49 @@
+import type { Policy } from '../policy.js';
+import type { BloodGas, Facts, Measured } from '../types.js';
+import { minutesBetween } from './format.js';
+import type { CurrentValues } from './types.js';
+
+/** True when `at` is no older than `windowMinutes` before `now` (a slightly future time counts). */
+export function isWithin(at: string, now: Date, windowMinutes: number): boolean {
+  const age = minutesBetween(at, now);
+  return age !== undefined && age <= windowMinutes;
+}
+
+/** Sorted most recent first; the reader promises this order, but the core does not rely on it. */
+export function newestFirst<T extends { readonly at: string }>(items: readonly T[]): readonly T[] {
+  return [...items].sort((a, b) => Date.parse(b.at) - Date.parse(a.at));
+}
+
+function latestWithin<T extends { readonly at: string }>(
+  items: readonly T[],
+  now: Date,
+  windowMinutes: number,
+): T | undefined {
+  return newestFirst(items).find((item) => isWithin(item.at, now, windowMinutes));
+}
+
+/**
+ * Picks the current values the checks use. A venous or unlabelled gas still counts as the current gas
+ * for PCO2 and pH; only an arterial gas feeds PaO2-based numbers (venous PO2 says little about
+ * arterial oxygenation, BTS 2017).
+ */
+export function pickCurrentValues(facts: Facts, policy: Policy, now: Date): CurrentValues {
+  const vitals = policy.freshness.vitalSignsMinutes;
+  const gasWindow = policy.freshness.bloodGasMinutes;
+  const gases: readonly BloodGas[] = facts.bloodGases;
+  return {
+    spo2: latestWithin<Measured>(facts.spo2Percent, now, vitals),
+    respRate: latestWithin<Measured>(facts.respRatePerMin, now, vitals),
+    haemoglobin: latestWithin<Measured>(
+      facts.haemoglobinGPerDL,
+      now,
+      policy.freshness.haemoglobinHours * 60,
+    ),
+    gas: latestWithin(gases, now, gasWindow),
+    arterialGas: latestWithin(
+      gases.filter((gas) => gas.specimen === 'arterial'),
+      now,
+      gasWindow,
+    ),
+  };
+}

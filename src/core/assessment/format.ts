@@ -1,0 +1,112 @@
+import type { BloodGas, SaturationRange } from '../types.js';
+
+/**
+ * Display formatting for the values cards interpolate. Formatting only: no unit conversion (that is
+ * the edge's job); a measured pressure is shown in the unit the laboratory reported, a computed one in
+ * mmHg, the unit the physiology is published in.
+ */
+
+/** Rounds to at most `decimals` places and drops trailing zeros: 6.70 → "6.7", 3.0 → "3". */
+export function formatNumber(value: number, decimals: number): string {
+  const fixed = value.toFixed(decimals);
+  return fixed.includes('.') ? fixed.replace(/\.?0+$/, '') : fixed;
+}
+
+/** "88–92 %" (en dash, space before the unit as in SI usage). */
+export function formatRange(range: SaturationRange): string {
+  return `${formatNumber(range.lowPercent, 1)}–${formatNumber(range.highPercent, 1)} %`;
+}
+
+/** "93 %". */
+export function formatPercent(percent: number): string {
+  return `${formatNumber(percent, 1)} %`;
+}
+
+/** FiO2 as a fraction to two places: "0.32". */
+export function formatFraction(fraction: number): string {
+  return fraction.toFixed(2);
+}
+
+/** "0.32 (0.28–0.36)": an estimate with its plausible range. */
+export function formatFio2Range(fio2: {
+  readonly estimate: number;
+  readonly low: number;
+  readonly high: number;
+}): string {
+  return `${formatFraction(fio2.estimate)} (${formatFraction(fio2.low)}–${formatFraction(fio2.high)})`;
+}
+
+/** "3 L/min", "22.5 L/min". */
+export function formatFlow(flowLPerMin: number): string {
+  return `${formatNumber(flowLPerMin, 1)} L/min`;
+}
+
+/** A computed pressure, whole mmHg as clinicians read it: "165 mmHg". */
+export function formatMmHg(mmHg: number): string {
+  return `${formatNumber(mmHg, 0)} mmHg`;
+}
+
+export type GasComponent = 'ph' | 'pao2' | 'paco2' | 'hco3';
+
+/** UCUM codes to the spelling a reader expects on a card. */
+function displayUnit(unit: string): string {
+  return unit === 'mm[Hg]' ? 'mmHg' : unit;
+}
+
+/**
+ * A blood gas value as the laboratory reported it ("6.7 kPa", "50 mmHg"), falling back to the
+ * canonical value when the report is missing (mmHg for pressures, mmol/L for bicarbonate).
+ */
+export function formatGasValue(gas: BloodGas, component: GasComponent): string | undefined {
+  const reported = gas.reported[component];
+  if (reported !== undefined) {
+    return component === 'ph'
+      ? formatNumber(reported.value, 2)
+      : `${formatNumber(reported.value, 2)} ${displayUnit(reported.unit)}`;
+  }
+  switch (component) {
+    case 'ph':
+      return gas.ph === undefined ? undefined : formatNumber(gas.ph, 2);
+    case 'pao2':
+      return gas.pao2MmHg === undefined ? undefined : formatMmHg(gas.pao2MmHg);
+    case 'paco2':
+      return gas.paco2MmHg === undefined ? undefined : formatMmHg(gas.paco2MmHg);
+    case 'hco3':
+      return gas.hco3MmolPerL === undefined
+        ? undefined
+        : `${formatNumber(gas.hco3MmolPerL, 1)} mmol/L`;
+  }
+}
+
+/** Minutes between two ISO times (positive when `later` is after `earlier`); undefined if unreadable. */
+export function minutesBetween(earlierIso: string, later: Date): number | undefined {
+  const earlier = Date.parse(earlierIso);
+  return Number.isNaN(earlier) ? undefined : (later.getTime() - earlier) / 60_000;
+}
+
+/** A duration in words: "45 min", "3 h 10 min", "2 days". */
+export function formatDuration(minutes: number): string {
+  const whole = Math.round(Math.abs(minutes));
+  if (whole < 60) {
+    return `${whole} min`;
+  }
+  if (whole < 48 * 60) {
+    const hours = Math.floor(whole / 60);
+    const rest = whole % 60;
+    return rest === 0 ? `${hours} h` : `${hours} h ${rest} min`;
+  }
+  return `${Math.round(whole / (24 * 60))} days`;
+}
+
+/** "the first of a, b and c" style joining: "a", "a and b", "a, b and c". */
+export function joinWords(items: readonly string[]): string {
+  if (items.length <= 1) {
+    return items[0] ?? '';
+  }
+  return `${items.slice(0, -1).join(', ')} and ${items[items.length - 1] ?? ''}`;
+}
+
+/** A window in minutes: "30–60 min". */
+export function formatMinuteWindow(fromMinutes: number, toMinutes: number): string {
+  return `${formatNumber(fromMinutes, 0)}–${formatNumber(toMinutes, 0)} min`;
+}

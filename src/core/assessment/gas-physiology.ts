@@ -1,0 +1,193 @@
+import {
+  aaGradientMmHg,
+  alveolarPo2MmHg,
+  classifyPfBerlin,
+  expectedAaGradientMmHg,
+  hypoxaemiaMechanism,
+  inspiredPo2MmHg,
+  pfRatioMmHg,
+} from '../physiology/index.js';
+import { RESPIRATORY_QUOTIENT_DEFAULT, WATER_VAPOUR_PRESSURE_37C_MMHG } from '../physiology/constants.js';
+import { checkPhysiologyInputs } from '../physiology/valid-ranges.js';
+import type { Policy } from '../policy.js';
+import type { BloodGas, Outcome } from '../types.js';
+import { formatFraction, formatMmHg, formatNumber } from './format.js';
+import type { Calculated, Fio2InForce, MechanismHint, PhysiologyResults } from './types.js';
+
+type GasResults = Pick<
+  PhysiologyResults,
+  'inspiredPo2' | 'alveolarPo2' | 'aaGradient' | 'expectedAaGradient' | 'pfRatio' | 'mechanism'
+>;
+
+type Unknown = { readonly kind: 'unknown'; readonly reason: string; readonly missing?: readonly string[] };
+
+function unknown(reason: string, missing?: readonly string[]): Unknown {
+  return missing === undefined ? { kind: 'unknown', reason } : { kind: 'unknown', reason, missing };
+}
+
+function allUnknown(none: Unknown): GasResults {
+  return {
+    inspiredPo2: none,
+    alveolarPo2: none,
+    aaGradient: none,
+    expectedAaGradient: none,
+    pfRatio: none,
+    mechanism: none,
+  };
+}
+
+/** How the FiO2 was known, for the substituted line of a computation. */
+export function describeFio2Basis(fio2: Fio2InForce): string {
+  switch (fio2.basis) {
+    case 'recorded-fio2':
+      return 'FiO2 as recorded nearest the measurement';
+    case 'recorded-flow':
+      return fio2.onAir
+        ? 'on air, as recorded nearest the measurement'
+        : 'FiO2 estimated from the recorded O2 flow on the ordered device';
+    case 'order-estimate':
+      return 'FiO2 estimated from the order, assuming it was in use at the measurement';
+  }
+}
+
+const mm = (value: number): string => formatNumber(value, 1);
+
+/**
+ * The PaO2-based numbers for the current arterial gas, at the FiO2 in force when it was taken and
+ * the site's barometric pressure: inspired PO2, PAO2 (simplified alveolar gas equation, R 0.8,
+ * PH2O 47 mmHg), A-a gradient, the age-expected A-a (on air only), P/F with its Berlin class, and the
+ * mechanism hint. Each is `unknown` with a reason when an input is missing or out of range.
+ */
+export function computeGasPhysiology(input: {
+  readonly arterialGas: BloodGas | undefined;
+  readonly fio2AtGas: Outcome<Fio2InForce>;
+  readonly barometricPressureMmHg: number;
+  readonly ageYears: number | undefined;
+  readonly previous: { readonly fio2Fraction: number; readonly pao2MmHg: number } | undefined;
+  readonly policy: Policy;
+}): GasResults {
+  const { arterialGas: gas, fio2AtGas, barometricPressureMmHg: pb, ageYears } = input;
+  const age = ageYears === undefined
+    ? unknown('age not known', ['age'])
+    : checkPhysiologyInputs({ ageYears });
+  const expectedOnAir: Outcome<number> =
+    age.kind === 'ok' ? { kind: 'ok', value: expectedAaGradientMmHg(age.value.ageYears) } : age;
+
+  if (gas === undefined) {
+    return allUnknown(unknown('no current arterial gas', ['arterial blood gas']));
+  }
+  if (fio2AtGas.kind === 'unknown') {
+    return allUnknown(unknown(`FiO2 at the time of the gas not known: ${fio2AtGas.reason}`, ['FiO2']));
+  }
+  const fio2 = fio2AtGas.value;
+  const basis = describeFio2Basis(fio2);
+  const setting = checkPhysiologyInputs({ fio2Fraction: fio2.estimate, barometricPressureMmHg: pb });
+  if (setting.kind === 'unknown') {
+    return allUnknown(unknown(setting.reason, setting.missing));
+  }
+  const checked = checkPhysiologyInputs({ paco2MmHg: gas.paco2MmHg, pao2MmHg: gas.pao2MmHg });
+  const pio2Value = inspiredPo2MmHg(fio2.estimate, pb, WATER_VAPOUR_PRESSURE_37C_MMHG);
+  const inspiredPo2: Outcome<Calculated<number>> = {
+    kind: 'ok',
+    value: {
+      value: pio2Value,
+      computation: {
+        name: 'Inspired PO2',
+        formula: 'PIO2 = FiO2 × (PB − PH2O)',
+        substituted: `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) (${basis})`,
+        result: formatMmHg(pio2Value),
+        sourceKey: 'alveolar-gas',
+      },
+    },
+  };
+  if (checked.kind === 'unknown') {
+    return {
+      ...allUnknown(unknown(`blood gas incomplete: ${checked.reason}`, checked.missing)),
+      inspiredPo2,
+    };
+  }
+  const { paco2MmHg, pao2MmHg } = checked.value;
+  const pao2Alveolar = alveolarPo2MmHg({
+    fio2Fraction: fio2.estimate,
+    barometricPressureMmHg: pb,
+    paco2MmHg,
+    respiratoryQuotient: RESPIRATORY_QUOTIENT_DEFAULT,
+    form: 'simplified',
+  });
+  const gradient = aaGradientMmHg(pao2Alveolar, pao2MmHg);
+  const pf = pfRatioMmHg(pao2MmHg, fio2.estimate);
+  const expectedAaGradient: Outcome<Calculated<number>> = !fio2.onAir
+    ? unknown('the age-expected A-a gradient applies on air only')
+    : expectedOnAir.kind === 'ok'
+      ? {
+          kind: 'ok',
+          value: {
+            value: expectedOnAir.value,
+            computation: {
+              name: 'Expected A-a gradient for age (on air)',
+              formula: 'expected A-a = age / 4 + 4',
+              substituted: `${formatNumber(ageYears ?? 0, 0)} / 4 + 4`,
+              result: formatMmHg(expectedOnAir.value),
+              sourceKey: 'aa-gradient-age',
+            },
+          },
+        }
+      : expectedOnAir;
+  const mechanism: Outcome<MechanismHint> =
+    expectedOnAir.kind === 'ok'
+      ? hypoxaemiaMechanism({
+          inspiredPo2MmHg: pio2Value,
+          aaGradientMmHg: gradient,
+          expectedAaGradientMmHg: expectedOnAir.value,
+          paco2MmHg,
+          hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
+          fio2Fraction: fio2.estimate,
+          pao2MmHg,
+          ...(input.previous === undefined ? {} : { previous: input.previous }),
+        })
+      : unknown(`mechanism needs the age-expected A-a gradient: ${expectedOnAir.reason}`, expectedOnAir.missing);
+  return {
+    inspiredPo2,
+    alveolarPo2: {
+      kind: 'ok',
+      value: {
+        value: pao2Alveolar,
+        computation: {
+          name: 'Alveolar PO2 (alveolar gas equation)',
+          formula: 'PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
+          substituted: `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) − ${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT} (${basis})`,
+          result: formatMmHg(pao2Alveolar),
+          sourceKey: 'alveolar-gas',
+        },
+      },
+    },
+    aaGradient: {
+      kind: 'ok',
+      value: {
+        value: gradient,
+        computation: {
+          name: 'A-a gradient',
+          formula: 'A-a = PAO2 − PaO2',
+          substituted: `${mm(pao2Alveolar)} − ${mm(pao2MmHg)}`,
+          result: formatMmHg(gradient),
+          sourceKey: 'alveolar-gas',
+        },
+      },
+    },
+    expectedAaGradient,
+    pfRatio: {
+      kind: 'ok',
+      value: {
+        value: { ratio: pf, berlin: classifyPfBerlin(pf) },
+        computation: {
+          name: 'P/F ratio',
+          formula: 'P/F = PaO2 / FiO2',
+          substituted: `${mm(pao2MmHg)} / ${formatFraction(fio2.estimate)} (${basis})`,
+          result: formatMmHg(pf),
+          sourceKey: 'berlin-2012',
+        },
+      },
+    },
+    mechanism,
+  };
+}

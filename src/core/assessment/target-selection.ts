@@ -1,0 +1,152 @@
+import type { Policy } from '../policy.js';
+import type { ConditionKind, Facts, OxygenOrder, SaturationRange } from '../types.js';
+import { joinWords } from './format.js';
+import type {
+  ApplicableTarget,
+  HypercapnicRiskDecision,
+  NoTargetCondition,
+  TargetComparison,
+  TitrationTarget,
+} from './types.js';
+
+/**
+ * Situations where BTS 2017 sets no SpO2 target, in order of precedence, each with its reason.
+ * Carbon monoxide comes first whatever else is present: the oximeter reads carboxyhaemoglobin as
+ * oxyhaemoglobin (BTS 2017 Table 1). Pneumothorax (aim for 100 %, Table 2) and cluster headache (high-
+ * flow oxygen regardless of SpO2) yield to a documented hypercapnic risk: this service keeps the
+ * 88–92 % range then, because an uncontrolled high FiO2 is the harm BTS Table 4 guards against (our
+ * decision; see docs/clinical-basis.md).
+ */
+const NO_TARGET_REASONS: Readonly<Record<NoTargetCondition, string>> = {
+  'carbon-monoxide-poisoning':
+    'carbon monoxide poisoning: the oximeter cannot tell carboxyhaemoglobin from oxyhaemoglobin',
+  pneumothorax: 'pneumothorax under observation: oxygen speeds resorption, aim for 100 %',
+  'cluster-headache': 'cluster headache: high-flow oxygen is given whatever the SpO2',
+};
+
+const OXYGEN_TOXICITY: readonly ConditionKind[] = ['paraquat-poisoning', 'bleomycin-lung-injury'];
+
+function sameRange(a: SaturationRange, b: SaturationRange): boolean {
+  return a.lowPercent === b.lowPercent && a.highPercent === b.highPercent;
+}
+
+/**
+ * The target that applies (BTS 2017 Tables 1–4): no SpO2 target for carbon monoxide, and for
+ * pneumothorax or cluster headache without hypercapnic risk; `targets.oxygenToxicityRisk` for paraquat
+ * or bleomycin; `targets.hypercapnicRisk` when at risk, unless the current gas shows PCO2 below
+ * `hypercapnicRisk.hypercapniaPaco2` and there is no previous failure, when BTS re-targets to the
+ * standard range; otherwise `targets.standard`.
+ */
+export function selectTarget(
+  facts: Facts,
+  policy: Policy,
+  risk: HypercapnicRiskDecision,
+): ApplicableTarget {
+  const has = (kind: ConditionKind): boolean => facts.conditions.some((c) => c.kind === kind);
+  if (has('carbon-monoxide-poisoning')) {
+    return {
+      kind: 'no-spo2-target',
+      condition: 'carbon-monoxide-poisoning',
+      reason: NO_TARGET_REASONS['carbon-monoxide-poisoning'],
+      sourceKey: 'bts-2017',
+    };
+  }
+  const toxic = facts.conditions.find((c) => OXYGEN_TOXICITY.includes(c.kind));
+  if (toxic !== undefined) {
+    return {
+      kind: 'range',
+      range: policy.targets.oxygenToxicityRisk,
+      basis: 'oxygen-toxicity-risk',
+      reason: `${toxic.display}: oxygen adds to the lung injury`,
+      sourceKey: 'bts-2017',
+    };
+  }
+  if (!risk.atRisk) {
+    for (const condition of ['pneumothorax', 'cluster-headache'] as const) {
+      if (has(condition)) {
+        return {
+          kind: 'no-spo2-target',
+          condition,
+          reason: NO_TARGET_REASONS[condition],
+          sourceKey: 'bts-2017',
+        };
+      }
+    }
+    return {
+      kind: 'range',
+      range: policy.targets.standard,
+      basis: 'standard',
+      reason: 'no documented risk of hypercapnic respiratory failure',
+      sourceKey: policy.basisKey,
+    };
+  }
+  if (risk.currentHypercapnia === false && !risk.previousFailure) {
+    return {
+      kind: 'range',
+      range: policy.targets.standard,
+      basis: 'standard-after-normal-gas',
+      reason: `at risk, but the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display} and there is no previous NIV, IMV or hypercapnic failure`,
+      sourceKey: 'bts-2017',
+    };
+  }
+  return {
+    kind: 'range',
+    range: policy.targets.hypercapnicRisk,
+    basis: 'hypercapnic-risk',
+    reason: `at risk of hypercapnic respiratory failure (${joinWords(risk.reasons.map((r) => r.evidence))})`,
+    sourceKey: 'bts-2017',
+  };
+}
+
+/** Classifies the ordered target against the applicable one; each outcome has one owning rule. */
+export function compareOrderedTarget(
+  order: OxygenOrder | undefined,
+  target: ApplicableTarget,
+  policy: Policy,
+): TargetComparison {
+  if (order === undefined) {
+    return { kind: 'no-order' };
+  }
+  if (target.kind === 'no-spo2-target') {
+    return { kind: 'no-range-applies' };
+  }
+  const advised = target.range;
+  const ordered = order.target === undefined
+    ? undefined
+    : { lowPercent: order.target.lowPercent, highPercent: order.target.highPercent };
+  if (target.basis === 'oxygen-toxicity-risk') {
+    return ordered !== undefined && sameRange(ordered, advised)
+      ? { kind: 'matches' }
+      : { kind: 'toxicity-range-not-ordered', ordered, advised };
+  }
+  if (ordered === undefined) {
+    return { kind: 'missing', advised };
+  }
+  if (sameRange(ordered, advised)) {
+    return { kind: 'matches' };
+  }
+  if (target.basis === 'hypercapnic-risk' && ordered.highPercent > advised.highPercent) {
+    return { kind: 'above-hypercapnic-range', ordered, advised };
+  }
+  if (target.basis !== 'hypercapnic-risk' && sameRange(ordered, policy.targets.hypercapnicRisk)) {
+    return { kind: 'lower-range-without-risk', ordered, advised };
+  }
+  return { kind: 'differs', ordered, advised };
+}
+
+/** The range SpO2 is titrated to: the ordered one, else the applicable one; none without a target. */
+export function selectTitrationTarget(
+  order: OxygenOrder | undefined,
+  target: ApplicableTarget,
+): TitrationTarget | undefined {
+  if (target.kind === 'no-spo2-target') {
+    return undefined;
+  }
+  if (order?.target !== undefined) {
+    return {
+      range: { lowPercent: order.target.lowPercent, highPercent: order.target.highPercent },
+      basis: 'ordered',
+    };
+  }
+  return { range: target.range, basis: 'applicable' };
+}

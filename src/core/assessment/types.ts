@@ -1,0 +1,178 @@
+import type { DeliveryEstimate } from '../devices/types.js';
+import type {
+  classifyPfBerlin,
+  classifySfRice,
+  hypoxaemiaMechanism,
+  interpretBloodGas,
+  interpretRox,
+} from '../physiology/index.js';
+import type {
+  BloodGas,
+  Computation,
+  ConditionKind,
+  Measured,
+  Outcome,
+  OxygenOrder,
+  SaturationRange,
+} from '../types.js';
+
+type OkValue<T> = T extends { readonly kind: 'ok'; readonly value: infer V } ? V : never;
+
+export type GasInterpretation = OkValue<ReturnType<typeof interpretBloodGas>>;
+export type MechanismHint = OkValue<ReturnType<typeof hypoxaemiaMechanism>>;
+export type BerlinClass = ReturnType<typeof classifyPfBerlin>;
+export type RiceClass = ReturnType<typeof classifySfRice>;
+export type RoxInterpretation = ReturnType<typeof interpretRox>;
+
+/** A calculated number together with the working a card shows for it. */
+export interface Calculated<T> {
+  readonly value: T;
+  readonly computation: Computation;
+}
+
+export interface BarometricPressureUsed {
+  readonly mmHg: number;
+  /** `site-value`: the policy's measured or agreed pressure; otherwise the altitude model used. */
+  readonly model: 'site-value' | 'isa-1993' | 'west-1996';
+  readonly sourceKey: string;
+  readonly computation: Computation;
+}
+
+/**
+ * The FiO2 that was being breathed at a moment (a gas, an SpO2 reading): a recorded FiO2 is best, a
+ * recorded flow on the ordered device next, the order's own estimate last. `basis` says which.
+ */
+export interface Fio2InForce {
+  readonly estimate: number;
+  readonly low: number;
+  readonly high: number;
+  readonly basis: 'recorded-fio2' | 'recorded-flow' | 'order-estimate';
+  /** Time of the observation used; undefined for the order estimate. */
+  readonly at: string | undefined;
+  /** True when the FiO2 is room air (recorded 0.21 or a recorded flow of 0). */
+  readonly onAir: boolean;
+}
+
+export interface CurrentValues {
+  /** Latest SpO2 within `freshness.vitalSignsMinutes`. */
+  readonly spo2: Measured | undefined;
+  readonly respRate: Measured | undefined;
+  /** Latest haemoglobin within `freshness.haemoglobinHours`. */
+  readonly haemoglobin: Measured | undefined;
+  /** Latest gas of any specimen within `freshness.bloodGasMinutes`: PCO2 and pH guidance. */
+  readonly gas: BloodGas | undefined;
+  /** Latest arterial gas within the same window: the only source of PaO2-based numbers. */
+  readonly arterialGas: BloodGas | undefined;
+}
+
+export interface PhysiologyResults {
+  readonly fio2AtGas: Outcome<Fio2InForce>;
+  readonly fio2AtSpo2: Outcome<Fio2InForce>;
+  readonly inspiredPo2: Outcome<Calculated<number>>;
+  readonly alveolarPo2: Outcome<Calculated<number>>;
+  readonly aaGradient: Outcome<Calculated<number>>;
+  /** Unknown when the gas was not taken on air: the age norm is for air only. */
+  readonly expectedAaGradient: Outcome<Calculated<number>>;
+  readonly pfRatio: Outcome<Calculated<{ readonly ratio: number; readonly berlin: BerlinClass }>>;
+  readonly sfRatio: Outcome<Calculated<{ readonly ratio: number; readonly rice: RiceClass }>>;
+  readonly rox: Outcome<
+    Calculated<{
+      readonly index: number;
+      readonly hoursOnHighFlow: number | undefined;
+      readonly interpretation: RoxInterpretation;
+    }>
+  >;
+  readonly oxygenContent: Outcome<Calculated<number>>;
+  readonly gasInterpretation: Outcome<GasInterpretation>;
+  readonly mechanism: Outcome<MechanismHint>;
+}
+
+export type RiskReasonKind =
+  | 'condition'
+  | 'previous-ventilation'
+  | 'previous-hypercapnic-failure'
+  | 'current-hypercapnia'
+  | 'previous-hypercapnia'
+  | 'raised-bicarbonate'
+  | 'raised-bmi';
+
+export interface RiskReason {
+  readonly kind: RiskReasonKind;
+  /** Plain words for the card, e.g. "COPD (SNOMED CT 13645005)" or "PaCO2 6.7 kPa at 07:40". */
+  readonly evidence: string;
+  readonly condition: ConditionKind | undefined;
+  /** FHIR reference of the Condition or Observation, for traceability. */
+  readonly reference: string | undefined;
+}
+
+export interface HypercapnicRiskDecision {
+  readonly atRisk: boolean;
+  readonly reasons: readonly RiskReason[];
+  /** Whether the current gas shows PCO2 at or above the threshold; undefined without one. */
+  readonly currentHypercapnia: boolean | undefined;
+  /** Previous NIV/IMV, chronic hypercapnic failure, or an older hypercapnic gas: no re-targeting. */
+  readonly previousFailure: boolean;
+}
+
+export type TargetBasis =
+  | 'standard'
+  | 'hypercapnic-risk'
+  | 'standard-after-normal-gas'
+  | 'oxygen-toxicity-risk';
+
+export type NoTargetCondition = 'carbon-monoxide-poisoning' | 'pneumothorax' | 'cluster-headache';
+
+/** Which target the policy says applies to this patient, and why. */
+export type ApplicableTarget =
+  | {
+      readonly kind: 'range';
+      readonly range: SaturationRange;
+      readonly basis: TargetBasis;
+      /** Short phrase for cards: "at risk of hypercapnic respiratory failure (COPD)". */
+      readonly reason: string;
+      readonly sourceKey: string;
+    }
+  | {
+      readonly kind: 'no-spo2-target';
+      readonly condition: NoTargetCondition;
+      readonly reason: string;
+      readonly sourceKey: string;
+    };
+
+/**
+ * How the ordered target compares with the applicable one. Each kind other than `matches`,
+ * `no-order` and `no-range-applies` is owned by exactly one rule, so no two cards say the same thing.
+ */
+export type TargetComparison =
+  | { readonly kind: 'no-order' }
+  | { readonly kind: 'no-range-applies' }
+  | { readonly kind: 'matches' }
+  | { readonly kind: 'missing'; readonly advised: SaturationRange }
+  | {
+      readonly kind:
+        | 'above-hypercapnic-range'
+        | 'lower-range-without-risk'
+        | 'toxicity-range-not-ordered'
+        | 'differs';
+      readonly ordered: SaturationRange | undefined;
+      readonly advised: SaturationRange;
+    };
+
+/** The range the nurse titrates to: the ordered one if present, else the applicable one. */
+export interface TitrationTarget {
+  readonly range: SaturationRange;
+  readonly basis: 'ordered' | 'applicable';
+}
+
+/** Everything derived once per call for one subject order; rules read it and never recompute it. */
+export interface Assessment {
+  readonly order: OxygenOrder | undefined;
+  readonly barometricPressure: BarometricPressureUsed;
+  readonly delivery: Outcome<DeliveryEstimate>;
+  readonly current: CurrentValues;
+  readonly physiology: PhysiologyResults;
+  readonly hypercapnicRisk: HypercapnicRiskDecision;
+  readonly target: ApplicableTarget;
+  readonly targetComparison: TargetComparison;
+  readonly titrationTarget: TitrationTarget | undefined;
+}

@@ -1,0 +1,151 @@
+import { describe, expect, it } from 'vitest';
+import { pickCurrentValues } from '../../../src/core/assessment/current-values.js';
+import { assessHypercapnicRisk } from '../../../src/core/assessment/hypercapnic-risk.js';
+import {
+  compareOrderedTarget,
+  selectTarget,
+  selectTitrationTarget,
+} from '../../../src/core/assessment/target-selection.js';
+import type { ApplicableTarget } from '../../../src/core/assessment/types.js';
+import type { Policy } from '../../../src/core/policy.js';
+import type { Facts, SaturationRange } from '../../../src/core/types.js';
+import { BTS, NOW, TSANZ, bloodGas, buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+
+function target(facts: Facts, policy: Policy = BTS): ApplicableTarget {
+  const risk = assessHypercapnicRisk(facts, policy, pickCurrentValues(facts, policy, NOW), NOW);
+  return selectTarget(facts, policy, risk);
+}
+
+const range = (t: ApplicableTarget): SaturationRange | string => (t.kind === 'range' ? t.range : t.condition);
+const normalGas = bloodGas({ ageMinutes: 45, ph: 7.41, paco2Kpa: 5.3, pao2Kpa: 9.1, hco3: 25 });
+
+describe('selectTarget', () => {
+  it('applies 94-98 % to an acutely ill adult with no hypercapnic risk', () => {
+    // BTS 2017, Tables 1-3
+    expect(target(buildFacts())).toMatchObject({ range: { lowPercent: 94, highPercent: 98 }, basis: 'standard' });
+  });
+
+  it('applies 92-96 % under the TSANZ preset', () => {
+    // TSANZ 2015, Respirology 20:1182
+    expect(range(target(buildFacts(), TSANZ))).toStrictEqual({ lowPercent: 92, highPercent: 96 });
+  });
+
+  it('applies 88-92 % when at risk and no gas is back yet, naming the reasons', () => {
+    // BTS 2017, Table 4
+    const result = target(buildFacts({ conditions: [condition('copd')] }));
+    expect(result).toStrictEqual({
+      kind: 'range',
+      range: { lowPercent: 88, highPercent: 92 },
+      basis: 'hypercapnic-risk',
+      reason: 'at risk of hypercapnic respiratory failure (Chronic obstructive lung disease (SNOMED CT 13645005))',
+      sourceKey: 'bts-2017',
+    });
+  });
+
+  describe('re-targeting once a gas is back', () => {
+    it('moves an at-risk patient with normal PaCO2 and no previous failure to 94-98 %', () => {
+      // BTS 2017, Tables 2-4: PaCO2 normal and no history of NIV/IMV -> 94-98 %
+      const result = target(buildFacts({ conditions: [condition('copd')], bloodGases: [normalGas] }));
+      expect(result).toMatchObject({ range: { lowPercent: 94, highPercent: 98 }, basis: 'standard-after-normal-gas' });
+    });
+
+    it.each([
+      ['previous NIV or IMV', { conditions: [condition('copd'), condition('previous-niv-or-imv')] }],
+      ['chronic hypercapnic respiratory failure', { conditions: [condition('chronic-hypercapnic-respiratory-failure')] }],
+      ['an older hypercapnic gas', {
+        conditions: [condition('copd')],
+        historicBloodGases: [bloodGas({ ageMinutes: 90 * 24 * 60, ph: 7.31, paco2Kpa: 7.6 })],
+      }],
+    ])('keeps 88-92 %% after a normal gas when there is %s', (_, parts: Partial<Facts>) => {
+      // BTS 2017, Tables 2-4; BTS 2008, Table 3: previous NIV/IMV or hypercapnic failure stays at 88-92 %
+      const result = target(buildFacts({ ...parts, bloodGases: [normalGas] }));
+      expect(result).toMatchObject({ range: { lowPercent: 88, highPercent: 92 }, basis: 'hypercapnic-risk' });
+    });
+
+    it('keeps 88-92 % when the current gas shows hypercapnia', () => {
+      // BTS 2017, Table 4 (worked case: kyphoscoliosis, PaCO2 6.7 kPa this morning)
+      const gas = bloodGas({ ageMinutes: 180, ph: 7.36, paco2Kpa: 6.7 });
+      const result = target(buildFacts({ conditions: [condition('chest-wall-deformity')], bloodGases: [gas] }));
+      expect(range(result)).toStrictEqual({ lowPercent: 88, highPercent: 92 });
+    });
+  });
+
+  describe('special situations', () => {
+    it('sets no SpO2 target in carbon monoxide poisoning, even with COPD', () => {
+      // BTS 2017, Table 1: the oximeter cannot tell COHb from oxyhaemoglobin
+      const result = target(buildFacts({ conditions: [condition('copd'), condition('carbon-monoxide-poisoning')] }));
+      expect(result).toMatchObject({ kind: 'no-spo2-target', condition: 'carbon-monoxide-poisoning', sourceKey: 'bts-2017' });
+    });
+
+    it('applies 85-88 % in paraquat poisoning and bleomycin lung injury', () => {
+      // BTS 2017, Table 3 (V2)
+      expect(range(target(buildFacts({ conditions: [condition('paraquat-poisoning')] })))).toStrictEqual({ lowPercent: 85, highPercent: 88 });
+      expect(range(target(buildFacts({ conditions: [condition('bleomycin-lung-injury'), condition('copd')] })))).toStrictEqual({ lowPercent: 85, highPercent: 88 });
+    });
+
+    it('sets no SpO2 target for pneumothorax or cluster headache without hypercapnic risk', () => {
+      // BTS 2017, Table 2 (pneumothorax: aim 100 %); BTS 2017 (cluster headache, V2)
+      expect(range(target(buildFacts({ conditions: [condition('pneumothorax')] })))).toBe('pneumothorax');
+      expect(range(target(buildFacts({ conditions: [condition('cluster-headache')] })))).toBe('cluster-headache');
+    });
+
+    it('keeps 88-92 % for pneumothorax in a patient at risk of hypercapnia', () => {
+      // Our decision (docs/clinical-basis.md): BTS 2017 Table 4 risk outranks the Table 2 aim of 100 %
+      expect(range(target(buildFacts({ conditions: [condition('pneumothorax'), condition('copd')] })))).toStrictEqual({ lowPercent: 88, highPercent: 92 });
+    });
+  });
+});
+
+describe('compareOrderedTarget', () => {
+  const at = (facts: Facts) => compareOrderedTarget(facts.orders[0], target(facts), BTS);
+  const ordered = (low: number, high: number) => [oxygenOrder({ target: { lowPercent: low, highPercent: high, readFrom: 'structured' } })];
+  const copd = [condition('copd')];
+
+  it.each<[string, Partial<Facts>, string]>([
+    ['a matching range', { orders: ordered(94, 98) }, 'matches'],
+    ['no target', { orders: [oxygenOrder({ target: undefined })] }, 'missing'],
+    ['94-98 % for an at-risk patient', { orders: ordered(94, 98), conditions: copd }, 'above-hypercapnic-range'],
+    ['90-94 % for an at-risk patient', { orders: ordered(90, 94), conditions: copd }, 'above-hypercapnic-range'],
+    ['85-90 % for an at-risk patient', { orders: ordered(85, 90), conditions: copd }, 'differs'],
+    ['88-92 % without risk', { orders: ordered(88, 92) }, 'lower-range-without-risk'],
+    ['90-94 % without risk', { orders: ordered(90, 94) }, 'differs'],
+    ['94-98 % in paraquat poisoning', { orders: ordered(94, 98), conditions: [condition('paraquat-poisoning')] }, 'toxicity-range-not-ordered'],
+    ['no target in paraquat poisoning', { orders: [oxygenOrder({ target: undefined })], conditions: [condition('paraquat-poisoning')] }, 'toxicity-range-not-ordered'],
+    ['a target in CO poisoning', { orders: ordered(94, 98), conditions: [condition('carbon-monoxide-poisoning')] }, 'no-range-applies'],
+  ])('classifies %s', (_, parts, kind) => {
+    expect(at(buildFacts(parts)).kind).toBe(kind);
+  });
+
+  describe('edge cases', () => {
+    it('reports no order when there is none', () => {
+      expect(compareOrderedTarget(undefined, target(buildFacts()), BTS)).toStrictEqual({ kind: 'no-order' });
+    });
+
+    it('treats 88-92 % as matching for an at-risk patient and as lower for a re-targeted one', () => {
+      expect(at(buildFacts({ orders: ordered(88, 92), conditions: copd })).kind).toBe('matches');
+      expect(at(buildFacts({ orders: ordered(88, 92), conditions: copd, bloodGases: [normalGas] })).kind).toBe('lower-range-without-risk');
+    });
+  });
+});
+
+describe('selectTitrationTarget', () => {
+  it('titrates to the ordered range when there is one, else the applicable range', () => {
+    const facts = buildFacts({ orders: [oxygenOrder({ target: { lowPercent: 90, highPercent: 94, readFrom: 'text' } })] });
+    expect(selectTitrationTarget(facts.orders[0], target(facts))).toStrictEqual({
+      range: { lowPercent: 90, highPercent: 94 },
+      basis: 'ordered',
+    });
+    const none = buildFacts({ orders: [oxygenOrder({ target: undefined })] });
+    expect(selectTitrationTarget(none.orders[0], target(none))).toStrictEqual({
+      range: { lowPercent: 94, highPercent: 98 },
+      basis: 'applicable',
+    });
+  });
+
+  describe('edge cases', () => {
+    it('has no titration target where no SpO2 target applies', () => {
+      const facts = buildFacts({ conditions: [condition('carbon-monoxide-poisoning')] });
+      expect(selectTitrationTarget(facts.orders[0], target(facts))).toBeUndefined();
+    });
+  });
+});
