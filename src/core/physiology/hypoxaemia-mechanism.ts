@@ -1,0 +1,179 @@
+import type { Outcome } from '../types.js';
+import {
+  ROOM_AIR_FIO2,
+  STANDARD_SEA_LEVEL_PRESSURE_MMHG,
+  WATER_VAPOUR_PRESSURE_37C_MMHG,
+} from './constants.js';
+import { checkPhysiologyInputs, roundForThreshold } from './valid-ranges.js';
+
+export interface HypoxaemiaMechanismInput {
+  readonly inspiredPo2MmHg: number;
+  readonly aaGradientMmHg: number;
+  /** The room-air norm for age (e.g. `expectedAaGradientMmHg`). */
+  readonly expectedAaGradientMmHg: number;
+  readonly paco2MmHg: number;
+  readonly hypercapniaPaco2MmHg: number;
+  readonly fio2Fraction: number;
+  readonly pao2MmHg: number;
+  /** An earlier gas on a lower FiO2, to judge the response to oxygen (same patient, same PaCO2). */
+  readonly previous?: { readonly fio2Fraction: number; readonly pao2MmHg: number };
+}
+
+export type HypoxaemiaMechanismKind =
+  | 'low-inspired-po2'
+  | 'hypoventilation'
+  | 'vq-mismatch-shunt-or-diffusion'
+  | 'shunt-likely'
+  | 'hypoventilation-plus-gradient'
+  | 'none';
+
+export interface HypoxaemiaMechanism {
+  readonly kind: HypoxaemiaMechanismKind;
+  readonly explanation: string;
+}
+
+/** Inspired PO2 of room air at sea level: 0.21 × (760 − 47) = 149.7 mmHg. */
+export const SEA_LEVEL_AIR_INSPIRED_PO2_MMHG =
+  ROOM_AIR_FIO2 * (STANDARD_SEA_LEVEL_PRESSURE_MMHG - WATER_VAPOUR_PRESSURE_37C_MMHG);
+
+/**
+ * Inspired PO2 counts as low below 90 % of the sea-level air value (134.8 mmHg; reached on air
+ * above about 820 m in the ISA). Our own threshold, chosen so that ordinary lowland sites never
+ * trigger it.
+ */
+export const LOW_INSPIRED_PO2_BELOW_MMHG = 0.9 * SEA_LEVEL_AIR_INSPIRED_PO2_MMHG;
+
+/** FiO2 up to this counts as room air (0.21 with rounding); above it the age norm does not apply. */
+export const ROOM_AIR_FIO2_AT_MOST = 0.22;
+
+/**
+ * On oxygen the normal A-a gradient widens by about 5–7 mmHg for each 0.10 rise in FiO2 (from
+ * memory). The upper figure is used so that a gradient is called raised only when clearly so.
+ */
+export const AA_ALLOWANCE_MMHG_PER_TENTH_FIO2 = 7;
+
+/**
+ * Shunt heuristic (common practice, our criterion): with true shunt, extra oxygen barely reaches
+ * the blood, so PaO2 rises by less than 20 % of the rise in alveolar PO2. On the iso-shunt diagram
+ * that corresponds roughly to a shunt of a quarter or more (from memory). Judged only when FiO2
+ * rose by at least 0.10, since smaller changes are within the error of FiO2 estimates.
+ */
+export const SHUNT_PAO2_RISE_FRACTION_BELOW = 0.2;
+export const SHUNT_MIN_FIO2_RISE = 0.1;
+
+/** A gradient below this is not measurement error: the FiO2, PaCO2 or sample must be wrong. */
+const IMPOSSIBLE_GRADIENT_BELOW_MMHG = -10;
+
+/**
+ * A hint at why oxygenation is impaired, from the classic causes of hypoxaemia:
+ * - raised A-a gradient with poor PaO2 response to more oxygen → 'shunt-likely';
+ * - raised gradient and PaCO2 at or above the hypercapnia threshold → 'hypoventilation-plus-gradient';
+ * - raised gradient → 'vq-mismatch-shunt-or-diffusion';
+ * - PaCO2 raised, gradient normal → 'hypoventilation';
+ * - inspired PO2 low (e.g. altitude), gradient and PaCO2 normal → 'low-inspired-po2';
+ * - otherwise 'none'.
+ *
+ * The age norm applies on room air only. On oxygen the gradient is compared with the norm widened
+ * by 7 mmHg per 0.10 FiO2 above air, and the explanation says the comparison is less reliable (it
+ * also depends on the FiO2 being right, which for variable-performance devices is an estimate).
+ * Unknown for missing or out-of-range inputs, or a gradient below −10 mmHg. A hint for the
+ * clinician, not a diagnosis.
+ */
+export function hypoxaemiaMechanism(
+  input: HypoxaemiaMechanismInput,
+): Outcome<HypoxaemiaMechanism> {
+  const checked = checkPhysiologyInputs({
+    inspiredPo2MmHg: input.inspiredPo2MmHg,
+    aaGradientMmHg: input.aaGradientMmHg,
+    expectedAaGradientMmHg: input.expectedAaGradientMmHg,
+    paco2MmHg: input.paco2MmHg,
+    hypercapniaPaco2MmHg: input.hypercapniaPaco2MmHg,
+    fio2Fraction: input.fio2Fraction,
+    pao2MmHg: input.pao2MmHg,
+  });
+  if (checked.kind === 'unknown') {
+    return checked;
+  }
+  if (input.previous !== undefined) {
+    const previous = checkPhysiologyInputs(input.previous);
+    if (previous.kind === 'unknown') {
+      return { kind: 'unknown', reason: `previous gas: ${previous.reason}` };
+    }
+  }
+  const { aaGradientMmHg: gradient, fio2Fraction: fio2, paco2MmHg: paco2 } = input;
+  if (gradient < IMPOSSIBLE_GRADIENT_BELOW_MMHG) {
+    return {
+      kind: 'unknown',
+      reason: `A-a gradient ${fmt(gradient)} mmHg is impossible: check the FiO2, PaCO2 and sample`,
+    };
+  }
+
+  const onAir = fio2 <= ROOM_AIR_FIO2_AT_MOST;
+  const oxygenAllowance = (AA_ALLOWANCE_MMHG_PER_TENTH_FIO2 * (fio2 - ROOM_AIR_FIO2)) / 0.1;
+  const allowance = input.expectedAaGradientMmHg + (onAir ? 0 : oxygenAllowance);
+  const gradientRaised = gradient > allowance;
+  const hypoventilation = paco2 >= input.hypercapniaPaco2MmHg;
+  const inspired = input.inspiredPo2MmHg;
+  const lowInspired = inspired < LOW_INSPIRED_PO2_BELOW_MMHG;
+
+  const gradientWords = onAir
+    ? `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg expected for age on air`
+    : `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg allowed on FiO2 ` +
+      `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
+  const paco2Words = `PaCO2 ${fmt(paco2)} mmHg`;
+  const alsoInspired = lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
+  const gasExchange = 'V/Q mismatch, shunt or diffusion limitation';
+
+  if (gradientRaised) {
+    const shunt = shuntEvidence(input);
+    if (shunt !== undefined) {
+      return ok('shunt-likely', `${gradientWords}. ${shunt}${alsoInspired}`);
+    }
+    if (hypoventilation) {
+      const words = `${paco2Words} (hypoventilation) and ${gradientWords}: hypoventilation plus`;
+      return ok('hypoventilation-plus-gradient', `${words} ${gasExchange}.${alsoInspired}`);
+    }
+    return ok('vq-mismatch-shunt-or-diffusion', `${gradientWords}: ${gasExchange}.${alsoInspired}`);
+  }
+  if (hypoventilation) {
+    const words = `${paco2Words} with ${gradientWords}: hypoventilation explains the low PaO2.`;
+    return ok('hypoventilation', `${words}${alsoInspired}`);
+  }
+  if (lowInspired) {
+    const words = `Inspired PO2 ${fmt(inspired)} mmHg is low (e.g. altitude), with ${gradientWords}`;
+    return ok('low-inspired-po2', `${words} and ${paco2Words}: the inspired gas explains the PaO2.`);
+  }
+  const words = `${gradientWords}, ${paco2Words} and inspired PO2 ${fmt(inspired)} mmHg`;
+  return ok('none', `${words}: no mechanism of hypoxaemia found.`);
+}
+
+/** The shunt sentence when the response to a rise in FiO2 meets the heuristic, else undefined. */
+function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
+  const previous = input.previous;
+  // Rounded so that 0.60 − 0.50 (0.09999999999999998 in floating point) counts as a rise of 0.10.
+  const fio2Rise =
+    previous === undefined ? 0 : roundForThreshold(input.fio2Fraction - previous.fio2Fraction);
+  if (previous === undefined || fio2Rise < SHUNT_MIN_FIO2_RISE) {
+    return undefined;
+  }
+  // PB − PH2O from the current inspired PO2; PaCO2 is taken as unchanged, so PAO2 moves with PIO2.
+  const dryPressureMmHg = input.inspiredPo2MmHg / input.fio2Fraction;
+  const alveolarRise = fio2Rise * dryPressureMmHg;
+  const arterialRise = input.pao2MmHg - previous.pao2MmHg;
+  if (arterialRise >= SHUNT_PAO2_RISE_FRACTION_BELOW * alveolarRise) {
+    return undefined;
+  }
+  return (
+    `FiO2 rose from ${previous.fio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
+    `but PaO2 changed by ${fmt(arterialRise)} mmHg, under 20 % of the ${fmt(alveolarRise)} mmHg ` +
+    'rise in alveolar PO2: a shunt is likely (a heuristic, common practice).'
+  );
+}
+
+function ok(kind: HypoxaemiaMechanismKind, explanation: string): Outcome<HypoxaemiaMechanism> {
+  return { kind: 'ok', value: { kind, explanation } };
+}
+
+function fmt(value: number): string {
+  return String(Number(value.toFixed(1)));
+}
