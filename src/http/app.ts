@@ -1,6 +1,7 @@
 import { randomUUID } from 'node:crypto';
 import express, { type Express } from 'express';
 import type { CardTemplates } from '../cds/card-templates.js';
+import { missingTemplates } from '../cds/evaluate-hook.js';
 import type { EnvConfig } from '../config/env-config.js';
 import type { Policy } from '../core/policy.js';
 import type { Logger } from '../log/logger.js';
@@ -50,6 +51,11 @@ const ROUTES = {
  * return a result that one writer sends; every error leaves through one JSON error middleware.
  */
 export function createApp(config: AppConfig, deps: AppDeps): Express {
+  // A rule without wording would fail on the first call that fires it: fail when the app is built.
+  const unworded = missingTemplates(deps.templates);
+  if (unworded.length > 0) {
+    throw new Error(`createApp: no card template for rule(s) ${unworded.join(', ')}`);
+  }
   const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
   const store = deps.feedbackStore ?? createMemoryFeedbackStore();
   const app = express();

@@ -1,10 +1,33 @@
 import request from 'supertest';
 import { describe, expect, it } from 'vitest';
 import { discoveryResponse } from '../../src/cds/services.js';
-import { orderSignRequest, PATIENT_FAMILY_NAME, PATIENT_ID, TOKEN } from './larkspur-fixtures.js';
-import { buildTestApp } from './test-app.js';
+import { createApp } from '../../src/http/app.js';
+import { allowEveryRequest } from '../../src/http/auth.js';
+import { createLogger } from '../../src/log/logger.js';
+import { expectConformant } from '../helpers/card-conformance.js';
+import { createMemoryLog } from '../log/memory-log.js';
+import { NOW, orderSignRequest, PATIENT_FAMILY_NAME, PATIENT_ID, TOKEN } from './larkspur-fixtures.js';
+import { buildTestApp, loadBundledFiles, TEST_CONFIG } from './test-app.js';
 
 const SERVICE = '/cds-services/oxygen-order-sign';
+
+describe('createApp', () => {
+  it('refuses to build when a registered rule has no card template', async () => {
+    const files = await loadBundledFiles();
+    const templates = new Map(files.templates);
+    templates.delete('spo2-below-target');
+    expect(() =>
+      createApp(TEST_CONFIG, {
+        policy: files.policy,
+        templates,
+        logger: createLogger({ level: 'silent', destination: createMemoryLog().stream }),
+        clock: () => NOW,
+        fetch: globalThis.fetch,
+        authenticate: allowEveryRequest,
+      }),
+    ).toThrow('createApp: no card template for rule(s) spo2-below-target');
+  });
+});
 
 describe('GET /cds-services', () => {
   it('answers 200 with the two services in the shape discovery requires', async () => {
@@ -169,6 +192,7 @@ describe('errors', () => {
         .set('Content-Type', 'application/fhir+json')
         .send(JSON.stringify(orderSignRequest()));
       expect(response.status).toBe(200);
+      expectConformant(response.body);
     });
 
     it('sends no X-Powered-By header', async () => {

@@ -1,0 +1,106 @@
+import type { Server } from 'node:http';
+import { pathToFileURL } from 'node:url';
+import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
+import { formatLoadProblems, loadPolicyAndCards } from './config/load-files.js';
+import { allowEveryRequest } from './http/auth.js';
+import { createApp } from './http/app.js';
+import { createLogger, type Logger } from './log/logger.js';
+
+/**
+ * The process entry point: read the environment, load the policy and card templates (refusing to
+ * start, with every problem listed, when any is wrong), build the app, listen, and close cleanly on
+ * SIGTERM or SIGINT. Problems go to stderr as plain lines, since the logger's level may hide them.
+ */
+
+export const DEMO_MODE_NOTICE =
+  'authentication off, loopback demo mode; not for clinical use without the production trust configuration';
+
+export interface StartedServer {
+  readonly server: Server;
+  readonly url: string;
+  readonly close: () => Promise<void>;
+}
+
+/** Milliseconds a request in flight may take to finish after SIGTERM before its connection is cut. */
+const SHUTDOWN_GRACE_MS = 10_000;
+
+function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<Server> {
+  return new Promise((resolve, reject) => {
+    const server = app.listen(config.port, config.host);
+    server.once('listening', () => resolve(server));
+    server.once('error', reject);
+  });
+}
+
+/** Starts the service, or returns the problems that stop it. Used by `main` and by tests. */
+export async function startServer(
+  env: Readonly<Record<string, string | undefined>>,
+  cwd: string,
+  logger?: Logger,
+): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
+  const parsedEnv = parseEnvConfig(env, cwd);
+  if (parsedEnv.kind === 'invalid') {
+    return { kind: 'refused', problems: formatEnvProblems(parsedEnv.problems) };
+  }
+  const config = parsedEnv.config;
+  const files = await loadPolicyAndCards(config);
+  if (files.kind === 'invalid') {
+    return { kind: 'refused', problems: formatLoadProblems(files.problems) };
+  }
+  const log = logger ?? createLogger({ level: config.logLevel });
+  const app = createApp(config, {
+    policy: files.policy,
+    templates: files.templates,
+    logger: log,
+    clock: () => new Date(),
+    fetch: globalThis.fetch,
+    authenticate: allowEveryRequest,
+  });
+  const server = await listen(app, config);
+  const address = server.address();
+  const port = typeof address === 'object' && address !== null ? address.port : config.port;
+  const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;
+  log.info(
+    { url, policyId: files.policy.id, policyVersion: files.policy.version, cardTemplates: files.templates.size },
+    `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`,
+  );
+  const close = (): Promise<void> =>
+    new Promise((resolve) => {
+      const force = setTimeout(() => server.closeAllConnections(), SHUTDOWN_GRACE_MS);
+      force.unref();
+      server.close(() => {
+        clearTimeout(force);
+        log.info({}, 'oxygen-order-checker stopped');
+        resolve();
+      });
+      server.closeIdleConnections();
+    });
+  return { kind: 'started', started: { server, url, close } };
+}
+
+async function main(): Promise<void> {
+  const result = await startServer(process.env, process.cwd());
+  if (result.kind === 'refused') {
+    process.stderr.write(`oxygen-order-checker refused to start:\n${result.problems}\n`);
+    process.exitCode = 1;
+    return;
+  }
+  const { close } = result.started;
+  const stop = (): void => {
+    void close().then(() => {
+      process.exitCode = 0;
+    });
+  };
+  process.once('SIGTERM', stop);
+  process.once('SIGINT', stop);
+}
+
+/** Run only as the entry point (`node dist/server.js`), not when a test imports startServer. */
+const entry = process.argv[1];
+if (entry !== undefined && import.meta.url === pathToFileURL(entry).href) {
+  main().catch((error: unknown) => {
+    const reason = error instanceof Error ? error.message : String(error);
+    process.stderr.write(`oxygen-order-checker failed to start: ${reason}\n`);
+    process.exitCode = 1;
+  });
+}
