@@ -123,8 +123,9 @@ export const CDS_SERVICES: readonly CdsServiceDefinition[] = [
     hook: 'order-select',
     title: 'Oxygen order check at selection',
     description:
-      'Quick checks when an oxygen order is picked from the catalogue: whether the default target SpO2 ' +
-      'range suits this patient. The full check runs again at signing.',
+      'Quick, order-level checks when an oxygen order is picked from the catalogue: whether its target ' +
+      'SpO2 range suits this patient, whether the device and flow fit together, and whether oxygen is ' +
+      'already ordered. The full check runs again at signing.',
     usageRequirements: USAGE,
     prefetch: PREFETCH,
   },

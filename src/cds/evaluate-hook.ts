@@ -1,0 +1,94 @@
+import { evaluateOrder } from '../core/engine.js';
+import type { Policy } from '../core/policy.js';
+import { RULES } from '../core/rules/index.js';
+import { extractFacts } from '../fhir/extract-facts.js';
+import { findDraftResource } from '../fhir/find-order-resource.js';
+import type { GatheredData } from '../fhir/gathered-data.js';
+import { buildCardReport } from './build-card.js';
+import type { CardTemplates } from './card-templates.js';
+import { OrderSelectContextSchema, OrderSignContextSchema, type CdsRequest, type CdsResponse } from './schemas.js';
+import { findService } from './services.js';
+
+/**
+ * The pure path from a validated hook call to its response, shared by the http layer and the CLI:
+ * read the facts, run the rules, build one card per finding in the engine's order. The caller
+ * validates first (`parseHookRequest`) and gathers the prefetch or FHIR data; anything left wrong
+ * here is a programmer error and throws.
+ */
+export interface HookEvaluation {
+  readonly response: CdsResponse;
+  /** Rule ids that produced cards, in card order, each once: for the request's log line. */
+  readonly ruleIds: readonly string[];
+  readonly policyId: string;
+  readonly policyVersion: string;
+  /** Template or policy slips found while building cards (no patient data): log them as warnings. */
+  readonly problems: readonly string[];
+}
+
+export function evaluateHook(
+  input: { readonly serviceId: string; readonly request: CdsRequest; readonly data: GatheredData },
+  deps: { readonly policy: Policy; readonly templates: CardTemplates; readonly now: Date },
+): HookEvaluation {
+  const service = findService(input.serviceId);
+  if (service === undefined) {
+    throw new Error(`evaluateHook: unknown service '${input.serviceId}' (answer 404 before calling)`);
+  }
+  const hook = service.hook;
+  if (input.request.hook !== hook) {
+    throw new Error(`evaluateHook: service '${service.id}' answers ${hook}, not the request's hook`);
+  }
+  const parsed =
+    hook === 'order-select'
+      ? OrderSelectContextSchema.safeParse(input.request.context)
+      : OrderSignContextSchema.safeParse(input.request.context);
+  if (!parsed.success) {
+    throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
+  }
+  const draftOrders = parsed.data.draftOrders;
+  const selections = 'selections' in parsed.data ? (parsed.data.selections as readonly string[]) : undefined;
+
+  const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
+  const { assessment, assessments, findings } = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
+  // A draft may hold two subject orders; each card shows the inputs of its own order's assessment.
+  const assessmentFor = (reference: string | undefined) =>
+    assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??
+    assessment;
+
+  const seen = new Map<string, number>();
+  const problems: string[] = [];
+  const cards = findings.map((finding) => {
+    const template = deps.templates.get(finding.ruleId);
+    if (template === undefined) {
+      throw new Error(`evaluateHook: no card template for rule '${finding.ruleId}' (check missingTemplates at start-up)`);
+    }
+    const key = `${finding.ruleId}\n${finding.orderReference ?? ''}`;
+    const occurrence = seen.get(key) ?? 0;
+    seen.set(key, occurrence + 1);
+    const report = buildCardReport(finding, {
+      template,
+      policy: deps.policy,
+      hookInstance: input.request.hookInstance,
+      draftResource:
+        finding.orderReference === undefined ? undefined : findDraftResource(draftOrders, finding.orderReference),
+      facts,
+      assessment: assessmentFor(finding.orderReference),
+      now: deps.now,
+      occurrence,
+    });
+    problems.push(...report.problems);
+    return report.card;
+  });
+
+  return {
+    response: { cards },
+    ruleIds: [...new Set(findings.map((finding) => finding.ruleId))],
+    policyId: deps.policy.id,
+    policyVersion: deps.policy.version,
+    problems,
+  };
+}
+
+/** Rule ids in the registry with no card template; the http layer refuses to start if any. */
+export function missingTemplates(templates: CardTemplates): string[] {
+  return RULES.map((rule) => rule.id).filter((id) => !templates.has(id));
+}
