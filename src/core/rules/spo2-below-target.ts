@@ -1,0 +1,84 @@
+import { formatFlow, formatPercent, formatRange } from '../assessment/format.js';
+import { DEVICE_MODELS } from '../devices/index.js';
+import type { DeviceKind, Finding, OrderChange } from '../types.js';
+import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/** Devices at or near the top of ward oxygen delivery: escalating beyond them needs a senior decision. */
+const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
+
+/**
+ * The current SpO2 is below the lower bound of the range being titrated to.
+ *
+ * Rationale: a reading below target calls for clinical review (BTS 2017: a fall below the target
+ * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
+ * (BTS 2017 Table 2: below 85 % start a reservoir mask at 15 L/min), more than
+ * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient is already on
+ * a reservoir mask, high-flow or NIV. A reading taken on air, before this order starts oxygen, is
+ * reported only when critical: the order itself is the response. Where no SpO2 target applies
+ * (carbon monoxide, pneumothorax, cluster headache) only the critical threshold is checked. Suggests
+ * a reservoir mask at the device's top flow when SpO2 is below the critical threshold, the patient is
+ * not at risk of hypercapnia and the device is not already one of the above.
+ * Source: BTS 2017 Table 2; the points-below threshold is a local choice.
+ */
+export const rule: Rule = {
+  id: 'spo2-below-target',
+  title: 'SpO2 below the target range',
+  version: 1,
+  hooks: ['order-sign'],
+  defaultIndicator: 'warning',
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
+    const { order, titrationTarget, current, hypercapnicRisk } = assessment;
+    const spo2 = current.spo2;
+    if (order === undefined || spo2 === undefined) {
+      return [];
+    }
+    const { criticalSpo2BelowPercent, criticalPointsBelowTarget } = policy.thresholds;
+    const belowCriticalLevel = spo2.value < criticalSpo2BelowPercent;
+    const lowBound = titrationTarget?.range.lowPercent;
+    if (lowBound === undefined ? !belowCriticalLevel : spo2.value >= lowBound) {
+      return [];
+    }
+    const farBelow = lowBound !== undefined && lowBound - spo2.value > criticalPointsBelowTarget;
+    const onTopDevice = [order, ...facts.activeOrders].some(
+      (o) => o.device !== undefined && TOP_OF_WARD_DEVICES.includes(o.device),
+    );
+    const critical = belowCriticalLevel || farBelow || onTopDevice;
+    if (!critical && readOnOxygen(assessment, facts) === false) {
+      return [];
+    }
+    const reservoir = DEVICE_MODELS['reservoir-mask'];
+    const change: OrderChange | undefined =
+      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice
+        ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
+        : undefined;
+    const because = [
+      belowCriticalLevel ? `below ${formatPercent(criticalSpo2BelowPercent)}` : undefined,
+      farBelow ? `more than ${criticalPointsBelowTarget} points below the target` : undefined,
+      onTopDevice ? 'already on a reservoir mask, high-flow or NIV' : undefined,
+    ].filter((part): part is string => part !== undefined);
+    return [
+      makeFinding(rule, {
+        indicator: critical ? 'critical' : rule.defaultIndicator,
+        orderReference: order.reference,
+        values: {
+          orderDescription: describeOrder(order),
+          spo2: describeMeasured(spo2, now, '%'),
+          comparedWith:
+            titrationTarget === undefined
+              ? `the ${formatPercent(criticalSpo2BelowPercent)} alert level (no SpO2 target applies)`
+              : `the target ${formatRange(titrationTarget.range)}`,
+          criticalLevel: formatPercent(criticalSpo2BelowPercent),
+          reservoirFlow: formatFlow(reservoir.flowRangeLPerMin.max),
+          urgency: because.length === 0 ? 'below the target range' : because.join('; '),
+          ...(change?.kind === 'set-device'
+            ? { suggestedDevice: `${reservoir.label} at ${formatFlow(change.flowLPerMin)}` }
+            : {}),
+        },
+        sourceKeys: ['bts-2017', 'local-policy'],
+        ...(change === undefined ? {} : { change }),
+      }),
+    ];
+  },
+};

@@ -1,0 +1,51 @@
+import { readFileSync } from 'node:fs';
+import { expect } from 'vitest';
+import {
+  parseCardTemplate,
+  placeholderNames,
+  renderTemplate,
+  type CardTemplate,
+} from '../../../src/cds/card-templates.js';
+import type { Finding } from '../../../src/core/types.js';
+import { BTS } from '../facts-builder.js';
+
+/** CDS Hooks 2.0: a card summary is fewer than 140 characters. */
+export const SUMMARY_LIMIT = 140;
+
+/** Reads and parses `cards/<ruleId>.yaml` with the card layer's own schema. */
+export function loadCardTemplate(ruleId: string): CardTemplate {
+  const text = readFileSync(new URL(`../../../cards/${ruleId}.yaml`, import.meta.url), 'utf8');
+  const parsed = parseCardTemplate(text);
+  if (parsed.kind !== 'ok') {
+    throw new Error(`cards/${ruleId}.yaml is invalid: ${JSON.stringify(parsed.problems)}`);
+  }
+  return parsed.template;
+}
+
+/**
+ * Checks that a finding renders with its rule's card template: every placeholder of the summary and
+ * detail (and of the suggestion label when the finding carries a change) is among its values, the
+ * summary stays under the CDS Hooks limit, and every source key is in the bundled policy's
+ * references. Returns the rendered texts for further assertions.
+ */
+export function expectCardRenders(finding: Finding): { summary: string; detail: string; label: string | undefined } {
+  const template = loadCardTemplate(finding.ruleId);
+  const provided = Object.keys(finding.values);
+  const needed = [...placeholderNames(template.summary), ...placeholderNames(template.detail)];
+  if (finding.change !== undefined) {
+    expect(template.suggestionLabel, `${finding.ruleId} makes a change but has no suggestionLabel`).toBeTypeOf('string');
+    needed.push(...placeholderNames(template.suggestionLabel ?? ''));
+  }
+  expect(needed.filter((name) => !provided.includes(name))).toStrictEqual([]);
+  const summary = renderTemplate(template.summary, finding.values, 'plain');
+  const detail = renderTemplate(template.detail, finding.values, 'markdown');
+  expect([...summary.missing, ...detail.missing]).toStrictEqual([]);
+  expect(summary.text.length).toBeLessThan(SUMMARY_LIMIT);
+  const keys = [...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)];
+  expect(keys.filter((key) => BTS.references[key] === undefined)).toStrictEqual([]);
+  const label =
+    finding.change === undefined || template.suggestionLabel === undefined
+      ? undefined
+      : renderTemplate(template.suggestionLabel, finding.values, 'plain').text;
+  return { summary: summary.text, detail: detail.text, label };
+}

@@ -1,0 +1,64 @@
+import { describe, expect, it } from 'vitest';
+import { rule } from '../../../src/core/rules/flow-outside-device-range.js';
+import type { DeviceKind } from '../../../src/core/types.js';
+import { buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { expectCardRenders } from './card-check.js';
+import { onlyFinding, runRule } from './run-rule.js';
+
+const order = (device: DeviceKind, flowLPerMin: number) => [oxygenOrder({ device, flowLPerMin })];
+
+describe('flow-outside-device-range', () => {
+  it('runs on both hooks as a warning', () => {
+    expect(rule.hooks).toStrictEqual(['order-select', 'order-sign']);
+    expect(rule.defaultIndicator).toBe('warning');
+  });
+
+  it('suggests 5 L/min for a simple face mask at 3 L/min', () => {
+    // BTS 2017, Table 2: simple face mask 5-10 L/min; Jensen 1991: rebreathing below 5 L/min
+    const finding = onlyFinding(runRule(rule, buildFacts({ orders: order('simple-face-mask', 3) })));
+    expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 5 });
+    expect(finding.sourceKeys).toStrictEqual(['bts-2017', 'jensen-1991']);
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Flow 3 L/min is below the usual 5–10 L/min for this device (Simple face mask)');
+    expect(card.label).toBe('Set flow to 5 L/min');
+  });
+
+  it.each<[DeviceKind, number, boolean]>([
+    ['nasal-cannula', 6, false], // BTS 2017, Tables 2 and 4: 1-6 L/min
+    ['nasal-cannula', 7, true],
+    ['nasal-cannula', 0.5, true],
+    ['simple-face-mask', 5, false], // BTS 2017, Table 2: 5-10 L/min
+    ['simple-face-mask', 10, false],
+    ['simple-face-mask', 12, true],
+    ['reservoir-mask', 15, false], // BTS 2017, Table 2: 15 L/min
+  ])('%s at %s L/min is outside its range: %s', (device, flow, fires) => {
+    const findings = runRule(rule, buildFacts({ orders: order(device, flow) }));
+    expect(findings.length).toBe(fires ? 1 : 0);
+    findings.forEach((f) => expectCardRenders(f));
+  });
+
+  it('offers no change above the range, where lowering the flow would lower the oxygen', () => {
+    const finding = onlyFinding(runRule(rule, buildFacts({ orders: order('nasal-cannula', 8) })));
+    expect(finding.values.direction).toBe('above');
+    expect(finding.change).toBeUndefined();
+  });
+
+  describe('edge cases', () => {
+    it('does not raise a mask flow for a patient at risk of hypercapnia', () => {
+      const facts = buildFacts({ orders: order('simple-face-mask', 3), conditions: [condition('copd')] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
+    it('still raises a nasal cannula below 1 L/min in an at-risk patient', () => {
+      const facts = buildFacts({ orders: order('nasal-cannula', 0.5), conditions: [condition('copd')] });
+      expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 1 });
+    });
+
+    it('leaves Venturi flows to venturi-flow-insufficient and ignores orders without a flow', () => {
+      expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 1 })] }))).toStrictEqual([]);
+      expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ flowLPerMin: undefined })] }))).toStrictEqual([]);
+    });
+  });
+});

@@ -1,0 +1,92 @@
+import { describe, expect, it } from 'vitest';
+import { rule } from '../../../src/core/rules/spo2-above-target.js';
+import { activeOrder, buildFacts, condition, fio2, o2Flow, oxygenOrder, spo2 } from '../facts-builder.js';
+import { expectCardRenders } from './card-check.js';
+import { onlyFinding, runRule } from './run-rule.js';
+
+const atRiskOrder = [oxygenOrder({ flowLPerMin: 2, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })];
+
+describe('spo2-above-target', () => {
+  it('runs on order-sign as information by default', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign']);
+    expect(rule.defaultIndicator).toBe('info');
+  });
+
+  it('suggests one litre less on a nasal cannula when SpO2 is above 98 % on oxygen', () => {
+    // BTS 2017: reduce oxygen when above the target range (94-98 %, Tables 1-3); BMJ 2018: SpO2 <= 96 %
+    const facts = buildFacts({
+      orders: [oxygenOrder({ flowLPerMin: 3 })],
+      spo2Percent: [spo2(99, 15)],
+      o2FlowLPerMin: [o2Flow(3, 15)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('info');
+    expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+    expect(finding.sourceKeys).toStrictEqual(['bts-2017', 'bmj-2018']);
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('SpO2 99 % (15 min ago) is above the target 94–98 % on oxygen: consider stepping down');
+    expect(card.label).toBe('Reduce flow to 2 L/min');
+  });
+
+  it('warns for an at-risk patient above 92 %', () => {
+    // BTS 2017, Table 4 (88-92 %); Echevarria 2021: SpO2 > 92 % linked with higher COPD mortality
+    const facts = buildFacts({ orders: atRiskOrder, conditions: [condition('copd')], spo2Percent: [spo2(95)], fio2Fraction: [fio2(0.28)] });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('warning');
+    expect(finding.values.targetRange).toBe('88–92 %');
+    expectCardRenders(finding);
+  });
+
+  it.each([
+    [92, false], // at the upper bound of 88-92 %: in range (BTS 2017, Table 4)
+    [93, true], // one point above: above the range
+  ])('treats SpO2 %s %% against 88-92 %% as above: %s', (value, fires) => {
+    const facts = buildFacts({ orders: atRiskOrder, conditions: [condition('copd')], spo2Percent: [spo2(value)], fio2Fraction: [fio2(0.28)] });
+    expect(runRule(rule, facts).length).toBe(fires ? 1 : 0);
+  });
+
+  it('does not fire for a reading taken on air', () => {
+    const facts = buildFacts({ spo2Percent: [spo2(99)], fio2Fraction: [fio2(0.21)] });
+    expect(runRule(rule, facts)).toStrictEqual([]);
+  });
+
+  describe('edge cases', () => {
+    it('does not fire for a new order when nothing shows the patient was on oxygen', () => {
+      // A high SpO2 before the first oxygen order says nothing about titration.
+      expect(runRule(rule, buildFacts({ spo2Percent: [spo2(99)] }))).toStrictEqual([]);
+    });
+
+    it('assumes oxygen when an oxygen order is already active on record', () => {
+      const facts = buildFacts({ spo2Percent: [spo2(99)], activeOrders: [activeOrder()] });
+      expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 1 });
+    });
+
+    it('offers no step below the nasal cannula minimum of 1 L/min', () => {
+      // BTS 2017, Tables 2 and 4: nasal cannula 1-6 L/min
+      const facts = buildFacts({ orders: [oxygenOrder({ flowLPerMin: 1 })], spo2Percent: [spo2(99)], o2FlowLPerMin: [o2Flow(1)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.suggestedFlow).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
+    it('offers no step for devices whose next step is not a flow change', () => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
+        spo2Percent: [spo2(96)],
+        fio2Fraction: [fio2(0.28)],
+      });
+      expect(onlyFinding(runRule(rule, facts)).change).toBeUndefined();
+    });
+
+    it('does not step down further when the order already lowers the running flow', () => {
+      const facts = buildFacts({ orders: [oxygenOrder({ flowLPerMin: 2 })], spo2Percent: [spo2(99)], o2FlowLPerMin: [o2Flow(4)] });
+      expect(onlyFinding(runRule(rule, facts)).change).toBeUndefined();
+    });
+
+    it('stays quiet where no SpO2 target applies', () => {
+      const facts = buildFacts({ conditions: [condition('carbon-monoxide-poisoning')], spo2Percent: [spo2(100)], activeOrders: [activeOrder()] });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+  });
+});

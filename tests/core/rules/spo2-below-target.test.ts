@@ -1,0 +1,84 @@
+import { describe, expect, it } from 'vitest';
+import { rule } from '../../../src/core/rules/spo2-below-target.js';
+import { BTS, activeOrder, buildFacts, condition, fio2, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
+import { expectCardRenders } from './card-check.js';
+import { onlyFinding, runRule } from './run-rule.js';
+
+const onOxygen = { activeOrders: [activeOrder()] };
+
+describe('spo2-below-target', () => {
+  it('runs on order-sign as a warning by default', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign']);
+    expect(rule.defaultIndicator).toBe('warning');
+  });
+
+  it('asks for review when SpO2 is below 94 % on oxygen', () => {
+    // BTS 2017: a fall below the target range prompts reassessment (94-98 %, Tables 1-3)
+    const finding = onlyFinding(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(92)] })));
+    expect(finding.indicator).toBe('warning');
+    expect(finding.values.urgency).toBe('below the target range');
+    expect(finding.change).toBeUndefined();
+    expect(expectCardRenders(finding).summary).toBe('SpO2 92 % (10 min ago) is below the target 94–98 %: review the patient');
+  });
+
+  it.each([
+    // Policy thresholds: criticalSpo2BelowPercent 85 (BTS 2017, Table 2); criticalPointsBelowTarget 4 (local choice)
+    [90, 'warning'], // 4 points below 94: not more than 4
+    [89, 'critical'], // 5 points below 94
+    [85, 'critical'], // more than 4 below; not below 85 itself
+    [84, 'critical'], // below 85 % (BTS 2017, Table 2)
+  ])('grades SpO2 %s %% against 94-98 %% as %s', (value, indicator) => {
+    expect(BTS.thresholds.criticalSpo2BelowPercent).toBe(85);
+    expect(BTS.thresholds.criticalPointsBelowTarget).toBe(4);
+    const finding = onlyFinding(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(value)] })));
+    expect(finding.indicator).toBe(indicator);
+    expectCardRenders(finding);
+  });
+
+  it('suggests a reservoir mask at 15 L/min below 85 % when not at risk of hypercapnia', () => {
+    // BTS 2017, Table 2: SpO2 < 85 % -> reservoir mask at 15 L/min
+    const finding = onlyFinding(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(82)] })));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 15 });
+    expect(expectCardRenders(finding).label).toBe('Change to Reservoir mask at 15 L/min');
+  });
+
+  it('does not suggest a reservoir mask for a patient at risk of hypercapnia', () => {
+    // BTS 2017, Table 4: controlled oxygen in at-risk patients
+    const facts = buildFacts({ ...onOxygen, conditions: [condition('copd')], spo2Percent: [spo2(82)] });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('critical');
+    expect(finding.change).toBeUndefined();
+  });
+
+  it('does not fire within the target range', () => {
+    expect(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(94)] }))).toStrictEqual([]);
+  });
+
+  describe('edge cases', () => {
+    it('is critical when already on a reservoir mask', () => {
+      const facts = buildFacts({ orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })], spo2Percent: [spo2(92)], fio2Fraction: [fio2(0.7)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe('critical');
+      expect(finding.values.urgency).toBe('already on a reservoir mask, high-flow or NIV');
+      expect(finding.change).toBeUndefined();
+    });
+
+    it('reports a reading taken on air before oxygen starts only when critical', () => {
+      expect(runRule(rule, buildFacts({ spo2Percent: [spo2(91)], fio2Fraction: [fio2(0.21)] }))).toStrictEqual([]);
+      expect(onlyFinding(runRule(rule, buildFacts({ spo2Percent: [spo2(83)], fio2Fraction: [fio2(0.21)] }))).indicator).toBe('critical');
+    });
+
+    it('checks only the 85 % level where no SpO2 target applies', () => {
+      const pneumothorax = { conditions: [condition('pneumothorax')], ...onOxygen };
+      expect(runRule(rule, buildFacts({ ...pneumothorax, spo2Percent: [spo2(90)] }))).toStrictEqual([]);
+      const finding = onlyFinding(runRule(rule, buildFacts({ ...pneumothorax, spo2Percent: [spo2(84)] })));
+      expect(finding.values.comparedWith).toBe('the 85 % alert level (no SpO2 target applies)');
+      expectCardRenders(finding);
+    });
+
+    it('follows a hospital that changes the critical level', () => {
+      const policy = withPolicy(BTS, { thresholds: { ...BTS.thresholds, criticalPointsBelowTarget: 2 } });
+      expect(onlyFinding(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(91)] }), { policy })).indicator).toBe('critical');
+    });
+  });
+});
