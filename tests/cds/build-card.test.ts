@@ -186,6 +186,7 @@ describe('buildCard', () => {
       expect(report.problems).toStrictEqual([
         'target-above-hypercapnic-range: change offered but its order is not in draftOrders; suggestion left out',
       ]);
+      expectConformant({ cards: [report.card] });
     });
 
     it('reports placeholders without values and source keys the policy lacks', () => {
@@ -204,6 +205,7 @@ describe('buildCard', () => {
       const bare = buildCard({ ...finding, computations: [] }, { ...ctx, facts: { ...facts, setAside: [] } });
       expect(section(bare.detail ?? '', 'Calculation')).toStrictEqual(['- No calculation was needed for this advice.']);
       expect(section(bare.detail ?? '', 'Set aside')).toStrictEqual(['- Nothing was set aside.']);
+      expectConformant({ cards: [bare] });
     });
 
     it('shortens a long rendered summary at a word boundary with an ellipsis', () => {
@@ -214,6 +216,7 @@ describe('buildCard', () => {
       // CDS Hooks 2.0 #card-attributes: summary fewer than 140 characters
       expect(long.summary.length).toBeLessThan(140);
       expect(long.summary).toBe(`${'Oxygen target review needed '.repeat(4)}Oxygen target review…`);
+      expectConformant({ cards: [long] });
     });
   });
 });

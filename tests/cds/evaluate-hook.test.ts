@@ -122,6 +122,53 @@ describe('evaluateHook', () => {
     });
   });
 
+  describe('draft bundles as clients send them (cds-hooks.md §12 items 5 and 6)', () => {
+    const otherRequests = [
+      { resourceType: 'NutritionOrder', id: 'lb-no-0064', status: 'draft', intent: 'order', patient: { reference: 'Patient/lb-pt-0064' }, dateTime: '2025-03-14T09:40:00Z' },
+      { resourceType: 'VisionPrescription', id: 'lb-vp-0064', status: 'draft' },
+    ];
+
+    it('ignores request types it does not handle and a re-signed order that is not draft', () => {
+      // Hook Library STU1 order-sign: re-signed orders are not draft; the type list is not comprehensive
+      const resigned = { ...standardOrder, status: 'active' };
+      const result = run('oxygen-order-sign', orderSignRequest(resigned, otherRequests));
+      expect(result.ruleIds).toContain('target-above-hypercapnic-range');
+      expect(result.response.cards.map((card) => card.suggestions?.[0]?.actions?.[0]?.resource?.['id']).filter(Boolean)).toStrictEqual([
+        'lb-o2-0064',
+      ]);
+      expectConformant(result.response);
+    });
+
+    it('advises on the selected order only, using the other drafts as context', () => {
+      // Hook Library STU1 order-select: guidance focuses on the selections
+      const second = { ...draftOxygenOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%'), id: 'lb-o2-0065' };
+      const request = orderSelectRequest(second);
+      const bundle = request.context['draftOrders'] as { entry: { resource: unknown }[] };
+      bundle.entry.push({ resource: standardOrder });
+      const result = run('oxygen-order-select', request);
+      const target = result.response.cards.find((card) => card.source.topic?.code === 'target-above-hypercapnic-range');
+      expect(target?.suggestions?.[0]?.actions?.[0]?.resource?.['id']).toBe('lb-o2-0065');
+      expect(target?.detail).toContain('(ServiceRequest/lb-o2-0065)');
+      expectConformant(result.response);
+    });
+
+    it('gives each of two oxygen orders signed together its own card and its own update', () => {
+      const second = { ...draftOxygenOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%'), id: 'lb-o2-0065' };
+      const result = run('oxygen-order-sign', orderSignRequest(standardOrder, [second]));
+      const targets = result.response.cards.filter((card) => card.source.topic?.code === 'target-above-hypercapnic-range');
+      expect(targets.map((card) => card.suggestions?.[0]?.actions?.[0]?.resource?.['id']).sort()).toStrictEqual([
+        'lb-o2-0064',
+        'lb-o2-0065',
+      ]);
+      // each card lists the inputs of its own order
+      for (const card of targets) {
+        const id = String(card.suggestions?.[0]?.actions?.[0]?.resource?.['id']);
+        expect(card.detail).toContain(`Order under check: Nasal cannula, ${id === 'lb-o2-0064' ? '3' : '2'} L/min`);
+      }
+      expectConformant(result.response);
+    });
+  });
+
   describe('edge cases', () => {
     it('returns {"cards": []} when the draft holds no oxygen order and no rule applies', () => {
       const notOxygen = { resourceType: 'NutritionOrder', id: 'lb-no-0064', status: 'draft', intent: 'order', patient: { reference: 'Patient/lb-pt-0064' }, dateTime: '2025-03-14T09:40:00Z' };
