@@ -273,9 +273,37 @@ describe('createGatherer', () => {
       expect(outcome.kind === 'gathered' && outcome.data.observations).toStrictEqual([spo2]);
     });
 
+    it("refuses a prefetched Patient that is another patient's and reads the right one", async () => {
+      const stranger = { ...patient, id: 'lb-pt-0999' };
+      const outcome = await gather(withServer({ ...fullPrefetch, patient: stranger }), templates);
+      // Wrong-patient data is a safety hazard (docs/safety.md); the read replaces it.
+      expect(outcome.kind === 'gathered' && outcome.data.patient).toStrictEqual(patient);
+      expect(fhir.requests.map((r) => r.url)).toStrictEqual([expectedPath('patient')]);
+    });
+
+    it("answers 412 when observations include another patient's and there is no server to ask", async () => {
+      const theirs = { ...spo2, id: 'lb-obs-other', subject: { reference: 'Patient/lb-pt-0999' } };
+      const prefetch = { ...fullPrefetch, observations: searchset([spo2, theirs]) };
+      const outcome = await gather({ context, prefetch }, templates);
+      expect(outcome.kind === 'unavailable' && outcome.unavailable).toStrictEqual([
+        {
+          key: 'observations',
+          reason:
+            "was unusable: it holds another patient's data, and the request gave no FHIR server access (fhirServer with fhirAuthorization)",
+        },
+      ]);
+    });
+
+    it('reads a patient key holding no Patient as unusable', async () => {
+      const outcome = await gather({ context, prefetch: { ...fullPrefetch, patient: copd } }, templates);
+      expect(outcome.kind === 'unavailable' && outcome.unavailable.map((u) => u.reason)).toStrictEqual([
+        'was unusable: it holds no Patient, and the request gave no FHIR server access (fhirServer with fhirAuthorization)',
+      ]);
+    });
+
     it('reads a 404 on a read as found-nothing', async () => {
       const other = { ...context, patientId: 'lb-pt-9999' };
-      const { patient: _dropped, ...prefetch } = fullPrefetch;
+      const prefetch = { observations: null, conditions: null, encounter: null, medicationRequests: null, serviceRequests: null };
       const outcome = await gather({ ...withServer(prefetch), context: other }, templates);
       expect(outcome.kind === 'gathered' && outcome.data.patient).toBeUndefined();
       expect(outcome.kind === 'gathered' && outcome.fallback.keysFetched).toStrictEqual(['patient']);

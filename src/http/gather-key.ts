@@ -1,0 +1,206 @@
+import { expandPrefetchTemplate, type PrefetchKey } from '../cds/services.js';
+import type { FhirFallbackLimits } from '../config/env-config.js';
+import type { FhirResource } from '../fhir/gathered-data.js';
+import {
+  getFhirJson,
+  isUnderServer,
+  resolveUnderServer,
+  type FetchFailure,
+  type FhirFetchOutcome,
+} from './fhir-client.js';
+import { readPrefetchKey, readPrefetchValue, type PrefetchReading } from './read-prefetch.js';
+import { belongsToPatient } from './same-patient.js';
+
+/**
+ * One prefetch key: what the client sent (CDS Hooks 2.0 §Prefetch Template's five cases), pages
+ * still to follow, and the FHIR read that replaces an absent or unusable value.
+ */
+
+/** The parts of a validated hook request this step reads. */
+export interface GatherRequest {
+  readonly fhirServer?: string | undefined;
+  readonly fhirAuthorization?: { readonly access_token: string } | undefined;
+  readonly prefetch?: Readonly<Record<string, unknown>> | undefined;
+  readonly context: Readonly<Record<string, unknown>>;
+}
+
+export type Field = 'patient' | 'encounter' | 'observations' | 'conditions' | 'activeOrders';
+
+/** Where each key's resources go, and the one resource type kept from it. */
+export const DESTINATION: Readonly<Record<PrefetchKey, { field: Field; resourceType: string }>> = {
+  patient: { field: 'patient', resourceType: 'Patient' },
+  encounter: { field: 'encounter', resourceType: 'Encounter' },
+  observations: { field: 'observations', resourceType: 'Observation' },
+  conditions: { field: 'conditions', resourceType: 'Condition' },
+  medicationRequests: { field: 'activeOrders', resourceType: 'MedicationRequest' },
+  serviceRequests: { field: 'activeOrders', resourceType: 'ServiceRequest' },
+};
+
+export type KeyResult =
+  | {
+      readonly kind: 'had';
+      readonly resources: readonly FhirResource[];
+      readonly fetched: boolean;
+      /** More pages existed than could be followed; the pages had are used. */
+      readonly incomplete: boolean;
+    }
+  | { readonly kind: 'not-applicable' }
+  | { readonly kind: 'unobtainable'; readonly reason: string; readonly fetched: boolean };
+
+const FAILURE_TEXT: Readonly<Record<FetchFailure, string>> = {
+  timeout: 'the FHIR server did not answer in time',
+  network: 'the FHIR server could not be reached',
+  redirect: 'the FHIR server answered with a redirect, which is not followed',
+  'http-status': 'the FHIR server answered with an error status',
+  'too-large': 'the FHIR server response was larger than the size limit',
+  'invalid-json': 'the FHIR server response was not JSON',
+  'not-fhir': 'the FHIR server response was not a FHIR resource',
+  'outside-server': 'the query would leave the FHIR server base URL',
+};
+
+function describeFailure(outcome: Extract<FhirFetchOutcome, { kind: 'failed' }>): string {
+  const text = FAILURE_TEXT[outcome.failure];
+  return outcome.status === undefined ? text : `${text} (HTTP ${outcome.status})`;
+}
+
+export interface FetchScope {
+  readonly fetch: typeof fetch;
+  readonly fhirServer: string;
+  readonly accessToken: string;
+  readonly budget: AbortSignal;
+  readonly limits: FhirFallbackLimits;
+  /** How many FHIR requests this hook call made, for the summary line. */
+  readonly calls: { count: number };
+}
+
+function callFhir(url: URL, scope: FetchScope): Promise<FhirFetchOutcome> {
+  scope.calls.count += 1;
+  return getFhirJson(url, {
+    fetch: scope.fetch,
+    accessToken: scope.accessToken,
+    signal: AbortSignal.any([scope.budget, AbortSignal.timeout(scope.limits.callTimeoutMs)]),
+    maxResponseBytes: scope.limits.maxResponseBytes,
+  });
+}
+
+/** Which key, and whose data, a reading must be. */
+interface KeyTarget {
+  readonly key: PrefetchKey;
+  readonly patientId: string | undefined;
+}
+
+/**
+ * Keeps the key's own resource type (a search may `_include` others) and refuses the whole value
+ * when any of it is another patient's: a client that mixes patients cannot be trusted for this key.
+ */
+function vet(reading: PrefetchReading, target: KeyTarget): PrefetchReading {
+  if (reading.kind !== 'resources') {
+    return reading;
+  }
+  const { resourceType, field } = DESTINATION[target.key];
+  const own = reading.resources.filter((r) => r.resourceType === resourceType);
+  const { patientId } = target;
+  if (patientId !== undefined && own.some((r) => !belongsToPatient(r, patientId))) {
+    return { kind: 'unusable', reason: "it holds another patient's data" };
+  }
+  if (own.length === 0 && reading.nextUrl === undefined) {
+    const isRead = field === 'patient' || field === 'encounter';
+    return isRead
+      ? { kind: 'unusable', reason: `it holds no ${resourceType}` }
+      : { kind: 'empty' };
+  }
+  return { kind: 'resources', resources: own, nextUrl: reading.nextUrl };
+}
+
+/** Follows `next` links on the FHIR server, up to `maxPages` pages in all (the first included). */
+async function followPages(
+  first: Extract<PrefetchReading, { kind: 'resources' }>,
+  target: KeyTarget,
+  scope: FetchScope | undefined,
+): Promise<{ resources: FhirResource[]; incomplete: boolean }> {
+  const resources = [...first.resources];
+  let next = first.nextUrl;
+  let pages = 1;
+  while (next !== undefined) {
+    if (scope === undefined || pages >= scope.limits.maxPages) {
+      return { resources, incomplete: true };
+    }
+    let url: URL;
+    try {
+      url = new URL(next, `${scope.fhirServer.replace(/\/+$/, '')}/`);
+    } catch {
+      return { resources, incomplete: true };
+    }
+    if (!isUnderServer(url, scope.fhirServer)) {
+      return { resources, incomplete: true };
+    }
+    const outcome = await callFhir(url, scope);
+    const page =
+      outcome.kind === 'ok' ? vet(readPrefetchValue(true, outcome.resource), target) : undefined;
+    if (page === undefined || page.kind === 'absent' || page.kind === 'unusable') {
+      return { resources, incomplete: true };
+    }
+    pages += 1;
+    if (page.kind === 'empty') {
+      break;
+    }
+    resources.push(...page.resources);
+    next = page.nextUrl;
+  }
+  return { resources, incomplete: false };
+}
+
+export async function gatherKey(
+  key: PrefetchKey,
+  template: string,
+  request: GatherRequest,
+  scope: FetchScope | undefined,
+): Promise<KeyResult> {
+  const patientId = request.context['patientId'];
+  const target: KeyTarget = { key, patientId: typeof patientId === 'string' ? patientId : undefined };
+  const supplied = vet(readPrefetchKey(request.prefetch, key), target);
+  if (supplied.kind === 'empty') {
+    return { kind: 'had', resources: [], fetched: false, incomplete: false };
+  }
+  if (supplied.kind === 'resources') {
+    const paged = await followPages(supplied, target, scope);
+    return { kind: 'had', resources: paged.resources, fetched: false, incomplete: paged.incomplete };
+  }
+  const why = supplied.kind === 'absent' ? 'was not prefetched' : `was unusable: ${supplied.reason}`;
+  const relative = expandPrefetchTemplate(template, request.context);
+  if (relative === undefined) {
+    // e.g. no encounterId in the context: there is nothing to ask for.
+    return { kind: 'not-applicable' };
+  }
+  if (scope === undefined) {
+    return {
+      kind: 'unobtainable',
+      fetched: false,
+      reason: `${why}, and the request gave no FHIR server access (fhirServer with fhirAuthorization)`,
+    };
+  }
+  const url = resolveUnderServer(relative, scope.fhirServer);
+  const outcome: FhirFetchOutcome =
+    url === undefined ? { kind: 'failed', failure: 'outside-server' } : await callFhir(url, scope);
+  if (outcome.kind === 'not-found') {
+    return { kind: 'had', resources: [], fetched: true, incomplete: false };
+  }
+  if (outcome.kind === 'failed') {
+    const reason = `${why}, and ${describeFailure(outcome)}`;
+    return { kind: 'unobtainable', fetched: true, reason };
+  }
+  const reading = vet(readPrefetchValue(true, outcome.resource), target);
+  if (reading.kind === 'resources') {
+    const paged = await followPages(reading, target, scope);
+    return { kind: 'had', resources: paged.resources, fetched: true, incomplete: paged.incomplete };
+  }
+  if (reading.kind === 'empty') {
+    return { kind: 'had', resources: [], fetched: true, incomplete: false };
+  }
+  const detail = reading.kind === 'unusable' ? reading.reason : 'no data';
+  return {
+    kind: 'unobtainable',
+    fetched: true,
+    reason: `${why}, and the FHIR server answer was unusable: ${detail}`,
+  };
+}
