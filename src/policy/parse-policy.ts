@@ -104,7 +104,7 @@ export function parsePolicyObject(input: unknown): PolicyParse {
           : { label: ref.label, citation: ref.citation, url: ref.url },
       ]),
     ),
-    cautions: file.cautions,
+    cautions: [file.cautions.advisoryOnly, file.cautions.pulseOximetry, ...file.cautions.more],
   };
   return { kind: 'ok', policy: deepFreeze(policy) };
 }

@@ -74,7 +74,15 @@ export const PolicyFileSchema = z.strictObject({
   severity: z.record(z.string(), IndicatorSchema).default({}),
   disabledRules: z.array(z.string()).default([]),
   references: z.record(z.string(), ReferenceSchema),
-  cautions: z.array(z.string().min(1)).min(1),
+  /**
+   * Lines appended to every card. The advisory-only and pulse-oximetry lines are required by name, so
+   * a local rewording cannot drop either safety statement by accident.
+   */
+  cautions: z.strictObject({
+    advisoryOnly: z.string().min(20),
+    pulseOximetry: z.string().min(20),
+    more: z.array(z.string().min(1)).default([]),
+  }),
 });
 
 export type PolicyFile = z.infer<typeof PolicyFileSchema>;

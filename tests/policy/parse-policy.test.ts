@@ -67,3 +67,22 @@ describe('parsePolicyText', () => {
     });
   });
 });
+
+describe('policy cautions', () => {
+  it('puts the advisory-only and pulse-oximetry lines first on every card', () => {
+    const result = parsePolicyText(btsText);
+    if (result.kind !== 'ok') throw new Error('bundled policy invalid');
+    expect(result.policy.cautions[0]).toMatch(/^Advisory only/);
+    // ISO 80601-2-61: Arms <= 4 % over SaO2 70-100 % (check-values 5, from memory for the figure).
+    expect(result.policy.cautions[1]).toContain('ISO 80601-2-61');
+  });
+
+  it('refuses a policy that drops the pulse-oximetry caution', () => {
+    const raw = parseYaml(btsText) as Record<string, any>;
+    delete raw.cautions.pulseOximetry;
+    const result = parsePolicyObject(raw);
+    expect(result.kind).toBe('invalid');
+    if (result.kind !== 'invalid') return;
+    expect(result.problems.map((p) => p.path)).toContain('cautions.pulseOximetry');
+  });
+});
