@@ -71,6 +71,8 @@ export interface HookCallSummary {
   readonly missingKeys: readonly string[];
   /** Template or policy slips found while building cards (src/cds promises no patient data). */
   readonly cardProblems: readonly string[];
+  /** Required keys that could not be had (the call answered 412). */
+  readonly unavailableKeys: readonly string[];
 }
 
 /** One feedback item as logged: the outcome and the override reason code, nothing else. */
@@ -121,6 +123,7 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
       },
       missingKeys: [...detail.missingKeys],
       ...(detail.cardProblems.length === 0 ? {} : { cardProblems: [...detail.cardProblems] }),
+      ...(detail.unavailableKeys.length === 0 ? {} : { unavailableKeys: [...detail.unavailableKeys] }),
     };
   }
   return {

@@ -23,6 +23,7 @@ const hookCall: HookCallSummary = {
   fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
   missingKeys: ['encounter'],
   cardProblems: [],
+  unavailableKeys: [],
 };
 
 describe('createLogger', () => {

@@ -2,8 +2,10 @@ import type { CardTemplates } from '../../cds/card-templates.js';
 import { evaluateHook } from '../../cds/evaluate-hook.js';
 import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { Policy } from '../../core/policy.js';
+import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
 import { AppError } from '../errors.js';
 import type { Gather } from '../gather-data.js';
+import { requestState } from '../request-context.js';
 import type { RouteHandler } from '../respond.js';
 
 export interface ServiceRouteDeps {
@@ -20,7 +22,7 @@ export interface ServiceRouteDeps {
  * orchestrator in src/cds builds.
  */
 export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
-  return async (req) => {
+  return async (req, res) => {
     const parsed = parseHookRequest(String(req.params['id'] ?? ''), req.body);
     switch (parsed.kind) {
       case 'unknown-service':
@@ -34,7 +36,26 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
     }
     const { service, request } = parsed;
     const gathered = await deps.gather(request, service.prefetch);
+    const base = (fallback: FallbackSummary): HookCallSummary => ({
+      kind: 'hook-call',
+      serviceId: service.id,
+      hook: service.hook,
+      hookInstance: request.hookInstance,
+      ruleIds: [],
+      policyId: deps.policy.id,
+      policyVersion: deps.policy.version,
+      cardCount: 0,
+      fhirFallback: fallback,
+      missingKeys: [],
+      cardProblems: [],
+      unavailableKeys: [],
+    });
     if (gathered.kind === 'unavailable') {
+      // The 412 leaves through the error middleware; its summary line still names the call.
+      requestState(res).detail = {
+        ...base(gathered.fallback),
+        unavailableKeys: gathered.unavailable.map((item) => item.key),
+      };
       throw new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable: gathered.unavailable });
     }
     const result = evaluateHook(
@@ -45,15 +66,11 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       status: 200,
       body: result.response,
       detail: {
-        kind: 'hook-call',
-        serviceId: service.id,
-        hook: service.hook,
-        hookInstance: request.hookInstance,
+        ...base(gathered.fallback),
         ruleIds: result.ruleIds,
         policyId: result.policyId,
         policyVersion: result.policyVersion,
         cardCount: result.response.cards.length,
-        fhirFallback: gathered.fallback,
         missingKeys: gathered.data.missing,
         cardProblems: result.problems,
       },

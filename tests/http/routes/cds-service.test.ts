@@ -165,7 +165,7 @@ describe('POST /cds-services/{id}', () => {
   });
 
   it('answers 412 with an OperationOutcome when required prefetch is absent and there is no FHIR server', async () => {
-    const { app } = await buildTestApp();
+    const { app, log } = await buildTestApp();
     const { observations: _dropped, ...prefetch } = fullPrefetch;
     const response = await request(app).post(SIGN).send(orderSignRequest({ prefetch }));
     // CDS Hooks 2.0 §Prefetch Template: required data unobtainable -> SHALL return 412;
@@ -183,6 +183,14 @@ describe('POST /cds-services/{id}', () => {
             "Prefetch key 'observations': was not prefetched, and the request gave no FHIR server access (fhirServer with fhirAuthorization)",
         },
       ],
+    });
+    expect(summaryLines(log.lines())[0]).toMatchObject({
+      status: 412,
+      errorCode: 'CDS_ERR_PREFETCH_UNAVAILABLE',
+      serviceId: 'oxygen-order-sign',
+      hookInstance: 'd1577c69-dfbe-44ad-ba6d-3e05e953b2ea',
+      cardCount: 0,
+      unavailableKeys: ['observations'],
     });
   });
 
