@@ -1,0 +1,57 @@
+import { formatGasValue, formatNumber, formatRange } from '../assessment/format.js';
+import type { Finding } from '../types.js';
+import { describeAge } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/**
+ * The current gas shows acute hypercapnic acidosis: pH below `thresholds.acidosisPhBelow` with PCO2
+ * at or above `hypercapnicRisk.hypercapniaPaco2`.
+ *
+ * Rationale: respiratory acidosis in a patient on oxygen is a medical emergency; more oxygen does not
+ * treat it, and controlled oxygen to the at-risk range (`targets.hypercapnicRisk`) is advised (BTS
+ * 2017 Table 4). BTS/ICS 2016: consider NIV when pH stays below `thresholds.nivPhBelow` with PaCO2
+ * above `thresholds.nivPaco2Above` after initial medical therapy; consider invasive ventilation below
+ * `thresholds.invasiveVentilationPhBelow`. Critical. A venous or unlabelled sample is reported too
+ * (venous pH runs a little lower and PCO2 higher than arterial, so the card asks for confirmation).
+ * Sources: BTS 2017 Table 4; BTS/ICS 2016; RCEM Learning (pH range).
+ */
+export const rule: Rule = {
+  id: 'acute-hypercapnic-acidosis',
+  title: 'Acute hypercapnic (respiratory) acidosis on the current gas',
+  version: 1,
+  hooks: ['order-sign'],
+  defaultIndicator: 'critical',
+  evaluate: ({ assessment, policy, now }): readonly Finding[] => {
+    const gas = assessment.current.gas;
+    const { ph, paco2MmHg } = gas ?? {};
+    const t = policy.thresholds;
+    const hypercapnia = policy.hypercapnicRisk.hypercapniaPaco2;
+    if (gas === undefined || ph === undefined || paco2MmHg === undefined) {
+      return [];
+    }
+    if (!(ph < t.acidosisPhBelow && paco2MmHg >= hypercapnia.mmHg)) {
+      return [];
+    }
+    const yesNo = (met: boolean): string => (met ? 'met' : 'not met');
+    return [
+      makeFinding(rule, {
+        orderReference: undefined, // about the patient, not an order: stated once per call
+        values: {
+          ph: formatGasValue(gas, 'ph') ?? formatNumber(ph, 2),
+          paco2: formatGasValue(gas, 'paco2') ?? '',
+          gasAge: describeAge(gas.at, now),
+          specimen: gas.specimen === 'arterial' ? 'arterial' : `${gas.specimen} (confirm with an arterial sample)`,
+          acidosisPh: formatNumber(t.acidosisPhBelow, 2),
+          hypercapniaThreshold: hypercapnia.display,
+          nivThresholds: `pH < ${formatNumber(t.nivPhBelow, 2)} and PaCO2 > ${t.nivPaco2Above.display}`,
+          nivThresholdsMet: yesNo(ph < t.nivPhBelow && paco2MmHg > t.nivPaco2Above.mmHg),
+          invasiveThreshold: `pH < ${formatNumber(t.invasiveVentilationPhBelow, 2)}`,
+          invasiveThresholdMet: yesNo(ph < t.invasiveVentilationPhBelow),
+          advisedRange: formatRange(policy.targets.hypercapnicRisk),
+        },
+        sourceKeys: ['bts-2017', 'bts-ics-2016', 'rcem-abg'],
+      }),
+    ];
+  },
+};

@@ -1,0 +1,70 @@
+import { estimateOrderDelivery } from '../assessment/build-assessment.js';
+import { formatFlow, formatRange } from '../assessment/format.js';
+import { DEVICE_MODELS } from '../devices/index.js';
+import type { DeviceKind, Finding, OrderChange } from '../types.js';
+import { describeDelivery, describeOrder, findCondition } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/** Devices that can give high-concentration oxygen when set for it; no device change is offered. */
+const HIGH_CONCENTRATION_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
+
+/**
+ * Carbon monoxide poisoning is documented.
+ *
+ * Rationale: pulse oximeters read carboxyhaemoglobin as oxyhaemoglobin, so SpO2 (and often PaO2)
+ * looks normal and no SpO2 target applies; BTS 2017 Table 1 advises as much oxygen as possible
+ * (reservoir or bag-valve mask) and checking COHb. Warning; critical when the order titrates to an
+ * SpO2 target or gives less oxygen than an active order on record (a down-titration). Suggests a
+ * reservoir mask at the device's top flow when the order is on another device, or that top flow when a
+ * reservoir mask is run below it.
+ * Source: BTS 2017 Table 1 (recommendation on CO poisoning).
+ */
+export const rule: Rule = {
+  id: 'carbon-monoxide-oximetry',
+  title: 'Carbon monoxide poisoning: SpO2 is not a valid target',
+  version: 1,
+  hooks: ['order-select', 'order-sign'],
+  defaultIndicator: 'warning',
+  evaluate: ({ assessment, facts }): readonly Finding[] => {
+    const { order, delivery, current } = assessment;
+    const condition = findCondition(facts, ['carbon-monoxide-poisoning']);
+    if (order === undefined || condition === undefined) {
+      return [];
+    }
+    const onRecord = facts.activeOrders
+      .filter((o) => o.reference !== order.reference)
+      .map((o) => estimateOrderDelivery(o, current))
+      .flatMap((d) => (d.kind === 'ok' ? [d.value.fio2.estimate] : []));
+    const downTitration =
+      delivery.kind === 'ok' && onRecord.some((fio2) => delivery.value.fio2.estimate < fio2);
+    const reservoir = DEVICE_MODELS['reservoir-mask'];
+    const topFlow = reservoir.flowRangeLPerMin.max;
+    const change: OrderChange | undefined =
+      order.device === 'reservoir-mask'
+        ? order.flowLPerMin === undefined || order.flowLPerMin < topFlow
+          ? { kind: 'set-flow', flowLPerMin: topFlow }
+          : undefined
+        : order.device !== undefined && HIGH_CONCENTRATION_DEVICES.includes(order.device)
+          ? undefined
+          : { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: topFlow };
+    return [
+      makeFinding(rule, {
+        indicator: order.target !== undefined || downTitration ? 'critical' : rule.defaultIndicator,
+        orderReference: order.reference,
+        values: {
+          condition: condition.display,
+          orderDescription: describeOrder(order),
+          deliveredFio2: describeDelivery(assessment),
+          orderedTarget: order.target === undefined ? 'none' : formatRange(order.target),
+          downTitration: downTitration ? 'yes: less oxygen than an active order on record' : 'no',
+          ...(change === undefined
+            ? {}
+            : { suggestedDevice: `${reservoir.label} at ${formatFlow(topFlow)}` }),
+        },
+        sourceKeys: ['bts-2017'],
+        ...(change === undefined ? {} : { change }),
+      }),
+    ];
+  },
+};

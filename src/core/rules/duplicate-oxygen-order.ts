@@ -1,0 +1,47 @@
+import type { Finding } from '../types.js';
+import { describeOrder } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/**
+ * Another oxygen order is active on the record, or the same draft holds more than one oxygen order.
+ *
+ * Rationale: two live oxygen prescriptions with different devices, flows or targets leave the nurse
+ * to guess which governs; it is a common prescribing error. Warning. No change is offered: whether
+ * the new order replaces the old one is the prescriber's call, and discontinuing an order is outside
+ * the changes this service suggests.
+ * Source: common practice (medication-safety duplicate checking); the local policy.
+ */
+export const rule: Rule = {
+  id: 'duplicate-oxygen-order',
+  title: 'More than one oxygen order',
+  version: 1,
+  hooks: ['order-select', 'order-sign'],
+  defaultIndicator: 'warning',
+  evaluate: ({ assessment, facts }): readonly Finding[] => {
+    const { order } = assessment;
+    if (order === undefined) {
+      return [];
+    }
+    const inDraft = facts.orders.filter((o) => o.reference !== order.reference);
+    const onRecord = facts.activeOrders.filter((o) => o.reference !== order.reference);
+    if (inDraft.length === 0 && onRecord.length === 0) {
+      return [];
+    }
+    const list = [
+      ...inDraft.map((o) => `${describeOrder(o)} (in this draft)`),
+      ...onRecord.map((o) => `${describeOrder(o)} (active on record)`),
+    ];
+    return [
+      makeFinding(rule, {
+        orderReference: order.reference,
+        values: {
+          orderDescription: describeOrder(order),
+          otherOrderCount: String(list.length),
+          otherOrders: list.join('; '),
+        },
+        sourceKeys: ['local-policy'],
+      }),
+    ];
+  },
+};

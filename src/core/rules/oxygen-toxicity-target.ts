@@ -1,0 +1,50 @@
+import { formatRange } from '../assessment/format.js';
+import type { Finding } from '../types.js';
+import { describeMeasured, describeOrder, findCondition } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/**
+ * Paraquat poisoning or bleomycin lung injury is documented.
+ *
+ * Rationale: oxygen adds to the lung injury in both; BTS 2017 Table 3 advises avoiding oxygen unless
+ * the patient is hypoxaemic and targeting 85–88 % (`targets.oxygenToxicityRisk`; quoted secondarily,
+ * V2). Warning, with the range as a suggestion, when the order's target is missing or different;
+ * information when it matches and the current SpO2 is already at or above the range's lower bound
+ * (not hypoxaemic), as a reminder that oxygen may not be needed at all.
+ * Source: BTS 2017 Table 3 (V2).
+ */
+export const rule: Rule = {
+  id: 'oxygen-toxicity-target',
+  title: 'Paraquat or bleomycin: lower target, avoid oxygen unless hypoxaemic',
+  version: 1,
+  hooks: ['order-select', 'order-sign'],
+  defaultIndicator: 'warning',
+  evaluate: ({ assessment, facts, now }): readonly Finding[] => {
+    const { order, target, targetComparison: comparison, current } = assessment;
+    const condition = findCondition(facts, ['paraquat-poisoning', 'bleomycin-lung-injury']);
+    if (order === undefined || condition === undefined || target.kind !== 'range' || target.basis !== 'oxygen-toxicity-risk') {
+      return [];
+    }
+    const spo2 = current.spo2;
+    const mismatch = comparison.kind === 'toxicity-range-not-ordered';
+    if (!mismatch && (spo2 === undefined || spo2.value < target.range.lowPercent)) {
+      return [];
+    }
+    return [
+      makeFinding(rule, {
+        indicator: mismatch ? 'warning' : 'info',
+        orderReference: order.reference,
+        values: {
+          condition: condition.display,
+          orderDescription: describeOrder(order),
+          orderedRange: order.target === undefined ? 'none' : formatRange(order.target),
+          advisedRange: formatRange(target.range),
+          spo2: spo2 === undefined ? 'no current reading' : describeMeasured(spo2, now, '%'),
+        },
+        sourceKeys: ['bts-2017'],
+        ...(mismatch ? { change: { kind: 'set-target', range: target.range } as const } : {}),
+      }),
+    ];
+  },
+};

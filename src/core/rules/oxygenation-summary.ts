@@ -1,0 +1,124 @@
+import { formatFio2Range, formatGasValue, formatMmHg, formatNumber } from '../assessment/format.js';
+import type { Assessment, BerlinClass, Calculated, RiceClass, RoxInterpretation } from '../assessment/types.js';
+import { describeFio2Basis } from '../assessment/gas-physiology.js';
+import type { Computation, Finding, Outcome } from '../types.js';
+import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+const BERLIN_WORDS: Readonly<Record<BerlinClass, string>> = {
+  none: 'above 300, outside the Berlin ARDS bands',
+  mild: 'Berlin mild band (200–300)',
+  moderate: 'Berlin moderate band (100–200)',
+  severe: 'Berlin severe band (100 or less)',
+};
+
+const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
+  none: 'at or above 315 (Rice: about P/F 300)',
+  'below-315': 'below 315 (Rice: about P/F below 300)',
+  'below-235': 'below 235 (Rice: about P/F below 200)',
+};
+
+const ROX_WORDS: Readonly<Record<RoxInterpretation, string>> = {
+  'low-risk': '4.88 or more: lower risk of high-flow failure (Roca 2019)',
+  'high-risk': 'below the Roca 2019 failure threshold for the time on high flow',
+  indeterminate: 'between the Roca 2019 thresholds, or time on high flow not known',
+};
+
+const MODEL_WORDS: Readonly<Record<Assessment['barometricPressure']['model'], string>> = {
+  'site-value': 'site value from the local policy',
+  'isa-1993': 'ICAO Standard Atmosphere at the site altitude',
+  'west-1996': 'West 1996 model at the site altitude',
+};
+
+function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
+  return outcome.kind === 'ok' ? text(outcome.value.value) : `not available (${outcome.reason})`;
+}
+
+function computationOf<T>(outcome: Outcome<Calculated<T>>): readonly Computation[] {
+  return outcome.kind === 'ok' ? [outcome.value.computation] : [];
+}
+
+/**
+ * A summary of the oxygenation numbers for respiratory therapists and prescribers: the delivered-FiO2
+ * estimate with its device notes, PAO2 from the alveolar gas equation at the site's barometric
+ * pressure, the A-a gradient against the age norm (which applies on air only), P/F with its Berlin
+ * band (Berlin 2012; the bands formally need PEEP or CPAP of 5 cmH2O), S/F with the Rice 2007
+ * cut-offs, ROX on high flow with the Roca 2019 thresholds, the acid-base reading and a hint at the
+ * mechanism of any hypoxaemia. Info, order-sign only, and only when at least one number is known.
+ * Sources: see docs/basis/physiology.md and docs/basis/devices.md for each formula.
+ */
+export const rule: Rule = {
+  id: 'oxygenation-summary',
+  title: 'Oxygenation summary',
+  version: 1,
+  hooks: ['order-sign'],
+  defaultIndicator: 'info',
+  evaluate: ({ assessment, now }): readonly Finding[] => {
+    const { order, physiology: p, delivery, current, barometricPressure: pb } = assessment;
+    const anything =
+      delivery.kind === 'ok' ||
+      [p.alveolarPo2, p.pfRatio, p.sfRatio, p.rox, p.oxygenContent, p.gasInterpretation].some((o) => o.kind === 'ok');
+    if (!anything) {
+      return [];
+    }
+    const gas = current.arterialGas ?? current.gas;
+    const gasUsed =
+      gas === undefined
+        ? 'no current blood gas'
+        : [
+            `${gas.specimen} ${describeAge(gas.at, now)}`,
+            ...(['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((c) => {
+              const shown = formatGasValue(gas, c);
+              const label = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[c];
+              return shown === undefined ? [] : [`${label} ${shown}`];
+            }),
+          ].join(', ');
+    const fio2AtGas =
+      p.fio2AtGas.kind === 'ok'
+        ? `${formatFio2Range(p.fio2AtGas.value)} (${describeFio2Basis(p.fio2AtGas.value)})`
+        : `not known (${p.fio2AtGas.reason})`;
+    const expected =
+      p.expectedAaGradient.kind === 'ok'
+        ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
+        : 'the age norm applies on air only, so it is not compared';
+    const deliveryCalc = deliveryComputation(assessment);
+    const computations: Computation[] = [
+      ...(deliveryCalc === undefined ? [] : [deliveryCalc]),
+      ...(p.alveolarPo2.kind === 'ok' ? [pb.computation] : []),
+      ...[p.inspiredPo2, p.alveolarPo2, p.aaGradient, p.expectedAaGradient].flatMap((o) => computationOf(o)),
+      ...computationOf(p.pfRatio),
+      ...computationOf(p.sfRatio),
+      ...computationOf(p.rox),
+      ...computationOf(p.oxygenContent),
+    ];
+    return [
+      makeFinding(rule, {
+        orderReference: order?.reference,
+        values: {
+          orderDescription: order === undefined ? 'no oxygen order' : describeOrder(order),
+          deliveredFio2: describeDelivery(assessment),
+          deviceNotes: delivery.kind === 'ok' && delivery.value.notes.length > 0 ? delivery.value.notes.join(' ') : 'none',
+          barometricPressure: `${formatMmHg(pb.mmHg)} (${MODEL_WORDS[pb.model]})`,
+          gasUsed,
+          fio2AtGas,
+          alveolarPo2: show(p.alveolarPo2, (v) => formatMmHg(v)),
+          aaGradient: show(p.aaGradient, (v) => `${formatMmHg(v)}; ${expected}`),
+          pfRatio: show(p.pfRatio, (v) => `${formatMmHg(v.ratio)}, ${BERLIN_WORDS[v.berlin]}`),
+          sfRatio: show(p.sfRatio, (v) => `${formatNumber(v.ratio, 0)}, ${RICE_WORDS[v.rice]}`),
+          rox: show(p.rox, (v) =>
+            `${formatNumber(v.index, 2)}${v.hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`}, ${ROX_WORDS[v.interpretation]}`),
+          oxygenContent: show(p.oxygenContent, (v) => `${formatNumber(v, 1)} mL/dL`),
+          gasInterpretation: p.gasInterpretation.kind === 'ok' ? p.gasInterpretation.value.summary : `not available (${p.gasInterpretation.reason})`,
+          mechanism: p.mechanism.kind === 'ok' ? p.mechanism.value.explanation : `not available (${p.mechanism.reason})`,
+        },
+        computations,
+        sourceKeys: [
+          ...computations.map((c) => c.sourceKey),
+          ...(delivery.kind === 'ok' ? delivery.value.sourceKeys : []),
+          ...(p.gasInterpretation.kind === 'ok' ? ['rcem-abg'] : []),
+        ],
+      }),
+    ];
+  },
+};

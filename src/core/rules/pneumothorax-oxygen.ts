@@ -1,0 +1,56 @@
+import { formatFlow, formatRange } from '../assessment/format.js';
+import { DEVICE_MODELS } from '../devices/index.js';
+import type { Finding, OrderChange } from '../types.js';
+import { describeOrder } from './support/describe.js';
+import { PNEUMOTHORAX_FLOW_L_PER_MIN as FLOW } from './support/guideline-constants.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/**
+ * Pneumothorax is documented and no hypercapnic risk is (target selection gives no SpO2 target).
+ *
+ * Rationale: for a pneumothorax admitted for observation without drainage, BTS 2017 Table 2 advises a
+ * reservoir mask at 15 L/min aiming for 100 %, because breathing oxygen speeds resorption of the
+ * air; a hypoxaemic patient needs aspiration or drainage. Info (this service cannot tell whether a
+ * drain is in). Fires when the order is not a reservoir mask at 15 L/min or names an SpO2 target;
+ * suggests a reservoir mask at 15 L/min.
+ * Source: BTS 2017 Table 2 (recommendations F5–F6).
+ */
+export const rule: Rule = {
+  id: 'pneumothorax-oxygen',
+  title: 'Pneumothorax under observation: high-concentration oxygen',
+  version: 1,
+  hooks: ['order-select', 'order-sign'],
+  defaultIndicator: 'info',
+  evaluate: ({ assessment }): readonly Finding[] => {
+    const { order, target } = assessment;
+    if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'pneumothorax') {
+      return [];
+    }
+    const onReservoir = order.device === 'reservoir-mask';
+    const atFlow = order.flowLPerMin !== undefined && order.flowLPerMin >= FLOW;
+    if (onReservoir && atFlow && order.target === undefined) {
+      return [];
+    }
+    const change: OrderChange | undefined = !onReservoir
+      ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: FLOW }
+      : !atFlow
+        ? { kind: 'set-flow', flowLPerMin: FLOW }
+        : undefined;
+    return [
+      makeFinding(rule, {
+        orderReference: order.reference,
+        values: {
+          orderDescription: describeOrder(order),
+          advisedFlow: formatFlow(FLOW),
+          orderedTarget: order.target === undefined ? 'none' : formatRange(order.target),
+          ...(change === undefined
+            ? {}
+            : { suggestedDevice: `${DEVICE_MODELS['reservoir-mask'].label} at ${formatFlow(FLOW)}` }),
+        },
+        sourceKeys: ['bts-2017'],
+        ...(change === undefined ? {} : { change }),
+      }),
+    ];
+  },
+};

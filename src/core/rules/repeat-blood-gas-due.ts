@@ -1,0 +1,69 @@
+import { newestFirst } from '../assessment/current-values.js';
+import { formatDuration, formatMinuteWindow, minutesBetween } from '../assessment/format.js';
+import type { Finding } from '../types.js';
+import { describeAge, describeOrder, describeRiskReasons } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import type { Rule } from './support/rule-types.js';
+
+/**
+ * A patient at risk of hypercapnic respiratory failure (including one re-targeted after a normal gas)
+ * is having oxygen started or changed, and no gas has been taken since: the order was written after
+ * the latest gas, or the O2 flow was last changed after it.
+ *
+ * Rationale: BTS 2017 (Tables 2–4) advises a repeat blood gas 30–60 minutes after starting or
+ * changing oxygen in these patients, to catch a rising PCO2. The window comes from
+ * `thresholds.repeatGasMinutes` and is shown relative to now, counted from the order time (or now,
+ * when it has none) or the last recorded flow change, whichever is later. Info while the window is
+ * ahead or open; warning once it has passed.
+ * Source: BTS 2017 Tables 2–4.
+ */
+export const rule: Rule = {
+  id: 'repeat-blood-gas-due',
+  title: 'Repeat blood gas due after starting or changing oxygen',
+  version: 1,
+  hooks: ['order-sign'],
+  defaultIndicator: 'info',
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
+    const { order, hypercapnicRisk } = assessment;
+    if (order === undefined || !hypercapnicRisk.atRisk) {
+      return [];
+    }
+    const orderedAt = order.authoredOn !== undefined && !Number.isNaN(Date.parse(order.authoredOn))
+      ? Date.parse(order.authoredOn)
+      : now.getTime();
+    const flows = newestFirst(facts.o2FlowLPerMin);
+    const changeIndex = flows.findIndex((f, i) => flows[i + 1] !== undefined && flows[i + 1]?.value !== f.value);
+    const flowChangedAt = changeIndex < 0 ? undefined : Date.parse(flows[changeIndex]?.at ?? '');
+    const changedAt = Math.max(orderedAt, flowChangedAt ?? Number.NEGATIVE_INFINITY);
+    const latestGas = newestFirst([...facts.bloodGases, ...facts.historicBloodGases])[0];
+    if (latestGas !== undefined && Date.parse(latestGas.at) >= changedAt) {
+      return [];
+    }
+    const window = policy.thresholds.repeatGasMinutes;
+    const sinceChange = minutesBetween(new Date(changedAt).toISOString(), now) ?? 0;
+    const opensIn = window.from - sinceChange;
+    const closesIn = window.to - sinceChange;
+    const dueWindow =
+      opensIn > 0
+        ? `in ${formatMinuteWindow(opensIn, closesIn)}`
+        : closesIn > 0
+          ? `now (the window closes in ${formatDuration(closesIn)})`
+          : closesIn === 0
+            ? 'now (the window ends now)'
+            : `overdue (the window closed ${formatDuration(closesIn)} ago)`;
+    return [
+      makeFinding(rule, {
+        indicator: closesIn < 0 ? 'warning' : rule.defaultIndicator,
+        orderReference: order.reference,
+        values: {
+          orderDescription: describeOrder(order),
+          dueWindow,
+          repeatWindow: formatMinuteWindow(window.from, window.to),
+          lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas.at, now),
+          riskReasons: describeRiskReasons(assessment),
+        },
+        sourceKeys: ['bts-2017'],
+      }),
+    ];
+  },
+};

@@ -1,0 +1,93 @@
+import { describe, expect, it } from 'vitest';
+import { rule } from '../../../src/core/rules/oxygenation-summary.js';
+import { BTS, activeOrder, bloodGas, buildFacts, fio2, haemoglobin, minutesAgo, oxygenOrder, respRate, spo2, withPolicy } from '../facts-builder.js';
+import { expectCardRenders } from './card-check.js';
+import { onlyFinding, runRule } from './run-rule.js';
+
+const seaLevel = withPolicy(BTS, { site: { ...BTS.site, barometricPressureMmHg: 760 } });
+
+describe('oxygenation-summary', () => {
+  it('runs on order-sign as information', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign']);
+    expect(rule.defaultIndicator).toBe('info');
+  });
+
+  it('shows the sea-level air case: PAO2 100 mmHg, A-a 5 mmHg against an age norm of 19 mmHg', () => {
+    // check-values 3a: FiO2 0.21, PB 760, PaCO2 40 -> PAO2 99.7; PaO2 95 -> A-a 4.7 (D); age/4 + 4 at 60 = 19 (C)
+    const facts = buildFacts({
+      patient: { ageYears: 60, bmiKgPerM2: 25 },
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 95, hco3: 24 })],
+      fio2Fraction: [fio2(0.21, 35)],
+      spo2Percent: [spo2(97, 30)],
+      haemoglobinGPerDL: [haemoglobin(15)],
+    });
+    const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+    expect(finding.values.alveolarPo2).toBe('100 mmHg');
+    expect(finding.values.aaGradient).toBe('5 mmHg; age norm on air 19 mmHg');
+    expect(finding.values.barometricPressure).toBe('760 mmHg (site value from the local policy)');
+    expect(finding.values.pfRatio).toBe('452 mmHg, above 300, outside the Berlin ARDS bands');
+    expect(finding.values.rox).toBe('not available (ROX applies to high-flow nasal cannula only)');
+    expect(finding.computations.map((c) => c.name)).toStrictEqual([
+      'Delivered FiO2 (estimate)',
+      'Barometric pressure',
+      'Inspired PO2',
+      'Alveolar PO2 (alveolar gas equation)',
+      'A-a gradient',
+      'Expected A-a gradient for age (on air)',
+      'P/F ratio',
+      'S/F ratio',
+      'Arterial oxygen content',
+    ]);
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Oxygenation summary for Nasal cannula at 2 L/min: delivered FiO2, gas physiology and ratios');
+  });
+
+  it('says the age norm does not apply on oxygen', () => {
+    // check-values 3a: FiO2 0.4, PaCO2 40, PaO2 80 -> A-a 155.2 at 760 mmHg; age norms do not apply on oxygen
+    const facts = buildFacts({
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 80 })],
+      fio2Fraction: [fio2(0.4, 30)],
+    });
+    const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+    expect(finding.values.aaGradient).toBe('155 mmHg; the age norm applies on air only, so it is not compared');
+    expect(finding.values.pfRatio).toBe('200 mmHg, Berlin moderate band (100–200)');
+  });
+
+  it('shows ROX on high flow with the Roca reading', () => {
+    // Roca 2019: ROX = (SpO2/FiO2)/RR; 92/0.5/30 = 6.13, >= 4.88 lower risk after 2 h
+    const hfnc = { device: 'high-flow-nasal-cannula' as const, flowLPerMin: 50, setFio2Fraction: 0.5 };
+    const facts = buildFacts({
+      orders: [oxygenOrder(hfnc)],
+      activeOrders: [activeOrder({ ...hfnc, authoredOn: minutesAgo(240) })],
+      spo2Percent: [spo2(92)],
+      fio2Fraction: [fio2(0.5)],
+      respRatePerMin: [respRate(30)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.values.rox).toBe('6.13 after 4 h, 4.88 or more: lower risk of high-flow failure (Roca 2019)');
+    expect(finding.values.sfRatio).toBe('184, below 235 (Rice: about P/F below 200)');
+    expectCardRenders(finding);
+  });
+
+  it('does not fire when nothing can be shown', () => {
+    const facts = buildFacts({ orders: [oxygenOrder({ device: undefined, deviceText: 'oxygen as needed' })] });
+    expect(runRule(rule, facts)).toStrictEqual([]);
+  });
+
+  describe('edge cases', () => {
+    it('fires on the delivered-FiO2 estimate alone and says what is missing', () => {
+      const finding = onlyFinding(runRule(rule, buildFacts()));
+      expect(finding.values.gasUsed).toBe('no current blood gas');
+      expect(finding.values.alveolarPo2).toBe('not available (no current arterial gas)');
+      expectCardRenders(finding);
+    });
+
+    it('reads a venous gas for acid-base only', () => {
+      const facts = buildFacts({ bloodGases: [bloodGas({ ageMinutes: 20, specimen: 'venous', ph: 7.33, paco2Kpa: 6.9 })] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.values.gasUsed).toBe('venous 20 min ago, pH 7.33, PCO2 6.9 kPa');
+      expect(finding.values.alveolarPo2).toBe('not available (no current arterial gas)');
+      expect(finding.values.gasInterpretation).not.toMatch(/^not available/);
+    });
+  });
+});

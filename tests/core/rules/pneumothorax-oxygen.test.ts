@@ -1,0 +1,45 @@
+import { describe, expect, it } from 'vitest';
+import { rule } from '../../../src/core/rules/pneumothorax-oxygen.js';
+import { buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { expectCardRenders } from './card-check.js';
+import { onlyFinding, runRule } from './run-rule.js';
+
+const pneumothorax = [condition('pneumothorax')];
+
+describe('pneumothorax-oxygen', () => {
+  it('runs on both hooks as information', () => {
+    expect(rule.hooks).toStrictEqual(['order-select', 'order-sign']);
+    expect(rule.defaultIndicator).toBe('info');
+  });
+
+  it('suggests a reservoir mask at 15 L/min for a nasal cannula order', () => {
+    // BTS 2017, Table 2 (recs F5-F6): observation without drainage -> reservoir mask 15 L/min, aim 100 %
+    const finding = onlyFinding(runRule(rule, buildFacts({ conditions: pneumothorax })));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 15 });
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Pneumothorax under observation: BTS advises a reservoir mask at 15 L/min, aiming for 100 %');
+  });
+
+  it('raises a reservoir mask below 15 L/min', () => {
+    const facts = buildFacts({ conditions: pneumothorax, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 10, target: undefined })] });
+    expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 15 });
+  });
+
+  it('does not fire for a reservoir mask at 15 L/min without a target', () => {
+    const facts = buildFacts({ conditions: pneumothorax, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15, target: undefined })] });
+    expect(runRule(rule, facts)).toStrictEqual([]);
+  });
+
+  describe('edge cases', () => {
+    it('notes a target on an otherwise right order', () => {
+      const facts = buildFacts({ conditions: pneumothorax, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
+    it('does not fire when the patient is at risk of hypercapnia', () => {
+      expect(runRule(rule, buildFacts({ conditions: [...pneumothorax, condition('cystic-fibrosis')] }))).toStrictEqual([]);
+    });
+  });
+});
