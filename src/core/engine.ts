@@ -1,0 +1,82 @@
+import { buildAssessment } from './assessment/build-assessment.js';
+import type { Assessment } from './assessment/types.js';
+import type { Policy } from './policy.js';
+import { RULES } from './rules/index.js';
+import type { Rule } from './rules/support/rule-types.js';
+import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
+
+export type { Rule, RuleContext } from './rules/support/rule-types.js';
+
+const INDICATOR_RANK: Readonly<Record<Indicator, number>> = { critical: 0, warning: 1, info: 2 };
+
+export interface Evaluation {
+  /** The assessment of the first subject order (or of the patient alone when no order is a subject). */
+  readonly assessment: Assessment;
+  /** One assessment per subject order, in draft order; `assessments[0]` is `assessment`. */
+  readonly assessments: readonly Assessment[];
+  /** Critical first, then warning, then info; registry order within an indicator. */
+  readonly findings: readonly Finding[];
+}
+
+/** A stable key for a finding, so a patient-level finding made once per subject order is kept once. */
+function findingKey(finding: Finding): string {
+  return JSON.stringify([finding.ruleId, finding.orderReference, finding.values, finding.change ?? null]);
+}
+
+function runRules(
+  rules: readonly Rule[],
+  facts: Facts,
+  policy: Policy,
+  assessment: Assessment,
+  options: { readonly hook: HookName; readonly now: Date },
+): Finding[] {
+  const disabled = new Set(policy.disabledRules);
+  const findings: Finding[] = [];
+  for (const rule of rules) {
+    if (!rule.hooks.includes(options.hook) || disabled.has(rule.id)) {
+      continue;
+    }
+    const override = policy.severity[rule.id];
+    for (const finding of rule.evaluate({ facts, policy, assessment, hook: options.hook, now: options.now })) {
+      findings.push(override === undefined ? finding : { ...finding, indicator: override });
+    }
+  }
+  return findings;
+}
+
+/**
+ * Checks the subject oxygen order(s) in `facts` against `policy` for one hook call. Pure.
+ *
+ * Each subject order gets its own assessment and its own run of the rules (a draft may sign two
+ * oxygen orders at once); findings about the patient rather than an order come out once. The engine
+ * applies `policy.disabledRules` and `policy.severity` to every rule alike and never looks at which
+ * rule it is running. Findings are ordered critical → warning → info, registry order within each.
+ */
+export function evaluateOrder(
+  facts: Facts,
+  policy: Policy,
+  options: { readonly hook: HookName; readonly now: Date },
+): Evaluation {
+  const subjects: readonly (OxygenOrder | undefined)[] = facts.orders.filter((o) => o.isSubject);
+  const assessments = (subjects.length === 0 ? [undefined] : subjects).map((order) =>
+    buildAssessment(facts, policy, { now: options.now, order }),
+  );
+  const seen = new Set<string>();
+  const findings: Finding[] = [];
+  for (const assessment of assessments) {
+    for (const finding of runRules(RULES, facts, policy, assessment, options)) {
+      const key = findingKey(finding);
+      if (!seen.has(key)) {
+        seen.add(key);
+        findings.push(finding);
+      }
+    }
+  }
+  // Array.prototype.sort is stable, so registry order survives within each indicator.
+  findings.sort((a, b) => INDICATOR_RANK[a.indicator] - INDICATOR_RANK[b.indicator]);
+  const first = assessments[0];
+  if (first === undefined) {
+    throw new Error('evaluateOrder: at least one assessment is always built');
+  }
+  return { assessment: first, assessments, findings };
+}

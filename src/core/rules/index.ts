@@ -1,0 +1,55 @@
+import { rule as acuteHypercapnicAcidosis } from './acute-hypercapnic-acidosis.js';
+import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
+import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
+import { rule as dataSetAside } from './data-set-aside.js';
+import { rule as duplicateOxygenOrder } from './duplicate-oxygen-order.js';
+import { rule as flowOutsideDeviceRange } from './flow-outside-device-range.js';
+import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
+import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
+import { rule as noRecentSpo2 } from './no-recent-spo2.js';
+import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
+import { rule as oxygenationSummary } from './oxygenation-summary.js';
+import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
+import { rule as pregnancyOxygen } from './pregnancy-oxygen.js';
+import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
+import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
+import { rule as sickleCellOxygen } from './sickle-cell-oxygen.js';
+import { rule as spo2AboveTarget } from './spo2-above-target.js';
+import { rule as spo2BelowTarget } from './spo2-below-target.js';
+import { rule as targetAboveHypercapnicRange } from './target-above-hypercapnic-range.js';
+import { rule as targetDiffersFromPolicy } from './target-differs-from-policy.js';
+import { rule as targetRangeMissing } from './target-range-missing.js';
+import { rule as venturiFlowInsufficient } from './venturi-flow-insufficient.js';
+import type { Rule } from './support/rule-types.js';
+
+export type { Rule, RuleContext } from './support/rule-types.js';
+
+/**
+ * Every advisory rule, in the order their findings are listed within one indicator. Safety-critical
+ * physiology first, then the order's target, then titration, devices, special situations and the
+ * informational cards.
+ */
+export const RULES: readonly Rule[] = [
+  acuteHypercapnicAcidosis,
+  carbonMonoxideOximetry,
+  spo2BelowTarget,
+  targetAboveHypercapnicRange,
+  targetRangeMissing,
+  oxygenToxicityTarget,
+  lowerRangeWithoutRisk,
+  targetDiffersFromPolicy,
+  spo2AboveTarget,
+  highOxygenRequirement,
+  venturiFlowInsufficient,
+  flowOutsideDeviceRange,
+  duplicateOxygenOrder,
+  repeatBloodGasDue,
+  pneumothoraxOxygen,
+  clusterHeadacheOxygen,
+  sickleCellOxygen,
+  pregnancyOxygen,
+  noRecentSpo2,
+  requiredDataUnavailable,
+  dataSetAside,
+  oxygenationSummary,
+];

@@ -1,0 +1,121 @@
+import { describe, expect, it } from 'vitest';
+import { evaluateOrder } from '../../src/core/engine.js';
+import { RULES } from '../../src/core/rules/index.js';
+import type { Facts } from '../../src/core/types.js';
+import {
+  BTS,
+  NOW,
+  bloodGas,
+  buildFacts,
+  condition,
+  oxygenOrder,
+  respRate,
+  spo2,
+  withPolicy,
+} from './facts-builder.js';
+
+/** The worked case: kyphoscoliosis, PaCO2 6.7 kPa this morning, 3 L/min nasal cannula at 94-98 %. */
+const workedCase: Facts = buildFacts({
+  patient: { ageYears: 64, bmiKgPerM2: 23 },
+  orders: [oxygenOrder({ flowLPerMin: 3 })],
+  conditions: [condition('chest-wall-deformity')],
+  bloodGases: [bloodGas({ ageMinutes: 240, ph: 7.37, paco2Kpa: 6.7, pao2Kpa: 8.2, hco3: 28 })],
+  spo2Percent: [spo2(95)],
+  respRatePerMin: [respRate(20)],
+});
+
+const RANK = { critical: 0, warning: 1, info: 2 } as const;
+
+describe('evaluateOrder', () => {
+  it('advises 88-92 % in the worked case, with the repeat gas and the summary', () => {
+    // BTS 2017, Table 4 (88-92 %); BTS 2017, Tables 2-4 (repeat gas in 30-60 min)
+    const result = evaluateOrder(workedCase, BTS, { hook: 'order-sign', now: NOW });
+    expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
+      ['target-above-hypercapnic-range', 'critical'],
+      ['repeat-blood-gas-due', 'info'],
+      ['oxygenation-summary', 'info'],
+    ]);
+    expect(result.findings[0]?.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } });
+    expect(result.assessment.target).toMatchObject({ range: { lowPercent: 88, highPercent: 92 } });
+  });
+
+  it('runs only the order-select rules on order-select', () => {
+    const result = evaluateOrder(workedCase, BTS, { hook: 'order-select', now: NOW });
+    const selectIds = new Set(RULES.filter((r) => r.hooks.includes('order-select')).map((r) => r.id));
+    expect(result.findings.map((f) => f.ruleId)).toStrictEqual(['target-above-hypercapnic-range']);
+    expect(result.findings.every((f) => selectIds.has(f.ruleId))).toBe(true);
+  });
+
+  it('orders findings critical, then warning, then info', () => {
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'simple-face-mask', flowLPerMin: 3, target: undefined })],
+      conditions: [condition('copd')],
+      bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.29, paco2Kpa: 8.1, pao2Kpa: 7.6 })],
+      missingData: ['encounter'],
+    });
+    const indicators = evaluateOrder(facts, BTS, { hook: 'order-sign', now: NOW }).findings.map((f) => f.indicator);
+    expect(indicators).toContain('critical');
+    expect(indicators).toContain('warning');
+    expect(indicators).toContain('info');
+    expect([...indicators].sort((a, b) => RANK[a] - RANK[b])).toStrictEqual(indicators);
+  });
+
+  it('skips rules the policy disables', () => {
+    const policy = withPolicy(BTS, { disabledRules: ['target-above-hypercapnic-range', 'oxygenation-summary'] });
+    const ids = evaluateOrder(workedCase, policy, { hook: 'order-sign', now: NOW }).findings.map((f) => f.ruleId);
+    expect(ids).toStrictEqual(['repeat-blood-gas-due']);
+  });
+
+  it('applies the policy severity overrides and re-sorts', () => {
+    const policy = withPolicy(BTS, { severity: { 'repeat-blood-gas-due': 'critical', 'target-above-hypercapnic-range': 'warning' } });
+    const result = evaluateOrder(workedCase, policy, { hook: 'order-sign', now: NOW });
+    expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
+      ['repeat-blood-gas-due', 'critical'],
+      ['target-above-hypercapnic-range', 'warning'],
+      ['oxygenation-summary', 'info'],
+    ]);
+  });
+
+  it('evaluates each subject order and states patient-level findings once', () => {
+    const facts = buildFacts({
+      orders: [
+        oxygenOrder({ reference: 'MedicationRequest/a', target: undefined }),
+        oxygenOrder({ reference: 'MedicationRequest/b', device: 'simple-face-mask', flowLPerMin: 3 }),
+      ],
+      missingData: ['conditions'],
+    });
+    const result = evaluateOrder(facts, BTS, { hook: 'order-sign', now: NOW });
+    expect(result.assessments.map((a) => a.order?.reference)).toStrictEqual(['MedicationRequest/a', 'MedicationRequest/b']);
+    expect(result.assessment).toBe(result.assessments[0]);
+    const pairs = result.findings.map((f) => `${f.ruleId} ${f.orderReference ?? '-'}`);
+    expect(pairs).toContain('target-range-missing MedicationRequest/a');
+    expect(pairs).toContain('flow-outside-device-range MedicationRequest/b');
+    expect(pairs).toContain('duplicate-oxygen-order MedicationRequest/a');
+    expect(pairs).toContain('duplicate-oxygen-order MedicationRequest/b');
+    expect(pairs.filter((p) => p.startsWith('required-data-unavailable'))).toStrictEqual(['required-data-unavailable -']);
+  });
+
+  describe('edge cases', () => {
+    it('assesses the patient alone when no order is a subject', () => {
+      const facts = buildFacts({ orders: [oxygenOrder({ isSubject: false })], missingData: ['observations'] });
+      const result = evaluateOrder(facts, BTS, { hook: 'order-sign', now: NOW });
+      expect(result.assessment.order).toBeUndefined();
+      expect(result.findings.map((f) => f.ruleId)).toStrictEqual(['no-recent-spo2', 'required-data-unavailable']);
+    });
+
+    it('gives the same answer for the same input', () => {
+      const first = evaluateOrder(workedCase, BTS, { hook: 'order-sign', now: NOW });
+      const second = evaluateOrder(workedCase, BTS, { hook: 'order-sign', now: NOW });
+      expect(second).toStrictEqual(first);
+    });
+
+    it('returns no findings for an oxygen order that is in order', () => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 2 })],
+        spo2Percent: [spo2(96)],
+      });
+      const ids = evaluateOrder(facts, BTS, { hook: 'order-select', now: NOW }).findings.map((f) => f.ruleId);
+      expect(ids).toStrictEqual([]);
+    });
+  });
+});
