@@ -1,0 +1,118 @@
+import type { Policy } from '../core/policy.js';
+import type { Facts, HookName, OxygenOrder, SetAsideNote } from '../core/types.js';
+import { flattenResources, referenceMatches, referenceOf, type Entry } from './bundle-entries.js';
+import type { FhirResource, GatheredData } from './gathered-data.js';
+import { oxygenOrderType } from './is-oxygen-order.js';
+import { readConditions } from './read-conditions.js';
+import { readEncounterUnit } from './read-encounter.js';
+import { readObservations } from './read-observations.js';
+import { readOrder } from './read-order.js';
+import { readPatient } from './read-patient.js';
+
+/**
+ * Turns one hook call's draft orders and gathered FHIR data into the core's Facts. Pure: `now` comes
+ * in, nothing is fetched or logged. Nothing a caller sends makes it throw: shapes it cannot read are
+ * skipped, and values it will not use are listed in `setAside` with the reason.
+ *
+ * order-select: the orders named in `selections` are the subject; other drafts are context only.
+ * order-sign: every oxygen order in the draft bundle is a subject.
+ */
+
+const ACTIVE_STATUSES = new Set(['active', 'on-hold']);
+
+function flattenAll(resources: readonly unknown[], notes: SetAsideNote[]): FhirResource[] {
+  const { entries, notes: found } = flattenResources(resources);
+  notes.push(...found);
+  return entries.map((e) => e.resource);
+}
+
+type Selections = readonly string[] | undefined;
+
+function isSubject(hook: HookName, selections: Selections, entry: Entry, index: number): boolean {
+  if (hook !== 'order-select' || !Array.isArray(selections)) {
+    return true;
+  }
+  return selections.some((s) => typeof s === 'string' && referenceMatches(entry, index, s.trim()));
+}
+
+function readDrafts(input: Parameters<typeof extractFacts>[0], notes: SetAsideNote[]): OxygenOrder[] {
+  const { entries, notes: found } = flattenResources(input.draftOrders);
+  notes.push(...found);
+  const orders: OxygenOrder[] = [];
+  const seen = new Set<string>();
+  for (const [index, entry] of entries.entries()) {
+    const type = oxygenOrderType(entry.resource);
+    const reference = referenceOf(entry, index);
+    if (type === undefined || seen.has(reference)) {
+      continue;
+    }
+    seen.add(reference);
+    const subject = isSubject(input.hook, input.selections, entry, index);
+    const read = readOrder(entry.resource, type, reference, subject);
+    orders.push(read.order);
+    notes.push(...read.notes);
+  }
+  return orders;
+}
+
+function readActiveOrders(resources: readonly FhirResource[], drafts: readonly OxygenOrder[]): OxygenOrder[] {
+  const draftRefs = new Set(drafts.map((o) => o.reference));
+  const { entries } = flattenResources(resources);
+  const orders: OxygenOrder[] = [];
+  for (const [index, entry] of entries.entries()) {
+    const type = oxygenOrderType(entry.resource);
+    const status = entry.resource['status'];
+    const reference = referenceOf(entry, index);
+    const isActive = typeof status === 'string' && ACTIVE_STATUSES.has(status);
+    if (type === undefined || !isActive || draftRefs.has(reference)) {
+      continue;
+    }
+    draftRefs.add(reference);
+    // Orders already on the record are context for the duplicate check; their reading notes would
+    // only crowd the card, so they are not kept.
+    orders.push(readOrder(entry.resource, type, reference, false).order);
+  }
+  return orders;
+}
+
+function arrayOrEmpty(value: unknown): readonly unknown[] {
+  return Array.isArray(value) ? value : [];
+}
+
+export function extractFacts(
+  input: {
+    readonly hook: HookName;
+    readonly draftOrders: unknown;
+    readonly selections: readonly string[] | undefined;
+    readonly data: GatheredData;
+  },
+  policy: Policy,
+  now: Date,
+): Facts {
+  const notes: SetAsideNote[] = [];
+  const data: Partial<GatheredData> = typeof input.data === 'object' && input.data !== null ? input.data : {};
+  const orders = readDrafts(input, notes);
+  const [patient] = flattenAll([data.patient], notes);
+  const [encounter] = flattenAll([data.encounter], notes);
+  const patientRead = readPatient(patient, now);
+  const observationResources = flattenAll(arrayOrEmpty(data.observations), notes);
+  const observations = readObservations(observationResources, policy.freshness, now);
+  const conditions = readConditions(flattenAll(arrayOrEmpty(data.conditions), notes));
+
+  return {
+    patient: { ageYears: patientRead.ageYears, bmiKgPerM2: observations.bmiKgPerM2 },
+    orders,
+    activeOrders: readActiveOrders(flattenAll(arrayOrEmpty(data.activeOrders), notes), orders),
+    spo2Percent: observations.spo2Percent,
+    fio2Fraction: observations.fio2Fraction,
+    o2FlowLPerMin: observations.o2FlowLPerMin,
+    respRatePerMin: observations.respRatePerMin,
+    haemoglobinGPerDL: observations.haemoglobinGPerDL,
+    bloodGases: observations.bloodGases,
+    historicBloodGases: observations.historicBloodGases,
+    conditions: conditions.conditions,
+    setAside: [...notes, ...patientRead.notes, ...observations.notes, ...conditions.notes],
+    missingData: arrayOrEmpty(data.missing).filter((m): m is string => typeof m === 'string'),
+    encounterUnit: readEncounterUnit(encounter),
+  };
+}

@@ -1,0 +1,91 @@
+/**
+ * FHIR date and dateTime values (YYYY, YYYY-MM, YYYY-MM-DD, or a full time with zone), read without
+ * the host's time zone so the result does not depend on the server.
+ */
+
+const DATE_TIME =
+  /^(\d{4})(?:-(\d{2})(?:-(\d{2})(?:T(\d{2}):(\d{2})(?::(\d{2})(?:\.(\d{1,9}))?)?(Z|[+-]\d{2}:\d{2})?)?)?)?$/;
+
+export type DatePrecision = 'year' | 'month' | 'day' | 'time';
+
+export interface FhirInstant {
+  /** Epoch milliseconds of the start of the stated period (a partial date is its first moment, UTC). */
+  readonly startMs: number;
+  /** Epoch milliseconds of the end of the stated period (for a full time, the same instant). */
+  readonly endMs: number;
+  readonly precision: DatePrecision;
+}
+
+function inRange(n: number, low: number, high: number): boolean {
+  return Number.isInteger(n) && n >= low && n <= high;
+}
+
+/**
+ * Parses a FHIR date or dateTime. A time without a zone is not valid FHIR; it is read as UTC rather
+ * than as server-local time. Returns undefined for anything else (including impossible dates).
+ */
+export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
+  if (typeof value !== 'string') {
+    return undefined;
+  }
+  const m = DATE_TIME.exec(value.trim());
+  if (m === null) {
+    return undefined;
+  }
+  const year = Number(m[1]);
+  const month = m[2] === undefined ? undefined : Number(m[2]);
+  const day = m[3] === undefined ? undefined : Number(m[3]);
+  if (month !== undefined && !inRange(month, 1, 12)) {
+    return undefined;
+  }
+  if (month === undefined) {
+    return {
+      startMs: Date.UTC(year, 0, 1),
+      endMs: Date.UTC(year + 1, 0, 1) - 1,
+      precision: 'year',
+    };
+  }
+  if (day === undefined) {
+    return {
+      startMs: Date.UTC(year, month - 1, 1),
+      endMs: Date.UTC(year, month, 1) - 1,
+      precision: 'month',
+    };
+  }
+  const daysInMonth = new Date(Date.UTC(year, month, 0)).getUTCDate();
+  if (!inRange(day, 1, daysInMonth)) {
+    return undefined;
+  }
+  if (m[4] === undefined) {
+    return {
+      startMs: Date.UTC(year, month - 1, day),
+      endMs: Date.UTC(year, month - 1, day + 1) - 1,
+      precision: 'day',
+    };
+  }
+  const hour = Number(m[4]);
+  const minute = Number(m[5]);
+  const second = m[6] === undefined ? 0 : Number(m[6]);
+  if (!inRange(hour, 0, 23) || !inRange(minute, 0, 59) || !inRange(second, 0, 60)) {
+    return undefined;
+  }
+  const fraction = m[7] === undefined ? 0 : Number(`0.${m[7]}`) * 1000;
+  const zone = m[8] ?? 'Z';
+  const sign = zone.startsWith('-') ? -1 : 1;
+  const offsetMin = zone === 'Z' ? 0 : sign * (Number(zone.slice(1, 3)) * 60 + Number(zone.slice(4, 6)));
+  const ms = Date.UTC(year, month - 1, day, hour, minute, second) + fraction - offsetMin * 60_000;
+  return { startMs: ms, endMs: ms, precision: 'time' };
+}
+
+/** A short plain age for notes: "95 min", "9 h", "3 d". */
+export function describeAge(ageMs: number): string {
+  const minutes = Math.round(ageMs / 60_000);
+  if (minutes < 120) {
+    return `${minutes} min`;
+  }
+  const hours = Math.round(minutes / 60);
+  if (hours < 48) {
+    return `${hours} h`;
+  }
+  return `${Math.round(hours / 24)} d`;
+}

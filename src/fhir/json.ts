@@ -1,0 +1,124 @@
+import { z } from 'zod';
+
+/**
+ * Narrowing helpers for untrusted FHIR JSON. Every reader goes through these, so a field of the
+ * wrong shape is skipped (undefined or an empty list) rather than thrown on.
+ */
+
+export type JsonObject = Readonly<Record<string, unknown>>;
+
+export function isObject(value: unknown): value is JsonObject {
+  return typeof value === 'object' && value !== null && !Array.isArray(value);
+}
+
+/** The object at `key`, or undefined. */
+export function objectAt(value: unknown, key: string): JsonObject | undefined {
+  if (!isObject(value)) {
+    return undefined;
+  }
+  const inner = value[key];
+  return isObject(inner) ? inner : undefined;
+}
+
+/** The array at `key` (a lone object is not wrapped: FHIR arrays are always arrays). */
+export function arrayAt(value: unknown, key: string): readonly unknown[] {
+  if (!isObject(value)) {
+    return [];
+  }
+  const inner = value[key];
+  return Array.isArray(inner) ? inner : [];
+}
+
+/** The objects of the array at `key`, skipping anything that is not an object. */
+export function objectsAt(value: unknown, key: string): readonly JsonObject[] {
+  return arrayAt(value, key).filter(isObject);
+}
+
+/** A non-blank string at `key`, trimmed. */
+export function stringAt(value: unknown, key: string): string | undefined {
+  if (!isObject(value)) {
+    return undefined;
+  }
+  const inner = value[key];
+  if (typeof inner !== 'string') {
+    return undefined;
+  }
+  const trimmed = inner.trim();
+  return trimmed === '' ? undefined : trimmed;
+}
+
+const optionalString = z.string().optional().catch(undefined);
+
+/** FHIR Coding; a field of the wrong type is dropped, not the whole coding. */
+export const CodingSchema = z.looseObject({
+  system: optionalString,
+  code: optionalString,
+  display: optionalString,
+});
+export type Coding = z.infer<typeof CodingSchema>;
+
+/** FHIR Quantity: a finite number value is required; unit spellings are kept for display. */
+export const QuantitySchema = z.looseObject({
+  value: z.number(),
+  unit: optionalString,
+  system: optionalString,
+  code: optionalString,
+});
+export type Quantity = z.infer<typeof QuantitySchema>;
+
+export function quantityOf(value: unknown): Quantity | undefined {
+  const parsed = QuantitySchema.safeParse(value);
+  return parsed.success ? parsed.data : undefined;
+}
+
+export const UCUM_SYSTEM = 'http://unitsofmeasure.org';
+
+/**
+ * The unit of a quantity as the sender meant it: the UCUM `code` when the system is UCUM (or absent),
+ * otherwise the human `unit`. Empty when neither is given.
+ */
+export function unitOf(quantity: Quantity): string {
+  const codeIsUcum = quantity.system === undefined || quantity.system === UCUM_SYSTEM;
+  if (quantity.code !== undefined && codeIsUcum) {
+    return quantity.code;
+  }
+  return quantity.unit ?? quantity.code ?? '';
+}
+
+/** The codings of a CodeableConcept, each narrowed. */
+export function codingsOf(concept: unknown): readonly Coding[] {
+  const out: Coding[] = [];
+  for (const raw of arrayAt(concept, 'coding')) {
+    const parsed = CodingSchema.safeParse(raw);
+    if (parsed.success) {
+      out.push(parsed.data);
+    }
+  }
+  return out;
+}
+
+/** The words of a CodeableConcept: its text first, then each coding's display. */
+export function wordsOf(concept: unknown): readonly string[] {
+  const words: string[] = [];
+  const text = stringAt(concept, 'text');
+  if (text !== undefined) {
+    words.push(text);
+  }
+  for (const coding of codingsOf(concept)) {
+    const display = coding.display?.trim();
+    if (display !== undefined && display !== '' && !words.includes(display)) {
+      words.push(display);
+    }
+  }
+  return words;
+}
+
+/** True when the concept carries `code` in `system`. */
+export function hasCode(concept: unknown, system: string, code: string): boolean {
+  return codingsOf(concept).some((c) => c.system === system && c.code?.trim() === code);
+}
+
+/** Removes float noise from a converted value (e.g. 28.000000000000004 → 28). */
+export function tidyNumber(value: number): number {
+  return Number(value.toPrecision(12));
+}

@@ -1,0 +1,137 @@
+import type { ConditionFact, ConditionKind, SetAsideNote } from '../core/types.js';
+import {
+  ICD10_CONDITION_PREFIXES,
+  ICD10_HERBICIDE_PREFIX,
+  SNOMED_CONDITIONS,
+  SYSTEMS,
+  isIcd10System,
+} from './codes.js';
+import type { FhirResource } from './gathered-data.js';
+import { codingsOf, objectAt, wordsOf } from './json.js';
+
+/**
+ * Maps the patient's Conditions onto the kinds that change the oxygen target (BTS 2017 Table 4 and
+ * its special situations): by SNOMED CT code, by ICD-10 code prefix, and by the words of `code.text`
+ * and `coding.display`. Only active conditions count: clinicalStatus active, recurrence or relapse
+ * (or absent, with no abatement), and not refuted or entered in error.
+ */
+
+/** Words for each kind. Matched case-insensitively; a match after "no", "not" or "ruled out" is skipped. */
+const TEXT_PATTERNS: ReadonlyArray<readonly [ConditionKind, RegExp]> = [
+  ['copd', /\bCOPD\b|\bchronic obstructive (?:pulmonary|lung|airways?) disease\b|\bemphysema\b|\bCOAD\b/i],
+  ['bronchiectasis', /\bbronchiectasis\b/i],
+  ['cystic-fibrosis', /\bcystic fibrosis\b/i],
+  ['chest-wall-deformity', /\bkyphoscoliosis\b|\bscoliosis\b|\bchest wall deformity\b|\bthoracoplasty\b/i],
+  [
+    'neuromuscular-disease',
+    /\bmotor neu?rone? disease\b|\bMND\b|\bamyotrophic lateral sclerosis\b|\bmuscular dystrophy\b|\bmyasthenia\b|\bneuromuscular\b|\bGuillain[- ]Barr[eé]\b|\bspinal muscular atrophy\b|\bmyopathy\b|\bdiaphragm(?:atic)? (?:paralysis|palsy|weakness)\b|\bpost-?polio\b/i,
+  ],
+  ['obesity-hypoventilation', /\bobesity hypoventilation\b|\bpickwickian\b/i],
+  ['morbid-obesity', /\bmorbid(?:ly)? obes(?:e|ity)\b|\bsevere obesity\b|\bclass (?:3|III) obesity\b/i],
+  [
+    'chronic-hypercapnic-respiratory-failure',
+    /\btype (?:2|II) respiratory failure\b|\bhypercapnic respiratory failure\b|\brespiratory failure with hypercapnia\b|\bCO2 retention\b|\bcarbon dioxide retention\b/i,
+  ],
+  [
+    'previous-niv-or-imv',
+    /\bhome (?:NIV|BiPAP|ventilation|ventilator)\b|\b(?:previous|prior|history of)\b[^.;]{0,30}\b(?:NIV|intubat\w*|IMV|mechanical(?:ly)? ventilat\w*|invasive ventilation|non-?invasive ventilation)\b|\bventilator[- ]dependen\w*\b/i,
+  ],
+  ['carbon-monoxide-poisoning', /\bcarbon monoxide\b|\bCO poisoning\b|\bcarboxyh(?:a)?emoglobin/i],
+  ['paraquat-poisoning', /\bparaquat\b/i],
+  ['bleomycin-lung-injury', /\bbleomycin\b/i],
+  ['cluster-headache', /\bcluster headache/i],
+  ['pneumothorax', /\bpneumothora(?:x|ces)\b/i],
+  [
+    'sickle-cell-crisis',
+    /\bsickle[- ]cell (?:\w+ )?crisis\b|\bsickle crisis\b|\bvaso-?occlusive crisis\b|\bacute chest syndrome\b/i,
+  ],
+  ['pregnancy', /\bpregnan(?:t|cy)\b(?! test)|\bgravid\b/i],
+];
+
+const NEGATED = /\b(?:no|not|non|without|denies|ruled out|excluded|negative for)\W+(?:\w+\W+){0,2}$/i;
+const INACTIVE_CLINICAL = new Set(['inactive', 'remission', 'resolved']);
+const UNTRUE_VERIFICATION = new Set(['refuted', 'entered-in-error']);
+
+function isActive(condition: FhirResource): boolean {
+  const clinical = codingsOf(condition['clinicalStatus']).map((c) => c.code?.toLowerCase());
+  const verification = codingsOf(condition['verificationStatus']).map((c) => c.code?.toLowerCase());
+  if (verification.some((c) => c !== undefined && UNTRUE_VERIFICATION.has(c))) {
+    return false;
+  }
+  if (clinical.length === 0) {
+    const abated = Object.keys(condition).some((k) => k.startsWith('abatement'));
+    return !abated;
+  }
+  return !clinical.some((c) => c !== undefined && INACTIVE_CLINICAL.has(c));
+}
+
+function icd10Kind(code: string): ConditionKind | undefined {
+  const bare = code.replace(/\./g, '').toUpperCase();
+  let best: readonly [string, ConditionKind] | undefined;
+  for (const entry of ICD10_CONDITION_PREFIXES) {
+    if (bare.startsWith(entry[0]) && (best === undefined || entry[0].length > best[0].length)) {
+      best = entry;
+    }
+  }
+  return best?.[1];
+}
+
+function textMatches(words: readonly string[], pattern: RegExp): string | undefined {
+  for (const w of words) {
+    const m = pattern.exec(w);
+    if (m !== null && !NEGATED.test(w.slice(0, m.index))) {
+      return w;
+    }
+  }
+  return undefined;
+}
+
+export interface ConditionsRead {
+  readonly conditions: readonly ConditionFact[];
+  readonly notes: readonly SetAsideNote[];
+}
+
+export function readConditions(resources: readonly FhirResource[]): ConditionsRead {
+  const conditions: ConditionFact[] = [];
+  const notes: SetAsideNote[] = [];
+  for (const condition of resources) {
+    if (condition.resourceType !== 'Condition' || !isActive(condition)) {
+      continue;
+    }
+    const reference = condition.id === undefined ? undefined : `Condition/${condition.id}`;
+    const code = objectAt(condition, 'code');
+    const words = wordsOf(code);
+    const display = words[0] ?? codingsOf(code)[0]?.code ?? '(unnamed condition)';
+    const found = new Map<ConditionKind, string>();
+    for (const coding of codingsOf(code)) {
+      const value = coding.code?.trim();
+      if (value === undefined) continue;
+      const isSnomed = coding.system === SYSTEMS.snomed;
+      const isIcd10 = isIcd10System(coding.system);
+      const kind = isSnomed ? SNOMED_CONDITIONS[value] : isIcd10 ? icd10Kind(value) : undefined;
+      if (kind !== undefined && !found.has(kind)) {
+        found.set(kind, `${isSnomed ? 'SNOMED CT' : 'ICD-10'} ${value}`);
+      }
+      const isHerbicide = isIcd10 && value.replace(/\./g, '').toUpperCase().startsWith(ICD10_HERBICIDE_PREFIX);
+      if (isHerbicide && textMatches(words, /paraquat/i) === undefined) {
+        notes.push({
+          what: display,
+          reason: 'unrecognised',
+          detail: `ICD-10 ${value} does not say which herbicide; paraquat poisoning was not assumed.`,
+          reference,
+        });
+      }
+    }
+    for (const [kind, pattern] of TEXT_PATTERNS) {
+      const matched = found.has(kind) ? undefined : textMatches(words, pattern);
+      if (matched !== undefined) {
+        found.set(kind, `text: '${matched}'`);
+      }
+    }
+    for (const [kind, matchedBy] of found) {
+      conditions.push({ kind, matchedBy, display, reference });
+    }
+  }
+  return { conditions, notes };
+}
+

@@ -1,0 +1,118 @@
+import type { DeviceKind } from '../core/types.js';
+import { clauseBefore } from './read-target-text.js';
+
+/**
+ * Finds the device named in order words and maps the trade's words onto our device kinds (the
+ * word lists in docs/basis/devices.md and docs/fhir-input.md): nasal cannula/cannulae/prongs/specs/NC;
+ * simple, Hudson, face or MC mask; Venturi, fixed-performance, air-entrainment or "28% mask";
+ * non-rebreather, NRB, reservoir or trauma mask; high-flow nasal, HFNC, HFNO (and, less specifically,
+ * "high flow"); tracheostomy mask or collar; CPAP, NIV, BiPAP, NIPPV. Words with no kind (T-piece,
+ * bag-valve mask, partial rebreathing mask, bare "mask") are left unmapped. A specific word beats
+ * a generic one ("high flow via non-rebreather" is a reservoir mask); otherwise the first mention
+ * wins. Mentions of history or plans ("home NIV", "escalate to NRB") are not the device ordered.
+ */
+
+export interface DeviceMention {
+  readonly device: DeviceKind;
+  readonly text: string;
+  readonly start: number;
+  readonly end: number;
+  readonly specific: boolean;
+}
+
+interface DevicePattern {
+  readonly device: DeviceKind;
+  readonly pattern: RegExp;
+  readonly specific: boolean;
+}
+
+const PATTERNS: readonly DevicePattern[] = [
+  {
+    device: 'high-flow-nasal-cannula',
+    specific: true,
+    pattern:
+      /\bH?HFN(?:C|O|OT)\b|\bNHF\b|\b(?:heated humidified )?high[- ]?flow nasal(?: (?:cannula[es]?|cannulae|oxygen|prongs?|therapy))?\b|\bnasal high[- ]?flow\b/gi,
+  },
+  {
+    device: 'nasal-cannula',
+    specific: true,
+    pattern: /\bnasal (?:cannula[es]?|cannulae|canula|prongs?|specs|spectacles)\b|\bNC\b|\bn\/c\b/gi,
+  },
+  {
+    device: 'simple-face-mask',
+    specific: true,
+    pattern: /\bsimple (?:face )?mask\b|\bHudson(?: mask)?\b|\bMC mask\b|\bmedium[- ]concentration mask\b/gi,
+  },
+  {
+    device: 'venturi-mask',
+    specific: true,
+    pattern:
+      /\bventuri(?: mask)?\b|\bfixed[- ]performance(?: mask)?\b|\bair[- ]entrainment(?: mask)?\b|\bcontrolled[- ]oxygen mask\b|\bHAFOE\b|\bV(?:M ?)?(?:24|28|31|35|40|50|60)\b|(?<![\d.])(?:24|28|31|35|40|50|60) ?% ?mask\b/gi,
+  },
+  {
+    device: 'reservoir-mask',
+    specific: true,
+    pattern:
+      /\bnon[- ]?re-?breath(?:er|ing)(?: (?:reservoir )?mask)?\b|\bNRBM?\b|\breservoir[- ](?:bag )?mask\b|\btrauma mask\b|\bhigh[- ]concentration mask\b|(?<![\d.])15 ?L mask\b/gi,
+  },
+  {
+    device: 'tracheostomy-mask',
+    specific: true,
+    pattern: /\b(?:trach|trache|trachy|tracheostomy|tracheal) (?:mask|collar)\b|\bstoma mask\b/gi,
+  },
+  {
+    device: 'cpap-niv',
+    specific: true,
+    pattern:
+      /\bC-?PAP\b|\bNIV\b|\bBi-?PAP\b|\bBPAP\b|\bbi-?level\b|\bNIPPV\b|\bcontinuous positive airway pressure\b|\bnon[- ]?invasive (?:positive[- ]pressure )?ventilation\b/gi,
+  },
+  { device: 'high-flow-nasal-cannula', specific: false, pattern: /\bhigh[- ]?flow\b/gi },
+  { device: 'simple-face-mask', specific: false, pattern: /\b(?:face|oxygen|O2) mask\b/gi },
+];
+
+/** Words that make a device mention history, a plan or a negation rather than the order. */
+const NOT_THE_ORDER =
+  /\b(?:previous(?:ly)?|prior|home|history|hx|was on|weaned|stepped down|step down from|not|no|nil|avoid|instead of|escalate|escalating|step up|consider|if)\b/i;
+
+export function findDeviceMentions(text: string): readonly DeviceMention[] {
+  const found: DeviceMention[] = [];
+  for (const { device, pattern, specific } of PATTERNS) {
+    for (const m of text.matchAll(pattern)) {
+      const start = m.index;
+      const end = start + m[0].length;
+      const overlaps = found.some((f) => start < f.end && end > f.start);
+      if (!overlaps) {
+        found.push({ device, text: m[0], start, end, specific });
+      }
+    }
+  }
+  return found.sort((a, b) => a.start - b.start);
+}
+
+/** True when the words before `index` in its clause say it is not what is being ordered. */
+export function isOutsideTheOrder(text: string, index: number): boolean {
+  const clause = clauseBefore(text, index);
+  // Only the words since the last comma: "2L NC, home NIV" guards NIV, not the cannula after it.
+  return NOT_THE_ORDER.test(clause.slice(clause.lastIndexOf(',') + 1));
+}
+
+export interface DeviceTextRead {
+  readonly device: DeviceKind;
+  readonly deviceText: string;
+  /** Other device kinds the same text names (outside history and plans); the caller notes these. */
+  readonly alsoNamed: readonly DeviceKind[];
+}
+
+/** The device the text orders, if it names one. */
+export function readDeviceText(text: string): DeviceTextRead | undefined {
+  const current = findDeviceMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
+  const chosen = current.find((m) => m.specific) ?? current[0];
+  if (chosen === undefined) {
+    return undefined;
+  }
+  const others = current
+    .filter((m) => m.specific && m.device !== chosen.device)
+    .map((m) => m.device)
+    .filter((d, i, all) => all.indexOf(d) === i);
+  return { device: chosen.device, deviceText: chosen.text, alsoNamed: others };
+}

@@ -1,0 +1,182 @@
+import type { SetAsideNote } from '../core/types.js';
+import {
+  LOINC_OBSERVATIONS,
+  SYSTEMS,
+  type GasField,
+  type MeasuredKind,
+  type ObservationCode,
+} from './codes.js';
+import { parseFhirDateTime } from './fhir-date.js';
+import type { FhirResource } from './gathered-data.js';
+import { codingsOf, isObject, objectAt, objectsAt, quantityOf, stringAt } from './json.js';
+import { PLAUSIBLE, describeRange, isPlausible, type PlausibleRange } from './plausibility.js';
+import { readQuantity, type TargetUnit } from './read-quantity.js';
+
+/**
+ * Reads the values in Observations (and in their components, as in the US Core pulse-oximetry
+ * profile, which carries O2 flow and concentration as components) into plain readings in the units
+ * our field names promise. Freshness and grouping are the caller's job.
+ */
+
+export interface Reading {
+  readonly code: ObservationCode;
+  readonly value: number;
+  readonly reported: { readonly value: number; readonly unit: string };
+  /** Effective time as the source wrote it, and as epoch milliseconds. */
+  readonly at: string;
+  readonly atMs: number;
+  readonly reference: string | undefined;
+  /** Set when a panel (`hasMember`) or a specimen ties this value to others of the same sample. */
+  readonly sampleKey: string | undefined;
+}
+
+const USED_STATUSES = new Set(['preliminary', 'final', 'amended', 'corrected']);
+const ERROR_STATUSES = new Set(['entered-in-error', 'cancelled']);
+
+const UNIT_OF: Readonly<Record<MeasuredKind, TargetUnit>> = {
+  spo2: 'percent',
+  fio2: 'fraction',
+  'o2-flow': 'L/min',
+  'resp-rate': '/min',
+  haemoglobin: 'g/dL',
+  bmi: 'kg/m2',
+};
+const GAS_UNIT_OF: Readonly<Record<GasField, TargetUnit>> = {
+  ph: 'pH',
+  po2: 'mm[Hg]',
+  pco2: 'mm[Hg]',
+  hco3: 'mmol/L',
+  baseExcess: 'mmol/L',
+};
+const LIMITS_OF: Readonly<Record<MeasuredKind, PlausibleRange>> = {
+  spo2: PLAUSIBLE.spo2Percent,
+  fio2: PLAUSIBLE.fio2Fraction,
+  'o2-flow': PLAUSIBLE.o2FlowLPerMin,
+  'resp-rate': PLAUSIBLE.respRatePerMin,
+  haemoglobin: PLAUSIBLE.haemoglobinGPerDL,
+  bmi: PLAUSIBLE.bmiKgPerM2,
+};
+const GAS_LIMITS_OF: Readonly<Record<GasField, PlausibleRange>> = {
+  ph: PLAUSIBLE.ph,
+  po2: PLAUSIBLE.po2MmHg,
+  pco2: PLAUSIBLE.pco2MmHg,
+  hco3: PLAUSIBLE.hco3MmolPerL,
+  baseExcess: PLAUSIBLE.baseExcessMmolPerL,
+};
+
+/** The recognised LOINC code of a CodeableConcept, if any (a code needs its system to count). */
+export function observationCodeOf(concept: unknown): ObservationCode | undefined {
+  for (const coding of codingsOf(concept)) {
+    const code = coding.code?.trim();
+    if (coding.system === SYSTEMS.loinc && code !== undefined) {
+      const known = LOINC_OBSERVATIONS[code];
+      if (known !== undefined) {
+        return known;
+      }
+    }
+  }
+  return undefined;
+}
+
+function effectiveTime(obs: FhirResource): string | undefined {
+  const period = objectAt(obs, 'effectivePeriod');
+  return (
+    stringAt(obs, 'effectiveDateTime') ??
+    stringAt(obs, 'effectiveInstant') ??
+    stringAt(period, 'end') ??
+    stringAt(period, 'start') ??
+    stringAt(obs, 'issued')
+  );
+}
+
+interface Context {
+  readonly at: string;
+  readonly atMs: number;
+  readonly reference: string | undefined;
+  readonly sampleKey: string | undefined;
+}
+
+function readValue(
+  code: ObservationCode,
+  holder: unknown,
+  ctx: Context,
+  notes: SetAsideNote[],
+): Reading | undefined {
+  const hasValue = isObject(holder) && Object.keys(holder).some((k) => k.startsWith('value'));
+  if (!hasValue) {
+    return undefined; // no result (dataAbsentReason, or a panel whose values are its members)
+  }
+  const quantity = quantityOf(objectAt(holder, 'valueQuantity'));
+  const note = (reason: SetAsideNote['reason'], detail: string): undefined => {
+    notes.push({ what: code.label, reason, detail, reference: ctx.reference });
+    return undefined;
+  };
+  if (quantity === undefined) {
+    return note('unrecognised', 'The value is not a number with a unit (valueQuantity).');
+  }
+  const read = readQuantity(quantity, code.kind === 'gas' ? GAS_UNIT_OF[code.field] : UNIT_OF[code.kind]);
+  if (read.kind !== 'ok') {
+    return note('unreadable-unit', `${quantity.value} '${read.unit}' is not a unit this value can be read in.`);
+  }
+  const limits = code.kind === 'gas' ? GAS_LIMITS_OF[code.field] : LIMITS_OF[code.kind];
+  if (!isPlausible(read.value, limits)) {
+    const shown = `${read.reported.value}${read.reported.unit === '' ? '' : ` ${read.reported.unit}`}`;
+    return note('implausible', `${shown} is outside the plausible range ${describeRange(limits)}.`);
+  }
+  return { code, value: read.value, reported: read.reported, ...ctx };
+}
+
+/**
+ * The readings in one Observation. `panelOf` maps an Observation reference to the panel that lists
+ * it in `hasMember`, so a gas sample sent as separate Observations stays together.
+ */
+export function readObservationValues(
+  obs: FhirResource,
+  panelOf: ReadonlyMap<string, string>,
+  notes: SetAsideNote[],
+): readonly Reading[] {
+  if (obs.resourceType !== 'Observation') {
+    return [];
+  }
+  const reference = obs.id === undefined ? undefined : `Observation/${obs.id}`;
+  const top = observationCodeOf(obs['code']);
+  const components = objectsAt(obs, 'component')
+    .map((c) => ({ code: observationCodeOf(c['code']), holder: c }))
+    .filter((c): c is { code: ObservationCode; holder: typeof c.holder } => c.code !== undefined);
+  const first = top ?? components[0]?.code;
+  if (first === undefined) {
+    return []; // not an observation this service reads
+  }
+  const status = stringAt(obs, 'status')?.toLowerCase();
+  const skip = (reason: SetAsideNote['reason'], detail: string): readonly Reading[] => {
+    notes.push({ what: first.label, reason, detail, reference });
+    return [];
+  };
+  if (status !== undefined && ERROR_STATUSES.has(status)) {
+    return skip('error-in-source', `The result has status '${status}' and was not used.`);
+  }
+  if (status === undefined || !USED_STATUSES.has(status)) {
+    const shown = status ?? '(none)';
+    return skip('unrecognised', `The result status '${shown}' is not preliminary, final, amended or corrected.`);
+  }
+  const at = effectiveTime(obs);
+  const parsed = parseFhirDateTime(at);
+  if (at === undefined || parsed === undefined) {
+    return skip('unrecognised', 'The result has no readable effective time, so its age is unknown.');
+  }
+  const specimen = stringAt(objectAt(obs, 'specimen'), 'reference');
+  const panel = reference === undefined ? undefined : panelOf.get(reference);
+  const specimenKey = specimen === undefined ? undefined : `specimen:${specimen}`;
+  const sampleKey = panel === undefined ? specimenKey : `panel:${panel}`;
+  const ctx: Context = { at, atMs: parsed.startMs, reference, sampleKey };
+  const readings: Reading[] = [];
+  if (top !== undefined) {
+    const r = readValue(top, obs, ctx, notes);
+    if (r !== undefined) readings.push(r);
+  }
+  for (const c of components) {
+    const r = readValue(c.code, c.holder, ctx, notes);
+    if (r !== undefined) readings.push(r);
+  }
+  return readings;
+}

@@ -1,0 +1,146 @@
+import type { Policy } from '../core/policy.js';
+import type { BloodGas, Measured, SetAsideNote } from '../core/types.js';
+import type { MeasuredKind } from './codes.js';
+import { describeAge } from './fhir-date.js';
+import type { FhirResource } from './gathered-data.js';
+import { arrayAt, stringAt } from './json.js';
+import { FUTURE_SKEW_MS } from './plausibility.js';
+import { groupBloodGases } from './read-blood-gases.js';
+import { readObservationValues, type Reading } from './read-observation-values.js';
+
+/**
+ * Reads the patient's Observations into current values (within the policy's freshness windows, most
+ * recent first), older blood gases kept as history, and notes for what was set aside. A stale kind
+ * gets one note, and only when nothing current of that kind is left ("Latest SpO2 is 9 h old").
+ */
+
+export interface ObservationFacts {
+  readonly spo2Percent: readonly Measured[];
+  readonly fio2Fraction: readonly Measured[];
+  readonly o2FlowLPerMin: readonly Measured[];
+  readonly respRatePerMin: readonly Measured[];
+  readonly haemoglobinGPerDL: readonly Measured[];
+  readonly bloodGases: readonly BloodGas[];
+  readonly historicBloodGases: readonly BloodGas[];
+  /** The newest plausible BMI, whatever its age (no policy window applies). */
+  readonly bmiKgPerM2: number | undefined;
+  readonly notes: readonly SetAsideNote[];
+}
+
+const LABEL: Readonly<Record<MeasuredKind, string>> = {
+  spo2: 'SpO2',
+  fio2: 'FiO2',
+  'o2-flow': 'Oxygen flow',
+  'resp-rate': 'Respiratory rate',
+  haemoglobin: 'Haemoglobin',
+  bmi: 'BMI',
+};
+
+/** Observation references listed in a panel's `hasMember`, mapped to the panel. */
+function panelMembership(observations: readonly FhirResource[]): Map<string, string> {
+  const panelOf = new Map<string, string>();
+  for (const [i, obs] of observations.entries()) {
+    const panel = obs.id ?? `#${i}`;
+    for (const member of arrayAt(obs, 'hasMember')) {
+      const ref = stringAt(member, 'reference');
+      const tail = ref?.split('/').slice(-2).join('/');
+      if (tail?.startsWith('Observation/') === true) {
+        panelOf.set(tail, panel);
+      }
+    }
+  }
+  return panelOf;
+}
+
+function futureNote(what: string, ageMs: number, reference: string | undefined): SetAsideNote {
+  return { what, reason: 'implausible', detail: `Dated ${describeAge(-ageMs)} in the future.`, reference };
+}
+
+function staleNote(
+  what: string,
+  ageMs: number,
+  windowMinutes: number,
+  reference: string | undefined,
+  more = '',
+): SetAsideNote {
+  const named = what === 'Blood gas' ? 'blood gas' : what;
+  const window = describeAge(windowMinutes * 60_000);
+  const detail = `Latest ${named} is ${describeAge(ageMs)} old (current within ${window})${more}.`;
+  return { what, reason: 'stale', detail, reference };
+}
+
+function currentOf(
+  readings: readonly Reading[],
+  kind: MeasuredKind,
+  windowMinutes: number,
+  nowMs: number,
+  notes: SetAsideNote[],
+): Measured[] {
+  const own = readings.filter((r) => r.code.kind === kind).sort((a, b) => b.atMs - a.atMs);
+  const current: Measured[] = [];
+  let newestStale: Reading | undefined;
+  for (const r of own) {
+    const ageMs = nowMs - r.atMs;
+    if (ageMs < -FUTURE_SKEW_MS) {
+      notes.push(futureNote(LABEL[kind], ageMs, r.reference));
+    } else if (ageMs > windowMinutes * 60_000) {
+      newestStale ??= r;
+    } else {
+      current.push({ value: r.value, at: r.at, reported: r.reported, reference: r.reference });
+    }
+  }
+  if (current.length === 0 && newestStale !== undefined) {
+    notes.push(staleNote(LABEL[kind], nowMs - newestStale.atMs, windowMinutes, newestStale.reference));
+  }
+  return current;
+}
+
+export function readObservations(
+  observations: readonly FhirResource[],
+  freshness: Policy['freshness'],
+  now: Date,
+): ObservationFacts {
+  const nowMs = now.getTime();
+  const notes: SetAsideNote[] = [];
+  const panelOf = panelMembership(observations);
+  const readings = observations.flatMap((obs) => readObservationValues(obs, panelOf, notes));
+
+  const vitals = freshness.vitalSignsMinutes;
+  const bmi = readings
+    .filter((r) => r.code.kind === 'bmi' && r.atMs - nowMs <= FUTURE_SKEW_MS)
+    .sort((a, b) => b.atMs - a.atMs)[0];
+
+  const bloodGases: BloodGas[] = [];
+  const historicBloodGases: BloodGas[] = [];
+  let newestOld: { ageMs: number; reference: string | undefined } | undefined;
+  for (const sample of groupBloodGases(readings.filter((r) => r.code.kind === 'gas'))) {
+    const ageMs = nowMs - sample.atMs;
+    if (ageMs < -FUTURE_SKEW_MS) {
+      notes.push(futureNote('Blood gas', ageMs, sample.reference));
+    } else if (ageMs <= freshness.bloodGasMinutes * 60_000) {
+      bloodGases.push(sample.gas);
+    } else {
+      newestOld ??= { ageMs, reference: sample.reference };
+      if (ageMs <= freshness.previousHypercapniaDays * 86_400_000) {
+        historicBloodGases.push(sample.gas);
+      }
+    }
+  }
+  if (bloodGases.length === 0 && newestOld !== undefined) {
+    const kept =
+      historicBloodGases.length > 0 ? '; older gases are kept only to show previous hypercapnia' : '';
+    notes.push(staleNote('Blood gas', newestOld.ageMs, freshness.bloodGasMinutes, newestOld.reference, kept));
+  }
+
+  return {
+    spo2Percent: currentOf(readings, 'spo2', vitals, nowMs, notes),
+    fio2Fraction: currentOf(readings, 'fio2', vitals, nowMs, notes),
+    o2FlowLPerMin: currentOf(readings, 'o2-flow', vitals, nowMs, notes),
+    respRatePerMin: currentOf(readings, 'resp-rate', vitals, nowMs, notes),
+    haemoglobinGPerDL: currentOf(readings, 'haemoglobin', freshness.haemoglobinHours * 60, nowMs, notes),
+    bloodGases,
+    historicBloodGases,
+    bmiKgPerM2: bmi?.value,
+    notes,
+  };
+}

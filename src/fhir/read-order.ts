@@ -1,0 +1,200 @@
+import type { DeviceKind, OrderTarget, OxygenOrder, SetAsideNote } from '../core/types.js';
+import type { FhirResource } from './gathered-data.js';
+import type { OrderResourceType } from './is-oxygen-order.js';
+import { objectAt, quantityOf, stringAt, unitOf } from './json.js';
+import { orderParts, type FoundQuantity, type OrderParts } from './order-parts.js';
+import { PLAUSIBLE, describeRange, isPlausible } from './plausibility.js';
+import { readDeviceText } from './read-device-text.js';
+import { readRangeAsTarget, readTargetExtension } from './read-order-target.js';
+import { readQuantity } from './read-quantity.js';
+import { readSettingText, type SettingTextRead } from './read-setting-text.js';
+import { readTargetText } from './read-target-text.js';
+import { normaliseUnit } from '../units/convert.js';
+
+/**
+ * Reads one oxygen order into an OxygenOrder: coded elements first, then the order's words. Where
+ * the two disagree the coded value is used and a note says so, because a clinician may have edited
+ * only one of them.
+ */
+
+export interface OrderRead {
+  readonly order: OxygenOrder;
+  readonly notes: readonly SetAsideNote[];
+}
+
+interface Settings {
+  flow: number | undefined;
+  fio2: number | undefined;
+}
+
+/** Collects the notes of one order, each carrying the order's reference. */
+class OrderNotes {
+  readonly list: SetAsideNote[] = [];
+  constructor(private readonly reference: string) {}
+
+  add(reason: SetAsideNote['reason'], what: string, detail: string): void {
+    this.list.push({ what, reason, detail, reference: this.reference });
+  }
+
+  disagree(what: string, coded: string, written: string): void {
+    const detail = `The order text says ${written} but the coded value is ${coded}; the coded value was used.`;
+    this.add('error-in-source', what, detail);
+  }
+
+  plausibleFlow(value: number): number | undefined {
+    if (isPlausible(value, PLAUSIBLE.o2FlowLPerMin)) {
+      return value;
+    }
+    const limits = describeRange(PLAUSIBLE.o2FlowLPerMin);
+    this.add('implausible', 'Ordered oxygen flow', `${value} L/min is outside ${limits}.`);
+    return undefined;
+  }
+
+  plausibleFio2(value: number): number | undefined {
+    if (isPlausible(value, PLAUSIBLE.fio2Fraction)) {
+      return value;
+    }
+    this.add('implausible', 'Ordered FiO2', `${value} is outside ${describeRange(PLAUSIBLE.fio2Fraction)}.`);
+    return undefined;
+  }
+}
+
+function readStructuredSettings(found: readonly FoundQuantity[], notes: OrderNotes): Settings {
+  const settings: Settings = { flow: undefined, fio2: undefined };
+  for (const item of found) {
+    const quantity = quantityOf(item.value);
+    if (quantity === undefined) {
+      continue;
+    }
+    const flow = item.says === 'fio2' ? undefined : readQuantity(quantity, 'L/min');
+    if (flow?.kind === 'ok') {
+      settings.flow ??= notes.plausibleFlow(flow.value);
+      continue;
+    }
+    if (item.says === 'flow-only') {
+      continue; // a device parameter we do not know (humidity, temperature...) is not ours to read
+    }
+    const written = unitOf(quantity);
+    const unit = normaliseUnit(written);
+    const isShareUnit = written !== '' && (unit === '%' || unit === '1');
+    const maybeFio2 = item.says === 'fio2' || (item.says === 'either' && isShareUnit);
+    const fio2 = maybeFio2 ? readQuantity(quantity, 'fraction') : undefined;
+    if (fio2?.kind === 'ok') {
+      settings.fio2 ??= notes.plausibleFio2(fio2.value);
+      continue;
+    }
+    const shown = `${quantity.value} ${written === '' ? '(no unit)' : written}`;
+    const detail = `${shown} at ${item.where} is neither a flow nor an oxygen concentration.`;
+    notes.add('unreadable-unit', 'Order quantity', detail);
+  }
+  return settings;
+}
+
+interface DeviceRead {
+  readonly device: DeviceKind | undefined;
+  readonly text: string | undefined;
+}
+
+function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
+  const reads = [...parts.deviceWords, ...parts.texts].map(readDeviceText).filter((r) => r !== undefined);
+  const first = reads[0];
+  const chosen = parts.deviceFromCode ?? (first && { device: first.device, text: first.deviceText });
+  if (chosen === undefined) {
+    return { device: undefined, text: parts.deviceName };
+  }
+  const named = new Set(reads.flatMap((r) => [r.device, ...r.alsoNamed]));
+  const others = [...named].filter((d) => d !== chosen.device);
+  if (others.length > 0) {
+    const detail = `The order also names ${others.join(', ')}; it was read as ${chosen.device} ('${chosen.text}').`;
+    notes.add('unrecognised', 'Ordered device', detail);
+  }
+  return { device: chosen.device, text: chosen.text };
+}
+
+function readTarget(parts: OrderParts, reference: string, notes: OrderNotes): OrderTarget | undefined {
+  let structured = readTargetExtension(parts.targetHolders, reference);
+  for (const range of parts.targetRanges) {
+    if (structured.range !== undefined) break;
+    structured = readRangeAsTarget(range, 'Target SpO2 parameter', reference);
+  }
+  notes.list.push(...structured.notes);
+  const written = parts.texts.map(readTargetText).find((r) => r !== undefined);
+  if (structured.range === undefined) {
+    return written === undefined ? undefined : { ...written, readFrom: 'text' };
+  }
+  const { lowPercent: low, highPercent: high } = structured.range;
+  if (written !== undefined && (written.lowPercent !== low || written.highPercent !== high)) {
+    notes.disagree('Ordered target SpO2', `${low}–${high} %`, `${written.lowPercent}–${written.highPercent} %`);
+  }
+  return { ...structured.range, readFrom: 'structured' };
+}
+
+function readFlow(
+  parts: OrderParts,
+  coded: number | undefined,
+  written: readonly SettingTextRead[],
+  notes: OrderNotes,
+): number | undefined {
+  const writtenFlow = written.find((w) => w.flowLPerMin !== undefined || w.flowRange !== undefined);
+  let flow = coded;
+  if (flow === undefined && writtenFlow?.flowLPerMin !== undefined) {
+    flow = notes.plausibleFlow(writtenFlow.flowLPerMin);
+  } else if (flow !== undefined && writtenFlow?.flowLPerMin !== undefined && writtenFlow.flowLPerMin !== flow) {
+    notes.disagree('Ordered oxygen flow', `${flow} L/min`, `${writtenFlow.flowLPerMin} L/min`);
+  }
+  const codedRange = parts.flowRanges[0];
+  const valueAt = (key: string): number | undefined => quantityOf(objectAt(codedRange, key))?.value;
+  const range = codedRange === undefined ? writtenFlow?.flowRange : { low: valueAt('low'), high: valueAt('high') };
+  if (flow === undefined && range !== undefined) {
+    const shown = `${range.low ?? '?'}–${range.high ?? '?'} L/min`;
+    const detail = `The flow is given as a range (${shown}), not one setting, so no flow was read.`;
+    notes.add('unrecognised', 'Ordered oxygen flow', detail);
+  }
+  return flow;
+}
+
+function readFio2(
+  coded: number | undefined,
+  written: readonly SettingTextRead[],
+  notes: OrderNotes,
+): number | undefined {
+  const writtenFio2 = written.find((w) => w.setFio2Fraction !== undefined)?.setFio2Fraction;
+  if (coded === undefined) {
+    return writtenFio2 === undefined ? undefined : notes.plausibleFio2(writtenFio2);
+  }
+  if (writtenFio2 !== undefined && writtenFio2 !== coded) {
+    notes.disagree('Ordered FiO2', String(coded), String(writtenFio2));
+  }
+  return coded;
+}
+
+/** Reads an oxygen order; `reference` is its `Type/id`, `isSubject` whether it is under check. */
+export function readOrder(
+  resource: FhirResource,
+  type: OrderResourceType,
+  reference: string,
+  isSubject: boolean,
+): OrderRead {
+  const notes = new OrderNotes(reference);
+  const parts = orderParts(resource, type);
+  const coded = readStructuredSettings(parts.quantities, notes);
+  const device = readDevice(parts, notes);
+  const written = parts.texts.map((t) => readSettingText(t, device.device));
+  const flowLPerMin = readFlow(parts, coded.flow, written, notes);
+  const setFio2Fraction = readFio2(coded.fio2, written, notes);
+  return {
+    order: {
+      reference,
+      resourceType: type,
+      status: stringAt(resource, 'status'),
+      device: device.device,
+      deviceText: device.text,
+      flowLPerMin,
+      setFio2Fraction,
+      target: readTarget(parts, reference, notes),
+      authoredOn: stringAt(resource, 'authoredOn'),
+      isSubject,
+    },
+    notes: notes.list,
+  };
+}

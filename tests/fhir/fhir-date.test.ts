@@ -1,0 +1,43 @@
+import { describe, expect, it } from 'vitest';
+import { describeAge, parseFhirDateTime } from '../../src/fhir/fhir-date.js';
+
+describe('parseFhirDateTime', () => {
+  // FHIR R4 date/dateTime formats (hl7.org/fhir/R4/datatypes.html; from memory)
+  it.each([
+    ['2026-12-01T10:30:00Z', '2026-12-01T10:30:00.000Z', 'time'],
+    ['2026-12-01T10:30:00+02:00', '2026-12-01T08:30:00.000Z', 'time'],
+    ['2026-12-01T10:30:00.250-05:00', '2026-12-01T15:30:00.250Z', 'time'],
+    ['2026-12-01T10:30Z', '2026-12-01T10:30:00.000Z', 'time'],
+    ['2026-12-01T10:30:00', '2026-12-01T10:30:00.000Z', 'time'], // no zone: read as UTC, not server time
+    ['2026-12-01', '2026-12-01T00:00:00.000Z', 'day'],
+    ['2026-12', '2026-12-01T00:00:00.000Z', 'month'],
+    ['2026', '2026-01-01T00:00:00.000Z', 'year'],
+  ])('reads %s', (text, startIso, precision) => {
+    const parsed = parseFhirDateTime(text);
+    expect(parsed?.precision).toBe(precision);
+    expect(new Date(parsed?.startMs ?? Number.NaN).toISOString()).toBe(startIso);
+  });
+
+  it('gives the last moment of a partial date as its end', () => {
+    expect(new Date(parseFhirDateTime('2024-02')?.endMs ?? 0).toISOString()).toBe('2024-02-29T23:59:59.999Z');
+  });
+
+  describe('edge cases', () => {
+    it.each([['2026-02-30'], ['2026-13'], ['2026-12-01T25:00:00Z'], ['01/12/2026'], ['today'], [''], [20261201], [null], [{}]])(
+      'rejects %j',
+      (value) => {
+        expect(parseFhirDateTime(value)).toBeUndefined();
+      },
+    );
+  });
+});
+
+describe('describeAge', () => {
+  it.each([
+    [95 * 60_000, '95 min'],
+    [9 * 3_600_000, '9 h'],
+    [3 * 86_400_000, '3 d'],
+  ])('gives %i ms as %s', (ms, text) => {
+    expect(describeAge(ms)).toBe(text);
+  });
+});

@@ -1,0 +1,42 @@
+import { describe, expect, it } from 'vitest';
+import { observationCodeOf, readObservationValues } from '../../src/fhir/read-observation-values.js';
+import type { SetAsideNote } from '../../src/core/types.js';
+import { LOINC, observation } from './helpers/larkspur-bay.js';
+
+describe('readObservationValues', () => {
+  it('reads the value with its time, reference and panel', () => {
+    const notes: SetAsideNote[] = [];
+    const obs = observation('m1', '2019-8', 6.0, 'kPa', '2026-12-01T10:00:00Z');
+    const [r] = readObservationValues(obs, new Map([['Observation/m1', 'abg']]), notes);
+    expect(r).toMatchObject({ at: '2026-12-01T10:00:00Z', atMs: Date.UTC(2026, 11, 1, 10), reference: 'Observation/m1', sampleKey: 'panel:abg' });
+    expect(r?.value).toBeCloseTo(45.0, 1); // 6.0 kPa = 45 mmHg (BTS 2017 hypercapnia threshold; check-values 3g)
+    expect(notes).toStrictEqual([]);
+  });
+
+  it('takes the time from effectivePeriod.end, else issued', () => {
+    const withPeriod = { ...observation('a', '9279-1', 20, '/min', 'x'), effectiveDateTime: undefined, effectivePeriod: { start: '2026-12-01T09:00:00Z', end: '2026-12-01T09:05:00Z' } };
+    const withIssued = { ...observation('b', '9279-1', 20, '/min', 'x'), effectiveDateTime: undefined, issued: '2026-12-01T09:10:00Z' };
+    const times = [withPeriod, withIssued].map((o) => readObservationValues(o, new Map(), [])[0]?.at);
+    expect(times).toStrictEqual(['2026-12-01T09:05:00Z', '2026-12-01T09:10:00Z']);
+  });
+
+  it('groups by specimen reference when no panel lists the value', () => {
+    const obs = observation('s', '2744-1', 7.35, '[pH]', '2026-12-01T10:00:00Z', { specimen: { reference: 'Specimen/abg-7' } });
+    expect(readObservationValues(obs, new Map(), [])[0]?.sampleKey).toBe('specimen:Specimen/abg-7');
+  });
+
+  describe('edge cases', () => {
+    it('reads nothing, silently, from an observation with no value (dataAbsentReason)', () => {
+      const notes: SetAsideNote[] = [];
+      const obs = { ...observation('d', '59408-5', 0, '%', '2026-12-01T10:00:00Z'), valueQuantity: undefined, dataAbsentReason: { text: 'Probe off' } };
+      delete (obs as Record<string, unknown>)['valueQuantity'];
+      expect(readObservationValues(obs, new Map(), notes)).toStrictEqual([]);
+      expect(notes).toStrictEqual([]);
+    });
+
+    it('recognises a code only with the LOINC system', () => {
+      expect(observationCodeOf({ coding: [{ system: LOINC, code: '2708-6' }] })?.kind).toBe('spo2');
+      expect(observationCodeOf({ coding: [{ system: 'urn:local', code: '2708-6' }] })).toBeUndefined();
+    });
+  });
+});

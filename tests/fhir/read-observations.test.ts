@@ -1,0 +1,270 @@
+import { describe, expect, it } from 'vitest';
+import { readObservations } from '../../src/fhir/read-observations.js';
+import { LOINC, NOW, btsPolicy, minutesAgo, observation, quantity } from './helpers/larkspur-bay.js';
+
+const freshness = btsPolicy().freshness; // bundled policy: 240 min vitals, 720 min gases, 72 h Hb, 1825 d
+
+describe('readObservations', () => {
+  it.each([
+    // LOINC codes from check-values §6 (V unless marked)
+    ['59408-5', 'spo2Percent', 93, '%', 93], // US Core pulse oximetry
+    ['2708-6', 'spo2Percent', 0.93, '1', 93], // FHIR oxygensat; a fraction is read as percent by UCUM
+    ['3150-0', 'fio2Fraction', 28, '%', 0.28], // FiO2 in %: 28 % is 0.28 (UCUM)
+    ['3150-0', 'fio2Fraction', 0.28, '1', 0.28], // FiO2 as a fraction
+    ['3151-8', 'o2FlowLPerMin', 2, 'L/min', 2],
+    ['9279-1', 'respRatePerMin', 22, '/min', 22],
+    ['718-7', 'haemoglobinGPerDL', 128, 'g/L', 12.8], // g/L to g/dL by UCUM
+  ] as const)('reads LOINC %s into %s (%s %s → %s)', (code, field, value, unit, expected) => {
+    const facts = readObservations([observation('o1', code, value, unit, minutesAgo(30))], freshness, NOW);
+    expect(facts[field]).toStrictEqual([
+      { value: expected, at: minutesAgo(30), reported: { value, unit }, reference: 'Observation/o1' },
+    ]);
+    expect(facts.notes).toStrictEqual([]);
+  });
+
+  it('converts a kPa PaCO2 to mmHg by UCUM and keeps the kPa for display', () => {
+    const at = minutesAgo(20);
+    const facts = readObservations(
+      [observation('pco2', '2019-8', 6.7, 'kPa', at), observation('ph', '2744-1', 7.31, '[pH]', at)],
+      freshness,
+      NOW,
+    );
+    const [gas] = facts.bloodGases;
+    // 6.7 kPa x 7.50062 mmHg/kPa = 50.25 mmHg (check-values 3b)
+    expect(gas?.paco2MmHg).toBeCloseTo(50.25, 2);
+    expect(gas?.reported).toStrictEqual({ paco2: { value: 6.7, unit: 'kPa' }, ph: { value: 7.31, unit: '[pH]' } });
+    expect(gas?.specimen).toBe('arterial');
+    expect(gas?.ph).toBe(7.31);
+  });
+
+  it.each([
+    ['mm[Hg]', 52, 52],
+    ['mmHg', 52, 52], // non-UCUM display spelling, accepted as an alias
+    ['kPa', 8.0, 60.0], // 8 kPa = 60 mmHg, HOT-ICU (check-values 1b); 8 x 7.50062 = 60.00
+  ])('reads PaO2 in %s', (unit, value, mmHg) => {
+    const facts = readObservations([observation('o', '2703-7', value, unit, minutesAgo(5))], freshness, NOW);
+    expect(facts.bloodGases[0]?.pao2MmHg).toBeCloseTo(mmHg, 1);
+  });
+
+  it('groups one arterial sample by its shared effective time', () => {
+    const at = minutesAgo(45);
+    const facts = readObservations(
+      [
+        observation('a', '2744-1', 7.3, '[pH]', at),
+        observation('b', '2019-8', 7.2, 'kPa', at),
+        observation('c', '2703-7', 7.9, 'kPa', at),
+        observation('d', '1960-4', 30, 'mmol/L', at),
+        observation('e', '1925-7', 4.1, 'mmol/L', at),
+        observation('later', '2744-1', 7.36, '[pH]', minutesAgo(10)),
+      ],
+      freshness,
+      NOW,
+    );
+    expect(facts.bloodGases).toHaveLength(2);
+    const [newest, first] = facts.bloodGases;
+    expect(newest?.ph).toBe(7.36);
+    expect(newest?.paco2MmHg).toBeUndefined();
+    expect(first).toMatchObject({ at, specimen: 'arterial', ph: 7.3, hco3MmolPerL: 30, baseExcessMmolPerL: 4.1 });
+    // 7.2 kPa = 54.0 mmHg (the toolchain's UCUM check: convertUnitTo('kPa', 7.2, 'mm[Hg]') = 54.0046)
+    expect(first?.paco2MmHg).toBeCloseTo(54.0046, 3);
+  });
+
+  it('groups values a panel lists in hasMember even when their times differ', () => {
+    const panel = {
+      resourceType: 'Observation',
+      id: 'abg',
+      status: 'final',
+      code: { coding: [{ system: LOINC, code: '24336-0' }] },
+      effectiveDateTime: minutesAgo(30),
+      hasMember: [{ reference: 'Observation/m1' }, { reference: 'https://ehr.larkspur.example/fhir/Observation/m2' }],
+    };
+    const facts = readObservations(
+      [panel, observation('m1', '2744-1', 7.32, '[pH]', minutesAgo(30)), observation('m2', '2019-8', 55, 'mm[Hg]', minutesAgo(29))],
+      freshness,
+      NOW,
+    );
+    expect(facts.bloodGases).toHaveLength(1);
+    expect(facts.bloodGases[0]).toMatchObject({ ph: 7.32, paco2MmHg: 55, specimen: 'arterial' });
+  });
+
+  it('keeps a venous gas apart from an arterial one taken at the same time', () => {
+    const at = minutesAgo(15);
+    const facts = readObservations(
+      [
+        observation('v1', '2746-6', 7.3, '[pH]', at),
+        observation('v2', '2021-4', 8.1, 'kPa', at), // venous pCO2, LOINC 2021-4 from memory
+        observation('a1', '2744-1', 7.34, '[pH]', at),
+      ],
+      freshness,
+      NOW,
+    );
+    expect(facts.bloodGases.map((g) => [g.specimen, g.ph])).toStrictEqual([
+      ['arterial', 7.34],
+      ['venous', 7.3],
+    ]);
+  });
+
+  it('reads HCO3 reported in meq/L as the same number of mmol/L', () => {
+    const facts = readObservations([observation('h', '1963-8', 31, 'meq/L', minutesAgo(60))], freshness, NOW);
+    // HCO3- is monovalent: 1 meq/L = 1 mmol/L (common practice)
+    expect(facts.bloodGases[0]).toMatchObject({ hco3MmolPerL: 31, specimen: 'unknown' });
+  });
+
+  it('reads the O2 flow and concentration components of a US Core pulse-oximetry observation', () => {
+    const obs = observation('pox', '59408-5', 91, '%', minutesAgo(10), {
+      code: { coding: [{ system: LOINC, code: '59408-5' }, { system: LOINC, code: '2708-6' }] },
+      component: [
+        { code: { coding: [{ system: LOINC, code: '3151-8' }] }, valueQuantity: quantity(4, 'L/min') },
+        { code: { coding: [{ system: LOINC, code: '3150-0' }] }, valueQuantity: quantity(28, '%') },
+      ],
+    });
+    const facts = readObservations([obs], freshness, NOW);
+    expect(facts.spo2Percent.map((m) => m.value)).toStrictEqual([91]);
+    expect(facts.o2FlowLPerMin.map((m) => m.value)).toStrictEqual([4]);
+    expect(facts.fio2Fraction.map((m) => m.value)).toStrictEqual([0.28]);
+  });
+
+  it('lists current values most recent first', () => {
+    const facts = readObservations(
+      [observation('old', '59408-5', 90, '%', minutesAgo(200)), observation('new', '59408-5', 94, '%', minutesAgo(5))],
+      freshness,
+      NOW,
+    );
+    expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/new', 'Observation/old']);
+  });
+
+  it('reads BMI from LOINC 39156-5 (from memory) whatever its age', () => {
+    const facts = readObservations([observation('bmi', '39156-5', 43.2, 'kg/m2', '2025-06-01')], freshness, NOW);
+    expect(facts.bmiKgPerM2).toBe(43.2);
+  });
+
+  describe('freshness', () => {
+    it('sets aside an SpO2 older than the vital-signs window with one note', () => {
+      const facts = readObservations(
+        [observation('s1', '59408-5', 95, '%', minutesAgo(540)), observation('s2', '59408-5', 96, '%', minutesAgo(600))],
+        freshness,
+        NOW,
+      );
+      expect(facts.spo2Percent).toStrictEqual([]);
+      expect(facts.notes).toStrictEqual([
+        { what: 'SpO2', reason: 'stale', detail: 'Latest SpO2 is 9 h old (current within 4 h).', reference: 'Observation/s1' },
+      ]);
+    });
+
+    it('adds no stale note when a current value of the kind remains', () => {
+      const facts = readObservations(
+        [observation('s1', '59408-5', 95, '%', minutesAgo(540)), observation('s2', '59408-5', 96, '%', minutesAgo(20))],
+        freshness,
+        NOW,
+      );
+      expect(facts.spo2Percent.map((m) => m.value)).toStrictEqual([96]);
+      expect(facts.notes).toStrictEqual([]);
+    });
+
+    it('keeps a gas older than the gas window but within the history window as historic', () => {
+      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2025-02-10T09:00:00Z')], freshness, NOW);
+      expect(facts.bloodGases).toStrictEqual([]);
+      expect(facts.historicBloodGases).toHaveLength(1);
+      expect(facts.historicBloodGases[0]?.paco2MmHg).toBeCloseTo(61.5, 1); // 8.2 x 7.50062 (check-values 3b)
+      expect(facts.notes.map((n) => [n.what, n.reason])).toStrictEqual([['Blood gas', 'stale']]);
+    });
+
+    it('drops a gas older than the history window', () => {
+      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2019-01-01T09:00:00Z')], freshness, NOW);
+      expect(facts.historicBloodGases).toStrictEqual([]);
+      expect(facts.notes[0]?.reason).toBe('stale');
+    });
+
+    it('sets aside haemoglobin older than its window in hours', () => {
+      const facts = readObservations([observation('hb', '718-7', 11.2, 'g/dL', minutesAgo(73 * 60))], freshness, NOW);
+      expect(facts.haemoglobinGPerDL).toStrictEqual([]);
+      expect(facts.notes[0]).toMatchObject({ what: 'Haemoglobin', reason: 'stale' });
+    });
+
+    it('sets aside a value dated beyond the clock-skew allowance in the future', () => {
+      const facts = readObservations(
+        [observation('f', '9279-1', 18, '/min', minutesAgo(-120)), observation('ok', '9279-1', 20, '/min', minutesAgo(-2))],
+        freshness,
+        NOW,
+      );
+      expect(facts.respRatePerMin.map((m) => m.reference)).toStrictEqual(['Observation/ok']);
+      expect(facts.notes).toStrictEqual([
+        { what: 'Respiratory rate', reason: 'implausible', detail: 'Dated 2 h in the future.', reference: 'Observation/f' },
+      ]);
+    });
+  });
+
+  describe('edge cases', () => {
+    // Plausibility limits are common practice (docs/fhir-input.md), not clinical thresholds.
+    it.each([
+      ['59408-5', 42, '%', 'SpO2'],
+      ['59408-5', 101, '%', 'SpO2'],
+      ['2744-1', 6.5, '[pH]', 'Arterial pH'],
+      ['2744-1', 8.1, '[pH]', 'Arterial pH'],
+      ['3151-8', -1, 'L/min', 'Oxygen flow'],
+      ['3151-8', 90, 'L/min', 'Oxygen flow'],
+      ['3150-0', 0.1, '1', 'FiO2'],
+      ['3150-0', 0.28, '%', 'FiO2'],
+      ['9279-1', 95, '/min', 'Respiratory rate'],
+      ['2703-7', 5, 'mm[Hg]', 'PaO2'],
+      ['2703-7', 800, 'mm[Hg]', 'PaO2'],
+      ['2019-8', 3, 'mm[Hg]', 'PaCO2'],
+      ['2019-8', 30, 'kPa', 'PaCO2'],
+    ])('sets aside LOINC %s = %s %s as implausible', (code, value, unit, what) => {
+      const facts = readObservations([observation('x', code, value, unit, minutesAgo(5))], freshness, NOW);
+      expect(facts.spo2Percent).toStrictEqual([]);
+      expect(facts.bloodGases).toStrictEqual([]);
+      expect(facts.notes).toHaveLength(1);
+      expect(facts.notes[0]).toMatchObject({ what, reason: 'implausible', reference: 'Observation/x' });
+    });
+
+    it.each(['entered-in-error', 'cancelled'])('ignores a result with status %s and says so', (status) => {
+      const facts = readObservations([observation('e', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, NOW);
+      expect(facts.spo2Percent).toStrictEqual([]);
+      expect(facts.notes).toStrictEqual([
+        { what: 'SpO2', reason: 'error-in-source', detail: `The result has status '${status}' and was not used.`, reference: 'Observation/e' },
+      ]);
+    });
+
+    it.each(['preliminary', 'amended', 'corrected'])('uses a result with status %s', (status) => {
+      const facts = readObservations([observation('p', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, NOW);
+      expect(facts.spo2Percent).toHaveLength(1);
+    });
+
+    it('sets aside a unit it cannot convert', () => {
+      const facts = readObservations([observation('u', '2019-8', 6, 'mg', minutesAgo(5))], freshness, NOW);
+      expect(facts.notes).toStrictEqual([
+        { what: 'PaCO2', reason: 'unreadable-unit', detail: "6 'mg' is not a unit this value can be read in.", reference: 'Observation/u' },
+      ]);
+    });
+
+    it('sets aside a result with no readable time', () => {
+      const obs = observation('t', '59408-5', 95, '%', 'yesterday');
+      const facts = readObservations([obs], freshness, NOW);
+      expect(facts.notes.map((n) => n.reason)).toStrictEqual(['unrecognised']);
+    });
+
+    it('ignores codes it does not read and codes without a system', () => {
+      const noSystem = { ...observation('n', '59408-5', 95, '%', minutesAgo(5)), code: { coding: [{ code: '59408-5' }] } };
+      const facts = readObservations(
+        [observation('bp', '8480-6', 120, 'mm[Hg]', minutesAgo(5)), noSystem, { resourceType: 'Patient', id: 'p' }],
+        freshness,
+        NOW,
+      );
+      expect(facts.spo2Percent).toStrictEqual([]);
+      expect(facts.notes).toStrictEqual([]);
+    });
+
+    it('skips garbage values without throwing, and keeps a good value beside garbage', () => {
+      const odd = [
+        { ...observation('a', '59408-5', 95, '%', minutesAgo(5)), valueQuantity: { value: '95', unit: '%' } },
+        { ...observation('b', '59408-5', 95, '%', minutesAgo(5)), valueQuantity: null },
+        { ...observation('c', '59408-5', 95, '%', minutesAgo(5)), component: 'none', hasMember: {} },
+        { ...observation('d', '59408-5', 95, '%', minutesAgo(5)), code: [] },
+      ];
+      const facts = readObservations(odd, freshness, NOW);
+      expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/c']);
+      expect(facts.notes.map((n) => n.reason)).toStrictEqual(['unrecognised', 'unrecognised']);
+    });
+  });
+});

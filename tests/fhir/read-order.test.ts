@@ -1,0 +1,239 @@
+import { describe, expect, it } from 'vitest';
+import { readOrder } from '../../src/fhir/read-order.js';
+import type { FhirResource } from '../../src/fhir/gathered-data.js';
+import type { OrderResourceType } from '../../src/fhir/is-oxygen-order.js';
+import { LOINC, SNOMED, oxygenDeviceRequest, oxygenMedicationRequest, oxygenServiceRequest, quantity } from './helpers/larkspur-bay.js';
+
+const TARGET_URL = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const targetExtension = (low: number, high: number): Record<string, unknown> => ({
+  url: TARGET_URL,
+  valueRange: { low: quantity(low, '%'), high: quantity(high, '%') },
+});
+
+function read(resource: FhirResource, type: OrderResourceType = resource.resourceType as OrderResourceType) {
+  return readOrder(resource, type, `${resource.resourceType}/${resource.id ?? ''}`, true);
+}
+
+describe('readOrder', () => {
+  describe('MedicationRequest', () => {
+    it('reads a structured-only order: method, rateQuantity and the target extension', () => {
+      const resource = oxygenMedicationRequest('mr-1', {
+        extension: [targetExtension(88, 92)], // BTS 2017, Table 4
+        dosageInstruction: [
+          {
+            method: { text: 'Nasal cannula' },
+            doseAndRate: [{ rateQuantity: quantity(2, 'L/min') }], // BTS 2017, Table 4: nasal cannulae 1-2 L/min
+          },
+        ],
+      });
+      expect(read(resource)).toStrictEqual({
+        order: {
+          reference: 'MedicationRequest/mr-1',
+          resourceType: 'MedicationRequest',
+          status: 'draft',
+          device: 'nasal-cannula',
+          deviceText: 'Nasal cannula',
+          flowLPerMin: 2,
+          setFio2Fraction: undefined,
+          target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' },
+          authoredOn: '2026-12-01T11:50:00Z',
+          isSubject: true,
+        },
+        notes: [],
+      });
+    });
+
+    it('reads a text-only order from dosageInstruction.text', () => {
+      const resource = oxygenMedicationRequest('mr-2', {
+        dosageInstruction: [{ text: '28% venturi at 4 L/min, aim sats 88-92' }], // BTS 2017, Table 4
+      });
+      const { order, notes } = read(resource);
+      expect(order).toMatchObject({
+        device: 'venturi-mask',
+        deviceText: 'venturi',
+        flowLPerMin: 4,
+        setFio2Fraction: 0.28,
+        target: { lowPercent: 88, highPercent: 92, readFrom: 'text' },
+      });
+      expect(notes).toStrictEqual([]);
+    });
+
+    it('reads a Venturi setting from a doseQuantity in %', () => {
+      const resource = oxygenMedicationRequest('mr-3', {
+        dosageInstruction: [
+          { method: { text: 'Venturi mask' }, doseAndRate: [{ doseQuantity: quantity(24, '%'), rateQuantity: quantity(2, 'L/min') }] },
+        ],
+      });
+      // 24 % Venturi at 2-3 L/min, BTS 2017 Table 4; 24 % = 0.24 by UCUM
+      expect(read(resource).order).toMatchObject({ device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.24 });
+    });
+
+    it('reads the target extension inside a dosage instruction', () => {
+      const resource = oxygenMedicationRequest('mr-4', { dosageInstruction: [{ extension: [targetExtension(94, 98)] }] });
+      expect(read(resource).order.target).toStrictEqual({ lowPercent: 94, highPercent: 98, readFrom: 'structured' });
+    });
+
+    it('uses the coded value and notes the disagreement when text and codes differ', () => {
+      const resource = oxygenMedicationRequest('mr-5', {
+        extension: [targetExtension(88, 92)],
+        dosageInstruction: [{ text: '2L NC, target SpO2 94-98%', doseAndRate: [{ rateQuantity: quantity(1, 'L/min') }] }],
+      });
+      const { order, notes } = read(resource);
+      expect(order.target).toStrictEqual({ lowPercent: 88, highPercent: 92, readFrom: 'structured' });
+      expect(order.flowLPerMin).toBe(1);
+      expect(notes).toStrictEqual([
+        {
+          what: 'Ordered oxygen flow',
+          reason: 'error-in-source',
+          detail: 'The order text says 2 L/min but the coded value is 1 L/min; the coded value was used.',
+          reference: 'MedicationRequest/mr-5',
+        },
+        {
+          what: 'Ordered target SpO2',
+          reason: 'error-in-source',
+          detail: 'The order text says 94–98 % but the coded value is 88–92 %; the coded value was used.',
+          reference: 'MedicationRequest/mr-5',
+        },
+      ]);
+    });
+
+    it('reads no single flow from a rate range, and says so', () => {
+      const resource = oxygenMedicationRequest('mr-6', {
+        dosageInstruction: [{ text: 'via nasal cannula', doseAndRate: [{ rateRange: { low: quantity(1, 'L/min'), high: quantity(2, 'L/min') } }] }],
+      });
+      const { order, notes } = read(resource);
+      expect(order.flowLPerMin).toBeUndefined();
+      expect(notes.map((n) => n.detail)).toStrictEqual([
+        'The flow is given as a range (1–2 L/min), not one setting, so no flow was read.',
+      ]);
+    });
+  });
+
+  describe('ServiceRequest', () => {
+    it('reads orderDetail, quantityQuantity and patientInstruction', () => {
+      const resource = oxygenServiceRequest('sr-1', {
+        orderDetail: [{ text: 'Reservoir mask' }],
+        quantityQuantity: quantity(15, 'L/min'), // BTS 2017, Table 2: reservoir mask at 15 L/min
+        patientInstruction: 'Target SpO2 94–98%', // BTS 2017, Tables 1-3
+      });
+      expect(read(resource).order).toMatchObject({
+        device: 'reservoir-mask',
+        flowLPerMin: 15,
+        target: { lowPercent: 94, highPercent: 98, readFrom: 'text' },
+      });
+    });
+
+    it('reads the device from SNOMED CT 371907003 (oxygen by nasal cannula)', () => {
+      const resource = oxygenServiceRequest('sr-2', {
+        code: { coding: [{ system: SNOMED, code: '371907003', display: 'Oxygen administration by nasal cannula' }] },
+        note: [{ text: '2 L/min, target 88-92%' }],
+      });
+      expect(read(resource).order).toMatchObject({
+        device: 'nasal-cannula',
+        deviceText: 'Oxygen administration by nasal cannula',
+        flowLPerMin: 2,
+        target: { lowPercent: 88, highPercent: 92, readFrom: 'text' },
+      });
+    });
+
+    it('reads high-flow settings from orderDetail text', () => {
+      const resource = oxygenServiceRequest('sr-3', { orderDetail: [{ text: 'HFNC 50 L/min FiO2 0.45' }] });
+      // HFNC flow up to 60 L/min and FiO2 0.21-1.0 (PMC5359952)
+      expect(read(resource).order).toMatchObject({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.45 });
+    });
+  });
+
+  describe('DeviceRequest', () => {
+    it('reads codeCodeableConcept and parameters for flow, FiO2 and target', () => {
+      const resource = oxygenDeviceRequest('dr-1', 'High-flow nasal cannula', {
+        parameter: [
+          { code: { coding: [{ system: LOINC, code: '3151-8' }] }, valueQuantity: quantity(40, 'L/min') },
+          { code: { coding: [{ system: LOINC, code: '3150-0' }] }, valueQuantity: quantity(60, '%') },
+          { code: { text: 'Target SpO2' }, valueRange: { low: quantity(92, '%'), high: quantity(96, '%') } }, // TSANZ 2015
+          { code: { text: 'Humidifier temperature' }, valueQuantity: quantity(37, 'Cel') },
+        ],
+      });
+      expect(read(resource)).toStrictEqual({
+        order: {
+          reference: 'DeviceRequest/dr-1',
+          resourceType: 'DeviceRequest',
+          status: 'draft',
+          device: 'high-flow-nasal-cannula',
+          deviceText: 'High-flow nasal cannula',
+          flowLPerMin: 40,
+          setFio2Fraction: 0.6,
+          target: { lowPercent: 92, highPercent: 96, readFrom: 'structured' },
+          authoredOn: undefined,
+          isSubject: true,
+        },
+        notes: [],
+      });
+    });
+
+    it('keeps the words of a device it cannot map', () => {
+      const { order } = read(oxygenDeviceRequest('dr-2', 'Oxygen delivery device, other'));
+      expect(order.device).toBeUndefined();
+      expect(order.deviceText).toBe('Oxygen delivery device, other');
+    });
+
+    it('keeps a MedicationRequest method it cannot map', () => {
+      const { order } = read(oxygenMedicationRequest('mr-20', { dosageInstruction: [{ method: { text: 'T-piece' } }] }));
+      expect([order.device, order.deviceText]).toStrictEqual([undefined, 'T-piece']);
+    });
+  });
+
+  describe('edge cases', () => {
+    it('sets aside an implausible flow and FiO2', () => {
+      const resource = oxygenMedicationRequest('mr-9', {
+        dosageInstruction: [{ doseAndRate: [{ rateQuantity: quantity(120, 'L/min'), doseQuantity: quantity(150, '%') }] }],
+      });
+      const { order, notes } = read(resource);
+      expect([order.flowLPerMin, order.setFio2Fraction]).toStrictEqual([undefined, undefined]);
+      expect(notes.map((n) => [n.what, n.reason])).toStrictEqual([
+        ['Ordered oxygen flow', 'implausible'],
+        ['Ordered FiO2', 'implausible'],
+      ]);
+    });
+
+    it('notes a quantity that is neither a flow nor a concentration', () => {
+      const resource = oxygenMedicationRequest('mr-10', { dosageInstruction: [{ doseAndRate: [{ doseQuantity: quantity(1, 'L') }] }] });
+      expect(read(resource).notes).toStrictEqual([
+        {
+          what: 'Order quantity',
+          reason: 'unreadable-unit',
+          detail: '1 L at doseAndRate[0].doseQuantity is neither a flow nor an oxygen concentration.',
+          reference: 'MedicationRequest/mr-10',
+        },
+      ]);
+    });
+
+    it('notes a target extension that is not a range within 50-100 %', () => {
+      const resource = oxygenMedicationRequest('mr-11', { extension: [targetExtension(98, 94)] });
+      const { order, notes } = read(resource);
+      expect(order.target).toBeUndefined();
+      expect(notes.map((n) => n.reason)).toStrictEqual(['implausible']);
+    });
+
+    it('notes an order that names two devices', () => {
+      const resource = oxygenMedicationRequest('mr-12', { dosageInstruction: [{ method: { text: 'Nasal cannula' }, text: 'Venturi 24%' }] });
+      const { order, notes } = read(resource);
+      expect(order.device).toBe('nasal-cannula');
+      expect(notes.map((n) => n.detail)).toStrictEqual([
+        "The order also names venturi-mask; it was read as nasal-cannula ('Nasal cannula').",
+      ]);
+    });
+
+    it('reads nothing, and does not throw, from garbage fields', () => {
+      const resource = {
+        resourceType: 'MedicationRequest',
+        id: 'mr-13',
+        dosageInstruction: [null, 'text', { doseAndRate: { rateQuantity: 2 } }, { text: 42, method: [] }],
+        extension: 'x',
+        note: [{ text: null }],
+      } as FhirResource;
+      const { order, notes } = read(resource);
+      expect([order.device, order.flowLPerMin, order.target, order.status]).toStrictEqual([undefined, undefined, undefined, undefined]);
+      expect(notes).toStrictEqual([]);
+    });
+  });
+});
