@@ -1,0 +1,131 @@
+import type { DeviceKind, SaturationRange } from '../core/types.js';
+import { convertUnit } from '../units/convert.js';
+import { tidyNumber } from './json.js';
+import { findDeviceMentions, isOutsideTheOrder, readDeviceText } from './read-device-text.js';
+import { findFio2Mentions, findFlowMentions } from './read-setting-text.js';
+import { findTargetMentions } from './read-target-text.js';
+
+/**
+ * Rewrites the values an order's words state, keeping the writer's wording: "target SpO2 94-98%"
+ * becomes "target SpO2 88-92%", "2L NC" becomes "4L NC". Words about history or plans ("escalate to
+ * 15L NRB") are left alone. Each function says whether the text stated the value at all.
+ */
+
+export interface Rewrite {
+  readonly text: string;
+  /** True when the text stated a value of this kind (whether or not it changed). */
+  readonly stated: boolean;
+}
+
+interface Edit {
+  readonly start: number;
+  readonly end: number;
+  readonly with: string;
+}
+
+function applyEdits(text: string, edits: readonly Edit[]): string {
+  let out = text;
+  let limit = Number.POSITIVE_INFINITY;
+  for (const edit of [...edits].sort((a, b) => b.start - a.start)) {
+    if (edit.end > limit) {
+      continue; // overlapping edit; the later one already rewrote this stretch
+    }
+    out = out.slice(0, edit.start) + edit.with + out.slice(edit.end);
+    limit = edit.start;
+  }
+  return out;
+}
+
+/** Closes the gaps a removed phrase leaves: doubled spaces, a space before punctuation, a stray comma. */
+function tidySpacing(text: string): string {
+  return text
+    .replace(/[ \t]{2,}/g, ' ')
+    .replace(/\s+([,.;)])/g, '$1')
+    .replace(/,\s*([,.;])/g, '$1')
+    .replace(/^[\s,;]+/, '')
+    .trim();
+}
+
+export function formatNumber(value: number): string {
+  return String(tidyNumber(value));
+}
+
+export function formatPercent(fraction: number): string {
+  const converted = convertUnit(fraction, '1', '%');
+  return converted.kind === 'ok' ? formatNumber(converted.value) : formatNumber(fraction);
+}
+
+/** Plain words for a device kind, as they read inside a sentence. */
+export const DEVICE_WORDS: Readonly<Record<DeviceKind, string>> = {
+  'nasal-cannula': 'nasal cannula',
+  'simple-face-mask': 'simple face mask',
+  'venturi-mask': 'Venturi mask',
+  'reservoir-mask': 'reservoir mask (non-rebreather)',
+  'high-flow-nasal-cannula': 'high-flow nasal cannula',
+  'tracheostomy-mask': 'tracheostomy mask',
+  'cpap-niv': 'CPAP/NIV',
+};
+
+/** "28% Venturi mask" when the device takes a setting, else the plain words. */
+export function deviceWords(device: DeviceKind, setFio2Fraction: number | undefined): string {
+  const words = DEVICE_WORDS[device];
+  if (device !== 'venturi-mask' || setFio2Fraction === undefined) {
+    return words;
+  }
+  return `${formatPercent(setFio2Fraction)}% ${words}`;
+}
+
+export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
+  const mentions = findTargetMentions(text);
+  const edits = mentions.flatMap((m) => [
+    { start: m.lowStart, end: m.lowEnd, with: String(range.lowPercent) },
+    { start: m.highStart, end: m.highEnd, with: String(range.highPercent) },
+  ]);
+  return { text: applyEdits(text, edits), stated: mentions.length > 0 };
+}
+
+export function rewriteFlow(text: string, flowLPerMin: number): Rewrite {
+  const mentions = findFlowMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
+  const value = formatNumber(flowLPerMin);
+  const edits = mentions.map((m) => ({ start: m.valueStart, end: m.valueEnd, with: value }));
+  return { text: applyEdits(text, edits), stated: mentions.length > 0 };
+}
+
+/** Rewrites device words, flow and set FiO2 together; a FiO2 the new device does not take is removed. */
+export function rewriteDevice(
+  text: string,
+  change: {
+    readonly device: DeviceKind;
+    readonly flowLPerMin: number;
+    readonly setFio2Fraction?: number | undefined;
+  },
+): Rewrite {
+  const oldDevice = readDeviceText(text)?.device;
+  const devices = findDeviceMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
+  // A setting inside a device phrase ("28% mask") is rewritten with the phrase, not on its own.
+  const fio2s = findFio2Mentions(text, oldDevice).filter(
+    (m) => !isOutsideTheOrder(text, m.start) && !devices.some((d) => m.start < d.end && m.end > d.start),
+  );
+  const flows = findFlowMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
+  const newFio2 = change.setFio2Fraction;
+  const label = deviceWords(change.device, fio2s.length > 0 ? undefined : newFio2);
+  const edits: Edit[] = [
+    ...devices.map((m) => ({ start: m.start, end: m.end, with: label })),
+    ...fio2s.map((m) =>
+      newFio2 === undefined
+        ? { start: m.start, end: m.end, with: '' }
+        : {
+            start: m.valueStart,
+            end: m.valueEnd,
+            with: m.style === 'percent' ? formatPercent(newFio2) : formatNumber(newFio2),
+          },
+    ),
+    ...flows.map((m) => ({ start: m.valueStart, end: m.valueEnd, with: formatNumber(change.flowLPerMin) })),
+  ];
+  const rewritten = applyEdits(text, edits);
+  const removedSomething = fio2s.length > 0 && newFio2 === undefined;
+  return {
+    text: removedSomething ? tidySpacing(rewritten) : rewritten,
+    stated: devices.length > 0 || fio2s.length > 0 || flows.length > 0,
+  };
+}
