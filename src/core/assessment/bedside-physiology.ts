@@ -48,7 +48,9 @@ export function computeSfRatio(
       computation: {
         name: 'S/F ratio',
         formula: 'S/F = SpO2 (%) / FiO2',
-        substituted: `${formatNumber(spo2.value, 1)} / ${formatFraction(fio2AtSpo2.value.estimate)} (${describeFio2Basis(fio2AtSpo2.value)})`,
+        substituted:
+          `${formatNumber(spo2.value, 1)} / ${formatFraction(fio2AtSpo2.value.estimate)} ` +
+          `(${describeFio2Basis(fio2AtSpo2.value)})`,
         result: formatNumber(ratio.value, 0),
         sourceKey: 'rice-2007',
       },
@@ -103,7 +105,9 @@ export function computeRox(input: {
       computation: {
         name: 'ROX index',
         formula: 'ROX = (SpO2 / FiO2) / respiratory rate',
-        substituted: `(${formatNumber(spo2Percent, 1)} / ${formatFraction(fio2Fraction)}) / ${formatNumber(respRatePerMin, 0)} (${describeFio2Basis(input.fio2AtSpo2.value)})`,
+        substituted:
+          `(${formatNumber(spo2Percent, 1)} / ${formatFraction(fio2Fraction)}) / ` +
+          `${formatNumber(respRatePerMin, 0)} (${describeFio2Basis(input.fio2AtSpo2.value)})`,
         result: formatNumber(index, 2),
         sourceKey: 'roca-2019',
       },

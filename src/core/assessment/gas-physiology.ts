@@ -155,7 +155,9 @@ export function computeGasPhysiology(input: {
         computation: {
           name: 'Alveolar PO2 (alveolar gas equation)',
           formula: 'PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
-          substituted: `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) − ${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT} (${basis})`,
+          substituted:
+            `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) − ` +
+            `${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT} (${basis})`,
           result: formatMmHg(pao2Alveolar),
           sourceKey: 'alveolar-gas',
         },

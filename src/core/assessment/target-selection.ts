@@ -85,7 +85,9 @@ export function selectTarget(
       kind: 'range',
       range: policy.targets.standard,
       basis: 'standard-after-normal-gas',
-      reason: `at risk, but the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display} and there is no previous NIV, IMV or hypercapnic failure`,
+      reason:
+        `at risk, but the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display} ` +
+        'and there is no previous NIV, IMV or hypercapnic failure',
       sourceKey: 'bts-2017',
     };
   }

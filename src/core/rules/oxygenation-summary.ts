@@ -1,11 +1,13 @@
 import { formatFio2Range, formatGasValue, formatMmHg, formatNumber } from '../assessment/format.js';
 import type { Assessment, BerlinClass, Calculated, RiceClass, RoxInterpretation } from '../assessment/types.js';
 import { describeFio2Basis } from '../assessment/gas-physiology.js';
+import { RICE_SF_CUTOFFS, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
 import type { Computation, Finding, Outcome } from '../types.js';
 import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
+/** Berlin 2012 bands in mmHg, as classifyPfBerlin applies them; these are the words for each class. */
 const BERLIN_WORDS: Readonly<Record<BerlinClass, string>> = {
   none: 'above 300, outside the Berlin ARDS bands',
   mild: 'Berlin mild band (200–300)',
@@ -14,13 +16,13 @@ const BERLIN_WORDS: Readonly<Record<BerlinClass, string>> = {
 };
 
 const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
-  none: 'at or above 315 (Rice: about P/F 300)',
-  'below-315': 'below 315 (Rice: about P/F below 300)',
-  'below-235': 'below 235 (Rice: about P/F below 200)',
+  none: `at or above ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F 300 or more)`,
+  'below-315': `below ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F below 300)`,
+  'below-235': `below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F below 200)`,
 };
 
 const ROX_WORDS: Readonly<Record<RoxInterpretation, string>> = {
-  'low-risk': '4.88 or more: lower risk of high-flow failure (Roca 2019)',
+  'low-risk': `${ROX_LOW_RISK_AT_LEAST} or more: lower risk of high-flow failure (Roca 2019)`,
   'high-risk': 'below the Roca 2019 failure threshold for the time on high flow',
   indeterminate: 'between the Roca 2019 thresholds, or time on high flow not known',
 };
@@ -106,11 +108,17 @@ export const rule: Rule = {
           aaGradient: show(p.aaGradient, (v) => `${formatMmHg(v)}; ${expected}`),
           pfRatio: show(p.pfRatio, (v) => `${formatMmHg(v.ratio)}, ${BERLIN_WORDS[v.berlin]}`),
           sfRatio: show(p.sfRatio, (v) => `${formatNumber(v.ratio, 0)}, ${RICE_WORDS[v.rice]}`),
-          rox: show(p.rox, (v) =>
-            `${formatNumber(v.index, 2)}${v.hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`}, ${ROX_WORDS[v.interpretation]}`),
+          rox: show(p.rox, (v) => {
+            const after = v.hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
+            return `${formatNumber(v.index, 2)}${after}, ${ROX_WORDS[v.interpretation]}`;
+          }),
           oxygenContent: show(p.oxygenContent, (v) => `${formatNumber(v, 1)} mL/dL`),
-          gasInterpretation: p.gasInterpretation.kind === 'ok' ? p.gasInterpretation.value.summary : `not available (${p.gasInterpretation.reason})`,
-          mechanism: p.mechanism.kind === 'ok' ? p.mechanism.value.explanation : `not available (${p.mechanism.reason})`,
+          gasInterpretation:
+            p.gasInterpretation.kind === 'ok'
+              ? p.gasInterpretation.value.summary
+              : `not available (${p.gasInterpretation.reason})`,
+          mechanism:
+            p.mechanism.kind === 'ok' ? p.mechanism.value.explanation : `not available (${p.mechanism.reason})`,
         },
         computations,
         sourceKeys: [

@@ -1,5 +1,5 @@
 import { newestFirst } from '../assessment/current-values.js';
-import { formatDuration, formatMinuteWindow, minutesBetween } from '../assessment/format.js';
+import { formatDuration, formatMinuteWindow } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeAge, describeOrder, describeRiskReasons } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -40,7 +40,7 @@ export const rule: Rule = {
       return [];
     }
     const window = policy.thresholds.repeatGasMinutes;
-    const sinceChange = minutesBetween(new Date(changedAt).toISOString(), now) ?? 0;
+    const sinceChange = (now.getTime() - changedAt) / 60_000;
     const opensIn = window.from - sinceChange;
     const closesIn = window.to - sinceChange;
     const dueWindow =

@@ -1,3 +1,4 @@
+import { isWithin, newestFirst } from '../assessment/current-values.js';
 import { formatFlow, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { Finding, OrderChange } from '../types.js';
@@ -28,7 +29,7 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment, facts, now }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, titrationTarget, current } = assessment;
     const spo2 = current.spo2;
     if (order === undefined || titrationTarget === undefined || spo2 === undefined) {
@@ -37,12 +38,17 @@ export const rule: Rule = {
     if (spo2.value <= titrationTarget.range.highPercent || readOnOxygen(assessment, facts) !== true) {
       return [];
     }
-    const latestFlow = facts.o2FlowLPerMin[0]?.value;
+    const latestFlow = newestFirst(facts.o2FlowLPerMin).find((f) =>
+      isWithin(f.at, now, policy.freshness.vitalSignsMinutes),
+    )?.value;
     const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
     const flow = order.flowLPerMin;
     // Offer a step down only when this order is not already lower than what is running.
     const change: OrderChange | undefined =
-      order.device === 'nasal-cannula' && flow !== undefined && flow > minimum && (latestFlow === undefined || flow >= latestFlow)
+      order.device === 'nasal-cannula' &&
+      flow !== undefined &&
+      flow > minimum &&
+      (latestFlow === undefined || flow >= latestFlow)
         ? { kind: 'set-flow', flowLPerMin: Math.max(minimum, flow - NASAL_CANNULA_STEP_L_PER_MIN) }
         : undefined;
     const atRiskRange = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';

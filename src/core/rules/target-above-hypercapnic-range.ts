@@ -33,10 +33,11 @@ export const rule: Rule = {
       return [];
     }
     const gas = assessment.current.gas;
+    const label = gas?.specimen === 'arterial' ? 'PaCO2' : `${gas?.specimen ?? ''} PCO2`;
     const gasStatus =
       gas === undefined || gas.paco2MmHg === undefined
         ? 'no current blood gas'
-        : `${gas.specimen === 'arterial' ? 'PaCO2' : `${gas.specimen} PCO2`} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)}`;
+        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)}`;
     const computation = deliveryComputation(assessment);
     const window = policy.thresholds.repeatGasMinutes;
     return [

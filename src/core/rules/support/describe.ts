@@ -48,7 +48,9 @@ export function deliveryComputation(assessment: Assessment): Computation | undef
   const inputs = [
     order.flowLPerMin === undefined ? undefined : `O2 flow ${formatFlow(order.flowLPerMin)}`,
     order.setFio2Fraction === undefined ? undefined : `set FiO2 ${order.setFio2Fraction.toFixed(2)}`,
-    rr === undefined ? 'respiratory rate not recorded (resting pattern assumed)' : `respiratory rate ${formatNumber(rr.value, 0)}/min`,
+    rr === undefined
+      ? 'respiratory rate not recorded (resting pattern assumed)'
+      : `respiratory rate ${formatNumber(rr.value, 0)}/min`,
   ].filter((part): part is string => part !== undefined);
   return {
     name: 'Delivered FiO2 (estimate)',
