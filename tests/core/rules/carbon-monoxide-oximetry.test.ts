@@ -42,6 +42,19 @@ describe('carbon-monoxide-oximetry', () => {
     expectCardRenders(finding);
   });
 
+  it.each<[string, Parameters<typeof oxygenOrder>[0], string | undefined]>([
+    // BTS 2017, Table 1: as much oxygen as possible; reservoir mask at 15 L/min (BTS 2017, Table 2)
+    ['nasal cannula 4 L/min', { device: 'nasal-cannula', flowLPerMin: 4, target: undefined }, 'set-device'],
+    ['simple face mask 10 L/min', { device: 'simple-face-mask', flowLPerMin: 10, target: undefined }, 'set-device'],
+    ['reservoir mask 12 L/min', { device: 'reservoir-mask', flowLPerMin: 12, target: undefined }, 'set-flow'],
+    ['reservoir mask 15 L/min', { device: 'reservoir-mask', flowLPerMin: 15, target: undefined }, undefined],
+    ['high-flow nasal cannula at FiO2 1.0', { device: 'high-flow-nasal-cannula', flowLPerMin: 60, setFio2Fraction: 1, target: undefined }, undefined],
+  ])('for %s suggests %s', (_, parts, kind) => {
+    const finding = onlyFinding(runRule(rule, buildFacts({ conditions: co, orders: [oxygenOrder(parts)] })));
+    expect(finding.change?.kind).toBe(kind);
+    expectCardRenders(finding);
+  });
+
   it('does not fire without carbon monoxide poisoning', () => {
     expect(runRule(rule, buildFacts())).toStrictEqual([]);
   });

@@ -22,6 +22,18 @@ describe('no-recent-spo2', () => {
     expect(finding.values.lastSpo2).toBe('91 % (5 h 10 min ago)');
   });
 
+  it.each([
+    // Policy freshness.vitalSignsMinutes 240 (local choice)
+    [30, false],
+    [240, false],
+    [241, true],
+    [600, true],
+  ])('with the last SpO2 %s min old fires: %s', (age, fires) => {
+    const findings = runRule(rule, buildFacts({ spo2Percent: [spo2(93, age)] }));
+    expect(findings.length).toBe(fires ? 1 : 0);
+    findings.forEach((f) => expectCardRenders(f));
+  });
+
   it('does not fire with a current SpO2', () => {
     expect(runRule(rule, buildFacts({ spo2Percent: [spo2(95, 30)] }))).toStrictEqual([]);
   });

@@ -37,6 +37,22 @@ describe('oxygen-toxicity-target', () => {
     expectCardRenders(finding);
   });
 
+  it.each<[string, number, number, string]>([
+    // BTS 2017, Table 3 (V2): 85-88 %
+    ['94-98 %', 94, 98, 'warning'],
+    ['88-92 %', 88, 92, 'warning'],
+    ['85-88 %', 85, 88, 'info'],
+  ])('with %s ordered and SpO2 90 %% is a %s', (_, low, high, indicator) => {
+    const facts = buildFacts({
+      conditions: [condition('bleomycin-lung-injury')],
+      orders: [oxygenOrder({ target: { lowPercent: low, highPercent: high, readFrom: 'structured' } })],
+      spo2Percent: [spo2(90)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe(indicator);
+    expectCardRenders(finding);
+  });
+
   it('does not fire without paraquat or bleomycin', () => {
     expect(runRule(rule, buildFacts())).toStrictEqual([]);
   });

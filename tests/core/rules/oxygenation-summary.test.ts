@@ -42,6 +42,23 @@ describe('oxygenation-summary', () => {
     expect(card.summary).toBe('Oxygenation summary for Nasal cannula at 2 L/min: delivered FiO2, gas physiology and ratios');
   });
 
+  it.each([
+    // check-values 3a (D): PB 760, R 0.8, PH2O 47 -> simplified PAO2; A-a = PAO2 - PaO2
+    [0.21, 40, 60, '100 mmHg', '40 mmHg'],
+    [0.21, 30, 65, '112 mmHg', '47 mmHg'],
+    [0.28, 50, 70, '137 mmHg', '67 mmHg'],
+    [0.5, 40, 200, '307 mmHg', '107 mmHg'],
+  ])('at FiO2 %s, PaCO2 %s and PaO2 %s mmHg shows PAO2 %s and A-a %s', (f, paco2, pao2, alveolar, gradient) => {
+    const facts = buildFacts({
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: paco2, pao2MmHg: pao2 })],
+      fio2Fraction: [fio2(f, 30)],
+    });
+    const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+    expect(finding.values.alveolarPo2).toBe(alveolar);
+    expect(finding.values.aaGradient?.startsWith(gradient)).toBe(true);
+    expectCardRenders(finding);
+  });
+
   it('says the age norm does not apply on oxygen', () => {
     // check-values 3a: FiO2 0.4, PaCO2 40, PaO2 80 -> A-a 155.2 at 760 mmHg; age norms do not apply on oxygen
     const facts = buildFacts({

@@ -20,6 +20,18 @@ describe('pneumothorax-oxygen', () => {
     expect(card.summary).toBe('Pneumothorax under observation: BTS advises a reservoir mask at 15 L/min, aiming for 100 %');
   });
 
+  it.each<[string, Parameters<typeof oxygenOrder>[0], string | undefined]>([
+    // BTS 2017, Table 2: reservoir mask at 15 L/min, aim for 100 %
+    ['simple face mask 6 L/min', { device: 'simple-face-mask', flowLPerMin: 6, target: undefined }, 'set-device'],
+    ['Venturi 28 % at 4 L/min', { device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 4, target: undefined }, 'set-device'],
+    ['reservoir mask 10 L/min', { device: 'reservoir-mask', flowLPerMin: 10, target: undefined }, 'set-flow'],
+  ])('for %s suggests %s', (_, parts, kind) => {
+    const finding = onlyFinding(runRule(rule, buildFacts({ conditions: pneumothorax, orders: [oxygenOrder(parts)] })));
+    expect(finding.change?.kind).toBe(kind);
+    expect(finding.change !== undefined && 'flowLPerMin' in finding.change && finding.change.flowLPerMin).toBe(15);
+    expectCardRenders(finding);
+  });
+
   it('raises a reservoir mask below 15 L/min', () => {
     const facts = buildFacts({ conditions: pneumothorax, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 10, target: undefined })] });
     expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 15 });

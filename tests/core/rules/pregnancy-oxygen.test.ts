@@ -20,6 +20,17 @@ describe('pregnancy-oxygen', () => {
     expect(expectCardRenders(finding).summary).toBe('Pregnancy with SpO2 96 % (10 min ago): same target as other patients, oxygen only if needed');
   });
 
+  it.each([
+    // BTS 2017 (V2): oxygen in uncomplicated labour only if SpO2 < 94 %; target 94-98 %
+    [93, false],
+    [94, true],
+    [99, true],
+  ])('at SpO2 %s %% fires: %s', (value, fires) => {
+    const findings = runRule(rule, buildFacts({ conditions: pregnant, spo2Percent: [spo2(value)] }));
+    expect(findings.length).toBe(fires ? 1 : 0);
+    findings.forEach((f) => expectCardRenders(f));
+  });
+
   it('does not fire when the patient is below the target', () => {
     expect(runRule(rule, buildFacts({ conditions: pregnant, spo2Percent: [spo2(92)] }))).toStrictEqual([]);
   });
