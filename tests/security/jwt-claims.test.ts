@@ -1,0 +1,99 @@
+import { describe, expect, it } from 'vitest';
+import { checkClaims, MAX_JTI_LENGTH, type ClaimExpectations } from '../../src/security/jwt-claims.js';
+
+const NOW_S = 1_741_942_800; // 2025-03-14T09:00:00Z, the Larkspur Bay test clock
+const AUD = 'https://cds.larkspur-bay.example/cds-services/oxygen-order-sign';
+
+const expect0: ClaimExpectations = {
+  nowS: NOW_S,
+  audience: AUD,
+  tenants: undefined,
+  // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
+  limits: { clockSkewS: 60, maxLifetimeS: 3600 },
+};
+
+const good = { iss: 'https://ehr.larkspur-bay.example', aud: AUD, iat: NOW_S - 10, exp: NOW_S + 290, jti: 'lbgh-jti-1' };
+
+describe('checkClaims', () => {
+  it('accepts a token as the sandbox client makes them (exp = iat + 300)', () => {
+    // CDS Hooks reference (sandbox): exp = iat + 300
+    expect(checkClaims(good, expect0)).toStrictEqual({
+      kind: 'ok',
+      claims: { expS: NOW_S + 290, iatS: NOW_S - 10, jti: 'lbgh-jti-1', tenant: undefined },
+    });
+  });
+
+  it.each<[string, Record<string, unknown>, string]>([
+    // RFC 7519 §4.1.4: the current time MUST be before exp (leeway allowed)
+    ['no exp', { exp: undefined }, 'exp-missing'],
+    ['exp as a string', { exp: String(NOW_S + 60) }, 'exp-missing'],
+    ['exp past the leeway', { iat: NOW_S - 400, exp: NOW_S - 60 }, 'expired'],
+    // RFC 7519 §4.1.5: not before nbf
+    ['nbf past the leeway', { nbf: NOW_S + 61 }, 'nbf-in-future'],
+    ['nbf that is not a number', { nbf: 'soon' }, 'nbf-in-future'],
+    // CDS Hooks 2.0 §Trusting CDS Clients: iat is REQUIRED
+    ['no iat', { iat: undefined }, 'iat-missing'],
+    // common practice: reject far-future iat (cds-hooks.md §7, implementer choice)
+    ['iat past the leeway', { iat: NOW_S + 61, exp: NOW_S + 300 }, 'iat-in-future'],
+    // CDS Hooks best practices: JWT lifetime at most 1 h
+    ['a lifetime over an hour', { iat: NOW_S - 10, exp: NOW_S - 10 + 3601 }, 'lifetime-too-long'],
+    ['exp before iat', { iat: NOW_S + 30, exp: NOW_S + 20 }, 'lifetime-invalid'],
+    // CDS Hooks 2.0: aud must be the URL of the endpoint being invoked
+    ['another service as aud', { aud: 'https://cds.larkspur-bay.example/cds-services/oxygen-order-select' }, 'aud-mismatch'],
+    ['the discovery URL as aud', { aud: 'https://cds.larkspur-bay.example/cds-services' }, 'aud-mismatch'],
+    ['no aud', { aud: undefined }, 'aud-mismatch'],
+    ['an empty aud array', { aud: [] }, 'aud-mismatch'],
+    // CDS Hooks 2.0: jti is REQUIRED (replay protection)
+    ['no jti', { jti: undefined }, 'jti-missing'],
+    ['an empty jti', { jti: '' }, 'jti-missing'],
+    ['a numeric jti', { jti: 42 }, 'jti-missing'],
+    ['a tenant that is not a string', { tenant: 7 }, 'tenant-invalid'],
+  ])('refuses %s', (_name, change, reason) => {
+    expect(checkClaims({ ...good, ...change }, expect0)).toStrictEqual({ kind: 'refused', reason });
+  });
+
+  it.each([
+    // RFC 7519 §4.1.3: aud may be a string or an array holding the recipient
+    ['a string', AUD],
+    ['a one-element array', [AUD]],
+    ['an array with another audience too', ['https://other.example/cds-services/x', AUD]],
+  ])('accepts aud as %s', (_name, aud) => {
+    expect(checkClaims({ ...good, aud }, expect0).kind).toBe('ok');
+  });
+
+  it('checks the tenant against the client list when the client has one', () => {
+    const withTenants = { ...expect0, tenants: ['north-campus'] };
+    expect(checkClaims({ ...good, tenant: 'north-campus' }, withTenants).kind).toBe('ok');
+    expect(checkClaims({ ...good, tenant: 'south-campus' }, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
+    expect(checkClaims(good, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
+    expect(checkClaims({ ...good, tenant: 'south-campus' }, expect0).kind).toBe('ok');
+  });
+
+  describe('edge cases', () => {
+    it('allows the leeway on each side and not a second more', () => {
+      expect(checkClaims({ ...good, iat: NOW_S - 300, exp: NOW_S - 59 }, expect0).kind).toBe('ok');
+      expect(checkClaims({ ...good, iat: NOW_S - 300, exp: NOW_S - 60 }, expect0).kind).toBe('refused');
+      expect(checkClaims({ ...good, iat: NOW_S + 60, exp: NOW_S + 120 }, expect0).kind).toBe('ok');
+      expect(checkClaims({ ...good, nbf: NOW_S + 60 }, expect0).kind).toBe('ok');
+    });
+
+    it('accepts a lifetime of exactly the maximum', () => {
+      expect(checkClaims({ ...good, iat: NOW_S - 10, exp: NOW_S - 10 + 3600 }, expect0).kind).toBe('ok');
+    });
+
+    it('accepts non-integer NumericDates (RFC 7519 §2)', () => {
+      expect(checkClaims({ ...good, iat: NOW_S - 0.5, exp: NOW_S + 10.25 }, expect0).kind).toBe('ok');
+    });
+
+    it('refuses a jti too long to be a nonce', () => {
+      expect(checkClaims({ ...good, jti: 'j'.repeat(MAX_JTI_LENGTH + 1) }, expect0)).toStrictEqual({
+        kind: 'refused',
+        reason: 'jti-missing',
+      });
+    });
+
+    it('refuses an aud array holding a non-string', () => {
+      expect(checkClaims({ ...good, aud: [AUD, 5] }, expect0)).toStrictEqual({ kind: 'refused', reason: 'aud-mismatch' });
+    });
+  });
+});
