@@ -15,6 +15,8 @@ export interface DecodedJws {
 export const MAX_TOKEN_LENGTH = 8192;
 
 const BASE64URL = /^[A-Za-z0-9_-]+$/;
+/** Empty for an unsecured JWS (RFC 7519 §6.1), so `alg: none` reaches the algorithm check and is named. */
+const SIGNATURE = /^[A-Za-z0-9_-]*$/;
 
 function decodeJsonObject(segment: string): Readonly<Record<string, unknown>> | undefined {
   let value: unknown;
@@ -37,7 +39,7 @@ export function decodeCompactJws(token: string): DecodedJws | undefined {
     return undefined;
   }
   const [head, body, signature] = parts as [string, string, string];
-  if (!BASE64URL.test(head) || !BASE64URL.test(body) || !BASE64URL.test(signature)) {
+  if (!BASE64URL.test(head) || !BASE64URL.test(body) || !SIGNATURE.test(signature)) {
     return undefined;
   }
   const header = decodeJsonObject(head);

@@ -1,0 +1,165 @@
+import { isSigningAlgorithm, keySuitsAlgorithm, verifyJwsSignature, type SigningAlgorithm } from './algorithms.js';
+import type { PreparedKey } from './jwk-keys.js';
+import type { JwksStore } from './jwks-store.js';
+import { decodeCompactJws } from './jws-compact.js';
+import { checkClaims, type CheckedClaims, type ClaimFailure, type ClaimLimits } from './jwt-claims.js';
+import type { ReplayCache } from './replay-cache.js';
+import type { TrustConfig, TrustedClient } from './trust-config.js';
+
+/**
+ * Verifies a CDS client's bearer JWT (CDS Hooks 2.0 §Trusting CDS Clients; RFC 7515 §5.2, RFC 7519
+ * §7.2). Order matters: everything that needs no key is checked first; a key is looked up only for a
+ * trusted issuer and only from that issuer's own sources; the replay cache is written last, so a
+ * forged or otherwise refused token can never fill it or burn a genuine token's `jti`.
+ */
+export type VerifyFailure =
+  | 'malformed'
+  | 'alg-not-allowed'
+  | 'typ-invalid'
+  | 'kid-missing'
+  | 'crit-unsupported'
+  | 'iss-untrusted'
+  | 'jku-not-allowed'
+  | 'kid-unknown'
+  | 'jwks-unavailable'
+  | 'key-unsuitable'
+  | 'signature-invalid'
+  | ClaimFailure
+  | 'jti-replayed';
+
+/** What may be logged about a token: identifiers the spec allows, each capped in length. */
+export interface TokenLabels {
+  readonly iss?: string;
+  readonly kid?: string;
+  readonly jti?: string;
+  readonly tenant?: string;
+}
+
+export type VerifyOutcome =
+  | { readonly kind: 'verified'; readonly client: TrustedClient; readonly claims: CheckedClaims; readonly alg: SigningAlgorithm }
+  | { readonly kind: 'refused'; readonly reason: VerifyFailure; readonly labels: TokenLabels };
+
+export type VerifyToken = (token: string, audience: string) => Promise<VerifyOutcome>;
+
+export interface VerifierDeps {
+  readonly trust: TrustConfig;
+  readonly jwks: JwksStore;
+  readonly replayCache: ReplayCache;
+  readonly clock: () => Date;
+  readonly limits: ClaimLimits;
+}
+
+const LABEL_MAX = 128;
+
+function label(value: unknown): string | undefined {
+  return typeof value === 'string' && value !== '' ? value.slice(0, LABEL_MAX) : undefined;
+}
+
+function labelsOf(header: Readonly<Record<string, unknown>>, payload: Readonly<Record<string, unknown>>): TokenLabels {
+  const entries = { iss: label(payload['iss']), kid: label(header['kid']), jti: label(payload['jti']), tenant: label(payload['tenant']) };
+  return Object.fromEntries(Object.entries(entries).filter(([, v]) => v !== undefined)) as TokenLabels;
+}
+
+/** RFC 7515 §4.1.9 and RFC 7519 §5.1: `JWT`, compared case-insensitively, `application/` optional. */
+function isJwtType(typ: unknown): boolean {
+  return typeof typ === 'string' && /^(application\/)?jwt$/i.test(typ);
+}
+
+function normalisedUrl(text: string): string | undefined {
+  try {
+    return new URL(text).href;
+  } catch {
+    return undefined;
+  }
+}
+
+type KeyChoice = { readonly kind: 'keys'; readonly keys: readonly PreparedKey[] } | { readonly kind: 'refused'; readonly reason: VerifyFailure };
+
+/** The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. */
+async function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): Promise<KeyChoice> {
+  let url: string | undefined;
+  if (jku !== undefined) {
+    const normalised = typeof jku === 'string' ? normalisedUrl(jku) : undefined;
+    if (normalised === undefined || !client.jkuAllowlist.includes(normalised)) {
+      // Never fetched: an arbitrary jku is server-side request forgery and trivial key substitution.
+      return { kind: 'refused', reason: 'jku-not-allowed' };
+    }
+    url = normalised;
+  } else if (client.keySource.kind === 'remote') {
+    url = client.keySource.url;
+  }
+  if (url === undefined) {
+    const keys = client.keySource.kind === 'static' ? client.keySource.keys.get(kid) : undefined;
+    return keys === undefined ? { kind: 'refused', reason: 'kid-unknown' } : { kind: 'keys', keys };
+  }
+  const found = await jwks.findKeys(url, kid, client.iss);
+  if (found.kind === 'found') {
+    return { kind: 'keys', keys: found.keys };
+  }
+  return { kind: 'refused', reason: found.kind === 'unknown-kid' ? 'kid-unknown' : 'jwks-unavailable' };
+}
+
+export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
+  return async (token, audience) => {
+    const decoded = decodeCompactJws(token);
+    if (decoded === undefined) {
+      return { kind: 'refused', reason: 'malformed', labels: {} };
+    }
+    const { header, payload } = decoded;
+    const labels = labelsOf(header, payload);
+    const refuse = (reason: VerifyFailure): VerifyOutcome => ({ kind: 'refused', reason, labels });
+    const alg = header['alg'];
+    // `none` and HS* are not in SIGNING_ALGORITHMS, so they stop here, before any key is touched.
+    if (!isSigningAlgorithm(alg)) {
+      return refuse('alg-not-allowed');
+    }
+    if (!isJwtType(header['typ'])) {
+      return refuse('typ-invalid');
+    }
+    const kid = header['kid'];
+    if (typeof kid !== 'string' || kid === '') {
+      return refuse('kid-missing');
+    }
+    // RFC 7515 §4.1.11: extensions listed in crit that are not understood MUST make the JWS invalid.
+    if (header['crit'] !== undefined) {
+      return refuse('crit-unsupported');
+    }
+    const iss = payload['iss'];
+    const client = typeof iss === 'string' ? deps.trust.clients.get(iss) : undefined;
+    if (client === undefined) {
+      return refuse('iss-untrusted');
+    }
+    if (!client.algorithms.includes(alg)) {
+      return refuse('alg-not-allowed');
+    }
+    const choice = await chooseKeys(client, kid, header['jku'], deps.jwks);
+    if (choice.kind === 'refused') {
+      return refuse(choice.reason);
+    }
+    const suitable = choice.keys.filter((key) => keySuitsAlgorithm(key, alg));
+    if (suitable.length === 0) {
+      return refuse('key-unsuitable');
+    }
+    if (!suitable.some((key) => verifyJwsSignature(alg, key.keyObject, decoded.signingInput, decoded.signature))) {
+      return refuse('signature-invalid');
+    }
+    const nowMs = deps.clock().getTime();
+    const checked = checkClaims(payload, {
+      nowS: nowMs / 1000,
+      audience,
+      tenants: client.tenants,
+      limits: deps.limits,
+    });
+    if (checked.kind === 'refused') {
+      return refuse(checked.reason);
+    }
+    const { claims } = checked;
+    // Held until the token could no longer pass the exp check, leeway included.
+    const expiresAt = (claims.expS + deps.limits.clockSkewS) * 1000;
+    const fresh = await deps.replayCache.checkAndRemember(JSON.stringify([client.iss, claims.jti]), expiresAt);
+    if (!fresh) {
+      return refuse('jti-replayed');
+    }
+    return { kind: 'verified', client, claims, alg };
+  };
+}

@@ -1,0 +1,244 @@
+import jwt from 'jsonwebtoken';
+import { describe, expect, it } from 'vitest';
+import { createJwksStore } from '../../src/security/jwks-store.js';
+import { createJwtVerifier, type VerifierDeps } from '../../src/security/jwt-verifier.js';
+import { createMemoryReplayCache } from '../../src/security/replay-cache.js';
+import type { TrustConfig } from '../../src/security/trust-config.js';
+import { SPEC_JWKS, SPEC_PAYLOAD, SPEC_TOKEN } from '../fixtures/security/spec-jwt-example.js';
+import {
+  claims,
+  DISCOVERY_AUD,
+  EHR_ES384,
+  EHR_ISS,
+  EHR_JKU,
+  EHR_RS384,
+  ehrClient,
+  fakeFetch,
+  NOW,
+  NOW_S,
+  SIGN_AUD,
+  THEATRES_ES384,
+  theatresClient,
+  trustOf,
+} from './support/fixtures.js';
+import { makeKey, signToken, signWith } from './support/keys.js';
+
+// common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
+const LIMITS = { clockSkewS: 60, maxLifetimeS: 3600 };
+
+function verifier(trust: TrustConfig, options: { fetch?: typeof fetch; clock?: () => Date; limits?: VerifierDeps['limits'] } = {}) {
+  const clock = options.clock ?? (() => NOW);
+  const jwks = createJwksStore({
+    fetch: options.fetch ?? fakeFetch({}).fetch,
+    clock,
+    timeoutMs: 1000,
+    maxBytes: 65_536,
+    requireHttps: true,
+    ttlMs: 300_000,
+    minRefreshIntervalMs: 60_000,
+  });
+  return createJwtVerifier({
+    trust,
+    jwks,
+    replayCache: createMemoryReplayCache({ maxEntries: 1000, clock }),
+    clock,
+    limits: options.limits ?? LIMITS,
+  });
+}
+
+const trust = trustOf([ehrClient(), theatresClient()]);
+
+async function reasonFor(token: string, aud = SIGN_AUD, using = verifier(trust)): Promise<string> {
+  const outcome = await using(token, aud);
+  return outcome.kind === 'refused' ? outcome.reason : 'verified';
+}
+
+describe('createJwtVerifier', () => {
+  describe('acceptance', () => {
+    it.each([
+      // CDS Hooks 2.0 §JWT signing algorithm: ES384 and RS384 RECOMMENDED
+      ['ES384', EHR_ES384],
+      ['RS384', EHR_RS384],
+    ])('accepts a %s token from a trusted client', async (_alg, key) => {
+      const outcome = await verifier(trust)(signToken(key, claims(SIGN_AUD, { tenant: 'north-campus' })), SIGN_AUD);
+      expect(outcome.kind === 'verified' ? [outcome.client.iss, outcome.alg, outcome.claims.tenant] : outcome).toStrictEqual([
+        EHR_ISS,
+        key.alg,
+        'north-campus',
+      ]);
+    });
+
+    it.each([
+      // RFC 7519 §4.1.3: aud as a string, or an array containing this endpoint
+      ['a string', SIGN_AUD],
+      ['an array', [DISCOVERY_AUD, SIGN_AUD]],
+    ])('accepts aud as %s', async (_name, aud) => {
+      expect(await reasonFor(signToken(EHR_ES384, claims(aud)))).toBe('verified');
+    });
+
+    it.each(['ES384', 'RS384'] as const)('accepts a %s token signed by jsonwebtoken, an independent signer', async (alg) => {
+      const key = alg === 'ES384' ? EHR_ES384 : EHR_RS384;
+      const token = jwt.sign(claims(SIGN_AUD), key.privateKey, { algorithm: alg, keyid: key.kid, header: { alg, typ: 'JWT' } });
+      expect(await reasonFor(token)).toBe('verified');
+    });
+
+    it('verifies the specification example token with the specification JWKS, at a time before its exp', async () => {
+      // CDS Hooks 2.0 §Trusting CDS Clients › Example: ES384, kid example-kid, jku .../jwk_uri.
+      // The token lives 3.5 years (iat 1311280970, exp 1422568860), so the lifetime limit is lifted here.
+      const specTrust = trustOf([
+        { iss: SPEC_PAYLOAD.iss, jwks: SPEC_JWKS, jkuAllowlist: ['https://fhir-ehr.example.com/jwk_uri'], fhirServers: [] },
+      ]);
+      const served = fakeFetch({ 'https://fhir-ehr.example.com/jwk_uri': SPEC_JWKS });
+      const check = verifier(specTrust, {
+        fetch: served.fetch,
+        clock: () => new Date((SPEC_PAYLOAD.exp - 60) * 1000),
+        limits: { clockSkewS: 60, maxLifetimeS: SPEC_PAYLOAD.exp - SPEC_PAYLOAD.iat },
+      });
+      const outcome = await check(SPEC_TOKEN, SPEC_PAYLOAD.aud);
+      expect(outcome.kind === 'verified' ? outcome.claims : outcome).toStrictEqual({
+        expS: 1422568860,
+        iatS: 1311280970,
+        jti: 'ee22b021-e1b7-4611-ba5b-8eec6a33ac1e',
+        tenant: '2ddd6c3a-8e9a-44c6-a305-52111ad302a2',
+      });
+      // the allowlisted jku was the key source
+      expect(served.asked).toStrictEqual(['https://fhir-ehr.example.com/jwk_uri']);
+    });
+
+    it('accepts ES256 and PS256 only for a client that opts in', async () => {
+      const es256 = makeKey('ES256', 'lbgh-es256');
+      const ps256 = makeKey('PS256', 'lbgh-ps256');
+      const keys = { keys: [es256.publicJwk, ps256.publicJwk] };
+      const optIn = trustOf([ehrClient({ jwks: keys, algorithms: ['ES256', 'PS256'] })]);
+      expect(await reasonFor(signToken(es256, claims(SIGN_AUD)), SIGN_AUD, verifier(optIn))).toBe('verified');
+      expect(await reasonFor(signToken(ps256, claims(SIGN_AUD)), SIGN_AUD, verifier(optIn))).toBe('verified');
+      // CDS Hooks 2.0 §JWT signing algorithm: beyond ES384/RS384 is the client agreement's choice
+      const es256Default = trustOf([ehrClient({ jwks: { keys: [{ ...es256.publicJwk, alg: undefined }] }, algorithms: ['ES256'] })]);
+      expect(await reasonFor(signToken(es256, claims(SIGN_AUD)), SIGN_AUD, verifier(es256Default))).toBe('verified');
+    });
+  });
+
+  describe('refusals', () => {
+    const publicPem = EHR_RS384.publicKey.export({ format: 'pem', type: 'spki' });
+    it.each<[string, () => string, string]>([
+      ['a token that is not a JWS', () => 'not-a-jwt', 'malformed'],
+      // CDS Hooks 2.0 §JWT signing algorithm: none SHALL NOT be used
+      ['alg none', () => signWith('none', { alg: 'none', typ: 'JWT', kid: EHR_ES384.kid }, claims(SIGN_AUD), undefined), 'alg-not-allowed'],
+      // CDS Hooks 2.0: no symmetric algorithm SHALL be used
+      ['HS256 with a shared secret', () => signWith('HS256', { alg: 'HS256', typ: 'JWT', kid: EHR_ES384.kid }, claims(SIGN_AUD), 'larkspur-secret'), 'alg-not-allowed'],
+      // The algorithm-confusion attack: HMAC keyed with the client's published RSA public key
+      ['HS256 keyed with the public key (alg confusion)', () => signWith('HS256', { alg: 'HS256', typ: 'JWT', kid: EHR_RS384.kid }, claims(SIGN_AUD), publicPem), 'alg-not-allowed'],
+      ['an algorithm the client has not opted into', () => signToken(makeKey('ES256', EHR_ES384.kid), claims(SIGN_AUD)), 'alg-not-allowed'],
+      // CDS Hooks 2.0 §Trusting CDS Clients: typ REQUIRED, fixed JWT
+      ['typ missing', () => signToken(EHR_ES384, claims(SIGN_AUD), { typ: undefined }), 'typ-invalid'],
+      ['typ at+jwt', () => signToken(EHR_ES384, claims(SIGN_AUD), { typ: 'at+jwt' }), 'typ-invalid'],
+      // CDS Hooks 2.0: kid REQUIRED
+      ['kid missing', () => signToken(EHR_ES384, claims(SIGN_AUD), { kid: undefined }), 'kid-missing'],
+      // RFC 7515 §4.1.11: unknown crit extensions make the JWS invalid
+      ['a crit header', () => signToken(EHR_ES384, claims(SIGN_AUD), { crit: ['exp'] }), 'crit-unsupported'],
+      ['an iss not on the list', () => signToken(EHR_ES384, claims(SIGN_AUD, { iss: 'https://ehr.attacker.example' })), 'iss-untrusted'],
+      ['no iss', () => signToken(EHR_ES384, claims(SIGN_AUD, { iss: undefined })), 'iss-untrusted'],
+      // CDS Hooks 2.0: only a jku allowlisted for that iss
+      ['a jku not on the allowlist', () => signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' }), 'jku-not-allowed'],
+      ['an unknown kid', () => signToken(makeKey('ES384', 'lbgh-unknown'), claims(SIGN_AUD)), 'kid-unknown'],
+      ['a key of another trusted issuer', () => signToken(THEATRES_ES384, claims(SIGN_AUD)), 'kid-unknown'],
+      ['another issuer’s key under this issuer’s kid', () => signToken(THEATRES_ES384, claims(SIGN_AUD), { kid: EHR_ES384.kid }), 'signature-invalid'],
+      ['an RS384 header naming an EC key', () => signWith('RS384', { alg: 'RS384', typ: 'JWT', kid: EHR_ES384.kid }, claims(SIGN_AUD), EHR_RS384.privateKey), 'key-unsuitable'],
+      ['a tampered payload', () => tamperPayload(signToken(EHR_ES384, claims(SIGN_AUD))), 'signature-invalid'],
+      ['a tampered signature', () => tamperSignature(signToken(EHR_ES384, claims(SIGN_AUD))), 'signature-invalid'],
+      ['another service as aud', () => signToken(EHR_ES384, claims('https://cds.larkspur-bay.example/cds-services/oxygen-order-select')), 'aud-mismatch'],
+      ['the discovery URL as aud on a service call', () => signToken(EHR_ES384, claims(DISCOVERY_AUD)), 'aud-mismatch'],
+      ['another host as aud', () => signToken(EHR_ES384, claims('https://cds.attacker.example/cds-services/oxygen-order-sign')), 'aud-mismatch'],
+      ['an expired token', () => signToken(EHR_ES384, claims(SIGN_AUD, { iat: NOW_S - 900, exp: NOW_S - 600 })), 'expired'],
+      ['iat in the future', () => signToken(EHR_ES384, claims(SIGN_AUD, { iat: NOW_S + 600, exp: NOW_S + 900 })), 'iat-in-future'],
+      ['a lifetime over an hour', () => signToken(EHR_ES384, claims(SIGN_AUD, { iat: NOW_S - 5, exp: NOW_S + 7200 })), 'lifetime-too-long'],
+      ['no jti', () => signToken(EHR_ES384, claims(SIGN_AUD, { jti: undefined })), 'jti-missing'],
+    ])('refuses %s', async (_name, token, reason) => {
+      expect(await reasonFor(token())).toBe(reason);
+    });
+
+    it('refuses the specification example token as expired at today’s date', async () => {
+      // CDS Hooks 2.0 example: exp 1422568860 (2015-01-29); signature valid, so only expiry fails
+      const specTrust = trustOf([{ iss: SPEC_PAYLOAD.iss, jwks: SPEC_JWKS, jkuAllowlist: ['https://fhir-ehr.example.com/jwk_uri'], fhirServers: [] }]);
+      const served = fakeFetch({ 'https://fhir-ehr.example.com/jwk_uri': SPEC_JWKS });
+      expect(await reasonFor(SPEC_TOKEN, SPEC_PAYLOAD.aud, verifier(specTrust, { fetch: served.fetch }))).toBe('expired');
+    });
+
+    it('refuses a replayed jti', async () => {
+      const check = verifier(trust);
+      const token = signToken(EHR_ES384, claims(SIGN_AUD));
+      expect(await reasonFor(token, SIGN_AUD, check)).toBe('verified');
+      expect(await reasonFor(token, SIGN_AUD, check)).toBe('jti-replayed');
+    });
+
+    it('refuses the tenant a client is not listed for', async () => {
+      const tenanted = trustOf([ehrClient({ tenants: ['north-campus'] })]);
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD, { tenant: 'south-campus' })), SIGN_AUD, verifier(tenanted))).toBe('tenant-not-allowed');
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD)), SIGN_AUD, verifier(tenanted))).toBe('tenant-not-allowed');
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD, { tenant: 'north-campus' })), SIGN_AUD, verifier(tenanted))).toBe('verified');
+    });
+  });
+
+  describe('edge cases', () => {
+    it('never fetches a jku that is not allowlisted', async () => {
+      const served = fakeFetch({ 'https://attacker.example/jwks.json': { keys: [EHR_ES384.publicJwk] } });
+      const token = signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' });
+      expect(await reasonFor(token, SIGN_AUD, verifier(trust, { fetch: served.fetch }))).toBe('jku-not-allowed');
+      expect(served.asked).toStrictEqual([]);
+    });
+
+    it('takes keys from an allowlisted jku, not from the static set', async () => {
+      const rotated = makeKey('ES384', 'lbgh-ehr-es384-2026');
+      const served = fakeFetch({ [EHR_JKU]: { keys: [rotated.publicJwk] } });
+      const token = signToken(rotated, claims(SIGN_AUD), { jku: EHR_JKU });
+      expect(await reasonFor(token, SIGN_AUD, verifier(trust, { fetch: served.fetch }))).toBe('verified');
+      expect(served.asked).toStrictEqual([EHR_JKU]);
+    });
+
+    it('reports keys it could not fetch as jwks-unavailable', async () => {
+      const remote = trustOf([ehrClient({ jwks: undefined, jwksUrl: 'https://ehr.larkspur-bay.example/keys' })]);
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD)), SIGN_AUD, verifier(remote))).toBe('jwks-unavailable');
+    });
+
+    it('does not burn a jti on a token it refuses for another reason', async () => {
+      const check = verifier(trust);
+      const jti = 'lbgh-jti-reused-after-refusal';
+      expect(await reasonFor(signToken(EHR_ES384, claims(DISCOVERY_AUD, { jti })), SIGN_AUD, check)).toBe('aud-mismatch');
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD, { jti })), SIGN_AUD, check)).toBe('verified');
+    });
+
+    it('keeps jti per issuer, so two clients may use the same id', async () => {
+      const check = verifier(trust);
+      const jti = 'lbgh-shared-jti';
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD, { jti })), SIGN_AUD, check)).toBe('verified');
+      expect(await reasonFor(signToken(THEATRES_ES384, claims(SIGN_AUD, { jti, iss: 'https://theatres.larkspur-bay.example' })), SIGN_AUD, check)).toBe('verified');
+    });
+
+    it('labels a refusal with the token identifiers only', async () => {
+      const outcome = await verifier(trust)(signToken(EHR_ES384, claims(DISCOVERY_AUD, { jti: 'lbgh-jti-7', tenant: 'north-campus' })), SIGN_AUD);
+      expect(outcome).toStrictEqual({
+        kind: 'refused',
+        reason: 'aud-mismatch',
+        labels: { iss: EHR_ISS, kid: EHR_ES384.kid, jti: 'lbgh-jti-7', tenant: 'north-campus' },
+      });
+    });
+
+    it('accepts typ in the forms RFC 7515 §4.1.9 makes equivalent', async () => {
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD), { typ: 'jwt' }))).toBe('verified');
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD), { typ: 'application/jwt' }))).toBe('verified');
+    });
+  });
+});
+
+function tamperPayload(token: string): string {
+  const [head, , sig] = token.split('.');
+  const forged = Buffer.from(JSON.stringify(claims(SIGN_AUD, { iss: EHR_ISS, tenant: 'forged' }))).toString('base64url');
+  return `${head}.${forged}.${sig}`;
+}
+
+function tamperSignature(token: string): string {
+  const [head, body, sig = ''] = token.split('.');
+  const bytes = Buffer.from(sig, 'base64url');
+  bytes[10] = (bytes[10] ?? 0) ^ 0x01;
+  return `${head}.${body}.${bytes.toString('base64url')}`;
+}
