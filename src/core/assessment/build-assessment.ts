@@ -119,6 +119,7 @@ export function buildAssessment(
   const onHighFlow = allOrders.some((o) => o.device === 'high-flow-nasal-cannula');
   const hypercapnicRisk = assessHypercapnicRisk(facts, policy, current, now);
   const target = selectTarget(facts, policy, hypercapnicRisk);
+  const targetComparison = compareOrderedTarget(order, target, policy);
 
   return {
     order,
@@ -153,7 +154,7 @@ export function buildAssessment(
     },
     hypercapnicRisk,
     target,
-    targetComparison: compareOrderedTarget(order, target, policy),
-    titrationTarget: selectTitrationTarget(order, target),
+    targetComparison,
+    titrationTarget: selectTitrationTarget(order, target, targetComparison),
   };
 }

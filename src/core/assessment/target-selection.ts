@@ -136,13 +136,28 @@ export function compareOrderedTarget(
   return { kind: 'differs', ordered, advised };
 }
 
-/** The range SpO2 is titrated to: the ordered one, else the applicable one; none without a target. */
+/**
+ * The range SpO2 is titrated to: the ordered one (the prescriber may know an individual target),
+ * else the applicable one; none without a target. When the ordered range is higher than a range that
+ * exists to limit oxygen (hypercapnic risk, BTS 2017 Table 4; paraquat or bleomycin, Table 3), the
+ * advised range is used instead: judging SpO2 against the higher range would prompt more oxygen for
+ * exactly the patients it can harm.
+ */
 export function selectTitrationTarget(
   order: OxygenOrder | undefined,
   target: ApplicableTarget,
+  comparison: TargetComparison,
 ): TitrationTarget | undefined {
   if (target.kind === 'no-spo2-target') {
     return undefined;
+  }
+  const orderedIsUnsafeSide =
+    comparison.kind === 'above-hypercapnic-range' ||
+    (comparison.kind === 'toxicity-range-not-ordered' &&
+      comparison.ordered !== undefined &&
+      comparison.ordered.highPercent > target.range.highPercent);
+  if (orderedIsUnsafeSide) {
+    return { range: target.range, basis: 'advised-over-ordered' };
   }
   if (order?.target !== undefined) {
     return {

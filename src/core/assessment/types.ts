@@ -161,7 +161,8 @@ export type TargetComparison =
 /** The range the nurse titrates to: the ordered one if present, else the applicable one. */
 export interface TitrationTarget {
   readonly range: SaturationRange;
-  readonly basis: 'ordered' | 'applicable';
+  /** `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one is used. */
+  readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered';
 }
 
 /** Everything derived once per call for one subject order; rules read it and never recompute it. */

@@ -60,7 +60,12 @@ export const rule: Rule = {
           orderDescription: describeOrder(order),
           spo2: describeMeasured(spo2, now, '%'),
           targetRange: formatRange(titrationTarget.range),
-          targetSource: titrationTarget.basis === 'ordered' ? 'the ordered range' : 'the policy range',
+          targetSource:
+            titrationTarget.basis === 'ordered'
+              ? 'the ordered range'
+              : titrationTarget.basis === 'advised-over-ordered'
+                ? 'the advised range (the ordered range is higher than is safe for this patient)'
+                : 'the policy range',
           ...(change?.kind === 'set-flow' ? { suggestedFlow: formatFlow(change.flowLPerMin) } : {}),
         },
         sourceKeys: atRiskRange ? ['bts-2017'] : ['bts-2017', 'bmj-2018'],

@@ -68,7 +68,9 @@ export const rule: Rule = {
           comparedWith:
             titrationTarget === undefined
               ? `the ${formatPercent(criticalSpo2BelowPercent)} alert level (no SpO2 target applies)`
-              : `the target ${formatRange(titrationTarget.range)}`,
+              : titrationTarget.basis === 'advised-over-ordered'
+                ? `the advised target ${formatRange(titrationTarget.range)}`
+                : `the target ${formatRange(titrationTarget.range)}`,
           criticalLevel: formatPercent(criticalSpo2BelowPercent),
           reservoirFlow: formatFlow(reservoir.flowRangeLPerMin.max),
           urgency: because.length === 0 ? 'below the target range' : because.join('; '),

@@ -96,10 +96,11 @@ describe('selectTarget', () => {
   });
 });
 
+const ordered = (low: number, high: number) => [oxygenOrder({ target: { lowPercent: low, highPercent: high, readFrom: 'structured' } })];
+const copd = [condition('copd')];
+
 describe('compareOrderedTarget', () => {
   const at = (facts: Facts) => compareOrderedTarget(facts.orders[0], target(facts), BTS);
-  const ordered = (low: number, high: number) => [oxygenOrder({ target: { lowPercent: low, highPercent: high, readFrom: 'structured' } })];
-  const copd = [condition('copd')];
 
   it.each<[string, Partial<Facts>, string]>([
     ['a matching range', { orders: ordered(94, 98) }, 'matches'],
@@ -131,12 +132,12 @@ describe('compareOrderedTarget', () => {
 describe('selectTitrationTarget', () => {
   it('titrates to the ordered range when there is one, else the applicable range', () => {
     const facts = buildFacts({ orders: [oxygenOrder({ target: { lowPercent: 90, highPercent: 94, readFrom: 'text' } })] });
-    expect(selectTitrationTarget(facts.orders[0], target(facts))).toStrictEqual({
+    expect(selectTitrationTarget(facts.orders[0], target(facts), compareOrderedTarget(facts.orders[0], target(facts), BTS))).toStrictEqual({
       range: { lowPercent: 90, highPercent: 94 },
       basis: 'ordered',
     });
     const none = buildFacts({ orders: [oxygenOrder({ target: undefined })] });
-    expect(selectTitrationTarget(none.orders[0], target(none))).toStrictEqual({
+    expect(selectTitrationTarget(none.orders[0], target(none), compareOrderedTarget(none.orders[0], target(none), BTS))).toStrictEqual({
       range: { lowPercent: 94, highPercent: 98 },
       basis: 'applicable',
     });
@@ -145,7 +146,34 @@ describe('selectTitrationTarget', () => {
   describe('edge cases', () => {
     it('has no titration target where no SpO2 target applies', () => {
       const facts = buildFacts({ conditions: [condition('carbon-monoxide-poisoning')] });
-      expect(selectTitrationTarget(facts.orders[0], target(facts))).toBeUndefined();
+      expect(selectTitrationTarget(facts.orders[0], target(facts), { kind: 'no-range-applies' })).toBeUndefined();
+    });
+
+    it('titrates an at-risk patient to 88-92 % when a higher range was ordered', () => {
+      // BTS 2017, Table 4: 88-92 % for patients at risk of hypercapnic respiratory failure. Judging
+      // SpO2 against the higher ordered range would prompt more oxygen for the patient it can harm.
+      const facts = buildFacts({ orders: ordered(94, 98), conditions: copd });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: 88, highPercent: 92 },
+        basis: 'advised-over-ordered',
+      });
+    });
+
+    it('titrates a paraquat patient to 85-88 % when the standard range was ordered', () => {
+      // BTS 2017, Table 3 (V2: quoted by a secondary source): paraquat poisoning, target 85-88 %.
+      const facts = buildFacts({ orders: ordered(94, 98), conditions: [condition('paraquat-poisoning')] });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))?.range).toStrictEqual({
+        lowPercent: 85,
+        highPercent: 88,
+      });
+    });
+
+    it('keeps an ordered lower range for a patient with no documented risk (an individual target may exist)', () => {
+      const facts = buildFacts({ orders: ordered(88, 92) });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))?.basis).toBe('ordered');
     });
   });
 });

@@ -45,6 +45,20 @@ describe('spo2-above-target', () => {
     expect(runRule(rule, facts).length).toBe(fires ? 1 : 0);
   });
 
+  it('steps an at-risk patient down against 88-92 % when 94-98 % was ordered', () => {
+    // BTS 2017, Table 4: the at-risk range applies; the ordered 94-98 % is flagged by its own rule.
+    const facts = buildFacts({
+      orders: [oxygenOrder({ flowLPerMin: 3, target: { lowPercent: 94, highPercent: 98, readFrom: 'text' } })],
+      conditions: [condition('chest-wall-deformity')],
+      spo2Percent: [spo2(93)],
+      o2FlowLPerMin: [o2Flow(3, 15)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.values.targetRange).toBe('88–92 %');
+    expect(finding.values.targetSource).toContain('advised range');
+    expectCardRenders(finding);
+  });
+
   it('does not fire for a reading taken on air', () => {
     const facts = buildFacts({ spo2Percent: [spo2(99)], fio2Fraction: [fio2(0.21)] });
     expect(runRule(rule, facts)).toStrictEqual([]);

@@ -55,6 +55,16 @@ describe('spo2-below-target', () => {
   });
 
   describe('edge cases', () => {
+    it('judges an at-risk patient against 88-92 % even when 94-98 % was ordered', () => {
+      // BTS 2017, Table 4: chest wall deformity puts the patient at risk; 93 % is above 88-92 %, so
+      // "below the ordered 94 %" would prompt more oxygen for the patient it can harm.
+      const ordered9498 = [oxygenOrder({ flowLPerMin: 3, target: { lowPercent: 94, highPercent: 98, readFrom: 'text' } })];
+      const facts = buildFacts({ ...onOxygen, orders: ordered9498, conditions: [condition('chest-wall-deformity')], spo2Percent: [spo2(93)] });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+      const low = onlyFinding(runRule(rule, buildFacts({ ...onOxygen, orders: ordered9498, conditions: [condition('chest-wall-deformity')], spo2Percent: [spo2(87)] })));
+      expect(low.values.comparedWith).toBe('the advised target 88–92 %');
+    });
+
     it('is critical when already on a reservoir mask', () => {
       const facts = buildFacts({ orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })], spo2Percent: [spo2(92)], fio2Fraction: [fio2(0.7)] });
       const finding = onlyFinding(runRule(rule, facts));
