@@ -35,6 +35,18 @@ export interface CardBuildContext {
   readonly now: Date;
   /** 0 for the first finding of a rule about an order in this call, 1 for the next, … */
   readonly occurrence?: number;
+  /**
+   * Changes offered by earlier cards of this response for the same order. An `update` replaces the
+   * whole resource (CDS Hooks 2.0 §Action), so each later suggestion carries them too: accepting two
+   * suggestions never undoes the first.
+   */
+  readonly earlierChanges?: readonly OrderChange[];
+}
+
+/** A flow change and a device change both set the flow; the later one wins. */
+function overlaps(a: OrderChange, b: OrderChange): boolean {
+  const touchesFlow = (c: OrderChange): boolean => c.kind === 'set-flow' || c.kind === 'set-device';
+  return a.kind === b.kind || (touchesFlow(a) && touchesFlow(b));
 }
 
 export interface CardReport {
@@ -71,6 +83,10 @@ export function describeChange(change: OrderChange): string {
   }
 }
 
+function lowerFirst(text: string): string {
+  return text.charAt(0).toLowerCase() + text.slice(1);
+}
+
 function buildSuggestion(
   finding: Finding,
   ctx: CardBuildContext,
@@ -85,7 +101,9 @@ function buildSuggestion(
     problems.push(`${finding.ruleId}: change offered but its order is not in draftOrders; suggestion left out`);
     return undefined;
   }
-  const resource = applyOrderChange(ctx.draftResource, change);
+  const carried = (ctx.earlierChanges ?? []).filter((earlier) => !overlaps(earlier, change));
+  const changes = [...carried, change];
+  const resource = changes.reduce(applyOrderChange, ctx.draftResource);
   if (resource.resourceType !== ctx.draftResource.resourceType || resource.id !== ctx.draftResource.id) {
     problems.push(`${finding.ruleId}: the changed resource lost its type or id; suggestion left out`);
     return undefined;
@@ -98,11 +116,16 @@ function buildSuggestion(
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
     label = rendered.text;
   }
+  if (carried.length > 0) {
+    label = `${label} (keeps: ${carried.map((c) => lowerFirst(describeChange(c))).join('; ')})`;
+  }
   return {
     label,
     uuid: suggestionUuid(uuid, 0),
     isRecommended: true,
-    actions: [{ type: 'update', description: `${describeChange(change)} on the draft order.`, resource }],
+    actions: [
+      { type: 'update', description: `${changes.map(describeChange).join('; ')} on the draft order.`, resource },
+    ],
   };
 }
 

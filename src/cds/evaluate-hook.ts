@@ -1,5 +1,6 @@
 import { evaluateOrder } from '../core/engine.js';
 import type { Policy } from '../core/policy.js';
+import type { OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
@@ -55,6 +56,7 @@ export function evaluateHook(
     assessment;
 
   const seen = new Map<string, number>();
+  const offered = new Map<string, OrderChange[]>();
   const problems: string[] = [];
   const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
@@ -74,7 +76,11 @@ export function evaluateHook(
       assessment: assessmentFor(finding.orderReference),
       now: deps.now,
       occurrence,
+      earlierChanges: finding.orderReference === undefined ? [] : (offered.get(finding.orderReference) ?? []),
     });
+    if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
+      offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
+    }
     problems.push(...report.problems);
     return report.card;
   });

@@ -68,6 +68,30 @@ describe('evaluateHook', () => {
       );
     });
 
+    it('carries the earlier target change in a later suggestion for the same order', () => {
+      // CDS Hooks 2.0 §Action: an update carries the whole resource, so a later suggestion built on
+      // the draft as sent would put 94-98 % back if both were accepted.
+      const onTwoLitres = kyphoscoliosisData();
+      const withFlow = kyphoscoliosisData({
+        observations: [...onTwoLitres.observations, observation('lb-flow-0064', '3151-8', 2, 'L/min', '2025-03-14T09:20:00Z')],
+      });
+      const later = run('oxygen-order-sign', orderSignRequest(standardOrder), withFlow).response.cards;
+      // BTS 2017 Table 4: SpO2 93 % is above 88-92 % for this at-risk patient, so a step down is offered.
+      const stepDown = later.find((card) => card.source.topic?.code === 'spo2-above-target');
+      const action = stepDown?.suggestions?.[0]?.actions?.[0];
+      expect(stepDown?.suggestions?.[0]?.label).toBe(
+        'Reduce flow to 2 L/min (keeps: set the target SpO2 range to 88–92 %)',
+      );
+      const resource = action?.resource as Record<string, unknown>;
+      expect(resource['patientInstruction']).toBe('Oxygen 2 L/min via nasal cannula, target SpO2 88-92%');
+      expect(resource['extension']).toContainEqual(
+        expect.objectContaining({ url: TARGET_EXTENSION, valueRange: expect.objectContaining({ high: expect.objectContaining({ value: 92 }) }) }),
+      );
+      expect(action?.description).toBe(
+        'Set the target SpO2 range to 88–92 %; Set the oxygen flow to 2 L/min on the draft order.',
+      );
+    });
+
     it('shows the inputs with times and references, the working and the cautions', () => {
       const detail = targetCard?.detail ?? '';
       expect(detail).toContain('- SpO2 93 % at 2025-03-14T09:20:00Z (25 min before this check) (Observation/lb-spo2-0064)');
