@@ -24,7 +24,8 @@ const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
 const ROX_WORDS: Readonly<Record<RoxInterpretation, string>> = {
   'low-risk': `${ROX_LOW_RISK_AT_LEAST} or more: lower risk of high-flow failure (Roca 2019)`,
   'high-risk': 'below the Roca 2019 failure threshold for the time on high flow',
-  indeterminate: 'between the Roca 2019 thresholds, or time on high flow not known',
+  indeterminate:
+    'not graded: the Roca 2019 thresholds apply at 2, 6 and 12 h of high flow, and this reading falls between them, before 2 h, or at an unknown time on high flow',
 };
 
 const MODEL_WORDS: Readonly<Record<Assessment['barometricPressure']['model'], string>> = {
@@ -32,6 +33,27 @@ const MODEL_WORDS: Readonly<Record<Assessment['barometricPressure']['model'], st
   'isa-1993': 'ICAO Standard Atmosphere at the site altitude',
   'west-1996': 'West 1996 model at the site altitude',
 };
+
+/** The two or three numbers a respiratory therapist looks for first, for the card summary. */
+function keyFigures(assessment: Assessment): string {
+  const { delivery, physiology: p } = assessment;
+  const parts: string[] = [];
+  if (delivery.kind === 'ok') {
+    parts.push(`FiO2 about ${delivery.value.fio2.estimate.toFixed(2)}`);
+  }
+  if (p.pfRatio.kind === 'ok') {
+    parts.push(`P/F ${formatNumber(p.pfRatio.value.value.ratio, 0)}`);
+  } else if (p.sfRatio.kind === 'ok') {
+    parts.push(`S/F ${formatNumber(p.sfRatio.value.value.ratio, 0)}`);
+  }
+  if (p.aaGradient.kind === 'ok') {
+    parts.push(`A-a ${formatMmHg(p.aaGradient.value.value)}`);
+  }
+  if (p.rox.kind === 'ok') {
+    parts.push(`ROX ${formatNumber(p.rox.value.value.index, 2)}`);
+  }
+  return parts.length === 0 ? 'figures not available' : parts.join(', ');
+}
 
 function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
   return outcome.kind === 'ok' ? text(outcome.value.value) : `not available (${outcome.reason})`;
@@ -109,7 +131,12 @@ export const rule: Rule = {
           pfRatio: show(p.pfRatio, (v) => `${formatMmHg(v.ratio)}, ${BERLIN_WORDS[v.berlin]}`),
           sfRatio: show(p.sfRatio, (v) => `${formatNumber(v.ratio, 0)}, ${RICE_WORDS[v.rice]}`),
           rox: show(p.rox, (v) => {
-            const after = v.hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
+            const after =
+              v.hoursOnHighFlow === undefined
+                ? ''
+                : v.hoursOnHighFlow === 0
+                  ? ' at the start of high flow'
+                  : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
             return `${formatNumber(v.index, 2)}${after}, ${ROX_WORDS[v.interpretation]}`;
           }),
           oxygenContent: show(p.oxygenContent, (v) => `${formatNumber(v, 1)} mL/dL`),
@@ -118,7 +145,10 @@ export const rule: Rule = {
               ? p.gasInterpretation.value.summary
               : `not available (${p.gasInterpretation.reason})`,
           mechanism:
-            p.mechanism.kind === 'ok' ? p.mechanism.value.explanation : `not available (${p.mechanism.reason})`,
+            p.mechanism.kind === 'ok'
+              ? p.mechanism.value.explanation.replace(/\.+$/, '')
+              : `not available (${p.mechanism.reason})`,
+          keyFigures: keyFigures(assessment),
         },
         computations,
         sourceKeys: [

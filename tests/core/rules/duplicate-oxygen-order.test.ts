@@ -15,7 +15,7 @@ describe('duplicate-oxygen-order', () => {
     const facts = buildFacts({ activeOrders: [activeOrder({ device: 'simple-face-mask', flowLPerMin: 6 })] });
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.values.otherOrders).toBe('Simple face mask at 6 L/min (active on record)');
-    expect(expectCardRenders(finding).summary).toBe('1 other oxygen order(s) found: check which one should apply');
+    expect(expectCardRenders(finding).summary).toBe('Other oxygen orders found (1): check which one should apply');
   });
 
   it('names a second oxygen order in the same draft', () => {

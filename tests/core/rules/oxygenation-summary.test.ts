@@ -39,7 +39,8 @@ describe('oxygenation-summary', () => {
       'Arterial oxygen content',
     ]);
     const card = expectCardRenders(finding);
-    expect(card.summary).toBe('Oxygenation summary for Nasal cannula at 2 L/min: delivered FiO2, gas physiology and ratios');
+    // The key numbers lead: P/F 95/0.21 = 452 and A-a 99.7 - 95 = 4.7 mmHg (check-values 3a, derived).
+    expect(card.summary).toBe('Oxygenation on Nasal cannula at 2 L/min: FiO2 about 0.29, P/F 452, A-a 5 mmHg');
   });
 
   it.each([
