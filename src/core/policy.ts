@@ -75,6 +75,12 @@ export interface Policy {
     /** Respiratory rate above which a Venturi flow is raised by half (BTS 2017 Table 4). */
     readonly venturiTachypnoeaRespRateAbove: number;
     readonly venturiTachypnoeaFlowMultiplier: number;
+    /** Cluster headache: high-flow oxygen via a reservoir mask at this flow (BTS 2017, V2: 12–15 L/min). */
+    readonly clusterHeadacheFlowLPerMin: { readonly from: number; readonly to: number };
+    /** Pneumothorax under observation: reservoir mask at this flow (BTS 2017 Table 2: 15 L/min). */
+    readonly pneumothoraxFlowLPerMin: number;
+    /** One weaning step on a nasal cannula (common practice: flowmeters step in whole litres). */
+    readonly nasalCannulaStepDownLPerMin: number;
     /** Repeat blood gas window after starting or changing oxygen in an at-risk patient (BTS 2017). */
     readonly repeatGasMinutes: { readonly from: number; readonly to: number };
   };

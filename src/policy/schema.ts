@@ -67,6 +67,11 @@ export const PolicyFileSchema = z.strictObject({
     highOxygenFio2AtLeast: z.number().min(0.21).max(1),
     venturiTachypnoeaRespRateAbove: z.number().min(10).max(60),
     venturiTachypnoeaFlowMultiplier: z.number().min(1).max(3),
+    clusterHeadacheFlowLPerMin: z
+      .strictObject({ from: z.number().min(1).max(15), to: z.number().min(1).max(15) })
+      .refine((w) => w.from <= w.to, { message: 'from must not exceed to' }),
+    pneumothoraxFlowLPerMin: z.number().min(1).max(15),
+    nasalCannulaStepDownLPerMin: z.number().min(0.5).max(2),
     repeatGasMinutes: z
       .strictObject({ from: z.number().int().min(5), to: z.number().int().max(240) })
       .refine((w) => w.from <= w.to, { message: 'from must not exceed to' }),

@@ -2,7 +2,6 @@ import { formatFlow, formatNumber, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { Finding, OrderChange } from '../types.js';
 import { describeOrder } from './support/describe.js';
-import { CLUSTER_HEADACHE_FLOW_L_PER_MIN as FLOW } from './support/guideline-constants.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -13,7 +12,7 @@ import type { Rule } from './support/rule-types.js';
  * whatever the SpO2, so the usual SpO2 target does not apply (BTS 2017 and BTS home oxygen guidance,
  * quoted secondarily, V2). Info. Fires when the order is not a reservoir mask at 12–15 L/min, or names
  * an SpO2 target; suggests a reservoir mask at the nearest flow in that range.
- * Source: BTS 2017 (V2); the flow range is in support/guideline-constants.ts until the policy has a key.
+ * Source: BTS 2017 (V2); the flow range is `thresholds.clusterHeadacheFlowLPerMin` in the policy.
  */
 export const rule: Rule = {
   id: 'cluster-headache-oxygen',
@@ -21,7 +20,9 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment }): readonly Finding[] => {
+  evaluate: ({ assessment, policy }): readonly Finding[] => {
+    const range = policy.thresholds.clusterHeadacheFlowLPerMin;
+    const FLOW = { min: range.from, max: range.to };
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'cluster-headache') {
       return [];

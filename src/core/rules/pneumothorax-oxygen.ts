@@ -2,7 +2,6 @@ import { formatFlow, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { Finding, OrderChange } from '../types.js';
 import { describeOrder } from './support/describe.js';
-import { PNEUMOTHORAX_FLOW_L_PER_MIN as FLOW } from './support/guideline-constants.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -22,7 +21,8 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment }): readonly Finding[] => {
+  evaluate: ({ assessment, policy }): readonly Finding[] => {
+    const FLOW = policy.thresholds.pneumothoraxFlowLPerMin;
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'pneumothorax') {
       return [];

@@ -6,8 +6,6 @@ import { describeMeasured, describeOrder, readOnOxygen } from './support/describ
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
-/** Nasal-cannula flowmeters step in whole litres; one step down is the usual weaning move (common practice). */
-const NASAL_CANNULA_STEP_L_PER_MIN = 1;
 
 /**
  * The current SpO2, read on oxygen, is above the upper bound of the range being titrated to (the
@@ -49,7 +47,7 @@ export const rule: Rule = {
       flow !== undefined &&
       flow > minimum &&
       (latestFlow === undefined || flow >= latestFlow)
-        ? { kind: 'set-flow', flowLPerMin: Math.max(minimum, flow - NASAL_CANNULA_STEP_L_PER_MIN) }
+        ? { kind: 'set-flow', flowLPerMin: Math.max(minimum, flow - policy.thresholds.nasalCannulaStepDownLPerMin) }
         : undefined;
     const atRiskRange = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';
     return [
