@@ -86,3 +86,26 @@ describe('policy cautions', () => {
     expect(result.problems.map((p) => p.path)).toContain('cautions.pulseOximetry');
   });
 });
+
+describe('docs/policy.md', () => {
+  const docs = readFileSync(new URL('../../docs/policy.md', import.meta.url), 'utf8');
+
+  function keyPaths(value: unknown, prefix: string): string[] {
+    if (value === null || typeof value !== 'object' || Array.isArray(value)) {
+      return [prefix];
+    }
+    const entries = Object.entries(value as Record<string, unknown>);
+    // Pressures and ranges are documented as one key; references and severities are open maps.
+    const leafLike = entries.every(([key]) => ['value', 'unit', 'lowPercent', 'highPercent', 'from', 'to'].includes(key));
+    if (prefix !== '' && (leafLike || prefix === 'references' || prefix === 'severity')) {
+      return [prefix];
+    }
+    return entries.flatMap(([key, inner]) => keyPaths(inner, prefix === '' ? key : `${prefix}.${key}`));
+  }
+
+  it('documents every key of the bundled policy', () => {
+    const paths = keyPaths(parseYaml(btsText), '').filter((path) => path !== 'format');
+    const undocumented = paths.filter((path) => !docs.includes(`\`${path}\``) && !docs.includes(`${path}\``));
+    expect(undocumented).toStrictEqual([]);
+  });
+});
