@@ -1,3 +1,5 @@
+import { findJsonLimitBreach } from './json-limits.js';
+
 /**
  * The FHIR reads the service makes itself when prefetch did not supply what it needs (CDS Hooks 2.0
  * §FHIR Resource Access). Only ever called with both `fhirServer` and `fhirAuthorization` in hand.
@@ -8,11 +10,13 @@
 export type FetchFailure =
   | 'timeout'
   | 'network'
+  | 'interrupted'
   | 'redirect'
   | 'http-status'
   | 'too-large'
   | 'invalid-json'
   | 'not-fhir'
+  | 'too-complex'
   | 'outside-server';
 
 export type FhirFetchOutcome =
@@ -82,9 +86,17 @@ async function readCapped(response: Response, maxBytes: number): Promise<string 
   return Buffer.concat(chunks).toString('utf8');
 }
 
-function failureOf(error: unknown): FetchFailure {
+function isAbort(error: unknown): boolean {
   const name = error instanceof Error ? error.name : '';
-  return name === 'TimeoutError' || name === 'AbortError' ? 'timeout' : 'network';
+  return name === 'TimeoutError' || name === 'AbortError';
+}
+
+/** Before the response started: unreachable; after: the answer broke off (reset, short body). */
+function failureOf(error: unknown, answering: boolean): FetchFailure {
+  if (isAbort(error)) {
+    return 'timeout';
+  }
+  return answering ? 'interrupted' : 'network';
 }
 
 /**
@@ -101,7 +113,7 @@ export async function getFhirJson(url: URL, options: FhirCallOptions): Promise<F
       signal: options.signal,
     });
   } catch (error) {
-    return { kind: 'failed', failure: failureOf(error) };
+    return { kind: 'failed', failure: failureOf(error, false) };
   }
   try {
     if (response.type === 'opaqueredirect' || (response.status >= 300 && response.status < 400)) {
@@ -129,12 +141,16 @@ export async function getFhirJson(url: URL, options: FhirCallOptions): Promise<F
     if (json === null || typeof json !== 'object' || Array.isArray(json)) {
       return { kind: 'failed', failure: 'not-fhir' };
     }
+    // The same structural limits as a request body: a server's answer is no more trusted than a caller's.
+    if (findJsonLimitBreach(json) !== undefined) {
+      return { kind: 'failed', failure: 'too-complex' };
+    }
     const resource = json as Readonly<Record<string, unknown>>;
     if (typeof resource['resourceType'] !== 'string') {
       return { kind: 'failed', failure: 'not-fhir' };
     }
     return { kind: 'ok', resource };
   } catch (error) {
-    return { kind: 'failed', failure: failureOf(error) };
+    return { kind: 'failed', failure: failureOf(error, true) };
   }
 }

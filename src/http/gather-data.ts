@@ -18,7 +18,7 @@ export type { GatherRequest } from './gather-key.js';
  * Turns `request.prefetch` into GatheredData, fetching what is missing from `fhirServer` when, and
  * only when, the request carries both `fhirServer` and `fhirAuthorization` (CDS Hooks 2.0 §FHIR
  * Resource Access). Required data still unobtainable means 412 (§Prefetch Template); optional data
- * is named in `missing` and the call goes on.
+ * is named in `missing` and the call goes on, as is any key read only in part (`incompleteEntry`).
  */
 
 export type GatherOutcome =
@@ -60,6 +60,15 @@ function assemble(
     activeOrders: lists.activeOrders,
     missing,
   };
+}
+
+/**
+ * How `GatheredData.missing` names a key whose search had more results than were read (page cap,
+ * resource cap, a `next` link that loops or leaves the FHIR server, a page that failed): the key name
+ * first, so the entry still says which data it is about.
+ */
+export function incompleteEntry(key: PrefetchKey): string {
+  return `${key} (incomplete: more results than could be read)`;
 }
 
 function isPrefetchKey(key: string): key is PrefetchKey {
@@ -108,6 +117,8 @@ export function createGatherer(deps: GatherDeps): Gather {
       }
       if (result.kind === 'had' && result.incomplete) {
         keysIncomplete.push(key);
+        // Named on the card like a missing key: a risk factor on an unread page can change the target.
+        missing.push(incompleteEntry(key));
       }
       if (result.kind === 'unobtainable') {
         if (result.fetched) {

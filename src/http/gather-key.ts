@@ -3,11 +3,11 @@ import type { FhirFallbackLimits } from '../config/env-config.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import {
   getFhirJson,
-  isUnderServer,
   resolveUnderServer,
   type FetchFailure,
   type FhirFetchOutcome,
 } from './fhir-client.js';
+import { followPages, type PagingOptions } from './gather-pages.js';
 import { readPrefetchKey, readPrefetchValue, type PrefetchReading } from './read-prefetch.js';
 import { belongsToPatient } from './same-patient.js';
 
@@ -50,11 +50,13 @@ export type KeyResult =
 const FAILURE_TEXT: Readonly<Record<FetchFailure, string>> = {
   timeout: 'the FHIR server did not answer in time',
   network: 'the FHIR server could not be reached',
+  interrupted: 'the FHIR server connection broke off during the answer',
   redirect: 'the FHIR server answered with a redirect, which is not followed',
   'http-status': 'the FHIR server answered with an error status',
   'too-large': 'the FHIR server response was larger than the size limit',
   'invalid-json': 'the FHIR server response was not JSON',
   'not-fhir': 'the FHIR server response was not a FHIR resource',
+  'too-complex': 'the FHIR server response nested too deeply or held too long a list or text',
   'outside-server': 'the query would leave the FHIR server base URL',
 };
 
@@ -105,49 +107,28 @@ function vet(reading: PrefetchReading, target: KeyTarget): PrefetchReading {
   }
   if (own.length === 0 && reading.nextUrl === undefined) {
     const isRead = field === 'patient' || field === 'encounter';
-    return isRead
+    // A search that found nothing is an empty Bundle; one holding only other resource types (a
+    // Patient where Observations were asked for) is a wrong answer, not "none on record".
+    return isRead || reading.resources.length > 0
       ? { kind: 'unusable', reason: `it holds no ${resourceType}` }
       : { kind: 'empty' };
   }
   return { kind: 'resources', resources: own, nextUrl: reading.nextUrl };
 }
 
-/** Follows `next` links on the FHIR server, up to `maxPages` pages in all (the first included). */
-async function followPages(
-  first: Extract<PrefetchReading, { kind: 'resources' }>,
-  target: KeyTarget,
-  scope: FetchScope | undefined,
-): Promise<{ resources: FhirResource[]; incomplete: boolean }> {
-  const resources = [...first.resources];
-  let next = first.nextUrl;
-  let pages = 1;
-  while (next !== undefined) {
-    if (scope === undefined || pages >= scope.limits.maxPages) {
-      return { resources, incomplete: true };
-    }
-    let url: URL;
-    try {
-      url = new URL(next, `${scope.fhirServer.replace(/\/+$/, '')}/`);
-    } catch {
-      return { resources, incomplete: true };
-    }
-    if (!isUnderServer(url, scope.fhirServer)) {
-      return { resources, incomplete: true };
-    }
-    const outcome = await callFhir(url, scope);
-    const page =
-      outcome.kind === 'ok' ? vet(readPrefetchValue(true, outcome.resource), target) : undefined;
-    if (page === undefined || page.kind === 'absent' || page.kind === 'unusable') {
-      return { resources, incomplete: true };
-    }
-    pages += 1;
-    if (page.kind === 'empty') {
-      break;
-    }
-    resources.push(...page.resources);
-    next = page.nextUrl;
-  }
-  return { resources, incomplete: false };
+function pagingOptions(target: KeyTarget, scope: FetchScope | undefined, firstUrl: URL | undefined): PagingOptions {
+  return {
+    fhirServer: scope?.fhirServer,
+    firstUrl,
+    maxPages: scope?.limits.maxPages ?? 1,
+    fetchPage: async (url) => {
+      if (scope === undefined) {
+        return undefined;
+      }
+      const outcome = await callFhir(url, scope);
+      return outcome.kind === 'ok' ? vet(readPrefetchValue(true, outcome.resource), target) : undefined;
+    },
+  };
 }
 
 export async function gatherKey(
@@ -163,7 +144,7 @@ export async function gatherKey(
     return { kind: 'had', resources: [], fetched: false, incomplete: false };
   }
   if (supplied.kind === 'resources') {
-    const paged = await followPages(supplied, target, scope);
+    const paged = await followPages(supplied, pagingOptions(target, scope, undefined));
     return { kind: 'had', resources: paged.resources, fetched: false, incomplete: paged.incomplete };
   }
   const why = supplied.kind === 'absent' ? 'was not prefetched' : `was unusable: ${supplied.reason}`;
@@ -191,7 +172,7 @@ export async function gatherKey(
   }
   const reading = vet(readPrefetchValue(true, outcome.resource), target);
   if (reading.kind === 'resources') {
-    const paged = await followPages(reading, target, scope);
+    const paged = await followPages(reading, pagingOptions(target, scope, url));
     return { kind: 'had', resources: paged.resources, fetched: true, incomplete: paged.incomplete };
   }
   if (reading.kind === 'empty') {

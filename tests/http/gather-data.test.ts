@@ -48,7 +48,9 @@ beforeAll(async () => {
       return { status: 200, body: searchset([respRate], [{ relation: 'next', url: `${elsewhere.baseUrl}/Observation` }]) };
     }
     if (path === 'Observation' && url.searchParams.get('page') === 'loop') {
-      return { status: 200, body: searchset([respRate], [{ relation: 'next', url: `${origin}/fhir/Observation?page=loop` }]) };
+      // Ever-new pages: a next link to a page already read would stop the walk at once (gather-pages.ts).
+      const n = Number(url.searchParams.get('n') ?? '1') + 1;
+      return { status: 200, body: searchset([respRate], [{ relation: 'next', url: `${origin}/fhir/Observation?page=loop&n=${n}` }]) };
     }
     if (path === 'Observation') {
       return { status: 200, body: searchset([spo2], [{ relation: 'next', url: `${origin}/fhir/Observation?page=2` }]) };
