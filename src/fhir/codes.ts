@@ -6,6 +6,14 @@ import type { ConditionKind, DeviceKind } from '../core/types.js';
  * sure of is recognised by its words instead (see read-conditions.ts and read-device-text.ts).
  */
 
+/**
+ * A frozen code table with no prototype, so a code sent as `constructor` or `__proto__` finds
+ * nothing rather than an Object.prototype member (which once reached the readers and threw).
+ */
+function lookupTable<T>(entries: Readonly<Record<string, T>>): Readonly<Record<string, T>> {
+  return Object.freeze(Object.assign(Object.create(null) as Record<string, T>, entries));
+}
+
 export const SYSTEMS = {
   loinc: 'http://loinc.org',
   snomed: 'http://snomed.info/sct',
@@ -31,9 +39,9 @@ export const OXYGEN_CODES = {
 } as const;
 
 /** SNOMED CT procedure codes that name a device as well as the therapy. */
-export const SNOMED_DEVICE_BY_CODE: Readonly<Record<string, DeviceKind>> = {
+export const SNOMED_DEVICE_BY_CODE: Readonly<Record<string, DeviceKind>> = lookupTable({
   [OXYGEN_CODES.oxygenByNasalCannula]: 'nasal-cannula',
-};
+});
 
 export type MeasuredKind = 'spo2' | 'fio2' | 'o2-flow' | 'resp-rate' | 'haemoglobin' | 'bmi';
 export type GasField = 'ph' | 'po2' | 'pco2' | 'hco3' | 'baseExcess';
@@ -44,7 +52,7 @@ export type ObservationCode =
   | { readonly kind: 'gas'; readonly field: GasField; readonly specimen: Specimen; readonly label: string };
 
 /** LOINC codes read from Observations (value or component). */
-export const LOINC_OBSERVATIONS: Readonly<Record<string, ObservationCode>> = {
+export const LOINC_OBSERVATIONS: Readonly<Record<string, ObservationCode>> = lookupTable({
   '59408-5': { kind: 'spo2', label: 'SpO2' }, // pulse oximetry (US Core)
   '2708-6': { kind: 'spo2', label: 'SpO2' }, // FHIR core oxygensat profile
   '3150-0': { kind: 'fio2', label: 'FiO2' },
@@ -63,13 +71,13 @@ export const LOINC_OBSERVATIONS: Readonly<Record<string, ObservationCode>> = {
   '11557-6': { kind: 'gas', field: 'pco2', specimen: 'unknown', label: 'Blood pCO2' },
   '1963-8': { kind: 'gas', field: 'hco3', specimen: 'unknown', label: 'Serum HCO3' },
   '11555-0': { kind: 'gas', field: 'baseExcess', specimen: 'unknown', label: 'Blood base excess' },
-};
+});
 
 /** LOINC arterial blood gas panel: its `hasMember` links the values of one sample. */
 export const LOINC_ABG_PANEL = '24336-0';
 
 /** SNOMED CT disorder codes mapped to our condition kinds. */
-export const SNOMED_CONDITIONS: Readonly<Record<string, ConditionKind>> = {
+export const SNOMED_CONDITIONS: Readonly<Record<string, ConditionKind>> = lookupTable({
   '13645005': 'copd',
   '12295008': 'bronchiectasis',
   '190905008': 'cystic-fibrosis',
@@ -80,7 +88,7 @@ export const SNOMED_CONDITIONS: Readonly<Record<string, ConditionKind>> = {
   '257277002': 'neuromuscular-disease', // combined disorder of muscle and peripheral nerve
   '256321009': 'neuromuscular-disease', // disorder of neuromuscular transmission
   '190966007': 'obesity-hypoventilation',
-};
+});
 
 /**
  * ICD-10 code prefixes (dots removed) mapped to condition kinds. A longer prefix wins, so E66.01 is

@@ -40,12 +40,23 @@ const utils = ucum.UcumLhcUtils.getInstance();
 /** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
 export function normaliseUnit(unit: string): string | undefined {
   const trimmed = unit.trim();
-  const alias = ALIASES[trimmed.toLowerCase()];
-  if (alias !== undefined) {
-    return alias;
+  // Own keys only: a unit sent as `constructor` or `__proto__` must not find Object.prototype's.
+  const lower = trimmed.toLowerCase();
+  if (Object.hasOwn(ALIASES, lower)) {
+    return ALIASES[lower];
   }
-  const check = utils.validateUnitString(trimmed);
-  return check.status === 'valid' ? (check.ucumCode ?? trimmed) : undefined;
+  // The UCUM library looks units up in plain objects too, and calls `constructor` valid; no UCUM
+  // unit is named like an Object.prototype member.
+  if (trimmed in Object.prototype) {
+    return undefined;
+  }
+  try {
+    const check = utils.validateUnitString(trimmed);
+    return check.status === 'valid' ? (check.ucumCode ?? trimmed) : undefined;
+  } catch {
+    // The UCUM library throws on some strings (e.g. `toString`); to a caller that is "not a unit".
+    return undefined;
+  }
 }
 
 /** Converts `value` from one unit to another; both may be UCUM codes or the aliases above. */
@@ -61,7 +72,12 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
   if (from === to) {
     return { kind: 'ok', value };
   }
-  const result = utils.convertUnitTo(from, value, to);
+  let result: ReturnType<typeof utils.convertUnitTo>;
+  try {
+    result = utils.convertUnitTo(from, value, to);
+  } catch {
+    return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+  }
   if (result.status !== 'succeeded' || result.toVal === null || !Number.isFinite(result.toVal)) {
     return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
   }
