@@ -2,9 +2,9 @@ import type { Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from './config/load-files.js';
-import { allowEveryRequest } from './http/auth.js';
 import { createApp } from './http/app.js';
 import { createLogger, type Logger } from './log/logger.js';
+import { setUpAuthentication } from './security/setup-authentication.js';
 
 /**
  * The process entry point: read the environment, load the policy and card templates (refusing to
@@ -14,6 +14,9 @@ import { createLogger, type Logger } from './log/logger.js';
 
 export const DEMO_MODE_NOTICE =
   'authentication off, loopback demo mode; not for clinical use without the production trust configuration';
+
+export const PRODUCTION_MODE_NOTICE =
+  'production mode; every /cds-services call needs a signed JWT from a trusted CDS client';
 
 export interface StartedServer {
   readonly server: Server;
@@ -48,22 +51,33 @@ export async function startServer(
     return { kind: 'refused', problems: formatLoadProblems(files.problems) };
   }
   const log = logger ?? createLogger({ level: config.logLevel });
+  const auth = await setUpAuthentication(config.security, {
+    fetch: globalThis.fetch,
+    clock: () => new Date(),
+    logger: log,
+  });
+  if (auth.kind === 'refused') {
+    return { kind: 'refused', problems: auth.problems };
+  }
   const app = createApp(config, {
     policy: files.policy,
     templates: files.templates,
     logger: log,
     clock: () => new Date(),
     fetch: globalThis.fetch,
-    authenticate: allowEveryRequest,
+    authenticate: auth.authenticate,
   });
   const server = await listen(app, config);
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;
-  log.info(
-    { url, policyId: files.policy.id, policyVersion: files.policy.version, cardTemplates: files.templates.size },
-    `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`,
-  );
+  const started = { url, policyId: files.policy.id, policyVersion: files.policy.version, cardTemplates: files.templates.size };
+  if (auth.kind === 'demo') {
+    log.warn({ ...started, mode: 'demo' }, `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`);
+  } else {
+    const trust = { mode: 'production', publicUrl: auth.publicUrl, trustedClients: auth.trustedClients };
+    log.info({ ...started, ...trust }, `oxygen-order-checker listening; ${PRODUCTION_MODE_NOTICE}`);
+  }
   const close = (): Promise<void> =>
     new Promise((resolve) => {
       const force = setTimeout(() => server.closeAllConnections(), SHUTDOWN_GRACE_MS);

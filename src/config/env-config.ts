@@ -1,5 +1,7 @@
 import { isAbsolute, resolve } from 'node:path';
 import { z } from 'zod';
+import { isLoopbackHost } from '../security/loopback.js';
+import { parsePublicBaseUrl } from '../security/public-url.js';
 import { bundledPath } from './package-root.js';
 
 /**
@@ -9,6 +11,10 @@ import { bundledPath } from './package-root.js';
 
 export const LOG_LEVELS = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'] as const;
 export type LogLevel = (typeof LOG_LEVELS)[number];
+
+/** `demo`: loopback only, authentication off. `production`: signed JWTs from trusted clients only. */
+export const MODES = ['demo', 'production'] as const;
+export type Mode = (typeof MODES)[number];
 
 /** Defaults in one place, each with its unit. */
 export const ENV_DEFAULTS = {
@@ -26,6 +32,16 @@ export const ENV_DEFAULTS = {
   O2CHECK_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
   O2CHECK_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
   O2CHECK_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
+  O2CHECK_MODE: 'demo' as Mode,
+  // Client JWT checks (docs/security.md). RFC 7519 §4.1.4 allows "a small leeway" for clock skew;
+  // CDS Hooks best practices keep client JWTs to at most an hour.
+  O2CHECK_JWT_CLOCK_SKEW_S: 60, // seconds of leeway on exp, nbf and iat
+  O2CHECK_JWT_MAX_LIFETIME_S: 3600, // seconds: longest exp - iat accepted, and so the replay window
+  O2CHECK_JWKS_TIMEOUT_MS: 2000, // milliseconds per JWKS fetch
+  O2CHECK_JWKS_MAX_BYTES: 65_536, // bytes (64 KiB) per JWKS response
+  O2CHECK_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
+  O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
+  O2CHECK_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
 } as const;
 
 export interface FhirFallbackLimits {
@@ -34,6 +50,28 @@ export interface FhirFallbackLimits {
   readonly maxResponseBytes: number;
   readonly maxPages: number;
 }
+
+export interface AuthLimits {
+  readonly clockSkewS: number;
+  readonly maxTokenLifetimeS: number;
+  readonly jwksTimeoutMs: number;
+  readonly jwksMaxBytes: number;
+  readonly jwksCacheTtlS: number;
+  readonly jwksRefreshMinIntervalS: number;
+  readonly replayCacheMaxEntries: number;
+}
+
+/** Production needs both a trust file and the public base URL that token audiences name. */
+export type SecurityConfig =
+  | { readonly mode: 'demo' }
+  | {
+      readonly mode: 'production';
+      /** The trust file (`O2CHECK_TRUST`), absolute. */
+      readonly trustPath: string;
+      /** `O2CHECK_PUBLIC_URL`, normalised: https, no trailing slash. */
+      readonly publicUrl: string;
+      readonly limits: AuthLimits;
+    };
 
 export interface EnvConfig {
   readonly host: string;
@@ -45,6 +83,7 @@ export interface EnvConfig {
   /** `'*'` (any origin, no credentials) or an explicit allowlist of origins. */
   readonly corsOrigins: '*' | readonly string[];
   readonly fhir: FhirFallbackLimits;
+  readonly security: SecurityConfig;
 }
 
 export interface EnvProblem {
@@ -129,7 +168,88 @@ const EnvSchema = z.object({
     104_857_600,
   ),
   O2CHECK_FHIR_MAX_PAGES: integerVar(ENV_DEFAULTS.O2CHECK_FHIR_MAX_PAGES, 1, 100),
+  O2CHECK_MODE: textVar(ENV_DEFAULTS.O2CHECK_MODE).pipe(
+    z.enum(MODES, { error: `must be one of ${MODES.join(', ')}` }),
+  ),
+  O2CHECK_TRUST: textVar(''),
+  O2CHECK_PUBLIC_URL: textVar(''),
+  O2CHECK_JWT_CLOCK_SKEW_S: integerVar(ENV_DEFAULTS.O2CHECK_JWT_CLOCK_SKEW_S, 0, 300),
+  O2CHECK_JWT_MAX_LIFETIME_S: integerVar(ENV_DEFAULTS.O2CHECK_JWT_MAX_LIFETIME_S, 1, 86_400),
+  O2CHECK_JWKS_TIMEOUT_MS: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_TIMEOUT_MS, 1, 30_000),
+  O2CHECK_JWKS_MAX_BYTES: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_MAX_BYTES, 1024, 10_485_760),
+  O2CHECK_JWKS_CACHE_TTL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_CACHE_TTL_S, 1, 86_400),
+  O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S, 1, 3600),
+  O2CHECK_REPLAY_CACHE_MAX_ENTRIES: integerVar(ENV_DEFAULTS.O2CHECK_REPLAY_CACHE_MAX_ENTRIES, 1000, 10_000_000),
 });
+
+type ParsedEnv = z.infer<typeof EnvSchema>;
+
+const SECURITY_DOC = 'see docs/security.md';
+
+/** Demo mode must stay on loopback; production must have what token checks need. */
+function securityProblems(v: ParsedEnv): EnvProblem[] {
+  const problems: EnvProblem[] = [];
+  if (v.O2CHECK_MODE === 'demo') {
+    if (!isLoopbackHost(v.HOST)) {
+      problems.push({
+        variable: 'HOST',
+        message:
+          'demo mode has authentication off, so it binds to loopback only (127.0.0.1, ::1 or localhost); ' +
+          `to serve other machines set O2CHECK_MODE=production with O2CHECK_TRUST and O2CHECK_PUBLIC_URL (${SECURITY_DOC})`,
+      });
+    }
+    // Half a production set-up would run with authentication off behind whatever proxy was meant for it.
+    for (const variable of ['O2CHECK_TRUST', 'O2CHECK_PUBLIC_URL'] as const) {
+      if (v[variable] !== '') {
+        problems.push({
+          variable,
+          message: 'is set, but O2CHECK_MODE is not production, so authentication would be off; set O2CHECK_MODE=production',
+        });
+      }
+    }
+    return problems;
+  }
+  if (v.O2CHECK_TRUST === '') {
+    problems.push({
+      variable: 'O2CHECK_TRUST',
+      message: `production mode needs the trust file naming the CDS clients allowed to call (${SECURITY_DOC})`,
+    });
+  }
+  if (v.O2CHECK_PUBLIC_URL === '') {
+    problems.push({
+      variable: 'O2CHECK_PUBLIC_URL',
+      message: `production mode needs the https base URL clients call, e.g. https://cds.example.org (${SECURITY_DOC})`,
+    });
+  } else {
+    const parsed = parsePublicBaseUrl(v.O2CHECK_PUBLIC_URL, { requireHttps: true });
+    if (parsed.kind === 'invalid') {
+      problems.push({ variable: 'O2CHECK_PUBLIC_URL', message: parsed.message });
+    }
+  }
+  return problems;
+}
+
+function securityConfig(v: ParsedEnv, absolute: (path: string) => string): SecurityConfig {
+  if (v.O2CHECK_MODE === 'demo') {
+    return { mode: 'demo' };
+  }
+  const parsed = parsePublicBaseUrl(v.O2CHECK_PUBLIC_URL, { requireHttps: true });
+  return {
+    mode: 'production',
+    trustPath: absolute(v.O2CHECK_TRUST),
+    publicUrl: parsed.kind === 'ok' ? parsed.base : '',
+    limits: {
+      clockSkewS: v.O2CHECK_JWT_CLOCK_SKEW_S,
+      maxTokenLifetimeS: v.O2CHECK_JWT_MAX_LIFETIME_S,
+      jwksTimeoutMs: v.O2CHECK_JWKS_TIMEOUT_MS,
+      jwksMaxBytes: v.O2CHECK_JWKS_MAX_BYTES,
+      jwksCacheTtlS: v.O2CHECK_JWKS_CACHE_TTL_S,
+      jwksRefreshMinIntervalS: v.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S,
+      replayCacheMaxEntries: v.O2CHECK_REPLAY_CACHE_MAX_ENTRIES,
+    },
+  };
+}
+
 
 function deepFreeze<T>(value: T): T {
   if (value !== null && typeof value === 'object') {
@@ -160,16 +280,16 @@ export function parseEnvConfig(
     };
   }
   const v = parsed.data;
+  const problems: EnvProblem[] = [];
   if (v.O2CHECK_FHIR_BUDGET_MS < v.O2CHECK_FHIR_CALL_TIMEOUT_MS) {
-    return {
-      kind: 'invalid',
-      problems: [
-        {
-          variable: 'O2CHECK_FHIR_BUDGET_MS',
-          message: 'must not be below O2CHECK_FHIR_CALL_TIMEOUT_MS',
-        },
-      ],
-    };
+    problems.push({
+      variable: 'O2CHECK_FHIR_BUDGET_MS',
+      message: 'must not be below O2CHECK_FHIR_CALL_TIMEOUT_MS',
+    });
+  }
+  problems.push(...securityProblems(v));
+  if (problems.length > 0) {
+    return { kind: 'invalid', problems };
   }
   const absolute = (path: string): string => (isAbsolute(path) ? path : resolve(cwd, path));
   return {
@@ -188,6 +308,7 @@ export function parseEnvConfig(
         maxResponseBytes: v.O2CHECK_FHIR_MAX_RESPONSE_BYTES,
         maxPages: v.O2CHECK_FHIR_MAX_PAGES,
       },
+      security: securityConfig(v, absolute),
     }),
   };
 }

@@ -1,34 +1,93 @@
-import type { Request, RequestHandler } from 'express';
+import type { Request, RequestHandler, Response } from 'express';
+import type { FhirServerPolicy } from '../security/fhir-server-allowlist.js';
 import { AppError } from './errors.js';
+import { requestState } from './request-context.js';
 
 /**
  * The pluggable authentication seam: one function decides, one middleware enforces. The demo passes
- * every request; the production trust configuration (CDS Hooks 2.0 §Trusting CDS Clients: a signed
- * JWT checked for iss, aud, exp, jti and signature) plugs in here without touching any route.
+ * every request; production plugs in `createProductionAuthenticator` (src/security), which checks the
+ * client's signed JWT (CDS Hooks 2.0 §Trusting CDS Clients), without touching any route.
  */
+
+/** Who called, as far as the service needs to know: for the log and for FHIR server access. */
+export interface AuthenticatedClient {
+  /** A label for the log: the issuer, or `demo`. */
+  readonly client: string;
+  readonly iss: string;
+  readonly tenant?: string;
+  /** Which `fhirServer` URLs the service may call with this client's `fhirAuthorization` token. */
+  readonly fhirServers: FhirServerPolicy;
+}
+
+/** Why a call was refused, for the operator's log only: a reason code and the token's identifiers. */
+export interface AuthRefusalDetail {
+  readonly reason: string;
+  readonly iss?: string;
+  readonly kid?: string;
+  readonly jti?: string;
+  readonly tenant?: string;
+}
+
 export type AuthResult =
-  | { readonly kind: 'allowed'; readonly client: string }
+  | ({ readonly kind: 'allowed' } & AuthenticatedClient)
   | {
       readonly kind: 'denied';
       readonly reason: 'missing' | 'invalid-token';
       /** Why, for the operator only; never sent to the client and never containing the token. */
       readonly cause?: unknown;
+      /** Logged on the request's summary line; never sent to the client. */
+      readonly detail?: AuthRefusalDetail;
     };
 
 export type Authenticate = (req: Request) => Promise<AuthResult>;
 
-/** Demo mode: authentication off. Only for the loopback demo, never for clinical use. */
-export const allowEveryRequest: Authenticate = () =>
-  Promise.resolve({ kind: 'allowed', client: 'demo' });
+/**
+ * The demo's one client. Its FHIR server policy is loopback only, so even the demo cannot be made to
+ * send a `fhirAuthorization` token to another machine.
+ */
+export const DEMO_CLIENT: Extract<AuthResult, { kind: 'allowed' }> = Object.freeze({
+  kind: 'allowed',
+  client: 'demo',
+  iss: 'urn:oxygen-order-checker:demo-client',
+  fhirServers: Object.freeze({ kind: 'loopback-only' }),
+});
 
-/** Runs `authenticate` and turns a denial into the catalogue's 401 with a generic challenge. */
+/** Demo mode: authentication off. Only for the loopback demo, never for clinical use. */
+export const allowEveryRequest: Authenticate = () => Promise.resolve(DEMO_CLIENT);
+
+const CLIENT_KEY = 'o2checkClient';
+
+/** The client `requireAuthentication` let through for this response. */
+export function authenticatedClient(res: Response): AuthenticatedClient {
+  const client = res.locals[CLIENT_KEY] as AuthenticatedClient | undefined;
+  if (client === undefined) {
+    throw new Error('requireAuthentication must run before this handler');
+  }
+  return client;
+}
+
+/**
+ * Runs `authenticate` and turns a denial into the catalogue's 401 with a generic challenge; the
+ * reason goes on the request's summary line. An authenticator that throws counts as a denial: a
+ * fault in checking credentials must not let the call through, nor become a 500.
+ */
 export function requireAuthentication(authenticate: Authenticate): RequestHandler {
-  return async (req, _res, next) => {
-    const result = await authenticate(req);
+  return async (req, res, next) => {
+    let result: AuthResult;
+    try {
+      result = await authenticate(req);
+    } catch (error) {
+      result = { kind: 'denied', reason: 'invalid-token', cause: error, detail: { reason: 'authenticator-failed' } };
+    }
     if (result.kind === 'denied') {
+      if (result.detail !== undefined) {
+        requestState(res).detail = { kind: 'auth-refused', ...result.detail };
+      }
       const code = result.reason === 'missing' ? 'CDS_ERR_AUTH_MISSING' : 'CDS_ERR_AUTH_INVALID_TOKEN';
       throw new AppError(code, result.cause === undefined ? {} : { cause: result.cause });
     }
+    const { kind: _kind, ...client } = result;
+    res.locals[CLIENT_KEY] = client;
     next();
   };
 }

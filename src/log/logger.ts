@@ -73,6 +73,8 @@ export interface HookCallSummary {
   readonly cardProblems: readonly string[];
   /** Required keys that could not be had (the call answered 412). */
   readonly unavailableKeys: readonly string[];
+  /** The request named a fhirServer this client may not use, so it was not called (and why). */
+  readonly fhirServerRefused?: string;
 }
 
 /** One feedback item as logged: the outcome and the override reason code, nothing else. */
@@ -88,7 +90,17 @@ export interface FeedbackSummary {
   readonly items: readonly FeedbackItemSummary[];
 }
 
-export type RequestDetail = HookCallSummary | FeedbackSummary;
+/** Why authentication refused a call: a reason code and the token's identifiers, never the token. */
+export interface AuthRefusedSummary {
+  readonly kind: 'auth-refused';
+  readonly reason: string;
+  readonly iss?: string;
+  readonly kid?: string;
+  readonly jti?: string;
+  readonly tenant?: string;
+}
+
+export type RequestDetail = HookCallSummary | FeedbackSummary | AuthRefusedSummary;
 
 export interface RequestSummary {
   readonly requestId: string;
@@ -124,6 +136,14 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
       missingKeys: [...detail.missingKeys],
       ...(detail.cardProblems.length === 0 ? {} : { cardProblems: [...detail.cardProblems] }),
       ...(detail.unavailableKeys.length === 0 ? {} : { unavailableKeys: [...detail.unavailableKeys] }),
+      ...(detail.fhirServerRefused === undefined ? {} : { fhirServerRefused: detail.fhirServerRefused }),
+    };
+  }
+  if (detail.kind === 'auth-refused') {
+    const ids = { iss: detail.iss, kid: detail.kid, jti: detail.jti, tenant: detail.tenant };
+    return {
+      authRefused: detail.reason,
+      ...Object.fromEntries(Object.entries(ids).filter(([, value]) => value !== undefined)),
     };
   }
   return {
@@ -152,7 +172,10 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary): void
     Object.assign(line, pickDetail(summary.detail));
   }
   const message = summary.detail?.kind === 'hook-call' ? 'hook call' : 'request';
-  const slipped = summary.detail?.kind === 'hook-call' && summary.detail.cardProblems.length > 0;
+  const slipped =
+    (summary.detail?.kind === 'hook-call' &&
+      (summary.detail.cardProblems.length > 0 || summary.detail.fhirServerRefused !== undefined)) ||
+    summary.detail?.kind === 'auth-refused';
   if (summary.status >= 500) {
     logger.error(line, message);
   } else if (slipped) {

@@ -16,6 +16,7 @@ describe('parseEnvConfig', () => {
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
         fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
+        security: { mode: 'demo' }, // project default: demo mode, authentication off, loopback only
       },
     });
   });
@@ -39,6 +40,16 @@ describe('parseEnvConfig', () => {
         O2CHECK_FHIR_BUDGET_MS: '900',
         O2CHECK_FHIR_MAX_RESPONSE_BYTES: '4096',
         O2CHECK_FHIR_MAX_PAGES: '2',
+        O2CHECK_MODE: 'production',
+        O2CHECK_TRUST: 'trust/larkspur-bay-clients.yaml',
+        O2CHECK_PUBLIC_URL: 'https://CDS.larkspur-bay.example/',
+        O2CHECK_JWT_CLOCK_SKEW_S: '30',
+        O2CHECK_JWT_MAX_LIFETIME_S: '600',
+        O2CHECK_JWKS_TIMEOUT_MS: '800',
+        O2CHECK_JWKS_MAX_BYTES: '16384',
+        O2CHECK_JWKS_CACHE_TTL_S: '120',
+        O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: '15',
+        O2CHECK_REPLAY_CACHE_MAX_ENTRIES: '5000',
       },
       '/srv/o2check',
     );
@@ -53,7 +64,120 @@ describe('parseEnvConfig', () => {
         bodyLimitBytes: 65_536,
         corsOrigins: ['https://ehr.larkspur-bay.example', 'https://test.larkspur-bay.example:8443'],
         fhir: { callTimeoutMs: 400, budgetMs: 900, maxResponseBytes: 4096, maxPages: 2 },
+        security: {
+          mode: 'production',
+          trustPath: '/srv/o2check/trust/larkspur-bay-clients.yaml',
+          // WHATWG URL: host lower-cased; the trailing slash is dropped so paths can be appended
+          publicUrl: 'https://cds.larkspur-bay.example',
+          limits: {
+            clockSkewS: 30,
+            maxTokenLifetimeS: 600,
+            jwksTimeoutMs: 800,
+            jwksMaxBytes: 16_384,
+            jwksCacheTtlS: 120,
+            jwksRefreshMinIntervalS: 15,
+            replayCacheMaxEntries: 5000,
+          },
+        },
       },
+    });
+  });
+
+  describe('modes', () => {
+    it('refuses production mode without a trust file or a public URL, naming both', () => {
+      const result = parseEnvConfig({ O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, '/');
+      expect(result).toStrictEqual({
+        kind: 'invalid',
+        problems: [
+          {
+            variable: 'O2CHECK_TRUST',
+            message: 'production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)',
+          },
+          {
+            variable: 'O2CHECK_PUBLIC_URL',
+            message:
+              'production mode needs the https base URL clients call, e.g. https://cds.example.org (see docs/security.md)',
+          },
+        ],
+      });
+    });
+
+    it.each([
+      // CDS Hooks 2.0 §Security and Safety: all endpoints MUST use HTTPS
+      ['http://cds.larkspur-bay.example', 'must use https (CDS Hooks 2.0 §Security and Safety)'],
+      ['cds.larkspur-bay.example', 'must be an absolute URL such as https://cds.example.org'],
+      ['https://cds.larkspur-bay.example/?tenant=north', 'must not carry a query, fragment or user name'],
+      [
+        'https://cds.larkspur-bay.example/cds-services',
+        'must be the base URL, without /cds-services (it is added per call)',
+      ],
+    ])('refuses O2CHECK_PUBLIC_URL=%s', (publicUrl, message) => {
+      const result = parseEnvConfig(
+        { O2CHECK_MODE: 'production', O2CHECK_TRUST: '/etc/o2check/trust.yaml', O2CHECK_PUBLIC_URL: publicUrl },
+        '/',
+      );
+      expect(result).toStrictEqual({ kind: 'invalid', problems: [{ variable: 'O2CHECK_PUBLIC_URL', message }] });
+    });
+
+    it('keeps a path prefix on the public URL, for a proxy that serves the service under one', () => {
+      const result = parseEnvConfig(
+        {
+          O2CHECK_MODE: 'production',
+          O2CHECK_TRUST: '/etc/o2check/trust.yaml',
+          O2CHECK_PUBLIC_URL: 'https://apps.larkspur-bay.example/oxygen/',
+        },
+        '/',
+      );
+      if (result.kind !== 'ok' || result.config.security.mode !== 'production') throw new Error('expected production');
+      expect(result.config.security.publicUrl).toBe('https://apps.larkspur-bay.example/oxygen');
+    });
+
+    it.each(['0.0.0.0', '::', '10.20.0.4', 'cds.larkspur-bay.example'])(
+      'refuses demo mode on the non-loopback HOST %s',
+      (host) => {
+        const result = parseEnvConfig({ HOST: host }, '/');
+        expect(result).toStrictEqual({
+          kind: 'invalid',
+          problems: [
+            {
+              variable: 'HOST',
+              message:
+                'demo mode has authentication off, so it binds to loopback only (127.0.0.1, ::1 or localhost); ' +
+                'to serve other machines set O2CHECK_MODE=production with O2CHECK_TRUST and O2CHECK_PUBLIC_URL (see docs/security.md)',
+            },
+          ],
+        });
+      },
+    );
+
+    // RFC 1122 §3.2.1.3 (127.0.0.0/8), RFC 4291 §2.5.3 (::1), RFC 6761 §6.3 (localhost)
+    it.each(['127.0.0.1', '127.8.9.10', '::1', 'localhost'])('runs demo mode on the loopback HOST %s', (host) => {
+      const result = parseEnvConfig({ HOST: host }, '/');
+      expect(result.kind === 'ok' ? result.config.security : undefined).toStrictEqual({ mode: 'demo' });
+    });
+
+    it('refuses a trust file or public URL given without production mode', () => {
+      const result = parseEnvConfig(
+        { O2CHECK_TRUST: '/etc/o2check/trust.yaml', O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example' },
+        '/',
+      );
+      const message =
+        'is set, but O2CHECK_MODE is not production, so authentication would be off; set O2CHECK_MODE=production';
+      expect(result).toStrictEqual({
+        kind: 'invalid',
+        problems: [
+          { variable: 'O2CHECK_TRUST', message },
+          { variable: 'O2CHECK_PUBLIC_URL', message },
+        ],
+      });
+    });
+
+    it('refuses an unknown mode', () => {
+      const result = parseEnvConfig({ O2CHECK_MODE: 'staging' }, '/');
+      expect(result).toStrictEqual({
+        kind: 'invalid',
+        problems: [{ variable: 'O2CHECK_MODE', message: 'must be one of demo, production' }],
+      });
     });
   });
 

@@ -82,7 +82,12 @@ describe('authentication seam', () => {
     });
 
     it('lets every request through in demo mode', async () => {
-      expect(await allowEveryRequest({} as Request)).toStrictEqual({ kind: 'allowed', client: 'demo' });
+      expect(await allowEveryRequest({} as Request)).toStrictEqual({
+        kind: 'allowed',
+        client: 'demo',
+        iss: 'urn:oxygen-order-checker:demo-client',
+        fhirServers: { kind: 'loopback-only' },
+      });
     });
   });
 });

@@ -3,7 +3,9 @@ import { evaluateHook } from '../../cds/evaluate-hook.js';
 import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { Policy } from '../../core/policy.js';
 import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
+import { authenticatedClient } from '../auth.js';
 import { AppError } from '../errors.js';
+import { explainRefusal, limitFhirAccess } from '../fhir-server-access.js';
 import type { Gather } from '../gather-data.js';
 import { requestState } from '../request-context.js';
 import type { RouteHandler } from '../respond.js';
@@ -19,7 +21,7 @@ export interface ServiceRouteDeps {
  * `POST /cds-services/{id}` (CDS Hooks 2.0 §Calling a CDS Service): unknown id 404, a hook the id
  * is not registered for 400, a body or context that does not validate 400 (all decided by
  * src/cds/parse-hook-request.ts), required data unobtainable 412, else 200 with the cards the pure
- * orchestrator in src/cds builds.
+ * orchestrator in src/cds builds. The FHIR server is called only if the caller may use it.
  */
 export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
   return async (req, res) => {
@@ -35,7 +37,9 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
         break;
     }
     const { service, request } = parsed;
-    const gathered = await deps.gather(request, service.prefetch);
+    // A fhirServer this client may not use is never called (server-side request forgery).
+    const access = limitFhirAccess(request, authenticatedClient(res).fhirServers);
+    const gathered = await deps.gather(access.request, service.prefetch);
     const base = (fallback: FallbackSummary): HookCallSummary => ({
       kind: 'hook-call',
       serviceId: service.id,
@@ -49,6 +53,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       missingKeys: [],
       cardProblems: [],
       unavailableKeys: [],
+      ...(access.refused === undefined ? {} : { fhirServerRefused: access.refused }),
     });
     if (gathered.kind === 'unavailable') {
       // The 412 leaves through the error middleware; its summary line still names the call.
@@ -56,7 +61,9 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
         ...base(gathered.fallback),
         unavailableKeys: gathered.unavailable.map((item) => item.key),
       };
-      throw new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable: gathered.unavailable });
+      const unavailable =
+        access.refused === undefined ? gathered.unavailable : explainRefusal(gathered.unavailable, access.refused);
+      throw new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable });
     }
     const result = evaluateHook(
       { serviceId: service.id, request, data: gathered.data },

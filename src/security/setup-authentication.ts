@@ -1,0 +1,81 @@
+import type { SecurityConfig } from '../config/env-config.js';
+import { allowEveryRequest, type Authenticate } from '../http/auth.js';
+import type { Logger } from '../log/logger.js';
+import { createJwksStore } from './jwks-store.js';
+import { createJwtVerifier } from './jwt-verifier.js';
+import { createProductionAuthenticator } from './production-authenticator.js';
+import { createMemoryReplayCache, type ReplayCache } from './replay-cache.js';
+import { formatTrustProblems, loadTrustFile } from './trust-config.js';
+
+/**
+ * Builds the authenticator for the configured mode at start-up. Production refuses to start, with
+ * every problem in the trust file listed, rather than run with a partial trust configuration.
+ */
+export type AuthenticationSetup =
+  | { readonly kind: 'demo'; readonly authenticate: Authenticate }
+  | {
+      readonly kind: 'production';
+      readonly authenticate: Authenticate;
+      readonly publicUrl: string;
+      readonly trustedClients: number;
+    }
+  | { readonly kind: 'refused'; readonly problems: string };
+
+export interface SetupDeps {
+  readonly fetch: typeof fetch;
+  readonly clock: () => Date;
+  readonly logger: Logger;
+  /** Defaults to a memory cache sized by the configured limit (one instance only; docs/security.md). */
+  readonly replayCache?: ReplayCache;
+}
+
+export async function setUpAuthentication(security: SecurityConfig, deps: SetupDeps): Promise<AuthenticationSetup> {
+  if (security.mode === 'demo') {
+    return { kind: 'demo', authenticate: allowEveryRequest };
+  }
+  const loaded = await loadTrustFile(security.trustPath, { requireHttps: true });
+  if (loaded.kind === 'invalid') {
+    return { kind: 'refused', problems: formatTrustProblems(security.trustPath, loaded.problems) };
+  }
+  const { limits } = security;
+  const jwks = createJwksStore({
+    fetch: deps.fetch,
+    clock: deps.clock,
+    timeoutMs: limits.jwksTimeoutMs,
+    maxBytes: limits.jwksMaxBytes,
+    requireHttps: true,
+    ttlMs: limits.jwksCacheTtlS * 1000,
+    minRefreshIntervalMs: limits.jwksRefreshMinIntervalS * 1000,
+    onEvent: (event) => {
+      if (event.kind === 'fetched') {
+        deps.logger.info({ jwks: 'fetched', iss: event.issuer, keyCount: event.keyCount, skipped: event.skipped }, 'client keys fetched');
+      } else {
+        deps.logger.warn({ jwks: 'fetch-failed', iss: event.issuer, failure: event.failure }, 'client keys could not be fetched');
+      }
+    },
+  });
+  const replayCache =
+    deps.replayCache ??
+    createMemoryReplayCache({
+      maxEntries: limits.replayCacheMaxEntries,
+      clock: deps.clock,
+      onFull: () => deps.logger.warn({ replayCache: 'full' }, 'replay cache full; new tokens refused'),
+    });
+  const verify = createJwtVerifier({
+    trust: loaded.trust,
+    jwks,
+    replayCache,
+    clock: deps.clock,
+    limits: { clockSkewS: limits.clockSkewS, maxLifetimeS: limits.maxTokenLifetimeS },
+  });
+  return {
+    kind: 'production',
+    authenticate: createProductionAuthenticator({
+      verify,
+      publicBaseUrl: security.publicUrl,
+      requireHttpsFhirServers: true,
+    }),
+    publicUrl: security.publicUrl,
+    trustedClients: loaded.trust.clients.size,
+  };
+}
