@@ -11,6 +11,10 @@ export const ERROR_CATALOGUE = {
     status: 400,
     message: 'The request does not have the shape CDS Hooks 2.0 requires; see issues.',
   },
+  CDS_ERR_REQUEST_TOO_COMPLEX: {
+    status: 400,
+    message: 'The request body nests too deeply, or holds too long a list or text; see issues.',
+  },
   CDS_ERR_HOOK_NOT_SUPPORTED: {
     status: 400,
     message: 'This CDS service is not registered for that hook.',
@@ -46,6 +50,10 @@ export const ERROR_CATALOGUE = {
   CDS_ERR_INTERNAL: {
     status: 500,
     message: 'The service failed unexpectedly; quote the request id when reporting it.',
+  },
+  CDS_ERR_OVERLOADED: {
+    status: 503,
+    message: 'The service is checking as many orders as it can at once; retry after the Retry-After delay.',
   },
 } as const satisfies Readonly<Record<string, { status: number; message: string }>>;
 

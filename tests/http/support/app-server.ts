@@ -1,4 +1,4 @@
-import type { Server } from 'node:http';
+import { request as httpRequest, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import type { Express } from 'express';
 
@@ -59,4 +59,33 @@ export async function get(url: string): Promise<Answer> {
   const response = await fetch(url);
   const text = await response.text();
   return { status: response.status, headers: response.headers, text, body: parseOrUndefined(text) };
+}
+
+/**
+ * Any method with any body, over node:http: fetch refuses a GET with a body, which a hostile
+ * client may still send.
+ */
+export function send(
+  url: string,
+  method: string,
+  headers: Readonly<Record<string, string>>,
+  body: string | Uint8Array,
+): Promise<Answer> {
+  return new Promise((resolve, reject) => {
+    const req = httpRequest(url, { method, headers: { ...headers, 'Content-Length': String(Buffer.byteLength(body)) } }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on('data', (chunk: Buffer) => chunks.push(chunk));
+      res.on('end', () => {
+        const text = Buffer.concat(chunks).toString('utf8');
+        const responseHeaders = new Headers();
+        for (const [name, value] of Object.entries(res.headers)) {
+          if (typeof value === 'string') responseHeaders.set(name, value);
+        }
+        resolve({ status: res.statusCode ?? 0, headers: responseHeaders, text, body: parseOrUndefined(text) });
+      });
+      res.on('error', reject);
+    });
+    req.on('error', reject);
+    req.end(body);
+  });
 }
