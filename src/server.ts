@@ -3,6 +3,7 @@ import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from './config/load-files.js';
 import { createApp } from './http/app.js';
+import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
 
@@ -23,9 +24,6 @@ export interface StartedServer {
   readonly url: string;
   readonly close: () => Promise<void>;
 }
-
-/** Milliseconds a request in flight may take to finish after SIGTERM before its connection is cut. */
-const SHUTDOWN_GRACE_MS = 10_000;
 
 function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<Server> {
   return new Promise((resolve, reject) => {
@@ -78,17 +76,13 @@ export async function startServer(
     const trust = { mode: 'production', publicUrl: auth.publicUrl, trustedClients: auth.trustedClients };
     log.info({ ...started, ...trust }, `oxygen-order-checker listening; ${PRODUCTION_MODE_NOTICE}`);
   }
-  const close = (): Promise<void> =>
-    new Promise((resolve) => {
-      const force = setTimeout(() => server.closeAllConnections(), SHUTDOWN_GRACE_MS);
-      force.unref();
-      server.close(() => {
-        clearTimeout(force);
-        log.info({}, 'oxygen-order-checker stopped');
-        resolve();
-      });
-      server.closeIdleConnections();
-    });
+  // Calls in flight get `O2CHECK_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
+  const closeGracefully = prepareGracefulClose(server, config.shutdownGraceMs);
+  const close = async (): Promise<void> => {
+    log.info({ graceMs: config.shutdownGraceMs }, 'oxygen-order-checker stopping: no new connections');
+    const { forced } = await closeGracefully();
+    log.info(forced ? { forced } : {}, 'oxygen-order-checker stopped');
+  };
   return { kind: 'started', started: { server, url, close } };
 }
 
@@ -103,6 +97,8 @@ async function main(): Promise<void> {
   const stop = (): void => {
     void close().then(() => {
       process.exitCode = 0;
+      // Exits by itself once nothing is left; this only ends a process something else holds open.
+      setTimeout(() => process.exit(0), 1000).unref();
     });
   };
   process.once('SIGTERM', stop);

@@ -32,6 +32,10 @@ export const ENV_DEFAULTS = {
   O2CHECK_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
   O2CHECK_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
   O2CHECK_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
+  // Robustness (docs/api.md, "Robustness"): past the cap a hook call gets 503 with Retry-After.
+  O2CHECK_MAX_CONCURRENT: 16, // hook calls evaluated at once
+  O2CHECK_SHUTDOWN_GRACE_MS: 10_000, // milliseconds in-flight calls may take after SIGTERM
+  O2CHECK_BEHIND_TLS: false, // true when clients reach the service over HTTPS only: sends HSTS
   O2CHECK_MODE: 'demo' as Mode,
   // Client JWT checks (docs/security.md). RFC 7519 §4.1.4 allows "a small leeway" for clock skew;
   // CDS Hooks best practices keep client JWTs to at most an hour.
@@ -83,6 +87,10 @@ export interface EnvConfig {
   /** `'*'` (any origin, no credentials) or an explicit allowlist of origins. */
   readonly corsOrigins: '*' | readonly string[];
   readonly fhir: FhirFallbackLimits;
+  readonly maxConcurrentEvaluations: number;
+  readonly shutdownGraceMs: number;
+  /** Clients reach the service over HTTPS only (TLS here or at a proxy), so HSTS is sent. */
+  readonly behindTls: boolean;
   readonly security: SecurityConfig;
 }
 
@@ -115,6 +123,24 @@ function integerVar(fallback: number, min: number, max: number) {
         return z.NEVER;
       }
       return value;
+    });
+}
+
+/** An unset or empty variable takes its default; otherwise `true` or `false`. */
+function booleanVar(fallback: boolean) {
+  return z
+    .string()
+    .optional()
+    .transform((text, ctx) => {
+      const value = text?.trim().toLowerCase() ?? '';
+      if (value === '') {
+        return fallback;
+      }
+      if (value !== 'true' && value !== 'false') {
+        ctx.addIssue({ code: 'custom', message: 'must be true or false' });
+        return z.NEVER;
+      }
+      return value === 'true';
     });
 }
 
@@ -168,6 +194,9 @@ const EnvSchema = z.object({
     104_857_600,
   ),
   O2CHECK_FHIR_MAX_PAGES: integerVar(ENV_DEFAULTS.O2CHECK_FHIR_MAX_PAGES, 1, 100),
+  O2CHECK_MAX_CONCURRENT: integerVar(ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT, 1, 10_000),
+  O2CHECK_SHUTDOWN_GRACE_MS: integerVar(ENV_DEFAULTS.O2CHECK_SHUTDOWN_GRACE_MS, 0, 600_000),
+  O2CHECK_BEHIND_TLS: booleanVar(ENV_DEFAULTS.O2CHECK_BEHIND_TLS),
   O2CHECK_MODE: textVar(ENV_DEFAULTS.O2CHECK_MODE).pipe(
     z.enum(MODES, { error: `must be one of ${MODES.join(', ')}` }),
   ),
@@ -308,6 +337,9 @@ export function parseEnvConfig(
         maxResponseBytes: v.O2CHECK_FHIR_MAX_RESPONSE_BYTES,
         maxPages: v.O2CHECK_FHIR_MAX_PAGES,
       },
+      maxConcurrentEvaluations: v.O2CHECK_MAX_CONCURRENT,
+      shutdownGraceMs: v.O2CHECK_SHUTDOWN_GRACE_MS,
+      behindTls: v.O2CHECK_BEHIND_TLS,
       security: securityConfig(v, absolute),
     }),
   };

@@ -2,7 +2,7 @@ import { randomUUID } from 'node:crypto';
 import express, { type Express } from 'express';
 import type { CardTemplates } from '../cds/card-templates.js';
 import { missingTemplates } from '../cds/evaluate-hook.js';
-import type { EnvConfig } from '../config/env-config.js';
+import { ENV_DEFAULTS, type EnvConfig } from '../config/env-config.js';
 import type { Policy } from '../core/policy.js';
 import type { Logger } from '../log/logger.js';
 import { requireAuthentication, type Authenticate } from './auth.js';
@@ -11,15 +11,21 @@ import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createMemoryFeedbackStore, type FeedbackStore } from './feedback-store.js';
 import { createGatherer, type Gather } from './gather-data.js';
 import { parseJsonBody, requireJsonContentType } from './json-body.js';
+import { createEvaluationGate } from './overload.js';
 import { requestContext } from './request-context.js';
 import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler } from './routes/health.js';
+import { securityHeaders } from './security-headers.js';
 
-/** The settings the app reads: a slice of EnvConfig, so tests need not invent host or paths. */
-export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'>;
+/**
+ * The settings the app reads: a slice of EnvConfig, so tests need not invent host or paths. The
+ * robustness settings fall back to their ENV_DEFAULTS when a test leaves them out.
+ */
+export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
+  Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls'>>;
 
 export interface AppDeps {
   readonly policy: Policy;
@@ -58,10 +64,12 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   }
   const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
   const store = deps.feedbackStore ?? createMemoryFeedbackStore();
+  const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT);
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
 
+  app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.O2CHECK_BEHIND_TLS }));
   app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID));
   app.use(corsHeaders(config.corsOrigins));
   // Browsers send preflights without credentials, so they are answered before authentication.
@@ -73,8 +81,10 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.use(parseJsonBody(config.bodyLimitBytes));
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
   app.post(ROUTES.feedback, route('feedback', feedbackHandler(store)));
+  // Admitted after the body is read: the cap counts evaluations, so a slow upload holds no slot.
   app.post(
     ROUTES.service,
+    gate.admit,
     route(
       'service',
       serviceHandler({ policy: deps.policy, templates: deps.templates, clock: deps.clock, gather }),

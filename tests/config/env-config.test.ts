@@ -16,6 +16,9 @@ describe('parseEnvConfig', () => {
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
         fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
+        maxConcurrentEvaluations: 16, // project default (docs/api.md, Robustness)
+        shutdownGraceMs: 10_000, // project default
+        behindTls: false, // project default: no HSTS until HTTPS is known to be in front
         security: { mode: 'demo' }, // project default: demo mode, authentication off, loopback only
       },
     });
@@ -40,6 +43,9 @@ describe('parseEnvConfig', () => {
         O2CHECK_FHIR_BUDGET_MS: '900',
         O2CHECK_FHIR_MAX_RESPONSE_BYTES: '4096',
         O2CHECK_FHIR_MAX_PAGES: '2',
+        O2CHECK_MAX_CONCURRENT: '4',
+        O2CHECK_SHUTDOWN_GRACE_MS: '2500',
+        O2CHECK_BEHIND_TLS: 'true',
         O2CHECK_MODE: 'production',
         O2CHECK_TRUST: 'trust/larkspur-bay-clients.yaml',
         O2CHECK_PUBLIC_URL: 'https://CDS.larkspur-bay.example/',
@@ -64,6 +70,9 @@ describe('parseEnvConfig', () => {
         bodyLimitBytes: 65_536,
         corsOrigins: ['https://ehr.larkspur-bay.example', 'https://test.larkspur-bay.example:8443'],
         fhir: { callTimeoutMs: 400, budgetMs: 900, maxResponseBytes: 4096, maxPages: 2 },
+        maxConcurrentEvaluations: 4,
+        shutdownGraceMs: 2500,
+        behindTls: true,
         security: {
           mode: 'production',
           trustPath: '/srv/o2check/trust/larkspur-bay-clients.yaml',
@@ -234,6 +243,17 @@ describe('parseEnvConfig', () => {
     it.each(['-1', '65536', '8080.5', '1e3'])('refuses PORT=%s', (port) => {
       const result = parseEnvConfig({ PORT: port }, '/');
       expect(result.kind).toBe('invalid');
+    });
+
+    it('refuses a concurrency cap of 0 and a yes/no flag that is neither', () => {
+      const result = parseEnvConfig({ O2CHECK_MAX_CONCURRENT: '0', O2CHECK_BEHIND_TLS: 'yes' }, '/');
+      expect(result).toStrictEqual({
+        kind: 'invalid',
+        problems: [
+          { variable: 'O2CHECK_MAX_CONCURRENT', message: 'must be a whole number from 1 to 10000' },
+          { variable: 'O2CHECK_BEHIND_TLS', message: 'must be true or false' },
+        ],
+      });
     });
 
     it('refuses an overall FHIR budget shorter than one call', () => {

@@ -24,6 +24,7 @@ export const FAULTS = [
   'redirect-other-host', // 302 to a server on another host (127.0.0.2)
   'reset-mid-body', // headers and part of the body, then a TCP reset
   'deep-json', // valid JSON nested 100,000 levels deep
+  'held', // answers normally, but only once the test calls releaseHeld()
 ] as const;
 export type Fault = (typeof FAULTS)[number];
 
@@ -47,6 +48,8 @@ export interface FaultFhirServer {
   readonly redirectTargetRequests: Received[];
   /** Body bytes the huge-body answers got onto the wire before the client hung up. */
   readonly hugeBytesSent: () => number;
+  /** Answers every request held by the `held` fault so far. */
+  releaseHeld(): void;
   close(): Promise<void>;
 }
 
@@ -95,6 +98,7 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
   const timers = new Set<NodeJS.Timeout>();
   const sockets = new Set<Socket>();
   let hugeBytes = 0;
+  const held: (() => void)[] = [];
   let origin = '';
 
   const other: Server = createServer((req, res) => {
@@ -134,6 +138,11 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
         return;
       }
       case 'hang':
+        return;
+      case 'held':
+        held.push(() => {
+          if (!res.destroyed) sendJson(res, 200, normalAnswer(type));
+        });
         return;
       case 'status-500':
         sendJson(res, 500, { resourceType: 'OperationOutcome', issue: [{ severity: 'error', code: 'exception' }] });
@@ -208,6 +217,9 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
     requests,
     redirectTargetRequests,
     hugeBytesSent: () => hugeBytes,
+    releaseHeld: () => {
+      for (const answer of held.splice(0)) answer();
+    },
     close: async () => {
       for (const timer of timers) clearTimeout(timer);
       for (const socket of sockets) socket.destroy();
