@@ -42,7 +42,9 @@ export function explainRefusal(
   unavailable: readonly UnavailablePrefetch[],
   refused: FhirServerRefusal,
 ): UnavailablePrefetch[] {
-  const because = `the fhirServer in the request is not allowed for this client (${WHY_REFUSED[refused]}), so it was not called`;
+  const because =
+    `the fhirServer in the request is not allowed for this client (${WHY_REFUSED[refused]}), ` +
+    'so it was not called';
   return unavailable.map((item) => ({
     key: item.key,
     reason: NO_ACCESS.test(item.reason)

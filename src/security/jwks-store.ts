@@ -49,7 +49,13 @@ export function createJwksStore(options: JwksStoreOptions): JwksStore {
   function entryFor(url: string): Entry {
     let entry = entries.get(url);
     if (entry === undefined) {
-      entry = { keys: undefined, fetchedAt: undefined, lastAttemptAt: undefined, lastFailure: undefined, inflight: undefined };
+      entry = {
+        keys: undefined,
+        fetchedAt: undefined,
+        lastAttemptAt: undefined,
+        lastFailure: undefined,
+        inflight: undefined,
+      };
       entries.set(url, entry);
     }
     return entry;

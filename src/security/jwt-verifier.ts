@@ -36,7 +36,12 @@ export interface TokenLabels {
 }
 
 export type VerifyOutcome =
-  | { readonly kind: 'verified'; readonly client: TrustedClient; readonly claims: CheckedClaims; readonly alg: SigningAlgorithm }
+  | {
+      readonly kind: 'verified';
+      readonly client: TrustedClient;
+      readonly claims: CheckedClaims;
+      readonly alg: SigningAlgorithm;
+    }
   | { readonly kind: 'refused'; readonly reason: VerifyFailure; readonly labels: TokenLabels };
 
 export type VerifyToken = (token: string, audience: string) => Promise<VerifyOutcome>;
@@ -55,8 +60,15 @@ function label(value: unknown): string | undefined {
   return typeof value === 'string' && value !== '' ? value.slice(0, LABEL_MAX) : undefined;
 }
 
-function labelsOf(header: Readonly<Record<string, unknown>>, payload: Readonly<Record<string, unknown>>): TokenLabels {
-  const entries = { iss: label(payload['iss']), kid: label(header['kid']), jti: label(payload['jti']), tenant: label(payload['tenant']) };
+type JsonObject = Readonly<Record<string, unknown>>;
+
+function labelsOf(header: JsonObject, payload: JsonObject): TokenLabels {
+  const entries = {
+    iss: label(payload['iss']),
+    kid: label(header['kid']),
+    jti: label(payload['jti']),
+    tenant: label(payload['tenant']),
+  };
   return Object.fromEntries(Object.entries(entries).filter(([, v]) => v !== undefined)) as TokenLabels;
 }
 
@@ -73,7 +85,9 @@ function normalisedUrl(text: string): string | undefined {
   }
 }
 
-type KeyChoice = { readonly kind: 'keys'; readonly keys: readonly PreparedKey[] } | { readonly kind: 'refused'; readonly reason: VerifyFailure };
+type KeyChoice =
+  | { readonly kind: 'keys'; readonly keys: readonly PreparedKey[] }
+  | { readonly kind: 'refused'; readonly reason: VerifyFailure };
 
 /** The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. */
 async function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): Promise<KeyChoice> {

@@ -48,9 +48,11 @@ export async function setUpAuthentication(security: SecurityConfig, deps: SetupD
     minRefreshIntervalMs: limits.jwksRefreshMinIntervalS * 1000,
     onEvent: (event) => {
       if (event.kind === 'fetched') {
-        deps.logger.info({ jwks: 'fetched', iss: event.issuer, keyCount: event.keyCount, skipped: event.skipped }, 'client keys fetched');
+        const fields = { jwks: 'fetched', iss: event.issuer, keyCount: event.keyCount, skipped: event.skipped };
+        deps.logger.info(fields, 'client keys fetched');
       } else {
-        deps.logger.warn({ jwks: 'fetch-failed', iss: event.issuer, failure: event.failure }, 'client keys could not be fetched');
+        const fields = { jwks: 'fetch-failed', iss: event.issuer, failure: event.failure };
+        deps.logger.warn(fields, 'client keys could not be fetched');
       }
     },
   });

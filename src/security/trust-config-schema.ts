@@ -73,7 +73,11 @@ function checkClient(client: unknown, ctx: z.RefinementCtx): void {
       return;
     }
     if (seen.has(outcome.key.kid)) {
-      ctx.addIssue({ code: 'custom', path: ['jwks', 'keys', index], message: `kid '${outcome.key.kid}' is used by an earlier key` });
+      ctx.addIssue({
+        code: 'custom',
+        path: ['jwks', 'keys', index],
+        message: `kid '${outcome.key.kid}' is used by an earlier key`,
+      });
     }
     seen.add(outcome.key.kid);
     if (!algorithms.some((alg) => keySuitsAlgorithm(outcome.key, alg))) {
@@ -98,7 +102,11 @@ function checkFile(file: unknown, ctx: z.RefinementCtx): void {
       return;
     }
     if (seen.has(iss)) {
-      ctx.addIssue({ code: 'custom', path: ['clients', index, 'iss'], message: `'${iss}' is listed by an earlier client` });
+      ctx.addIssue({
+        code: 'custom',
+        path: ['clients', index, 'iss'],
+        message: `'${iss}' is listed by an earlier client`,
+      });
     }
     seen.add(iss);
   });
