@@ -279,7 +279,6 @@ function securityConfig(v: ParsedEnv, absolute: (path: string) => string): Secur
   };
 }
 
-
 function deepFreeze<T>(value: T): T {
   if (value !== null && typeof value === 'object') {
     for (const inner of Object.values(value)) {
