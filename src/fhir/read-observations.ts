@@ -4,6 +4,7 @@ import type { MeasuredKind } from './codes.js';
 import { describeAge } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
 import { arrayAt, stringAt } from './json.js';
+import { checkGasConsistency } from './gas-consistency.js';
 import { FUTURE_SKEW_MS } from './plausibility.js';
 import { groupBloodGases } from './read-blood-gases.js';
 import { readObservationValues, type Reading } from './read-observation-values.js';
@@ -115,14 +116,21 @@ export function readObservations(
   let newestOld: { ageMs: number; reference: string | undefined } | undefined;
   for (const sample of groupBloodGases(readings.filter((r) => r.code.kind === 'gas'))) {
     const ageMs = nowMs - sample.atMs;
+    const kept = ageMs <= freshness.previousHypercapniaDays * 86_400_000;
+    // A sample whose pH, PCO2 and HCO3 disagree has mislabelled pressures: they are set aside.
+    const checked = ageMs >= -FUTURE_SKEW_MS && kept ? checkGasConsistency(sample.gas, sample.reference) : undefined;
+    if (checked?.note !== undefined) {
+      notes.push(checked.note);
+    }
+    const gas = checked?.gas ?? sample.gas;
     if (ageMs < -FUTURE_SKEW_MS) {
       notes.push(futureNote('Blood gas', ageMs, sample.reference));
     } else if (ageMs <= freshness.bloodGasMinutes * 60_000) {
-      bloodGases.push(sample.gas);
+      bloodGases.push(gas);
     } else {
       newestOld ??= { ageMs, reference: sample.reference };
-      if (ageMs <= freshness.previousHypercapniaDays * 86_400_000) {
-        historicBloodGases.push(sample.gas);
+      if (kept) {
+        historicBloodGases.push(gas);
       }
     }
   }

@@ -69,6 +69,32 @@ describe('readObservations', () => {
     expect(first?.paco2MmHg).toBeCloseTo(54.0046, 3);
   });
 
+  it('sets aside the pressures of a gas whose PCO2 was sent in kPa but labelled mmHg', () => {
+    // pH 7.33 and HCO3 34 agree with 6.9 kPa, not 6.9 mmHg (Henderson–Hasselbalch, from memory):
+    // used as mmHg the gas would look normal and re-target a CO2 retainer (BTS 2017 Tables 2-4)
+    const at = minutesAgo(60);
+    const facts = readObservations(
+      [
+        observation('ph', '2744-1', 7.33, '[pH]', at),
+        observation('pco2', '2019-8', 6.9, 'mm[Hg]', at),
+        observation('po2', '2703-7', 10.2, 'mm[Hg]', at),
+        observation('hco3', '1960-4', 34, 'mmol/L', at),
+      ],
+      freshness,
+      NOW,
+    );
+    expect(facts.bloodGases).toHaveLength(1);
+    expect(facts.bloodGases[0]).toMatchObject({ ph: 7.33, hco3MmolPerL: 34, paco2MmHg: undefined, pao2MmHg: undefined });
+    expect(facts.notes.map((n) => [n.what, n.reason])).toStrictEqual([['Blood gas pressures', 'implausible']]);
+  });
+
+  it('sets aside a PCO2 below 10 mmHg even without a pH to check it against', () => {
+    // 6.9 "mmHg" reads like 6.9 kPa; below 10 mmHg is exceptional in hospital patients (common practice)
+    const facts = readObservations([observation('pco2', '2019-8', 6.9, 'mm[Hg]', minutesAgo(30))], freshness, NOW);
+    expect(facts.bloodGases[0]?.paco2MmHg).toBeUndefined();
+    expect(facts.notes.map((n) => [n.what, n.reason])).toStrictEqual([['Blood gas pressures', 'implausible']]);
+  });
+
   it('groups values a panel lists in hasMember even when their times differ', () => {
     const panel = {
       resourceType: 'Observation',

@@ -64,8 +64,13 @@ export const BLOOD_GAS_RANGE_DEFAULTS = {
 /** Bicarbonate beyond an expectation by more than this counts as raised (common practice). */
 const COMPENSATION_ALLOWANCE_MMOL_PER_L = 2;
 
-/** A reported HCO3 further than this from the calculated one points to a unit or entry error. */
-const CONSISTENCY_TOLERANCE_MMOL_PER_L = 6;
+/**
+ * A reported HCO3 further than this from the one calculated from pH and PaCO2 points to a unit or
+ * entry error (common practice: the Henderson–Hasselbalch consistency check of a gas). The FHIR
+ * reader uses the same tolerance to set aside a sample whose pressures are mislabelled.
+ */
+export const BICARBONATE_CONSISTENCY_TOLERANCE_MMOL_PER_L = 6;
+const CONSISTENCY_TOLERANCE_MMOL_PER_L = BICARBONATE_CONSISTENCY_TOLERANCE_MMOL_PER_L;
 
 /** Primary disturbance when pH is in range but both PaCO2 and HCO3 are low (common practice). */
 const NEUTRAL_PH = 7.4;
