@@ -12,8 +12,9 @@ import { codingsOf, objectAt, wordsOf } from './json.js';
 /**
  * Maps the patient's Conditions onto the kinds that change the oxygen target (BTS 2017 Table 4 and
  * its special situations): by SNOMED CT code, by ICD-10 code prefix, and by the words of `code.text`
- * and `coding.display`. Only active conditions count: clinicalStatus active, recurrence or relapse
- * (or absent, with no abatement), and not refuted or entered in error.
+ * and `coding.display`. Only active conditions count (clinicalStatus active, recurrence or relapse,
+ * or absent with no abatement), except past episodes of NIV, invasive ventilation or hypercapnic
+ * failure, which count when resolved too; nothing refuted or entered in error counts.
  */
 
 /** Words for each kind. Matched case-insensitively; a match after "no", "not" or "ruled out" is skipped. */
@@ -34,7 +35,7 @@ const TEXT_PATTERNS: ReadonlyArray<readonly [ConditionKind, RegExp]> = [
   ],
   [
     'previous-niv-or-imv',
-    /\bhome (?:NIV|BiPAP|ventilation|ventilator)\b|\b(?:previous|prior|history of)\b[^.;]{0,30}\b(?:NIV|intubat\w*|IMV|mechanical(?:ly)? ventilat\w*|invasive ventilation|non-?invasive ventilation)\b|\bventilator[- ]dependen\w*\b/i,
+    /\bhome (?:NIV|BiPAP|ventilation|ventilator)\b|\b(?:previous|prior|history of)\b[^.;]{0,30}\b(?:NIV|intubat\w*|IMV|mechanical(?:ly)? ventilat\w*|invasive ventilation|non-?invasive ventilation)\b|\b(?:required|requiring|needed|needing|treated with|received)\b[^.;]{0,20}\b(?:NIV|BiPAP|intubation|IMV|mechanical ventilation|invasive ventilation|non-?invasive ventilation)\b|\bventilator[- ]dependen\w*\b/i,
   ],
   ['carbon-monoxide-poisoning', /\bcarbon monoxide\b|\bCO poisoning\b|\bcarboxyh(?:a)?emoglobin/i],
   ['paraquat-poisoning', /\bparaquat\b/i],
@@ -52,17 +53,29 @@ const NEGATED = /\b(?:no|not|non|without|denies|ruled out|excluded|negative for)
 const INACTIVE_CLINICAL = new Set(['inactive', 'remission', 'resolved']);
 const UNTRUE_VERIFICATION = new Set(['refuted', 'entered-in-error']);
 
-function isActive(condition: FhirResource): boolean {
+/**
+ * Kinds that record something that happened: a past episode of NIV, invasive ventilation or
+ * hypercapnic failure still counts once it has resolved, because BTS 2017 (Tables 2–4) keeps the
+ * 88–92 % target for patients with previous NIV/IMV or previous hypercapnic failure. Such an
+ * episode is naturally recorded as resolved or inactive.
+ */
+const PAST_EPISODE_KINDS: ReadonlySet<ConditionKind> = new Set([
+  'previous-niv-or-imv',
+  'chronic-hypercapnic-respiratory-failure',
+]);
+
+/** 'untrue' (refuted or entered in error), 'ended' (resolved, inactive, remission or abated), or 'active'. */
+function statusOf(condition: FhirResource): 'untrue' | 'ended' | 'active' {
   const clinical = codingsOf(condition['clinicalStatus']).map((c) => c.code?.toLowerCase());
   const verification = codingsOf(condition['verificationStatus']).map((c) => c.code?.toLowerCase());
   if (verification.some((c) => c !== undefined && UNTRUE_VERIFICATION.has(c))) {
-    return false;
+    return 'untrue';
   }
   if (clinical.length === 0) {
     const abated = Object.keys(condition).some((k) => k.startsWith('abatement'));
-    return !abated;
+    return abated ? 'ended' : 'active';
   }
-  return !clinical.some((c) => c !== undefined && INACTIVE_CLINICAL.has(c));
+  return clinical.some((c) => c !== undefined && INACTIVE_CLINICAL.has(c)) ? 'ended' : 'active';
 }
 
 function icd10Kind(code: string): ConditionKind | undefined {
@@ -95,7 +108,8 @@ export function readConditions(resources: readonly FhirResource[]): ConditionsRe
   const conditions: ConditionFact[] = [];
   const notes: SetAsideNote[] = [];
   for (const condition of resources) {
-    if (condition.resourceType !== 'Condition' || !isActive(condition)) {
+    const status = condition.resourceType === 'Condition' ? statusOf(condition) : 'untrue';
+    if (status === 'untrue') {
       continue;
     }
     const reference = condition.id === undefined ? undefined : `Condition/${condition.id}`;
@@ -129,7 +143,11 @@ export function readConditions(resources: readonly FhirResource[]): ConditionsRe
       }
     }
     for (const [kind, matchedBy] of found) {
-      conditions.push({ kind, matchedBy, display, reference });
+      if (status === 'active') {
+        conditions.push({ kind, matchedBy, display, reference });
+      } else if (PAST_EPISODE_KINDS.has(kind)) {
+        conditions.push({ kind, matchedBy: `${matchedBy}, a past episode`, display, reference });
+      }
     }
   }
   return { conditions, notes };

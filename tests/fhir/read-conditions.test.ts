@@ -101,6 +101,37 @@ describe('readConditions', () => {
       expect(kindsOf({ text: 'Pneumothorax' }, status)).toStrictEqual([]);
     });
 
+    it.each([
+      ['resolved', 'Previous NIV for hypercapnic respiratory failure', ['chronic-hypercapnic-respiratory-failure', 'previous-niv-or-imv']],
+      ['inactive', 'Acute hypercapnic respiratory failure treated with non-invasive ventilation', ['chronic-hypercapnic-respiratory-failure', 'previous-niv-or-imv']],
+      ['remission', 'Type 2 respiratory failure', ['chronic-hypercapnic-respiratory-failure']],
+    ])('counts a past episode of NIV or hypercapnic failure whose clinicalStatus is %s: "%s"', (code, text, kinds) => {
+      // BTS 2017, Tables 2-4: previous NIV/IMV or hypercapnic failure keeps 88-92 % after a normal gas;
+      // an episode that is over is recorded as resolved, and it still happened
+      const read = readConditions([condition('c1', { text }, { clinicalStatus: { coding: [{ code }] } })]);
+      expect(read.conditions.map((c) => c.kind)).toStrictEqual(kinds);
+      expect(read.conditions.every((c) => c.matchedBy.endsWith(', a past episode'))).toBe(true);
+    });
+
+    it('counts an abated episode of NIV but not the abated COPD recorded with it', () => {
+      const read = readConditions([
+        { resourceType: 'Condition', id: 'a', code: { text: 'Required NIV in 2024' }, abatementDateTime: '2024-03-01' },
+        { resourceType: 'Condition', id: 'b', code: { text: 'COPD' }, abatementDateTime: '2024-03-01' },
+      ]);
+      expect(read.conditions.map((c) => [c.kind, c.matchedBy])).toStrictEqual([
+        ['previous-niv-or-imv', "text: 'Required NIV in 2024', a past episode"],
+      ]);
+    });
+
+    it('does not count a refuted episode of NIV', () => {
+      const status = { clinicalStatus: { coding: [{ code: 'resolved' }] }, verificationStatus: { coding: [{ code: 'refuted' }] } };
+      expect(kindsOf({ text: 'Previous NIV' }, status)).toStrictEqual([]);
+    });
+
+    it('does not read "not requiring NIV" as previous NIV', () => {
+      expect(kindsOf({ text: 'COPD exacerbation not requiring NIV' })).toStrictEqual(['copd']);
+    });
+
     it.each(['recurrence', 'relapse', 'active'])('counts a condition whose clinicalStatus is %s', (code) => {
       expect(kindsOf({ text: 'Pneumothorax' }, { clinicalStatus: { coding: [{ code }] } })).toStrictEqual(['pneumothorax']);
     });
