@@ -18,7 +18,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'lower-range-without-risk',
   title: 'Lower target range ordered without a documented hypercapnic risk',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
@@ -32,6 +32,12 @@ export const rule: Rule = {
       return [];
     }
     const retargeted = target.basis === 'standard-after-normal-gas';
+    // The summary names why the standard range applies: a re-targeted patient has a documented risk,
+    // so "no documented risk" would contradict the risk factors the card lists.
+    const whyStandard = retargeted
+      ? `the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display}, ` +
+        'with no previous NIV or hypercapnic failure'
+      : 'no hypercapnic risk is documented';
     return [
       makeFinding(rule, {
         indicator: retargeted ? 'warning' : rule.defaultIndicator,
@@ -41,6 +47,7 @@ export const rule: Rule = {
           orderedRange: formatRange(comparison.ordered),
           advisedRange: formatRange(comparison.advised),
           targetReason: target.reason,
+          whyStandard,
           riskReasons: describeRiskReasons(assessment),
         },
         sourceKeys: ['bts-2017', policy.basisKey],

@@ -19,7 +19,7 @@ describe('lower-range-without-risk', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 94, highPercent: 98 } });
     expect(finding.values.riskReasons).toBe('none documented');
     const card = expectCardRenders(finding);
-    expect(card.summary).toBe('Target 88–92 % ordered without a documented hypercapnic risk: policy range 94–98 %');
+    expect(card.summary).toBe('Target 88–92 % ordered, but 94–98 % applies: no hypercapnic risk is documented');
   });
 
   it('offers an override for a patient-specific target or alert card', () => {
@@ -36,7 +36,14 @@ describe('lower-range-without-risk', () => {
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.indicator).toBe('warning');
     expect(finding.values.advisedRange).toBe('94–98 %');
-    expectCardRenders(finding);
+    const card = expectCardRenders(finding);
+    // BTS 2017, Tables 2-4 (re-targeting). The risk is documented (COPD), so the card must not say
+    // it is not: it names the normal gas (hypercapnia at 6 kPa, BTS 2017 clarification).
+    expect(card.summary).toBe(
+      'Target 88–92 % ordered, but 94–98 % applies: the current gas shows PCO2 below 6 kPa, ' +
+        'with no previous NIV or hypercapnic failure',
+    );
+    expect(finding.values.riskReasons).not.toBe('none documented');
   });
 
   it('uses the TSANZ standard range under the TSANZ preset', () => {
