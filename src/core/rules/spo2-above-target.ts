@@ -1,10 +1,59 @@
+import { estimateOrderDelivery } from '../assessment/build-assessment.js';
 import { isWithin, newestFirst } from '../assessment/current-values.js';
 import { formatFlow, formatRange } from '../assessment/format.js';
+import type { Assessment } from '../assessment/types.js';
 import { DEVICE_MODELS } from '../devices/index.js';
-import type { Finding, OrderChange } from '../types.js';
+import type { Facts, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+
+/** Two FiO2 estimates closer than this are the same oxygen (the estimates carry two decimals). */
+const SAME_FIO2_WITHIN = 0.005;
+
+/**
+ * True when the order being signed already gives less oxygen than the patient was having: a lower
+ * estimated FiO2 than an active order on record (same model, same breathing), a set FiO2 below the
+ * FiO2 recorded at the reading, or, on a device whose FiO2 follows its flow, a flow below the
+ * running one (the latest recorded flow, else that of an active order on record for the same
+ * device). Advising a step down then only repeats what the order does.
+ */
+function orderAlreadyLowers(order: OxygenOrder, assessment: Assessment, facts: Facts, latestFlow: number | undefined): boolean {
+  const ordered = assessment.delivery.kind === 'ok' ? assessment.delivery.value.fio2.estimate : undefined;
+  const onRecord = facts.activeOrders
+    .filter((o) => o.reference !== order.reference)
+    .map((o) => estimateOrderDelivery(o, assessment.current))
+    .flatMap((d) => (d.kind === 'ok' ? [d.value.fio2.estimate] : []));
+  if (ordered !== undefined && onRecord.some((fio2) => fio2 > ordered + SAME_FIO2_WITHIN)) {
+    return true;
+  }
+  const atReading = assessment.physiology.fio2AtSpo2;
+  if (order.setFio2Fraction !== undefined) {
+    return (
+      atReading.kind === 'ok' &&
+      atReading.value.basis === 'recorded-fio2' &&
+      order.setFio2Fraction < atReading.value.estimate - SAME_FIO2_WITHIN
+    );
+  }
+  const runningFlow =
+    latestFlow ??
+    facts.activeOrders.find((o) => o.device === order.device && o.flowLPerMin !== undefined)?.flowLPerMin;
+  return order.flowLPerMin !== undefined && runningFlow !== undefined && order.flowLPerMin < runningFlow;
+}
+
+/**
+ * True when another card advises a range higher than the ordered one that the SpO2 already lies in
+ * (re-targeting after a normal gas, or a standard range in place of a lower one): a step down to
+ * the ordered range would contradict that card.
+ */
+function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): boolean {
+  const comparison = assessment.targetComparison;
+  if (comparison.kind !== 'lower-range-without-risk' && comparison.kind !== 'differs') {
+    return false;
+  }
+  const { ordered, advised } = comparison;
+  return ordered !== undefined && ordered.highPercent < advised.highPercent && spo2Percent <= advised.highPercent;
+}
 
 
 /**
@@ -16,7 +65,9 @@ import type { Rule } from './support/rule-types.js';
  * and in COPD exacerbations an SpO2 above 92 % has been linked with higher mortality (Echevarria
  * 2021), so the finding is a warning when the at-risk range applies and information otherwise.
  * Suggests one step down on a nasal cannula (not below the device's lowest flow); elsewhere the next
- * step depends on the device and local practice, so no change is offered.
+ * step depends on the device and local practice, so no change is offered. Silent when the order
+ * already gives less oxygen than the patient was having, and when another card advises a higher
+ * range that the SpO2 already lies in (a step down would contradict it).
  * Thresholds: the titration target (ordered, or `targets.*` through target selection);
  * `freshness.vitalSignsMinutes` for a current SpO2.
  * Sources: BTS 2017 (weaning and titration); BMJ 2018; Echevarria et al., EMJ 2021 (card text).
@@ -24,7 +75,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'spo2-above-target',
   title: 'SpO2 above the target range while on oxygen',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -39,6 +90,9 @@ export const rule: Rule = {
     const latestFlow = newestFirst(facts.o2FlowLPerMin).find((f) =>
       isWithin(f.at, now, policy.freshness.vitalSignsMinutes),
     )?.value;
+    if (withinHigherAdvisedRange(assessment, spo2.value) || orderAlreadyLowers(order, assessment, facts, latestFlow)) {
+      return [];
+    }
     const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
     const flow = order.flowLPerMin;
     // Offer a step down only when this order is not already lower than what is running.

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/spo2-above-target.js';
-import { activeOrder, buildFacts, condition, fio2, o2Flow, oxygenOrder, spo2 } from '../facts-builder.js';
+import { activeOrder, bloodGas, buildFacts, condition, fio2, o2Flow, oxygenOrder, respRate, spo2 } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -86,6 +86,7 @@ describe('spo2-above-target', () => {
 
     it('offers no step for devices whose next step is not a flow change', () => {
       const facts = buildFacts({
+        conditions: [condition('copd')],
         orders: [oxygenOrder({ device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
         spo2Percent: [spo2(96)],
         fio2Fraction: [fio2(0.28)],
@@ -93,9 +94,64 @@ describe('spo2-above-target', () => {
       expect(onlyFinding(runRule(rule, facts)).change).toBeUndefined();
     });
 
-    it('does not step down further when the order already lowers the running flow', () => {
+    it('stays quiet when the order already lowers the running flow', () => {
+      // The order is itself the step down BTS 2017 advises above target: a card would only repeat it.
       const facts = buildFacts({ orders: [oxygenOrder({ flowLPerMin: 2 })], spo2Percent: [spo2(99)], o2FlowLPerMin: [o2Flow(4)] });
-      expect(onlyFinding(runRule(rule, facts)).change).toBeUndefined();
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('stays quiet when the order steps a reservoir mask down from the 15 L/min order on record', () => {
+      // reservoir mask 10-15 L/min (BTS 2008; BTS 2017 Table 2); 10 L/min delivers less than 15
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 10 })],
+        activeOrders: [activeOrder({ device: 'reservoir-mask', flowLPerMin: 15 })],
+        spo2Percent: [spo2(99)],
+        respRatePerMin: [respRate(20)],
+      });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('stays quiet when the order sets a lower FiO2 than the one recorded at the reading', () => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.4 })],
+        spo2Percent: [spo2(99)],
+        fio2Fraction: [fio2(0.6)],
+      });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('still fires when the order keeps the FiO2 recorded at the reading', () => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.6 })],
+        spo2Percent: [spo2(99)],
+        fio2Fraction: [fio2(0.6)],
+      });
+      expect(runRule(rule, facts)).toHaveLength(1);
+    });
+
+    it('does not advise a step down to 88-92 % for a patient re-targeted to 94-98 % after a normal gas', () => {
+      // BTS 2017, Tables 2-4: PaCO2 normal and no previous NIV/IMV, so 94-98 % applies and the
+      // re-targeting card says so; SpO2 93 % is within neither 88-92 % nor above 94-98 %.
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3, target: { lowPercent: 88, highPercent: 92, readFrom: 'text' } })],
+        conditions: [condition('copd')],
+        bloodGases: [bloodGas({ ageMinutes: 60, ph: 7.42, paco2Kpa: 5.0, pao2Kpa: 9.0 })],
+        spo2Percent: [spo2(93)],
+        o2FlowLPerMin: [o2Flow(3)],
+      });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it.each([
+      [96, 0], // within the policy 94-98 % that target-differs-from-policy offers (BTS 2017 Tables 1-3)
+      [99, 1], // above 94-98 % as well: a step down is advised whichever range applies
+    ])('judges SpO2 %s %% on a 90-94 %% order for a patient without risk: %s card(s)', (value, cards) => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ target: { lowPercent: 90, highPercent: 94, readFrom: 'text' } })],
+        spo2Percent: [spo2(value)],
+        o2FlowLPerMin: [o2Flow(2)],
+      });
+      expect(runRule(rule, facts)).toHaveLength(cards);
     });
 
     it('stays quiet where no SpO2 target applies', () => {
