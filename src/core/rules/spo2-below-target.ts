@@ -1,6 +1,6 @@
-import { formatFlow, formatPercent, formatRange } from '../assessment/format.js';
+import { formatFlow, formatFraction, formatPercent, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
-import type { DeviceKind, Finding, OrderChange } from '../types.js';
+import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
@@ -14,9 +14,12 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * Rationale: a reading below target calls for clinical review (BTS 2017: a fall below the target
  * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
  * (BTS 2017 Table 2: below 85 % start a reservoir mask at 15 L/min), more than
- * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient is already on
- * a reservoir mask, high-flow or NIV. A reading taken on air, before this order starts oxygen, is
- * reported only when critical: the order itself is the response. Where no SpO2 target applies
+ * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient was already
+ * on a reservoir mask, high-flow or NIV when it was read (an active order on record, or this order
+ * if written before the reading), or on a recorded FiO2 at or above `thresholds.highOxygenFio2AtLeast`.
+ * A new order for one of those devices is the response to the reading, not a failure of it. A
+ * reading taken on air, before this order starts oxygen, is reported only when critical: the order
+ * itself is the response. Where no SpO2 target applies
  * (carbon monoxide, pneumothorax, cluster headache) only the critical threshold is checked. Suggests
  * a reservoir mask at the device's top flow when SpO2 is below the critical threshold, the patient is
  * not at risk of hypercapnia and the device is not already one of the above.
@@ -25,7 +28,7 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
 export const rule: Rule = {
   id: 'spo2-below-target',
   title: 'SpO2 below the target range',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -41,22 +44,34 @@ export const rule: Rule = {
       return [];
     }
     const farBelow = lowBound !== undefined && lowBound - spo2.value > criticalPointsBelowTarget;
-    const onTopDevice = [order, ...facts.activeOrders].some(
-      (o) => o.device !== undefined && TOP_OF_WARD_DEVICES.includes(o.device),
-    );
-    const critical = belowCriticalLevel || farBelow || onTopDevice;
+    const isTopDevice = (o: OxygenOrder): boolean => o.device !== undefined && TOP_OF_WARD_DEVICES.includes(o.device);
+    // Only what the patient was on when the SpO2 was read makes a low reading critical: a new order
+    // for high flow or NIV is the response to the reading, not a sign that it has already failed.
+    const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
+    const onTopDevice = facts.activeOrders.some(isTopDevice) || (orderInForce && isTopDevice(order));
+    const fio2AtReading = assessment.physiology.fio2AtSpo2;
+    const highFio2AtReading =
+      !onTopDevice &&
+      fio2AtReading.kind === 'ok' &&
+      fio2AtReading.value.basis !== 'order-estimate' &&
+      fio2AtReading.value.estimate >= policy.thresholds.highOxygenFio2AtLeast;
+    const critical = belowCriticalLevel || farBelow || onTopDevice || highFio2AtReading;
     if (!critical && readOnOxygen(assessment, facts) === false) {
       return [];
     }
     const reservoir = DEVICE_MODELS['reservoir-mask'];
+    // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
     const change: OrderChange | undefined =
-      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice
+      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order)
         ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
         : undefined;
     const because = [
       belowCriticalLevel ? `below ${formatPercent(criticalSpo2BelowPercent)}` : undefined,
       farBelow ? `more than ${criticalPointsBelowTarget} points below the target` : undefined,
       onTopDevice ? 'already on a reservoir mask, high-flow or NIV' : undefined,
+      highFio2AtReading && fio2AtReading.kind === 'ok'
+        ? `already on FiO2 ${formatFraction(fio2AtReading.value.estimate)} when it was read`
+        : undefined,
     ].filter((part): part is string => part !== undefined);
     return [
       makeFinding(rule, {

@@ -65,11 +65,43 @@ describe('spo2-below-target', () => {
       expect(low.values.comparedWith).toBe('the advised target 88–92 %');
     });
 
-    it('is critical when already on a reservoir mask', () => {
+    it('is critical when already on a high FiO2 at the reading', () => {
+      // FiO2 0.70 recorded: at or above the policy's 0.40 high-requirement threshold (local choice)
       const facts = buildFacts({ orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })], spo2Percent: [spo2(92)], fio2Fraction: [fio2(0.7)] });
       const finding = onlyFinding(runRule(rule, facts));
       expect(finding.indicator).toBe('critical');
+      expect(finding.values.urgency).toBe('already on FiO2 0.70 when it was read');
+      expect(finding.change).toBeUndefined();
+    });
+
+    it('is critical when a reservoir mask order on record was running at the reading', () => {
+      const facts = buildFacts({
+        ...onOxygen,
+        activeOrders: [activeOrder({ device: 'reservoir-mask', flowLPerMin: 15 })],
+        spo2Percent: [spo2(92)],
+      });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe('critical');
       expect(finding.values.urgency).toBe('already on a reservoir mask, high-flow or NIV');
+    });
+
+    it('is a warning, not critical, when SpO2 is one point low and the new order starts CPAP', () => {
+      // The CPAP order is the response to the reading; nothing shows the patient was on it yet.
+      // 93 % against 94-98 % (BTS 2017 Tables 1-3) is within the 4-point warning band (local choice).
+      const facts = buildFacts({ orders: [oxygenOrder({ device: 'cpap-niv', flowLPerMin: 4 })], spo2Percent: [spo2(93)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe('warning');
+      expect(finding.values.urgency).toBe('below the target range');
+    });
+
+    it('never offers a reservoir mask in place of a new high-flow order', () => {
+      // BTS 2017 Table 2: reservoir mask below 85 %; a high-flow order already gives more
+      const facts = buildFacts({
+        orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.6 })],
+        spo2Percent: [spo2(82)],
+      });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe('critical');
       expect(finding.change).toBeUndefined();
     });
 
