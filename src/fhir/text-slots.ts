@@ -55,9 +55,41 @@ export function textSlots(resource: Json): readonly TextSlot[] {
   }
 }
 
+/** What FHIR JSON does not allow as a value: null, blank strings, empty arrays and objects. */
+function isEmptyValue(value: unknown): boolean {
+  return (
+    value === null ||
+    value === '' ||
+    (Array.isArray(value) && value.length === 0) ||
+    (isObject(value) && Object.keys(value).length === 0)
+  );
+}
+
+/** Own property, even for `__proto__`, where plain assignment would set the prototype instead. */
+function setOwn(holder: Json, key: string, value: unknown): void {
+  Object.defineProperty(holder, key, { value, enumerable: true, writable: true, configurable: true });
+}
+
 /**
- * Removes what FHIR does not allow to be empty (blank strings, empty arrays and objects) and notes
- * left without text (Annotation.text is required), after a rewrite removed words.
+ * An array with its empty items removed. Nulls stay where a `name`/`_name` pair of equal length
+ * sits side by side: FHIR R4 JSON keeps a primitive array and its extensions aligned by position
+ * with nulls (from memory).
+ */
+function prunedItems(items: readonly unknown[], keepNulls: boolean): unknown[] {
+  const kept: unknown[] = [];
+  for (const item of items) {
+    const pruned = Array.isArray(item) ? prunedItems(item, false) : item;
+    if (isObject(pruned)) pruneEmpty(pruned as Json);
+    if (!isEmptyValue(pruned) || (pruned === null && keepNulls)) kept.push(pruned);
+  }
+  return kept;
+}
+
+/**
+ * Removes what FHIR does not allow to be empty (null, blank strings, empty arrays and objects) and
+ * notes left without text (Annotation.text is required), after a rewrite removed words. A draft that
+ * arrived with such values is written back without them, so a suggestion carries no null beyond the
+ * ones FHIR's array alignment needs.
  */
 export function pruneEmpty(value: Json): void {
   for (const [key, inner] of Object.entries(value)) {
@@ -67,16 +99,12 @@ export function pruneEmpty(value: Json): void {
     }
     const current = value[key];
     if (Array.isArray(current)) {
-      for (const item of current) if (isObject(item)) pruneEmpty(item as Json);
-      value[key] = current.filter((item) => !(isObject(item) && Object.keys(item).length === 0) && item !== '');
+      const partner = /^_[A-Za-z]/.test(key) ? value[key.slice(1)] : value[`_${key}`];
+      const aligned = Array.isArray(partner) && partner.length === current.length;
+      setOwn(value, key, prunedItems(current, aligned));
     } else if (isObject(current)) {
       pruneEmpty(current as Json);
     }
-    const after = value[key];
-    const empty =
-      after === '' ||
-      (Array.isArray(after) && after.length === 0) ||
-      (isObject(after) && Object.keys(after).length === 0);
-    if (empty) delete value[key];
+    if (isEmptyValue(value[key])) delete value[key];
   }
 }

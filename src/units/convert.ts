@@ -37,6 +37,22 @@ const ALIASES: Readonly<Record<string, string>> = {
 
 const utils = ucum.UcumLhcUtils.getInstance();
 
+/**
+ * Runs a UCUM library call with its console output dropped. When its parser throws, the library
+ * prints the unit string it was given with console.log (ucumLhcUtils.js, getSpecifiedUnit), which
+ * would put request text on stdout, outside the service's structured and redacted log. The calls are
+ * synchronous, so nothing else can log while console.log is swapped out.
+ */
+function quietly<T>(call: () => T): T {
+  const log = console.log;
+  console.log = () => undefined;
+  try {
+    return call();
+  } finally {
+    console.log = log;
+  }
+}
+
 /** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
 export function normaliseUnit(unit: string): string | undefined {
   const trimmed = unit.trim();
@@ -51,7 +67,7 @@ export function normaliseUnit(unit: string): string | undefined {
     return undefined;
   }
   try {
-    const check = utils.validateUnitString(trimmed);
+    const check = quietly(() => utils.validateUnitString(trimmed));
     return check.status === 'valid' ? (check.ucumCode ?? trimmed) : undefined;
   } catch {
     // The UCUM library throws on some strings (e.g. `toString`); to a caller that is "not a unit".
@@ -74,7 +90,7 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
   }
   let result: ReturnType<typeof utils.convertUnitTo>;
   try {
-    result = utils.convertUnitTo(from, value, to);
+    result = quietly(() => utils.convertUnitTo(from, value, to));
   } catch {
     return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
   }

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { observationCodeOf } from '../../src/fhir/read-observation-values.js';
+import { pruneEmpty } from '../../src/fhir/text-slots.js';
 import { addedR4Problems, protocolProblems } from './support/conformance.js';
 import { orderSignRequest, oxygenOrder } from './larkspur-fixtures.js';
 import { listenApp, post, type Answer, type AppServer } from './support/app-server.js';
@@ -156,6 +157,33 @@ describe('hostile values in a well-formed request', () => {
         expect(observationCodeOf({ coding: [{ system: 'http://loinc.org', code: name }] })).toBeUndefined();
       },
     );
+  });
+
+  describe('nulls and empty values', () => {
+    // Found by the fuzz suite: a draft holding nulls came back with them in the suggestion's update,
+    // which CDS Hooks 2.0 (§Use of JSON) and FHIR R4 JSON both forbid.
+    it('writes a suggestion without the nulls and empty values the draft arrived with', async () => {
+      const answer = await call(
+        mutated((r) => {
+          draftOf(r)['patientInstruction'] = null;
+          draftOf(r)['code'].coding.push(null, {});
+          draftOf(r)['note'] = [{ text: null }, []];
+          draftOf(r)['requester'] = { reference: null, display: [null, [null]] };
+        }),
+      );
+      const suggested = (answer.body as { cards: { suggestions?: { actions: { resource?: unknown }[] }[] }[] }).cards
+        .flatMap((card) => card.suggestions ?? [])
+        .flatMap((suggestion) => suggestion.actions.map((action) => action.resource));
+      expect(suggested.length).toBeGreaterThan(0);
+      for (const resource of suggested) expect(JSON.stringify(resource)).not.toContain('null');
+    });
+
+    it('keeps the nulls that align a primitive array with its extensions', () => {
+      // FHIR R4 JSON: `given` and `_given` are matched by position, nulls holding the places (from memory)
+      const value = { given: ['Arlo', null], _given: [null, { extension: [{ url: 'urn:x', valueString: 'y' }] }], other: [null, 'z'] };
+      pruneEmpty(value);
+      expect(value).toStrictEqual({ given: ['Arlo', null], _given: [null, { extension: [{ url: 'urn:x', valueString: 'y' }] }], other: ['z'] });
+    });
   });
 
   describe('edge cases', () => {

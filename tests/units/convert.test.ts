@@ -29,6 +29,13 @@ describe('convertUnit', () => {
       },
     );
 
+    // The UCUM library prints a unit string it fails to parse with console.log; tests/setup.ts fails
+    // any test that writes to the console, so this also checks nothing of the request reaches stdout.
+    it.each(['| a | b |\n|---|---|', '()', 'mm()Hg', '4()2~'])('reads %j as no unit, printing nothing', (unit) => {
+      expect(normaliseUnit(unit)).toBeUndefined();
+      expect(convertUnit(95, unit, '%').kind).toBe('failed');
+    });
+
     it('still knows its own aliases', () => {
       expect(normaliseUnit('mmHg')).toBe('mm[Hg]'); // UCUM spells it mm[Hg] (toolchain.md)
       expect(normaliseUnit('LPM')).toBe('L/min');

@@ -3,8 +3,8 @@ import type { AddressInfo } from 'node:net';
 import type { Express } from 'express';
 
 /**
- * One loopback http.Server for a whole test file, called with the global fetch (which keeps its
- * connections alive), so thousands of calls do not each pay for a new server and connection.
+ * One loopback http.Server for a whole test file, called through node:http's global agent (which
+ * keeps connections alive), so thousands of calls do not each pay for a new server and connection.
  */
 
 export interface AppServer {
@@ -50,9 +50,7 @@ export async function post(
   headers: Readonly<Record<string, string>> = { 'Content-Type': 'application/json' },
 ): Promise<Answer> {
   const raw = typeof body === 'string' || body instanceof Uint8Array ? body : JSON.stringify(body);
-  const response = await fetch(url, { method: 'POST', headers, body: raw });
-  const text = await response.text();
-  return { status: response.status, headers: response.headers, text, body: parseOrUndefined(text) };
+  return send(url, 'POST', headers, raw);
 }
 
 export async function get(url: string): Promise<Answer> {

@@ -1,5 +1,6 @@
 import { checkCdsResponse } from '../../../src/cds/check-response.js';
 import { CdsResponseSchema, describeIssues } from '../../../src/cds/schemas.js';
+import { pruneEmpty } from '../../../src/fhir/text-slots.js';
 import { fhirSchemaErrors } from '../../helpers/fhir-schema.js';
 
 /**
@@ -54,8 +55,15 @@ export function addedR4Problems(body: unknown, request: unknown): string[] {
       suggestion.actions?.forEach((action, a) => {
         if (action.resource === undefined) return;
         const { resourceType, id } = action.resource;
-        const draft = drafts.find((d) => d.resourceType === resourceType && d.id === id);
-        const before = new Set((draft === undefined ? [] : fhirSchemaErrors(draft)).map(unindexed));
+        // By type and id; a draft whose id was not a usable string is matched by type alone.
+        const sameType = drafts.filter((d) => d.resourceType === resourceType);
+        const draft = sameType.find((d) => d.id === id) ?? (sameType.length === 1 ? sameType[0] : undefined);
+        // FHIR forbids empty values, so the suggestion drops them; a draft's `subject: {}` becomes no
+        // subject. What the draft had either way counts as the draft's own.
+        const pruned = draft === undefined ? undefined : (structuredClone(draft) as Record<string, unknown>);
+        if (pruned !== undefined) pruneEmpty(pruned);
+        const own = draft === undefined || pruned === undefined ? [] : [...fhirSchemaErrors(draft), ...fhirSchemaErrors(pruned)];
+        const before = new Set(own.map(unindexed));
         for (const error of fhirSchemaErrors(action.resource)) {
           if (!before.has(unindexed(error))) problems.push(`cards[${c}].suggestions[${s}].actions[${a}].resource R4: ${error}`);
         }

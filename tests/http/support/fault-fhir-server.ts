@@ -53,7 +53,25 @@ export interface FaultFhirServer {
   close(): Promise<void>;
 }
 
-function normalAnswer(type: string): unknown {
+/** The fixtures' patient id, rewritten to whoever the request asks about. */
+const FIXTURE_PATIENT = 'lb-pt-0417';
+
+function patientAsked(url: URL): string | undefined {
+  const fromQuery = url.searchParams.get('patient');
+  const fromRead = /\/fhir\/Patient\/([A-Za-z0-9\-.]{1,64})$/.exec(url.pathname)?.[1];
+  return fromQuery ?? fromRead ?? undefined;
+}
+
+/** The Larkspur Bay fixtures for `type`, about the patient the request names. */
+function normalAnswer(type: string, url?: URL): unknown {
+  const patientId = url === undefined ? undefined : patientAsked(url);
+  const answer = fixtureFor(type);
+  return patientId === undefined || patientId === FIXTURE_PATIENT
+    ? answer
+    : (JSON.parse(JSON.stringify(answer).replaceAll(FIXTURE_PATIENT, patientId)) as unknown);
+}
+
+function fixtureFor(type: string): unknown {
   switch (type) {
     case 'Patient':
       return patient;
@@ -120,11 +138,11 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
     const page = Number(url.searchParams.get('_page') ?? '1');
     const selfUrl = `${origin}${url.pathname}${url.search}`;
     if (type !== target) {
-      sendJson(res, 200, normalAnswer(type));
+      sendJson(res, 200, normalAnswer(type, url));
       return;
     }
     if (on === 'next-page' && page === 1) {
-      const base = normalAnswer(type) as { entry?: unknown[] };
+      const base = normalAnswer(type, url) as { entry?: unknown[] };
       sendJson(res, 200, { ...base, link: [{ relation: 'next', url: `${origin}${url.pathname}?_page=2` }] });
       return;
     }
@@ -132,7 +150,7 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
       case 'slow': {
         const timer = setTimeout(() => {
           timers.delete(timer);
-          if (!res.destroyed) sendJson(res, 200, normalAnswer(type));
+          if (!res.destroyed) sendJson(res, 200, normalAnswer(type, url));
         }, options.slowMs);
         timers.add(timer);
         return;
@@ -141,7 +159,7 @@ export async function startFaultFhirServer(options: { readonly slowMs: number })
         return;
       case 'held':
         held.push(() => {
-          if (!res.destroyed) sendJson(res, 200, normalAnswer(type));
+          if (!res.destroyed) sendJson(res, 200, normalAnswer(type, url));
         });
         return;
       case 'status-500':
