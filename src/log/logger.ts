@@ -30,6 +30,23 @@ export const REDACT_PATHS: readonly string[] = [
   'context',
   '*.context',
   'req.body',
+  // A FHIR resource logged by mistake: its id (a Patient's id is the patient id), the patient's
+  // names, identifiers (record numbers), birth date, and the references that name the patient.
+  'id',
+  '*.id',
+  '*.*.id',
+  'name',
+  '*.name',
+  '*.*.name',
+  'identifier',
+  '*.identifier',
+  '*.*.identifier',
+  'birthDate',
+  '*.birthDate',
+  '*.*.birthDate',
+  'subject',
+  '*.subject',
+  '*.*.subject',
 ];
 
 export interface LoggerOptions {

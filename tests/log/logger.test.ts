@@ -64,6 +64,32 @@ describe('createLogger', () => {
   });
 });
 
+describe('createLogger redaction of FHIR resources', () => {
+  it('blanks names, identifiers, birth dates and subjects of a resource logged by mistake', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const patient = {
+      resourceType: 'Patient',
+      id: PATIENT_ID,
+      identifier: [{ system: 'urn:larkspur-bay:mrn', value: 'LB-MRN-880417' }],
+      name: [{ family: 'Harrowgate', given: ['Edwin'] }],
+      birthDate: '1951-09-30',
+    };
+    const observation = { resourceType: 'Observation', subject: { reference: `Patient/${PATIENT_ID}` } };
+    logger.info({ patient, nested: { observation }, ...patient });
+    for (const secret of ['LB-MRN-880417', 'Harrowgate', 'Edwin', '1951-09-30', PATIENT_ID]) {
+      expect(log.text()).not.toContain(secret);
+    }
+    expect(log.lines()[0]?.['patient']).toStrictEqual({
+      resourceType: 'Patient',
+      id: '[Redacted]', // a Patient's id is the patient id
+      identifier: '[Redacted]',
+      name: '[Redacted]',
+      birthDate: '[Redacted]',
+    });
+  });
+});
+
 describe('logRequestSummary', () => {
   it('writes one line with the decision-level fields of a hook call', () => {
     const log = createMemoryLog();
