@@ -1,4 +1,6 @@
-import { formatFraction } from '../assessment/format.js';
+import { formatFraction, formatNumber } from '../assessment/format.js';
+import type { Assessment } from '../assessment/types.js';
+import { ROX_HIGH_RISK_BELOW } from '../physiology/index.js';
 import type { DeviceKind, Finding } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -7,21 +9,40 @@ import type { Rule } from './support/rule-types.js';
 /** Devices whose use already marks a high oxygen requirement, whatever the estimated FiO2. */
 const HIGH_REQUIREMENT_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
 
+/** The Roca 2019 failure threshold for the time on high flow, as `interpretRox` applies it. */
+function roxFailureBelow(hours: number): number {
+  return hours < 6 ? ROX_HIGH_RISK_BELOW.at2h : hours < 12 ? ROX_HIGH_RISK_BELOW.at6h : ROX_HIGH_RISK_BELOW.at12h;
+}
+
+/** "ROX 3.26 after 6 h, below the 3.47 failure threshold" when ROX predicts high-flow failure. */
+function roxFailure(assessment: Assessment): string | undefined {
+  const rox = assessment.physiology.rox;
+  if (rox.kind !== 'ok' || rox.value.value.interpretation !== 'high-risk' || rox.value.value.hoursOnHighFlow === undefined) {
+    return undefined;
+  }
+  const { index, hoursOnHighFlow } = rox.value.value;
+  const threshold = roxFailureBelow(hoursOnHighFlow);
+  return `ROX ${formatNumber(index, 2)} after ${formatNumber(hoursOnHighFlow, 1)} h, below the ${threshold} failure threshold`;
+}
+
 /**
  * The order delivers a high oxygen concentration: estimated FiO2 at or above
  * `thresholds.highOxygenFio2AtLeast` (the estimate's central value), or a reservoir mask, high-flow
  * nasal cannula or CPAP/NIV.
  *
  * Rationale: a rising or high oxygen requirement is a sign of serious illness; BTS 2017 advises
- * senior review and consideration of critical care for such patients (wording from memory). Not
+ * senior review and consideration of critical care for such patients (wording from memory). CPAP
+ * or NIV at a low FiO2 is named as respiratory support, not a high oxygen requirement. Not
  * raised where high-concentration oxygen is itself the indication (carbon monoxide, pneumothorax,
- * cluster headache), which their own rules address. Warning.
+ * cluster headache), which their own rules address. Warning; critical when the ROX index on high
+ * flow is below the Roca 2019 failure threshold for the time on high flow (2.85 / 3.47 / 3.85 at
+ * 2 / 6 / 12 h), which predicted high-flow failure (intubation).
  * Source: BTS 2017 (from memory for the exact wording); the FiO2 threshold is the local policy's.
  */
 export const rule: Rule = {
   id: 'high-oxygen-requirement',
   title: 'High oxygen requirement: senior review',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
@@ -32,21 +53,36 @@ export const rule: Rule = {
     const threshold = policy.thresholds.highOxygenFio2AtLeast;
     const highFio2 = delivery.kind === 'ok' && delivery.value.fio2.estimate >= threshold;
     const highDevice = order.device !== undefined && HIGH_REQUIREMENT_DEVICES.includes(order.device);
-    if (!highFio2 && !highDevice) {
+    const rox = roxFailure(assessment);
+    if (!highFio2 && !highDevice && rox === undefined) {
       return [];
     }
+    const support = !highFio2 && order.device === 'cpap-niv';
+    const concern = rox ?? (support ? 'respiratory support' : 'high oxygen requirement');
     const computation = deliveryComputation(assessment);
+    const roxComputation = assessment.physiology.rox.kind === 'ok' && rox !== undefined
+      ? [assessment.physiology.rox.value.computation]
+      : [];
     return [
       makeFinding(rule, {
+        indicator: rox === undefined ? rule.defaultIndicator : 'critical',
         orderReference: order.reference,
         values: {
           orderDescription: describeOrder(order),
           deliveredFio2: describeDelivery(assessment),
           fio2Threshold: formatFraction(threshold),
-          trigger: highFio2 ? `estimated FiO2 at or above ${formatFraction(threshold)}` : 'the device itself',
+          concern,
+          trigger: highFio2
+            ? `estimated FiO2 at or above ${formatFraction(threshold)}`
+            : highDevice
+              ? support
+                ? 'the device itself: CPAP or NIV is respiratory support'
+                : 'the device itself'
+              : 'the ROX index',
+          roxStatus: rox === undefined ? 'not below a failure threshold, or not on high flow' : `${rox} (Roca 2019)`,
         },
-        computations: computation === undefined ? [] : [computation],
-        sourceKeys: ['bts-2017', 'local-policy'],
+        computations: [...(computation === undefined ? [] : [computation]), ...roxComputation],
+        sourceKeys: ['bts-2017', 'local-policy', ...(rox === undefined ? [] : ['roca-2019'])],
       }),
     ];
   },

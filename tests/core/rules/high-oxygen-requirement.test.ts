@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/high-oxygen-requirement.js';
 import type { DeviceKind } from '../../../src/core/types.js';
-import { BTS, buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { BTS, activeOrder, buildFacts, condition, fio2, minutesAgo, oxygenOrder, respRate, spo2 } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -28,6 +28,48 @@ describe('high-oxygen-requirement', () => {
     const facts = buildFacts({ orders: [oxygenOrder({ device, flowLPerMin: flow, setFio2Fraction: set })] });
     const finding = onlyFinding(runRule(rule, facts));
     expectCardRenders(finding);
+  });
+
+  it('calls CPAP or NIV at a low FiO2 respiratory support, not a high oxygen requirement', () => {
+    // NIV and CPAP are ventilatory or pressure support under their own protocol (BTS/ICS 2016)
+    const facts = buildFacts({ orders: [oxygenOrder({ device: 'cpap-niv', flowLPerMin: undefined, setFio2Fraction: 0.35 })] });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('warning');
+    expect(expectCardRenders(finding).summary).toBe('CPAP or NIV FiO2 0.35: respiratory support, consider senior review');
+  });
+
+  it.each([
+    // Roca 2019 (check-values 3e, V): ROX < 2.85 at 2 h, < 3.47 at 6 h, < 3.85 at 12 h predict failure
+    [2, 88, 0.9, 36, 'ROX 2.72 after 2 h, below the 2.85 failure threshold'], // (88 / 0.9) / 36 = 2.72
+    [6, 86, 0.8, 33, 'ROX 3.26 after 6 h, below the 3.47 failure threshold'], // (86 / 0.8) / 33 = 3.26
+    [12, 90, 0.7, 34, 'ROX 3.78 after 12 h, below the 3.85 failure threshold'], // (90 / 0.7) / 34 = 3.78
+  ])('is critical on high flow at %s h when ROX is below the Roca failure threshold', (hours, sat, f, rr, concern) => {
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: f })],
+      activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.6, authoredOn: minutesAgo(hours * 60) })],
+      spo2Percent: [spo2(sat)],
+      fio2Fraction: [fio2(f)],
+      respRatePerMin: [respRate(rr)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('critical');
+    expect(finding.values.concern).toBe(concern);
+    expect(finding.sourceKeys).toContain('roca-2019');
+    expect(expectCardRenders(finding).summary.startsWith('High-flow nasal cannula')).toBe(true);
+  });
+
+  it('stays a warning on high flow when ROX is not below the failure threshold', () => {
+    // Roca 2019: (92 / 0.5) / 30 = 6.13, at or above 4.88 (check-values 3e)
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.5 })],
+      activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.5, authoredOn: minutesAgo(360) })],
+      spo2Percent: [spo2(92)],
+      fio2Fraction: [fio2(0.5)],
+      respRatePerMin: [respRate(30)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('warning');
+    expect(finding.values.concern).toBe('high oxygen requirement');
   });
 
   it('does not fire for 2 L/min nasal cannula', () => {
