@@ -24,7 +24,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'target-above-hypercapnic-range',
   title: 'Target above the range for a patient at risk of hypercapnia',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy, now }): readonly Finding[] => {
@@ -33,11 +33,20 @@ export const rule: Rule = {
       return [];
     }
     const gas = assessment.current.gas;
-    const label = gas?.specimen === 'arterial' ? 'PaCO2' : `${gas?.specimen ?? ''} PCO2`;
+    const label =
+      gas?.specimen === 'arterial' ? 'PaCO2' : gas?.specimen === 'venous' ? 'venous PCO2' : 'PCO2 (specimen not stated)';
+    // A venous (or unlabelled) PCO2 runs about 0.4-1.1 kPa above arterial, so a high one means
+    // possible hypercapnia and an arterial sample settles it (docs/clinical-basis.md, Current values).
+    const confirm =
+      gas !== undefined && gas.specimen !== 'arterial' && risk.currentHypercapnia === true
+        ? gas.specimen === 'venous'
+          ? '; a venous PCO2 reads higher than arterial, so confirm with an arterial sample'
+          : '; the sample may be venous, so confirm with an arterial sample'
+        : '';
     const gasStatus =
       gas === undefined || gas.paco2MmHg === undefined
         ? 'no current blood gas'
-        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)}`;
+        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)}${confirm}`;
     const computation = deliveryComputation(assessment);
     const window = policy.thresholds.repeatGasMinutes;
     return [

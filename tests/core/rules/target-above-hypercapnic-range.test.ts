@@ -21,6 +21,28 @@ describe('target-above-hypercapnic-range', () => {
     expect(rule.defaultIndicator).toBe('warning');
   });
 
+  it('asks for an arterial sample when the high PCO2 is venous', () => {
+    // Venous PCO2 runs about 0.4-1.1 kPa above arterial (check-values 3g, V2): 6.8 kPa venous is
+    // possible hypercapnia (>= 6 kPa, BTS 2017 clarification), which an arterial gas settles.
+    const facts = buildFacts({
+      orders: [oxygenOrder({ flowLPerMin: 2 })],
+      conditions: [condition('copd')],
+      bloodGases: [bloodGas({ ageMinutes: 60, specimen: 'venous', ph: 7.36, paco2Kpa: 6.8, hco3: 28 })],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.values.gasStatus).toBe(
+      'venous PCO2 6.8 kPa 1 h ago; a venous PCO2 reads higher than arterial, so confirm with an arterial sample',
+    );
+    expectCardRenders(finding);
+    const unlabelled = buildFacts({
+      ...facts,
+      bloodGases: [bloodGas({ ageMinutes: 60, specimen: 'unknown', paco2Kpa: 6.8 })],
+    });
+    expect(onlyFinding(runRule(rule, unlabelled)).values.gasStatus).toBe(
+      'PCO2 (specimen not stated) 6.8 kPa 1 h ago; the sample may be venous, so confirm with an arterial sample',
+    );
+  });
+
   it('advises 88-92 % in the worked case, critical because the gas shows hypercapnia', () => {
     // BTS 2017, Table 4: 88-92 % when at risk; PaCO2 >= 6 kPa is hypercapnia (BTS 2017 clarification)
     const finding = onlyFinding(runRule(rule, workedCase));
