@@ -1,7 +1,7 @@
-import { formatFio2Range, formatGasValue, formatMmHg, formatNumber } from '../assessment/format.js';
-import type { Assessment, BerlinClass, Calculated, RiceClass, RoxInterpretation } from '../assessment/types.js';
+import { formatFio2Range, formatFraction, formatGasValue, formatMmHg, formatNumber } from '../assessment/format.js';
+import type { Assessment, BerlinClass, Calculated, Fio2InForce, RiceClass, RoxInterpretation } from '../assessment/types.js';
 import { describeFio2Basis } from '../assessment/gas-physiology.js';
-import { RICE_SF_CUTOFFS, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
+import { RICE_SF_CUTOFFS, ROX_HIGH_RISK_BELOW, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
 import type { Computation, Finding, Outcome } from '../types.js';
 import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -15,11 +15,31 @@ const BERLIN_WORDS: Readonly<Record<BerlinClass, string>> = {
   severe: 'Berlin severe band (100 or less)',
 };
 
+/** classifySfRice puts a value on a cut-off in the lower band, so the words say "at or below". */
 const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
-  none: `at or above ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F 300 or more)`,
-  'below-315': `below ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F below 300)`,
-  'below-235': `below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F below 200)`,
+  none: `above ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F above 300)`,
+  'below-315': `at or below ${RICE_SF_CUTOFFS.pf300} (Rice: about P/F 300 or less)`,
+  'below-235': `at or below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F 200 or less)`,
 };
+
+const BERLIN_CUTOFFS_MMHG = [100, 200, 300] as const;
+const ROX_CUTOFFS = [ROX_LOW_RISK_AT_LEAST, ...Object.values(ROX_HIGH_RISK_BELOW)] as const;
+
+/**
+ * A number rounded for display, with more decimals when rounding would put it on or across a
+ * cut-off the card compares it with: S/F 314.9 is "314.9, at or below 315", never "315, below 315".
+ */
+export function formatBesideCutoffs(value: number, decimals: number, cutoffs: readonly number[]): string {
+  const misleading = (places: number): boolean => {
+    const shown = Number(value.toFixed(places));
+    return cutoffs.some((c) => (shown >= c) !== (value >= c) || (shown === c && value !== c));
+  };
+  let places = decimals;
+  while (places < decimals + 3 && misleading(places)) {
+    places += 1;
+  }
+  return formatNumber(value, places);
+}
 
 const ROX_WORDS: Readonly<Record<RoxInterpretation, string>> = {
   'low-risk': `${ROX_LOW_RISK_AT_LEAST} or more: lower risk of high-flow failure (Roca 2019)`,
@@ -34,23 +54,36 @@ const MODEL_WORDS: Readonly<Record<Assessment['barometricPressure']['model'], st
   'west-1996': 'West 1996 model at the site altitude',
 };
 
+/**
+ * " (on air)" or " (at FiO2 0.80)" when a ratio was worked out at an FiO2 other than the order's
+ * estimate that the summary line leads with, so the line never reads as one FiO2 for all.
+ */
+function atFio2(fio2: Outcome<Fio2InForce>, shownEstimate: number | undefined): string {
+  if (fio2.kind !== 'ok' || (shownEstimate !== undefined && fio2.value.estimate.toFixed(2) === shownEstimate.toFixed(2))) {
+    return '';
+  }
+  return fio2.value.onAir ? ' (on air)' : ` (at FiO2 ${formatFraction(fio2.value.estimate)})`;
+}
+
 /** The two or three numbers a respiratory therapist looks for first, for the card summary. */
 function keyFigures(assessment: Assessment): string {
   const { delivery, physiology: p } = assessment;
   const parts: string[] = [];
-  if (delivery.kind === 'ok') {
-    parts.push(`FiO2 about ${delivery.value.fio2.estimate.toFixed(2)}`);
+  const shown = delivery.kind === 'ok' ? delivery.value.fio2.estimate : undefined;
+  if (shown !== undefined) {
+    parts.push(`FiO2 about ${shown.toFixed(2)}`);
   }
   if (p.pfRatio.kind === 'ok') {
-    parts.push(`P/F ${formatNumber(p.pfRatio.value.value.ratio, 0)}`);
+    parts.push(`P/F ${formatBesideCutoffs(p.pfRatio.value.value.ratio, 0, BERLIN_CUTOFFS_MMHG)}${atFio2(p.fio2AtGas, shown)}`);
   } else if (p.sfRatio.kind === 'ok') {
-    parts.push(`S/F ${formatNumber(p.sfRatio.value.value.ratio, 0)}`);
+    const sf = formatBesideCutoffs(p.sfRatio.value.value.ratio, 0, Object.values(RICE_SF_CUTOFFS));
+    parts.push(`S/F ${sf}${atFio2(p.fio2AtSpo2, shown)}`);
   }
   if (p.aaGradient.kind === 'ok') {
     parts.push(`A-a ${formatMmHg(p.aaGradient.value.value)}`);
   }
   if (p.rox.kind === 'ok') {
-    parts.push(`ROX ${formatNumber(p.rox.value.value.index, 2)}`);
+    parts.push(`ROX ${formatBesideCutoffs(p.rox.value.value.index, 2, ROX_CUTOFFS)}`);
   }
   return parts.length === 0 ? 'figures not available' : parts.join(', ');
 }
@@ -75,7 +108,7 @@ function computationOf<T>(outcome: Outcome<Calculated<T>>): readonly Computation
 export const rule: Rule = {
   id: 'oxygenation-summary',
   title: 'Oxygenation summary',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, now }): readonly Finding[] => {
@@ -127,9 +160,12 @@ export const rule: Rule = {
           gasUsed,
           fio2AtGas,
           alveolarPo2: show(p.alveolarPo2, (v) => formatMmHg(v)),
-          aaGradient: show(p.aaGradient, (v) => `${formatMmHg(v)}; ${expected}`),
-          pfRatio: show(p.pfRatio, (v) => `${formatMmHg(v.ratio)}, ${BERLIN_WORDS[v.berlin]}`),
-          sfRatio: show(p.sfRatio, (v) => `${formatNumber(v.ratio, 0)}, ${RICE_WORDS[v.rice]}`),
+          aaGradient: show(p.aaGradient, (v) => {
+            const norm = p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [];
+            return `${formatBesideCutoffs(v, 0, norm)} mmHg; ${expected}`;
+          }),
+          pfRatio: show(p.pfRatio, (v) => `${formatBesideCutoffs(v.ratio, 0, BERLIN_CUTOFFS_MMHG)} mmHg, ${BERLIN_WORDS[v.berlin]}`),
+          sfRatio: show(p.sfRatio, (v) => `${formatBesideCutoffs(v.ratio, 0, Object.values(RICE_SF_CUTOFFS))}, ${RICE_WORDS[v.rice]}`),
           rox: show(p.rox, (v) => {
             const after =
               v.hoursOnHighFlow === undefined
@@ -137,7 +173,7 @@ export const rule: Rule = {
                 : v.hoursOnHighFlow === 0
                   ? ' at the start of high flow'
                   : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
-            return `${formatNumber(v.index, 2)}${after}, ${ROX_WORDS[v.interpretation]}`;
+            return `${formatBesideCutoffs(v.index, 2, ROX_CUTOFFS)}${after}, ${ROX_WORDS[v.interpretation]}`;
           }),
           oxygenContent: show(p.oxygenContent, (v) => `${formatNumber(v, 1)} mL/dL`),
           gasInterpretation:

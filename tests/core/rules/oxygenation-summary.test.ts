@@ -40,7 +40,8 @@ describe('oxygenation-summary', () => {
     ]);
     const card = expectCardRenders(finding);
     // The key numbers lead: P/F 95/0.21 = 452 and A-a 99.7 - 95 = 4.7 mmHg (check-values 3a, derived).
-    expect(card.summary).toBe('Oxygenation on Nasal cannula at 2 L/min: FiO2 about 0.29, P/F 452, A-a 5 mmHg');
+    // The gas was taken on air, not on the order's FiO2 0.29, and the line says so.
+    expect(card.summary).toBe('Oxygenation on Nasal cannula at 2 L/min: FiO2 about 0.29, P/F 452 (on air), A-a 5 mmHg');
   });
 
   it.each([
@@ -83,13 +84,48 @@ describe('oxygenation-summary', () => {
     });
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.values.rox).toBe('6.13 after 4 h, 4.88 or more: lower risk of high-flow failure (Roca 2019)');
-    expect(finding.values.sfRatio).toBe('184, below 235 (Rice: about P/F below 200)');
+    expect(finding.values.sfRatio).toBe('184, at or below 235 (Rice: about P/F 200 or less)');
     expectCardRenders(finding);
   });
 
   it('does not fire when nothing can be shown', () => {
     const facts = buildFacts({ orders: [oxygenOrder({ device: undefined, deviceText: 'oxygen as needed' })] });
     expect(runRule(rule, facts)).toStrictEqual([]);
+  });
+
+  it('names the FiO2 of S/F in the summary when it differs from the order estimate it leads with', () => {
+    // Roca 2019: (86 / 0.80) / 33 = 3.26; S/F 86 / 0.80 = 107.5 (Rice 2007 definition)
+    const hfnc = { device: 'high-flow-nasal-cannula' as const, flowLPerMin: 50, setFio2Fraction: 0.8 };
+    const facts = buildFacts({
+      orders: [oxygenOrder(hfnc)],
+      activeOrders: [activeOrder({ ...hfnc, setFio2Fraction: 0.6, authoredOn: minutesAgo(360) })],
+      spo2Percent: [spo2(86)],
+      fio2Fraction: [fio2(0.8)],
+      respRatePerMin: [respRate(33)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    const card = expectCardRenders(finding);
+    // At RR 33 the model estimates less than the set 0.80 for 50 L/min, so the line names both.
+    expect(card.summary).toMatch(/^Oxygenation on High-flow nasal cannula FiO2 0\.80 at 50 L\/min: FiO2 about 0\.\d\d, S\/F 108 \(at FiO2 0\.80\), ROX 3\.26$/);
+  });
+
+  it.each([
+    // Rice 2007 cut-offs 235 and 315 (check-values 3e, V); classifySfRice puts a cut-off in the lower band
+    [91, 0.289, '314.9, at or below 315 (Rice: about P/F 300 or less)'], // 91 / 0.289 = 314.88
+    [91, 0.2888, '315.1, above 315 (Rice: about P/F above 300)'], // 91 / 0.2888 = 315.10
+    [94, 0.4, '235, at or below 235 (Rice: about P/F 200 or less)'], // exactly on the cut-off
+  ])('shows S/F %s / %s as "%s", never rounded onto the other side of a cut-off', (sat, f, words) => {
+    const facts = buildFacts({ spo2Percent: [spo2(sat)], fio2Fraction: [fio2(f)] });
+    expect(onlyFinding(runRule(rule, facts)).values.sfRatio).toBe(words);
+  });
+
+  it('shows a P/F just above a Berlin band edge with a decimal', () => {
+    // Berlin 2012 (V): mild 200 < P/F <= 300; 60.12 / 0.3 = 200.4 is mild, not "200"
+    const facts = buildFacts({
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 60.12 })],
+      fio2Fraction: [fio2(0.3, 30)],
+    });
+    expect(onlyFinding(runRule(rule, facts)).values.pfRatio).toBe('200.4 mmHg, Berlin mild band (200–300)');
   });
 
   describe('edge cases', () => {
