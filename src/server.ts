@@ -79,8 +79,10 @@ export async function startServer(
   // Calls in flight get `O2CHECK_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
   const closeGracefully = prepareGracefulClose(server, config.shutdownGraceMs);
   const close = async (): Promise<void> => {
+    // Logged once the listener is closed, so the line is true when it is read.
+    const closing = closeGracefully();
     log.info({ graceMs: config.shutdownGraceMs }, 'oxygen-order-checker stopping: no new connections');
-    const { forced } = await closeGracefully();
+    const { forced } = await closing;
     log.info(forced ? { forced } : {}, 'oxygen-order-checker stopped');
   };
   return { kind: 'started', started: { server, url, close } };
