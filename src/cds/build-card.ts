@@ -103,7 +103,14 @@ function buildSuggestion(
   }
   const carried = (ctx.earlierChanges ?? []).filter((earlier) => !overlaps(earlier, change));
   const changes = [...carried, change];
-  const resource = changes.reduce(applyOrderChange, ctx.draftResource);
+  const resource = changes.reduce<FhirResource | undefined>(
+    (current, next) => (current === undefined ? undefined : applyOrderChange(current, next)),
+    ctx.draftResource,
+  );
+  if (resource === undefined) {
+    problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
+    return undefined;
+  }
   if (resource.resourceType !== ctx.draftResource.resourceType || resource.id !== ctx.draftResource.id) {
     problems.push(`${finding.ruleId}: the changed resource lost its type or id; suggestion left out`);
     return undefined;

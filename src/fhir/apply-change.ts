@@ -11,15 +11,17 @@ import { firstObject, objects, ucumQuantity, writeDevice, writeFio2, writeFlow }
  * The suggestion's new draft: a deep copy of the order with the same resourceType and id, the change
  * written into the coded elements and into every text field that stated the old value, so the order
  * never says two things (docs/fhir-input.md, "Writing a change"). A resource that is not one of the
- * three order types comes back as an unchanged copy. Never throws.
+ * three order types comes back as an unchanged copy. Never throws. Returns undefined when the order
+ * cannot be copied whole (e.g. nesting too deep to serialise): an `update` replaces the whole resource,
+ * so a partial copy accepted by the user would wipe the rest of the order. No suggestion is better.
  */
 
-function clone(resource: FhirResource): Json {
+function clone(resource: FhirResource): Json | undefined {
   try {
     const copy: unknown = JSON.parse(JSON.stringify(resource));
-    return isObject(copy) ? (copy as Json) : { resourceType: resource.resourceType };
+    return isObject(copy) ? (copy as Json) : undefined;
   } catch {
-    return { resourceType: resource.resourceType, ...(resource.id === undefined ? {} : { id: resource.id }) };
+    return undefined;
   }
 }
 
@@ -71,8 +73,11 @@ function appendToMainText(resource: Json, sentence: string): void {
   holder[key] = base === '' ? sentence : `${base}${joiner}${sentence}`;
 }
 
-export function applyOrderChange(resource: FhirResource, change: OrderChange): FhirResource {
+export function applyOrderChange(resource: FhirResource, change: OrderChange): FhirResource | undefined {
   const copy = clone(resource);
+  if (copy === undefined) {
+    return undefined;
+  }
   const type = copy['resourceType'];
   if (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest') {
     return copy as FhirResource;

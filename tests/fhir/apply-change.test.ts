@@ -21,6 +21,7 @@ function change(resource: FhirResource, orderChange: OrderChange): FhirResource 
   const before = structuredClone(resource);
   const after = applyOrderChange(resource, orderChange);
   expect(resource).toStrictEqual(before); // the input is not touched
+  if (after === undefined) throw new Error('no changed resource');
   expect([after.resourceType, after.id]).toStrictEqual([resource.resourceType, resource.id]);
   expect(validateR4(after)).toStrictEqual([]); // FHIR R4 JSON schema
   return after;
@@ -204,7 +205,7 @@ describe('applyOrderChange', () => {
     it('does not throw on garbage fields and still writes the change', () => {
       const odd = { resourceType: 'MedicationRequest', id: 'mr-10', dosageInstruction: [null, 5], extension: 'x', note: 'n' } as FhirResource;
       const after = applyOrderChange(odd, { kind: 'set-flow', flowLPerMin: 2 });
-      expect((after['dosageInstruction'] as unknown[])[0]).toStrictEqual({
+      expect((after?.['dosageInstruction'] as unknown[])[0]).toStrictEqual({
         doseAndRate: [{ rateQuantity: { value: 2, unit: 'L/min', system: UCUM, code: 'L/min' } }],
       });
     });
@@ -223,10 +224,24 @@ describe('applyOrderChange', () => {
       fc.assert(
         fc.property(fc.constantFrom('MedicationRequest', 'ServiceRequest', 'DeviceRequest'), fields, changes, (resourceType, rest, orderChange) => {
           const after = applyOrderChange({ ...rest, resourceType, id: 'fuzz-1' }, orderChange);
-          expect([after.resourceType, after.id]).toStrictEqual([resourceType, 'fuzz-1']);
+          expect([after?.resourceType, after?.id]).toStrictEqual([resourceType, 'fuzz-1']);
         }),
         { numRuns: 300 },
       );
+    });
+
+    it('offers no changed resource when the order cannot be copied whole', () => {
+      // CDS Hooks 2.0 §Action: an update carries the whole resource, so a bare {resourceType, id}
+      // accepted by the user would wipe the order.
+      let deep: Record<string, unknown> = {};
+      const root = deep;
+      for (let i = 0; i < 20_000; i += 1) {
+        const inner: Record<string, unknown> = {};
+        deep['x'] = inner;
+        deep = inner;
+      }
+      const order = oxygenMedicationRequest('mr-deep', { note: [{ text: 'x' }], extension: [{ url: 'urn:x', valueString: 'y', deep: root }] } as never);
+      expect(applyOrderChange(order, HYPERCAPNIC)).toBeUndefined();
     });
 
     it('the schema check can fail: it rejects the STU3 dosage shape (cds-hooks.md §9)', () => {
