@@ -8,6 +8,7 @@ import { AppError, errorResult } from '../http/errors.js';
 import { createGatherer } from '../http/gather-data.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { checkOptions, parseOptions } from './parse-options.js';
+import { readRequestFile } from './read-request-file.js';
 import { requestMoment } from './retime-request.js';
 
 export const EVALUATE_USAGE = `Usage: o2check evaluate REQUEST.json [--policy FILE] [--cards DIR] [--service ID] [--now TIME]
@@ -66,13 +67,12 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
     throw new UsageError(`cannot start:\n${formatLoadProblems(loaded.problems)}`);
   }
 
-  let body: unknown;
-  try {
-    body = JSON.parse(io.readFile(file));
-  } catch (error) {
-    io.stderr(`o2check evaluate: cannot read ${file} as JSON${error instanceof SyntaxError ? `: ${error.message}` : ''}\n`);
+  const read = readRequestFile(file, io);
+  if (read.kind === 'unreadable') {
+    io.stderr(`o2check evaluate: ${read.message}\n`);
     return 1;
   }
+  const body = read.body;
   const hook = typeof body === 'object' && body !== null ? (body as { hook?: unknown }).hook : undefined;
   const serviceId = options.service ?? CDS_SERVICES.find((s) => s.hook === hook)?.id;
   if (serviceId === undefined) {

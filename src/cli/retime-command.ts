@@ -1,5 +1,6 @@
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { parseOptions } from './parse-options.js';
+import { readRequestFile } from './read-request-file.js';
 import { requestMoment, retimeRequest } from './retime-request.js';
 
 export const RETIME_USAGE = `Usage: o2check retime REQUEST.json [--at TIME]
@@ -24,13 +25,12 @@ export function runRetimeCommand(args: readonly string[], io: CliIo): ExitCode {
   if (typeof atText === 'string' && !(/^\d{4}-\d{2}-\d{2}T/.test(atText) && Number.isFinite(Date.parse(atText)))) {
     throw new UsageError('--at: must be an ISO 8601 date-time');
   }
-  let body: unknown;
-  try {
-    body = JSON.parse(io.readFile(file));
-  } catch {
-    io.stderr(`o2check retime: cannot read ${file} as JSON\n`);
+  const read = readRequestFile(file, io);
+  if (read.kind === 'unreadable') {
+    io.stderr(`o2check retime: ${read.message}\n`);
     return 1;
   }
+  const body = read.body;
   const from = requestMoment(body);
   if (from === undefined) {
     io.stderr('o2check retime: the request has no draft order with an authoredOn date-time to move from\n');

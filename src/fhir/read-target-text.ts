@@ -24,13 +24,21 @@ const SATURATION_WORD = /\b(?:target(?:ing)?|aim(?:ing)?|sats?|saturations?|spo2
 const FIO2_WORD = /\b(?:fi\s?[o0]2|venturi|concentration|blender|entrainment)\b/i;
 const CLAUSE_BREAK = /[;\n]|\.(?:\s|$)/g;
 
-/** The text from the start of the clause holding `index` up to `index`. */
+/**
+ * How far back a clause is read. Order clauses are short; looking back a bounded distance keeps each
+ * mention's cost constant, where rescanning from the start made long texts quadratic.
+ */
+export const CLAUSE_LOOK_BACK_CHARS = 200;
+
+/** The text from the start of the clause holding `index` up to `index` (at most the look-back). */
 export function clauseBefore(text: string, index: number): string {
+  const from = Math.max(0, index - CLAUSE_LOOK_BACK_CHARS);
+  const window = text.slice(from, index);
   let start = 0;
-  for (const m of text.slice(0, index).matchAll(CLAUSE_BREAK)) {
+  for (const m of window.matchAll(CLAUSE_BREAK)) {
     start = m.index + m[0].length;
   }
-  return text.slice(start, index);
+  return window.slice(start);
 }
 
 export function findTargetMentions(text: string): readonly TargetMention[] {

@@ -31,6 +31,19 @@ describe('o2check retime', () => {
   });
 
   describe('edge cases', () => {
+    it('refuses a file nested deeper than the service accepts, with exit 1 and no stack trace', async () => {
+      const { mkdtempSync, writeFileSync } = await import('node:fs');
+      const { join } = await import('node:path');
+      const { tmpdir } = await import('node:os');
+      const file = join(mkdtempSync(join(tmpdir(), 'o2check-deep-')), 'deep.json');
+      writeFileSync(file, `${'['.repeat(20_000)}${']'.repeat(20_000)}`);
+      for (const command of ['retime', 'evaluate']) {
+        const run = await runO2check([command, file]);
+        expect(run.code).toBe(1);
+        expect(run.stderr).toContain('nests deeper than 64 levels');
+      }
+    });
+
     it('refuses an --at that is not a date-time with exit 2', async () => {
       const run = await runO2check(['retime', examplePath('order-sign-paraquat'), '--at', 'tomorrow']);
       expect(run.code).toBe(2);

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { findTargetMentions, readTargetText } from '../../src/fhir/read-target-text.js';
+import { clauseBefore, CLAUSE_LOOK_BACK_CHARS, findTargetMentions, readTargetText } from '../../src/fhir/read-target-text.js';
 
 describe('readTargetText', () => {
   // The ranges are the published targets: 88-92 % for patients at risk of hypercapnic respiratory
@@ -52,6 +52,26 @@ describe('readTargetText', () => {
         { lowPercent: 94, highPercent: 98 },
         { lowPercent: 88, highPercent: 92 },
       ]);
+    });
+  });
+});
+
+describe('clauseBefore', () => {
+  it('returns the words since the last clause break', () => {
+    const text = 'Home NIV at night; oxygen 2 L/min via nasal cannula';
+    expect(clauseBefore(text, text.indexOf('nasal'))).toBe(' oxygen 2 L/min via ');
+  });
+
+  describe('edge cases', () => {
+    it('looks back a bounded distance, so a long text costs the same per mention', () => {
+      const text = `${'word '.repeat(1000)}target 88-92%`;
+      expect(clauseBefore(text, text.indexOf('target')).length).toBe(CLAUSE_LOOK_BACK_CHARS);
+    });
+
+    it('still reads every target in a long text of many clauses', () => {
+      // Invented text; each clause states the same range (BTS 2017 Table 4: 88-92 %).
+      const text = Array.from({ length: 2000 }, () => 'aim sats 88-92%').join('; ');
+      expect(findTargetMentions(text).length).toBe(2000);
     });
   });
 });
