@@ -1,9 +1,47 @@
 import { formatFlow, formatNumber, formatPercent } from '../assessment/format.js';
-import { DEVICE_MODELS } from '../devices/index.js';
-import type { Finding, OrderChange } from '../types.js';
+import type { Assessment } from '../assessment/types.js';
+import { DEVICE_MODELS, findVenturiSetting } from '../devices/index.js';
+import type { Policy } from '../policy.js';
+import type { Finding, OrderChange, OxygenOrder } from '../types.js';
 import { deliveryComputation, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+
+/**
+ * A Venturi order at a standard setting with no O2 flow: the adaptor entrains as labelled only at
+ * or above its minimum flow (BTS 2017 Table 4 for 24 % and 28 %; device labelling for the rest), so
+ * the flow is part of the order. Suggests the minimum, or the minimum × the tachypnoea multiplier.
+ */
+function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Policy): readonly Finding[] {
+  const setting = order.setFio2Fraction === undefined ? undefined : findVenturiSetting(order.setFio2Fraction);
+  if (setting === undefined) {
+    return [];
+  }
+  const minimum = setting.minimumFlowLPerMin;
+  const rr = assessment.current.respRate?.value;
+  const { venturiTachypnoeaRespRateAbove: rrAbove, venturiTachypnoeaFlowMultiplier: multiplier } = policy.thresholds;
+  const needed = rr !== undefined && rr > rrAbove ? minimum * multiplier : minimum;
+  const maxFlow = DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max;
+  const settingText = formatPercent(setting.fio2Fraction * 100);
+  return [
+    makeFinding(rule, {
+      orderReference: order.reference,
+      values: {
+        problem: `with no O2 flow stated: this setting needs at least ${formatFlow(minimum)}`,
+        orderDescription: describeOrder(order),
+        setting: settingText,
+        orderedFlow: 'no stated flow',
+        minimumFlow: formatFlow(minimum),
+        respRate: rr === undefined ? 'not recorded' : `${formatNumber(rr, 0)}/min`,
+        respRateThreshold: `${formatNumber(rrAbove, 0)}/min`,
+        flowBalance: 'With no flow stated, the total flow from the mask cannot be estimated.',
+        ...(needed <= maxFlow ? { suggestedFlow: formatFlow(needed) } : {}),
+      },
+      sourceKeys: ['bts-2017', 'jones-1984'],
+      ...(needed <= maxFlow ? { change: { kind: 'set-flow', flowLPerMin: needed } as const } : {}),
+    }),
+  ];
+}
 
 /**
  * A Venturi (fixed-performance) mask is run below the minimum O2 flow for its setting; or the patient
@@ -19,16 +57,21 @@ import type { Rule } from './support/rule-types.js';
  * stays the same). Warning. Suggests the setting's minimum flow, or the minimum × 
  * `thresholds.venturiTachypnoeaFlowMultiplier` when tachypnoeic, if that is within the device's
  * flow range; the FiO2 setting is never changed.
+ * Also fires, with the setting's minimum as the suggestion, when a Venturi order at a standard
+ * setting states no O2 flow at all.
  * Sources: BTS 2017 Table 4; Jones, Turner & Hughes, Lancet 1984.
  */
 export const rule: Rule = {
   id: 'venturi-flow-insufficient',
   title: 'Venturi mask flow too low for the setting or the patient',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, delivery, current } = assessment;
+    if (order?.device === 'venturi-mask' && order.flowLPerMin === undefined) {
+      return flowNotStated(order, assessment, policy);
+    }
     if (order?.device !== 'venturi-mask' || order.flowLPerMin === undefined || delivery.kind !== 'ok') {
       return [];
     }
@@ -58,14 +101,16 @@ export const rule: Rule = {
       makeFinding(rule, {
         orderReference: order.reference,
         values: {
+          problem: `at ${formatFlow(flow)}: flow too low for the setting or the breathing rate`,
           orderDescription: describeOrder(order),
           setting: order.setFio2Fraction === undefined ? 'not stated' : formatPercent(order.setFio2Fraction * 100),
           orderedFlow: formatFlow(flow),
           minimumFlow: formatFlow(minimum),
           respRate: rr === undefined ? 'not recorded' : `${formatNumber(rr, 0)}/min`,
           respRateThreshold: `${formatNumber(rrAbove, 0)}/min`,
-          totalFlow: total === undefined ? 'not estimated' : formatFlow(total),
-          peakInspiratoryFlow: peak === undefined ? 'not estimated' : formatFlow(peak),
+          flowBalance:
+            `Estimated total flow from the mask: ${total === undefined ? 'not estimated' : formatFlow(total)}, ` +
+            `against an estimated peak inspiratory flow of ${peak === undefined ? 'not estimated' : formatFlow(peak)}.`,
           ...(change?.kind === 'set-flow' ? { suggestedFlow: formatFlow(change.flowLPerMin) } : {}),
         },
         computations: computation === undefined ? [] : [computation],

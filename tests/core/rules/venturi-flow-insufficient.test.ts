@@ -67,6 +67,21 @@ describe('venturi-flow-insufficient', () => {
       expectCardRenders(finding);
     });
 
+    it.each([
+      // Minimum flows: 28 % 4 L/min (BTS 2017, Table 4); 35 % 8 L/min (device labelling, common practice)
+      [0.28, 20, 4, 'Venturi 28 % with no O2 flow stated: this setting needs at least 4 L/min'],
+      [0.35, 20, 8, 'Venturi 35 % with no O2 flow stated: this setting needs at least 8 L/min'],
+      // RR > 30: 1.5 x the minimum, 28 % -> 6 L/min (BTS 2017, Table 4)
+      [0.28, 34, 6, 'Venturi 28 % with no O2 flow stated: this setting needs at least 4 L/min'],
+    ])('asks for the flow when a Venturi %s order states none (RR %s/min): %s L/min', (setting, rr, flow, summary) => {
+      const orders = [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: setting, flowLPerMin: undefined })];
+      const finding = onlyFinding(runRule(rule, buildFacts({ orders, respRatePerMin: [respRate(rr)] })));
+      expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: flow });
+      const card = expectCardRenders(finding);
+      expect(card.summary).toBe(summary);
+      expect(card.label).toBe(`Set O2 flow to ${flow} L/min (same ${Math.round(setting * 100)} % setting)`);
+    });
+
     it('does not fire for other devices or a non-standard setting', () => {
       expect(runRule(rule, buildFacts())).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: venturi(0.33, 2) }))).toStrictEqual([]);
