@@ -338,7 +338,8 @@ export function parseEnvConfig(
       },
       maxConcurrentEvaluations: v.O2CHECK_MAX_CONCURRENT,
       shutdownGraceMs: v.O2CHECK_SHUTDOWN_GRACE_MS,
-      behindTls: v.O2CHECK_BEHIND_TLS,
+      // Production requires an https public URL, so clients reach it over TLS: always send HSTS there.
+      behindTls: v.O2CHECK_BEHIND_TLS || v.O2CHECK_MODE === 'production',
       security: securityConfig(v, absolute),
     }),
   };

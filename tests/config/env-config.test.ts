@@ -93,6 +93,17 @@ describe('parseEnvConfig', () => {
   });
 
   describe('modes', () => {
+    it('sends HSTS in production even when O2CHECK_BEHIND_TLS is not set, and not by default in demo mode', () => {
+      // RFC 6797: HSTS tells browsers to use HTTPS only; production requires an https public URL.
+      const production = parseEnvConfig(
+        { O2CHECK_MODE: 'production', O2CHECK_TRUST: 'trust.yaml', O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example' },
+        '/srv',
+      );
+      expect(production.kind === 'ok' && production.config.behindTls).toBe(true);
+      const demo = parseEnvConfig({}, '/srv');
+      expect(demo.kind === 'ok' && demo.config.behindTls).toBe(false);
+    });
+
     it('refuses production mode without a trust file or a public URL, naming both', () => {
       const result = parseEnvConfig({ O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, '/');
       expect(result).toStrictEqual({
