@@ -1,3 +1,4 @@
+import { BLOOD_GAS_RANGE_DEFAULTS } from '../physiology/index.js';
 import type { Policy } from '../policy.js';
 import type { BloodGas, ConditionKind, Facts } from '../types.js';
 import { newestFirst } from './current-values.js';
@@ -27,8 +28,8 @@ function isHypercapnic(gas: BloodGas, policy: Policy): boolean {
  * BMI above `hypercapnicRisk.morbidObesityBmiAbove` (when morbid obesity is in that list); the current
  * gas PCO2 at or above `hypercapnicRisk.hypercapniaPaco2`; an earlier gas (today's older gases or a
  * historic one within `freshness.previousHypercapniaDays`) at or above it; and HCO3 above
- * `hypercapnicRisk.chronicBicarbonateAboveMmolPerL` on the current gas (long-standing hypercapnia,
- * BTS 2017 as quoted secondarily). Previous NIV/IMV, chronic hypercapnic failure or an earlier
+ * `hypercapnicRisk.chronicBicarbonateAboveMmolPerL` on the current gas unless its pH is above 7.45
+ * (long-standing hypercapnia with normal pH, BTS 2017 as quoted secondarily; pH range RCEM). Previous NIV/IMV, chronic hypercapnic failure or an earlier
  * hypercapnic gas set `previousFailure`, which stops re-targeting to the standard range.
  */
 export function assessHypercapnicRisk(
@@ -104,9 +105,14 @@ export function assessHypercapnicRisk(
   }
 
   const bicarbonate = gas?.hco3MmolPerL;
+  // The marker is a raised HCO3 with a pH that is not alkalaemic (BTS 2017 as quoted: "with normal
+  // pH"): with alkalaemia a raised HCO3 is a metabolic alkalosis (diuretics, vomiting), not
+  // compensation for CO2 retention. Without a pH it still counts, to stay cautious.
+  const alkalaemic = gas?.ph !== undefined && gas.ph > BLOOD_GAS_RANGE_DEFAULTS.alkalosisPhAbove;
   if (
     gas !== undefined &&
     bicarbonate !== undefined &&
+    !alkalaemic &&
     bicarbonate > policy.hypercapnicRisk.chronicBicarbonateAboveMmolPerL
   ) {
     reasons.push({

@@ -98,6 +98,22 @@ describe('assessHypercapnicRisk', () => {
       expect(assess(facts).atRisk).toBe(false);
     });
 
+    it.each([
+      // HCO3 > 28 with normal pH marks long-standing hypercapnia (BTS 2017 as quoted, V2; pH 7.35-7.45 RCEM, V)
+      [7.47, 5.7, 32, false], // alkalaemic: metabolic alkalosis, not CO2 retention
+      [7.45, 5.7, 32, true], // pH at the top of the normal range still counts
+      [undefined, undefined, 32, true], // a serum HCO3 with no pH counts, to stay cautious
+    ])('reads HCO3 %s at pH %s (PCO2 %s kPa) as a risk: %s', (ph, pco2, hco3, atRisk) => {
+      const gas = bloodGas({
+        ageMinutes: 60,
+        specimen: ph === undefined ? 'unknown' : 'arterial',
+        hco3,
+        ...(ph === undefined ? {} : { ph }),
+        ...(pco2 === undefined ? {} : { paco2Kpa: pco2 }),
+      });
+      expect(assess(buildFacts({ bloodGases: [gas] })).atRisk).toBe(atRisk);
+    });
+
     it('ignores BMI when the policy does not list morbid obesity', () => {
       const policy = withPolicy(BTS, {
         hypercapnicRisk: { ...BTS.hypercapnicRisk, conditions: ['copd'] },
