@@ -19,7 +19,7 @@ import { firstObject, objects, ucumQuantity, writeDevice, writeFio2, writeFlow }
 function clone(resource: FhirResource): Json | undefined {
   try {
     const copy: unknown = JSON.parse(JSON.stringify(resource));
-    return isObject(copy) ? (copy as Json) : undefined;
+    return isObject(copy) ? (copy) : undefined;
   } catch {
     return undefined;
   }
@@ -32,7 +32,7 @@ function writeTarget(resource: Json, range: SaturationRange): void {
     if (Array.isArray(inner)) dosage['extension'] = inner.filter((e) => !isOurs(e));
   }
   const outer = resource['extension'];
-  const kept = Array.isArray(outer) ? outer.filter((e) => !isOurs(e)) : [];
+  const kept: unknown[] = Array.isArray(outer) ? (outer as unknown[]).filter((e) => !isOurs(e)) : [];
   const valueRange = { low: ucumQuantity(range.lowPercent, '%'), high: ucumQuantity(range.highPercent, '%') };
   resource['extension'] = [...kept, { url: EXTENSION_URLS.targetSaturation, valueRange }];
   for (const parameter of objects(resource, 'parameter')) {

@@ -37,7 +37,7 @@ async function readCapped(response: Response, maxBytes: number): Promise<string 
   if (response.body === null) {
     return '';
   }
-  const reader = response.body.getReader();
+  const reader = (response.body as ReadableStream<Uint8Array>).getReader();
   const chunks: Uint8Array[] = [];
   let total = 0;
   for (;;) {

@@ -1,4 +1,6 @@
-import { readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { examplePath, runO2check } from './cli-harness.js';
 
@@ -32,9 +34,6 @@ describe('o2check retime', () => {
 
   describe('edge cases', () => {
     it('refuses a file nested deeper than the service accepts, with exit 1 and no stack trace', async () => {
-      const { mkdtempSync, writeFileSync } = await import('node:fs');
-      const { join } = await import('node:path');
-      const { tmpdir } = await import('node:os');
       const file = join(mkdtempSync(join(tmpdir(), 'o2check-deep-')), 'deep.json');
       writeFileSync(file, `${'['.repeat(20_000)}${']'.repeat(20_000)}`);
       for (const command of ['retime', 'evaluate']) {

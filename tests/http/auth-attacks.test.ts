@@ -14,7 +14,6 @@ import {
   SIGN_AUD,
   SIGN_PATH,
   THEATRES_ES384,
-  theatresClient,
 } from '../security/support/fixtures.js';
 import { startJwksServer, type JwksServer } from '../security/support/jwks-server.js';
 import { makeKey, signToken, signWith } from '../security/support/keys.js';

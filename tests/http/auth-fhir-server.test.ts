@@ -145,7 +145,7 @@ describe('fhirServer allowlist', () => {
     it('lets the demo call only loopback FHIR servers', async () => {
       const asked: string[] = [];
       const recordingFetch = ((input: string | URL | Request) => {
-        asked.push(String(input));
+        asked.push(input instanceof Request ? input.url : String(input));
         return Promise.reject(new Error('no network in tests'));
       }) as typeof fetch;
       const { app } = await buildTestApp({ fetch: recordingFetch });
