@@ -22,7 +22,7 @@ function objects(holder: unknown, key: string): Json[] {
 function slot(holder: unknown, key: string): TextSlot[] {
   if (!isObject(holder)) return [];
   const text = holder[key];
-  return typeof text === 'string' ? [{ holder: holder as Json, key, text }] : [];
+  return typeof text === 'string' ? [{ holder: holder, key, text }] : [];
 }
 
 export function textSlots(resource: Json): readonly TextSlot[] {
@@ -79,7 +79,7 @@ function prunedItems(items: readonly unknown[], keepNulls: boolean): unknown[] {
   const kept: unknown[] = [];
   for (const item of items) {
     const pruned = Array.isArray(item) ? prunedItems(item, false) : item;
-    if (isObject(pruned)) pruneEmpty(pruned as Json);
+    if (isObject(pruned)) pruneEmpty(pruned);
     if (!isEmptyValue(pruned) || (pruned === null && keepNulls)) kept.push(pruned);
   }
   return kept;
@@ -103,7 +103,7 @@ export function pruneEmpty(value: Json): void {
       const aligned = Array.isArray(partner) && partner.length === current.length;
       setOwn(value, key, prunedItems(current, aligned));
     } else if (isObject(current)) {
-      pruneEmpty(current as Json);
+      pruneEmpty(current);
     }
     if (isEmptyValue(value[key])) delete value[key];
   }

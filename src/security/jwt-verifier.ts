@@ -69,7 +69,7 @@ function labelsOf(header: JsonObject, payload: JsonObject): TokenLabels {
     jti: label(payload['jti']),
     tenant: label(payload['tenant']),
   };
-  return Object.fromEntries(Object.entries(entries).filter(([, v]) => v !== undefined)) as TokenLabels;
+  return Object.fromEntries(Object.entries(entries).filter(([, v]) => v !== undefined));
 }
 
 /** RFC 7515 §4.1.9 and RFC 7519 §5.1: `JWT`, compared case-insensitively, `application/` optional. */

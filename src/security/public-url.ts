@@ -70,5 +70,5 @@ export function audienceMatches(aud: unknown, expected: string): boolean {
   if (values.length === 0 || !values.every((value) => typeof value === 'string')) {
     return false;
   }
-  return values.some((value) => normaliseUrl(value as string) === expected);
+  return values.some((value) => normaliseUrl(value) === expected);
 }

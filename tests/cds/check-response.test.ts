@@ -5,7 +5,7 @@ import { cloneJson, loadJsonFixture } from '../helpers/load-fixture.js';
 
 // A response built from the CDS Hooks 2.0 response tables (cds-hooks.md §5); the reference holds no
 // full example from the specification itself (see tests/fixtures/cds/README.md).
-type Json = Record<string, any>; // eslint-disable-line @typescript-eslint/no-explicit-any
+type Json = Record<string, any>;  
 const good = loadJsonFixture('cds/conformant-response.json') as Json;
 
 function broken(mutate: (body: Json) => void): Json {

@@ -240,7 +240,7 @@ describe('applyOrderChange', () => {
         deep['x'] = inner;
         deep = inner;
       }
-      const order = oxygenMedicationRequest('mr-deep', { note: [{ text: 'x' }], extension: [{ url: 'urn:x', valueString: 'y', deep: root }] } as never);
+      const order = oxygenMedicationRequest('mr-deep', { note: [{ text: 'x' }], extension: [{ url: 'urn:x', valueString: 'y', deep: root }] });
       expect(applyOrderChange(order, HYPERCAPNIC)).toBeUndefined();
     });
 

@@ -18,7 +18,7 @@ const SERVICE = '/cds-services/oxygen-order-sign';
 /** cards/data-set-aside.yaml with one item. */
 const SET_ASIDE = '1 item(s) of patient data were set aside and not used in these checks';
 
-type Json = Record<string, any>; // eslint-disable-line @typescript-eslint/no-explicit-any -- test bodies are mutated freely
+type Json = Record<string, any>;  
 
 let server: AppServer;
 let baseline: string[];

@@ -64,5 +64,5 @@ export function fakeFetch(answers: Readonly<Record<string, unknown>>): { fetch: 
       body === undefined ? new Response('', { status: 404 }) : new Response(JSON.stringify(body), { status: 200 }),
     );
   };
-  return { fetch: fetchStub as typeof fetch, asked };
+  return { fetch: fetchStub, asked };
 }
