@@ -1,0 +1,105 @@
+import autocannon from 'autocannon';
+
+/**
+ * One autocannon load against one loopback URL: a short warm-up (discarded), then the measured run.
+ * Each run is bounded three ways: its duration, a cap on the number of requests, and a watchdog that
+ * stops it if autocannon itself overruns.
+ */
+export interface LoadSpec {
+  readonly label: string;
+  readonly url: string;
+  readonly method: 'GET' | 'POST';
+  readonly body?: string;
+  readonly connections: number;
+  readonly durationS: number;
+  readonly warmupS: number;
+}
+
+export interface LoadResult {
+  readonly label: string;
+  readonly url: string;
+  readonly method: 'GET' | 'POST';
+  readonly requestBytes: number;
+  readonly reqPerSec: number;
+  readonly reqPerSecStddev: number;
+  readonly latencyMs: { readonly p50: number; readonly p97_5: number; readonly p99: number; readonly max: number };
+  readonly completed: number;
+  readonly durationS: number;
+  /** Non-2xx answers, connection errors and timeouts: the bench fails when any is above zero. */
+  readonly non2xx: number;
+  readonly errors: number;
+  readonly timeouts: number;
+}
+
+/** Far above what one node process on a small machine can answer in a run; a bound, not a target. */
+const MAX_REQUESTS_PER_RUN = 1_000_000;
+const WATCHDOG_SLACK_S = 15;
+
+function fire(spec: LoadSpec, durationS: number): Promise<autocannon.Result> {
+  return new Promise((resolve, reject) => {
+    const options: autocannon.Options = {
+      url: spec.url,
+      method: spec.method,
+      connections: spec.connections,
+      duration: durationS,
+      maxOverallRequests: MAX_REQUESTS_PER_RUN,
+      timeout: 10,
+      ...(spec.body === undefined
+        ? {}
+        : { body: spec.body, headers: { 'content-type': 'application/json' } }),
+    };
+    const instance = autocannon(options, (error, result) => {
+      clearTimeout(watchdog);
+      if (error !== null && error !== undefined) {
+        reject(error instanceof Error ? error : new Error(String(error)));
+        return;
+      }
+      resolve(result);
+    });
+    const watchdog = setTimeout(() => instance.stop(), (durationS + WATCHDOG_SLACK_S) * 1000);
+  });
+}
+
+export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
+  if (!['127.0.0.1', 'localhost', '[::1]'].includes(new URL(spec.url).hostname)) {
+    throw new Error(`refusing to load ${spec.url}: the bench loads loopback addresses only`);
+  }
+  if (spec.warmupS > 0) {
+    await fire(spec, spec.warmupS);
+  }
+  const result = await fire(spec, spec.durationS);
+  return {
+    label: spec.label,
+    url: spec.url,
+    method: spec.method,
+    requestBytes: spec.body === undefined ? 0 : Buffer.byteLength(spec.body),
+    reqPerSec: result.requests.average,
+    reqPerSecStddev: result.requests.stddev,
+    latencyMs: {
+      p50: result.latency.p50,
+      p97_5: result.latency.p97_5,
+      p99: result.latency.p99,
+      max: result.latency.max,
+    },
+    completed: result['2xx'],
+    durationS: result.duration,
+    non2xx: result.non2xx,
+    errors: result.errors,
+    timeouts: result.timeouts,
+  };
+}
+
+/** Problems that make a load result unusable as a measurement. */
+export function loadProblems(result: LoadResult): string[] {
+  const problems: string[] = [];
+  if (result.non2xx > 0) {
+    problems.push(`${result.label}: ${result.non2xx} non-2xx answers`);
+  }
+  if (result.errors > 0 || result.timeouts > 0) {
+    problems.push(`${result.label}: ${result.errors} errors, ${result.timeouts} timeouts`);
+  }
+  if (result.completed === 0) {
+    problems.push(`${result.label}: no request completed`);
+  }
+  return problems;
+}

@@ -1,0 +1,177 @@
+import { performance } from 'node:perf_hooks';
+import { evaluateHook } from '../src/cds/evaluate-hook.js';
+import { parseHookRequest } from '../src/cds/parse-hook-request.js';
+import type { CardTemplates } from '../src/cds/card-templates.js';
+import type { CdsRequest } from '../src/cds/schemas.js';
+import type { PrefetchKey } from '../src/cds/services.js';
+import { ENV_DEFAULTS } from '../src/config/env-config.js';
+import { formatLoadProblems, loadPolicyAndCards } from '../src/config/load-files.js';
+import type { Policy } from '../src/core/policy.js';
+import type { GatheredData } from '../src/fhir/gathered-data.js';
+import { createGatherer } from '../src/http/gather-data.js';
+import type { HookExample } from './cases.js';
+
+/**
+ * The pure pipeline in-process, without HTTP: `evaluateHook` over data gathered from the prefetch,
+ * timed against `JSON.parse` + `JSON.stringify` of the same request text in the same process and run.
+ * The three loops take turns in rounds, so a slow spell on a shared machine falls on all of them.
+ */
+
+export interface LoadedFiles {
+  readonly policy: Policy;
+  readonly templates: CardTemplates;
+}
+
+export async function loadBundledFiles(): Promise<LoadedFiles> {
+  const loaded = await loadPolicyAndCards({
+    policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
+    cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+  });
+  if (loaded.kind === 'invalid') {
+    throw new Error(`the bundled policy or cards do not load:\n${formatLoadProblems(loaded.problems)}`);
+  }
+  return { policy: loaded.policy, templates: loaded.templates };
+}
+
+/** The prefetch is all there is: a fetch that is called means the example is not self-contained. */
+const refuseFetch: typeof fetch = () => Promise.reject(new Error('the micro-benchmark calls no FHIR server'));
+const gather = createGatherer({
+  fetch: refuseFetch,
+  limits: { callTimeoutMs: 1, budgetMs: 1, maxResponseBytes: 0, maxPages: 1 },
+});
+
+export interface PreparedCase {
+  readonly example: HookExample;
+  readonly request: CdsRequest;
+  readonly prefetchTemplates: Readonly<Partial<Record<PrefetchKey, string>>>;
+  readonly data: GatheredData;
+}
+
+function parseOrThrow(example: HookExample, text: string) {
+  const parsed = parseHookRequest(example.serviceId, JSON.parse(text));
+  if (parsed.kind !== 'ok') {
+    throw new Error(`${example.name}: the request does not validate (${parsed.kind})`);
+  }
+  return parsed;
+}
+
+export async function prepareCase(example: HookExample): Promise<PreparedCase> {
+  const parsed = parseOrThrow(example, example.body);
+  const gathered = await gather(parsed.request, parsed.service.prefetch);
+  if (gathered.kind !== 'gathered') {
+    throw new Error(`${example.name}: required prefetch is missing`);
+  }
+  return { example, request: parsed.request, prefetchTemplates: parsed.service.prefetch, data: gathered.data };
+}
+
+export function evaluatePrepared(prepared: PreparedCase, files: LoadedFiles, now: Date): number {
+  const result = evaluateHook(
+    { serviceId: prepared.example.serviceId, request: prepared.request, data: prepared.data },
+    { policy: files.policy, templates: files.templates, now },
+  );
+  return result.response.cards.length;
+}
+
+/** What the service does per call minus HTTP: parse, validate, gather, evaluate, serialise. */
+export async function runWholePath(example: HookExample, files: LoadedFiles, now: Date): Promise<number> {
+  const parsed = parseOrThrow(example, example.body);
+  const gathered = await gather(parsed.request, parsed.service.prefetch);
+  if (gathered.kind !== 'gathered') {
+    throw new Error(`${example.name}: required prefetch is missing`);
+  }
+  const result = evaluateHook(
+    { serviceId: example.serviceId, request: parsed.request, data: gathered.data },
+    { policy: files.policy, templates: files.templates, now },
+  );
+  return JSON.stringify(result.response).length;
+}
+
+export function jsonRoundTrip(text: string): number {
+  return JSON.stringify(JSON.parse(text)).length;
+}
+
+export interface Timing {
+  readonly iterations: number;
+  readonly meanUs: number;
+  readonly p50Us: number;
+  readonly p99Us: number;
+}
+
+class Samples {
+  readonly values: number[] = [];
+  elapsedMs = 0;
+  add(ms: number): void {
+    this.values.push(ms);
+    this.elapsedMs += ms;
+  }
+  timing(): Timing {
+    const sorted = [...this.values].sort((a, b) => a - b);
+    const at = (q: number): number => (sorted[Math.min(sorted.length - 1, Math.floor(q * sorted.length))] ?? 0) * 1000;
+    const count = sorted.length;
+    return { iterations: count, meanUs: count === 0 ? 0 : (this.elapsedMs / count) * 1000, p50Us: at(0.5), p99Us: at(0.99) };
+  }
+}
+
+export interface MicroSettings {
+  /** Timed iterations per loop per case, split over `rounds`. */
+  readonly iterations: number;
+  readonly rounds: number;
+  readonly warmupIterations: number;
+  /** A loop stops early once it has used this much time in total. */
+  readonly maxMsPerLoop: number;
+}
+
+export interface MicroResult {
+  readonly name: string;
+  readonly requestBytes: number;
+  readonly cards: number;
+  readonly baseline: Timing;
+  readonly evaluate: Timing;
+  readonly wholePath: Timing;
+}
+
+export async function runMicro(
+  example: HookExample,
+  files: LoadedFiles,
+  now: Date,
+  settings: MicroSettings,
+): Promise<MicroResult> {
+  const prepared = await prepareCase(example);
+  let sink = 0;
+  for (let i = 0; i < settings.warmupIterations; i += 1) {
+    sink += jsonRoundTrip(example.body) + evaluatePrepared(prepared, files, now);
+    sink += await runWholePath(example, files, now);
+  }
+  const baseline = new Samples();
+  const evaluate = new Samples();
+  const wholePath = new Samples();
+  const perRound = Math.max(1, Math.ceil(settings.iterations / settings.rounds));
+  for (let round = 0; round < settings.rounds; round += 1) {
+    for (let i = 0; i < perRound && baseline.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += jsonRoundTrip(example.body);
+      baseline.add(performance.now() - start);
+    }
+    for (let i = 0; i < perRound && evaluate.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += evaluatePrepared(prepared, files, now);
+      evaluate.add(performance.now() - start);
+    }
+    for (let i = 0; i < perRound && wholePath.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += await runWholePath(example, files, now);
+      wholePath.add(performance.now() - start);
+    }
+  }
+  if (sink <= 0) {
+    throw new Error('the timed loops produced nothing');
+  }
+  return {
+    name: example.name,
+    requestBytes: example.requestBytes,
+    cards: evaluatePrepared(prepared, files, now),
+    baseline: baseline.timing(),
+    evaluate: evaluate.timing(),
+    wholePath: wholePath.timing(),
+  };
+}

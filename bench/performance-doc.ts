@@ -1,0 +1,138 @@
+import {
+  CDS_HOOKS_BUDGET_MS,
+  NOISE_PERCENT,
+  findings,
+  loadTable,
+  microFinding,
+  microTable,
+  type RunReport,
+} from './report.js';
+import { dominantAreas, profileSection } from './profile-report.js';
+
+/** docs/performance.md, written whole from one run (`npm run bench -- --write-doc`). */
+export function renderPerformanceDoc(report: RunReport): string {
+  const m = report.machine;
+  const s = report.settings;
+  const sections: string[] = [];
+  sections.push(`# Performance
+
+Every figure on this page comes from one run of \`npm run bench -- --write-doc\`, on ${m.date}.
+Do not edit the numbers by hand: run the bench again.
+
+## How to run and read it
+
+- \`npm run bench\` builds the service into a private temporary folder (as \`npm start\` does), starts
+  it on 127.0.0.1 at a free port in demo mode with \`LOG_LEVEL=warn\`, loads it with autocannon, runs
+  the in-process micro-benchmark and two short CPU profiles, prints the tables, and stops every
+  process it started. It takes a few minutes. It is not part of \`npm test\`.
+- Options (after \`--\`): \`--write-doc\` rewrites this page; \`--quick\` makes short runs to check that
+  the bench works (not for this page); \`--runner tsx\` runs \`src/server.ts\` through tsx instead of
+  building; \`--all-examples\` loads every order-sign example; \`--no-profile\` skips the profiles;
+  \`--duration S\`, \`--warmup S\`, \`--connections N\`, \`--iterations N\`.
+- **Read the ratios, not the raw req/s.** These machines have 2 cores shared with other work and vary
+  by about ±${NOISE_PERCENT} % from run to run, so absolute figures move; a ratio to a baseline measured in
+  the same run moves much less. "0.31 ×" means the case served 0.31 times the baseline's requests per
+  second.
+- **Baseline**: \`GET /healthz\` on the same service: the same express app and middleware (security
+  headers, request id, CORS) with no body and nothing to evaluate, the floor for any call to this
+  service. It is measured first and last; ratios use the mean of the two, and the drift is printed.
+- **JSON echo**: a bare express app in its own process (\`bench/json-echo-server.ts\`) that parses the
+  largest order-sign request and answers with the service's own answer to it: what moving that much
+  JSON through express costs, with none of this service's work.
+- **Latency** is autocannon's, with ${s.connections} connections kept busy, so it includes waiting behind the
+  other calls in flight on one node process; one call on its own is faster. autocannon records whole
+  milliseconds.
+- **Budget**: CDS Hooks 2.0 (§Providing FHIR Resources) asks services to answer "on the order of
+  ${CDS_HOOKS_BUDGET_MS} ms"; the last column gives p99 as a percent of that.
+- The bench exits 1 if any answer under load was not 2xx, if a connection failed, or if a call's card
+  count differed between the check before its load and the check after.`);
+
+  sections.push(`## Latest run
+
+- Date: ${m.date}
+- Machine: ${m.cpus} CPUs (${m.cpuModel}), ${m.platform}, load average (1 / 5 / 15 min) ${m.loadAverage.map((v) => v.toFixed(2)).join(' / ')} at the start and ${m.loadAverageEnd.map((v) => v.toFixed(2)).join(' / ')} at the end (other work on the machine shows here)
+- Node ${m.node}
+- Code: commit ${m.commit}${m.uncommitted.length > 0 ? `, with uncommitted changes to ${m.uncommitted.map((path) => `\`${path}\``).join(', ')}` : ', no uncommitted changes to src/, cards/, policies/ or examples/'}
+- Service: ${s.runner === 'dist' ? `built with tsc and run as \`node dist/server.js\` (build took ${(s.buildS ?? 0).toFixed(0)} s)` : 'run from source with `node --import tsx src/server.ts`'}, demo mode, \`LOG_LEVEL=warn\`, default limits
+- Load: autocannon, ${s.connections} connections, ${s.warmupS} s warm-up (discarded) then ${s.durationS} s measured, per case, after a throwaway load on each process
+- Micro-benchmark: ${s.microIterations} timed iterations per loop per example
+
+### HTTP load
+
+${loadTable(report)}
+
+${findings(report).map((line) => `- ${line}`).join('\n')}
+
+### Pure pipeline, in process
+
+\`evaluateHook\` (src/cds/evaluate-hook.ts) over the data gathered from the request's prefetch, against
+\`JSON.parse\` + \`JSON.stringify\` of the same request text as the baseline. "Whole pure path" is what
+the service does per call apart from HTTP: parse the text, validate it (\`parseHookRequest\`), gather
+the prefetch, evaluate, and serialise the answer. The ratios compare medians: on a shared machine a
+pause lands on whichever loop is running, and a mean takes it in full; the p99 shows how far such
+pauses reach.
+
+${microTable(report.micro)}
+
+- ${microFinding(report.micro)}`);
+
+  const profiles: string[] = ['### What dominates', ''];
+  if (report.serviceProfile === undefined && report.microProfile === undefined) {
+    profiles.push('Not profiled in this run (`--no-profile`).');
+  } else {
+    profiles.push(
+      `Two \`node --cpu-prof\` profiles of ${report.profiledExample ?? 'the largest order-sign example'}: the service under the same load, and the whole pure path in a loop. Percentages are of the busy (non-idle) samples after start-up. Areas are our source folders, npm packages, node internals, and native code (V8 built-ins such as regular expressions, and node's bindings such as \`writev\`); "our function" counts the time of everything it called. \`JSON.parse\` and \`JSON.stringify\` run in V8's C++ runtime and show as self time of the JavaScript function that calls them: body-parser's \`parse\`, express's \`stringify\`, and in the pure path the bench's own \`parseOrThrow\` and \`runWholePath\`.`,
+    );
+    if (report.serviceProfile !== undefined) {
+      profiles.push('', `- In the service under load, ${dominantAreas(report.serviceProfile)}`);
+    }
+    if (report.microProfile !== undefined) {
+      profiles.push(`- In the pure path, ${dominantAreas(report.microProfile)}`);
+    }
+    if (report.serviceProfile !== undefined) {
+      profiles.push('', profileSection('Service under load', report.serviceProfile));
+    }
+    if (report.microProfile !== undefined) {
+      profiles.push('', profileSection('Pure path', report.microProfile));
+    }
+  }
+  sections.push(profiles.join('\n'));
+
+  sections.push(`## Method
+
+- **Why a build.** Production runs \`npm start\`: tsc, then \`node dist/server.js\`. The bench does the
+  same into a private temporary folder (so it never rewrites the shared \`dist/\` under another
+  process), pointing \`O2CHECK_POLICY\` and \`O2CHECK_CARDS_DIR\` at the bundled files. \`--runner tsx\`
+  runs the same code through tsx; after start-up the difference is the loader only.
+- **Processes.** The service and the JSON echo each run in their own process group on 127.0.0.1 with
+  port 0 (the address is read from the start-up log line and must be loopback). The bench waits for
+  \`/healthz\`, and at the end sends SIGTERM to each group, then SIGKILL if it has not gone within a
+  few seconds; an exit handler kills any group left. autocannon runs in the bench's own process.
+- **Requests.** The example hook calls in \`examples/\`, each moved to now with the CLI's retime logic
+  (\`src/cli/retime-request.ts\`, as \`o2check retime\` does), so the service judges them as live calls
+  and nothing is stale. The order-sign cases are named in \`bench/cases.ts\`, plus the largest
+  order-sign example found by size; every order-select example is run. Each call is checked once
+  before and once after its load.
+- **Priming.** Before the first measurement each process gets a throwaway load (the service's
+  \`/healthz\` and its largest order-sign call, the echo), so that neither the JIT's first work nor
+  autocannon's own start lands on the first baseline.
+- **Bounds.** Every load stops after its duration, after a cap on requests, and by a watchdog if
+  autocannon overruns. The micro-benchmark loops stop at their iteration count or a time cap.
+- **Micro-benchmark.** The three loops (baseline, \`evaluateHook\`, whole path) take turns in rounds
+  after a warm-up, so a slow moment on a shared machine falls on all three; each iteration is timed
+  with \`performance.now()\`.
+- **Profiles.** The service is started a second time with \`--cpu-prof\` and loaded with the largest
+  order-sign example; the pure path runs in a child process with \`--cpu-prof\`. Both are read by
+  \`bench/cpu-profile.ts\`. Line numbers are those of the JavaScript that ran (tsc's or tsx's output).
+
+## Limits
+
+- The service and autocannon share one 2-core machine, so these figures compare the cost of calls;
+  they are not the capacity of a deployment.
+- Demo mode: no client JWT is checked. Production mode adds one signature check per call; measure it
+  separately before sizing a deployment.
+- Prefetch is supplied in every example, as the CDS Hooks latency advice assumes; calls that need the
+  FHIR fallback wait on the FHIR server and are bounded by \`O2CHECK_FHIR_BUDGET_MS\` instead.
+`);
+  return `${sections.join('\n\n')}\n`;
+}

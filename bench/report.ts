@@ -1,0 +1,220 @@
+import type { ProfileSummary } from './cpu-profile.js';
+import type { LoadResult } from './load-test.js';
+import type { MicroResult } from './micro.js';
+
+/**
+ * Turns one run's measurements into ratios and plain statements. Nothing here is a figure of its
+ * own: every number printed comes from the run it describes.
+ */
+
+/** CDS Hooks 2.0 §Providing FHIR Resources: services answer "on the order of 500 ms". */
+export const CDS_HOOKS_BUDGET_MS = 500;
+/** Run-to-run spread on these machines (toolchain.md "Baseline figures"): beyond it, say so. */
+export const NOISE_PERCENT = 15;
+
+export interface Machine {
+  readonly date: string;
+  readonly node: string;
+  readonly cpus: number;
+  readonly cpuModel: string;
+  readonly loadAverage: readonly number[];
+  /** The same, when the run ended. */
+  readonly loadAverageEnd: readonly number[];
+  readonly platform: string;
+  readonly commit: string;
+  /** Paths under src/, cards/, policies/, examples/ that differed from the commit. */
+  readonly uncommitted: readonly string[];
+}
+
+export interface LoadRow {
+  readonly result: LoadResult;
+  readonly kind: 'baseline' | 'reference' | 'service';
+  /** Bytes of one answer, from the check call before the load. */
+  readonly responseBytes: number;
+  /** Cards (hook calls) or services (discovery) in that answer. */
+  readonly items: number | undefined;
+  /** Lines the service logged during this case's warm-up and load. */
+  readonly logLines: number;
+}
+
+export interface BaselineSummary {
+  readonly first: LoadResult;
+  readonly last: LoadResult;
+  readonly meanReqPerSec: number;
+  /** |last - first| as a percent of their mean. */
+  readonly driftPercent: number;
+}
+
+export function summariseBaseline(first: LoadResult, last: LoadResult): BaselineSummary {
+  const mean = (first.reqPerSec + last.reqPerSec) / 2;
+  return { first, last, meanReqPerSec: mean, driftPercent: (100 * Math.abs(last.reqPerSec - first.reqPerSec)) / mean };
+}
+
+export interface RunReport {
+  readonly machine: Machine;
+  readonly settings: {
+    readonly runner: string;
+    readonly connections: number;
+    readonly durationS: number;
+    readonly warmupS: number;
+    readonly buildS: number | undefined;
+    readonly microIterations: number;
+  };
+  readonly rows: readonly LoadRow[];
+  readonly baseline: BaselineSummary;
+  /** The plain JSON echo of the largest order-sign request and its answer. */
+  readonly echo: LoadResult | undefined;
+  readonly logLinesDuringLoad: number;
+  readonly micro: readonly MicroResult[];
+  readonly serviceProfile: ProfileSummary | undefined;
+  readonly microProfile: ProfileSummary | undefined;
+  readonly profiledExample: string | undefined;
+}
+
+export const whole = (value: number): string => Math.round(value).toLocaleString('en-GB');
+export const fixed = (value: number, digits: number): string => value.toFixed(digits);
+const ratio = (value: number): string => `${value >= 10 ? fixed(value, 1) : fixed(value, 2)} ×`;
+const micros = (value: number): string => (value >= 100 ? whole(value) : fixed(value, 1));
+
+export function markdownTable(header: readonly string[], rows: readonly (readonly string[])[]): string {
+  const line = (cells: readonly string[]): string => `| ${cells.join(' | ')} |`;
+  return [line(header), line(header.map(() => '---')), ...rows.map(line)].join('\n');
+}
+
+export function loadTable(report: RunReport): string {
+  const base = report.baseline.meanReqPerSec;
+  const rows = report.rows.map((row) => {
+    const r = row.result;
+    const echo =
+      report.echo !== undefined && r.method === 'POST' && row.kind === 'service'
+        ? ratio(r.reqPerSec / report.echo.reqPerSec)
+        : '';
+    return [
+      r.label,
+      r.requestBytes === 0 ? '' : whole(r.requestBytes),
+      whole(row.responseBytes),
+      row.items === undefined ? '' : String(row.items),
+      whole(r.reqPerSec),
+      String(r.latencyMs.p50),
+      String(r.latencyMs.p97_5),
+      String(r.latencyMs.p99),
+      ratio(r.reqPerSec / base),
+      echo,
+      fixed((100 * r.latencyMs.p99) / CDS_HOOKS_BUDGET_MS, 1),
+    ];
+  });
+  return markdownTable(
+    [
+      'case',
+      'request B',
+      'answer B',
+      'cards / services',
+      'req/s',
+      'p50 ms',
+      'p97.5 ms',
+      'p99 ms',
+      '× baseline req/s',
+      '× JSON echo req/s',
+      'p99 % of 500 ms',
+    ],
+    rows,
+  );
+}
+
+/**
+ * Medians carry the ratios: on a shared machine a pause lands on whichever loop was running, and
+ * the mean takes it in full. The p99 shows how far such pauses reach.
+ */
+export function microTable(micro: readonly MicroResult[]): string {
+  return markdownTable(
+    [
+      'example',
+      'request B',
+      'cards',
+      'JSON parse+stringify µs median (baseline)',
+      'evaluateHook µs median / p99',
+      '× baseline',
+      'whole pure path µs median / p99',
+      '× baseline',
+    ],
+    micro.map((m) => [
+      m.name,
+      whole(m.requestBytes),
+      String(m.cards),
+      micros(m.baseline.p50Us),
+      `${micros(m.evaluate.p50Us)} / ${micros(m.evaluate.p99Us)}`,
+      ratio(m.evaluate.p50Us / m.baseline.p50Us),
+      `${micros(m.wholePath.p50Us)} / ${micros(m.wholePath.p99Us)}`,
+      ratio(m.wholePath.p50Us / m.baseline.p50Us),
+    ]),
+  );
+}
+
+/** Plain sentences about the run, each computed from it. */
+export function findings(report: RunReport): string[] {
+  const lines: string[] = [];
+  const base = report.baseline;
+  const hookRows = report.rows.filter((row) => row.kind === 'service' && row.result.method === 'POST');
+  const worst = [...hookRows].sort((a, b) => b.result.latencyMs.p99 - a.result.latencyMs.p99)[0];
+  if (worst !== undefined) {
+    const within = hookRows.every((row) => row.result.latencyMs.p99 < CDS_HOOKS_BUDGET_MS);
+    lines.push(
+      `${within ? 'Every' : 'Not every'} hook call case kept p99 under the ${CDS_HOOKS_BUDGET_MS} ms CDS Hooks budget ` +
+        `with prefetch supplied and ${report.settings.connections} calls in flight at once: the worst p99 was ` +
+        `${worst.result.latencyMs.p99} ms (${worst.result.label}), ${fixed((100 * worst.result.latencyMs.p99) / CDS_HOOKS_BUDGET_MS, 1)} % of the budget.`,
+    );
+    const perCall = hookRows.map((row) => ({ label: row.result.label, ms: 1000 / row.result.reqPerSec }));
+    const cheapest = [...perCall].sort((a, b) => a.ms - b.ms)[0];
+    const dearest = [...perCall].sort((a, b) => b.ms - a.ms)[0];
+    if (cheapest !== undefined && dearest !== undefined) {
+      lines.push(
+        `With its one process kept busy, the service spent from ${fixed(cheapest.ms, 1)} ms (${cheapest.label}) to ` +
+          `${fixed(dearest.ms, 1)} ms (${dearest.label}) of wall time per call (1 / throughput). On a shared machine that ` +
+          `includes time the process waited for a core, so it is longer than the in-process medians below; the p50 and ` +
+          `p99 are longer still because each call also waits behind the others in flight.`,
+      );
+    }
+    const slowest = [...hookRows].sort((a, b) => a.result.reqPerSec - b.result.reqPerSec)[0];
+    if (slowest !== undefined) {
+      lines.push(
+        `The slowest hook case, ${slowest.result.label}, served ${ratio(slowest.result.reqPerSec / base.meanReqPerSec)} ` +
+          `the baseline's throughput (${whole(slowest.result.reqPerSec)} against ${whole(base.meanReqPerSec)} req/s)` +
+          (report.echo === undefined
+            ? '.'
+            : ` and ${ratio(slowest.result.reqPerSec / report.echo.reqPerSec)} that of a bare express JSON echo of the largest request and its answer (${whole(report.echo.reqPerSec)} req/s).`),
+      );
+    }
+  }
+  lines.push(
+    `The baseline (GET /healthz) gave ${whole(base.first.reqPerSec)} req/s before the hook cases and ` +
+      `${whole(base.last.reqPerSec)} after: ${fixed(base.driftPercent, 1)} % apart` +
+      (base.driftPercent > NOISE_PERCENT
+        ? `, more than the ${NOISE_PERCENT} % these machines vary by, so the machine was busier at one end of the run; treat the ratios with care.`
+        : `, within the ${NOISE_PERCENT} % these machines vary by. Ratios use their mean.`),
+  );
+  const logged = report.rows.filter((row) => row.logLines > 0);
+  lines.push(
+    report.logLinesDuringLoad === 0
+      ? 'The service wrote no log line during the loads (LOG_LEVEL=warn), so logging is not in these figures.'
+      : `The service wrote ${whole(report.logLinesDuringLoad)} log lines during the loads at LOG_LEVEL=warn ` +
+          `(${logged.map((row) => `${row.result.label}: ${whole(row.logLines)}`).join(', ')}); they are part of these figures.`,
+  );
+  return lines;
+}
+
+/** The spread of the micro-benchmark's ratios over the examples, as one sentence. */
+export function microFinding(micro: readonly MicroResult[]): string {
+  const ratios = micro.map((m) => ({ name: m.name, evaluate: m.evaluate.p50Us / m.baseline.p50Us, whole: m.wholePath.p50Us / m.baseline.p50Us }));
+  const byEvaluate = [...ratios].sort((a, b) => a.evaluate - b.evaluate);
+  const low = byEvaluate[0];
+  const high = byEvaluate[byEvaluate.length - 1];
+  if (low === undefined || high === undefined) {
+    return 'No example was run in process.';
+  }
+  const slowest = [...micro].sort((a, b) => b.evaluate.p50Us - a.evaluate.p50Us)[0];
+  return (
+    `In process, \`evaluateHook\` took from ${ratio(low.evaluate)} (${low.name}) to ${ratio(high.evaluate)} (${high.name}) ` +
+    `the time of a JSON parse and stringify of the same request (medians)` +
+    (slowest === undefined ? '.' : `; the slowest example's median was ${micros(slowest.evaluate.p50Us)} µs a call.`)
+  );
+}

@@ -1,0 +1,195 @@
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { availableParallelism, cpus, loadavg, platform, release, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { performance } from 'node:perf_hooks';
+import { fileURLToPath } from 'node:url';
+import { selectExamples } from './cases.js';
+import { killAllChildServers } from './child-server.js';
+import { measureHttp } from './http-cases.js';
+import { loadBundledFiles, runMicro, type MicroResult } from './micro.js';
+import { BENCH_USAGE, parseBenchOptions, type BenchOptions } from './options.js';
+import { renderPerformanceDoc } from './performance-doc.js';
+import { profileMicro, profileService } from './profiles.js';
+import { dominantAreas, profileSection } from './profile-report.js';
+import { findings, loadTable, microFinding, microTable, type Machine, type RunReport } from './report.js';
+import { prepareService } from './service-process.js';
+
+/**
+ * `npm run bench`: the service's speed, as ratios to baselines measured in the same run (see
+ * docs/performance.md, "How to run and read it"). Exit 0 when every measurement is usable, 1 when a
+ * call failed or changed its answer under load, 2 for a usage error.
+ */
+
+const ROOT = fileURLToPath(new URL('../', import.meta.url));
+const cleanUps: (() => void)[] = [];
+
+function progress(line: string): void {
+  process.stderr.write(`bench: ${line}\n`);
+}
+
+/** The commit measured, and any uncommitted change to what the service runs (read-only git calls). */
+function describeSource(): { commit: string; uncommitted: string[] } {
+  const git = (args: readonly string[]): string | undefined => {
+    const result = spawnSync('git', [...args], { cwd: ROOT, encoding: 'utf8', timeout: 10_000 });
+    // Not trimmed: a porcelain line starts with its status columns, a space among them.
+    return result.status === 0 ? result.stdout.trimEnd() : undefined;
+  };
+  const status = git(['status', '--porcelain', '--', 'src', 'cards', 'policies', 'examples', 'package-lock.json']);
+  return {
+    commit: git(['rev-parse', '--short', 'HEAD']) ?? 'unknown (not a git checkout)',
+    uncommitted: (status ?? '').split('\n').filter((line) => line.trim() !== '').map((line) => line.slice(3)),
+  };
+}
+
+function describeMachine(): Machine {
+  return {
+    date: new Date().toISOString(),
+    node: process.version,
+    cpus: availableParallelism(),
+    cpuModel: cpus()[0]?.model.trim() ?? 'unknown CPU',
+    loadAverage: loadavg(),
+    loadAverageEnd: [],
+    platform: `${platform()} ${release()}`,
+    ...describeSource(),
+  };
+}
+
+async function runBench(options: BenchOptions): Promise<number> {
+  const machine = describeMachine();
+  const examples = selectExamples(ROOT, new Date(), options.allExamples);
+  const scratch = mkdtempSync(join(tmpdir(), 'o2check-bench-scratch-'));
+  cleanUps.push(() => rmSync(scratch, { recursive: true, force: true }));
+
+  progress(options.runner === 'dist' ? 'building the service (tsc) into a private folder' : 'running from source via tsx');
+  const buildStart = performance.now();
+  const built = prepareService(ROOT, options.runner);
+  cleanUps.push(built.cleanUp);
+  const buildS = options.runner === 'dist' ? (performance.now() - buildStart) / 1000 : undefined;
+
+  const http = await measureHttp({ root: ROOT, built, examples, options, scratch, progress });
+
+  progress('micro-benchmark of the pure pipeline');
+  const files = await loadBundledFiles();
+  const microNow = new Date();
+  const micro: MicroResult[] = [];
+  for (const example of [...examples.sign, ...examples.select]) {
+    micro.push(
+      await runMicro(example, files, microNow, {
+        iterations: options.microIterations,
+        rounds: 4,
+        warmupIterations: Math.min(200, options.microIterations),
+        maxMsPerLoop: 15_000,
+      }),
+    );
+  }
+
+  const notes: string[] = [];
+  let serviceProfile: RunReport['serviceProfile'];
+  let microProfile: RunReport['microProfile'];
+  if (options.profile) {
+    progress(`profiling the service and the pure path on ${examples.largestSign.name}`);
+    const service = await profileService({ root: ROOT, built, example: examples.largestSign, options, scratch });
+    const pure = profileMicro({ root: ROOT, example: examples.largestSign, options, scratch });
+    if (service.kind === 'ok') {
+      serviceProfile = service.summary;
+    } else {
+      notes.push(`service profile not taken: ${service.reason}`);
+    }
+    if (pure.kind === 'ok') {
+      microProfile = pure.summary;
+    } else {
+      notes.push(`pure-path profile not taken: ${pure.reason}`);
+    }
+  }
+
+  const report: RunReport = {
+    machine: { ...machine, loadAverageEnd: loadavg() },
+    settings: {
+      runner: options.runner,
+      connections: options.connections,
+      durationS: options.durationS,
+      warmupS: options.warmupS,
+      buildS,
+      microIterations: options.microIterations,
+    },
+    rows: http.rows,
+    baseline: http.baseline,
+    echo: http.echo,
+    logLinesDuringLoad: http.logLinesDuringLoad,
+    micro,
+    serviceProfile,
+    microProfile,
+    profiledExample: options.profile ? examples.largestSign.name : undefined,
+  };
+
+  const out: string[] = [
+    `${machine.date}, node ${machine.node}, ${machine.cpus} CPUs, runner ${options.runner}, commit ${machine.commit}` +
+      (machine.uncommitted.length > 0 ? ` with uncommitted changes to ${machine.uncommitted.join(', ')}` : ''),
+    '',
+    loadTable(report),
+    '',
+    ...findings(report).map((line) => `- ${line}`),
+    '',
+    microTable(micro),
+    '',
+    `- ${microFinding(micro)}`,
+  ];
+  if (serviceProfile !== undefined) {
+    out.push('', profileSection('Service under load', serviceProfile), '', `- ${dominantAreas(serviceProfile)}`);
+  }
+  if (microProfile !== undefined) {
+    out.push('', profileSection('Pure path', microProfile), '', `- ${dominantAreas(microProfile)}`);
+  }
+  process.stdout.write(`${out.join('\n')}\n`);
+  for (const note of notes) {
+    progress(note);
+  }
+
+  if (http.problems.length > 0) {
+    progress(`the run is not usable:\n  ${http.problems.join('\n  ')}`);
+    if (options.writeDoc) {
+      progress('docs/performance.md was not rewritten');
+    }
+    return 1;
+  }
+  if (options.writeDoc) {
+    writeFileSync(join(ROOT, 'docs', 'performance.md'), renderPerformanceDoc(report));
+    progress('wrote docs/performance.md');
+  }
+  return 0;
+}
+
+function cleanUp(): void {
+  killAllChildServers();
+  for (const step of cleanUps.splice(0).reverse()) {
+    step();
+  }
+}
+
+for (const signal of ['SIGINT', 'SIGTERM'] as const) {
+  process.once(signal, () => {
+    cleanUp();
+    process.exit(130);
+  });
+}
+
+let options: BenchOptions | undefined;
+try {
+  options = parseBenchOptions(process.argv.slice(2));
+} catch (error) {
+  process.stderr.write(`${error instanceof Error ? error.message : String(error)}\n${BENCH_USAGE}\n`);
+  process.exit(2);
+}
+if (options === undefined) {
+  process.stdout.write(`${BENCH_USAGE}\n`);
+} else {
+  try {
+    process.exitCode = await runBench(options);
+  } catch (error) {
+    progress(`failed: ${error instanceof Error ? (error.stack ?? error.message) : String(error)}`);
+    process.exitCode = 1;
+  } finally {
+    cleanUp();
+  }
+}

@@ -1,0 +1,115 @@
+import { spawnSync } from 'node:child_process';
+import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, sep } from 'node:path';
+import { startChildServer, waitForOk, type ChildServer } from './child-server.js';
+
+/**
+ * How the service under test runs. `dist` is what `npm start` runs (tsc, then `node dist/server.js`),
+ * so it is the default; it compiles into a private temporary folder, not the shared `dist/`, so a
+ * bench never swaps files under another process. `tsx` runs `src/server.ts` through tsx, as
+ * `npm run dev` does: no build, the same code after load.
+ */
+export type ServiceRunner = 'dist' | 'tsx';
+
+export interface BuiltService {
+  readonly runner: ServiceRunner;
+  readonly nodeArgs: readonly string[];
+  /** The folder our code runs from (ends in a separator), for naming profile frames. */
+  readonly codeRoot: string;
+  /** Removes the private build folder (nothing for tsx). */
+  readonly cleanUp: () => void;
+}
+
+const BUILD_TIMEOUT_MS = 240_000;
+
+export function prepareService(root: string, runner: ServiceRunner): BuiltService {
+  if (runner === 'tsx') {
+    return {
+      runner,
+      nodeArgs: ['--import', 'tsx', join(root, 'src', 'server.ts')],
+      codeRoot: join(root, 'src', sep),
+      cleanUp: () => undefined,
+    };
+  }
+  const folder = mkdtempSync(join(tmpdir(), 'o2check-bench-'));
+  const cleanUp = (): void => rmSync(folder, { recursive: true, force: true });
+  const outDir = join(folder, 'dist');
+  mkdirSync(outDir);
+  // The emitted ES modules need a `type: module` scope, and their bare imports the project's packages.
+  writeFileSync(join(folder, 'package.json'), '{ "type": "module", "private": true }\n');
+  symlinkSync(join(root, 'node_modules'), join(folder, 'node_modules'), 'dir');
+  const tsc = join(root, 'node_modules', 'typescript', 'bin', 'tsc');
+  const build = spawnSync(process.execPath, [tsc, '-p', join(root, 'tsconfig.build.json'), '--outDir', outDir], {
+    cwd: root,
+    encoding: 'utf8',
+    timeout: BUILD_TIMEOUT_MS,
+  });
+  if (build.status !== 0) {
+    cleanUp();
+    const output = `${build.stdout}${build.stderr}`.trim().split('\n').slice(0, 20).join('\n');
+    throw new Error(`the build failed (tsc exit ${String(build.status)}); fix it or run with --runner tsx\n${output}`);
+  }
+  return { runner, nodeArgs: [join(outDir, 'server.js')], codeRoot: join(outDir, sep), cleanUp };
+}
+
+/** The environment the service runs in: demo mode, loopback, a free port, quiet logs, bundled files. */
+function serviceEnv(root: string): Record<string, string | undefined> {
+  const env: Record<string, string | undefined> = {};
+  for (const [name, value] of Object.entries(process.env)) {
+    // Settings left in the shell (a trust file, a concurrency cap) must not change what is measured.
+    if (!name.startsWith('O2CHECK_') && !['HOST', 'PORT', 'LOG_LEVEL', 'NODE_OPTIONS'].includes(name)) {
+      env[name] = value;
+    }
+  }
+  return {
+    ...env,
+    NODE_ENV: 'production',
+    HOST: '127.0.0.1',
+    PORT: '0',
+    LOG_LEVEL: 'warn',
+    O2CHECK_MODE: 'demo',
+    // The bundled files, named because a private build folder is not the package root.
+    O2CHECK_POLICY: join(root, 'policies', 'bts-2017.yaml'),
+    O2CHECK_CARDS_DIR: join(root, 'cards'),
+  };
+}
+
+export async function startService(
+  root: string,
+  built: BuiltService,
+  extraNodeArgs: readonly string[] = [],
+): Promise<ChildServer> {
+  const server = await startChildServer({
+    name: 'oxygen-order-checker',
+    nodeArgs: [...extraNodeArgs, ...built.nodeArgs],
+    env: serviceEnv(root),
+    cwd: root,
+    startTimeoutMs: 30_000,
+  });
+  try {
+    await waitForOk(`${server.url}/healthz`, 50);
+  } catch (error) {
+    await server.stop(1000);
+    throw error;
+  }
+  return server;
+}
+
+/** The plain express JSON echo (bench/json-echo-server.ts) in its own process, like the service. */
+export async function startJsonEcho(root: string, replyFile: string): Promise<ChildServer> {
+  const server = await startChildServer({
+    name: 'json-echo',
+    nodeArgs: ['--import', 'tsx', join(root, 'bench', 'json-echo-server.ts'), replyFile],
+    env: serviceEnv(root),
+    cwd: root,
+    startTimeoutMs: 30_000,
+  });
+  try {
+    await waitForOk(`${server.url}/healthz`, 50);
+  } catch (error) {
+    await server.stop(1000);
+    throw error;
+  }
+  return server;
+}
