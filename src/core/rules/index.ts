@@ -19,6 +19,7 @@ import { rule as spo2BelowTarget } from './spo2-below-target.js';
 import { rule as targetAboveHypercapnicRange } from './target-above-hypercapnic-range.js';
 import { rule as targetDiffersFromPolicy } from './target-differs-from-policy.js';
 import { rule as targetRangeMissing } from './target-range-missing.js';
+import { rule as uncontrolledOxygenAtRisk } from './uncontrolled-oxygen-at-risk.js';
 import { rule as venturiFlowInsufficient } from './venturi-flow-insufficient.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -34,6 +35,7 @@ export const RULES: readonly Rule[] = [
   carbonMonoxideOximetry,
   spo2BelowTarget,
   targetAboveHypercapnicRange,
+  uncontrolledOxygenAtRisk,
   targetRangeMissing,
   oxygenToxicityTarget,
   lowerRangeWithoutRisk,

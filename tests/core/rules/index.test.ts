@@ -49,6 +49,7 @@ describe('RULES', () => {
       'target-above-hypercapnic-range',
       'target-differs-from-policy',
       'target-range-missing',
+      'uncontrolled-oxygen-at-risk',
       'venturi-flow-insufficient',
     ]);
     expect(RULES.every((r) => r.hooks.includes('order-sign'))).toBe(true);
