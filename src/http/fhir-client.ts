@@ -1,4 +1,5 @@
 import { findJsonLimitBreach } from './json-limits.js';
+import { readCappedBody } from '../net/read-capped-body.js';
 
 /**
  * The FHIR reads the service makes itself when prefetch did not supply what it needs (CDS Hooks 2.0
@@ -58,34 +59,6 @@ export function resolveUnderServer(relative: string, fhirServer: string): URL | 
   return isUnderServer(url, fhirServer) ? url : undefined;
 }
 
-/** Reads at most `maxBytes` of the body; undefined when it is longer (the rest is not downloaded). */
-async function readCapped(response: Response, maxBytes: number): Promise<string | undefined> {
-  const declared = Number(response.headers.get('content-length') ?? Number.NaN);
-  if (Number.isFinite(declared) && declared > maxBytes) {
-    await response.body?.cancel();
-    return undefined;
-  }
-  if (response.body === null) {
-    return '';
-  }
-  const reader = (response.body as ReadableStream<Uint8Array>).getReader();
-  const chunks: Uint8Array[] = [];
-  let total = 0;
-  for (;;) {
-    const { done, value } = await reader.read();
-    if (done) {
-      break;
-    }
-    total += value.byteLength;
-    if (total > maxBytes) {
-      await reader.cancel();
-      return undefined;
-    }
-    chunks.push(value);
-  }
-  return Buffer.concat(chunks).toString('utf8');
-}
-
 function isAbort(error: unknown): boolean {
   const name = error instanceof Error ? error.name : '';
   return name === 'TimeoutError' || name === 'AbortError';
@@ -128,7 +101,7 @@ export async function getFhirJson(url: URL, options: FhirCallOptions): Promise<F
       await response.body?.cancel();
       return { kind: 'failed', failure: 'http-status', status: response.status };
     }
-    const text = await readCapped(response, options.maxResponseBytes);
+    const text = await readCappedBody(response, options.maxResponseBytes);
     if (text === undefined) {
       return { kind: 'failed', failure: 'too-large' };
     }

@@ -1,4 +1,5 @@
 import { readJwkSet, type KeySet } from './jwk-keys.js';
+import { readCappedBody } from '../net/read-capped-body.js';
 
 /**
  * One bounded GET of a JWK Set: a short timeout, a size cap, no redirects (a 3xx could point
@@ -26,32 +27,6 @@ export interface JwksFetchOptions {
   readonly maxBytes: number;
   /** False only for tests against loopback servers; production always requires https. */
   readonly requireHttps: boolean;
-}
-
-async function readCapped(response: Response, maxBytes: number): Promise<string | undefined> {
-  const declared = Number(response.headers.get('content-length') ?? Number.NaN);
-  if (Number.isFinite(declared) && declared > maxBytes) {
-    await response.body?.cancel();
-    return undefined;
-  }
-  if (response.body === null) {
-    return '';
-  }
-  const reader = (response.body as ReadableStream<Uint8Array>).getReader();
-  const chunks: Uint8Array[] = [];
-  let total = 0;
-  for (;;) {
-    const { done, value } = await reader.read();
-    if (done) {
-      return Buffer.concat(chunks).toString('utf8');
-    }
-    total += value.byteLength;
-    if (total > maxBytes) {
-      await reader.cancel();
-      return undefined;
-    }
-    chunks.push(value);
-  }
 }
 
 function failed(failure: JwksFetchFailure): JwksFetchOutcome {
@@ -93,7 +68,7 @@ export async function fetchJwks(url: string, options: JwksFetchOptions): Promise
       await response.body?.cancel();
       return failed('http-status');
     }
-    const text = await readCapped(response, options.maxBytes);
+    const text = await readCappedBody(response, options.maxBytes);
     if (text === undefined) {
       return failed('too-large');
     }
