@@ -2,7 +2,7 @@ import type { Outcome } from '../types.js';
 import { checkDeliveryInput, flowRangeNotes, formatNumber } from './check-input.js';
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, meanInspiratoryFlowLPerMin } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2 } from './mixing.js';
+import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2, variablePerformanceEstimate } from './mixing.js';
 import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
 
 /** O2 bled into a CPAP or NIV circuit from a wall flowmeter, L/min (from memory). */
@@ -33,14 +33,10 @@ function bleedInEstimate(flow: number, respRatePerMin: number | undefined): Deli
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.highDemand) + leak.high),
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.lowDemand) + leak.low),
   );
-  return {
+  return variablePerformanceEstimate(
     fio2,
-    fixedPerformance: false,
-    totalFlowLPerMin: undefined,
-    peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
-    entrainmentRatio: undefined,
-    minimumFlowLPerMin: undefined,
-    notes: [
+    demand.peakFlowLPerMin,
+    [
       VENTILATOR_NOTE,
       ESTIMATE_ONLY_NOTE,
       `Oxygen bled in at ${formatNumber(flow)} L/min is diluted by the device's own flow, including mask ` +
@@ -48,8 +44,8 @@ function bleedInEstimate(flow: number, respRatePerMin: number | undefined): Deli
       ...demandNotes(demand),
       ...flowRangeNotes(flow, CPAP_NIV_BLEED_IN_FLOW_RANGE_L_PER_MIN, 'oxygen bled into CPAP or NIV', 'from memory'),
     ],
-    sourceKeys: ['device-mixing', 'bts-ics-2016'],
-  };
+    ['device-mixing', 'bts-ics-2016'],
+  );
 }
 
 /**

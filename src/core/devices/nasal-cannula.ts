@@ -8,7 +8,7 @@ import {
   inspiratoryTimeS,
 } from './inspiratory-demand.js';
 import type { BreathingPattern } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, anatomicReservoirFio2, fio2Range } from './mixing.js';
+import { ESTIMATE_ONLY_NOTE, anatomicReservoirFio2, fio2Range, variablePerformanceEstimate } from './mixing.js';
 import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
 
 /** Adult nasal cannula flows, L/min (BTS 2017, Tables 2 and 4). */
@@ -68,19 +68,7 @@ export function estimateNasalCannula(input: DeliveryInput): Outcome<DeliveryEsti
         'are often poorly tolerated (BTS 2017).',
     );
   }
-  return {
-    kind: 'ok',
-    value: {
-      fio2,
-      fixedPerformance: false,
-      totalFlowLPerMin: undefined,
-      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
-      entrainmentRatio: undefined,
-      minimumFlowLPerMin: undefined,
-      notes,
-      sourceKeys: ['device-mixing', 'bts-2017'],
-    },
-  };
+  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, ['device-mixing', 'bts-2017']) };
 }
 
 export const nasalCannulaModel: DeviceModel = {

@@ -3,7 +3,7 @@ import { checkDeliveryInput, flowRangeNotes, formatNumber, ignoredInputNotes } f
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, minuteVentilationLPerMin } from './inspiratory-demand.js';
 import type { BreathingPattern } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range } from './mixing.js';
+import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range, variablePerformanceEstimate } from './mixing.js';
 import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
 
 /** Reservoir mask flows, L/min: BTS 2008 gave 10-15; BTS 2017 Table 2 uses 15. */
@@ -56,19 +56,7 @@ export function estimateReservoirMask(input: DeliveryInput): Outcome<DeliveryEst
         'L/min, so the bag empties each breath and room air makes up the rest (mixing model).',
     );
   }
-  return {
-    kind: 'ok',
-    value: {
-      fio2,
-      fixedPerformance: false,
-      totalFlowLPerMin: undefined,
-      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
-      entrainmentRatio: undefined,
-      minimumFlowLPerMin: undefined,
-      notes,
-      sourceKeys: ['device-mixing', 'bts-2017'],
-    },
-  };
+  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, ['device-mixing', 'bts-2017']) };
 }
 
 export const reservoirMaskModel: DeviceModel = {

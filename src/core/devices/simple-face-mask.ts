@@ -2,7 +2,7 @@ import type { Outcome } from '../types.js';
 import { checkDeliveryInput, flowRangeNotes, formatNumber, ignoredInputNotes } from './check-input.js';
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, meanInspiratoryFlowLPerMin } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2 } from './mixing.js';
+import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2, variablePerformanceEstimate } from './mixing.js';
 import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
 
 /** Simple face mask flows, L/min (BTS 2017, Table 2). */
@@ -45,19 +45,7 @@ export function estimateSimpleFaceMask(input: DeliveryInput): Outcome<DeliveryEs
     );
     sourceKeys.push('jensen-1991');
   }
-  return {
-    kind: 'ok',
-    value: {
-      fio2,
-      fixedPerformance: false,
-      totalFlowLPerMin: undefined,
-      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
-      entrainmentRatio: undefined,
-      minimumFlowLPerMin: undefined,
-      notes,
-      sourceKeys,
-    },
-  };
+  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, sourceKeys) };
 }
 
 export const simpleFaceMaskModel: DeviceModel = {
