@@ -1,9 +1,10 @@
 import { formatFlow, formatNumber, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
-import type { Finding, OrderChange } from '../types.js';
+import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 
 /**
  * Cluster headache is documented and no hypercapnic risk is (target selection gives no SpO2 target).
@@ -34,11 +35,7 @@ export const rule: Rule = {
       return [];
     }
     const nearest = flow === undefined ? FLOW.max : Math.min(FLOW.max, Math.max(FLOW.min, flow));
-    const change: OrderChange | undefined = !onReservoir
-      ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: nearest }
-      : !flowInRange
-        ? { kind: 'set-flow', flowLPerMin: nearest }
-        : undefined;
+    const change = reservoirMaskChange(order, flowInRange, nearest);
     return [
       makeFinding(rule, {
         orderReference: order.reference,

@@ -1,9 +1,10 @@
 import { formatFlow, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
-import type { Finding, OrderChange } from '../types.js';
+import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 
 /**
  * Pneumothorax is documented and no hypercapnic risk is (target selection gives no SpO2 target).
@@ -32,11 +33,7 @@ export const rule: Rule = {
     if (onReservoir && atFlow && order.target === undefined) {
       return [];
     }
-    const change: OrderChange | undefined = !onReservoir
-      ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: FLOW }
-      : !atFlow
-        ? { kind: 'set-flow', flowLPerMin: FLOW }
-        : undefined;
+    const change = reservoirMaskChange(order, atFlow, FLOW);
     return [
       makeFinding(rule, {
         orderReference: order.reference,
