@@ -49,6 +49,22 @@ export interface Policy {
     readonly chronicBicarbonateAboveMmolPerL: number;
     /** BMI above which obesity counts as a risk (BTS 2017 Table 4, ambulance material: > 40). */
     readonly morbidObesityBmiAbove: number;
+    /**
+     * Acute hypercapnia with acidaemia in a patient with no chronic risk (acute asthma, exhaustion,
+     * sedation): `keep` keeps the patient's range (BTS 2017 keeps acute asthma at 94–98 %);
+     * `hypercapnic-risk-range` moves to `targets.hypercapnicRisk`. A local decision.
+     */
+    readonly acuteHypercapniaWithoutRiskTarget: 'keep' | 'hypercapnic-risk-range';
+  };
+  /** Who the checks are for: the guidelines encoded are for adults. */
+  readonly population: {
+    /** Below this age no adult target or titration advice is given (common practice: 16). */
+    readonly minimumAgeYears: number;
+  };
+  /** Special situations that change the advice rather than the range. */
+  readonly specialConditions: {
+    /** Oxygen treats hypoxaemia, not breathlessness, in these (BTS 2017 Table 3). */
+    readonly oxygenOnlyIfHypoxaemic: readonly ConditionKind[];
   };
   readonly freshness: {
     /** How old an SpO2, FiO2, flow or respiratory rate may be and still count as current. */
@@ -57,6 +73,8 @@ export interface Policy {
     readonly haemoglobinHours: number;
     /** How far back an old gas may show previous hypercapnia. */
     readonly previousHypercapniaDays: number;
+    /** Results of one gas filed with times this close belong to one sample (common practice: 10). */
+    readonly bloodGasGroupingMinutes: number;
   };
   readonly thresholds: {
     /** pH below this is acidosis (RCEM normal range 7.35–7.45). */
@@ -83,6 +101,12 @@ export interface Policy {
     readonly nasalCannulaStepDownLPerMin: number;
     /** Repeat blood gas window after starting or changing oxygen in an at-risk patient (BTS 2017). */
     readonly repeatGasMinutes: { readonly from: number; readonly to: number };
+    /** High flow at or above this set FiO2 with SpO2 below target is failing (local choice: 0.6). */
+    readonly highFlowFailingFio2AtLeast: number;
+    /** How far back recorded flows, FiO2 and SpO2 are read for a rising oxygen need. */
+    readonly oxygenNeedTrendMinutes: number;
+    /** A fall in SpO2 of at least this many points calls for fuller assessment (BTS 2017: 3). */
+    readonly spo2FallPoints: number;
   };
   /** Severity overrides by rule id; a hospital may raise or lower a rule's indicator. */
   readonly severity: Readonly<Record<string, Indicator>>;

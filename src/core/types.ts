@@ -105,6 +105,14 @@ export const CONDITION_KINDS = [
   'pneumothorax',
   'sickle-cell-crisis',
   'pregnancy',
+  // Acute illnesses in which a raised PCO2 means tiring, not chronic retention (BTS/SIGN asthma
+  // guideline; BTS 2017 keeps acute asthma at the standard range).
+  'acute-asthma',
+  'sedative-or-opioid-toxicity',
+  // BTS 2017 Table 3: oxygen only if hypoxaemic.
+  'acute-coronary-syndrome',
+  'stroke',
+  'hyperventilation',
 ] as const;
 export type ConditionKind = (typeof CONDITION_KINDS)[number];
 

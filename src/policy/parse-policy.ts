@@ -88,7 +88,10 @@ export function parsePolicyObject(input: unknown): PolicyParse {
       hypercapniaPaco2: toThreshold(file.hypercapnicRisk.hypercapniaPaco2AtLeast),
       chronicBicarbonateAboveMmolPerL: file.hypercapnicRisk.chronicBicarbonateAboveMmolPerL,
       morbidObesityBmiAbove: file.hypercapnicRisk.morbidObesityBmiAbove,
+      acuteHypercapniaWithoutRiskTarget: file.hypercapnicRisk.acuteHypercapniaWithoutRiskTarget,
     },
+    population: file.population,
+    specialConditions: file.specialConditions,
     freshness: file.freshness,
     thresholds: {
       ...file.thresholds,

@@ -50,12 +50,20 @@ export const PolicyFileSchema = z.strictObject({
     hypercapniaPaco2AtLeast: PressureSchema,
     chronicBicarbonateAboveMmolPerL: z.number().min(20).max(40),
     morbidObesityBmiAbove: z.number().min(25).max(80),
+    acuteHypercapniaWithoutRiskTarget: z.enum(['keep', 'hypercapnic-risk-range']).default('keep'),
   }),
+  population: z.strictObject({ minimumAgeYears: z.number().int().min(12).max(21) }).default({ minimumAgeYears: 16 }),
+  specialConditions: z
+    .strictObject({ oxygenOnlyIfHypoxaemic: z.array(z.enum(CONDITION_KINDS)) })
+    .default({
+      oxygenOnlyIfHypoxaemic: ['acute-coronary-syndrome', 'stroke', 'pregnancy', 'hyperventilation', 'sickle-cell-crisis'],
+    }),
   freshness: z.strictObject({
     vitalSignsMinutes: z.number().int().min(1).max(1440),
     bloodGasMinutes: z.number().int().min(1).max(10080),
     haemoglobinHours: z.number().int().min(1).max(720),
     previousHypercapniaDays: z.number().int().min(0).max(3650),
+    bloodGasGroupingMinutes: z.number().min(0).max(60).default(10),
   }),
   thresholds: z.strictObject({
     acidosisPhBelow: z.number().min(7).max(7.6),
@@ -75,6 +83,9 @@ export const PolicyFileSchema = z.strictObject({
     repeatGasMinutes: z
       .strictObject({ from: z.number().int().min(5), to: z.number().int().max(240) })
       .refine((w) => w.from <= w.to, { message: 'from must not exceed to' }),
+    highFlowFailingFio2AtLeast: z.number().min(0.21).max(1).default(0.6),
+    oxygenNeedTrendMinutes: z.number().int().min(30).max(1440).default(360),
+    spo2FallPoints: z.number().min(1).max(10).default(3),
   }),
   severity: z.record(z.string(), IndicatorSchema).default({}),
   disabledRules: z.array(z.string()).default([]),

@@ -146,6 +146,11 @@ const DISPLAY: Readonly<Record<ConditionKind, [string, string]>> = {
   pneumothorax: ['Pneumothorax', "text: 'pneumothorax'"],
   'sickle-cell-crisis': ['Sickle cell crisis', "text: 'sickle cell crisis'"],
   pregnancy: ['Pregnancy', "text: 'pregnant'"],
+  'acute-asthma': ['Acute severe asthma', "text: 'acute asthma'"],
+  'sedative-or-opioid-toxicity': ['Opioid toxicity', "text: 'opioid toxicity'"],
+  'acute-coronary-syndrome': ['Acute coronary syndrome', "text: 'ACS'"],
+  stroke: ['Acute stroke', "text: 'stroke'"],
+  hyperventilation: ['Hyperventilation', "text: 'hyperventilation'"],
 };
 
 export function condition(kind: ConditionKind): ConditionFact {
