@@ -31,6 +31,8 @@ export interface Policy {
     readonly altitudeM: number;
     /** A measured or agreed site pressure overrides the altitude model when given. */
     readonly barometricPressureMmHg: number | undefined;
+    /** IANA time zone the site's clinicians read times in, e.g. "Europe/London". */
+    readonly timeZone: string;
   };
   readonly targets: {
     /** Acutely ill adults not at risk of hypercapnic respiratory failure (BTS 2017: 94–98 %). */

@@ -39,6 +39,28 @@ export interface OrderTarget extends SaturationRange {
   readonly readFrom: ReadFrom;
 }
 
+/**
+ * How an order states its target when it is not one clear range: a single bound ("SpO2 > 94%"), two
+ * ranges or a condition ("88-92% if drowsy, otherwise 94-98%"), or an explicit statement that there
+ * is no SpO2 target (palliative or comfort oxygen). `text` is the words it was read from.
+ */
+export type TargetNote =
+  | {
+      readonly kind: 'one-sided';
+      readonly bound: 'at-least' | 'above' | 'at-most' | 'below';
+      readonly percent: number;
+      readonly text: string;
+    }
+  | { readonly kind: 'ambiguous'; readonly ranges: readonly SaturationRange[]; readonly text: string }
+  | { readonly kind: 'no-target'; readonly text: string };
+
+/**
+ * What the order is for. Most orders titrate oxygen to a target; some are for comfort only
+ * (terminal palliative care, BTS 2017), stop or wean oxygen, or put the patient on room air (0 L/min).
+ * Orders that are not titrations never get advice to raise the oxygen.
+ */
+export type OrderPurpose = 'titrate' | 'comfort' | 'stop' | 'wean' | 'room-air';
+
 /** An oxygen order as read from a draft MedicationRequest, ServiceRequest or DeviceRequest. */
 export interface OxygenOrder {
   /** `ResourceType/id` of the draft resource; suggestions update this resource. */
@@ -52,6 +74,9 @@ export interface OxygenOrder {
   /** A set FiO2: a Venturi setting, or the blender setting of high-flow or NIV. */
   readonly setFio2Fraction: number | undefined;
   readonly target: OrderTarget | undefined;
+  /** Set when the target is written as a single bound, two ranges, a condition, or "no target". */
+  readonly targetNote: TargetNote | undefined;
+  readonly purpose: OrderPurpose;
   /** When the order was written (ISO 8601), if known. */
   readonly authoredOn: string | undefined;
   /** True when this order is among the ones the user just selected (order-select) or is signing. */

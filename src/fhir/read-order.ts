@@ -192,6 +192,8 @@ export function readOrder(
       flowLPerMin,
       setFio2Fraction,
       target: readTarget(parts, reference, notes),
+      targetNote: undefined,
+      purpose: 'titrate',
       authoredOn: stringAt(resource, 'authoredOn'),
       isSubject,
     },

@@ -81,6 +81,7 @@ export function parsePolicyObject(input: unknown): PolicyParse {
         file.site.barometricPressure === undefined
           ? undefined
           : toThreshold(file.site.barometricPressure).mmHg,
+      timeZone: file.site.timeZone,
     },
     targets: file.targets,
     hypercapnicRisk: {

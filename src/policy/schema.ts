@@ -9,6 +9,15 @@ import { CONDITION_KINDS } from '../core/types.js';
 
 const percent = z.number().min(50).max(100);
 
+function isTimeZone(name: string): boolean {
+  try {
+    new Intl.DateTimeFormat('en-GB', { timeZone: name });
+    return true;
+  } catch {
+    return false;
+  }
+}
+
 export const SaturationRangeSchema = z
   .strictObject({ lowPercent: percent, highPercent: percent })
   .refine((r) => r.lowPercent < r.highPercent, {
@@ -39,6 +48,11 @@ export const PolicyFileSchema = z.strictObject({
     /** metres above sea level */
     altitudeM: z.number().min(-500).max(6000),
     barometricPressure: PressureSchema.optional(),
+    /** IANA time zone for times shown to clinicians */
+    timeZone: z
+      .string()
+      .refine(isTimeZone, { message: 'use an IANA time zone name, e.g. Europe/London' })
+      .default('Europe/London'),
   }),
   targets: z.strictObject({
     standard: SaturationRangeSchema,

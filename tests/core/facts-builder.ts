@@ -52,6 +52,8 @@ export function oxygenOrder(overrides: Partial<OxygenOrder> = {}): OxygenOrder {
     flowLPerMin: 2,
     setFio2Fraction: undefined,
     target: { lowPercent: 94, highPercent: 98, readFrom: 'structured' },
+    targetNote: undefined,
+    purpose: 'titrate',
     authoredOn: NOW.toISOString(),
     isSubject: true,
     ...overrides,

@@ -66,6 +66,8 @@ export const facts: Facts = {
       flowLPerMin: 3,
       setFio2Fraction: undefined,
       target: { lowPercent: 94, highPercent: 98, readFrom: 'text' },
+      targetNote: undefined,
+      purpose: 'titrate',
       authoredOn: '2025-03-14T08:05:00Z',
       isSubject: true,
     },
