@@ -114,7 +114,10 @@ export function readObservations(
   const bloodGases: BloodGas[] = [];
   const historicBloodGases: BloodGas[] = [];
   let newestOld: { ageMs: number; reference: string | undefined } | undefined;
-  for (const sample of groupBloodGases(readings.filter((r) => r.code.kind === 'gas'))) {
+  for (const sample of groupBloodGases(
+    readings.filter((r) => r.code.kind === 'gas'),
+    freshness.bloodGasGroupingMinutes,
+  )) {
     const ageMs = nowMs - sample.atMs;
     const kept = ageMs <= freshness.previousHypercapniaDays * 86_400_000;
     // A sample whose pH, PCO2 and HCO3 disagree has mislabelled pressures: they are set aside.
