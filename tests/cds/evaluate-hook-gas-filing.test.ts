@@ -87,7 +87,7 @@ describe('one blood gas filed as several results (evaluateHook)', () => {
 
   it('keeps it when one specimen ties results filed further apart than the window', () => {
     const split = dataWith(
-      ACIDOTIC.map((r, i) => filed(r, DRAWN_MS + i * 12 * MIN, { specimen: { reference: 'Specimen/lb-abg-0064' } })),
+      ACIDOTIC.map((r, i) => filed(r, DRAWN_MS + i * 11 * MIN, { specimen: { reference: 'Specimen/lb-abg-0064' } })),
     );
     expect(acidosisCard(split)?.indicator).toBe('critical');
   });
@@ -101,7 +101,7 @@ describe('one blood gas filed as several results (evaluateHook)', () => {
       effectiveDateTime: new Date(DRAWN_MS).toISOString(),
       hasMember: ACIDOTIC.map((r) => ({ reference: `Observation/${r.id}` })),
     };
-    const split = dataWith([panel, ...ACIDOTIC.map((r, i) => filed(r, DRAWN_MS + i * 15 * MIN))]);
+    const split = dataWith([panel, ...ACIDOTIC.map((r, i) => filed(r, DRAWN_MS + ([0, 5, 20, 30][i] ?? 0) * MIN))]);
     expect(acidosisCard(split)?.indicator).toBe('critical');
   });
 
