@@ -2,21 +2,23 @@ import { z } from 'zod';
 import { DEVICE_MODELS, estimateDelivery } from '../core/devices/index.js';
 import { DEVICE_KINDS } from '../core/types.js';
 import type { CliIo, ExitCode } from './cli-io.js';
+import { FIO2_CONVENTION, fio2Text } from './fio2-option.js';
 import { checkOptions, numberText, parseOptions } from './parse-options.js';
 
-export const FIO2_USAGE = `Usage: o2check fio2 --device KIND [--flow L_PER_MIN] [--setting PERCENT] [--resp-rate N] [--json]
+export const FIO2_USAGE = `Usage: o2check fio2 --device KIND [--flow L_PER_MIN] [--setting FIO2] [--resp-rate N] [--json]
 
 Estimates the FiO2 a delivery device really gives, with its low-high range and notes.
 KIND is one of: ${DEVICE_KINDS.join(', ')}.
   --flow       oxygen flow in L/min (for high-flow nasal cannula: the total flow)
-  --setting    a set FiO2 in percent: the Venturi setting, or the high-flow / NIV blender setting
+  --setting    a set FiO2 (the Venturi setting, or the high-flow / NIV blender setting):
+               ${FIO2_CONVENTION}
   --resp-rate  respiratory rate per minute; drives the patient's inspiratory demand
   --json       print JSON for scripts`;
 
 const Fio2OptionsSchema = z.strictObject({
   device: z.enum(DEVICE_KINDS, { error: `must be one of ${DEVICE_KINDS.join(', ')}` }),
   flow: numberText.pipe(z.number().min(0).max(80)).optional(),
-  setting: numberText.pipe(z.number().min(21).max(100)).optional(),
+  setting: fio2Text.optional(),
   respRate: numberText.pipe(z.number().min(1).max(80)).optional(),
   json: z.boolean().optional(),
 });
@@ -47,8 +49,8 @@ export function runFio2Command(args: readonly string[], io: CliIo): ExitCode {
   });
   const input = {
     ...(options.flow === undefined ? {} : { flowLPerMin: options.flow }),
-    // The option is a percentage for people; the core takes a fraction.
-    ...(options.setting === undefined ? {} : { setFio2Fraction: options.setting / 100 }),
+    // Typed as a fraction or a percentage (fio2-option.ts); the core takes the fraction.
+    ...(options.setting === undefined ? {} : { setFio2Fraction: options.setting }),
     ...(options.respRate === undefined ? {} : { respRatePerMin: options.respRate }),
   };
   const model = DEVICE_MODELS[options.device];

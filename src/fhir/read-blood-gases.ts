@@ -3,11 +3,28 @@ import type { GasField, Specimen } from './codes.js';
 import type { Reading } from './read-observation-values.js';
 
 /**
- * Groups blood gas readings into samples. Values belong to one sample when a panel lists them in
- * `hasMember`, when they name the same specimen, or else when they share an effective time (labs
- * stamp every value of one gas with the collection time). Arterial and venous values at the same
- * time are kept as two samples; values whose code names no specimen (serum HCO3, blood base excess,
- * blood pCO2) join the arterial one.
+ * Groups blood gas readings into samples. EHRs often file the pH, PCO2, PO2 and HCO3 of one sample
+ * as separate Observations whose times differ by seconds or minutes; split apart, an acidotic
+ * hypercapnic gas can lose its pH or its PCO2 and its critical card with it. So:
+ * 1. Values FHIR ties together are one sample whatever their times: the same `Observation.specimen`
+ *    reference, or members of one panel (`hasMember`). Ties are transitive (a panel member that names
+ *    a specimen brings that specimen's other values along).
+ * 2. Other values join the sample whose first value was taken no more than `groupingMinutes` before
+ *    them (policy `freshness.bloodGasGroupingMinutes`, default 10: common practice; an analyser
+ *    reports one sample's values together, and a repeat gas is usually taken 30–60 min later, BTS
+ *    2017 Tables 2–4). The window runs from the sample's first value, not from the last one joined,
+ *    so values filed every few minutes cannot chain into one endless sample.
+ * 3. Arterial and venous values are never one sample. A value whose code names no specimen (serum
+ *    HCO3, blood base excess, blood pCO2) joins an arterial sample in its window, else a venous one.
+ * 4. Two samples FHIR tells apart (two specimens, two panels) are never merged by the window; a value
+ *    with no tie joins the nearer earlier one.
+ * 5. A field reported twice in one sample (a corrected or re-sent result) takes the value filed last
+ *    (`issued`, else the effective time), a corrected or amended status winning a tie.
+ *
+ * The sample carries the time of its earliest value: labs stamp a result with the collection time,
+ * and a later stamp on a value of the same sample is filing or processing delay. The earliest time is
+ * when the blood was drawn, so the gas's age and the FiO2 in force at the gas are judged at the draw,
+ * and a gas never looks fresher than it is.
  */
 
 export interface GasSample {
@@ -29,22 +46,25 @@ function specimenOf(reading: Reading): Specimen {
   return reading.code.kind === 'gas' ? reading.code.specimen : 'unknown';
 }
 
+/** Later filing first; at the same filing time a corrected result first, then the later effective time. */
+function filedLaterFirst(a: Reading, b: Reading): number {
+  return b.filedMs - a.filedMs || Number(b.corrected) - Number(a.corrected) || b.atMs - a.atMs;
+}
+
 function buildSample(readings: readonly Reading[], specimen: Specimen): GasSample {
   const values: Partial<Record<GasField, number>> = {};
   const reported: Record<string, { readonly value: number; readonly unit: string }> = {};
-  // Newest first, so a corrected value sent later at the same sample wins over the first one.
-  const ordered = [...readings].sort((a, b) => b.atMs - a.atMs);
-  for (const r of ordered) {
+  for (const r of [...readings].sort(filedLaterFirst)) {
     if (r.code.kind !== 'gas' || values[r.code.field] !== undefined) {
       continue;
     }
     values[r.code.field] = r.value;
     reported[REPORTED_KEY[r.code.field]] = r.reported;
   }
-  const newest = ordered[0];
+  const first = [...readings].sort((a, b) => a.atMs - b.atMs)[0];
   return {
     gas: {
-      at: newest?.at ?? '',
+      at: first?.at ?? '',
       specimen,
       ph: values.ph,
       pao2MmHg: values.po2,
@@ -53,8 +73,8 @@ function buildSample(readings: readonly Reading[], specimen: Specimen): GasSampl
       baseExcessMmolPerL: values.baseExcess,
       reported,
     },
-    atMs: newest?.atMs ?? 0,
-    reference: newest?.reference,
+    atMs: first?.atMs ?? 0,
+    reference: first?.reference,
   };
 }
 
@@ -75,24 +95,106 @@ function splitBySpecimen(group: readonly Reading[]): GasSample[] {
   return samples;
 }
 
-/** Groups gas readings into samples, newest first. */
-export function groupBloodGases(readings: readonly Reading[]): readonly GasSample[] {
-  const groups = new Map<string, Reading[]>();
-  const keyedTimes = new Map<number, string>();
-  for (const r of readings) {
-    if (r.sampleKey !== undefined) {
-      // Two keyed samples at one moment: an untied value cannot tell which it belongs to ('').
-      const clash = keyedTimes.has(r.atMs) && keyedTimes.get(r.atMs) !== r.sampleKey;
-      keyedTimes.set(r.atMs, clash ? '' : r.sampleKey);
+/** Readings FHIR ties together by a shared specimen or panel key, found by union-find. */
+function tiedGroups(keyed: readonly Reading[]): Reading[][] {
+  const parent = keyed.map((_, i) => i);
+  const root = (i: number): number => {
+    let r = i;
+    while (parent[r] !== r) {
+      r = parent[r] ?? r;
+    }
+    parent[i] = r;
+    return r;
+  };
+  const firstWithKey = new Map<string, number>();
+  for (const [i, r] of keyed.entries()) {
+    for (const key of r.sampleKeys) {
+      const j = firstWithKey.get(key);
+      if (j === undefined) {
+        firstWithKey.set(key, i);
+      } else {
+        parent[root(i)] = root(j);
+      }
     }
   }
-  for (const r of readings) {
-    // A value with no panel or specimen joins the one keyed sample taken at the same moment, if any.
-    const joined = r.sampleKey ?? (keyedTimes.get(r.atMs) || undefined);
-    const key = joined ?? `time:${r.atMs}`;
-    const group = groups.get(key) ?? [];
+  const groups = new Map<number, Reading[]>();
+  for (const [i, r] of keyed.entries()) {
+    const group = groups.get(root(i)) ?? [];
     group.push(r);
-    groups.set(key, group);
+    groups.set(root(i), group);
   }
-  return [...groups.values()].flatMap(splitBySpecimen).sort((a, b) => b.atMs - a.atMs);
+  return [...groups.values()];
+}
+
+interface Cluster {
+  readonly anchorMs: number;
+  specimen: Specimen;
+  tied: boolean;
+  readonly members: Reading[];
+}
+
+interface Unit {
+  readonly anchorMs: number;
+  readonly specimen: Specimen;
+  readonly tied: boolean;
+  readonly members: readonly Reading[];
+}
+
+function specimenOfGroup(members: readonly Reading[]): Specimen {
+  const kinds = new Set(members.map(specimenOf));
+  return kinds.has('arterial') ? 'arterial' : kinds.has('venous') ? 'venous' : 'unknown';
+}
+
+function compatible(a: Specimen, b: Specimen): boolean {
+  return a === b || a === 'unknown' || b === 'unknown';
+}
+
+/** Lower is better: an exact specimen match, then arterial for a value that names no specimen. */
+function preference(cluster: Cluster, unit: Unit): number {
+  if (cluster.specimen === unit.specimen) return 0;
+  if (unit.specimen === 'unknown') return cluster.specimen === 'arterial' ? 1 : 2;
+  return 3;
+}
+
+/** Groups gas readings into samples, newest first. `groupingMinutes` is the policy's window. */
+export function groupBloodGases(readings: readonly Reading[], groupingMinutes: number): readonly GasSample[] {
+  const windowMs = Math.max(0, groupingMinutes) * 60_000;
+  const units: Unit[] = [
+    ...tiedGroups(readings.filter((r) => r.sampleKeys.length > 0)).map((members) => ({
+      anchorMs: Math.min(...members.map((r) => r.atMs)),
+      specimen: specimenOfGroup(members),
+      tied: true,
+      members,
+    })),
+    ...readings
+      .filter((r) => r.sampleKeys.length === 0)
+      .map((r) => ({ anchorMs: r.atMs, specimen: specimenOf(r), tied: false, members: [r] })),
+  ];
+  // Oldest first; at one moment a tied sample first, so untied values of that moment can join it.
+  units.sort((a, b) => a.anchorMs - b.anchorMs || Number(b.tied) - Number(a.tied));
+
+  const clusters: Cluster[] = [];
+  for (const unit of units) {
+    const best = clusters
+      .filter(
+        (c) =>
+          unit.anchorMs - c.anchorMs <= windowMs &&
+          compatible(c.specimen, unit.specimen) &&
+          !(c.tied && unit.tied),
+      )
+      .sort((a, b) => preference(a, unit) - preference(b, unit) || b.anchorMs - a.anchorMs)[0];
+    if (best === undefined) {
+      clusters.push({ anchorMs: unit.anchorMs, specimen: unit.specimen, tied: unit.tied, members: [...unit.members] });
+      continue;
+    }
+    best.members.push(...unit.members);
+    best.tied ||= unit.tied;
+    if (best.specimen === 'unknown') {
+      best.specimen = unit.specimen;
+    }
+  }
+  const order: Readonly<Record<Specimen, number>> = { arterial: 0, venous: 1, unknown: 2 };
+  return clusters
+    .flatMap((c) => splitBySpecimen(c.members))
+    .sort((a, b) => b.atMs - a.atMs || order[a.gas.specimen] - order[b.gas.specimen]);
 }

@@ -26,8 +26,15 @@ export interface Reading {
   readonly at: string;
   readonly atMs: number;
   readonly reference: string | undefined;
-  /** Set when a panel (`hasMember`) or a specimen ties this value to others of the same sample. */
-  readonly sampleKey: string | undefined;
+  /**
+   * Keys that tie this value to others of the same sample: `panel:<id>` for a panel listing it in
+   * `hasMember`, `specimen:<reference>` for its `Observation.specimen`. Empty when nothing ties it.
+   */
+  readonly sampleKeys: readonly string[];
+  /** When the result was filed (`issued`), else its effective time: a later filing corrects an earlier one. */
+  readonly filedMs: number;
+  /** Status 'corrected' or 'amended': wins over another value of the same sample filed at the same time. */
+  readonly corrected: boolean;
 }
 
 const USED_STATUSES = new Set(['preliminary', 'final', 'amended', 'corrected']);
@@ -93,7 +100,9 @@ interface Context {
   readonly at: string;
   readonly atMs: number;
   readonly reference: string | undefined;
-  readonly sampleKey: string | undefined;
+  readonly sampleKeys: readonly string[];
+  readonly filedMs: number;
+  readonly corrected: boolean;
 }
 
 function readValue(
@@ -164,11 +173,15 @@ export function readObservationValues(
   if (at === undefined || parsed === undefined) {
     return skip('unrecognised', 'The result has no readable effective time, so its age is unknown.');
   }
-  const specimen = stringAt(objectAt(obs, 'specimen'), 'reference');
+  const specimen = stringAt(objectAt(obs, 'specimen'), 'reference')?.trim();
   const panel = reference === undefined ? undefined : panelOf.get(reference);
-  const specimenKey = specimen === undefined ? undefined : `specimen:${specimen}`;
-  const sampleKey = panel === undefined ? specimenKey : `panel:${panel}`;
-  const ctx: Context = { at, atMs: parsed.startMs, reference, sampleKey };
+  const sampleKeys = [
+    ...(panel === undefined ? [] : [`panel:${panel}`]),
+    ...(specimen === undefined || specimen === '' ? [] : [`specimen:${specimen}`]),
+  ];
+  const filedMs = parseFhirDateTime(stringAt(obs, 'issued'))?.startMs ?? parsed.startMs;
+  const corrected = status === 'corrected' || status === 'amended';
+  const ctx: Context = { at, atMs: parsed.startMs, reference, sampleKeys, filedMs, corrected };
   const readings: Reading[] = [];
   if (top !== undefined) {
     const r = readValue(top, obs, ctx, notes);

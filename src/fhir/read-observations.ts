@@ -114,7 +114,17 @@ export function readObservations(
   const bloodGases: BloodGas[] = [];
   const historicBloodGases: BloodGas[] = [];
   let newestOld: { ageMs: number; reference: string | undefined } | undefined;
-  for (const sample of groupBloodGases(readings.filter((r) => r.code.kind === 'gas'))) {
+  // A gas value dated in the future is set aside before grouping: tied to a sample by its specimen or
+  // caught by the window, it would otherwise be used under the sample's earlier collection time.
+  const gasReadings: Reading[] = [];
+  for (const r of readings.filter((g) => g.code.kind === 'gas')) {
+    if (r.atMs - nowMs > FUTURE_SKEW_MS) {
+      notes.push(futureNote(r.code.label, nowMs - r.atMs, r.reference));
+    } else {
+      gasReadings.push(r);
+    }
+  }
+  for (const sample of groupBloodGases(gasReadings, freshness.bloodGasGroupingMinutes)) {
     const ageMs = nowMs - sample.atMs;
     const kept = ageMs <= freshness.previousHypercapniaDays * 86_400_000;
     // A sample whose pH, PCO2 and HCO3 disagree has mislabelled pressures: they are set aside.

@@ -34,6 +34,29 @@ describe('o2check fio2', () => {
     expect(run.stdout).toContain('Advisory');
   });
 
+  describe('the setting as a fraction or a percentage', () => {
+    it.each([
+      ['venturi-mask', '28', '0.28', ['--flow', '4']],
+      ['venturi-mask', '60', '0.6', ['--flow', '15']],
+      ['high-flow-nasal-cannula', '40', '0.4', ['--flow', '50']],
+    ] as const)('reads %s --setting %s the same as %s: a number above 1 is a percentage', async (device, percent, fraction, extra) => {
+      const asPercent = await runO2check(['fio2', '--device', device, '--setting', percent, ...extra, '--json']);
+      const asFraction = await runO2check(['fio2', '--device', device, '--setting', fraction, ...extra, '--json']);
+      expect(asPercent.code).toBe(0);
+      expect(JSON.parse(asPercent.stdout)).toStrictEqual(JSON.parse(asFraction.stdout));
+      expect(JSON.parse(asPercent.stdout).input.setFio2Fraction).toBe(Number(fraction));
+    });
+
+    it.each(['5', '0.1', '120'])('refuses --setting %s with exit 2, showing both forms', async (value) => {
+      // Room air is 21 % (0.21) and no gas is above 100 % (common practice)
+      const run = await runO2check(['fio2', '--device', 'venturi-mask', '--setting', value, '--flow', '4']);
+      expect(run.code).toBe(2);
+      expect(run.stderr).toContain('--setting');
+      expect(run.stderr).toContain('0.28');
+      expect(run.stderr).toContain('(e.g. 28)');
+    });
+  });
+
   describe('edge cases', () => {
     it('refuses an unknown device kind with exit 2 and the list of kinds', async () => {
       const run = await runO2check(['fio2', '--device', 'nose-tube', '--flow', '2']);

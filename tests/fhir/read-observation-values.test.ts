@@ -8,7 +8,7 @@ describe('readObservationValues', () => {
     const notes: SetAsideNote[] = [];
     const obs = observation('m1', '2019-8', 6.0, 'kPa', '2026-12-01T10:00:00Z');
     const [r] = readObservationValues(obs, new Map([['Observation/m1', 'abg']]), notes);
-    expect(r).toMatchObject({ at: '2026-12-01T10:00:00Z', atMs: Date.UTC(2026, 11, 1, 10), reference: 'Observation/m1', sampleKey: 'panel:abg' });
+    expect(r).toMatchObject({ at: '2026-12-01T10:00:00Z', atMs: Date.UTC(2026, 11, 1, 10), reference: 'Observation/m1', sampleKeys: ['panel:abg'] });
     expect(r?.value).toBeCloseTo(45.0, 1); // 6.0 kPa = 45 mmHg (BTS 2017 hypercapnia threshold; check-values 3g)
     expect(notes).toStrictEqual([]);
   });
@@ -22,7 +22,25 @@ describe('readObservationValues', () => {
 
   it('groups by specimen reference when no panel lists the value', () => {
     const obs = observation('s', '2744-1', 7.35, '[pH]', '2026-12-01T10:00:00Z', { specimen: { reference: 'Specimen/abg-7' } });
-    expect(readObservationValues(obs, new Map(), [])[0]?.sampleKey).toBe('specimen:Specimen/abg-7');
+    expect(readObservationValues(obs, new Map(), [])[0]?.sampleKeys).toStrictEqual(['specimen:Specimen/abg-7']);
+  });
+
+  it('keeps both ties when a panel member also names its specimen', () => {
+    const obs = observation('m1', '2744-1', 7.35, '[pH]', '2026-12-01T10:00:00Z', { specimen: { reference: 'Specimen/abg-7' } });
+    expect(readObservationValues(obs, new Map([['Observation/m1', 'abg']]), [])[0]?.sampleKeys).toStrictEqual([
+      'panel:abg',
+      'specimen:Specimen/abg-7',
+    ]);
+  });
+
+  it('reads the filing time from issued, else the effective time, and marks corrected or amended results', () => {
+    const at = '2026-12-01T10:00:00Z';
+    const issued = observation('i', '2019-8', 60, 'mm[Hg]', at, { issued: '2026-12-01T10:07:30Z', status: 'corrected' });
+    const plain = observation('p', '2019-8', 60, 'mm[Hg]', at);
+    const amended = observation('a', '2019-8', 60, 'mm[Hg]', at, { status: 'amended' });
+    expect(readObservationValues(issued, new Map(), [])[0]).toMatchObject({ atMs: Date.UTC(2026, 11, 1, 10), filedMs: Date.UTC(2026, 11, 1, 10, 7, 30), corrected: true });
+    expect(readObservationValues(plain, new Map(), [])[0]).toMatchObject({ filedMs: Date.UTC(2026, 11, 1, 10), corrected: false });
+    expect(readObservationValues(amended, new Map(), [])[0]?.corrected).toBe(true);
   });
 
   describe('edge cases', () => {

@@ -113,6 +113,53 @@ describe('readObservations', () => {
     expect(facts.bloodGases[0]).toMatchObject({ ph: 7.32, paco2MmHg: 55, specimen: 'arterial' });
   });
 
+  describe('one gas filed as several results', () => {
+    // pH 7.27 (< 7.35, RCEM Learning) with PaCO2 8.2 kPa (>= 6 kPa, BTS 2017): a respiratory acidosis;
+    // HCO3 28 agrees with them (Henderson-Hasselbalch, from memory)
+    const split = [
+      observation('ph', '2744-1', 7.27, '[pH]', minutesAgo(40)),
+      observation('pco2', '2019-8', 8.2, 'kPa', minutesAgo(37)),
+      observation('po2', '2703-7', 7.4, 'kPa', minutesAgo(34)),
+      observation('hco3', '1960-4', 28, 'mmol/L', minutesAgo(31)),
+    ];
+
+    it("groups by the policy's window and dates the sample at its first value", () => {
+      // freshness.bloodGasGroupingMinutes: 10 in the bundled policy (common practice)
+      const facts = readObservations(split, freshness, NOW);
+      expect(facts.bloodGases).toHaveLength(1);
+      expect(facts.bloodGases[0]).toMatchObject({ at: minutesAgo(40), ph: 7.27, hco3MmolPerL: 28 });
+      expect(facts.bloodGases[0]?.paco2MmHg).toBeCloseTo(61.5, 1); // 8.2 kPa x 7.50062 (UCUM)
+    });
+
+    it('uses the window the policy gives', () => {
+      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 0 }, NOW).bloodGases).toHaveLength(4);
+      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 5 }, NOW).bloodGases).toHaveLength(2);
+    });
+
+    it('checks the units of the grouped sample, not of each result', () => {
+      // 8.2 "mmHg" with pH 7.27 and HCO3 28 disagrees (calculated HCO3 3.7); as 8.2 kPa it agrees
+      const mislabelled = split.map((o) => (o.id === 'pco2' ? observation('pco2', '2019-8', 8.2, 'mm[Hg]', minutesAgo(37)) : o));
+      const facts = readObservations(mislabelled, freshness, NOW);
+      expect(facts.bloodGases[0]).toMatchObject({ ph: 7.27, paco2MmHg: undefined, pao2MmHg: undefined });
+      expect(facts.notes.map((n) => n.what)).toStrictEqual(['Blood gas pressures']);
+    });
+
+    it('sets aside a future-dated result before grouping, so it cannot ride on the sample', () => {
+      const specimen = { specimen: { reference: 'Specimen/lb-abg-1' } };
+      const facts = readObservations(
+        [
+          observation('ph', '2744-1', 7.27, '[pH]', minutesAgo(40), specimen),
+          observation('po2', '2703-7', 7.4, 'kPa', minutesAgo(-30), specimen),
+        ],
+        freshness,
+        NOW,
+      );
+      expect(facts.bloodGases).toHaveLength(1);
+      expect(facts.bloodGases[0]?.pao2MmHg).toBeUndefined();
+      expect(facts.notes.map((n) => [n.what, n.reason])).toStrictEqual([['PaO2', 'implausible']]);
+    });
+  });
+
   it('keeps a venous gas apart from an arterial one taken at the same time', () => {
     const at = minutesAgo(15);
     const facts = readObservations(

@@ -22,10 +22,31 @@ function latestWithin<T extends { readonly at: string }>(
   return newestFirst(items).find((item) => isWithin(item.at, now, windowMinutes));
 }
 
+/** The first of `tiers` that finds a gas within the window, else undefined. */
+function firstTier(
+  gases: readonly BloodGas[],
+  tiers: readonly ((gas: BloodGas) => boolean)[],
+  now: Date,
+  windowMinutes: number,
+): BloodGas | undefined {
+  for (const keep of tiers) {
+    const found = latestWithin(gases.filter(keep), now, windowMinutes);
+    if (found !== undefined) {
+      return found;
+    }
+  }
+  return undefined;
+}
+
 /**
  * Picks the current values the checks use. A venous or unlabelled gas still counts as the current gas
  * for PCO2 and pH; only an arterial gas feeds PaO2-based numbers (venous PO2 says little about
  * arterial oxygenation, BTS 2017).
+ *
+ * A later partial gas (a lone PO2, or a pH filed without its PCO2) never displaces an earlier,
+ * fuller one within the window: the acid-base gas is the latest with both pH and PCO2, else the
+ * latest with a PCO2, else with a pH; the arterial gas is the latest with a PaO2. Otherwise a value
+ * filed late would hide the hypercapnic acidosis of a gas taken minutes before it.
  */
 export function pickCurrentValues(facts: Facts, policy: Policy, now: Date): CurrentValues {
   const vitals = policy.freshness.vitalSignsMinutes;
@@ -39,9 +60,20 @@ export function pickCurrentValues(facts: Facts, policy: Policy, now: Date): Curr
       now,
       policy.freshness.haemoglobinHours * 60,
     ),
-    gas: latestWithin(gases, now, gasWindow),
-    arterialGas: latestWithin(
+    gas: firstTier(
+      gases,
+      [
+        (g) => g.ph !== undefined && g.paco2MmHg !== undefined,
+        (g) => g.paco2MmHg !== undefined,
+        (g) => g.ph !== undefined,
+        () => true,
+      ],
+      now,
+      gasWindow,
+    ),
+    arterialGas: firstTier(
       gases.filter((gas) => gas.specimen === 'arterial'),
+      [(g) => g.pao2MmHg !== undefined, () => true],
       now,
       gasWindow,
     ),

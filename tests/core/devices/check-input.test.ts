@@ -16,6 +16,8 @@ const flowOnly: InputSpec = { deviceWords: 'a flow device', uses: ['flowLPerMin'
 
 describe('checkDeliveryInput', () => {
   it('passes through usable values', () => {
+    // High flow 40 L/min at FiO2 0.5: inside 0.21-1.0 and up to 60 L/min (Annual Update in ICEM 2017,
+    // PMC5359952; check-values 2a); RR 22/min is an ordinary ward rate (common practice)
     expect(checkDeliveryInput({ flowLPerMin: 40, setFio2Fraction: 0.5, respRatePerMin: 22 }, blender)).toStrictEqual({
       kind: 'ok',
       value: { flowLPerMin: 40, setFio2Fraction: 0.5, respRatePerMin: 22 },
@@ -31,6 +33,7 @@ describe('checkDeliveryInput', () => {
   });
 
   it('drops a field the device does not use', () => {
+    // A nasal cannula-like device has a flow and no FiO2 setting (BTS 2017 Table 2; check-values 2a)
     const checked = checkDeliveryInput({ flowLPerMin: 2, setFio2Fraction: 28 }, flowOnly);
     expect(checked).toStrictEqual({
       kind: 'ok',
@@ -43,6 +46,7 @@ describe('checkDeliveryInput', () => {
   });
 
   describe('edge cases', () => {
+    // No flow is negative or infinite (common practice)
     it.each([-1, Number.NaN, Number.POSITIVE_INFINITY])('refuses a flow of %d L/min as impossible', (flow) => {
       const checked = checkDeliveryInput({ flowLPerMin: flow, setFio2Fraction: 0.4 }, blender);
       expect(checked.kind).toBe('unknown');
@@ -52,6 +56,8 @@ describe('checkDeliveryInput', () => {
       }
     });
 
+    // A set FiO2 runs from room air 0.21 to 1.0 (check-values 2a, HFNC row); 28 is a percentage
+    // given where a fraction belongs (common practice)
     it.each([0.2, 1.01, 28, Number.NaN])('refuses a set FiO2 of %d outside 0.21-1', (fio2) => {
       const checked = checkDeliveryInput({ flowLPerMin: 30, setFio2Fraction: fio2 }, blender);
       expect(checked.kind).toBe('unknown');
@@ -61,10 +67,12 @@ describe('checkDeliveryInput', () => {
     });
 
     it('accepts the bounds 0.21 and 1 and a flow of zero', () => {
+      // FiO2 0.21-1.0 (check-values 2a); a flow of 0 is oxygen off, i.e. room air (common practice)
       expect(checkDeliveryInput({ flowLPerMin: 0, setFio2Fraction: 0.21 }, blender).kind).toBe('ok');
       expect(checkDeliveryInput({ flowLPerMin: 0, setFio2Fraction: 1 }, blender).kind).toBe('ok');
     });
 
+    // A breathing patient's rate is above 0/min (common practice)
     it.each([0, -12, Number.NaN])('refuses a respiratory rate of %d', (rr) => {
       expect(checkDeliveryInput({ flowLPerMin: 2, respRatePerMin: rr }, flowOnly)).toStrictEqual({
         kind: 'unknown',
@@ -75,6 +83,7 @@ describe('checkDeliveryInput', () => {
 });
 
 describe('flowRangeNotes', () => {
+  // nasal cannula, 1-6 L/min in adults (BTS 2017 Tables 2 and 4; check-values 2a)
   const range = { min: 1, max: 6 };
 
   it('is silent inside the range, bounds included', () => {
@@ -92,6 +101,7 @@ describe('flowRangeNotes', () => {
   });
 
   it('formats numbers to one decimal place at most', () => {
+    // 45.1 L/min is the total flow of a 28 % Venturi at 4 L/min (check-values 2b, derived)
     expect(formatNumber(45.1428)).toBe('45.1');
     expect(formatNumber(4)).toBe('4');
   });

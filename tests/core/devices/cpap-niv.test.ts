@@ -39,10 +39,12 @@ describe('CPAP or NIV', () => {
     });
 
     it('refuses an impossible set FiO2', () => {
+      // 0.1 is below room air 0.21 (common practice)
       expect(estimateCpapNiv({ setFio2Fraction: 0.1 }).kind).toBe('unknown');
     });
 
     it('notes a bleed-in flow above a wall flowmeter', () => {
+      // wall oxygen flowmeters read up to 15 L/min (common practice; BTS 2017 Table 2 uses 15 L/min as the top flow)
       expect(okValue(estimateCpapNiv({ flowLPerMin: 20 })).notes.join(' ')).toContain('20 L/min is above the usual 1-15 L/min');
       expect(cpapNivModel.label).toBe('CPAP or NIV');
     });

@@ -55,16 +55,19 @@ describe('high-flow nasal cannula', () => {
     });
 
     it('refuses an FiO2 outside 0.21-1', () => {
+      // HFNC FiO2 0.21-1.0 (Annual Update in ICEM 2017, PMC5359952; check-values 2a)
       expect(estimateHighFlowNasalCannula({ flowLPerMin: 40, setFio2Fraction: 1.2 }).kind).toBe('unknown');
     });
 
     it('still estimates above 60 L/min, with a note', () => {
+      // up to 60 L/min in adults (PMC5359952; check-values 2a)
       const value = hfnc(70, 0.5, 20);
       expect(value.fio2.estimate).toBe(0.5);
       expect(value.notes.join(' ')).toContain('70 L/min is above the usual 10-60 L/min');
     });
 
     it('gives air at a set FiO2 of 0.21 whatever the flow', () => {
+      // room air is FiO2 0.21 (common practice)
       expect(hfnc(20, 0.21, 30).fio2).toStrictEqual({ estimate: 0.21, low: 0.21, high: 0.21 });
     });
   });

@@ -108,6 +108,7 @@ describe('hypoxaemiaMechanism', () => {
     });
 
     it('does not call a shunt when PaO2 rose well', () => {
+      // PaO2 70 → 140 mmHg: a rise of 70, well over 20 % of 142.6 (28.5 mmHg; our heuristic, common practice)
       const input = scenario({ ...current, pao2: 140, previous: { fio2Fraction: 0.4, pao2MmHg: 70 } });
       expect(kindOf(input)).toBe('vq-mismatch-shunt-or-diffusion');
     });
@@ -122,16 +123,19 @@ describe('hypoxaemiaMechanism', () => {
 
     it('counts a rise from 0.50 to 0.60 as the 0.10 needed, despite floating point', () => {
       // 0.6 − 0.5 is 0.09999999999999998 in IEEE 754 doubles; PAO2 rises 0.1 × 713 = 71.3 mmHg
+      // (alveolar gas equation, check-values 3a, derived); PaO2 rose 3 mmHg, under 20 % of 71.3
       const input = scenario({ ...current, pao2: 58, previous: { fio2Fraction: 0.5, pao2MmHg: 55 } });
       expect(kindOf(input)).toBe('shunt-likely');
     });
 
     it('ignores a previous gas when FiO2 rose by less than 0.10', () => {
+      // a 0.10 step is the least our shunt heuristic reads (common practice)
       const input = scenario({ ...current, pao2: 56, previous: { fio2Fraction: 0.55, pao2MmHg: 55 } });
       expect(kindOf(input)).toBe('vq-mismatch-shunt-or-diffusion');
     });
 
     it('ignores a previous gas on a higher FiO2', () => {
+      // the response to oxygen is read only from a rise in FiO2 (common practice)
       const input = scenario({ ...current, pao2: 56, previous: { fio2Fraction: 0.8, pao2MmHg: 58 } });
       expect(kindOf(input)).toBe('vq-mismatch-shunt-or-diffusion');
     });
@@ -156,6 +160,7 @@ describe('hypoxaemiaMechanism', () => {
     });
 
     it('uses the room-air norm unchanged up to FiO2 0.22', () => {
+      // 0.22 allows for the rounding of room air 0.21 (common practice); age / 4 + 4 norm (common practice)
       const input = scenario({ fio2: 0.22, pbMmHg: 760, paco2: 40, pao2: 92, age: 40 });
       expect(explanationOf(input)).toMatch(/expected for age on air/);
     });
@@ -213,6 +218,7 @@ describe('hypoxaemiaMechanism', () => {
       ['expectedAaGradientMmHg', -1],
       ['hypercapniaPaco2MmHg', 0],
     ] as const)('is unknown when %s is %d', (field, value) => {
+      // values no living patient can have (valid-ranges.ts; common practice)
       const result = hypoxaemiaMechanism({ ...valid, [field]: value });
       expect(result.kind).toBe('unknown');
       expect(result.kind === 'unknown' && result.reason).toMatch(field);
@@ -224,16 +230,19 @@ describe('hypoxaemiaMechanism', () => {
     });
 
     it('is unknown for a clearly negative gradient, which no patient can have', () => {
+      // PaO2 cannot exceed PAO2; beyond -10 mmHg is not measurement error (our threshold, common practice)
       const result = hypoxaemiaMechanism({ ...valid, aaGradientMmHg: -16 });
       expect(result.kind).toBe('unknown');
       expect(result.kind === 'unknown' && result.reason).toMatch(/check the FiO2/);
     });
 
     it('accepts a small negative gradient as measurement error', () => {
+      // -3 mmHg is within the -10 mmHg measurement allowance (common practice)
       expect(kindOf({ ...valid, aaGradientMmHg: -3 })).toBe('none');
     });
 
     it('is unknown when the previous gas is impossible', () => {
+      // FiO2 0 is below room air 0.21: no patient breathes it (common practice)
       const result = hypoxaemiaMechanism({ ...valid, previous: { fio2Fraction: 0, pao2MmHg: 60 } });
       expect(result.kind === 'unknown' && result.reason).toMatch(/^previous gas: /);
     });

@@ -9,6 +9,8 @@ import {
 
 describe('checkPhysiologyInputs', () => {
   it('returns the values when all are present and in range', () => {
+    // FiO2 0.28 is the 28 % Venturi setting (check-values 2a, common practice); PaCO2 52 mmHg is
+    // hypercapnic but ordinary on a ward (BTS 2017: hypercapnia >= 6 kPa, 45 mmHg)
     expect(checkPhysiologyInputs({ fio2Fraction: 0.28, paco2MmHg: 52 })).toStrictEqual({
       kind: 'ok',
       value: { fio2Fraction: 0.28, paco2MmHg: 52 },
@@ -24,6 +26,9 @@ describe('checkPhysiologyInputs', () => {
   });
 
   it('names every value out of range', () => {
+    // Ranges from valid-ranges.ts: FiO2 0.20-1 (room air is 0.2095 O2, common practice; 0.20 allows
+    // its rounding) and SpO2 20-100 % (any reading an oximeter can show; ISO 80601-2-61 states
+    // accuracy only over SaO2 70-100 %, check-values §5)
     expect(checkPhysiologyInputs({ fio2Fraction: 1.5, spo2Percent: 0 })).toStrictEqual({
       kind: 'unknown',
       reason:
@@ -38,6 +43,7 @@ describe('checkPhysiologyInputs', () => {
 
   describe('edge cases', () => {
     it('refuses infinities', () => {
+      // no measured value is infinite (common practice)
       expect(checkPhysiologyInputs({ pao2MmHg: Number.POSITIVE_INFINITY }).kind).toBe('unknown');
     });
 
@@ -49,11 +55,14 @@ describe('checkPhysiologyInputs', () => {
     });
 
     it('throws a RangeError from assertInRange and passes a valid value', () => {
+      // pH 9 is beyond any pH compatible with life (valid range 6.5-8, from memory); pH 7.40 is the
+      // middle of the RCEM Learning normal range 7.35-7.45 (check-values 3g)
       expect(() => assertInRange('ph', 9)).toThrow(RangeError);
       expect(() => assertInRange('ph', 7.4)).not.toThrow();
     });
 
     it('keeps every range ordered', () => {
+      // an invariant of the table, not a check value
       for (const range of Object.values(PHYSIOLOGY_VALID_RANGES)) {
         expect(range.min).toBeLessThan(range.max);
       }
@@ -63,7 +72,9 @@ describe('checkPhysiologyInputs', () => {
 
 describe('roundForThreshold', () => {
   it('puts a ratio that binary floating point moves off a boundary back on it', () => {
-    // 114 / 0.57 is 200.00000000000003 in IEEE 754 doubles
+    // P/F 200 mmHg is the Berlin 2012 boundary between mild and moderate ARDS (check-values 3e);
+    // 114 / 0.57 is 200.00000000000003 in IEEE 754 doubles. ROX 4.88 is the Roca 2019 success
+    // threshold (check-values 3e), kept as given.
     expect(114 / 0.57).not.toBe(200);
     expect(roundForThreshold(114 / 0.57)).toBe(200);
     expect(roundForThreshold(4.8812)).toBe(4.8812);
