@@ -204,6 +204,47 @@ export const CLASSIC: readonly Scenario[] = [
     expect: [fires('uncontrolled-oxygen-at-risk', 'critical', `${SRC.btsT4}; ${SRC.btsHypercapnia}`)],
   }),
 
+  scenario({
+    id: 'copd-reservoir-mask-far-below-target',
+    story: 'COPD on a reservoir mask at 15 L/min, SpO2 80 % against 88-92 %: no switch to a 28 % Venturi while this low',
+    pov: 'respiratory therapist', topic: 'found by the properties', age: 68,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 15 L/min via non-rebreather mask, target SpO2 88-92%')],
+      record: [spo2(80), respRate(30), c.copd()],
+    }),
+    expect: [
+      fires('spo2-below-target', 'critical', `${SRC.btsT2}: SpO2 < 85 %`),
+      noLessOxygen(`${SRC.btsT4}: a Venturi replaces a reservoir mask only once SpO2 is within range`),
+    ],
+  }),
+  scenario({
+    id: 'copd-acidotic-reservoir-mask-far-below-target',
+    story: 'COPD with pH 7.30 and PaCO2 8.0 kPa on a reservoir mask, SpO2 80 %: no switch to a 28 % Venturi while this low',
+    pov: 'ward doctor', topic: 'found by the properties', age: 71,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 15 L/min via non-rebreather mask, target SpO2 88-92%')],
+      record: [spo2(80), respRate(30), c.copd(), bloodGas({ ph: 7.3, pco2: 8.0, po2: 6.4, hco3: 29 })],
+    }),
+    expect: [
+      fires('acute-hypercapnic-acidosis', 'critical', SRC.btsIcs),
+      noLessOxygen(`${SRC.btsT4}: a Venturi replaces a reservoir mask only once SpO2 is within range; BTS 2017: never withdraw oxygen from a hypoxaemic patient`),
+    ],
+  }),
+  scenario({
+    id: 'lower-range-ordered-saturation-85',
+    story: 'Pneumonia, no hypercapnic risk, 88-92 % ordered, SpO2 85 % on 1 L/min: far below the range that applies',
+    pov: 'ward doctor', topic: 'found by the properties', age: 52,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 1 L/min via nasal cannula, target SpO2 88-92%')],
+      record: [...spo2OnFlow(85, 1), respRate(22), c.pneumonia()],
+    }),
+    expect: [
+      fires('spo2-below-target', 'critical', `${SRC.btsTables}: 94-98 % applies without risk; policy criticalPointsBelowTarget 4 (local choice)`),
+      fires('lower-range-without-risk', 'info', SRC.btsTables),
+      noLessOxygen(SRC.btsTables),
+    ],
+  }),
+
   // --- the target against the patient -----------------------------------------------------------
   scenario({
     id: 'kyphoscoliosis-hypercapnic-standard-target',
