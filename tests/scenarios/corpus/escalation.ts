@@ -7,6 +7,7 @@ import {
   firesOneOf,
   neverSays,
   noLessOxygen,
+  oneFio2,
   scenario,
   silent,
   type Scenario,
@@ -38,7 +39,11 @@ export const ESCALATION: readonly Scenario[] = [
       const { draft, running } = highFlow(70, 50, 180);
       return { drafts: [draft], record: [running, spo2(89), respRate(30), c.pneumonia()] };
     },
-    expect: [fires('escalated-support-failing', 'critical', SRC.escalation), noLessOxygen(SRC.escalation)],
+    expect: [
+      fires('escalated-support-failing', 'critical', SRC.escalation),
+      noLessOxygen(SRC.escalation),
+      oneFio2('issue 6 class 9: high flow delivers its set FiO2 (check-values.md §2a); one setting, one FiO2'),
+    ],
   }),
   scenario({
     id: 'hfnc-fio2-60-at-threshold-below-target',
@@ -158,6 +163,7 @@ export const ESCALATION: readonly Scenario[] = [
     },
     expect: [
       firesOneOf(FAILING, 'critical', `${SRC.roca}; start unknown: the most cautious (12-h, 3.85) threshold, common practice`),
+      neverSays(/ROX \d+\.\d{3}/, 'issue 6 class 12: no false precision (Roca 2019 reports ROX to two decimals)'),
     ],
   }),
   scenario({
@@ -200,7 +206,10 @@ export const ESCALATION: readonly Scenario[] = [
       drafts: [serviceOrder('Nasal cannula 4 L/min, target SpO2 94-98%')],
       record: [...spo2OnFlow(95, 4), respRate(12), c.pneumonia()],
     }),
-    expect: [silent('high-oxygen-requirement', SRC.fio2Envelope)],
+    expect: [
+      silent('high-oxygen-requirement', SRC.fio2Envelope),
+      oneFio2('issue 6 class 9: one device at one setting shows one FiO2 (common practice)'),
+    ],
   }),
   scenario({
     id: 'calm-patient-cannula-3l-slow-rr',

@@ -95,6 +95,10 @@ function check(e: Expectation, cards: readonly Card[], drafts: readonly FhirReso
       const hit = cards.find((c) => e.pattern.test(`${c.summary}\n${c.detail ?? ''}`));
       return hit === undefined ? undefined : `expected no card to say ${String(e.pattern)}: ${ruleOf(hit)} does`;
     }
+    case 'one-fio2': {
+      const figures = new Set(cards.flatMap((c) => [...c.summary.matchAll(/FiO2 (?:about |of )?(0\.\d+)/g)].map((m) => Number(m[1]))));
+      return figures.size <= 1 ? undefined : `expected one FiO2 across the summaries: got ${[...figures].join(', ')}`;
+    }
     case 'suggestions-keep': {
       const lost = suggestedChanges(cards, drafts).filter((s) => !JSON.stringify(s.resource).includes(e.text));
       return lost.length === 0 ? undefined : `expected every suggestion to keep '${e.text}': '${lost[0]?.label ?? ''}' (${ruleOf(lost[0]!.card)}) does not`;
@@ -134,6 +138,8 @@ function describeExpectation(e: Expectation): string {
       return `no card says ${String(e.pattern)}`;
     case 'suggestions-keep':
       return `suggestions keep '${e.text}'`;
+    case 'one-fio2':
+      return 'one FiO2 figure across the summaries';
     case 'no-more-oxygen':
       return 'no suggestion gives more oxygen';
     case 'no-less-oxygen':

@@ -29,6 +29,8 @@ export type Expectation =
   | { readonly kind: 'no-less-oxygen'; readonly source: string }
   /** No card summary or detail matches this pattern. */
   | { readonly kind: 'never-says'; readonly pattern: RegExp; readonly source: string }
+  /** Every FiO2 figure in the card summaries is the same number (one device, one setting, one FiO2). */
+  | { readonly kind: 'one-fio2'; readonly source: string }
   /** At most one card with this rule id. */
   | { readonly kind: 'once'; readonly ruleId: string; readonly source: string };
 
@@ -41,6 +43,7 @@ export const suggestionsKeep = (text: string, source: string): Expectation => ({
 export const noMoreOxygen = (source: string): Expectation => ({ kind: 'no-more-oxygen', source });
 export const noLessOxygen = (source: string): Expectation => ({ kind: 'no-less-oxygen', source });
 export const neverSays = (pattern: RegExp, source: string): Expectation => ({ kind: 'never-says', pattern, source });
+export const oneFio2 = (source: string): Expectation => ({ kind: 'one-fio2', source });
 export const once = (ruleId: string, source: string): Expectation => ({ kind: 'once', ruleId, source });
 
 /** What a benign order must not raise: alert fatigue is a harm. */
