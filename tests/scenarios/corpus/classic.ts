@@ -15,9 +15,11 @@ import {
 import {
   atMost,
   fires,
+  neverSays,
   noLessOxygen,
   once,
   scenario,
+  shortDetail,
   silent,
   type Scenario,
 } from '../support/scenario.js';
@@ -264,7 +266,10 @@ export const CLASSIC: readonly Scenario[] = [
       drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
       record: [spo2(94), respRate(20), c.copd()],
     }),
-    expect: [fires('target-above-hypercapnic-range', 'warning', SRC.btsT4)],
+    expect: [
+      fires('target-above-hypercapnic-range', 'warning', SRC.btsT4),
+      neverSays(/no current blood gas \(hypercapnia/i, 'issue 6 class 12: no garbled lines (common practice)'),
+    ],
   }),
   scenario({
     id: 'face-mask-no-target',
@@ -428,6 +433,47 @@ export const CLASSIC: readonly Scenario[] = [
       missing: ['encounter'],
     }),
     expect: [silent('required-data-unavailable', 'issue 6 class 12: "partial" only when a missing input could change a finding (common practice)')],
+  }),
+
+  // --- class 12: cards a clinician can act on ---------------------------------------------------
+  scenario({
+    id: 'card-bleomycin-is-not-a-poison',
+    story: 'Bleomycin lung injury with 94-98 % ordered: the card speaks of a chemotherapy drug, not a poisoning',
+    pov: 'pharmacist', topic: 'class 12: wording', age: 37,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
+      record: [spo2(96), respRate(16), c.bleomycin()],
+    }),
+    expect: [
+      fires('oxygen-toxicity-target', 'warning', `${SRC.btsT3} (V2)`),
+      neverSays(/poison/i, 'issue 6 class 12: bleomycin is a chemotherapy drug (BNF, from memory)'),
+    ],
+  }),
+  scenario({
+    id: 'card-times-read-as-local',
+    story: 'Kyphoscoliosis with PaCO2 6.9 kPa and 94-98 % ordered: times on the card read as "40 min ago", not ISO',
+    pov: 'ward doctor', topic: 'class 12: wording', age: 66,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
+      record: [spo2(94), respRate(20), c.kyphoscoliosis(), bloodGas({ ph: 7.37, pco2: 6.9, po2: 8.6, hco3: 30 })],
+    }),
+    expect: [
+      fires('target-above-hypercapnic-range', 'critical', `${SRC.btsT4}; ${SRC.btsHypercapnia}`),
+      neverSays(/\d{4}-\d{2}-\d{2}T\d{2}:\d{2}/, 'issue 6 class 12: local time or "20 min ago" (policy site.timeZone), common practice'),
+    ],
+  }),
+  scenario({
+    id: 'card-detail-fits-side-panel',
+    story: 'COPD with hypercapnic acidosis on 28 % Venturi: every card short enough to act on in a side panel',
+    pov: 'respiratory therapist', topic: 'class 12: wording', age: 69,
+    build: () => ({
+      drafts: [serviceOrder('Venturi 28% at 4 L/min, target SpO2 88-92%')],
+      record: [spo2(88), respRate(26), c.copd(), bloodGas({ ph: 7.31, pco2: 8.0, po2: 7.5, hco3: 30 })],
+    }),
+    expect: [
+      fires('acute-hypercapnic-acidosis', 'critical', SRC.btsIcs),
+      shortDetail(20, 'issue 6 class 12: about a dozen lines, the workings behind the link (common practice)'),
+    ],
   }),
 
   // --- the TSANZ 2015 preset ---------------------------------------------------------------------

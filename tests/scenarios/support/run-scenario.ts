@@ -99,6 +99,10 @@ function check(e: Expectation, cards: readonly Card[], drafts: readonly FhirReso
       const figures = new Set(cards.flatMap((c) => [...c.summary.matchAll(/FiO2 (?:about |of )?(0\.\d+)/g)].map((m) => Number(m[1]))));
       return figures.size <= 1 ? undefined : `expected one FiO2 across the summaries: got ${[...figures].join(', ')}`;
     }
+    case 'short-detail': {
+      const long = cards.filter((c) => (c.detail ?? '').split('\n').length > e.maxLines);
+      return long.length === 0 ? undefined : `expected details of at most ${e.maxLines} lines: ${long.map((c) => `${ruleOf(c)} ${(c.detail ?? '').split('\n').length}`).join(', ')}`;
+    }
     case 'suggestions-keep': {
       const lost = suggestedChanges(cards, drafts).filter((s) => !JSON.stringify(s.resource).includes(e.text));
       return lost.length === 0 ? undefined : `expected every suggestion to keep '${e.text}': '${lost[0]?.label ?? ''}' (${ruleOf(lost[0]!.card)}) does not`;
@@ -140,6 +144,8 @@ function describeExpectation(e: Expectation): string {
       return `suggestions keep '${e.text}'`;
     case 'one-fio2':
       return 'one FiO2 figure across the summaries';
+    case 'short-detail':
+      return `every card detail at most ${e.maxLines} lines`;
     case 'no-more-oxygen':
       return 'no suggestion gives more oxygen';
     case 'no-less-oxygen':

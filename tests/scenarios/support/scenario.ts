@@ -31,6 +31,8 @@ export type Expectation =
   | { readonly kind: 'never-says'; readonly pattern: RegExp; readonly source: string }
   /** Every FiO2 figure in the card summaries is the same number (one device, one setting, one FiO2). */
   | { readonly kind: 'one-fio2'; readonly source: string }
+  /** Every card's detail is at most this many lines (a side panel, not a report). */
+  | { readonly kind: 'short-detail'; readonly maxLines: number; readonly source: string }
   /** At most one card with this rule id. */
   | { readonly kind: 'once'; readonly ruleId: string; readonly source: string };
 
@@ -44,6 +46,7 @@ export const noMoreOxygen = (source: string): Expectation => ({ kind: 'no-more-o
 export const noLessOxygen = (source: string): Expectation => ({ kind: 'no-less-oxygen', source });
 export const neverSays = (pattern: RegExp, source: string): Expectation => ({ kind: 'never-says', pattern, source });
 export const oneFio2 = (source: string): Expectation => ({ kind: 'one-fio2', source });
+export const shortDetail = (maxLines: number, source: string): Expectation => ({ kind: 'short-detail', maxLines, source });
 export const once = (ruleId: string, source: string): Expectation => ({ kind: 'once', ruleId, source });
 
 /** What a benign order must not raise: alert fatigue is a harm. */
