@@ -146,6 +146,8 @@ export interface Variation {
   /** Replaces ", target SpO2 88-92%" in the order words (the target is then written, not coded). */
   readonly targetWords?: string;
   readonly gasFiling?: { readonly filing: 'together' | 'spread' | 'issued'; readonly spreadSeconds: number };
+  /** Words appended to the order text (a contingency instruction). */
+  readonly extraWords?: string;
 }
 
 function orderWords(g: GeneratedCase, v: Variation = {}): string {
@@ -163,7 +165,7 @@ function orderWords(g: GeneratedCase, v: Variation = {}): string {
       : g.target === undefined || g.targetCoded
         ? ''
         : `, target SpO2 ${String(g.target[0])}-${String(g.target[1])}%`;
-  return `Oxygen ${setting}${target}`;
+  return `Oxygen ${setting}${target}${v.extraWords === undefined ? '' : `. ${v.extraWords}`}`;
 }
 
 function draftOf(g: GeneratedCase, v: Variation): FhirResource {
