@@ -135,21 +135,21 @@ export const ESCALATION: readonly Scenario[] = [
   }),
   scenario({
     id: 'rox-at-12h-below-3-85',
-    story: 'High flow for 13 h at FiO2 0.60, SpO2 94 %, RR 42: ROX 3.73, below the 12-h threshold 3.85',
+    story: 'High flow for 13 h at FiO2 0.80, SpO2 94 %, RR 32: ROX 3.67, below the 12-h threshold 3.85',
     pov: 'respiratory therapist', topic: 'class 3: ROX', age: 67,
     build: () => {
-      const { draft, running } = highFlow(60, 50, 780);
-      return { drafts: [draft], record: [running, spo2(94), respRate(42), c.pneumonia()] };
+      const { draft, running } = highFlow(80, 50, 780);
+      return { drafts: [draft], record: [running, spo2(94), respRate(32), c.pneumonia()] };
     },
     expect: [firesOneOf(FAILING, 'critical', SRC.roca)],
   }),
   scenario({
-    id: 'rox-at-6h-3-73-not-failing',
-    story: 'Same numbers at 7 h (ROX 3.73, above the 6-h threshold 3.47), SpO2 at target: no critical card',
+    id: 'rox-at-7h-3-67-not-failing',
+    story: 'Same numbers at 7 h (ROX 3.67, above the 6-h threshold 3.47), SpO2 at target: no critical card',
     pov: 'ward doctor', topic: 'class 3: ROX', age: 67,
     build: () => {
-      const { draft, running } = highFlow(60, 50, 420);
-      return { drafts: [draft], record: [running, spo2(94), respRate(42), c.pneumonia()] };
+      const { draft, running } = highFlow(80, 50, 420);
+      return { drafts: [draft], record: [running, spo2(94), respRate(32), c.pneumonia()] };
     },
     expect: [atMost('warning', SRC.roca)],
   }),
