@@ -119,7 +119,7 @@ export const rule: Rule = {
       listed.length === 0
         ? 'Oxygen now would only take the saturation further above the target.'
         : `${listed.map((c) => c.display).join('; ')} recorded: the local policy lists ` +
-          `${listed.length === 1 ? 'this condition' : 'these conditions'} as ones in which oxygen is given only for ` +
+          `${listed.length === 1 ? 'it' : 'them'} among the conditions in which oxygen is given only for ` +
           `hypoxaemia (BTS 2017 Tables 2 and 3)${notes.length === 0 ? '' : `; ${notes.join('; ')}`}.`;
     const bmj = listed.some((c) => c.kind === 'acute-coronary-syndrome' || c.kind === 'stroke');
     return [
