@@ -291,6 +291,11 @@ const TABLE: ReadonlyArray<{
     expected: { titrate: 'card', comfort: 'none', wean: 'card', stop: 'card', 'room-air': 'card' },
   },
   {
+    ruleId: 'duplicate-oxygen-order', // duplicate prescription checking (common practice)
+    facts: (o) => buildFacts({ orders: [oxygenOrder(o)], activeOrders: [activeOrder()] }),
+    expected: { titrate: 'card', comfort: 'card', wean: 'card', stop: 'none', 'room-air': 'none' },
+  },
+  {
     ruleId: 'oxygen-without-hypoxaemia', // BTS 2017 Table 3 (V): stroke, oxygen only if hypoxaemic
     facts: (o) => buildFacts({ orders: [oxygenOrder(o)], conditions: stroke, spo2Percent: [spo2(97)], fio2Fraction: [fio2(0.21)] }),
     expected: { titrate: 'card', comfort: 'none', wean: 'none', stop: 'none', 'room-air': 'none' },
