@@ -88,6 +88,14 @@ export const SNOMED_CONDITIONS: Readonly<Record<string, ConditionKind>> = lookup
   '257277002': 'neuromuscular-disease', // combined disorder of muscle and peripheral nerve
   '256321009': 'neuromuscular-disease', // disorder of neuromuscular transmission
   '190966007': 'obesity-hypoventilation',
+  // BTS 2017 Table 3 conditions. Codes from memory (each also seen in public code lists); a concept
+  // whose code we are not sure of (acute asthma, opioid toxicity, hyperventilation) is read by words.
+  '394659003': 'acute-coronary-syndrome', // acute coronary syndrome; from memory
+  '22298006': 'acute-coronary-syndrome', // myocardial infarction; from memory
+  '401303003': 'acute-coronary-syndrome', // acute ST segment elevation myocardial infarction; from memory
+  '401314000': 'acute-coronary-syndrome', // acute non-ST segment elevation myocardial infarction; from memory
+  '4557003': 'acute-coronary-syndrome', // preinfarction syndrome (unstable angina); from memory
+  '230690007': 'stroke', // cerebrovascular accident; from memory
 });
 
 /**
@@ -114,7 +122,44 @@ export const ICD10_CONDITION_PREFIXES: ReadonlyArray<readonly [string, Condition
   ['S270', 'pneumothorax'], // traumatic pneumothorax; from memory
   ['D570', 'sickle-cell-crisis'],
   ['O', 'pregnancy'], // chapter O: pregnancy, childbirth and the puerperium
+  // Acute asthma, not asthma as a chronic diagnosis: J45 alone is not read (see read-conditions.ts).
+  ['J46', 'acute-asthma'], // status asthmaticus (acute severe asthma), WHO ICD-10; from memory
+  ['J4521', 'acute-asthma'], // ICD-10-CM J45.x1 with (acute) exacerbation, J45.x2 with status asthmaticus; from memory
+  ['J4522', 'acute-asthma'],
+  ['J4531', 'acute-asthma'],
+  ['J4532', 'acute-asthma'],
+  ['J4541', 'acute-asthma'],
+  ['J4542', 'acute-asthma'],
+  ['J4551', 'acute-asthma'],
+  ['J4552', 'acute-asthma'],
+  ['J45901', 'acute-asthma'],
+  ['J45902', 'acute-asthma'],
+  // Poisoning by opioids (T40.5 is cocaine and is left out) and by sedatives; from memory.
+  ['T400', 'sedative-or-opioid-toxicity'], // opium
+  ['T401', 'sedative-or-opioid-toxicity'], // heroin
+  ['T402', 'sedative-or-opioid-toxicity'], // other opioids
+  ['T403', 'sedative-or-opioid-toxicity'], // methadone
+  ['T404', 'sedative-or-opioid-toxicity'], // other synthetic narcotics
+  ['T406', 'sedative-or-opioid-toxicity'], // other and unspecified narcotics
+  ['T423', 'sedative-or-opioid-toxicity'], // barbiturates
+  ['T424', 'sedative-or-opioid-toxicity'], // benzodiazepines
+  ['I200', 'acute-coronary-syndrome'], // unstable angina; from memory
+  ['I21', 'acute-coronary-syndrome'], // acute myocardial infarction; from memory
+  ['I22', 'acute-coronary-syndrome'], // subsequent myocardial infarction; from memory
+  ['I61', 'stroke'], // intracerebral haemorrhage; from memory
+  ['I63', 'stroke'], // cerebral infarction; from memory
+  ['I64', 'stroke'], // stroke, not specified as haemorrhage or infarction (WHO ICD-10); from memory
+  ['R064', 'hyperventilation'], // hyperventilation; from memory
 ];
+
+/**
+ * ICD-10-CM codes the poisoning chapter (T36–T50) with a sixth character 5 (adverse effect of a
+ * drug properly given) or 6 (underdosing) do not record toxicity: T40.2X6A is too little of an
+ * opioid, T40.2X5A can be constipation. From memory of the ICD-10-CM layout.
+ */
+export function isAdverseEffectOrUnderdosing(bareCode: string): boolean {
+  return /^T(?:3[6-9]|4\d|50)/.test(bareCode) && (bareCode[5] === '5' || bareCode[5] === '6');
+}
 
 /**
  * ICD-10 T60.3 (from memory) is the toxic effect of herbicides and fungicides in general. It is read

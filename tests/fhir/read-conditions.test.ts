@@ -95,6 +95,105 @@ describe('readConditions', () => {
     expect(read.conditions.map((c) => c.matchedBy)).toStrictEqual(['SNOMED CT 13645005']);
   });
 
+  describe('the acute conditions of BTS 2017 Table 3 and of acute hypercapnia', () => {
+    // SNOMED CT codes from memory (not in check-values §6); kinds: BTS 2017 Table 3 (V).
+    it.each([
+      ['394659003', 'acute-coronary-syndrome'], // acute coronary syndrome; from memory
+      ['22298006', 'acute-coronary-syndrome'], // myocardial infarction; from memory
+      ['401303003', 'acute-coronary-syndrome'], // acute STEMI; from memory
+      ['401314000', 'acute-coronary-syndrome'], // acute NSTEMI; from memory
+      ['4557003', 'acute-coronary-syndrome'], // preinfarction syndrome (unstable angina); from memory
+      ['230690007', 'stroke'], // cerebrovascular accident; from memory
+    ])('maps SNOMED CT %s to %s', (code, kind) => {
+      expect(readConditions([condition('c1', { coding: [{ system: SNOMED, code }] })]).conditions).toStrictEqual([
+        { kind, matchedBy: `SNOMED CT ${code}`, display: code, reference: 'Condition/c1' },
+      ]);
+    });
+
+    it.each([
+      [ICD10, 'J46', 'acute-asthma'], // status asthmaticus; from memory
+      [ICD10CM, 'J45.51', 'acute-asthma'], // severe persistent asthma with (acute) exacerbation; from memory
+      [ICD10CM, 'J45.902', 'acute-asthma'], // unspecified asthma with status asthmaticus; from memory
+      [ICD10, 'T40.2', 'sedative-or-opioid-toxicity'], // poisoning by other opioids; from memory
+      [ICD10CM, 'T40.1X1A', 'sedative-or-opioid-toxicity'], // heroin poisoning, accidental; from memory
+      [ICD10CM, 'T42.4X2A', 'sedative-or-opioid-toxicity'], // benzodiazepine poisoning, self-harm; from memory
+      [ICD10, 'I21.4', 'acute-coronary-syndrome'], // acute subendocardial MI; from memory
+      [ICD10, 'I20.0', 'acute-coronary-syndrome'], // unstable angina; from memory
+      [ICD10, 'I63.9', 'stroke'], // cerebral infarction; from memory
+      [ICD10, 'I61.0', 'stroke'], // intracerebral haemorrhage; from memory
+      [ICD10, 'I64', 'stroke'], // stroke not specified; from memory
+      [ICD10, 'R06.4', 'hyperventilation'], // hyperventilation; from memory
+    ])('maps %s %s to %s', (system, code, kind) => {
+      const read = readConditions([condition('c1', { coding: [{ system, code, display: 'x' }] })]);
+      expect(read.conditions.map((c) => [c.kind, c.matchedBy])).toStrictEqual([[kind, `ICD-10 ${code}`]]);
+    });
+
+    it.each([
+      [ICD10, 'J45.9'], // asthma, unspecified: a chronic diagnosis; from memory
+      [ICD10CM, 'J45.20'], // mild intermittent asthma, uncomplicated; from memory
+      [ICD10CM, 'J45.991'], // cough variant asthma; from memory
+      [ICD10, 'T40.5'], // cocaine, not an opioid; from memory
+      [ICD10CM, 'T40.2X5A'], // adverse effect of other opioids (e.g. constipation); from memory
+      [ICD10CM, 'T42.4X6A'], // underdosing of benzodiazepines; from memory
+      [ICD10, 'G45.9'], // transient cerebral ischaemic attack: resolved by definition; from memory
+      [ICD10, 'I25.2'], // old myocardial infarction; from memory
+    ])('does not read %s %s as one of these kinds', (system, code) => {
+      expect(kindsOf({ coding: [{ system, code }] })).toStrictEqual([]);
+    });
+
+    it.each([
+      ['Acute severe asthma', 'acute-asthma'],
+      ['Life-threatening asthma', 'acute-asthma'],
+      ['Acute exacerbation of asthma', 'acute-asthma'],
+      ['Asthma exacerbation', 'acute-asthma'],
+      ['Asthma attack', 'acute-asthma'],
+      ['Status asthmaticus', 'acute-asthma'],
+      ['Moderate persistent asthma with (acute) exacerbation', 'acute-asthma'],
+      ['Opioid toxicity', 'sedative-or-opioid-toxicity'],
+      ['Benzodiazepine overdose', 'sedative-or-opioid-toxicity'],
+      ['Overdose of heroin', 'sedative-or-opioid-toxicity'],
+      ['Over-sedation after morphine', 'sedative-or-opioid-toxicity'],
+      ['Acute coronary syndrome', 'acute-coronary-syndrome'],
+      ['NSTEMI', 'acute-coronary-syndrome'],
+      ['Non-ST elevation myocardial infarction', 'acute-coronary-syndrome'],
+      ['Inferior STEMI', 'acute-coronary-syndrome'],
+      ['Unstable angina', 'acute-coronary-syndrome'],
+      ['Acute stroke', 'stroke'],
+      ['Left MCA stroke', 'stroke'],
+      ['CVA', 'stroke'],
+      ['Cerebral infarction', 'stroke'],
+      ['Hyperventilation', 'hyperventilation'],
+      ['Panic attack', 'hyperventilation'],
+      ['Anxiety with breathlessness', 'hyperventilation'],
+    ])('recognises the words "%s" as %s', (text, kind) => {
+      expect(readConditions([condition('c1', { text })]).conditions).toStrictEqual([
+        { kind, matchedBy: `text: '${text}'`, display: text, reference: 'Condition/c1' },
+      ]);
+    });
+
+    it.each([
+      'Asthma', // a chronic diagnosis says nothing about today
+      'Severe asthma',
+      'Severe persistent asthma',
+      'Asthma, no exacerbation',
+      'History of acute asthma',
+      'Paracetamol overdose', // not a sedative or opioid
+      'CO2 narcosis', // hypercapnia, not a drug
+      'ACS', // also acute chest syndrome in sickle cell disease
+      'MI', // also mitral insufficiency
+      'Old myocardial infarction',
+      'Previous stroke',
+      'Stroke ruled out',
+      'No evidence of stroke',
+      'Heat stroke',
+      'TIA',
+      'Transient ischaemic attack',
+      'Generalised anxiety disorder', // no breathlessness named
+    ])('does not read "%s" as an acute Table 3 or hypercapnia kind', (text) => {
+      expect(kindsOf({ text })).toStrictEqual([]);
+    });
+  });
+
   describe('edge cases', () => {
     it.each(['resolved', 'inactive', 'remission'])('skips a condition whose clinicalStatus is %s', (code) => {
       const status = { clinicalStatus: { coding: [{ code }] } };

@@ -4,6 +4,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange } from '../types.js';
 import { describeDelivery, describeOrder, findCondition } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Devices that can give high-concentration oxygen when set for it; no device change is offered. */
@@ -23,7 +24,7 @@ const HIGH_CONCENTRATION_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'hi
 export const rule: Rule = {
   id: 'carbon-monoxide-oximetry',
   title: 'Carbon monoxide poisoning: SpO2 is not a valid target',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts }): readonly Finding[] => {
@@ -40,8 +41,11 @@ export const rule: Rule = {
       delivery.kind === 'ok' && onRecord.some((fio2) => delivery.value.fio2.estimate < fio2);
     const reservoir = DEVICE_MODELS['reservoir-mask'];
     const topFlow = reservoir.flowRangeLPerMin.max;
-    const change: OrderChange | undefined =
-      order.device === 'reservoir-mask'
+    // A stop, weaning, room-air or comfort order still gets the card (CO poisoning needs as much
+    // oxygen as possible), but never a one-click change that turns it into high-flow oxygen.
+    const change: OrderChange | undefined = !isTitration(order)
+      ? undefined
+      : order.device === 'reservoir-mask'
         ? order.flowLPerMin === undefined || order.flowLPerMin < topFlow
           ? { kind: 'set-flow', flowLPerMin: topFlow }
           : undefined

@@ -3,6 +3,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 
@@ -18,7 +19,7 @@ import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 export const rule: Rule = {
   id: 'cluster-headache-oxygen',
   title: 'Cluster headache: high-flow oxygen, no SpO2 target',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
@@ -26,6 +27,9 @@ export const rule: Rule = {
     const FLOW = { min: range.from, max: range.to };
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'cluster-headache') {
+      return [];
+    }
+    if (!isTitration(order)) {
       return [];
     }
     const flow = order.flowLPerMin;

@@ -4,6 +4,7 @@ import { ROX_HIGH_RISK_BELOW } from '../physiology/index.js';
 import type { DeviceKind, Finding } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Devices whose use already marks a high oxygen requirement, whatever the estimated FiO2. */
@@ -48,6 +49,10 @@ export const rule: Rule = {
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, delivery, target } = assessment;
     if (order === undefined || target.kind === 'no-spo2-target') {
+      return [];
+    }
+    // A comfort, stop, weaning or room-air order states no oxygen requirement to escalate.
+    if (!isTitration(order)) {
       return [];
     }
     const threshold = policy.thresholds.highOxygenFio2AtLeast;

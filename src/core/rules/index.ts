@@ -8,12 +8,11 @@ import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
 import { rule as noRecentSpo2 } from './no-recent-spo2.js';
 import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
+import { rule as oxygenWithoutHypoxaemia } from './oxygen-without-hypoxaemia.js';
 import { rule as oxygenationSummary } from './oxygenation-summary.js';
 import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
-import { rule as pregnancyOxygen } from './pregnancy-oxygen.js';
 import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
 import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
-import { rule as sickleCellOxygen } from './sickle-cell-oxygen.js';
 import { rule as spo2AboveTarget } from './spo2-above-target.js';
 import { rule as spo2BelowTarget } from './spo2-below-target.js';
 import { rule as targetAboveHypercapnicRange } from './target-above-hypercapnic-range.js';
@@ -48,8 +47,7 @@ export const RULES: readonly Rule[] = [
   repeatBloodGasDue,
   pneumothoraxOxygen,
   clusterHeadacheOxygen,
-  sickleCellOxygen,
-  pregnancyOxygen,
+  oxygenWithoutHypoxaemia,
   noRecentSpo2,
   requiredDataUnavailable,
   dataSetAside,

@@ -2,6 +2,7 @@ import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeOrder, describeRiskReasons } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -18,7 +19,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'lower-range-without-risk',
   title: 'Lower target range ordered without a documented hypercapnic risk',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
@@ -29,6 +30,10 @@ export const rule: Rule = {
       comparison.ordered === undefined ||
       target.kind !== 'range'
     ) {
+      return [];
+    }
+    // Its suggestion raises the target: never for an order that is not a titration.
+    if (!isTitration(order)) {
       return [];
     }
     const retargeted = target.basis === 'standard-after-normal-gas';

@@ -17,11 +17,12 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'no-recent-spo2',
   title: 'No recent SpO2 reading',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
-    if (assessment.current.spo2 !== undefined) {
+    // Comfort oxygen in terminal palliative care is not titrated against saturation (BTS 2017).
+    if (assessment.current.spo2 !== undefined || assessment.order?.purpose === 'comfort') {
       return [];
     }
     const last = newestFirst(facts.spo2Percent)[0];

@@ -2,6 +2,7 @@ import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeMeasured, describeOrder, findCondition } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { givesOxygen } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -17,13 +18,17 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'oxygen-toxicity-target',
   title: 'Paraquat or bleomycin: lower target, avoid oxygen unless hypoxaemic',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, now }): readonly Finding[] => {
     const { order, target, targetComparison: comparison, current } = assessment;
     const condition = findCondition(facts, ['paraquat-poisoning', 'bleomycin-lung-injury']);
     if (order === undefined || condition === undefined || target.kind !== 'range' || target.basis !== 'oxygen-toxicity-risk') {
+      return [];
+    }
+    // Kept for weaning orders (the suggestion lowers the range); not for comfort oxygen or none at all.
+    if (!givesOxygen(order) || order.purpose === 'comfort') {
       return [];
     }
     const spo2 = current.spo2;

@@ -3,6 +3,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 
@@ -19,13 +20,17 @@ import { reservoirMaskChange } from './support/reservoir-mask-change.js';
 export const rule: Rule = {
   id: 'pneumothorax-oxygen',
   title: 'Pneumothorax under observation: high-concentration oxygen',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const FLOW = policy.thresholds.pneumothoraxFlowLPerMin;
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'pneumothorax') {
+      return [];
+    }
+    // Stopping or weaning oxygen once drained, or comfort oxygen, is not to be turned up to 15 L/min.
+    if (!isTitration(order)) {
       return [];
     }
     const onReservoir = order.device === 'reservoir-mask';

@@ -6,6 +6,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { Facts, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Two FiO2 estimates closer than this are the same oxygen (the estimates carry two decimals). */
@@ -82,6 +83,10 @@ export const rule: Rule = {
     const { order, titrationTarget, current } = assessment;
     const spo2 = current.spo2;
     if (order === undefined || titrationTarget === undefined || spo2 === undefined) {
+      return [];
+    }
+    // Comfort, stop, weaning and room-air orders are not titrations: no step down to advise.
+    if (!isTitration(order)) {
       return [];
     }
     if (spo2.value <= titrationTarget.range.highPercent || readOnOxygen(assessment, facts) !== true) {

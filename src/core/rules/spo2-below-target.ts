@@ -3,6 +3,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Devices at or near the top of ward oxygen delivery: escalating beyond them needs a senior decision. */
@@ -37,6 +38,10 @@ export const rule: Rule = {
     if (order === undefined || spo2 === undefined) {
       return [];
     }
+    // Comfort oxygen in terminal palliative care is not titrated to a saturation (BTS 2017).
+    if (order.purpose === 'comfort') {
+      return [];
+    }
     const { criticalSpo2BelowPercent, criticalPointsBelowTarget } = policy.thresholds;
     const belowCriticalLevel = spo2.value < criticalSpo2BelowPercent;
     const lowBound = titrationTarget?.range.lowPercent;
@@ -62,7 +67,7 @@ export const rule: Rule = {
     const reservoir = DEVICE_MODELS['reservoir-mask'];
     // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
     const change: OrderChange | undefined =
-      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order)
+      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order) && isTitration(order)
         ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
         : undefined;
     const because = [

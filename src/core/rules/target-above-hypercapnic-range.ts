@@ -8,6 +8,7 @@ import {
   describeRiskReasons,
 } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { givesOxygen } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -24,12 +25,17 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'target-above-hypercapnic-range',
   title: 'Target above the range for a patient at risk of hypercapnia',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy, now }): readonly Finding[] => {
     const { order, targetComparison: comparison, hypercapnicRisk: risk } = assessment;
     if (order === undefined || comparison.kind !== 'above-hypercapnic-range' || comparison.ordered === undefined) {
+      return [];
+    }
+    // Kept for weaning orders: weaning to 94-98 % keeps a CO2 retainer on more oxygen than advised,
+    // and the suggestion lowers the range. Not for comfort oxygen or an order that gives none.
+    if (!givesOxygen(order) || order.purpose === 'comfort') {
       return [];
     }
     const gas = assessment.current.gas;

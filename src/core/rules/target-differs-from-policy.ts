@@ -2,6 +2,7 @@ import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -17,12 +18,15 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'target-differs-from-policy',
   title: 'Target range differs from the policy range',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target, targetComparison: comparison } = assessment;
     if (order === undefined || comparison.kind !== 'differs' || comparison.ordered === undefined || target.kind !== 'range') {
+      return [];
+    }
+    if (!isTitration(order)) {
       return [];
     }
     return [

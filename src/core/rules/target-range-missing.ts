@@ -2,6 +2,7 @@ import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -23,6 +24,10 @@ export const rule: Rule = {
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target, targetComparison } = assessment;
     if (order === undefined || targetComparison.kind !== 'missing' || target.kind !== 'range') {
+      return [];
+    }
+    // Only a titration needs a target to titrate against (comfort oxygen has none, BTS 2017).
+    if (!isTitration(order)) {
       return [];
     }
     return [

@@ -3,6 +3,7 @@ import { formatFlow, formatPercent, formatRange } from '../assessment/format.js'
 import type { DeviceKind, Finding } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder, describeRiskReasons } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Devices whose FiO2 is high and not controlled: the harm BTS 2017 Table 4 guards CO2 retainers from. */
@@ -26,12 +27,16 @@ const CONTROLLED_SETTING_FRACTION = 0.28;
 export const rule: Rule = {
   id: 'uncontrolled-oxygen-at-risk',
   title: 'High-concentration device for a patient at risk of hypercapnia',
-  version: 1,
+  version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target, hypercapnicRisk, current } = assessment;
     if (order?.device === undefined || !UNCONTROLLED_DEVICES.includes(order.device)) {
+      return [];
+    }
+    // Its suggestion is a device change and its card speaks of titration: titrations only.
+    if (!isTitration(order)) {
       return [];
     }
     if (target.kind !== 'range' || target.basis !== 'hypercapnic-risk') {

@@ -5,6 +5,7 @@ import type { Policy } from '../policy.js';
 import type { Finding, OrderChange, OxygenOrder } from '../types.js';
 import { deliveryComputation, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { givesOxygen, isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -38,7 +39,7 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
         ...(needed <= maxFlow ? { suggestedFlow: formatFlow(needed) } : {}),
       },
       sourceKeys: ['bts-2017', 'jones-1984'],
-      ...(needed <= maxFlow ? { change: { kind: 'set-flow', flowLPerMin: needed } as const } : {}),
+      ...(needed <= maxFlow && isTitration(order) ? { change: { kind: 'set-flow', flowLPerMin: needed } as const } : {}),
     }),
   ];
 }
@@ -59,16 +60,22 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
  * flow range; the FiO2 setting is never changed.
  * Also fires, with the setting's minimum as the suggestion, when a Venturi order at a standard
  * setting states no O2 flow at all.
+ * Silent for stop and room-air orders and 0 L/min; comfort and weaning orders get the card but no
+ * raised flow (`isTitration`).
  * Sources: BTS 2017 Table 4; Jones, Turner & Hughes, Lancet 1984.
  */
 export const rule: Rule = {
   id: 'venturi-flow-insufficient',
   title: 'Venturi mask flow too low for the setting or the patient',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, delivery, current } = assessment;
+    // A stop or room-air order (or 0 L/min) gives no oxygen: no flow to find insufficient.
+    if (order !== undefined && !givesOxygen(order)) {
+      return [];
+    }
     if (order?.device === 'venturi-mask' && order.flowLPerMin === undefined) {
       return flowNotStated(order, assessment, policy);
     }
@@ -95,7 +102,7 @@ export const rule: Rule = {
     }
     const maxFlow = DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max;
     const change: OrderChange | undefined =
-      flow < needed && needed <= maxFlow ? { kind: 'set-flow', flowLPerMin: needed } : undefined;
+      flow < needed && needed <= maxFlow && isTitration(order) ? { kind: 'set-flow', flowLPerMin: needed } : undefined;
     const computation = deliveryComputation(assessment);
     return [
       makeFinding(rule, {

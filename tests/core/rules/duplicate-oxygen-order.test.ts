@@ -32,6 +32,25 @@ describe('duplicate-oxygen-order', () => {
   });
 
   describe('edge cases', () => {
+    it.each(['stop', 'room-air'] as const)('does not call a %s order a duplicate of the order it ends', (purpose) => {
+      // A stop order replaces; duplicate checking is for two live prescriptions (common practice)
+      const facts = buildFacts({ orders: [oxygenOrder({ purpose })], activeOrders: [activeOrder()] });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('does not count a draft order that gives no oxygen (0 L/min) against a new order', () => {
+      const facts = buildFacts({
+        orders: [oxygenOrder(), oxygenOrder({ reference: 'MedicationRequest/o2-draft-2', flowLPerMin: 0 })],
+      });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('still names a weaning order signed beside an active one', () => {
+      // Two live prescriptions: which governs is unclear (common practice)
+      const facts = buildFacts({ orders: [oxygenOrder({ purpose: 'wean' })], activeOrders: [activeOrder()] });
+      expectCardRenders(onlyFinding(runRule(rule, facts)));
+    });
+
     it('does not count the order itself when the record already holds it', () => {
       const facts = buildFacts({ activeOrders: [activeOrder({ reference: 'MedicationRequest/o2-draft-1' })] });
       expect(runRule(rule, facts)).toStrictEqual([]);

@@ -56,6 +56,36 @@ describe('flow-outside-device-range', () => {
       expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 1 });
     });
 
+    it('says nothing of rebreathing for a nasal cannula below its range', () => {
+      // BTS 2017, Tables 2 and 4: nasal cannula 1-6 L/min; rebreathing is a mask's problem (Jensen 1991)
+      const card = expectCardRenders(onlyFinding(runRule(rule, buildFacts({ orders: order('nasal-cannula', 0.5) }))));
+      expect(card.detail).not.toMatch(/rebreath/i);
+      expect(card.detail).toContain('below the flows the device is usually run at in adults');
+    });
+
+    it('names rebreathing for a simple face mask below its range and dryness for a cannula above it', () => {
+      // Jensen 1991 (V): a simple face mask rebreathes below 5 L/min; BTS 2017 (V): cannulae above 4 L/min poorly tolerated
+      expect(expectCardRenders(onlyFinding(runRule(rule, buildFacts({ orders: order('simple-face-mask', 3) })))).detail).toContain('rebreathes exhaled gas');
+      expect(expectCardRenders(onlyFinding(runRule(rule, buildFacts({ orders: order('nasal-cannula', 8) })))).detail).toContain('dry the nose');
+    });
+
+    it('is silent for a cannula at 0 L/min, and for stop and room-air orders', () => {
+      // 0 L/min gives no oxygen: nothing to raise (common practice)
+      expect(runRule(rule, buildFacts({ orders: order('nasal-cannula', 0) }))).toStrictEqual([]);
+      for (const purpose of ['stop', 'room-air'] as const) {
+        expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'simple-face-mask', flowLPerMin: 3, purpose })] }))).toStrictEqual([]);
+      }
+    });
+
+    it('keeps the card for comfort and weaning orders but never raises their flow', () => {
+      // BTS 2017, Table 2: simple face mask 5-10 L/min
+      for (const purpose of ['comfort', 'wean'] as const) {
+        const finding = onlyFinding(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'simple-face-mask', flowLPerMin: 3, purpose })] })));
+        expect(finding.change).toBeUndefined();
+        expectCardRenders(finding);
+      }
+    });
+
     it('leaves Venturi flows to venturi-flow-insufficient and ignores orders without a flow', () => {
       expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 1 })] }))).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ flowLPerMin: undefined })] }))).toStrictEqual([]);

@@ -53,6 +53,27 @@ describe('venturi-flow-insufficient', () => {
   });
 
   describe('edge cases', () => {
+    it('is silent for a stop or room-air order, and for an order of 0 L/min', () => {
+      // BTS 2017, Table 4: 28 % needs 4 L/min, but an order that gives no oxygen has no flow to raise
+      for (const purpose of ['stop', 'room-air'] as const) {
+        expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 2, purpose })] }))).toStrictEqual([]);
+      }
+      expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 0 })] }))).toStrictEqual([]);
+    });
+
+    it('keeps the card for comfort and weaning orders without a change that raises the flow', () => {
+      // BTS 2017, Table 4: 28 % at 4 L/min; also when no flow is stated
+      for (const purpose of ['comfort', 'wean'] as const) {
+        for (const flowLPerMin of [2, undefined]) {
+          const finding = onlyFinding(
+            runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin, purpose })] })),
+          );
+          expect(finding.change).toBeUndefined();
+          expectCardRenders(finding);
+        }
+      }
+    });
+
     it('treats a rate of exactly 30/min as not tachypnoeic', () => {
       // BTS 2017, Table 4: "above 30"
       expect(runRule(rule, buildFacts({ orders: venturi(0.28, 4), respRatePerMin: [respRate(30)] }))).toStrictEqual([]);
