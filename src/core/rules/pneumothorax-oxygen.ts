@@ -5,6 +5,7 @@ import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 import { reservoirMaskChange } from './support/reservoir-mask-change.js';
+import { patientSupportTier } from './support/support-tier.js';
 
 /**
  * Pneumothorax is documented and no hypercapnic risk is (target selection gives no SpO2 target).
@@ -22,7 +23,7 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const FLOW = policy.thresholds.pneumothoraxFlowLPerMin;
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'pneumothorax') {
@@ -33,7 +34,7 @@ export const rule: Rule = {
     if (onReservoir && atFlow && order.target === undefined) {
       return [];
     }
-    const change = reservoirMaskChange(order, atFlow, FLOW);
+    const change = reservoirMaskChange(order, atFlow, FLOW, patientSupportTier(facts, order, policy, now));
     return [
       makeFinding(rule, {
         orderReference: order.reference,

@@ -4,6 +4,7 @@ import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js'
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+import { keepTier, patientSupportTier } from './support/support-tier.js';
 
 /** Devices at or near the top of ward oxygen delivery: escalating beyond them needs a senior decision. */
 const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
@@ -61,10 +62,13 @@ export const rule: Rule = {
     }
     const reservoir = DEVICE_MODELS['reservoir-mask'];
     // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
-    const change: OrderChange | undefined =
+    // Nor a mask to a patient on a higher tier of support (a recorded high flow, say): keepTier.
+    const change: OrderChange | undefined = keepTier(
       belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order)
         ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
-        : undefined;
+        : undefined,
+      patientSupportTier(facts, order, policy, now),
+    );
     const because = [
       belowCriticalLevel ? `below ${formatPercent(criticalSpo2BelowPercent)}` : undefined,
       farBelow ? `more than ${criticalPointsBelowTarget} points below the target` : undefined,
