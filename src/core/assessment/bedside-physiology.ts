@@ -88,10 +88,10 @@ function earliestMs(times: readonly (string | undefined)[]): number | undefined 
  * or before the reading that only high flow reaches. A new high-flow order written after the reading
  * is the response to it: the reading was not taken on high flow.
  *
- * The start is the time the earliest high-flow order on record (or this one) was written; a recorded
- * high flow before that moves it earlier, since the data shows high flow running then. With no time
- * on any high-flow order the start is unknown (a recorded flow shows only that high flow ran at
- * least since then, never when it began).
+ * The start is the time the earliest high-flow order in force was written; a recorded high flow
+ * before that moves it earlier, since the data shows high flow running then. When an order in force
+ * has no time, or only recorded flows show high flow, the start is unknown (a recorded flow shows
+ * only that high flow ran at least since then, never when it began).
  */
 export function highFlowAtReading(
   activeOrders: readonly OxygenOrder[],
@@ -118,7 +118,9 @@ export function highFlowAtReading(
   // The set FiO2 running at the reading: the newest high-flow order on record, else this order.
   const newestOnRecord = [...onRecord].sort((a, b) => Date.parse(b.authoredOn ?? '') - Date.parse(a.authoredOn ?? ''));
   const orderedSetFio2 = [...newestOnRecord, ...inForce].find((o) => o.setFio2Fraction !== undefined)?.setFio2Fraction;
-  const orderStart = earliestMs([...inForce, ...(order !== undefined && isHighFlow(order) ? [order] : [])].map((o) => o.authoredOn));
+  // An order in force with no readable time may be the earliest, so the start is then unknown.
+  const timed = inForce.every((o) => o.authoredOn !== undefined && !Number.isNaN(Date.parse(o.authoredOn)));
+  const orderStart = timed ? earliestMs(inForce.map((o) => o.authoredOn)) : undefined;
   const recordedStart = earliestMs(recorded.map((flow) => flow.at));
   if (orderStart === undefined) {
     return {
@@ -126,9 +128,9 @@ export function highFlowAtReading(
       hoursOnHighFlow: undefined,
       startBasis:
         recordedStart === undefined
-          ? 'no high-flow order on record says when it was written'
+          ? 'no high-flow order in force says when it was written'
           : `high flow is recorded from ${formatDuration((now.getTime() - recordedStart) / 60_000)} ago, but no ` +
-            'high-flow order says when it began',
+            'high-flow order in force says when it began',
     };
   }
   const fromRecord = recordedStart !== undefined && recordedStart < orderStart;

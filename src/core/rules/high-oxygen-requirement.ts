@@ -2,6 +2,7 @@ import { formatFraction, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
 import type { DeviceKind, Finding } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder } from './support/describe.js';
+import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -19,7 +20,7 @@ function roxFailure(assessment: Assessment): { readonly concern: string; readonl
   }
   const { index, threshold, thresholdNote, hoursOnHighFlow } = rox.value.value;
   const after = hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(hoursOnHighFlow, 1)} h`;
-  const unknown = threshold.startKnown ? '' : ' (start of high flow unknown)';
+  const unknown = threshold.startKnown ? '' : ' (start unknown)';
   return {
     concern: `ROX ${formatNumber(index, 2)}${after}, below the ${threshold.failureBelow} failure threshold${unknown}`,
     note: thresholdNote,
@@ -39,17 +40,20 @@ function roxFailure(assessment: Assessment): { readonly concern: string; readonl
  * flow (with the set FiO2) is below the Roca 2019 failure threshold for the time on high flow
  * (2.85 / 3.47 / 3.85 at 2 / 6 / 12 h; the 12-h one when the start is unknown), which predicted
  * high-flow failure (intubation).
+ * Silent when escalated-support-failing speaks for the order (below target on failing high flow or
+ * NIV), whose card carries the ROX reading.
  * Source: BTS 2017 (from memory for the exact wording); the FiO2 threshold is the local policy's.
  */
 export const rule: Rule = {
   id: 'high-oxygen-requirement',
   title: 'High oxygen requirement: senior review',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, delivery, target } = assessment;
-    if (order === undefined || target.kind === 'no-spo2-target') {
+    // One card says one thing: failing high flow or NIV below target is escalated-support-failing's.
+    if (order === undefined || target.kind === 'no-spo2-target' || escalatedSupportFailingSpeaks(assessment, facts, policy, now)) {
       return [];
     }
     const threshold = policy.thresholds.highOxygenFio2AtLeast;

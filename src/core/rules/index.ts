@@ -3,6 +3,7 @@ import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
 import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
 import { rule as dataSetAside } from './data-set-aside.js';
 import { rule as duplicateOxygenOrder } from './duplicate-oxygen-order.js';
+import { rule as escalatedSupportFailing } from './escalated-support-failing.js';
 import { rule as flowOutsideDeviceRange } from './flow-outside-device-range.js';
 import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
@@ -33,6 +34,7 @@ export type { Rule, RuleContext } from './support/rule-types.js';
 export const RULES: readonly Rule[] = [
   acuteHypercapnicAcidosis,
   carbonMonoxideOximetry,
+  escalatedSupportFailing,
   spo2BelowTarget,
   targetAboveHypercapnicRange,
   uncontrolledOxygenAtRisk,

@@ -2,6 +2,7 @@ import { formatFlow, formatFraction, formatPercent, formatRange } from '../asses
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
+import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 import { keepTier, patientSupportTier } from './support/support-tier.js';
@@ -24,18 +25,22 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * (carbon monoxide, pneumothorax, cluster headache) only the critical threshold is checked. Suggests
  * a reservoir mask at the device's top flow when SpO2 is below the critical threshold, the patient is
  * not at risk of hypercapnia and the device is not already one of the above.
+ * Silent when escalated-support-failing speaks (below target on CPAP/NIV, or on high flow at a high
+ * set FiO2), so the two never repeat one message; speaks again if the hospital disables that rule.
+ * Never suggests a device on a lower tier than the patient is on (devices/device-tier.ts).
  * Source: BTS 2017 Table 2; the points-below threshold is a local choice.
  */
 export const rule: Rule = {
   id: 'spo2-below-target',
   title: 'SpO2 below the target range',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, titrationTarget, current, hypercapnicRisk } = assessment;
     const spo2 = current.spo2;
-    if (order === undefined || spo2 === undefined) {
+    // One card says one thing: below target on failing high flow or NIV is escalated-support-failing's.
+    if (order === undefined || spo2 === undefined || escalatedSupportFailingSpeaks(assessment, facts, policy, now)) {
       return [];
     }
     const { criticalSpo2BelowPercent, criticalPointsBelowTarget } = policy.thresholds;

@@ -37,7 +37,7 @@ describe('computeSfRatio', () => {
 const onHighFlowFor = (hours: number | undefined, orderedSetFio2?: number): HighFlowAtReading => ({
   orderedSetFio2,
   hoursOnHighFlow: hours,
-  startBasis: hours === undefined ? 'no high-flow order on record says when it was written' : 'from the earliest high-flow order',
+  startBasis: hours === undefined ? 'no high-flow order in force says when it was written' : 'from the earliest high-flow order',
 });
 const estimated = (fraction: number): Outcome<Fio2InForce> => ({
   kind: 'ok',
@@ -105,7 +105,7 @@ describe('computeRox', () => {
       expect(result.kind === 'ok' && result.value.value.threshold).toStrictEqual({ timePoint: 12, failureBelow: 3.85, startKnown: false });
       expect(result.kind === 'ok' && result.value.value.interpretation).toBe('high-risk');
       expect(result.kind === 'ok' && result.value.value.thresholdNote).toBe(
-        'start of high flow unknown (no high-flow order on record says when it was written): the 12-h threshold, 3.85, the strictest, was used',
+        'start of high flow unknown (no high-flow order in force says when it was written): the 12-h threshold, 3.85, the strictest, was used',
       );
     });
 
@@ -142,7 +142,7 @@ describe('highFlowAtReading', () => {
   it('leaves the start unknown when no high-flow order carries a time, even with recorded high flow', () => {
     const result = highFlowAtReading([activeOrder({ ...hfnc, authoredOn: undefined })], undefined, [o2Flow(50, 200)], spo2(90), NOW);
     expect(result?.hoursOnHighFlow).toBeUndefined();
-    expect(result?.startBasis).toContain('no high-flow order says when it began');
+    expect(result?.startBasis).toContain('no high-flow order in force says when it began');
   });
 
   describe('edge cases', () => {
