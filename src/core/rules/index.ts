@@ -14,6 +14,7 @@ import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
 import { rule as pregnancyOxygen } from './pregnancy-oxygen.js';
 import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
 import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
+import { rule as risingOxygenNeed } from './rising-oxygen-need.js';
 import { rule as sickleCellOxygen } from './sickle-cell-oxygen.js';
 import { rule as spo2AboveTarget } from './spo2-above-target.js';
 import { rule as spo2BelowTarget } from './spo2-below-target.js';
@@ -44,6 +45,7 @@ export const RULES: readonly Rule[] = [
   targetDiffersFromPolicy,
   spo2AboveTarget,
   highOxygenRequirement,
+  risingOxygenNeed,
   venturiFlowInsufficient,
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
