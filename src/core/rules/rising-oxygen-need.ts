@@ -29,6 +29,8 @@ interface OxygenTrend {
   readonly direction: number;
   readonly words: (m: Measured) => string;
   readonly measure: string;
+  /** Names the measure in the short headline: "FiO2 " for FiO2, nothing for a flow (its unit says it). */
+  readonly label: string;
 }
 
 /**
@@ -46,6 +48,7 @@ function oxygenTrend(facts: Facts, now: Date, windowMinutes: number): OxygenTren
       direction: compare(firstFio2, lastFio2),
       words: (m) => formatFraction(m.value),
       measure: 'recorded FiO2',
+      label: 'FiO2 ',
     };
   }
   const devices = new Set(facts.activeOrders.map((o) => o.device));
@@ -64,6 +67,7 @@ function oxygenTrend(facts: Facts, now: Date, windowMinutes: number): OxygenTren
     direction: compare(firstFlow, lastFlow),
     words: (m) => formatFlow(m.value),
     measure: `recorded O2 flow (${deviceLabel(device).toLowerCase()} throughout)`,
+    label: '',
   };
 }
 
@@ -141,7 +145,7 @@ export const rule: Rule = {
     const span = formatDuration((now.getTime() - Date.parse((trend?.first ?? firstSpo2).at)) / 60_000);
     const headline = fellDespite
       ? `SpO2 fell ${spo2Words(firstSpo2)} → ${spo2Words(lastSpo2)} over ${span} ${trend !== undefined && trend.direction > 0 ? 'despite more oxygen' : 'on unchanged oxygen'}`
-      : `more oxygen (${trend?.words(trend.first) ?? ''} → ${trend?.words(trend.last) ?? ''}) over ${span} for SpO2 ${twoSpo2 ? `${spo2Words(firstSpo2)} → ` : ''}${spo2Words(lastSpo2)}`;
+      : `more oxygen (${trend?.label ?? ''}${trend?.words(trend.first) ?? ''} → ${trend?.words(trend.last) ?? ''}) over ${span} for SpO2 ${twoSpo2 ? `${spo2Words(firstSpo2)} → ` : ''}${spo2Words(lastSpo2)}`;
     return [
       makeFinding(rule, {
         orderReference: undefined,

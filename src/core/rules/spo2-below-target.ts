@@ -1,3 +1,4 @@
+import { highFlowAtReading } from '../assessment/bedside-physiology.js';
 import { formatFlow, formatFraction, formatPercent, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
@@ -17,8 +18,9 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
  * (BTS 2017 Table 2: below 85 % start a reservoir mask at 15 L/min), more than
  * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient was already
- * on a reservoir mask, high-flow or NIV when it was read (an active order on record, or this order
- * if written before the reading), or on a recorded FiO2 at or above `thresholds.highOxygenFio2AtLeast`.
+ * on a reservoir mask, high-flow or NIV when it was read (an active order on record, this order
+ * if written before the reading, or a recorded flow only high flow reaches), or on a recorded FiO2
+ * at or above `thresholds.highOxygenFio2AtLeast`.
  * A new order for one of those devices is the response to the reading, not a failure of it. A
  * reading taken on air, before this order starts oxygen, is reported only when critical: the order
  * itself is the response. Where no SpO2 target applies
@@ -54,7 +56,11 @@ export const rule: Rule = {
     // Only what the patient was on when the SpO2 was read makes a low reading critical: a new order
     // for high flow or NIV is the response to the reading, not a sign that it has already failed.
     const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
-    const onTopDevice = facts.activeOrders.some(isTopDevice) || (orderInForce && isTopDevice(order));
+    // A recorded flow only high flow reaches also shows the patient on high flow at the reading.
+    const onTopDevice =
+      facts.activeOrders.some(isTopDevice) ||
+      (orderInForce && isTopDevice(order)) ||
+      highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now) !== undefined;
     const fio2AtReading = assessment.physiology.fio2AtSpo2;
     const highFio2AtReading =
       !onTopDevice &&

@@ -67,7 +67,7 @@ describe('rising-oxygen-need', () => {
     });
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.values.oxygenChange).toBe('recorded FiO2 rose from 0.28 (4 h ago) to 0.40 (30 min ago)');
-    expectCardRenders(finding);
+    expect(expectCardRenders(finding).summary).toBe('Rising oxygen need: more oxygen (FiO2 0.28 → 0.40) over 4 h for SpO2 93 % → 92 %. Review the patient');
   });
 
   it('does not fire for a weaning patient: less oxygen, SpO2 a little lower but in range', () => {
