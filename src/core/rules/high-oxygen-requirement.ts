@@ -11,7 +11,7 @@ const HIGH_REQUIREMENT_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high
 
 /**
  * When ROX predicts high-flow failure: a short line for the summary ("ROX 3.26 after 6 h, below the
- * 3.47 failure threshold"; "… (start of high flow unknown)") and the threshold note for the detail.
+ * 3.47 failure threshold"; "… (start unknown)") and the threshold note for the detail.
  */
 function roxFailure(assessment: Assessment): { readonly concern: string; readonly note: string } | undefined {
   const rox = assessment.physiology.rox;

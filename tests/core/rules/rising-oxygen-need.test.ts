@@ -99,6 +99,12 @@ describe('rising-oxygen-need', () => {
       expect(runRule(rule, facts).length).toBe(fires ? 1 : 0);
     });
 
+    it('counts more oxygen with one SpO2 reading in the window: a rise cannot be seen', () => {
+      // A rising requirement calls for fuller assessment (BTS 2017, from memory)
+      const facts = buildFacts({ ...onCannula, o2FlowLPerMin: series(o2Flow, [[2, 200], [5, 20]]), spo2Percent: [spo2(95)] });
+      expect(onlyFinding(runRule(rule, facts)).values.spo2Change).toBe('SpO2 95 % (10 min ago), the only reading in the window');
+    });
+
     it('does not count a more-oxygen change that lifted SpO2 by 3 points or more', () => {
       // 2 → 4 L/min raising SpO2 91 → 95 %: titration to target (BTS 2017), not more oxygen for the same saturation
       const facts = buildFacts({ ...onCannula, o2FlowLPerMin: series(o2Flow, [[2, 200], [4, 20]]), spo2Percent: series(spo2, [[91, 200], [95, 10]]) });
