@@ -1,21 +1,25 @@
 import {
   classifySfRice,
   interpretBloodGas,
-  interpretRox,
+  interpretRoxAt,
   oxygenContentMlPerDl,
   po2FromSaturationMmHg,
+  roxFailureBelow,
   roxIndex,
+  roxTimePoint,
   saturationFromPo2,
   sfRatio,
 } from '../physiology/index.js';
+import type { RoxTimePoint } from '../physiology/index.js';
+import { tierShownByRecordedFlow } from '../devices/device-tier.js';
 import {
   HUFNER_CLINICAL_ML_PER_G,
   OXYGEN_SOLUBILITY_ML_PER_DL_PER_MMHG,
 } from '../physiology/constants.js';
 import { checkPhysiologyInputs, PHYSIOLOGY_VALID_RANGES } from '../physiology/valid-ranges.js';
 import type { Policy } from '../policy.js';
-import type { BloodGas, Measured, Outcome } from '../types.js';
-import { formatFraction, formatNumber } from './format.js';
+import type { BloodGas, Measured, Outcome, OxygenOrder } from '../types.js';
+import { formatDuration, formatFraction, formatNumber } from './format.js';
 import { describeFio2Basis } from './gas-physiology.js';
 import type { Fio2InForce, PhysiologyResults } from './types.js';
 
@@ -59,26 +63,125 @@ export function computeSfRatio(
 }
 
 /**
- * ROX index while on high-flow nasal cannula (Roca 2019), interpreted at the hours on high flow when
- * known (from the earliest high-flow order's authoredOn); `onHighFlow` is decided by the caller.
+ * What the record shows about high flow at the SpO2 reading: whether the patient was on it, its set
+ * FiO2 on the order in force, and how long it had run. Undefined when nothing shows high flow.
+ */
+export interface HighFlowAtReading {
+  /** The blender FiO2 the high-flow order in force sets, when it states one. */
+  readonly orderedSetFio2: number | undefined;
+  /** Hours since high flow began, when the record shows when; undefined when it does not. */
+  readonly hoursOnHighFlow: number | undefined;
+  /** Plain words for how the start was known, for the card. */
+  readonly startBasis: string;
+}
+
+const HOUR_MS = 3_600_000;
+
+function earliestMs(times: readonly (string | undefined)[]): number | undefined {
+  const parsed = times.map((t) => (t === undefined ? Number.NaN : Date.parse(t))).filter((t) => !Number.isNaN(t));
+  return parsed.length === 0 ? undefined : Math.min(...parsed);
+}
+
+/**
+ * Was the patient on high flow when `spo2` was read, and since when? On high flow means a high-flow
+ * order active on record, this order if it was written before the reading, or a recorded O2 flow at
+ * or before the reading that only high flow reaches. A new high-flow order written after the reading
+ * is the response to it: the reading was not taken on high flow.
+ *
+ * The start is the time the earliest high-flow order in force was written; a recorded high flow
+ * before that moves it earlier, since the data shows high flow running then. When an order in force
+ * has no time, or only recorded flows show high flow, the start is unknown (a recorded flow shows
+ * only that high flow ran at least since then, never when it began).
+ */
+export function highFlowAtReading(
+  activeOrders: readonly OxygenOrder[],
+  order: OxygenOrder | undefined,
+  recordedFlows: readonly Measured[],
+  spo2: Measured | undefined,
+  now: Date,
+): HighFlowAtReading | undefined {
+  if (spo2 === undefined) {
+    return undefined;
+  }
+  const readAt = Date.parse(spo2.at);
+  const isHighFlow = (o: OxygenOrder): boolean => o.device === 'high-flow-nasal-cannula';
+  const onRecord = activeOrders.filter(isHighFlow);
+  const subjectInForce =
+    order !== undefined && isHighFlow(order) && order.authoredOn !== undefined && Date.parse(order.authoredOn) <= readAt;
+  const recorded = recordedFlows.filter(
+    (flow) => tierShownByRecordedFlow(flow.value) === 'high-flow' && Date.parse(flow.at) <= readAt,
+  );
+  const inForce = [...onRecord, ...(subjectInForce && order !== undefined ? [order] : [])];
+  if (inForce.length === 0 && recorded.length === 0) {
+    return undefined;
+  }
+  // The set FiO2 running at the reading: the newest high-flow order on record, else this order.
+  const newestOnRecord = [...onRecord].sort((a, b) => Date.parse(b.authoredOn ?? '') - Date.parse(a.authoredOn ?? ''));
+  const orderedSetFio2 = [...newestOnRecord, ...inForce].find((o) => o.setFio2Fraction !== undefined)?.setFio2Fraction;
+  // An order in force with no readable time may be the earliest, so the start is then unknown.
+  const timed = inForce.every((o) => o.authoredOn !== undefined && !Number.isNaN(Date.parse(o.authoredOn)));
+  const orderStart = timed ? earliestMs(inForce.map((o) => o.authoredOn)) : undefined;
+  const recordedStart = earliestMs(recorded.map((flow) => flow.at));
+  if (orderStart === undefined) {
+    return {
+      orderedSetFio2,
+      hoursOnHighFlow: undefined,
+      startBasis:
+        recordedStart === undefined
+          ? 'no high-flow order in force says when it was written'
+          : `high flow is recorded from ${formatDuration((now.getTime() - recordedStart) / 60_000)} ago, but no ` +
+            'high-flow order in force says when it began',
+    };
+  }
+  const fromRecord = recordedStart !== undefined && recordedStart < orderStart;
+  const start = fromRecord ? recordedStart : orderStart;
+  const ago = formatDuration((now.getTime() - start) / 60_000);
+  return {
+    orderedSetFio2,
+    hoursOnHighFlow: Math.max(0, (now.getTime() - start) / HOUR_MS),
+    startBasis: fromRecord
+      ? `from the first recorded high flow, ${ago} ago, before the earliest high-flow order`
+      : `from the earliest high-flow order, written ${ago} ago`,
+  };
+}
+
+/** The FiO2 ROX uses on high flow: the recorded FiO2 at the reading, else the order's set FiO2. */
+function setFio2ForRox(
+  fio2AtSpo2: Outcome<Fio2InForce>,
+  highFlow: HighFlowAtReading,
+): { readonly fraction: number; readonly words: string } | undefined {
+  if (fio2AtSpo2.kind === 'ok' && fio2AtSpo2.value.basis === 'recorded-fio2') {
+    return { fraction: fio2AtSpo2.value.estimate, words: 'FiO2 recorded at the reading' };
+  }
+  return highFlow.orderedSetFio2 === undefined
+    ? undefined
+    : { fraction: highFlow.orderedSetFio2, words: 'set FiO2 of the high-flow order' };
+}
+
+/**
+ * ROX index while on high-flow nasal cannula (Roca 2019), with the set FiO2: on high flow the
+ * blender setting is what the patient breathes, so a mixing estimate is never used. The index is
+ * read against the Roca threshold for the hours on high flow; when the start is unknown, against the
+ * 12-h threshold (3.85), the strictest of the three, so an unknown start never hides a failing index.
  */
 export function computeRox(input: {
-  readonly onHighFlow: boolean;
-  readonly hoursOnHighFlow: number | undefined;
+  readonly highFlow: HighFlowAtReading | undefined;
   readonly spo2: Measured | undefined;
   readonly respRate: Measured | undefined;
   readonly fio2AtSpo2: Outcome<Fio2InForce>;
 }): PhysiologyResults['rox'] {
-  if (!input.onHighFlow) {
+  const { highFlow } = input;
+  if (highFlow === undefined) {
     return { kind: 'unknown', reason: 'ROX applies to high-flow nasal cannula only' };
   }
-  if (input.fio2AtSpo2.kind === 'unknown') {
-    return { kind: 'unknown', reason: `FiO2 not known: ${input.fio2AtSpo2.reason}`, missing: ['FiO2'] };
+  const setFio2 = setFio2ForRox(input.fio2AtSpo2, highFlow);
+  if (setFio2 === undefined) {
+    return { kind: 'unknown', reason: 'the set FiO2 of high flow is neither recorded nor ordered', missing: ['FiO2'] };
   }
   const checked = checkPhysiologyInputs({
     spo2Percent: input.spo2?.value,
     respRatePerMin: input.respRate?.value,
-    fio2Fraction: input.fio2AtSpo2.value.estimate,
+    fio2Fraction: setFio2.fraction,
   });
   if (checked.kind === 'unknown') {
     return checked;
@@ -91,28 +194,54 @@ export function computeRox(input: {
   }
   // Beyond the longest time the interpretation accepts, the 12-h threshold it carries forward applies.
   const hours =
-    input.hoursOnHighFlow === undefined
+    highFlow.hoursOnHighFlow === undefined
       ? undefined
-      : Math.min(input.hoursOnHighFlow, PHYSIOLOGY_VALID_RANGES.hoursOnHighFlow.max);
+      : Math.min(highFlow.hoursOnHighFlow, PHYSIOLOGY_VALID_RANGES.hoursOnHighFlow.max);
+  const timePoint: RoxTimePoint | undefined = hours === undefined ? 12 : roxTimePoint(hours);
+  const threshold =
+    timePoint === undefined
+      ? undefined
+      : { timePoint, failureBelow: roxFailureBelow(timePoint), startKnown: hours !== undefined };
   return {
     kind: 'ok',
     value: {
       value: {
         index,
         hoursOnHighFlow: hours,
-        interpretation: hours === undefined ? 'indeterminate' : interpretRox(index, hours),
+        interpretation: timePoint === undefined ? 'indeterminate' : interpretRoxAt(index, timePoint),
+        fio2Fraction,
+        threshold,
+        thresholdNote: describeRoxThreshold(hours, threshold, highFlow.startBasis),
       },
       computation: {
         name: 'ROX index',
         formula: 'ROX = (SpO2 / FiO2) / respiratory rate',
         substituted:
           `(${formatNumber(spo2Percent, 1)} / ${formatFraction(fio2Fraction)}) / ` +
-          `${formatNumber(respRatePerMin, 0)} (${describeFio2Basis(input.fio2AtSpo2.value)})`,
+          `${formatNumber(respRatePerMin, 0)} (${setFio2.words})`,
         result: formatNumber(index, 2),
         sourceKey: 'roca-2019',
       },
     },
   };
+}
+
+/** Which Roca threshold was used and why, in plain words. */
+function describeRoxThreshold(
+  hours: number | undefined,
+  threshold: { readonly timePoint: RoxTimePoint; readonly failureBelow: number } | undefined,
+  startBasis: string,
+): string {
+  if (threshold === undefined) {
+    return `under 2 h on high flow (${startBasis}): Roca 2019 gives no threshold before 2 h`;
+  }
+  if (hours === undefined) {
+    return (
+      `start of high flow unknown (${startBasis}): the ${threshold.timePoint}-h threshold, ` +
+      `${threshold.failureBelow}, the strictest, was used`
+    );
+  }
+  return `${formatNumber(hours, 1)} h on high flow (${startBasis}): the ${threshold.timePoint}-h threshold, ${threshold.failureBelow}`;
 }
 
 /**

@@ -8,6 +8,7 @@ import {
   computeOxygenContent,
   computeRox,
   computeSfRatio,
+  highFlowAtReading,
 } from './bedside-physiology.js';
 import { newestFirst, pickCurrentValues } from './current-values.js';
 import { fio2InForceAt } from './fio2-in-force.js';
@@ -77,15 +78,6 @@ export function estimateOrderDelivery(
   });
 }
 
-/** Hours since the earliest high-flow order (draft or on record) was written, when known. */
-function hoursOnHighFlow(orders: readonly OxygenOrder[], now: Date): number | undefined {
-  const starts = orders
-    .filter((o) => o.device === 'high-flow-nasal-cannula' && o.authoredOn !== undefined)
-    .map((o) => Date.parse(o.authoredOn ?? ''))
-    .filter((t) => !Number.isNaN(t));
-  return starts.length === 0 ? undefined : Math.max(0, (now.getTime() - Math.min(...starts)) / 3_600_000);
-}
-
 /**
  * Builds the assessment for one subject order (the first `isSubject` order unless one is named).
  * Pure: the same facts, policy, order and clock always give the same assessment.
@@ -115,8 +107,6 @@ export function buildAssessment(
       ? { fio2Fraction: earlierFio2.value.estimate, pao2MmHg: earlierArterial.pao2MmHg }
       : undefined;
 
-  const allOrders = [...facts.activeOrders, ...(order === undefined ? [] : [order])];
-  const onHighFlow = allOrders.some((o) => o.device === 'high-flow-nasal-cannula');
   const hypercapnicRisk = assessHypercapnicRisk(facts, policy, current, now);
   const target = selectTarget(facts, policy, hypercapnicRisk);
   const targetComparison = compareOrderedTarget(order, target, policy);
@@ -139,8 +129,7 @@ export function buildAssessment(
       }),
       sfRatio: computeSfRatio(current.spo2, fio2AtSpo2),
       rox: computeRox({
-        onHighFlow,
-        hoursOnHighFlow: hoursOnHighFlow(allOrders, now),
+        highFlow: highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, current.spo2, now),
         spo2: current.spo2,
         respRate: current.respRate,
         fio2AtSpo2,

@@ -5,6 +5,7 @@ import type {
   hypoxaemiaMechanism,
   interpretBloodGas,
   interpretRox,
+  RoxTimePoint,
 } from '../physiology/index.js';
 import type {
   BloodGas,
@@ -80,6 +81,17 @@ export interface PhysiologyResults {
       readonly index: number;
       readonly hoursOnHighFlow: number | undefined;
       readonly interpretation: RoxInterpretation;
+      /** The set FiO2 the index used (recorded at the reading, else set on the high-flow order). */
+      readonly fio2Fraction: number;
+      /**
+       * The Roca 2019 time point whose thresholds were applied: the last one reached, or 12 h when the
+       * start is unknown (`startKnown` false); undefined before 2 h on high flow.
+       */
+      readonly threshold:
+        | { readonly timePoint: RoxTimePoint; readonly failureBelow: number; readonly startKnown: boolean }
+        | undefined;
+      /** Which threshold was used and why, in words for a card. */
+      readonly thresholdNote: string;
     }>
   >;
   readonly oxygenContent: Outcome<Calculated<number>>;

@@ -23,6 +23,40 @@ export const ROX_LOW_RISK_AT_LEAST = 4.88;
 /** Roca 2019: ROX below these at 2, 6 and 12 h predicted high-flow failure. */
 export const ROX_HIGH_RISK_BELOW = { at2h: 2.85, at6h: 3.47, at12h: 3.85 } as const;
 
+/** The time points at which Roca 2019 validated a failure threshold, in hours of high flow. */
+export type RoxTimePoint = 2 | 6 | 12;
+
+/**
+ * The Roca 2019 time point whose failure threshold applies after `hoursOnHighFlow`: the last one
+ * reached (2 h up to 6 h, 6 h up to 12 h, 12 h from then on, carried forward as our cautious choice);
+ * undefined before 2 h, where nothing was validated.
+ */
+export function roxTimePoint(hoursOnHighFlow: number): RoxTimePoint | undefined {
+  return hoursOnHighFlow < 2 ? undefined : hoursOnHighFlow < 6 ? 2 : hoursOnHighFlow < 12 ? 6 : 12;
+}
+
+/** Roca 2019: the ROX below which high flow was predicted to fail, at a time point. */
+export function roxFailureBelow(timePoint: RoxTimePoint): number {
+  return timePoint === 2 ? ROX_HIGH_RISK_BELOW.at2h : timePoint === 6 ? ROX_HIGH_RISK_BELOW.at6h : ROX_HIGH_RISK_BELOW.at12h;
+}
+
+/**
+ * Reads a ROX index against the Roca 2019 thresholds of one time point: 'low-risk' at ≥ 4.88,
+ * 'high-risk' below that time point's failure threshold, otherwise 'indeterminate'. Used directly
+ * when the start of high flow is unknown and a time point has to be chosen.
+ *
+ * @param rox - 0.1–100.
+ * @throws RangeError outside that range.
+ */
+export function interpretRoxAt(rox: number, timePoint: RoxTimePoint): 'low-risk' | 'high-risk' | 'indeterminate' {
+  assertInRange('roxIndex', rox);
+  const value = roundForThreshold(rox);
+  if (value >= ROX_LOW_RISK_AT_LEAST) {
+    return 'low-risk';
+  }
+  return value < roxFailureBelow(timePoint) ? 'high-risk' : 'indeterminate';
+}
+
 /**
  * Reads a ROX index against the Roca 2019 thresholds: 'low-risk' at ≥ 4.88; 'high-risk' below
  * 2.85 / 3.47 / 3.85 at 2 / 6 / 12 h; otherwise 'indeterminate'.
@@ -42,18 +76,6 @@ export function interpretRox(
 ): 'low-risk' | 'high-risk' | 'indeterminate' {
   assertInRange('roxIndex', rox);
   assertInRange('hoursOnHighFlow', hoursOnHighFlow);
-  if (hoursOnHighFlow < 2) {
-    return 'indeterminate';
-  }
-  const value = roundForThreshold(rox);
-  if (value >= ROX_LOW_RISK_AT_LEAST) {
-    return 'low-risk';
-  }
-  const failureBelow =
-    hoursOnHighFlow < 6
-      ? ROX_HIGH_RISK_BELOW.at2h
-      : hoursOnHighFlow < 12
-        ? ROX_HIGH_RISK_BELOW.at6h
-        : ROX_HIGH_RISK_BELOW.at12h;
-  return value < failureBelow ? 'high-risk' : 'indeterminate';
+  const timePoint = roxTimePoint(hoursOnHighFlow);
+  return timePoint === undefined ? 'indeterminate' : interpretRoxAt(rox, timePoint);
 }

@@ -6,6 +6,7 @@ import { describeDelivery, describeOrder, findCondition } from './support/descri
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { keepTier, patientSupportTier } from './support/support-tier.js';
 
 /** Devices that can give high-concentration oxygen when set for it; no device change is offered. */
 const HIGH_CONCENTRATION_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
@@ -18,7 +19,7 @@ const HIGH_CONCENTRATION_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'hi
  * (reservoir or bag-valve mask) and checking COHb. Warning; critical when the order titrates to an
  * SpO2 target or gives less oxygen than an active order on record (a down-titration). Suggests a
  * reservoir mask at the device's top flow when the order is on another device, or that top flow when a
- * reservoir mask is run below it.
+ * reservoir mask is run below it; no device change to a patient on high flow or CPAP/NIV (device tiers).
  * Source: BTS 2017 Table 1 (recommendation on CO poisoning).
  */
 export const rule: Rule = {
@@ -27,7 +28,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
-  evaluate: ({ assessment, facts }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, delivery, current } = assessment;
     const condition = findCondition(facts, ['carbon-monoxide-poisoning']);
     if (order === undefined || condition === undefined) {
@@ -42,16 +43,20 @@ export const rule: Rule = {
     const reservoir = DEVICE_MODELS['reservoir-mask'];
     const topFlow = reservoir.flowRangeLPerMin.max;
     // A stop, weaning, room-air or comfort order still gets the card (CO poisoning needs as much
-    // oxygen as possible), but never a one-click change that turns it into high-flow oxygen.
+    // oxygen as possible), but never a one-click change that turns it into high-flow oxygen; and never
+    // a mask for a patient on high flow or NIV (an order on record, a recorded high flow).
     const change: OrderChange | undefined = !isTitration(order)
       ? undefined
-      : order.device === 'reservoir-mask'
+      : keepTier(
+      order.device === 'reservoir-mask'
         ? order.flowLPerMin === undefined || order.flowLPerMin < topFlow
           ? { kind: 'set-flow', flowLPerMin: topFlow }
           : undefined
         : order.device !== undefined && HIGH_CONCENTRATION_DEVICES.includes(order.device)
           ? undefined
-          : { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: topFlow };
+          : { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: topFlow },
+      patientSupportTier(facts, order, policy, now),
+    );
     return [
       makeFinding(rule, {
         indicator: order.target !== undefined || downTitration ? 'critical' : rule.defaultIndicator,

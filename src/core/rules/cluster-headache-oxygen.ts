@@ -6,6 +6,7 @@ import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { reservoirMaskChange } from './support/reservoir-mask-change.js';
+import { patientSupportTier } from './support/support-tier.js';
 
 /**
  * Cluster headache is documented and no hypercapnic risk is (target selection gives no SpO2 target).
@@ -22,7 +23,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const range = policy.thresholds.clusterHeadacheFlowLPerMin;
     const FLOW = { min: range.from, max: range.to };
     const { order, target } = assessment;
@@ -39,7 +40,7 @@ export const rule: Rule = {
       return [];
     }
     const nearest = flow === undefined ? FLOW.max : Math.min(FLOW.max, Math.max(FLOW.min, flow));
-    const change = reservoirMaskChange(order, flowInRange, nearest);
+    const change = reservoirMaskChange(order, flowInRange, nearest, patientSupportTier(facts, order, policy, now));
     return [
       makeFinding(rule, {
         orderReference: order.reference,

@@ -1,8 +1,8 @@
 import { formatFraction, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
-import { ROX_HIGH_RISK_BELOW } from '../physiology/index.js';
 import type { DeviceKind, Finding } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder } from './support/describe.js';
+import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
@@ -10,20 +10,22 @@ import type { Rule } from './support/rule-types.js';
 /** Devices whose use already marks a high oxygen requirement, whatever the estimated FiO2. */
 const HIGH_REQUIREMENT_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
 
-/** The Roca 2019 failure threshold for the time on high flow, as `interpretRox` applies it. */
-function roxFailureBelow(hours: number): number {
-  return hours < 6 ? ROX_HIGH_RISK_BELOW.at2h : hours < 12 ? ROX_HIGH_RISK_BELOW.at6h : ROX_HIGH_RISK_BELOW.at12h;
-}
-
-/** "ROX 3.26 after 6 h, below the 3.47 failure threshold" when ROX predicts high-flow failure. */
-function roxFailure(assessment: Assessment): string | undefined {
+/**
+ * When ROX predicts high-flow failure: a short line for the summary ("ROX 3.26 after 6 h, below the
+ * 3.47 failure threshold"; "… (start unknown)") and the threshold note for the detail.
+ */
+function roxFailure(assessment: Assessment): { readonly concern: string; readonly note: string } | undefined {
   const rox = assessment.physiology.rox;
-  if (rox.kind !== 'ok' || rox.value.value.interpretation !== 'high-risk' || rox.value.value.hoursOnHighFlow === undefined) {
+  if (rox.kind !== 'ok' || rox.value.value.interpretation !== 'high-risk' || rox.value.value.threshold === undefined) {
     return undefined;
   }
-  const { index, hoursOnHighFlow } = rox.value.value;
-  const threshold = roxFailureBelow(hoursOnHighFlow);
-  return `ROX ${formatNumber(index, 2)} after ${formatNumber(hoursOnHighFlow, 1)} h, below the ${threshold} failure threshold`;
+  const { index, threshold, thresholdNote, hoursOnHighFlow } = rox.value.value;
+  const after = hoursOnHighFlow === undefined ? '' : ` after ${formatNumber(hoursOnHighFlow, 1)} h`;
+  const unknown = threshold.startKnown ? '' : ' (start unknown)';
+  return {
+    concern: `ROX ${formatNumber(index, 2)}${after}, below the ${threshold.failureBelow} failure threshold${unknown}`,
+    note: thresholdNote,
+  };
 }
 
 /**
@@ -36,19 +38,23 @@ function roxFailure(assessment: Assessment): string | undefined {
  * or NIV at a low FiO2 is named as respiratory support, not a high oxygen requirement. Not
  * raised where high-concentration oxygen is itself the indication (carbon monoxide, pneumothorax,
  * cluster headache), which their own rules address. Warning; critical when the ROX index on high
- * flow is below the Roca 2019 failure threshold for the time on high flow (2.85 / 3.47 / 3.85 at
- * 2 / 6 / 12 h), which predicted high-flow failure (intubation).
+ * flow (with the set FiO2) is below the Roca 2019 failure threshold for the time on high flow
+ * (2.85 / 3.47 / 3.85 at 2 / 6 / 12 h; the 12-h one when the start is unknown), which predicted
+ * high-flow failure (intubation).
+ * Silent when escalated-support-failing speaks for the order (below target on failing high flow or
+ * NIV), whose card carries the ROX reading.
  * Source: BTS 2017 (from memory for the exact wording); the FiO2 threshold is the local policy's.
  */
 export const rule: Rule = {
   id: 'high-oxygen-requirement',
   title: 'High oxygen requirement: senior review',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, delivery, target } = assessment;
-    if (order === undefined || target.kind === 'no-spo2-target') {
+    // One card says one thing: failing high flow or NIV below target is escalated-support-failing's.
+    if (order === undefined || target.kind === 'no-spo2-target' || escalatedSupportFailingSpeaks(assessment, facts, policy, now)) {
       return [];
     }
     // A comfort, stop, weaning or room-air order states no oxygen requirement to escalate.
@@ -63,7 +69,7 @@ export const rule: Rule = {
       return [];
     }
     const support = !highFio2 && order.device === 'cpap-niv';
-    const concern = rox ?? (support ? 'respiratory support' : 'high oxygen requirement');
+    const concern = rox?.concern ?? (support ? 'respiratory support' : 'high oxygen requirement');
     const computation = deliveryComputation(assessment);
     const roxComputation = assessment.physiology.rox.kind === 'ok' && rox !== undefined
       ? [assessment.physiology.rox.value.computation]
@@ -84,7 +90,10 @@ export const rule: Rule = {
                 ? 'the device itself: CPAP or NIV is respiratory support'
                 : 'the device itself'
               : 'the ROX index',
-          roxStatus: rox === undefined ? 'not below a failure threshold, or not on high flow' : `${rox} (Roca 2019)`,
+          roxStatus:
+            rox === undefined
+              ? 'not below a failure threshold, or not on high flow'
+              : `${rox.concern}; ${rox.note} (Roca 2019)`,
         },
         computations: [...(computation === undefined ? [] : [computation]), ...roxComputation],
         sourceKeys: ['bts-2017', 'local-policy', ...(rox === undefined ? [] : ['roca-2019'])],

@@ -3,6 +3,7 @@ import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
 import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
 import { rule as dataSetAside } from './data-set-aside.js';
 import { rule as duplicateOxygenOrder } from './duplicate-oxygen-order.js';
+import { rule as escalatedSupportFailing } from './escalated-support-failing.js';
 import { rule as flowOutsideDeviceRange } from './flow-outside-device-range.js';
 import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
@@ -13,6 +14,7 @@ import { rule as oxygenationSummary } from './oxygenation-summary.js';
 import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
 import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
 import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
+import { rule as risingOxygenNeed } from './rising-oxygen-need.js';
 import { rule as spo2AboveTarget } from './spo2-above-target.js';
 import { rule as spo2BelowTarget } from './spo2-below-target.js';
 import { rule as targetAboveHypercapnicRange } from './target-above-hypercapnic-range.js';
@@ -32,6 +34,7 @@ export type { Rule, RuleContext } from './support/rule-types.js';
 export const RULES: readonly Rule[] = [
   acuteHypercapnicAcidosis,
   carbonMonoxideOximetry,
+  escalatedSupportFailing,
   spo2BelowTarget,
   targetAboveHypercapnicRange,
   uncontrolledOxygenAtRisk,
@@ -41,6 +44,7 @@ export const RULES: readonly Rule[] = [
   targetDiffersFromPolicy,
   spo2AboveTarget,
   highOxygenRequirement,
+  risingOxygenNeed,
   venturiFlowInsufficient,
   flowOutsideDeviceRange,
   duplicateOxygenOrder,

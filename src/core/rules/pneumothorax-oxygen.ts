@@ -6,6 +6,7 @@ import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { reservoirMaskChange } from './support/reservoir-mask-change.js';
+import { patientSupportTier } from './support/support-tier.js';
 
 /**
  * Pneumothorax is documented and no hypercapnic risk is (target selection gives no SpO2 target).
@@ -23,7 +24,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const FLOW = policy.thresholds.pneumothoraxFlowLPerMin;
     const { order, target } = assessment;
     if (order === undefined || target.kind !== 'no-spo2-target' || target.condition !== 'pneumothorax') {
@@ -38,7 +39,7 @@ export const rule: Rule = {
     if (onReservoir && atFlow && order.target === undefined) {
       return [];
     }
-    const change = reservoirMaskChange(order, atFlow, FLOW);
+    const change = reservoirMaskChange(order, atFlow, FLOW, patientSupportTier(facts, order, policy, now));
     return [
       makeFinding(rule, {
         orderReference: order.reference,

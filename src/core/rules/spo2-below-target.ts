@@ -1,10 +1,13 @@
+import { highFlowAtReading } from '../assessment/bedside-physiology.js';
 import { formatFlow, formatFraction, formatPercent, formatRange } from '../assessment/format.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
+import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { keepTier, patientSupportTier } from './support/support-tier.js';
 
 /** Devices at or near the top of ward oxygen delivery: escalating beyond them needs a senior decision. */
 const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
@@ -16,26 +19,31 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
  * (BTS 2017 Table 2: below 85 % start a reservoir mask at 15 L/min), more than
  * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient was already
- * on a reservoir mask, high-flow or NIV when it was read (an active order on record, or this order
- * if written before the reading), or on a recorded FiO2 at or above `thresholds.highOxygenFio2AtLeast`.
+ * on a reservoir mask, high-flow or NIV when it was read (an active order on record, this order
+ * if written before the reading, or a recorded flow only high flow reaches), or on a recorded FiO2
+ * at or above `thresholds.highOxygenFio2AtLeast`.
  * A new order for one of those devices is the response to the reading, not a failure of it. A
  * reading taken on air, before this order starts oxygen, is reported only when critical: the order
  * itself is the response. Where no SpO2 target applies
  * (carbon monoxide, pneumothorax, cluster headache) only the critical threshold is checked. Suggests
  * a reservoir mask at the device's top flow when SpO2 is below the critical threshold, the patient is
  * not at risk of hypercapnia and the device is not already one of the above.
+ * Silent when escalated-support-failing speaks (below target on CPAP/NIV, or on high flow at a high
+ * set FiO2), so the two never repeat one message; speaks again if the hospital disables that rule.
+ * Never suggests a device on a lower tier than the patient is on (devices/device-tier.ts).
  * Source: BTS 2017 Table 2; the points-below threshold is a local choice.
  */
 export const rule: Rule = {
   id: 'spo2-below-target',
   title: 'SpO2 below the target range',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, titrationTarget, current, hypercapnicRisk } = assessment;
     const spo2 = current.spo2;
-    if (order === undefined || spo2 === undefined) {
+    // One card says one thing: below target on failing high flow or NIV is escalated-support-failing's.
+    if (order === undefined || spo2 === undefined || escalatedSupportFailingSpeaks(assessment, facts, policy, now)) {
       return [];
     }
     // Comfort oxygen in terminal palliative care is not titrated to a saturation (BTS 2017).
@@ -53,7 +61,11 @@ export const rule: Rule = {
     // Only what the patient was on when the SpO2 was read makes a low reading critical: a new order
     // for high flow or NIV is the response to the reading, not a sign that it has already failed.
     const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
-    const onTopDevice = facts.activeOrders.some(isTopDevice) || (orderInForce && isTopDevice(order));
+    // A recorded flow only high flow reaches also shows the patient on high flow at the reading.
+    const onTopDevice =
+      facts.activeOrders.some(isTopDevice) ||
+      (orderInForce && isTopDevice(order)) ||
+      highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now) !== undefined;
     const fio2AtReading = assessment.physiology.fio2AtSpo2;
     const highFio2AtReading =
       !onTopDevice &&
@@ -66,10 +78,13 @@ export const rule: Rule = {
     }
     const reservoir = DEVICE_MODELS['reservoir-mask'];
     // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
-    const change: OrderChange | undefined =
+    // Nor a mask to a patient on a higher tier of support (a recorded high flow, say): keepTier.
+    const change: OrderChange | undefined = keepTier(
       belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order) && isTitration(order)
         ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
-        : undefined;
+        : undefined,
+      patientSupportTier(facts, order, policy, now),
+    );
     const because = [
       belowCriticalLevel ? `below ${formatPercent(criticalSpo2BelowPercent)}` : undefined,
       farBelow ? `more than ${criticalPointsBelowTarget} points below the target` : undefined,

@@ -1,10 +1,11 @@
 import { findVenturiSetting } from '../devices/venturi-mask.js';
 import { formatFlow, formatPercent, formatRange } from '../assessment/format.js';
-import type { DeviceKind, Finding } from '../types.js';
+import type { DeviceKind, Finding, OrderChange } from '../types.js';
 import { deliveryComputation, describeDelivery, describeOrder, describeRiskReasons } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { keepTier, patientSupportTier } from './support/support-tier.js';
 
 /** Devices whose FiO2 is high and not controlled: the harm BTS 2017 Table 4 guards CO2 retainers from. */
 const UNCONTROLLED_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'simple-face-mask'];
@@ -21,7 +22,8 @@ const CONTROLLED_SETTING_FRACTION = 0.28;
  * Not raised where BTS Table 1 gives critically ill at-risk patients the same initial high-concentration
  * oxygen as others until blood gases are available: no current gas and SpO2 below
  * `thresholds.criticalSpo2BelowPercent`. Warning; critical when the current gas already shows
- * hypercapnia. Suggests a 28 % Venturi mask at its minimum flow.
+ * hypercapnia. Suggests a 28 % Venturi mask at its minimum flow, except to a patient on high flow or
+ * CPAP/NIV (an active order or a recorded high flow), for whom a mask is a step down in support.
  * Source: BTS 2017 Tables 1 and 4 (verified).
  */
 export const rule: Rule = {
@@ -30,7 +32,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
-  evaluate: ({ assessment, policy }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, target, hypercapnicRisk, current } = assessment;
     if (order?.device === undefined || !UNCONTROLLED_DEVICES.includes(order.device)) {
       return [];
@@ -50,6 +52,19 @@ export const rule: Rule = {
       return [];
     }
     const setting = findVenturiSetting(CONTROLLED_SETTING_FRACTION);
+    // A Venturi mask is conventional oxygen: never offered to a patient already on high flow or NIV.
+    const change: OrderChange | undefined =
+      setting === undefined
+        ? undefined
+        : keepTier(
+            {
+              kind: 'set-device',
+              device: 'venturi-mask',
+              flowLPerMin: setting.minimumFlowLPerMin,
+              setFio2Fraction: CONTROLLED_SETTING_FRACTION,
+            },
+            patientSupportTier(facts, order, policy, now),
+          );
     const computation = deliveryComputation(assessment);
     return [
       makeFinding(rule, {
@@ -61,22 +76,13 @@ export const rule: Rule = {
           riskReasons: describeRiskReasons(assessment),
           advisedRange: formatRange(target.range),
           criticalLevel: formatPercent(policy.thresholds.criticalSpo2BelowPercent),
-          ...(setting === undefined
-            ? {}
-            : { suggestedDevice: `Venturi mask 28 % at ${formatFlow(setting.minimumFlowLPerMin)}` }),
+          ...(change?.kind === 'set-device'
+            ? { suggestedDevice: `Venturi mask 28 % at ${formatFlow(change.flowLPerMin)}` }
+            : {}),
         },
         computations: computation === undefined ? [] : [computation],
         sourceKeys: ['bts-2017'],
-        ...(setting === undefined
-          ? {}
-          : {
-              change: {
-                kind: 'set-device',
-                device: 'venturi-mask',
-                flowLPerMin: setting.minimumFlowLPerMin,
-                setFio2Fraction: CONTROLLED_SETTING_FRACTION,
-              },
-            }),
+        ...(change === undefined ? {} : { change }),
       }),
     ];
   },

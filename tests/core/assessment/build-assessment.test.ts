@@ -84,7 +84,14 @@ describe('buildAssessment', () => {
     });
     const rox = buildAssessment(facts, BTS, { now: NOW }).physiology.rox;
     // Roca 2019: 92 / 0.5 / 30 = 6.13, >= 4.88 after 2 h is lower risk
-    expect(rox.kind === 'ok' && rox.value.value).toStrictEqual({ index: 92 / 0.5 / 30, hoursOnHighFlow: 3, interpretation: 'low-risk' });
+    expect(rox.kind === 'ok' && rox.value.value).toStrictEqual({
+      index: 92 / 0.5 / 30,
+      hoursOnHighFlow: 3,
+      interpretation: 'low-risk',
+      fio2Fraction: 0.5,
+      threshold: { timePoint: 2, failureBelow: 2.85, startKnown: true },
+      thresholdNote: '3 h on high flow (from the earliest high-flow order, written 3 h ago): the 2-h threshold, 2.85',
+    });
   });
 
   describe('edge cases', () => {

@@ -1,9 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import {
   interpretRox,
+  interpretRoxAt,
   ROX_HIGH_RISK_BELOW,
   ROX_LOW_RISK_AT_LEAST,
+  roxFailureBelow,
   roxIndex,
+  roxTimePoint,
 } from '../../../src/core/physiology/rox-index.js';
 
 describe('roxIndex', () => {
@@ -76,5 +79,34 @@ describe('interpretRox', () => {
     ])('refuses ROX %d at %d h', (rox, hours) => {
       expect(() => interpretRox(rox, hours)).toThrow(RangeError);
     });
+  });
+});
+
+describe('roxTimePoint and interpretRoxAt', () => {
+  it.each([
+    // Roca 2019 (check-values 3e, V): thresholds validated at 2, 6 and 12 h
+    [1.99, undefined],
+    [2, 2],
+    [5.99, 2],
+    [6, 6],
+    [11.99, 6],
+    [12, 12],
+    [48, 12], // carried forward beyond 12 h (our cautious choice)
+  ])('places %s h at the %s-h time point', (hours, timePoint) => {
+    expect(roxTimePoint(hours)).toBe(timePoint);
+  });
+
+  it.each([
+    // Roca 2019 (check-values 3e, V): failure below 2.85 / 3.47 / 3.85; >= 4.88 lower risk
+    [2, 2.84, 'high-risk'],
+    [2, 2.85, 'indeterminate'],
+    [6, 3.46, 'high-risk'],
+    [6, 3.47, 'indeterminate'],
+    [12, 3.84, 'high-risk'],
+    [12, 3.85, 'indeterminate'],
+    [12, 4.88, 'low-risk'],
+  ] as const)('at the %s-h time point reads ROX %s as %s', (timePoint, rox, reading) => {
+    expect(interpretRoxAt(rox, timePoint)).toBe(reading);
+    expect(roxFailureBelow(timePoint)).toBe({ 2: 2.85, 6: 3.47, 12: 3.85 }[timePoint]);
   });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/carbon-monoxide-oximetry.js';
-import { activeOrder, buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { activeOrder, buildFacts, condition, o2Flow, oxygenOrder } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -60,6 +60,14 @@ describe('carbon-monoxide-oximetry', () => {
   });
 
   describe('edge cases', () => {
+    it('offers no reservoir mask when a recorded flow shows the patient on high flow', () => {
+      // 50 L/min: only high flow reaches it (check-values 2a); a mask would be a step down (common practice)
+      const facts = buildFacts({ conditions: [condition('carbon-monoxide-poisoning')], orders: [oxygenOrder({ target: undefined })], o2FlowLPerMin: [o2Flow(50)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
     it('raises a reservoir mask run below 15 L/min to 15 L/min', () => {
       // BTS 2017, Table 2: reservoir mask at 15 L/min
       const facts = buildFacts({ conditions: co, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 10, target: undefined })] });

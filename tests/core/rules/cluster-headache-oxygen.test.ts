@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/cluster-headache-oxygen.js';
-import { buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { activeOrder, buildFacts, condition, oxygenOrder } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -44,6 +44,18 @@ describe('cluster-headache-oxygen', () => {
   });
 
   describe('edge cases', () => {
+    it('never offers a reservoir mask to a patient on high flow', () => {
+      // BTS 2017 (V2): reservoir mask at 12-15 L/min; a mask would be a step down from high flow (common practice)
+      const facts = buildFacts({
+        conditions: [condition('cluster-headache')],
+        orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 4, target: undefined })],
+        activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 40, setFio2Fraction: 0.4 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
     it('does not fire when the patient is at risk of hypercapnia (the at-risk range applies)', () => {
       expect(runRule(rule, buildFacts({ conditions: [...cluster, condition('copd')] }))).toStrictEqual([]);
     });

@@ -39,10 +39,11 @@ describe('high-oxygen-requirement', () => {
   });
 
   it.each([
-    // Roca 2019 (check-values 3e, V): ROX < 2.85 at 2 h, < 3.47 at 6 h, < 3.85 at 12 h predict failure
-    [2, 88, 0.9, 36, 'ROX 2.72 after 2 h, below the 2.85 failure threshold'], // (88 / 0.9) / 36 = 2.72
-    [6, 86, 0.8, 33, 'ROX 3.26 after 6 h, below the 3.47 failure threshold'], // (86 / 0.8) / 33 = 3.26
-    [12, 90, 0.7, 34, 'ROX 3.78 after 12 h, below the 3.85 failure threshold'], // (90 / 0.7) / 34 = 3.78
+    // Roca 2019 (check-values 3e, V): ROX < 2.85 at 2 h, < 3.47 at 6 h, < 3.85 at 12 h predict failure.
+    // SpO2 within 94-98 % (BTS 2017 Tables 1-3): a low ROX from the breathing rate, not a low SpO2.
+    [2, 94, 0.9, 38, 'ROX 2.75 after 2 h, below the 2.85 failure threshold'], // (94 / 0.9) / 38 = 2.75
+    [6, 95, 0.8, 35, 'ROX 3.39 after 6 h, below the 3.47 failure threshold'], // (95 / 0.8) / 35 = 3.39
+    [12, 94, 0.7, 35, 'ROX 3.84 after 12 h, below the 3.85 failure threshold'], // (94 / 0.7) / 35 = 3.84
   ])('is critical on high flow at %s h when ROX is below the Roca failure threshold', (hours, sat, f, rr, concern) => {
     const facts = buildFacts({
       orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: f })],
@@ -56,6 +57,33 @@ describe('high-oxygen-requirement', () => {
     expect(finding.values.concern).toBe(concern);
     expect(finding.sourceKeys).toContain('roca-2019');
     expect(expectCardRenders(finding).summary.startsWith('High-flow nasal cannula')).toBe(true);
+  });
+
+  it('uses the strictest ROX threshold, and says so, when the start of high flow is unknown', () => {
+    // Roca 2019: (95 / 0.7) / 36 = 3.77, above the 2-h (2.85) and 6-h (3.47) thresholds but below the
+    // 12-h one (3.85), the strictest, used when the start is unknown
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.7 })],
+      activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.7, authoredOn: undefined })],
+      spo2Percent: [spo2(95)],
+      respRatePerMin: [respRate(36)],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('critical');
+    expect(finding.values.concern).toBe('ROX 3.77, below the 3.85 failure threshold (start unknown)');
+    expect(expectCardRenders(finding).detail).toContain('the 12-h threshold, 3.85, the strictest, was used');
+  });
+
+  it('leaves a high-flow patient below target at FiO2 0.6 or more to escalated-support-failing', () => {
+    // One card says one thing: 86 % below 94-98 % (BTS 2017) at FiO2 0.8 (policy 0.6, local choice)
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.8 })],
+      activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.8, authoredOn: minutesAgo(360) })],
+      spo2Percent: [spo2(86)],
+      fio2Fraction: [fio2(0.8)],
+      respRatePerMin: [respRate(33)],
+    });
+    expect(runRule(rule, facts)).toStrictEqual([]);
   });
 
   it('stays a warning on high flow when ROX is not below the failure threshold', () => {

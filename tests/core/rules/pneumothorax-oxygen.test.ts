@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/pneumothorax-oxygen.js';
-import { buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { activeOrder, buildFacts, condition, o2Flow, oxygenOrder } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -43,6 +43,25 @@ describe('pneumothorax-oxygen', () => {
   });
 
   describe('edge cases', () => {
+    it('never offers a reservoir mask to a patient on high flow or NIV', () => {
+      // BTS 2017 Table 2 advises the reservoir mask; taking a patient off high flow or NIV onto a mask
+      // is a step down in support (common practice), so the card advises without the change.
+      const onHighFlow = buildFacts({
+        conditions: [condition('pneumothorax')],
+        orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 2, target: undefined })],
+        activeOrders: [activeOrder({ device: 'cpap-niv', flowLPerMin: undefined, setFio2Fraction: 0.4 })],
+      });
+      expect(onlyFinding(runRule(rule, onHighFlow)).change).toBeUndefined();
+      const recordedHighFlow = buildFacts({
+        conditions: [condition('pneumothorax')],
+        orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 40, setFio2Fraction: 0.5, target: undefined })],
+        o2FlowLPerMin: [o2Flow(40)], // 40 L/min: only high flow reaches it (check-values 2a)
+      });
+      const finding = onlyFinding(runRule(rule, recordedHighFlow));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
     it('notes a target on an otherwise right order', () => {
       const facts = buildFacts({ conditions: pneumothorax, orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })] });
       const finding = onlyFinding(runRule(rule, facts));

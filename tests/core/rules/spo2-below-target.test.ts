@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/spo2-below-target.js';
-import { BTS, activeOrder, buildFacts, condition, fio2, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
+import { BTS, activeOrder, buildFacts, condition, fio2, o2Flow, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -103,6 +103,19 @@ describe('spo2-below-target', () => {
       const finding = onlyFinding(runRule(rule, facts));
       expect(finding.indicator).toBe('critical');
       expect(finding.change).toBeUndefined();
+    });
+
+    it('never offers a reservoir mask when a recorded flow shows the patient on high flow', () => {
+      // 45 L/min: only high flow reaches it (HFNC median 45 L/min, Li 2021; check-values 2a); a mask is
+      // a step down in support (common practice) even below 85 % (BTS 2017 Table 2)
+      const facts = buildFacts({ orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 6 })], o2FlowLPerMin: [o2Flow(45, 30)], spo2Percent: [spo2(82)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe('critical');
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.suggestedDevice).toBeUndefined();
+      // One point below 94-98 % (BTS 2017) is critical on recorded high flow, as on an ordered one
+      const onePointLow = buildFacts({ orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 6 })], o2FlowLPerMin: [o2Flow(45, 30)], spo2Percent: [spo2(93)] });
+      expect(onlyFinding(runRule(rule, onePointLow)).values.urgency).toBe('already on a reservoir mask, high-flow or NIV');
     });
 
     it('reports a reading taken on air before oxygen starts only when critical', () => {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/uncontrolled-oxygen-at-risk.js';
-import { bloodGas, buildFacts, condition, oxygenOrder, spo2 } from '../facts-builder.js';
+import { activeOrder, bloodGas, buildFacts, condition, oxygenOrder, spo2 } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -48,6 +48,19 @@ describe('uncontrolled-oxygen-at-risk', () => {
   });
 
   describe('edge cases', () => {
+    it('never offers a Venturi mask to a patient on NIV', () => {
+      // BTS 2017 Table 4 advises a Venturi for an at-risk patient on a mask; for a patient on NIV
+      // (BTS/ICS 2016) a mask is a step down in support (common practice), so no change is offered.
+      const facts = buildFacts({
+        conditions: [condition('copd')],
+        orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })],
+        activeOrders: [activeOrder({ device: 'cpap-niv', flowLPerMin: undefined, setFio2Fraction: 0.35 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
     it('stays quiet for a critically ill at-risk patient with no gas yet, SpO2 below 85 %', () => {
       // BTS 2017, Table 1: critically ill at-risk patients get high-concentration oxygen until gases
       // are available; BTS 2017, Table 2: the 85 % threshold for a reservoir mask.

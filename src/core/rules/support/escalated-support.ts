@@ -1,0 +1,92 @@
+import { highFlowAtReading } from '../../assessment/bedside-physiology.js';
+import type { Assessment } from '../../assessment/types.js';
+import type { Policy } from '../../policy.js';
+import type { Facts, Measured, OxygenOrder, SaturationRange } from '../../types.js';
+
+/** The rule that owns the "escalated support failing" message; other rules stay silent when it fires. */
+export const ESCALATED_SUPPORT_FAILING_ID = 'escalated-support-failing';
+
+/** A patient below target on high flow at a high set FiO2, or on CPAP/NIV: therapy at the top of the ward failing. */
+export interface EscalatedSupportFailure {
+  readonly support: 'high-flow' | 'cpap-niv';
+  readonly spo2: Measured;
+  readonly target: SaturationRange;
+  /** On high flow: the FiO2 at the reading (recorded, else set on the order in force), with its basis in words. */
+  readonly fio2AtReading: { readonly fraction: number; readonly words: string } | undefined;
+  /** On high flow: the set FiO2 this order asks for, when at or above the threshold and not the one at the reading. */
+  readonly orderedHighFio2: number | undefined;
+}
+
+function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boolean {
+  const isNiv = (o: OxygenOrder): boolean => o.device === 'cpap-niv';
+  const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
+  return facts.activeOrders.some(isNiv) || (orderInForce && isNiv(order));
+}
+
+/**
+ * Whether the patient is failing escalated support: the current SpO2 is below the titration target
+ * while on CPAP/NIV, or on high flow at a set FiO2 at or above `thresholds.highFlowFailingFio2AtLeast`
+ * (at the reading, or set by this order). "On" means in force when the SpO2 was read: an active order
+ * on record, this order if written before the reading, or for high flow a recorded flow only high
+ * flow reaches; a new order for high flow or NIV is the response to the reading, not its failure.
+ * Not for comfort orders (no titration) or where no SpO2 target applies.
+ */
+export function findEscalatedSupportFailure(
+  assessment: Assessment,
+  facts: Facts,
+  policy: Policy,
+  now: Date,
+): EscalatedSupportFailure | undefined {
+  const { order, titrationTarget } = assessment;
+  const spo2 = assessment.current.spo2;
+  if (order === undefined || spo2 === undefined || titrationTarget === undefined || order.purpose === 'comfort') {
+    return undefined;
+  }
+  if (spo2.value >= titrationTarget.range.lowPercent) {
+    return undefined;
+  }
+  const base = { spo2, target: titrationTarget.range };
+  if (cpapNivInForce(facts, order, spo2)) {
+    return { ...base, support: 'cpap-niv', fio2AtReading: undefined, orderedHighFio2: undefined };
+  }
+  const highFlow = highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now);
+  if (highFlow === undefined) {
+    return undefined;
+  }
+  const threshold = policy.thresholds.highFlowFailingFio2AtLeast;
+  const atReading = assessment.physiology.fio2AtSpo2;
+  const fio2AtReading =
+    atReading.kind === 'ok' && atReading.value.basis === 'recorded-fio2'
+      ? { fraction: atReading.value.estimate, words: 'recorded at the reading' }
+      : highFlow.orderedSetFio2 === undefined
+        ? undefined
+        : { fraction: highFlow.orderedSetFio2, words: 'set on the high-flow order' };
+  // This order's own setting counts when it raises the FiO2 to the threshold or above.
+  const ordered =
+    order.device === 'high-flow-nasal-cannula' &&
+    order.setFio2Fraction !== undefined &&
+    order.setFio2Fraction >= threshold &&
+    order.setFio2Fraction !== fio2AtReading?.fraction
+      ? order.setFio2Fraction
+      : undefined;
+  if ((fio2AtReading === undefined || fio2AtReading.fraction < threshold) && ordered === undefined) {
+    return undefined;
+  }
+  return { ...base, support: 'high-flow', fio2AtReading, orderedHighFio2: ordered };
+}
+
+/**
+ * True when `escalated-support-failing` will say it for this order: the failure is found and the
+ * hospital has not switched that rule off (then the other rules speak as before, so nothing is lost).
+ */
+export function escalatedSupportFailingSpeaks(
+  assessment: Assessment,
+  facts: Facts,
+  policy: Policy,
+  now: Date,
+): boolean {
+  return (
+    !policy.disabledRules.includes(ESCALATED_SUPPORT_FAILING_ID) &&
+    findEscalatedSupportFailure(assessment, facts, policy, now) !== undefined
+  );
+}
