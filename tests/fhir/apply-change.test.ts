@@ -207,6 +207,7 @@ describe('applyOrderChange', () => {
       const after = applyOrderChange(odd, { kind: 'set-flow', flowLPerMin: 2 });
       expect((after?.['dosageInstruction'] as unknown[])[0]).toStrictEqual({
         doseAndRate: [{ rateQuantity: { value: 2, unit: 'L/min', system: UCUM, code: 'L/min' } }],
+        text: 'Oxygen flow 2 L/min.', // the words state the change on their own
       });
     });
 
