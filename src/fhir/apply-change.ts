@@ -152,7 +152,8 @@ function changedWhat(change: OrderChange): string {
 /**
  * Why the words cannot take the change safely, or undefined. Only a new target is refused: a target
  * is not added to an order that says it has none or is for comfort (BTS 2017: in terminal palliative
- * care oxygen is for comfort), nor written over a target stated with a condition or two ranges.
+ * care oxygen is for comfort) or that stops oxygen, nor written over a target stated with a condition
+ * or two ranges.
  */
 function refusal(resource: FhirResource, change: OrderChange): string | undefined {
   const type = resource.resourceType;
@@ -164,6 +165,9 @@ function refusal(resource: FhirResource, change: OrderChange): string | undefine
   if (note?.kind === 'no-target' || order.purpose === 'comfort') {
     const said = note === undefined ? '' : ` ("${note.text}")`;
     return `the order says it has no SpO2 target or is for comfort${said}; adding a target is the prescriber's decision, so no one-click change is offered.`;
+  }
+  if (order.purpose === 'stop') {
+    return 'the order stops oxygen; a target is not added to it by a one-click change.';
   }
   if (note?.kind === 'ambiguous') {
     return `the order's target is written as "${note.text}", with two ranges or a condition; which range is meant is the prescriber's to say, so the words are not rewritten by a one-click change.`;

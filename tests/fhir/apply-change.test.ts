@@ -304,6 +304,11 @@ describe('applyOrderChange', () => {
       expect(applyOrderChange(withText('mr-33', text), HYPERCAPNIC)).toBeUndefined();
     });
 
+    it('withholds a target from an order that stops oxygen', () => {
+      const result = planOrderChange(withText('mr-37', 'Stop oxygen'), HYPERCAPNIC); // common practice
+      expect(result).toStrictEqual({ kind: 'withheld', reason: 'the order stops oxygen; a target is not added to it by a one-click change.' });
+    });
+
     it.each([
       '2L NC, 88–92 % if drowsy, otherwise 94–98 %',
       '2L NC, SpO2 94–98 % until the gas is back',
