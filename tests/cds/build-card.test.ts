@@ -260,6 +260,7 @@ describe('buildCard: a suggestion that changes only what it says', () => {
 
   it('carries an earlier change only when its words could take it', () => {
     const draft = withInstruction('Oxygen 3 L/min via nasal cannula, SpO2 94–98 % until the gas is back');
+    // BTS 2017 Table 4: nasal cannulae at 1-2 L/min for the at-risk patient
     const flowFinding = { ...finding, ruleId: 'target-above-hypercapnic-range', change: { kind: 'set-flow', flowLPerMin: 2 } as const };
     const card = buildCard(flowFinding, {
       ...ctx,
