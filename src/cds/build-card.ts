@@ -2,7 +2,7 @@ import type { Assessment } from '../core/assessment/types.js';
 import { formatFlow, formatRange } from '../core/assessment/format.js';
 import type { Policy } from '../core/policy.js';
 import type { Facts, Finding, OrderChange } from '../core/types.js';
-import { applyOrderChange } from '../fhir/apply-change.js';
+import { planOrderChange } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import {
   calculationSection,
@@ -13,7 +13,7 @@ import {
   setAsideSection,
   sourcesSection,
 } from './card-detail.js';
-import { renderTemplate, type CardTemplate } from './card-templates.js';
+import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
 
@@ -87,34 +87,57 @@ function lowerFirst(text: string): string {
   return text.charAt(0).toLowerCase() + text.slice(1);
 }
 
-function buildSuggestion(
-  finding: Finding,
-  ctx: CardBuildContext,
-  uuid: string,
-  problems: string[],
-): Suggestion | undefined {
+interface SuggestionOutcome {
+  readonly suggestion: Suggestion | undefined;
+  /** Why a change the finding offers is not a one-click suggestion, for the card's detail. */
+  readonly withheldReason: string | undefined;
+}
+
+const NONE: SuggestionOutcome = { suggestion: undefined, withheldReason: undefined };
+
+/** "(the order text also gives 4 L/min; left as written and marked for review)". */
+function leftAsWrittenNote(values: readonly string[]): string {
+  const quoted = values.map((v) => `"${v}"`).join(', ');
+  return ` (the order text also gives ${quoted}: left as written and marked for review)`;
+}
+
+function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, problems: string[]): SuggestionOutcome {
   const change = finding.change;
   if (change === undefined) {
-    return undefined;
+    return NONE;
   }
   if (ctx.draftResource === undefined) {
     problems.push(`${finding.ruleId}: change offered but its order is not in draftOrders; suggestion left out`);
-    return undefined;
+    return NONE;
   }
-  const carried = (ctx.earlierChanges ?? []).filter((earlier) => !overlaps(earlier, change));
-  const changes = [...carried, change];
-  const resource = changes.reduce<FhirResource | undefined>(
-    (current, next) => (current === undefined ? undefined : applyOrderChange(current, next)),
-    ctx.draftResource,
-  );
-  if (resource === undefined) {
+  // Earlier changes the words cannot take were never offered, so they are not carried either.
+  let resource: FhirResource = ctx.draftResource;
+  const carried: OrderChange[] = [];
+  for (const earlier of (ctx.earlierChanges ?? []).filter((e) => !overlaps(e, change))) {
+    const plan = planOrderChange(resource, earlier);
+    if (plan.kind === 'cannot-copy') {
+      problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
+      return NONE;
+    }
+    if (plan.kind === 'changed') {
+      resource = plan.resource;
+      carried.push(earlier);
+    }
+  }
+  const plan = planOrderChange(resource, change);
+  if (plan.kind === 'cannot-copy') {
     problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
-    return undefined;
+    return NONE;
   }
-  if (resource.resourceType !== ctx.draftResource.resourceType || resource.id !== ctx.draftResource.id) {
+  if (plan.kind === 'withheld') {
+    return { suggestion: undefined, withheldReason: plan.reason };
+  }
+  const changed = plan.resource;
+  if (changed.resourceType !== ctx.draftResource.resourceType || changed.id !== ctx.draftResource.id) {
     problems.push(`${finding.ruleId}: the changed resource lost its type or id; suggestion left out`);
-    return undefined;
+    return NONE;
   }
+  const changes = [...carried, change];
   let label = describeChange(change);
   if (ctx.template.suggestionLabel === undefined) {
     problems.push(`${finding.ruleId}: template has no suggestionLabel`);
@@ -123,16 +146,22 @@ function buildSuggestion(
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
     label = rendered.text;
   }
+  if (plan.leftAsWritten.length > 0) {
+    label = `${label}${leftAsWrittenNote(plan.leftAsWritten)}`;
+  }
   if (carried.length > 0) {
     label = `${label} (keeps: ${carried.map((c) => lowerFirst(describeChange(c))).join('; ')})`;
   }
   return {
-    label,
-    uuid: suggestionUuid(uuid, 0),
-    isRecommended: true,
-    actions: [
-      { type: 'update', description: `${changes.map(describeChange).join('; ')} on the draft order.`, resource },
-    ],
+    withheldReason: undefined,
+    suggestion: {
+      label,
+      uuid: suggestionUuid(uuid, 0),
+      isRecommended: true,
+      actions: [
+        { type: 'update', description: `${changes.map(describeChange).join('; ')} on the draft order.`, resource: changed },
+      ],
+    },
   };
 }
 
@@ -168,11 +197,12 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
   };
 
-  const suggestion = buildSuggestion(finding, ctx, uuid, problems);
+  const { suggestion, withheldReason } = buildSuggestion(finding, ctx, uuid, problems);
+  const withheld = withheldReason === undefined ? '' : `\n\nNo one-click change is offered: ${escapeMarkdown(withheldReason)}`;
   const card: Card = {
     uuid,
     summary: truncateSummary(summary.text.trim()),
-    detail: `${detail.text.trim()}\n\n${sections}`,
+    detail: `${detail.text.trim()}${withheld}\n\n${sections}`,
     indicator: finding.indicator,
     source,
     ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),

@@ -1,20 +1,42 @@
 import type { OrderChange, SaturationRange } from '../core/types.js';
+import { changeNote, currentWords } from './change-note.js';
 import { EXTENSION_URLS } from './codes.js';
 import type { FhirResource } from './gathered-data.js';
 import { isObject } from './json.js';
 import { parameterSays } from './order-parts.js';
-import { rewriteDevice, rewriteFlow, rewriteTarget, type Rewrite } from './rewrite-text.js';
+import { readDeviceText } from './read-device-text.js';
+import { readOrder } from './read-order.js';
+import { readSettingText } from './read-setting-text.js';
+import { readWrittenTarget } from './read-target-text.js';
+import { deviceWords, formatNumber, formatPercent, rewriteDevice, rewriteFlow, rewriteTarget, type Rewrite } from './rewrite-text.js';
 import { pruneEmpty, textSlots, type Json } from './text-slots.js';
 import { firstObject, objects, ucumQuantity, writeDevice, writeFio2, writeFlow } from './write-order-fields.js';
 
 /**
  * The suggestion's new draft: a deep copy of the order with the same resourceType and id, the change
- * written into the coded elements and into every text field that stated the old value, so the order
- * never says two things (docs/fhir-input.md, "Writing a change"). A resource that is not one of the
- * three order types comes back as an unchanged copy. Never throws. Returns undefined when the order
- * cannot be copied whole (e.g. nesting too deep to serialise): an `update` replaces the whole resource,
- * so a partial copy accepted by the user would wipe the rest of the order. No suggestion is better.
+ * written into the coded elements and into the exact words that stated the old value, so the order
+ * never says two things (docs/fhir-input.md, "Writing a change"). Nothing else in the words changes.
+ * Where a text also holds other values of the same kind (a contingency plan, an escalation flow), those
+ * stay as written and a marked note says so ("[Advisory change: ...]"); the caller lists them in the
+ * suggestion's label. Where the words cannot be safely rewritten (a target written with a condition or
+ * two ranges; an order that says it has no SpO2 target or is for comfort), no changed resource is
+ * offered and the plan says why. After the change the words alone state the new value, because a
+ * client may keep only the text: a statement is appended to the main instruction when no words did.
+ * A resource that is not one of the three order types comes back as an unchanged copy. Never throws.
+ * Offers no changed resource when the order cannot be copied whole (e.g. nesting too deep to
+ * serialise): an `update` replaces the whole resource, so a partial copy accepted by the user would
+ * wipe the rest of the order. No suggestion is better.
  */
+
+export type ChangePlan =
+  | {
+      readonly kind: 'changed';
+      readonly resource: FhirResource;
+      /** Values of the same kind the words also state, left as written and marked for review. */
+      readonly leftAsWritten: readonly string[];
+    }
+  | { readonly kind: 'withheld'; readonly reason: string }
+  | { readonly kind: 'cannot-copy' };
 
 function clone(resource: FhirResource): Json | undefined {
   try {
@@ -42,15 +64,115 @@ function writeTarget(resource: Json, range: SaturationRange): void {
   }
 }
 
-/** Rewrites every text slot; true when any of them stated a value of the kind. */
-function rewriteTexts(resource: Json, rewrite: (text: string) => Rewrite): boolean {
+interface TextsRewrite {
+  readonly stated: boolean;
+  readonly leftAsWritten: readonly string[];
+}
+
+const CHANGE_NOTES = /\s*\[Advisory change:[^\]]*\]/g;
+
+/**
+ * Rewrites every text slot: the words before any earlier change note are rewritten, earlier notes are
+ * kept, and a new note is added where the words hold other values of the kind that were left alone.
+ * A coding whose display stated the old value is dropped (its code still means the old value), its
+ * new words kept in the concept's text.
+ */
+function rewriteTexts(resource: Json, rewrite: (text: string) => Rewrite, what: string): TextsRewrite {
   let stated = false;
+  const left: string[] = [];
   for (const slot of textSlots(resource)) {
-    const result = rewrite(slot.text);
+    const earlierNotes = slot.text.match(CHANGE_NOTES)?.join('') ?? '';
+    const result = rewrite(currentWords(slot.text));
     stated ||= result.stated;
-    slot.holder[slot.key] = result.text;
+    const note = result.stated && result.leftAsWritten.length > 0 ? ` ${changeNote(what, result.leftAsWritten)}` : '';
+    left.push(...(result.stated ? result.leftAsWritten : []));
+    const text = `${result.text}${earlierNotes}${note}`;
+    if (slot.concept === undefined) {
+      slot.holder[slot.key] = text;
+    } else if (text !== slot.text) {
+      const codings = slot.concept['coding'];
+      if (Array.isArray(codings)) slot.concept['coding'] = codings.filter((c) => c !== slot.holder);
+      if (typeof slot.concept['text'] !== 'string') slot.concept['text'] = text;
+    }
   }
-  return stated;
+  return { stated, leftAsWritten: [...new Set(left)] };
+}
+
+/** The words of every text slot, as the reader reads them. */
+function currentTexts(resource: Json): string[] {
+  return textSlots(resource).map((s) => currentWords(s.text));
+}
+
+function firstFlow(texts: readonly string[]): number | undefined {
+  return texts.map((t) => readSettingText(t, undefined).flowLPerMin).find((f) => f !== undefined);
+}
+
+/** Whether the words alone, read as the reader reads them, state the new value. */
+function wordsState(resource: Json, change: OrderChange): boolean {
+  const texts = currentTexts(resource);
+  switch (change.kind) {
+    case 'set-target': {
+      const written = readWrittenTarget(texts);
+      return (
+        written.note === undefined &&
+        written.range?.lowPercent === change.range.lowPercent &&
+        written.range.highPercent === change.range.highPercent
+      );
+    }
+    case 'set-flow':
+      return firstFlow(texts) === change.flowLPerMin;
+    case 'set-device': {
+      const device = texts.map(readDeviceText).find((r) => r !== undefined)?.device;
+      const fio2 = texts.map((t) => readSettingText(t, change.device).setFio2Fraction).find((f) => f !== undefined);
+      return device === change.device && firstFlow(texts) === change.flowLPerMin && fio2 === change.setFio2Fraction;
+    }
+  }
+}
+
+/** The sentence that states the change on its own, for an order whose words did not state it. */
+function statement(change: OrderChange): string {
+  switch (change.kind) {
+    case 'set-target':
+      return `Target SpO2 ${change.range.lowPercent}-${change.range.highPercent}%.`;
+    case 'set-flow':
+      return `Oxygen flow ${formatNumber(change.flowLPerMin)} L/min.`;
+    case 'set-device': {
+      const fio2 = change.setFio2Fraction;
+      const setting = fio2 === undefined || change.device === 'venturi-mask' ? '' : `, FiO2 ${formatPercent(fio2)}%`;
+      return `Oxygen by ${deviceWords(change.device, fio2)} at ${formatNumber(change.flowLPerMin)} L/min${setting}.`;
+    }
+  }
+}
+
+/** What the change note says changed: "target now 88-92%". */
+function changedWhat(change: OrderChange): string {
+  return `${statement(change).replace(/\.$/, '').replace(/^Oxygen flow/, 'flow now').replace(/^Target SpO2/, 'target now').replace(/^Oxygen by/, 'device now')}`;
+}
+
+/**
+ * Why the words cannot take the change safely, or undefined. Only a new target is refused: a target
+ * is not added to an order that says it has none or is for comfort (BTS 2017: in terminal palliative
+ * care oxygen is for comfort) or that stops oxygen, nor written over a target stated with a condition
+ * or two ranges.
+ */
+function refusal(resource: FhirResource, change: OrderChange): string | undefined {
+  const type = resource.resourceType;
+  if (change.kind !== 'set-target' || (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest')) {
+    return undefined;
+  }
+  const { order } = readOrder(resource, type, `${type}/${resource.id ?? ''}`, true);
+  const note = order.targetNote;
+  if (note?.kind === 'no-target' || order.purpose === 'comfort') {
+    const said = note === undefined ? '' : ` ("${note.text}")`;
+    return `the order says it has no SpO2 target or is for comfort${said}; adding a target is the prescriber's decision, so no one-click change is offered.`;
+  }
+  if (order.purpose === 'stop') {
+    return 'the order stops oxygen; a target is not added to it by a one-click change.';
+  }
+  if (note?.kind === 'ambiguous') {
+    return `the order's target is written as "${note.text}", with two ranges or a condition; which range is meant is the prescriber's to say, so the words are not rewritten by a one-click change.`;
+  }
+  return undefined;
 }
 
 /** The main instruction: dosageInstruction[0].text; else patientInstruction; else the first note. */
@@ -73,35 +195,47 @@ function appendToMainText(resource: Json, sentence: string): void {
   holder[key] = base === '' ? sentence : `${base}${joiner}${sentence}`;
 }
 
-export function applyOrderChange(resource: FhirResource, change: OrderChange): FhirResource | undefined {
+/** Plans the change: the changed copy with the values left as written, or why there is none. */
+export function planOrderChange(resource: FhirResource, change: OrderChange): ChangePlan {
   const copy = clone(resource);
   if (copy === undefined) {
-    return undefined;
+    return { kind: 'cannot-copy' };
   }
   const type = copy['resourceType'];
   if (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest') {
-    return copy as FhirResource;
+    return { kind: 'changed', resource: copy as FhirResource, leftAsWritten: [] };
   }
+  const refused = refusal(resource, change);
+  if (refused !== undefined) {
+    return { kind: 'withheld', reason: refused };
+  }
+  const what = changedWhat(change);
+  let rewritten: TextsRewrite;
   switch (change.kind) {
-    case 'set-target': {
-      const { lowPercent, highPercent } = change.range;
+    case 'set-target':
       writeTarget(copy, change.range);
-      if (!rewriteTexts(copy, (t) => rewriteTarget(t, change.range))) {
-        appendToMainText(copy, `Target SpO2 ${lowPercent}-${highPercent}%.`);
-      }
+      rewritten = rewriteTexts(copy, (t) => rewriteTarget(t, change.range), what);
       break;
-    }
     case 'set-flow':
       writeFlow(copy, change.flowLPerMin);
-      rewriteTexts(copy, (t) => rewriteFlow(t, change.flowLPerMin));
+      rewritten = rewriteTexts(copy, (t) => rewriteFlow(t, change.flowLPerMin), what);
       break;
     case 'set-device':
-      rewriteTexts(copy, (t) => rewriteDevice(t, change));
+      rewritten = rewriteTexts(copy, (t) => rewriteDevice(t, change), what);
       writeDevice(copy, change.device, change.setFio2Fraction);
       writeFlow(copy, change.flowLPerMin);
       writeFio2(copy, change.setFio2Fraction);
       break;
   }
+  if (!wordsState(copy, change)) {
+    appendToMainText(copy, statement(change));
+  }
   pruneEmpty(copy);
-  return copy as FhirResource;
+  return { kind: 'changed', resource: copy as FhirResource, leftAsWritten: rewritten.leftAsWritten };
+}
+
+/** The changed copy, or undefined when the change is withheld or the order cannot be copied whole. */
+export function applyOrderChange(resource: FhirResource, change: OrderChange): FhirResource | undefined {
+  const plan = planOrderChange(resource, change);
+  return plan.kind === 'changed' ? plan.resource : undefined;
 }

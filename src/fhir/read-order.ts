@@ -1,4 +1,5 @@
-import type { DeviceKind, OrderTarget, OxygenOrder, SetAsideNote } from '../core/types.js';
+import type { DeviceKind, OrderTarget, OxygenOrder, SetAsideNote, TargetNote } from '../core/types.js';
+import { currentWords } from './change-note.js';
 import type { FhirResource } from './gathered-data.js';
 import type { OrderResourceType } from './is-oxygen-order.js';
 import { objectAt, quantityOf, stringAt, unitOf } from './json.js';
@@ -8,7 +9,8 @@ import { readDeviceText } from './read-device-text.js';
 import { readRangeAsTarget, readTargetExtension } from './read-order-target.js';
 import { readQuantity } from './read-quantity.js';
 import { readSettingText, type SettingTextRead } from './read-setting-text.js';
-import { readTargetText } from './read-target-text.js';
+import { readOrderPurpose } from './read-order-purpose.js';
+import { rangeKeepsBound, readWrittenTarget } from './read-target-text.js';
 import { normaliseUnit } from '../units/convert.js';
 
 /**
@@ -111,22 +113,39 @@ function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
   return { device: chosen.device, text: chosen.text };
 }
 
-function readTarget(parts: OrderParts, reference: string, notes: OrderNotes): OrderTarget | undefined {
+interface TargetRead {
+  readonly target: OrderTarget | undefined;
+  readonly note: TargetNote | undefined;
+}
+
+function readTarget(parts: OrderParts, texts: readonly string[], reference: string, notes: OrderNotes): TargetRead {
   let structured = readTargetExtension(parts.targetHolders, reference);
   for (const range of parts.targetRanges) {
     if (structured.range !== undefined) break;
     structured = readRangeAsTarget(range, 'Target SpO2 parameter', reference);
   }
   notes.list.push(...structured.notes);
-  const written = parts.texts.map(readTargetText).find((r) => r !== undefined);
+  const written = readWrittenTarget(texts);
   if (structured.range === undefined) {
-    return written === undefined ? undefined : { ...written, readFrom: 'text' };
+    return { target: written.range === undefined ? undefined : { ...written.range, readFrom: 'text' }, note: written.note };
   }
   const { lowPercent: low, highPercent: high } = structured.range;
-  if (written !== undefined && (written.lowPercent !== low || written.highPercent !== high)) {
-    notes.disagree('Ordered target SpO2', `${low}–${high} %`, `${written.lowPercent}–${written.highPercent} %`);
+  const target: OrderTarget = { ...structured.range, readFrom: 'structured' };
+  const note = written.note;
+  if (note?.kind === 'one-sided') {
+    // A coded range with a bound in the words that it keeps is one target; one it breaks is two.
+    return rangeKeepsBound(structured.range, note.bound, note.percent)
+      ? { target, note: undefined }
+      : { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
   }
-  return { ...structured.range, readFrom: 'structured' };
+  if (note?.kind === 'no-target') {
+    return { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
+  }
+  if (note === undefined && written.range !== undefined && (written.range.lowPercent !== low || written.range.highPercent !== high)) {
+    const shown = `${written.range.lowPercent}–${written.range.highPercent} %`;
+    notes.disagree('Ordered target SpO2', `${low}–${high} %`, shown);
+  }
+  return { target, note };
 }
 
 function readFlow(
@@ -177,23 +196,27 @@ export function readOrder(
 ): OrderRead {
   const notes = new OrderNotes(reference);
   const parts = orderParts(resource, type);
+  // Words a suggestion marked as a change note are for the reader of the order, not what it says.
+  const texts = parts.texts.map(currentWords);
   const coded = readStructuredSettings(parts.quantities, notes);
-  const device = readDevice(parts, notes);
-  const written = parts.texts.map((t) => readSettingText(t, device.device));
+  const device = readDevice({ ...parts, texts }, notes);
+  const written = texts.map((t) => readSettingText(t, device.device));
   const flowLPerMin = readFlow(parts, coded.flow, written, notes);
   const setFio2Fraction = readFio2(coded.fio2, written, notes);
+  const target = readTarget(parts, texts, reference, notes);
+  const status = stringAt(resource, 'status');
   return {
     order: {
       reference,
       resourceType: type,
-      status: stringAt(resource, 'status'),
+      status,
       device: device.device,
       deviceText: device.text,
       flowLPerMin,
       setFio2Fraction,
-      target: readTarget(parts, reference, notes),
-      targetNote: undefined,
-      purpose: 'titrate',
+      target: target.target,
+      targetNote: target.note,
+      purpose: readOrderPurpose({ status, doNotPerform: resource['doNotPerform'] === true, texts, flowLPerMin }),
       authoredOn: stringAt(resource, 'authoredOn'),
       isSubject,
     },

@@ -2,7 +2,7 @@ import type { DeviceKind } from '../core/types.js';
 import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { isOutsideTheOrder } from './read-device-text.js';
-import { findTargetMentions } from './read-target-text.js';
+import { findBoundMentions, findTargetMentions } from './read-target-text.js';
 
 /**
  * Finds the oxygen flow and set FiO2 written in order words: "2 L/min", "2L", "15 litres per minute",
@@ -114,7 +114,10 @@ export function findFio2Mentions(text: string, device: DeviceKind | undefined): 
       mentions.push({ start: m.index, end, fraction, style: 'percent', valueStart, valueEnd });
     }
   }
-  const targets = findTargetMentions(text);
+  const ranges = findTargetMentions(text);
+  const bounds = findBoundMentions(text, ranges);
+  // A saturation written as a range or a bound ("≥ 92 %", "if SpO2 below 85 %") is never a setting.
+  const targets = [...ranges, ...bounds.targets, ...bounds.triggers];
   for (const m of text.matchAll(PERCENT)) {
     const start = m.index;
     const end = start + m[0].length;

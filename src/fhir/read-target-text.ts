@@ -1,34 +1,88 @@
-import type { SaturationRange } from '../core/types.js';
+import type { SaturationRange, TargetNote } from '../core/types.js';
 import { PLAUSIBLE, isPlausible } from './plausibility.js';
 
 /**
- * Finds target SpO2 ranges written in order text: "target SpO2 88-92%", "88–92%", "SpO2 94 to 98 %",
- * "aim sats 88-92". A range counts when a saturation word comes before it in the same clause, or when
- * it ends in "%" and no FiO2 word precedes it. Both ends must be 50–100 with low below high.
+ * Finds target SpO2 statements in order text, in the notations prescribers use:
+ * - ranges: "target SpO2 88-92%", "88–92%" (any Unicode dash or minus), "SpO2 94 to 98 %", "aim sats
+ *   88-92", "between 88 and 92 percent", "88-92 per cent";
+ * - one bound: "SpO2 > 94%", "keep sats above 92", "≥ 92 %", "at least 92%", "sats not below 88";
+ * - conditions on a target: "88–92 % if drowsy", "94–98 % until the gas is back";
+ * - statements that there is no SpO2 target: "no SpO2 target", "titrate to comfort", "do not monitor sats".
+ * A number counts when a saturation word comes before it in the same clause, or when it ends in "%"
+ * and no FiO2 word precedes it. Trigger clauses ("if SpO2 below 85 % call doctor") are contingency plans,
+ * not targets; they are returned separately so a rewrite can say it left them alone.
  */
 
 export interface TargetMention {
   readonly range: SaturationRange;
-  /** Offsets of the whole range and of each number, so a rewrite can keep the writer's style. */
+  /** Offsets of the whole statement and of each number, so a rewrite can keep the writer's style. */
   readonly start: number;
   readonly end: number;
   readonly lowStart: number;
   readonly lowEnd: number;
   readonly highStart: number;
   readonly highEnd: number;
+  /** True when words around it make it conditional ("if drowsy", "until the gas is back"). */
+  readonly conditional: boolean;
 }
 
-const RANGE =
-  /(?<![\d.])(\d{2,3})(\s*%?\s*(?:-|–|—|to)\s*)(\d{2,3})(?![\d])(\s*%)?(?!\s*(?:mm|kpa|l\b|l\/|lpm|litre|liter|torr))/gi;
-const SATURATION_WORD = /\b(?:target(?:ing)?|aim(?:ing)?|sats?|saturations?|spo2|sao2|sp02|o2 sat|keep|maintain|titrate|goal|range)\b/i;
-const FIO2_WORD = /\b(?:fi\s?[o0]2|venturi|concentration|blender|entrainment)\b/i;
+export type Bound = 'at-least' | 'above' | 'at-most' | 'below';
+
+export interface BoundMention {
+  readonly bound: Bound;
+  readonly percent: number;
+  /** Offsets of the comparison and the number ("above 92", "≥ 92 %"). */
+  readonly start: number;
+  readonly end: number;
+  readonly conditional: boolean;
+}
+
+/** Hyphen, the Unicode hyphens and dashes, the minus sign, and the small and full-width hyphen-minus. */
+export const DASH_CLASS = '[-\u2010\u2011\u2012\u2013\u2014\u2212\uFE63\uFF0D]';
+const PERCENT = String.raw`\s*(?:%|\uFF05|per\s?cent\b|pc\b)`;
+const NOT_A_SATURATION_UNIT = String.raw`(?!\s*(?:mm|kpa|l\b|l\/|lpm|litre|liter|torr|cm|breaths|bpm|\/min))`;
+
+const RANGE = new RegExp(
+  String.raw`(?<![\d.])(?:(between|from)\s+)?(\d{2,3})((?:${PERCENT})?\s*(?:${DASH_CLASS}|\bto\b|\band\b)\s*)(\d{2,3})(?!\d|\.\d)(${PERCENT})?${NOT_A_SATURATION_UNIT}`,
+  'gi',
+);
+
+const AT_LEAST = String.raw`≥|>=|=>|at\s+least|not\s+(?:less|lower)\s+than|no\s+(?:less|lower)\s+than|not\s+below|not\s+under|not\s+<|minimum(?:\s+of)?|min\.?`;
+const AT_MOST = String.raw`≤|<=|=<|at\s+most|not\s+(?:more|greater|higher)\s+than|no\s+(?:more|greater|higher)\s+than|not\s+above|not\s+over|not\s+>|maximum(?:\s+of)?|max\.?|up\s+to`;
+const ABOVE = String.raw`>|above|over|greater\s+than|more\s+than|higher\s+than`;
+const BELOW = String.raw`<|below|under|less\s+than|lower\s+than`;
+const BOUND = new RegExp(
+  String.raw`(?<![\w<>=≤≥])(?:(${AT_LEAST})|(${AT_MOST})|(${ABOVE})|(${BELOW}))\s*(\d{2,3})(?!\d|\.\d)(${PERCENT})?(?!\s*(?:${DASH_CLASS}|to\b)\s*\d)${NOT_A_SATURATION_UNIT}`,
+  'gi',
+);
+
+const SATURATION_WORD =
+  /\b(?:target(?:ing)?|aim(?:ing)?|sats?|saturations?|spo2|sao2|sp02|o2 sat|keep|maintain|titrate|goal|range)\b/i;
+const FIO2_WORD = /\b(?:fi\s?[o0]2|venturi|concentration|blender|entrainment|pa?[o0]2|pa?co2|pao2|kpa|mmhg)\b/i;
+/** Words that make a statement a trigger for action, not the target ("if SpO2 below 85 % call doctor"). */
+const TRIGGER = /\b(?:if|when|whenever|should|call|inform|notify|alert|escalate|bleep|contact|drops?|falls?|unless)\b/i;
+/** Words that put a condition on a target ("until the gas is back", "initially", "pending ABG"). */
+const CONDITION =
+  /\b(?:until|till|pending|unless|otherwise|initially|for now|awaiting|await|once|then|while|whilst|meanwhile)\b/i;
+/** "if drowsy", "when the gas is back": a condition, unless the words name a saturation or an action. */
+const IF_CLAUSE = /\b(?:if|when)\s+([^,;.\n]{0,40})/i;
+const IF_IS_ROUTINE = /^(?:needed|required|tolerated|able|possible|necessary|appropriate)\b/i;
+const IF_IS_TRIGGER =
+  /\b(?:spo2|sp02|sats?|saturations?|below|above|under|over|drops?|falls?|less|more|call|inform|increase|decrease|reduce|titrate|escalate|notify|wean|stop)\b|[<>≤≥]/i;
+
+const NO_TARGET =
+  /\bno\s+(?:spo2\s+|sp02\s+|sats?\s+|saturation\s+|oxygen\s+|o2\s+)?target(?:\s+range)?\b|\btarget\s*(?::|-|=)?\s*(?:none|n\/a|not applicable)\b|\btitrat(?:e|ed|ing)\s+to\s+comfort\b|\bdo\s+not\s+(?:monitor|check|measure|record|titrate to)\s+(?:the\s+)?(?:spo2|sats?|saturations?|oximetry)\b|\b(?:spo2|sats?|saturation|oximetry)\s+(?:monitoring\s+)?not\s+(?:required|needed|necessary|indicated)\b|\bno\s+(?:need\s+to\s+(?:monitor|check)\s+|)(?:spo2|sats?|saturation|oximetry)\s+monitoring\b/i;
+
 const CLAUSE_BREAK = /[;\n]|\.(?:\s|$)/g;
+const SENTENCE_END = /[;\n]|\.(?:\s|$)/;
 
 /**
  * How far back a clause is read. Order clauses are short; looking back a bounded distance keeps each
  * mention's cost constant, where rescanning from the start made long texts quadratic.
  */
 export const CLAUSE_LOOK_BACK_CHARS = 200;
+/** How far after a statement a condition on it is looked for ("94–98 % until the gas is back"). */
+const CONDITION_LOOK_AHEAD_CHARS = 50;
 
 /** The text from the start of the clause holding `index` up to `index` (at most the look-back). */
 export function clauseBefore(text: string, index: number): string {
@@ -41,40 +95,212 @@ export function clauseBefore(text: string, index: number): string {
   return window.slice(start);
 }
 
+/** The text after `index` up to the end of its sentence (at most the look-ahead). */
+function clauseAfter(text: string, index: number): string {
+  const window = text.slice(index, index + CONDITION_LOOK_AHEAD_CHARS);
+  const end = window.search(SENTENCE_END);
+  return end === -1 ? window : window.slice(0, end);
+}
+
+function hasConditionIn(words: string): boolean {
+  if (CONDITION.test(words)) {
+    return true;
+  }
+  const ifClause = IF_CLAUSE.exec(words);
+  const rest = ifClause?.[1]?.trim() ?? '';
+  return ifClause !== null && !IF_IS_ROUTINE.test(rest) && !IF_IS_TRIGGER.test(rest);
+}
+
+function isConditional(text: string, start: number, end: number): boolean {
+  return hasConditionIn(clauseBefore(text, start)) || hasConditionIn(clauseAfter(text, end));
+}
+
+/** Whether the words before `index` make a number there a saturation, not an FiO2 or a bed number. */
+function saysSaturation(text: string, index: number, hasPercent: boolean): boolean {
+  const before = clauseBefore(text, index).slice(-40);
+  const sinceWord = before.split(SATURATION_WORD);
+  const hasSaturationWord = sinceWord.length > 1;
+  // Words after the last saturation word decide: "SpO2 88-92" counts, "FiO2 60-80 %" does not.
+  const tail = sinceWord[sinceWord.length - 1] ?? '';
+  if (FIO2_WORD.test(tail)) {
+    return false;
+  }
+  return hasSaturationWord || (hasPercent && !FIO2_WORD.test(before));
+}
+
+const plausible = (value: number): boolean => isPlausible(value, PLAUSIBLE.targetPercent);
+
 export function findTargetMentions(text: string): readonly TargetMention[] {
   const mentions: TargetMention[] = [];
   for (const m of text.matchAll(RANGE)) {
-    const [whole, lowText = '', gap = '', highText = '', percent] = m;
+    const [whole, lead, lowText = '', gap = '', highText = '', percent] = m;
     const low = Number(lowText);
     const high = Number(highText);
-    const inRange = isPlausible(low, PLAUSIBLE.targetPercent) && isPlausible(high, PLAUSIBLE.targetPercent);
-    if (!inRange || low >= high) {
+    // "88 and 92" is a range only after "between".
+    if (!plausible(low) || !plausible(high) || low >= high || (/\band\b/i.test(gap) && lead?.toLowerCase() !== 'between')) {
       continue;
     }
-    const before = clauseBefore(text, m.index).slice(-40);
-    const sinceWord = before.split(SATURATION_WORD);
-    const hasSaturationWord = sinceWord.length > 1;
-    // Words after the last saturation word decide: "SpO2 88-92" counts, "FiO2 60-80 %" does not.
-    const tail = sinceWord[sinceWord.length - 1] ?? '';
-    if (FIO2_WORD.test(tail) || (!hasSaturationWord && (percent === undefined || FIO2_WORD.test(before)))) {
+    if (!saysSaturation(text, m.index, percent !== undefined || /%|per\s?cent/i.test(gap))) {
       continue;
     }
-    const lowStart = m.index;
+    const lowStart = m.index + whole.indexOf(lowText, lead === undefined ? 0 : lead.length);
     const highStart = lowStart + lowText.length + gap.length;
+    const end = m.index + whole.length;
     mentions.push({
       range: { lowPercent: low, highPercent: high },
       start: m.index,
-      end: m.index + whole.length,
+      end,
       lowStart,
       lowEnd: lowStart + lowText.length,
       highStart,
       highEnd: highStart + highText.length,
+      conditional: isConditional(text, m.index, end),
     });
   }
   return mentions;
 }
 
+export interface BoundsFound {
+  /** Single bounds stated as the target ("keep sats above 92"). */
+  readonly targets: readonly BoundMention[];
+  /** Bounds inside trigger clauses ("if SpO2 below 85 % call doctor"): a plan, not the target. */
+  readonly triggers: readonly BoundMention[];
+}
+
+function boundOf(m: RegExpMatchArray): Bound {
+  if (m[1] !== undefined) return 'at-least';
+  if (m[2] !== undefined) return 'at-most';
+  if (m[3] !== undefined) return 'above';
+  return 'below';
+}
+
+export function findBoundMentions(text: string, ranges: readonly TargetMention[] = findTargetMentions(text)): BoundsFound {
+  const targets: BoundMention[] = [];
+  const triggers: BoundMention[] = [];
+  for (const m of text.matchAll(BOUND)) {
+    const percent = Number(m[5]);
+    const start = m.index;
+    const end = start + m[0].length;
+    if (!plausible(percent) || ranges.some((r) => start < r.end && end > r.start)) {
+      continue;
+    }
+    if (!saysSaturation(text, start, m[6] !== undefined)) {
+      continue;
+    }
+    const mention = { bound: boundOf(m), percent, start, end, conditional: isConditional(text, start, end) };
+    (TRIGGER.test(clauseBefore(text, start)) ? triggers : targets).push(mention);
+  }
+  return { targets, triggers };
+}
+
+/** The statement that there is no SpO2 target, if the text makes one. */
+export function findNoTargetStatement(text: string): { readonly start: number; readonly end: number } | undefined {
+  const m = NO_TARGET.exec(text);
+  return m === null ? undefined : { start: m.index, end: m.index + m[0].length };
+}
+
 /** The first target range stated in `text`, if any. */
 export function readTargetText(text: string): SaturationRange | undefined {
   return findTargetMentions(text)[0]?.range;
+}
+
+/** Whether a full range agrees with a single bound (a lower bound at or below its low end, etc.). */
+export function rangeKeepsBound(range: SaturationRange, bound: Bound, percent: number): boolean {
+  // ">" and "≥" are read alike: prescribers write "SpO2 > 94%" for a range starting at 94 (common practice).
+  return bound === 'at-least' || bound === 'above' ? range.lowPercent >= percent : range.highPercent <= percent;
+}
+
+export interface WrittenTarget {
+  /** The one range the words state; for an ambiguous text, the range that allows the most oxygen. */
+  readonly range: SaturationRange | undefined;
+  readonly note: TargetNote | undefined;
+}
+
+function sentenceAround(text: string, start: number, end: number): string {
+  const from = start - clauseBefore(text, start).length;
+  const sentence = text.slice(from, end + clauseAfter(text, end).length).trim();
+  return sentence.length > 120 ? `${sentence.slice(0, 119)}…` : sentence;
+}
+
+function sameRange(a: SaturationRange, b: SaturationRange): boolean {
+  return a.lowPercent === b.lowPercent && a.highPercent === b.highPercent;
+}
+
+/** The range that allows the most oxygen: the one whose upper end, then lower end, is highest. */
+function mostOxygen(ranges: readonly SaturationRange[]): SaturationRange | undefined {
+  return [...ranges].sort((a, b) => b.highPercent - a.highPercent || b.lowPercent - a.lowPercent)[0];
+}
+
+/**
+ * Reads the target the order's words state, across all its texts. One clear range (however written)
+ * is the target. A lower and an upper bound together ("above 88 and below 92") are that range. One
+ * bound alone is a one-sided note. Two different ranges, a condition, or bounds that contradict the
+ * range make the target ambiguous: the note lists the ranges and the range returned is the one that
+ * allows the most oxygen, so the hypercapnic-risk check still sees the reading that could harm.
+ */
+export function readWrittenTarget(texts: readonly string[]): WrittenTarget {
+  const ranges: SaturationRange[] = [];
+  const bounds: { readonly mention: BoundMention; readonly text: string }[] = [];
+  const quoted: string[] = [];
+  let conditional = false;
+  let noTarget: string | undefined;
+  for (const text of texts) {
+    const found = findTargetMentions(text);
+    for (const m of found) {
+      if (!ranges.some((r) => sameRange(r, m.range))) ranges.push(m.range);
+      conditional ||= m.conditional;
+      quoted.push(sentenceAround(text, m.start, m.end));
+    }
+    for (const mention of findBoundMentions(text, found).targets) {
+      bounds.push({ mention, text });
+      conditional ||= mention.conditional;
+      quoted.push(sentenceAround(text, mention.start, mention.end));
+    }
+    const none = findNoTargetStatement(text);
+    if (none !== undefined && noTarget === undefined) {
+      noTarget = sentenceAround(text, none.start, none.end);
+    }
+  }
+  const direction = (b: Bound): string => (b === 'at-least' || b === 'above' ? 'lower' : 'upper');
+  const distinct = bounds.filter(
+    (b, i) => bounds.findIndex((o) => direction(o.mention.bound) === direction(b.mention.bound) && o.mention.percent === b.mention.percent) === i,
+  );
+  bounds.length = 0;
+  bounds.push(...distinct);
+  const lower = bounds.filter((b) => b.mention.bound === 'at-least' || b.mention.bound === 'above');
+  const upper = bounds.filter((b) => b.mention.bound === 'at-most' || b.mention.bound === 'below');
+  const [onlyLower] = lower;
+  const [onlyUpper] = upper;
+  if (ranges.length === 0 && lower.length === 1 && upper.length === 1 && onlyLower !== undefined && onlyUpper !== undefined) {
+    const pair = { lowPercent: onlyLower.mention.percent, highPercent: onlyUpper.mention.percent };
+    if (pair.lowPercent < pair.highPercent) {
+      ranges.push(pair);
+      bounds.length = 0;
+    }
+  }
+  const text = [...new Set(quoted)].join(' … ');
+  if (noTarget !== undefined) {
+    return ranges.length === 0 && bounds.length === 0
+      ? { range: undefined, note: { kind: 'no-target', text: noTarget } }
+      : { range: mostOxygen(ranges), note: { kind: 'ambiguous', ranges, text: `${noTarget} … ${text}` } };
+  }
+  const [single] = ranges;
+  const boundsAgree = single !== undefined && bounds.every((b) => rangeKeepsBound(single, b.mention.bound, b.mention.percent));
+  if (ranges.length > 1 || conditional || (single !== undefined && !boundsAgree)) {
+    return { range: mostOxygen(ranges), note: { kind: 'ambiguous', ranges, text } };
+  }
+  if (single !== undefined) {
+    return { range: single, note: undefined };
+  }
+  const [first] = bounds;
+  if (first === undefined) {
+    return { range: undefined, note: undefined };
+  }
+  if (bounds.length > 1) {
+    return { range: undefined, note: { kind: 'ambiguous', ranges: [], text } };
+  }
+  return {
+    range: undefined,
+    note: { kind: 'one-sided', bound: first.mention.bound, percent: first.mention.percent, text },
+  };
 }

@@ -3,18 +3,24 @@ import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { findDeviceMentions, isOutsideTheOrder, readDeviceText } from './read-device-text.js';
 import { findFio2Mentions, findFlowMentions } from './read-setting-text.js';
-import { findTargetMentions } from './read-target-text.js';
+import { findBoundMentions, findTargetMentions } from './read-target-text.js';
 
 /**
  * Rewrites the values an order's words state, keeping the writer's wording: "target SpO2 94-98%"
- * becomes "target SpO2 88-92%", "2L NC" becomes "4L NC". Words about history or plans ("escalate to
- * 15L NRB") are left alone. Each function says whether the text stated the value at all.
+ * becomes "target SpO2 88-92%", "2L NC" becomes "4L NC". Only the span the reader read as the order's
+ * value changes (read-order.ts reads the first flow and FiO2 outside history and plans, and every
+ * statement of the target); every other character stays. Other values of the same kind (a contingency
+ * "if SpO2 below 85 % ... increase to 4 L/min", an escalation "escalate to 15L NRB") are left as
+ * written and listed, so the caller can mark the text for review. Each function says whether the
+ * text stated the value at all.
  */
 
 export interface Rewrite {
   readonly text: string;
   /** True when the text stated a value of this kind (whether or not it changed). */
   readonly stated: boolean;
+  /** Other values of the same kind in the text, as written, that were not changed. */
+  readonly leftAsWritten: readonly string[];
 }
 
 interface Edit {
@@ -75,23 +81,46 @@ export function deviceWords(device: DeviceKind, setFio2Fraction: number | undefi
   return `${formatPercent(setFio2Fraction)}% ${words}`;
 }
 
+/**
+ * Rewrites every statement of the target: each range keeps its numbers' places and the writer's style;
+ * a single bound ("above 92", "≥ 92 %") becomes the range ("88-92%"). Trigger thresholds ("if SpO2
+ * below 85 % call doctor") are left as written and listed.
+ */
 export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
   const mentions = findTargetMentions(text);
-  const edits = mentions.flatMap((m) => [
-    { start: m.lowStart, end: m.lowEnd, with: String(range.lowPercent) },
-    { start: m.highStart, end: m.highEnd, with: String(range.highPercent) },
-  ]);
-  return { text: applyEdits(text, edits), stated: mentions.length > 0 };
+  const bounds = findBoundMentions(text, mentions);
+  const written = `${range.lowPercent}-${range.highPercent}%`;
+  const edits: Edit[] = [
+    ...mentions.flatMap((m) => [
+      { start: m.lowStart, end: m.lowEnd, with: String(range.lowPercent) },
+      { start: m.highStart, end: m.highEnd, with: String(range.highPercent) },
+    ]),
+    ...bounds.targets.map((b) => ({ start: b.start, end: b.end, with: written })),
+  ];
+  return {
+    text: applyEdits(text, edits),
+    stated: edits.length > 0,
+    leftAsWritten: bounds.triggers.map((b) => text.slice(b.start, b.end).trim()),
+  };
 }
 
+/** Rewrites the flow the order states (the first outside history and plans); lists the others. */
 export function rewriteFlow(text: string, flowLPerMin: number): Rewrite {
-  const mentions = findFlowMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
-  const value = formatNumber(flowLPerMin);
-  const edits = mentions.map((m) => ({ start: m.valueStart, end: m.valueEnd, with: value }));
-  return { text: applyEdits(text, edits), stated: mentions.length > 0 };
+  const all = findFlowMentions(text);
+  const read = all.find((m) => !isOutsideTheOrder(text, m.start));
+  const edits = read === undefined ? [] : [{ start: read.valueStart, end: read.valueEnd, with: formatNumber(flowLPerMin) }];
+  return {
+    text: applyEdits(text, edits),
+    stated: read !== undefined,
+    leftAsWritten: all.filter((m) => m !== read).map((m) => text.slice(m.start, m.end).trim()),
+  };
 }
 
-/** Rewrites device words, flow and set FiO2 together; a FiO2 the new device does not take is removed. */
+/**
+ * Rewrites device words, the flow and the set FiO2 together; a FiO2 the new device does not take is
+ * removed. Every mention of the ordered device is renamed (they all state it); only the flow and
+ * FiO2 the reader reads change, and the others are listed.
+ */
 export function rewriteDevice(
   text: string,
   change: {
@@ -103,10 +132,11 @@ export function rewriteDevice(
   const oldDevice = readDeviceText(text)?.device;
   const devices = findDeviceMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
   // A setting inside a device phrase ("28% mask") is rewritten with the phrase, not on its own.
-  const fio2s = findFio2Mentions(text, oldDevice).filter(
-    (m) => !isOutsideTheOrder(text, m.start) && !devices.some((d) => m.start < d.end && m.end > d.start),
-  );
-  const flows = findFlowMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
+  const allFio2s = findFio2Mentions(text, oldDevice).filter((m) => !devices.some((d) => m.start < d.end && m.end > d.start));
+  const readFio2 = allFio2s.find((m) => !isOutsideTheOrder(text, m.start));
+  const fio2s = readFio2 === undefined ? [] : [readFio2];
+  const allFlows = findFlowMentions(text);
+  const readFlow = allFlows.find((m) => !isOutsideTheOrder(text, m.start));
   const newFio2 = change.setFio2Fraction;
   const label = deviceWords(change.device, fio2s.length > 0 ? undefined : newFio2);
   const edits: Edit[] = [
@@ -120,12 +150,16 @@ export function rewriteDevice(
             with: m.style === 'percent' ? formatPercent(newFio2) : formatNumber(newFio2),
           },
     ),
-    ...flows.map((m) => ({ start: m.valueStart, end: m.valueEnd, with: formatNumber(change.flowLPerMin) })),
+    ...(readFlow === undefined
+      ? []
+      : [{ start: readFlow.valueStart, end: readFlow.valueEnd, with: formatNumber(change.flowLPerMin) }]),
   ];
   const rewritten = applyEdits(text, edits);
   const removedSomething = fio2s.length > 0 && newFio2 === undefined;
+  const others = [...allFlows.filter((m) => m !== readFlow), ...allFio2s.filter((m) => m !== readFio2)];
   return {
     text: removedSomething ? tidySpacing(rewritten) : rewritten,
-    stated: devices.length > 0 || fio2s.length > 0 || flows.length > 0,
+    stated: devices.length > 0 || fio2s.length > 0 || readFlow !== undefined,
+    leftAsWritten: others.sort((a, b) => a.start - b.start).map((m) => text.slice(m.start, m.end).trim()),
   };
 }

@@ -2,7 +2,11 @@ import { isObject } from './json.js';
 
 /**
  * The free-text fields of an order that the reader takes words from (read-order.ts), as writable
- * places, so a change is written into every one of them that stated the old value.
+ * places, so a change is written into every one of them that stated the old value. A coding's
+ * `display` in a concept the reader reads (additionalInstruction, orderDetail, a parameter's value) is
+ * a slot too, with its concept: a display that stated the old value cannot simply be reworded, since
+ * its code would still mean the old value, so the writer drops that coding and keeps the new words in
+ * the concept's text.
  */
 
 export type Json = Record<string, unknown>;
@@ -11,6 +15,8 @@ export interface TextSlot {
   readonly holder: Json;
   readonly key: string;
   readonly text: string;
+  /** For a coding's display: the CodeableConcept holding the coding. */
+  readonly concept?: Json;
 }
 
 function objects(holder: unknown, key: string): Json[] {
@@ -25,6 +31,13 @@ function slot(holder: unknown, key: string): TextSlot[] {
   return typeof text === 'string' ? [{ holder: holder, key, text }] : [];
 }
 
+/** The concept's text, then each coding's display. */
+function conceptSlots(concept: unknown): TextSlot[] {
+  if (!isObject(concept)) return [];
+  const displays = objects(concept, 'coding').flatMap((c) => slot(c, 'display').map((s) => ({ ...s, concept })));
+  return [...slot(concept, 'text'), ...displays];
+}
+
 export function textSlots(resource: Json): readonly TextSlot[] {
   const notes = objects(resource, 'note').flatMap((n) => slot(n, 'text'));
   switch (resource['resourceType']) {
@@ -33,20 +46,21 @@ export function textSlots(resource: Json): readonly TextSlot[] {
         ...objects(resource, 'dosageInstruction').flatMap((d) => [
           ...slot(d, 'text'),
           ...slot(d, 'patientInstruction'),
+          ...objects(d, 'additionalInstruction').flatMap(conceptSlots),
         ]),
         ...notes,
         ...slot(resource['medicationCodeableConcept'], 'text'),
       ];
     case 'ServiceRequest':
       return [
-        ...objects(resource, 'orderDetail').flatMap((d) => slot(d, 'text')),
+        ...objects(resource, 'orderDetail').flatMap(conceptSlots),
         ...slot(resource, 'patientInstruction'),
         ...notes,
         ...slot(resource['code'], 'text'),
       ];
     case 'DeviceRequest':
       return [
-        ...objects(resource, 'parameter').flatMap((p) => slot(p['valueCodeableConcept'], 'text')),
+        ...objects(resource, 'parameter').flatMap((p) => conceptSlots(p['valueCodeableConcept'])),
         ...notes,
         ...slot(resource['codeCodeableConcept'], 'text'),
       ];

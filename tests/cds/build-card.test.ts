@@ -221,6 +221,59 @@ describe('buildCard', () => {
   });
 });
 
+describe('buildCard: a suggestion that changes only what it says', () => {
+  const withInstruction = (patientInstruction: string): Record<string, unknown> => ({
+    ...draftServiceRequest,
+    patientInstruction,
+  });
+
+  it('withholds a new target from a conditional target, and gives the reason in the detail', () => {
+    // An invented conditional order; BTS 2017 Table 4 gives 88-92 % for the at-risk patient
+    const draft = withInstruction('Oxygen 3 L/min via nasal cannula, SpO2 94–98 % until the gas is back');
+    const report = buildCardReport(finding, { ...ctx, draftResource: draft as typeof draftServiceRequest });
+    expect(report.card.suggestions).toBeUndefined();
+    expect(report.card.detail).toContain('No one-click change is offered: the order');
+    expect(report.card.detail).toContain('two ranges or a condition');
+    expect(report.problems).toStrictEqual([]);
+    expectConformant({ cards: [report.card] });
+  });
+
+  it('withholds a target from an order that says it has none, and gives the reason', () => {
+    const draft = withInstruction('Oxygen 2 L/min via nasal cannula for comfort, no SpO2 target'); // BTS 2017, from memory
+    const report = buildCardReport(finding, { ...ctx, draftResource: draft as typeof draftServiceRequest });
+    expect(report.card.suggestions).toBeUndefined();
+    expect(report.card.detail).toContain('no SpO2 target or is for comfort');
+  });
+
+  it('says in the label what the words also state and were left as written', () => {
+    const draft = withInstruction('Oxygen 3 L/min via nasal cannula, target SpO2 94-98%. If SpO2 below 85 % call doctor');
+    const card = buildCard(finding, { ...ctx, draftResource: draft as typeof draftServiceRequest });
+    expect(card.suggestions?.[0]?.label).toBe(
+      'Change target to 88–92 % (the order text also gives "below 85 %": left as written and marked for review)',
+    );
+    const resource = card.suggestions?.[0]?.actions?.[0]?.resource as Record<string, unknown>;
+    expect(resource['patientInstruction']).toBe(
+      'Oxygen 3 L/min via nasal cannula, target SpO2 88-92%. If SpO2 below 85 % call doctor [Advisory change: target now 88-92%. Also written here and not changed: below 85 %. Check them before signing.]',
+    );
+    expectConformant({ cards: [card] });
+  });
+
+  it('carries an earlier change only when its words could take it', () => {
+    const draft = withInstruction('Oxygen 3 L/min via nasal cannula, SpO2 94–98 % until the gas is back');
+    // BTS 2017 Table 4: nasal cannulae at 1-2 L/min for the at-risk patient
+    const flowFinding = { ...finding, ruleId: 'target-above-hypercapnic-range', change: { kind: 'set-flow', flowLPerMin: 2 } as const };
+    const card = buildCard(flowFinding, {
+      ...ctx,
+      draftResource: draft as typeof draftServiceRequest,
+      earlierChanges: [{ kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } }], // BTS 2017 Table 4
+    });
+    const label = card.suggestions?.[0]?.label ?? '';
+    expect(label).not.toContain('keeps:');
+    const resource = card.suggestions?.[0]?.actions?.[0]?.resource as Record<string, unknown>;
+    expect(resource['patientInstruction']).toBe('Oxygen 2 L/min via nasal cannula, SpO2 94–98 % until the gas is back');
+  });
+});
+
 describe('truncateSummary', () => {
   it.each([
     ['x'.repeat(139), 'x'.repeat(139)],

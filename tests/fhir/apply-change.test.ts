@@ -1,6 +1,6 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { applyOrderChange } from '../../src/fhir/apply-change.js';
+import { applyOrderChange, planOrderChange } from '../../src/fhir/apply-change.js';
 import type { FhirResource } from '../../src/fhir/gathered-data.js';
 import type { OrderResourceType } from '../../src/fhir/is-oxygen-order.js';
 import { readOrder } from '../../src/fhir/read-order.js';
@@ -207,6 +207,7 @@ describe('applyOrderChange', () => {
       const after = applyOrderChange(odd, { kind: 'set-flow', flowLPerMin: 2 });
       expect((after?.['dosageInstruction'] as unknown[])[0]).toStrictEqual({
         doseAndRate: [{ rateQuantity: { value: 2, unit: 'L/min', system: UCUM, code: 'L/min' } }],
+        text: 'Oxygen flow 2 L/min.', // the words state the change on their own
       });
     });
 
@@ -247,6 +248,163 @@ describe('applyOrderChange', () => {
     it('the schema check can fail: it rejects the STU3 dosage shape (cds-hooks.md §9)', () => {
       const stu3 = oxygenMedicationRequest('mr-11', { dosageInstruction: [{ doseQuantity: quantity(2, 'L/min') }] });
       expect(validateR4(stu3).length).toBeGreaterThan(0);
+    });
+  });
+
+  describe('changes only what it says', () => {
+    const STANDARD: OrderChange = { kind: 'set-target', range: { lowPercent: 94, highPercent: 98 } }; // BTS 2017 Tables 1-3
+    const textOf = (resource: FhirResource): string => (resource['dosageInstruction'] as { text: string }[])[0]?.text ?? '';
+    const withText = (id: string, text: string, extra: Record<string, unknown> = {}): FhirResource =>
+      oxygenMedicationRequest(id, { dosageInstruction: [{ text, method: { text: 'Nasal cannula' } }], ...extra });
+
+    // Invented contingency and escalation plans written beside the ordered flow (common practice).
+    it.each([
+      ['O2 3L NC; if SpO2 below 85 % call doctor, increase to 4 L/min', 'increase to 4 L/min'],
+      ['3 L/min via nasal cannula. If sats < 88%, go up to 4 L/min and inform the registrar', 'go up to 4 L/min'],
+      ['NC 3L, escalate to 15L NRB if SpO2 < 85%', 'escalate to 15L NRB'],
+      ['3L NC. Max 4 L/min on the ward; above that call outreach', 'Max 4 L/min'],
+    ])('reduces the ordered flow in "%s" and leaves "%s" as written, marked for review', (text, plan) => {
+      // BTS 2017, Table 4: nasal cannulae at 1-2 L/min
+      const result = planOrderChange(withText('mr-30', text), { kind: 'set-flow', flowLPerMin: 2 });
+      if (result.kind !== 'changed') throw new Error(result.kind);
+      const after = textOf(result.resource);
+      expect(after).toContain(plan);
+      expect(after).toContain('[Advisory change: flow now 2 L/min.');
+      expect(result.leftAsWritten.length).toBeGreaterThan(0);
+      expect(readBack(result.resource).order.flowLPerMin).toBe(2);
+      expect(readBack(result.resource).notes).toStrictEqual([]);
+      expect(validateR4(result.resource)).toStrictEqual([]);
+    });
+
+    it('adds no note when the text holds no other value of the kind', () => {
+      const result = planOrderChange(withText('mr-31', '3L NC, target 94-98%'), { kind: 'set-flow', flowLPerMin: 2 });
+      expect(result).toMatchObject({ kind: 'changed', leftAsWritten: [] });
+      if (result.kind === 'changed') expect(textOf(result.resource)).toBe('2L NC, target 94-98%');
+    });
+
+    it('rewrites a one-bound target into the range, leaving a trigger threshold as written', () => {
+      const result = planOrderChange(withText('mr-32', '2L NC, keep sats above 92. If SpO2 below 85 % call doctor'), STANDARD);
+      if (result.kind !== 'changed') throw new Error(result.kind);
+      expect(textOf(result.resource)).toBe(
+        '2L NC, keep sats 94-98%. If SpO2 below 85 % call doctor [Advisory change: target now 94-98%. Also written here and not changed: below 85 %. Check them before signing.]',
+      );
+      expect(readBack(result.resource).order).toMatchObject({ target: { lowPercent: 94, highPercent: 98 }, targetNote: undefined });
+    });
+
+    it.each([
+      'for comfort, no SpO2 target',
+      'palliative: titrate to comfort, do not monitor sats',
+      '2L NC for comfort only',
+      'Target: none',
+    ])('withholds a target from "%s" and says why', (text) => {
+      // BTS 2017: in terminal palliative care oxygen is for comfort (from memory)
+      const result = planOrderChange(withText('mr-33', text), HYPERCAPNIC);
+      expect(result.kind).toBe('withheld');
+      if (result.kind === 'withheld') expect(result.reason).toMatch(/no SpO2 target or is for comfort/);
+      expect(applyOrderChange(withText('mr-33', text), HYPERCAPNIC)).toBeUndefined();
+    });
+
+    it('withholds a target from an order that stops oxygen', () => {
+      const result = planOrderChange(withText('mr-37', 'Stop oxygen'), HYPERCAPNIC); // common practice
+      expect(result).toStrictEqual({ kind: 'withheld', reason: 'the order stops oxygen; a target is not added to it by a one-click change.' });
+    });
+
+    it.each([
+      '2L NC, 88–92 % if drowsy, otherwise 94–98 %',
+      '2L NC, SpO2 94–98 % until the gas is back',
+      'target 94-98%; aim 88-92% if CO2 retainer',
+    ])('withholds a new target from the conditional "%s" and says why', (text) => {
+      const result = planOrderChange(withText('mr-34', text), HYPERCAPNIC); // BTS 2017 Table 4
+      expect(result.kind).toBe('withheld');
+      if (result.kind === 'withheld') expect(result.reason).toMatch(/two ranges or a condition/);
+    });
+
+    it('still changes the flow of a conditional-target order, leaving its target words alone', () => {
+      const text = '2L NC, SpO2 94–98 % until the gas is back';
+      const result = planOrderChange(withText('mr-35', text), { kind: 'set-flow', flowLPerMin: 1 });
+      if (result.kind !== 'changed') throw new Error(result.kind);
+      expect(textOf(result.resource)).toBe('1L NC, SpO2 94–98 % until the gas is back');
+    });
+
+    it('drops a coding whose display stated the old target, and keeps the new words in the text', () => {
+      const coded = oxygenMedicationRequest('mr-36', {
+        extension: [{ url: TARGET_URL, valueRange: { low: quantity(94, '%'), high: quantity(98, '%') } }],
+        dosageInstruction: [
+          {
+            text: '2L NC',
+            additionalInstruction: [
+              { coding: [{ system: 'urn:larkspur-bay:order-phrases', code: 'tgt-9498', display: 'Target SpO2 94-98%' }] },
+            ],
+          },
+        ],
+      });
+      const after = change(coded, HYPERCAPNIC);
+      const dosage = (after['dosageInstruction'] as Record<string, unknown>[])[0];
+      expect(dosage?.['additionalInstruction']).toStrictEqual([{ text: 'Target SpO2 88-92%' }]);
+      expect(JSON.stringify(after)).not.toMatch(/94\s*[-–]\s*98/);
+    });
+
+    it('rewrites the target wherever the resource states it: display, text, note, patientInstruction, parameter', () => {
+      const service = oxygenServiceRequest('sr-30', {
+        orderDetail: [{ coding: [{ system: 'urn:larkspur-bay:order-phrases', code: 'o2-9498', display: 'O2 to SpO2 94–98%' }], text: 'Oxygen to SpO2 94–98%' }],
+        patientInstruction: 'Keep your sats 94-98%',
+        note: [{ text: 'Aim 94 to 98 %' }],
+      });
+      const device = oxygenDeviceRequest('dr-30', 'Nasal cannula', {
+        parameter: [
+          { code: { text: 'Target SpO2' }, valueRange: { low: quantity(94, '%'), high: quantity(98, '%') } },
+          { code: { text: 'Instruction' }, valueCodeableConcept: { coding: [{ system: 'urn:larkspur-bay:order-phrases', code: 'x', display: 'sats 94-98%' }] } },
+        ],
+      });
+      for (const resource of [service, device]) {
+        const after = change(resource, HYPERCAPNIC); // BTS 2017 Table 4
+        expect(JSON.stringify(after)).not.toMatch(/94\s*(?:[-–]|to)\s*98|"value":94|"value":98/);
+        expect(readBack(after).order.target).toMatchObject({ lowPercent: 88, highPercent: 92 });
+        expect(readBack(after).notes).toStrictEqual([]);
+      }
+    });
+
+    describe('a client that keeps only the medication code and the text', () => {
+      // What a real CDS Hooks client kept of an accepted suggestion: the code and the words.
+      function codeAndTextOnly(resource: FhirResource): FhirResource {
+        const dosages = (resource['dosageInstruction'] as { text?: string }[] | undefined) ?? [];
+        return {
+          resourceType: 'MedicationRequest',
+          id: resource.id ?? 'mr-40',
+          status: 'draft',
+          intent: 'order',
+          medicationCodeableConcept: { coding: [{ system: SNOMED, code: '24099007', display: 'Oxygen' }] },
+          dosageInstruction: dosages.map((d) => ({ text: d.text })),
+        };
+      }
+
+      it.each<[string, OrderChange]>([
+        ['2L NC, target SpO2 94-98%', HYPERCAPNIC], // BTS 2017 Table 4
+        ['Oxygen via nasal cannula 2 L/min', HYPERCAPNIC],
+        ['2L NC, keep sats above 88', HYPERCAPNIC],
+        ['2L NC, target 94-98%', { kind: 'set-flow', flowLPerMin: 1 }], // BTS 2017 Table 4: 1-2 L/min
+        ['target 94-98%', { kind: 'set-flow', flowLPerMin: 1 }],
+        ['2L NC, target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 }], // BTS 2017 Table 4
+        ['target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.24 }], // BTS 2017 Table 4
+      ])('still reads the new value from "%s" after the change', (text, orderChange) => {
+        const after = change(oxygenMedicationRequest('mr-40', { dosageInstruction: [{ text, doseAndRate: [{ rateQuantity: quantity(2, 'L/min') }] }] }), orderChange);
+        const { order } = readBack(codeAndTextOnly(after));
+        switch (orderChange.kind) {
+          case 'set-target':
+            expect(order.target).toMatchObject(orderChange.range);
+            break;
+          case 'set-flow':
+            expect(order.flowLPerMin).toBe(orderChange.flowLPerMin);
+            break;
+          case 'set-device':
+            expect([order.device, order.flowLPerMin, order.setFio2Fraction]).toStrictEqual([
+              orderChange.device,
+              orderChange.flowLPerMin,
+              orderChange.setFio2Fraction,
+            ]);
+            break;
+        }
+      });
     });
   });
 });

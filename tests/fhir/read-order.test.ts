@@ -240,4 +240,61 @@ describe('readOrder', () => {
       expect(notes).toStrictEqual([]);
     });
   });
+
+  describe('how the order states its target and what it is for', () => {
+    it('reads a one-sided target into targetNote and leaves the target unset', () => {
+      const resource = oxygenMedicationRequest('mr-20', { dosageInstruction: [{ text: '2L NC, keep sats above 92' }] });
+      const { order } = read(resource);
+      expect(order.target).toBeUndefined();
+      // BTS 2017 asks for a range; "above 92" is one bound of the TSANZ 2015 range 92-96 %
+      expect(order.targetNote).toStrictEqual({ kind: 'one-sided', bound: 'above', percent: 92, text: '2L NC, keep sats above 92' });
+    });
+
+    it('reads a conditional target as ambiguous, keeping the range that allows the most oxygen', () => {
+      const resource = oxygenServiceRequest('sr-20', {
+        orderDetail: [{ text: 'Nasal cannula 2 L/min' }],
+        patientInstruction: 'SpO2 94–98 % until the gas is back',
+      });
+      const { order } = read(resource);
+      // BTS 2017 Tables 1-3: 94-98 %
+      expect(order.target).toStrictEqual({ lowPercent: 94, highPercent: 98, readFrom: 'text' });
+      expect(order.targetNote?.kind).toBe('ambiguous');
+    });
+
+    it('reads "no SpO2 target" in a note as a comfort order with no target', () => {
+      const resource = oxygenMedicationRequest('mr-21', {
+        dosageInstruction: [{ text: '2 L/min via nasal cannula' }],
+        note: [{ text: 'Palliative: for comfort, no SpO2 target' }],
+      });
+      const { order } = read(resource);
+      expect([order.purpose, order.targetNote?.kind, order.target]).toStrictEqual(['comfort', 'no-target', undefined]); // BTS 2017
+    });
+
+    it('reads a coded range and a text bound it breaks as ambiguous', () => {
+      const resource = oxygenMedicationRequest('mr-22', {
+        extension: [targetExtension(88, 92)], // BTS 2017 Table 4
+        dosageInstruction: [{ text: 'keep SpO2 > 94%' }],
+      });
+      const { order } = read(resource);
+      expect(order.target).toMatchObject({ lowPercent: 88, highPercent: 92, readFrom: 'structured' });
+      expect(order.targetNote?.kind).toBe('ambiguous');
+    });
+
+    it('reads a stopped order, and a 0 L/min order, for what they are', () => {
+      const stopped = oxygenMedicationRequest('mr-23', { status: 'stopped', dosageInstruction: [{ text: '2L NC' }] });
+      expect(read(stopped).order.purpose).toBe('stop'); // FHIR R4 MedicationRequest.status
+      const air = oxygenMedicationRequest('mr-24', { dosageInstruction: [{ doseAndRate: [{ rateQuantity: quantity(0, 'L/min') }] }] });
+      expect(read(air).order.purpose).toBe('room-air'); // common practice: 0 L/min is air
+    });
+
+    it('skips an advisory change note when reading the order’s words', () => {
+      const resource = oxygenMedicationRequest('mr-25', {
+        dosageInstruction: [
+          { text: '2L NC, target 88-92%. [Advisory change: target now 88-92%. Also written here and not changed: 94-98%. Check them before signing.]' },
+        ],
+      });
+      const { order } = read(resource);
+      expect([order.target, order.targetNote]).toStrictEqual([{ lowPercent: 88, highPercent: 92, readFrom: 'text' }, undefined]); // BTS 2017 Table 4
+    });
+  });
 });

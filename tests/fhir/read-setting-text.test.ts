@@ -37,6 +37,15 @@ describe('readSettingText', () => {
   });
 
   describe('edge cases', () => {
+    it.each([
+      ['HFNC 50 L/min, ≥ 92 %', 'high-flow-nasal-cannula'], // a saturation bound, not a blender setting
+      ['CPAP, keep at least 92%', 'cpap-niv'],
+      ['HFNC 40 L/min; call if below 88 %', 'high-flow-nasal-cannula'],
+    ] as const)('does not read the saturation in "%s" as a set FiO2', (text, device) => {
+      // SpO2 bounds near the published ranges (BTS 2017 Tables 1-4), not FiO2 settings
+      expect(readSettingText(text, device).setFio2Fraction).toBeUndefined();
+    });
+
     it('does not take a bare percentage as FiO2 for a device with no setting', () => {
       expect(readSettingText('2L NC, SpO2 92%', 'nasal-cannula').setFio2Fraction).toBeUndefined();
     });

@@ -19,6 +19,8 @@ import { rule as spo2AboveTarget } from './spo2-above-target.js';
 import { rule as spo2BelowTarget } from './spo2-below-target.js';
 import { rule as targetAboveHypercapnicRange } from './target-above-hypercapnic-range.js';
 import { rule as targetDiffersFromPolicy } from './target-differs-from-policy.js';
+import { rule as targetAmbiguous } from './target-ambiguous.js';
+import { rule as targetOneSided } from './target-one-sided.js';
 import { rule as targetRangeMissing } from './target-range-missing.js';
 import { rule as uncontrolledOxygenAtRisk } from './uncontrolled-oxygen-at-risk.js';
 import { rule as venturiFlowInsufficient } from './venturi-flow-insufficient.js';
@@ -39,6 +41,8 @@ export const RULES: readonly Rule[] = [
   targetAboveHypercapnicRange,
   uncontrolledOxygenAtRisk,
   targetRangeMissing,
+  targetOneSided,
+  targetAmbiguous,
   oxygenToxicityTarget,
   lowerRangeWithoutRisk,
   targetDiffersFromPolicy,

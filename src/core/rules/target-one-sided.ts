@@ -1,0 +1,88 @@
+import { formatPercent, formatRange } from '../assessment/format.js';
+import type { Finding, SaturationRange, TargetNote } from '../types.js';
+import { describeOrder } from './support/describe.js';
+import { makeFinding } from './support/make-finding.js';
+import { orderExpectsTarget } from './support/order-expects-target.js';
+import type { Rule } from './support/rule-types.js';
+
+type Bound = Extract<TargetNote, { kind: 'one-sided' }>['bound'];
+
+const BOUND_WORDS: Readonly<Record<Bound, string>> = {
+  'at-least': 'at least',
+  above: 'above',
+  'at-most': 'at most',
+  below: 'below',
+};
+
+const isLower = (bound: Bound): boolean => bound === 'at-least' || bound === 'above';
+
+/**
+ * Whether a full range keeps a single bound: a lower bound at or below the range's low end, an upper
+ * bound at or above its high end. ">" and "≥" are read alike, because prescribers write "SpO2 > 94%"
+ * for a range that starts at 94 (common practice).
+ */
+function rangeKeepsBound(range: SaturationRange, bound: Bound, percent: number): boolean {
+  return isLower(bound) ? range.lowPercent >= percent : range.highPercent <= percent;
+}
+
+/**
+ * The order states its target as one bound ("SpO2 > 94%", "keep sats above 92", "sats not below 88").
+ *
+ * Rationale: BTS 2017 asks that oxygen be prescribed to a target range, so that it is turned down as
+ * well as up; a lower bound alone invites over-oxygenation, which matters most for a patient at risk
+ * of hypercapnic respiratory failure (BTS 2017 Table 4), and an upper bound alone sets no floor.
+ * Fires where `target-range-missing` would otherwise (no range ordered, a range applies, the order is a
+ * titration). Suggests the applicable range only when it keeps the bound written; otherwise offers no
+ * change and says why, because replacing the bound would change what the prescriber asked for.
+ * Warning; critical when a lower bound lies above the whole at-risk range and the current gas already
+ * shows PCO2 at or above `hypercapnicRisk.hypercapniaPaco2` (as `target-above-hypercapnic-range`).
+ * Thresholds: `targets.standard`, `targets.hypercapnicRisk` through target selection.
+ * Source: BTS 2017 (prescribing to a target range; Tables 1–4).
+ */
+export const rule: Rule = {
+  id: 'target-one-sided',
+  title: 'Target written as one bound, not a range',
+  version: 1,
+  hooks: ['order-select', 'order-sign'],
+  defaultIndicator: 'warning',
+  evaluate: ({ assessment, policy }): readonly Finding[] => {
+    const { order, target, targetComparison, hypercapnicRisk: risk } = assessment;
+    const note = order?.targetNote;
+    if (order === undefined || note?.kind !== 'one-sided' || !orderExpectsTarget(order)) {
+      return [];
+    }
+    if (targetComparison.kind !== 'missing' || target.kind !== 'range') {
+      return [];
+    }
+    const advised = targetComparison.advised;
+    const advisedRange = formatRange(advised);
+    const keeps = rangeKeepsBound(advised, note.bound, note.percent);
+    const aboveAtRiskRange =
+      target.basis === 'hypercapnic-risk' && isLower(note.bound) && note.percent > advised.highPercent;
+    const suggestionNote = keeps
+      ? `The range ${advisedRange} keeps the bound written, so it is offered as a one-click change.`
+      : aboveAtRiskRange
+        ? `The bound asks for SpO2 above the whole of ${advisedRange}, the range for a patient at risk of ` +
+          'hypercapnic respiratory failure: more oxygen than the BTS guideline advises for them. No ' +
+          'one-click change is offered, because replacing the bound would change what was asked; please ' +
+          'choose the range.'
+        : `No one-click change is offered: ${advisedRange} would not keep the bound written, so choosing ` +
+          'the range is the prescriber’s decision.';
+    return [
+      makeFinding(rule, {
+        indicator: aboveAtRiskRange && risk.currentHypercapnia === true ? 'critical' : rule.defaultIndicator,
+        orderReference: order.reference,
+        values: {
+          orderDescription: describeOrder(order),
+          writtenBound: `${BOUND_WORDS[note.bound]} ${formatPercent(note.percent)}`,
+          writtenText: note.text,
+          advisedRange,
+          targetReason: target.reason,
+          suggestionNote,
+        },
+        sourceKeys: [target.sourceKey, policy.basisKey, 'local-policy'],
+        ...(keeps ? { change: { kind: 'set-target', range: advised } } : {}),
+      }),
+    ];
+  },
+};
