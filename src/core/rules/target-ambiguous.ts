@@ -2,7 +2,7 @@ import { formatRange, joinWords } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
-import { orderExpectsTarget } from './support/order-expects-target.js';
+import { expectsTarget } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -26,7 +26,7 @@ export const rule: Rule = {
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target } = assessment;
     const note = order?.targetNote;
-    if (order === undefined || note?.kind !== 'ambiguous' || !orderExpectsTarget(order) || target.kind !== 'range') {
+    if (order === undefined || note?.kind !== 'ambiguous' || !expectsTarget(order) || target.kind !== 'range') {
       return [];
     }
     const written =

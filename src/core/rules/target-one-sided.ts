@@ -2,7 +2,7 @@ import { formatPercent, formatRange } from '../assessment/format.js';
 import type { Finding, SaturationRange, TargetNote } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
-import { orderExpectsTarget } from './support/order-expects-target.js';
+import { expectsTarget } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 type Bound = Extract<TargetNote, { kind: 'one-sided' }>['bound'];
@@ -48,7 +48,7 @@ export const rule: Rule = {
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target, targetComparison, hypercapnicRisk: risk } = assessment;
     const note = order?.targetNote;
-    if (order === undefined || note?.kind !== 'one-sided' || !orderExpectsTarget(order)) {
+    if (order === undefined || note?.kind !== 'one-sided' || !expectsTarget(order)) {
       return [];
     }
     if (targetComparison.kind !== 'missing' || target.kind !== 'range') {

@@ -2,7 +2,7 @@ import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
-import { orderExpectsTarget } from './support/order-expects-target.js';
+import { expectsTarget } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -31,7 +31,7 @@ export const rule: Rule = {
     }
     // Comfort, stop and room-air orders and a stated "no target" need no range (BTS 2017: comfort
     // oxygen in terminal care); a weaning order is still titrated down against one.
-    if (order.targetNote !== undefined || !orderExpectsTarget(order)) {
+    if (order.targetNote !== undefined || !expectsTarget(order)) {
       return [];
     }
     return [

@@ -1,4 +1,4 @@
-import type { OxygenOrder } from '../../types.js';
+import type { OrderPurpose, OxygenOrder } from '../../types.js';
 
 /**
  * Whether the order titrates oxygen to an SpO2 target: its purpose is `titrate` and it does not set
@@ -19,4 +19,18 @@ export function isTitration(order: OxygenOrder): boolean {
  */
 export function givesOxygen(order: OxygenOrder): boolean {
   return order.purpose !== 'stop' && order.purpose !== 'room-air' && order.flowLPerMin !== 0;
+}
+
+/** Purposes with no SpO2 target to titrate to: comfort (BTS 2017, terminal care), stop, room air. */
+const NO_TARGET_PURPOSES: readonly OrderPurpose[] = ['comfort', 'stop', 'room-air'];
+
+/**
+ * Whether the order needs a target range: false when it says it has no SpO2 target, is for comfort,
+ * stops oxygen, is room air or sets 0 L/min. A weaning order is titrated down against a target, so it
+ * still needs one.
+ */
+export function expectsTarget(order: OxygenOrder): boolean {
+  return (
+    order.targetNote?.kind !== 'no-target' && !NO_TARGET_PURPOSES.includes(order.purpose) && order.flowLPerMin !== 0
+  );
 }

@@ -35,7 +35,6 @@ const NOT_TITRATIONS: readonly OrderPurpose[] = ['comfort', 'stop', 'wean', 'roo
 /** Rules whose advice is titration: a step, an escalation, a target to titrate against, a device for it. */
 const TITRATION_ADVICE = [
   'spo2-above-target',
-  'target-range-missing',
   'target-differs-from-policy',
   'lower-range-without-risk',
   'high-oxygen-requirement',
@@ -44,8 +43,11 @@ const TITRATION_ADVICE = [
   'cluster-headache-oxygen',
   'oxygen-without-hypoxaemia',
 ];
-/** Cards that lower a range: kept while oxygen is weaned, moot for comfort and for no oxygen. */
-const RANGE_LIMITS = ['target-above-hypercapnic-range', 'oxygen-toxicity-target'];
+/**
+ * Cards about the range itself: kept while oxygen is weaned (a wean is titrated down against a
+ * range), moot for comfort and for no oxygen.
+ */
+const RANGE_LIMITS = ['target-above-hypercapnic-range', 'oxygen-toxicity-target', 'target-range-missing'];
 /** Cards about the ordered device or flow: moot for an order that gives no oxygen. */
 const DEVICE_AND_FLOW = ['flow-outside-device-range', 'venturi-flow-insufficient'];
 /** Cards that read the SpO2 against a target: not for comfort oxygen (BTS 2017, terminal care). */
@@ -227,9 +229,10 @@ const TABLE: ReadonlyArray<{
     expected: { titrate: 'card', comfort: 'none', wean: 'none', stop: 'none', 'room-air': 'none' },
   },
   {
-    ruleId: 'target-range-missing', // BTS 2017 (V): prescribe to a target range
+    // BTS 2017 (V): prescribe to a target range; a wean is titrated down against one (common practice)
+    ruleId: 'target-range-missing',
     facts: (o) => buildFacts({ orders: [oxygenOrder({ target: undefined, ...o })] }),
-    expected: { titrate: 'change', comfort: 'none', wean: 'none', stop: 'none', 'room-air': 'none' },
+    expected: { titrate: 'change', comfort: 'none', wean: 'change', stop: 'none', 'room-air': 'none' },
   },
   {
     ruleId: 'lower-range-without-risk', // BTS 2017 (V): 94-98 % without hypercapnic risk
