@@ -4,15 +4,8 @@ import type { Policy } from '../core/policy.js';
 import type { Facts, Finding, OrderChange } from '../core/types.js';
 import { planOrderChange } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
-import {
-  calculationSection,
-  cautionsSection,
-  deviceLabel,
-  inputsSection,
-  renderSections,
-  setAsideSection,
-  sourcesSection,
-} from './card-detail.js';
+import { compactDetail } from './card-detail.js';
+import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
@@ -179,16 +172,8 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
   }
 
-  const sourceKeys = [...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)];
-  const sources = sourcesSection(sourceKeys, ctx.policy);
-  problems.push(...sources.unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
-  const sections = renderSections([
-    inputsSection(ctx.facts, ctx.assessment, ctx.policy, ctx.now),
-    calculationSection(finding.computations, ctx.policy),
-    setAsideSection(ctx.facts.setAside),
-    sources,
-    cautionsSection(ctx.policy),
-  ]);
+  const unknownKeys = findingSourceKeys(finding).filter((key) => ctx.policy.references[key] === undefined);
+  problems.push(...unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
 
   const basis = ctx.policy.references[ctx.policy.basisKey];
   const source: Card['source'] = {
@@ -202,7 +187,15 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const card: Card = {
     uuid,
     summary: truncateSummary(summary.text.trim()),
-    detail: `${detail.text.trim()}${withheld}\n\n${sections}`,
+    detail: compactDetail({
+      ruleText: `${detail.text.trim()}${withheld}`,
+      basedOn: ctx.template.basedOn ?? [],
+      finding,
+      facts: ctx.facts,
+      assessment: ctx.assessment,
+      policy: ctx.policy,
+      now: ctx.now,
+    }),
     indicator: finding.indicator,
     source,
     ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),

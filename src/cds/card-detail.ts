@@ -1,197 +1,137 @@
 import type { Assessment } from '../core/assessment/types.js';
-import {
-  formatDuration,
-  formatFio2Range,
-  formatFlow,
-  formatGasValue,
-  formatMmHg,
-  formatNumber,
-  formatRange,
-  minutesBetween,
-} from '../core/assessment/format.js';
-import { DEVICE_MODELS } from '../core/devices/index.js';
+import { formatFio2Range, formatNumber } from '../core/assessment/format.js';
 import type { Policy } from '../core/policy.js';
-import type { BloodGas, Computation, DeviceKind, Facts, Measured, OxygenOrder, SetAsideNote } from '../core/types.js';
-import { escapeMarkdown } from './card-templates.js';
+import type { Computation, Facts, Finding, Measured } from '../core/types.js';
+import { escapeMarkdown, type BasedOnKind } from './card-templates.js';
+import { formatWhen } from './card-time.js';
+import {
+  describeOrderAsRead,
+  findingSourceKeys,
+  gasValues,
+  referenceLabel,
+  reportedValue,
+  type CardClock,
+} from './card-workings.js';
 
 /**
- * The sections every card's detail ends with, so a clinician can see what the advice rests on:
- * the inputs (with time and FHIR reference), the working, what was set aside, the sources and the
- * policy's cautions. All data is escaped for GitHub-Flavored Markdown here; only the fixed wording
- * of this file is Markdown.
+ * The compact detail of a card, short enough to act on in an EHR's side panel: the rule's own text,
+ * a short "Based on" list of only the inputs the card's template names (each with its local time and
+ * how long ago), one line of arithmetic per key computation, the sources as labels, and the policy's
+ * cautions in one paragraph. The full inputs and workings are in `renderWorkings` (card-workings.ts).
  */
 
-export interface DetailSection {
-  readonly heading: string;
-  readonly lines: readonly string[];
-}
 
-/** The device registry's plain label, e.g. "Nasal cannula". */
-export function deviceLabel(kind: DeviceKind): string {
-  return DEVICE_MODELS[kind].label;
-}
+/** At most this many computations are shown on the card, one line each; the rest are in the workings. */
+export const MAX_ARITHMETIC_LINES = 3;
 
-const UNIT_DISPLAY: Readonly<Record<string, string>> = { 'mm[Hg]': 'mmHg', '%': '%', '1': '' };
-
-function reportedValue(measured: Measured): string {
-  const unit = UNIT_DISPLAY[measured.reported.unit] ?? measured.reported.unit;
-  // "22/min" but "93 %" and "2 L/min" (SI: a space before a unit symbol, none before a slash).
-  if (unit === '' || unit.startsWith('/')) {
-    return `${measured.reported.value}${unit}`;
-  }
-  return `${measured.reported.value} ${unit}`;
-}
-
-function when(at: string, now: Date): string {
-  const minutes = minutesBetween(at, now);
-  if (minutes === undefined) {
-    return `at ${at}`;
-  }
-  return minutes >= 0 ? `at ${at} (${formatDuration(minutes)} before this check)` : `at ${at} (after the time of this check)`;
-}
-
-function withReference(line: string, reference: string | undefined): string {
-  return reference === undefined ? line : `${line} (${reference})`;
-}
-
-function measuredLine(label: string, measured: Measured | undefined, now: Date): string | undefined {
+function measuredLine(label: string, measured: Measured | undefined, clock: CardClock): string {
   return measured === undefined
-    ? undefined
-    : withReference(`${label} ${reportedValue(measured)} ${when(measured.at, now)}`, measured.reference);
+    ? `${label}: no current reading`
+    : `${label} ${reportedValue(measured)} ${formatWhen(measured.at, clock.now, clock.timeZone)}`;
 }
 
-function orderLine(order: OxygenOrder): string {
-  const parts = [order.device === undefined ? (order.deviceText ?? 'device not stated') : deviceLabel(order.device)];
-  if (order.flowLPerMin !== undefined) {
-    parts.push(formatFlow(order.flowLPerMin));
-  }
-  if (order.setFio2Fraction !== undefined) {
-    parts.push(`set FiO2 ${order.setFio2Fraction.toFixed(2)}`);
-  }
-  parts.push(
-    order.target === undefined
-      ? 'no target SpO2 range stated'
-      : `target ${formatRange(order.target)}${order.target.readFrom === 'text' ? ' (read from the order text)' : ''}`,
-  );
-  return withReference(`Order under check: ${parts.join(', ')}`, order.reference);
-}
-
-function gasLine(gas: BloodGas, now: Date): string {
-  const values = (['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((component) => {
-    const shown = formatGasValue(gas, component);
-    const name = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[component];
-    return shown === undefined ? [] : [`${name} ${shown}`];
-  });
-  return `Blood gas (${gas.specimen}) ${when(gas.at, now)}: ${values.join(', ') || 'no values read'}`;
-}
-
-function pressureModel(assessment: Assessment, policy: Policy): string {
-  const model = assessment.barometricPressure.model;
-  if (model === 'site-value') {
-    return 'the site value in the policy';
-  }
-  return `${model === 'isa-1993' ? 'ICAO standard atmosphere' : 'West 1996 model'} at ${formatNumber(policy.site.altitudeM, 0)} m`;
-}
-
-/** "Inputs used": every current fact the advice could rest on, with its time and FHIR reference. */
-export function inputsSection(facts: Facts, assessment: Assessment, policy: Policy, now: Date): DetailSection {
-  const lines: (string | undefined)[] = [];
-  if (assessment.order !== undefined) {
-    lines.push(orderLine(assessment.order));
-  }
-  if (assessment.delivery.kind === 'ok') {
-    lines.push(`Estimated FiO2 delivered by the ordered device: ${formatFio2Range(assessment.delivery.value.fio2)}`);
-  }
-  if (facts.patient.ageYears !== undefined) {
-    lines.push(`Age ${formatNumber(facts.patient.ageYears, 0)} years`);
-  }
-  if (facts.patient.bmiKgPerM2 !== undefined) {
-    lines.push(`BMI ${formatNumber(facts.patient.bmiKgPerM2, 1)} kg/m2`);
-  }
-  lines.push(measuredLine('SpO2', assessment.current.spo2, now));
-  lines.push(measuredLine('Respiratory rate', assessment.current.respRate, now));
-  lines.push(measuredLine('Recorded FiO2', facts.fio2Fraction[0], now));
-  lines.push(measuredLine('Recorded oxygen flow', facts.o2FlowLPerMin[0], now));
-  lines.push(measuredLine('Haemoglobin', assessment.current.haemoglobin, now));
-  const { gas, arterialGas } = assessment.current;
-  if (gas !== undefined) {
-    lines.push(gasLine(gas, now));
-  }
-  if (arterialGas !== undefined && arterialGas !== gas) {
-    lines.push(gasLine(arterialGas, now));
-  }
-  for (const reason of assessment.hypercapnicRisk.reasons) {
-    lines.push(withReference(`Risk of hypercapnic respiratory failure: ${reason.evidence}`, reason.reference));
-  }
-  lines.push(`Barometric pressure ${formatMmHg(assessment.barometricPressure.mmHg)} (${pressureModel(assessment, policy)})`);
-  if (facts.missingData.length > 0) {
-    lines.push(`Not available: ${facts.missingData.join(', ')}`);
-  }
-  return { heading: 'Inputs used', lines: lines.filter((line) => line !== undefined).map((line) => `- ${escapeMarkdown(line)}`) };
-}
-
-function referenceLabel(key: string, policy: Policy): string {
-  return policy.references[key]?.label ?? key;
-}
-
-/** "Calculation": each computation's formula, this patient's numbers in it, and the result. */
-export function calculationSection(computations: readonly Computation[], policy: Policy): DetailSection {
-  if (computations.length === 0) {
-    return { heading: 'Calculation', lines: ['- No calculation was needed for this advice.'] };
-  }
-  const lines = computations.flatMap((c) => [
-    `- **${escapeMarkdown(c.name)}** (${escapeMarkdown(referenceLabel(c.sourceKey, policy))})`,
-    `  - Formula: ${escapeMarkdown(c.formula)}`,
-    `  - With this patient's values: ${escapeMarkdown(c.substituted)}`,
-    `  - Result: **${escapeMarkdown(c.result)}**`,
-  ]);
-  return { heading: 'Calculation', lines };
-}
-
-const SET_ASIDE_REASONS: Readonly<Record<SetAsideNote['reason'], string>> = {
-  implausible: 'implausible value',
-  stale: 'too old to count as current',
-  'unreadable-unit': 'unit not understood',
-  unrecognised: 'not recognised',
-  'error-in-source': 'marked as an error in the record',
-};
-
-/** "Set aside": values the reader did not use, and why. */
-export function setAsideSection(notes: readonly SetAsideNote[]): DetailSection {
-  if (notes.length === 0) {
-    return { heading: 'Set aside', lines: ['- Nothing was set aside.'] };
-  }
-  return {
-    heading: 'Set aside',
-    lines: notes.map(
-      (note) => `- ${escapeMarkdown(withReference(`${note.what}: ${SET_ASIDE_REASONS[note.reason]}. ${note.detail}`, note.reference))}`,
-    ),
-  };
-}
-
-const SAFE_URL = /^https?:\/\/[^\s<>]+$/;
-
-/** "Sources": each key's citation from the policy, then the policy itself. Unknown keys are reported. */
-export function sourcesSection(keys: readonly string[], policy: Policy): DetailSection & { readonly unknownKeys: readonly string[] } {
-  const unknownKeys: string[] = [];
-  const lines = [...new Set(keys)].map((key) => {
-    const reference = policy.references[key];
-    if (reference === undefined) {
-      unknownKeys.push(key);
-      return `- ${escapeMarkdown(key)}: not in this policy's reference list`;
+function basedOnLines(kind: BasedOnKind, facts: Facts, assessment: Assessment, clock: CardClock): string[] {
+  const { current } = assessment;
+  switch (kind) {
+    case 'order':
+      return assessment.order === undefined ? [] : [`Order: ${describeOrderAsRead(assessment.order)}`];
+    case 'delivered-fio2':
+      return assessment.delivery.kind === 'ok'
+        ? [`Delivered FiO2 (estimate): ${formatFio2Range(assessment.delivery.value.fio2)}`]
+        : [];
+    case 'spo2':
+      return [measuredLine('SpO2', current.spo2, clock)];
+    case 'resp-rate':
+      return [measuredLine('Respiratory rate', current.respRate, clock)];
+    case 'recorded-oxygen': {
+      const lines: string[] = [];
+      const fio2 = facts.fio2Fraction[0];
+      const flow = facts.o2FlowLPerMin[0];
+      if (fio2 !== undefined) lines.push(measuredLine('Recorded FiO2', fio2, clock));
+      if (flow !== undefined) lines.push(measuredLine('Recorded oxygen flow', flow, clock));
+      return lines;
     }
-    const link = reference.url !== undefined && SAFE_URL.test(reference.url) ? ` <${reference.url}>` : '';
-    return `- **${escapeMarkdown(reference.label)}**: ${escapeMarkdown(reference.citation)}${link}`;
-  });
-  lines.push(`- Local policy: ${escapeMarkdown(`${policy.title} (${policy.id} v${policy.version}), ${policy.site.name}`)}`);
-  return { heading: 'Sources', lines, unknownKeys };
+    case 'blood-gas': {
+      const gases = [current.gas, current.arterialGas].filter((g, i, all) => g !== undefined && all.indexOf(g) === i);
+      if (gases.length === 0) {
+        return ['Blood gas: none current'];
+      }
+      return gases.flatMap((gas) =>
+        gas === undefined
+          ? []
+          : [`Blood gas (${gas.specimen}) ${formatWhen(gas.at, clock.now, clock.timeZone)}: ${gasValues(gas)}`],
+      );
+    }
+    case 'haemoglobin':
+      return [measuredLine('Haemoglobin', current.haemoglobin, clock)];
+    case 'age':
+      return facts.patient.ageYears === undefined ? ['Age: not known'] : [`Age ${formatNumber(facts.patient.ageYears, 0)} years`];
+    case 'hypercapnic-risk': {
+      const reasons = assessment.hypercapnicRisk.reasons.map((reason) => reason.evidence);
+      return [
+        reasons.length === 0
+          ? 'Risk of hypercapnic respiratory failure: none documented'
+          : `Risk of hypercapnic respiratory failure: ${reasons.join('; ')}`,
+      ];
+    }
+  }
 }
 
-/** "Cautions": every caution line of the policy (oximetry limits, advisory only, local policy). */
-export function cautionsSection(policy: Policy): DetailSection {
-  return { heading: 'Cautions', lines: policy.cautions.map((line) => `- ${escapeMarkdown(line)}`) };
+/** "P/F ratio: 55.5 / 0.26 = 210 mmHg": the patient's numbers and the result, without the formula. */
+export function arithmeticLine(computation: Computation): string {
+  return `${escapeMarkdown(computation.name)}: ${escapeMarkdown(computation.substituted)} → **${escapeMarkdown(computation.result)}**`;
 }
 
-export function renderSections(sections: readonly DetailSection[]): string {
-  return sections.map((section) => `**${section.heading}**\n\n${section.lines.join('\n')}`).join('\n\n');
+/**
+ * The key computations: the last ones a rule made (intermediate steps such as the barometric
+ * pressure come first, the results the advice rests on last), at most {@link MAX_ARITHMETIC_LINES}.
+ */
+function keyComputations(computations: readonly Computation[]): readonly Computation[] {
+  return computations.slice(-MAX_ARITHMETIC_LINES);
+}
+
+/** "BTS 2017 · Jones 1984 · local policy bts-2017-default v1.0.0". */
+export function sourcesLine(finding: Finding, policy: Policy): string {
+  const labels = findingSourceKeys(finding)
+    .filter((key) => key !== 'local-policy')
+    .map((key) => referenceLabel(key, policy));
+  return [...new Set(labels), `local policy ${policy.id} v${policy.version}`].map(escapeMarkdown).join(' · ');
+}
+
+/** The policy's cautions (advisory only, pulse oximetry limits, any local lines) as one paragraph. */
+export function cautionsParagraph(policy: Policy): string {
+  return `_${policy.cautions.map((line) => escapeMarkdown(line.trim())).join(' ')}_`;
+}
+
+export interface CompactDetailInput {
+  /** The template's detail, already rendered with the finding's values. */
+  readonly ruleText: string;
+  readonly basedOn: readonly BasedOnKind[];
+  readonly finding: Finding;
+  readonly facts: Facts;
+  readonly assessment: Assessment;
+  readonly policy: Policy;
+  readonly now: Date;
+}
+
+/** The card's detail (GitHub-Flavored Markdown). Pure. */
+export function compactDetail(input: CompactDetailInput): string {
+  const clock: CardClock = { now: input.now, timeZone: input.policy.site.timeZone };
+  const inputs = [...new Set(input.basedOn)].flatMap((kind) =>
+    basedOnLines(kind, input.facts, input.assessment, clock).map(escapeMarkdown),
+  );
+  const computations = input.finding.computations;
+  const shown = keyComputations(computations);
+  const arithmetic = shown.map(arithmeticLine);
+  if (computations.length > shown.length) {
+    arithmetic.push(`${computations.length - shown.length} earlier step(s) not shown`);
+  }
+  const list = [...inputs, ...arithmetic];
+  const blocks = [
+    input.ruleText.trim(),
+    ...(list.length === 0 ? [] : [`**Based on:**\n${list.map((line) => `- ${line}`).join('\n')}`]),
+    `**Sources:** ${sourcesLine(input.finding, input.policy)}`,
+    cautionsParagraph(input.policy),
+  ];
+  return blocks.join('\n\n');
 }

@@ -3,6 +3,23 @@ import { z } from 'zod';
 import { describeIssues, type Issue } from './schemas.js';
 
 /**
+ * The inputs a card may list under "Based on" (`basedOn:` in cards/<rule-id>.yaml), each rendered
+ * from the call's facts by card-detail.ts with its local time.
+ */
+export const BASED_ON_KINDS = [
+  'order',
+  'delivered-fio2',
+  'spo2',
+  'resp-rate',
+  'recorded-oxygen',
+  'blood-gas',
+  'haemoglobin',
+  'age',
+  'hypercapnic-risk',
+] as const;
+export type BasedOnKind = (typeof BASED_ON_KINDS)[number];
+
+/**
  * Card wording lives in `cards/<rule-id>.yaml`, apart from the rule's logic, so clinicians can
  * review it. This module parses one file's text (reading the file is the caller's job) and fills
  * its `{{name}}` placeholders from `Finding.values`.
@@ -15,6 +32,8 @@ export const CardTemplateSchema = z
   .strictObject({
     summary: z.string().min(1),
     detail: z.string().min(1),
+    /** The inputs the card lists under "Based on": only those the finding rests on. */
+    basedOn: z.array(z.enum(BASED_ON_KINDS)).max(5).optional(),
     suggestionLabel: z.string().min(1).optional(),
     overrideReasons: z
       .array(

@@ -1,12 +1,13 @@
 import { evaluateOrder } from '../core/engine.js';
 import type { Policy } from '../core/policy.js';
-import type { OrderChange } from '../core/types.js';
+import type { Finding, OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
 import type { GatheredData } from '../fhir/gathered-data.js';
 import { buildCardReport } from './build-card.js';
 import type { CardTemplates } from './card-templates.js';
+import { renderWorkings } from './card-workings.js';
 import { OrderSelectContextSchema, OrderSignContextSchema, type CdsRequest, type CdsResponse } from './schemas.js';
 import { findService } from './services.js';
 
@@ -24,11 +25,49 @@ export interface HookEvaluation {
   readonly policyVersion: string;
   /** Template or policy slips found while building cards (no patient data): log them as warnings. */
   readonly problems: readonly string[];
+  /**
+   * The full workings of each card (inputs, calculations, set aside, sources, cautions) in card
+   * order, when asked for with `workings: true`; the cards themselves carry only a compact detail.
+   */
+  readonly workings?: readonly CardWorkings[];
+}
+
+export interface CardWorkings {
+  readonly cardUuid: string;
+  readonly ruleId: string;
+  readonly markdown: string;
+}
+
+/**
+ * One card per finding about the patient (no order reference) and rule, whichever subject order's
+ * run found it first: two drafts signed together see the same patient, and a patient-level finding
+ * whose values differ only by the order's wording is one fact. The engine sorts critical first, so
+ * the one kept is the most severe. Findings about an order stay one per order (the engine has already
+ * dropped exact repeats).
+ */
+export function oncePerPatient(findings: readonly Finding[]): Finding[] {
+  const seen = new Set<string>();
+  return findings.filter((finding) => {
+    if (finding.orderReference !== undefined) {
+      return true;
+    }
+    if (seen.has(finding.ruleId)) {
+      return false;
+    }
+    seen.add(finding.ruleId);
+    return true;
+  });
 }
 
 export function evaluateHook(
   input: { readonly serviceId: string; readonly request: CdsRequest; readonly data: GatheredData },
-  deps: { readonly policy: Policy; readonly templates: CardTemplates; readonly now: Date },
+  deps: {
+    readonly policy: Policy;
+    readonly templates: CardTemplates;
+    readonly now: Date;
+    /** Also render each card's full workings (the CLI's `--workings`); off for the live service. */
+    readonly workings?: boolean;
+  },
 ): HookEvaluation {
   const service = findService(input.serviceId);
   if (service === undefined) {
@@ -49,7 +88,9 @@ export function evaluateHook(
   const selections = 'selections' in parsed.data ? (parsed.data.selections as readonly string[]) : undefined;
 
   const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
-  const { assessment, assessments, findings } = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
+  const evaluation = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
+  const { assessment, assessments } = evaluation;
+  const findings = oncePerPatient(evaluation.findings);
   // A draft may hold two subject orders; each card shows the inputs of its own order's assessment.
   const assessmentFor = (reference: string | undefined) =>
     assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??
@@ -58,6 +99,7 @@ export function evaluateHook(
   const seen = new Map<string, number>();
   const offered = new Map<string, OrderChange[]>();
   const problems: string[] = [];
+  const workings: CardWorkings[] = [];
   const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
     if (template === undefined) {
@@ -82,6 +124,16 @@ export function evaluateHook(
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
     }
     problems.push(...report.problems);
+    if (deps.workings === true) {
+      const markdown = renderWorkings({
+        finding,
+        facts,
+        assessment: assessmentFor(finding.orderReference),
+        policy: deps.policy,
+        now: deps.now,
+      });
+      workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
+    }
     return report.card;
   });
 
@@ -91,6 +143,7 @@ export function evaluateHook(
     policyId: deps.policy.id,
     policyVersion: deps.policy.version,
     problems,
+    ...(deps.workings === true ? { workings } : {}),
   };
 }
 

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { parseHookRequest } from '../cds/parse-hook-request.js';
-import { evaluateHook } from '../cds/evaluate-hook.js';
+import { evaluateHook, type HookEvaluation } from '../cds/evaluate-hook.js';
 import { CDS_SERVICES } from '../cds/services.js';
 import { ENV_DEFAULTS } from '../config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from '../config/load-files.js';
@@ -11,7 +11,7 @@ import { checkOptions, parseOptions } from './parse-options.js';
 import { readRequestFile } from './read-request-file.js';
 import { requestMoment } from './retime-request.js';
 
-export const EVALUATE_USAGE = `Usage: o2check evaluate REQUEST.json [--policy FILE] [--cards DIR] [--service ID] [--now TIME]
+export const EVALUATE_USAGE = `Usage: o2check evaluate REQUEST.json [--policy FILE] [--cards DIR] [--service ID] [--now TIME] [--workings]
 
 Prints the CDS Hooks response the service would give for a saved hook request (JSON on stdout).
   --policy   policy file (default: the bundled BTS 2017 policy)
@@ -20,6 +20,9 @@ Prints the CDS Hooks response the service would give for a saved hook request (J
   --now      evaluate as at this ISO 8601 time. Default: the moment the request describes (its draft
              orders' authoredOn), so a saved request gives the same answer on any day; the live
              service always uses the current time.
+  --workings print each card as Markdown followed by its full workings (every input with its time
+             and FHIR reference, each calculation, what was set aside, the full sources and
+             cautions) instead of the JSON response.
 Works offline: it reads the request's prefetch and never calls its fhirServer.
 Exit 0 when it answered (whatever it found), 1 when the request could not be read or evaluated,
 2 for a usage or configuration error.`;
@@ -32,7 +35,17 @@ const EvaluateOptionsSchema = z.strictObject({
     .string()
     .refine((text) => /^\d{4}-\d{2}-\d{2}T/.test(text) && Number.isFinite(Date.parse(text)), 'must be an ISO 8601 date-time')
     .optional(),
+  workings: z.boolean().optional(),
 });
+
+/** Each card as Markdown (indicator, summary, detail) followed by its full workings. */
+function workingsText(evaluation: HookEvaluation): string {
+  const blocks = evaluation.response.cards.map((card, index) => {
+    const workings = evaluation.workings?.[index]?.markdown ?? '(no workings)';
+    return [`## ${index + 1}. [${card.indicator}] ${card.summary}`, card.detail ?? '', '### Full workings', workings].join('\n\n');
+  });
+  return `${blocks.length === 0 ? 'No cards.' : blocks.join('\n\n---\n\n')}\n`;
+}
 
 /** Offline: no FHIR server is ever called, so the fetch the gatherer holds must never run. */
 const refuseFetch: typeof fetch = () => Promise.reject(new Error('o2check evaluate does not call FHIR servers'));
@@ -43,6 +56,7 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
     cards: { type: 'string' },
     service: { type: 'string' },
     now: { type: 'string' },
+    workings: { type: 'boolean' },
   });
   if (parsed.values['help'] === true) {
     io.stdout(`${EVALUATE_USAGE}\n`);
@@ -57,6 +71,7 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
     cards: parsed.values['cards'],
     service: parsed.values['service'],
     now: parsed.values['now'],
+    workings: parsed.values['workings'],
   });
 
   const loaded = await loadPolicyAndCards({
@@ -107,9 +122,9 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
   }
   const evaluation = evaluateHook(
     { serviceId, request: request.request, data: gathered.data },
-    { policy: loaded.policy, templates: loaded.templates, now },
+    { policy: loaded.policy, templates: loaded.templates, now, workings: options.workings === true },
   );
-  io.stdout(`${JSON.stringify(evaluation.response, null, 2)}\n`);
+  io.stdout(options.workings === true ? workingsText(evaluation) : `${JSON.stringify(evaluation.response, null, 2)}\n`);
   io.stderr(`o2check evaluate: ${evaluation.response.cards.length} card(s), evaluated as at ${now.toISOString()} with policy ${evaluation.policyId} v${evaluation.policyVersion}\n`);
   return 0;
 }

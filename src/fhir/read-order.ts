@@ -11,7 +11,7 @@ import { readQuantity } from './read-quantity.js';
 import { readSettingText, type SettingTextRead } from './read-setting-text.js';
 import { readOrderPurpose } from './read-order-purpose.js';
 import { rangeKeepsBound, readWrittenTarget } from './read-target-text.js';
-import { normaliseUnit } from '../units/convert.js';
+import { convertUnit, normaliseUnit } from '../units/convert.js';
 
 /**
  * Reads one oxygen order into an OxygenOrder: coded elements first, then the order's words. Where
@@ -61,6 +61,15 @@ class OrderNotes {
   }
 }
 
+/**
+ * A count ("1 {pill}", "2 {puff}": a UCUM annotation alone) or a mass ("5 mg") cannot be a flow or an
+ * FiO2 written oddly, so such a quantity is not an order field this service reads. A volume ("2 L"),
+ * a blank or an unknown unit may be a flow with a slip in it, so those are still noted.
+ */
+function isCountOrMass(unit: string | undefined): boolean {
+  return unit !== undefined && (/^\{[^{}]*\}$/.test(unit) || convertUnit(1, unit, 'g').kind === 'ok');
+}
+
 function readStructuredSettings(found: readonly FoundQuantity[], notes: OrderNotes): Settings {
   const settings: Settings = { flow: undefined, fio2: undefined };
   for (const item of found) {
@@ -84,6 +93,9 @@ function readStructuredSettings(found: readonly FoundQuantity[], notes: OrderNot
     if (fio2?.kind === 'ok') {
       settings.fio2 ??= notes.plausibleFio2(fio2.value);
       continue;
+    }
+    if (isCountOrMass(unit)) {
+      continue; // e.g. a client that adds "1 {pill}" to every order: not an oxygen setting, nothing set aside
     }
     const shown = `${quantity.value} ${written === '' ? '(no unit)' : written}`;
     const detail = `${shown} at ${item.where} is neither a flow nor an oxygen concentration.`;

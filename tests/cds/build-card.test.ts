@@ -32,12 +32,14 @@ const ctx: CardBuildContext = {
 };
 const TARGET_EXTENSION = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
 
-function section(detail: string, heading: string): string[] {
-  const start = detail.indexOf(`**${heading}**\n\n`);
-  expect(start).toBeGreaterThan(-1);
-  const rest = detail.slice(start + heading.length + 6);
-  const end = rest.indexOf('\n\n**');
-  return (end === -1 ? rest : rest.slice(0, end)).split('\n');
+/** The lines of the detail's "Based on" list, without the bullet. */
+function basedOn(detail: string): string[] {
+  const start = detail.indexOf('**Based on:**\n');
+  if (start === -1) {
+    return [];
+  }
+  const rest = detail.slice(start + '**Based on:**\n'.length);
+  return rest.slice(0, rest.indexOf('\n\n')).split('\n').map((line) => line.replace(/^- /, ''));
 }
 
 describe('buildCard', () => {
@@ -63,68 +65,43 @@ describe('buildCard', () => {
     );
   });
 
-  it('appends the five sections in order', () => {
-    const headings = [...(card.detail ?? '').matchAll(/^\*\*([^*]+)\*\*$/gm)].map((m) => m[1]);
-    expect(headings).toStrictEqual(['Inputs used', 'Calculation', 'Set aside', 'Sources', 'Cautions']);
+  it('keeps the detail compact: the rule text, then Based on, Sources and the cautions, nothing else', () => {
+    const blocks = (card.detail ?? '').split('\n\n');
+    expect(blocks.map((block) => /^\*\*([^*]+):\*\*/.exec(block)?.[1] ?? (block.startsWith('_') ? 'cautions' : 'text'))).toStrictEqual([
+      'text',
+      'Based on',
+      'Sources',
+      'cautions',
+    ]);
+    // The full workings are not on the card (they are rendered by renderWorkings).
+    expect(card.detail).not.toMatch(/Inputs used|Set aside|Formula:/);
   });
 
-  it('lists each input with its time and FHIR reference', () => {
-    expect(section(card.detail ?? '', 'Inputs used')).toStrictEqual([
-      '- Order under check: Nasal cannula, 3 L/min, target 94–98 % (read from the order text) (ServiceRequest/lb-o2-0001)',
-      '- Estimated FiO2 delivered by the ordered device: 0.32 (0.28–0.36)',
-      '- Age 64 years',
-      '- SpO2 93 % at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-spo2-0001)',
-      '- Respiratory rate 22/min at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-rr-0001)',
-      '- Recorded oxygen flow 2 L/min at 2025-03-14T07:50:00Z (20 min before this check) (Observation/lb-flow-0001)',
-      '- Blood gas (arterial) at 2025-03-14T06:40:00Z (1 h 30 min before this check): pH 7.37, PCO2 6.7 kPa, PO2 8.1 kPa, HCO3 29 mmol/L',
-      '- Risk of hypercapnic respiratory failure: Chest wall deformity: Kyphoscoliosis deformity of spine (SNOMED CT 405773007) (Condition/lb-cond-0001)',
-      '- Risk of hypercapnic respiratory failure: PaCO2 6.7 kPa at 06:40',
-      '- Barometric pressure 756 mmHg (ICAO standard atmosphere at 40 m)',
+  it("lists only the template's inputs, each in the site's local time with how long ago, then one line per computation", () => {
+    const withInputs = buildCard(finding, { ...ctx, template: { ...template, basedOn: ['spo2', 'blood-gas'] } });
+    // NOW is 08:10 UTC on 14 March 2025, GMT in Europe/London (policies/bts-2017.yaml site.timeZone).
+    expect(basedOn(withInputs.detail ?? '')).toStrictEqual([
+      'SpO2 93 % at 07:50 (20 min ago)',
+      'Blood gas (arterial) at 06:40 (1 h 30 min ago): pH 7.37, PCO2 6.7 kPa, PO2 8.1 kPa, HCO3 29 mmol/L',
+      'Barometric pressure at the site: h = 40 m → **756 mmHg**',
+      'Alveolar PO2 (simplified alveolar gas equation): 0.32 × (756 − 47) − 50.3 / 0.8 → **164 mmHg**',
     ]);
+    // No raw ISO time and no FHIR reference on the card: those are in the workings.
+    expect(withInputs.detail).not.toMatch(/\d{4}-\d\d-\d\dT|Observation\//);
   });
 
-  it('shows each calculation with the patient numbers substituted', () => {
-    expect(section(card.detail ?? '', 'Calculation')).toStrictEqual([
-      '- **Barometric pressure at the site** (ICAO ISA)',
-      '  - Formula: P = 760 × (1 − 2.25577e-5 × h)^5.25588',
-      "  - With this patient's values: h = 40 m",
-      '  - Result: **756 mmHg**',
-      '- **Alveolar PO2 (simplified alveolar gas equation)** (Alveolar gas equation)',
-      '  - Formula: PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
-      "  - With this patient's values: 0.32 × (756 − 47) − 50.3 / 0.8",
-      '  - Result: **164 mmHg**',
-    ]);
-  });
-
-  it('lists what was set aside', () => {
-    expect(section(card.detail ?? '', 'Set aside')).toStrictEqual([
-      '- SpO2 of 38 %: implausible value. Outside the plausible range for a pulse oximeter reading. (Observation/lb-spo2-0000)',
-    ]);
-  });
-
-  it('cites each source key from the policy, then the policy itself', () => {
-    const lines = section(card.detail ?? '', 'Sources');
-    expect(lines.map((line) => line.slice(0, line.indexOf(':')))).toStrictEqual([
-      '- **BTS 2017**',
-      '- **Low-flow mixing model**',
-      '- **ICAO ISA**',
-      '- **Alveolar gas equation**',
-      '- Local policy',
-    ]);
-    expect(lines[0]).toContain("O'Driscoll BR et al. BTS guideline for oxygen use in adults");
-    expect(lines[0]).toMatch(/ <https:\/\/www\.brit-thoracic\.org\.uk\/>$/);
-    expect(lines[4]).toBe(
-      '- Local policy: Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0), Larkspur Bay General Hospital (demo site)',
+  it('names each source by its label, and the policy by id and version', () => {
+    expect(card.detail).toContain(
+      '**Sources:** BTS 2017 · Low-flow mixing model · ICAO ISA · Alveolar gas equation · local policy bts-2017-default v1.0.0',
     );
   });
 
   it('ends with every caution of the policy: advisory only and pulse oximetry limits', () => {
-    const lines = section(card.detail ?? '', 'Cautions');
-    expect(lines).toHaveLength(policy.cautions.length);
-    expect(lines[0]).toMatch(/^- Advisory only: this check supports, and does not replace, the clinical judgement/);
+    const last = (card.detail ?? '').split('\n\n').at(-1) ?? '';
+    expect(last).toMatch(/^_Advisory only: this check supports, and does not replace, the clinical judgement/);
     // ISO 80601-2-61 (Arms <= 4 %) and Sjoding 2020 (skin pigmentation), as the bundled policy words them
-    expect(lines[1]).toContain('within about 4 % of arterial saturation (ISO 80601-2-61)');
-    expect(lines[1]).toContain('darker skin (Sjoding 2020)');
+    expect(last).toContain('within about 4 % of arterial saturation (ISO 80601-2-61)');
+    expect(last).toContain('darker skin (Sjoding 2020)');
   });
 
   it('offers one recommended update of the whole draft with the new target', () => {
@@ -201,11 +178,20 @@ describe('buildCard', () => {
       expectConformant({ cards: [report.card] });
     });
 
-    it('says so when nothing was set aside and no calculation was needed', () => {
-      const bare = buildCard({ ...finding, computations: [] }, { ...ctx, facts: { ...facts, setAside: [] } });
-      expect(section(bare.detail ?? '', 'Calculation')).toStrictEqual(['- No calculation was needed for this advice.']);
-      expect(section(bare.detail ?? '', 'Set aside')).toStrictEqual(['- Nothing was set aside.']);
+    it('leaves out the Based on list when the template names no inputs and nothing was computed', () => {
+      const bare = buildCard({ ...finding, computations: [] }, ctx);
+      expect(basedOn(bare.detail ?? '')).toStrictEqual([]);
+      expect(bare.detail).toContain('**Sources:**');
       expectConformant({ cards: [bare] });
+    });
+
+    it('says an input the template names is missing rather than leaving it out', () => {
+      const noSpo2 = buildCard(finding, {
+        ...ctx,
+        template: { ...template, basedOn: ['spo2'] },
+        assessment: { ...assessment, current: { ...assessment.current, spo2: undefined } },
+      });
+      expect(basedOn(noSpo2.detail ?? '')[0]).toBe('SpO2: no current reading');
     });
 
     it('shortens a long rendered summary at a word boundary with an ellipsis', () => {

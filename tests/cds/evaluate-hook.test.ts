@@ -44,7 +44,7 @@ describe('evaluateHook', () => {
 
     it('shows the FiO2 of about 0.32 from 3 L/min by nasal cannula', () => {
       // check-values.md §2a: nasal cannula 3 L/min ≈ FiO2 0.32 ("rule of 4"; common practice, ± 0.05)
-      const match = /FiO2 (0\.\d\d) \((0\.\d\d)–(0\.\d\d)\)/.exec(targetCard?.detail ?? '');
+      const match = /Delivered FiO2 \(estimate\): .* → \*\*(0\.\d\d) \((0\.\d\d)–(0\.\d\d)\)/.exec(targetCard?.detail ?? '');
       expect(match).not.toBeNull();
       expect(Number(match?.[1])).toBeCloseTo(0.32, 1);
     });
@@ -92,13 +92,26 @@ describe('evaluateHook', () => {
       );
     });
 
-    it('shows the inputs with times and references, the working and the cautions', () => {
-      const detail = targetCard?.detail ?? '';
-      expect(detail).toContain('- SpO2 93 % at 2025-03-14T09:20:00Z (25 min before this check) (Observation/lb-spo2-0064)');
-      expect(detail).toContain('PCO2 6.7 kPa');
-      expect(detail).toContain('**Calculation**');
-      expect(detail).toContain('**Cautions**');
-      expect(detail).toContain('(ISO 80601-2-61)');
+    it('keeps the inputs with times and references, the working and the cautions in the workings', () => {
+      const full = evaluateHook({ serviceId: 'oxygen-order-sign', request: orderSignRequest(standardOrder), data: kyphoscoliosisData() }, { ...deps, workings: true });
+      const index = full.response.cards.findIndex((card) => card.source.topic?.code === 'target-above-hypercapnic-range');
+      const workings = full.workings?.[index];
+      expect(workings?.cardUuid).toBe(targetCard?.uuid);
+      // NOW is 09:45 UTC in March 2025, before the clocks change: GMT in Europe/London (tzdata).
+      expect(workings?.markdown).toContain('- SpO2 93 % at 09:20 (25 min ago) (Observation/lb-spo2-0064)');
+      expect(workings?.markdown).toContain('PCO2 6.7 kPa');
+      expect(workings?.markdown).toContain('**Calculation**');
+      expect(workings?.markdown).toContain('(ISO 80601-2-61)');
+      // The same cards either way: the workings are extra, never a different answer.
+      expect(full.response).toStrictEqual(result.response);
+      expect(result.workings).toBeUndefined();
+    });
+
+    it('keeps the advisory-only and pulse oximetry cautions on the card itself', () => {
+      for (const card of cards) {
+        expect(card.detail).toContain('Advisory only');
+        expect(card.detail).toContain('(ISO 80601-2-61)');
+      }
     });
 
     it('reports the rule ids, the policy and no template problems', () => {
@@ -172,7 +185,7 @@ describe('evaluateHook', () => {
       const result = run('oxygen-order-select', request);
       const target = result.response.cards.find((card) => card.source.topic?.code === 'target-above-hypercapnic-range');
       expect(target?.suggestions?.[0]?.actions?.[0]?.resource?.['id']).toBe('lb-o2-0065');
-      expect(target?.detail).toContain('(ServiceRequest/lb-o2-0065)');
+      expect(target?.detail).toContain('(Nasal cannula at 2 L/min)');
       expectConformant(result.response);
     });
 
@@ -184,10 +197,10 @@ describe('evaluateHook', () => {
         'lb-o2-0064',
         'lb-o2-0065',
       ]);
-      // each card lists the inputs of its own order
+      // each card speaks of its own order
       for (const card of targets) {
         const id = String(card.suggestions?.[0]?.actions?.[0]?.resource?.['id']);
-        expect(card.detail).toContain(`Order under check: Nasal cannula, ${id === 'lb-o2-0064' ? '3' : '2'} L/min`);
+        expect(card.detail).toContain(`(Nasal cannula at ${id === 'lb-o2-0064' ? '3' : '2'} L/min)`);
       }
       expectConformant(result.response);
     });

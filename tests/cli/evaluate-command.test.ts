@@ -33,8 +33,24 @@ describe('o2check evaluate', () => {
     const repeat = response.cards.find((card) => ruleOf(card) === 'repeat-blood-gas-due');
     expect(repeat?.summary).toContain('30–60 min');
     // Nasal cannula at 3 L/min: FiO2 about 0.32 (rule of 4, check-values 2a: common practice).
-    expect(target?.detail).toContain('FiO2 0.32');
+    expect(target?.detail).toMatch(/Delivered FiO2 \(estimate\): .* → \*\*0\.32 /);
     expect(run.stderr).toContain('evaluated as at 2026-11-30T09:40:00.000Z');
+  });
+
+  it('prints each card with its full workings with --workings, in the site time zone', async () => {
+    const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--workings']);
+    expect(run.code).toBe(0);
+    const cards = run.stdout.split('\n---\n');
+    expect(cards.length).toBeGreaterThan(1);
+    for (const card of cards) {
+      expect(card).toMatch(/^\n?## \d+\. \[(critical|warning|info)\] /);
+      expect(card).toContain('### Full workings');
+      expect(card).toContain('**Inputs used**');
+      expect(card).toContain('**Cautions**');
+    }
+    // The example's SpO2 at 09:20 UTC on 30 Nov 2026 is 09:20 GMT in Europe/London (tzdata), 20 min
+    // before the order was signed at 09:40.
+    expect(run.stdout).toMatch(/- SpO2 \d+ % at 09:20 \(20 min ago\) \(Observation\//);
   });
 
   it('evaluates at --now when given, so stale data is treated as stale', async () => {

@@ -211,6 +211,34 @@ describe('readOrder', () => {
       ]);
     });
 
+    // Issue 6 class 12: order fields the service does not read raise no set-aside note (common practice:
+    // a client may add a dose count to every order). A count or a mass cannot be a flow written oddly.
+    it.each([
+      [1, '{pill}'],
+      [2, '{puff}'],
+      [1, '{dose}'],
+      [500, 'mg'],
+    ])('sets nothing aside for a dose of %s %s, and still reads the flow', (value, unit) => {
+      const resource = oxygenMedicationRequest('mr-10b', {
+        dosageInstruction: [
+          // BTS 2017, Table 4: nasal cannulae 1-2 L/min
+          { method: { text: 'Nasal cannula' }, doseAndRate: [{ rateQuantity: quantity(2, 'L/min'), doseQuantity: quantity(value, unit) }] },
+        ],
+      });
+      const { order, notes } = read(resource);
+      expect([order.flowLPerMin, order.setFio2Fraction, notes]).toStrictEqual([2, undefined, []]);
+    });
+
+    it('still notes a blank or unknown unit, which may be a flow written with a slip', () => {
+      const resource = oxygenMedicationRequest('mr-10c', {
+        dosageInstruction: [{ doseAndRate: [{ doseQuantity: { value: 2 } }, { doseQuantity: quantity(2, 'Lpmin') }] }],
+      });
+      expect(read(resource).notes.map((n) => [n.reason, n.detail])).toStrictEqual([
+        ['unreadable-unit', '2 (no unit) at doseAndRate[0].doseQuantity is neither a flow nor an oxygen concentration.'],
+        ['unreadable-unit', '2 Lpmin at doseAndRate[1].doseQuantity is neither a flow nor an oxygen concentration.'],
+      ]);
+    });
+
     it('notes a target extension that is not a range within 50-100 %', () => {
       const resource = oxygenMedicationRequest('mr-11', { extension: [targetExtension(98, 94)] });
       const { order, notes } = read(resource);

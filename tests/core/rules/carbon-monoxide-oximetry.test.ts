@@ -19,7 +19,7 @@ describe('carbon-monoxide-oximetry', () => {
     expect(finding.values.orderedTarget).toBe('94–98 %');
     expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 15 });
     const card = expectCardRenders(finding);
-    expect(card.summary).toBe('Carbon monoxide poisoning: SpO2 is not a valid guide. Give high-concentration oxygen and check COHb');
+    expect(card.summary).toBe('Carbon monoxide poisoning: SpO2 is not a valid guide; high-concentration oxygen and a COHb level advised');
     expect(card.label).toBe('Change to Reservoir mask at 15 L/min');
   });
 

@@ -19,7 +19,7 @@ describe('oxygen-toxicity-target', () => {
     expect(finding.indicator).toBe('warning');
     expect(finding.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 85, highPercent: 88 } });
     const card = expectCardRenders(finding);
-    expect(card.summary).toBe('Paraquat poisoning: oxygen can worsen the lung injury. Target 85–88 %, oxygen only if hypoxaemic');
+    expect(card.summary).toBe('Paraquat poisoning: oxygen may worsen the lung injury. Target 85–88 %, oxygen only if hypoxaemic');
   });
 
   it('suggests 85-88 % for bleomycin lung injury with no target on the order', () => {

@@ -1,0 +1,59 @@
+import { describe, expect, it } from 'vitest';
+import { formatAgo, formatClockTime, formatWhen } from '../../src/cds/card-time.js';
+
+// Zone rules are from the IANA time zone database (tzdata): Europe/London is GMT (UTC+0) in winter and
+// BST (UTC+1) from 01:00 UTC on the last Sunday of March; Australia/Sydney is AEDT (UTC+11) in
+// the southern summer and AEST (UTC+10) from 16:00 UTC on the first Saturday of April.
+
+describe('formatWhen', () => {
+  it('shows the same instant as each site reads it', () => {
+    const now = new Date('2025-01-15T09:40:00Z');
+    expect(formatWhen('2025-01-15T09:20:00Z', now, 'Europe/London')).toBe('at 09:20 (20 min ago)'); // GMT, tzdata
+    expect(formatWhen('2025-01-15T09:20:00Z', now, 'Australia/Sydney')).toBe('at 20:20 (20 min ago)'); // AEDT +11, tzdata
+  });
+
+  it('follows the clock change: London 00:50 GMT then 02:10 BST, 20 min apart', () => {
+    // tzdata: on 30 March 2025 London's clocks went from 01:00 GMT to 02:00 BST.
+    const now = new Date('2025-03-30T01:10:00Z');
+    expect(formatWhen('2025-03-30T00:50:00Z', now, 'Europe/London')).toBe('at 00:50 (20 min ago)');
+    expect(formatWhen('2025-03-30T01:10:00Z', now, 'Europe/London')).toBe('at 02:10 (0 min ago)');
+  });
+
+  it('follows the clock change in Sydney: 02:50 AEDT, then 02:10 AEST 20 min later', () => {
+    // tzdata: on 6 April 2025 Sydney's clocks went back from 03:00 AEDT to 02:00 AEST (16:00 UTC).
+    const now = new Date('2025-04-05T16:10:00Z');
+    expect(formatWhen('2025-04-05T15:50:00Z', now, 'Australia/Sydney')).toBe('at 02:50 (20 min ago)');
+    expect(formatWhen('2025-04-05T16:10:00Z', now, 'Australia/Sydney')).toBe('at 02:10 (0 min ago)');
+  });
+
+  it('reads an offset time as the instant it names, not as the site wall clock', () => {
+    const now = new Date('2025-01-15T09:40:00Z');
+    expect(formatWhen('2025-01-15T10:20:00+01:00', now, 'Europe/London')).toBe('at 09:20 (20 min ago)');
+  });
+
+  describe('edge cases', () => {
+    it('adds the date for another local day, and the year for another year', () => {
+      const now = new Date('2025-01-01T00:30:00Z');
+      expect(formatClockTime('2024-12-31T23:50:00Z', now, 'Europe/London')).toBe('31 Dec 2024 23:50');
+      // Midnight in Sydney falls at 13:00 UTC: 12:50 UTC is still the previous local day there.
+      const sydneyNow = new Date('2025-01-15T13:10:00Z');
+      expect(formatClockTime('2025-01-15T12:50:00Z', sydneyNow, 'Australia/Sydney')).toBe('15 Jan 23:50');
+      expect(formatClockTime('2025-01-15T13:05:00Z', sydneyNow, 'Australia/Sydney')).toBe('00:05');
+    });
+
+    it('never shows a raw ISO string for a readable time', () => {
+      const now = new Date('2025-06-01T12:00:00Z');
+      for (const at of ['2025-06-01T11:59:00Z', '2025-05-30T08:00:00Z', '2024-06-01T12:00:00.000Z']) {
+        for (const zone of ['Europe/London', 'Australia/Sydney', 'America/New_York']) {
+          expect(formatWhen(at, now, zone)).not.toMatch(/\d{4}-\d\d-\d\dT|Z\b/);
+        }
+      }
+    });
+
+    it('says a time later than the check is later, and an unreadable one is shown as given', () => {
+      const now = new Date('2025-01-15T09:40:00Z');
+      expect(formatAgo('2025-01-15T09:50:00Z', now)).toBe('later than this check');
+      expect(formatWhen('not a time', now, 'Europe/London')).toBe('at not a time (time not readable)');
+    });
+  });
+});
