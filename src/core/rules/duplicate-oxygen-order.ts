@@ -18,6 +18,7 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
+  appliesTo: 'all-ages', // holds for patients of any age
   evaluate: ({ assessment, facts }): readonly Finding[] => {
     const { order } = assessment;
     if (order === undefined) {

@@ -1,11 +1,14 @@
 import { rule as acuteHypercapnicAcidosis } from './acute-hypercapnic-acidosis.js';
+import { rule as adultChecksOnly } from './adult-checks-only.js';
 import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
 import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
 import { rule as dataSetAside } from './data-set-aside.js';
 import { rule as duplicateOxygenOrder } from './duplicate-oxygen-order.js';
 import { rule as flowOutsideDeviceRange } from './flow-outside-device-range.js';
 import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
+import { rule as hypercapniaWithoutChronicRetention } from './hypercapnia-without-chronic-retention.js';
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
+import { rule as news2Scale2 } from './news2-scale-2.js';
 import { rule as noRecentSpo2 } from './no-recent-spo2.js';
 import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
 import { rule as oxygenationSummary } from './oxygenation-summary.js';
@@ -32,6 +35,7 @@ export type { Rule, RuleContext } from './support/rule-types.js';
  */
 export const RULES: readonly Rule[] = [
   acuteHypercapnicAcidosis,
+  hypercapniaWithoutChronicRetention,
   carbonMonoxideOximetry,
   spo2BelowTarget,
   targetAboveHypercapnicRange,
@@ -46,11 +50,13 @@ export const RULES: readonly Rule[] = [
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
   repeatBloodGasDue,
+  news2Scale2,
   pneumothoraxOxygen,
   clusterHeadacheOxygen,
   sickleCellOxygen,
   pregnancyOxygen,
   noRecentSpo2,
+  adultChecksOnly,
   requiredDataUnavailable,
   dataSetAside,
   oxygenationSummary,

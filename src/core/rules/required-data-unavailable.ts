@@ -16,6 +16,7 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
+  appliesTo: 'all-ages', // holds for patients of any age
   evaluate: ({ facts }): readonly Finding[] => {
     if (facts.missingData.length === 0) {
       return [];
