@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
+import { evaluateOrder } from '../../../src/core/engine.js';
 import { rule } from '../../../src/core/rules/news2-scale-2.js';
 import type { ConditionKind, Facts } from '../../../src/core/types.js';
-import { BTS, bloodGas, buildFacts, condition, fio2, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
+import { BTS, NOW, TSANZ, bloodGas, buildFacts, condition, fio2, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -83,6 +84,13 @@ describe('news2-scale-2', () => {
       expect(onlyFinding(runRule(rule, onOxygen)).values.currentScore).toContain('on oxygen scores 1 on Scale 2');
       const onAir = patient(['previous-niv-or-imv', 'copd'], { spo2Percent: [spo2(94)], fio2Fraction: [fio2(0.21)] });
       expect(onlyFinding(runRule(rule, onAir)).values.currentScore).toContain('on air scores 0 on Scale 2');
+    });
+
+    it('is switched off in the TSANZ preset, where wards chart another early-warning score', () => {
+      const facts = patient(['copd', 'previous-niv-or-imv']);
+      const ids = (policy: typeof BTS) => evaluateOrder(facts, policy, { hook: 'order-sign', now: NOW }).findings.map((f) => f.ruleId);
+      expect(ids(BTS)).toContain('news2-scale-2');
+      expect(ids(TSANZ)).not.toContain('news2-scale-2');
     });
 
     it('is silent in pregnancy, for which NEWS2 is not validated', () => {
