@@ -1,6 +1,5 @@
 import { formatGasValue, formatNumber, formatRange } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
-import type { Policy } from '../policy.js';
 import type { ConditionKind, Facts, Finding } from '../types.js';
 import { describeAge, describeMeasured } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -17,7 +16,7 @@ function describeCauses(facts: Facts): string {
 }
 
 /** The range the patient keeps or is moved to, and why, as the card states it. */
-function describeRange(assessment: Assessment, policy: Policy): string {
+function describeRange(assessment: Assessment): string {
   const target = assessment.target;
   if (target.kind === 'no-spo2-target') {
     return `No SpO2 range applies (${target.reason}); oxygen is not reduced because of the CO2.`;
@@ -32,8 +31,8 @@ function describeRange(assessment: Assessment, policy: Policy): string {
   return (
     `The range stays **${range}** (local policy keeps the patient's range for acute hypercapnia without ` +
     'chronic retention). With no history of CO2 retention the raised PCO2 comes from tiring, not from ' +
-    `oxygen, and lowering oxygen adds hypoxaemia to the acidosis; the BTS guideline keeps acute asthma at ` +
-    `${formatRange(policy.targets.standard)}.`
+    'oxygen, and lowering oxygen adds hypoxaemia to the acidosis; the BTS guideline keeps acute asthma at ' +
+    'the standard range.'
   );
 }
 
@@ -90,7 +89,7 @@ export const rule: Rule = {
           asthmaNote: asthma
             ? 'In acute asthma a normal or raised PaCO2 marks life-threatening or near-fatal asthma.'
             : 'In acute asthma even a normal PaCO2 marks life-threatening asthma.',
-          rangeReasoning: describeRange(assessment, policy),
+          rangeReasoning: describeRange(assessment),
         },
         computations: classification.compensation === undefined ? [] : [classification.compensation.computation],
         sourceKeys: ['bts-2017', 'bts-sign-asthma', 'rcem-abg', 'local-policy'],

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/hypercapnia-without-chronic-retention.js';
 import type { ConditionKind, Facts } from '../../../src/core/types.js';
-import { BTS, bloodGas, buildFacts, condition, respRate, withPolicy } from '../facts-builder.js';
+import { BTS, TSANZ, bloodGas, buildFacts, condition, respRate, withPolicy } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -119,6 +119,13 @@ describe('hypercapnia-without-chronic-retention', () => {
     it('does not fire without a pH: acute and chronic cannot be told apart', () => {
       const facts = buildFacts({ bloodGases: [bloodGas({ ageMinutes: 20, paco2Kpa: 8.1, hco3: 25 })] });
       expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+
+    it('keeps the TSANZ range under the TSANZ preset and does not quote the BTS numbers as its own', () => {
+      // TSANZ 2015: 92-96 % for most acute medical patients
+      const finding = onlyFinding(runRule(rule, tiring(7.26, 7.9, ['acute-asthma']), { policy: TSANZ }));
+      expect(finding.values.rangeReasoning).toContain('The range stays **92–96 %**');
+      expect(finding.values.rangeReasoning).not.toContain('94–98');
     });
 
     it('says no SpO2 range applies in carbon monoxide poisoning', () => {
