@@ -24,12 +24,12 @@ function describeRange(assessment: Assessment): string {
   const range = formatRange(target.range);
   if (target.basis === 'hypercapnic-risk') {
     return (
-      `Local policy moves the range to **${range}** for acute hypercapnia (policy key ` +
-      '`hypercapnicRisk.acuteHypercapniaWithoutRiskTarget`). Do not let SpO2 fall below it because of the CO2.'
+      `Local policy moves the range to ${range} for acute hypercapnia (policy key ` +
+      'hypercapnicRisk.acuteHypercapniaWithoutRiskTarget). Do not let SpO2 fall below it because of the CO2.'
     );
   }
   return (
-    `The range stays **${range}** (local policy keeps the patient's range for acute hypercapnia without ` +
+    `The range stays ${range} (local policy keeps the patient's range for acute hypercapnia without ` +
     'chronic retention). With no history of CO2 retention the raised PCO2 comes from tiring, not from ' +
     'oxygen, and lowering oxygen adds hypoxaemia to the acidosis; the BTS guideline keeps acute asthma at ' +
     'the standard range.'
