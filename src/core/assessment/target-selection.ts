@@ -162,7 +162,9 @@ export function compareOrderedTarget(
  * else the applicable one; none without a target. When the ordered range is higher than a range that
  * exists to limit oxygen (hypercapnic risk, BTS 2017 Table 4; paraquat or bleomycin, Table 3), the
  * advised range is used instead: judging SpO2 against the higher range would prompt more oxygen for
- * exactly the patients it can harm.
+ * exactly the patients it can harm. For acute hypercapnia without chronic retention kept at the
+ * patient's range by local policy, a lower ordered range is not used either: SpO2 is judged against
+ * the kept range, so hypoxaemia in a tiring patient is not passed as "in range".
  */
 export function selectTitrationTarget(
   order: OxygenOrder | undefined,
@@ -179,6 +181,15 @@ export function selectTitrationTarget(
       comparison.ordered.highPercent > target.range.highPercent);
   if (orderedIsUnsafeSide) {
     return { range: target.range, basis: 'advised-over-ordered' };
+  }
+  // A lower range ordered for a tiring patient is most likely the CO2 read as chronic retention:
+  // judging SpO2 against it would let hypoxaemia pass in a patient who may be about to tire out.
+  if (
+    target.basis === 'standard-despite-acute-hypercapnia' &&
+    order?.target !== undefined &&
+    order.target.lowPercent < target.range.lowPercent
+  ) {
+    return { range: target.range, basis: 'applicable-over-lower-ordered' };
   }
   if (order?.target !== undefined) {
     return {

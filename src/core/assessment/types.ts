@@ -208,8 +208,12 @@ export type TargetComparison =
 /** The range the nurse titrates to: the ordered one if present, else the applicable one. */
 export interface TitrationTarget {
   readonly range: SaturationRange;
-  /** `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one is used. */
-  readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered';
+  /**
+   * `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one
+   * is used. `applicable-over-lower-ordered`: a tiring patient without chronic retention has a lower
+   * range ordered than the one kept for them, so SpO2 is judged against the kept range.
+   */
+  readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered' | 'applicable-over-lower-ordered';
 }
 
 /** Everything derived once per call for one subject order; rules read it and never recompute it. */

@@ -223,6 +223,21 @@ describe('selectTitrationTarget', () => {
       });
     });
 
+    it('titrates a tiring patient to the kept range when a lower range was ordered', () => {
+      // acute asthma, pH 7.27 (RCEM < 7.35), PaCO2 7.8 kPa (BTS 2017 clarification), HCO3 25 within the
+      // acute rise (check-values 3g); BTS 2017 keeps acute asthma at 94-98 %
+      const facts = buildFacts({
+        orders: ordered(88, 92),
+        conditions: [condition('acute-asthma')],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.27, paco2Kpa: 7.8, hco3: 25 })],
+      });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: 94, highPercent: 98 },
+        basis: 'applicable-over-lower-ordered',
+      });
+    });
+
     it('keeps an ordered lower range for a patient with no documented risk (an individual target may exist)', () => {
       const facts = buildFacts({ orders: ordered(88, 92) });
       const applicable = target(facts);
