@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { evaluateOrder } from '../../../src/core/engine.js';
 import { rule } from '../../../src/core/rules/adult-checks-only.js';
@@ -91,6 +92,31 @@ describe('adult-checks-only', () => {
       });
       expect(ids(facts).sort()).toStrictEqual(
         ['adult-checks-only', 'data-set-aside', 'duplicate-oxygen-order', 'required-data-unavailable'].sort(),
+      );
+    });
+
+    it('never gives a child below the minimum age a card from an adult rule, whatever the order and findings', () => {
+      // population.minimumAgeYears 16 (bundled policy; common practice)
+      const allAges = new Set(RULES.filter((r) => r.appliesTo === 'all-ages').map((r) => r.id));
+      const situations: readonly Partial<Facts>[] = [
+        busyOrder,
+        { conditions: [condition('copd')], spo2Percent: [spo2(97)] },
+        { orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })], conditions: [condition('carbon-monoxide-poisoning')] },
+        { orders: [oxygenOrder({ device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.28 })], respRatePerMin: [respRate(36)] },
+      ];
+      fc.assert(
+        fc.property(fc.integer({ min: 0, max: 15 }), fc.constantFrom(...situations), fc.constantFrom<HookName>('order-select', 'order-sign'), (age, situation, hook) => {
+          const found = ids(aged(age, situation), hook);
+          expect(found.filter((id) => id === 'adult-checks-only')).toHaveLength(1);
+          expect(found.filter((id) => !allAges.has(id))).toStrictEqual([]);
+        }),
+        { numRuns: 60 },
+      );
+      fc.assert(
+        fc.property(fc.integer({ min: 16, max: 110 }), fc.constantFrom(...situations), (age, situation) => {
+          expect(ids(aged(age, situation))).not.toContain('adult-checks-only');
+        }),
+        { numRuns: 60 },
       );
     });
 
