@@ -23,7 +23,7 @@ import type { Rule } from './support/rule-types.js';
  */
 export const rule: Rule = {
   id: 'acute-hypercapnic-acidosis',
-  title: 'Acute hypercapnic (respiratory) acidosis on the current gas',
+  title: 'Acute-on-chronic hypercapnic (respiratory) acidosis on the current gas',
   version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'critical',
