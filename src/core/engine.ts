@@ -2,6 +2,7 @@ import { buildAssessment } from './assessment/build-assessment.js';
 import type { Assessment } from './assessment/types.js';
 import type { Policy } from './policy.js';
 import { RULES } from './rules/index.js';
+import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
 import type { Rule } from './rules/support/rule-types.js';
 import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
 
@@ -32,12 +33,25 @@ function runRules(
 ): Finding[] {
   const disabled = new Set(policy.disabledRules);
   const findings: Finding[] = [];
+  // The guidelines encoded are for adults: below the policy's minimum age only the rules that hold
+  // for anyone run (data quality, order keeping, and the card saying local paediatric policy applies).
+  const childOnly = assessment.population.kind === 'below-minimum-age';
+  const noLowering = reasonNotToLowerOxygen(assessment) !== undefined;
   for (const rule of rules) {
     if (!rule.hooks.includes(options.hook) || disabled.has(rule.id)) {
       continue;
     }
+    if (childOnly && (rule.appliesTo ?? 'adults') === 'adults') {
+      continue;
+    }
     const override = policy.severity[rule.id];
-    for (const finding of rule.evaluate({ facts, policy, assessment, hook: options.hook, now: options.now })) {
+    for (const made of rule.evaluate({ facts, policy, assessment, hook: options.hook, now: options.now })) {
+      // One safety interlock for every rule: no one-click change lowers the oxygen while the patient
+      // may be tiring or is below target (support/oxygen-lowering.ts). The card's advice stays.
+      const finding =
+        made.change !== undefined && noLowering && changeLowersOxygen(made.change, assessment, facts)
+          ? { ...made, change: undefined }
+          : made;
       findings.push(override === undefined ? finding : { ...finding, indicator: override });
     }
   }
@@ -50,7 +64,8 @@ function runRules(
  * Each subject order gets its own assessment and its own run of the rules (a draft may sign two
  * oxygen orders at once); findings about the patient rather than an order come out once. The engine
  * applies `policy.disabledRules` and `policy.severity` to every rule alike and never looks at which
- * rule it is running. Findings are ordered critical → warning → info, registry order within each.
+ * rule it is running; below `population.minimumAgeYears` it runs only rules whose `appliesTo` is
+ * `all-ages`. Findings are ordered critical → warning → info, registry order within each.
  */
 export function evaluateOrder(
   facts: Facts,

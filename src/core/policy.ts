@@ -52,8 +52,8 @@ export interface Policy {
     /** BMI above which obesity counts as a risk (BTS 2017 Table 4, ambulance material: > 40). */
     readonly morbidObesityBmiAbove: number;
     /**
-     * Acute hypercapnia with acidaemia in a patient with no chronic risk (acute asthma, exhaustion,
-     * sedation): `keep` keeps the patient's range (BTS 2017 keeps acute asthma at 94–98 %);
+     * Acute hypercapnia (acidaemic, or pH not yet low) with no sign of chronic retention (acute asthma,
+     * exhaustion, sedation): `keep` keeps the patient's range (BTS 2017 keeps acute asthma at 94–98 %);
      * `hypercapnic-risk-range` moves to `targets.hypercapnicRisk`. A local decision.
      */
     readonly acuteHypercapniaWithoutRiskTarget: 'keep' | 'hypercapnic-risk-range';

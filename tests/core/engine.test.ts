@@ -33,6 +33,7 @@ describe('evaluateOrder', () => {
     expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
       ['target-above-hypercapnic-range', 'critical'],
       ['repeat-blood-gas-due', 'info'],
+      ['news2-scale-2', 'info'], // RCP 2017 NEWS2: confirmed hypercapnia (PaCO2 6.7 kPa) with 88-92 %
       ['oxygenation-summary', 'info'],
     ]);
     expect(result.findings[0]?.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } });
@@ -63,7 +64,7 @@ describe('evaluateOrder', () => {
   it('skips rules the policy disables', () => {
     const policy = withPolicy(BTS, { disabledRules: ['target-above-hypercapnic-range', 'oxygenation-summary'] });
     const ids = evaluateOrder(workedCase, policy, { hook: 'order-sign', now: NOW }).findings.map((f) => f.ruleId);
-    expect(ids).toStrictEqual(['repeat-blood-gas-due']);
+    expect(ids).toStrictEqual(['repeat-blood-gas-due', 'news2-scale-2']);
   });
 
   it('applies the policy severity overrides and re-sorts', () => {
@@ -72,6 +73,7 @@ describe('evaluateOrder', () => {
     expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
       ['repeat-blood-gas-due', 'critical'],
       ['target-above-hypercapnic-range', 'warning'],
+      ['news2-scale-2', 'info'],
       ['oxygenation-summary', 'info'],
     ]);
   });
@@ -93,6 +95,31 @@ describe('evaluateOrder', () => {
     expect(pairs).toContain('duplicate-oxygen-order MedicationRequest/a');
     expect(pairs).toContain('duplicate-oxygen-order MedicationRequest/b');
     expect(pairs.filter((p) => p.startsWith('required-data-unavailable'))).toStrictEqual(['required-data-unavailable -']);
+  });
+
+  it('runs only the rules for all ages below the policy minimum age', () => {
+    // population.minimumAgeYears 16 (bundled policy, common practice)
+    const child = { ...workedCase, patient: { ageYears: 12, bmiKgPerM2: 20 } };
+    const result = evaluateOrder(child, BTS, { hook: 'order-sign', now: NOW });
+    expect(result.assessment.population).toStrictEqual({ kind: 'below-minimum-age', ageYears: 12, minimumAgeYears: 16 });
+    expect(result.findings.map((f) => f.ruleId)).toStrictEqual(['adult-checks-only']);
+  });
+
+  it('withholds a one-click fall in oxygen while SpO2 is below target, keeping the card', () => {
+    // COPD (BTS 2017 Table 4: 88-92 %) on a reservoir mask with SpO2 86 %, below the range: the
+    // controlled-oxygen card stays, but its switch to a 28 % Venturi mask would lower the FiO2
+    const facts = buildFacts({
+      orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
+      conditions: [condition('copd')],
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.37, paco2Kpa: 6.4, hco3: 28 })],
+      spo2Percent: [spo2(86)],
+    });
+    const findings = evaluateOrder(facts, BTS, { hook: 'order-sign', now: NOW }).findings;
+    const controlled = findings.find((f) => f.ruleId === 'uncontrolled-oxygen-at-risk');
+    expect(controlled).toBeDefined();
+    expect(controlled?.change).toBeUndefined();
+    const above = evaluateOrder({ ...facts, spo2Percent: [spo2(97)] }, BTS, { hook: 'order-sign', now: NOW }).findings;
+    expect(above.find((f) => f.ruleId === 'uncontrolled-oxygen-at-risk')?.change).toMatchObject({ kind: 'set-device', device: 'venturi-mask' });
   });
 
   describe('edge cases', () => {

@@ -15,6 +15,7 @@ import { fio2InForceAt } from './fio2-in-force.js';
 import { formatMmHg, formatNumber } from './format.js';
 import { computeGasPhysiology } from './gas-physiology.js';
 import { assessHypercapnicRisk } from './hypercapnic-risk.js';
+import { assessPopulation } from './population.js';
 import { compareOrderedTarget, selectTarget, selectTitrationTarget } from './target-selection.js';
 import type { Assessment, BarometricPressureUsed, CurrentValues } from './types.js';
 
@@ -145,5 +146,6 @@ export function buildAssessment(
     target,
     targetComparison,
     titrationTarget: selectTitrationTarget(order, target, targetComparison),
+    population: assessPopulation(facts, policy),
   };
 }

@@ -1,8 +1,13 @@
-import { BLOOD_GAS_RANGE_DEFAULTS } from '../physiology/index.js';
+import {
+  BLOOD_GAS_RANGE_DEFAULTS,
+  COMPENSATION_ALLOWANCE_MMOL_PER_L,
+  expectedBicarbonateMmolPerL,
+} from '../physiology/index.js';
 import type { Policy } from '../policy.js';
 import type { BloodGas, ConditionKind, Facts } from '../types.js';
 import { newestFirst } from './current-values.js';
 import { formatDuration, formatGasValue, formatNumber, minutesBetween } from './format.js';
+import { classifyHypercapnia } from './hypercapnia-classification.js';
 import type { CurrentValues, HypercapnicRiskDecision, RiskReason } from './types.js';
 
 /** Conditions that, when documented, mean a previous episode of hypercapnic failure. */
@@ -29,8 +34,16 @@ function isHypercapnic(gas: BloodGas, policy: Policy): boolean {
  * gas PCO2 at or above `hypercapnicRisk.hypercapniaPaco2`; an earlier gas (today's older gases or a
  * historic one within `freshness.previousHypercapniaDays`) at or above it; and HCO3 above
  * `hypercapnicRisk.chronicBicarbonateAboveMmolPerL` on the current gas unless its pH is above 7.45
- * (long-standing hypercapnia with normal pH, BTS 2017 as quoted secondarily; pH range RCEM). Previous NIV/IMV, chronic hypercapnic failure or an earlier
- * hypercapnic gas set `previousFailure`, which stops re-targeting to the standard range.
+ * (long-standing hypercapnia with normal pH, BTS 2017 as quoted secondarily; pH range RCEM), and, on a
+ * hypercapnic gas, only when it is also beyond what the acute PCO2 rise explains (at a PCO2 of 10 kPa
+ * an acute rise alone gives about 27.5 mmol/L). Previous NIV/IMV, chronic hypercapnic failure or an
+ * earlier hypercapnic gas set `previousFailure`, which stops re-targeting to the standard range.
+ *
+ * The current gas's hypercapnia is classified (`classifyHypercapnia`) against the other reasons. When
+ * it is `acute` (no sign of chronic retention: the tiring patient) and
+ * `hypercapnicRisk.acuteHypercapniaWithoutRiskTarget` is `keep`, the current gas is not a risk reason:
+ * the raised PCO2 comes from tiring, not from oxygen, so it must not move the patient to the
+ * controlled-oxygen range (BTS 2017 keeps acute asthma at 94–98 %). The classification says so.
  */
 export function assessHypercapnicRisk(
   facts: Facts,
@@ -77,14 +90,12 @@ export function assessHypercapnicRisk(
   const gas = current.gas;
   const currentHypercapnia =
     gas === undefined || gas.paco2MmHg === undefined ? undefined : isHypercapnic(gas, policy);
-  if (gas !== undefined && currentHypercapnia === true) {
-    reasons.push({
-      kind: 'current-hypercapnia',
-      evidence: describeGasPco2(gas, now),
-      condition: undefined,
-      reference: undefined,
-    });
-  }
+  // Held aside until the classification decides whether it counts; it keeps its place in the list.
+  const currentIndex = reasons.length;
+  const currentReason: RiskReason | undefined =
+    gas !== undefined && currentHypercapnia === true
+      ? { kind: 'current-hypercapnia', evidence: describeGasPco2(gas, now), condition: undefined, reference: undefined }
+      : undefined;
 
   const historyWindowMinutes = policy.freshness.previousHypercapniaDays * 24 * 60;
   const earlier = newestFirst([...facts.bloodGases, ...facts.historicBloodGases]).filter((g) => {
@@ -109,10 +120,17 @@ export function assessHypercapnicRisk(
   // pH"): with alkalaemia a raised HCO3 is a metabolic alkalosis (diuretics, vomiting), not
   // compensation for CO2 retention. Without a pH it still counts, to stay cautious.
   const alkalaemic = gas?.ph !== undefined && gas.ph > BLOOD_GAS_RANGE_DEFAULTS.alkalosisPhAbove;
+  // On a hypercapnic gas the acute rise itself lifts HCO3 (1 mmol/L per 10 mmHg, physiology teaching
+  // as quoted secondarily); only a bicarbonate beyond it shows renal compensation.
+  const beyondAcuteRise =
+    gas?.paco2MmHg === undefined || currentHypercapnia !== true || bicarbonate === undefined
+      ? true
+      : bicarbonate > expectedBicarbonateMmolPerL(gas.paco2MmHg, 'acute') + COMPENSATION_ALLOWANCE_MMOL_PER_L;
   if (
     gas !== undefined &&
     bicarbonate !== undefined &&
     !alkalaemic &&
+    beyondAcuteRise &&
     bicarbonate > policy.hypercapnicRisk.chronicBicarbonateAboveMmolPerL
   ) {
     reasons.push({
@@ -123,5 +141,12 @@ export function assessHypercapnicRisk(
     });
   }
 
-  return { atRisk: reasons.length > 0, reasons, currentHypercapnia, previousFailure };
+  const classification = classifyHypercapnia(gas, reasons, policy);
+  const currentCounts =
+    currentReason !== undefined &&
+    !(classification.kind === 'acute' && policy.hypercapnicRisk.acuteHypercapniaWithoutRiskTarget === 'keep');
+  if (currentReason !== undefined && currentCounts) {
+    reasons.splice(currentIndex, 0, currentReason);
+  }
+  return { atRisk: reasons.length > 0, reasons, currentHypercapnia, previousFailure, classification };
 }

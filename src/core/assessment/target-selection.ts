@@ -35,7 +35,11 @@ function sameRange(a: SaturationRange, b: SaturationRange): boolean {
  * pneumothorax or cluster headache without hypercapnic risk; `targets.oxygenToxicityRisk` for paraquat
  * or bleomycin; `targets.hypercapnicRisk` when at risk, unless the current gas shows PCO2 below
  * `hypercapnicRisk.hypercapniaPaco2` and there is no previous failure, when BTS re-targets to the
- * standard range; otherwise `targets.standard`.
+ * standard range; otherwise `targets.standard`. Acute hypercapnia with no sign of chronic retention
+ * follows `hypercapnicRisk.acuteHypercapniaWithoutRiskTarget`: with `keep` the hypercapnic gas alone
+ * does not make the patient at risk (hypercapnic-risk.ts), so the patient's own range stands
+ * (basis `standard-despite-acute-hypercapnia`); with `hypercapnic-risk-range` it moves to
+ * `targets.hypercapnicRisk`, saying that local policy moved it.
  */
 export function selectTarget(
   facts: Facts,
@@ -72,6 +76,19 @@ export function selectTarget(
         };
       }
     }
+    if (risk.classification.kind === 'acute') {
+      // Only reached with `acuteHypercapniaWithoutRiskTarget: keep`: the current gas did not count
+      // as a risk (hypercapnic-risk.ts), so the patient's own range stands, and the card says why.
+      return {
+        kind: 'range',
+        range: policy.targets.standard,
+        basis: 'standard-despite-acute-hypercapnia',
+        reason:
+          'acute hypercapnia with no sign of chronic CO2 retention: the range is kept by local policy, ' +
+          'since the CO2 comes from tiring, not from oxygen',
+        sourceKey: 'local-policy',
+      };
+    }
     return {
       kind: 'range',
       range: policy.targets.standard,
@@ -91,12 +108,16 @@ export function selectTarget(
       sourceKey: 'bts-2017',
     };
   }
+  const acuteOnly = risk.classification.kind === 'acute';
   return {
     kind: 'range',
     range: policy.targets.hypercapnicRisk,
     basis: 'hypercapnic-risk',
-    reason: `at risk of hypercapnic respiratory failure (${joinWords(risk.reasons.map((r) => r.evidence))})`,
-    sourceKey: 'bts-2017',
+    reason: acuteOnly
+      ? `acute hypercapnia with no sign of chronic CO2 retention (${joinWords(risk.reasons.map((r) => r.evidence))}): ` +
+        'local policy moves the range to the at-risk range'
+      : `at risk of hypercapnic respiratory failure (${joinWords(risk.reasons.map((r) => r.evidence))})`,
+    sourceKey: acuteOnly ? 'local-policy' : 'bts-2017',
   };
 }
 
@@ -141,7 +162,9 @@ export function compareOrderedTarget(
  * else the applicable one; none without a target. When the ordered range is higher than a range that
  * exists to limit oxygen (hypercapnic risk, BTS 2017 Table 4; paraquat or bleomycin, Table 3), the
  * advised range is used instead: judging SpO2 against the higher range would prompt more oxygen for
- * exactly the patients it can harm.
+ * exactly the patients it can harm. For acute hypercapnia without chronic retention kept at the
+ * patient's range by local policy, a lower ordered range is not used either: SpO2 is judged against
+ * the kept range, so hypoxaemia in a tiring patient is not passed as "in range".
  */
 export function selectTitrationTarget(
   order: OxygenOrder | undefined,
@@ -158,6 +181,15 @@ export function selectTitrationTarget(
       comparison.ordered.highPercent > target.range.highPercent);
   if (orderedIsUnsafeSide) {
     return { range: target.range, basis: 'advised-over-ordered' };
+  }
+  // A lower range ordered for a tiring patient is most likely the CO2 read as chronic retention:
+  // judging SpO2 against it would let hypoxaemia pass in a patient who may be about to tire out.
+  if (
+    target.basis === 'standard-despite-acute-hypercapnia' &&
+    order?.target !== undefined &&
+    order.target.lowPercent < target.range.lowPercent
+  ) {
+    return { range: target.range, basis: 'applicable-over-lower-ordered' };
   }
   if (order?.target !== undefined) {
     return {

@@ -124,10 +124,57 @@ export interface HypercapnicRiskDecision {
   readonly currentHypercapnia: boolean | undefined;
   /** Previous NIV/IMV, chronic hypercapnic failure, or an older hypercapnic gas: no re-targeting. */
   readonly previousFailure: boolean;
+  /** Acute, acute-on-chronic or chronic compensated: the one answer every rule reads. */
+  readonly classification: HypercapniaClassification;
 }
+
+/**
+ * What kind of hypercapnia the current gas shows. `acute`: PCO2 at or above the hypercapnia
+ * threshold with no sign of chronic retention (no history, bicarbonate within the acute rise), as in
+ * a tiring patient (acute asthma, sedation, exhaustion, neuromuscular weakness); `acute-on-chronic`:
+ * acidaemic with signs of chronic retention; `chronic-compensated`: pH not acidaemic with signs of
+ * chronic retention; `timing-unknown`: hypercapnic but without a pH; `not-hypercapnic` and
+ * `no-current-gas` say why there is nothing to classify.
+ */
+export type HypercapniaKind =
+  | 'no-current-gas'
+  | 'not-hypercapnic'
+  | 'acute'
+  | 'acute-on-chronic'
+  | 'chronic-compensated'
+  | 'timing-unknown';
+
+/** The metabolic side of the current gas, judged against the bicarbonate an acute PCO2 rise explains. */
+export interface CompensationReading {
+  readonly measure: 'reported-bicarbonate' | 'base-excess' | 'calculated-bicarbonate';
+  /** "HCO3 25 mmol/L" or "base excess +1 mmol/L", as shown on cards. */
+  readonly shown: string;
+  /** Beyond what an acute rise explains: a sign of renal compensation for long-standing CO2 retention. */
+  readonly raised: boolean;
+  readonly computation: Computation;
+}
+
+export interface HypercapniaClassification {
+  readonly kind: HypercapniaKind;
+  /** pH below `thresholds.acidosisPhBelow`; undefined without a current pH. */
+  readonly acidaemic: boolean | undefined;
+  /** Undefined unless the current gas is hypercapnic. */
+  readonly compensation: CompensationReading | undefined;
+  /** Signs of long-standing CO2 retention: risk reasons other than the current gas, and a raised bicarbonate on it. */
+  readonly chronicEvidence: readonly string[];
+  /** One plain line for cards, e.g. "acute hypercapnic acidosis: no sign of chronic CO2 retention". */
+  readonly summary: string;
+}
+
+/** Whether the adult checks apply: the guidelines encoded are for adults (`population.minimumAgeYears`). */
+export type PopulationDecision =
+  | { readonly kind: 'adult'; readonly ageYears: number }
+  | { readonly kind: 'below-minimum-age'; readonly ageYears: number; readonly minimumAgeYears: number }
+  | { readonly kind: 'age-unknown'; readonly minimumAgeYears: number };
 
 export type TargetBasis =
   | 'standard'
+  | 'standard-despite-acute-hypercapnia'
   | 'hypercapnic-risk'
   | 'standard-after-normal-gas'
   | 'oxygen-toxicity-risk';
@@ -173,8 +220,12 @@ export type TargetComparison =
 /** The range the nurse titrates to: the ordered one if present, else the applicable one. */
 export interface TitrationTarget {
   readonly range: SaturationRange;
-  /** `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one is used. */
-  readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered';
+  /**
+   * `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one
+   * is used. `applicable-over-lower-ordered`: a tiring patient without chronic retention has a lower
+   * range ordered than the one kept for them, so SpO2 is judged against the kept range.
+   */
+  readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered' | 'applicable-over-lower-ordered';
 }
 
 /** Everything derived once per call for one subject order; rules read it and never recompute it. */
@@ -188,4 +239,6 @@ export interface Assessment {
   readonly target: ApplicableTarget;
   readonly targetComparison: TargetComparison;
   readonly titrationTarget: TitrationTarget | undefined;
+  /** Adult, below the policy's minimum age, or age unknown; the engine runs no adult advice below it. */
+  readonly population: PopulationDecision;
 }

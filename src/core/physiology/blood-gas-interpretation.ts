@@ -62,7 +62,7 @@ export const BLOOD_GAS_RANGE_DEFAULTS = {
 } as const;
 
 /** Bicarbonate beyond an expectation by more than this counts as raised (common practice). */
-const COMPENSATION_ALLOWANCE_MMOL_PER_L = 2;
+export const COMPENSATION_ALLOWANCE_MMOL_PER_L = 2;
 
 /**
  * A reported HCO3 further than this from the one calculated from pH and PaCO2 points to a unit or

@@ -1,12 +1,15 @@
 import { formatGasValue, formatNumber, formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
-import { describeAge } from './support/describe.js';
+import { describeAge, describeMeasured } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
- * The current gas shows acute hypercapnic acidosis: pH below `thresholds.acidosisPhBelow` with PCO2
- * at or above `hypercapnicRisk.hypercapniaPaco2`.
+ * The current gas shows acute-on-chronic hypercapnic acidosis: pH below `thresholds.acidosisPhBelow`
+ * with PCO2 at or above `hypercapnicRisk.hypercapniaPaco2`, in a patient with signs of chronic CO2
+ * retention (the assessment's classification: a BTS 2017 Table 4 condition, previous NIV, IMV or
+ * hypercapnic failure, an earlier hypercapnic gas, or bicarbonate beyond an acute rise). Acute
+ * hypercapnia without those signs belongs to `hypercapnia-without-chronic-retention`.
  *
  * Rationale: respiratory acidosis in a patient on oxygen is a medical emergency; more oxygen does not
  * treat it, and controlled oxygen to the at-risk range (`targets.hypercapnicRisk`) is advised (BTS
@@ -14,12 +17,14 @@ import type { Rule } from './support/rule-types.js';
  * above `thresholds.nivPaco2Above` after initial medical therapy; consider invasive ventilation below
  * `thresholds.invasiveVentilationPhBelow`. Critical. A venous or unlabelled sample is reported too
  * (venous pH runs a little lower and PCO2 higher than arterial, so the card asks for confirmation).
+ * The card states the respiratory rate as recorded rather than naming a mechanism: a tiring patient
+ * breathes fast and shallow, a sedated one slowly, and both retain CO2.
  * Sources: BTS 2017 Table 4; BTS/ICS 2016; RCEM Learning (pH range).
  */
 export const rule: Rule = {
   id: 'acute-hypercapnic-acidosis',
-  title: 'Acute hypercapnic (respiratory) acidosis on the current gas',
-  version: 1,
+  title: 'Acute-on-chronic hypercapnic (respiratory) acidosis on the current gas',
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'critical',
   evaluate: ({ assessment, policy, now }): readonly Finding[] => {
@@ -30,9 +35,11 @@ export const rule: Rule = {
     if (gas === undefined || ph === undefined || paco2MmHg === undefined) {
       return [];
     }
-    if (!(ph < t.acidosisPhBelow && paco2MmHg >= hypercapnia.mmHg)) {
+    const classification = assessment.hypercapnicRisk.classification;
+    if (classification.kind !== 'acute-on-chronic' || !(ph < t.acidosisPhBelow && paco2MmHg >= hypercapnia.mmHg)) {
       return [];
     }
+    const respRate = assessment.current.respRate;
     const yesNo = (met: boolean): string => (met ? 'met' : 'not met');
     return [
       makeFinding(rule, {
@@ -49,7 +56,14 @@ export const rule: Rule = {
           invasiveThreshold: `pH < ${formatNumber(t.invasiveVentilationPhBelow, 2)}`,
           invasiveThresholdMet: yesNo(ph < t.invasiveVentilationPhBelow),
           advisedRange: formatRange(policy.targets.hypercapnicRisk),
+          bicarbonate: classification.compensation?.shown ?? 'bicarbonate not available',
+          chronicEvidence: classification.chronicEvidence.join('; '),
+          respiratoryRate:
+            respRate === undefined
+              ? `not recorded in the last ${formatNumber(policy.freshness.vitalSignsMinutes / 60, 0)} h`
+              : describeMeasured(respRate, now, '/min'),
         },
+        computations: classification.compensation === undefined ? [] : [classification.compensation.computation],
         sourceKeys: ['bts-2017', 'bts-ics-2016', 'rcem-abg'],
       }),
     ];

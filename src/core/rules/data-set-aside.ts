@@ -25,6 +25,7 @@ export const rule: Rule = {
   version: 1,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
+  appliesTo: 'all-ages', // holds for patients of any age
   evaluate: ({ facts }): readonly Finding[] => {
     if (facts.setAside.length === 0) {
       return [];

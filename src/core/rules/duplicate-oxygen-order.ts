@@ -20,6 +20,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
+  appliesTo: 'all-ages', // holds for patients of any age
   evaluate: ({ assessment, facts }): readonly Finding[] => {
     const { order } = assessment;
     // An order that stops oxygen or puts the patient on room air ends the others, not doubles them.

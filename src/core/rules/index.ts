@@ -1,4 +1,5 @@
 import { rule as acuteHypercapnicAcidosis } from './acute-hypercapnic-acidosis.js';
+import { rule as adultChecksOnly } from './adult-checks-only.js';
 import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
 import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
 import { rule as dataSetAside } from './data-set-aside.js';
@@ -6,7 +7,9 @@ import { rule as duplicateOxygenOrder } from './duplicate-oxygen-order.js';
 import { rule as escalatedSupportFailing } from './escalated-support-failing.js';
 import { rule as flowOutsideDeviceRange } from './flow-outside-device-range.js';
 import { rule as highOxygenRequirement } from './high-oxygen-requirement.js';
+import { rule as hypercapniaWithoutChronicRetention } from './hypercapnia-without-chronic-retention.js';
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
+import { rule as news2Scale2 } from './news2-scale-2.js';
 import { rule as noRecentSpo2 } from './no-recent-spo2.js';
 import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
 import { rule as oxygenWithoutHypoxaemia } from './oxygen-without-hypoxaemia.js';
@@ -35,6 +38,7 @@ export type { Rule, RuleContext } from './support/rule-types.js';
  */
 export const RULES: readonly Rule[] = [
   acuteHypercapnicAcidosis,
+  hypercapniaWithoutChronicRetention,
   carbonMonoxideOximetry,
   escalatedSupportFailing,
   spo2BelowTarget,
@@ -53,10 +57,12 @@ export const RULES: readonly Rule[] = [
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
   repeatBloodGasDue,
+  news2Scale2,
   pneumothoraxOxygen,
   clusterHeadacheOxygen,
   oxygenWithoutHypoxaemia,
   noRecentSpo2,
+  adultChecksOnly,
   requiredDataUnavailable,
   dataSetAside,
   oxygenationSummary,

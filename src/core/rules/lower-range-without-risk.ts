@@ -13,7 +13,9 @@ import type { Rule } from './support/rule-types.js';
  * Rationale: without CO2 retention, 88–92 % accepts needless hypoxaemia; BTS 2017 sets 94–98 % for
  * other acutely ill adults and re-targets at-risk patients to it once a gas shows normal PCO2
  * (Tables 2–4). Info when no risk is documented (the prescriber may know of an alert card); warning
- * after a normal gas. Suggests the applicable standard range (`targets.standard`).
+ * after a normal gas. Suggests the applicable standard range (`targets.standard`). For acute
+ * hypercapnia without chronic retention kept at the standard range by local policy, the summary says
+ * so rather than "no risk documented".
  * Source: BTS 2017 Tables 1–4.
  */
 export const rule: Rule = {
@@ -42,7 +44,9 @@ export const rule: Rule = {
     const whyStandard = retargeted
       ? `the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display}, ` +
         'with no previous NIV or hypercapnic failure'
-      : 'no hypercapnic risk is documented';
+      : target.basis === 'standard-despite-acute-hypercapnia'
+        ? 'the raised PCO2 is acute, with no sign of chronic CO2 retention'
+        : 'no hypercapnic risk is documented';
     return [
       makeFinding(rule, {
         indicator: retargeted ? 'warning' : rule.defaultIndicator,

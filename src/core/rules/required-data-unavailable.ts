@@ -38,6 +38,7 @@ export const rule: Rule = {
   version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
+  appliesTo: 'all-ages', // holds for patients of any age
   evaluate: ({ facts }): readonly Finding[] => {
     const missing = missingThatMatters(facts.missingData);
     if (missing.length === 0) {

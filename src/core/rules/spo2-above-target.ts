@@ -7,6 +7,7 @@ import type { Facts, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
+import { reasonNotToLowerOxygen } from './support/oxygen-lowering.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Two FiO2 estimates closer than this are the same oxygen (the estimates carry two decimals). */
@@ -66,7 +67,8 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
  * and in COPD exacerbations an SpO2 above 92 % has been linked with higher mortality (Echevarria
  * 2021), so the finding is a warning when the at-risk range applies and information otherwise.
  * Suggests one step down on a nasal cannula (not below the device's lowest flow); elsewhere the next
- * step depends on the device and local practice, so no change is offered. Silent when the order
+ * step depends on the device and local practice, so no change is offered. No step down is offered
+ * while the current gas shows hypercapnic acidosis or acute hypercapnia without chronic retention. Silent when the order
  * already gives less oxygen than the patient was having, and when another card advises a higher
  * range that the SpO2 already lies in (a step down would contradict it).
  * Thresholds: the titration target (ordered, or `targets.*` through target selection);
@@ -76,7 +78,7 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
 export const rule: Rule = {
   id: 'spo2-above-target',
   title: 'SpO2 above the target range while on oxygen',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -100,8 +102,10 @@ export const rule: Rule = {
     }
     const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
     const flow = order.flowLPerMin;
-    // Offer a step down only when this order is not already lower than what is running.
+    // Offer a step down only when this order is not already lower than what is running, and never
+    // while the gas shows hypercapnic acidosis or acute hypercapnia (support/oxygen-lowering.ts).
     const change: OrderChange | undefined =
+      reasonNotToLowerOxygen(assessment) === undefined &&
       order.device === 'nasal-cannula' &&
       flow !== undefined &&
       flow > minimum &&

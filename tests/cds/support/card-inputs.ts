@@ -165,6 +165,13 @@ export const assessment: Assessment = {
     ],
     currentHypercapnia: true,
     previousFailure: false,
+    classification: {
+      kind: 'chronic-compensated',
+      acidaemic: false,
+      compensation: undefined,
+      chronicEvidence: ['Chest wall deformity: Kyphoscoliosis deformity of spine (SNOMED CT 405773007)'],
+      summary: 'chronic hypercapnia with pH not acidaemic (compensated)',
+    },
   },
   target: {
     kind: 'range',
@@ -179,6 +186,7 @@ export const assessment: Assessment = {
     advised: { lowPercent: 88, highPercent: 92 },
   },
   titrationTarget: { range: { lowPercent: 94, highPercent: 98 }, basis: 'ordered' },
+  population: { kind: 'adult', ageYears: 64 },
 };
 
 export const template: CardTemplate = {

@@ -33,7 +33,8 @@ describe('assessHypercapnicRisk', () => {
 
   it('does not put a patient at risk for conditions outside Table 4', () => {
     const result = assess(buildFacts({ conditions: [condition('pregnancy'), condition('sickle-cell-crisis')] }));
-    expect(result).toStrictEqual({ atRisk: false, reasons: [], currentHypercapnia: undefined, previousFailure: false });
+    expect(result).toMatchObject({ atRisk: false, reasons: [], currentHypercapnia: undefined, previousFailure: false });
+    expect(result.classification.kind).toBe('no-current-gas');
   });
 
   it('marks previous NIV or IMV and chronic hypercapnic failure as previous failure', () => {
@@ -77,6 +78,41 @@ describe('assessHypercapnicRisk', () => {
       ['raised-bmi', 'BMI 43 kg/m2'],
       ['raised-bicarbonate', 'HCO3 31 mmol/L'],
     ]);
+  });
+
+  describe('acute hypercapnia without chronic retention', () => {
+    // Tiring patient: acute severe asthma, pH 7.26 (RCEM: < 7.35 acidosis), PaCO2 7.9 kPa (BTS 2017
+    // clarification: >= 6 kPa), HCO3 25 within the acute rise (check-values 3g, quoted secondarily)
+    const tiring = buildFacts({
+      conditions: [condition('acute-asthma')],
+      bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.26, paco2Kpa: 7.9, hco3: 25 })],
+    });
+
+    it('does not make the patient at risk when the policy keeps the range (the default)', () => {
+      // Policy default `keep`: BTS 2017 keeps acute asthma at 94-98 %
+      expect(BTS.hypercapnicRisk.acuteHypercapniaWithoutRiskTarget).toBe('keep');
+      const result = assess(tiring);
+      expect(result).toMatchObject({ atRisk: false, reasons: [], currentHypercapnia: true, previousFailure: false });
+      expect(result.classification.kind).toBe('acute');
+    });
+
+    it('counts the gas as a risk when the policy moves such patients to the at-risk range', () => {
+      const policy = withPolicy(BTS, {
+        hypercapnicRisk: { ...BTS.hypercapnicRisk, acuteHypercapniaWithoutRiskTarget: 'hypercapnic-risk-range' },
+      });
+      const result = assess(tiring, policy);
+      expect(result.atRisk).toBe(true);
+      expect(result.reasons.map((r) => r.kind)).toStrictEqual(['current-hypercapnia']);
+    });
+
+    it('keeps the current gas as a reason, in its place, when there are signs of chronic retention', () => {
+      const facts = buildFacts({
+        patient: { ageYears: 66, bmiKgPerM2: 44 },
+        conditions: [condition('copd')],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.29, paco2Kpa: 8.4, hco3: 30 })],
+      });
+      expect(assess(facts).reasons.map((r) => r.kind)).toStrictEqual(['condition', 'raised-bmi', 'current-hypercapnia', 'raised-bicarbonate']);
+    });
   });
 
   describe('edge cases', () => {
@@ -131,7 +167,8 @@ describe('assessHypercapnicRisk', () => {
 
     it('names a venous sample as such in the evidence', () => {
       const venous = bloodGas({ ageMinutes: 15, specimen: 'venous', ph: 7.32, paco2Kpa: 7.1 });
-      expect(assess(buildFacts({ bloodGases: [venous] })).reasons[0]?.evidence).toBe('venous PCO2 7.1 kPa 15 min ago');
+      const facts = buildFacts({ bloodGases: [venous], conditions: [condition('copd')] });
+      expect(assess(facts).reasons.map((r) => r.evidence)).toContain('venous PCO2 7.1 kPa 15 min ago');
     });
 
     it('lists a condition coded twice only once', () => {

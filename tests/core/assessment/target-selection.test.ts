@@ -9,7 +9,7 @@ import {
 import type { ApplicableTarget } from '../../../src/core/assessment/types.js';
 import type { Policy } from '../../../src/core/policy.js';
 import type { Facts, SaturationRange } from '../../../src/core/types.js';
-import { BTS, NOW, TSANZ, bloodGas, buildFacts, condition, oxygenOrder } from '../facts-builder.js';
+import { BTS, NOW, TSANZ, bloodGas, buildFacts, condition, oxygenOrder, withPolicy } from '../facts-builder.js';
 
 function target(facts: Facts, policy: Policy = BTS): ApplicableTarget {
   const risk = assessHypercapnicRisk(facts, policy, pickCurrentValues(facts, policy, NOW), NOW);
@@ -70,6 +70,54 @@ describe('selectTarget', () => {
     });
   });
 
+  describe('acute hypercapnia without chronic retention', () => {
+    // A tiring patient: pH 7.27 (RCEM: < 7.35 acidosis), PaCO2 8.0 kPa (BTS 2017 clarification:
+    // >= 6 kPa), HCO3 25.5 within the acute rise (check-values 3g, quoted secondarily)
+    const tiringGas = bloodGas({ ageMinutes: 25, ph: 7.27, paco2Kpa: 8.0, hco3: 25.5 });
+    const movePolicy = withPolicy(BTS, {
+      hypercapnicRisk: { ...BTS.hypercapnicRisk, acuteHypercapniaWithoutRiskTarget: 'hypercapnic-risk-range' },
+    });
+
+    it.each([
+      ['acute severe asthma', [condition('acute-asthma')]],
+      ['opioid toxicity', [condition('sedative-or-opioid-toxicity')]],
+      ['exhaustion with nothing documented', []],
+    ])('keeps 94-98 %% by default in %s, and says why', (_, conditions) => {
+      // BTS 2017 keeps acute asthma at 94-98 % (Tables 1-3); policy default `keep` (local decision)
+      const result = target(buildFacts({ conditions, bloodGases: [tiringGas] }));
+      expect(result).toMatchObject({
+        range: { lowPercent: 94, highPercent: 98 },
+        basis: 'standard-despite-acute-hypercapnia',
+        sourceKey: 'local-policy',
+      });
+      expect(result.kind === 'range' ? result.reason : '').toContain('no sign of chronic CO2 retention');
+    });
+
+    it('moves to 88-92 % when the policy says so, naming local policy as the reason', () => {
+      const result = target(buildFacts({ conditions: [condition('acute-asthma')], bloodGases: [tiringGas] }), movePolicy);
+      expect(result).toMatchObject({ range: { lowPercent: 88, highPercent: 92 }, basis: 'hypercapnic-risk', sourceKey: 'local-policy' });
+      expect(result.kind === 'range' ? result.reason : '').toContain('local policy moves the range');
+    });
+
+    it('keeps 92-96 % under the TSANZ preset', () => {
+      // TSANZ 2015: 92-96 % for most acute medical patients
+      expect(range(target(buildFacts({ bloodGases: [tiringGas] }), TSANZ))).toStrictEqual({ lowPercent: 92, highPercent: 96 });
+    });
+
+    it('still gives 88-92 % for acute-on-chronic hypercapnia whatever the key', () => {
+      // BTS 2017, Table 4: COPD with hypercapnia stays at 88-92 %
+      for (const policy of [BTS, movePolicy]) {
+        const result = target(buildFacts({ conditions: [condition('copd')], bloodGases: [tiringGas] }), policy);
+        expect(result).toMatchObject({ range: { lowPercent: 88, highPercent: 92 }, basis: 'hypercapnic-risk', sourceKey: 'bts-2017' });
+      }
+    });
+
+    it('keeps no SpO2 target for a pneumothorax in a tiring patient', () => {
+      // BTS 2017, Table 2: pneumothorax under observation, aim for 100 %
+      expect(range(target(buildFacts({ conditions: [condition('pneumothorax')], bloodGases: [tiringGas] })))).toBe('pneumothorax');
+    });
+  });
+
   describe('special situations', () => {
     it('sets no SpO2 target in carbon monoxide poisoning, even with COPD', () => {
       // BTS 2017, Table 1: the oximeter cannot tell COHb from oxyhaemoglobin
@@ -109,6 +157,11 @@ describe('compareOrderedTarget', () => {
     ['90-94 % for an at-risk patient', { orders: ordered(90, 94), conditions: copd }, 'above-hypercapnic-range'],
     ['85-90 % for an at-risk patient', { orders: ordered(85, 90), conditions: copd }, 'differs'],
     ['88-92 % without risk', { orders: ordered(88, 92) }, 'lower-range-without-risk'],
+    ['88-92 % in a tiring asthmatic', {
+      orders: ordered(88, 92),
+      conditions: [condition('acute-asthma')],
+      bloodGases: [bloodGas({ ageMinutes: 25, ph: 7.27, paco2Kpa: 8.0, hco3: 25.5 })],
+    }, 'lower-range-without-risk'],
     ['90-94 % without risk', { orders: ordered(90, 94) }, 'differs'],
     ['94-98 % in paraquat poisoning', { orders: ordered(94, 98), conditions: [condition('paraquat-poisoning')] }, 'toxicity-range-not-ordered'],
     ['no target in paraquat poisoning', { orders: [oxygenOrder({ target: undefined })], conditions: [condition('paraquat-poisoning')] }, 'toxicity-range-not-ordered'],
@@ -167,6 +220,21 @@ describe('selectTitrationTarget', () => {
       expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))?.range).toStrictEqual({
         lowPercent: 85,
         highPercent: 88,
+      });
+    });
+
+    it('titrates a tiring patient to the kept range when a lower range was ordered', () => {
+      // acute asthma, pH 7.27 (RCEM < 7.35), PaCO2 7.8 kPa (BTS 2017 clarification), HCO3 25 within the
+      // acute rise (check-values 3g); BTS 2017 keeps acute asthma at 94-98 %
+      const facts = buildFacts({
+        orders: ordered(88, 92),
+        conditions: [condition('acute-asthma')],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.27, paco2Kpa: 7.8, hco3: 25 })],
+      });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: 94, highPercent: 98 },
+        basis: 'applicable-over-lower-ordered',
       });
     });
 

@@ -1,11 +1,21 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/acute-hypercapnic-acidosis.js';
-import { BTS, bloodGas, buildFacts } from '../facts-builder.js';
+import type { ConditionKind } from '../../../src/core/types.js';
+import { BTS, bloodGas, buildFacts, condition, respRate } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
-const withGas = (ph: number, paco2Kpa: number, specimen: 'arterial' | 'venous' = 'arterial') =>
-  buildFacts({ bloodGases: [bloodGas({ ageMinutes: 35, specimen, ph, paco2Kpa, pao2Kpa: 8.4, hco3: 30 })] });
+const withGas = (
+  ph: number,
+  paco2Kpa: number,
+  options: { specimen?: 'arterial' | 'venous'; hco3?: number; conditions?: readonly ConditionKind[] } = {},
+) =>
+  buildFacts({
+    conditions: (options.conditions ?? ['copd']).map((k) => condition(k)),
+    bloodGases: [
+      bloodGas({ ageMinutes: 35, specimen: options.specimen ?? 'arterial', ph, paco2Kpa, pao2Kpa: 8.4, hco3: options.hco3 ?? 30 }),
+    ],
+  });
 
 describe('acute-hypercapnic-acidosis', () => {
   it('runs on order-sign as critical', () => {
@@ -13,11 +23,11 @@ describe('acute-hypercapnic-acidosis', () => {
     expect(rule.defaultIndicator).toBe('critical');
   });
 
-  it('fires for pH 7.28 with PaCO2 8.2 kPa and says the NIV thresholds are met', () => {
+  it('fires for COPD with pH 7.28 and PaCO2 8.2 kPa and says the NIV thresholds are met', () => {
     // RCEM: pH < 7.35 acidosis; BTS 2017: PaCO2 >= 6 kPa; BTS/ICS 2016: NIV at pH < 7.35 and PaCO2 > 6.5 kPa
     const finding = onlyFinding(runRule(rule, withGas(7.28, 8.2)));
     expect(finding.indicator).toBe('critical');
-    expect(finding.values).toStrictEqual({
+    expect(finding.values).toMatchObject({
       ph: '7.28',
       paco2: '8.2 kPa',
       gasAge: '35 min ago',
@@ -28,14 +38,28 @@ describe('acute-hypercapnic-acidosis', () => {
       nivThresholdsMet: 'met',
       invasiveThreshold: 'pH < 7.25',
       invasiveThresholdMet: 'not met',
-      advisedRange: '88–92 %',
+      advisedRange: '88–92 %', // BTS 2017, Table 4
+      bicarbonate: 'HCO3 30 mmol/L',
+      // HCO3 30 is beyond the acute rise at 8.2 kPa (26.2 + 2; check-values 3g) and above 28 (BTS 2017 as quoted)
+      chronicEvidence: 'Chronic obstructive lung disease (SNOMED CT 13645005); HCO3 30 mmol/L',
+      respiratoryRate: 'not recorded in the last 4 h',
     });
     expect(finding.change).toBeUndefined();
     expect(finding.sourceKeys).toStrictEqual(['bts-2017', 'bts-ics-2016', 'rcem-abg']);
     const card = expectCardRenders(finding);
     expect(card.summary).toBe(
-      'Acute hypercapnic acidosis: pH 7.28, PCO2 8.2 kPa (35 min ago). Urgent review; more oxygen is not the treatment',
+      'Acute-on-chronic hypercapnic acidosis: pH 7.28, PCO2 8.2 kPa (35 min ago). Urgent review; consider NIV',
     );
+  });
+
+  it('states a fast respiratory rate as it is and never speaks of under-breathing', () => {
+    // A tiring COPD patient breathing at 32/min: the PCO2 rises with fast, shallow breathing
+    const facts = { ...withGas(7.27, 8.6), respRatePerMin: [respRate(32, 5)] };
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.values.respiratoryRate).toBe('32/min (5 min ago)');
+    const card = expectCardRenders(finding);
+    expect(card.detail).toContain('Respiratory rate: 32/min (5 min ago)');
+    expect(card.detail.toLowerCase()).not.toMatch(/under-?breathing/);
   });
 
   it.each([
@@ -47,7 +71,7 @@ describe('acute-hypercapnic-acidosis', () => {
     [7.34, 6.51, true, 'met', 'not met'],
     [7.25, 9.0, true, 'met', 'not met'], // pH exactly 7.25 is not below 7.25
     [7.24, 9.0, true, 'met', 'met'],
-  ])('pH %s with PaCO2 %s kPa fires: %s (NIV %s, invasive %s)', (ph, paco2, fires, niv, invasive) => {
+  ])('COPD with pH %s and PaCO2 %s kPa fires: %s (NIV %s, invasive %s)', (ph, paco2, fires, niv, invasive) => {
     const findings = runRule(rule, withGas(ph, paco2));
     expect(findings.length).toBe(fires ? 1 : 0);
     if (fires) {
@@ -62,20 +86,37 @@ describe('acute-hypercapnic-acidosis', () => {
     expect(runRule(rule, withGas(7.38, 7.2))).toStrictEqual([]);
   });
 
+  it.each<[string, readonly ConditionKind[]]>([
+    ['acute severe asthma', ['acute-asthma']],
+    ['opioid toxicity', ['sedative-or-opioid-toxicity']],
+    ['nothing documented', []],
+  ])('leaves acute hypercapnia without chronic retention to its own rule: %s', (_, conditions) => {
+    // HCO3 25 at PaCO2 8.0 kPa is within the acute rise (check-values 3g, quoted secondarily)
+    expect(runRule(rule, withGas(7.26, 8.0, { hco3: 25, conditions }))).toStrictEqual([]);
+  });
+
+  it('fires for a raised bicarbonate alone: an undiagnosed retainer', () => {
+    // HCO3 33 at PaCO2 9 kPa is beyond the acute rise of 26.8 + 2 (check-values 3g)
+    const finding = onlyFinding(runRule(rule, withGas(7.3, 9.0, { hco3: 33, conditions: [] })));
+    expect(finding.values.chronicEvidence).toContain('HCO3 33 mmol/L');
+    expectCardRenders(finding);
+  });
+
   describe('edge cases', () => {
     it('asks for an arterial sample when the gas is venous', () => {
-      const finding = onlyFinding(runRule(rule, withGas(7.29, 7.9, 'venous')));
+      const finding = onlyFinding(runRule(rule, withGas(7.29, 7.9, { specimen: 'venous' })));
       expect(finding.values.specimen).toBe('venous (confirm with an arterial sample)');
     });
 
     it('does not fire without pH or PaCO2, or with a gas outside the current window', () => {
-      expect(runRule(rule, buildFacts({ bloodGases: [bloodGas({ ageMinutes: 10, paco2Kpa: 8 })] }))).toStrictEqual([]);
+      const copd = [condition('copd')];
+      expect(runRule(rule, buildFacts({ conditions: copd, bloodGases: [bloodGas({ ageMinutes: 10, paco2Kpa: 8 })] }))).toStrictEqual([]);
       const old = bloodGas({ ageMinutes: BTS.freshness.bloodGasMinutes + 1, ph: 7.2, paco2Kpa: 9 });
-      expect(runRule(rule, buildFacts({ bloodGases: [old] }))).toStrictEqual([]);
+      expect(runRule(rule, buildFacts({ conditions: copd, bloodGases: [old] }))).toStrictEqual([]);
     });
 
     it('shows a gas reported in mmHg in mmHg', () => {
-      const facts = buildFacts({ bloodGases: [bloodGas({ ageMinutes: 10, ph: 7.3, paco2MmHg: 60 })] });
+      const facts = buildFacts({ conditions: [condition('copd')], bloodGases: [bloodGas({ ageMinutes: 10, ph: 7.3, paco2MmHg: 60 })] });
       expect(onlyFinding(runRule(rule, facts)).values.paco2).toBe('60 mmHg');
     });
   });

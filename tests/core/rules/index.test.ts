@@ -39,6 +39,7 @@ describe('RULES', () => {
   it('gives order-select only the cheap order-level rules', () => {
     const onSelect = RULES.filter((r) => r.hooks.includes('order-select')).map((r) => r.id).sort();
     expect(onSelect).toStrictEqual([
+      'adult-checks-only',
       'carbon-monoxide-oximetry',
       'cluster-headache-oxygen',
       'duplicate-oxygen-order',

@@ -55,6 +55,20 @@ describe('lower-range-without-risk', () => {
     expect(runRule(rule, buildFacts({ orders: lowRange, conditions: [condition('bronchiectasis')] }))).toStrictEqual([]);
   });
 
+  it('says the raised PCO2 is acute when a tiring asthmatic has 88-92 % ordered', () => {
+    // Acute asthma, pH 7.27 (RCEM < 7.35), PaCO2 7.8 kPa (BTS 2017 clarification >= 6 kPa), HCO3 25
+    // within the acute rise (check-values 3g): BTS 2017 keeps acute asthma at 94-98 %
+    const facts = buildFacts({
+      orders: lowRange,
+      conditions: [condition('acute-asthma')],
+      bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.27, paco2Kpa: 7.8, hco3: 25 })],
+    });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 94, highPercent: 98 } });
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Target 88–92 % ordered, but 94–98 % applies: the raised PCO2 is acute, with no sign of chronic CO2 retention');
+  });
+
   describe('edge cases', () => {
     it('keeps quiet after a normal gas when there was previous NIV', () => {
       // BTS 2017, Tables 2-4: previous NIV/IMV stays at 88-92 %

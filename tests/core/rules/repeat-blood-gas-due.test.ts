@@ -23,6 +23,23 @@ describe('repeat-blood-gas-due', () => {
     expect(expectCardRenders(finding).summary).toBe('Repeat blood gas due in 30–60 min after this oxygen change (hypercapnic risk)');
   });
 
+  it('asks for a repeat gas for a compensated retainer with no history on record', () => {
+    // pH 7.38 in range (RCEM), PaCO2 7.4 kPa >= 6 kPa (BTS 2017 clarification), HCO3 32 beyond the acute
+    // rise (check-values 3g): chronic compensated hypercapnia, controlled oxygen and a repeat gas in
+    // 30-60 min (BTS 2017 pathway as taught, quoted secondarily)
+    const facts = buildFacts({ bloodGases: [bloodGas({ ageMinutes: 50, ph: 7.38, paco2Kpa: 7.4, hco3: 32 })] });
+    expect(onlyFinding(runRule(rule, facts)).values.riskReasons).toContain('PaCO2 7.4 kPa');
+  });
+
+  it('leaves the repeat gas of a tiring patient without chronic retention to the critical card', () => {
+    // acute asthma, pH 7.27, PaCO2 7.8 kPa, HCO3 25 within the acute rise (check-values 3g); policy `keep`
+    const facts = buildFacts({
+      conditions: [condition('acute-asthma')],
+      bloodGases: [bloodGas({ ageMinutes: 50, ph: 7.27, paco2Kpa: 7.8, hco3: 25 })],
+    });
+    expect(runRule(rule, facts)).toStrictEqual([]);
+  });
+
   it.each([
     // minutes since the order; BTS 2017 window 30-60 min
     [10, 'in 20–50 min', 'info'],

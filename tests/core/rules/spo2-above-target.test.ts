@@ -64,6 +64,46 @@ describe('spo2-above-target', () => {
     expect(runRule(rule, facts)).toStrictEqual([]);
   });
 
+  describe('no step down while the gas shows hypercapnic acidosis', () => {
+    // 3 L/min on a nasal cannula with SpO2 above the range: a step down would be offered otherwise
+    const onCannula = (parts: Parameters<typeof buildFacts>[0]) =>
+      buildFacts({ orders: [oxygenOrder({ flowLPerMin: 3 })], o2FlowLPerMin: [o2Flow(3, 15)], ...parts });
+
+    it('offers no step down to a tiring asthmatic above 98 %, and keeps the card', () => {
+      // pH 7.27 < 7.35 (RCEM), PaCO2 7.8 kPa >= 6 kPa (BTS 2017 clarification), HCO3 25 within the acute rise
+      const facts = onCannula({
+        conditions: [condition('acute-asthma')],
+        spo2Percent: [spo2(99, 15)],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.27, paco2Kpa: 7.8, hco3: 25 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expect(expectCardRenders(finding).label).toBeUndefined();
+    });
+
+    it('offers no step down in acute-on-chronic acidosis either', () => {
+      // COPD, pH 7.30, PaCO2 8.6 kPa, HCO3 31 (check-values 3g); 88-92 % (BTS 2017, Table 4)
+      const facts = onCannula({
+        orders: [oxygenOrder({ flowLPerMin: 3, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
+        conditions: [condition('copd')],
+        spo2Percent: [spo2(95, 15)],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.3, paco2Kpa: 8.6, hco3: 31 })],
+      });
+      expect(onlyFinding(runRule(rule, facts)).change).toBeUndefined();
+    });
+
+    it('still steps a compensated retainer down', () => {
+      // pH 7.38 in range (RCEM): chronic compensated; BTS 2017: reduce oxygen above the range
+      const facts = onCannula({
+        orders: [oxygenOrder({ flowLPerMin: 3, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
+        conditions: [condition('copd')],
+        spo2Percent: [spo2(95, 15)],
+        bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.38, paco2Kpa: 7.4, hco3: 32 })],
+      });
+      expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+    });
+  });
+
   describe('edge cases', () => {
     it('does not fire for a new order when nothing shows the patient was on oxygen', () => {
       // A high SpO2 before the first oxygen order says nothing about titration.

@@ -22,5 +22,12 @@ export interface Rule {
   /** order-select gets only cheap, order-level rules. */
   readonly hooks: readonly HookName[];
   readonly defaultIndicator: Indicator;
+  /**
+   * Who the advice is for. `adults` (the default when absent): adult target, titration, device or
+   * physiology advice from adult guidelines, which the engine does not run for a patient below
+   * `population.minimumAgeYears`. `all-ages`: data-quality and order-keeping checks that hold for
+   * anyone.
+   */
+  readonly appliesTo?: 'adults' | 'all-ages';
   readonly evaluate: (ctx: RuleContext) => readonly Finding[];
 }
