@@ -47,6 +47,13 @@ export interface Fio2InForce {
   readonly low: number;
   readonly high: number;
   readonly basis: 'recorded-fio2' | 'recorded-flow' | 'order-estimate';
+  /**
+   * Where the figure came from, for the card: `recorded` (an FiO2 observation, or air), `set` (a
+   * device's setting: Venturi, high flow, CPAP/NIV) or `estimated` (worked out from a flow).
+   */
+  readonly source: 'recorded' | 'set' | 'estimated';
+  /** The device estimate behind a `set` or `estimated` figure (undefined for `recorded`). */
+  readonly delivery: DeliveryEstimate | undefined;
   /** Time of the observation used; undefined for the order estimate. */
   readonly at: string | undefined;
   /** True when the FiO2 is room air (recorded 0.21 or a recorded flow of 0). */

@@ -11,7 +11,7 @@ import { BTS, bloodGas, haemoglobin, respRate, spo2 } from '../facts-builder.js'
 
 const recorded = (fraction: number): Outcome<Fio2InForce> => ({
   kind: 'ok',
-  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: false },
+  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: false, source: 'recorded', delivery: undefined },
 });
 
 describe('computeSfRatio', () => {
