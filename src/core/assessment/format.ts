@@ -36,6 +36,25 @@ export function formatFio2Range(fio2: {
   return `${formatFraction(fio2.estimate)} (${formatFraction(fio2.low)}–${formatFraction(fio2.high)})`;
 }
 
+/**
+ * A device's delivered FiO2 with the point thresholds read, so a card never leaves the reader to
+ * guess which number a threshold was compared with:
+ * "0.32 (0.28–0.36), thresholds read 0.28 (low end)"; "0.28 (0.26–0.30), thresholds read the set 0.28";
+ * "0.60 as set" when the range is the setting itself.
+ */
+export function formatDeliveredFio2(delivery: {
+  readonly fio2: { readonly estimate: number; readonly low: number; readonly high: number };
+  readonly thresholdFio2: { readonly fraction: number; readonly point: 'set' | 'low-end' };
+}): string {
+  const { fio2, thresholdFio2 } = delivery;
+  const point = formatFraction(thresholdFio2.fraction);
+  if (formatFraction(fio2.low) === formatFraction(fio2.high)) {
+    return thresholdFio2.point === 'set' ? `${formatFraction(fio2.estimate)} as set` : formatFraction(fio2.estimate);
+  }
+  const read = thresholdFio2.point === 'set' ? `the set ${point}` : `${point} (low end)`;
+  return `${formatFio2Range(fio2)}, thresholds read ${read}`;
+}
+
 /** "3 L/min", "22.5 L/min". */
 export function formatFlow(flowLPerMin: number): string {
   return `${formatNumber(flowLPerMin, 1)} L/min`;

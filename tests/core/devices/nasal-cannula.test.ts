@@ -48,21 +48,23 @@ describe('nasal cannula', () => {
     expect(high).toBeGreaterThanOrEqual(0.21 + 0.038 * flow);
   });
 
-  it('falls, range and all, with tachypnoea', () => {
-    // check-values pitfall 9: the estimate falls with tachypnoea
+  it('falls with tachypnoea, never below the published envelope', () => {
+    // check-values pitfall 9: the estimate falls with tachypnoea; rule of 4 at 4 L/min 0.36 ± 0.05 (FCCS, C / V2)
     const rest = atRest(4).fio2;
     const fast = okValue(estimateNasalCannula({ flowLPerMin: 4, respRatePerMin: 35 })).fio2;
     expect(fast.estimate).toBeLessThan(rest.estimate);
-    expect(fast.low).toBeLessThan(rest.low);
-    expect(fast.high).toBeLessThan(rest.high);
+    expect(fast.low).toBeLessThanOrEqual(rest.low);
+    expect(fast.high).toBeLessThanOrEqual(rest.high);
+    expect(fast.low).toBeGreaterThanOrEqual(0.36 - 0.05 - 1e-9);
   });
 
   it('widens the range when the respiratory rate is not known', () => {
     const known = atRest(3).fio2;
     const unknown = okValue(estimateNasalCannula({ flowLPerMin: 3 })).fio2;
     expect(unknown.estimate).toBe(known.estimate);
-    expect(unknown.low).toBeLessThan(known.low);
-    expect(unknown.high).toBeGreaterThan(known.high);
+    expect(unknown.low).toBeLessThanOrEqual(known.low);
+    expect(unknown.high).toBeGreaterThanOrEqual(known.high);
+    expect(unknown.high - unknown.low).toBeGreaterThan(known.high - known.low);
   });
 
   it('flags the estimate for P/F and A-a use and names its basis', () => {
@@ -70,7 +72,9 @@ describe('nasal cannula', () => {
     const value = atRest(2);
     expect(value.fixedPerformance).toBe(false);
     expect(value.notes[0]).toContain('P/F');
-    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017']);
+    expect(value.sourceKeys).toStrictEqual(['anatomic-reservoir', 'bts-2017', 'device-fio2-tables']);
+    expect(value.model.kind).toBe('anatomic-reservoir');
+    expect(value.fio2Source).toBe('estimated');
   });
 
   it('notes that flows above 4 L/min are often poorly tolerated', () => {
