@@ -1,7 +1,6 @@
 import {
   formatDeliveredFio2,
   formatDuration,
-  formatFio2Range,
   formatFlow,
   formatNumber,
   formatPercent,
