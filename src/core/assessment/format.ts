@@ -55,6 +55,38 @@ export function formatDeliveredFio2(delivery: {
   return `${formatFio2Range(fio2)}, thresholds read ${read}`;
 }
 
+/**
+ * A whole number that never lands on the wrong side of a cut-off it is compared with. Each cut-off
+ * belongs to the band below it (Berlin P/F ≤ 200, Rice S/F ≤ 235), so a value just above one that
+ * would round onto it is shown one above it instead: 200.4 → "201", 199.6 → "200", 235.3 → "236".
+ * The shift is under 1 unit, well inside the error of the measurements behind these ratios.
+ */
+export function formatWholeBesideCutoffs(value: number, cutoffsLowerInclusive: readonly number[]): string {
+  let shown = Math.round(value);
+  const exact = Math.round(value * 1e6) / 1e6;
+  for (const cutoff of cutoffsLowerInclusive) {
+    if (exact > cutoff && shown <= cutoff) {
+      shown = cutoff + 1;
+    }
+  }
+  return String(shown);
+}
+
+/**
+ * P/F or S/F for a card: a whole number when the FiO2 is exact; "about 219 (194–250)" when it is a
+ * range, every figure rounded with {@link formatWholeBesideCutoffs}.
+ */
+export function formatRatio(
+  ratio: { readonly ratio: number; readonly low: number; readonly high: number },
+  cutoffsLowerInclusive: readonly number[],
+): string {
+  const whole = (x: number): string => formatWholeBesideCutoffs(x, cutoffsLowerInclusive);
+  if (whole(ratio.low) === whole(ratio.high)) {
+    return whole(ratio.ratio);
+  }
+  return `about ${whole(ratio.ratio)} (${whole(ratio.low)}–${whole(ratio.high)})`;
+}
+
 /** "3 L/min", "22.5 L/min". */
 export function formatFlow(flowLPerMin: number): string {
   return `${formatNumber(flowLPerMin, 1)} L/min`;

@@ -28,6 +28,22 @@ export type RoxInterpretation = ReturnType<typeof interpretRox>;
 export interface Calculated<T> {
   readonly value: T;
   readonly computation: Computation;
+  /** The spread the number takes over the FiO2 range, when the FiO2 is not exact. */
+  readonly range?: { readonly low: number; readonly high: number };
+}
+
+/**
+ * P/F or S/F over the FiO2 range it was worked out at. `low` is at the high end of the FiO2 range,
+ * `high` at the low end. The class is stated only when the whole range lies in one band; otherwise
+ * it is undefined and `spannedCutoffs` names the cut-offs the range crosses.
+ */
+export interface OxygenationRatio {
+  readonly ratio: number;
+  readonly low: number;
+  readonly high: number;
+  readonly spannedCutoffs: readonly number[];
+  /** The FiO2 used: value, range and where it came from (recorded, set or estimated). */
+  readonly fio2: Fio2InForce;
 }
 
 export interface BarometricPressureUsed {
@@ -80,8 +96,8 @@ export interface PhysiologyResults {
   readonly aaGradient: Outcome<Calculated<number>>;
   /** Unknown when the gas was not taken on air: the age norm is for air only. */
   readonly expectedAaGradient: Outcome<Calculated<number>>;
-  readonly pfRatio: Outcome<Calculated<{ readonly ratio: number; readonly berlin: BerlinClass }>>;
-  readonly sfRatio: Outcome<Calculated<{ readonly ratio: number; readonly rice: RiceClass }>>;
+  readonly pfRatio: Outcome<Calculated<OxygenationRatio & { readonly berlin: BerlinClass | undefined }>>;
+  readonly sfRatio: Outcome<Calculated<OxygenationRatio & { readonly rice: RiceClass | undefined }>>;
   readonly rox: Outcome<
     Calculated<{
       readonly index: number;

@@ -40,12 +40,12 @@ export const DELIVERY_MODELS: Readonly<Record<DeliveryModelKind, DeliveryModel>>
   },
   'high-flow-set-fio2': {
     kind: 'high-flow-set-fio2',
-    name: 'high-flow set FiO2 (blender)',
+    name: 'high-flow blender setting',
     sourceKey: 'hfnc-2017',
   },
   'ventilator-set-fio2': {
     kind: 'ventilator-set-fio2',
-    name: 'CPAP/NIV set FiO2',
+    name: 'CPAP/NIV FiO2 setting',
     sourceKey: 'bts-ics-2016',
   },
 });

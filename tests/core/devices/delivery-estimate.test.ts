@@ -137,7 +137,7 @@ describe('delivered-FiO2 estimates', () => {
       expect(value.sourceKeys).not.toContain('device-mixing');
     }
     expect(venturi.model.name).toContain('air-entrainment');
-    expect(hfnc.model.name).toContain('set FiO2');
+    expect(hfnc.model.name).toContain('blender setting');
     for (const kind of ['nasal-cannula', 'simple-face-mask', 'reservoir-mask', 'tracheostomy-mask'] as const) {
       const value = okValue(estimateDelivery(kind, { flowLPerMin: DEVICE_MODELS[kind].flowRangeLPerMin.min }));
       expect(value.sourceKeys[0]).toBe(value.model.sourceKey);
