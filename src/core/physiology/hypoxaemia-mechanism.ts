@@ -208,7 +208,10 @@ export function mechanismAcrossFio2Range(input: {
     );
   }
   if (atLow.value.kind === atEstimate.value.kind && atHigh.value.kind === atEstimate.value.kind) {
-    return atEstimate;
+    return ok(
+      atEstimate.value.kind,
+      `${atEstimate.value.explanation} This reading holds across the FiO2 range ${range}.`,
+    );
   }
   return ok(
     'not-determined',

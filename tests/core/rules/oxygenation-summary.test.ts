@@ -132,6 +132,53 @@ describe('oxygenation-summary', () => {
     expect(onlyFinding(runRule(rule, facts)).values.pfRatio).toBe('201 mmHg at FiO2 0.30, as recorded; Berlin mild band (200–300)');
   });
 
+  describe('ratios on an FiO2 that is not exact', () => {
+    it('shows P/F as "about" a range on an estimated FiO2 and states no Berlin band when the range spans 200', () => {
+      // Nasal cannula 3 L/min ≈ 0.32 ± 0.05 (rule of 4, FCCS: C / V2); PaO2 64 mmHg → P/F about 195, its
+      // range spanning the Berlin 200 cut-off (JAMA 2012, V), so "moderate" would be a guess
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3 })],
+        respRatePerMin: [respRate(20)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 64 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+      const pf = finding.values.pfRatio ?? '';
+      expect(pf).toMatch(/^about \d+ \(\d+–\d+\) mmHg at an estimated FiO2 of about 0\.\d\d \(0\.\d\d–0\.\d\d\)/);
+      expect(pf).toContain('around 200: the range spans the Berlin 200 cut-off, so no band is stated');
+      expect(pf).not.toMatch(/moderate|mild/);
+      expect(finding.values.aaGradient).toMatch(/^about \d+ \(\d+–\d+\) mmHg over the FiO2 range/);
+      const card = expectCardRenders(finding);
+      expect(card.summary).toMatch(/P\/F about \d+ \(\d+–\d+\)/);
+    });
+
+    it('states the Berlin band when even the ends of the FiO2 range agree', () => {
+      // PaO2 75 mmHg at 0.28-0.37: P/F about 228 (203-272), mild throughout (Berlin 2012, V)
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3 })],
+        respRatePerMin: [respRate(20)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 75 })],
+      });
+      expect(onlyFinding(runRule(rule, facts, { policy: seaLevel })).values.pfRatio).toMatch(/; Berlin mild band \(200–300\)$/);
+    });
+
+    it('names the Venturi setting and its measured accuracy as the FiO2 of P/F', () => {
+      // Jones 1984 (V): the 40 % setting within 1.9 %; PaO2 80 / 0.40 = 200, range 191-210 spans the
+      // Berlin 200 cut-off, so no band; minimum 10 L/min for 40 % (common practice)
+      const venturi = { device: 'venturi-mask' as const, flowLPerMin: 10, setFio2Fraction: 0.4 };
+      const facts = buildFacts({
+        orders: [oxygenOrder(venturi)],
+        respRatePerMin: [respRate(18)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 80 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+      expect(finding.values.pfRatio).toBe(
+        "about 200 (191–210) mmHg at the set FiO2 0.40 (0.38–0.42 by the device's measured accuracy); around 200: the range spans the Berlin 200 cut-off, so no band is stated",
+      );
+      expect(finding.computations[0]?.sourceKey).toBe('air-entrainment');
+      expectCardRenders(finding);
+    });
+  });
+
   describe('edge cases', () => {
     it('fires on the delivered-FiO2 estimate alone and says what is missing', () => {
       const finding = onlyFinding(runRule(rule, buildFacts()));
