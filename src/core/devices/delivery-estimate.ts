@@ -127,16 +127,29 @@ export interface EstimateParts {
  */
 export function buildDeliveryEstimate(parts: EstimateParts): DeliveryEstimate {
   const model = DELIVERY_MODELS[parts.model];
-  const fio2 = keepWithinEnvelope(parts.raw, parts.envelope);
+  // A device that delivers its setting shows the setting as its figure; what fast breathing may take
+  // off it stays in the low end of the range and in the notes, so "0.28 set" never reads "0.26 set".
+  const raw0 =
+    parts.fio2Source === 'set' && parts.setFio2Fraction !== undefined
+      ? { ...parts.raw, estimate: parts.setFio2Fraction, high: Math.max(parts.raw.high, parts.setFio2Fraction) }
+      : parts.raw;
+  const fio2 = keepWithinEnvelope(raw0, parts.envelope);
   const raw = fio2Range(parts.raw.estimate, parts.raw.low, parts.raw.high);
   const moved = Math.abs(raw.estimate - fio2.estimate) >= 0.005;
-  const notes = moved
-    ? [
-        ...parts.notes,
-        `The model alone gave ${raw.estimate.toFixed(2)}; shown within the published ` +
-          `${fio2ToText(parts.envelope)} for this device and flow (${parts.envelope.basis}).`,
-      ]
-    : parts.notes;
+  const setShown = raw0 !== parts.raw;
+  const notes = !moved
+    ? parts.notes
+    : setShown
+      ? [
+          ...parts.notes,
+          `At this breathing the mixing model puts the FiO2 at about ${raw.estimate.toFixed(2)}; the figure ` +
+            `shown is the setting, and the range reaches down to ${fio2.low.toFixed(2)} (${parts.envelope.basis}).`,
+        ]
+      : [
+          ...parts.notes,
+          `The model alone gave ${raw.estimate.toFixed(2)}; shown within the published ` +
+            `${fio2ToText(parts.envelope)} for this device and flow (${parts.envelope.basis}).`,
+        ];
   const sourceKeys = [model.sourceKey, ...parts.sourceKeys, parts.envelope.sourceKey].filter(
     (key, index, all) => all.indexOf(key) === index,
   );
