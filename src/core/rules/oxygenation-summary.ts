@@ -8,7 +8,7 @@ import {
   joinWords,
 } from '../assessment/format.js';
 import { RICE_CUTOFFS } from '../assessment/bedside-physiology.js';
-import { BERLIN_CUTOFFS_MMHG, describeFio2Basis, fio2IsUncertain } from '../assessment/gas-physiology.js';
+import { BERLIN_CUTOFFS_MMHG, fio2IsUncertain } from '../assessment/gas-physiology.js';
 import type {
   Assessment,
   BerlinClass,
@@ -196,8 +196,10 @@ export const rule: Rule = {
     // One line for the gas and the FiO2 it was taken on, so "no gas" never sits beside an FiO2 for it.
     const fio2AtGas =
       p.fio2AtGas.kind === 'ok'
-        ? `${describeFio2Used(p.fio2AtGas.value)} (${describeFio2Basis(p.fio2AtGas.value)})`
-        : `FiO2 not known (${p.fio2AtGas.reason})`;
+        ? `${describeFio2Used(p.fio2AtGas.value)}${
+            p.fio2AtGas.value.basis === 'order-estimate' ? ', assuming the order was in use when it was taken' : ''
+          }`
+        : `an FiO2 not known (${p.fio2AtGas.reason})`;
     const gasUsed =
       gas === undefined
         ? `none within the last ${formatNumber(policy.freshness.bloodGasMinutes / 60, 1)} h`

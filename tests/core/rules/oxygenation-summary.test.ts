@@ -25,6 +25,7 @@ describe('oxygenation-summary', () => {
     expect(finding.values.alveolarPo2).toBe('100 mmHg');
     expect(finding.values.aaGradient).toBe('5 mmHg; age norm on air 19 mmHg');
     expect(finding.values.barometricPressure).toBe('760 mmHg (site value from the local policy)');
+    expect(finding.values.gasUsed).toMatch(/; taken on FiO2 0\.21 \(room air\), as recorded$/);
     expect(finding.values.pfRatio).toBe('452 mmHg at FiO2 0.21 (room air), as recorded; above 300, outside the Berlin ARDS bands');
     expect(finding.values.rox).toBe('not available (ROX applies to high-flow nasal cannula only)');
     expect(finding.computations.map((c) => c.name)).toStrictEqual([
