@@ -117,11 +117,12 @@ export function hypoxaemiaMechanism(
   const inspired = input.inspiredPo2MmHg;
   const lowInspired = inspired < LOW_INSPIRED_PO2_BELOW_MMHG;
 
+  const [gradientShown, allowanceShown] = comparedPair(gradient, allowance);
   const gradientWords = onAir
-    ? `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg expected for age on air`
-    : `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg allowed on FiO2 ` +
+    ? `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg expected for age on air`
+    : `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg allowed on FiO2 ` +
       `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
-  const paco2Words = `PaCO2 ${fmt(paco2)} mmHg`;
+  const paco2Words = `PaCO2 ${whole(paco2)} mmHg`;
   const alsoInspired = lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
   const gasExchange = 'V/Q mismatch, shunt or diffusion limitation';
 
@@ -166,7 +167,7 @@ function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
   }
   return (
     `FiO2 rose from ${previous.fio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
-    `but PaO2 changed by ${fmt(arterialRise)} mmHg, under 20 % of the ${fmt(alveolarRise)} mmHg ` +
+    `but PaO2 changed by ${whole(arterialRise)} mmHg, under 20 % of the ${whole(alveolarRise)} mmHg ` +
     'rise in alveolar PO2: a shunt is likely (a heuristic, common practice).'
   );
 }
@@ -226,6 +227,22 @@ function ok(kind: HypoxaemiaMechanismKind, explanation: string): Outcome<Hypoxae
   return { kind: 'ok', value: { kind, explanation } };
 }
 
+/** Whole mmHg, as pressures are read at the bedside. */
+function whole(value: number): string {
+  return String(Math.round(value));
+}
+
+/**
+ * The gradient and the figure it is compared with, in whole mmHg unless rounding would make them
+ * equal or swap their order; then one decimal, so the words never contradict the comparison.
+ */
+function comparedPair(gradient: number, allowance: number): readonly [string, string] {
+  const g = Math.round(gradient);
+  const a = Math.round(allowance);
+  return g === a || g > a !== gradient > allowance ? [fmt(gradient), fmt(allowance)] : [String(g), String(a)];
+}
+
+/** One decimal, for figures compared with a threshold that has one (inspired PO2 134.8 mmHg). */
 function fmt(value: number): string {
   return String(Number(value.toFixed(1)));
 }
