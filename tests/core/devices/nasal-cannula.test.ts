@@ -3,6 +3,7 @@ import {
   END_EXPIRATORY_PAUSE_FRACTION,
   NASAL_CANNULA_COMFORTABLE_UP_TO_L_PER_MIN,
   estimateNasalCannula,
+  nasalCannulaEnvelope,
   nasalCannulaModel,
 } from '../../../src/core/devices/nasal-cannula.js';
 import { expectWithin, okValue } from './expect-helpers.js';
@@ -33,6 +34,24 @@ describe('nasal cannula', () => {
     const { estimate } = atRest(flow).fio2;
     expect(estimate).toBeGreaterThanOrEqual(0.24 - 0.03);
     expect(estimate).toBeLessThanOrEqual(0.35 + 0.03);
+  });
+
+  it.each([
+    // FCCS (SCCM 2016) rule of 4 ± 0.05 (C / V2), widened to the measured 2.5 % per L/min at the low end
+    // (check-values pitfall 9, V2): the envelope is their union
+    { flow: 1, low: 0.21, high: 0.29 },
+    { flow: 2, low: 0.23, high: 0.33 },
+    { flow: 3, low: 0.27, high: 0.37 },
+    { flow: 4, low: 0.31, high: 0.41 },
+    { flow: 5, low: 0.335, high: 0.45 },
+    { flow: 6, low: 0.36, high: 0.49 },
+  ])('keeps $flow L/min within its published envelope $low-$high', ({ flow, low, high }) => {
+    const envelope = nasalCannulaEnvelope(flow);
+    expectWithin(envelope.low, low, 1e-9);
+    expectWithin(envelope.high, high, 1e-9);
+    const { fio2 } = okValue(estimateNasalCannula({ flowLPerMin: flow, respRatePerMin: 12 }));
+    expect(fio2.low).toBeGreaterThanOrEqual(low - 1e-9);
+    expect(fio2.high).toBeLessThanOrEqual(high + 1e-9);
   });
 
   it('reproduces the textbook anatomic-reservoir example at 6 L/min', () => {

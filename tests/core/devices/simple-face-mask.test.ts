@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { mixingFio2 } from '../../../src/core/devices/mixing.js';
-import { estimateSimpleFaceMask, simpleFaceMaskModel } from '../../../src/core/devices/simple-face-mask.js';
+import { estimateSimpleFaceMask, simpleFaceMaskEnvelope, simpleFaceMaskModel } from '../../../src/core/devices/simple-face-mask.js';
 import { expectWithin, okValue } from './expect-helpers.js';
 
 const atRest = (flowLPerMin: number) => okValue(estimateSimpleFaceMask({ flowLPerMin, respRatePerMin: 20 }));
@@ -21,6 +21,19 @@ describe('simple face mask', () => {
     const { estimate } = atRest(flow).fio2;
     expect(estimate).toBeGreaterThanOrEqual(0.35 - 0.05);
     expect(estimate).toBeLessThanOrEqual(0.6 + 0.05);
+  });
+
+  it.each([
+    // Therapeutic Guidelines (Australia): 0.35-0.60 over 5-10 L/min (V2), ± 0.05, read linearly by flow
+    { flow: 5, low: 0.3, high: 0.4 },
+    { flow: 8, low: 0.45, high: 0.55 },
+    { flow: 10, low: 0.55, high: 0.65 },
+  ])('keeps $flow L/min within its published envelope $low-$high', ({ flow, low, high }) => {
+    const envelope = simpleFaceMaskEnvelope(flow);
+    expectWithin(envelope.low, low, 1e-9);
+    expectWithin(envelope.high, high, 1e-9);
+    const { fio2 } = okValue(estimateSimpleFaceMask({ flowLPerMin: flow, respRatePerMin: 10 }));
+    expect(fio2.high).toBeLessThanOrEqual(high + 1e-9);
   });
 
   it('takes its range from 0.6 L and 0.4 L breaths at the same rate', () => {
