@@ -1,4 +1,5 @@
 import {
+  RICE_SF_CUTOFFS,
   classifySfRice,
   interpretBloodGas,
   interpretRoxAt,
@@ -19,8 +20,12 @@ import {
 import { checkPhysiologyInputs, PHYSIOLOGY_VALID_RANGES } from '../physiology/valid-ranges.js';
 import type { Policy } from '../policy.js';
 import type { BloodGas, Measured, Outcome, OxygenOrder } from '../types.js';
-import { formatDuration, formatFraction, formatNumber } from './format.js';
+import { formatDuration, formatFraction, formatNumber, formatRatio } from './format.js';
 import { describeFio2Basis } from './gas-physiology.js';
+import { ratioOverFio2Range } from './oxygenation-ratio.js';
+
+/** Rice 2007 published S/F cut-offs; each belongs to the band below it, as classifySfRice places it. */
+export const RICE_CUTOFFS: readonly number[] = [RICE_SF_CUTOFFS.pf200, RICE_SF_CUTOFFS.pf300];
 import type { Fio2InForce, PhysiologyResults } from './types.js';
 
 /** S/F from the current SpO2 and the FiO2 in force when it was read (Rice 2007; not above 97 %). */
@@ -45,17 +50,27 @@ export function computeSfRatio(
   if (ratio.kind === 'unknown') {
     return ratio;
   }
+  const fio2 = fio2AtSpo2.value;
+  const { min, max } = PHYSIOLOGY_VALID_RANGES.sfRatio;
+  const sf = ratioOverFio2Range({
+    numerator: spo2.value,
+    fio2,
+    compute: (sat, fraction) => sat / fraction,
+    // An end of a wide FiO2 range may fall outside what the classifier accepts; the band is judged there.
+    classify: (value) => classifySfRice(Math.min(max, Math.max(min, value))),
+    cutoffsLowerInclusive: RICE_CUTOFFS,
+  });
   return {
     kind: 'ok',
     value: {
-      value: { ratio: ratio.value, rice: classifySfRice(ratio.value) },
+      value: { ratio: ratio.value, low: sf.low, high: sf.high, spannedCutoffs: sf.spannedCutoffs, fio2, rice: sf.band },
       computation: {
         name: 'S/F ratio',
         formula: 'S/F = SpO2 (%) / FiO2',
         substituted:
-          `${formatNumber(spo2.value, 1)} / ${formatFraction(fio2AtSpo2.value.estimate)} ` +
-          `(${describeFio2Basis(fio2AtSpo2.value)})`,
-        result: formatNumber(ratio.value, 0),
+          `${formatNumber(spo2.value, 1)} / ${formatFraction(fio2.estimate)} ` +
+          `(${describeFio2Basis(fio2)})`,
+        result: formatRatio(sf, RICE_CUTOFFS),
         sourceKey: 'rice-2007',
       },
     },
@@ -253,7 +268,10 @@ export function computeOxygenContent(input: {
   readonly spo2: Measured | undefined;
   readonly arterialGas: BloodGas | undefined;
 }): PhysiologyResults['oxygenContent'] {
-  const checked = checkPhysiologyInputs({ haemoglobinGPerDL: input.haemoglobin?.value });
+  if (input.haemoglobin === undefined) {
+    return { kind: 'unknown', reason: 'no recent haemoglobin', missing: ['haemoglobin'] };
+  }
+  const checked = checkPhysiologyInputs({ haemoglobinGPerDL: input.haemoglobin.value });
   if (checked.kind === 'unknown') {
     return checked;
   }

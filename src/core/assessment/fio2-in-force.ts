@@ -5,7 +5,6 @@ import type { Policy } from '../policy.js';
 import type { Facts, Measured, Outcome, OxygenOrder } from '../types.js';
 import type { Fio2InForce } from './types.js';
 
-
 function nearest(items: readonly Measured[], atMs: number, windowMinutes: number): Measured | undefined {
   let best: Measured | undefined;
   let bestGap = Number.POSITIVE_INFINITY;
@@ -21,10 +20,44 @@ function nearest(items: readonly Measured[], atMs: number, windowMinutes: number
   return best;
 }
 
+function fromDelivery(
+  delivery: DeliveryEstimate,
+  basis: 'recorded-flow' | 'order-estimate',
+  at: string | undefined,
+): Fio2InForce {
+  return { ...delivery.fio2, basis, at, onAir: false, source: delivery.fio2Source, delivery };
+}
+
+/**
+ * The estimate for the ordered device at a recorded flow. One device at one setting shows one FiO2
+ * in one response: at the order's own flow this is the order's estimate itself, and at another flow
+ * it is worked out at the same respiratory rate the order's estimate used, so a figure never differs
+ * only because one path knew the breathing rate and another did not.
+ */
+function estimateAtRecordedFlow(
+  flowLPerMin: number,
+  order: OxygenOrder,
+  orderDelivery: Outcome<DeliveryEstimate>,
+): Outcome<DeliveryEstimate> {
+  if (orderDelivery.kind === 'ok' && order.flowLPerMin === flowLPerMin) {
+    return orderDelivery;
+  }
+  if (order.device === undefined) {
+    return { kind: 'unknown', reason: 'device not recognised' };
+  }
+  const respRate = orderDelivery.kind === 'ok' ? orderDelivery.value.respRatePerMin : undefined;
+  return estimateDelivery(order.device, {
+    flowLPerMin,
+    ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
+    ...(respRate === undefined ? {} : { respRatePerMin: respRate }),
+  });
+}
+
 /**
  * The FiO2 being breathed at `at` (a gas or an SpO2 time): the recorded FiO2 observation nearest that
  * time (within the vital-signs window), else the recorded O2 flow nearest it on the ordered device,
- * else the order's own estimate. The basis travels with the value so a card can say which was used.
+ * else the order's own estimate. The basis and source travel with the value so a card can say which
+ * was used.
  */
 export function fio2InForceAt(
   at: string | undefined,
@@ -50,6 +83,8 @@ export function fio2InForceAt(
         basis: 'recorded-fio2',
         at: recordedFio2.at,
         onAir: value <= ROOM_AIR_FIO2,
+        source: 'recorded',
+        delivery: undefined,
       },
     };
   }
@@ -64,26 +99,19 @@ export function fio2InForceAt(
         basis: 'recorded-flow',
         at: recordedFlow.at,
         onAir: true,
+        source: 'recorded',
+        delivery: undefined,
       },
     };
   }
   if (recordedFlow !== undefined && order?.device !== undefined) {
-    const estimate = estimateDelivery(order.device, {
-      flowLPerMin: recordedFlow.value,
-      ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
-    });
+    const estimate = estimateAtRecordedFlow(recordedFlow.value, order, orderDelivery);
     if (estimate.kind === 'ok') {
-      return {
-        kind: 'ok',
-        value: { ...estimate.value.fio2, basis: 'recorded-flow', at: recordedFlow.at, onAir: false },
-      };
+      return { kind: 'ok', value: fromDelivery(estimate.value, 'recorded-flow', recordedFlow.at) };
     }
   }
   if (orderDelivery.kind === 'ok') {
-    return {
-      kind: 'ok',
-      value: { ...orderDelivery.value.fio2, basis: 'order-estimate', at: undefined, onAir: false },
-    };
+    return { kind: 'ok', value: fromDelivery(orderDelivery.value, 'order-estimate', undefined) };
   }
   return {
     kind: 'unknown',

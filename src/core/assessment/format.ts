@@ -36,6 +36,57 @@ export function formatFio2Range(fio2: {
   return `${formatFraction(fio2.estimate)} (${formatFraction(fio2.low)}–${formatFraction(fio2.high)})`;
 }
 
+/**
+ * A device's delivered FiO2 with the point thresholds read, so a card never leaves the reader to
+ * guess which number a threshold was compared with:
+ * "0.32 (0.28–0.36), thresholds read 0.28 (low end)"; "0.28 (0.26–0.30), thresholds read the set 0.28";
+ * "0.60 as set" when the range is the setting itself.
+ */
+export function formatDeliveredFio2(delivery: {
+  readonly fio2: { readonly estimate: number; readonly low: number; readonly high: number };
+  readonly thresholdFio2: { readonly fraction: number; readonly point: 'set' | 'low-end' };
+}): string {
+  const { fio2, thresholdFio2 } = delivery;
+  const point = formatFraction(thresholdFio2.fraction);
+  if (formatFraction(fio2.low) === formatFraction(fio2.high)) {
+    return thresholdFio2.point === 'set' ? `${formatFraction(fio2.estimate)} as set` : formatFraction(fio2.estimate);
+  }
+  const read = thresholdFio2.point === 'set' ? `the set ${point}` : `${point} (low end)`;
+  return `${formatFio2Range(fio2)}, thresholds read ${read}`;
+}
+
+/**
+ * A whole number that never lands on the wrong side of a cut-off it is compared with. Each cut-off
+ * belongs to the band below it (Berlin P/F ≤ 200, Rice S/F ≤ 235), so a value just above one that
+ * would round onto it is shown one above it instead: 200.4 → "201", 199.6 → "200", 235.3 → "236".
+ * The shift is under 1 unit, well inside the error of the measurements behind these ratios.
+ */
+export function formatWholeBesideCutoffs(value: number, cutoffsLowerInclusive: readonly number[]): string {
+  let shown = Math.round(value);
+  const exact = Math.round(value * 1e6) / 1e6;
+  for (const cutoff of cutoffsLowerInclusive) {
+    if (exact > cutoff && shown <= cutoff) {
+      shown = cutoff + 1;
+    }
+  }
+  return String(shown);
+}
+
+/**
+ * P/F or S/F for a card: a whole number when the FiO2 is exact; "about 219 (194–250)" when it is a
+ * range, every figure rounded with {@link formatWholeBesideCutoffs}.
+ */
+export function formatRatio(
+  ratio: { readonly ratio: number; readonly low: number; readonly high: number },
+  cutoffsLowerInclusive: readonly number[],
+): string {
+  const whole = (x: number): string => formatWholeBesideCutoffs(x, cutoffsLowerInclusive);
+  if (whole(ratio.low) === whole(ratio.high)) {
+    return whole(ratio.ratio);
+  }
+  return `about ${whole(ratio.ratio)} (${whole(ratio.low)}–${whole(ratio.high)})`;
+}
+
 /** "3 L/min", "22.5 L/min". */
 export function formatFlow(flowLPerMin: number): string {
   return `${formatNumber(flowLPerMin, 1)} L/min`;

@@ -5,14 +5,25 @@ import {
   expectedAaGradientMmHg,
   hypoxaemiaMechanism,
   inspiredPo2MmHg,
+  mechanismAcrossFio2Range,
   pfRatioMmHg,
 } from '../physiology/index.js';
 import { RESPIRATORY_QUOTIENT_DEFAULT, WATER_VAPOUR_PRESSURE_37C_MMHG } from '../physiology/constants.js';
-import { checkPhysiologyInputs } from '../physiology/valid-ranges.js';
+import { PHYSIOLOGY_VALID_RANGES, checkPhysiologyInputs } from '../physiology/valid-ranges.js';
+
+/** Keeps a ratio at an end of a wide FiO2 range inside the range the Berlin classifier accepts. */
+function withinPfRange(ratio: number): number {
+  const { min, max } = PHYSIOLOGY_VALID_RANGES.pfRatioMmHg;
+  return Math.min(max, Math.max(min, ratio));
+}
 import type { Policy } from '../policy.js';
 import type { BloodGas, Outcome } from '../types.js';
-import { formatFraction, formatMmHg, formatNumber } from './format.js';
+import { formatFraction, formatMmHg, formatNumber, formatRatio } from './format.js';
+import { ratioOverFio2Range } from './oxygenation-ratio.js';
 import type { Calculated, Fio2InForce, MechanismHint, PhysiologyResults } from './types.js';
+
+/** Berlin 2012 cut-offs in mmHg; each belongs to the band below it (P/F ≤ 100, ≤ 200, ≤ 300). */
+export const BERLIN_CUTOFFS_MMHG = [100, 200, 300] as const;
 
 type GasResults = Pick<
   PhysiologyResults,
@@ -44,10 +55,19 @@ export function describeFio2Basis(fio2: Fio2InForce): string {
     case 'recorded-flow':
       return fio2.onAir
         ? 'on air, as recorded nearest the measurement'
-        : 'FiO2 estimated from the recorded O2 flow on the ordered device';
+        : fio2.source === 'set'
+          ? 'FiO2 set on the ordered device at the recorded O2 flow'
+          : 'FiO2 estimated from the recorded O2 flow on the ordered device';
     case 'order-estimate':
-      return 'FiO2 estimated from the order, assuming it was in use at the measurement';
+      return fio2.source === 'set'
+        ? 'FiO2 set in the order, assuming it was in use at the measurement'
+        : 'FiO2 estimated from the order, assuming it was in use at the measurement';
   }
+}
+
+/** True when the FiO2 is a range rather than one value at two decimals. */
+export function fio2IsUncertain(fio2: Fio2InForce): boolean {
+  return formatFraction(fio2.low) !== formatFraction(fio2.high);
 }
 
 const mm = (value: number): string => formatNumber(value, 1);
@@ -115,7 +135,27 @@ export function computeGasPhysiology(input: {
     form: 'simplified',
   });
   const gradient = aaGradientMmHg(pao2Alveolar, pao2MmHg);
-  const pf = pfRatioMmHg(pao2MmHg, fio2.estimate);
+  const alveolarAt = (fraction: number): number =>
+    alveolarPo2MmHg({
+      fio2Fraction: fraction,
+      barometricPressureMmHg: pb,
+      paco2MmHg,
+      respiratoryQuotient: RESPIRATORY_QUOTIENT_DEFAULT,
+      form: 'simplified',
+    });
+  const uncertain = fio2IsUncertain(fio2);
+  // PAO2 and the A-a gradient rise with FiO2, so the ends of the FiO2 range give the ends of theirs.
+  const alveolarRange = uncertain ? { range: { low: alveolarAt(fio2.low), high: alveolarAt(fio2.high) } } : {};
+  const gradientRange = uncertain
+    ? { range: { low: alveolarAt(fio2.low) - pao2MmHg, high: alveolarAt(fio2.high) - pao2MmHg } }
+    : {};
+  const pf = ratioOverFio2Range({
+    numerator: pao2MmHg,
+    fio2,
+    compute: pfRatioMmHg,
+    classify: (ratio) => classifyPfBerlin(withinPfRange(ratio)),
+    cutoffsLowerInclusive: BERLIN_CUTOFFS_MMHG,
+  });
   const expectedAaGradient: Outcome<Calculated<number>> = !fio2.onAir
     ? unknown('the age-expected A-a gradient applies on air only')
     : expectedOnAir.kind === 'ok'
@@ -133,19 +173,29 @@ export function computeGasPhysiology(input: {
           },
         }
       : expectedOnAir;
-  const mechanism: Outcome<MechanismHint> =
+  const mechanismAt = (fraction: number): Outcome<MechanismHint> =>
     expectedOnAir.kind === 'ok'
       ? hypoxaemiaMechanism({
-          inspiredPo2MmHg: pio2Value,
-          aaGradientMmHg: gradient,
+          inspiredPo2MmHg: inspiredPo2MmHg(fraction, pb, WATER_VAPOUR_PRESSURE_37C_MMHG),
+          aaGradientMmHg: alveolarAt(fraction) - pao2MmHg,
           expectedAaGradientMmHg: expectedOnAir.value,
           paco2MmHg,
           hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
-          fio2Fraction: fio2.estimate,
+          fio2Fraction: fraction,
           pao2MmHg,
           ...(input.previous === undefined ? {} : { previous: input.previous }),
         })
       : unknown(`mechanism needs the age-expected A-a gradient: ${expectedOnAir.reason}`, expectedOnAir.missing);
+  // A mechanism is stated only when it holds at both ends of the FiO2 range as well as at the estimate.
+  const mechanism: Outcome<MechanismHint> = uncertain
+    ? mechanismAcrossFio2Range({
+        atLow: mechanismAt(fio2.low),
+        atEstimate: mechanismAt(fio2.estimate),
+        atHigh: mechanismAt(fio2.high),
+        fio2Low: fio2.low,
+        fio2High: fio2.high,
+      })
+    : mechanismAt(fio2.estimate);
   return {
     inspiredPo2,
     alveolarPo2: {
@@ -161,6 +211,7 @@ export function computeGasPhysiology(input: {
           result: formatMmHg(pao2Alveolar),
           sourceKey: 'alveolar-gas',
         },
+        ...alveolarRange,
       },
     },
     aaGradient: {
@@ -174,18 +225,19 @@ export function computeGasPhysiology(input: {
           result: formatMmHg(gradient),
           sourceKey: 'alveolar-gas',
         },
+        ...gradientRange,
       },
     },
     expectedAaGradient,
     pfRatio: {
       kind: 'ok',
       value: {
-        value: { ratio: pf, berlin: classifyPfBerlin(pf) },
+        value: { ratio: pf.ratio, low: pf.low, high: pf.high, spannedCutoffs: pf.spannedCutoffs, fio2, berlin: pf.band },
         computation: {
           name: 'P/F ratio',
           formula: 'P/F = PaO2 / FiO2',
           substituted: `${mm(pao2MmHg)} / ${formatFraction(fio2.estimate)} (${basis})`,
-          result: formatMmHg(pf),
+          result: `${formatRatio(pf, BERLIN_CUTOFFS_MMHG)} mmHg`,
           sourceKey: 'berlin-2012',
         },
       },

@@ -29,6 +29,22 @@ export type RoxInterpretation = ReturnType<typeof interpretRox>;
 export interface Calculated<T> {
   readonly value: T;
   readonly computation: Computation;
+  /** The spread the number takes over the FiO2 range, when the FiO2 is not exact. */
+  readonly range?: { readonly low: number; readonly high: number };
+}
+
+/**
+ * P/F or S/F over the FiO2 range it was worked out at. `low` is at the high end of the FiO2 range,
+ * `high` at the low end. The class is stated only when the whole range lies in one band; otherwise
+ * it is undefined and `spannedCutoffs` names the cut-offs the range crosses.
+ */
+export interface OxygenationRatio {
+  readonly ratio: number;
+  readonly low: number;
+  readonly high: number;
+  readonly spannedCutoffs: readonly number[];
+  /** The FiO2 used: value, range and where it came from (recorded, set or estimated). */
+  readonly fio2: Fio2InForce;
 }
 
 export interface BarometricPressureUsed {
@@ -48,6 +64,13 @@ export interface Fio2InForce {
   readonly low: number;
   readonly high: number;
   readonly basis: 'recorded-fio2' | 'recorded-flow' | 'order-estimate';
+  /**
+   * Where the figure came from, for the card: `recorded` (an FiO2 observation, or air), `set` (a
+   * device's setting: Venturi, high flow, CPAP/NIV) or `estimated` (worked out from a flow).
+   */
+  readonly source: 'recorded' | 'set' | 'estimated';
+  /** The device estimate behind a `set` or `estimated` figure (undefined for `recorded`). */
+  readonly delivery: DeliveryEstimate | undefined;
   /** Time of the observation used; undefined for the order estimate. */
   readonly at: string | undefined;
   /** True when the FiO2 is room air (recorded 0.21 or a recorded flow of 0). */
@@ -74,8 +97,8 @@ export interface PhysiologyResults {
   readonly aaGradient: Outcome<Calculated<number>>;
   /** Unknown when the gas was not taken on air: the age norm is for air only. */
   readonly expectedAaGradient: Outcome<Calculated<number>>;
-  readonly pfRatio: Outcome<Calculated<{ readonly ratio: number; readonly berlin: BerlinClass }>>;
-  readonly sfRatio: Outcome<Calculated<{ readonly ratio: number; readonly rice: RiceClass }>>;
+  readonly pfRatio: Outcome<Calculated<OxygenationRatio & { readonly berlin: BerlinClass | undefined }>>;
+  readonly sfRatio: Outcome<Calculated<OxygenationRatio & { readonly rice: RiceClass | undefined }>>;
   readonly rox: Outcome<
     Calculated<{
       readonly index: number;

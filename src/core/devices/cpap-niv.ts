@@ -2,8 +2,9 @@ import type { Outcome } from '../types.js';
 import { checkDeliveryInput, flowRangeNotes, formatNumber } from './check-input.js';
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, meanInspiratoryFlowLPerMin } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2, variablePerformanceEstimate } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { DEVICE_FIO2_TABLES_KEY, buildDeliveryEstimate, variablePerformanceEstimate } from './delivery-estimate.js';
+import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range, mixingFio2 } from './mixing.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 
 /** O2 bled into a CPAP or NIV circuit from a wall flowmeter, L/min (from memory). */
 export const CPAP_NIV_BLEED_IN_FLOW_RANGE_L_PER_MIN = { min: 1, max: 15 } as const;
@@ -14,6 +15,14 @@ export const CPAP_NIV_BLEED_IN_FLOW_RANGE_L_PER_MIN = { min: 1, max: 15 } as con
  * (from memory).
  */
 export const NIV_INTENTIONAL_LEAK_L_PER_MIN = { low: 0, central: 30, high: 60 } as const;
+
+/** No published figure bounds oxygen bled into CPAP or NIV: the envelope is the whole scale. */
+export const CPAP_NIV_BLEED_IN_ENVELOPE: Fio2Envelope = {
+  low: ROOM_AIR_O2_FRACTION,
+  high: 1,
+  basis: 'no published figure for oxygen bled into CPAP or NIV; the mixing model range only',
+  sourceKey: DEVICE_FIO2_TABLES_KEY,
+};
 
 const SPEC: InputSpec = {
   deviceWords: 'CPAP or NIV',
@@ -33,10 +42,13 @@ function bleedInEstimate(flow: number, respRatePerMin: number | undefined): Deli
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.highDemand) + leak.high),
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.lowDemand) + leak.low),
   );
-  return variablePerformanceEstimate(
-    fio2,
-    demand.peakFlowLPerMin,
-    [
+  return variablePerformanceEstimate({
+    raw: fio2,
+    envelope: CPAP_NIV_BLEED_IN_ENVELOPE,
+    model: 'low-flow-mixing',
+    respRatePerMin,
+    peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
+    notes: [
       VENTILATOR_NOTE,
       ESTIMATE_ONLY_NOTE,
       `Oxygen bled in at ${formatNumber(flow)} L/min is diluted by the device's own flow, including mask ` +
@@ -44,8 +56,8 @@ function bleedInEstimate(flow: number, respRatePerMin: number | undefined): Deli
       ...demandNotes(demand),
       ...flowRangeNotes(flow, CPAP_NIV_BLEED_IN_FLOW_RANGE_L_PER_MIN, 'oxygen bled into CPAP or NIV', 'from memory'),
     ],
-    ['device-mixing', 'bts-ics-2016'],
-  );
+    sourceKeys: ['bts-ics-2016'],
+  });
 }
 
 /**
@@ -64,18 +76,29 @@ export function estimateCpapNiv(input: DeliveryInput): Outcome<DeliveryEstimate>
     if (flowLPerMin !== undefined) {
       notes.push('The O2 flow was not used: the set FiO2 describes what the device delivers.');
     }
+    const set = fio2Range(setFio2Fraction, setFio2Fraction, setFio2Fraction);
     return {
       kind: 'ok',
-      value: {
-        fio2: fio2Range(setFio2Fraction, setFio2Fraction, setFio2Fraction),
+      value: buildDeliveryEstimate({
+        raw: set,
+        envelope: {
+          low: set.estimate,
+          high: set.estimate,
+          basis: 'the FiO2 set on the device',
+          sourceKey: 'bts-ics-2016',
+        },
+        model: 'ventilator-set-fio2',
+        fio2Source: 'set',
+        setFio2Fraction,
+        respRatePerMin,
         fixedPerformance: true,
         totalFlowLPerMin: undefined,
         peakInspiratoryFlowLPerMin: undefined,
         entrainmentRatio: undefined,
         minimumFlowLPerMin: undefined,
         notes,
-        sourceKeys: ['bts-ics-2016'],
-      },
+        sourceKeys: [],
+      }),
     };
   }
   if (flowLPerMin === undefined) {

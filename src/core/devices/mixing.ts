@@ -1,5 +1,5 @@
 import { INSPIRATORY_FLOW_RAMP_FRACTION } from './inspiratory-demand.js';
-import type { DeliveryEstimate, Fio2Range } from './types.js';
+import type { Fio2Range } from './types.js';
 
 /**
  * Mass-balance models of how a device's gas mixes with room air in the patient's breath. Flows are
@@ -97,25 +97,3 @@ export function fio2Range(estimate: number, low: number, high: number): Fio2Rang
 export const ESTIMATE_ONLY_NOTE =
   'Estimate only, from a mixing model of device flow against breathing: measured FiO2 varies widely ' +
   'and falls with fast breathing, so flag it if used in P/F or A-a calculations.';
-
-/**
- * The estimate of a variable-performance device: no fixed FiO2, no total or minimum flow of its own,
- * and an FiO2 that follows the patient's breathing (shown with the peak inspiratory flow used).
- */
-export function variablePerformanceEstimate(
-  fio2: Fio2Range,
-  peakInspiratoryFlowLPerMin: number,
-  notes: readonly string[],
-  sourceKeys: readonly string[],
-): DeliveryEstimate {
-  return {
-    fio2,
-    fixedPerformance: false,
-    totalFlowLPerMin: undefined,
-    peakInspiratoryFlowLPerMin,
-    entrainmentRatio: undefined,
-    minimumFlowLPerMin: undefined,
-    notes,
-    sourceKeys,
-  };
-}

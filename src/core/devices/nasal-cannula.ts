@@ -8,8 +8,10 @@ import {
   inspiratoryTimeS,
 } from './inspiratory-demand.js';
 import type { BreathingPattern } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, anatomicReservoirFio2, fio2Range, variablePerformanceEstimate } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { envelopeAtFlow, variablePerformanceEstimate } from './delivery-estimate.js';
+import type { FlowEnvelopeSpec } from './delivery-estimate.js';
+import { ESTIMATE_ONLY_NOTE, anatomicReservoirFio2, fio2Range } from './mixing.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 
 /** Adult nasal cannula flows, L/min (BTS 2017, Tables 2 and 4). */
 export const NASAL_CANNULA_FLOW_RANGE_L_PER_MIN = { min: 1, max: 6 } as const;
@@ -25,6 +27,38 @@ export const NASAL_CANNULA_COMFORTABLE_UP_TO_L_PER_MIN = 4;
  * reads about 0.05-0.06 above the table at 1-3 L/min and is used for the top of the range.
  */
 export const END_EXPIRATORY_PAUSE_FRACTION = 0.25;
+
+/**
+ * The "rule of 4": FiO2 ≈ 0.20 + 0.04 × L/min over 1-6 L/min with a normal breathing pattern, ± 0.05
+ * (FCCS, SCCM 2016, as cited by fpnotebook; Egan-type tables: common practice).
+ */
+export const NASAL_CANNULA_RULE_OF_4 = { atNoFlow: 0.2, perLPerMin: 0.04, tolerance: 0.05 } as const;
+
+/** Measured tracheal FiO2 rises about 2.5-3.8 % per L/min above air (check-values pitfall 9, V2). */
+export const NASAL_CANNULA_MEASURED_RISE_PER_L_PER_MIN = { low: 0.025, high: 0.038 } as const;
+
+/**
+ * The published envelope: the union of the rule of 4 ± 0.05 and the measured 2.5-3.8 % per L/min,
+ * so no source is contradicted (at 6 L/min the measured low, 0.36, is below the rule's 0.39).
+ * Therapeutic Guidelines' 0.24-0.35 over 1-4 L/min lies inside it.
+ */
+export const NASAL_CANNULA_ENVELOPE: FlowEnvelopeSpec = {
+  publishedFlowLPerMin: { min: 1, max: 6 },
+  at: (q) => {
+    const rule = NASAL_CANNULA_RULE_OF_4.atNoFlow + NASAL_CANNULA_RULE_OF_4.perLPerMin * q;
+    const rise = NASAL_CANNULA_MEASURED_RISE_PER_L_PER_MIN;
+    return {
+      low: Math.min(rule - NASAL_CANNULA_RULE_OF_4.tolerance, 0.21 + rise.low * q),
+      high: Math.max(rule + NASAL_CANNULA_RULE_OF_4.tolerance, 0.21 + rise.high * q),
+    };
+  },
+  basis: 'nasal cannula "rule of 4" ± 0.05 (FCCS) and measured 2.5-3.8 % per L/min',
+};
+
+/** The nasal cannula's published envelope at a flow. */
+export function nasalCannulaEnvelope(flowLPerMin: number): Fio2Envelope {
+  return envelopeAtFlow(flowLPerMin, NASAL_CANNULA_ENVELOPE);
+}
 
 const SPEC: InputSpec = { deviceWords: 'a nasal cannula', uses: ['flowLPerMin'], requires: ['flowLPerMin'] };
 
@@ -68,7 +102,18 @@ export function estimateNasalCannula(input: DeliveryInput): Outcome<DeliveryEsti
         'are often poorly tolerated (BTS 2017).',
     );
   }
-  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, ['device-mixing', 'bts-2017']) };
+  return {
+    kind: 'ok',
+    value: variablePerformanceEstimate({
+      raw: fio2,
+      envelope: nasalCannulaEnvelope(flow),
+      model: 'anatomic-reservoir',
+      respRatePerMin: checked.value.respRatePerMin,
+      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
+      notes,
+      sourceKeys: ['bts-2017'],
+    }),
+  };
 }
 
 export const nasalCannulaModel: DeviceModel = {

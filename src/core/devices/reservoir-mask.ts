@@ -3,8 +3,10 @@ import { checkDeliveryInput, flowRangeNotes, formatNumber, ignoredInputNotes } f
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, minuteVentilationLPerMin } from './inspiratory-demand.js';
 import type { BreathingPattern } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range, variablePerformanceEstimate } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { envelopeAtFlow, variablePerformanceEstimate } from './delivery-estimate.js';
+import type { FlowEnvelopeSpec } from './delivery-estimate.js';
+import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range } from './mixing.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 
 /** Reservoir mask flows, L/min: BTS 2008 gave 10-15; BTS 2017 Table 2 uses 15. */
 export const RESERVOIR_MASK_FLOW_RANGE_L_PER_MIN = { min: 10, max: 15 } as const;
@@ -15,6 +17,27 @@ export const RESERVOIR_MASK_FLOW_RANGE_L_PER_MIN = { min: 10, max: 15 } as const
  * reproduces the FiO2 of 0.60-0.90 quoted for these masks (check-values 2a, V2).
  */
 export const RESERVOIR_MASK_ROOM_AIR_SHARE = { low: 0.1, central: 0.3, high: 0.5 } as const;
+
+/**
+ * Reservoir mask FiO2 above 0.60, typically quoted 0.60-0.90, with the bag kept inflated
+ * (Therapeutic Guidelines, Australia; teaching pages: V2), ± 0.1, capped at 1. Not split by flow:
+ * the sources give one range for the usual 10-15 L/min.
+ */
+export const RESERVOIR_MASK_PUBLISHED_FIO2 = { low: 0.6, high: 0.9, tolerance: 0.1 } as const;
+
+export const RESERVOIR_MASK_ENVELOPE: FlowEnvelopeSpec = {
+  publishedFlowLPerMin: RESERVOIR_MASK_FLOW_RANGE_L_PER_MIN,
+  at: () => ({
+    low: RESERVOIR_MASK_PUBLISHED_FIO2.low - RESERVOIR_MASK_PUBLISHED_FIO2.tolerance,
+    high: RESERVOIR_MASK_PUBLISHED_FIO2.high + RESERVOIR_MASK_PUBLISHED_FIO2.tolerance,
+  }),
+  basis: 'reservoir mask 0.60-0.90 at 10-15 L/min ± 0.1 (Therapeutic Guidelines)',
+};
+
+/** The reservoir mask's published envelope at a flow. */
+export function reservoirMaskEnvelope(flowLPerMin: number): Fio2Envelope {
+  return envelopeAtFlow(flowLPerMin, RESERVOIR_MASK_ENVELOPE);
+}
 
 const SPEC: InputSpec = { deviceWords: 'a reservoir mask', uses: ['flowLPerMin'], requires: ['flowLPerMin'] };
 
@@ -56,7 +79,18 @@ export function estimateReservoirMask(input: DeliveryInput): Outcome<DeliveryEst
         'L/min, so the bag empties each breath and room air makes up the rest (mixing model).',
     );
   }
-  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, ['device-mixing', 'bts-2017']) };
+  return {
+    kind: 'ok',
+    value: variablePerformanceEstimate({
+      raw: fio2,
+      envelope: reservoirMaskEnvelope(flow),
+      model: 'reservoir-bag',
+      respRatePerMin: checked.value.respRatePerMin,
+      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
+      notes,
+      sourceKeys: ['bts-2017'],
+    }),
+  };
 }
 
 export const reservoirMaskModel: DeviceModel = {

@@ -2,11 +2,36 @@ import type { Outcome } from '../types.js';
 import { checkDeliveryInput, flowRangeNotes, formatNumber, ignoredInputNotes } from './check-input.js';
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, meanInspiratoryFlowLPerMin } from './inspiratory-demand.js';
-import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2, variablePerformanceEstimate } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { envelopeAtFlow, variablePerformanceEstimate } from './delivery-estimate.js';
+import type { FlowEnvelopeSpec } from './delivery-estimate.js';
+import { ESTIMATE_ONLY_NOTE, fio2Range, mixingFio2 } from './mixing.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 
 /** Simple face mask flows, L/min (BTS 2017, Table 2). */
 export const SIMPLE_FACE_MASK_FLOW_RANGE_L_PER_MIN = { min: 5, max: 10 } as const;
+
+/**
+ * Simple face mask FiO2 0.35-0.60 over 5-10 L/min (Therapeutic Guidelines, Australia; common
+ * teaching gives 0.40-0.60), ± 0.05. Read as rising linearly with flow across the range, as the
+ * usual flow-by-flow tables do (our reading: the sources give the range, not each flow).
+ */
+export const SIMPLE_FACE_MASK_PUBLISHED_FIO2 = { atMinFlow: 0.35, atMaxFlow: 0.6, tolerance: 0.05 } as const;
+
+export const SIMPLE_FACE_MASK_ENVELOPE: FlowEnvelopeSpec = {
+  publishedFlowLPerMin: SIMPLE_FACE_MASK_FLOW_RANGE_L_PER_MIN,
+  at: (q) => {
+    const { min, max } = SIMPLE_FACE_MASK_FLOW_RANGE_L_PER_MIN;
+    const f = SIMPLE_FACE_MASK_PUBLISHED_FIO2;
+    const nominal = f.atMinFlow + ((f.atMaxFlow - f.atMinFlow) * (q - min)) / (max - min);
+    return { low: nominal - f.tolerance, high: nominal + f.tolerance };
+  },
+  basis: 'simple face mask 0.35-0.60 over 5-10 L/min ± 0.05 (Therapeutic Guidelines)',
+};
+
+/** The simple face mask's published envelope at a flow. */
+export function simpleFaceMaskEnvelope(flowLPerMin: number): Fio2Envelope {
+  return envelopeAtFlow(flowLPerMin, SIMPLE_FACE_MASK_ENVELOPE);
+}
 
 const SPEC: InputSpec = {
   deviceWords: 'a simple face mask',
@@ -31,7 +56,7 @@ export function estimateSimpleFaceMask(input: DeliveryInput): Outcome<DeliveryEs
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.highDemand)),
     mixingFio2(flow, meanInspiratoryFlowLPerMin(demand.lowDemand)),
   );
-  const sourceKeys = ['device-mixing', 'bts-2017'];
+  const sourceKeys = ['bts-2017'];
   const notes = [
     ESTIMATE_ONLY_NOTE,
     ...demandNotes(demand),
@@ -45,7 +70,18 @@ export function estimateSimpleFaceMask(input: DeliveryInput): Outcome<DeliveryEs
     );
     sourceKeys.push('jensen-1991');
   }
-  return { kind: 'ok', value: variablePerformanceEstimate(fio2, demand.peakFlowLPerMin, notes, sourceKeys) };
+  return {
+    kind: 'ok',
+    value: variablePerformanceEstimate({
+      raw: fio2,
+      envelope: simpleFaceMaskEnvelope(flow),
+      model: 'low-flow-mixing',
+      respRatePerMin: checked.value.respRatePerMin,
+      peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
+      notes,
+      sourceKeys,
+    }),
+  };
 }
 
 export const simpleFaceMaskModel: DeviceModel = {

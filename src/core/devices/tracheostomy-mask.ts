@@ -3,7 +3,8 @@ import { checkDeliveryInput, flowRangeNotes, formatNumber } from './check-input.
 import type { InputSpec } from './check-input.js';
 import { demandNotes, estimateInspiratoryDemand, meanInspiratoryFlowLPerMin } from './inspiratory-demand.js';
 import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range, mixingFio2 } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { DEVICE_FIO2_TABLES_KEY, buildDeliveryEstimate } from './delivery-estimate.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 import { entrainmentRatio } from './venturi-mask.js';
 
 /** Tracheostomy mask O2 flows, L/min; humidified systems usually run at 10-15 (from memory). */
@@ -11,6 +12,17 @@ export const TRACHEOSTOMY_MASK_FLOW_RANGE_L_PER_MIN = { min: 5, max: 15 } as con
 
 /** The most a tracheostomy mask is expected to deliver: about 0.6, perhaps 0.7 (V2, from memory). */
 export const TRACHEOSTOMY_MASK_USUAL_FIO2_CEILING = 0.6;
+
+/**
+ * The tracheostomy mask's envelope: from room air up to its usual ceiling at any flow (no figure by
+ * flow is published).
+ */
+export const TRACHEOSTOMY_MASK_ENVELOPE: Fio2Envelope = {
+  low: ROOM_AIR_O2_FRACTION,
+  high: TRACHEOSTOMY_MASK_USUAL_FIO2_CEILING,
+  basis: 'tracheostomy mask up to about 0.6 (tracheostomy care guidance, quoted secondarily; from memory)',
+  sourceKey: DEVICE_FIO2_TABLES_KEY,
+};
 
 const SPEC: InputSpec = {
   deviceWords: 'a tracheostomy mask',
@@ -57,16 +69,21 @@ export function estimateTracheostomyMask(input: DeliveryInput): Outcome<Delivery
   }
   return {
     kind: 'ok',
-    value: {
-      fio2,
+    value: buildDeliveryEstimate({
+      raw: fio2,
+      envelope: TRACHEOSTOMY_MASK_ENVELOPE,
+      model: 'low-flow-mixing',
+      fio2Source: 'estimated',
+      setFio2Fraction: undefined,
+      respRatePerMin: checked.value.respRatePerMin,
       fixedPerformance: false,
       totalFlowLPerMin: entrains ? sourceFlow : undefined,
       peakInspiratoryFlowLPerMin: demand.peakFlowLPerMin,
       entrainmentRatio: entrains ? entrainmentRatio(set) : undefined,
       minimumFlowLPerMin: undefined,
       notes,
-      sourceKeys: ['device-mixing'],
-    },
+      sourceKeys: [],
+    }),
   };
 }
 

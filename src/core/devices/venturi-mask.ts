@@ -8,7 +8,8 @@ import {
   peakInspiratoryFlowLPerMin,
 } from './inspiratory-demand.js';
 import { ESTIMATE_ONLY_NOTE, ROOM_AIR_O2_FRACTION, fio2Range, openSourceFio2 } from './mixing.js';
-import type { DeliveryEstimate, DeliveryInput, DeviceModel } from './types.js';
+import { DEVICE_FIO2_TABLES_KEY, buildDeliveryEstimate } from './delivery-estimate.js';
+import type { DeliveryEstimate, DeliveryInput, DeviceModel, Fio2Envelope } from './types.js';
 
 export interface VenturiSetting {
   readonly fio2Fraction: number;
@@ -66,13 +67,35 @@ export function findVenturiSetting(fio2Fraction: number): VenturiSetting | undef
   );
 }
 
+const percent = (fraction: number): string => `${formatNumber(fraction * 100)} %`;
+
+/**
+ * The Venturi envelope: the setting less its measured shortfall to the setting plus the 1.9 %
+ * accuracy (Jones 1984). Below the setting's minimum O2 flow entrainment is not assured and nothing
+ * is published, so the envelope runs from room air to the setting plus its accuracy.
+ */
+export function venturiEnvelope(setting: VenturiSetting, o2FlowLPerMin: number): Fio2Envelope {
+  const f = setting.fio2Fraction;
+  const shortfall = f > 0.4 ? VENTURI_HIGH_SETTING_SHORTFALL_FRACTION : VENTURI_ACCURACY_FRACTION;
+  const below = o2FlowLPerMin < setting.minimumFlowLPerMin;
+  return {
+    low: below ? ROOM_AIR_O2_FRACTION : f - shortfall,
+    high: Math.min(1, f + VENTURI_ACCURACY_FRACTION),
+    basis: below
+      ? `Venturi ${percent(f)} below its ${formatNumber(setting.minimumFlowLPerMin)} L/min minimum: from room air up to the setting + 1.9 % (Jones 1984)`
+      : f > 0.4
+        ? `Venturi ${percent(f)}: the 60 % setting measured 50.3 %, and the others within 1.9 % of the setting (Jones 1984)`
+        : `Venturi ${percent(f)} within 1.9 % of the setting (Jones 1984)`,
+    sourceKey: DEVICE_FIO2_TABLES_KEY,
+  };
+}
+
 const SPEC: InputSpec = {
   deviceWords: 'a Venturi mask',
   uses: ['flowLPerMin', 'setFio2Fraction'],
   requires: ['setFio2Fraction', 'flowLPerMin'],
 };
 
-const percent = (fraction: number): string => `${formatNumber(fraction * 100)} %`;
 
 /**
  * Venturi (air-entrainment) mask. Fixed performance only while the O2 flow is at least the setting's
@@ -106,6 +129,7 @@ export function estimateVenturiMask(input: DeliveryInput): Outcome<DeliveryEstim
   const belowMinimum = flow < setting.minimumFlowLPerMin;
   const fixedPerformance = !belowMinimum && total >= peak;
   const shortfall = f > 0.4 ? VENTURI_HIGH_SETTING_SHORTFALL_FRACTION : VENTURI_ACCURACY_FRACTION;
+  // The raw model range; the envelope then keeps it within the setting's measured accuracy.
   const fio2 = fio2Range(
     openSourceFio2(f, total, peak),
     Math.min(f - shortfall, openSourceFio2(f, total, peakInspiratoryFlowLPerMin(demand.highDemand))),
@@ -155,16 +179,22 @@ export function estimateVenturiMask(input: DeliveryInput): Outcome<DeliveryEstim
   }
   return {
     kind: 'ok',
-    value: {
-      fio2,
+    value: buildDeliveryEstimate({
+      raw: fio2,
+      envelope: venturiEnvelope(setting, flow),
+      model: 'air-entrainment',
+      // At or above its minimum flow a Venturi mask delivers its setting; below it, only an estimate.
+      fio2Source: belowMinimum ? 'estimated' : 'set',
+      setFio2Fraction: f,
+      respRatePerMin: checked.value.respRatePerMin,
       fixedPerformance,
       totalFlowLPerMin: total,
       peakInspiratoryFlowLPerMin: peak,
       entrainmentRatio: ratio,
       minimumFlowLPerMin: setting.minimumFlowLPerMin,
       notes,
-      sourceKeys: ['device-mixing', 'bts-2017', 'jones-1984'],
-    },
+      sourceKeys: ['bts-2017', 'jones-1984'],
+    }),
   };
 }
 

@@ -25,7 +25,8 @@ export type HypoxaemiaMechanismKind =
   | 'vq-mismatch-shunt-or-diffusion'
   | 'shunt-likely'
   | 'hypoventilation-plus-gradient'
-  | 'none';
+  | 'none'
+  | 'not-determined';
 
 export interface HypoxaemiaMechanism {
   readonly kind: HypoxaemiaMechanismKind;
@@ -116,11 +117,12 @@ export function hypoxaemiaMechanism(
   const inspired = input.inspiredPo2MmHg;
   const lowInspired = inspired < LOW_INSPIRED_PO2_BELOW_MMHG;
 
+  const [gradientShown, allowanceShown] = comparedPair(gradient, allowance);
   const gradientWords = onAir
-    ? `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg expected for age on air`
-    : `A-a gradient ${fmt(gradient)} mmHg against ${fmt(allowance)} mmHg allowed on FiO2 ` +
+    ? `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg expected for age on air`
+    : `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg allowed on FiO2 ` +
       `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
-  const paco2Words = `PaCO2 ${fmt(paco2)} mmHg`;
+  const paco2Words = `PaCO2 ${whole(paco2)} mmHg`;
   const alsoInspired = lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
   const gasExchange = 'V/Q mismatch, shunt or diffusion limitation';
 
@@ -165,8 +167,59 @@ function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
   }
   return (
     `FiO2 rose from ${previous.fio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
-    `but PaO2 changed by ${fmt(arterialRise)} mmHg, under 20 % of the ${fmt(alveolarRise)} mmHg ` +
+    `but PaO2 changed by ${whole(arterialRise)} mmHg, under 20 % of the ${whole(alveolarRise)} mmHg ` +
     'rise in alveolar PO2: a shunt is likely (a heuristic, common practice).'
+  );
+}
+
+const KIND_WORDS: Readonly<Record<HypoxaemiaMechanismKind, string>> = {
+  'low-inspired-po2': 'low inspired PO2',
+  hypoventilation: 'hypoventilation',
+  'vq-mismatch-shunt-or-diffusion': 'V/Q mismatch, shunt or diffusion limitation',
+  'shunt-likely': 'likely shunt',
+  'hypoventilation-plus-gradient': 'hypoventilation plus V/Q mismatch, shunt or diffusion limitation',
+  none: 'no mechanism of hypoxaemia',
+  'not-determined': 'no mechanism stated',
+};
+
+/**
+ * The mechanism when the FiO2 is only known as a range (a variable-performance device): the hint
+ * worked out at both ends of the range and at the estimate. Stated only when all three agree; when
+ * they differ the margin is smaller than the FiO2's uncertainty, and the answer is 'not-determined'
+ * with both readings named, never one of them as fact.
+ */
+export function mechanismAcrossFio2Range(input: {
+  readonly atLow: Outcome<HypoxaemiaMechanism>;
+  readonly atEstimate: Outcome<HypoxaemiaMechanism>;
+  readonly atHigh: Outcome<HypoxaemiaMechanism>;
+  readonly fio2Low: number;
+  readonly fio2High: number;
+}): Outcome<HypoxaemiaMechanism> {
+  const { atLow, atEstimate, atHigh } = input;
+  if (atEstimate.kind === 'unknown') {
+    return atEstimate;
+  }
+  const range = `${input.fio2Low.toFixed(2)}–${input.fio2High.toFixed(2)}`;
+  if (atLow.kind === 'unknown' || atHigh.kind === 'unknown') {
+    const reason = atLow.kind === 'unknown' ? atLow.reason : atHigh.kind === 'unknown' ? atHigh.reason : '';
+    return ok(
+      'not-determined',
+      `The FiO2 is only known as ${range}, and at one end of that range the gas cannot be read (${reason}): ` +
+        'no mechanism is stated.',
+    );
+  }
+  if (atLow.value.kind === atEstimate.value.kind && atHigh.value.kind === atEstimate.value.kind) {
+    return ok(
+      atEstimate.value.kind,
+      `${atEstimate.value.explanation} This reading holds across the FiO2 range ${range}.`,
+    );
+  }
+  return ok(
+    'not-determined',
+    `The FiO2 is only known as ${range}: at ${input.fio2Low.toFixed(2)} the gas reads as ` +
+      `${KIND_WORDS[atLow.value.kind]}, at ${input.fio2High.toFixed(2)} as ${KIND_WORDS[atHigh.value.kind]}. ` +
+      'The margin is smaller than the FiO2 uncertainty, so no mechanism is stated; a gas taken on a known ' +
+      'FiO2 (recorded, or a fixed-performance device) would settle it.',
   );
 }
 
@@ -174,6 +227,22 @@ function ok(kind: HypoxaemiaMechanismKind, explanation: string): Outcome<Hypoxae
   return { kind: 'ok', value: { kind, explanation } };
 }
 
+/** Whole mmHg, as pressures are read at the bedside. */
+function whole(value: number): string {
+  return String(Math.round(value));
+}
+
+/**
+ * The gradient and the figure it is compared with, in whole mmHg unless rounding would make them
+ * equal or swap their order; then one decimal, so the words never contradict the comparison.
+ */
+function comparedPair(gradient: number, allowance: number): readonly [string, string] {
+  const g = Math.round(gradient);
+  const a = Math.round(allowance);
+  return g === a || g > a !== gradient > allowance ? [fmt(gradient), fmt(allowance)] : [String(g), String(a)];
+}
+
+/** One decimal, for figures compared with a threshold that has one (inspired PO2 134.8 mmHg). */
 function fmt(value: number): string {
   return String(Number(value.toFixed(1)));
 }

@@ -62,7 +62,7 @@ export const rule: Rule = {
       return [];
     }
     const threshold = policy.thresholds.highOxygenFio2AtLeast;
-    const highFio2 = delivery.kind === 'ok' && delivery.value.fio2.estimate >= threshold;
+    const highFio2 = delivery.kind === 'ok' && delivery.value.thresholdFio2.fraction >= threshold;
     const highDevice = order.device !== undefined && HIGH_REQUIREMENT_DEVICES.includes(order.device);
     const rox = roxFailure(assessment);
     if (!highFio2 && !highDevice && rox === undefined) {

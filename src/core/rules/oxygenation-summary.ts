@@ -1,6 +1,23 @@
-import { formatFio2Range, formatFraction, formatGasValue, formatMmHg, formatNumber } from '../assessment/format.js';
-import type { Assessment, BerlinClass, Calculated, Fio2InForce, RiceClass, RoxInterpretation } from '../assessment/types.js';
-import { describeFio2Basis } from '../assessment/gas-physiology.js';
+import {
+  formatFio2Range,
+  formatFraction,
+  formatGasValue,
+  formatMmHg,
+  formatNumber,
+  formatRatio,
+  joinWords,
+} from '../assessment/format.js';
+import { RICE_CUTOFFS } from '../assessment/bedside-physiology.js';
+import { BERLIN_CUTOFFS_MMHG, fio2IsUncertain } from '../assessment/gas-physiology.js';
+import type {
+  Assessment,
+  BerlinClass,
+  Calculated,
+  Fio2InForce,
+  OxygenationRatio,
+  RiceClass,
+  RoxInterpretation,
+} from '../assessment/types.js';
 import { RICE_SF_CUTOFFS, ROX_HIGH_RISK_BELOW, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
 import type { Computation, Finding, Outcome } from '../types.js';
 import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
@@ -22,12 +39,11 @@ const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
   'below-235': `at or below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F 200 or less)`,
 };
 
-const BERLIN_CUTOFFS_MMHG = [100, 200, 300] as const;
 const ROX_CUTOFFS = [ROX_LOW_RISK_AT_LEAST, ...Object.values(ROX_HIGH_RISK_BELOW)] as const;
 
 /**
  * A number rounded for display, with more decimals when rounding would put it on or across a
- * cut-off the card compares it with: S/F 314.9 is "314.9, at or below 315", never "315, below 315".
+ * cut-off the card compares it with: ROX 4.875 is "4.875", never "4.88, at or above 4.88".
  */
 export function formatBesideCutoffs(value: number, decimals: number, cutoffs: readonly number[]): string {
   const misleading = (places: number): boolean => {
@@ -39,6 +55,44 @@ export function formatBesideCutoffs(value: number, decimals: number, cutoffs: re
     places += 1;
   }
   return formatNumber(value, places);
+}
+
+/**
+ * The band words for a ratio: the band when the whole range lies in one, otherwise "around" the
+ * cut-off it spans, with no band stated (P/F 195–215 is around 200, not moderate).
+ */
+function bandWords<C extends string>(
+  ratio: OxygenationRatio,
+  band: C | undefined,
+  words: Readonly<Record<C, string>>,
+  scale: string,
+): string {
+  if (band !== undefined) {
+    return words[band];
+  }
+  const cutoffs = ratio.spannedCutoffs.map((c) => String(c));
+  return ratio.spannedCutoffs.length === 1
+    ? `around ${cutoffs.join('')}: the range spans the ${scale} ${cutoffs.join('')} cut-off, so no band is stated`
+    : `the range spans the ${scale} ${joinWords(cutoffs)} cut-offs, so no band is stated`;
+}
+
+/** The FiO2 a ratio used, in a clinician's words: value, range and where it came from. */
+export function describeFio2Used(fio2: Fio2InForce): string {
+  if (fio2.onAir) {
+    return 'FiO2 0.21 (room air), as recorded';
+  }
+  switch (fio2.source) {
+    case 'recorded':
+      return `FiO2 ${formatFraction(fio2.estimate)}, as recorded`;
+    case 'set':
+      return fio2IsUncertain(fio2)
+        ? `the set FiO2 ${formatFraction(fio2.estimate)} (${formatFraction(fio2.low)}–${formatFraction(fio2.high)} by the device's measured accuracy)`
+        : `the set FiO2 ${formatFraction(fio2.estimate)}`;
+    case 'estimated':
+      return `an estimated FiO2 of about ${formatFio2Range(fio2)}, ${
+        fio2.basis === 'recorded-flow' ? 'from the recorded O2 flow' : "from the order's device and flow"
+      }`;
+  }
 }
 
 const ROX_WORDS: Readonly<Record<RoxInterpretation, string>> = {
@@ -55,14 +109,28 @@ const MODEL_WORDS: Readonly<Record<Assessment['barometricPressure']['model'], st
 };
 
 /**
- * " (on air)" or " (at FiO2 0.80)" when a ratio was worked out at an FiO2 other than the order's
- * estimate that the summary line leads with, so the line never reads as one FiO2 for all.
+ * " on air" or " at FiO2 about 0.29" when a ratio was worked out at an FiO2 other than the order's
+ * figure the summary line leads with, so the line never reads as one FiO2 for all.
  */
-function atFio2(fio2: Outcome<Fio2InForce>, shownEstimate: number | undefined): string {
-  if (fio2.kind !== 'ok' || (shownEstimate !== undefined && fio2.value.estimate.toFixed(2) === shownEstimate.toFixed(2))) {
+function atFio2(fio2: Fio2InForce, shownEstimate: number | undefined): string {
+  if (shownEstimate !== undefined && formatFraction(fio2.estimate) === formatFraction(shownEstimate)) {
     return '';
   }
-  return fio2.value.onAir ? ' (on air)' : ` (at FiO2 ${formatFraction(fio2.value.estimate)})`;
+  if (fio2.onAir) {
+    return ' on air';
+  }
+  return fio2.source === 'estimated'
+    ? ` at FiO2 about ${formatFraction(fio2.estimate)}`
+    : ` at FiO2 ${formatFraction(fio2.estimate)}`;
+}
+
+/** A pressure with its range when the FiO2 is a range: "about 81 (45–117) mmHg". */
+function pressureWithRange(calculated: Calculated<number>): string {
+  const range = calculated.range;
+  if (range === undefined || Math.round(range.low) === Math.round(range.high)) {
+    return formatMmHg(calculated.value);
+  }
+  return `about ${formatNumber(calculated.value, 0)} (${formatNumber(range.low, 0)}–${formatNumber(range.high, 0)}) mmHg`;
 }
 
 /** The two or three numbers a respiratory therapist looks for first, for the card summary. */
@@ -70,17 +138,22 @@ function keyFigures(assessment: Assessment): string {
   const { delivery, physiology: p } = assessment;
   const parts: string[] = [];
   const shown = delivery.kind === 'ok' ? delivery.value.fio2.estimate : undefined;
-  if (shown !== undefined) {
-    parts.push(`FiO2 about ${shown.toFixed(2)}`);
+  if (delivery.kind === 'ok') {
+    parts.push(
+      delivery.value.fio2Source === 'set'
+        ? `FiO2 ${formatFraction(delivery.value.fio2.estimate)} set`
+        : `FiO2 about ${formatFraction(delivery.value.fio2.estimate)}`,
+    );
   }
   if (p.pfRatio.kind === 'ok') {
-    parts.push(`P/F ${formatBesideCutoffs(p.pfRatio.value.value.ratio, 0, BERLIN_CUTOFFS_MMHG)}${atFio2(p.fio2AtGas, shown)}`);
+    const pf = p.pfRatio.value.value;
+    parts.push(`P/F ${formatRatio(pf, BERLIN_CUTOFFS_MMHG)}${atFio2(pf.fio2, shown)}`);
   } else if (p.sfRatio.kind === 'ok') {
-    const sf = formatBesideCutoffs(p.sfRatio.value.value.ratio, 0, Object.values(RICE_SF_CUTOFFS));
-    parts.push(`S/F ${sf}${atFio2(p.fio2AtSpo2, shown)}`);
+    const sf = p.sfRatio.value.value;
+    parts.push(`S/F ${formatRatio(sf, RICE_CUTOFFS)}${atFio2(sf.fio2, shown)}`);
   }
   if (p.aaGradient.kind === 'ok') {
-    parts.push(`A-a ${formatMmHg(p.aaGradient.value.value)}`);
+    parts.push(`A-a ${pressureWithRange(p.aaGradient.value)}`);
   }
   if (p.rox.kind === 'ok') {
     parts.push(`ROX ${formatBesideCutoffs(p.rox.value.value.index, 2, ROX_CUTOFFS)}`);
@@ -108,10 +181,10 @@ function computationOf<T>(outcome: Outcome<Calculated<T>>): readonly Computation
 export const rule: Rule = {
   id: 'oxygenation-summary',
   title: 'Oxygenation summary',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
-  evaluate: ({ assessment, now }): readonly Finding[] => {
+  evaluate: ({ assessment, policy, now }): readonly Finding[] => {
     const { order, physiology: p, delivery, current, barometricPressure: pb } = assessment;
     const anything =
       delivery.kind === 'ok' ||
@@ -120,9 +193,16 @@ export const rule: Rule = {
       return [];
     }
     const gas = current.arterialGas ?? current.gas;
+    // One line for the gas and the FiO2 it was taken on, so "no gas" never sits beside an FiO2 for it.
+    const fio2AtGas =
+      p.fio2AtGas.kind === 'ok'
+        ? `${describeFio2Used(p.fio2AtGas.value)}${
+            p.fio2AtGas.value.basis === 'order-estimate' ? ', assuming the order was in use when it was taken' : ''
+          }`
+        : `an FiO2 not known (${p.fio2AtGas.reason})`;
     const gasUsed =
       gas === undefined
-        ? 'no current blood gas'
+        ? `none within the last ${formatNumber(policy.freshness.bloodGasMinutes / 60, 1)} h`
         : [
             `${gas.specimen} ${describeAge(gas.at, now)}`,
             ...(['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((c) => {
@@ -130,11 +210,7 @@ export const rule: Rule = {
               const label = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[c];
               return shown === undefined ? [] : [`${label} ${shown}`];
             }),
-          ].join(', ');
-    const fio2AtGas =
-      p.fio2AtGas.kind === 'ok'
-        ? `${formatFio2Range(p.fio2AtGas.value)} (${describeFio2Basis(p.fio2AtGas.value)})`
-        : `not known (${p.fio2AtGas.reason})`;
+          ].join(', ') + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
     const expected =
       p.expectedAaGradient.kind === 'ok'
         ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
@@ -154,18 +230,31 @@ export const rule: Rule = {
         orderReference: order?.reference,
         values: {
           orderDescription: order === undefined ? 'no oxygen order' : describeOrder(order),
-          deliveredFio2: describeDelivery(assessment),
+          deliveredFio2:
+            delivery.kind === 'ok'
+              ? `${describeDelivery(assessment)}; ${delivery.value.fio2Source === 'set' ? 'from the' : 'estimated by the'} ${delivery.value.model.name}`
+              : describeDelivery(assessment),
           deviceNotes: delivery.kind === 'ok' && delivery.value.notes.length > 0 ? delivery.value.notes.join(' ') : 'none',
           barometricPressure: `${formatMmHg(pb.mmHg)} (${MODEL_WORDS[pb.model]})`,
           gasUsed,
-          fio2AtGas,
-          alveolarPo2: show(p.alveolarPo2, (v) => formatMmHg(v)),
-          aaGradient: show(p.aaGradient, (v) => {
-            const norm = p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [];
-            return `${formatBesideCutoffs(v, 0, norm)} mmHg; ${expected}`;
-          }),
-          pfRatio: show(p.pfRatio, (v) => `${formatBesideCutoffs(v.ratio, 0, BERLIN_CUTOFFS_MMHG)} mmHg, ${BERLIN_WORDS[v.berlin]}`),
-          sfRatio: show(p.sfRatio, (v) => `${formatBesideCutoffs(v.ratio, 0, Object.values(RICE_SF_CUTOFFS))}, ${RICE_WORDS[v.rice]}`),
+          alveolarPo2: p.alveolarPo2.kind === 'ok' ? pressureWithRange(p.alveolarPo2.value) : `not available (${p.alveolarPo2.reason})`,
+          aaGradient:
+            p.aaGradient.kind === 'ok'
+              ? p.aaGradient.value.range === undefined
+                ? `${formatBesideCutoffs(p.aaGradient.value.value, 0, p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [])} mmHg; ${expected}`
+                : `${pressureWithRange(p.aaGradient.value)} over the FiO2 range; ${expected}`
+              : `not available (${p.aaGradient.reason})`,
+          pfRatio: show(
+            p.pfRatio,
+            (v) =>
+              `${formatRatio(v, BERLIN_CUTOFFS_MMHG)} mmHg at ${describeFio2Used(v.fio2)}; ` +
+              bandWords(v, v.berlin, BERLIN_WORDS, 'Berlin'),
+          ),
+          sfRatio: show(
+            p.sfRatio,
+            (v) =>
+              `${formatRatio(v, RICE_CUTOFFS)} at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.rice, RICE_WORDS, 'Rice'),
+          ),
           rox: show(p.rox, (v) => {
             const after =
               v.hoursOnHighFlow === undefined

@@ -122,6 +122,11 @@ export const assessment: Assessment = {
     kind: 'ok',
     value: {
       fio2: { estimate: 0.32, low: 0.28, high: 0.36 },
+      thresholdFio2: { fraction: 0.28, point: 'low-end' },
+      fio2Source: 'estimated',
+      model: { kind: 'anatomic-reservoir', name: 'nasal cannula anatomic-reservoir model', sourceKey: 'device-mixing' },
+      envelope: { low: 0.27, high: 0.37, basis: 'nasal cannula "rule of 4" ± 0.05', sourceKey: 'device-mixing' },
+      respRatePerMin: 20,
       fixedPerformance: false,
       totalFlowLPerMin: undefined,
       peakInspiratoryFlowLPerMin: 30,

@@ -13,14 +13,21 @@ import { BTS, NOW, activeOrder, bloodGas, haemoglobin, minutesAgo, o2Flow, oxyge
 
 const recorded = (fraction: number): Outcome<Fio2InForce> => ({
   kind: 'ok',
-  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: false },
+  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: false, source: 'recorded', delivery: undefined },
 });
 
 describe('computeSfRatio', () => {
   it('divides SpO2 by FiO2 and applies the published Rice cut-offs', () => {
     // Rice 2007: S/F 235 ~ P/F 200 and 315 ~ P/F 300 (published cut-offs, V)
     const result = computeSfRatio(spo2(92), recorded(0.4));
-    expect(result.kind === 'ok' && result.value.value).toStrictEqual({ ratio: 230, rice: 'below-235' });
+    expect(result.kind === 'ok' && result.value.value).toMatchObject({
+      ratio: 230,
+      low: 230,
+      high: 230,
+      spannedCutoffs: [],
+      rice: 'below-235',
+      fio2: { estimate: 0.4, source: 'recorded' },
+    });
     const mild = computeSfRatio(spo2(94), recorded(0.31)); // 303: below 315
     expect(mild.kind === 'ok' && mild.value.value.rice).toBe('below-315');
   });
@@ -41,7 +48,16 @@ const onHighFlowFor = (hours: number | undefined, orderedSetFio2?: number): High
 });
 const estimated = (fraction: number): Outcome<Fio2InForce> => ({
   kind: 'ok',
-  value: { estimate: fraction, low: fraction - 0.1, high: fraction, basis: 'order-estimate', at: undefined, onAir: false },
+  value: {
+    estimate: fraction,
+    low: fraction - 0.1,
+    high: fraction,
+    basis: 'order-estimate',
+    source: 'estimated',
+    delivery: undefined,
+    at: undefined,
+    onAir: false,
+  },
 });
 
 describe('computeRox', () => {

@@ -17,7 +17,16 @@ describe('fio2InForceAt', () => {
     const result = at(facts, minutesAgo(90));
     expect(result).toStrictEqual({
       kind: 'ok',
-      value: { estimate: 0.35, low: 0.35, high: 0.35, basis: 'recorded-fio2', at: minutesAgo(100), onAir: false },
+      value: {
+        estimate: 0.35,
+        low: 0.35,
+        high: 0.35,
+        basis: 'recorded-fio2',
+        at: minutesAgo(100),
+        onAir: false,
+        source: 'recorded',
+        delivery: undefined,
+      },
     });
   });
 

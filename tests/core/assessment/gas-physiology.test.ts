@@ -6,7 +6,7 @@ import { BTS, bloodGas } from '../facts-builder.js';
 
 const recorded = (fraction: number): Outcome<Fio2InForce> => ({
   kind: 'ok',
-  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: fraction <= 0.21 },
+  value: { estimate: fraction, low: fraction, high: fraction, basis: 'recorded-fio2', at: undefined, onAir: fraction <= 0.21, source: 'recorded', delivery: undefined },
 });
 
 function compute(parts: { fio2: number; paco2MmHg: number; pao2MmHg: number; age?: number; pb?: number }) {

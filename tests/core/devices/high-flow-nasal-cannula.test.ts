@@ -4,7 +4,7 @@ import {
   highFlowNasalCannulaModel,
 } from '../../../src/core/devices/high-flow-nasal-cannula.js';
 import { openSourceFio2 } from '../../../src/core/devices/mixing.js';
-import { expectWithin, okValue } from './expect-helpers.js';
+import { okValue } from './expect-helpers.js';
 
 const hfnc = (flowLPerMin: number, setFio2Fraction: number, respRatePerMin: number) =>
   okValue(estimateHighFlowNasalCannula({ flowLPerMin, setFio2Fraction, respRatePerMin }));
@@ -32,14 +32,21 @@ describe('high-flow nasal cannula', () => {
     expect(0.62 - low).toBeLessThan(0.05);
   });
 
-  it('falls below the set FiO2 when the flow is below peak demand', () => {
-    // mixing model (derived): open source of 40 L/min at 0.6 against a 60 L/min peak (4/3 × 45) at RR 30
+  it('keeps the set FiO2 as its figure when the flow is below peak demand, and says what may be lost', () => {
+    // Annual Update ICEM 2017 (V): adult HFNC delivers the blender FiO2 0.21-1.0; Roca 2019 read ROX at the
+    // set FiO2. Mixing model (derived): 40 L/min at 0.6 against a 60 L/min peak (4/3 × 45) at RR 30.
     const value = hfnc(40, 0.6, 30);
     expect(value.fixedPerformance).toBe(false);
-    expectWithin(value.fio2.estimate, openSourceFio2(0.6, 40, 60), 1e-9);
-    expect(value.fio2.low).toBeLessThan(value.fio2.estimate);
-    expect(value.fio2.high).toBe(0.6);
+    expect(value.fio2).toStrictEqual({ estimate: 0.6, low: 0.6, high: 0.6 });
+    expect(value.thresholdFio2).toStrictEqual({ fraction: 0.6, point: 'set' });
+    expect(value.fio2Source).toBe('set');
+    expect(value.model.kind).toBe('high-flow-set-fio2');
+    expect(value.sourceKeys[0]).toBe('hfnc-2017');
     expect(value.notes.join(' ')).toContain('below the estimated peak inspiratory flow of 60 L/min');
+    const lowest = Number(/as low as (\d+(?:\.\d)?) %/.exec(value.notes.join(' '))?.[1]);
+    // the larger, faster breath draws in more air than the central one
+    expect(lowest).toBeLessThanOrEqual(Math.round(openSourceFio2(0.6, 40, 60) * 1000) / 10);
+    expect(lowest).toBeGreaterThan(21);
   });
 
   describe('edge cases', () => {

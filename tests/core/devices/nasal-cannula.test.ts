@@ -3,6 +3,7 @@ import {
   END_EXPIRATORY_PAUSE_FRACTION,
   NASAL_CANNULA_COMFORTABLE_UP_TO_L_PER_MIN,
   estimateNasalCannula,
+  nasalCannulaEnvelope,
   nasalCannulaModel,
 } from '../../../src/core/devices/nasal-cannula.js';
 import { expectWithin, okValue } from './expect-helpers.js';
@@ -35,6 +36,24 @@ describe('nasal cannula', () => {
     expect(estimate).toBeLessThanOrEqual(0.35 + 0.03);
   });
 
+  it.each([
+    // FCCS (SCCM 2016) rule of 4 ± 0.05 (C / V2), widened to the measured 2.5 % per L/min at the low end
+    // (check-values pitfall 9, V2): the envelope is their union
+    { flow: 1, low: 0.21, high: 0.29 },
+    { flow: 2, low: 0.23, high: 0.33 },
+    { flow: 3, low: 0.27, high: 0.37 },
+    { flow: 4, low: 0.31, high: 0.41 },
+    { flow: 5, low: 0.335, high: 0.45 },
+    { flow: 6, low: 0.36, high: 0.49 },
+  ])('keeps $flow L/min within its published envelope $low-$high', ({ flow, low, high }) => {
+    const envelope = nasalCannulaEnvelope(flow);
+    expectWithin(envelope.low, low, 1e-9);
+    expectWithin(envelope.high, high, 1e-9);
+    const { fio2 } = okValue(estimateNasalCannula({ flowLPerMin: flow, respRatePerMin: 12 }));
+    expect(fio2.low).toBeGreaterThanOrEqual(low - 1e-9);
+    expect(fio2.high).toBeLessThanOrEqual(high + 1e-9);
+  });
+
   it('reproduces the textbook anatomic-reservoir example at 6 L/min', () => {
     // Shapiro et al., Clinical Application of Blood Gases: VT 500, RR 20, Ti 1 s, 6 L/min → 0.447 with 0.21 air
     // (V2, from memory), ± 0.01
@@ -48,21 +67,23 @@ describe('nasal cannula', () => {
     expect(high).toBeGreaterThanOrEqual(0.21 + 0.038 * flow);
   });
 
-  it('falls, range and all, with tachypnoea', () => {
-    // check-values pitfall 9: the estimate falls with tachypnoea
+  it('falls with tachypnoea, never below the published envelope', () => {
+    // check-values pitfall 9: the estimate falls with tachypnoea; rule of 4 at 4 L/min 0.36 ± 0.05 (FCCS, C / V2)
     const rest = atRest(4).fio2;
     const fast = okValue(estimateNasalCannula({ flowLPerMin: 4, respRatePerMin: 35 })).fio2;
     expect(fast.estimate).toBeLessThan(rest.estimate);
-    expect(fast.low).toBeLessThan(rest.low);
-    expect(fast.high).toBeLessThan(rest.high);
+    expect(fast.low).toBeLessThanOrEqual(rest.low);
+    expect(fast.high).toBeLessThanOrEqual(rest.high);
+    expect(fast.low).toBeGreaterThanOrEqual(0.36 - 0.05 - 1e-9);
   });
 
   it('widens the range when the respiratory rate is not known', () => {
     const known = atRest(3).fio2;
     const unknown = okValue(estimateNasalCannula({ flowLPerMin: 3 })).fio2;
     expect(unknown.estimate).toBe(known.estimate);
-    expect(unknown.low).toBeLessThan(known.low);
-    expect(unknown.high).toBeGreaterThan(known.high);
+    expect(unknown.low).toBeLessThanOrEqual(known.low);
+    expect(unknown.high).toBeGreaterThanOrEqual(known.high);
+    expect(unknown.high - unknown.low).toBeGreaterThan(known.high - known.low);
   });
 
   it('flags the estimate for P/F and A-a use and names its basis', () => {
@@ -70,7 +91,9 @@ describe('nasal cannula', () => {
     const value = atRest(2);
     expect(value.fixedPerformance).toBe(false);
     expect(value.notes[0]).toContain('P/F');
-    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017']);
+    expect(value.sourceKeys).toStrictEqual(['anatomic-reservoir', 'bts-2017', 'device-fio2-tables']);
+    expect(value.model.kind).toBe('anatomic-reservoir');
+    expect(value.fio2Source).toBe('estimated');
   });
 
   it('notes that flows above 4 L/min are often poorly tolerated', () => {

@@ -46,7 +46,8 @@ describe('reservoir mask', () => {
     const value = mask(15, 20);
     expect(value.notes[0]).toContain('P/F');
     expect(value.fixedPerformance).toBe(false);
-    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017']);
+    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017', 'device-fio2-tables']);
+    expect(value.model.kind).toBe('reservoir-bag');
   });
 
   describe('edge cases', () => {

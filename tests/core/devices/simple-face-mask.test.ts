@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { mixingFio2 } from '../../../src/core/devices/mixing.js';
-import { estimateSimpleFaceMask, simpleFaceMaskModel } from '../../../src/core/devices/simple-face-mask.js';
+import { estimateSimpleFaceMask, simpleFaceMaskEnvelope, simpleFaceMaskModel } from '../../../src/core/devices/simple-face-mask.js';
 import { expectWithin, okValue } from './expect-helpers.js';
 
 const atRest = (flowLPerMin: number) => okValue(estimateSimpleFaceMask({ flowLPerMin, respRatePerMin: 20 }));
@@ -23,17 +23,31 @@ describe('simple face mask', () => {
     expect(estimate).toBeLessThanOrEqual(0.6 + 0.05);
   });
 
+  it.each([
+    // Therapeutic Guidelines (Australia): 0.35-0.60 over 5-10 L/min (V2), ± 0.05, read linearly by flow
+    { flow: 5, low: 0.3, high: 0.4 },
+    { flow: 8, low: 0.45, high: 0.55 },
+    { flow: 10, low: 0.55, high: 0.65 },
+  ])('keeps $flow L/min within its published envelope $low-$high', ({ flow, low, high }) => {
+    const envelope = simpleFaceMaskEnvelope(flow);
+    expectWithin(envelope.low, low, 1e-9);
+    expectWithin(envelope.high, high, 1e-9);
+    const { fio2 } = okValue(estimateSimpleFaceMask({ flowLPerMin: flow, respRatePerMin: 10 }));
+    expect(fio2.high).toBeLessThanOrEqual(high + 1e-9);
+  });
+
   it('takes its range from 0.6 L and 0.4 L breaths at the same rate', () => {
-    // mass balance: V̇insp = VT × RR × 3 → 36 and 24 L/min at RR 20
-    const { low, high } = atRest(10).fio2;
-    expectWithin(low, mixingFio2(10, 36), 1e-12);
-    expectWithin(high, mixingFio2(10, 24), 1e-12);
+    // mass balance: V̇insp = VT × RR × 3 → 36 and 24 L/min at RR 20 (derived); at 5 L/min both lie inside
+    // the published 0.35 ± 0.05 (Therapeutic Guidelines, V2)
+    const { low, high } = atRest(5).fio2;
+    expectWithin(low, mixingFio2(5, 36), 1e-12);
+    expectWithin(high, mixingFio2(5, 24), 1e-12);
   });
 
   it('falls with tachypnoea', () => {
     // mass balance: a faster rate raises V̇insp and dilutes the same flow
-    const fast = okValue(estimateSimpleFaceMask({ flowLPerMin: 8, respRatePerMin: 32 }));
-    expect(fast.fio2.estimate).toBeLessThan(atRest(8).fio2.estimate);
+    const fast = okValue(estimateSimpleFaceMask({ flowLPerMin: 5, respRatePerMin: 32 }));
+    expect(fast.fio2.estimate).toBeLessThan(atRest(5).fio2.estimate);
     expect(fast.notes.join(' ')).toContain('Breathing faster than 30/min');
   });
 
@@ -43,8 +57,8 @@ describe('simple face mask', () => {
     expect(value.notes).toContain(
       'Below 5 L/min a face mask is rebreathed: minute ventilation rose to about 140 % at 3 L/min (Jensen 1991).',
     );
-    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017', 'jensen-1991']);
-    expect(atRest(5).sourceKeys).toStrictEqual(['device-mixing', 'bts-2017']);
+    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017', 'jensen-1991', 'device-fio2-tables']);
+    expect(atRest(5).sourceKeys).toStrictEqual(['device-mixing', 'bts-2017', 'device-fio2-tables']);
   });
 
   it('flags the estimate for P/F and A-a use', () => {
@@ -60,8 +74,11 @@ describe('simple face mask', () => {
     });
 
     it('still estimates above 10 L/min, with a note', () => {
+      // Therapeutic Guidelines (V2): 0.60 at 10 L/min ± 0.05; nothing is published above 10 L/min
       const value = atRest(12);
-      expectWithin(value.fio2.estimate, mixingFio2(12, 30), 1e-12);
+      expect(value.fio2.estimate).toBeGreaterThanOrEqual(0.6 - 0.05);
+      expect(value.fio2.high).toBeLessThanOrEqual(0.6 + 0.05);
+      expect(value.envelope.basis).toContain('above 10 L/min nothing is published');
       expect(value.notes.join(' ')).toContain('12 L/min is above the usual 5-10 L/min');
     });
   });

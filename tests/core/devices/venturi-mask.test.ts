@@ -86,7 +86,10 @@ describe('Venturi mask', () => {
     expect(value.fixedPerformance).toBe(true);
     expect(value.fio2.estimate).toBe(0.24);
     expectWithin(value.peakInspiratoryFlowLPerMin, 40, 1e-9);
-    expect(value.sourceKeys).toStrictEqual(['device-mixing', 'bts-2017', 'jones-1984']);
+    expect(value.sourceKeys).toStrictEqual(['air-entrainment', 'bts-2017', 'jones-1984', 'device-fio2-tables']);
+    expect(value.model.kind).toBe('air-entrainment');
+    expect(value.fio2Source).toBe('set');
+    expect(value.thresholdFio2).toStrictEqual({ fraction: 0.24, point: 'set' });
   });
 
   it.each([
@@ -115,18 +118,33 @@ describe('Venturi mask', () => {
     // check-values pitfall 3; Jones 1984: the 60 % setting measured 50.3 % at rest; total flow about 30 L/min
     const value = venturi(0.6, 15, 20);
     expect(value.fixedPerformance).toBe(false);
-    expect(value.fio2.estimate).toBeLessThan(0.6);
+    // the figure is the setting; what the mask may fall short by is in the range and the notes
+    expect(value.fio2.estimate).toBe(0.6);
     expect(value.fio2.low).toBeLessThanOrEqual(0.503);
+    expect(value.notes.join(' ')).toMatch(/mixing model puts the FiO2 at about 0\.5\d/);
     expect(value.fio2.high).toBeGreaterThanOrEqual(0.6);
     expect(value.notes.join(' ')).toContain('50.3 %');
   });
 
-  it('widens its range downward when the total flow falls short of demand', () => {
-    // check-values 2b: below peak inspiratory flow the FiO2 is not fixed; room air is drawn in
+  it('reaches lower when the total flow falls short of demand, but not below the measured accuracy', () => {
+    // check-values 2b: below peak inspiratory flow the FiO2 is not fixed; room air is drawn in.
+    // Jones 1984 (V): the 24-40 % settings were within 1.9 % absolute of nominal.
     const fast = venturi(0.4, 10, 36);
     expect(fast.fixedPerformance).toBe(false);
-    expect(fast.fio2.low).toBeLessThan(0.4 - 0.019);
-    expect(fast.fio2.estimate).toBeLessThan(venturi(0.4, 10, 20).fio2.estimate);
+    expect(fast.fio2.low).toBeCloseTo(0.4 - 0.019, 9);
+    expect(fast.fio2.estimate).toBe(0.4);
+    expect(fast.fio2.low).toBeLessThanOrEqual(venturi(0.4, 10, 20).fio2.low);
+    expect(fast.notes.join(' ')).toContain('room air is drawn in');
+    expect(fast.thresholdFio2).toStrictEqual({ fraction: 0.4, point: 'set' });
+  });
+
+  it("is only an estimate below the setting's minimum flow, reaching down towards room air", () => {
+    // BTS 2017 Table 4 (V): 28 % needs 4 L/min; below it entrainment is not assured
+    const low = venturi(0.28, 2, 20);
+    expect(low.fio2Source).toBe('estimated');
+    expect(low.thresholdFio2.point).toBe('low-end');
+    expect(low.fio2.low).toBeLessThan(0.28 - 0.019);
+    expect(low.fio2.high).toBeLessThanOrEqual(0.28 + 0.019);
   });
 
   it('advises 1.5 × the minimum flow when the rate is above 30/min', () => {
@@ -166,9 +184,11 @@ describe('Venturi mask', () => {
     });
 
     it('widens the range when the rate is not known', () => {
+      // Jones 1984 (V): the 60 % setting measured 50.3 % at rest, the floor of its envelope
       const known = venturi(0.6, 15, 20).fio2;
       const unknown = venturi(0.6, 15).fio2;
-      expect(unknown.low).toBeLessThan(known.low);
+      expect(unknown.low).toBeLessThanOrEqual(known.low);
+      expect(unknown.low).toBeCloseTo(0.503, 9);
       expect(unknown.estimate).toBe(known.estimate);
     });
 

@@ -5,6 +5,7 @@ import { barometricPressureIsaMmHg } from '../../../src/core/physiology/barometr
 import { expectedAaGradientMmHg } from '../../../src/core/physiology/expected-aa-gradient.js';
 import {
   hypoxaemiaMechanism,
+  mechanismAcrossFio2Range,
   LOW_INSPIRED_PO2_BELOW_MMHG,
   SEA_LEVEL_AIR_INSPIRED_PO2_MMHG,
   type HypoxaemiaMechanismInput,
@@ -103,7 +104,7 @@ describe('hypoxaemiaMechanism', () => {
     it('calls a shunt likely when more oxygen barely raised PaO2', () => {
       const input = scenario({ ...current, pao2: 62, previous: { fio2Fraction: 0.4, pao2MmHg: 55 } });
       expect(kindOf(input)).toBe('shunt-likely');
-      expect(explanationOf(input)).toMatch(/under 20 % of the 142.6 mmHg rise in alveolar PO2/);
+      expect(explanationOf(input)).toMatch(/under 20 % of the 143 mmHg rise in alveolar PO2/);
       expect(explanationOf(input)).toMatch(/heuristic/);
     });
 
@@ -155,7 +156,7 @@ describe('hypoxaemiaMechanism', () => {
       const input = scenario({ fio2: 0.4, pbMmHg: 760, paco2: 40, pao2: 80, age: 40 });
       expect(kindOf(input)).toBe('vq-mismatch-shunt-or-diffusion');
       expect(explanationOf(input)).toMatch(
-        /A-a gradient 155.2 mmHg against 27.3 mmHg allowed on FiO2 0.40/,
+        /A-a gradient 155 mmHg against 27 mmHg allowed on FiO2 0.40/,
       );
     });
 
@@ -236,6 +237,13 @@ describe('hypoxaemiaMechanism', () => {
       expect(result.kind === 'unknown' && result.reason).toMatch(/check the FiO2/);
     });
 
+    it('keeps a decimal when whole numbers would make the gradient equal to its norm', () => {
+      // age/4 + 4 = 14 mmHg at 40 (common practice): 14.4 is above it, so never "14 against 14"
+      const input = { ...valid, aaGradientMmHg: 14.4, expectedAaGradientMmHg: 14 };
+      expect(kindOf(input)).toBe('vq-mismatch-shunt-or-diffusion');
+      expect(hypoxaemiaMechanism(input).kind === 'ok' && explanationOf(input)).toMatch(/A-a gradient 14\.4 mmHg against 14 mmHg/);
+    });
+
     it('accepts a small negative gradient as measurement error', () => {
       // -3 mmHg is within the -10 mmHg measurement allowance (common practice)
       expect(kindOf({ ...valid, aaGradientMmHg: -3 })).toBe('none');
@@ -245,6 +253,42 @@ describe('hypoxaemiaMechanism', () => {
       // FiO2 0 is below room air 0.21: no patient breathes it (common practice)
       const result = hypoxaemiaMechanism({ ...valid, previous: { fio2Fraction: 0, pao2MmHg: 60 } });
       expect(result.kind === 'unknown' && result.reason).toMatch(/^previous gas: /);
+    });
+  });
+
+  describe('over an estimated FiO2 range', () => {
+    // Nasal cannula 3 L/min: rule of 4 0.32 ± 0.05 (FCCS, C / V2); here 0.28-0.37 around 0.33.
+    // Sea level 760 mmHg, PaCO2 40 mmHg, age 60 (age/4 + 4 = 19 mmHg; common practice).
+    const across = (pao2: number) =>
+      mechanismAcrossFio2Range({
+        atLow: hypoxaemiaMechanism(scenario({ fio2: 0.28, pbMmHg: 760, paco2: 40, pao2, age: 60 })),
+        atEstimate: hypoxaemiaMechanism(scenario({ fio2: 0.33, pbMmHg: 760, paco2: 40, pao2, age: 60 })),
+        atHigh: hypoxaemiaMechanism(scenario({ fio2: 0.37, pbMmHg: 760, paco2: 40, pao2, age: 60 })),
+        fio2Low: 0.28,
+        fio2High: 0.37,
+      });
+
+    it('states no mechanism when the gradient is raised at one end of the range and not at the other', () => {
+      // alveolar gas equation (D): A-a at 0.28 is 199.6 − 50 − 150 = −0.4, within 19 + 4.9 allowed;
+      // at 0.37 it is 263.8 − 50 − 150 = 63.8, above 19 + 11.2 allowed
+      const result = across(150);
+      expect(result.kind === 'ok' && result.value.kind).toBe('not-determined');
+      expect(result.kind === 'ok' && result.value.explanation).toMatch(/no mechanism is stated/);
+      expect(result.kind === 'ok' && result.value.explanation).toMatch(/0\.28–0\.37/);
+    });
+
+    it('states the mechanism when it holds at both ends and says so', () => {
+      // PaO2 60: A-a 89.6 to 153.8 mmHg over the range, raised throughout (alveolar gas equation, D)
+      const result = across(60);
+      expect(result.kind === 'ok' && result.value.kind).toBe('vq-mismatch-shunt-or-diffusion');
+      expect(result.kind === 'ok' && result.value.explanation).toMatch(/holds across the FiO2 range 0\.28–0\.37\.$/);
+    });
+
+    it('passes on an unknown estimate as unknown', () => {
+      const unknown = { kind: 'unknown', reason: 'missing pao2MmHg' } as const;
+      expect(mechanismAcrossFio2Range({ atLow: unknown, atEstimate: unknown, atHigh: unknown, fio2Low: 0.28, fio2High: 0.37 })).toStrictEqual(
+        unknown,
+      );
     });
   });
 });

@@ -25,7 +25,8 @@ describe('oxygenation-summary', () => {
     expect(finding.values.alveolarPo2).toBe('100 mmHg');
     expect(finding.values.aaGradient).toBe('5 mmHg; age norm on air 19 mmHg');
     expect(finding.values.barometricPressure).toBe('760 mmHg (site value from the local policy)');
-    expect(finding.values.pfRatio).toBe('452 mmHg, above 300, outside the Berlin ARDS bands');
+    expect(finding.values.gasUsed).toMatch(/; taken on FiO2 0\.21 \(room air\), as recorded$/);
+    expect(finding.values.pfRatio).toBe('452 mmHg at FiO2 0.21 (room air), as recorded; above 300, outside the Berlin ARDS bands');
     expect(finding.values.rox).toBe('not available (ROX applies to high-flow nasal cannula only)');
     expect(finding.computations.map((c) => c.name)).toStrictEqual([
       'Delivered FiO2 (estimate)',
@@ -41,7 +42,7 @@ describe('oxygenation-summary', () => {
     const card = expectCardRenders(finding);
     // The key numbers lead: P/F 95/0.21 = 452 and A-a 99.7 - 95 = 4.7 mmHg (check-values 3a, derived).
     // The gas was taken on air, not on the order's FiO2 0.29, and the line says so.
-    expect(card.summary).toBe('Oxygenation on Nasal cannula at 2 L/min: FiO2 about 0.29, P/F 452 (on air), A-a 5 mmHg');
+    expect(card.summary).toBe('Oxygenation on Nasal cannula at 2 L/min: FiO2 about 0.29, P/F 452 on air, A-a 5 mmHg');
   });
 
   it.each([
@@ -69,7 +70,8 @@ describe('oxygenation-summary', () => {
     });
     const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
     expect(finding.values.aaGradient).toBe('155 mmHg; the age norm applies on air only, so it is not compared');
-    expect(finding.values.pfRatio).toBe('200 mmHg, Berlin moderate band (100–200)');
+    // Berlin 2012 (V): moderate is 100 < P/F ≤ 200, so exactly 200 is moderate
+    expect(finding.values.pfRatio).toBe('200 mmHg at FiO2 0.40, as recorded; Berlin moderate band (100–200)');
   });
 
   it('shows ROX on high flow with the Roca reading', () => {
@@ -84,7 +86,7 @@ describe('oxygenation-summary', () => {
     });
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.values.rox).toBe('6.13 after 4 h, 4.88 or more: lower risk of high-flow failure (Roca 2019)');
-    expect(finding.values.sfRatio).toBe('184, at or below 235 (Rice: about P/F 200 or less)');
+    expect(finding.values.sfRatio).toBe('184 at FiO2 0.50, as recorded; at or below 235 (Rice: about P/F 200 or less)');
     expectCardRenders(finding);
   });
 
@@ -93,8 +95,9 @@ describe('oxygenation-summary', () => {
     expect(runRule(rule, facts)).toStrictEqual([]);
   });
 
-  it('names the FiO2 of S/F in the summary when it differs from the order estimate it leads with', () => {
-    // Roca 2019: (86 / 0.80) / 33 = 3.26; S/F 86 / 0.80 = 107.5 (Rice 2007 definition)
+  it('shows one FiO2 for one high-flow setting: the set FiO2, whatever the breathing', () => {
+    // Annual Update ICEM 2017 (V): HFNC delivers the set FiO2; Roca 2019: (86 / 0.80) / 33 = 3.26;
+    // S/F 86 / 0.80 = 107.5 (Rice 2007 definition), shown as a whole number
     const hfnc = { device: 'high-flow-nasal-cannula' as const, flowLPerMin: 50, setFio2Fraction: 0.8 };
     const facts = buildFacts({
       orders: [oxygenOrder(hfnc)],
@@ -105,33 +108,84 @@ describe('oxygenation-summary', () => {
     });
     const finding = onlyFinding(runRule(rule, facts));
     const card = expectCardRenders(finding);
-    // At RR 33 the model estimates less than the set 0.80 for 50 L/min, so the line names both.
-    expect(card.summary).toMatch(/^Oxygenation on High-flow nasal cannula FiO2 0\.80 at 50 L\/min: FiO2 about 0\.\d\d, S\/F 108 \(at FiO2 0\.80\), ROX 3\.26$/);
+    expect(card.summary).toBe('Oxygenation on High-flow nasal cannula FiO2 0.80 at 50 L/min: FiO2 0.80 set, S/F 108, ROX 3.26');
+    expect(finding.values.deliveredFio2).toBe('0.80 as set; from the high-flow blender setting');
+    expect(finding.computations[0]?.name).toBe('Delivered FiO2 (device setting)');
+    expect(finding.computations[0]?.sourceKey).toBe('hfnc-2017');
   });
 
   it.each([
     // Rice 2007 cut-offs 235 and 315 (check-values 3e, V); classifySfRice puts a cut-off in the lower band
-    [91, 0.289, '314.9, at or below 315 (Rice: about P/F 300 or less)'], // 91 / 0.289 = 314.88
-    [91, 0.2888, '315.1, above 315 (Rice: about P/F above 300)'], // 91 / 0.2888 = 315.10
-    [94, 0.4, '235, at or below 235 (Rice: about P/F 200 or less)'], // exactly on the cut-off
+    [91, 0.289, '315 at FiO2 0.29, as recorded; at or below 315 (Rice: about P/F 300 or less)'], // 91 / 0.289 = 314.88
+    [91, 0.2888, '316 at FiO2 0.29, as recorded; above 315 (Rice: about P/F above 300)'], // 91 / 0.2888 = 315.10
+    [94, 0.4, '235 at FiO2 0.40, as recorded; at or below 235 (Rice: about P/F 200 or less)'], // exactly on the cut-off
   ])('shows S/F %s / %s as "%s", never rounded onto the other side of a cut-off', (sat, f, words) => {
     const facts = buildFacts({ spo2Percent: [spo2(sat)], fio2Fraction: [fio2(f)] });
     expect(onlyFinding(runRule(rule, facts)).values.sfRatio).toBe(words);
   });
 
-  it('shows a P/F just above a Berlin band edge with a decimal', () => {
-    // Berlin 2012 (V): mild 200 < P/F <= 300; 60.12 / 0.3 = 200.4 is mild, not "200"
+  it('shows a P/F just above a Berlin band edge as a whole number on its own side', () => {
+    // Berlin 2012 (V): mild 200 < P/F <= 300; 60.12 / 0.3 = 200.4 is mild, so never "200"
     const facts = buildFacts({
       bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 60.12 })],
       fio2Fraction: [fio2(0.3, 30)],
     });
-    expect(onlyFinding(runRule(rule, facts)).values.pfRatio).toBe('200.4 mmHg, Berlin mild band (200–300)');
+    expect(onlyFinding(runRule(rule, facts)).values.pfRatio).toBe('201 mmHg at FiO2 0.30, as recorded; Berlin mild band (200–300)');
+  });
+
+  describe('ratios on an FiO2 that is not exact', () => {
+    it('shows P/F as "about" a range on an estimated FiO2 and states no Berlin band when the range spans 200', () => {
+      // Nasal cannula 3 L/min ≈ 0.32 ± 0.05 (rule of 4, FCCS: C / V2); PaO2 64 mmHg → P/F about 195, its
+      // range spanning the Berlin 200 cut-off (JAMA 2012, V), so "moderate" would be a guess
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3 })],
+        respRatePerMin: [respRate(20)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 64 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+      const pf = finding.values.pfRatio ?? '';
+      expect(pf).toMatch(/^about \d+ \(\d+–\d+\) mmHg at an estimated FiO2 of about 0\.\d\d \(0\.\d\d–0\.\d\d\)/);
+      expect(pf).toContain('around 200: the range spans the Berlin 200 cut-off, so no band is stated');
+      expect(pf).not.toMatch(/moderate|mild/);
+      expect(finding.values.aaGradient).toMatch(/^about \d+ \(\d+–\d+\) mmHg over the FiO2 range/);
+      const card = expectCardRenders(finding);
+      expect(card.summary).toMatch(/P\/F about \d+ \(\d+–\d+\)/);
+    });
+
+    it('states the Berlin band when even the ends of the FiO2 range agree', () => {
+      // PaO2 75 mmHg at 0.28-0.37: P/F about 228 (203-272), mild throughout (Berlin 2012, V)
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3 })],
+        respRatePerMin: [respRate(20)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 75 })],
+      });
+      expect(onlyFinding(runRule(rule, facts, { policy: seaLevel })).values.pfRatio).toMatch(/; Berlin mild band \(200–300\)$/);
+    });
+
+    it('names the Venturi setting and its measured accuracy as the FiO2 of P/F', () => {
+      // Jones 1984 (V): the 40 % setting within 1.9 %; PaO2 80 / 0.40 = 200, range 191-210 spans the
+      // Berlin 200 cut-off, so no band; minimum 10 L/min for 40 % (common practice)
+      const venturi = { device: 'venturi-mask' as const, flowLPerMin: 10, setFio2Fraction: 0.4 };
+      const facts = buildFacts({
+        orders: [oxygenOrder(venturi)],
+        respRatePerMin: [respRate(18)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 80 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+      expect(finding.values.pfRatio).toBe(
+        "about 200 (191–210) mmHg at the set FiO2 0.40 (0.38–0.42 by the device's measured accuracy); around 200: the range spans the Berlin 200 cut-off, so no band is stated",
+      );
+      expect(finding.computations[0]?.sourceKey).toBe('air-entrainment');
+      expectCardRenders(finding);
+    });
   });
 
   describe('edge cases', () => {
     it('fires on the delivered-FiO2 estimate alone and says what is missing', () => {
       const finding = onlyFinding(runRule(rule, buildFacts()));
-      expect(finding.values.gasUsed).toBe('no current blood gas');
+      // policy freshness.bloodGasMinutes 720 (local policy): no gas within 12 h, and no FiO2 named for a missing gas
+      expect(finding.values.gasUsed).toBe('none within the last 12 h');
+      expect(finding.values.gasUsed).not.toContain('FiO2');
       expect(finding.values.alveolarPo2).toBe('not available (no current arterial gas)');
       expectCardRenders(finding);
     });

@@ -1,6 +1,6 @@
 import {
+  formatDeliveredFio2,
   formatDuration,
-  formatFio2Range,
   formatFlow,
   formatNumber,
   formatPercent,
@@ -34,7 +34,7 @@ export function describeOrder(order: OxygenOrder): string {
 /** The delivered-FiO2 estimate for display, or why there is none. */
 export function describeDelivery(assessment: Assessment): string {
   return assessment.delivery.kind === 'ok'
-    ? formatFio2Range(assessment.delivery.value.fio2)
+    ? formatDeliveredFio2(assessment.delivery.value)
     : `not estimated (${assessment.delivery.reason})`;
 }
 
@@ -52,12 +52,13 @@ export function deliveryComputation(assessment: Assessment): Computation | undef
       ? 'respiratory rate not recorded (resting pattern assumed)'
       : `respiratory rate ${formatNumber(rr.value, 0)}/min`,
   ].filter((part): part is string => part !== undefined);
+  const { model, envelope, fio2Source } = delivery.value;
   return {
-    name: 'Delivered FiO2 (estimate)',
-    formula: `${deviceLabel(order.device)} model, ${delivery.value.fixedPerformance ? 'fixed' : 'variable'} performance`,
+    name: fio2Source === 'set' ? 'Delivered FiO2 (device setting)' : 'Delivered FiO2 (estimate)',
+    formula: `${deviceLabel(order.device)}: ${model.name}; published range used: ${envelope.basis}`,
     substituted: inputs.join(', '),
-    result: formatFio2Range(delivery.value.fio2),
-    sourceKey: delivery.value.sourceKeys[0] ?? 'device-mixing',
+    result: formatDeliveredFio2(delivery.value),
+    sourceKey: model.sourceKey,
   };
 }
 
