@@ -132,13 +132,13 @@ export function hypoxaemiaMechanism(
       return ok('shunt-likely', `${gradientWords}. ${shunt}${alsoInspired}`);
     }
     if (hypoventilation) {
-      const words = `${paco2Words} (hypoventilation) and ${gradientWords}: hypoventilation plus`;
+      const words = `${paco2Words} (raised: CO2 not cleared) and ${gradientWords}: reduced alveolar ventilation plus`;
       return ok('hypoventilation-plus-gradient', `${words} ${gasExchange}.${alsoInspired}`);
     }
     return ok('vq-mismatch-shunt-or-diffusion', `${gradientWords}: ${gasExchange}.${alsoInspired}`);
   }
   if (hypoventilation) {
-    const words = `${paco2Words} with ${gradientWords}: hypoventilation explains the low PaO2.`;
+    const words = `${paco2Words} with ${gradientWords}: reduced alveolar ventilation (CO2 not cleared) explains the low PaO2.`;
     return ok('hypoventilation', `${words}${alsoInspired}`);
   }
   if (lowInspired) {
@@ -174,10 +174,10 @@ function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
 
 const KIND_WORDS: Readonly<Record<HypoxaemiaMechanismKind, string>> = {
   'low-inspired-po2': 'low inspired PO2',
-  hypoventilation: 'hypoventilation',
+  hypoventilation: 'reduced alveolar ventilation',
   'vq-mismatch-shunt-or-diffusion': 'V/Q mismatch, shunt or diffusion limitation',
   'shunt-likely': 'likely shunt',
-  'hypoventilation-plus-gradient': 'hypoventilation plus V/Q mismatch, shunt or diffusion limitation',
+  'hypoventilation-plus-gradient': 'reduced alveolar ventilation plus V/Q mismatch, shunt or diffusion limitation',
   none: 'no mechanism of hypoxaemia',
   'not-determined': 'no mechanism stated',
 };
@@ -211,7 +211,7 @@ export function mechanismAcrossFio2Range(input: {
   if (atLow.value.kind === atEstimate.value.kind && atHigh.value.kind === atEstimate.value.kind) {
     return ok(
       atEstimate.value.kind,
-      `${atEstimate.value.explanation} This reading holds across the FiO2 range ${range}.`,
+      `${atEstimate.value.explanation} Holds across FiO2 ${range}.`,
     );
   }
   return ok(

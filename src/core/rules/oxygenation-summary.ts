@@ -225,6 +225,31 @@ export const rule: Rule = {
       ...computationOf(p.rox),
       ...computationOf(p.oxygenContent),
     ];
+    const pfWords = show(
+      p.pfRatio,
+      (v) =>
+        `${formatRatio(v, BERLIN_CUTOFFS_MMHG)} mmHg at ${describeFio2Used(v.fio2)}; ` +
+        bandWords(v, v.berlin, BERLIN_WORDS, 'Berlin'),
+    );
+    const sfWords = show(
+      p.sfRatio,
+      (v) => `${formatRatio(v, RICE_CUTOFFS)} at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.rice, RICE_WORDS, 'Rice'),
+    );
+    const aaWords =
+      p.aaGradient.kind === 'ok'
+        ? p.aaGradient.value.range === undefined
+          ? `${formatBesideCutoffs(p.aaGradient.value.value, 0, p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [])} mmHg; ${expected}`
+          : `${pressureWithRange(p.aaGradient.value)} over the FiO2 range; ${expected}`
+        : `not available (${p.aaGradient.reason})`;
+    const roxWords = show(p.rox, (v) => {
+      const after =
+        v.hoursOnHighFlow === undefined
+          ? ''
+          : v.hoursOnHighFlow === 0
+            ? ' at the start of high flow'
+            : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
+      return `${formatBesideCutoffs(v.index, 2, ROX_CUTOFFS)}${after}, ${ROX_WORDS[v.interpretation]}`;
+    });
     return [
       makeFinding(rule, {
         orderReference: order?.reference,
@@ -238,32 +263,10 @@ export const rule: Rule = {
           barometricPressure: `${formatMmHg(pb.mmHg)} (${MODEL_WORDS[pb.model]})`,
           gasUsed,
           alveolarPo2: p.alveolarPo2.kind === 'ok' ? pressureWithRange(p.alveolarPo2.value) : `not available (${p.alveolarPo2.reason})`,
-          aaGradient:
-            p.aaGradient.kind === 'ok'
-              ? p.aaGradient.value.range === undefined
-                ? `${formatBesideCutoffs(p.aaGradient.value.value, 0, p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [])} mmHg; ${expected}`
-                : `${pressureWithRange(p.aaGradient.value)} over the FiO2 range; ${expected}`
-              : `not available (${p.aaGradient.reason})`,
-          pfRatio: show(
-            p.pfRatio,
-            (v) =>
-              `${formatRatio(v, BERLIN_CUTOFFS_MMHG)} mmHg at ${describeFio2Used(v.fio2)}; ` +
-              bandWords(v, v.berlin, BERLIN_WORDS, 'Berlin'),
-          ),
-          sfRatio: show(
-            p.sfRatio,
-            (v) =>
-              `${formatRatio(v, RICE_CUTOFFS)} at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.rice, RICE_WORDS, 'Rice'),
-          ),
-          rox: show(p.rox, (v) => {
-            const after =
-              v.hoursOnHighFlow === undefined
-                ? ''
-                : v.hoursOnHighFlow === 0
-                  ? ' at the start of high flow'
-                  : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
-            return `${formatBesideCutoffs(v.index, 2, ROX_CUTOFFS)}${after}, ${ROX_WORDS[v.interpretation]}`;
-          }),
+          aaGradient: aaWords,
+          pfRatio: pfWords,
+          sfRatio: sfWords,
+          rox: roxWords,
           oxygenContent: show(p.oxygenContent, (v) => `${formatNumber(v, 1)} mL/dL`),
           gasInterpretation:
             p.gasInterpretation.kind === 'ok'
@@ -271,9 +274,16 @@ export const rule: Rule = {
               : `not available (${p.gasInterpretation.reason})`,
           mechanism:
             p.mechanism.kind === 'ok'
-              ? p.mechanism.value.explanation.replace(/\.+$/, '')
+              ? p.mechanism.value.explanation
+                  .replace(' (the age norm applies on air only, so this comparison is less reliable)', ' (a looser comparison on oxygen)')
+                  .replace(/\.+$/, '')
               : `not available (${p.mechanism.reason})`,
           keyFigures: keyFigures(assessment),
+          // ROX belongs to high flow; on other devices the card leaves it out.
+          gradientAndRox:
+            p.rox.kind === 'ok' || order?.device === 'high-flow-nasal-cannula' ? `${aaWords}. ROX: ${roxWords}` : aaWords,
+          // The card shows P/F when there is an arterial gas, else S/F; both are in the workings.
+          oxygenationRatio: p.pfRatio.kind === 'ok' ? `P/F ${pfWords}` : `S/F ${sfWords}`,
         },
         computations,
         sourceKeys: [

@@ -281,7 +281,7 @@ describe('hypoxaemiaMechanism', () => {
       // PaO2 60: A-a 89.6 to 153.8 mmHg over the range, raised throughout (alveolar gas equation, D)
       const result = across(60);
       expect(result.kind === 'ok' && result.value.kind).toBe('vq-mismatch-shunt-or-diffusion');
-      expect(result.kind === 'ok' && result.value.explanation).toMatch(/holds across the FiO2 range 0\.28–0\.37\.$/);
+      expect(result.kind === 'ok' && result.value.explanation).toMatch(/Holds across FiO2 0\.28–0\.37\.$/);
     });
 
     it('passes on an unknown estimate as unknown', () => {
