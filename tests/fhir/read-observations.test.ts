@@ -278,6 +278,38 @@ describe('readObservations', () => {
     });
   });
 
+  it('keeps SpO2, FiO2 and flow over the 360-min trend window apart, while current values keep to 240 min', () => {
+    // Bundled policy: vitalSignsMinutes 240, oxygenNeedTrendMinutes 360 (local choices)
+    expect(freshness.vitalSignsMinutes).toBe(240);
+    expect(TREND_MINUTES).toBe(360);
+    const facts = readObservations(
+      [
+        observation('s-old', '59408-5', 95, '%', minutesAgo(300)),
+        observation('s-new', '59408-5', 94, '%', minutesAgo(20)),
+        observation('f-old', '3151-8', 2, 'L/min', minutesAgo(300)),
+        observation('f-new', '3151-8', 6, 'L/min', minutesAgo(20)),
+        observation('x-old', '3150-0', 40, '%', minutesAgo(361)),
+      ],
+      freshness,
+      TREND_MINUTES,
+      NOW,
+    );
+    expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/s-new']);
+    expect(facts.o2FlowLPerMin.map((m) => m.reference)).toStrictEqual(['Observation/f-new']);
+    expect(facts.trendReadings.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/s-new', 'Observation/s-old']);
+    expect(facts.trendReadings.o2FlowLPerMin.map((m) => m.value)).toStrictEqual([6, 2]);
+    // Beyond both windows: neither current nor trend, and noted as stale
+    expect(facts.fio2Fraction).toStrictEqual([]);
+    expect(facts.trendReadings.fio2Fraction).toStrictEqual([]);
+    expect(facts.notes.map((n) => n.what)).toStrictEqual(['FiO2']);
+  });
+
+  it('keeps the trend over the freshness window when that is the longer one', () => {
+    // A hospital trend window shorter than its freshness window: the longer of the two applies
+    const facts = readObservations([observation('s', '59408-5', 95, '%', minutesAgo(200))], freshness, 120, NOW);
+    expect(facts.trendReadings.spo2Percent.map((m) => m.value)).toStrictEqual([95]);
+  });
+
   describe('edge cases', () => {
     // Plausibility limits are common practice (docs/fhir-input.md), not clinical thresholds.
     it.each([
