@@ -157,6 +157,13 @@ export interface SetAsideNote {
   readonly reference: string | undefined;
 }
 
+/** Readings kept for trends over a longer window than the current values (see `Facts.trendReadings`). */
+export interface TrendReadings {
+  readonly spo2Percent: readonly Measured[];
+  readonly fio2Fraction: readonly Measured[];
+  readonly o2FlowLPerMin: readonly Measured[];
+}
+
 export interface Facts {
   readonly patient: {
     readonly ageYears: number | undefined;
@@ -172,6 +179,12 @@ export interface Facts {
   readonly o2FlowLPerMin: readonly Measured[];
   readonly respRatePerMin: readonly Measured[];
   readonly haemoglobinGPerDL: readonly Measured[];
+  /**
+   * SpO2, FiO2 and O2 flow readings for trends over hours (rising-oxygen-need), most recent first,
+   * within the longer of `freshness.vitalSignsMinutes` and `thresholds.oxygenNeedTrendMinutes`.
+   * Never current values: a 5-hour-old SpO2 here says where a trend began, not how the patient is.
+   */
+  readonly trendReadings: TrendReadings;
   /** Most recent first, within the freshness window for current use. */
   readonly bloodGases: readonly BloodGas[];
   /** Older gases, outside the freshness window, kept to show previous hypercapnia. */

@@ -96,7 +96,12 @@ export function extractFacts(
   const [encounter] = flattenAll([data.encounter], notes);
   const patientRead = readPatient(patient, now);
   const observationResources = flattenAll(arrayOrEmpty(data.observations), notes);
-  const observations = readObservations(observationResources, policy.freshness, now);
+  const observations = readObservations(
+    observationResources,
+    policy.freshness,
+    policy.thresholds.oxygenNeedTrendMinutes,
+    now,
+  );
   const conditions = readConditions(flattenAll(arrayOrEmpty(data.conditions), notes));
 
   return {
@@ -108,6 +113,7 @@ export function extractFacts(
     o2FlowLPerMin: observations.o2FlowLPerMin,
     respRatePerMin: observations.respRatePerMin,
     haemoglobinGPerDL: observations.haemoglobinGPerDL,
+    trendReadings: observations.trendReadings,
     bloodGases: observations.bloodGases,
     historicBloodGases: observations.historicBloodGases,
     conditions: conditions.conditions,

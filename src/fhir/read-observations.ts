@@ -1,5 +1,5 @@
 import type { Policy } from '../core/policy.js';
-import type { BloodGas, Measured, SetAsideNote } from '../core/types.js';
+import type { BloodGas, Measured, SetAsideNote, TrendReadings } from '../core/types.js';
 import type { MeasuredKind } from './codes.js';
 import { describeAge } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
@@ -13,6 +13,8 @@ import { readObservationValues, type Reading } from './read-observation-values.j
  * Reads the patient's Observations into current values (within the policy's freshness windows, most
  * recent first), older blood gases kept as history, and notes for what was set aside. A stale kind
  * gets one note, and only when nothing current of that kind is left ("Latest SpO2 is 9 h old").
+ * SpO2, FiO2 and flow are also kept, apart, over the trend window when that is the longer one, so a
+ * trend over hours can be seen without an old reading ever counting as current.
  */
 
 export interface ObservationFacts {
@@ -21,6 +23,8 @@ export interface ObservationFacts {
   readonly o2FlowLPerMin: readonly Measured[];
   readonly respRatePerMin: readonly Measured[];
   readonly haemoglobinGPerDL: readonly Measured[];
+  /** SpO2, FiO2 and flow within the longer of the vital-signs and trend windows, for trends only. */
+  readonly trendReadings: TrendReadings;
   readonly bloodGases: readonly BloodGas[];
   readonly historicBloodGases: readonly BloodGas[];
   /** The newest plausible BMI, whatever its age (no policy window applies). */
@@ -96,9 +100,22 @@ function currentOf(
   return current;
 }
 
+/** Readings of `kind` no older than `windowMinutes` and not in the future, most recent first. */
+function trendOf(readings: readonly Reading[], kind: MeasuredKind, windowMinutes: number, nowMs: number): Measured[] {
+  return readings
+    .filter((r) => r.code.kind === kind && nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000)
+    .sort((a, b) => b.atMs - a.atMs)
+    .map((r) => ({ value: r.value, at: r.at, reported: r.reported, reference: r.reference }));
+}
+
+/**
+ * @param trendMinutes - the trend window (`thresholds.oxygenNeedTrendMinutes`); trend readings are
+ *   kept over the longer of it and `freshness.vitalSignsMinutes`.
+ */
 export function readObservations(
   observations: readonly FhirResource[],
   freshness: Policy['freshness'],
+  trendMinutes: number,
   now: Date,
 ): ObservationFacts {
   const nowMs = now.getTime();
@@ -107,6 +124,7 @@ export function readObservations(
   const readings = observations.flatMap((obs) => readObservationValues(obs, panelOf, notes));
 
   const vitals = freshness.vitalSignsMinutes;
+  const trendWindow = Math.max(vitals, trendMinutes);
   const bmi = readings
     .filter((r) => r.code.kind === 'bmi' && r.atMs - nowMs <= FUTURE_SKEW_MS)
     .sort((a, b) => b.atMs - a.atMs)[0];
@@ -156,6 +174,11 @@ export function readObservations(
     o2FlowLPerMin: currentOf(readings, 'o2-flow', vitals, nowMs, notes),
     respRatePerMin: currentOf(readings, 'resp-rate', vitals, nowMs, notes),
     haemoglobinGPerDL: currentOf(readings, 'haemoglobin', freshness.haemoglobinHours * 60, nowMs, notes),
+    trendReadings: {
+      spo2Percent: trendOf(readings, 'spo2', trendWindow, nowMs),
+      fio2Fraction: trendOf(readings, 'fio2', trendWindow, nowMs),
+      o2FlowLPerMin: trendOf(readings, 'o2-flow', trendWindow, nowMs),
+    },
     bloodGases,
     historicBloodGases,
     bmiKgPerM2: bmi?.value,

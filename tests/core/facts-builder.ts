@@ -162,7 +162,7 @@ export function condition(kind: ConditionKind): ConditionFact {
 
 /** Facts for an invented adult on the Larkspur Bay medical ward, with nothing on record by default. */
 export function buildFacts(overrides: Partial<Facts> = {}): Facts {
-  return {
+  const facts: Omit<Facts, 'trendReadings'> = {
     patient: { ageYears: 58, bmiKgPerM2: 26 },
     orders: [oxygenOrder()],
     activeOrders: [],
@@ -179,4 +179,11 @@ export function buildFacts(overrides: Partial<Facts> = {}): Facts {
     encounterUnit: 'Larkspur Bay General Hospital, Ward 4 (demo)',
     ...overrides,
   };
+  // Unless a test says otherwise, the readings given are the trend too (as the reader keeps them).
+  const trendReadings = overrides.trendReadings ?? {
+    spo2Percent: facts.spo2Percent,
+    fio2Fraction: facts.fio2Fraction,
+    o2FlowLPerMin: facts.o2FlowLPerMin,
+  };
+  return { ...facts, trendReadings };
 }

@@ -3,6 +3,7 @@ import { readObservations } from '../../src/fhir/read-observations.js';
 import { LOINC, NOW, btsPolicy, minutesAgo, observation, quantity } from './helpers/larkspur-bay.js';
 
 const freshness = btsPolicy().freshness; // bundled policy: 240 min vitals, 720 min gases, 72 h Hb, 1825 d
+const TREND_MINUTES = btsPolicy().thresholds.oxygenNeedTrendMinutes; // bundled policy: 360 min (local choice)
 
 describe('readObservations', () => {
   it.each([
@@ -15,7 +16,7 @@ describe('readObservations', () => {
     ['9279-1', 'respRatePerMin', 22, '/min', 22],
     ['718-7', 'haemoglobinGPerDL', 128, 'g/L', 12.8], // g/L to g/dL by UCUM
   ] as const)('reads LOINC %s into %s (%s %s → %s)', (code, field, value, unit, expected) => {
-    const facts = readObservations([observation('o1', code, value, unit, minutesAgo(30))], freshness, NOW);
+    const facts = readObservations([observation('o1', code, value, unit, minutesAgo(30))], freshness, TREND_MINUTES, NOW);
     expect(facts[field]).toStrictEqual([
       { value: expected, at: minutesAgo(30), reported: { value, unit }, reference: 'Observation/o1' },
     ]);
@@ -27,6 +28,7 @@ describe('readObservations', () => {
     const facts = readObservations(
       [observation('pco2', '2019-8', 6.7, 'kPa', at), observation('ph', '2744-1', 7.31, '[pH]', at)],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     const [gas] = facts.bloodGases;
@@ -42,7 +44,7 @@ describe('readObservations', () => {
     ['mmHg', 52, 52], // non-UCUM display spelling, accepted as an alias
     ['kPa', 8.0, 60.0], // 8 kPa = 60 mmHg, HOT-ICU (check-values 1b); 8 x 7.50062 = 60.00
   ])('reads PaO2 in %s', (unit, value, mmHg) => {
-    const facts = readObservations([observation('o', '2703-7', value, unit, minutesAgo(5))], freshness, NOW);
+    const facts = readObservations([observation('o', '2703-7', value, unit, minutesAgo(5))], freshness, TREND_MINUTES, NOW);
     expect(facts.bloodGases[0]?.pao2MmHg).toBeCloseTo(mmHg, 1);
   });
 
@@ -58,6 +60,7 @@ describe('readObservations', () => {
         observation('later', '2744-1', 7.36, '[pH]', minutesAgo(10)),
       ],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     expect(facts.bloodGases).toHaveLength(2);
@@ -81,6 +84,7 @@ describe('readObservations', () => {
         observation('hco3', '1960-4', 34, 'mmol/L', at),
       ],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     expect(facts.bloodGases).toHaveLength(1);
@@ -90,7 +94,7 @@ describe('readObservations', () => {
 
   it('sets aside a PCO2 below 10 mmHg even without a pH to check it against', () => {
     // 6.9 "mmHg" reads like 6.9 kPa; below 10 mmHg is exceptional in hospital patients (common practice)
-    const facts = readObservations([observation('pco2', '2019-8', 6.9, 'mm[Hg]', minutesAgo(30))], freshness, NOW);
+    const facts = readObservations([observation('pco2', '2019-8', 6.9, 'mm[Hg]', minutesAgo(30))], freshness, TREND_MINUTES, NOW);
     expect(facts.bloodGases[0]?.paco2MmHg).toBeUndefined();
     expect(facts.notes.map((n) => [n.what, n.reason])).toStrictEqual([['Blood gas pressures', 'implausible']]);
   });
@@ -107,6 +111,7 @@ describe('readObservations', () => {
     const facts = readObservations(
       [panel, observation('m1', '2744-1', 7.32, '[pH]', minutesAgo(30)), observation('m2', '2019-8', 55, 'mm[Hg]', minutesAgo(29))],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     expect(facts.bloodGases).toHaveLength(1);
@@ -125,21 +130,21 @@ describe('readObservations', () => {
 
     it("groups by the policy's window and dates the sample at its first value", () => {
       // freshness.bloodGasGroupingMinutes: 10 in the bundled policy (common practice)
-      const facts = readObservations(split, freshness, NOW);
+      const facts = readObservations(split, freshness, TREND_MINUTES, NOW);
       expect(facts.bloodGases).toHaveLength(1);
       expect(facts.bloodGases[0]).toMatchObject({ at: minutesAgo(40), ph: 7.27, hco3MmolPerL: 28 });
       expect(facts.bloodGases[0]?.paco2MmHg).toBeCloseTo(61.5, 1); // 8.2 kPa x 7.50062 (UCUM)
     });
 
     it('uses the window the policy gives', () => {
-      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 0 }, NOW).bloodGases).toHaveLength(4);
-      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 5 }, NOW).bloodGases).toHaveLength(2);
+      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 0 }, TREND_MINUTES, NOW).bloodGases).toHaveLength(4);
+      expect(readObservations(split, { ...freshness, bloodGasGroupingMinutes: 5 }, TREND_MINUTES, NOW).bloodGases).toHaveLength(2);
     });
 
     it('checks the units of the grouped sample, not of each result', () => {
       // 8.2 "mmHg" with pH 7.27 and HCO3 28 disagrees (calculated HCO3 3.7); as 8.2 kPa it agrees
       const mislabelled = split.map((o) => (o.id === 'pco2' ? observation('pco2', '2019-8', 8.2, 'mm[Hg]', minutesAgo(37)) : o));
-      const facts = readObservations(mislabelled, freshness, NOW);
+      const facts = readObservations(mislabelled, freshness, TREND_MINUTES, NOW);
       expect(facts.bloodGases[0]).toMatchObject({ ph: 7.27, paco2MmHg: undefined, pao2MmHg: undefined });
       expect(facts.notes.map((n) => n.what)).toStrictEqual(['Blood gas pressures']);
     });
@@ -152,6 +157,7 @@ describe('readObservations', () => {
           observation('po2', '2703-7', 7.4, 'kPa', minutesAgo(-30), specimen),
         ],
         freshness,
+        TREND_MINUTES,
         NOW,
       );
       expect(facts.bloodGases).toHaveLength(1);
@@ -169,6 +175,7 @@ describe('readObservations', () => {
         observation('a1', '2744-1', 7.34, '[pH]', at),
       ],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     expect(facts.bloodGases.map((g) => [g.specimen, g.ph])).toStrictEqual([
@@ -178,7 +185,7 @@ describe('readObservations', () => {
   });
 
   it('reads HCO3 reported in meq/L as the same number of mmol/L', () => {
-    const facts = readObservations([observation('h', '1963-8', 31, 'meq/L', minutesAgo(60))], freshness, NOW);
+    const facts = readObservations([observation('h', '1963-8', 31, 'meq/L', minutesAgo(60))], freshness, TREND_MINUTES, NOW);
     // HCO3- is monovalent: 1 meq/L = 1 mmol/L (common practice)
     expect(facts.bloodGases[0]).toMatchObject({ hco3MmolPerL: 31, specimen: 'unknown' });
   });
@@ -191,7 +198,7 @@ describe('readObservations', () => {
         { code: { coding: [{ system: LOINC, code: '3150-0' }] }, valueQuantity: quantity(28, '%') },
       ],
     });
-    const facts = readObservations([obs], freshness, NOW);
+    const facts = readObservations([obs], freshness, TREND_MINUTES, NOW);
     expect(facts.spo2Percent.map((m) => m.value)).toStrictEqual([91]);
     expect(facts.o2FlowLPerMin.map((m) => m.value)).toStrictEqual([4]);
     expect(facts.fio2Fraction.map((m) => m.value)).toStrictEqual([0.28]);
@@ -201,13 +208,14 @@ describe('readObservations', () => {
     const facts = readObservations(
       [observation('old', '59408-5', 90, '%', minutesAgo(200)), observation('new', '59408-5', 94, '%', minutesAgo(5))],
       freshness,
+      TREND_MINUTES,
       NOW,
     );
     expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/new', 'Observation/old']);
   });
 
   it('reads BMI from LOINC 39156-5 (from memory) whatever its age', () => {
-    const facts = readObservations([observation('bmi', '39156-5', 43.2, 'kg/m2', '2025-06-01')], freshness, NOW);
+    const facts = readObservations([observation('bmi', '39156-5', 43.2, 'kg/m2', '2025-06-01')], freshness, TREND_MINUTES, NOW);
     expect(facts.bmiKgPerM2).toBe(43.2);
   });
 
@@ -216,6 +224,7 @@ describe('readObservations', () => {
       const facts = readObservations(
         [observation('s1', '59408-5', 95, '%', minutesAgo(540)), observation('s2', '59408-5', 96, '%', minutesAgo(600))],
         freshness,
+        TREND_MINUTES,
         NOW,
       );
       expect(facts.spo2Percent).toStrictEqual([]);
@@ -228,6 +237,7 @@ describe('readObservations', () => {
       const facts = readObservations(
         [observation('s1', '59408-5', 95, '%', minutesAgo(540)), observation('s2', '59408-5', 96, '%', minutesAgo(20))],
         freshness,
+        TREND_MINUTES,
         NOW,
       );
       expect(facts.spo2Percent.map((m) => m.value)).toStrictEqual([96]);
@@ -235,7 +245,7 @@ describe('readObservations', () => {
     });
 
     it('keeps a gas older than the gas window but within the history window as historic', () => {
-      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2025-02-10T09:00:00Z')], freshness, NOW);
+      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2025-02-10T09:00:00Z')], freshness, TREND_MINUTES, NOW);
       expect(facts.bloodGases).toStrictEqual([]);
       expect(facts.historicBloodGases).toHaveLength(1);
       expect(facts.historicBloodGases[0]?.paco2MmHg).toBeCloseTo(61.5, 1); // 8.2 x 7.50062 (check-values 3b)
@@ -243,13 +253,13 @@ describe('readObservations', () => {
     });
 
     it('drops a gas older than the history window', () => {
-      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2019-01-01T09:00:00Z')], freshness, NOW);
+      const facts = readObservations([observation('g', '2019-8', 8.2, 'kPa', '2019-01-01T09:00:00Z')], freshness, TREND_MINUTES, NOW);
       expect(facts.historicBloodGases).toStrictEqual([]);
       expect(facts.notes[0]?.reason).toBe('stale');
     });
 
     it('sets aside haemoglobin older than its window in hours', () => {
-      const facts = readObservations([observation('hb', '718-7', 11.2, 'g/dL', minutesAgo(73 * 60))], freshness, NOW);
+      const facts = readObservations([observation('hb', '718-7', 11.2, 'g/dL', minutesAgo(73 * 60))], freshness, TREND_MINUTES, NOW);
       expect(facts.haemoglobinGPerDL).toStrictEqual([]);
       expect(facts.notes[0]).toMatchObject({ what: 'Haemoglobin', reason: 'stale' });
     });
@@ -258,6 +268,7 @@ describe('readObservations', () => {
       const facts = readObservations(
         [observation('f', '9279-1', 18, '/min', minutesAgo(-120)), observation('ok', '9279-1', 20, '/min', minutesAgo(-2))],
         freshness,
+        TREND_MINUTES,
         NOW,
       );
       expect(facts.respRatePerMin.map((m) => m.reference)).toStrictEqual(['Observation/ok']);
@@ -265,6 +276,38 @@ describe('readObservations', () => {
         { what: 'Respiratory rate', reason: 'implausible', detail: 'Dated 2 h in the future.', reference: 'Observation/f' },
       ]);
     });
+  });
+
+  it('keeps SpO2, FiO2 and flow over the 360-min trend window apart, while current values keep to 240 min', () => {
+    // Bundled policy: vitalSignsMinutes 240, oxygenNeedTrendMinutes 360 (local choices)
+    expect(freshness.vitalSignsMinutes).toBe(240);
+    expect(TREND_MINUTES).toBe(360);
+    const facts = readObservations(
+      [
+        observation('s-old', '59408-5', 95, '%', minutesAgo(300)),
+        observation('s-new', '59408-5', 94, '%', minutesAgo(20)),
+        observation('f-old', '3151-8', 2, 'L/min', minutesAgo(300)),
+        observation('f-new', '3151-8', 6, 'L/min', minutesAgo(20)),
+        observation('x-old', '3150-0', 40, '%', minutesAgo(361)),
+      ],
+      freshness,
+      TREND_MINUTES,
+      NOW,
+    );
+    expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/s-new']);
+    expect(facts.o2FlowLPerMin.map((m) => m.reference)).toStrictEqual(['Observation/f-new']);
+    expect(facts.trendReadings.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/s-new', 'Observation/s-old']);
+    expect(facts.trendReadings.o2FlowLPerMin.map((m) => m.value)).toStrictEqual([6, 2]);
+    // Beyond both windows: neither current nor trend, and noted as stale
+    expect(facts.fio2Fraction).toStrictEqual([]);
+    expect(facts.trendReadings.fio2Fraction).toStrictEqual([]);
+    expect(facts.notes.map((n) => n.what)).toStrictEqual(['FiO2']);
+  });
+
+  it('keeps the trend over the freshness window when that is the longer one', () => {
+    // A hospital trend window shorter than its freshness window: the longer of the two applies
+    const facts = readObservations([observation('s', '59408-5', 95, '%', minutesAgo(200))], freshness, 120, NOW);
+    expect(facts.trendReadings.spo2Percent.map((m) => m.value)).toStrictEqual([95]);
   });
 
   describe('edge cases', () => {
@@ -284,7 +327,7 @@ describe('readObservations', () => {
       ['2019-8', 3, 'mm[Hg]', 'PaCO2'],
       ['2019-8', 30, 'kPa', 'PaCO2'],
     ])('sets aside LOINC %s = %s %s as implausible', (code, value, unit, what) => {
-      const facts = readObservations([observation('x', code, value, unit, minutesAgo(5))], freshness, NOW);
+      const facts = readObservations([observation('x', code, value, unit, minutesAgo(5))], freshness, TREND_MINUTES, NOW);
       expect(facts.spo2Percent).toStrictEqual([]);
       expect(facts.bloodGases).toStrictEqual([]);
       expect(facts.notes).toHaveLength(1);
@@ -292,7 +335,7 @@ describe('readObservations', () => {
     });
 
     it.each(['entered-in-error', 'cancelled'])('ignores a result with status %s and says so', (status) => {
-      const facts = readObservations([observation('e', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, NOW);
+      const facts = readObservations([observation('e', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, TREND_MINUTES, NOW);
       expect(facts.spo2Percent).toStrictEqual([]);
       expect(facts.notes).toStrictEqual([
         { what: 'SpO2', reason: 'error-in-source', detail: `The result has status '${status}' and was not used.`, reference: 'Observation/e' },
@@ -300,12 +343,12 @@ describe('readObservations', () => {
     });
 
     it.each(['preliminary', 'amended', 'corrected'])('uses a result with status %s', (status) => {
-      const facts = readObservations([observation('p', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, NOW);
+      const facts = readObservations([observation('p', '59408-5', 95, '%', minutesAgo(5), { status })], freshness, TREND_MINUTES, NOW);
       expect(facts.spo2Percent).toHaveLength(1);
     });
 
     it('sets aside a unit it cannot convert', () => {
-      const facts = readObservations([observation('u', '2019-8', 6, 'mg', minutesAgo(5))], freshness, NOW);
+      const facts = readObservations([observation('u', '2019-8', 6, 'mg', minutesAgo(5))], freshness, TREND_MINUTES, NOW);
       expect(facts.notes).toStrictEqual([
         { what: 'PaCO2', reason: 'unreadable-unit', detail: "6 'mg' is not a unit this value can be read in.", reference: 'Observation/u' },
       ]);
@@ -313,7 +356,7 @@ describe('readObservations', () => {
 
     it('sets aside a result with no readable time', () => {
       const obs = observation('t', '59408-5', 95, '%', 'yesterday');
-      const facts = readObservations([obs], freshness, NOW);
+      const facts = readObservations([obs], freshness, TREND_MINUTES, NOW);
       expect(facts.notes.map((n) => n.reason)).toStrictEqual(['unrecognised']);
     });
 
@@ -322,6 +365,7 @@ describe('readObservations', () => {
       const facts = readObservations(
         [observation('bp', '8480-6', 120, 'mm[Hg]', minutesAgo(5)), noSystem, { resourceType: 'Patient', id: 'p' }],
         freshness,
+        TREND_MINUTES,
         NOW,
       );
       expect(facts.spo2Percent).toStrictEqual([]);
@@ -335,7 +379,7 @@ describe('readObservations', () => {
         { ...observation('c', '59408-5', 95, '%', minutesAgo(5)), component: 'none', hasMember: {} },
         { ...observation('d', '59408-5', 95, '%', minutesAgo(5)), code: [] },
       ];
-      const facts = readObservations(odd, freshness, NOW);
+      const facts = readObservations(odd, freshness, TREND_MINUTES, NOW);
       expect(facts.spo2Percent.map((m) => m.reference)).toStrictEqual(['Observation/c']);
       expect(facts.notes.map((n) => n.reason)).toStrictEqual(['unrecognised', 'unrecognised']);
     });

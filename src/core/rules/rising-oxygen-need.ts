@@ -1,6 +1,7 @@
 import { isWithin } from '../assessment/current-values.js';
 import { formatDuration, formatFlow, formatFraction, formatPercent } from '../assessment/format.js';
-import type { DeviceKind, Facts, Finding, Measured } from '../types.js';
+import { DEVICE_MODELS } from '../devices/index.js';
+import type { DeviceKind, Facts, Finding, Measured, OxygenOrder } from '../types.js';
 import { describeAge, deviceLabel } from './support/describe.js';
 import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
@@ -8,8 +9,8 @@ import type { Rule } from './support/rule-types.js';
 
 /**
  * Devices on which a higher O2 flow always means more oxygen breathed (variable performance, no set
- * FiO2): only on these are two recorded flows compared, and only when every order on record names the
- * same one. A Venturi's flow does not set its FiO2, high flow's FiO2 is its blender setting, and a
+ * FiO2): only on these are two recorded flows compared, and only when one of them is named
+ * (`flowDevice`). A Venturi's flow does not set its FiO2, high flow's FiO2 is its blender setting, and a
  * recorded flow (LOINC 3151-8) names no device, so across devices flows say nothing.
  */
 const FLOW_SETS_OXYGEN: readonly DeviceKind[] = ['nasal-cannula', 'simple-face-mask', 'reservoir-mask', 'tracheostomy-mask'];
@@ -33,12 +34,34 @@ interface OxygenTrend {
   readonly label: string;
 }
 
+interface FlowDevice {
+  readonly device: DeviceKind;
+  /** True when orders on record name it; false when only this order does. */
+  readonly fromRecord: boolean;
+}
+
+/**
+ * The one flow-set device the recorded flows were given on: the device every order on record names,
+ * or with no order on record the device this order names. Undefined when that is not one flow-set
+ * device, or when a recorded flow is above the device's top flow (it was given on something else).
+ */
+function flowDevice(facts: Facts, order: OxygenOrder | undefined, flows: readonly Measured[]): FlowDevice | undefined {
+  const fromRecord = facts.activeOrders.length > 0;
+  const devices = new Set((fromRecord ? facts.activeOrders : order === undefined ? [] : [order]).map((o) => o.device));
+  const [device] = [...devices];
+  if (devices.size !== 1 || device === undefined || !FLOW_SETS_OXYGEN.includes(device)) {
+    return undefined;
+  }
+  const top = DEVICE_MODELS[device].flowRangeLPerMin.max;
+  return flows.every((f) => f.value <= top) ? { device, fromRecord } : undefined;
+}
+
 /**
  * Recorded FiO2 (LOINC 3150-0) compares across devices; recorded flows only on one flow-set device
- * named by every order on record. Two readings at least: a single reading shows no trend.
+ * (`flowDevice`). Two readings at least: a single reading shows no trend.
  */
-function oxygenTrend(facts: Facts, now: Date, windowMinutes: number): OxygenTrend | undefined {
-  const fio2 = inWindow(facts.fio2Fraction, now, windowMinutes);
+function oxygenTrend(facts: Facts, order: OxygenOrder | undefined, now: Date, windowMinutes: number): OxygenTrend | undefined {
+  const fio2 = inWindow(facts.trendReadings.fio2Fraction, now, windowMinutes);
   const compare = (first: Measured, last: Measured): number => Math.round(last.value * 100) - Math.round(first.value * 100);
   const [firstFio2, lastFio2] = [fio2[0], fio2[fio2.length - 1]];
   if (fio2.length >= 2 && firstFio2 !== undefined && lastFio2 !== undefined) {
@@ -51,22 +74,21 @@ function oxygenTrend(facts: Facts, now: Date, windowMinutes: number): OxygenTren
       label: 'FiO2 ',
     };
   }
-  const devices = new Set(facts.activeOrders.map((o) => o.device));
-  const [device] = [...devices];
-  const flows = inWindow(facts.o2FlowLPerMin, now, windowMinutes);
+  const flows = inWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes);
   const [firstFlow, lastFlow] = [flows[0], flows[flows.length - 1]];
-  if (devices.size !== 1 || device === undefined || !FLOW_SETS_OXYGEN.includes(device)) {
+  const named = flowDevice(facts, order, flows);
+  if (named === undefined || flows.length < 2 || firstFlow === undefined || lastFlow === undefined) {
     return undefined;
   }
-  if (flows.length < 2 || firstFlow === undefined || lastFlow === undefined) {
-    return undefined;
-  }
+  const device = deviceLabel(named.device).toLowerCase();
   return {
     first: firstFlow,
     last: lastFlow,
     direction: compare(firstFlow, lastFlow),
     words: (m) => formatFlow(m.value),
-    measure: `recorded O2 flow (${deviceLabel(device).toLowerCase()} throughout)`,
+    measure: named.fromRecord
+      ? `recorded O2 flow (${device} throughout)`
+      : `recorded O2 flow (${device}, as this order names; none on record)`,
     label: '',
   };
 }
@@ -82,7 +104,8 @@ function unchangedByOrder(facts: Facts, since: Measured): boolean {
 
 /**
  * A rising oxygen need: over the last `thresholds.oxygenNeedTrendMinutes` (360), more oxygen was
- * given (recorded FiO2, or recorded flows on one flow-set device) while SpO2 did not rise by
+ * given (recorded FiO2, or recorded flows on one flow-set device: the one every order on record
+ * names, else the one this order names, with no recorded flow above its top flow) while SpO2 did not rise by
  * `thresholds.spo2FallPoints` (3) or more, or SpO2 fell by `thresholds.spo2FallPoints` or more while
  * the oxygen was not lowered (by the same measures, or one order running throughout with no setting
  * recorded). The card says what changed and when.
@@ -94,12 +117,14 @@ function unchangedByOrder(facts: Facts, since: Measured): boolean {
  * weaning direction) never fires, nor a fall in SpO2 while oxygen is lowered. Patient-level. Not where
  * no SpO2 target applies (oxygen given whatever the SpO2), for comfort orders, or when
  * escalated-support-failing already asks for critical-care review.
+ * Readings come from `facts.trendReadings`, kept over the longer of the vital-signs and trend
+ * windows, so a trend that began 5 h ago is seen while no other rule treats that reading as current.
  * Sources: BTS 2017 summary (BMJ Open Resp Res 4:e000170); the window is the local policy's.
  */
 export const rule: Rule = {
   id: 'rising-oxygen-need',
   title: 'Rising oxygen need: review the patient',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -111,7 +136,7 @@ export const rule: Rule = {
       return [];
     }
     const { oxygenNeedTrendMinutes: windowMinutes, spo2FallPoints } = policy.thresholds;
-    const readings = inWindow(facts.spo2Percent, now, windowMinutes);
+    const readings = inWindow(facts.trendReadings.spo2Percent, now, windowMinutes);
     const [firstSpo2, lastSpo2] = [readings[0], readings[readings.length - 1]];
     if (firstSpo2 === undefined || lastSpo2 === undefined) {
       return [];
@@ -119,9 +144,11 @@ export const rule: Rule = {
     const twoSpo2 = readings.length >= 2;
     const fall = twoSpo2 ? firstSpo2.value - lastSpo2.value : 0;
     const rise = -fall;
-    const trend = oxygenTrend(facts, now, windowMinutes);
+    const trend = oxygenTrend(facts, order, now, windowMinutes);
     const settingsRecorded =
-      inWindow(facts.fio2Fraction, now, windowMinutes).length + inWindow(facts.o2FlowLPerMin, now, windowMinutes).length > 0;
+      inWindow(facts.trendReadings.fio2Fraction, now, windowMinutes).length +
+        inWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes).length >
+      0;
 
     const moreOxygen = trend !== undefined && trend.direction > 0 && rise < spo2FallPoints;
     const notLowered =

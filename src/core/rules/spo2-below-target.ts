@@ -3,7 +3,7 @@ import { formatFlow, formatFraction, formatPercent, formatRange } from '../asses
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
-import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
+import { escalatedSupportFailingSpeaks, highFlowFio2AtReading } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
@@ -19,9 +19,13 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
  * (BTS 2017 Table 2: below 85 % start a reservoir mask at 15 L/min), more than
  * `thresholds.criticalPointsBelowTarget` points below the target, or when the patient was already
- * on a reservoir mask, high-flow or NIV when it was read (an active order on record, this order
- * if written before the reading, or a recorded flow only high flow reaches), or on a recorded FiO2
- * at or above `thresholds.highOxygenFio2AtLeast`.
+ * on a reservoir mask or NIV when it was read (an active order on record, or this order if written
+ * before the reading), or on a recorded FiO2 at or above `thresholds.highOxygenFio2AtLeast`.
+ * On high flow (an order in force, or a recorded flow only high flow reaches) the blender setting
+ * decides instead: below `thresholds.highFlowFailingFio2AtLeast` there is room to titrate the FiO2
+ * up, so a low SpO2 is a warning unless one of the SpO2 levels above makes it critical; at or above
+ * it escalated-support-failing speaks; an FiO2 that is not known keeps it critical (it may be that
+ * high).
  * A new order for one of those devices is the response to the reading, not a failure of it. A
  * reading taken on air, before this order starts oxygen, is reported only when critical: the order
  * itself is the response. Where no SpO2 target applies
@@ -36,7 +40,7 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
 export const rule: Rule = {
   id: 'spo2-below-target',
   title: 'SpO2 below the target range',
-  version: 3,
+  version: 4,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -58,17 +62,28 @@ export const rule: Rule = {
     }
     const farBelow = lowBound !== undefined && lowBound - spo2.value > criticalPointsBelowTarget;
     const isTopDevice = (o: OxygenOrder): boolean => o.device !== undefined && TOP_OF_WARD_DEVICES.includes(o.device);
+    const isMaskOrNiv = (o: OxygenOrder): boolean => o.device === 'reservoir-mask' || o.device === 'cpap-niv';
     // Only what the patient was on when the SpO2 was read makes a low reading critical: a new order
     // for high flow or NIV is the response to the reading, not a sign that it has already failed.
     const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
-    // A recorded flow only high flow reaches also shows the patient on high flow at the reading.
+    // High flow is read from an order in force or a recorded flow only high flow reaches.
+    const highFlow = highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now);
+    const highFlowFio2 = highFlow === undefined ? undefined : highFlowFio2AtReading(assessment, highFlow);
+    const failingFio2 = policy.thresholds.highFlowFailingFio2AtLeast;
+    // On high flow the blender has room below the failing FiO2: a low SpO2 there calls for titrating
+    // the FiO2 up and a review (warning). At or above it, or set there by this order, the support is
+    // failing (escalated-support-failing's critical card); an FiO2 nobody recorded may be that high.
+    const highFlowBelowFailing =
+      highFlowFio2 !== undefined &&
+      highFlowFio2.fraction < failingFio2 &&
+      !(order.device === 'high-flow-nasal-cannula' && (order.setFio2Fraction ?? 0) >= failingFio2);
     const onTopDevice =
-      facts.activeOrders.some(isTopDevice) ||
-      (orderInForce && isTopDevice(order)) ||
-      highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now) !== undefined;
+      facts.activeOrders.some(isMaskOrNiv) || (orderInForce && isMaskOrNiv(order)) || (highFlow !== undefined && !highFlowBelowFailing);
     const fio2AtReading = assessment.physiology.fio2AtSpo2;
+    // On high flow the failing FiO2 above is the measure of a high oxygen need, not this one.
     const highFio2AtReading =
       !onTopDevice &&
+      highFlow === undefined &&
       fio2AtReading.kind === 'ok' &&
       fio2AtReading.value.basis !== 'order-estimate' &&
       fio2AtReading.value.estimate >= policy.thresholds.highOxygenFio2AtLeast;
@@ -80,7 +95,12 @@ export const rule: Rule = {
     // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
     // Nor a mask to a patient on a higher tier of support (a recorded high flow, say): keepTier.
     const change: OrderChange | undefined = keepTier(
-      belowCriticalLevel && !hypercapnicRisk.atRisk && !onTopDevice && !isTopDevice(order) && isTitration(order)
+      belowCriticalLevel &&
+        !hypercapnicRisk.atRisk &&
+        !onTopDevice &&
+        highFlow === undefined &&
+        !isTopDevice(order) &&
+        isTitration(order)
         ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
         : undefined,
       patientSupportTier(facts, order, policy, now),
@@ -89,6 +109,9 @@ export const rule: Rule = {
       belowCriticalLevel ? `below ${formatPercent(criticalSpo2BelowPercent)}` : undefined,
       farBelow ? `more than ${criticalPointsBelowTarget} points below the target` : undefined,
       onTopDevice ? 'already on a reservoir mask, high-flow or NIV' : undefined,
+      highFlowBelowFailing && highFlowFio2 !== undefined
+        ? `on high flow at FiO2 ${formatFraction(highFlowFio2.fraction)}, below the ${formatFraction(failingFio2)} failing level: the FiO2 may be titrated up`
+        : undefined,
       highFio2AtReading && fio2AtReading.kind === 'ok'
         ? `already on FiO2 ${formatFraction(fio2AtReading.value.estimate)} when it was read`
         : undefined,

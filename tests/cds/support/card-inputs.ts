@@ -84,6 +84,7 @@ export const facts: Facts = {
     { value: 22, at: '2025-03-14T07:50:00Z', reported: { value: 22, unit: '/min' }, reference: 'Observation/lb-rr-0001' },
   ],
   haemoglobinGPerDL: [],
+  trendReadings: { spo2Percent: [], fio2Fraction: [], o2FlowLPerMin: [] },
   bloodGases: [gas],
   historicBloodGases: [],
   conditions: [

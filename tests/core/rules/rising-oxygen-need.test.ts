@@ -128,6 +128,45 @@ describe('rising-oxygen-need', () => {
       expect(runRule(rule, venturiOnly)).toStrictEqual([]);
     });
 
+    it('reads the trend from readings kept for it, not from the current values', () => {
+      // The reader keeps SpO2 and flow 5 h old for the 360-min trend window (local choice) though they
+      // are past the 240-min freshness window; a rising requirement calls for review (BTS 2017, from memory)
+      const trendReadings = {
+        spo2Percent: series(spo2, [[95, 300], [94, 20]]),
+        fio2Fraction: [],
+        o2FlowLPerMin: series(o2Flow, [[2, 300], [6, 20]]),
+      };
+      const current = { spo2Percent: [spo2(94, 20)], o2FlowLPerMin: [o2Flow(6, 20)] };
+      const finding = onlyFinding(runRule(rule, buildFacts({ ...onCannula, ...current, trendReadings })));
+      expect(finding.values.oxygenChange).toBe('recorded O2 flow (nasal cannula throughout) rose from 2 L/min (5 h ago) to 6 L/min (20 min ago)');
+      // The same current values without the kept readings show no trend
+      expect(runRule(rule, buildFacts({ ...onCannula, ...current }))).toStrictEqual([]);
+    });
+
+    it('takes the device from this order when no order is on record, and says so', () => {
+      // Nasal cannula flows 2 → 4 L/min with SpO2 96 → 92 %: a fall of >= 3 points despite more oxygen
+      // (BTS 2017 summary); cannula range 1-6 L/min (BTS 2017, check-values 2a)
+      const cannulaDraft = { orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 4 })], activeOrders: [] };
+      const facts = buildFacts({ ...cannulaDraft, o2FlowLPerMin: series(o2Flow, [[2, 200], [4, 20]]), spo2Percent: series(spo2, [[96, 200], [92, 20]]) });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.values.oxygenChange).toBe(
+        'recorded O2 flow (nasal cannula, as this order names; none on record) rose from 2 L/min (3 h 20 min ago) to 4 L/min (20 min ago)',
+      );
+      expect(finding.values.headline).toContain('despite more oxygen');
+      // Unchanged flow on that device with a 4-point fall fires as a fall on unchanged oxygen
+      const same = buildFacts({ ...cannulaDraft, o2FlowLPerMin: series(o2Flow, [[2, 180], [2, 15]]), spo2Percent: series(spo2, [[98, 180], [94, 15]]) });
+      expect(onlyFinding(runRule(rule, same)).values.headline).toContain('on unchanged oxygen');
+    });
+
+    it('does not compare flows above the named device\'s top flow: they were given on something else', () => {
+      // 10 L/min is above the nasal cannula's 6 L/min (BTS 2017, check-values 2a): a mask, not this cannula
+      const cannulaDraft = { orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 4 })], activeOrders: [] };
+      const facts = buildFacts({ ...cannulaDraft, o2FlowLPerMin: series(o2Flow, [[10, 200], [4, 20]]), spo2Percent: series(spo2, [[94, 200], [94, 20]]) });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+      const onRecord = buildFacts({ ...onCannula, o2FlowLPerMin: series(o2Flow, [[2, 200], [10, 20]]), spo2Percent: series(spo2, [[94, 200], [94, 20]]) });
+      expect(runRule(rule, onRecord)).toStrictEqual([]);
+    });
+
     it('does not call SpO2 a fall on unchanged oxygen when the oxygen was lowered', () => {
       // Recorded FiO2 0.40 → 0.28 with SpO2 97 → 93 %: weaning, expected
       const facts = buildFacts({ ...onCannula, fio2Fraction: series(fio2, [[0.4, 200], [0.28, 20]]), spo2Percent: series(spo2, [[97, 200], [93, 10]]) });

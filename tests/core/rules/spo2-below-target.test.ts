@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/spo2-below-target.js';
-import { BTS, activeOrder, buildFacts, condition, fio2, o2Flow, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
+import type { Facts } from '../../../src/core/types.js';
+import { BTS, activeOrder, buildFacts, condition, fio2, minutesAgo, o2Flow, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -116,6 +117,57 @@ describe('spo2-below-target', () => {
       // One point below 94-98 % (BTS 2017) is critical on recorded high flow, as on an ordered one
       const onePointLow = buildFacts({ orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 6 })], o2FlowLPerMin: [o2Flow(45, 30)], spo2Percent: [spo2(93)] });
       expect(onlyFinding(runRule(rule, onePointLow)).values.urgency).toBe('already on a reservoir mask, high-flow or NIV');
+    });
+
+    describe('on high flow, graded by the set FiO2 against the policy failing level', () => {
+      // Policy highFlowFailingFio2AtLeast 0.6 (local choice); target 94-98 % (BTS 2017 Tables 1-3);
+      // criticalSpo2BelowPercent 85 (BTS 2017 Table 2); criticalPointsBelowTarget 4 (local choice)
+      const onHighFlow = (set: number, recorded?: number): Partial<Facts> => ({
+        orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 40, setFio2Fraction: set })],
+        activeOrders: [activeOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 40, setFio2Fraction: set, authoredOn: minutesAgo(240) })],
+        ...(recorded === undefined ? {} : { fio2Fraction: [fio2(recorded)] }),
+      });
+
+      it.each([
+        [0.45, 92, 'warning'], // room to titrate the blender up; 2 points below 94
+        [0.59, 90, 'warning'], // just below the failing level; 4 points below is not more than 4
+        [0.45, 89, 'critical'], // 5 points below the target
+        [0.3, 84, 'critical'], // below 85 % (BTS 2017 Table 2)
+      ])('at set FiO2 %s with SpO2 %s %% is %s', (set, value, indicator) => {
+        expect(BTS.thresholds.highFlowFailingFio2AtLeast).toBe(0.6);
+        const finding = onlyFinding(runRule(rule, buildFacts({ ...onHighFlow(set), spo2Percent: [spo2(value)] })));
+        expect(finding.indicator).toBe(indicator);
+        expect(finding.change).toBeUndefined();
+        expect(finding.values.urgency).toContain(`on high flow at FiO2 ${set.toFixed(2)}, below the 0.60 failing level`);
+        expectCardRenders(finding);
+      });
+
+      it('uses the FiO2 recorded at the reading over the order: a recorded 0.45 on an order for 0.30 is still a warning', () => {
+        // A recorded FiO2 (LOINC 3150-0) is what was delivered (common practice)
+        const finding = onlyFinding(runRule(rule, buildFacts({ ...onHighFlow(0.3, 0.45), spo2Percent: [spo2(92)] })));
+        expect(finding.indicator).toBe('warning');
+        expect(finding.values.urgency).toContain('FiO2 0.45');
+      });
+
+      it('is silent at the failing level, where escalated-support-failing speaks, and critical if that rule is off', () => {
+        const facts = buildFacts({ ...onHighFlow(0.6), spo2Percent: [spo2(92)] });
+        expect(runRule(rule, facts)).toStrictEqual([]);
+        const policy = withPolicy(BTS, { disabledRules: ['escalated-support-failing'] });
+        expect(onlyFinding(runRule(rule, facts, { policy })).indicator).toBe('critical');
+      });
+
+      it('stays critical when nobody knows the FiO2 on high flow: it may be at the failing level', () => {
+        // 45 L/min recorded: only high flow reaches it (Li 2021, check-values 2a); no FiO2 recorded or set
+        const facts = buildFacts({ orders: [oxygenOrder({ device: 'nasal-cannula', flowLPerMin: 6 })], o2FlowLPerMin: [o2Flow(45, 30)], spo2Percent: [spo2(92)] });
+        expect(onlyFinding(runRule(rule, facts)).indicator).toBe('critical');
+      });
+
+      it('never offers a reservoir mask on high flow below the failing FiO2, even below 85 %', () => {
+        // A reservoir mask is a lower tier than high flow (common practice; issue 6 class 3)
+        const finding = onlyFinding(runRule(rule, buildFacts({ ...onHighFlow(0.4), spo2Percent: [spo2(82)] })));
+        expect(finding.change).toBeUndefined();
+        expect(finding.values.suggestedDevice).toBeUndefined();
+      });
     });
 
     it('reports a reading taken on air before oxygen starts only when critical', () => {

@@ -87,21 +87,42 @@ export const ESCALATION: readonly Scenario[] = [
     id: 'niv-copd-below-target',
     story: 'COPD on NIV with FiO2 0.40, SpO2 84 % against 88-92 %',
     pov: 'respiratory therapist', topic: 'class 3: escalated support', age: 68,
-    build: () => ({
-      drafts: [deviceOrder('NIV (BiPAP)', { fio2Percent: 40, note: 'IPAP 20 EPAP 5, target SpO2 88-92%' })],
-      record: [spo2(84), respRate(28), c.copd()],
-    }),
+    // The NIV is on the record (running 2 h), as the story says: a new NIV order written after the
+    // reading is the response to it, not its failure (see cpap-started-after-low-reading).
+    build: () => {
+      const draft = deviceOrder('NIV (BiPAP)', { fio2Percent: 40, note: 'IPAP 20 EPAP 5, target SpO2 88-92%' });
+      return { drafts: [draft], record: [onRecord(draft, 120), spo2(84), respRate(28), c.copd()] };
+    },
     expect: [fires('escalated-support-failing', 'critical', SRC.escalation), noLessOxygen(SRC.escalation)],
   }),
   scenario({
     id: 'cpap-saturation-82-no-reservoir-offer',
     story: 'Pneumonia on CPAP FiO2 0.60, SpO2 82 %: critical-care review, no reservoir mask',
     pov: 'ward doctor', topic: 'class 3: escalated support', age: 63,
+    // The CPAP is on the record (running 3 h), as the story says.
+    build: () => {
+      const draft = deviceOrder('CPAP', { fio2Percent: 60, note: 'CPAP 10 cmH2O, target SpO2 94-98%' });
+      return { drafts: [draft], record: [onRecord(draft, 180), spo2(82), respRate(32), c.pneumonia()] };
+    },
+    expect: [
+      fires('escalated-support-failing', 'critical', SRC.escalation),
+      noLessOxygen(SRC.escalation),
+      neverSays(/reservoir mask at 15/i, 'issue 6 class 3: a reservoir mask is a step down from CPAP'),
+    ],
+  }),
+  scenario({
+    id: 'cpap-started-after-low-reading',
+    story: 'Pneumonia, SpO2 82 %, no support on record; CPAP FiO2 0.60 ordered now: the response to the reading, not its failure',
+    pov: 'ward doctor', topic: 'class 3: escalated support', age: 57,
     build: () => ({
       drafts: [deviceOrder('CPAP', { fio2Percent: 60, note: 'CPAP 10 cmH2O, target SpO2 94-98%' })],
       record: [spo2(82), respRate(32), c.pneumonia()],
     }),
-    expect: [fires('escalated-support-failing', 'critical', SRC.escalation), noLessOxygen(SRC.escalation)],
+    expect: [
+      silent('escalated-support-failing', `${SRC.escalation} (not yet on CPAP when SpO2 was read)`),
+      fires('spo2-below-target', 'critical', 'BTS 2017, Table 2: below 85 % is critical'),
+      noLessOxygen('issue 6 class 3: never offer a reservoir mask (a lower tier) in place of a CPAP order'),
+    ],
   }),
   scenario({
     id: 'niv-copd-at-target',

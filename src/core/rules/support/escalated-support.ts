@@ -1,4 +1,5 @@
 import { highFlowAtReading } from '../../assessment/bedside-physiology.js';
+import type { HighFlowAtReading } from '../../assessment/bedside-physiology.js';
 import type { Assessment } from '../../assessment/types.js';
 import type { Policy } from '../../policy.js';
 import type { Facts, Measured, OxygenOrder, SaturationRange } from '../../types.js';
@@ -15,6 +16,23 @@ export interface EscalatedSupportFailure {
   readonly fio2AtReading: { readonly fraction: number; readonly words: string } | undefined;
   /** On high flow: the set FiO2 this order asks for, when at or above the threshold and not the one at the reading. */
   readonly orderedHighFio2: number | undefined;
+}
+
+/**
+ * The FiO2 a patient on high flow was breathing when the SpO2 was read: the recorded FiO2 at the
+ * reading, else the set FiO2 of the high-flow order in force; undefined when neither is known.
+ */
+export function highFlowFio2AtReading(
+  assessment: Assessment,
+  highFlow: HighFlowAtReading,
+): { readonly fraction: number; readonly words: string } | undefined {
+  const atReading = assessment.physiology.fio2AtSpo2;
+  if (atReading.kind === 'ok' && atReading.value.basis === 'recorded-fio2') {
+    return { fraction: atReading.value.estimate, words: 'recorded at the reading' };
+  }
+  return highFlow.orderedSetFio2 === undefined
+    ? undefined
+    : { fraction: highFlow.orderedSetFio2, words: 'set on the high-flow order' };
 }
 
 function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boolean {
@@ -54,13 +72,7 @@ export function findEscalatedSupportFailure(
     return undefined;
   }
   const threshold = policy.thresholds.highFlowFailingFio2AtLeast;
-  const atReading = assessment.physiology.fio2AtSpo2;
-  const fio2AtReading =
-    atReading.kind === 'ok' && atReading.value.basis === 'recorded-fio2'
-      ? { fraction: atReading.value.estimate, words: 'recorded at the reading' }
-      : highFlow.orderedSetFio2 === undefined
-        ? undefined
-        : { fraction: highFlow.orderedSetFio2, words: 'set on the high-flow order' };
+  const fio2AtReading = highFlowFio2AtReading(assessment, highFlow);
   // This order's own setting counts when it raises the FiO2 to the threshold or above.
   const ordered =
     order.device === 'high-flow-nasal-cannula' &&
