@@ -42,6 +42,12 @@ export const rule: Rule = {
         orderReference: order.reference,
         values: {
           condition: condition.display,
+          // Each named for what it is: paraquat a herbicide (a poisoning), bleomycin a chemotherapy drug.
+          whatItIs:
+            condition.kind === 'paraquat-poisoning'
+              ? 'paraquat is a herbicide'
+              : 'bleomycin is a chemotherapy drug',
+          adviceFrom: condition.kind === 'paraquat-poisoning' ? 'the poisons service' : 'the oncology team',
           orderDescription: describeOrder(order),
           orderedRange: order.target === undefined ? 'none' : formatRange(order.target),
           advisedRange: formatRange(target.range),

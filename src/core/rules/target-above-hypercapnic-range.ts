@@ -51,8 +51,10 @@ export const rule: Rule = {
         : '';
     const gasStatus =
       gas === undefined || gas.paco2MmHg === undefined
-        ? 'no current blood gas'
-        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)}${confirm}`;
+        ? 'none yet'
+        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)} (hypercapnia at or above ${
+            policy.hypercapnicRisk.hypercapniaPaco2.display
+          })${confirm}`;
     const computation = deliveryComputation(assessment);
     const window = policy.thresholds.repeatGasMinutes;
     return [
