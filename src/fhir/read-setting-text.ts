@@ -139,16 +139,49 @@ export function findFio2Mentions(text: string, device: DeviceKind | undefined): 
   return mentions.sort((a, b) => a.start - b.start);
 }
 
+/**
+ * Words just before a value that make it a step of change, not a setting: "wean oxygen by 0.5 L/min",
+ * "decrease by 1L", "step down by 1L", "in steps of 1 L/min", "increments of 2L", "every 1 L/min".
+ * "by" counts only after a word of change within a few words ("Oxygen by 24% Venturi mask" names
+ * the device and its setting), and "of" only after a step word ("a flow of 2 L/min" is a setting).
+ */
+const STEP_BEFORE = new RegExp(
+  String.raw`(?:\b(?:wean|reduc|decreas|increas|lower|rais|titrat|drop|step|adjust|turn|cut|down|up)\w*` +
+    String.raw`(?:\s+(?!by\b)[\w/%.]+){0,3}\s+by|\b(?:steps?|increments?|decrements?|amounts?|reductions?|aliquots?)\s+of|\bevery)` +
+    String.raw`\s*(?:about\s+|approx(?:imately|\.)?\s+|up to\s+|~\s*)?$`,
+  'i',
+);
+/** Words just after a value that make it a step: "0.5 L/min steps", "1L at a time", "2L increments". */
+const STEP_AFTER =
+  /^\s*(?:steps?|increments?|decrements?|reductions?|at a time|each time|per step|a step|stepwise)\b/i;
+
+/**
+ * True when the value at `start`..`end` is the size of a step in a plan to wean or titrate, not the
+ * order's own setting ("Wean by 0.5 L/min steps to off" orders no flow of 0.5 L/min). Like history
+ * and plans (isOutsideTheOrder), a step is never read as the order, nor rewritten as if it were.
+ */
+export function isStepSize(text: string, mention: { readonly start: number; readonly end: number }): boolean {
+  return STEP_BEFORE.test(text.slice(0, mention.start)) || STEP_AFTER.test(text.slice(mention.end));
+}
+
+/** True when a flow or FiO2 mention is what the order sets: neither history, plan nor a step size. */
+export function isOrderedSetting(text: string, mention: { readonly start: number; readonly end: number }): boolean {
+  return !isOutsideTheOrder(text, mention.start) && !isStepSize(text, mention);
+}
+
 export interface SettingTextRead {
   readonly flowLPerMin: number | undefined;
   readonly flowRange: { readonly low: number; readonly high: number } | undefined;
   readonly setFio2Fraction: number | undefined;
 }
 
-/** The flow and set FiO2 the text orders (history and plans, e.g. "escalate to 15L", are skipped). */
+/**
+ * The flow and set FiO2 the text orders (history and plans, e.g. "escalate to 15L", and step sizes,
+ * e.g. "wean by 0.5 L/min steps", are skipped).
+ */
 export function readSettingText(text: string, device: DeviceKind | undefined): SettingTextRead {
-  const flow = findFlowMentions(text).find((m) => !isOutsideTheOrder(text, m.start));
-  const fio2 = findFio2Mentions(text, device).find((m) => !isOutsideTheOrder(text, m.start));
+  const flow = findFlowMentions(text).find((m) => isOrderedSetting(text, m));
+  const fio2 = findFio2Mentions(text, device).find((m) => isOrderedSetting(text, m));
   return {
     flowLPerMin: flow?.flowLPerMin,
     flowRange: flow?.range,

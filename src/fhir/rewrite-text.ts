@@ -2,7 +2,7 @@ import type { DeviceKind, SaturationRange } from '../core/types.js';
 import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { findDeviceMentions, isOutsideTheOrder, readDeviceText } from './read-device-text.js';
-import { findFio2Mentions, findFlowMentions } from './read-setting-text.js';
+import { findFio2Mentions, findFlowMentions, isOrderedSetting } from './read-setting-text.js';
 import { findBoundMentions, findTargetMentions } from './read-target-text.js';
 
 /**
@@ -104,10 +104,10 @@ export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
   };
 }
 
-/** Rewrites the flow the order states (the first outside history and plans); lists the others. */
+/** Rewrites the flow the order states (the first outside history, plans and step sizes); lists the others. */
 export function rewriteFlow(text: string, flowLPerMin: number): Rewrite {
   const all = findFlowMentions(text);
-  const read = all.find((m) => !isOutsideTheOrder(text, m.start));
+  const read = all.find((m) => isOrderedSetting(text, m));
   const edits = read === undefined ? [] : [{ start: read.valueStart, end: read.valueEnd, with: formatNumber(flowLPerMin) }];
   return {
     text: applyEdits(text, edits),
@@ -133,10 +133,10 @@ export function rewriteDevice(
   const devices = findDeviceMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
   // A setting inside a device phrase ("28% mask") is rewritten with the phrase, not on its own.
   const allFio2s = findFio2Mentions(text, oldDevice).filter((m) => !devices.some((d) => m.start < d.end && m.end > d.start));
-  const readFio2 = allFio2s.find((m) => !isOutsideTheOrder(text, m.start));
+  const readFio2 = allFio2s.find((m) => isOrderedSetting(text, m));
   const fio2s = readFio2 === undefined ? [] : [readFio2];
   const allFlows = findFlowMentions(text);
-  const readFlow = allFlows.find((m) => !isOutsideTheOrder(text, m.start));
+  const readFlow = allFlows.find((m) => isOrderedSetting(text, m));
   const newFio2 = change.setFio2Fraction;
   const label = deviceWords(change.device, fio2s.length > 0 ? undefined : newFio2);
   const edits: Edit[] = [

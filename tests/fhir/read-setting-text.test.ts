@@ -1,5 +1,6 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { findFio2Mentions, findFlowMentions, readSettingText } from '../../src/fhir/read-setting-text.js';
+import { findFio2Mentions, findFlowMentions, isStepSize, readSettingText } from '../../src/fhir/read-setting-text.js';
 
 describe('readSettingText', () => {
   it.each([
@@ -34,6 +35,65 @@ describe('readSettingText', () => {
 
   it('skips a flow written as a plan', () => {
     expect(readSettingText('escalate to 15L NRB; currently 2L NC', 'nasal-cannula').flowLPerMin).toBe(2);
+  });
+
+  describe('a step of change is not the ordered flow', () => {
+    // Weaning in steps and titrating flow up or down are how oxygen is adjusted (BTS 2017: wean as
+    // the patient improves; the step sizes below are common practice, not guideline values).
+    it.each([
+      'Wean oxygen by 0.5 L/min steps to off via nasal cannula, target SpO2 88-92%',
+      'Wean by 0.5 L/min to off, nasal cannula',
+      'wean O2 by 1L/min daily via NC',
+      'Decrease by 1 L/min every 4 hours if SpO2 above target, nasal cannula',
+      'Reduce by 1L when sats above 96%, NC',
+      'reduce flow by 0.5 L/min each shift, nasal prongs',
+      'Step down by 1 L/min, nasal cannula',
+      'Titrate by 1 L/min to keep SpO2 94-98% via nasal cannula',
+      'Increase by 2 L/min if SpO2 below 94%, nasal cannula',
+      'Wean in steps of 0.5 L/min, nasal cannula',
+      'nasal cannula, reduce in 1 L/min steps',
+      'Nasal cannula, wean in increments of 0.5 L/min',
+      'Nasal cannula: titrate in 1-2 L/min steps to target',
+      'Wean 0.5 L/min at a time via nasal cannula',
+      'NC, reduce every 1 L/min',
+      'Turn down by about 1 L/min, nasal cannula',
+    ])('reads no flow from "%s"', (text) => {
+      expect(readSettingText(text, 'nasal-cannula')).toMatchObject({ flowLPerMin: undefined, flowRange: undefined });
+    });
+
+    it.each<[string, number]>([
+      ['2 L/min via nasal cannula, wean by 0.5 L/min steps', 2], // BTS 2017, Table 2: nasal cannula 1-6 L/min
+      ['Nasal cannula 3 L/min; reduce by 1 L/min when SpO2 above 96%', 3],
+      ['Wean by 0.5 L/min steps from 2 L/min, nasal cannula', 2],
+      ['Oxygen by 2L nasal cannula', 2], // "by" with no word of change before it names the way it is given
+      ['a flow of 4 L/min via simple face mask', 4], // BTS 2017, Table 2: face mask 5-10 L/min; "of" alone is no step
+    ])('reads the ordered flow beside a step in "%s"', (text, flow) => {
+      expect(readSettingText(text, undefined).flowLPerMin).toBe(flow);
+    });
+
+    it('does not read a step of FiO2 as the set FiO2', () => {
+      // BTS 2017, Table 4: 24 % and 28 % Venturi settings; the 10 % is a step, not a setting
+      expect(readSettingText('Venturi 28% at 4 L/min, increase by 10% if SpO2 below 88%', 'venturi-mask').setFio2Fraction).toBe(0.28);
+      expect(readSettingText('Oxygen by 24% Venturi mask at 2 L/min.', 'venturi-mask')).toMatchObject({ flowLPerMin: 2, setFio2Fraction: 0.24 });
+    });
+
+    it('holds for generated step phrasings around a generated ordered flow', () => {
+      const before = fc.constantFrom('wean by', 'wean oxygen by', 'reduce by', 'decrease flow by', 'step down by', 'titrate by', 'increase by', 'in steps of', 'steps of', 'increments of', 'every');
+      const after = fc.constantFrom('', ' steps', ' at a time', ' increments');
+      // Flows in 0.5 L/min steps up to 15 L/min: the ward range of BTS 2017, Table 2
+      const flow = fc.integer({ min: 1, max: 30 }).map((n) => n / 2);
+      fc.assert(
+        fc.property(flow, flow, before, after, fc.boolean(), (ordered, step, words, tail, orderFirst) => {
+          const stepText = `${words} ${step} L/min${tail}`;
+          const orderText = `${ordered} L/min via nasal cannula`;
+          const text = orderFirst ? `${orderText}, ${stepText}` : `${stepText}; ${orderText}`;
+          expect(readSettingText(text, 'nasal-cannula').flowLPerMin, text).toBe(ordered);
+          const mentions = findFlowMentions(text);
+          expect(mentions.filter((m) => isStepSize(text, m)).map((m) => m.flowLPerMin), text).toStrictEqual([step]);
+        }),
+        { seed: 20261204, numRuns: 300 },
+      );
+    });
   });
 
   describe('edge cases', () => {

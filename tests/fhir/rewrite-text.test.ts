@@ -32,6 +32,9 @@ describe('rewriteFlow', () => {
     ['Venturi 28% at 4 L/min', 6, 'Venturi 28% at 6 L/min', []], // 28 % at 1.5 x 4 L/min, BTS 2017 Table 4
     // the contingency flow keeps its words: only the flow the order reads changes
     ['3L NC; if SpO2 below 85 % call doctor, increase to 4 L/min', 2, '2L NC; if SpO2 below 85 % call doctor, increase to 4 L/min', ['4 L/min']],
+    // a step size is not the order's flow: it keeps its words and is listed (step sizes: common practice)
+    ['3 L/min NC, wean by 0.5 L/min steps', 2, '2 L/min NC, wean by 0.5 L/min steps', ['0.5 L/min']],
+    ['Reduce by 1L when SpO2 above 96%; 2L NC', 1, 'Reduce by 1L when SpO2 above 96%; 1L NC', ['1L']],
   ])('rewrites "%s" to %s L/min', (before, flow, after, left) => {
     expect(rewriteFlow(before, flow)).toStrictEqual({ text: after, stated: true, leftAsWritten: left });
   });

@@ -162,9 +162,15 @@ export function compareOrderedTarget(
  * else the applicable one; none without a target. When the ordered range is higher than a range that
  * exists to limit oxygen (hypercapnic risk, BTS 2017 Table 4; paraquat or bleomycin, Table 3), the
  * advised range is used instead: judging SpO2 against the higher range would prompt more oxygen for
- * exactly the patients it can harm. For acute hypercapnia without chronic retention kept at the
- * patient's range by local policy, a lower ordered range is not used either: SpO2 is judged against
- * the kept range, so hypoxaemia in a tiring patient is not passed as "in range".
+ * exactly the patients it can harm. Nor is an ordered range reaching below the applicable one used
+ * without a documented reason for it: the at-risk range (88–92 %) ordered with no hypercapnic risk on
+ * record, or after a normal gas re-targets to the standard range (comparison
+ * `lower-range-without-risk`, BTS 2017 Tables 2–4); any other range with a lower bound below the
+ * applicable one (comparison `differs`, 90–94 % without risk, say); and any lower range for acute
+ * hypercapnia without chronic retention kept at the patient's range by local policy. The cards that
+ * own those comparisons advise the applicable range. SpO2 is then judged against it (basis
+ * `applicable-over-lower-ordered`), so hypoxaemia is not passed as "in range" or a mild miss, and
+ * accepting the card that raises the range does not change the verdict.
  */
 export function selectTitrationTarget(
   order: OxygenOrder | undefined,
@@ -184,11 +190,20 @@ export function selectTitrationTarget(
   }
   // A lower range ordered for a tiring patient is most likely the CO2 read as chronic retention:
   // judging SpO2 against it would let hypoxaemia pass in a patient who may be about to tire out.
-  if (
-    target.basis === 'standard-despite-acute-hypercapnia' &&
-    order?.target !== undefined &&
-    order.target.lowPercent < target.range.lowPercent
-  ) {
+  // A range reaching lower than the applicable one with no documented reason (the at-risk range with
+  // no risk on record or after a normal gas re-targets, BTS 2017 Tables 2-4; any other lower range)
+  // has a card advising the applicable range: judging SpO2 against the lower one would call 85 % a
+  // mild miss that becomes critical once that card's own suggestion is accepted.
+  const reachesLower =
+    (comparison.kind === 'lower-range-without-risk' || comparison.kind === 'differs') &&
+    comparison.ordered !== undefined &&
+    comparison.ordered.lowPercent < target.range.lowPercent;
+  const lowerOrderedWithoutReason =
+    reachesLower ||
+    (target.basis === 'standard-despite-acute-hypercapnia' &&
+      order?.target !== undefined &&
+      order.target.lowPercent < target.range.lowPercent);
+  if (lowerOrderedWithoutReason) {
     return { range: target.range, basis: 'applicable-over-lower-ordered' };
   }
   if (order?.target !== undefined) {

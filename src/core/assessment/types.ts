@@ -245,8 +245,10 @@ export interface TitrationTarget {
   readonly range: SaturationRange;
   /**
    * `advised-over-ordered`: the ordered range is above a range that limits oxygen, so the advised one
-   * is used. `applicable-over-lower-ordered`: a tiring patient without chronic retention has a lower
-   * range ordered than the one kept for them, so SpO2 is judged against the kept range.
+   * is used. `applicable-over-lower-ordered`: the ordered range is lower than the applicable one with
+   * no documented reason (the at-risk range without a documented risk or after a normal gas; any
+   * lower range for a tiring patient without chronic retention), so SpO2 is judged against the
+   * applicable range.
    */
   readonly basis: 'ordered' | 'applicable' | 'advised-over-ordered' | 'applicable-over-lower-ordered';
 }

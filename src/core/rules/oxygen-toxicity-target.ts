@@ -10,15 +10,16 @@ import type { Rule } from './support/rule-types.js';
  *
  * Rationale: oxygen adds to the lung injury in both; BTS 2017 Table 3 advises avoiding oxygen unless
  * the patient is hypoxaemic and targeting 85–88 % (`targets.oxygenToxicityRisk`; quoted secondarily,
- * V2). Warning, with the range as a suggestion, when the order's target is missing or different;
- * information when it matches and the current SpO2 is already at or above the range's lower bound
- * (not hypoxaemic), as a reminder that oxygen may not be needed at all.
+ * V2). Warning, with the range as a suggestion, when the order's target is missing or different.
+ * Silent when the order already targets that range: the prescriber has followed the advice, and a
+ * card on every such order is alert fatigue (common practice). An SpO2 above the range is then
+ * spo2-above-target's (on oxygen) or oxygen-without-hypoxaemia's (on air), against 85–88 %.
  * Source: BTS 2017 Table 3 (V2).
  */
 export const rule: Rule = {
   id: 'oxygen-toxicity-target',
   title: 'Paraquat or bleomycin: lower target, avoid oxygen unless hypoxaemic',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, now }): readonly Finding[] => {
@@ -31,14 +32,13 @@ export const rule: Rule = {
     if (!givesOxygen(order) || order.purpose === 'comfort') {
       return [];
     }
-    const spo2 = current.spo2;
-    const mismatch = comparison.kind === 'toxicity-range-not-ordered';
-    if (!mismatch && (spo2 === undefined || spo2.value < target.range.lowPercent)) {
+    if (comparison.kind !== 'toxicity-range-not-ordered') {
       return [];
     }
+    const spo2 = current.spo2;
     return [
       makeFinding(rule, {
-        indicator: mismatch ? 'warning' : 'info',
+        indicator: rule.defaultIndicator,
         orderReference: order.reference,
         values: {
           condition: condition.display,
@@ -54,7 +54,7 @@ export const rule: Rule = {
           spo2: spo2 === undefined ? 'no current reading' : describeMeasured(spo2, now, '%'),
         },
         sourceKeys: ['bts-2017'],
-        ...(mismatch ? { change: { kind: 'set-target', range: target.range } as const } : {}),
+        change: { kind: 'set-target', range: target.range },
       }),
     ];
   },

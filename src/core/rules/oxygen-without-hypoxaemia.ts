@@ -82,7 +82,7 @@ function listedConditions(facts: Facts, policy: Policy): ConditionFact[] {
  * bound, where any oxygen takes the saturation further from the target.
  * "On air" is known only from a recorded FiO2 of 0.21 or O2 flow of 0 near the reading (see
  * `airAtReading`). Comfort, stop, weaning and room-air orders are not titrations and are skipped;
- * paraquat and bleomycin are left to `oxygen-toxicity-target`.
+ * paraquat and bleomycin are left to `oxygen-toxicity-target` until 85–88 % is ordered.
  * Info; warning when the at-risk range applies (BTS 2017 Table 4: oxygen that is not needed can
  * raise the PaCO2 of a patient at risk of hypercapnia). No change is offered: an update cannot
  * withdraw an order, so the card says so in words.
@@ -91,7 +91,7 @@ function listedConditions(facts: Facts, policy: Policy): ConditionFact[] {
 export const rule: Rule = {
   id: 'oxygen-without-hypoxaemia',
   title: 'Oxygen ordered for a patient not hypoxaemic on air',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -100,7 +100,9 @@ export const rule: Rule = {
     if (order === undefined || !isTitration(order) || titrationTarget === undefined || spo2 === undefined) {
       return [];
     }
-    if (target.kind === 'range' && target.basis === 'oxygen-toxicity-risk') {
+    // Paraquat or bleomycin without 85-88 % ordered is oxygen-toxicity-target's warning; once that
+    // range is ordered, SpO2 above it on air is this rule's, as for anyone else.
+    if (assessment.targetComparison.kind === 'toxicity-range-not-ordered') {
       return [];
     }
     const { lowPercent, highPercent } = titrationTarget.range;

@@ -60,7 +60,9 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
 
 /**
  * The current SpO2, read on oxygen, is above the upper bound of the range being titrated to (the
- * ordered range, else the applicable one).
+ * ordered range, else the applicable one; the applicable one also when the ordered range is the
+ * lower at-risk range without a documented reason, so 93 % on 88–92 % ordered with no risk is not
+ * "above target" while 94–98 % applies).
  *
  * Rationale: BTS 2017 advises lowering oxygen when SpO2 is above the target range and weaning as the
  * patient improves; BMJ 2018 recommends keeping SpO2 at or below 96 % in acutely ill medical patients,
@@ -78,7 +80,7 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
 export const rule: Rule = {
   id: 'spo2-above-target',
   title: 'SpO2 above the target range while on oxygen',
-  version: 3,
+  version: 4,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -126,7 +128,9 @@ export const rule: Rule = {
               ? 'the ordered range'
               : titrationTarget.basis === 'advised-over-ordered'
                 ? 'the advised range (the ordered range is higher than is safe for this patient)'
-                : 'the policy range',
+                : titrationTarget.basis === 'applicable-over-lower-ordered' && order.target !== undefined
+                  ? `the range that applies (the lower ${formatRange(order.target)} ordered has no documented reason)`
+                  : 'the policy range',
           ...(change?.kind === 'set-flow' ? { suggestedFlow: formatFlow(change.flowLPerMin) } : {}),
         },
         sourceKeys: atRiskRange ? ['bts-2017'] : ['bts-2017', 'bmj-2018'],

@@ -13,7 +13,9 @@ import { keepTier, patientSupportTier } from './support/support-tier.js';
 const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
 
 /**
- * The current SpO2 is below the lower bound of the range being titrated to.
+ * The current SpO2 is below the lower bound of the range being titrated to (target-selection.ts:
+ * the ordered range, or the range that applies when the ordered one is higher than a limiting range
+ * or lower without a documented reason; the card names which).
  *
  * Rationale: a reading below target calls for clinical review (BTS 2017: a fall below the target
  * range prompts reassessment). Warning; critical when SpO2 is below `thresholds.criticalSpo2BelowPercent`
@@ -128,7 +130,9 @@ export const rule: Rule = {
               ? `the ${formatPercent(criticalSpo2BelowPercent)} alert level (no SpO2 target applies)`
               : titrationTarget.basis === 'advised-over-ordered'
                 ? `the advised target ${formatRange(titrationTarget.range)}`
-                : `the target ${formatRange(titrationTarget.range)}`,
+                : titrationTarget.basis === 'applicable-over-lower-ordered' && order.target !== undefined
+                  ? `the target that applies, ${formatRange(titrationTarget.range)} (${formatRange(order.target)} ordered)`
+                  : `the target ${formatRange(titrationTarget.range)}`,
           criticalLevel: formatPercent(criticalSpo2BelowPercent),
           reservoirFlow: formatFlow(reservoir.flowRangeLPerMin.max),
           urgency: because.length === 0 ? 'below the target range' : because.join('; '),

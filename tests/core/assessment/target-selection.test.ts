@@ -184,9 +184,10 @@ describe('compareOrderedTarget', () => {
 
 describe('selectTitrationTarget', () => {
   it('titrates to the ordered range when there is one, else the applicable range', () => {
-    const facts = buildFacts({ orders: [oxygenOrder({ target: { lowPercent: 90, highPercent: 94, readFrom: 'text' } })] });
+    // common practice: an individual range within 94-98 % (BTS 2017, Tables 1-3) is titrated to as ordered
+    const facts = buildFacts({ orders: [oxygenOrder({ target: { lowPercent: 95, highPercent: 97, readFrom: 'text' } })] });
     expect(selectTitrationTarget(facts.orders[0], target(facts), compareOrderedTarget(facts.orders[0], target(facts), BTS))).toStrictEqual({
-      range: { lowPercent: 90, highPercent: 94 },
+      range: { lowPercent: 95, highPercent: 97 },
       basis: 'ordered',
     });
     const none = buildFacts({ orders: [oxygenOrder({ target: undefined })] });
@@ -238,8 +239,49 @@ describe('selectTitrationTarget', () => {
       });
     });
 
-    it('keeps an ordered lower range for a patient with no documented risk (an individual target may exist)', () => {
-      const facts = buildFacts({ orders: ordered(88, 92) });
+    it.each<[string, Facts]>([
+      // BTS 2017, Tables 2-4: 94-98 % without a documented hypercapnic risk
+      ['no documented risk', buildFacts({ orders: ordered(88, 92) })],
+      // BTS 2017, Table 4: an at-risk patient whose gas shows a normal PCO2 (5.3 kPa, below 6.0) and no
+      // previous NIV or hypercapnic failure is re-targeted to 94-98 %
+      ['a normal gas in COPD', buildFacts({ orders: ordered(88, 92), conditions: copd, bloodGases: [normalGas] })],
+    ])('titrates to the 94-98 %% that applies when 88-92 %% is ordered with %s', (_, facts) => {
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: 94, highPercent: 98 }, // BTS 2017, Tables 2-4
+        basis: 'applicable-over-lower-ordered',
+      });
+    });
+
+    it.each<[number, number, number, number]>([
+      // BTS 2017, Tables 1-3: 94-98 % without a documented risk; lower bounds below 94 % reach lower
+      [90, 94, 94, 98],
+      [92, 96, 94, 98], // TSANZ 2015 (Respirology 20:1182) range, ordered under the BTS policy
+      [85, 90, 88, 92], // at risk (BTS 2017, Table 4: 88-92 %): 85 % reaches below it
+    ])('titrates to the applicable range when %s-%s %% is ordered below it', (low, high, appliedLow, appliedHigh) => {
+      const facts = buildFacts({ orders: ordered(low, high), ...(appliedLow === 88 ? { conditions: copd } : {}) });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: appliedLow, highPercent: appliedHigh },
+        basis: 'applicable-over-lower-ordered',
+      });
+    });
+
+    it.each<[number, number]>([
+      [94, 96], // common practice: a narrower range inside 94-98 % (BTS 2017, Tables 1-3) may be an individual target
+      [96, 99], // common practice: no lower than 94 %, so nothing hypoxaemic passes as in range
+    ])('keeps an ordered %s-%s %% that reaches no lower than the applicable range', (low, high) => {
+      const facts = buildFacts({ orders: ordered(low, high) });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: low, highPercent: high },
+        basis: 'ordered',
+      });
+    });
+
+    it('keeps the ordered 88-92 % for a patient at risk (it is the range that applies)', () => {
+      // BTS 2017, Table 4
+      const facts = buildFacts({ orders: ordered(88, 92), conditions: copd });
       const applicable = target(facts);
       expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))?.basis).toBe('ordered');
     });

@@ -188,6 +188,22 @@ describe('oxygen-without-hypoxaemia', () => {
       expect(runRule(rule, onAir(95, ['paraquat-poisoning']), { policy })).toStrictEqual([]);
     });
 
+    it.each<[number, number]>([
+      [88, 0], // the upper bound of 85-88 % (BTS 2017, Table 3, V2): in range on air, the standing prescription
+      [86, 0], // within 85-88 %: oxygen would be given only if it fell (BTS 2017, Table 3, V2)
+      [89, 1], // above 85-88 % on air: any oxygen takes it further above (BTS 2017, Table 3, V2)
+      [95, 1],
+    ])('judges paraquat on air at SpO2 %s %% against the ordered 85-88 %%: %s card(s)', (value, cards) => {
+      const facts = onAir(value, ['paraquat-poisoning'], {
+        orders: [oxygenOrder({ target: { lowPercent: 85, highPercent: 88, readFrom: 'text' } })],
+      });
+      const findings = runRule(rule, facts);
+      expect(findings).toHaveLength(cards);
+      for (const finding of findings) {
+        expect(finding.values.position).toBe('above the target 85–88 %'); // BTS 2017, Table 3 (V2)
+      }
+    });
+
     it('does not fire without a current SpO2, or where no SpO2 target applies', () => {
       expect(runRule(rule, buildFacts({ conditions: [condition('stroke')], fio2Fraction: [fio2(0.21)] }))).toStrictEqual([]);
       // BTS 2017 Table 1 (V): no SpO2 target in carbon monoxide poisoning

@@ -183,6 +183,26 @@ describe('spo2-above-target', () => {
     });
 
     it.each([
+      [93, 0], // above the ordered 88-92 % but below the 94-98 % that applies (BTS 2017, Tables 1-3): no step down
+      [96, 0], // within 94-98 % (BTS 2017, Tables 1-3)
+      [98, 0], // the upper bound of 94-98 % (BTS 2017, Tables 1-3)
+      [99, 1], // above 94-98 % as well: a step down is advised (BTS 2017, weaning above the range)
+    ])('judges SpO2 %s %% on 88-92 %% ordered with no documented risk against 94-98 %%: %s card(s)', (value, cards) => {
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 2, target: { lowPercent: 88, highPercent: 92, readFrom: 'text' } })],
+        spo2Percent: [spo2(value)],
+        o2FlowLPerMin: [o2Flow(2)],
+      });
+      const findings = runRule(rule, facts);
+      expect(findings).toHaveLength(cards);
+      for (const finding of findings) {
+        expect(finding.values.targetRange).toBe('94–98 %'); // BTS 2017, Tables 1-3
+        expect(finding.values.targetSource).toBe('the range that applies (the lower 88–92 % ordered has no documented reason)');
+        expectCardRenders(finding);
+      }
+    });
+
+    it.each([
       [96, 0], // within the policy 94-98 % that target-differs-from-policy offers (BTS 2017 Tables 1-3)
       [99, 1], // above 94-98 % as well: a step down is advised whichever range applies
     ])('judges SpO2 %s %% on a 90-94 %% order for a patient without risk: %s card(s)', (value, cards) => {

@@ -55,6 +55,40 @@ describe('spo2-below-target', () => {
     expect(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(94)] }))).toStrictEqual([]);
   });
 
+  describe('88-92 % ordered with no documented hypercapnic risk', () => {
+    const lowerRange = [oxygenOrder({ target: { lowPercent: 88, highPercent: 92, readFrom: 'text' } })];
+    it.each([
+      // BTS 2017, Tables 1-3: 94-98 % applies without a documented risk (Table 4 lists the risks);
+      // policy criticalPointsBelowTarget 4 (local choice), criticalSpo2BelowPercent 85 (BTS 2017, Table 2)
+      [93, 'warning'], // above the ordered 88-92 %, yet 1 point below the 94 % that applies
+      [91, 'warning'], // inside the ordered 88-92 %, yet 3 points below the 94 % that applies
+      [90, 'warning'], // 4 points below 94: not more than 4
+      [89, 'critical'], // 5 points below 94
+      [85, 'critical'], // 9 points below 94; against the ordered 88 % it would be only 3
+    ])('judges SpO2 %s %% against the 94-98 %% that applies, as %s', (value, indicator) => {
+      const facts = buildFacts({ ...onOxygen, orders: lowerRange, spo2Percent: [spo2(value)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.indicator).toBe(indicator);
+      expect(finding.values.comparedWith).toBe('the target that applies, 94–98 % (88–92 % ordered)');
+      expectCardRenders(finding);
+    });
+
+    it('gives the same severity before and after the range is raised to 94-98 %', () => {
+      // BTS 2017, Tables 1-3: accepting lower-range-without-risk's suggestion must not change the verdict
+      for (const value of [80, 84, 85, 87, 89, 90, 92, 93]) {
+        const before = runRule(rule, buildFacts({ ...onOxygen, orders: lowerRange, spo2Percent: [spo2(value)] }));
+        const after = runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(value)] }));
+        expect(before.map((f) => f.indicator), `SpO2 ${value} %`).toStrictEqual(after.map((f) => f.indicator));
+      }
+    });
+
+    it('still judges a patient at risk against the ordered 88-92 %', () => {
+      // BTS 2017, Table 4: COPD, 88-92 %; SpO2 90 % is in range
+      const facts = buildFacts({ ...onOxygen, orders: lowerRange, conditions: [condition('copd')], spo2Percent: [spo2(90)] });
+      expect(runRule(rule, facts)).toStrictEqual([]);
+    });
+  });
+
   describe('edge cases', () => {
     it('judges an at-risk patient against 88-92 % even when 94-98 % was ordered', () => {
       // BTS 2017, Table 4: chest wall deformity puts the patient at risk; 93 % is above 88-92 %, so
