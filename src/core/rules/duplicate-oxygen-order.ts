@@ -17,7 +17,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'duplicate-oxygen-order',
   title: 'More than one oxygen order',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   appliesTo: 'all-ages', // holds for patients of any age
@@ -36,6 +36,26 @@ export const rule: Rule = {
       ...inDraft.map((o) => `${describeOrder(o)} (in this draft)`),
       ...onRecord.map((o) => `${describeOrder(o)} (active on record)`),
     ];
+    // Two or more oxygen orders signed together: one card about the draft, not one per order.
+    if (inDraft.length > 0) {
+      const drafts = facts.orders.filter((o) => givesOxygen(o));
+      const [first, ...rest] = drafts;
+      const others = [
+        ...rest.map((o) => `${describeOrder(o)} (in this draft)`),
+        ...facts.activeOrders.filter((o) => givesOxygen(o)).map((o) => `${describeOrder(o)} (active on record)`),
+      ];
+      return [
+        makeFinding(rule, {
+          orderReference: undefined,
+          values: {
+            orderDescription: first === undefined ? describeOrder(order) : describeOrder(first),
+            otherOrderCount: String(others.length),
+            otherOrders: others.join('; '),
+          },
+          sourceKeys: ['local-policy'],
+        }),
+      ];
+    }
     return [
       makeFinding(rule, {
         orderReference: order.reference,

@@ -47,7 +47,7 @@ function confirmation(assessment: Assessment, facts: Facts): string | undefined 
 export const rule: Rule = {
   id: 'news2-scale-2',
   title: 'Score SpO2 on NEWS2 Scale 2',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -79,7 +79,8 @@ export const rule: Rule = {
           `${news2Spo2Points(spo2.value, 2, onOxygen)} on Scale 2 and ${news2Spo2Points(spo2.value, 1, onOxygen)} on Scale 1`;
     return [
       makeFinding(rule, {
-        orderReference: order.reference,
+        // About the patient, not one order: two drafts signed together get one card.
+        orderReference: undefined,
         values: {
           targetRange: formatRange(atRiskRange),
           confirmedBy,

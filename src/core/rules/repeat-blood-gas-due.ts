@@ -20,7 +20,7 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'repeat-blood-gas-due',
   title: 'Repeat blood gas due after starting or changing oxygen',
-  version: 1,
+  version: 2,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -54,7 +54,8 @@ export const rule: Rule = {
     return [
       makeFinding(rule, {
         indicator: closesIn < 0 ? 'warning' : rule.defaultIndicator,
-        orderReference: order.reference,
+        // About the patient, not one order: two drafts signed together get one card.
+        orderReference: undefined,
         values: {
           orderDescription: describeOrder(order),
           dueWindow,

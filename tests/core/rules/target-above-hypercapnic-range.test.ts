@@ -31,7 +31,7 @@ describe('target-above-hypercapnic-range', () => {
     });
     const finding = onlyFinding(runRule(rule, facts));
     expect(finding.values.gasStatus).toBe(
-      'venous PCO2 6.8 kPa 1 h ago; a venous PCO2 reads higher than arterial, so confirm with an arterial sample',
+      'venous PCO2 6.8 kPa 1 h ago (hypercapnia at or above 6 kPa); a venous PCO2 reads higher than arterial, so confirm with an arterial sample',
     );
     expectCardRenders(finding);
     const unlabelled = buildFacts({
@@ -39,7 +39,7 @@ describe('target-above-hypercapnic-range', () => {
       bloodGases: [bloodGas({ ageMinutes: 60, specimen: 'unknown', paco2Kpa: 6.8 })],
     });
     expect(onlyFinding(runRule(rule, unlabelled)).values.gasStatus).toBe(
-      'PCO2 (specimen not stated) 6.8 kPa 1 h ago; the sample may be venous, so confirm with an arterial sample',
+      'PCO2 (specimen not stated) 6.8 kPa 1 h ago (hypercapnia at or above 6 kPa); the sample may be venous, so confirm with an arterial sample',
     );
   });
 
@@ -50,7 +50,7 @@ describe('target-above-hypercapnic-range', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } });
     expect(finding.values.orderedRange).toBe('94–98 %');
     expect(finding.values.advisedRange).toBe('88–92 %');
-    expect(finding.values.gasStatus).toBe('PaCO2 6.7 kPa 4 h ago');
+    expect(finding.values.gasStatus).toBe('PaCO2 6.7 kPa 4 h ago (hypercapnia at or above 6 kPa)'); // BTS 2017 clarification: >= 6 kPa
     // BTS 2017, Tables 2-4: repeat gas in 30-60 min
     expect(finding.values.repeatGasWindow).toBe('30–60 min');
     // Nasal cannula 3 L/min: FiO2 about 0.32 (rule of 4, check-values 2a: common practice / V2, ± 0.05)
@@ -69,7 +69,7 @@ describe('target-above-hypercapnic-range', () => {
   ])('warns for %s before any gas (%s)', (kind) => {
     const finding = onlyFinding(runRule(rule, buildFacts({ conditions: [condition(kind)] })));
     expect(finding.indicator).toBe('warning');
-    expect(finding.values.gasStatus).toBe('no current blood gas');
+    expect(finding.values.gasStatus).toBe('none yet');
     expectCardRenders(finding);
   });
 
