@@ -33,7 +33,6 @@ describe('evaluateOrder', () => {
     expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
       ['target-above-hypercapnic-range', 'critical'],
       ['repeat-blood-gas-due', 'info'],
-      ['news2-scale-2', 'info'], // RCP 2017 NEWS2: confirmed hypercapnia (PaCO2 6.7 kPa) with 88-92 %
       ['oxygenation-summary', 'info'],
     ]);
     expect(result.findings[0]?.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } });
@@ -64,7 +63,7 @@ describe('evaluateOrder', () => {
   it('skips rules the policy disables', () => {
     const policy = withPolicy(BTS, { disabledRules: ['target-above-hypercapnic-range', 'oxygenation-summary'] });
     const ids = evaluateOrder(workedCase, policy, { hook: 'order-sign', now: NOW }).findings.map((f) => f.ruleId);
-    expect(ids).toStrictEqual(['repeat-blood-gas-due', 'news2-scale-2']);
+    expect(ids).toStrictEqual(['repeat-blood-gas-due']);
   });
 
   it('applies the policy severity overrides and re-sorts', () => {
@@ -73,7 +72,6 @@ describe('evaluateOrder', () => {
     expect(result.findings.map((f) => [f.ruleId, f.indicator])).toStrictEqual([
       ['repeat-blood-gas-due', 'critical'],
       ['target-above-hypercapnic-range', 'warning'],
-      ['news2-scale-2', 'info'],
       ['oxygenation-summary', 'info'],
     ]);
   });

@@ -194,8 +194,11 @@ export function selectTitrationTarget(
   // no risk on record or after a normal gas re-targets, BTS 2017 Tables 2-4; any other lower range)
   // has a card advising the applicable range: judging SpO2 against the lower one would call 85 % a
   // mild miss that becomes critical once that card's own suggestion is accepted.
+  // A patient at risk of hypercapnia may carry an individual range below 88-92 % (an oxygen alert
+  // card); BTS 2017 Tables 2-4 keep that range, so the ordered one stays the titration target there.
   const reachesLower =
     (comparison.kind === 'lower-range-without-risk' || comparison.kind === 'differs') &&
+    target.basis !== 'hypercapnic-risk' &&
     comparison.ordered !== undefined &&
     comparison.ordered.lowPercent < target.range.lowPercent;
   const lowerOrderedWithoutReason =

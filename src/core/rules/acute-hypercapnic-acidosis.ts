@@ -24,10 +24,10 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'acute-hypercapnic-acidosis',
   title: 'Acute-on-chronic hypercapnic (respiratory) acidosis on the current gas',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'critical',
-  evaluate: ({ assessment, policy, now }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const gas = assessment.current.gas;
     const { ph, paco2MmHg } = gas ?? {};
     const t = policy.thresholds;
@@ -41,6 +41,9 @@ export const rule: Rule = {
     }
     const respRate = assessment.current.respRate;
     const yesNo = (met: boolean): string => (met ? 'met' : 'not met');
+    // A patient already on NIV is not told to consider it: BTS/ICS 2016 asks then for a review of the
+    // settings, the mask and the cause, with a repeat gas, and escalation within the ceiling of care.
+    const onNiv = [assessment.order, ...facts.activeOrders].some((o) => o?.device === 'cpap-niv');
     return [
       makeFinding(rule, {
         orderReference: undefined, // about the patient, not an order: stated once per call
@@ -56,6 +59,7 @@ export const rule: Rule = {
           invasiveThreshold: `pH < ${formatNumber(t.invasiveVentilationPhBelow, 2)}`,
           invasiveThresholdMet: yesNo(ph < t.invasiveVentilationPhBelow),
           advisedRange: formatRange(policy.targets.hypercapnicRisk),
+          nivAdvice: onNiv ? 'on NIV: review settings and escalation' : 'consider NIV',
           bicarbonate: classification.compensation?.shown ?? 'bicarbonate not available',
           chronicEvidence: classification.chronicEvidence.join('; '),
           respiratoryRate:

@@ -8,7 +8,10 @@ import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 
 /** Devices whose use already marks a high oxygen requirement, whatever the estimated FiO2. */
-const HIGH_REQUIREMENT_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
+// High flow is judged by its set FiO2 like any other device: high flow at FiO2 0.30 while weaning
+// is no high requirement. A reservoir mask only delivers high concentrations, and CPAP/NIV is
+// respiratory support whatever its FiO2.
+const HIGH_REQUIREMENT_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'cpap-niv'];
 
 /**
  * When ROX predicts high-flow failure: a short line for the summary ("ROX 3.26 after 6 h, below the
@@ -48,7 +51,7 @@ function roxFailure(assessment: Assessment): { readonly concern: string; readonl
 export const rule: Rule = {
   id: 'high-oxygen-requirement',
   title: 'High oxygen requirement: senior review',
-  version: 3,
+  version: 4,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -69,20 +72,35 @@ export const rule: Rule = {
       return [];
     }
     const support = !highFio2 && order.device === 'cpap-niv';
-    const concern = rox?.concern ?? (support ? 'respiratory support' : 'high oxygen requirement');
+    // With SpO2 above the range being titrated to, the order gives more than is needed: the point is
+    // to step down (BMJ 2018: SpO2 at or below 96 %), not to escalate, so the card is information.
+    const spo2 = assessment.current.spo2;
+    const aboveTarget =
+      rox === undefined &&
+      spo2 !== undefined &&
+      assessment.titrationTarget !== undefined &&
+      spo2.value > assessment.titrationTarget.range.highPercent;
+    const concern =
+      rox?.concern ??
+      (aboveTarget
+        ? 'high-concentration oxygen with SpO2 above target'
+        : support
+          ? 'respiratory support'
+          : 'high oxygen requirement');
     const computation = deliveryComputation(assessment);
     const roxComputation = assessment.physiology.rox.kind === 'ok' && rox !== undefined
       ? [assessment.physiology.rox.value.computation]
       : [];
     return [
       makeFinding(rule, {
-        indicator: rox === undefined ? rule.defaultIndicator : 'critical',
+        indicator: rox !== undefined ? 'critical' : aboveTarget ? 'info' : rule.defaultIndicator,
         orderReference: order.reference,
         values: {
           orderDescription: describeOrder(order),
           deliveredFio2: describeDelivery(assessment),
           fio2Threshold: formatFraction(threshold),
           concern,
+          advice: aboveTarget ? 'consider stepping down' : 'consider senior review',
           trigger: highFio2
             ? `estimated FiO2 at or above ${formatFraction(threshold)}`
             : highDevice

@@ -47,14 +47,17 @@ function confirmation(assessment: Assessment, facts: Facts): string | undefined 
 export const rule: Rule = {
   id: 'news2-scale-2',
   title: 'Score SpO2 on NEWS2 Scale 2',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, target, titrationTarget } = assessment;
     const atRiskRange = policy.targets.hypercapnicRisk;
+    // RCP 2017: Scale 2 goes with a prescribed 88-92 % target, so the order must state that range;
+    // while another range is ordered the target cards speak first, and the chart stays on Scale 1.
     const titratedToAtRiskRange =
       titrationTarget !== undefined &&
+      titrationTarget.basis === 'ordered' &&
       titrationTarget.range.lowPercent === atRiskRange.lowPercent &&
       titrationTarget.range.highPercent === atRiskRange.highPercent;
     if (

@@ -1,7 +1,8 @@
 import { newestFirst } from '../assessment/current-values.js';
-import { formatDuration, formatMinuteWindow } from '../assessment/format.js';
+import { formatDuration, formatMinuteWindow, formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeAge, describeOrder, describeRiskReasons } from './support/describe.js';
+import { givesOxygen } from './support/order-purpose.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -20,12 +21,14 @@ import type { Rule } from './support/rule-types.js';
 export const rule: Rule = {
   id: 'repeat-blood-gas-due',
   title: 'Repeat blood gas due after starting or changing oxygen',
-  version: 2,
+  version: 3,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const { order, hypercapnicRisk } = assessment;
-    if (order === undefined || !hypercapnicRisk.atRisk) {
+    // Comfort oxygen in terminal care is not titrated to a gas (BTS 2017), and an order that stops
+    // oxygen changes nothing a gas would guide.
+    if (order === undefined || !hypercapnicRisk.atRisk || !givesOxygen(order) || order.purpose === 'comfort') {
       return [];
     }
     const orderedAt = order.authoredOn !== undefined && !Number.isNaN(Date.parse(order.authoredOn))
@@ -51,9 +54,22 @@ export const rule: Rule = {
           : closesIn === 0
             ? 'now (the window ends now)'
             : `overdue (the window closed ${formatDuration(closesIn)} ago)`;
+    // Without a current gas the first one is due now: it decides the range (BTS 2017 Tables 2-4).
+    const noCurrentGas = assessment.current.gas === undefined;
+    const standard = formatRange(policy.targets.standard);
+    const headline = noCurrentGas
+      ? 'Blood gas advised now: no current gas'
+      : `Repeat blood gas due ${dueWindow} after this oxygen change`;
+    const gasAdvice = noCurrentGas
+      ? `There is no current blood gas. The BTS guideline advises one now for a patient at risk: if the ` +
+        `PCO2 is normal and there has been no hypercapnic failure, the range becomes ${standard}; then ` +
+        `again ${formatMinuteWindow(window.from, window.to)} after starting or changing oxygen`
+      : `The BTS guideline advises a repeat blood gas ${formatMinuteWindow(window.from, window.to)} after ` +
+        `starting or changing oxygen in these patients, because the PaCO2 may rise without an obvious ` +
+        `change in the patient: due ${dueWindow}`;
     return [
       makeFinding(rule, {
-        indicator: closesIn < 0 ? 'warning' : rule.defaultIndicator,
+        indicator: closesIn < 0 && !noCurrentGas ? 'warning' : rule.defaultIndicator,
         // About the patient, not one order: two drafts signed together get one card.
         orderReference: undefined,
         values: {
@@ -62,6 +78,8 @@ export const rule: Rule = {
           repeatWindow: formatMinuteWindow(window.from, window.to),
           lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas.at, now),
           riskReasons: describeRiskReasons(assessment),
+          headline,
+          gasAdvice,
         },
         sourceKeys: ['bts-2017'],
       }),

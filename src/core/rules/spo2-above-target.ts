@@ -80,7 +80,7 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
 export const rule: Rule = {
   id: 'spo2-above-target',
   title: 'SpO2 above the target range while on oxygen',
-  version: 4,
+  version: 5,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -106,15 +106,22 @@ export const rule: Rule = {
     const flow = order.flowLPerMin;
     // Offer a step down only when this order is not already lower than what is running, and never
     // while the gas shows hypercapnic acidosis or acute hypercapnia (support/oxygen-lowering.ts).
+    // A target written as one bound or two ranges would still tell the nurse to titrate by those words
+    // after a flow change ("sats >= 94%"): the target card asks for one range first, so no step here.
     const change: OrderChange | undefined =
       reasonNotToLowerOxygen(assessment) === undefined &&
+      order.targetNote === undefined &&
       order.device === 'nasal-cannula' &&
       flow !== undefined &&
       flow > minimum &&
       (latestFlow === undefined || flow >= latestFlow)
         ? { kind: 'set-flow', flowLPerMin: Math.max(minimum, flow - policy.thresholds.nasalCannulaStepDownLPerMin) }
         : undefined;
-    const atRiskRange = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';
+    // A range that exists to limit oxygen (hypercapnic risk, BTS 2017 Table 4; paraquat or bleomycin,
+    // Table 3) makes excess oxygen a harm, not just a waste: a warning there.
+    const atRiskRange =
+      assessment.target.kind === 'range' &&
+      (assessment.target.basis === 'hypercapnic-risk' || assessment.target.basis === 'oxygen-toxicity-risk');
     return [
       makeFinding(rule, {
         indicator: atRiskRange ? 'warning' : rule.defaultIndicator,

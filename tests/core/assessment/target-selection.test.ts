@@ -257,13 +257,22 @@ describe('selectTitrationTarget', () => {
       // BTS 2017, Tables 1-3: 94-98 % without a documented risk; lower bounds below 94 % reach lower
       [90, 94, 94, 98],
       [92, 96, 94, 98], // TSANZ 2015 (Respirology 20:1182) range, ordered under the BTS policy
-      [85, 90, 88, 92], // at risk (BTS 2017, Table 4: 88-92 %): 85 % reaches below it
     ])('titrates to the applicable range when %s-%s %% is ordered below it', (low, high, appliedLow, appliedHigh) => {
       const facts = buildFacts({ orders: ordered(low, high), ...(appliedLow === 88 ? { conditions: copd } : {}) });
       const applicable = target(facts);
       expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
         range: { lowPercent: appliedLow, highPercent: appliedHigh },
         basis: 'applicable-over-lower-ordered',
+      });
+    });
+
+    it('keeps an at-risk patient\'s lower ordered range: the oxygen alert card range applies', () => {
+      // BTS 2017, Tables 2-4: keep 88-92 % or the range on the patient's oxygen alert card
+      const facts = buildFacts({ orders: ordered(85, 89), conditions: copd });
+      const applicable = target(facts);
+      expect(selectTitrationTarget(facts.orders[0], applicable, compareOrderedTarget(facts.orders[0], applicable, BTS))).toStrictEqual({
+        range: { lowPercent: 85, highPercent: 89 },
+        basis: 'ordered',
       });
     });
 

@@ -22,12 +22,28 @@ describe('high-oxygen-requirement', () => {
 
   it.each<[DeviceKind, number, number | undefined]>([
     ['reservoir-mask', 15, undefined], // BTS 2017, Table 2: reservoir mask for severe hypoxaemia
-    ['high-flow-nasal-cannula', 40, 0.35],
-    ['cpap-niv', 10, undefined],
+    ['cpap-niv', 10, undefined], // BTS/ICS 2016: CPAP or NIV is respiratory support
   ])('fires for %s whatever the estimate', (device, flow, set) => {
     const facts = buildFacts({ orders: [oxygenOrder({ device, flowLPerMin: flow, setFio2Fraction: set })] });
     const finding = onlyFinding(runRule(rule, facts));
     expectCardRenders(finding);
+  });
+
+  it('judges high flow by its set FiO2: 0.35 while weaning is no high requirement, 0.45 is', () => {
+    // policy thresholds.highOxygenFio2AtLeast 0.40 (local choice); high flow delivers its set FiO2 (check-values 2a)
+    const on = (set: number) => buildFacts({ orders: [oxygenOrder({ device: 'high-flow-nasal-cannula', flowLPerMin: 40, setFio2Fraction: set })] });
+    expect(runRule(rule, on(0.35))).toStrictEqual([]);
+    expect(onlyFinding(runRule(rule, on(0.45))).indicator).toBe('warning');
+  });
+
+  it('is information, advising a step down, when SpO2 is above the target on a reservoir mask', () => {
+    // BMJ 2018: keep SpO2 at or below 96 %; BTS 2017: lower oxygen above the target range
+    const facts = buildFacts({ orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15 })], spo2Percent: [spo2(100)] });
+    const finding = onlyFinding(runRule(rule, facts));
+    expect(finding.indicator).toBe('info');
+    expect(expectCardRenders(finding).summary).toBe(
+      'Reservoir mask at 15 L/min: high-concentration oxygen with SpO2 above target, consider stepping down',
+    );
   });
 
   it('calls CPAP or NIV at a low FiO2 respiratory support, not a high oxygen requirement', () => {
