@@ -104,6 +104,9 @@ function readStructuredSettings(found: readonly FoundQuantity[], notes: OrderNot
   return settings;
 }
 
+/** "via <word>": where an order names its device, read or not ("O2 via wall outlet" is not a device). */
+const DEVICE_SLOT = /\bvia\s+([A-Za-z][\w/-]*(?:\s+mask)?)/i;
+
 interface DeviceRead {
   readonly device: DeviceKind | undefined;
   readonly text: string | undefined;
@@ -114,6 +117,12 @@ function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
   const first = reads[0];
   const chosen = parts.deviceFromCode ?? (first && { device: first.device, text: first.deviceText });
   if (chosen === undefined) {
+    const named = parts.texts.map((t) => DEVICE_SLOT.exec(t)?.[1]).find((w) => w !== undefined);
+    if (named !== undefined) {
+      // Checks that need the device are skipped; say so, so that no card never reads as approval.
+      const detail = `The order names a device ('${named}') that this service does not recognise, so the checks that need the device (flow range, device choice) were not run.`;
+      notes.add('unrecognised', 'Ordered device', detail);
+    }
     return { device: undefined, text: parts.deviceName };
   }
   const named = new Set(reads.flatMap((r) => [r.device, ...r.alsoNamed]));
