@@ -159,6 +159,12 @@ function readTarget(parts: OrderParts, texts: readonly string[], reference: stri
       ? { target, note: undefined }
       : { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
   }
+  if (note?.kind === 'single-value') {
+    // A coded range holding the value written is one target; one that does not is two.
+    return note.percent >= low && note.percent <= high
+      ? { target, note: undefined }
+      : { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
+  }
   if (note?.kind === 'no-target') {
     return { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
   }
