@@ -40,7 +40,8 @@ export interface OrderTarget extends SaturationRange {
 }
 
 /**
- * How an order states its target when it is not one clear range: a single bound ("SpO2 > 94%"), two
+ * How an order states its target when it is not one clear range: a single bound ("SpO2 > 94%"), one
+ * value ("target SpO2 94%"), two
  * ranges or a condition ("88-92% if drowsy, otherwise 94-98%"), or an explicit statement that there
  * is no SpO2 target (palliative or comfort oxygen). `text` is the words it was read from.
  */
@@ -52,7 +53,9 @@ export type TargetNote =
       readonly text: string;
     }
   | { readonly kind: 'ambiguous'; readonly ranges: readonly SaturationRange[]; readonly text: string }
-  | { readonly kind: 'no-target'; readonly text: string };
+  | { readonly kind: 'no-target'; readonly text: string }
+  /** One number with no bound word ("target SpO2 94%"): neither a range nor clearly a floor. */
+  | { readonly kind: 'single-value'; readonly percent: number; readonly text: string };
 
 /**
  * What the order is for. Most orders titrate oxygen to a target; some are for comfort only

@@ -26,6 +26,17 @@ interface DevicePattern {
   readonly specific: boolean;
 }
 
+/** A flow as written before or after a device word: "2L", "2 L/min", "4 lpm", "2 litres". */
+const FLOW_WORDS = String.raw`\d+(?:\.\d+)?\s?(?:L\/min|l\/min|lpm|LPM|L|l|litres?|liters?)`;
+
+/**
+ * A short word that counts as a device only where a device stands in an order: after "via", "per" or
+ * "on", or next to a flow ("2L NP", "NP 2L"). Elsewhere ("seen by NP", "FM radio") it is not a device.
+ */
+function inDevicePosition(word: string): string {
+  return String.raw`(?:(?<=\b(?:via|per|on)\s{1,3})|(?<=${FLOW_WORDS}\s{0,3}))${word}\b|\b${word}(?=\s{0,3}${FLOW_WORDS}\b)`;
+}
+
 const PATTERNS: readonly DevicePattern[] = [
   {
     device: 'high-flow-nasal-cannula',
@@ -36,18 +47,30 @@ const PATTERNS: readonly DevicePattern[] = [
   {
     device: 'nasal-cannula',
     specific: true,
-    pattern: /\bnasal (?:cannula[es]?|cannulae|canula|prongs?|specs|spectacles)\b|\bNC\b|\bn\/c\b/gi,
+    pattern: new RegExp(
+      String.raw`\bnasal (?:cannula[es]?|cannulae|canula|prongs?|specs|spectacles)\b|\bNC\b|\bn\/c\b|` +
+        // "NP" also means nurse practitioner, so it and the bare "prongs"/"specs" count only where a
+        // device stands: "via NP", "2L NP", "NP 2L" (common practice in UK and Australian orders).
+        inDevicePosition(String.raw`(?:NP|prongs|specs)`),
+      'gi',
+    ),
   },
   {
     device: 'simple-face-mask',
     specific: true,
-    pattern: /\bsimple (?:face )?mask\b|\bHudson(?: mask)?\b|\bMC mask\b|\bmedium[- ]concentration mask\b/gi,
+    pattern: new RegExp(
+      String.raw`\bsimple (?:face )?mask\b|\bHudson(?: mask)?\b|\bMC mask\b|\bmedium[- ]concentration mask\b|` +
+        inDevicePosition('(?:FM|SFM)'),
+      'gi',
+    ),
   },
   {
     device: 'venturi-mask',
     specific: true,
-    pattern:
-      /\bventuri(?: mask)?\b|\bfixed[- ]performance(?: mask)?\b|\bair[- ]entrainment(?: mask)?\b|\bcontrolled[- ]oxygen mask\b|\bHAFOE\b|\bV(?:M ?)?(?:24|28|31|35|40|50|60)\b|(?<![\d.])(?:24|28|31|35|40|50|60) ?% ?mask\b/gi,
+    pattern: new RegExp(
+      String.raw`\bventuri(?: mask)?\b|\bfixed[- ]performance(?: mask)?\b|\bair[- ]entrainment(?: mask)?\b|\bcontrolled[- ]oxygen mask\b|\bHAFOE\b|\bV(?:M ?)?(?:24|28|31|35|40|50|60)\b|(?<![\d.])(?:24|28|31|35|40|50|60) ?% ?mask\b|${inDevicePosition('VM')}`,
+      'gi',
+    ),
   },
   {
     device: 'reservoir-mask',
@@ -67,7 +90,7 @@ const PATTERNS: readonly DevicePattern[] = [
       /\bC-?PAP\b|\bNIV\b|\bBi-?PAP\b|\bBPAP\b|\bbi-?level\b|\bNIPPV\b|\bcontinuous positive airway pressure\b|\bnon[- ]?invasive (?:positive[- ]pressure )?ventilation\b/gi,
   },
   { device: 'high-flow-nasal-cannula', specific: false, pattern: /\bhigh[- ]?flow\b/gi },
-  { device: 'simple-face-mask', specific: false, pattern: /\b(?:face|oxygen|O2) mask\b/gi },
+  { device: 'simple-face-mask', specific: false, pattern: /\b(?:face|oxygen|O2) ?mask\b/gi },
 ];
 
 /** Words that make a device mention history, a plan or a negation rather than the order. */

@@ -104,6 +104,9 @@ function readStructuredSettings(found: readonly FoundQuantity[], notes: OrderNot
   return settings;
 }
 
+/** "via <word>": where an order names its device, read or not ("O2 via wall outlet" is not a device). */
+const DEVICE_SLOT = /\bvia\s+([A-Za-z][\w/-]*(?:\s+mask)?)/i;
+
 interface DeviceRead {
   readonly device: DeviceKind | undefined;
   readonly text: string | undefined;
@@ -114,6 +117,12 @@ function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
   const first = reads[0];
   const chosen = parts.deviceFromCode ?? (first && { device: first.device, text: first.deviceText });
   if (chosen === undefined) {
+    const named = parts.texts.map((t) => DEVICE_SLOT.exec(t)?.[1]).find((w) => w !== undefined);
+    if (named !== undefined) {
+      // Checks that need the device are skipped; say so, so that no card never reads as approval.
+      const detail = `The order names a device ('${named}') that this service does not recognise, so the checks that need the device (flow range, device choice) were not run.`;
+      notes.add('unrecognised', 'Ordered device', detail);
+    }
     return { device: undefined, text: parts.deviceName };
   }
   const named = new Set(reads.flatMap((r) => [r.device, ...r.alsoNamed]));
@@ -147,6 +156,12 @@ function readTarget(parts: OrderParts, texts: readonly string[], reference: stri
   if (note?.kind === 'one-sided') {
     // A coded range with a bound in the words that it keeps is one target; one it breaks is two.
     return rangeKeepsBound(structured.range, note.bound, note.percent)
+      ? { target, note: undefined }
+      : { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
+  }
+  if (note?.kind === 'single-value') {
+    // A coded range holding the value written is one target; one that does not is two.
+    return note.percent >= low && note.percent <= high
       ? { target, note: undefined }
       : { target, note: { kind: 'ambiguous', ranges: [structured.range], text: note.text } };
   }

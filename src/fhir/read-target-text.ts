@@ -24,6 +24,17 @@ export interface TargetMention {
   readonly highEnd: number;
   /** True when words around it make it conditional ("if drowsy", "until the gas is back"). */
   readonly conditional: boolean;
+  /** True when written as fractions ("SpO2 target 0.94-0.98"), so a rewrite writes fractions too. */
+  readonly fraction: boolean;
+}
+
+/** A target written as one number with no bound word ("target SpO2 94%"). */
+export interface SingleValueMention {
+  readonly percent: number;
+  /** Offsets of the number and its "%", which a rewrite replaces with a range. */
+  readonly start: number;
+  readonly end: number;
+  readonly conditional: boolean;
 }
 
 export type Bound = 'at-least' | 'above' | 'at-most' | 'below';
@@ -45,6 +56,30 @@ const NOT_A_SATURATION_UNIT = String.raw`(?!\s*(?:mm|kpa|l\b|l\/|lpm|litre|liter
 const RANGE = new RegExp(
   String.raw`(?<![\d.])(?:(between|from)\s+)?(\d{2,3})((?:${PERCENT})?\s*(?:${DASH_CLASS}|\bto\b|\band\b)\s*)(\d{2,3})(?!\d|\.\d)(${PERCENT})?${NOT_A_SATURATION_UNIT}`,
   'gi',
+);
+
+/**
+ * A range written as fractions of one ("SpO2 target 0.94-0.98"). Read only with a saturation word
+ * before it and both ends from 0.5 to 1.0, so FiO2 settings ("FiO2 0.28-0.35") are not read as targets.
+ */
+const FRACTION = String.raw`(?:0?\.\d{1,2}|1(?:\.0{1,2})?)`;
+const FRACTION_RANGE = new RegExp(
+  String.raw`(?<![\d.])(${FRACTION})(\s*(?:${DASH_CLASS}|\bto\b)\s*)(${FRACTION})(?![\d.%])`,
+  'gi',
+);
+const FRACTION_LOWEST = 0.5;
+
+/** One number that may be a whole target ("target SpO2 94%"); the words before it decide. */
+const SINGLE = new RegExp(String.raw`(?<![\d.,])(\d{2,3})(?!\d|[.,]\d)(${PERCENT})?`, 'gi');
+/** Words that make a number right after them the target, not an observation ("sats 91% on air"). */
+const TARGET_WORD = /\b(?:target(?:ing|ed)?|aim(?:ing)?(?:\s+for)?|goal|keep|maintain|titrate(?:d)?\s+to)\b/gi;
+/** What may stand between the target word and its number: "target SpO2 of 94%", "aim sats: 94". */
+const TARGET_TO_NUMBER =
+  /^(?:[\s:=~≈]|\b(?:spo2|sp02|sao2|sats?|saturations?|o2|oxygen|of|is|at|to|around|about|approx(?:imately)?|for|range)\b)*$/i;
+/** Words after a number that make it a bound or part of a range: "94% or above", "94+", "94 to 98". */
+const NOT_SINGLE_AFTER = new RegExp(
+  String.raw`^\s*(?:${PERCENT})?\s*(?:\+|(?:or|and)\s+(?:above|over|more|higher|greater|below|under|less|lower|up|down)\b|${DASH_CLASS}\s*\d|to\s+\d|and\s+\d|\.\d)`,
+  'i',
 );
 
 const AT_LEAST = String.raw`≥|>=|=>|at\s+least|not\s+(?:less|lower)\s+than|no\s+(?:less|lower)\s+than|not\s+below|not\s+under|not\s+<|minimum(?:\s+of)?|min\.?`;
@@ -155,9 +190,74 @@ export function findTargetMentions(text: string): readonly TargetMention[] {
       highStart,
       highEnd: highStart + highText.length,
       conditional: isConditional(text, m.index, end),
+      fraction: false,
     });
   }
-  return mentions;
+  for (const m of text.matchAll(FRACTION_RANGE)) {
+    const [whole, lowText = '', gap = '', highText = ''] = m;
+    const low = Number(lowText);
+    const high = Number(highText);
+    if (low < FRACTION_LOWEST || high > 1 || low >= high || !saysSaturation(text, m.index, false)) {
+      continue;
+    }
+    // 0.94 is 94 %; rounding keeps two-place fractions exact (0.94 * 100 is 93.99999999999999).
+    const range = { lowPercent: Math.round(low * 100), highPercent: Math.round(high * 100) };
+    if (!plausible(range.lowPercent) || !plausible(range.highPercent)) {
+      continue;
+    }
+    const end = m.index + whole.length;
+    mentions.push({
+      range,
+      start: m.index,
+      end,
+      lowStart: m.index,
+      lowEnd: m.index + lowText.length,
+      highStart: m.index + lowText.length + gap.length,
+      highEnd: end,
+      conditional: isConditional(text, m.index, end),
+      fraction: true,
+    });
+  }
+  return mentions.sort((a, b) => a.start - b.start);
+}
+
+/** Whether the clause before `index` ends in a target word and only saturation words after it. */
+function followsTargetWord(text: string, index: number): boolean {
+  const before = clauseBefore(text, index).slice(-40);
+  const last = [...before.matchAll(TARGET_WORD)].pop();
+  if (last === undefined || TRIGGER.test(before)) {
+    return false;
+  }
+  return TARGET_TO_NUMBER.test(before.slice(last.index + last[0].length));
+}
+
+/**
+ * Targets written as one number ("target SpO2 94%", "aim sats 94"): a target word, then only
+ * saturation words, then a number with no bound word and no second number. Numbers inside ranges and
+ * bounds already read are not single values.
+ */
+export function findSingleValueMentions(
+  text: string,
+  taken: readonly { readonly start: number; readonly end: number }[],
+): readonly SingleValueMention[] {
+  const found: SingleValueMention[] = [];
+  for (const m of text.matchAll(SINGLE)) {
+    const percent = Number(m[1]);
+    const start = m.index;
+    const end = start + m[0].length;
+    if (!plausible(percent) || taken.some((t) => start < t.end && end > t.start)) {
+      continue;
+    }
+    const after = text.slice(start + (m[1] ?? '').length, start + (m[1] ?? '').length + 20);
+    if (NOT_SINGLE_AFTER.test(after) || !new RegExp(`^${NOT_A_SATURATION_UNIT}`, 'i').test(text.slice(end))) {
+      continue;
+    }
+    if (!followsTargetWord(text, start)) {
+      continue;
+    }
+    found.push({ percent, start, end, conditional: isConditional(text, start, end) });
+  }
+  return found;
 }
 
 export interface BoundsFound {
@@ -232,9 +332,28 @@ function mostOxygen(ranges: readonly SaturationRange[]): SaturationRange | undef
 }
 
 /**
+ * A target written as one number, read only when the words state no range and no bound: one value
+ * is a single-value note; two different values, or one with a condition, make the target ambiguous.
+ */
+function readSingleValue(
+  singles: readonly { readonly mention: SingleValueMention; readonly quote: string }[],
+): WrittenTarget {
+  const [first] = singles;
+  if (first === undefined) {
+    return { range: undefined, note: undefined };
+  }
+  const text = [...new Set(singles.map((s) => s.quote))].join(' … ');
+  const values = new Set(singles.map((s) => s.mention.percent));
+  if (values.size > 1 || singles.some((s) => s.mention.conditional)) {
+    return { range: undefined, note: { kind: 'ambiguous', ranges: [], text } };
+  }
+  return { range: undefined, note: { kind: 'single-value', percent: first.mention.percent, text } };
+}
+
+/**
  * Reads the target the order's words state, across all its texts. One clear range (however written)
  * is the target. A lower and an upper bound together ("above 88 and below 92") are that range. One
- * bound alone is a one-sided note. Two different ranges, a condition, or bounds that contradict the
+ * bound alone is a one-sided note; one number alone ("target SpO2 94%") a single-value note. Two different ranges, a condition, or bounds that contradict the
  * range make the target ambiguous: the note lists the ranges and the range returned is the one that
  * allows the most oxygen, so the hypercapnic-risk check still sees the reading that could harm.
  */
@@ -242,6 +361,7 @@ export function readWrittenTarget(texts: readonly string[]): WrittenTarget {
   const ranges: SaturationRange[] = [];
   const bounds: { readonly mention: BoundMention; readonly text: string }[] = [];
   const quoted: string[] = [];
+  const singles: { readonly mention: SingleValueMention; readonly quote: string }[] = [];
   let conditional = false;
   let noTarget: string | undefined;
   for (const text of texts) {
@@ -251,10 +371,14 @@ export function readWrittenTarget(texts: readonly string[]): WrittenTarget {
       conditional ||= m.conditional;
       quoted.push(sentenceAround(text, m.start, m.end));
     }
-    for (const mention of findBoundMentions(text, found).targets) {
+    const boundsFound = findBoundMentions(text, found);
+    for (const mention of boundsFound.targets) {
       bounds.push({ mention, text });
       conditional ||= mention.conditional;
       quoted.push(sentenceAround(text, mention.start, mention.end));
+    }
+    for (const mention of findSingleValueMentions(text, [...found, ...boundsFound.targets, ...boundsFound.triggers])) {
+      singles.push({ mention, quote: sentenceAround(text, mention.start, mention.end) });
     }
     const none = findNoTargetStatement(text);
     if (none !== undefined && noTarget === undefined) {
@@ -294,7 +418,7 @@ export function readWrittenTarget(texts: readonly string[]): WrittenTarget {
   }
   const [first] = bounds;
   if (first === undefined) {
-    return { range: undefined, note: undefined };
+    return readSingleValue(singles);
   }
   if (bounds.length > 1) {
     return { range: undefined, note: { kind: 'ambiguous', ranges: [], text } };

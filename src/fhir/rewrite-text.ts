@@ -3,7 +3,7 @@ import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { findDeviceMentions, isOutsideTheOrder, readDeviceText } from './read-device-text.js';
 import { findFio2Mentions, findFlowMentions, isOrderedSetting } from './read-setting-text.js';
-import { findBoundMentions, findTargetMentions } from './read-target-text.js';
+import { findBoundMentions, findSingleValueMentions, findTargetMentions } from './read-target-text.js';
 
 /**
  * Rewrites the values an order's words state, keeping the writer's wording: "target SpO2 94-98%"
@@ -83,19 +83,26 @@ export function deviceWords(device: DeviceKind, setFio2Fraction: number | undefi
 
 /**
  * Rewrites every statement of the target: each range keeps its numbers' places and the writer's style;
- * a single bound ("above 92", "≥ 92 %") becomes the range ("88-92%"). Trigger thresholds ("if SpO2
+ * a single bound ("above 92", "≥ 92 %") or a single value ("target SpO2 94%") becomes the range
+ * ("88-92%"); a range in fractions stays in fractions. Trigger thresholds ("if SpO2
  * below 85 % call doctor") are left as written and listed.
  */
 export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
   const mentions = findTargetMentions(text);
   const bounds = findBoundMentions(text, mentions);
+  // A single value is replaced only where no range or bound is written: then it is the target.
+  const singles =
+    mentions.length === 0 && bounds.targets.length === 0 ? findSingleValueMentions(text, bounds.triggers) : [];
   const written = `${range.lowPercent}-${range.highPercent}%`;
+  // Fractions stay fractions: "0.94-0.98" becomes "0.88-0.92".
+  const inStyle = (percent: number, fraction: boolean): string => (fraction ? (percent / 100).toFixed(2) : String(percent));
   const edits: Edit[] = [
     ...mentions.flatMap((m) => [
-      { start: m.lowStart, end: m.lowEnd, with: String(range.lowPercent) },
-      { start: m.highStart, end: m.highEnd, with: String(range.highPercent) },
+      { start: m.lowStart, end: m.lowEnd, with: inStyle(range.lowPercent, m.fraction) },
+      { start: m.highStart, end: m.highEnd, with: inStyle(range.highPercent, m.fraction) },
     ]),
     ...bounds.targets.map((b) => ({ start: b.start, end: b.end, with: written })),
+    ...singles.map((v) => ({ start: v.start, end: v.end, with: written })),
   ];
   return {
     text: applyEdits(text, edits),

@@ -46,6 +46,22 @@ describe('readDeviceText', () => {
     ['bilevel overnight', 'cpap-niv', 'bilevel'],
     ['NHF 40 L/min', 'high-flow-nasal-cannula', 'NHF'],
     ['HHFNC 40 L/min', 'high-flow-nasal-cannula', 'HHFNC'],
+    // Short ward words, read only where a device stands (common practice in UK and Australian orders)
+    ['O2 8L via NP, target SpO2 94-98%', 'nasal-cannula', 'NP'],
+    ['NP 2L', 'nasal-cannula', 'NP'],
+    ['2L NP', 'nasal-cannula', 'NP'],
+    ['2 L/min np', 'nasal-cannula', 'np'],
+    ['O2 on NP', 'nasal-cannula', 'NP'],
+    ['2L via prongs', 'nasal-cannula', 'prongs'],
+    ['3 litres specs', 'nasal-cannula', 'specs'],
+    ['O2 via nasal spectacles', 'nasal-cannula', 'nasal spectacles'],
+    ['6L FM', 'simple-face-mask', 'FM'],
+    ['via SFM 5 L/min', 'simple-face-mask', 'SFM'],
+    ['6L facemask', 'simple-face-mask', 'facemask'],
+    ['8L via Hudson', 'simple-face-mask', 'Hudson'],
+    ['4L via VM', 'venturi-mask', 'VM'],
+    ['O2 via trachy mask 5L', 'tracheostomy-mask', 'trachy mask'],
+    ['BiPAP 16/6', 'cpap-niv', 'BiPAP'],
   ])('reads "%s" as %s', (text, device, words) => {
     const read = readDeviceText(text);
     expect(read?.device).toBe(device);
@@ -84,7 +100,9 @@ describe('readDeviceText', () => {
 
   describe('edge cases', () => {
     // Words with no kind here (docs/basis/devices.md): the reader leaves the device undefined.
-    it.each([[''], ['Oxygen therapy'], ['mask'], ['HFNCX'], ['ENC'], ['T-piece 10L'], ['bag-valve mask'], ['partial rebreathing mask'], ['HFO']])(
+    it.each([[''], ['Oxygen therapy'], ['mask'], ['HFNCX'], ['ENC'], ['T-piece 10L'], ['bag-valve mask'], ['partial rebreathing mask'], ['HFO'],
+      // "NP" as nurse practitioner, and short words outside a device position (common practice)
+      ['seen by NP today'], ['discussed with NP'], ['NP review'], ['FM radio'], ['VMO2 note'], ['SNP'], ['inspecs']])(
       'names no device in "%s"',
       (text) => {
         expect(readDeviceText(text)).toBeUndefined();

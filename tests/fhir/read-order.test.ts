@@ -325,4 +325,22 @@ describe('readOrder', () => {
       expect([order.target, order.targetNote]).toStrictEqual([{ lowPercent: 88, highPercent: 92, readFrom: 'text' }, undefined]); // BTS 2017 Table 4
     });
   });
+
+  describe('a device named but not recognised', () => {
+    it('notes it, so that the checks skipped for want of a device are not silent', () => {
+      const resource = oxygenServiceRequest('sr-unknown-device', {
+        patientInstruction: 'O2 2L via wallbox, target SpO2 94-98%', // BTS 2017, Tables 1-3
+      });
+      const { order, notes } = read(resource);
+      expect(order.device).toBeUndefined();
+      expect(notes).toHaveLength(1);
+      expect(notes[0]).toMatchObject({ reason: 'unrecognised', what: 'Ordered device' });
+      expect(notes[0]?.detail).toMatch(/'wallbox'.*not recognise/);
+    });
+
+    it('says nothing when the words name no device at all', () => {
+      const resource = oxygenServiceRequest('sr-no-device', { patientInstruction: 'O2 2 L/min, target SpO2 94-98%' });
+      expect(read(resource).notes).toStrictEqual([]);
+    });
+  });
 });

@@ -4,6 +4,7 @@ import {
   clauseBefore,
   CLAUSE_LOOK_BACK_CHARS,
   findBoundMentions,
+  findSingleValueMentions,
   findTargetMentions,
   readTargetText,
   readWrittenTarget,
@@ -36,6 +37,7 @@ describe('readTargetText', () => {
       highStart: 15,
       highEnd: 17,
       conditional: false,
+      fraction: false,
     });
   });
 
@@ -49,7 +51,9 @@ describe('readTargetText', () => {
       ['a bare number range with no % and no saturation word', 'bed 88-92'],
       ['a range with low above high', 'target 98-94%'],
       ['a range above 100 %', 'target 95-105%'],
-      ['decimals', 'target 0.88-0.92'],
+      ['fractions with no saturation word', 'give 0.88-0.92'],
+      ['an FiO2 range in fractions', 'FiO2 0.60-0.80'],
+      ['fractions below one half after a saturation word', 'SpO2 target 0.24-0.28'],
       ['an empty string', ''],
     ])('does not read %s', (_what, text) => {
       expect(readTargetText(text)).toBeUndefined();
@@ -273,5 +277,93 @@ describe('readWrittenTarget: what is not a target', () => {
     const found = findBoundMentions('target 94-98%. If SpO2 below 85 % call doctor');
     expect(found.targets).toStrictEqual([]);
     expect(found.triggers.map((t) => t.percent)).toStrictEqual([85]); // an invented contingency threshold
+  });
+});
+
+describe('readWrittenTarget: a range written as fractions', () => {
+  // SpO2 is a fraction of one as well as a percentage (ISO 80601-2-61 defines it as a ratio; common
+  // practice writes it as a percentage). The ranges are the published ones.
+  it.each([
+    ['SpO2 target 0.94-0.98', 94, 98], // BTS 2017, Tables 1-3
+    ['target sats 0.88–0.92', 88, 92], // BTS 2017, Table 4 (en dash)
+    ['aim SpO2 .92 to .96', 92, 96], // TSANZ 2015, Respirology 20:1182
+    ['Oxygen 2 L/min NC, SpO2 target 0.94-0.98', 94, 98], // BTS 2017, Tables 1-3
+    ['maintain saturations 0.94 - 1.0', 94, 100], // from memory: "up to 1.0" is sometimes written; read as written
+  ])('reads "%s" as %i–%i %%', (text, low, high) => {
+    expect(readWrittenTarget([text])).toStrictEqual({ range: { lowPercent: low, highPercent: high }, note: undefined });
+    expect(findTargetMentions(text)[0]?.fraction).toBe(true);
+  });
+
+  it('reads any two-place fraction range after a saturation word as the same percentage range', () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 50, max: 99 }), fc.integer({ min: 1, max: 50 }), (low, width) => {
+        const high = Math.min(100, low + width);
+        const asFraction = (p: number): string => (p / 100).toFixed(2);
+        const read = readWrittenTarget([`SpO2 target ${asFraction(low)}-${asFraction(high)}`]);
+        // Percentages and fractions are the same quantity (ISO 80601-2-61; common practice)
+        expect(read.range).toStrictEqual({ lowPercent: low, highPercent: high });
+      }),
+    );
+  });
+});
+
+describe('readWrittenTarget: one value', () => {
+  // BTS 2017 asks that oxygen be prescribed to a target range; one value is neither a range nor a floor.
+  it.each([
+    ['target SpO2 94%', 94], // BTS 2017, Tables 1-3: 94 is the low end of 94-98 %
+    ['Oxygen 2 L/min nasal cannulae, target SpO2 94%', 94], // BTS 2017, Tables 1-3
+    ['Target: 92%', 92], // TSANZ 2015, Respirology 20:1182: low end of 92-96 %
+    ['aim sats 88', 88], // BTS 2017, Table 4: low end of 88-92 %
+    ['keep SpO2 of 90 %', 90], // from memory: a value some prescribers write; read as written
+    ['titrate to sats 96%', 96], // TSANZ 2015: inside 92-96 %
+    ['target saturations of approximately 94 per cent', 94], // BTS 2017, Tables 1-3
+  ])('reads "%s" as one value (%i %%), with no range', (text, percent) => {
+    expect(readWrittenTarget([text])).toStrictEqual({ range: undefined, note: { kind: 'single-value', percent, text } });
+  });
+
+  it.each([
+    ['an observation, not a target', 'sats 91% on air, 2L NC'],
+    ['a trigger', 'if SpO2 below 85% call doctor'],
+    ['a number after a target word but an observation word between', 'target range: currently 91%'],
+    ['a flow after a target word', 'titrate to 4 L/min'],
+    ['a postfix bound', 'keep sats 94% or above'],
+    ['a plus sign', 'target SpO2 94+'],
+    ['a PaO2', 'target PaO2 60 mmHg'],
+    ['a value outside the plausible targets', 'target SpO2 40%'],
+  ])('does not read %s ("%s") as a single-value target', (_what, text) => {
+    expect(readWrittenTarget([text]).note?.kind).not.toBe('single-value');
+  });
+
+  it('leaves a value beside a written range to the range', () => {
+    // BTS 2017, Tables 1-3: 94-98 %; the 91 is what the patient reads now, not a second target
+    expect(readWrittenTarget(['target SpO2 94-98%, sats 91% on air'])).toStrictEqual({
+      range: { lowPercent: 94, highPercent: 98 },
+      note: undefined,
+    });
+  });
+
+  it('reads two different values, or one with a condition, as ambiguous', () => {
+    // BTS 2017, Table 4 (88) and Tables 1-3 (94): two values leave the target unclear
+    expect(readWrittenTarget(['target SpO2 88%', 'target SpO2 94%']).note?.kind).toBe('ambiguous');
+    expect(readWrittenTarget(['target SpO2 94% until the gas is back']).note?.kind).toBe('ambiguous');
+  });
+
+  it('finds the value under any target word and saturation word, and nothing when the target word is missing', () => {
+    const targetWords = ['target', 'aim', 'goal', 'keep', 'maintain', 'titrate to'];
+    const satWords = ['SpO2', 'sats', 'saturations', ''];
+    fc.assert(
+      fc.property(
+        fc.constantFrom(...targetWords),
+        fc.constantFrom(...satWords),
+        fc.integer({ min: 80, max: 100 }), // common practice: the targets written on wards lie in 80-100 %
+        fc.constantFrom('%', ' %', '', ' percent'),
+        (word, sat, percent, unit) => {
+          const text = `O2 2L NC, ${word} ${sat} ${percent}${unit}`.replace(/\s+/g, ' ');
+          const found = findSingleValueMentions(text, []);
+          expect(found.map((f) => f.percent)).toStrictEqual([percent]);
+          expect(findSingleValueMentions(`O2 2L NC, ${sat} ${percent}${unit} on air`, [])).toStrictEqual([]);
+        },
+      ),
+    );
   });
 });

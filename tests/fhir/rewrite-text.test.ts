@@ -7,6 +7,26 @@ import { findTargetMentions } from '../../src/fhir/read-target-text.js';
 // BTS 2017 Table 4: 88-92 % for patients at risk of hypercapnic respiratory failure
 const HYPERCAPNIC = { lowPercent: 88, highPercent: 92 };
 
+describe('rewriteTarget: one value and fractions', () => {
+  // BTS 2017, Table 4: 88-92 %; Tables 1-3: 94-98 %
+  it.each([
+    ['Oxygen 2 L/min nasal cannulae, target SpO2 94%', { lowPercent: 94, highPercent: 98 }, 'Oxygen 2 L/min nasal cannulae, target SpO2 94-98%'],
+    ['aim sats 88', { lowPercent: 88, highPercent: 92 }, 'aim sats 88-92%'],
+    ['SpO2 target 0.94-0.98', { lowPercent: 88, highPercent: 92 }, 'SpO2 target 0.88-0.92'],
+    ['target sats .94 to .98, 2L NC', { lowPercent: 88, highPercent: 92 }, 'target sats 0.88 to 0.92, 2L NC'],
+  ])('rewrites "%s" in place, with no second target', (before, range, after) => {
+    const result = rewriteTarget(before, range);
+    expect(result).toStrictEqual({ text: after, stated: true, leftAsWritten: [] });
+  });
+
+  it('leaves an observation beside a written range alone', () => {
+    // BTS 2017, Tables 1-3: 94-98 %; "sats 91% on air" is a reading, not a target
+    expect(rewriteTarget('target SpO2 94-98%, sats 91% on air', { lowPercent: 88, highPercent: 92 }).text).toBe(
+      'target SpO2 88-92%, sats 91% on air',
+    );
+  });
+});
+
 describe('rewriteTarget', () => {
   it.each([
     ['target SpO2 94-98%', 'target SpO2 88-92%'],

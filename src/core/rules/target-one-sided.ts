@@ -26,7 +26,8 @@ function rangeKeepsBound(range: SaturationRange, bound: Bound, percent: number):
 }
 
 /**
- * The order states its target as one bound ("SpO2 > 94%", "keep sats above 92", "sats not below 88").
+ * The order states its target as one bound ("SpO2 > 94%", "keep sats above 92", "sats not below 88"),
+ * or as one value with no bound word ("target SpO2 94%"), which is neither a range nor clearly a floor.
  *
  * Rationale: BTS 2017 asks that oxygen be prescribed to a target range, so that it is turned down as
  * well as up; a lower bound alone invites over-oxygenation, which matters most for a patient at risk
@@ -41,14 +42,14 @@ function rangeKeepsBound(range: SaturationRange, bound: Bound, percent: number):
  */
 export const rule: Rule = {
   id: 'target-one-sided',
-  title: 'Target written as one bound, not a range',
+  title: 'Target written as one bound or one value, not a range',
   version: 1,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, target, targetComparison, hypercapnicRisk: risk } = assessment;
     const note = order?.targetNote;
-    if (order === undefined || note?.kind !== 'one-sided' || !expectsTarget(order)) {
+    if (order === undefined || (note?.kind !== 'one-sided' && note?.kind !== 'single-value') || !expectsTarget(order)) {
       return [];
     }
     if (targetComparison.kind !== 'missing' || target.kind !== 'range') {
@@ -56,17 +57,23 @@ export const rule: Rule = {
     }
     const advised = targetComparison.advised;
     const advisedRange = formatRange(advised);
-    const keeps = rangeKeepsBound(advised, note.bound, note.percent);
-    const aboveAtRiskRange =
-      target.basis === 'hypercapnic-risk' && isLower(note.bound) && note.percent > advised.highPercent;
+    const single = note.kind === 'single-value';
+    // One value is kept by a range that holds it; read as a floor it is no more than a guess.
+    const keeps = single
+      ? note.percent >= advised.lowPercent && note.percent <= advised.highPercent
+      : rangeKeepsBound(advised, note.bound, note.percent);
+    const asksForMore = single || isLower(note.bound);
+    const aboveAtRiskRange = target.basis === 'hypercapnic-risk' && asksForMore && note.percent > advised.highPercent;
+    const what = single ? 'value' : 'bound';
     const suggestionNote = keeps
-      ? `The range ${advisedRange} keeps the bound written, so it is offered as a one-click change.`
+      ? `The range ${advisedRange} holds the ${what} written, so it is offered as a one-click change that ` +
+        `replaces the ${what} in the order's words.`
       : aboveAtRiskRange
-        ? `The bound asks for SpO2 above the whole of ${advisedRange}, the range for a patient at risk of ` +
+        ? `The ${what} asks for SpO2 above the whole of ${advisedRange}, the range for a patient at risk of ` +
           'hypercapnic respiratory failure: more oxygen than the BTS guideline advises for them. No ' +
-          'one-click change is offered, because replacing the bound would change what was asked; please ' +
+          `one-click change is offered, because replacing the ${what} would change what was asked; please ` +
           'choose the range.'
-        : `No one-click change is offered: ${advisedRange} would not keep the bound written, so choosing ` +
+        : `No one-click change is offered: ${advisedRange} would not keep the ${what} written, so choosing ` +
           'the range is the prescriber’s decision.';
     return [
       makeFinding(rule, {
@@ -74,7 +81,10 @@ export const rule: Rule = {
         orderReference: order.reference,
         values: {
           orderDescription: describeOrder(order),
-          writtenBound: `${BOUND_WORDS[note.bound]} ${formatPercent(note.percent)}`,
+          writtenWhat: what,
+          writtenForm: single
+            ? `one value (SpO2 ${formatPercent(note.percent)})`
+            : `one bound (SpO2 ${BOUND_WORDS[note.bound]} ${formatPercent(note.percent)})`,
           writtenText: note.text,
           advisedRange,
           targetReason: target.reason,

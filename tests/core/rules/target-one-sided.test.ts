@@ -93,6 +93,41 @@ describe('target-one-sided', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-target', range: { lowPercent: 92, highPercent: 96 } });
   });
 
+  describe('a target written as one value', () => {
+    // BTS 2017 asks for a target range; one value ("target SpO2 94%") is neither a range nor a floor.
+    it.each([
+      ['target SpO2 94%', STANDARD, {}], // 94 lies in 94-98 % (BTS 2017, Tables 1-3)
+      ['aim sats 96', STANDARD, {}], // 96 lies in 94-98 % (BTS 2017, Tables 1-3)
+      ['target SpO2 90%', AT_RISK, copd], // 90 lies in 88-92 % for COPD (BTS 2017, Table 4)
+    ] as const)('advises a full range for "%s" and offers the range that holds it', (text, advised, at) => {
+      const finding = onlyFinding(runRule(rule, facts(text, at)));
+      expect(finding.change).toStrictEqual({ kind: 'set-target', range: advised });
+      const card = expectCardRenders(finding);
+      expect(card.summary).toMatch(/one value/);
+      expect(card.label).toMatch(/^Replace the value with target/);
+      // one card per problem: the missing-target card does not add a second target
+      expect(runRule(targetRangeMissing, facts(text, at))).toStrictEqual([]);
+    });
+
+    it.each([
+      ['target SpO2 92%', STANDARD, {}], // 92 is below 94-98 % (BTS 2017, Tables 1-3)
+      ['target SpO2 99%', STANDARD, {}], // 99 is above 94-98 %
+    ] as const)('offers no change for "%s", which the range would not hold, and says why', (text, advised, at) => {
+      const finding = onlyFinding(runRule(rule, facts(text, at)));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.advisedRange).toBe(`${advised.lowPercent}–${advised.highPercent} %`);
+      expect(finding.values.suggestionNote).toMatch(/would not keep the value written/);
+      expectCardRenders(finding);
+    });
+
+    it('warns that one value above the at-risk range asks for more oxygen than advised', () => {
+      // BTS 2017, Table 4: 88-92 % for COPD; 94 % lies above the whole range
+      const finding = onlyFinding(runRule(rule, facts('target SpO2 94%', copd)));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.suggestionNote).toMatch(/more oxygen than the BTS guideline advises/);
+    });
+  });
+
   describe('does not fire', () => {
     it.each([
       'target SpO2 94-98%', // a full range, BTS 2017 Tables 1-3

@@ -75,6 +75,62 @@ export const TARGETS_AND_TEXT: readonly Scenario[] = [
   copdRangeWritten('notation-minus-sign', 'target SpO2 88−92%', 'pharmacist'),
   copdRangeWritten('notation-spaced-hyphen', 'sats 88 - 92 %', 'respiratory therapist'),
   copdRangeWritten('notation-no-percent', 'aim SpO2 88-92', 'ward doctor'),
+  copdRangeWritten('notation-fractions', 'target SpO2 0.88-0.92', 'respiratory therapist'),
+  copdRangeWritten('notation-fractions-to', 'aim sats .88 to .92', 'ward doctor'),
+  oneSided('one-value-target-94', 'target SpO2 94%', 'ward doctor', 96),
+  oneSided('one-value-aim-sats', 'aim sats 95', 'pharmacist', 96),
+  scenario({
+    id: 'one-value-replaced-not-appended',
+    story: 'Pneumonia on 2 L/min nasal cannulae, target written as one value "target SpO2 94%"',
+    pov: 'ward doctor', topic: notation, age: 58,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min nasal cannulae, target SpO2 94%')],
+      record: [spo2(95), respRate(17), c.pneumonia()],
+    }),
+    expect: [
+      fires('target-one-sided', 'warning', SRC.btsRange),
+      silent('target-range-missing', `${SRC.btsRange}: a value was written, it is not missing`),
+      suggestionsKeep('target SpO2 94-98%', `BTS 2017, Tables 1-3; ${SRC.cdsOnly}`),
+      suggestionsLose('Target SpO2 94-98%.', 'common practice: one target in an order, not a second one appended'),
+    ],
+  }),
+  scenario({
+    id: 'device-np-at-target',
+    story: 'Pneumonia on 2 L/min "via NP" (nasal prongs), SpO2 95 %, target 94-98 %',
+    pov: 'respiratory therapist', topic: notation, age: 61, benign: true,
+    build: () => ({
+      drafts: [serviceOrder('O2 2L via NP, target SpO2 94-98%')],
+      record: [spo2(95), respRate(16), c.pneumonia()],
+    }),
+    expect: [
+      silent('data-set-aside', 'common practice: "NP" in a device position is nasal prongs, a nasal cannula'),
+      silent('flow-outside-device-range', SRC.cannula),
+    ],
+  }),
+  scenario({
+    id: 'device-np-8l',
+    story: 'Pneumonia on 8 L/min "via NP": above the usual nasal cannula flows',
+    pov: 'ward doctor', topic: notation, age: 64,
+    build: () => ({
+      drafts: [serviceOrder('O2 8L via NP, target SpO2 94-98%')],
+      record: [spo2(95), respRate(20), c.pneumonia()],
+    }),
+    expect: [
+      fires('flow-outside-device-range', 'warning', `${SRC.cannula}; common practice: NP is nasal prongs`),
+    ],
+  }),
+  scenario({
+    id: 'device-named-not-recognised',
+    story: 'Pneumonia on 2 L/min "via wallbox": a device word the service does not know',
+    pov: 'pharmacist', topic: notation, age: 55,
+    build: () => ({
+      drafts: [serviceOrder('O2 2L via wallbox, target SpO2 94-98%')],
+      record: [spo2(95), respRate(16), c.pneumonia()],
+    }),
+    expect: [
+      fires('data-set-aside', 'info', 'common practice: a check skipped for want of data is stated, so no card is not read as approval'),
+    ],
+  }),
   oneSided('one-sided-greater-than', 'SpO2 > 94%', 'ward doctor', 96),
   oneSided('one-sided-keep-above', 'keep sats above 92', 'respiratory therapist', 95),
   oneSided('one-sided-at-least-symbol', 'target SpO2 ≥ 92 %', 'pharmacist', 95),
