@@ -103,6 +103,8 @@ export interface Policy {
     readonly nasalCannulaStepDownLPerMin: number;
     /** Repeat blood gas window after starting or changing oxygen in an at-risk patient (BTS 2017). */
     readonly repeatGasMinutes: { readonly from: number; readonly to: number };
+    /** The highest flow a ward oxygen flowmeter gives (common practice: 15 L/min). */
+    readonly flowmeterMaxLPerMin: number;
     /** High flow at or above this set FiO2 with SpO2 below target is failing (local choice: 0.6). */
     readonly highFlowFailingFio2AtLeast: number;
     /** How far back recorded flows, FiO2 and SpO2 are read for a rising oxygen need. */

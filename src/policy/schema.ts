@@ -98,6 +98,7 @@ export const PolicyFileSchema = z.strictObject({
       .strictObject({ from: z.number().int().min(5), to: z.number().int().max(240) })
       .refine((w) => w.from <= w.to, { message: 'from must not exceed to' }),
     highFlowFailingFio2AtLeast: z.number().min(0.21).max(1).default(0.6),
+    flowmeterMaxLPerMin: z.number().min(10).max(70).default(15),
     oxygenNeedTrendMinutes: z.number().int().min(30).max(1440).default(360),
     spo2FallPoints: z.number().min(1).max(10).default(3),
   }),

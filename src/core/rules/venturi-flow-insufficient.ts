@@ -67,7 +67,7 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
 export const rule: Rule = {
   id: 'venturi-flow-insufficient',
   title: 'Venturi mask flow too low for the setting or the patient',
-  version: 3,
+  version: 4,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {
@@ -100,7 +100,10 @@ export const rule: Rule = {
     if (flow >= needed && !demandNotMet) {
       return [];
     }
-    const maxFlow = DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max;
+    // A flow a ward flowmeter cannot give (60 % at 15 L/min raised by half is 22.5 L/min) is no
+    // one-click fix: the patient needs another device, with senior input.
+    const maxFlow = Math.min(DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max, policy.thresholds.flowmeterMaxLPerMin);
+    const beyondFlowmeter = flow < needed && needed > maxFlow;
     const change: OrderChange | undefined =
       flow < needed && needed <= maxFlow && isTitration(order) ? { kind: 'set-flow', flowLPerMin: needed } : undefined;
     const computation = deliveryComputation(assessment);
@@ -117,7 +120,10 @@ export const rule: Rule = {
           respRateThreshold: `${formatNumber(rrAbove, 0)}/min`,
           flowBalance:
             `Estimated total flow from the mask: ${total === undefined ? 'not estimated' : formatFlow(total)}, ` +
-            `against an estimated peak inspiratory flow of ${peak === undefined ? 'not estimated' : formatFlow(peak)}.`,
+            `against an estimated peak inspiratory flow of ${peak === undefined ? 'not estimated' : formatFlow(peak)}.` +
+            (beyondFlowmeter
+              ? ` The raised flow, ${formatFlow(needed)}, is beyond a ward flowmeter (${formatFlow(maxFlow)}): another device is needed.`
+              : ''),
           ...(change?.kind === 'set-flow' ? { suggestedFlow: formatFlow(change.flowLPerMin) } : {}),
         },
         computations: computation === undefined ? [] : [computation],

@@ -38,9 +38,9 @@ describe('venturi-flow-insufficient', () => {
   });
 
   it.each([
-    // 1.5 x minimum: 24 % 3, 28 % 6, 60 % 22.5 L/min (BTS 2017, Table 4; check-values 2b)
+    // 1.5 x minimum: 24 % 3, 28 % 6 L/min (BTS 2017, Table 4; check-values 2b)
     [0.24, 2, 3],
-    [0.6, 15, 22.5],
+    [0.28, 4, 6],
   ])('raises setting %s at %s L/min to %s L/min when tachypnoeic', (setting, flow, raised) => {
     const facts = buildFacts({ orders: venturi(setting, flow), respRatePerMin: [respRate(32)] });
     expect(onlyFinding(runRule(rule, facts)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: raised });
@@ -78,6 +78,15 @@ describe('venturi-flow-insufficient', () => {
       // BTS 2017, Table 4: "above 30"
       expect(runRule(rule, buildFacts({ orders: venturi(0.28, 4), respRatePerMin: [respRate(30)] }))).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: venturi(0.28, 4), respRatePerMin: [respRate(31)] }))).toHaveLength(1);
+    });
+
+    it('offers no flow beyond a ward flowmeter: 60 % at 15 L/min raised by half would be 22.5 L/min', () => {
+      // 1.5 x 15 L/min (BTS 2017, Table 4); flowmeterMaxLPerMin 15 (common practice)
+      const facts = buildFacts({ orders: venturi(0.6, 15), respRatePerMin: [respRate(32)] });
+      const finding = onlyFinding(runRule(rule, facts));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.flowBalance).toMatch(/The raised flow, 22\.5 L\/min, is beyond a ward flowmeter \(15 L\/min\): another device is needed\.$/);
+      expectCardRenders(finding);
     });
 
     it('warns without a change when even the raised flow falls short of a fast breather', () => {
