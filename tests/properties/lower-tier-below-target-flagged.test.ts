@@ -38,7 +38,7 @@ describe('an order on a lower tier while below target is flagged', () => {
           build: () => {
             const runningOrder = onIt.build().drafts[0];
             const built = drafted.build();
-            return { drafts: built.drafts, record: [...(runningOrder === undefined ? [] : [onRecord(runningOrder, 240)]), ...built.record] };
+            return { drafts: built.drafts, record: [...(runningOrder === undefined ? [] : [onRecord(runningOrder, 240)]), ...(built.record ?? [])] };
           },
           expect: [],
         });
