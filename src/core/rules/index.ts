@@ -11,6 +11,7 @@ import { rule as hypercapniaWithoutChronicRetention } from './hypercapnia-withou
 import { rule as lowerRangeWithoutRisk } from './lower-range-without-risk.js';
 import { rule as news2Scale2 } from './news2-scale-2.js';
 import { rule as noRecentSpo2 } from './no-recent-spo2.js';
+import { rule as orderGivesLessOxygen } from './order-gives-less-oxygen.js';
 import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
 import { rule as oxygenWithoutHypoxaemia } from './oxygen-without-hypoxaemia.js';
 import { rule as oxygenationSummary } from './oxygenation-summary.js';
@@ -42,6 +43,7 @@ export const RULES: readonly Rule[] = [
   carbonMonoxideOximetry,
   escalatedSupportFailing,
   spo2BelowTarget,
+  orderGivesLessOxygen,
   targetAboveHypercapnicRange,
   uncontrolledOxygenAtRisk,
   targetRangeMissing,

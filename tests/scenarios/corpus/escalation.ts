@@ -1,6 +1,6 @@
 import * as c from '../support/clinical.js';
 import { SRC } from '../support/clinical.js';
-import { deviceOrder, fio2Percent, o2Flow, onRecord, respRate, serviceOrder, spo2, spo2OnFlow } from '../support/fhir.js';
+import { bloodGas, deviceOrder, fio2Percent, o2Flow, onRecord, respRate, serviceOrder, spo2, spo2OnFlow } from '../support/fhir.js';
 import {
   atMost,
   fires,
@@ -315,7 +315,10 @@ export const ESCALATION: readonly Scenario[] = [
       drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
       record: [...spo2OnFlow(95, 6, 300), ...spo2OnFlow(96, 4, 180), ...spo2OnFlow(95, 2, 20), respRate(17), c.pneumonia()],
     }),
-    expect: [silent('rising-oxygen-need', SRC.btsRising)],
+    expect: [
+      silent('rising-oxygen-need', SRC.btsRising),
+      silent('order-gives-less-oxygen', `${SRC.btsWean}: SpO2 95 % is in range`),
+    ],
   }),
   scenario({
     id: 'rising-flow-outside-window',
@@ -326,5 +329,53 @@ export const ESCALATION: readonly Scenario[] = [
       record: [o2Flow(2, 720), o2Flow(4, 660), ...spo2OnFlow(95, 4, 200), ...spo2OnFlow(95, 4, 20), respRate(14), c.pneumonia()],
     }),
     expect: [silent('rising-oxygen-need', `${SRC.btsRising}; policy thresholds.oxygenNeedTrendMinutes 360`)],
+  }),
+  // --- less oxygen while SpO2 is below target ---------------------------------------------------
+  scenario({
+    id: 'reservoir-mask-running-draft-cannula-2-below',
+    story: 'Pneumonia on a reservoir mask at 15 L/min (active order), SpO2 91 % (94-98 %); nasal cannula 2 L/min drafted',
+    pov: 'ward doctor', topic: 'class 10: less oxygen below target', age: 66,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
+      record: [onRecord(serviceOrder('Oxygen 15 L/min via reservoir mask, target SpO2 94-98%'), 240), spo2(91, 10), c.pneumonia()],
+    }),
+    expect: [
+      // 3 points below 94 %: a warning; critical only below 85 % or more than 4 points below (BTS 2017, Table 2; local choice)
+      fires('order-gives-less-oxygen', 'warning', `${SRC.btsWean}; ${SRC.btsFall}`),
+      fires('spo2-below-target', 'critical', 'BTS 2017 summary: below the target range calls for reassessment; already on a reservoir mask'),
+    ],
+  }),
+  scenario({
+    id: 'charted-fio2-60-draft-cannula-2-below',
+    story: 'Pneumonia, FiO2 0.60 charted with SpO2 91 % (94-98 %), no order on record; nasal cannula 2 L/min drafted',
+    pov: 'respiratory therapist', topic: 'class 10: less oxygen below target', age: 66,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
+      record: [spo2(91, 10), fio2Percent(60, 10), c.pneumonia()],
+    }),
+    expect: [
+      // Nasal cannula 2 L/min about FiO2 0.28 (check-values.md §2a, rule of 4, common practice) against 0.60 charted
+      fires('order-gives-less-oxygen', 'warning', `${SRC.btsWean}; ${SRC.btsFall}`),
+    ],
+  }),
+  scenario({
+    id: 'cannula-2-drafted-on-fio2-60-and-15-l-below',
+    story: 'Pneumonia, FiO2 0.60 and 15 L/min charted, SpO2 93 % (94-98 %), RR 26, PaO2 7.9 kPa; nasal cannula 2 L/min drafted',
+    pov: 'pharmacist', topic: 'class 10: less oxygen below target', age: 66,
+    build: () => ({
+      drafts: [serviceOrder('Oxygen 2 L/min via nasal cannula, target SpO2 94-98%')],
+      record: [
+        spo2(93, 10),
+        respRate(26, 10),
+        fio2Percent(60, 10),
+        o2Flow(15, 10),
+        ...bloodGas({ ph: 7.44, pco2: 4.6, po2: 7.9, hco3: 24, minutesAgo: 30 }),
+        c.pneumonia(),
+      ],
+    }),
+    expect: [
+      // FiO2 0.60 charted is far above what a nasal cannula at 2 L/min gives (check-values.md §2a, common practice)
+      fires('order-gives-less-oxygen', 'warning', `${SRC.btsWean}; ${SRC.btsFall}`),
+    ],
   }),
 ];

@@ -17,6 +17,7 @@ export const SRC = {
   btsPalliative: 'BTS 2017: in terminal palliative care oxygen is for comfort, not a target',
   btsScope: 'BTS 2017: guideline for adults; policy population.minimumAgeYears 16',
   btsFall: 'BTS 2017 summary (BMJ Open Resp Res 4:e000170): a fall of >= 3 points calls for fuller assessment',
+  btsWean: 'BTS 2017 (from memory): oxygen is reduced only when the patient is stable with SpO2 in or above the target range',
   btsRising: 'BTS 2017 (from memory): a rising oxygen requirement calls for clinical review',
   btsHypercapnia: 'BTS 2017 clarification (Thorax 72:588): hypercapnia is PaCO2 >= 6 kPa',
   btsIcs: 'BTS/ICS 2016: pH < 7.35 with PaCO2 > 6.5 kPa: acute hypercapnic respiratory failure, consider NIV',

@@ -51,7 +51,7 @@ const RANGE_LIMITS = ['target-above-hypercapnic-range', 'oxygen-toxicity-target'
 /** Cards about the ordered device or flow: moot for an order that gives no oxygen. */
 const DEVICE_AND_FLOW = ['flow-outside-device-range', 'venturi-flow-insufficient'];
 /** Cards that read the SpO2 against a target: not for comfort oxygen (BTS 2017, terminal care). */
-const SATURATION_WATCH = ['spo2-below-target', 'no-recent-spo2'];
+const SATURATION_WATCH = ['spo2-below-target', 'order-gives-less-oxygen', 'no-recent-spo2'];
 
 function ruleIdsNeverSeen(order: OxygenOrder): readonly string[] {
   if (isTitration(order)) {
