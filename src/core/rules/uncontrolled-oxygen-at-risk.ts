@@ -21,7 +21,8 @@ const CONTROLLED_SETTING_FRACTION = 0.28;
  *
  * Not raised where BTS Table 1 gives critically ill at-risk patients the same initial high-concentration
  * oxygen as others until blood gases are available: no current gas and SpO2 below
- * `thresholds.criticalSpo2BelowPercent`. Warning; critical when the current gas already shows
+ * `thresholds.criticalSpo2BelowPercent`; nor while SpO2 is below the at-risk range itself, when a
+ * lower-concentration device would cut the oxygen of a hypoxaemic patient. Warning; critical when the current gas already shows
  * hypercapnia. Suggests a 28 % Venturi mask at its minimum flow, except to a patient on high flow or
  * CPAP/NIV (an active order or a recorded high flow), for whom a mask is a step down in support.
  * Source: BTS 2017 Tables 1 and 4 (verified).
@@ -29,7 +30,7 @@ const CONTROLLED_SETTING_FRACTION = 0.28;
 export const rule: Rule = {
   id: 'uncontrolled-oxygen-at-risk',
   title: 'High-concentration device for a patient at risk of hypercapnia',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -48,7 +49,11 @@ export const rule: Rule = {
       current.gas === undefined &&
       current.spo2 !== undefined &&
       current.spo2.value < policy.thresholds.criticalSpo2BelowPercent;
-    if (presumedCriticallyIll) {
+    // Below the at-risk range itself the patient needs more oxygen, not a lower-concentration device:
+    // BTS 2017 Table 4 steps to controlled oxygen for patients at or above it, and a patient this ill
+    // may be critically ill (Table 1). spo2-below-target speaks for the low reading.
+    const belowAtRiskRange = current.spo2 !== undefined && current.spo2.value < target.range.lowPercent;
+    if (presumedCriticallyIll || belowAtRiskRange) {
       return [];
     }
     const setting = findVenturiSetting(CONTROLLED_SETTING_FRACTION);

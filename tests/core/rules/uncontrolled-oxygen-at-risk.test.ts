@@ -65,14 +65,22 @@ describe('uncontrolled-oxygen-at-risk', () => {
       // BTS 2017, Table 1: critically ill at-risk patients get high-concentration oxygen until gases
       // are available; BTS 2017, Table 2: the 85 % threshold for a reservoir mask.
       expect(runRule(rule, buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(84)] }))).toStrictEqual([]);
-      expect(runRule(rule, buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(85)] })).length).toBe(1);
+      expect(runRule(rule, buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(88)] })).length).toBe(1);
     });
 
-    it('fires once a gas is back, however low the SpO2', () => {
+    it('stays quiet while SpO2 is below the at-risk range itself: a Venturi mask would cut the oxygen', () => {
+      // BTS 2017, Table 4: controlled oxygen to 88-92 %; below 88 % the patient needs more oxygen, not less
+      const facts = (sat: number) => buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(sat)] });
+      expect(runRule(rule, facts(87))).toStrictEqual([]);
+      expect(runRule(rule, facts(88)).length).toBe(1);
+    });
+
+    it('is critical once the gas shows hypercapnia, with SpO2 within the at-risk range', () => {
+      // BTS 2017, Table 4; hypercapnia PaCO2 >= 6 kPa (BTS 2017 clarification)
       const facts = buildFacts({
         orders: [reservoir],
         conditions: copd,
-        spo2Percent: [spo2(84)],
+        spo2Percent: [spo2(90)],
         bloodGases: [bloodGas({ ageMinutes: 20, ph: 7.3, paco2Kpa: 7.5, pao2Kpa: 6.9, hco3: 32 })],
       });
       expect(onlyFinding(runRule(rule, facts)).indicator).toBe('critical');
