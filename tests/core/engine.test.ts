@@ -103,20 +103,22 @@ describe('evaluateOrder', () => {
     expect(result.findings.map((f) => f.ruleId)).toStrictEqual(['adult-checks-only']);
   });
 
-  it('withholds a one-click fall in oxygen while SpO2 is below target, keeping the card', () => {
-    // COPD (BTS 2017 Table 4: 88-92 %) on a reservoir mask with SpO2 86 %, below the range: the
-    // controlled-oxygen card stays, but its switch to a 28 % Venturi mask would lower the FiO2
+  it('withholds a one-click fall in oxygen while the gas shows hypercapnic acidosis, keeping the card', () => {
+    // COPD (BTS 2017 Table 4: 88-92 %) on a reservoir mask, SpO2 90 %, pH 7.30 with PaCO2 7.5 kPa
+    // (acidosis below 7.35, RCEM; hypercapnia >= 6 kPa, BTS 2017): the controlled-oxygen card stays,
+    // but its switch to a 28 % Venturi mask is not offered as a one-click change
     const facts = buildFacts({
       orders: [oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })],
       conditions: [condition('copd')],
-      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.37, paco2Kpa: 6.4, hco3: 28 })],
-      spo2Percent: [spo2(86)],
+      bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.3, paco2Kpa: 7.5, hco3: 32 })],
+      spo2Percent: [spo2(90)],
     });
     const findings = evaluateOrder(facts, BTS, { hook: 'order-sign', now: NOW }).findings;
     const controlled = findings.find((f) => f.ruleId === 'uncontrolled-oxygen-at-risk');
     expect(controlled).toBeDefined();
     expect(controlled?.change).toBeUndefined();
-    const above = evaluateOrder({ ...facts, spo2Percent: [spo2(97)] }, BTS, { hook: 'order-sign', now: NOW }).findings;
+    const compensated = { ...facts, bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.37, paco2Kpa: 6.4, hco3: 28 })], spo2Percent: [spo2(97)] };
+    const above = evaluateOrder(compensated, BTS, { hook: 'order-sign', now: NOW }).findings;
     expect(above.find((f) => f.ruleId === 'uncontrolled-oxygen-at-risk')?.change).toMatchObject({ kind: 'set-device', device: 'venturi-mask' });
   });
 
