@@ -1,6 +1,6 @@
 import { evaluateOrder } from '../core/engine.js';
 import type { Policy } from '../core/policy.js';
-import type { Finding, OrderChange } from '../core/types.js';
+import type { OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
@@ -38,27 +38,6 @@ export interface CardWorkings {
   readonly markdown: string;
 }
 
-/**
- * One card per finding about the patient (no order reference) and rule, whichever subject order's
- * run found it first: two drafts signed together see the same patient, and a patient-level finding
- * whose values differ only by the order's wording is one fact. The engine sorts critical first, so
- * the one kept is the most severe. Findings about an order stay one per order (the engine has already
- * dropped exact repeats).
- */
-export function oncePerPatient(findings: readonly Finding[]): Finding[] {
-  const seen = new Set<string>();
-  return findings.filter((finding) => {
-    if (finding.orderReference !== undefined) {
-      return true;
-    }
-    if (seen.has(finding.ruleId)) {
-      return false;
-    }
-    seen.add(finding.ruleId);
-    return true;
-  });
-}
-
 export function evaluateHook(
   input: { readonly serviceId: string; readonly request: CdsRequest; readonly data: GatheredData },
   deps: {
@@ -89,8 +68,7 @@ export function evaluateHook(
 
   const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
   const evaluation = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
-  const { assessment, assessments } = evaluation;
-  const findings = oncePerPatient(evaluation.findings);
+  const { assessment, assessments, findings } = evaluation;
   // A draft may hold two subject orders; each card shows the inputs of its own order's assessment.
   const assessmentFor = (reference: string | undefined) =>
     assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??

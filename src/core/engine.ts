@@ -19,7 +19,27 @@ export interface Evaluation {
   readonly findings: readonly Finding[];
 }
 
-/** A stable key for a finding, so a patient-level finding made once per subject order is kept once. */
+/**
+ * One finding per rule about the patient (no order reference), whichever subject order's run found it
+ * first: two drafts signed together see the same patient, and a patient-level finding whose values
+ * differ only by the order's wording is one fact. Called on findings sorted critical first, so the one
+ * kept is the most severe. Findings about an order stay one per order.
+ */
+export function oncePerPatient(findings: readonly Finding[]): Finding[] {
+  const seen = new Set<string>();
+  return findings.filter((finding) => {
+    if (finding.orderReference !== undefined) {
+      return true;
+    }
+    if (seen.has(finding.ruleId)) {
+      return false;
+    }
+    seen.add(finding.ruleId);
+    return true;
+  });
+}
+
+/** A stable key for a finding, so the same finding made by two subject orders' runs is kept once. */
 function findingKey(finding: Finding): string {
   return JSON.stringify([finding.ruleId, finding.orderReference, finding.values, finding.change ?? null]);
 }
@@ -93,5 +113,5 @@ export function evaluateOrder(
   if (first === undefined) {
     throw new Error('evaluateOrder: at least one assessment is always built');
   }
-  return { assessment: first, assessments, findings };
+  return { assessment: first, assessments, findings: oncePerPatient(findings) };
 }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { oncePerPatient } from '../../src/cds/evaluate-hook.js';
+import { oncePerPatient } from '../../src/core/engine.js';
 import { cardUuid } from '../../src/cds/stable-uuid.js';
 import type { Card } from '../../src/cds/schemas.js';
 import { expectConformant } from '../helpers/card-conformance.js';
