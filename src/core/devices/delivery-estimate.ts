@@ -103,22 +103,25 @@ export function thresholdFio2For(fio2: Fio2Range, source: 'set' | 'estimated', s
   return { fraction: fio2.low, point: 'low-end' };
 }
 
-export interface EstimateParts {
+/** What a device model hands over: the estimate's own fields, with the raw range and model kind. */
+export type EstimateParts = Pick<
+  DeliveryEstimate,
+  | 'envelope'
+  | 'fio2Source'
+  | 'respRatePerMin'
+  | 'fixedPerformance'
+  | 'totalFlowLPerMin'
+  | 'peakInspiratoryFlowLPerMin'
+  | 'entrainmentRatio'
+  | 'minimumFlowLPerMin'
+  | 'notes'
+> & {
   readonly raw: Fio2Range;
-  readonly envelope: Fio2Envelope;
   readonly model: DeliveryModelKind;
-  readonly fio2Source: 'set' | 'estimated';
   readonly setFio2Fraction: number | undefined;
-  readonly respRatePerMin: number | undefined;
-  readonly fixedPerformance: boolean;
-  readonly totalFlowLPerMin: number | undefined;
-  readonly peakInspiratoryFlowLPerMin: number | undefined;
-  readonly entrainmentRatio: number | undefined;
-  readonly minimumFlowLPerMin: number | undefined;
-  readonly notes: readonly string[];
   /** Further references beyond the model's and the envelope's (e.g. 'bts-2017'). */
   readonly sourceKeys: readonly string[];
-}
+};
 
 /**
  * Builds a device's estimate. The model's reference comes first in `sourceKeys`, so a card naming
