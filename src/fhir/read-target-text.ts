@@ -52,6 +52,8 @@ export interface BoundMention {
 export const DASH_CLASS = '[-\u2010\u2011\u2012\u2013\u2014\u2212\uFE63\uFF0D]';
 const PERCENT = String.raw`\s*(?:%|\uFF05|per\s?cent\b|pc\b)`;
 const NOT_A_SATURATION_UNIT = String.raw`(?!\s*(?:mm|kpa|l\b|l\/|lpm|litre|liter|torr|cm|breaths|bpm|\/min))`;
+/** Compiled once: no pressure, flow or rate unit follows a number. */
+const SATURATION_UNIT_FOLLOWS = new RegExp(`^${NOT_A_SATURATION_UNIT}`, 'i');
 
 const RANGE = new RegExp(
   String.raw`(?<![\d.])(?:(between|from)\s+)?(\d{2,3})((?:${PERCENT})?\s*(?:${DASH_CLASS}|\bto\b|\band\b)\s*)(\d{2,3})(?!\d|\.\d)(${PERCENT})?${NOT_A_SATURATION_UNIT}`,
@@ -249,7 +251,7 @@ export function findSingleValueMentions(
       continue;
     }
     const after = text.slice(start + (m[1] ?? '').length, start + (m[1] ?? '').length + 20);
-    if (NOT_SINGLE_AFTER.test(after) || !new RegExp(`^${NOT_A_SATURATION_UNIT}`, 'i').test(text.slice(end))) {
+    if (NOT_SINGLE_AFTER.test(after) || !SATURATION_UNIT_FOLLOWS.test(text.slice(end))) {
       continue;
     }
     if (!followsTargetWord(text, start)) {
