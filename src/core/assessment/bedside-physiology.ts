@@ -161,16 +161,18 @@ export function highFlowAtReading(
 }
 
 /** The FiO2 ROX uses on high flow: the recorded FiO2 at the reading, else the order's set FiO2. */
-function setFio2ForRox(
+/**
+ * The FiO2 a patient on high flow was breathing when the SpO2 was read: the FiO2 recorded at the
+ * reading, else the set FiO2 of the high-flow order in force; undefined when neither is known.
+ */
+export function highFlowFio2AtReading(
   fio2AtSpo2: Outcome<Fio2InForce>,
   highFlow: HighFlowAtReading,
-): { readonly fraction: number; readonly words: string } | undefined {
+): { readonly fraction: number; readonly from: 'recorded' | 'ordered' } | undefined {
   if (fio2AtSpo2.kind === 'ok' && fio2AtSpo2.value.basis === 'recorded-fio2') {
-    return { fraction: fio2AtSpo2.value.estimate, words: 'FiO2 recorded at the reading' };
+    return { fraction: fio2AtSpo2.value.estimate, from: 'recorded' };
   }
-  return highFlow.orderedSetFio2 === undefined
-    ? undefined
-    : { fraction: highFlow.orderedSetFio2, words: 'set FiO2 of the high-flow order' };
+  return highFlow.orderedSetFio2 === undefined ? undefined : { fraction: highFlow.orderedSetFio2, from: 'ordered' };
 }
 
 /**
@@ -189,7 +191,14 @@ export function computeRox(input: {
   if (highFlow === undefined) {
     return { kind: 'unknown', reason: 'ROX applies to high-flow nasal cannula only' };
   }
-  const setFio2 = setFio2ForRox(input.fio2AtSpo2, highFlow);
+  const atReading = highFlowFio2AtReading(input.fio2AtSpo2, highFlow);
+  const setFio2 =
+    atReading === undefined
+      ? undefined
+      : {
+          fraction: atReading.fraction,
+          words: atReading.from === 'recorded' ? 'FiO2 recorded at the reading' : 'set FiO2 of the high-flow order',
+        };
   if (setFio2 === undefined) {
     return { kind: 'unknown', reason: 'the set FiO2 of high flow is neither recorded nor ordered', missing: ['FiO2'] };
   }

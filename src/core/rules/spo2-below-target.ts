@@ -3,7 +3,7 @@ import { formatFlow, formatFraction, formatPercent, formatRange } from '../asses
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
-import { escalatedSupportFailingSpeaks, highFlowFio2AtReading } from './support/escalated-support.js';
+import { escalatedSupportFailingSpeaks, highFlowFio2InWords } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
@@ -70,7 +70,7 @@ export const rule: Rule = {
     const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
     // High flow is read from an order in force or a recorded flow only high flow reaches.
     const highFlow = highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now);
-    const highFlowFio2 = highFlow === undefined ? undefined : highFlowFio2AtReading(assessment, highFlow);
+    const highFlowFio2 = highFlow === undefined ? undefined : highFlowFio2InWords(assessment, highFlow);
     const failingFio2 = policy.thresholds.highFlowFailingFio2AtLeast;
     // On high flow the blender has room below the failing FiO2: a low SpO2 there calls for titrating
     // the FiO2 up and a review (warning). At or above it, or set there by this order, the support is

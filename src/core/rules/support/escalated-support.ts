@@ -1,4 +1,4 @@
-import { highFlowAtReading } from '../../assessment/bedside-physiology.js';
+import { highFlowAtReading, highFlowFio2AtReading } from '../../assessment/bedside-physiology.js';
 import type { HighFlowAtReading } from '../../assessment/bedside-physiology.js';
 import type { Assessment } from '../../assessment/types.js';
 import type { Policy } from '../../policy.js';
@@ -22,17 +22,17 @@ export interface EscalatedSupportFailure {
  * The FiO2 a patient on high flow was breathing when the SpO2 was read: the recorded FiO2 at the
  * reading, else the set FiO2 of the high-flow order in force; undefined when neither is known.
  */
-export function highFlowFio2AtReading(
+export function highFlowFio2InWords(
   assessment: Assessment,
   highFlow: HighFlowAtReading,
 ): { readonly fraction: number; readonly words: string } | undefined {
-  const atReading = assessment.physiology.fio2AtSpo2;
-  if (atReading.kind === 'ok' && atReading.value.basis === 'recorded-fio2') {
-    return { fraction: atReading.value.estimate, words: 'recorded at the reading' };
-  }
-  return highFlow.orderedSetFio2 === undefined
+  const atReading = highFlowFio2AtReading(assessment.physiology.fio2AtSpo2, highFlow);
+  return atReading === undefined
     ? undefined
-    : { fraction: highFlow.orderedSetFio2, words: 'set on the high-flow order' };
+    : {
+        fraction: atReading.fraction,
+        words: atReading.from === 'recorded' ? 'recorded at the reading' : 'set on the high-flow order',
+      };
 }
 
 function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boolean {
@@ -72,7 +72,7 @@ export function findEscalatedSupportFailure(
     return undefined;
   }
   const threshold = policy.thresholds.highFlowFailingFio2AtLeast;
-  const fio2AtReading = highFlowFio2AtReading(assessment, highFlow);
+  const fio2AtReading = highFlowFio2InWords(assessment, highFlow);
   // This order's own setting counts when it raises the FiO2 to the threshold or above.
   const ordered =
     order.device === 'high-flow-nasal-cannula' &&
