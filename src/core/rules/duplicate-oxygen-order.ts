@@ -32,37 +32,23 @@ export const rule: Rule = {
     if (inDraft.length === 0 && onRecord.length === 0) {
       return [];
     }
-    const list = [
-      ...inDraft.map((o) => `${describeOrder(o)} (in this draft)`),
+    // Two or more oxygen orders signed together: one card about the draft (named by its first oxygen
+    // order), not one per order.
+    const together = inDraft.length > 0;
+    const named = together ? (facts.orders.find((o) => givesOxygen(o)) ?? order) : order;
+    const others = [
+      ...facts.orders
+        .filter((o) => o.reference !== named.reference && givesOxygen(o))
+        .map((o) => `${describeOrder(o)} (in this draft)`),
       ...onRecord.map((o) => `${describeOrder(o)} (active on record)`),
     ];
-    // Two or more oxygen orders signed together: one card about the draft, not one per order.
-    if (inDraft.length > 0) {
-      const drafts = facts.orders.filter((o) => givesOxygen(o));
-      const [first, ...rest] = drafts;
-      const others = [
-        ...rest.map((o) => `${describeOrder(o)} (in this draft)`),
-        ...facts.activeOrders.filter((o) => givesOxygen(o)).map((o) => `${describeOrder(o)} (active on record)`),
-      ];
-      return [
-        makeFinding(rule, {
-          orderReference: undefined,
-          values: {
-            orderDescription: first === undefined ? describeOrder(order) : describeOrder(first),
-            otherOrderCount: String(others.length),
-            otherOrders: others.join('; '),
-          },
-          sourceKeys: ['local-policy'],
-        }),
-      ];
-    }
     return [
       makeFinding(rule, {
-        orderReference: order.reference,
+        orderReference: together ? undefined : order.reference,
         values: {
-          orderDescription: describeOrder(order),
-          otherOrderCount: String(list.length),
-          otherOrders: list.join('; '),
+          orderDescription: describeOrder(named),
+          otherOrderCount: String(others.length),
+          otherOrders: others.join('; '),
         },
         sourceKeys: ['local-policy'],
       }),
