@@ -43,6 +43,7 @@ export const rule: Rule = {
       return [];
     }
     const window = policy.thresholds.repeatGasMinutes;
+    const repeatWindow = formatMinuteWindow(window.from, window.to);
     const sinceChange = (now.getTime() - changedAt) / 60_000;
     const opensIn = window.from - sinceChange;
     const closesIn = window.to - sinceChange;
@@ -63,8 +64,8 @@ export const rule: Rule = {
     const gasAdvice = noCurrentGas
       ? `There is no current blood gas. The BTS guideline advises one now for a patient at risk: if the ` +
         `PCO2 is normal and there has been no hypercapnic failure, the range becomes ${standard}; then ` +
-        `again ${formatMinuteWindow(window.from, window.to)} after starting or changing oxygen`
-      : `The BTS guideline advises a repeat blood gas ${formatMinuteWindow(window.from, window.to)} after ` +
+        `again ${repeatWindow} after starting or changing oxygen`
+      : `The BTS guideline advises a repeat blood gas ${repeatWindow} after ` +
         `starting or changing oxygen in these patients, because the PaCO2 may rise without an obvious ` +
         `change in the patient: due ${dueWindow}`;
     return [
@@ -75,7 +76,7 @@ export const rule: Rule = {
         values: {
           orderDescription: describeOrder(order),
           dueWindow,
-          repeatWindow: formatMinuteWindow(window.from, window.to),
+          repeatWindow,
           lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas.at, now),
           riskReasons: describeRiskReasons(assessment),
           headline,
