@@ -34,9 +34,10 @@ function settled<T>(work: () => T): Promise<T> {
 export function openSqliteStore(options: SqliteStoreOptions): Store {
   const db = new Database(options.file);
   try {
+    // The wait comes first, so switching to WAL and migrating also wait for another process's lock.
+    db.pragma(`busy_timeout = ${String(Math.trunc(options.busyTimeoutMs ?? 5000))}`);
     db.pragma('journal_mode = WAL');
     db.pragma('synchronous = FULL');
-    db.pragma(`busy_timeout = ${String(Math.trunc(options.busyTimeoutMs ?? 5000))}`);
     db.pragma('foreign_keys = ON');
     migrate(db, options.file);
     return assembleStore(db);

@@ -1,5 +1,6 @@
 import { spawn } from 'node:child_process';
 import { join } from 'node:path';
+import Database from 'better-sqlite3';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openSqliteStore } from '../../src/store/sqlite-store.js';
 import type { Store } from '../../src/store/store.js';
@@ -183,6 +184,30 @@ describe('openSqliteStore: durability on disk', () => {
     for (let n = 1; n <= acknowledged; n += 1) {
       expect((await after.getAdvisory(card(n)))?.feedback).toHaveLength(1);
     }
+  });
+
+  it('keeps the file in WAL mode, so the review pages read while the hook writes', () => {
+    const file = join(tempDir(), 'audit.sqlite');
+    const store = openSqliteStore({ file });
+    open.push(store);
+    const raw = new Database(file, { readonly: true });
+    // SQLite, "Write-Ahead Logging": WAL mode persists in the database file
+    expect(raw.pragma('journal_mode', { simple: true })).toBe('wal');
+    raw.close();
+  });
+
+  it("shares one file between two open stores: each sees the other's commits and replay ids", async () => {
+    const file = join(tempDir(), 'audit.sqlite');
+    const one = openSqliteStore({ file });
+    const two = openSqliteStore({ file });
+    open.push(one, two);
+    await one.recordAdvisories([advisory(1)]);
+    await two.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS);
+    expect((await one.getAdvisory(card(1)))?.feedback).toHaveLength(1);
+    await one.checkAndRememberJti(EHR.iss, 'jti-1', RECEIVED.getTime() + 300_000, RECEIVED, 10);
+    expect((await two.checkAndRememberJti(EHR.iss, 'jti-1', RECEIVED.getTime() + 300_000, RECEIVED, 10)).kind).toBe(
+      'replayed',
+    );
   });
 
   it('answers a closed store with a rejection, not a silent success', async () => {
