@@ -5,7 +5,7 @@ import { createProductionAuthenticator } from '../../../src/security/production-
 import { createStoreReplayCache } from '../../../src/security/store-replay-cache.js';
 import type { FeedbackInput, Store } from '../../../src/store/store.js';
 import { createGatherer, type Gather } from '../../../src/http/gather-data.js';
-import { createLogger } from '../../../src/log/logger.js';
+import { createLogger, type Logger } from '../../../src/log/logger.js';
 import { openTempStore } from '../../helpers/temp-store.js';
 import { buildTestApp, TEST_CONFIG, type TestApp } from '../../http/test-app.js';
 import { ehrClient, NOW, PUBLIC_BASE, theatresClient, trustOf } from './fixtures.js';
@@ -41,6 +41,10 @@ export interface ProductionAppOptions {
   readonly dataDir?: string;
   /** Live token ids per client in the replay cache (O2CHECK_REPLAY_MAX_PER_CLIENT). */
   readonly replayMaxPerClient?: number;
+  /** Wraps the store the replay cache uses (to make it fail, say). */
+  readonly replayStore?: (real: Store) => Store;
+  /** Where the replay cache logs a store failure; silent otherwise. */
+  readonly replayLogger?: Logger;
 }
 
 export async function buildProductionApp(options: ProductionAppOptions = {}): Promise<ProductionApp> {
@@ -61,11 +65,11 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
     trust,
     jwks,
     replayCache: createStoreReplayCache({
-      store: realStore,
+      store: options.replayStore === undefined ? realStore : options.replayStore(realStore),
       // the project default share (src/config/env-config.ts ENV_DEFAULTS)
       maxPerClient: options.replayMaxPerClient ?? 20_000,
       clock,
-      logger: createLogger({ level: 'silent' }),
+      logger: options.replayLogger ?? createLogger({ level: 'silent' }),
     }),
     clock,
     // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
