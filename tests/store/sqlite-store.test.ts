@@ -1,3 +1,4 @@
+import { spawn } from 'node:child_process';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { openSqliteStore } from '../../src/store/sqlite-store.js';
@@ -242,6 +243,58 @@ describe('openSqliteStore: summarise', () => {
   });
 });
 
+describe('openSqliteStore: purge by retention', () => {
+  const CUTOFF = new Date('2026-03-14T00:00:00Z');
+  const NOW = new Date('2026-04-13T00:00:00Z');
+
+  it('removes advisories issued before the cutoff with all their feedback, and keeps the rest', async () => {
+    const store = memoryStore();
+    await store.recordAdvisories([
+      advisory(1, { issuedAt: '2026-03-13T23:59:59.999Z' }),
+      advisory(2, { issuedAt: '2026-03-14T00:00:00.000Z' }),
+    ]);
+    // feedback on the old card arrived after the cutoff: it still goes with its advisory
+    await store.recordFeedback(EHR, [accepted(1, '2026-03-14T00:10:00Z')], new Date('2026-03-14T00:10:00Z'), GENEROUS);
+    await store.recordFeedback(EHR, [accepted(2, '2026-03-14T00:10:00Z')], new Date('2026-03-14T00:10:00Z'), GENEROUS);
+
+    expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 1, feedback: 1, replayIds: 0 });
+    expect(await store.getAdvisory(card(1))).toBeUndefined();
+    expect((await store.getAdvisory(card(2)))?.feedback).toHaveLength(1);
+    expect(await store.facets()).toStrictEqual({ units: [WARD_7], ruleIds: ['spo2-above-target'] });
+  });
+
+  it("removes feedback received before the cutoff and works out the kept advisory's latest outcome again", async () => {
+    const store = memoryStore();
+    await store.recordAdvisories([advisory(1, { issuedAt: '2026-03-14T09:00:00Z' })]);
+    // An advisory issued in the window with feedback stamped as received earlier (a clock step back)
+    await store.recordFeedback(EHR, [overridden(1, '2026-03-14T09:10:00Z')], new Date('2026-03-13T12:00:00Z'), GENEROUS);
+    await store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:05:00Z')], new Date('2026-03-14T12:00:00Z'), GENEROUS);
+    expect((await store.listAdvisories({ limit: 1, offset: 0 })).items[0]?.latestOutcome).toBe('overridden');
+
+    expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 0, feedback: 1, replayIds: 0 });
+    expect((await store.listAdvisories({ limit: 1, offset: 0 })).items[0]).toMatchObject({
+      latestOutcome: 'accepted',
+      feedbackCount: 1,
+    });
+  });
+
+  it('removes unmatched feedback received before the cutoff', async () => {
+    const store = memoryStore();
+    await store.recordFeedback(THEATRES, [accepted(8, '2026-03-13T09:00:00Z')], new Date('2026-03-13T09:00:00Z'), GENEROUS);
+    await store.recordFeedback(THEATRES, [accepted(9, '2026-03-14T09:00:00Z')], new Date('2026-03-14T09:00:00Z'), GENEROUS);
+    expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 0, feedback: 1, replayIds: 0 });
+    expect((await store.listUnmatchedFeedback(10, 0)).items.map((f) => f.cardUuid)).toStrictEqual([card(9)]);
+  });
+
+  it('changes nothing when everything is inside the retention window', async () => {
+    const store = memoryStore();
+    await store.recordAdvisories([advisory(1)]);
+    await store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS);
+    expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 0, feedback: 0, replayIds: 0 });
+    expect((await store.getAdvisory(card(1)))?.feedback).toHaveLength(1);
+  });
+});
+
 describe('openSqliteStore: durability on disk', () => {
   const tempDir = useTempDirs();
 
@@ -264,6 +317,43 @@ describe('openSqliteStore: durability on disk', () => {
     expect(await again.checkAndRememberJti(EHR.iss, 'jti-1', RECEIVED.getTime() + 300_000, RECEIVED, 10)).toStrictEqual({
       kind: 'replayed',
     });
+  });
+
+  it('keeps every acknowledged write when the writing process is killed with SIGKILL', async () => {
+    // Issue 7: nothing acknowledged is lost; the child prints a card number only after its commit.
+    // SIGKILL checks that nothing is acknowledged before it is committed; surviving a power cut is
+    // what synchronous = FULL is for, and no test here can cut the power.
+    const file = join(tempDir(), 'audit.sqlite');
+    const child = spawn(process.execPath, ['--import', 'tsx', 'tests/store/support/write-until-killed.ts', file], {
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    let acknowledged = 0;
+    let buffered = '';
+    let errors = '';
+    child.stderr.on('data', (chunk: Buffer) => (errors += chunk.toString()));
+    await new Promise<void>((resolve, reject) => {
+      child.on('exit', () => reject(new Error(`writer exited early: ${errors}`)));
+      child.stdout.on('data', (chunk: Buffer) => {
+        buffered += chunk.toString();
+        const lines = buffered.split('\n');
+        buffered = lines.pop() ?? '';
+        acknowledged = Math.max(acknowledged, ...lines.map(Number));
+        if (acknowledged >= 200) {
+          child.removeAllListeners('exit');
+          child.kill('SIGKILL');
+          child.on('exit', () => resolve());
+        }
+      });
+    });
+
+    const after = openSqliteStore({ file });
+    open.push(after);
+    const page = await after.listAdvisories({ outcome: 'accepted', limit: 1, offset: 0 });
+    // every acknowledged card and its feedback is there; the one in flight may or may not be
+    expect(page.total).toBeGreaterThanOrEqual(acknowledged);
+    for (let n = 1; n <= acknowledged; n += 1) {
+      expect((await after.getAdvisory(card(n)))?.feedback).toHaveLength(1);
+    }
   });
 
   it('answers a closed store with a rejection, not a silent success', async () => {
