@@ -79,7 +79,7 @@ async function startWithStore(
   store: Store,
   log: Logger,
 ): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
-  const secret = await loadOrCreateSecret({
+  const secret = loadOrCreateSecret({
     dataDir: config.store.dataDir,
     ...(config.store.patientKeyFile === undefined ? {} : { secretFile: config.store.patientKeyFile }),
   });

@@ -1,10 +1,10 @@
-import { createHmac } from 'node:crypto';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll } from 'vitest';
 import type { PatientKeyOf } from '../../src/http/audit-trail.js';
 import { openStore } from '../../src/store/open-store.js';
+import { patientKey } from '../../src/store/patient-key.js';
 import type { Store } from '../../src/store/store.js';
 
 /**
@@ -46,11 +46,8 @@ export function openTempStore(dataDir: string = makeTempDataDir()): TempStore {
   return { store: result.store, dataDir };
 }
 
-/** An invented secret for the tests' patient keys. */
-const TEST_SECRET = 'larkspur-bay-test-patient-key-secret';
+/** An invented 32-byte secret for the tests' patient keys (the service makes a random one). */
+const TEST_SECRET = Buffer.from('larkspur-bay-test-patient-key-32', 'latin1');
 
-/** HMAC-SHA-256 of the FHIR server and patient id (RFC 2104), as a keyed pseudonym for tests. */
-export const testPatientKey: PatientKeyOf = (patient) =>
-  createHmac('sha256', TEST_SECRET)
-    .update(JSON.stringify([patient.fhirServer ?? '', patient.patientId]))
-    .digest('hex');
+/** The service's own keyed pseudonym (patient-key.ts), with the tests' secret. */
+export const testPatientKey: PatientKeyOf = (patient) => patientKey(TEST_SECRET, patient);
