@@ -9,7 +9,7 @@ import { findDraftResource } from '../fhir/find-order-resource.js';
 import type { GatheredData } from '../fhir/gathered-data.js';
 import { buildCardReport } from './build-card.js';
 import type { CardTemplates } from './card-templates.js';
-import { renderWorkings } from './card-workings.js';
+import { prepareWorkings } from './card-workings.js';
 import { OrderSelectContextSchema, OrderSignContextSchema, type CdsRequest, type CdsResponse } from './schemas.js';
 import { findService } from './services.js';
 
@@ -104,6 +104,7 @@ export function evaluateHook(
   const problems: string[] = [];
   const workings: CardWorkings[] = [];
   const audit: CardAudit[] = [];
+  const renderWorkings = prepareWorkings(facts, deps.policy, deps.now);
   const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
     if (template === undefined) {
@@ -129,7 +130,7 @@ export function evaluateHook(
     }
     problems.push(...report.problems);
     const cardAssessment = assessmentFor(finding.orderReference);
-    const markdown = renderWorkings({ finding, facts, assessment: cardAssessment, policy: deps.policy, now: deps.now });
+    const markdown = renderWorkings(finding, cardAssessment);
     if (deps.workings === true) {
       workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
     }
