@@ -1,7 +1,7 @@
 import type { Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
-import { formatLoadProblems, loadPolicyAndCards } from './config/load-files.js';
+import { formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
@@ -75,7 +75,7 @@ export async function startServer(
 
 async function startWithStore(
   config: EnvConfig,
-  files: Extract<Awaited<ReturnType<typeof loadPolicyAndCards>>, { kind: 'ok' }>,
+  files: Extract<LoadedFiles, { kind: 'ok' }>,
   store: Store,
   log: Logger,
 ): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
