@@ -107,6 +107,28 @@ export const MIGRATIONS: readonly Migration[] = [
       );
     `,
   },
+  {
+    version: 2,
+    description: 'count of replay ids held per client, kept by triggers',
+    sql: `
+      -- How many replay_id rows (live or expired) each client holds, so the share check reads one row
+      -- instead of counting a client's ids on every call (a full share would make every call scan it
+      -- while holding the write lock).
+      CREATE TABLE replay_client (
+        client_key TEXT PRIMARY KEY,
+        held INTEGER NOT NULL
+      );
+      INSERT INTO replay_client (client_key, held)
+        SELECT client_key, count(*) FROM replay_id GROUP BY client_key;
+      CREATE TRIGGER replay_id_added AFTER INSERT ON replay_id BEGIN
+        INSERT INTO replay_client (client_key, held) VALUES (NEW.client_key, 1)
+          ON CONFLICT (client_key) DO UPDATE SET held = held + 1;
+      END;
+      CREATE TRIGGER replay_id_removed AFTER DELETE ON replay_id BEGIN
+        UPDATE replay_client SET held = held - 1 WHERE client_key = OLD.client_key;
+      END;
+    `,
+  },
 ];
 
 /** The schema version this code writes and reads. */

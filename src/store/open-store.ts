@@ -1,4 +1,4 @@
-import { accessSync, constants, mkdirSync } from 'node:fs';
+import { accessSync, closeSync, constants, mkdirSync, openSync } from 'node:fs';
 import { join } from 'node:path';
 import { StoreTooNewError } from './migrations.js';
 import { openSqliteStore } from './sqlite-store.js';
@@ -31,6 +31,8 @@ export function openStore(options: OpenStoreOptions): OpenStoreResult {
     // 0o700: the audit trail and the patient-key secret live here; nobody else needs to read it.
     mkdirSync(options.dataDir, { recursive: true, mode: 0o700 });
     accessSync(options.dataDir, constants.W_OK | constants.X_OK);
+    // Owner-only from the first byte; SQLite gives its -wal and -shm files the database's mode.
+    closeSync(openSync(file, 'a', 0o600));
   } catch (error) {
     return {
       kind: 'refused',

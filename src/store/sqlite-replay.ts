@@ -26,9 +26,15 @@ export function prepareReplayCheck(db: Database.Database): CheckAndRememberNow {
   const held = db.prepare<[string, string], { expires_at_ms: number }>(
     'SELECT expires_at_ms FROM replay_id WHERE client_key = ? AND jti = ?',
   );
-  const share = db.prepare<[string, number], { n: number; oldest: number | null }>(
-    `SELECT count(*) AS n, min(expires_at_ms) AS oldest FROM replay_id
-      WHERE client_key = ? AND expires_at_ms > ?`,
+  const heldByClient = db.prepare<[string], { held: number }>(
+    'SELECT held FROM replay_client WHERE client_key = ?',
+  );
+  const dropClientExpired = db.prepare<[string, number]>(
+    'DELETE FROM replay_id WHERE client_key = ? AND expires_at_ms <= ?',
+  );
+  const oldestLive = db.prepare<[string, number], { oldest: number }>(
+    `SELECT expires_at_ms AS oldest FROM replay_id WHERE client_key = ? AND expires_at_ms > ?
+      ORDER BY expires_at_ms LIMIT 1`,
   );
   const remember = db.prepare<[string, string, number]>(
     `INSERT INTO replay_id (client_key, jti, expires_at_ms) VALUES (?, ?, ?)
@@ -42,10 +48,14 @@ export function prepareReplayCheck(db: Database.Database): CheckAndRememberNow {
       if (heldUntil !== undefined && heldUntil > nowMs) {
         return { kind: 'replayed' };
       }
-      const current = share.get(clientKey, nowMs);
-      if (current !== undefined && current.n >= maxPerClient) {
-        const oldest = current.oldest ?? nowMs;
-        return { kind: 'client-full', retryAfterS: Math.max(1, Math.ceil((oldest - nowMs) / 1000)) };
+      // The count includes expired ids; only when it reaches the share are this client's expired ids
+      // dropped and the live ones counted, so a client below its share costs one row read.
+      if ((heldByClient.get(clientKey)?.held ?? 0) >= maxPerClient) {
+        dropClientExpired.run(clientKey, nowMs);
+        if ((heldByClient.get(clientKey)?.held ?? 0) >= maxPerClient) {
+          const oldest = oldestLive.get(clientKey, nowMs)?.oldest ?? nowMs;
+          return { kind: 'client-full', retryAfterS: Math.max(1, Math.ceil((oldest - nowMs) / 1000)) };
+        }
       }
       remember.run(clientKey, jti, Math.trunc(expiresAt));
       return { kind: 'fresh' };

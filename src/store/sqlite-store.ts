@@ -34,9 +34,10 @@ function settled<T>(work: () => T): Promise<T> {
 export function openSqliteStore(options: SqliteStoreOptions): Store {
   const db = new Database(options.file);
   try {
+    // The wait comes first, so switching to WAL and migrating also wait for another process's lock.
+    db.pragma(`busy_timeout = ${String(Math.trunc(options.busyTimeoutMs ?? 5000))}`);
     db.pragma('journal_mode = WAL');
     db.pragma('synchronous = FULL');
-    db.pragma(`busy_timeout = ${String(Math.trunc(options.busyTimeoutMs ?? 5000))}`);
     db.pragma('foreign_keys = ON');
     migrate(db, options.file);
     return assembleStore(db);
@@ -119,6 +120,7 @@ function preparePurge(db: Database.Database): (cutoff: Date, now: Date) => Purge
   const oldFeedback = db.prepare<[number]>('DELETE FROM feedback WHERE received_at_ms < ?');
   const oldAdvisories = db.prepare<[number]>('DELETE FROM advisory WHERE issued_at_ms < ?');
   const expiredIds = db.prepare<[number]>('DELETE FROM replay_id WHERE expires_at_ms <= ?');
+  const idleClients = db.prepare('DELETE FROM replay_client WHERE held <= 0');
   const refreshLatest = prepareLatestRefresh(db);
 
   const run = db.transaction((cutoffMs: number, nowMs: number): PurgeResult => {
@@ -128,11 +130,13 @@ function preparePurge(db: Database.Database): (cutoff: Date, now: Date) => Purge
     for (const card of cards) {
       refreshLatest(card);
     }
-    return {
+    const result = {
       advisories: oldAdvisories.run(cutoffMs).changes,
       feedback,
       replayIds: expiredIds.run(nowMs).changes,
     };
+    idleClients.run();
+    return result;
   });
 
   return (cutoff, now) => {

@@ -19,7 +19,14 @@ describe('migrate', () => {
   it('brings an empty database to the latest version and lists each step applied', () => {
     const db = new Database(':memory:');
     expect(migrate(db, ':memory:')).toBe(LATEST_SCHEMA_VERSION);
-    expect(tables(db)).toStrictEqual(['advisory', 'feedback', 'replay_id', 'schema_migration', 'store_meta']);
+    expect(tables(db)).toStrictEqual([
+      'advisory',
+      'feedback',
+      'replay_client',
+      'replay_id',
+      'schema_migration',
+      'store_meta',
+    ]);
     expect(
       db.prepare<[], { version: number; description: string }>('SELECT version, description FROM schema_migration').all(),
     ).toStrictEqual(MIGRATIONS.map((m) => ({ version: m.version, description: m.description })));
@@ -43,6 +50,22 @@ describe('migrate', () => {
     expect(migrate(db, ':memory:', next)).toBe(LATEST_SCHEMA_VERSION + 1);
     expect(tables(db)).toContain('later_step');
     expect(db.prepare('SELECT value FROM store_meta WHERE key = ?').pluck().get('kept')).toBe('yes');
+    db.close();
+  });
+
+  it('counts the replay ids a version 1 database already holds when it adds the per-client count', () => {
+    const db = new Database(':memory:');
+    migrate(db, ':memory:', MIGRATIONS.filter((m) => m.version === 1));
+    const add = db.prepare('INSERT INTO replay_id (client_key, jti, expires_at_ms) VALUES (?, ?, ?)');
+    add.run('https://ehr.larkspur-bay.example', 'a', 1);
+    add.run('https://ehr.larkspur-bay.example', 'b', 2);
+    add.run('https://theatres.larkspur-bay.example', 'c', 3);
+    migrate(db, ':memory:');
+    const held = db.prepare('SELECT client_key, held FROM replay_client ORDER BY client_key').all();
+    expect(held).toStrictEqual([
+      { client_key: 'https://ehr.larkspur-bay.example', held: 2 },
+      { client_key: 'https://theatres.larkspur-bay.example', held: 1 },
+    ]);
     db.close();
   });
 

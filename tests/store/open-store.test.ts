@@ -20,6 +20,10 @@ describe('openStore', () => {
     expect(statSync(dataDir).mode & 0o777).toBe(0o700);
     expect(result.file).toBe(join(dataDir, STORE_FILE_NAME));
     await result.store.recordAdvisories([advisory(1)]);
+    // the audit trail is for this service only: owner-only, like its directory
+    for (const suffix of ['', '-wal']) {
+      expect(statSync(`${result.file}${suffix}`).mode & 0o777).toBe(0o600);
+    }
     await result.store.close();
 
     const again = openStore({ dataDir });

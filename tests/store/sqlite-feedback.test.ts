@@ -218,3 +218,29 @@ describe('recordFeedback: the daily quota per client', () => {
     expect(secondsToNextUtcDay(new Date(at))).toBe(seconds);
   });
 });
+
+describe('recordFeedback: edge cases', () => {
+  it('answers an empty request as recorded with nothing in it', async () => {
+    const store = await storeWithCards(advisory(1));
+    expect(await store.recordFeedback(EHR, [], RECEIVED, { maxRecordsPerClientPerDay: 0 })).toStrictEqual({
+      kind: 'recorded',
+      records: [],
+      duplicates: 0,
+    });
+  });
+
+  it('writes none of a request when one item cannot be stored', async () => {
+    const store = await storeWithCards(advisory(1), advisory(2));
+    await expect(
+      store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z'), accepted(2, 'yesterday teatime')], RECEIVED, GENEROUS),
+    ).rejects.toThrow(/outcomeTimestamp/);
+    expect((await store.getAdvisory(card(1)))?.feedback).toStrictEqual([]);
+  });
+
+  it('keeps feedback on a card whose advisory retention has removed, flagged as unmatched', async () => {
+    const store = await storeWithCards(advisory(1, { issuedAt: '2026-01-02T09:00:00Z' }));
+    await store.purge(new Date('2026-02-01T00:00:00Z'), RECEIVED);
+    const write = recorded(await store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS));
+    expect(write.records[0]?.knownCard).toBe(false);
+  });
+});

@@ -87,6 +87,25 @@ describe('checkAndRememberJti', () => {
     expect(answers.map((a) => a.kind).sort()).toStrictEqual(['fresh', 'replayed']);
   });
 
+  it("counts a client's live ids only, whichever way expired ones were removed", async () => {
+    const store = memoryStore();
+    // three short-lived ids fill a share of 3
+    for (const id of ['a', 'b', 'c']) {
+      await store.checkAndRememberJti(THEATRES.iss, id, T0 + 1000, at(0), 3);
+    }
+    expect((await store.checkAndRememberJti(THEATRES.iss, 'd', T0 + 600_000, at(999), 3)).kind).toBe('client-full');
+    // another client's calls sweep expired ids a few at a time; a purge removes the rest
+    await store.checkAndRememberJti(EHR.iss, 'sweeper', T0 + 600_000, at(2000), 3);
+    await store.purge(new Date('2026-01-01T00:00:00Z'), at(2000));
+    for (const id of ['d', 'e', 'f']) {
+      expect(await store.checkAndRememberJti(THEATRES.iss, id, T0 + 600_000, at(2000), 3)).toStrictEqual({ kind: 'fresh' });
+    }
+    expect(await store.checkAndRememberJti(THEATRES.iss, 'g', T0 + 600_000, at(2000), 3)).toStrictEqual({
+      kind: 'client-full',
+      retryAfterS: 598,
+    });
+  });
+
   it('purges expired ids and keeps live ones', async () => {
     const store = memoryStore();
     await store.checkAndRememberJti(EHR.iss, 'old', T0 + 1000, at(0), 10);
