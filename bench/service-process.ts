@@ -54,7 +54,7 @@ export function prepareService(root: string, runner: ServiceRunner): BuiltServic
 }
 
 /** The environment the service runs in: demo mode, loopback, a free port, quiet logs, bundled files. */
-function serviceEnv(root: string): Record<string, string | undefined> {
+function serviceEnv(root: string, dataDir?: string): Record<string, string | undefined> {
   const env: Record<string, string | undefined> = {};
   for (const [name, value] of Object.entries(process.env)) {
     // Settings left in the shell (a trust file, a concurrency cap) must not change what is measured.
@@ -72,6 +72,8 @@ function serviceEnv(root: string): Record<string, string | undefined> {
     // The bundled files, named because a private build folder is not the package root.
     O2CHECK_POLICY: join(root, 'policies', 'bts-2017.yaml'),
     O2CHECK_CARDS_DIR: join(root, 'cards'),
+    // A fresh store per run (the audit write is part of what is measured), never the shared ./data.
+    ...(dataDir === undefined ? {} : { O2CHECK_DATA_DIR: dataDir }),
   };
 }
 
@@ -80,13 +82,21 @@ export async function startService(
   built: BuiltService,
   extraNodeArgs: readonly string[] = [],
 ): Promise<ChildServer> {
-  const server = await startChildServer({
+  const dataDir = mkdtempSync(join(tmpdir(), 'o2check-bench-data-'));
+  const started = await startChildServer({
     name: 'oxygen-order-checker',
     nodeArgs: [...extraNodeArgs, ...built.nodeArgs],
-    env: serviceEnv(root),
+    env: serviceEnv(root, dataDir),
     cwd: root,
     startTimeoutMs: 30_000,
   });
+  const server: ChildServer = {
+    ...started,
+    stop: async (graceMs) => {
+      await started.stop(graceMs);
+      rmSync(dataDir, { recursive: true, force: true });
+    },
+  };
   try {
     await waitForOk(`${server.url}/healthz`, 50);
   } catch (error) {

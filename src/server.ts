@@ -1,16 +1,23 @@
 import type { Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
-import { formatLoadProblems, loadPolicyAndCards } from './config/load-files.js';
+import { formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
+import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
+import { openStore } from './store/open-store.js';
+import { loadOrCreateSecret, patientKey } from './store/patient-key.js';
+import type { Store } from './store/store.js';
 
 /**
  * The process entry point: read the environment, load the policy and card templates (refusing to
- * start, with every problem listed, when any is wrong), build the app, listen, and close cleanly on
- * SIGTERM or SIGINT. Problems go to stderr as plain lines, since the logger's level may hide them.
+ * start, with every problem listed, when any is wrong), open the store and the patient-key secret in
+ * the data directory (refusing to start without them: a service that forgot its cards and feedback
+ * would break the audit trail's promise), build the app, listen, purge expired records on a schedule,
+ * and close cleanly on SIGTERM or SIGINT: the HTTP server first, then the store. Problems go to
+ * stderr as plain lines, since the logger's level may hide them.
  */
 
 export const DEMO_MODE_NOTICE =
@@ -49,10 +56,41 @@ export async function startServer(
     return { kind: 'refused', problems: formatLoadProblems(files.problems) };
   }
   const log = logger ?? createLogger({ level: config.logLevel });
+  const opened = openStore({ dataDir: config.store.dataDir });
+  if (opened.kind === 'refused') {
+    return { kind: 'refused', problems: `O2CHECK_DATA_DIR: ${opened.problem}` };
+  }
+  const { store } = opened;
+  try {
+    const result = await startWithStore(config, files, store, log);
+    if (result.kind === 'refused') {
+      await store.close();
+    }
+    return result;
+  } catch (error) {
+    await store.close();
+    throw error;
+  }
+}
+
+async function startWithStore(
+  config: EnvConfig,
+  files: Extract<LoadedFiles, { kind: 'ok' }>,
+  store: Store,
+  log: Logger,
+): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
+  const secret = loadOrCreateSecret({
+    dataDir: config.store.dataDir,
+    ...(config.store.patientKeyFile === undefined ? {} : { secretFile: config.store.patientKeyFile }),
+  });
+  if (secret.kind === 'refused') {
+    return { kind: 'refused', problems: `O2CHECK_PATIENT_KEY_FILE: ${secret.problem}` };
+  }
   const auth = await setUpAuthentication(config.security, {
     fetch: globalThis.fetch,
     clock: () => new Date(),
     logger: log,
+    store,
   });
   if (auth.kind === 'refused') {
     return { kind: 'refused', problems: auth.problems };
@@ -64,18 +102,35 @@ export async function startServer(
     clock: () => new Date(),
     fetch: globalThis.fetch,
     authenticate: auth.authenticate,
+    store,
+    policyContentHash: files.policyContentHash,
+    patientKey: (patient) => patientKey(secret.secret, patient),
   });
   const server = await listen(app, config);
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;
-  const started = { url, policyId: files.policy.id, policyVersion: files.policy.version, cardTemplates: files.templates.size };
+  const started = {
+    url,
+    policyId: files.policy.id,
+    policyVersion: files.policy.version,
+    policyContentHash: files.policyContentHash,
+    cardTemplates: files.templates.size,
+    dataDir: config.store.dataDir,
+  };
   if (auth.kind === 'demo') {
     log.warn({ ...started, mode: 'demo' }, `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`);
   } else {
     const trust = { mode: 'production', publicUrl: auth.publicUrl, trustedClients: auth.trustedClients };
     log.info({ ...started, ...trust }, `oxygen-order-checker listening; ${PRODUCTION_MODE_NOTICE}`);
   }
+  const purge = startRetentionPurge({
+    store,
+    retentionDays: config.store.auditRetentionDays,
+    intervalMin: config.store.purgeIntervalMin,
+    clock: () => new Date(),
+    logger: log,
+  });
   // Calls in flight get `O2CHECK_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
   const closeGracefully = prepareGracefulClose(server, config.shutdownGraceMs);
   const close = async (): Promise<void> => {
@@ -83,6 +138,9 @@ export async function startServer(
     const closing = closeGracefully();
     log.info({ graceMs: config.shutdownGraceMs }, 'oxygen-order-checker stopping: no new connections');
     const { forced } = await closing;
+    // Only once no call can write any more: every answer sent was committed before it went out.
+    await purge.stop();
+    await store.close();
     log.info(forced ? { forced } : {}, 'oxygen-order-checker stopped');
   };
   return { kind: 'started', started: { server, url, close } };

@@ -226,3 +226,33 @@ export function renderWorkings(input: WorkingsInput): string {
     cautionsSection(input.policy),
   ]);
 }
+
+/**
+ * `renderWorkings` for every card of one call, with the same output: the sections all cards of one
+ * call share (inputs per assessment, set aside, cautions) are built once, not once per card, so that
+ * recording each card's workings in the audit trail costs little on a call with many cards.
+ */
+export function prepareWorkings(
+  facts: Facts,
+  policy: Policy,
+  now: Date,
+): (finding: Finding, assessment: Assessment) => string {
+  const clock: CardClock = { now, timeZone: policy.site.timeZone };
+  const inputsByAssessment = new Map<Assessment, DetailSection>();
+  const setAside = setAsideSection(facts.setAside);
+  const cautions = cautionsSection(policy);
+  return (finding, assessment) => {
+    let inputs = inputsByAssessment.get(assessment);
+    if (inputs === undefined) {
+      inputs = inputsSection(facts, assessment, policy, clock);
+      inputsByAssessment.set(assessment, inputs);
+    }
+    return renderSections([
+      inputs,
+      calculationSection(finding.computations, policy),
+      setAside,
+      sourcesSection(findingSourceKeys(finding), policy),
+      cautions,
+    ]);
+  };
+}

@@ -5,9 +5,11 @@ import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
 import type { GatheredData } from '../fhir/gathered-data.js';
+import type { AdvisorySeries, StoredIndicator } from '../store/store.js';
+import { advisorySeries } from './advisory-series.js';
 import { buildCardReport } from './build-card.js';
 import type { CardTemplates } from './card-templates.js';
-import { renderWorkings } from './card-workings.js';
+import { prepareWorkings } from './card-workings.js';
 import { OrderSelectContextSchema, OrderSignContextSchema, type CdsRequest, type CdsResponse } from './schemas.js';
 import { findService } from './services.js';
 
@@ -30,6 +32,29 @@ export interface HookEvaluation {
    * order, when asked for with `workings: true`; the cards themselves carry only a compact detail.
    */
   readonly workings?: readonly CardWorkings[];
+  /** What the audit trail records of each card, in card order (see audit-records.ts). */
+  readonly audit: HookAudit;
+}
+
+/** The facts of one card the audit trail keeps: what was shown, why, and what its chart plots. */
+export interface CardAudit {
+  readonly cardUuid: string;
+  readonly suggestionUuids: readonly string[];
+  readonly ruleId: string;
+  readonly ruleVersion: number;
+  readonly indicator: StoredIndicator;
+  readonly summary: string;
+  readonly detail: string;
+  /** The finding's values, as the card's template interpolated them. */
+  readonly keyNumbers: Readonly<Record<string, string>>;
+  readonly workings: string;
+  readonly series: AdvisorySeries;
+}
+
+export interface HookAudit {
+  /** The patient's ward or unit, when the encounter named one. */
+  readonly unit: string | undefined;
+  readonly cards: readonly CardAudit[];
 }
 
 export interface CardWorkings {
@@ -78,6 +103,8 @@ export function evaluateHook(
   const offered = new Map<string, OrderChange[]>();
   const problems: string[] = [];
   const workings: CardWorkings[] = [];
+  const audit: CardAudit[] = [];
+  const renderWorkings = prepareWorkings(facts, deps.policy, deps.now);
   const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
     if (template === undefined) {
@@ -102,16 +129,23 @@ export function evaluateHook(
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
     }
     problems.push(...report.problems);
+    const cardAssessment = assessmentFor(finding.orderReference);
+    const markdown = renderWorkings(finding, cardAssessment);
     if (deps.workings === true) {
-      const markdown = renderWorkings({
-        finding,
-        facts,
-        assessment: assessmentFor(finding.orderReference),
-        policy: deps.policy,
-        now: deps.now,
-      });
       workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
     }
+    audit.push({
+      cardUuid: report.card.uuid ?? '',
+      suggestionUuids: (report.card.suggestions ?? []).flatMap((s) => (s.uuid === undefined ? [] : [s.uuid])),
+      ruleId: finding.ruleId,
+      ruleVersion: finding.ruleVersion,
+      indicator: report.card.indicator,
+      summary: report.card.summary,
+      detail: report.card.detail ?? '',
+      keyNumbers: finding.values,
+      workings: markdown,
+      series: advisorySeries(facts, cardAssessment, deps.now),
+    });
     return report.card;
   });
 
@@ -122,6 +156,7 @@ export function evaluateHook(
     policyVersion: deps.policy.version,
     problems,
     ...(deps.workings === true ? { workings } : {}),
+    audit: { unit: facts.encounterUnit, cards: audit },
   };
 }
 

@@ -46,6 +46,24 @@ export const ENV_DEFAULTS = {
   O2CHECK_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
   O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
   O2CHECK_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
+  // The store (docs/security.md, "Memory"). Relative to the working directory, like the other paths.
+  O2CHECK_DATA_DIR: './data',
+  // days an advisory and its feedback are kept: a year of review (an annual audit of override rates)
+  // plus a margin for the review to happen late; the local records policy decides, not this default
+  O2CHECK_AUDIT_RETENTION_DAYS: 400,
+  // minutes between purges of expired advisories and token ids; the first runs at start. Hourly keeps
+  // each purge small and retention accurate to within an hour of a 400-day period.
+  O2CHECK_PURGE_INTERVAL_MIN: 60,
+  // feedback items in one request: an EHR sends one item per card acted on, a handful per order; 50
+  // leaves room for a batch resend without letting one request hold a large share of a daily quota
+  O2CHECK_FEEDBACK_MAX_ITEMS: 50,
+  // feedback records one client may add per UTC day: a 1,000-bed hospital firing a few cards per
+  // order on a few thousand orders a day sends well under this; past it the client gets 429
+  O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: 20_000,
+  // live jti values one client (iss, with tenant when its trust entry lists tenants) may hold in the
+  // store's replay cache; at about 5 calls a second with 1-hour tokens a client holds about 18,000.
+  // Past it that client alone gets 429; the store's total is bounded by this times the client shares.
+  O2CHECK_REPLAY_MAX_PER_CLIENT: 20_000,
 } as const;
 
 export interface FhirFallbackLimits {
@@ -63,6 +81,24 @@ export interface AuthLimits {
   readonly jwksCacheTtlS: number;
   readonly jwksRefreshMinIntervalS: number;
   readonly replayCacheMaxEntries: number;
+  /** Live token ids one client may hold in the store's replay cache (its share). */
+  readonly replayMaxPerClient: number;
+}
+
+/** Where the service keeps its memory, and how long (src/store). */
+export interface StoreConfig {
+  /** The data directory, absolute: the database and, unless configured, the patient-key secret. */
+  readonly dataDir: string;
+  /** The patient pseudonym secret file, absolute, when configured; else it lives in `dataDir`. */
+  readonly patientKeyFile: string | undefined;
+  readonly auditRetentionDays: number;
+  readonly purgeIntervalMin: number;
+}
+
+/** Per-client limits on feedback (docs/api.md, "Feedback"). */
+export interface FeedbackConfig {
+  readonly maxItemsPerRequest: number;
+  readonly maxRecordsPerClientPerDay: number;
 }
 
 /** Production needs both a trust file and the public base URL that token audiences name. */
@@ -92,6 +128,8 @@ export interface EnvConfig {
   /** Clients reach the service over HTTPS only (TLS here or at a proxy), so HSTS is sent. */
   readonly behindTls: boolean;
   readonly security: SecurityConfig;
+  readonly store: StoreConfig;
+  readonly feedback: FeedbackConfig;
 }
 
 export interface EnvProblem {
@@ -209,6 +247,13 @@ const EnvSchema = z.object({
   O2CHECK_JWKS_CACHE_TTL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_CACHE_TTL_S, 1, 86_400),
   O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S, 1, 3600),
   O2CHECK_REPLAY_CACHE_MAX_ENTRIES: integerVar(ENV_DEFAULTS.O2CHECK_REPLAY_CACHE_MAX_ENTRIES, 1000, 10_000_000),
+  O2CHECK_DATA_DIR: textVar(ENV_DEFAULTS.O2CHECK_DATA_DIR),
+  O2CHECK_AUDIT_RETENTION_DAYS: integerVar(ENV_DEFAULTS.O2CHECK_AUDIT_RETENTION_DAYS, 1, 36_500),
+  O2CHECK_PURGE_INTERVAL_MIN: integerVar(ENV_DEFAULTS.O2CHECK_PURGE_INTERVAL_MIN, 1, 10_080),
+  O2CHECK_PATIENT_KEY_FILE: textVar(''),
+  O2CHECK_FEEDBACK_MAX_ITEMS: integerVar(ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_ITEMS, 1, 10_000),
+  O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: integerVar(ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY, 1, 10_000_000),
+  O2CHECK_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.O2CHECK_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -275,6 +320,7 @@ function securityConfig(v: ParsedEnv, absolute: (path: string) => string): Secur
       jwksCacheTtlS: v.O2CHECK_JWKS_CACHE_TTL_S,
       jwksRefreshMinIntervalS: v.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S,
       replayCacheMaxEntries: v.O2CHECK_REPLAY_CACHE_MAX_ENTRIES,
+      replayMaxPerClient: v.O2CHECK_REPLAY_MAX_PER_CLIENT,
     },
   };
 }
@@ -341,6 +387,16 @@ export function parseEnvConfig(
       // Production requires an https public URL, so clients reach it over TLS: always send HSTS there.
       behindTls: v.O2CHECK_BEHIND_TLS || v.O2CHECK_MODE === 'production',
       security: securityConfig(v, absolute),
+      store: {
+        dataDir: absolute(v.O2CHECK_DATA_DIR),
+        patientKeyFile: v.O2CHECK_PATIENT_KEY_FILE === '' ? undefined : absolute(v.O2CHECK_PATIENT_KEY_FILE),
+        auditRetentionDays: v.O2CHECK_AUDIT_RETENTION_DAYS,
+        purgeIntervalMin: v.O2CHECK_PURGE_INTERVAL_MIN,
+      },
+      feedback: {
+        maxItemsPerRequest: v.O2CHECK_FEEDBACK_MAX_ITEMS,
+        maxRecordsPerClientPerDay: v.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY,
+      },
     }),
   };
 }

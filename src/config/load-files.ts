@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
 import { basename, join } from 'node:path';
 import { parseCardTemplate, type CardTemplate, type CardTemplates } from '../cds/card-templates.js';
@@ -20,7 +21,13 @@ export interface LoadProblem {
 }
 
 export type LoadedFiles =
-  | { readonly kind: 'ok'; readonly policy: Policy; readonly templates: CardTemplates }
+  | {
+      readonly kind: 'ok';
+      readonly policy: Policy;
+      /** sha256 of the policy file's bytes (hex): the audit trail names exactly which file judged a card. */
+      readonly policyContentHash: string;
+      readonly templates: CardTemplates;
+    }
   | { readonly kind: 'invalid'; readonly problems: readonly LoadProblem[] };
 
 export interface FilePaths {
@@ -37,20 +44,26 @@ function readFailure(error: unknown): string {
   return typeof code === 'string' ? `cannot be read (${code})` : 'cannot be read';
 }
 
-async function loadPolicy(path: string, problems: LoadProblem[]): Promise<Policy | undefined> {
-  let text: string;
+interface LoadedPolicy {
+  readonly policy: Policy;
+  readonly contentHash: string;
+}
+
+async function loadPolicy(path: string, problems: LoadProblem[]): Promise<LoadedPolicy | undefined> {
+  let bytes: Buffer;
   try {
-    text = await readFile(path, 'utf8');
+    bytes = await readFile(path);
   } catch (error) {
     problems.push({ file: path, path: '(file)', message: readFailure(error) });
     return undefined;
   }
-  const parsed = parsePolicyText(text);
+  const parsed = parsePolicyText(bytes.toString('utf8'));
   if (parsed.kind === 'invalid') {
     problems.push(...parsed.problems.map((p) => ({ file: path, path: p.path, message: p.message })));
     return undefined;
   }
-  return parsed.policy;
+  // Hashed from the bytes read, not re-read later, so the hash is of the very text that was parsed.
+  return { policy: parsed.policy, contentHash: createHash('sha256').update(bytes).digest('hex') };
 }
 
 async function loadCards(dir: string, problems: LoadProblem[]): Promise<Map<string, CardTemplate>> {
@@ -93,7 +106,7 @@ async function loadCards(dir: string, problems: LoadProblem[]): Promise<Map<stri
 /** Loads both; `invalid` lists every problem found. */
 export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles> {
   const problems: LoadProblem[] = [];
-  const [policy, templates] = await Promise.all([
+  const [loaded, templates] = await Promise.all([
     loadPolicy(paths.policyPath, problems),
     loadCards(paths.cardsDir, problems),
   ]);
@@ -106,10 +119,10 @@ export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles>
       });
     }
   }
-  if (problems.length > 0 || policy === undefined) {
+  if (problems.length > 0 || loaded === undefined) {
     return { kind: 'invalid', problems };
   }
-  return { kind: 'ok', policy, templates };
+  return { kind: 'ok', policy: loaded.policy, policyContentHash: loaded.contentHash, templates };
 }
 
 /** One problem a line: `file: path: message`. */

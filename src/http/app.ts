@@ -5,10 +5,11 @@ import { missingTemplates } from '../cds/evaluate-hook.js';
 import { ENV_DEFAULTS, type EnvConfig } from '../config/env-config.js';
 import type { Policy } from '../core/policy.js';
 import type { Logger } from '../log/logger.js';
+import type { Store } from '../store/store.js';
+import { createAuditTrail, type PatientKeyOf } from './audit-trail.js';
 import { requireAuthentication, type Authenticate } from './auth.js';
 import { answerPreflight, corsHeaders } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
-import { createMemoryFeedbackStore, type FeedbackStore } from './feedback-store.js';
 import { createGatherer, type Gather } from './gather-data.js';
 import { parseJsonBody, requireJsonContentType } from './json-body.js';
 import { createEvaluationGate } from './overload.js';
@@ -25,7 +26,7 @@ import { securityHeaders } from './security-headers.js';
  * robustness settings fall back to their ENV_DEFAULTS when a test leaves them out.
  */
 export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
-  Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls'>>;
+  Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>>;
 
 export interface AppDeps {
   readonly policy: Policy;
@@ -39,8 +40,12 @@ export interface AppDeps {
   readonly authenticate: Authenticate;
   /** Defaults to the prefetch-then-FHIR gatherer built from `fetch` and `config.fhir`. */
   readonly gather?: Gather;
-  /** Defaults to an in-memory store. */
-  readonly feedbackStore?: FeedbackStore;
+  /** The service's memory: every card issued is recorded there, and feedback is committed there. */
+  readonly store: Store;
+  /** sha256 of the policy file bytes (load-files.ts), recorded with every advisory. */
+  readonly policyContentHash: string;
+  /** The keyed hash that stands for the patient in the audit trail (src/store/patient-key.ts). */
+  readonly patientKey: PatientKeyOf;
   /** Defaults to random UUIDs. */
   readonly newRequestId?: () => string;
 }
@@ -63,7 +68,16 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     throw new Error(`createApp: no card template for rule(s) ${unworded.join(', ')}`);
   }
   const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
-  const store = deps.feedbackStore ?? createMemoryFeedbackStore();
+  const audit = createAuditTrail({
+    store: deps.store,
+    logger: deps.logger,
+    policyContentHash: deps.policyContentHash,
+    patientKey: deps.patientKey,
+  });
+  const feedbackLimits = config.feedback ?? {
+    maxItemsPerRequest: ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_ITEMS,
+    maxRecordsPerClientPerDay: ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY,
+  };
   const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT);
   const app = express();
   app.disable('x-powered-by');
@@ -80,14 +94,26 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.use(requireJsonContentType);
   app.use(parseJsonBody(config.bodyLimitBytes));
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
-  app.post(ROUTES.feedback, route('feedback', feedbackHandler(store)));
+  app.post(
+    ROUTES.feedback,
+    route(
+      'feedback',
+      feedbackHandler({
+        store: deps.store,
+        limits: feedbackLimits,
+        templates: deps.templates,
+        clock: deps.clock,
+        logger: deps.logger,
+      }),
+    ),
+  );
   // Admitted after the body is read: the cap counts evaluations, so a slow upload holds no slot.
   app.post(
     ROUTES.service,
     gate.admit,
     route(
       'service',
-      serviceHandler({ policy: deps.policy, templates: deps.templates, clock: deps.clock, gather }),
+      serviceHandler({ policy: deps.policy, templates: deps.templates, clock: deps.clock, gather, audit }),
     ),
   );
 

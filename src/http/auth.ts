@@ -1,6 +1,6 @@
 import type { Request, RequestHandler, Response } from 'express';
 import type { FhirServerPolicy } from '../security/fhir-server-allowlist.js';
-import { AppError } from './errors.js';
+import { AppError, type ErrorCode } from './errors.js';
 import { requestState } from './request-context.js';
 
 /**
@@ -32,7 +32,13 @@ export type AuthResult =
   | ({ readonly kind: 'allowed' } & AuthenticatedClient)
   | {
       readonly kind: 'denied';
-      readonly reason: 'missing' | 'invalid-token';
+      /**
+       * `too-many-tokens`: a valid token, but its client holds its whole replay-cache share (429 with
+       * Retry-After). `unavailable`: the replay check could not be made (503). Otherwise 401.
+       */
+      readonly reason: 'missing' | 'invalid-token' | 'too-many-tokens' | 'unavailable';
+      /** Seconds to wait, for `too-many-tokens`. */
+      readonly retryAfterS?: number;
       /** Why, for the operator only; never sent to the client and never containing the token. */
       readonly cause?: unknown;
       /** Logged on the request's summary line; never sent to the client. */
@@ -56,6 +62,13 @@ export const DEMO_CLIENT: Extract<AuthResult, { kind: 'allowed' }> = Object.free
 export const allowEveryRequest: Authenticate = () => Promise.resolve(DEMO_CLIENT);
 
 const CLIENT_KEY = 'o2checkClient';
+
+const DENIAL_CODES = {
+  missing: 'CDS_ERR_AUTH_MISSING',
+  'invalid-token': 'CDS_ERR_AUTH_INVALID_TOKEN',
+  'too-many-tokens': 'CDS_ERR_AUTH_TOO_MANY_TOKENS',
+  unavailable: 'CDS_ERR_STORE_UNAVAILABLE',
+} as const satisfies Record<Extract<AuthResult, { kind: 'denied' }>['reason'], ErrorCode>;
 
 /** The client `requireAuthentication` let through for this response. */
 export function authenticatedClient(res: Response): AuthenticatedClient {
@@ -83,8 +96,10 @@ export function requireAuthentication(authenticate: Authenticate): RequestHandle
       if (result.detail !== undefined) {
         requestState(res).detail = { kind: 'auth-refused', ...result.detail };
       }
-      const code = result.reason === 'missing' ? 'CDS_ERR_AUTH_MISSING' : 'CDS_ERR_AUTH_INVALID_TOKEN';
-      throw new AppError(code, result.cause === undefined ? {} : { cause: result.cause });
+      if (result.reason === 'too-many-tokens') {
+        res.setHeader('Retry-After', String(Math.max(1, Math.ceil(result.retryAfterS ?? 1))));
+      }
+      throw new AppError(DENIAL_CODES[result.reason], result.cause === undefined ? {} : { cause: result.cause });
     }
     const { kind: _kind, ...client } = result;
     res.locals[CLIENT_KEY] = client;

@@ -43,9 +43,21 @@ export const ERROR_CATALOGUE = {
     status: 413,
     message: 'The request body is larger than this service accepts.',
   },
+  CDS_ERR_FEEDBACK_TOO_MANY_ITEMS: {
+    status: 413,
+    message: 'The feedback request holds more items than this service takes in one request; see issues.',
+  },
   CDS_ERR_UNSUPPORTED_MEDIA_TYPE: {
     status: 415,
     message: 'Send the request body as JSON (Content-Type: application/json, UTF-8).',
+  },
+  CDS_ERR_FEEDBACK_QUOTA_EXCEEDED: {
+    status: 429,
+    message: 'This client has sent as much feedback today as this service keeps for it; nothing was recorded. Retry after the Retry-After delay.',
+  },
+  CDS_ERR_AUTH_TOO_MANY_TOKENS: {
+    status: 429,
+    message: 'This client holds as many unexpired tokens as this service remembers for it; retry after the Retry-After delay.',
   },
   CDS_ERR_INTERNAL: {
     status: 500,
@@ -54,6 +66,10 @@ export const ERROR_CATALOGUE = {
   CDS_ERR_OVERLOADED: {
     status: 503,
     message: 'The service is checking as many orders as it can at once; retry after the Retry-After delay.',
+  },
+  CDS_ERR_STORE_UNAVAILABLE: {
+    status: 503,
+    message: 'The service could not use its store, so the request was not accepted; retry later.',
   },
 } as const satisfies Readonly<Record<string, { status: number; message: string }>>;
 

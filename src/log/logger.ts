@@ -94,8 +94,15 @@ export interface HookCallSummary {
   readonly fhirServerRefused?: string;
 }
 
-/** One feedback item as logged: the outcome and the override reason code, nothing else. */
+/**
+ * One feedback item as logged: which card (and its rule, from the advisory on record), the outcome
+ * and the override reason code. The route passes a card uuid or reason code only when it is one this
+ * service issued or offered, never other text the caller chose; comments are never logged.
+ */
 export interface FeedbackItemSummary {
+  readonly cardUuid: string;
+  readonly ruleId: string | undefined;
+  readonly knownCard: boolean;
   readonly outcome: string;
   readonly overrideReasonCode: string | undefined;
   readonly duplicate: boolean;
@@ -104,6 +111,8 @@ export interface FeedbackItemSummary {
 export interface FeedbackSummary {
   readonly kind: 'feedback';
   readonly serviceId: string;
+  /** The authenticated client's issuer (from the trust file, or the demo's own). */
+  readonly clientIss: string;
   readonly items: readonly FeedbackItemSummary[];
 }
 
@@ -165,7 +174,11 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
   }
   return {
     serviceId: detail.serviceId,
+    clientIss: detail.clientIss,
     feedback: detail.items.map((item) => ({
+      cardUuid: item.cardUuid,
+      ...(item.ruleId === undefined ? {} : { ruleId: item.ruleId }),
+      knownCard: item.knownCard,
       outcome: item.outcome,
       ...(item.overrideReasonCode === undefined ? {} : { overrideReasonCode: item.overrideReasonCode }),
       duplicate: item.duplicate,

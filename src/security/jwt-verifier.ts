@@ -25,7 +25,11 @@ export type VerifyFailure =
   | 'key-unsuitable'
   | 'signature-invalid'
   | ClaimFailure
-  | 'jti-replayed';
+  | 'jti-replayed'
+  /** The client holds its whole share of the replay cache: answered 429, not 401. */
+  | 'jti-share-full'
+  /** The replay cache could not be consulted: refused (fail closed) and answered 503. */
+  | 'replay-check-failed';
 
 /** What may be logged about a token: identifiers the spec allows, each capped in length. */
 export interface TokenLabels {
@@ -42,7 +46,13 @@ export type VerifyOutcome =
       readonly claims: CheckedClaims;
       readonly alg: SigningAlgorithm;
     }
-  | { readonly kind: 'refused'; readonly reason: VerifyFailure; readonly labels: TokenLabels };
+  | {
+      readonly kind: 'refused';
+      readonly reason: VerifyFailure;
+      readonly labels: TokenLabels;
+      /** Seconds until a token from this client may be taken again (`jti-share-full` only). */
+      readonly retryAfterS?: number;
+    };
 
 export type VerifyToken = (token: string, audience: string) => Promise<VerifyOutcome>;
 
@@ -170,10 +180,27 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
     const { claims } = checked;
     // Held until the token could no longer pass the exp check, leeway included.
     const expiresAt = (claims.expS + deps.limits.clockSkewS) * 1000;
-    const fresh = await deps.replayCache.checkAndRemember(JSON.stringify([client.iss, claims.jti]), expiresAt);
-    if (!fresh) {
-      return refuse('jti-replayed');
+    const decision = await deps.replayCache.checkAndRemember(replayShareKey(client, claims.tenant), claims.jti, expiresAt);
+    switch (decision.kind) {
+      case 'fresh':
+        return { kind: 'verified', client, claims, alg };
+      case 'replayed':
+        return refuse('jti-replayed');
+      case 'client-full':
+        return { kind: 'refused', reason: 'jti-share-full', labels, retryAfterS: decision.retryAfterS };
+      case 'unavailable':
+        return refuse('replay-check-failed');
     }
-    return { kind: 'verified', client, claims, alg };
   };
+}
+
+/**
+ * Whose share of the replay cache a token counts against: the issuer, and its tenant when the trust
+ * file lists the client's tenants. A client with no tenant list may put any text in `tenant`, so its
+ * tenant cannot widen its share: all its tokens count against the issuer alone.
+ */
+export function replayShareKey(client: TrustedClient, tenant: string | undefined): string {
+  return client.tenants !== undefined && tenant !== undefined
+    ? JSON.stringify([client.iss, tenant])
+    : JSON.stringify([client.iss]);
 }

@@ -29,7 +29,16 @@ export function createProductionAuthenticator(options: ProductionAuthOptions): A
     const audience = endpointAudience(options.publicBaseUrl, req.originalUrl);
     const outcome = await options.verify(bearer.token, audience);
     if (outcome.kind === 'refused') {
-      return { kind: 'denied', reason: 'invalid-token', detail: { reason: outcome.reason, ...outcome.labels } };
+      const detail = { reason: outcome.reason, ...outcome.labels };
+      // A valid token over its client's share is a rate limit (429), and a replay check that could not
+      // be made is the service's fault (503); every other refusal is an invalid token (401).
+      if (outcome.reason === 'jti-share-full') {
+        return { kind: 'denied', reason: 'too-many-tokens', retryAfterS: outcome.retryAfterS ?? 1, detail };
+      }
+      if (outcome.reason === 'replay-check-failed') {
+        return { kind: 'denied', reason: 'unavailable', detail };
+      }
+      return { kind: 'denied', reason: 'invalid-token', detail };
     }
     const { client, claims } = outcome;
     return {

@@ -1,15 +1,23 @@
 /**
  * Remembers token ids (`jti`) until their token expires, so a captured token cannot be sent twice
  * (CDS Hooks 2.0 §Trusting CDS Clients: `jti` is a nonce for replay protection; RFC 7519 §4.1.7).
- * Behind an interface so that several instances can share one store (a later change); the memory
- * implementation here protects one process only.
+ * The service uses the store-backed cache (store-replay-cache.ts), which survives restarts and
+ * bounds each client's share; the memory implementation here protects one process only.
  */
+export type ReplayDecision =
+  | { readonly kind: 'fresh' }
+  | { readonly kind: 'replayed' }
+  /** The client holds its whole share of unexpired ids; its oldest expires in `retryAfterS`. */
+  | { readonly kind: 'client-full'; readonly retryAfterS: number }
+  /** The id could not be checked or remembered (a store failure, a full memory cache): refuse. */
+  | { readonly kind: 'unavailable' };
+
 export interface ReplayCache {
   /**
-   * Records `key` until `expiresAt` (epoch milliseconds). True when the key was not held before and is
-   * now remembered; false when it was already held, or could not be remembered (fail closed).
+   * Records `jti` for the client `clientKey` until `expiresAt` (epoch milliseconds). `fresh` when it
+   * was not held before and is now remembered; anything else refuses the token (fail closed).
    */
-  checkAndRemember(key: string, expiresAt: number): Promise<boolean>;
+  checkAndRemember(clientKey: string, jti: string, expiresAt: number): Promise<ReplayDecision>;
 }
 
 export interface MemoryReplayCacheOptions {
@@ -53,29 +61,30 @@ export function createMemoryReplayCache(options: MemoryReplayCacheOptions): Memo
     }
   }
 
-  function checkAndRememberNow(key: string, expiresAt: number): boolean {
+  function checkAndRememberNow(key: string, expiresAt: number): ReplayDecision {
     const now = options.clock().getTime();
     sweepFront(now);
     const held = expiries.get(key);
     if (held !== undefined && held > now) {
-      return false;
+      return { kind: 'replayed' };
     }
     if (held === undefined && expiries.size >= options.maxEntries) {
       sweepAll(now);
       if (expiries.size >= options.maxEntries) {
         // Forgetting a live id would let its token be replayed: refuse the new token instead.
         options.onFull?.();
-        return false;
+        return { kind: 'unavailable' };
       }
     }
     expiries.delete(key);
     expiries.set(key, expiresAt);
-    return true;
+    return { kind: 'fresh' };
   }
 
   return {
     // Synchronous inside, so two concurrent calls with one id cannot both be told "new".
-    checkAndRemember: (key, expiresAt) => Promise.resolve(checkAndRememberNow(key, expiresAt)),
+    checkAndRemember: (clientKey, jti, expiresAt) =>
+      Promise.resolve(checkAndRememberNow(JSON.stringify([clientKey, jti]), expiresAt)),
     size: () => expiries.size,
   };
 }

@@ -4,7 +4,9 @@ import type { Logger } from '../log/logger.js';
 import { createJwksStore } from './jwks-store.js';
 import { createJwtVerifier } from './jwt-verifier.js';
 import { createProductionAuthenticator } from './production-authenticator.js';
-import { createMemoryReplayCache, type ReplayCache } from './replay-cache.js';
+import type { Store } from '../store/store.js';
+import type { ReplayCache } from './replay-cache.js';
+import { createStoreReplayCache } from './store-replay-cache.js';
 import { formatTrustProblems, loadTrustFile } from './trust-config.js';
 
 /**
@@ -25,7 +27,9 @@ export interface SetupDeps {
   readonly fetch: typeof fetch;
   readonly clock: () => Date;
   readonly logger: Logger;
-  /** Defaults to a memory cache sized by the configured limit (one instance only; docs/security.md). */
+  /** Holds the replay cache in production, so a token stays refused across restarts. */
+  readonly store: Store;
+  /** Replaces the store-backed replay cache (tests only). */
   readonly replayCache?: ReplayCache;
 }
 
@@ -58,10 +62,11 @@ export async function setUpAuthentication(security: SecurityConfig, deps: SetupD
   });
   const replayCache =
     deps.replayCache ??
-    createMemoryReplayCache({
-      maxEntries: limits.replayCacheMaxEntries,
+    createStoreReplayCache({
+      store: deps.store,
+      maxPerClient: limits.replayMaxPerClient,
       clock: deps.clock,
-      onFull: () => deps.logger.warn({ replayCache: 'full' }, 'replay cache full; new tokens refused'),
+      logger: deps.logger,
     });
   const verify = createJwtVerifier({
     trust: loaded.trust,

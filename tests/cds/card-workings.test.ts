@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { renderWorkings } from '../../src/cds/card-workings.js';
+import { prepareWorkings, renderWorkings } from '../../src/cds/card-workings.js';
 import { assessment, bundledPolicy, facts, finding, NOW } from './support/card-inputs.js';
 
 const policy = bundledPolicy();
@@ -91,5 +91,16 @@ describe('renderWorkings', () => {
       });
       expect(text).toContain('- SpO2 93 % at yesterday (time not readable) (Observation/lb-spo2-0001)');
     });
+  });
+});
+
+describe('prepareWorkings', () => {
+  it('renders each card of a call exactly as renderWorkings does, the shared sections built once', () => {
+    const render = prepareWorkings(facts, policy, NOW);
+    const bare = { ...finding, computations: [], sourceKeys: [] };
+    expect(render(finding, assessment)).toBe(workings);
+    expect(render(bare, assessment)).toBe(renderWorkings({ finding: bare, facts, assessment, policy, now: NOW }));
+    const otherOrder = { ...assessment, order: undefined };
+    expect(render(finding, otherOrder)).toBe(renderWorkings({ finding, facts, assessment: otherOrder, policy, now: NOW }));
   });
 });

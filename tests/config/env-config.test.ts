@@ -20,6 +20,13 @@ describe('parseEnvConfig', () => {
         shutdownGraceMs: 10_000, // project default
         behindTls: false, // project default: no HSTS until HTTPS is known to be in front
         security: { mode: 'demo' }, // project default: demo mode, authentication off, loopback only
+        store: {
+          dataDir: '/srv/o2check/data', // project default: ./data under the working directory
+          patientKeyFile: undefined, // project default: the secret is created in the data directory
+          auditRetentionDays: 400, // project default: a year of review plus margin; local records policy decides
+          purgeIntervalMin: 60, // project default
+        },
+        feedback: { maxItemsPerRequest: 50, maxRecordsPerClientPerDay: 20_000 }, // project defaults
       },
     });
   });
@@ -56,6 +63,13 @@ describe('parseEnvConfig', () => {
         O2CHECK_JWKS_CACHE_TTL_S: '120',
         O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: '15',
         O2CHECK_REPLAY_CACHE_MAX_ENTRIES: '5000',
+        O2CHECK_REPLAY_MAX_PER_CLIENT: '1500',
+        O2CHECK_DATA_DIR: 'var/o2check',
+        O2CHECK_PATIENT_KEY_FILE: '/etc/o2check/patient-key',
+        O2CHECK_AUDIT_RETENTION_DAYS: '730',
+        O2CHECK_PURGE_INTERVAL_MIN: '15',
+        O2CHECK_FEEDBACK_MAX_ITEMS: '10',
+        O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: '500',
       },
       '/srv/o2check',
     );
@@ -86,8 +100,16 @@ describe('parseEnvConfig', () => {
             jwksCacheTtlS: 120,
             jwksRefreshMinIntervalS: 15,
             replayCacheMaxEntries: 5000,
+            replayMaxPerClient: 1500,
           },
         },
+        store: {
+          dataDir: '/srv/o2check/var/o2check',
+          patientKeyFile: '/etc/o2check/patient-key',
+          auditRetentionDays: 730,
+          purgeIntervalMin: 15,
+        },
+        feedback: { maxItemsPerRequest: 10, maxRecordsPerClientPerDay: 500 },
       },
     });
   });
@@ -234,6 +256,50 @@ describe('parseEnvConfig', () => {
         },
         { variable: 'O2CHECK_FHIR_MAX_PAGES', message: 'must be a whole number from 1 to 100' },
       ],
+    });
+  });
+
+  describe('store and feedback limits', () => {
+    it('keeps an absolute data directory as given and resolves a relative key file against the working directory', () => {
+      const result = parseEnvConfig({ O2CHECK_DATA_DIR: '/var/lib/o2check', O2CHECK_PATIENT_KEY_FILE: 'keys/patient' }, '/srv');
+      expect(result.kind === 'ok' && result.config.store).toStrictEqual({
+        dataDir: '/var/lib/o2check',
+        patientKeyFile: '/srv/keys/patient',
+        auditRetentionDays: 400,
+        purgeIntervalMin: 60,
+      });
+    });
+
+    it.each([
+      ['O2CHECK_AUDIT_RETENTION_DAYS', '0'],
+      ['O2CHECK_AUDIT_RETENTION_DAYS', '400d'],
+      ['O2CHECK_PURGE_INTERVAL_MIN', '0'],
+      ['O2CHECK_FEEDBACK_MAX_ITEMS', '0'],
+      ['O2CHECK_FEEDBACK_MAX_ITEMS', '-5'],
+      ['O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY', '0'],
+      ['O2CHECK_REPLAY_MAX_PER_CLIENT', '10'],
+      ['O2CHECK_REPLAY_MAX_PER_CLIENT', 'lots'],
+    ])('refuses %s=%s under its own name', (variable, value) => {
+      const result = parseEnvConfig({ [variable]: value }, '/srv');
+      expect(result.kind).toBe('invalid');
+      expect(result.kind === 'invalid' && result.problems.map((p) => p.variable)).toStrictEqual([variable]);
+    });
+
+    it('gives the per-client replay share to production mode only, beside the memory cap', () => {
+      const production = parseEnvConfig(
+        {
+          O2CHECK_MODE: 'production',
+          O2CHECK_TRUST: 'trust.yaml',
+          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+          O2CHECK_REPLAY_MAX_PER_CLIENT: '250',
+        },
+        '/srv',
+      );
+      const limits = production.kind === 'ok' && production.config.security.mode === 'production'
+        ? production.config.security.limits
+        : undefined;
+      expect(limits?.replayMaxPerClient).toBe(250);
+      expect(limits?.replayCacheMaxEntries).toBe(100_000); // project default
     });
   });
 

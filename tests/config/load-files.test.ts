@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { cpSync, mkdtempSync, readFileSync, rmSync, unlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -31,6 +32,19 @@ describe('loadPolicyAndCards', () => {
     // BTS 2017 Table 4: the bundled default's hypercapnic-risk target
     expect(files.policy.targets.hypercapnicRisk).toStrictEqual({ lowPercent: 88, highPercent: 92 });
     expect([...files.templates.keys()].sort()).toStrictEqual(RULES.map((rule) => rule.id).sort());
+  });
+
+  it('carries the sha256 of the policy file bytes, so a one-byte change gives another hash', async () => {
+    const policyPath = join(scratch, 'local-policy.yaml');
+    const bytes = readFileSync(ENV_DEFAULTS.O2CHECK_POLICY);
+    writeFileSync(policyPath, bytes);
+    const same = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+    // FIPS 180-4 SHA-256 as node:crypto computes it, over the file as read
+    expect(same.kind === 'ok' && same.policyContentHash).toBe(createHash('sha256').update(bytes).digest('hex'));
+    writeFileSync(policyPath, Buffer.concat([bytes, Buffer.from('\n')]));
+    const edited = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+    expect(edited.kind === 'ok' && edited.policyContentHash).toMatch(/^[0-9a-f]{64}$/);
+    expect(edited.kind === 'ok' && same.kind === 'ok' && edited.policyContentHash !== same.policyContentHash).toBe(true);
   });
 
   it('lists every problem in every file: policy, broken template, misnamed file, missing template', async () => {

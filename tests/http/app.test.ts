@@ -5,6 +5,7 @@ import { createApp } from '../../src/http/app.js';
 import { allowEveryRequest } from '../../src/http/auth.js';
 import { createLogger } from '../../src/log/logger.js';
 import { expectConformant } from '../helpers/card-conformance.js';
+import { openTempStore, testPatientKey } from '../helpers/temp-store.js';
 import { createMemoryLog } from '../log/memory-log.js';
 import { NOW, orderSignRequest, PATIENT_FAMILY_NAME, PATIENT_ID, TOKEN } from './larkspur-fixtures.js';
 import { buildTestApp, loadBundledFiles, TEST_CONFIG } from './test-app.js';
@@ -24,6 +25,9 @@ describe('createApp', () => {
         clock: () => NOW,
         fetch: globalThis.fetch,
         authenticate: allowEveryRequest,
+        store: openTempStore().store,
+        policyContentHash: files.policyContentHash,
+        patientKey: testPatientKey,
       }),
     ).toThrow('createApp: no card template for rule(s) spo2-below-target');
   });

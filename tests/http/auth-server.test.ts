@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createLogger } from '../../src/log/logger.js';
 import { DEMO_MODE_NOTICE, PRODUCTION_MODE_NOTICE, startServer } from '../../src/server.js';
 import { SPEC_PRIVATE_JWK } from '../fixtures/security/spec-jwt-example.js';
+import { makeTempDataDir } from '../helpers/temp-store.js';
 import { createMemoryLog } from '../log/memory-log.js';
 import { EHR_ES384, EHR_ISS } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
@@ -41,6 +42,7 @@ const production = (extra: Record<string, string> = {}) => ({
   O2CHECK_MODE: 'production',
   O2CHECK_TRUST: trustPath,
   O2CHECK_PUBLIC_URL: PUBLIC_URL,
+  O2CHECK_DATA_DIR: makeTempDataDir(),
   ...extra,
 });
 
@@ -77,7 +79,7 @@ describe('startServer and the two modes', () => {
 
   it('warns at start in demo mode', async () => {
     const log = createMemoryLog();
-    const result = await startServer({ PORT: '0' }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
     if (result.kind !== 'started') throw new Error(result.problems);
     await result.started.close();
     expect(log.lines()[0]).toMatchObject({ msg: `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`, mode: 'demo', level: 40 });

@@ -1,8 +1,14 @@
 import { spawn, type ChildProcess } from 'node:child_process';
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import Database from 'better-sqlite3';
 import { afterEach, describe, expect, it } from 'vitest';
 import { createLogger } from '../../src/log/logger.js';
 import { DEMO_MODE_NOTICE, startServer } from '../../src/server.js';
+import { LATEST_SCHEMA_VERSION } from '../../src/store/migrations.js';
+import { STORE_FILE_NAME } from '../../src/store/open-store.js';
+import { makeTempDataDir } from '../helpers/temp-store.js';
 import { createMemoryLog } from '../log/memory-log.js';
 
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -22,7 +28,7 @@ function runServer(env: Record<string, string>): {
 } {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', ...env },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), ...env },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   children.push(child);
@@ -47,7 +53,7 @@ function runServer(env: Record<string, string>): {
 describe('startServer', () => {
   it('listens on loopback, serves liveness and logs the demo-mode notice', async () => {
     const log = createMemoryLog();
-    const result = await startServer({ PORT: '0' }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
     if (result.kind !== 'started') throw new Error(result.problems);
     try {
       expect(result.started.url).toMatch(/^http:\/\/127\.0\.0\.1:\d+$/);
@@ -72,6 +78,52 @@ describe('startServer', () => {
       problems:
         'PORT: must be a whole number from 0 to 65535\n' +
         'LOG_LEVEL: must be one of fatal, error, warn, info, debug, trace, silent',
+    });
+  });
+
+  it('purges expired records at start, logging counts only, and closes the store after the HTTP server', async () => {
+    const log = createMemoryLog();
+    const dataDir = makeTempDataDir();
+    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    if (result.kind !== 'started') throw new Error(result.problems);
+    await result.started.close();
+    const messages = log.lines().map((line) => line['msg']);
+    const purge = log.lines().find((line) => line['purge'] === 'done');
+    expect(purge).toMatchObject({ advisories: 0, feedback: 0, replayIds: 0 });
+    // the default retention: 400 days before now (src/config/env-config.ts ENV_DEFAULTS)
+    const cutoffAgeDays = (Date.now() - Date.parse(String(purge?.['cutoff']))) / 86_400_000;
+    expect(Math.round(cutoffAgeDays)).toBe(400);
+    expect(messages.indexOf('oxygen-order-checker stopping: no new connections')).toBeLessThan(
+      messages.indexOf('oxygen-order-checker stopped'),
+    );
+    // SQLite removes the WAL file when its last connection closes cleanly (SQLite docs, "Write-Ahead Logging")
+    expect(existsSync(join(dataDir, `${STORE_FILE_NAME}-wal`))).toBe(false);
+    expect(existsSync(join(dataDir, STORE_FILE_NAME))).toBe(true);
+  });
+
+  it('refuses to start, with the store\'s own message, on a store written by a newer release', async () => {
+    const dataDir = makeTempDataDir();
+    const raw = new Database(join(dataDir, STORE_FILE_NAME));
+    raw.pragma(`user_version = ${String(LATEST_SCHEMA_VERSION + 1)}`);
+    raw.close();
+    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'silent' }));
+    expect(result.kind).toBe('refused');
+    const problems = result.kind === 'refused' ? result.problems : '';
+    expect(problems).toMatch(/^O2CHECK_DATA_DIR: the store .* has schema version \d+, but this release knows versions up to \d+/);
+    expect(problems).toContain('run a newer release');
+  });
+
+  it('refuses to start when the configured patient-key file is missing', async () => {
+    const dataDir = makeTempDataDir();
+    const missing = join(dataDir, 'no-such-secret');
+    const result = await startServer(
+      { PORT: '0', O2CHECK_DATA_DIR: dataDir, O2CHECK_PATIENT_KEY_FILE: missing },
+      ROOT,
+      createLogger({ level: 'silent' }),
+    );
+    expect(result).toStrictEqual({
+      kind: 'refused',
+      problems: `O2CHECK_PATIENT_KEY_FILE: the patient-key secret ${missing} (configured) cannot be read (ENOENT)`,
     });
   });
 

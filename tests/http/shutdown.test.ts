@@ -2,6 +2,7 @@ import { spawn, type ChildProcess } from 'node:child_process';
 import { connect } from 'node:net';
 import { fileURLToPath } from 'node:url';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
+import { makeTempDataDir } from '../helpers/temp-store.js';
 import { fhirAuthorization, fullPrefetch, orderSignRequest } from './larkspur-fixtures.js';
 import { post } from './support/app-server.js';
 import { startFaultFhirServer, type FaultFhirServer } from './support/fault-fhir-server.js';
@@ -27,7 +28,7 @@ interface Running {
 function runServer(env: Record<string, string>): Running {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', ...env },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), ...env },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   children.push(child);

@@ -4,6 +4,7 @@ import { formatLoadProblems, loadPolicyAndCards } from '../../src/config/load-fi
 import { createApp, type AppConfig, type AppDeps } from '../../src/http/app.js';
 import { allowEveryRequest } from '../../src/http/auth.js';
 import { createLogger } from '../../src/log/logger.js';
+import { openTempStore, testPatientKey } from '../helpers/temp-store.js';
 import { createMemoryLog, type MemoryLog } from '../log/memory-log.js';
 import { NOW } from './larkspur-fixtures.js';
 
@@ -30,7 +31,10 @@ export interface TestApp {
   readonly log: MemoryLog;
 }
 
-/** The app as the server builds it, with the clock fixed, a memory log and counting request ids. */
+/**
+ * The app as the server builds it, with the clock fixed, a memory log, counting request ids and a
+ * real store in a temporary directory (closed and removed when the test file ends).
+ */
 export async function buildTestApp(
   overrides: Partial<AppDeps> = {},
   config: Partial<AppConfig> = {},
@@ -48,7 +52,10 @@ export async function buildTestApp(
       fetch: globalThis.fetch,
       authenticate: allowEveryRequest,
       newRequestId: () => `req-${++next}`,
+      policyContentHash: files.policyContentHash,
+      patientKey: testPatientKey,
       ...overrides,
+      store: overrides.store ?? openTempStore().store,
     },
   );
   return { app, log };

@@ -3,6 +3,7 @@ import {
   createLogger,
   logInternalError,
   logRequestSummary,
+  type FeedbackItemSummary,
   type HookCallSummary,
 } from '../../src/log/logger.js';
 import { createMemoryLog } from './memory-log.js';
@@ -146,7 +147,7 @@ describe('logRequestSummary', () => {
     expect(log.text()).not.toContain('Quillfeather');
   });
 
-  it('logs feedback as outcome and override reason code only', () => {
+  it('logs feedback as card, rule, client, outcome and override reason code only', () => {
     const log = createMemoryLog();
     const logger = createLogger({ level: 'info', destination: log.stream });
     logRequestSummary(logger, {
@@ -159,16 +160,41 @@ describe('logRequestSummary', () => {
       detail: {
         kind: 'feedback',
         serviceId: 'oxygen-order-sign',
+        clientIss: 'https://ehr.larkspur-bay.example',
         items: [
-          { outcome: 'overridden', overrideReasonCode: 'patient-specific-target', duplicate: false },
-          { outcome: 'accepted', overrideReasonCode: undefined, duplicate: true },
+          {
+            cardUuid: '0a7c0cf8-4f5c-5c7e-9d51-6f1e0b3c2a11',
+            ruleId: 'spo2-above-target',
+            knownCard: true,
+            outcome: 'overridden',
+            overrideReasonCode: 'patient-specific-target',
+            duplicate: false,
+            userComment: 'Mr Quillfeather prefers the mask',
+          } as FeedbackItemSummary,
+          {
+            cardUuid: '5e2d9b61-8a3f-5b27-a0c4-91d2e6f7a8b3',
+            ruleId: undefined,
+            knownCard: false,
+            outcome: 'accepted',
+            overrideReasonCode: undefined,
+            duplicate: true,
+          },
         ],
       },
     });
+    expect(log.lines()[0]?.['clientIss']).toBe('https://ehr.larkspur-bay.example');
     expect(log.lines()[0]?.['feedback']).toStrictEqual([
-      { outcome: 'overridden', overrideReasonCode: 'patient-specific-target', duplicate: false },
-      { outcome: 'accepted', duplicate: true },
+      {
+        cardUuid: '0a7c0cf8-4f5c-5c7e-9d51-6f1e0b3c2a11',
+        ruleId: 'spo2-above-target',
+        knownCard: true,
+        outcome: 'overridden',
+        overrideReasonCode: 'patient-specific-target',
+        duplicate: false,
+      },
+      { cardUuid: '5e2d9b61-8a3f-5b27-a0c4-91d2e6f7a8b3', knownCard: false, outcome: 'accepted', duplicate: true },
     ]);
+    expect(log.text()).not.toContain('Quillfeather');
   });
 
   describe('edge cases', () => {

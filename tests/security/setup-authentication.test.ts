@@ -7,6 +7,7 @@ import type { SecurityConfig } from '../../src/config/env-config.js';
 import { allowEveryRequest } from '../../src/http/auth.js';
 import { createLogger } from '../../src/log/logger.js';
 import { setUpAuthentication } from '../../src/security/setup-authentication.js';
+import { openTempStore } from '../helpers/temp-store.js';
 import { createMemoryLog } from '../log/memory-log.js';
 import { claims, DISCOVERY_AUD, EHR_ES384, EHR_ISS, fakeFetch, NOW, PUBLIC_BASE } from './support/fixtures.js';
 import { signToken } from './support/keys.js';
@@ -36,6 +37,7 @@ function production(trustPath: string): SecurityConfig {
       jwksCacheTtlS: 300,
       jwksRefreshMinIntervalS: 60,
       replayCacheMaxEntries: 100_000,
+      replayMaxPerClient: 20_000,
     },
   };
 }
@@ -43,7 +45,7 @@ function production(trustPath: string): SecurityConfig {
 describe('setUpAuthentication', () => {
   it('uses the demo authenticator in demo mode', async () => {
     const log = createMemoryLog();
-    const setup = await setUpAuthentication({ mode: 'demo' }, { fetch: fakeFetch({}).fetch, clock: () => NOW, logger: createLogger({ level: 'info', destination: log.stream }) });
+    const setup = await setUpAuthentication({ mode: 'demo' }, { fetch: fakeFetch({}).fetch, clock: () => NOW, logger: createLogger({ level: 'info', destination: log.stream }), store: openTempStore().store });
     expect(setup).toStrictEqual({ kind: 'demo', authenticate: allowEveryRequest });
   });
 
@@ -56,6 +58,7 @@ describe('setUpAuthentication', () => {
       fetch: served.fetch,
       clock: () => NOW,
       logger: createLogger({ level: 'info', destination: log.stream }),
+      store: openTempStore().store,
     });
     if (setup.kind !== 'production') throw new Error(`expected production, got ${setup.kind}`);
     expect([setup.publicUrl, setup.trustedClients]).toStrictEqual([PUBLIC_BASE, 1]);
@@ -73,7 +76,7 @@ describe('setUpAuthentication', () => {
     it('refuses with every problem of the trust file, by file and path', async () => {
       const path = join(dir, 'bad.yaml');
       await writeFile(path, `clients:\n  - iss: ${EHR_ISS}\n    jwksUrl: http://ehr.larkspur-bay.example/keys\n`);
-      const setup = await setUpAuthentication(production(path), { fetch: fakeFetch({}).fetch, clock: () => NOW, logger: createLogger({ level: 'silent' }) });
+      const setup = await setUpAuthentication(production(path), { fetch: fakeFetch({}).fetch, clock: () => NOW, logger: createLogger({ level: 'silent' }), store: openTempStore().store });
       expect(setup).toStrictEqual({
         kind: 'refused',
         problems: [

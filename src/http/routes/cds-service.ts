@@ -1,9 +1,12 @@
+import type { Response } from 'express';
 import type { CardTemplates } from '../../cds/card-templates.js';
-import { evaluateHook } from '../../cds/evaluate-hook.js';
+import { evaluateHook, type HookEvaluation } from '../../cds/evaluate-hook.js';
 import { parseHookRequest } from '../../cds/parse-hook-request.js';
+import type { CdsRequest } from '../../cds/schemas.js';
 import type { Policy } from '../../core/policy.js';
 import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
 import { authenticatedClient } from '../auth.js';
+import type { AuditTrail } from '../audit-trail.js';
 import { AppError } from '../errors.js';
 import { explainRefusal, limitFhirAccess } from '../fhir-server-access.js';
 import type { Gather } from '../gather-data.js';
@@ -15,6 +18,8 @@ export interface ServiceRouteDeps {
   readonly templates: CardTemplates;
   readonly clock: () => Date;
   readonly gather: Gather;
+  /** Every card returned is recorded here before the response goes out. */
+  readonly audit: AuditTrail;
 }
 
 /**
@@ -65,10 +70,12 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
         access.refused === undefined ? gathered.unavailable : explainRefusal(gathered.unavailable, access.refused);
       throw new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable });
     }
+    const now = deps.clock();
     const result = evaluateHook(
       { serviceId: service.id, request, data: gathered.data },
-      { policy: deps.policy, templates: deps.templates, now: deps.clock() },
+      { policy: deps.policy, templates: deps.templates, now },
     );
+    await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res);
     return {
       status: 200,
       body: result.response,
@@ -83,4 +90,28 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       },
     };
   };
+}
+
+/** Commits the audit record of every card (a failure is logged and counted; the cards still go). */
+async function recordCards(
+  audit: AuditTrail,
+  result: HookEvaluation,
+  call: { readonly serviceId: string; readonly hook: string; readonly request: CdsRequest; readonly now: Date },
+  res: Response,
+): Promise<void> {
+  const { iss, tenant } = authenticatedClient(res);
+  const patientId = call.request.context['patientId'];
+  await audit.record(
+    result,
+    {
+      serviceId: call.serviceId,
+      hook: call.hook,
+      hookInstance: call.request.hookInstance,
+      client: tenant === undefined ? { iss } : { iss, tenant },
+      issuedAt: call.now,
+      fhirServer: call.request.fhirServer,
+      patientId: typeof patientId === 'string' ? patientId : '',
+    },
+    requestState(res).requestId,
+  );
 }

@@ -2,22 +2,27 @@ import type { ClaimLimits } from '../../../src/security/jwt-claims.js';
 import { createJwksStore } from '../../../src/security/jwks-store.js';
 import { createJwtVerifier } from '../../../src/security/jwt-verifier.js';
 import { createProductionAuthenticator } from '../../../src/security/production-authenticator.js';
-import { createMemoryReplayCache } from '../../../src/security/replay-cache.js';
-import { createMemoryFeedbackStore, type FeedbackEntry } from '../../../src/http/feedback-store.js';
+import { createStoreReplayCache } from '../../../src/security/store-replay-cache.js';
+import type { FeedbackInput, Store } from '../../../src/store/store.js';
 import { createGatherer, type Gather } from '../../../src/http/gather-data.js';
+import { createLogger, type Logger } from '../../../src/log/logger.js';
+import { openTempStore } from '../../helpers/temp-store.js';
 import { buildTestApp, TEST_CONFIG, type TestApp } from '../../http/test-app.js';
 import { ehrClient, NOW, PUBLIC_BASE, theatresClient, trustOf } from './fixtures.js';
 
 /**
- * The app as production builds it (trust file, JWKS store, replay cache, verifier, authenticator),
- * with spies on the two places a handler reaches: the gather step of a service call and the feedback
- * store. A refused call must leave both untouched.
+ * The app as production builds it (trust file, JWKS store, the replay cache in the store, verifier,
+ * authenticator), with spies on the two places a handler reaches: the gather step of a service call
+ * and the store's feedback write. A refused call must leave both untouched.
  */
 export interface ProductionApp extends TestApp {
   /** One entry per service call that got as far as gathering data. */
   readonly gathered: unknown[];
-  /** One entry per feedback item the feedback handler recorded. */
-  readonly recorded: FeedbackEntry[];
+  /** One entry per feedback item the feedback handler sent to the store. */
+  readonly recorded: FeedbackInput[];
+  /** The real store behind the app (a temporary directory unless `dataDir` was given). */
+  readonly store: Store;
+  readonly dataDir: string;
 }
 
 export interface ProductionAppOptions {
@@ -32,6 +37,14 @@ export interface ProductionAppOptions {
   readonly clock?: () => Date;
   readonly limits?: ClaimLimits;
   readonly publicBase?: string;
+  /** Opens the store here (a simulated restart reuses a data directory); a fresh one otherwise. */
+  readonly dataDir?: string;
+  /** Live token ids per client in the replay cache (O2CHECK_REPLAY_MAX_PER_CLIENT). */
+  readonly replayMaxPerClient?: number;
+  /** Wraps the store the replay cache uses (to make it fail, say). */
+  readonly replayStore?: (real: Store) => Store;
+  /** Where the replay cache logs a store failure; silent otherwise. */
+  readonly replayLogger?: Logger;
 }
 
 export async function buildProductionApp(options: ProductionAppOptions = {}): Promise<ProductionApp> {
@@ -47,10 +60,17 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
     ttlMs: 300_000,
     minRefreshIntervalMs: 60_000,
   });
+  const { store: realStore, dataDir } = openTempStore(options.dataDir);
   const verify = createJwtVerifier({
     trust,
     jwks,
-    replayCache: createMemoryReplayCache({ maxEntries: 10_000, clock }),
+    replayCache: createStoreReplayCache({
+      store: options.replayStore === undefined ? realStore : options.replayStore(realStore),
+      // the project default share (src/config/env-config.ts ENV_DEFAULTS)
+      maxPerClient: options.replayMaxPerClient ?? 20_000,
+      clock,
+      logger: options.replayLogger ?? createLogger({ level: 'silent' }),
+    }),
     clock,
     // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
     limits: options.limits ?? { clockSkewS: 60, maxLifetimeS: 3600 },
@@ -67,14 +87,14 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
     gathered.push(request);
     return real(request, templates);
   };
-  const recorded: FeedbackEntry[] = [];
-  const store = createMemoryFeedbackStore();
-  const feedbackStore = {
-    record: (entry: FeedbackEntry) => {
-      recorded.push(entry);
-      return store.record(entry);
+  const recorded: FeedbackInput[] = [];
+  const store: Store = {
+    ...realStore,
+    recordFeedback: (client, items, receivedAt, limits) => {
+      recorded.push(...items);
+      return realStore.recordFeedback(client, items, receivedAt, limits);
     },
   };
-  const built = await buildTestApp({ authenticate, gather, feedbackStore, clock, fetch: fhirFetch });
-  return { ...built, gathered, recorded };
+  const built = await buildTestApp({ authenticate, gather, store, clock, fetch: fhirFetch });
+  return { ...built, gathered, recorded, store: realStore, dataDir };
 }
