@@ -1,5 +1,6 @@
 import type { CardTemplates } from '../../cds/card-templates.js';
 import { evaluateHook } from '../../cds/evaluate-hook.js';
+import { addReviewLinks } from '../../cds/review-links.js';
 import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { Policy } from '../../core/policy.js';
 import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
@@ -15,6 +16,8 @@ export interface ServiceRouteDeps {
   readonly templates: CardTemplates;
   readonly clock: () => Date;
   readonly gather: Gather;
+  /** The URL of a card's advisory page (src/security/review-link-token.ts); no links when absent. */
+  readonly reviewLinkFor?: (cardUuid: string) => string;
 }
 
 /**
@@ -69,9 +72,10 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       { serviceId: service.id, request, data: gathered.data },
       { policy: deps.policy, templates: deps.templates, now: deps.clock() },
     );
+    const linkFor = deps.reviewLinkFor;
     return {
       status: 200,
-      body: result.response,
+      body: linkFor === undefined ? result.response : addReviewLinks(result.response, linkFor),
       detail: {
         ...base(gathered.fallback),
         ruleIds: result.ruleIds,
