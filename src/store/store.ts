@@ -160,6 +160,12 @@ export interface AdvisoryWithFeedback extends AdvisoryRecord {
   readonly feedback: readonly FeedbackRecord[];
 }
 
+/** A page of feedback records, newest received first, with the count of all of them for paging. */
+export interface FeedbackPage {
+  readonly items: readonly FeedbackRecord[];
+  readonly total: number;
+}
+
 export interface SummaryQuery {
   readonly from?: string;
   readonly to?: string;
@@ -206,6 +212,11 @@ export interface Store {
   ): Promise<ReplayCheck>;
   listAdvisories(query: AdvisoryQuery): Promise<AdvisoryPage>;
   getAdvisory(cardUuid: string): Promise<AdvisoryWithFeedback | undefined>;
+  /**
+   * Feedback kept for cards this service never issued to the sending client (`knownCard` false),
+   * newest received first, so a reviewer can see what was flagged.
+   */
+  listUnmatchedFeedback(limit: number, offset: number): Promise<FeedbackPage>;
   summarise(query: SummaryQuery): Promise<readonly RuleUnitSummary[]>;
   /** The distinct units and rule ids on record, for the review page's filters. */
   facets(): Promise<{ readonly units: readonly string[]; readonly ruleIds: readonly string[] }>;

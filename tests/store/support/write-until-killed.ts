@@ -1,0 +1,17 @@
+// Child process for the kill -9 test: records feedback as fast as it can and, after each commit,
+// prints the card number it just had acknowledged. The test kills it mid-stream.
+import { openSqliteStore } from '../../../src/store/sqlite-store.js';
+import { accepted, advisory, EHR } from './fixtures.js';
+
+const file = process.argv[2];
+if (file === undefined) {
+  throw new Error('usage: write-until-killed <store file>');
+}
+const store = openSqliteStore({ file });
+for (let n = 1; n <= 100_000; n += 1) {
+  await store.recordAdvisories([advisory(n)]);
+  await store.recordFeedback(EHR, [accepted(n, '2026-03-14T09:41:00Z')], new Date('2026-03-14T10:00:00Z'), {
+    maxRecordsPerClientPerDay: 1_000_000,
+  });
+  process.stdout.write(`${String(n)}\n`);
+}
