@@ -7,7 +7,7 @@ import type { Policy } from '../core/policy.js';
 import type { Logger } from '../log/logger.js';
 import { reasonDisplaysFrom } from '../review/override-reasons.js';
 import type { ReviewAccessConfig } from '../security/review-access.js';
-import type { FeedbackRecord, Store } from '../store/store.js';
+import type { Store } from '../store/store.js';
 import { requireAuthentication, type Authenticate } from './auth.js';
 import { answerPreflight, corsHeaders } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
@@ -57,8 +57,6 @@ export interface ReviewAppDeps {
   readonly access: ReviewAccessConfig;
   /** The absolute URL of a card's advisory page; cards carry no link when absent. */
   readonly linkFor?: (cardUuid: string) => string;
-  /** The newest feedback for cards never issued, when the store can list it. */
-  readonly unmatchedFeedback?: (limit: number) => Promise<readonly FeedbackRecord[]>;
 }
 
 const ROUTES = {
@@ -93,10 +91,9 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.get(ROUTES.health, route('healthz', healthHandler));
   if (deps.review !== undefined) {
     // Outside /cds-services authentication: the review router decides its own access.
-    const { store, access, unmatchedFeedback } = deps.review;
+    const { store, access } = deps.review;
     const reasonDisplay = reasonDisplaysFrom(deps.templates);
-    const reviewDeps = { store, access, policy: deps.policy, reasonDisplay, clock: deps.clock };
-    app.use('/review', reviewRouter(unmatchedFeedback === undefined ? reviewDeps : { ...reviewDeps, unmatchedFeedback }, deps.logger));
+    app.use('/review', reviewRouter({ store, access, policy: deps.policy, reasonDisplay, clock: deps.clock }, deps.logger));
   }
 
   app.use('/cds-services', requireAuthentication(deps.authenticate));

@@ -1,4 +1,4 @@
-import type { AdvisoryListItem, AdvisoryPage, FeedbackRecord } from '../store/store.js';
+import type { AdvisoryListItem, AdvisoryPage, FeedbackPage } from '../store/store.js';
 import { issuesNotice, selectField, timeFields } from './filter-fields.js';
 import { html, type HtmlFragment } from './html.js';
 import { renderPage } from './layout.js';
@@ -19,8 +19,8 @@ export interface AdvisoryListInput {
   readonly result:
     | { readonly kind: 'ok'; readonly filters: ListFilters; readonly page: AdvisoryPage }
     | { readonly kind: 'invalid'; readonly issues: readonly QueryIssue[] };
-  /** Feedback for cards never issued; undefined when the store cannot list it. */
-  readonly unmatched?: readonly FeedbackRecord[];
+  /** The newest feedback for cards never issued, and how many there are; no section when absent. */
+  readonly unmatched?: FeedbackPage;
 }
 
 export function advisoryPath(cardUuid: string): string {
@@ -75,10 +75,11 @@ function pager(filters: ListFilters, total: number, shown: number, suffix = ''):
   }</span>${prev}${next}</div>`;
 }
 
-function unmatchedSection(records: readonly FeedbackRecord[] | undefined, timeZone: string): HtmlFragment {
-  if (records === undefined) {
+function unmatchedSection(unmatched: FeedbackPage | undefined, timeZone: string): HtmlFragment {
+  if (unmatched === undefined) {
     return html``;
   }
+  const records = unmatched.items;
   const body =
     records.length === 0
       ? html`<p class="muted">None received.</p>`
@@ -88,6 +89,7 @@ ${records.map(
 )}</tbody></table>`;
   return html`<section id="unmatched-feedback"><h2>Feedback for cards this service did not issue <span class="flag">(flagged)</span></h2>
 <p>These records name a card this service never issued to that client. They are kept for audit and never counted as feedback on a real advisory. A steady stream of them may mean a misconfigured client.</p>
+<p id="unmatched-count" data-total="${unmatched.total}">${records.length < unmatched.total ? `The newest ${records.length} of ${unmatched.total}.` : `${unmatched.total} in all.`}</p>
 ${body}</section>`;
 }
 

@@ -1,67 +1,75 @@
 import { randomBytes } from 'node:crypto';
-import { mkdir, open, readFile, stat } from 'node:fs/promises';
+import { closeSync, fsyncSync, linkSync, mkdirSync, openSync, readFileSync, rmSync, statSync, writeSync } from 'node:fs';
 import { dirname } from 'node:path';
 
 /**
- * The key that signs review link tokens. A configured file is read as it is; otherwise a file in the
- * data directory is created on first start with 32 random bytes (hex) and owner-only permissions,
- * and read on every later start, so links survive a restart. Replacing the file invalidates every
- * link already issued (docs/security.md).
+ * The key that signs review link tokens (review-link-token.ts). A configured file is used as it is;
+ * otherwise `review-link.secret` in the data directory is created owner-only with 32 random bytes
+ * (hex) on first start and reused afterwards, so links survive a restart. As for the patient-key
+ * secret (src/store/patient-key.ts), the new secret is written whole to a private temporary file and
+ * linked into place, which fails if the file exists: two processes starting at once agree on one
+ * secret and nobody reads half of one. Replacing the file invalidates every link already issued.
  */
 
-/** HMAC-SHA256 keys should be at least the hash length (RFC 2104 §3): 32 bytes. */
+/** RFC 2104 §3 discourages HMAC keys shorter than the hash output: 32 bytes for SHA-256. */
 export const MIN_SECRET_BYTES = 32;
-const NEW_SECRET_BYTES = 32;
 
 export type SecretLoad =
-  | { readonly kind: 'ok'; readonly secret: Buffer; readonly created: boolean }
-  | { readonly kind: 'invalid'; readonly message: string };
+  | { readonly kind: 'loaded'; readonly secret: Buffer; readonly created: boolean }
+  | { readonly kind: 'refused'; readonly problem: string };
 
 function code(error: unknown): string | undefined {
-  return typeof error === 'object' && error !== null ? (error as { code?: string }).code : undefined;
+  return typeof error === 'object' && error !== null && 'code' in error && typeof error.code === 'string' ? error.code : undefined;
 }
 
-async function readSecret(path: string): Promise<SecretLoad> {
-  let info;
+function checkSecretFile(file: string): SecretLoad {
+  let mode: number;
   try {
-    info = await stat(path);
+    mode = statSync(file).mode;
   } catch (error) {
-    return { kind: 'invalid', message: `cannot read ${path} (${code(error) ?? 'error'})` };
+    return { kind: 'refused', problem: `the review link secret ${file} cannot be read (${code(error) ?? 'error'})` };
   }
-  // POSIX only: on Windows the mode bits do not describe who may read the file.
-  if (process.platform !== 'win32' && (info.mode & 0o077) !== 0) {
-    return { kind: 'invalid', message: `${path} may be read by other users; make it owner-only (chmod 600)` };
+  if ((mode & 0o077) !== 0) {
+    return {
+      kind: 'refused',
+      problem: `the review link secret ${file} is readable or writable by group or others (mode ${(mode & 0o777).toString(8)}); run chmod 600 on it`,
+    };
   }
-  const secret = Buffer.from((await readFile(path, 'utf8')).trim(), 'utf8');
+  const secret = Buffer.from(readFileSync(file).toString('latin1').trimEnd(), 'latin1');
   if (secret.length < MIN_SECRET_BYTES) {
-    return { kind: 'invalid', message: `${path} holds fewer than ${MIN_SECRET_BYTES} bytes; use a longer random secret` };
+    return { kind: 'refused', problem: `the review link secret ${file} holds ${secret.length} bytes; it needs at least ${MIN_SECRET_BYTES} random bytes` };
   }
-  return { kind: 'ok', secret, created: false };
+  return { kind: 'loaded', secret, created: false };
 }
 
-/** Reads `path`, creating it first (mode 0600, its directory 0700) when `create` is set and it is absent. */
-export async function loadReviewLinkSecret(path: string, options: { readonly create: boolean }): Promise<SecretLoad> {
-  if (options.create) {
-    await mkdir(dirname(path), { recursive: true, mode: 0o700 });
-    let handle;
-    try {
-      // `wx`: never overwrite; a second process starting at the same moment reads the first one's key.
-      handle = await open(path, 'wx', 0o600);
-    } catch (error) {
-      if (code(error) !== 'EEXIST') {
-        return { kind: 'invalid', message: `cannot create ${path} (${code(error) ?? 'error'})` };
-      }
-    }
-    if (handle !== undefined) {
-      try {
-        await handle.writeFile(`${randomBytes(NEW_SECRET_BYTES).toString('hex')}\n`);
-        await handle.sync();
-      } finally {
-        await handle.close();
-      }
-      const loaded = await readSecret(path);
-      return loaded.kind === 'ok' ? { ...loaded, created: true } : loaded;
-    }
+function writeDurably(file: string, text: string): void {
+  const fd = openSync(file, 'wx', 0o600);
+  try {
+    writeSync(fd, text);
+    fsyncSync(fd);
+  } finally {
+    closeSync(fd);
   }
-  return readSecret(path);
+}
+
+/** Loads `file`; when `create` is set and it does not exist yet, creates it first (directory 0700). */
+export function loadReviewLinkSecret(file: string, options: { readonly create: boolean }): SecretLoad {
+  if (!options.create) {
+    return checkSecretFile(file);
+  }
+  const temporary = `${file}.${randomBytes(6).toString('hex')}.tmp`;
+  try {
+    mkdirSync(dirname(file), { recursive: true, mode: 0o700 });
+    writeDurably(temporary, `${randomBytes(32).toString('hex')}\n`);
+    linkSync(temporary, file);
+    const loaded = checkSecretFile(file);
+    return loaded.kind === 'loaded' ? { ...loaded, created: true } : loaded;
+  } catch (error) {
+    if (code(error) !== 'EEXIST') {
+      return { kind: 'refused', problem: `the review link secret ${file} cannot be created (${code(error) ?? 'error'}); check that the data directory is writable` };
+    }
+  } finally {
+    rmSync(temporary, { force: true });
+  }
+  return checkSecretFile(file);
 }

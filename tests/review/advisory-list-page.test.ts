@@ -96,7 +96,7 @@ describe('renderAdvisoryListPage', () => {
         unit: hostile('filterUnit'),
       }),
       facets: { units: [hostile('facetUnit')], ruleIds: [hostile('facetRule')] },
-      unmatched: [feedbackRecord({ id: hostile('fbId'), cardUuid: hostile('fbCard'), serviceId: hostile('fbService'), client: { iss: hostile('fbIss'), tenant: hostile('fbTenant') }, knownCard: false })],
+      unmatched: { items: [feedbackRecord({ id: hostile('fbId'), cardUuid: hostile('fbCard'), serviceId: hostile('fbService'), client: { iss: hostile('fbIss'), tenant: hostile('fbTenant') }, knownCard: false })], total: 1 },
     });
     expect(out).not.toContain('<i data-f');
     for (const field of ['cardUuid', 'summary', 'unit', 'ruleId', 'reason', 'filterUnit', 'facetUnit', 'facetRule', 'fbId', 'fbCard', 'fbService', 'fbIss', 'fbTenant']) {
@@ -107,9 +107,10 @@ describe('renderAdvisoryListPage', () => {
   });
 
   it('flags feedback for cards never issued in its own section, and omits the section when the store cannot list it', () => {
-    const flagged = renderAdvisoryListPage({ ...input([item(1)]), unmatched: [feedbackRecord({ id: 'stray-1', cardUuid: 'never-issued', knownCard: false })] });
+    const flagged = renderAdvisoryListPage({ ...input([item(1)]), unmatched: { items: [feedbackRecord({ id: 'stray-1', cardUuid: 'never-issued', knownCard: false })], total: 41 } });
     expect(flagged).toContain('id="unmatched-feedback"');
     expect(elementsWith(flagged, 'data-feedback-id').map((r) => r['data-feedback-id'])).toStrictEqual(['stray-1']);
+    expect(flagged).toContain('The newest 1 of 41.');
     expect(renderAdvisoryListPage(input([item(1)]))).not.toContain('id="unmatched-feedback"');
   });
 });

@@ -1,7 +1,7 @@
 import type { Policy } from '../../core/policy.js';
 import type { ReasonDisplay } from '../../review/override-reasons.js';
 import type { ReviewAccessConfig } from '../../security/review-access.js';
-import type { FeedbackRecord, Store } from '../../store/store.js';
+import type { Store } from '../../store/store.js';
 
 /** What the /review routes need: the store to read, the access settings, the site zone and reasons. */
 export interface ReviewRouteDeps {
@@ -10,6 +10,4 @@ export interface ReviewRouteDeps {
   readonly policy: Policy;
   readonly reasonDisplay: ReasonDisplay;
   readonly clock: () => Date;
-  /** The newest feedback records for cards never issued; absent when the store cannot list them. */
-  readonly unmatchedFeedback?: (limit: number) => Promise<readonly FeedbackRecord[]>;
 }

@@ -26,8 +26,8 @@ export function listPageHandler(deps: ReviewRouteDeps): PageHandler {
     const timeZone = deps.policy.site.timeZone;
     const parsed = parseListQuery(req.query, { now: deps.clock(), timeZone });
     const facets = await deps.store.facets();
-    const unmatched = await deps.unmatchedFeedback?.(UNMATCHED_SHOWN);
-    const common = { timeZone, facets, reasonDisplay: deps.reasonDisplay, ...(unmatched === undefined ? {} : { unmatched }) };
+    const unmatched = await deps.store.listUnmatchedFeedback(UNMATCHED_SHOWN, 0);
+    const common = { timeZone, facets, reasonDisplay: deps.reasonDisplay, unmatched };
     if (parsed.kind === 'invalid') {
       return { status: 400, html: renderAdvisoryListPage({ ...common, result: parsed }) };
     }
