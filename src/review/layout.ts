@@ -42,8 +42,10 @@ dl.facts dd { margin: 0; }
 .markdown { border: 1px solid var(--line); padding: 0.25rem 0.75rem; background: #fcfcfc; }
 .markdown ul { padding-left: 1.25rem; }
 svg { max-width: 100%; height: auto; font: 11px system-ui, Arial, sans-serif; }
+figure { margin: 0.5rem 0 1rem; }
 svg .axis line, svg .axis path { stroke: #888; }
-svg .grid { stroke: #e4e4e4; }
+svg .axis line.grid { stroke: #e4e4e4; }
+td ul { margin: 0; padding-left: 1.1rem; }
 details summary { cursor: pointer; }
 footer.cautions { max-width: 1000px; margin: 1rem auto; padding: 0 1rem 1rem; font-size: 0.85rem;
   color: var(--muted); }
@@ -53,7 +55,7 @@ footer.cautions { max-width: 1000px; margin: 1rem auto; padding: 0 1rem 1rem; fo
   main, footer.cautions { max-width: none; padding: 0; }
   a { color: inherit; text-decoration: none; }
   table, svg { page-break-inside: avoid; }
-  details > * { display: block; }
+  details:not([open]) { display: none; }
 }
 `;
 

@@ -85,12 +85,14 @@ function readingsTable(points: readonly TimedPoint[], steps: readonly TimedStep[
   const stepRows = steps.map(
     (s) => html`<tr data-step-row><td>${formatReviewTime(s.at, timeZone)}</td><td>${describeOxygenStep(s)}</td></tr>`,
   );
-  return html`<table id="spo2-readings-table"><caption>SpO2 readings stored with this advisory</caption>
-<thead><tr><th>Time</th><th class="num">SpO2</th></tr></thead><tbody>${readingRows}</tbody></table>
+  return html`<details id="chart-tables"><summary>The readings and oxygen settings as tables (${points.length} reading(s), ${steps.length} setting(s))</summary>
+${points.length === 0 ? '' : html`<table id="spo2-readings-table"><caption>SpO2 readings stored with this advisory</caption>
+<thead><tr><th>Time</th><th class="num">SpO2</th></tr></thead><tbody>${readingRows}</tbody></table>`}
 ${steps.length === 0
     ? html`<p class="muted" id="oxygen-steps-empty">No oxygen settings stored with this advisory.</p>`
     : html`<table id="oxygen-steps-table"><caption>Oxygen in force from each time</caption>
-<thead><tr><th>From</th><th>Device, flow, FiO2</th></tr></thead><tbody>${stepRows}</tbody></table>`}`;
+<thead><tr><th>From</th><th>Device, flow, FiO2</th></tr></thead><tbody>${stepRows}</tbody></table>`}
+</details>`;
 }
 
 /** The chart and its text table, or a plain sentence when no reading was stored. */
@@ -144,7 +146,9 @@ ${readingsTable(points, steps, timeZone)}</figure>`;
   );
   const issued = Number.isFinite(issuedMs)
     ? html`<g data-issued-at="${input.issuedAt}"><line x1="${round(x(issuedMs))}" x2="${round(x(issuedMs))}" y1="${SPO2_TOP}" y2="${OXYGEN_TOP + OXYGEN_ROW}" stroke="#a11d1d" stroke-dasharray="4 3"></line>
-<text x="${round(x(issuedMs)) + 4}" y="${SPO2_TOP + 10}" fill="#a11d1d">card issued</text></g>`
+${x(issuedMs) > WIDTH / 2
+        ? html`<text x="${round(x(issuedMs)) - 4}" y="${SPO2_TOP + 10}" fill="#a11d1d" text-anchor="end">card issued</text>`
+        : html`<text x="${round(x(issuedMs)) + 4}" y="${SPO2_TOP + 10}" fill="#a11d1d">card issued</text>`}</g>`
     : html``;
 
   const stepMarks = steps.map((step, index) => {
