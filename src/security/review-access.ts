@@ -1,4 +1,5 @@
 import { isIP } from 'node:net';
+import { isLoopbackHost } from './loopback.js';
 import { checkReviewLinkToken } from './review-link-token.js';
 
 /**
@@ -33,6 +34,7 @@ export interface ReviewRequest {
 }
 
 export type ReviewDenial =
+  | 'demo-host-not-loopback'
   | 'not-from-proxy'
   | 'no-identity'
   | 'identity-unreadable'
@@ -66,20 +68,46 @@ const REVIEWER_TEXT = /^[\x21-\x7e](?:[\x20-\x7e]*[\x21-\x7e])?$/;
  * The identity header's value, when it was sent exactly once and reads as a plain id. Two copies
  * mean something upstream passed a client's own header on as well as adding its own: refused.
  */
-function identityFrom(rawHeaders: readonly string[], header: string): { value?: string; count: number } {
+function headerValues(rawHeaders: readonly string[], header: string): string[] {
   const values: string[] = [];
   for (let i = 0; i + 1 < rawHeaders.length; i += 2) {
     if ((rawHeaders[i] ?? '').toLowerCase() === header) {
       values.push(rawHeaders[i + 1] ?? '');
     }
   }
+  return values;
+}
+
+function identityFrom(rawHeaders: readonly string[], header: string): { value?: string; count: number } {
+  const values = headerValues(rawHeaders, header);
   const [only] = values;
   return values.length === 1 && only !== undefined ? { value: only.trim(), count: 1 } : { count: values.length };
 }
 
+/** The host name of a `Host` header value (`127.0.0.1:8080`, `[::1]:8080`, `localhost`). */
+function hostName(value: string): string {
+  const bracketed = /^\[([^\]]+)\](?::\d+)?$/.exec(value);
+  if (bracketed !== null) {
+    return bracketed[1] ?? '';
+  }
+  return value.replace(/:\d+$/, '');
+}
+
+/**
+ * The demo is open, but only to pages asked for by a loopback name: a web page elsewhere that points
+ * its own host name at 127.0.0.1 (DNS rebinding) sends its own name in `Host` and is refused.
+ */
+function demoHostIsLoopback(rawHeaders: readonly string[]): boolean {
+  const hosts = headerValues(rawHeaders, 'host');
+  const [host] = hosts;
+  return hosts.length === 1 && host !== undefined && isLoopbackHost(hostName(host.trim()));
+}
+
 export function decideReviewAccess(config: ReviewAccessConfig, request: ReviewRequest, nowMs: number): ReviewAccessDecision {
   if (config.mode === 'demo') {
-    return { kind: 'allowed', via: 'demo', reviewer: 'demo' };
+    return demoHostIsLoopback(request.rawHeaders)
+      ? { kind: 'allowed', via: 'demo', reviewer: 'demo' }
+      : { kind: 'denied', reason: 'demo-host-not-loopback' };
   }
   const peer = request.peerAddress === undefined ? undefined : normalisePeerAddress(request.peerAddress);
   const fromProxy = peer !== undefined && config.identityHeader !== undefined && config.proxyAddresses.includes(peer);

@@ -19,8 +19,16 @@ function decide(peer: string | undefined, headers: string[], extra: { token?: st
 }
 
 describe('decideReviewAccess', () => {
-  it('opens everything in the loopback demo', () => {
-    expect(decide('127.0.0.1', [], {}, { mode: 'demo' })).toStrictEqual({ kind: 'allowed', via: 'demo', reviewer: 'demo' });
+  it('opens everything in the loopback demo when asked for by a loopback name', () => {
+    for (const host of ['127.0.0.1:8080', 'localhost:8080', 'localhost', '[::1]:8080']) {
+      expect(decide('127.0.0.1', ['Host', host], {}, { mode: 'demo' })).toStrictEqual({ kind: 'allowed', via: 'demo', reviewer: 'demo' });
+    }
+  });
+
+  it('refuses a demo page asked for by another host name (DNS rebinding), or with no or two Host headers', () => {
+    for (const headers of [['Host', 'rebind.attacker.example:8080'], [], ['Host', '127.0.0.1:8080', 'Host', 'rebind.attacker.example']]) {
+      expect(decide('127.0.0.1', headers, {}, { mode: 'demo' })).toStrictEqual({ kind: 'denied', reason: 'demo-host-not-loopback' });
+    }
   });
 
   it('accepts the identity header from a configured proxy address, whatever its case', () => {

@@ -103,4 +103,12 @@ describe('review access in production', () => {
       expect(app.log.text()).not.toContain('Ward 7');
     });
   });
+
+  it('the demo refuses a page asked for under another host name (DNS rebinding)', async () => {
+    const app = await build({ mode: 'demo' });
+    expect((await request(app.app).get('/review')).status).toBe(200);
+    const rebound = await request(app.app).get('/review/api/advisories').set('Host', 'rebind.attacker.example:8080');
+    expect(rebound.status).toBe(403);
+    expect(rebound.body.code).toBe('CDS_ERR_REVIEW_ACCESS_DENIED');
+  });
 });
