@@ -1,12 +1,14 @@
 import type { Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
+import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
 import { formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
 import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
+import { setUpReviewAccess } from './security/setup-review-access.js';
 import { openStore } from './store/open-store.js';
 import { loadOrCreateSecret, patientKey } from './store/patient-key.js';
 import type { Store } from './store/store.js';
@@ -51,6 +53,10 @@ export async function startServer(
     return { kind: 'refused', problems: formatEnvProblems(parsedEnv.problems) };
   }
   const config = parsedEnv.config;
+  const reviewParsed = parseReviewConfig(env, cwd, config.security.mode);
+  if (reviewParsed.kind === 'invalid') {
+    return { kind: 'refused', problems: formatEnvProblems(reviewParsed.problems) };
+  }
   const files = await loadPolicyAndCards(config);
   if (files.kind === 'invalid') {
     return { kind: 'refused', problems: formatLoadProblems(files.problems) };
@@ -62,7 +68,7 @@ export async function startServer(
   }
   const { store } = opened;
   try {
-    const result = await startWithStore(config, files, store, log);
+    const result = await startWithStore(config, reviewParsed.config, files, store, log);
     if (result.kind === 'refused') {
       await store.close();
     }
@@ -75,6 +81,7 @@ export async function startServer(
 
 async function startWithStore(
   config: EnvConfig,
+  reviewConfig: ReviewConfig,
   files: Extract<LoadedFiles, { kind: 'ok' }>,
   store: Store,
   log: Logger,
@@ -95,6 +102,15 @@ async function startWithStore(
   if (auth.kind === 'refused') {
     return { kind: 'refused', problems: auth.problems };
   }
+  const review = setUpReviewAccess({
+    mode: config.security.mode,
+    config: reviewConfig,
+    ...(auth.kind === 'production' ? { publicUrl: auth.publicUrl } : {}),
+    clock: () => new Date(),
+  });
+  if (review.kind === 'refused') {
+    return { kind: 'refused', problems: review.problems };
+  }
   const app = createApp(config, {
     policy: files.policy,
     templates: files.templates,
@@ -105,11 +121,13 @@ async function startWithStore(
     store,
     policyContentHash: files.policyContentHash,
     patientKey: (patient) => patientKey(secret.secret, patient),
+    review: review.review,
   });
   const server = await listen(app, config);
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;
+  review.setListeningUrl(url);
   const started = {
     url,
     policyId: files.policy.id,
@@ -117,6 +135,7 @@ async function startWithStore(
     policyContentHash: files.policyContentHash,
     cardTemplates: files.templates.size,
     dataDir: config.store.dataDir,
+    ...review.summary,
   };
   if (auth.kind === 'demo') {
     log.warn({ ...started, mode: 'demo' }, `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`);

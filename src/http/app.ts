@@ -5,6 +5,8 @@ import { missingTemplates } from '../cds/evaluate-hook.js';
 import { ENV_DEFAULTS, type EnvConfig } from '../config/env-config.js';
 import type { Policy } from '../core/policy.js';
 import type { Logger } from '../log/logger.js';
+import { reasonDisplaysFrom } from '../review/override-reasons.js';
+import type { ReviewAccessConfig } from '../security/review-access.js';
 import type { Store } from '../store/store.js';
 import { createAuditTrail, type PatientKeyOf } from './audit-trail.js';
 import { requireAuthentication, type Authenticate } from './auth.js';
@@ -19,6 +21,7 @@ import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler } from './routes/health.js';
+import { reviewRouter } from './routes/review.js';
 import { securityHeaders } from './security-headers.js';
 
 /**
@@ -48,6 +51,15 @@ export interface AppDeps {
   readonly patientKey: PatientKeyOf;
   /** Defaults to random UUIDs. */
   readonly newRequestId?: () => string;
+  /** The review pages and card links; /review is not served without it. */
+  readonly review?: ReviewAppDeps;
+}
+
+/** What the review pages read from, who may read them, and how cards link to them. */
+export interface ReviewAppDeps {
+  readonly access: ReviewAccessConfig;
+  /** The absolute URL of a card's advisory page; cards carry no link when absent. */
+  readonly linkFor?: (cardUuid: string) => string;
 }
 
 const ROUTES = {
@@ -89,6 +101,12 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   // Browsers send preflights without credentials, so they are answered before authentication.
   app.options(Object.values(ROUTES), answerPreflight);
   app.get(ROUTES.health, route('healthz', healthHandler));
+  if (deps.review !== undefined) {
+    // Outside /cds-services authentication: the review router decides its own access.
+    const { access } = deps.review;
+    const reasonDisplay = reasonDisplaysFrom(deps.templates);
+    app.use('/review', reviewRouter({ store: deps.store, access, policy: deps.policy, reasonDisplay, clock: deps.clock }, deps.logger));
+  }
 
   app.use('/cds-services', requireAuthentication(deps.authenticate));
   app.use(requireJsonContentType);
@@ -113,7 +131,14 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     gate.admit,
     route(
       'service',
-      serviceHandler({ policy: deps.policy, templates: deps.templates, clock: deps.clock, gather, audit }),
+      serviceHandler({
+        policy: deps.policy,
+        templates: deps.templates,
+        clock: deps.clock,
+        gather,
+        audit,
+        ...(deps.review?.linkFor === undefined ? {} : { reviewLinkFor: deps.review.linkFor }),
+      }),
     ),
   );
 

@@ -19,6 +19,10 @@ export const ERROR_CATALOGUE = {
     status: 400,
     message: 'This CDS service is not registered for that hook.',
   },
+  CDS_ERR_REVIEW_FILTER_INVALID: {
+    status: 400,
+    message: 'A review filter or paging parameter is not valid; see issues.',
+  },
   CDS_ERR_AUTH_MISSING: {
     status: 401,
     message: 'Authentication is required.',
@@ -27,6 +31,10 @@ export const ERROR_CATALOGUE = {
     status: 401,
     message: 'The credentials were not accepted.',
   },
+  CDS_ERR_REVIEW_ACCESS_DENIED: {
+    status: 403,
+    message: 'Open the review pages through the hospital sign-in, or with a current link from the advisory card.',
+  },
   CDS_ERR_SERVICE_NOT_FOUND: {
     status: 404,
     message: 'No CDS service has that id; GET /cds-services lists them.',
@@ -34,6 +42,10 @@ export const ERROR_CATALOGUE = {
   CDS_ERR_NOT_FOUND: {
     status: 404,
     message: 'There is nothing at this path for this method.',
+  },
+  CDS_ERR_ADVISORY_NOT_FOUND: {
+    status: 404,
+    message: 'No advisory with that card uuid is on record.',
   },
   CDS_ERR_PREFETCH_UNAVAILABLE: {
     status: 412,

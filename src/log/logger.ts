@@ -126,7 +126,19 @@ export interface AuthRefusedSummary {
   readonly tenant?: string;
 }
 
-export type RequestDetail = HookCallSummary | FeedbackSummary | AuthRefusedSummary;
+/**
+ * Who opened a review page and how: the reviewer id the proxy asserted (staff ids, never patient
+ * data), `link` for a card's signed link (the token itself is never logged), or `demo`; or why access
+ * was refused.
+ */
+export interface ReviewAccessSummary {
+  readonly kind: 'review';
+  readonly via?: string;
+  readonly reviewer?: string;
+  readonly refused?: string;
+}
+
+export type RequestDetail = HookCallSummary | FeedbackSummary | AuthRefusedSummary | ReviewAccessSummary;
 
 export interface RequestSummary {
   readonly requestId: string;
@@ -164,6 +176,10 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
       ...(detail.unavailableKeys.length === 0 ? {} : { unavailableKeys: [...detail.unavailableKeys] }),
       ...(detail.fhirServerRefused === undefined ? {} : { fhirServerRefused: detail.fhirServerRefused }),
     };
+  }
+  if (detail.kind === 'review') {
+    const fields = { reviewVia: detail.via, reviewer: detail.reviewer, reviewRefused: detail.refused };
+    return Object.fromEntries(Object.entries(fields).filter(([, value]) => value !== undefined));
   }
   if (detail.kind === 'auth-refused') {
     const ids = { iss: detail.iss, kid: detail.kid, jti: detail.jti, tenant: detail.tenant };
@@ -205,7 +221,8 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary): void
   const slipped =
     (summary.detail?.kind === 'hook-call' &&
       (summary.detail.cardProblems.length > 0 || summary.detail.fhirServerRefused !== undefined)) ||
-    summary.detail?.kind === 'auth-refused';
+    summary.detail?.kind === 'auth-refused' ||
+    (summary.detail?.kind === 'review' && summary.detail.refused !== undefined);
   if (summary.status >= 500) {
     logger.error(line, message);
   } else if (slipped) {

@@ -3,7 +3,8 @@ import { join, relative } from 'node:path';
 import { describe, expect, it } from 'vitest';
 
 // House style: src/core is pure (no I/O, clock, randomness, logger or framework), and src/fhir and
-// src/cds read and write data without I/O. These checks keep that true as the code grows.
+// src/cds read and write data without I/O, and src/review renders pages without I/O or a clock. These
+// checks keep that true as the code grows.
 const root = new URL('../../', import.meta.url).pathname;
 
 function sourceFiles(dir: string): string[] {
@@ -46,7 +47,7 @@ describe('the pure core', () => {
   });
 });
 
-describe.each(['src/core', 'src/fhir', 'src/cds'])('%s', (folder) => {
+describe.each(['src/core', 'src/fhir', 'src/cds', 'src/review'])('%s', (folder) => {
   const files = sourceFiles(join(root, folder));
   it.each(files.map((f) => [relative(root, f), f]))('%s has no clock, randomness, process or console', (_n, file) => {
     const text = readFileSync(file, 'utf8');

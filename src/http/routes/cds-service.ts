@@ -1,6 +1,7 @@
 import type { Response } from 'express';
 import type { CardTemplates } from '../../cds/card-templates.js';
 import { evaluateHook, type HookEvaluation } from '../../cds/evaluate-hook.js';
+import { addReviewLinks } from '../../cds/review-links.js';
 import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { CdsRequest } from '../../cds/schemas.js';
 import type { Policy } from '../../core/policy.js';
@@ -20,6 +21,8 @@ export interface ServiceRouteDeps {
   readonly gather: Gather;
   /** Every card returned is recorded here before the response goes out. */
   readonly audit: AuditTrail;
+  /** The URL of a card's advisory page (src/security/review-link-token.ts); no links when absent. */
+  readonly reviewLinkFor?: (cardUuid: string) => string;
 }
 
 /**
@@ -76,9 +79,10 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       { policy: deps.policy, templates: deps.templates, now },
     );
     await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res);
+    const linkFor = deps.reviewLinkFor;
     return {
       status: 200,
-      body: result.response,
+      body: linkFor === undefined ? result.response : addReviewLinks(result.response, linkFor),
       detail: {
         ...base(gathered.fallback),
         ruleIds: result.ruleIds,

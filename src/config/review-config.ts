@@ -1,0 +1,93 @@
+import { isAbsolute, join, resolve } from 'node:path';
+import type { EnvProblem, Mode } from './env-config.js';
+import { isIpAddress, normalisePeerAddress } from '../security/review-access.js';
+
+/**
+ * Settings of the review pages' access (docs/security.md, "Review pages"), read from the environment
+ * with the same rules as env-config.ts: every problem listed, nothing read later.
+ */
+
+export const REVIEW_DEFAULTS = {
+  // A card's link opens its advisory for one day: long enough to follow it from the EHR during the
+  // shift and the handover after, short enough that a link copied into a note or a browser history
+  // stops working the next day. The proxy sign-in is the way in after that.
+  O2CHECK_REVIEW_LINK_TTL_S: 86_400, // seconds
+  O2CHECK_DATA_DIR: 'data', // relative to the working directory
+  REVIEW_LINK_SECRET_NAME: 'review-link.secret',
+} as const;
+
+/** Headers that mean something else on the way in; never an identity. */
+const RESERVED_HEADERS = new Set(['authorization', 'cookie', 'host', 'x-forwarded-for', 'forwarded', 'x-real-ip', 'content-type']);
+/** RFC 9110 §5.1 field-name: a token. */
+const HEADER_NAME = /^[!#$%&'*+.^_`|~0-9A-Za-z-]+$/;
+
+export interface ReviewConfig {
+  /** Lower-case header the proxy asserts the reviewer in; undefined when there is no proxy. */
+  readonly identityHeader?: string;
+  readonly proxyAddresses: readonly string[];
+  readonly linkTtlS: number;
+  readonly linkSecretPath: string;
+  /** True when the secret is the data directory's own file, created on first start. */
+  readonly createLinkSecret: boolean;
+}
+
+export type ReviewConfigParse =
+  | { readonly kind: 'ok'; readonly config: ReviewConfig }
+  | { readonly kind: 'invalid'; readonly problems: readonly EnvProblem[] };
+
+function text(env: Readonly<Record<string, string | undefined>>, name: string): string {
+  return (env[name] ?? '').trim();
+}
+
+export function parseReviewConfig(env: Readonly<Record<string, string | undefined>>, cwd: string, mode: Mode): ReviewConfigParse {
+  const problems: EnvProblem[] = [];
+  const header = text(env, 'O2CHECK_REVIEW_IDENTITY_HEADER');
+  const addressText = text(env, 'O2CHECK_REVIEW_PROXY_ADDRESSES');
+  const addresses = addressText === '' ? [] : addressText.split(',').map((a) => a.trim()).filter((a) => a !== '');
+  if (mode === 'demo') {
+    for (const [variable, value] of [['O2CHECK_REVIEW_IDENTITY_HEADER', header], ['O2CHECK_REVIEW_PROXY_ADDRESSES', addressText]] as const) {
+      if (value !== '') {
+        problems.push({ variable, message: 'is set, but O2CHECK_MODE is not production: the demo review pages are open on loopback; set O2CHECK_MODE=production' });
+      }
+    }
+  }
+  if (header !== '' && (!HEADER_NAME.test(header) || RESERVED_HEADERS.has(header.toLowerCase()))) {
+    problems.push({ variable: 'O2CHECK_REVIEW_IDENTITY_HEADER', message: 'must be a header name of its own, e.g. X-Authenticated-User (not Authorization, Cookie, Host or a forwarding header)' });
+  }
+  for (const address of addresses) {
+    if (!isIpAddress(address)) {
+      problems.push({ variable: 'O2CHECK_REVIEW_PROXY_ADDRESSES', message: `'${address}' is not an IP address; list the proxy's exact addresses, comma-separated (no names or ranges)` });
+    }
+  }
+  if (mode === 'production' && (header === '') !== (addresses.length === 0)) {
+    problems.push({
+      variable: header === '' ? 'O2CHECK_REVIEW_IDENTITY_HEADER' : 'O2CHECK_REVIEW_PROXY_ADDRESSES',
+      message: 'the identity header and the proxy addresses go together: set both, or neither (then only card links open advisory pages)',
+    });
+  }
+  const ttlText = text(env, 'O2CHECK_REVIEW_LINK_TTL_S');
+  let linkTtlS: number = REVIEW_DEFAULTS.O2CHECK_REVIEW_LINK_TTL_S;
+  if (ttlText !== '') {
+    if (!/^\d+$/.test(ttlText) || Number(ttlText) < 60 || Number(ttlText) > 604_800) {
+      problems.push({ variable: 'O2CHECK_REVIEW_LINK_TTL_S', message: 'must be a whole number of seconds from 60 to 604800 (7 days)' });
+    } else {
+      linkTtlS = Number(ttlText);
+    }
+  }
+  if (problems.length > 0) {
+    return { kind: 'invalid', problems };
+  }
+  const absolute = (path: string): string => (isAbsolute(path) ? path : resolve(cwd, path));
+  const secretFile = text(env, 'O2CHECK_REVIEW_LINK_SECRET_FILE');
+  const dataDir = text(env, 'O2CHECK_DATA_DIR') || REVIEW_DEFAULTS.O2CHECK_DATA_DIR;
+  return {
+    kind: 'ok',
+    config: Object.freeze({
+      ...(header === '' ? {} : { identityHeader: header.toLowerCase() }),
+      proxyAddresses: Object.freeze(addresses.map(normalisePeerAddress)),
+      linkTtlS,
+      linkSecretPath: secretFile === '' ? join(absolute(dataDir), REVIEW_DEFAULTS.REVIEW_LINK_SECRET_NAME) : absolute(secretFile),
+      createLinkSecret: secretFile === '',
+    }),
+  };
+}
