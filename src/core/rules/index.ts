@@ -26,6 +26,7 @@ import { rule as targetDiffersFromPolicy } from './target-differs-from-policy.js
 import { rule as targetAmbiguous } from './target-ambiguous.js';
 import { rule as targetOneSided } from './target-one-sided.js';
 import { rule as targetRangeMissing } from './target-range-missing.js';
+import { rule as timeAboveTargetOnOxygen } from './time-above-target-on-oxygen.js';
 import { rule as uncontrolledOxygenAtRisk } from './uncontrolled-oxygen-at-risk.js';
 import { rule as venturiFlowInsufficient } from './venturi-flow-insufficient.js';
 import type { Rule } from './support/rule-types.js';
@@ -55,6 +56,7 @@ export const RULES: readonly Rule[] = [
   spo2AboveTarget,
   highOxygenRequirement,
   risingOxygenNeed,
+  timeAboveTargetOnOxygen,
   venturiFlowInsufficient,
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
