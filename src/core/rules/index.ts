@@ -16,6 +16,7 @@ import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
 import { rule as oxygenWithoutHypoxaemia } from './oxygen-without-hypoxaemia.js';
 import { rule as oxygenationSummary } from './oxygenation-summary.js';
 import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
+import { rule as readyToStepDown } from './ready-to-step-down.js';
 import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
 import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
 import { rule as risingOxygenNeed } from './rising-oxygen-need.js';
@@ -57,6 +58,7 @@ export const RULES: readonly Rule[] = [
   highOxygenRequirement,
   risingOxygenNeed,
   timeAboveTargetOnOxygen,
+  readyToStepDown,
   venturiFlowInsufficient,
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
