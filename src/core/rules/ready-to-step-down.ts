@@ -55,14 +55,16 @@ export const rule: Rule = {
     const words = describeStep(step);
     const trend = oxygenTrend(facts, review.order, now, review.lookbackMinutes);
     const course =
-      trend !== undefined && trend.direction < 0
-        ? `The oxygen has already come down (${trend.measure} ${trend.words(trend.first)} → ${trend.words(trend.last)}); `
-        : '';
+      trend === undefined
+        ? 'no change of oxygen recorded in the window'
+        : trend.direction < 0
+          ? `oxygen already coming down (${trend.measure} ${trend.words(trend.first)} → ${trend.words(trend.last)})`
+          : `${trend.measure} unchanged at ${trend.words(trend.last)}`;
     return [
       makeFinding(rule, {
         orderReference: review.order.reference,
         values: {
-          headline: step.kind === 'stop' ? 'consider stopping the oxygen' : `consider ${words.label?.toLowerCase() ?? 'a step down'}`,
+          headline: words.headline,
           observedTime: formatDuration(t.observedMinutes),
           window: formatDuration(review.lookbackMinutes),
           timeSplit: describeTimeSplit(review),

@@ -5,7 +5,7 @@ import { DEVICE_MODELS } from '../devices/index.js';
 import type { Policy } from '../policy.js';
 import { isTitration } from '../rules/support/order-purpose.js';
 import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
-import { findRisingOxygenNeed } from '../rules/support/oxygen-trend.js';
+import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
 import { patientSupportTier } from '../rules/support/support-tier.js';
 import type { Facts, OrderChange } from '../types.js';
 import { anyReadingBelow, latestReading, readingsInWindow, type TitrationReview } from './titration-review.js';
@@ -24,7 +24,8 @@ import { anyReadingBelow, latestReading, readingsInWindow, type TitrationReview 
  * is not a titration (comfort, weaning, stop, room air), nor one whose target is not one clear range;
  * never while the gas shows hypercapnic acidosis or acute hypercapnia or SpO2 is below target
  * (`reasonNotToLowerOxygen`), while the current gas shows any acidosis, when any SpO2 of the look-back
- * window was below the range, while the oxygen need is rising, on high flow or CPAP/NIV (a change of
+ * window was below the range, while the oxygen need is rising or after the oxygen was raised within
+ * the window, on high flow or CPAP/NIV (a change of
  * support is the team's), or without a current SpO2. Steps are by nasal-cannula flow (one
  * `nasalCannulaStepDownLPerMin` step, not below the stop-from flow) and stopping from the stop-from
  * flow or a 24 % Venturi; other devices get advice without a change. Pure.
@@ -76,6 +77,10 @@ export function reasonNotToStepDown(input: {
   const window = Math.max(oxygenNeedTrendMinutes, review.lookbackMinutes);
   if (findRisingOxygenNeed(facts, order, now, window, spo2FallPoints) !== undefined) {
     return 'the oxygen need has been rising';
+  }
+  // Raised within the window and now better: too soon to call stable (common practice).
+  if ((oxygenTrend(facts, order, now, review.lookbackMinutes)?.direction ?? 0) > 0) {
+    return 'the oxygen was raised within the look-back window';
   }
   const latest = latestReading(review);
   if (latest === undefined || !isWithin(latest.at, now, policy.freshness.vitalSignsMinutes)) {
