@@ -57,8 +57,15 @@ export function copyOf<T>(value: T): T {
   return JSON.parse(JSON.stringify(value)) as T;
 }
 
-/** The draft order resources of a request body. */
+/** The draft order resources of a request body (on patient-view, the orders on record). */
 export function draftResources(body: RequestBody): Record<string, unknown>[] {
+  if (body['hook'] === 'patient-view') {
+    // No drafts on patient-view: the orders on record play their part.
+    const prefetch = body['prefetch'] as Record<string, { entry?: { resource: Record<string, unknown> }[] } | undefined>;
+    return ['medicationRequests', 'serviceRequests', 'deviceRequests'].flatMap((key) =>
+      (prefetch[key]?.entry ?? []).map((entry) => entry.resource),
+    );
+  }
   const context = body['context'] as { draftOrders: { entry: { resource: Record<string, unknown> }[] } };
   return context.draftOrders.entry.map((entry) => entry.resource);
 }
