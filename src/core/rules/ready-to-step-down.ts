@@ -2,7 +2,7 @@ import { formatDuration, formatRange } from '../assessment/format.js';
 import { planStepDown } from '../titration/step-down.js';
 import { describeStep } from '../titration/step-words.js';
 import { oxygenTrend } from './support/oxygen-trend.js';
-import { anyReadingBelow, describeTimeSplit, latestReading, reviewTitration } from '../titration/titration-review.js';
+import { anyReadingBelow, describeTimeSplit, latestReading, reviewTitration, timeInRangeComputation } from '../titration/titration-review.js';
 import { timeAboveTargetSpeaks } from '../titration/titration-speaks.js';
 import type { Finding } from '../types.js';
 import { describeMeasured, describeOrder } from './support/describe.js';
@@ -75,6 +75,7 @@ export const rule: Rule = {
           stepAdvice: words.advice,
           suggestionLabel: words.label ?? '',
         },
+        computations: [timeInRangeComputation(review, policy)],
         sourceKeys: ['bts-2017', 'local-policy'],
         change: step.change,
       }),

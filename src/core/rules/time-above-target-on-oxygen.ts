@@ -2,7 +2,7 @@ import { formatDuration, formatNumber, formatRange } from '../assessment/format.
 import { planStepDown } from '../titration/step-down.js';
 import { describeStep } from '../titration/step-words.js';
 import { shareOfPercent } from '../titration/time-in-range.js';
-import { describeTimeSplit, latestReading, reviewTitration } from '../titration/titration-review.js';
+import { describeTimeSplit, latestReading, reviewTitration, timeInRangeComputation } from '../titration/titration-review.js';
 import { timeAboveTargetSpeaks } from '../titration/titration-speaks.js';
 import type { Finding } from '../types.js';
 import { describeMeasured, describeOrder } from './support/describe.js';
@@ -60,6 +60,7 @@ export const rule: Rule = {
           stepAdvice: words.advice,
           ...(words.label === undefined ? {} : { suggestionLabel: words.label }),
         },
+        computations: [timeInRangeComputation(review, policy)],
         sourceKeys: atRiskRange ? ['bts-2017', 'local-policy'] : ['bts-2017', 'bmj-2018', 'local-policy'],
         ...(step.kind === 'none' ? {} : { change: step.change }),
       }),

@@ -1,7 +1,7 @@
 import { isWithin } from '../assessment/current-values.js';
 import { formatDuration, formatNumber, formatRange } from '../assessment/format.js';
 import { shareOfPercent } from '../titration/time-in-range.js';
-import { describeTimeSplit, latestReading, reviewTitration } from '../titration/titration-review.js';
+import { describeTimeSplit, latestReading, reviewTitration, timeInRangeComputation } from '../titration/titration-review.js';
 import type { Finding } from '../types.js';
 import { describeMeasured, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -68,6 +68,7 @@ export const rule: Rule = {
             ? 'Consider reviewing the patient now: check the oximeter trace and the delivery, raise the oxygen within the prescription to reach the range, and escalate if more is needed'
             : 'The latest reading is back in range. Consider reviewing why the SpO2 fell and whether the oxygen prescription and the observation frequency still fit',
         },
+        computations: [timeInRangeComputation(review, policy)],
         sourceKeys: ['bts-2017', 'local-policy'],
       }),
     ];

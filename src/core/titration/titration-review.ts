@@ -2,7 +2,7 @@ import { formatDuration, formatRange } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
 import type { Policy } from '../policy.js';
 import { expectsTarget } from '../rules/support/order-purpose.js';
-import type { Facts, Measured, OxygenOrder, SaturationRange } from '../types.js';
+import type { Computation, Facts, Measured, OxygenOrder, SaturationRange } from '../types.js';
 import { timeInRange, type OxygenStep, type TimeInRange } from './time-in-range.js';
 
 /**
@@ -120,4 +120,18 @@ export function describeTimeSplit(review: TitrationReview): string {
   ];
   const readings = `${t.readingsUsed} SpO2 reading${t.readingsUsed === 1 ? '' : 's'}`;
   return `${parts.join(', ')} (of the last ${formatDuration(t.windowMinutes)}; ${readings}; target ${formatRange(review.range)})`;
+}
+
+/** The time-weighting as a card computation, so the workings show how the split was reached. */
+export function timeInRangeComputation(review: TitrationReview, policy: Policy): Computation {
+  const readings = review.readings.length;
+  return {
+    name: 'Time in, above and below the target range',
+    formula:
+      `each SpO2 reading stands until the next one, for at most ${formatDuration(policy.titrationReview.maxReadingHoldMinutes)}, ` +
+      'never across a switch between oxygen and air; the rest of the window is not observed',
+    substituted: `${String(readings)} SpO2 readings over the last ${formatDuration(review.lookbackMinutes)}, target ${formatRange(review.range)}`,
+    result: describeTimeSplit(review),
+    sourceKey: 'local-policy',
+  };
 }

@@ -35,7 +35,10 @@ describe('time-above-target-on-oxygen', () => {
     const card = expectCardRenders(finding);
     expect(card.summary).toBe('SpO2 above target 94–98 % on oxygen for 4 h of 5 h observed: consider stepping down');
     expect(card.label).toBe('Lower the flow to 3 L/min');
-    expect(card.detail).toContain('in range 1 h, above on oxygen 4 h, below 0 min, not observed 3 h');
+    // The split is the card's computation (shown under "Based on" and in the workings).
+    expect(finding.computations.map((c) => c.result)).toStrictEqual([
+      'in range 1 h, above on oxygen 4 h, below 0 min, not observed 3 h (of the last 8 h; 6 SpO2 readings; target 94–98 %)',
+    ]);
   });
 
   it('warns for a patient at risk of hypercapnic failure above 88-92 %, stepping down towards 1 L/min', () => {
