@@ -4,6 +4,7 @@ import { shareOfPercent } from '../titration/time-in-range.js';
 import { describeTimeSplit, latestReading, reviewTitration, timeInRangeComputation } from '../titration/titration-review.js';
 import type { Finding } from '../types.js';
 import { describeMeasured, describeOrder } from './support/describe.js';
+import { escalatedSupportFailingSpeaks } from './support/escalated-support.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
 
@@ -21,6 +22,7 @@ import type { Rule } from './support/rule-types.js';
  * (Table 2) a reservoir mask and urgent review for those not at risk. Distinct from time above target:
  * below target is reviewed and escalated, never stepped down (no change is offered, and no step-down
  * card speaks after a reading below target, src/core/titration/step-down.ts).
+ * Silent when escalated-support-failing speaks (below target on high flow at a high FiO2, or on CPAP/NIV).
  * Sources: BTS 2017; BTS 2017 summary (BMJ Open Resp Res 4:e000170); the share is a local choice.
  */
 export const rule: Rule = {
@@ -32,7 +34,8 @@ export const rule: Rule = {
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const review = reviewTitration({ facts, policy, assessment, now });
     const latest = review === undefined ? undefined : latestReading(review);
-    if (review === undefined || latest === undefined) {
+    // Failing high flow or NIV is escalated-support-failing's (critical): one card for one situation.
+    if (review === undefined || latest === undefined || escalatedSupportFailingSpeaks(assessment, facts, policy, now)) {
       return [];
     }
     const t = review.time;

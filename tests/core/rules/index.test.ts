@@ -60,10 +60,11 @@ describe('RULES', () => {
     expect(RULES.filter((r) => !r.hooks.includes('order-sign')).map((r) => r.id)).toStrictEqual(reviewOnly);
   });
 
-  it('gives patient-view the titration review, the rising-need check and the partial-data card', () => {
+  it('gives patient-view the titration review, the failing-support and rising-need checks and the partial-data card', () => {
     const onView = RULES.filter((r) => r.hooks.includes('patient-view')).map((r) => r.id).sort();
     expect(onView).toStrictEqual([
       'blood-gas-overdue',
+      'escalated-support-failing',
       'ready-to-step-down',
       'required-data-unavailable',
       'rising-oxygen-need',

@@ -69,6 +69,16 @@ describe('time-below-target', () => {
       expect(runRule(rule, facts, view)).toStrictEqual([]);
     });
 
+    it('on failing high flow, which escalated-support-failing raises as critical', () => {
+      // High flow at FiO2 0.70 >= 0.6 (thresholds.highFlowFailingFio2AtLeast, local choice) below 94 %.
+      const facts = reviewFacts({
+        order: { device: 'high-flow-nasal-cannula', flowLPerMin: 50, setFio2Fraction: 0.7 },
+        spo2: [[90, 120], [89, 10]],
+        fio2: [[0.7, 120], [0.7, 10]],
+      });
+      expect(runRule(rule, facts, view)).toStrictEqual([]);
+    });
+
     it('for a comfort order, which has no SpO2 target', () => {
       // BTS 2017: oxygen in terminal palliative care is for comfort, not titrated to a saturation.
       const facts = reviewFacts({ order: { purpose: 'comfort' }, spo2: steady(88, AGES), flows: steady(2, AGES) });

@@ -232,4 +232,23 @@ export const PATIENT_VIEW: readonly Scenario[] = [
       noLessOxygen('common practice: no one-click step down during acidosis'),
     ],
   }),
+  scenario({
+    id: 'pv-high-flow-failing',
+    story: 'Pneumonia on high flow 50 L/min FiO2 0.70, SpO2 89-90 % for 3 h, 94-98 % ordered',
+    pov: 'respiratory therapist', topic, hook: 'patient-view', age: 58,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(deviceOrder('High flow nasal cannula', { flowLPerMin: 50, fio2Percent: 70, note: 'Target SpO2 94-98%' }), DAY),
+        c.pneumonia(),
+        ...[[91, 180], [90, 120], [89, 60], [89, 10]].flatMap(([p, m]) => [spo2(p ?? 89, m), fio2Percent(70, m)]),
+      ],
+    }),
+    expect: [
+      fires('escalated-support-failing', 'critical', SRC.escalation),
+      silent('time-below-target', 'common practice: one card for one situation (escalated-support-failing owns it)'),
+      silent('ready-to-step-down', SRC.btsT2),
+      noLessOxygen(SRC.btsT2),
+    ],
+  }),
 ];
