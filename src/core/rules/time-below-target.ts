@@ -12,7 +12,8 @@ import type { Rule } from './support/rule-types.js';
  * Time below the target range over the look-back window (`titrationReview.lookbackHours`), on an order
  * that titrates to a target:
  * - the latest SpO2 is current (`freshness.vitalSignsMinutes`) and below the range: a warning, critical
- *   below `thresholds.criticalSpo2BelowPercent`;
+ *   below `thresholds.criticalSpo2BelowPercent` or more than `thresholds.criticalPointsBelowTarget`
+ *   points below the range (as spo2-below-target);
  * - otherwise, with the latest reading back in or above the range, at least
  *   `titrationReview.belowTargetShareAtLeastPercent` of at least `titrationReview.minObservedMinutes`
  *   observed was below it: information, to review why.
@@ -50,7 +51,11 @@ export const rule: Rule = {
     if (!latestBelow && !earlierBelow) {
       return [];
     }
-    const critical = latestBelow && latest.value < policy.thresholds.criticalSpo2BelowPercent;
+    // The same critical levels as spo2-below-target: below 85 % (BTS 2017 Table 2), or far below target.
+    const { criticalSpo2BelowPercent, criticalPointsBelowTarget } = policy.thresholds;
+    const critical =
+      latestBelow &&
+      (latest.value < criticalSpo2BelowPercent || review.range.lowPercent - latest.value > criticalPointsBelowTarget);
     return [
       makeFinding(rule, {
         indicator: critical ? 'critical' : latestBelow ? 'warning' : 'info',

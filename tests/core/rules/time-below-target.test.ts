@@ -32,10 +32,15 @@ describe('time-below-target', () => {
     expect(expectCardRenders(finding).summary).toBe('SpO2 92 % (10 min ago) is below target 94–98 %: review the patient');
   });
 
-  it('is critical when the latest SpO2 is below 85 %', () => {
+  it('is critical when the latest SpO2 is below 85 %, or more than 4 points below the range', () => {
     // BTS 2017, Table 2: below 85 % calls for a reservoir mask at 15 L/min in those not at risk.
-    const facts = reviewFacts({ spo2: [[95, 120], [84, 10]], flows: steady(4, [120, 10]) });
-    expect(onlyFinding(runRule(rule, facts, view)).indicator).toBe('critical');
+    const below85 = reviewFacts({ spo2: [[95, 120], [84, 10]], flows: steady(4, [120, 10]) });
+    expect(onlyFinding(runRule(rule, below85, view)).indicator).toBe('critical');
+    // thresholds.criticalPointsBelowTarget 4 (local choice): 89 % is 5 below 94 %: critical; 90 % is 4: warning.
+    const fiveBelow = reviewFacts({ spo2: [[95, 120], [89, 10]], flows: steady(4, [120, 10]) });
+    expect(onlyFinding(runRule(rule, fiveBelow, view)).indicator).toBe('critical');
+    const fourBelow = reviewFacts({ spo2: [[95, 120], [90, 10]], flows: steady(4, [120, 10]) });
+    expect(onlyFinding(runRule(rule, fourBelow, view)).indicator).toBe('warning');
   });
 
   it('judges an at-risk patient against 88-92 %', () => {
