@@ -386,6 +386,7 @@ describe('applyOrderChange', () => {
         ['target 94-98%', { kind: 'set-flow', flowLPerMin: 1 }],
         ['2L NC, target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 }], // BTS 2017 Table 4
         ['target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.24 }], // BTS 2017 Table 4
+        ['2L NC, target SpO2 94-98%', { kind: 'stop-oxygen' }], // BTS 2017 weaning (from memory): stop from about 2 L/min
       ])('still reads the new value from "%s" after the change', (text, orderChange) => {
         const after = change(oxygenMedicationRequest('mr-40', { dosageInstruction: [{ text, doseAndRate: [{ rateQuantity: quantity(2, 'L/min') }] }] }), orderChange);
         const { order } = readBack(codeAndTextOnly(after));
@@ -402,6 +403,10 @@ describe('applyOrderChange', () => {
               orderChange.flowLPerMin,
               orderChange.setFio2Fraction,
             ]);
+            break;
+          case 'stop-oxygen':
+            // The words alone say the oxygen stopped, for a client that keeps only the text.
+            expect(order.purpose).toBe('stop');
             break;
         }
       });
