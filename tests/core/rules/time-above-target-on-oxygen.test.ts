@@ -100,8 +100,8 @@ describe('time-above-target-on-oxygen', () => {
     });
 
     it('when less than half of the observed time was above the range', () => {
-      // 99 % at 300 (60 min above), 97 % at 240, 180, 120, 60 (220 min in range), 99 % at 10 (10 min):
-      // above 70 of 300 observed = 23 % < 50 % (local choice).
+      // 99 % at 300 (60 min above), 97 % at 240, 180, 120, 60 (60 + 60 + 60 + 50 = 230 min in range),
+      // 99 % at 10 (10 min to now): above 70 of 300 observed = 23 % < 50 % (local choice).
       const facts = reviewFacts({ spo2: [[99, 300], [97, 240], [97, 180], [97, 120], [97, 60], [99, 10]], flows: steady(4, AGES) });
       expect(runRule(rule, facts, view)).toStrictEqual([]);
     });

@@ -64,7 +64,7 @@ describe('time-below-target', () => {
 
   describe('stays quiet', () => {
     it('when a brief dip is under 10 % of the observed time', () => {
-      // 93 % at 20 min before the 96 % at 280: hold 20 min below of 300 observed = 6.7 % < 10 %.
+      // 93 % 280 min ago holds 20 min (to the 96 % 260 min ago) below; 20 of 300 observed = 6.7 % < 10 %.
       const facts = reviewFacts({ spo2: [[96, 300], [93, 280], [96, 260], [96, 180], [96, 120], [96, 60], [96, 10]], flows: steady(3, AGES) });
       expect(runRule(rule, facts, view)).toStrictEqual([]);
     });

@@ -45,7 +45,8 @@ describe('timeInRange: hand-worked series', () => {
   it('caps a long gap at 120 min and leaves the rest unobserved', () => {
     // 95 % at 480 min ago: next reading 240 min later, so it holds 120 min (cap); 120 min unobserved.
     // 99 % at 240 min ago on oxygen: above 98 %; next at 180 → holds 60 min above on oxygen.
-    // 92 % at 180 min ago: below 94 %; holds to 60 min ago (120 min, the gap equals the cap).
+    // 92 % at 180 min ago: below 94 %; the next reading is 150 min later, so it holds the 120-min cap,
+    // to 60 min ago.
     // 96 % at 30 min ago: holds to now, 30 min. Unobserved: 120 (480→240 gap) + 30 (60→30) = 150.
     // In range 120 + 30 = 150; above on O2 60; below 120; unobserved 150; total 480.
     const readings = [spo2(95, 480), spo2(99, 240), spo2(92, 180), spo2(96, 30)];
