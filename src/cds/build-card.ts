@@ -34,6 +34,8 @@ export interface CardBuildContext {
    * suggestions never undoes the first.
    */
   readonly earlierChanges?: readonly OrderChange[];
+  /** What the action's description calls the order: `draft order` (default) or `active order` (patient-view). */
+  readonly orderWord?: 'draft order' | 'active order';
 }
 
 /** A flow change and a device change both set the flow; the later one wins. */
@@ -73,6 +75,8 @@ export function describeChange(change: OrderChange): string {
       const setting = change.setFio2Fraction === undefined ? '' : `, FiO2 ${change.setFio2Fraction.toFixed(2)}`;
       return `Change the device: ${deviceLabel(change.device)} at ${formatFlow(change.flowLPerMin)}${setting}`;
     }
+    case 'stop-oxygen':
+      return 'Stop the oxygen (end the order)';
   }
 }
 
@@ -152,7 +156,7 @@ function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, 
       uuid: suggestionUuid(uuid, 0),
       isRecommended: true,
       actions: [
-        { type: 'update', description: `${changes.map(describeChange).join('; ')} on the draft order.`, resource: changed },
+        { type: 'update', description: `${changes.map(describeChange).join('; ')} on the ${ctx.orderWord ?? 'draft order'}.`, resource: changed },
       ],
     },
   };

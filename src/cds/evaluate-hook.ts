@@ -1,6 +1,6 @@
 import { evaluateOrder } from '../core/engine.js';
 import type { Policy } from '../core/policy.js';
-import type { OrderChange } from '../core/types.js';
+import type { HookName, OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
@@ -10,7 +10,13 @@ import { advisorySeries } from './advisory-series.js';
 import { buildCardReport } from './build-card.js';
 import type { CardTemplates } from './card-templates.js';
 import { prepareWorkings } from './card-workings.js';
-import { OrderSelectContextSchema, OrderSignContextSchema, type CdsRequest, type CdsResponse } from './schemas.js';
+import {
+  OrderSelectContextSchema,
+  OrderSignContextSchema,
+  PatientViewContextSchema,
+  type CdsRequest,
+  type CdsResponse,
+} from './schemas.js';
 import { findService } from './services.js';
 
 /**
@@ -63,6 +69,32 @@ export interface CardWorkings {
   readonly markdown: string;
 }
 
+/**
+ * The orders a hook call is about, as a Bundle, and the selections. order-sign and order-select carry
+ * them in `context.draftOrders`; patient-view has none, so its orders on record stand in for them: the
+ * rules' subject is the active oxygen order, and a suggestion's `update` carries that whole resource
+ * revised (src/fhir/apply-change.ts).
+ */
+function readOrderContext(
+  hook: HookName,
+  context: unknown,
+  data: GatheredData,
+): { readonly draftOrders: unknown; readonly selections: readonly string[] | undefined } {
+  if (hook === 'patient-view') {
+    if (!PatientViewContextSchema.safeParse(context).success) {
+      throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
+    }
+    return { draftOrders: { resourceType: 'Bundle', entry: data.activeOrders.map((resource) => ({ resource })) }, selections: undefined };
+  }
+  const parsed =
+    hook === 'order-select' ? OrderSelectContextSchema.safeParse(context) : OrderSignContextSchema.safeParse(context);
+  if (!parsed.success) {
+    throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
+  }
+  const selections = 'selections' in parsed.data ? (parsed.data.selections as readonly string[]) : undefined;
+  return { draftOrders: parsed.data.draftOrders, selections };
+}
+
 export function evaluateHook(
   input: { readonly serviceId: string; readonly request: CdsRequest; readonly data: GatheredData },
   deps: {
@@ -81,15 +113,7 @@ export function evaluateHook(
   if (input.request.hook !== hook) {
     throw new Error(`evaluateHook: service '${service.id}' answers ${hook}, not the request's hook`);
   }
-  const parsed =
-    hook === 'order-select'
-      ? OrderSelectContextSchema.safeParse(input.request.context)
-      : OrderSignContextSchema.safeParse(input.request.context);
-  if (!parsed.success) {
-    throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
-  }
-  const draftOrders = parsed.data.draftOrders;
-  const selections = 'selections' in parsed.data ? (parsed.data.selections as readonly string[]) : undefined;
+  const { draftOrders, selections } = readOrderContext(hook, input.request.context, input.data);
 
   const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
   const evaluation = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
@@ -124,6 +148,7 @@ export function evaluateHook(
       now: deps.now,
       occurrence,
       earlierChanges: finding.orderReference === undefined ? [] : (offered.get(finding.orderReference) ?? []),
+      orderWord: hook === 'patient-view' ? 'active order' : 'draft order',
     });
     if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);

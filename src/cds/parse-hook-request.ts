@@ -2,6 +2,7 @@ import {
   describeIssues,
   OrderSelectRequestSchema,
   OrderSignRequestSchema,
+  PatientViewRequestSchema,
   type CdsRequest,
   type Issue,
 } from './schemas.js';
@@ -28,7 +29,12 @@ export function parseHookRequest(serviceId: string, body: unknown): HookRequestP
     // CDS Hooks 2.0: one id may serve several hooks; ours serve one each, so any other is a 400.
     return { kind: 'unsupported-hook', supportedHooks: [service.hook] };
   }
-  const schema = service.hook === 'order-select' ? OrderSelectRequestSchema : OrderSignRequestSchema;
+  const schema =
+    service.hook === 'order-select'
+      ? OrderSelectRequestSchema
+      : service.hook === 'patient-view'
+        ? PatientViewRequestSchema
+        : OrderSignRequestSchema;
   const parsed = schema.safeParse(body);
   return parsed.success
     ? { kind: 'ok', service, request: parsed.data }

@@ -2,7 +2,7 @@ import { z } from 'zod';
 
 /**
  * zod schemas for the CDS Hooks 2.0 wire format (https://cds-hooks.hl7.org/2.0/), with the
- * order-sign and order-select contexts of the Hook Library STU1. Requests are read leniently
+ * order-sign and order-select contexts of the Hook Library STU1 and the patient-view context. Requests are read leniently
  * (unknown keys pass, so a newer client still works); responses are written strictly, so a typo in
  * a card field fails our own tests. Types are inferred from the schemas.
  */
@@ -123,9 +123,25 @@ export const OrderSelectContextSchema = z
   );
 export type OrderSelectContext = z.infer<typeof OrderSelectContextSchema>;
 
+/**
+ * patient-view context (CDS Hooks Library, hook `patient-view`, hookVersion 1.0): `userId` (the user
+ * opening the record: Practitioner, PractitionerRole, Patient or RelatedPerson), `patientId`, and
+ * `encounterId` when the record is opened within an encounter. All three are prefetch tokens. There
+ * are no draft orders: the active oxygen order is read from prefetch or the FHIR server.
+ */
+export const PatientViewContextSchema = z.looseObject({
+  userId: relativeReference,
+  patientId: fhirId,
+  encounterId: fhirId.optional(),
+});
+export type PatientViewContext = z.infer<typeof PatientViewContextSchema>;
+
 /** Whole request bodies with the hook's context, so issue paths read `context.selections.0`. */
 export const OrderSignRequestSchema = z
   .object({ ...requestShape, hook: z.literal('order-sign'), context: OrderSignContextSchema })
+  .superRefine(requireServerWithAuthorization, RUN_ON_ANY_OBJECT);
+export const PatientViewRequestSchema = z
+  .object({ ...requestShape, hook: z.literal('patient-view'), context: PatientViewContextSchema })
   .superRefine(requireServerWithAuthorization, RUN_ON_ANY_OBJECT);
 export const OrderSelectRequestSchema = z
   .object({ ...requestShape, hook: z.literal('order-select'), context: OrderSelectContextSchema })

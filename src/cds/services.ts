@@ -3,7 +3,7 @@ import { FHIR_ID_PATTERN, RELATIVE_REFERENCE_PATTERN, type DiscoveryResponse } f
 
 /**
  * The service catalogue served at `GET {base}/cds-services` (CDS Hooks 2.0 §Discovery) and the
- * prefetch templates both services declare (§Prefetch Template). Templates stay inside the
+ * prefetch templates the services declare (§Prefetch Template). Templates stay inside the
  * spec's recommended query subset (#prefetch-query-restrictions): instance reads, type-level
  * searches, reference and token-equality parameters, `_sort` and `_count`.
  */
@@ -39,7 +39,8 @@ export type PrefetchKey =
   | 'conditions'
   | 'encounter'
   | 'medicationRequests'
-  | 'serviceRequests';
+  | 'serviceRequests'
+  | 'deviceRequests';
 
 export interface PrefetchKeyDefinition {
   readonly template: string;
@@ -87,11 +88,43 @@ export const PREFETCH_KEYS: Readonly<Record<PrefetchKey, PrefetchKeyDefinition>>
     required: false,
     description: 'Active oxygen therapy orders already on record.',
   },
+  deviceRequests: {
+    // No code filter: oxygen equipment is coded many ways; the reader keeps only oxygen orders.
+    template: 'DeviceRequest?patient={{context.patientId}}&status=active',
+    required: false,
+    description: 'Active device orders, to find oxygen ordered as equipment (patient-view).',
+  },
 };
 
-const PREFETCH = Object.fromEntries(
-  Object.entries(PREFETCH_KEYS).map(([key, definition]) => [key, definition.template]),
-) as Readonly<Record<PrefetchKey, string>>;
+function templatesFor(keys: readonly PrefetchKey[]): Readonly<Partial<Record<PrefetchKey, string>>> {
+  return Object.fromEntries(keys.map((key) => [key, PREFETCH_KEYS[key].template]));
+}
+
+/** The order services' keys: the orders on record only feed the duplicate check. */
+const PREFETCH = templatesFor([
+  'patient',
+  'observations',
+  'conditions',
+  'encounter',
+  'medicationRequests',
+  'serviceRequests',
+]);
+
+/**
+ * patient-view has no draft: the active oxygen order is the subject, so every kind of order on record
+ * is asked for. Observations are the same time-sorted, paged search (`_sort=-date`, 100 a page; the
+ * FHIR fallback follows `next` links, src/http/gather-pages.ts); the look-back window is applied when
+ * they are read, since a template cannot carry a time relative to the call.
+ */
+const PATIENT_VIEW_PREFETCH = templatesFor([
+  'patient',
+  'observations',
+  'conditions',
+  'encounter',
+  'medicationRequests',
+  'serviceRequests',
+  'deviceRequests',
+]);
 
 export interface CdsServiceDefinition {
   readonly id: string;
@@ -99,7 +132,7 @@ export interface CdsServiceDefinition {
   readonly title: string;
   readonly description: string;
   readonly usageRequirements: string;
-  readonly prefetch: Readonly<Record<PrefetchKey, string>>;
+  readonly prefetch: Readonly<Partial<Record<PrefetchKey, string>>>;
 }
 
 const USAGE =
@@ -129,6 +162,21 @@ export const CDS_SERVICES: readonly CdsServiceDefinition[] = [
     usageRequirements: USAGE,
     prefetch: PREFETCH,
   },
+  {
+    id: 'oxygen-titration-review',
+    hook: 'patient-view',
+    title: 'Oxygen titration review',
+    description:
+      'When the record of a patient with an active oxygen order is opened: time in, above and below the ' +
+      'target SpO2 range over the last hours, a rising oxygen need, whether the patient looks stable enough ' +
+      'to step the oxygen down or stop it (BTS 2017 weaning advice), and an overdue blood gas for a patient ' +
+      'at risk of hypercapnic respiratory failure. Offers a change to the active order only where the step ' +
+      'is clear.',
+    usageRequirements:
+      'Needs the patient, recent observations, conditions and the active orders, by prefetch or by FHIR ' +
+      'read access (fhirServer and fhirAuthorization). Advisory only: it never changes an order by itself.',
+    prefetch: PATIENT_VIEW_PREFETCH,
+  },
 ];
 
 /** The service for a path id, or undefined (the http layer answers 404). */
@@ -150,7 +198,10 @@ export function discoveryResponse(): DiscoveryResponse {
   };
 }
 
-/** Prefetch tokens valid for order-sign and order-select (§Prefetch tokens; Hook Library STU1). */
+/**
+ * Prefetch tokens valid for order-sign, order-select and patient-view (§Prefetch tokens; Hook Library
+ * STU1; patient-view marks userId, patientId and encounterId as tokens).
+ */
 export const PREFETCH_TOKENS = [
   'context.userId',
   'context.patientId',

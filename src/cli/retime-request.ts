@@ -6,17 +6,27 @@
 
 const DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2})(:\d{2}(\.\d+)?)?(Z|[+-]\d{2}:\d{2})$/;
 
-/** The signing moment a request describes: the latest `authoredOn` among its draft orders. */
+/**
+ * The moment a request describes: for an order hook the latest `authoredOn` among its draft orders;
+ * for patient-view (no drafts) the latest `effectiveDateTime` among its prefetched observations.
+ */
 export function requestMoment(request: unknown): Date | undefined {
-  const entries = (request as { context?: { draftOrders?: { entry?: unknown } } } | null)?.context?.draftOrders?.entry;
+  const body = request as { hook?: unknown; context?: { draftOrders?: { entry?: unknown } }; prefetch?: { observations?: { entry?: unknown } } } | null;
+  if (body?.hook === 'patient-view') {
+    return latestTime(body.prefetch?.observations?.entry, 'effectiveDateTime');
+  }
+  return latestTime(body?.context?.draftOrders?.entry, 'authoredOn');
+}
+
+function latestTime(entries: unknown, field: 'authoredOn' | 'effectiveDateTime'): Date | undefined {
   if (!Array.isArray(entries)) {
     return undefined;
   }
   let latest: number | undefined;
   for (const entry of entries) {
-    const authoredOn = (entry as { resource?: { authoredOn?: unknown } } | null)?.resource?.authoredOn;
-    if (typeof authoredOn === 'string' && DATE_TIME.test(authoredOn)) {
-      const time = Date.parse(authoredOn);
+    const value = (entry as { resource?: Record<string, unknown> } | null)?.resource?.[field];
+    if (typeof value === 'string' && DATE_TIME.test(value)) {
+      const time = Date.parse(value);
       if (Number.isFinite(time) && (latest === undefined || time > latest)) {
         latest = time;
       }

@@ -112,6 +112,23 @@ export interface Policy {
     /** A fall in SpO2 of at least this many points calls for fuller assessment (BTS 2017: 3). */
     readonly spo2FallPoints: number;
   };
+  /** The titration review on `patient-view`: how far back, how long a reading stands, when to speak. */
+  readonly titrationReview: {
+    /** Hours looked back over (default 8: one nursing shift, common practice). */
+    readonly lookbackHours: number;
+    /** One SpO2 reading stands for the patient until the next, at most this long (local choice: 120). */
+    readonly maxReadingHoldMinutes: number;
+    /** Observed time needed before shares of time are judged (local choice: 120). */
+    readonly minObservedMinutes: number;
+    /** Share of observed time above target on oxygen that makes a card (local choice: 50). */
+    readonly aboveTargetShareAtLeastPercent: number;
+    /** Share of observed time below target that makes a card once back in range (local choice: 10). */
+    readonly belowTargetShareAtLeastPercent: number;
+    /** Nasal-cannula flow at or below which oxygen may be stopped (BTS 2017, from memory: 2; 1 at risk). */
+    readonly stopFromFlowLPerMin: { readonly standard: number; readonly hypercapnicRisk: number };
+    /** Consecutive readings in the target range before stopping (BTS 2017, from memory: 2). */
+    readonly stopAfterReadingsInRange: number;
+  };
   /** Severity overrides by rule id; a hospital may raise or lower a rule's indicator. */
   readonly severity: Readonly<Record<string, Indicator>>;
   /** Rules switched off by the hospital, by rule id. */

@@ -13,7 +13,7 @@ export type Outcome<T> =
   | { readonly kind: 'unknown'; readonly reason: string; readonly missing?: readonly string[] };
 
 export type Indicator = 'info' | 'warning' | 'critical';
-export type HookName = 'order-sign' | 'order-select';
+export type HookName = 'order-sign' | 'order-select' | 'patient-view';
 
 /** Device kinds are this service's own names; the FHIR reader maps the trade's words onto them. */
 export const DEVICE_KINDS = [
@@ -218,7 +218,9 @@ export type OrderChange =
       readonly device: DeviceKind;
       readonly flowLPerMin: number;
       readonly setFio2Fraction?: number;
-    };
+    }
+  /** End the oxygen order: the weaning step after the lowest flow (BTS 2017, from memory). */
+  | { readonly kind: 'stop-oxygen' };
 
 export interface Finding {
   readonly ruleId: string;

@@ -126,6 +126,9 @@ function wordsState(resource: Json, change: OrderChange): boolean {
       const fio2 = texts.map((t) => readSettingText(t, change.device).setFio2Fraction).find((f) => f !== undefined);
       return device === change.device && firstFlow(texts) === change.flowLPerMin && fio2 === change.setFio2Fraction;
     }
+    case 'stop-oxygen':
+      // The status ends the order; the words still give the old setting, so a sentence says it stopped.
+      return false;
   }
 }
 
@@ -141,6 +144,8 @@ function statement(change: OrderChange): string {
       const setting = fio2 === undefined || change.device === 'venturi-mask' ? '' : `, FiO2 ${formatPercent(fio2)}%`;
       return `Oxygen by ${deviceWords(change.device, fio2)} at ${formatNumber(change.flowLPerMin)} L/min${setting}.`;
     }
+    case 'stop-oxygen':
+      return 'Oxygen stopped: check SpO2 on air.';
   }
 }
 
@@ -225,6 +230,12 @@ export function planOrderChange(resource: FhirResource, change: OrderChange): Ch
       writeDevice(copy, change.device, change.setFio2Fraction);
       writeFlow(copy, change.flowLPerMin);
       writeFio2(copy, change.setFio2Fraction);
+      break;
+    case 'stop-oxygen':
+      // FHIR R4 request status (from memory): a MedicationRequest halted early is `stopped`; a
+      // ServiceRequest or DeviceRequest whose therapy has done its work is `completed`.
+      copy['status'] = type === 'MedicationRequest' ? 'stopped' : 'completed';
+      rewritten = { stated: false, leftAsWritten: [] };
       break;
   }
   if (!wordsState(copy, change)) {

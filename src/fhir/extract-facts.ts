@@ -16,6 +16,7 @@ import { readPatient } from './read-patient.js';
  *
  * order-select: the orders named in `selections` are the subject; other drafts are context only.
  * order-sign: every oxygen order in the draft bundle is a subject.
+ * patient-view: no draft; the newest active oxygen order on record is the subject (`readRecordOrders`).
  */
 
 const ACTIVE_STATUSES = new Set(['active', 'on-hold']);
@@ -75,6 +76,42 @@ function readActiveOrders(resources: readonly FhirResource[], drafts: readonly O
   return orders;
 }
 
+/**
+ * patient-view: every active or on-hold oxygen order on record, and as the subject the newest one
+ * that is `active` (an order on hold gives no oxygen to titrate). Orders with no time count as oldest.
+ * The subject is also listed among the orders on record, where it is.
+ */
+function readRecordOrders(
+  resources: readonly FhirResource[],
+  notes: SetAsideNote[],
+): { readonly subject: OxygenOrder | undefined; readonly onRecord: OxygenOrder[] } {
+  const { entries } = flattenResources(resources);
+  const onRecord: OxygenOrder[] = [];
+  const seen = new Set<string>();
+  let subject: { readonly order: OxygenOrder; readonly notes: readonly SetAsideNote[]; readonly at: number } | undefined;
+  for (const [index, entry] of entries.entries()) {
+    const type = oxygenOrderType(entry.resource);
+    const status = entry.resource['status'];
+    const reference = referenceOf(entry, index);
+    if (type === undefined || typeof status !== 'string' || !ACTIVE_STATUSES.has(status) || seen.has(reference)) {
+      continue;
+    }
+    seen.add(reference);
+    onRecord.push(readOrder(entry.resource, type, reference, false).order);
+    if (status !== 'active') {
+      continue;
+    }
+    const read = readOrder(entry.resource, type, reference, true);
+    const authored = read.order.authoredOn === undefined ? Number.NaN : Date.parse(read.order.authoredOn);
+    const at = Number.isNaN(authored) ? Number.NEGATIVE_INFINITY : authored;
+    if (subject === undefined || at > subject.at) {
+      subject = { order: read.order, notes: read.notes, at };
+    }
+  }
+  notes.push(...(subject?.notes ?? []));
+  return { subject: subject?.order, onRecord };
+}
+
 function arrayOrEmpty(value: unknown): readonly unknown[] {
   return Array.isArray(value) ? value : [];
 }
@@ -91,23 +128,26 @@ export function extractFacts(
 ): Facts {
   const notes: SetAsideNote[] = [];
   const data: Partial<GatheredData> = typeof input.data === 'object' && input.data !== null ? input.data : {};
-  const orders = readDrafts(input, notes);
+  const patientView = input.hook === 'patient-view';
+  const drafts = patientView ? [] : readDrafts(input, notes);
   const [patient] = flattenAll([data.patient], notes);
   const [encounter] = flattenAll([data.encounter], notes);
   const patientRead = readPatient(patient, now);
   const observationResources = flattenAll(arrayOrEmpty(data.observations), notes);
-  const observations = readObservations(
-    observationResources,
-    policy.freshness,
-    policy.thresholds.oxygenNeedTrendMinutes,
-    now,
-  );
+  // patient-view looks back over the titration review's window as well as the trend window.
+  const trendMinutes = patientView
+    ? Math.max(policy.thresholds.oxygenNeedTrendMinutes, policy.titrationReview.lookbackHours * 60)
+    : policy.thresholds.oxygenNeedTrendMinutes;
+  const observations = readObservations(observationResources, policy.freshness, trendMinutes, now);
   const conditions = readConditions(flattenAll(arrayOrEmpty(data.conditions), notes));
+  const recordResources = flattenAll(arrayOrEmpty(data.activeOrders), notes);
+  const record = patientView ? readRecordOrders(recordResources, notes) : undefined;
+  const orders = record === undefined ? drafts : record.subject === undefined ? [] : [record.subject];
 
   return {
     patient: { ageYears: patientRead.ageYears, bmiKgPerM2: observations.bmiKgPerM2 },
     orders,
-    activeOrders: readActiveOrders(flattenAll(arrayOrEmpty(data.activeOrders), notes), orders),
+    activeOrders: record === undefined ? readActiveOrders(recordResources, orders) : record.onRecord,
     spo2Percent: observations.spo2Percent,
     fio2Fraction: observations.fio2Fraction,
     o2FlowLPerMin: observations.o2FlowLPerMin,

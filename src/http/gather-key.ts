@@ -34,6 +34,7 @@ export const DESTINATION: Readonly<Record<PrefetchKey, { field: Field; resourceT
   conditions: { field: 'conditions', resourceType: 'Condition' },
   medicationRequests: { field: 'activeOrders', resourceType: 'MedicationRequest' },
   serviceRequests: { field: 'activeOrders', resourceType: 'ServiceRequest' },
+  deviceRequests: { field: 'activeOrders', resourceType: 'DeviceRequest' },
 };
 
 export type KeyResult =

@@ -98,6 +98,7 @@ export function parsePolicyObject(input: unknown): PolicyParse {
       ...file.thresholds,
       nivPaco2Above: toThreshold(file.thresholds.nivPaco2Above),
     },
+    titrationReview: file.titrationReview,
     severity: file.severity,
     disabledRules: file.disabledRules,
     references: Object.fromEntries(

@@ -102,6 +102,39 @@ export const PolicyFileSchema = z.strictObject({
     oxygenNeedTrendMinutes: z.number().int().min(30).max(1440).default(360),
     spo2FallPoints: z.number().min(1).max(10).default(3),
   }),
+  /**
+   * The titration review on `patient-view` (docs/clinical-basis.md, "Titration review"). Defaults are
+   * local choices or, where marked, BTS 2017 weaning advice from memory.
+   */
+  titrationReview: z
+    .strictObject({
+      /** hours looked back over: one nursing shift (common practice) */
+      lookbackHours: z.number().int().min(1).max(24),
+      /** how long one SpO2 reading stands for the patient when no newer one comes (local choice) */
+      maxReadingHoldMinutes: z.number().int().min(15).max(480),
+      /** observed time needed before shares of time are judged (local choice) */
+      minObservedMinutes: z.number().int().min(15).max(1440),
+      /** share of observed time above target on oxygen that makes a card (local choice) */
+      aboveTargetShareAtLeastPercent: z.number().min(1).max(100),
+      /** share of observed time below target that makes a card when the latest reading is in range (local choice) */
+      belowTargetShareAtLeastPercent: z.number().min(1).max(100),
+      /** nasal-cannula flow from which oxygen may be stopped (BTS 2017, from memory: 2 L/min; 1 L/min at risk) */
+      stopFromFlowLPerMin: z.strictObject({
+        standard: z.number().min(0.5).max(4),
+        hypercapnicRisk: z.number().min(0.5).max(4),
+      }),
+      /** consecutive readings in the target range before stopping (BTS 2017, from memory: 2) */
+      stopAfterReadingsInRange: z.number().int().min(1).max(6),
+    })
+    .default({
+      lookbackHours: 8,
+      maxReadingHoldMinutes: 120,
+      minObservedMinutes: 120,
+      aboveTargetShareAtLeastPercent: 50,
+      belowTargetShareAtLeastPercent: 10,
+      stopFromFlowLPerMin: { standard: 2, hypercapnicRisk: 1 },
+      stopAfterReadingsInRange: 2,
+    }),
   severity: z.record(z.string(), IndicatorSchema).default({}),
   disabledRules: z.array(z.string()).default([]),
   references: z.record(z.string(), ReferenceSchema),

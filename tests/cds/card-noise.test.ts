@@ -84,10 +84,19 @@ describe('the partial-check card', () => {
     return copy;
   };
 
-  describe.each(examples)('examples/$file', ({ body }) => {
+  describe.each(examples.filter(({ body }) => body['hook'] !== 'patient-view'))('examples/$file', ({ body }) => {
     it('does not appear when only the optional encounter and orders-on-record keys are absent', async () => {
       const partial = await evaluateExample(withoutKeys(body, ['encounter', 'medicationRequests', 'serviceRequests']));
       expect(partial.response.cards.map(ruleOf)).not.toContain('required-data-unavailable');
+    });
+  });
+
+  describe.each(examples.filter(({ body }) => body['hook'] === 'patient-view'))('examples/$file', ({ body }) => {
+    it('appears when the orders on record are absent (they hold the order under review), not for the encounter alone', async () => {
+      const noOrders = await evaluateExample(withoutKeys(body, ['medicationRequests', 'serviceRequests', 'deviceRequests']));
+      expect(noOrders.response.cards.map(ruleOf)).toStrictEqual(['required-data-unavailable']);
+      const noEncounter = await evaluateExample(withoutKeys(body, ['encounter']));
+      expect(noEncounter.response.cards.map(ruleOf)).not.toContain('required-data-unavailable');
     });
   });
 

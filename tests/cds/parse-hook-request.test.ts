@@ -19,6 +19,31 @@ describe('parseHookRequest', () => {
     expect(parseHookRequest('oxygen-order-select', selectRequest).kind).toBe('ok');
   });
 
+  describe('patient-view (CDS Hooks library: userId, patientId, optional encounterId)', () => {
+    const viewRequest = {
+      hook: 'patient-view',
+      hookInstance: 'd1577c69-dfbe-44ad-ba6d-3e05e953b2ea',
+      context: { userId: 'PractitionerRole/lb-rt-0003', patientId: 'lb-pt-0001' },
+    };
+
+    it('accepts a patient-view body, with or without encounterId, for the titration review', () => {
+      expect(parseHookRequest('oxygen-titration-review', viewRequest).kind).toBe('ok');
+      const withEncounter = { ...viewRequest, context: { ...viewRequest.context, encounterId: 'lb-enc-0001' } };
+      expect(parseHookRequest('oxygen-titration-review', withEncounter).kind).toBe('ok');
+    });
+
+    it('needs userId as a relative reference and patientId as a FHIR id', () => {
+      const body = { ...viewRequest, context: { userId: 'lb-rt-0003' } };
+      const result = parseHookRequest('oxygen-titration-review', body);
+      expect(result.kind === 'invalid' ? result.issues.map((i) => i.path) : []).toStrictEqual(['context.userId', 'context.patientId']);
+    });
+
+    it('is refused by the order services, and order hooks by the review', () => {
+      expect(parseHookRequest('oxygen-order-sign', viewRequest)).toStrictEqual({ kind: 'unsupported-hook', supportedHooks: ['order-sign'] });
+      expect(parseHookRequest('oxygen-titration-review', signRequest)).toStrictEqual({ kind: 'unsupported-hook', supportedHooks: ['patient-view'] });
+    });
+  });
+
   it('reports an unknown service id', () => {
     // cds-hooks.md §8: unknown id → 404
     expect(parseHookRequest('no-such-service', signRequest)).toStrictEqual({ kind: 'unknown-service' });

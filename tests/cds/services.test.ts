@@ -12,13 +12,14 @@ import {
 const context = { userId: 'Practitioner/lb-dr-0042', patientId: 'lb-pt-0001', encounterId: 'lb-enc-0001' };
 
 describe('discoveryResponse', () => {
-  it('lists both services with hook, description and id', () => {
+  it('lists the three services with hook, description and id', () => {
     // CDS Hooks 2.0 §Discovery › Response: hook, description and id are REQUIRED; cds-hooks.md §12 item 1
     const body = discoveryResponse();
     expect(DiscoveryResponseSchema.safeParse(body).success).toBe(true);
     expect(body.services.map((s) => [s.id, s.hook])).toStrictEqual([
       ['oxygen-order-sign', 'order-sign'],
       ['oxygen-order-select', 'order-select'],
+      ['oxygen-titration-review', 'patient-view'],
     ]);
     for (const service of body.services) {
       expect(service.description.length).toBeGreaterThan(0);
@@ -27,7 +28,7 @@ describe('discoveryResponse', () => {
     }
   });
 
-  it('uses only the prefetch tokens valid for order-sign and order-select', () => {
+  it('uses only the prefetch tokens valid for order-sign, order-select and patient-view', () => {
     // CDS Hooks 2.0 #prefetch-tokens: root-level primitive context fields and the four user tokens
     const tokens = discoveryResponse().services.flatMap((s) =>
       Object.values(s.prefetch ?? {}).flatMap((t) => [...t.matchAll(/\{\{([^}]*)\}\}/g)].map((m) => m[1])),
@@ -80,13 +81,28 @@ describe('discoveryResponse', () => {
       ['encounter', false],
       ['medicationRequests', false],
       ['serviceRequests', false],
+      ['deviceRequests', false],
     ]);
   });
 
   it('finds a service by id and nothing for an unknown id', () => {
     expect(findService('oxygen-order-select')?.hook).toBe('order-select');
     expect(findService('no-such-service')).toBeUndefined();
-    expect(CDS_SERVICES).toHaveLength(2);
+    expect(findService('oxygen-titration-review')?.hook).toBe('patient-view');
+    expect(CDS_SERVICES).toHaveLength(3);
+  });
+
+  it('asks patient-view for every kind of active order, and the order services for what they read', () => {
+    // cds-hooks.md §4b: patient-view has no draft; the active oxygen order comes from the record, as a
+    // MedicationRequest, ServiceRequest or DeviceRequest (status=active).
+    const keysOf = (id: string) => Object.keys(findService(id)?.prefetch ?? {});
+    expect(keysOf('oxygen-titration-review')).toStrictEqual([
+      'patient', 'observations', 'conditions', 'encounter', 'medicationRequests', 'serviceRequests', 'deviceRequests',
+    ]);
+    expect(keysOf('oxygen-order-sign')).toStrictEqual([
+      'patient', 'observations', 'conditions', 'encounter', 'medicationRequests', 'serviceRequests',
+    ]);
+    expect(PREFETCH_KEYS.deviceRequests.template).toBe('DeviceRequest?patient={{context.patientId}}&status=active');
   });
 });
 

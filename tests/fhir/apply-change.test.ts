@@ -386,6 +386,7 @@ describe('applyOrderChange', () => {
         ['target 94-98%', { kind: 'set-flow', flowLPerMin: 1 }],
         ['2L NC, target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 }], // BTS 2017 Table 4
         ['target 88-92%', { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.24 }], // BTS 2017 Table 4
+        ['2L NC, target SpO2 94-98%', { kind: 'stop-oxygen' }], // BTS 2017 weaning (from memory): stop from about 2 L/min
       ])('still reads the new value from "%s" after the change', (text, orderChange) => {
         const after = change(oxygenMedicationRequest('mr-40', { dosageInstruction: [{ text, doseAndRate: [{ rateQuantity: quantity(2, 'L/min') }] }] }), orderChange);
         const { order } = readBack(codeAndTextOnly(after));
@@ -403,8 +404,37 @@ describe('applyOrderChange', () => {
               orderChange.setFio2Fraction,
             ]);
             break;
+          case 'stop-oxygen':
+            // The words alone say the oxygen stopped, for a client that keeps only the text.
+            expect(order.purpose).toBe('stop');
+            break;
         }
       });
     });
   });
 });
+
+describe('stopping an active order (patient-view)', () => {
+  // FHIR R4 request status (from memory): a MedicationRequest halted is `stopped`; a ServiceRequest or
+  // DeviceRequest whose therapy is done is `completed`. The words gain a sentence so a client that keeps
+  // only the text still reads the stop.
+  const STOP: OrderChange = { kind: 'stop-oxygen' };
+
+  it('ends a MedicationRequest as stopped and says so in its words', () => {
+    const active = oxygenMedicationRequest('mr-stop', { status: 'active', dosageInstruction: [{ text: '2L NC, target SpO2 94-98%' }] });
+    const after = change(active, STOP);
+    expect(after['status']).toBe('stopped');
+    expect((after['dosageInstruction'] as { text: string }[])[0]?.text).toBe('2L NC, target SpO2 94-98%. Oxygen stopped: check SpO2 on air.');
+  });
+
+  it('ends a ServiceRequest or a DeviceRequest as completed, keeping everything else', () => {
+    const sr = oxygenServiceRequest('sr-stop', { status: 'active', patientInstruction: 'Oxygen 2 L/min via nasal cannulae. Target SpO2 94-98%' });
+    const after = change(sr, STOP);
+    expect(after['status']).toBe('completed');
+    expect(after['patientInstruction']).toBe('Oxygen 2 L/min via nasal cannulae. Target SpO2 94-98%. Oxygen stopped: check SpO2 on air.');
+    expect({ ...after, status: 'active', patientInstruction: sr['patientInstruction'] }).toStrictEqual(sr);
+    const dr = oxygenDeviceRequest('dr-stop', 'Venturi mask 24%', { status: 'active' });
+    expect(change(dr, STOP)['status']).toBe('completed');
+  });
+});
+

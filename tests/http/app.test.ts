@@ -34,7 +34,7 @@ describe('createApp', () => {
 });
 
 describe('GET /cds-services', () => {
-  it('answers 200 with the two services in the shape discovery requires', async () => {
+  it('answers 200 with the three services in the shape discovery requires', async () => {
     const { app } = await buildTestApp();
     const response = await request(app).get('/cds-services');
     expect(response.status).toBe(200);
@@ -46,13 +46,16 @@ describe('GET /cds-services', () => {
     expect(body.services.map((s) => [s['id'], s['hook']])).toStrictEqual([
       ['oxygen-order-sign', 'order-sign'],
       ['oxygen-order-select', 'order-select'],
+      ['oxygen-titration-review', 'patient-view'],
     ]);
     for (const service of body.services) {
       expect(Object.keys(service).sort()).toStrictEqual(
         ['description', 'hook', 'id', 'prefetch', 'title', 'usageRequirements'],
       );
+      // patient-view also asks for DeviceRequests: its active oxygen order may be one (cds-hooks.md §4b).
+      const deviceRequests = service['hook'] === 'patient-view' ? ['deviceRequests'] : [];
       expect(Object.keys(service['prefetch'] as object).sort()).toStrictEqual(
-        ['conditions', 'encounter', 'medicationRequests', 'observations', 'patient', 'serviceRequests'],
+        ['conditions', ...deviceRequests, 'encounter', 'medicationRequests', 'observations', 'patient', 'serviceRequests'],
       );
       // CDS Hooks 2.0 §Prefetch Template: an instance read with a context token
       expect((service['prefetch'] as Record<string, string>)['patient']).toBe('Patient/{{context.patientId}}');

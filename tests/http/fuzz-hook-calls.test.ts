@@ -16,7 +16,7 @@ import {
 import { buildTestApp, TEST_CONFIG } from './test-app.js';
 
 /**
- * Property-based: the Larkspur Bay example hook calls, mutated one to four times, at both services.
+ * Property-based: the Larkspur Bay example hook calls, mutated one to four times, at all three services.
  * Whatever arrives, the service answers as docs/errors.md promises (see `answerProblems`): never a
  * 5xx, cards that pass CDS Hooks 2.0 §5.3 on every 200, a message on every 4xx. One loopback server
  * for the file; fixed seeds; fast-check prints seed and path on failure.
@@ -24,6 +24,7 @@ import { buildTestApp, TEST_CONFIG } from './test-app.js';
 
 const SIGN_RUNS = 3500;
 const SELECT_RUNS = 1000;
+const VIEW_RUNS = 500;
 /** Per property: the runs take seconds, not minutes, but a shared 2-core machine can be slow. */
 const TIMEOUT_MS = 240_000;
 /** Every 20th 200 also has its suggestions checked against the R4 schema (slower: Ajv). */
@@ -72,7 +73,8 @@ async function checkCall(example: Example, mutations: Parameters<typeof mutate>[
 }
 
 const signExamples = examples.filter((example) => example.serviceId === 'oxygen-order-sign');
-const selectExamples = examples.map(asSelect);
+const selectExamples = examples.filter((example) => example.serviceId !== 'oxygen-titration-review').map(asSelect);
+const viewExamples = examples.filter((example) => example.serviceId === 'oxygen-titration-review');
 
 describe('mutated hook calls', () => {
   it('never give a 5xx at order-sign, and every answer keeps its promise', async () => {
@@ -89,9 +91,16 @@ describe('mutated hook calls', () => {
     );
   }, TIMEOUT_MS);
 
+  it('never give a 5xx at patient-view, and every answer keeps its promise', async () => {
+    await fc.assert(
+      fc.asyncProperty(fc.constantFrom(...viewExamples), fc.array(mutation, { minLength: 1, maxLength: 4 }), checkCall),
+      { numRuns: VIEW_RUNS, seed: FUZZ_SEED + 2 },
+    );
+  }, TIMEOUT_MS);
+
   describe('edge cases', () => {
     it('ran every case, a fair share of them through to cards, each within the bound', () => {
-      expect(calls).toBe(SIGN_RUNS + SELECT_RUNS);
+      expect(calls).toBe(SIGN_RUNS + SELECT_RUNS + VIEW_RUNS);
       // Mutations that break the request are refused early; enough must get through to the rules
       // (200) or the gathering (412) for the suite to test more than the schema.
       expect(statuses.get(200) ?? 0).toBeGreaterThan(calls * 0.3);

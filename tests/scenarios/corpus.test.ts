@@ -53,7 +53,14 @@ describe('the corpus itself', () => {
     }
   });
 
-  it('includes order-select calls as well as order-sign', () => {
+  it('includes order-select and patient-view calls as well as order-sign', () => {
     expect(CORPUS.some((s) => s.hook === 'order-select')).toBe(true);
+    expect(CORPUS.some((s) => s.hook === 'patient-view')).toBe(true);
+  });
+
+  it('has benign patient-view scenarios among them, at least a third', () => {
+    // The titration review fires on every record opened: quiet patients must stay quiet (common practice).
+    const view = CORPUS.filter((s) => s.hook === 'patient-view');
+    expect(view.filter((s) => s.benign).length * 3).toBeGreaterThanOrEqual(view.length);
   });
 });

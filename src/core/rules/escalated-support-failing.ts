@@ -69,7 +69,7 @@ export const rule: Rule = {
   id: 'escalated-support-failing',
   title: 'Escalated support failing: critical-care review now',
   version: 1,
-  hooks: ['order-sign'],
+  hooks: ['order-sign', 'patient-view'],
   defaultIndicator: 'critical',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
     const failure = findEscalatedSupportFailure(assessment, facts, policy, now);

@@ -1,5 +1,6 @@
 import { rule as acuteHypercapnicAcidosis } from './acute-hypercapnic-acidosis.js';
 import { rule as adultChecksOnly } from './adult-checks-only.js';
+import { rule as bloodGasOverdue } from './blood-gas-overdue.js';
 import { rule as carbonMonoxideOximetry } from './carbon-monoxide-oximetry.js';
 import { rule as clusterHeadacheOxygen } from './cluster-headache-oxygen.js';
 import { rule as dataSetAside } from './data-set-aside.js';
@@ -16,6 +17,7 @@ import { rule as oxygenToxicityTarget } from './oxygen-toxicity-target.js';
 import { rule as oxygenWithoutHypoxaemia } from './oxygen-without-hypoxaemia.js';
 import { rule as oxygenationSummary } from './oxygenation-summary.js';
 import { rule as pneumothoraxOxygen } from './pneumothorax-oxygen.js';
+import { rule as readyToStepDown } from './ready-to-step-down.js';
 import { rule as repeatBloodGasDue } from './repeat-blood-gas-due.js';
 import { rule as requiredDataUnavailable } from './required-data-unavailable.js';
 import { rule as risingOxygenNeed } from './rising-oxygen-need.js';
@@ -26,6 +28,8 @@ import { rule as targetDiffersFromPolicy } from './target-differs-from-policy.js
 import { rule as targetAmbiguous } from './target-ambiguous.js';
 import { rule as targetOneSided } from './target-one-sided.js';
 import { rule as targetRangeMissing } from './target-range-missing.js';
+import { rule as timeAboveTargetOnOxygen } from './time-above-target-on-oxygen.js';
+import { rule as timeBelowTarget } from './time-below-target.js';
 import { rule as uncontrolledOxygenAtRisk } from './uncontrolled-oxygen-at-risk.js';
 import { rule as venturiFlowInsufficient } from './venturi-flow-insufficient.js';
 import type { Rule } from './support/rule-types.js';
@@ -55,10 +59,14 @@ export const RULES: readonly Rule[] = [
   spo2AboveTarget,
   highOxygenRequirement,
   risingOxygenNeed,
+  timeBelowTarget,
+  timeAboveTargetOnOxygen,
+  readyToStepDown,
   venturiFlowInsufficient,
   flowOutsideDeviceRange,
   duplicateOxygenOrder,
   repeatBloodGasDue,
+  bloodGasOverdue,
   news2Scale2,
   pneumothoraxOxygen,
   clusterHeadacheOxygen,

@@ -1,9 +1,10 @@
 import { newestFirst } from '../assessment/current-values.js';
-import { formatDuration, formatMinuteWindow, formatRange } from '../assessment/format.js';
+import { formatRange } from '../assessment/format.js';
 import type { Finding } from '../types.js';
 import { describeAge, describeOrder, describeRiskReasons } from './support/describe.js';
 import { givesOxygen } from './support/order-purpose.js';
 import { makeFinding } from './support/make-finding.js';
+import { repeatGasWindow } from './support/repeat-gas-window.js';
 import type { Rule } from './support/rule-types.js';
 
 /**
@@ -42,19 +43,7 @@ export const rule: Rule = {
     if (latestGas !== undefined && Date.parse(latestGas.at) >= changedAt) {
       return [];
     }
-    const window = policy.thresholds.repeatGasMinutes;
-    const repeatWindow = formatMinuteWindow(window.from, window.to);
-    const sinceChange = (now.getTime() - changedAt) / 60_000;
-    const opensIn = window.from - sinceChange;
-    const closesIn = window.to - sinceChange;
-    const dueWindow =
-      opensIn > 0
-        ? `in ${formatMinuteWindow(opensIn, closesIn)}`
-        : closesIn > 0
-          ? `now (the window closes in ${formatDuration(closesIn)})`
-          : closesIn === 0
-            ? 'now (the window ends now)'
-            : `overdue (the window closed ${formatDuration(closesIn)} ago)`;
+    const { repeatWindow, closesIn, dueWindow } = repeatGasWindow(changedAt, now, policy.thresholds.repeatGasMinutes);
     // Without a current gas the first one is due now: it decides the range (BTS 2017 Tables 2-4).
     const noCurrentGas = assessment.current.gas === undefined;
     const standard = formatRange(policy.targets.standard);

@@ -1,6 +1,7 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { evaluateHook, type HookEvaluation } from '../../../src/cds/evaluate-hook.js';
 import { parseHookRequest } from '../../../src/cds/parse-hook-request.js';
+import { CDS_SERVICES } from '../../../src/cds/services.js';
 import { requestMoment } from '../../../src/cli/retime-request.js';
 import { createGatherer } from '../../../src/http/gather-data.js';
 import { bundledPolicy } from './card-inputs.js';
@@ -34,7 +35,7 @@ const gather = createGatherer({ fetch: refuseFetch, limits: { callTimeoutMs: 1, 
 
 /** Evaluates a request body as the CLI would; throws when it is not a valid, answerable request. */
 export async function evaluateExample(body: RequestBody, options: { readonly workings?: boolean } = {}): Promise<HookEvaluation> {
-  const serviceId = body['hook'] === 'order-select' ? 'oxygen-order-select' : 'oxygen-order-sign';
+  const serviceId = CDS_SERVICES.find((service) => service.hook === body['hook'])?.id ?? 'oxygen-order-sign';
   const request = parseHookRequest(serviceId, body);
   if (request.kind !== 'ok') {
     throw new Error(`not a valid request: ${JSON.stringify(request)}`);
@@ -56,8 +57,15 @@ export function copyOf<T>(value: T): T {
   return JSON.parse(JSON.stringify(value)) as T;
 }
 
-/** The draft order resources of a request body. */
+/** The draft order resources of a request body (on patient-view, the orders on record). */
 export function draftResources(body: RequestBody): Record<string, unknown>[] {
+  if (body['hook'] === 'patient-view') {
+    // No drafts on patient-view: the orders on record play their part.
+    const prefetch = body['prefetch'] as Record<string, { entry?: { resource: Record<string, unknown> }[] } | undefined>;
+    return ['medicationRequests', 'serviceRequests', 'deviceRequests'].flatMap((key) =>
+      (prefetch[key]?.entry ?? []).map((entry) => entry.resource),
+    );
+  }
   const context = body['context'] as { draftOrders: { entry: { resource: Record<string, unknown> }[] } };
   return context.draftOrders.entry.map((entry) => entry.resource);
 }

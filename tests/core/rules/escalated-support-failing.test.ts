@@ -37,7 +37,7 @@ function lowSpo2Cards(facts: Facts, policy = BTS): string[] {
 
 describe('escalated-support-failing', () => {
   it('runs on order-sign as a critical card', () => {
-    expect(rule.hooks).toStrictEqual(['order-sign']);
+    expect(rule.hooks).toStrictEqual(['order-sign', 'patient-view']);
     expect(rule.defaultIndicator).toBe('critical');
   });
 

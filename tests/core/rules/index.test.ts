@@ -55,7 +55,22 @@ describe('RULES', () => {
       'uncontrolled-oxygen-at-risk',
       'venturi-flow-insufficient',
     ]);
-    expect(RULES.every((r) => r.hooks.includes('order-sign'))).toBe(true);
+    // Every rule but the titration review's own runs at signing.
+    const reviewOnly = ['time-below-target', 'time-above-target-on-oxygen', 'ready-to-step-down', 'blood-gas-overdue'];
+    expect(RULES.filter((r) => !r.hooks.includes('order-sign')).map((r) => r.id)).toStrictEqual(reviewOnly);
+  });
+
+  it('gives patient-view the titration review, the failing-support and rising-need checks and the partial-data card', () => {
+    const onView = RULES.filter((r) => r.hooks.includes('patient-view')).map((r) => r.id).sort();
+    expect(onView).toStrictEqual([
+      'blood-gas-overdue',
+      'escalated-support-failing',
+      'ready-to-step-down',
+      'required-data-unavailable',
+      'rising-oxygen-need',
+      'time-above-target-on-oxygen',
+      'time-below-target',
+    ]);
   });
 
   it.each(ids)('%s has a card template that parses, with kebab-case override codes', (id) => {

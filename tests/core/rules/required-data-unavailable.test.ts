@@ -6,8 +6,8 @@ import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
 describe('required-data-unavailable', () => {
-  it('runs on order-sign as information', () => {
-    expect(rule.hooks).toStrictEqual(['order-sign']);
+  it('runs on order-sign and patient-view as information', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign', 'patient-view']);
     expect(rule.defaultIndicator).toBe('info');
   });
 
@@ -15,6 +15,25 @@ describe('required-data-unavailable', () => {
     const finding = onlyFinding(runRule(rule, buildFacts({ missingData: ['bloodGases', 'conditions'] })));
     expect(finding.values).toStrictEqual({ missingCount: '2', missingList: 'bloodGases, conditions' });
     expect(expectCardRenders(finding).summary).toBe('Check was partial: 2 data source(s) could not be retrieved');
+  });
+
+  describe('on patient-view', () => {
+    const view = { hook: 'patient-view' as const };
+    it('names the orders on record when they could not be read, even with no oxygen order found', () => {
+      // The active oxygen order is the review's subject: without the orders, a quiet review means little
+      // (common practice: transparency of decision support).
+      const facts = buildFacts({ orders: [], missingData: ['medicationRequests', 'deviceRequests'] });
+      expect(onlyFinding(runRule(rule, facts, view)).values.missingList).toBe('medicationRequests, deviceRequests');
+    });
+
+    it('stays quiet for a patient with no oxygen order when only other data was missing', () => {
+      // patient-view fires on every record opened; the review does not apply without an oxygen order.
+      expect(runRule(rule, buildFacts({ orders: [], missingData: ['conditions'] }), view)).toStrictEqual([]);
+    });
+
+    it('does not count the encounter, which only names the ward', () => {
+      expect(runRule(rule, buildFacts({ missingData: ['encounter'] }), view)).toStrictEqual([]);
+    });
   });
 
   it('does not fire when everything arrived', () => {

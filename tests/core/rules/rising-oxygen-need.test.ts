@@ -25,8 +25,8 @@ const series = (make: (v: number, age: number) => Measured, points: readonly (re
   points.map(([value, age]) => make(value, age)).sort((a, b) => Date.parse(b.at) - Date.parse(a.at));
 
 describe('rising-oxygen-need', () => {
-  it('runs on order-sign as a warning', () => {
-    expect(rule.hooks).toStrictEqual(['order-sign']);
+  it('runs on order-sign and on patient-view as a warning', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign', 'patient-view']);
     expect(rule.defaultIndicator).toBe('warning');
     expect(BTS.thresholds.oxygenNeedTrendMinutes).toBe(360);
     expect(BTS.thresholds.spo2FallPoints).toBe(3);

@@ -1,5 +1,6 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import fc from 'fast-check';
+import { CDS_SERVICES } from '../../../src/cds/services.js';
 import { requestMoment } from '../../../src/cli/retime-request.js';
 import type { Answer } from './app-server.js';
 import { addedR4Problems, protocolProblems } from './conformance.js';
@@ -49,7 +50,7 @@ export function loadExamples(): Example[] {
       if (moment === undefined) throw new Error(`${file}: no authoredOn to run the clock from`);
       return {
         file,
-        serviceId: body['hook'] === 'order-select' ? 'oxygen-order-select' : 'oxygen-order-sign',
+        serviceId: CDS_SERVICES.find((service) => service.hook === body['hook'])?.id ?? 'oxygen-order-sign',
         body,
         now: new Date(moment.getTime() + 5 * 60_000),
         secrets: secretsOf(body),

@@ -5,6 +5,7 @@ import { ESCALATION } from './escalation.js';
 import { GAS_AND_HYPERCAPNIA } from './gas-and-hypercapnia.js';
 import { INDICATION_AND_PURPOSE } from './indication-and-purpose.js';
 import { ORDER_SELECT } from './order-select.js';
+import { PATIENT_VIEW } from './patient-view.js';
 import { TARGETS_AND_TEXT } from './targets-and-text.js';
 
 /** Every scenario of the corpus, file by file. */
@@ -16,4 +17,5 @@ export const CORPUS: readonly Scenario[] = [
   ...INDICATION_AND_PURPOSE,
   ...CLASSIC,
   ...ORDER_SELECT,
+  ...PATIENT_VIEW,
 ];

@@ -49,6 +49,9 @@ export type OxygenStep = 'less' | 'same' | 'more' | 'unknown';
 
 /** Compares the oxygen an order gives after a change with before it. */
 export function compareOxygen(before: OxygenOrder, after: OxygenOrder): OxygenStep {
+  // An order ended (a stop suggestion on patient-view) gives no oxygen at all (FHIR R4 request status).
+  const ended = (o: OxygenOrder): boolean => o.status === 'stopped' || o.status === 'completed' || o.status === 'revoked';
+  if (ended(after) !== ended(before)) return ended(after) ? 'less' : 'more';
   if (before.device === undefined || after.device === undefined) return 'unknown';
   const tierBefore = DEVICE_TIER[before.device];
   const tierAfter = DEVICE_TIER[after.device];

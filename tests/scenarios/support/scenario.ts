@@ -60,7 +60,8 @@ export interface ScenarioInput {
   readonly topic: string;
   /** True for an order a consultant would sign as it is: no warning or critical card allowed. */
   readonly benign?: boolean;
-  readonly hook?: 'order-sign' | 'order-select';
+  /** patient-view: no drafts; the active oxygen order comes from `record` (use `onRecord`). */
+  readonly hook?: 'order-sign' | 'order-select' | 'patient-view';
   /** The bundled policy to run under (default BTS 2017). */
   readonly policy?: 'bts-2017' | 'tsanz-2015';
   /** Age in years on the day; undefined: no birthDate on record. */
@@ -77,7 +78,7 @@ export interface ScenarioInput {
 
 export interface Scenario extends ScenarioInput {
   readonly benign: boolean;
-  readonly hook: 'order-sign' | 'order-select';
+  readonly hook: 'order-sign' | 'order-select' | 'patient-view';
   readonly policy: 'bts-2017' | 'tsanz-2015';
 }
 
@@ -106,25 +107,31 @@ export function buildScenario(s: Scenario, replaceDrafts?: readonly FhirResource
   const drafts = replaceDrafts ?? built.drafts;
   const record = (built.record ?? []).flat();
   const first = drafts[0];
-  const context: Record<string, unknown> = {
-    userId: 'Practitioner/lbgh-prescriber-07',
-    patientId: PATIENT_ID,
-    draftOrders: { resourceType: 'Bundle', type: 'collection', entry: drafts.map((resource) => ({ resource })) },
-    ...(s.hook === 'order-select' && first !== undefined
-      ? { selections: [`${first.resourceType}/${String(first.id)}`] }
-      : {}),
-  };
+  const isOrder = (r: FhirResource): boolean =>
+    ['MedicationRequest', 'ServiceRequest', 'DeviceRequest'].includes(r.resourceType);
+  // patient-view (CDS Hooks library): userId, patientId, encounterId?; no draft orders.
+  const context: Record<string, unknown> =
+    s.hook === 'patient-view'
+      ? { userId: 'PractitionerRole/lbgh-resp-therapist-03', patientId: PATIENT_ID }
+      : {
+          userId: 'Practitioner/lbgh-prescriber-07',
+          patientId: PATIENT_ID,
+          draftOrders: { resourceType: 'Bundle', type: 'collection', entry: drafts.map((resource) => ({ resource })) },
+          ...(s.hook === 'order-select' && first !== undefined
+            ? { selections: [`${first.resourceType}/${String(first.id)}`] }
+            : {}),
+        };
   const request = {
     hook: s.hook,
     hookInstance: '0c5e7a42-9d1b-4f6a-8e3c-5b2d7f9a1e60',
     context,
   } as CdsRequest;
-  const isOrder = (r: FhirResource): boolean =>
-    ['MedicationRequest', 'ServiceRequest', 'DeviceRequest'].includes(r.resourceType);
+  const SERVICE = { 'order-sign': 'oxygen-order-sign', 'order-select': 'oxygen-order-select', 'patient-view': 'oxygen-titration-review' } as const;
   return {
-    serviceId: s.hook === 'order-sign' ? 'oxygen-order-sign' : 'oxygen-order-select',
+    serviceId: SERVICE[s.hook],
     request,
-    drafts,
+    // On patient-view a suggestion updates an order on record: those are what it is compared with.
+    drafts: s.hook === 'patient-view' ? record.filter(isOrder) : drafts,
     data: {
       patient: patientAged(s.age),
       observations: record.filter((r) => r.resourceType === 'Observation'),

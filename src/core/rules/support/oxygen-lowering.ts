@@ -48,6 +48,9 @@ export function changeLowersOxygen(change: OrderChange, assessment: Assessment, 
   if (order === undefined) {
     return false;
   }
+  if (change.kind === 'stop-oxygen') {
+    return true;
+  }
   if (change.kind === 'set-flow') {
     const running = order.flowLPerMin ?? facts.o2FlowLPerMin[0]?.value;
     return running !== undefined && change.flowLPerMin < running;

@@ -79,6 +79,8 @@ function raisesOxygen(finding: Finding, order: OxygenOrder): boolean {
       return change.flowLPerMin > (order.flowLPerMin ?? 0);
     case 'set-target':
       return order.target !== undefined && change.range.highPercent > order.target.highPercent;
+    case 'stop-oxygen':
+      return false;
   }
 }
 

@@ -1,0 +1,146 @@
+import { isWithin } from '../assessment/current-values.js';
+import { formatFlow, formatNumber } from '../assessment/format.js';
+import type { Assessment } from '../assessment/types.js';
+import { DEVICE_MODELS } from '../devices/index.js';
+import type { Policy } from '../policy.js';
+import { isTitration } from '../rules/support/order-purpose.js';
+import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
+import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
+import { patientSupportTier } from '../rules/support/support-tier.js';
+import type { Facts, OrderChange } from '../types.js';
+import { anyReadingBelow, latestReading, readingsInWindow, type TitrationReview } from './titration-review.js';
+
+/**
+ * The next weaning step for the active order, and whether it may be offered as a one-click change.
+ *
+ * BTS 2017 weaning advice (from memory of its section on weaning and stopping oxygen): lower the
+ * oxygen in stable patients whose SpO2 is in or above the target range; most stable convalescent
+ * patients come down to about 2 L/min by nasal cannula before stopping, patients at risk of
+ * hypercapnic respiratory failure to about 1 L/min (or a 24 % Venturi); stop when the patient is
+ * clinically stable on low-concentration oxygen with SpO2 in the range on two consecutive
+ * observations, then check SpO2 on air.
+ *
+ * A step is offered only where it is clear and safe (`blockedBy` says why not): never for an order that
+ * is not a titration (comfort, weaning, stop, room air), nor one whose target is not one clear range;
+ * never while the gas shows hypercapnic acidosis or acute hypercapnia or SpO2 is below target
+ * (`reasonNotToLowerOxygen`), while the current gas shows any acidosis, when any SpO2 of the look-back
+ * window was below the range, while the oxygen need is rising or after the oxygen was raised within
+ * the window, on high flow or CPAP/NIV (a change of
+ * support is the team's), or without a current SpO2. Steps are by nasal-cannula flow (one
+ * `nasalCannulaStepDownLPerMin` step, not below the stop-from flow) and stopping from the stop-from
+ * flow or a 24 % Venturi; other devices get advice without a change. Pure.
+ */
+export type StepDown =
+  | {
+      readonly kind: 'lower-flow';
+      readonly change: Extract<OrderChange, { kind: 'set-flow' }>;
+      readonly fromFlowLPerMin: number;
+    }
+  | { readonly kind: 'stop'; readonly change: Extract<OrderChange, { kind: 'stop-oxygen' }>; readonly from: string }
+  | { readonly kind: 'none'; readonly blockedBy: string };
+
+/** Venturi settings at or below this are low-concentration oxygen for stopping (BTS 2017 Table 4: 24 %). */
+const LOWEST_VENTURI_FIO2 = 0.24;
+
+/** The reason no one-click step down may be offered, or undefined when one may. */
+export function reasonNotToStepDown(input: {
+  readonly review: TitrationReview;
+  readonly assessment: Assessment;
+  readonly facts: Facts;
+  readonly policy: Policy;
+  readonly now: Date;
+}): string | undefined {
+  const { review, assessment, facts, policy, now } = input;
+  const order = review.order;
+  if (!isTitration(order)) {
+    return 'the order is not a titration to a target (comfort, weaning, stop or room-air order)';
+  }
+  if (order.targetNote !== undefined) {
+    return "the order's target is not written as one clear range";
+  }
+  const interlock = reasonNotToLowerOxygen(assessment);
+  if (interlock !== undefined) {
+    return interlock;
+  }
+  const ph = assessment.current.gas?.ph;
+  if (ph !== undefined && ph < policy.thresholds.acidosisPhBelow) {
+    return `the current gas shows acidosis (pH ${formatNumber(ph, 2)})`;
+  }
+  if (anyReadingBelow(review)) {
+    return 'an SpO2 in the look-back window was below the target range';
+  }
+  const tier = patientSupportTier(facts, order, policy, now);
+  if (tier !== undefined && tier !== 'conventional-oxygen') {
+    return 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
+  }
+  const { oxygenNeedTrendMinutes, spo2FallPoints } = policy.thresholds;
+  const window = Math.max(oxygenNeedTrendMinutes, review.lookbackMinutes);
+  if (findRisingOxygenNeed(facts, order, now, window, spo2FallPoints) !== undefined) {
+    return 'the oxygen need has been rising';
+  }
+  // Raised within the window and now better: too soon to call stable (common practice).
+  if ((oxygenTrend(facts, order, now, review.lookbackMinutes)?.direction ?? 0) > 0) {
+    return 'the oxygen was raised within the look-back window';
+  }
+  const latest = latestReading(review);
+  if (latest === undefined || !isWithin(latest.at, now, policy.freshness.vitalSignsMinutes)) {
+    return 'there is no current SpO2 reading';
+  }
+  return undefined;
+}
+
+/** The flow running now: the newest recorded flow in the window, else the ordered flow. */
+function runningFlow(review: TitrationReview, facts: Facts, now: Date): number | undefined {
+  const recorded = readingsInWindow(facts.trendReadings.o2FlowLPerMin, now, review.lookbackMinutes);
+  return recorded[recorded.length - 1]?.value ?? review.order.flowLPerMin;
+}
+
+/** Whether the last `count` readings are all at or above the range's lower bound. */
+function lastReadingsNotBelow(review: TitrationReview, count: number): boolean {
+  const last = review.readings.slice(-count);
+  return last.length >= count && last.every((m) => m.value >= review.range.lowPercent);
+}
+
+export function planStepDown(input: {
+  readonly review: TitrationReview;
+  readonly assessment: Assessment;
+  readonly facts: Facts;
+  readonly policy: Policy;
+  readonly now: Date;
+}): StepDown {
+  const blockedBy = reasonNotToStepDown(input);
+  if (blockedBy !== undefined) {
+    return { kind: 'none', blockedBy };
+  }
+  const { review, assessment, facts, policy, now } = input;
+  const order = review.order;
+  const settings = policy.titrationReview;
+  const atRisk = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';
+  const stopFrom = atRisk ? settings.stopFromFlowLPerMin.hypercapnicRisk : settings.stopFromFlowLPerMin.standard;
+  const enoughToStop = lastReadingsNotBelow(review, settings.stopAfterReadingsInRange);
+  if (order.device === 'venturi-mask') {
+    const fio2 = order.setFio2Fraction;
+    if (fio2 !== undefined && fio2 <= LOWEST_VENTURI_FIO2 && enoughToStop) {
+      return { kind: 'stop', change: { kind: 'stop-oxygen' }, from: 'a 24 % Venturi mask' };
+    }
+    return { kind: 'none', blockedBy: 'a Venturi mask is stepped down by changing its setting, which is left to the team' };
+  }
+  if (order.device !== 'nasal-cannula') {
+    return { kind: 'none', blockedBy: 'a one-click step is offered only on a nasal cannula or a 24 % Venturi mask' };
+  }
+  const flow = runningFlow(review, facts, now);
+  if (flow === undefined) {
+    return { kind: 'none', blockedBy: 'the flow running is not known' };
+  }
+  if (flow <= stopFrom) {
+    return enoughToStop
+      ? { kind: 'stop', change: { kind: 'stop-oxygen' }, from: `nasal cannula at ${formatFlow(flow)}` }
+      : {
+          kind: 'none',
+          blockedBy: `fewer than ${String(settings.stopAfterReadingsInRange)} consecutive readings in the range before stopping`,
+        };
+  }
+  const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
+  const next = Math.max(stopFrom, minimum, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
+  return { kind: 'lower-flow', change: { kind: 'set-flow', flowLPerMin: next }, fromFlowLPerMin: flow };
+}
