@@ -89,7 +89,7 @@ describe('trusted CDS clients', () => {
       .set('Authorization', bearer(signToken(EHR_ES384, claims(`${SIGN_AUD}/feedback`))))
       .send({ feedback: [ACCEPTED] });
     expect([discovery.status, feedback.status]).toStrictEqual([200, 200]);
-    expect(discovery.body.services.map((s: { id: string }) => s.id)).toStrictEqual(['oxygen-order-sign', 'oxygen-order-select']);
+    expect(discovery.body.services.map((s: { id: string }) => s.id)).toStrictEqual(['oxygen-order-sign', 'oxygen-order-select', 'oxygen-titration-review']);
     expect(built.recorded.map((entry) => entry.outcome)).toStrictEqual(['accepted']);
   });
 

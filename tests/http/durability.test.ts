@@ -14,7 +14,7 @@ import { requestMoment, retimeRequest } from '../../src/cli/retime-request.js';
  */
 
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const BURST = fileURLToPath(new URL('./support/feedback-burst.mjs', import.meta.url));
+const BURST = fileURLToPath(new URL('./support/feedback-burst.ts', import.meta.url));
 const EXAMPLE = join(ROOT, 'examples', 'order-sign-pneumonia-above-target.json');
 const dataDir = mkdtempSync(join(tmpdir(), 'o2check-durability-'));
 const children: ChildProcess[] = [];
@@ -49,7 +49,7 @@ function startService(): Promise<{ child: ChildProcess; url: string }> {
 }
 
 function runBurst(feedbackUrl: string, cards: readonly string[]): { child: ChildProcess; acked: () => string[] } {
-  const child = spawn(process.execPath, [BURST, feedbackUrl, cards.join(','), '2000', '8'], {
+  const child = spawn(process.execPath, ['--import', 'tsx', BURST, feedbackUrl, cards.join(','), '2000', '8'], {
     stdio: ['ignore', 'pipe', 'inherit'],
   });
   children.push(child);
