@@ -38,6 +38,14 @@ function feedbackSection(advisory: AdvisoryWithFeedback, input: AdvisoryPageInpu
 <p class="muted">Oldest first. A changed outcome or reason is kept as a new record; the latest counts in the summary.</p>`;
 }
 
+/**
+ * A card value's name as words for the page: `targetSource` reads "target source", while names that
+ * are symbols already (`pH`, `PCO2`, `spo2`) are left as they are.
+ */
+export function wordsOf(name: string): string {
+  return name.replace(/([a-z]{2,})([A-Z])(?=[a-z])/g, (_, before: string, capital: string) => `${before} ${capital.toLowerCase()}`);
+}
+
 export function renderAdvisoryPage(input: AdvisoryPageInput): string {
   const a = input.advisory;
   const zone = input.timeZone;
@@ -45,7 +53,7 @@ export function renderAdvisoryPage(input: AdvisoryPageInput): string {
     a.keyNumbers.length === 0
       ? html`<p class="muted">This card showed no key numbers.</p>`
       : html`<table id="key-numbers"><thead><tr><th>Quantity</th><th>Value</th></tr></thead>
-<tbody>${a.keyNumbers.map((n) => html`<tr data-key-number="${n.name}"><td>${n.name}</td><td>${n.value}</td></tr>`)}</tbody></table>`;
+<tbody>${a.keyNumbers.map((n) => html`<tr data-key-number="${n.name}"><td>${wordsOf(n.name)}</td><td>${n.value}</td></tr>`)}</tbody></table>`;
   const body = html`<p id="advisory-summary" class="ind-${a.indicator}">${a.summary}</p>
 <dl class="facts" id="advisory-facts" data-card-uuid="${a.cardUuid}">
 <dt>Indicator</dt><dd data-field="indicator">${a.indicator}</dd>

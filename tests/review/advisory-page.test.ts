@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { renderAdvisoryPage } from '../../src/review/advisory-page.js';
+import { renderAdvisoryPage, wordsOf } from '../../src/review/advisory-page.js';
 import type { ReasonDisplay } from '../../src/review/override-reasons.js';
 import { advisory, escapedHostile, feedbackRecord, hostile } from './support/advisory-fixtures.js';
 import { elementsWith } from './support/read-markup.js';
@@ -86,5 +86,15 @@ describe('renderAdvisoryPage', () => {
     // The Markdown fields keep their text escaped too (the renderer's own escaping of the same payload).
     expect(out).toContain('&quot;&gt;&lt;i data-f=&quot;detail&quot;&gt;');
     expect(out).toContain('&quot;&gt;&lt;i data-f=&quot;workings&quot;&gt;');
+  });
+});
+
+describe('wordsOf', () => {
+  it('spells camel-case value names as words and leaves symbols alone', () => {
+    expect(wordsOf('orderDescription')).toBe('order description');
+    expect(wordsOf('targetSourceNote')).toBe('target source note');
+    expect(wordsOf('pH')).toBe('pH');
+    expect(wordsOf('PCO2')).toBe('PCO2');
+    expect(wordsOf('spo2')).toBe('spo2');
   });
 });
