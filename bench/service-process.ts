@@ -2,6 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, sep } from 'node:path';
+import type { AuditArm } from './audit-off-store.js';
 import { startChildServer, waitForOk, type ChildServer } from './child-server.js';
 
 /**
@@ -82,11 +83,37 @@ export async function startService(
   built: BuiltService,
   extraNodeArgs: readonly string[] = [],
 ): Promise<ChildServer> {
+  return startWithDataDir(root, 'oxygen-order-checker', [...extraNodeArgs, ...built.nodeArgs], {});
+}
+
+/**
+ * The feedback load sends thousands of items from one client in seconds: far past the daily quota
+ * (O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY) a real client has, which would answer 429. The audit services
+ * get the highest quota the setting takes, so the bench measures the commit, not the refusal.
+ */
+const BENCH_FEEDBACK_QUOTA = '10000000';
+
+/**
+ * bench/audit-service.ts in one arm (the store as shipped, or without the audit write), run through
+ * tsx for both arms, in demo mode, with its own fresh data directory.
+ */
+export async function startAuditService(root: string, arm: AuditArm): Promise<ChildServer> {
+  return startWithDataDir(root, `bench ${arm} service`, ['--import', 'tsx', join(root, 'bench', 'audit-service.ts'), arm], {
+    O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: BENCH_FEEDBACK_QUOTA,
+  });
+}
+
+async function startWithDataDir(
+  root: string,
+  name: string,
+  nodeArgs: readonly string[],
+  extraEnv: Readonly<Record<string, string>>,
+): Promise<ChildServer> {
   const dataDir = mkdtempSync(join(tmpdir(), 'o2check-bench-data-'));
   const started = await startChildServer({
-    name: 'oxygen-order-checker',
-    nodeArgs: [...extraNodeArgs, ...built.nodeArgs],
-    env: serviceEnv(root, dataDir),
+    name,
+    nodeArgs,
+    env: { ...serviceEnv(root, dataDir), ...extraEnv },
     cwd: root,
     startTimeoutMs: 30_000,
   });
