@@ -115,10 +115,10 @@ export async function measureAudit(ctx: HttpContext): Promise<AuditMeasurements>
   const sign = examples.sign;
   const largest = examples.largestSign;
   progress('starting the audit-on and audit-off services (bench/audit-service.ts)');
-  const on = await startAuditService(ctx.root, 'audit-on');
+  const on = await startAuditService(ctx.root, ctx.built, 'audit-on');
   let off: ChildServer | undefined;
   try {
-    off = await startAuditService(ctx.root, 'audit-off');
+    off = await startAuditService(ctx.root, ctx.built, 'audit-off');
     const url = (service: ChildServer, example: HookExample): string => `${service.url}/cds-services/${example.serviceId}`;
     const makers = new Map(sign.map((example) => [example.name, freshHookInstances(example.body)]));
     const maker = (example: HookExample): (() => string) => {

@@ -1,13 +1,15 @@
 import type { Server } from 'node:http';
-import { parseEnvConfig, formatEnvProblems } from '../src/config/env-config.js';
-import { formatLoadProblems, loadPolicyAndCards } from '../src/config/load-files.js';
-import { parseReviewConfig } from '../src/config/review-config.js';
-import { createApp } from '../src/http/app.js';
-import { createLogger } from '../src/log/logger.js';
-import { setUpAuthentication } from '../src/security/setup-authentication.js';
-import { setUpReviewAccess } from '../src/security/setup-review-access.js';
-import { openStore } from '../src/store/open-store.js';
-import { loadOrCreateSecret, patientKey } from '../src/store/patient-key.js';
+import { join } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import type * as EnvConfigModule from '../src/config/env-config.js';
+import type * as LoadFilesModule from '../src/config/load-files.js';
+import type * as ReviewConfigModule from '../src/config/review-config.js';
+import type * as AppModule from '../src/http/app.js';
+import type * as LoggerModule from '../src/log/logger.js';
+import type * as AuthenticationModule from '../src/security/setup-authentication.js';
+import type * as ReviewAccessModule from '../src/security/setup-review-access.js';
+import type * as OpenStoreModule from '../src/store/open-store.js';
+import type * as PatientKeyModule from '../src/store/patient-key.js';
 import { withoutAuditWrites, type AuditArm } from './audit-off-store.js';
 
 /**
@@ -16,6 +18,9 @@ import { withoutAuditWrites, type AuditArm } from './audit-off-store.js';
  * that `recordAdvisories` does nothing (`audit-off`). The bench starts one of each and loads both the
  * same way, so the only difference between the two is the audit write. Production has no way to
  * turn the audit trail off; this file is that way, and it refuses to run outside demo mode.
+ *
+ * The service's modules are loaded from `codeRoot`: the bench's private build (as `npm start` runs
+ * them) or src/ through tsx, whichever the rest of the run measures.
  *
  * Keep it in step with `startWithStore` in src/server.ts (demo branch); what it leaves out (the
  * retention purge, graceful close) does not run during a load.
@@ -26,7 +31,17 @@ function refuse(problem: string): never {
   process.exit(1);
 }
 
-async function main(arm: AuditArm): Promise<void> {
+async function main(arm: AuditArm, codeRoot: string): Promise<void> {
+  const load = async <T>(path: string): Promise<T> => (await import(pathToFileURL(join(codeRoot, path)).href)) as T;
+  const { parseEnvConfig, formatEnvProblems } = await load<typeof EnvConfigModule>('config/env-config.js');
+  const { formatLoadProblems, loadPolicyAndCards } = await load<typeof LoadFilesModule>('config/load-files.js');
+  const { parseReviewConfig } = await load<typeof ReviewConfigModule>('config/review-config.js');
+  const { createApp } = await load<typeof AppModule>('http/app.js');
+  const { createLogger } = await load<typeof LoggerModule>('log/logger.js');
+  const { setUpAuthentication } = await load<typeof AuthenticationModule>('security/setup-authentication.js');
+  const { setUpReviewAccess } = await load<typeof ReviewAccessModule>('security/setup-review-access.js');
+  const { openStore } = await load<typeof OpenStoreModule>('store/open-store.js');
+  const { loadOrCreateSecret, patientKey } = await load<typeof PatientKeyModule>('store/patient-key.js');
   const parsedEnv = parseEnvConfig(process.env, process.cwd());
   if (parsedEnv.kind === 'invalid') {
     refuse(formatEnvProblems(parsedEnv.problems));
@@ -99,8 +114,8 @@ async function main(arm: AuditArm): Promise<void> {
   process.once('SIGINT', stop);
 }
 
-const arm = process.argv[2];
-if (arm !== 'audit-on' && arm !== 'audit-off') {
-  refuse('name the arm: audit-on or audit-off');
+const [arm, codeRoot] = process.argv.slice(2);
+if ((arm !== 'audit-on' && arm !== 'audit-off') || codeRoot === undefined) {
+  refuse('usage: audit-service.ts audit-on|audit-off CODE_ROOT (the built dist/ folder, or src/)');
 }
-await main(arm);
+await main(arm, codeRoot);

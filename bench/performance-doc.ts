@@ -39,7 +39,8 @@ inside the ${CDS_HOOKS_BUDGET_MS} ms CDS Hooks budget (at most ${(100 * BUDGET_S
 - **Audit on / audit off.** Two processes of \`bench/audit-service.ts\`, a bench-only entry that builds
   the service's app as \`src/server.ts\` does in demo mode; one uses the store as shipped, the other
   the same store with \`recordAdvisories\` made a no-op. Nothing in the shipped service can turn the
-  audit trail off. Both run through tsx, each with a new data directory, and take turns on each
+  audit trail off. Both load the service's modules from the same build as the rest of the run (only the
+  entry file goes through tsx), each with a new data directory, and take turns on each
   order-sign case (on first, then off first), so drift over the run falls on both. Before the loads the
   bench checks that both answer the same cards, that the audit-on process records them and that the
   audit-off process does not.

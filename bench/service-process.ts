@@ -94,11 +94,13 @@ export async function startService(
 const BENCH_FEEDBACK_QUOTA = '10000000';
 
 /**
- * bench/audit-service.ts in one arm (the store as shipped, or without the audit write), run through
- * tsx for both arms, in demo mode, with its own fresh data directory.
+ * bench/audit-service.ts in one arm (the store as shipped, or without the audit write), in demo
+ * mode, with its own fresh data directory. The entry itself runs through tsx; the service's modules
+ * come from the same build (or src/) as the service the rest of the run measures.
  */
-export async function startAuditService(root: string, arm: AuditArm): Promise<ChildServer> {
-  return startWithDataDir(root, `bench ${arm} service`, ['--import', 'tsx', join(root, 'bench', 'audit-service.ts'), arm], {
+export async function startAuditService(root: string, built: BuiltService, arm: AuditArm): Promise<ChildServer> {
+  const entry = join(root, 'bench', 'audit-service.ts');
+  return startWithDataDir(root, `bench ${arm} service`, ['--import', 'tsx', entry, arm, built.codeRoot], {
     O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: BENCH_FEEDBACK_QUOTA,
   });
 }

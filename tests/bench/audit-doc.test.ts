@@ -67,6 +67,7 @@ describe('auditVerdict', () => {
   });
 });
 
+// The 500 ms budget: CDS Hooks 2.0 §Providing FHIR Resources ("on the order of 500 ms").
 describe('audit tables', () => {
   it('print on / off, signed latency differences and the share of the 500 ms budget from the numbers given', () => {
     const table = auditLoadTable([pair('sign-a', [900, 12, 40], [1000, 10, 30]), pair('sign-b', [1000, 9, 25], [800, 10, 30])], BASELINE);
@@ -111,7 +112,7 @@ describe('audit findings', () => {
     expect(lines[0]).toContain('sign-a fell more than the 15 %');
     expect(lines[0]).not.toContain('sign-b fell');
     expect(lines[0]).toContain('slowed the hook call noticeably there');
-    // 300 ms is 60 % of 500 ms, above the half the section calls well inside.
+    // 300 ms is 60 % of the 500 ms budget (CDS Hooks 2.0), above the half the section calls well inside.
     expect(lines[1]).toContain('300 ms (sign-a), 60.0 % of the 500 ms CDS Hooks budget: not well inside it');
   });
 });
