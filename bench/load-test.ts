@@ -10,6 +10,12 @@ export interface LoadSpec {
   readonly url: string;
   readonly method: 'GET' | 'POST';
   readonly body?: string;
+  /**
+   * A fresh body for every request (autocannon's setupRequest), for calls the service must not see
+   * twice: a repeated hook call's cards are already on record, so its audit write inserts nothing.
+   * Built in the bench's own process, so keep it cheap; `body` is still sent by the check calls.
+   */
+  readonly makeBody?: () => string;
   readonly connections: number;
   readonly durationS: number;
   readonly warmupS: number;
@@ -36,6 +42,7 @@ const MAX_REQUESTS_PER_RUN = 1_000_000;
 const WATCHDOG_SLACK_S = 15;
 
 function fire(spec: LoadSpec, durationS: number): Promise<autocannon.Result> {
+  const makeBody = spec.makeBody ?? ((): string => spec.body ?? '');
   return new Promise((resolve, reject) => {
     const options: autocannon.Options = {
       url: spec.url,
@@ -47,6 +54,12 @@ function fire(spec: LoadSpec, durationS: number): Promise<autocannon.Result> {
       ...(spec.body === undefined
         ? {}
         : { body: spec.body, headers: { 'content-type': 'application/json' } }),
+      ...(spec.makeBody === undefined
+        ? {}
+        : {
+            headers: { 'content-type': 'application/json' },
+            requests: [{ setupRequest: (request: autocannon.Request) => ({ ...request, body: makeBody() }) }],
+          }),
     };
     const instance = autocannon(options, (error, result) => {
       clearTimeout(watchdog);

@@ -8,6 +8,66 @@ import {
   type RunReport,
 } from './report.js';
 import { dominantAreas, profileSection } from './profile-report.js';
+import {
+  BUDGET_SHARE_WELL_INSIDE,
+  auditFindings,
+  auditLoadTable,
+  auditMicroFinding,
+  auditMicroTable,
+  feedbackTable,
+} from './audit-report.js';
+import type { AuditReport } from './report.js';
+
+/**
+ * The audit trail's section: how to read it, then the figures. "Noticeably" (the requirement's word) is
+ * given a meaning here: the audit-on / audit-off throughput ratio within the run-to-run noise, and p99
+ * with the audit on well inside the CDS Hooks budget.
+ */
+export function renderAuditSection(audit: AuditReport | undefined, baselineReqPerSec: number, micro: RunReport['micro']): string {
+  if (audit === undefined) {
+    return '### Audit trail\n\nNot measured in this run.';
+  }
+  return `### Audit trail
+
+Every card a hook call returns is committed to the audit trail (SQLite, WAL, \`synchronous = FULL\`:
+one fsync a call) before the answer goes out, and it must not slow the hook call noticeably. Here
+that means two things, both read from this one run: the throughput with the audit on
+is within ±${NOISE_PERCENT} % (the run-to-run noise of these machines) of the throughput with it off, i.e.
+"on / off req/s" between ${(1 - NOISE_PERCENT / 100).toFixed(2)} × and ${(1 + NOISE_PERCENT / 100).toFixed(2)} ×; and p99 with the audit on stays well
+inside the ${CDS_HOOKS_BUDGET_MS} ms CDS Hooks budget (at most ${(100 * BUDGET_SHARE_WELL_INSIDE).toFixed(0)} % of it).
+
+- **Audit on / audit off.** Two processes of \`bench/audit-service.ts\`, a bench-only entry that builds
+  the service's app as \`src/server.ts\` does in demo mode; one uses the store as shipped, the other
+  the same store with \`recordAdvisories\` made a no-op. Nothing in the shipped service can turn the
+  audit trail off. Both load the service's modules from the same build as the rest of the run (only the
+  entry file goes through tsx), each with a new data directory, and take turns on each
+  order-sign case (on first, then off first), so drift over the run falls on both. Before the loads the
+  bench checks that both answer the same cards, that the audit-on process records them and that the
+  audit-off process does not.
+- **A fresh hookInstance on every call.** A card's uuid is derived from the hookInstance, and a card
+  already on record is skipped, so resending one body would time an audit write that inserts nothing.
+  These loads give every call a new hookInstance (the rows in the HTTP table above resend one body, so
+  after the first call their audit write inserts nothing). The bench makes the new bodies in its own
+  process, for both arms alike.
+- **Feedback.** \`POST /cds-services/{id}/feedback\` on the audit-on process, one item a call, each a
+  new record (its own outcome time) on one of the cards the service issued and recorded just before,
+  so each call is one committed transaction. The bench raises \`O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY\`
+  for these processes so the load measures the commit, not the daily quota's refusal. "× baseline" is
+  to the run's \`GET /healthz\` baseline, as in the table above.
+- **In process.** \`store.recordAdvisories\` with one call's records for the example (fresh card
+  uuids each time) on a store in a new temporary folder, opened as the service opens it, beside the
+  example's \`evaluateHook\` median from the pure-pipeline table.
+
+${auditLoadTable(audit.http.pairs, baselineReqPerSec)}
+
+${feedbackTable(audit.http.feedback, baselineReqPerSec)}
+
+${auditFindings(audit, baselineReqPerSec).map((line) => `- ${line}`).join('\n')}
+
+${auditMicroTable(audit.micro, micro)}
+
+- ${auditMicroFinding(audit.micro, micro)}`;
+}
 
 /** docs/performance.md, written whole from one run (`npm run bench -- --write-doc`). */
 export function renderPerformanceDoc(report: RunReport): string {
@@ -23,7 +83,8 @@ Do not edit the numbers by hand: run the bench again.
 
 - \`npm run bench\` builds the service into a private temporary folder (as \`npm start\` does), starts
   it on 127.0.0.1 at a free port in demo mode with \`LOG_LEVEL=warn\`, loads it with autocannon, runs
-  the in-process micro-benchmark and two short CPU profiles, prints the tables, and stops every
+  the audit trail's comparison (audit on against audit off, and the feedback route), the in-process
+  micro-benchmarks and two short CPU profiles, prints the tables, and stops every
   process it started. It takes a few minutes. It is not part of \`npm test\`.
 - Options (after \`--\`): \`--write-doc\` rewrites this page; \`--quick\` makes short runs to check that
   the bench works (not for this page); \`--runner tsx\` runs \`src/server.ts\` through tsx instead of
@@ -74,7 +135,9 @@ pauses reach.
 
 ${microTable(report.micro)}
 
-- ${microFinding(report.micro)}`);
+- ${microFinding(report.micro)}
+
+${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}`);
 
   const profiles: string[] = ['### What dominates', ''];
   if (report.serviceProfile === undefined && report.microProfile === undefined) {

@@ -1,5 +1,7 @@
 import type { ProfileSummary } from './cpu-profile.js';
 import type { LoadResult } from './load-test.js';
+import type { AuditMeasurements } from './audit-cases.js';
+import type { AuditMicroResult } from './audit-micro.js';
 import type { MicroResult } from './micro.js';
 
 /**
@@ -69,12 +71,19 @@ export interface RunReport {
   readonly serviceProfile: ProfileSummary | undefined;
   readonly microProfile: ProfileSummary | undefined;
   readonly profiledExample: string | undefined;
+  /** The audit trail's cost (bench/audit-cases.ts, bench/audit-micro.ts); absent from older runs. */
+  readonly audit?: AuditReport;
+}
+
+export interface AuditReport {
+  readonly http: Omit<AuditMeasurements, 'problems'>;
+  readonly micro: readonly AuditMicroResult[];
 }
 
 export const whole = (value: number): string => Math.round(value).toLocaleString('en-GB');
 export const fixed = (value: number, digits: number): string => value.toFixed(digits);
-const ratio = (value: number): string => `${value >= 10 ? fixed(value, 1) : fixed(value, 2)} ×`;
-const micros = (value: number): string => (value >= 100 ? whole(value) : fixed(value, 1));
+export const ratio = (value: number): string => `${value >= 10 ? fixed(value, 1) : fixed(value, 2)} ×`;
+export const micros = (value: number): string => (value >= 100 ? whole(value) : fixed(value, 1));
 
 export function markdownTable(header: readonly string[], rows: readonly (readonly string[])[]): string {
   const line = (cells: readonly string[]): string => `| ${cells.join(' | ')} |`;

@@ -4,6 +4,9 @@ import { availableParallelism, cpus, loadavg, platform, release, tmpdir } from '
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { fileURLToPath } from 'node:url';
+import { measureAudit } from './audit-cases.js';
+import { runAuditMicro, type AuditMicroResult } from './audit-micro.js';
+import { auditFindings, auditLoadTable, auditMicroFinding, auditMicroTable, feedbackTable } from './audit-report.js';
 import { selectExamples } from './cases.js';
 import { killAllChildServers } from './child-server.js';
 import { measureHttp } from './http-cases.js';
@@ -12,7 +15,7 @@ import { BENCH_USAGE, parseBenchOptions, type BenchOptions } from './options.js'
 import { renderPerformanceDoc } from './performance-doc.js';
 import { profileMicro, profileService } from './profiles.js';
 import { dominantAreas, profileSection } from './profile-report.js';
-import { findings, loadTable, microFinding, microTable, type Machine, type RunReport } from './report.js';
+import { findings, loadTable, microFinding, microTable, type AuditReport, type Machine, type RunReport } from './report.js';
 import { prepareService } from './service-process.js';
 
 /**
@@ -68,6 +71,7 @@ async function runBench(options: BenchOptions): Promise<number> {
   const buildS = options.runner === 'dist' ? (performance.now() - buildStart) / 1000 : undefined;
 
   const http = await measureHttp({ root: ROOT, built, examples, options, scratch, progress });
+  const audit = await measureAudit({ root: ROOT, built, examples, options, scratch, progress });
 
   progress('micro-benchmark of the pure pipeline');
   const files = await loadBundledFiles();
@@ -80,6 +84,19 @@ async function runBench(options: BenchOptions): Promise<number> {
         rounds: 4,
         warmupIterations: Math.min(200, options.microIterations),
         maxMsPerLoop: 15_000,
+      }),
+    );
+  }
+
+  progress('micro-benchmark of the audit write (store.recordAdvisories)');
+  const auditMicro: AuditMicroResult[] = [];
+  for (const example of examples.sign) {
+    auditMicro.push(
+      await runAuditMicro(example, files, microNow, scratch, {
+        // One fsync a call: a few hundred calls give a steady median without minutes of disk work.
+        iterations: Math.min(options.microIterations, 500),
+        warmupIterations: Math.min(20, options.microIterations),
+        maxMsPerLoop: 10_000,
       }),
     );
   }
@@ -103,6 +120,10 @@ async function runBench(options: BenchOptions): Promise<number> {
     }
   }
 
+  const auditReport: AuditReport = {
+    http: { pairs: audit.pairs, feedback: audit.feedback, feedbackCards: audit.feedbackCards },
+    micro: auditMicro,
+  };
   const report: RunReport = {
     machine: { ...machine, loadAverageEnd: loadavg() },
     settings: {
@@ -121,7 +142,9 @@ async function runBench(options: BenchOptions): Promise<number> {
     serviceProfile,
     microProfile,
     profiledExample: options.profile ? examples.largestSign.name : undefined,
+    audit: auditReport,
   };
+  const problems = [...http.problems, ...audit.problems];
 
   const out: string[] = [
     `${machine.date}, node ${machine.node}, ${machine.cpus} CPUs, runner ${options.runner}, commit ${machine.commit}` +
@@ -134,6 +157,16 @@ async function runBench(options: BenchOptions): Promise<number> {
     microTable(micro),
     '',
     `- ${microFinding(micro)}`,
+    '',
+    auditLoadTable(audit.pairs, http.baseline.meanReqPerSec),
+    '',
+    feedbackTable(audit.feedback, http.baseline.meanReqPerSec),
+    '',
+    ...auditFindings(auditReport, http.baseline.meanReqPerSec).map((line) => `- ${line}`),
+    '',
+    auditMicroTable(auditMicro, micro),
+    '',
+    `- ${auditMicroFinding(auditMicro, micro)}`,
   ];
   if (serviceProfile !== undefined) {
     out.push('', profileSection('Service under load', serviceProfile), '', `- ${dominantAreas(serviceProfile)}`);
@@ -146,8 +179,8 @@ async function runBench(options: BenchOptions): Promise<number> {
     progress(note);
   }
 
-  if (http.problems.length > 0) {
-    progress(`the run is not usable:\n  ${http.problems.join('\n  ')}`);
+  if (problems.length > 0) {
+    progress(`the run is not usable:\n  ${problems.join('\n  ')}`);
     if (options.writeDoc) {
       progress('docs/performance.md was not rewritten');
     }

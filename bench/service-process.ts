@@ -2,6 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, sep } from 'node:path';
+import type { AuditArm } from './audit-off-store.js';
 import { startChildServer, waitForOk, type ChildServer } from './child-server.js';
 
 /**
@@ -82,11 +83,39 @@ export async function startService(
   built: BuiltService,
   extraNodeArgs: readonly string[] = [],
 ): Promise<ChildServer> {
+  return startWithDataDir(root, 'oxygen-order-checker', [...extraNodeArgs, ...built.nodeArgs], {});
+}
+
+/**
+ * The feedback load sends thousands of items from one client in seconds: far past the daily quota
+ * (O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY) a real client has, which would answer 429. The audit services
+ * get the highest quota the setting takes, so the bench measures the commit, not the refusal.
+ */
+const BENCH_FEEDBACK_QUOTA = '10000000';
+
+/**
+ * bench/audit-service.ts in one arm (the store as shipped, or without the audit write), in demo
+ * mode, with its own fresh data directory. The entry itself runs through tsx; the service's modules
+ * come from the same build (or src/) as the service the rest of the run measures.
+ */
+export async function startAuditService(root: string, built: BuiltService, arm: AuditArm): Promise<ChildServer> {
+  const entry = join(root, 'bench', 'audit-service.ts');
+  return startWithDataDir(root, `bench ${arm} service`, ['--import', 'tsx', entry, arm, built.codeRoot], {
+    O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: BENCH_FEEDBACK_QUOTA,
+  });
+}
+
+async function startWithDataDir(
+  root: string,
+  name: string,
+  nodeArgs: readonly string[],
+  extraEnv: Readonly<Record<string, string>>,
+): Promise<ChildServer> {
   const dataDir = mkdtempSync(join(tmpdir(), 'o2check-bench-data-'));
   const started = await startChildServer({
-    name: 'oxygen-order-checker',
-    nodeArgs: [...extraNodeArgs, ...built.nodeArgs],
-    env: serviceEnv(root, dataDir),
+    name,
+    nodeArgs,
+    env: { ...serviceEnv(root, dataDir), ...extraEnv },
     cwd: root,
     startTimeoutMs: 30_000,
   });
