@@ -1,5 +1,5 @@
 import { isWithin } from '../assessment/current-values.js';
-import { formatFlow, formatNumber } from '../assessment/format.js';
+import { formatDuration, formatFlow, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { Policy } from '../policy.js';
@@ -8,7 +8,7 @@ import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
 import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
 import { patientSupportTier } from '../rules/support/support-tier.js';
 import type { Facts, OrderChange } from '../types.js';
-import { anyReadingBelow, latestReading, readingsInWindow, type TitrationReview } from './titration-review.js';
+import { anyReadingBelow, latestReading, longestGapMinutes, readingsInWindow, type TitrationReview } from './titration-review.js';
 
 /**
  * The next weaning step for the active order, and whether it may be offered as a one-click change.
@@ -37,7 +37,12 @@ export type StepDown =
       readonly fromFlowLPerMin: number;
     }
   | { readonly kind: 'stop'; readonly change: Extract<OrderChange, { kind: 'stop-oxygen' }>; readonly from: string }
-  | { readonly kind: 'none'; readonly blockedBy: string };
+  | {
+      readonly kind: 'none';
+      readonly blockedBy: string;
+      /** Set when the only bar is too few readings: the record cannot tell whether the patient is stable. */
+      readonly cannotTell?: { readonly longestGapMinutes: number };
+    };
 
 /** Venturi settings at or below this are low-concentration oxygen for stopping (BTS 2017 Table 4: 24 %). */
 const LOWEST_VENTURI_FIO2 = 0.24;
@@ -101,7 +106,35 @@ function lastReadingsNotBelow(review: TitrationReview, count: number): boolean {
   return last.length >= count && last.every((m) => m.value >= review.range.lowPercent);
 }
 
+/**
+ * The next step, held back when the readings of the window are too far apart to show a stable course:
+ * a gap longer than the time a reading stands for (`titrationReview.maxReadingHoldMinutes`) means two
+ * readings hours apart are not "two consecutive observations in range" (BTS 2017 weaning, from memory),
+ * and what happened between them is not known. That is a "can't tell", said on the card, not a step.
+ */
 export function planStepDown(input: {
+  readonly review: TitrationReview;
+  readonly assessment: Assessment;
+  readonly facts: Facts;
+  readonly policy: Policy;
+  readonly now: Date;
+}): StepDown {
+  const step = nextStep(input);
+  if (step.kind === 'none') {
+    return step;
+  }
+  const gap = longestGapMinutes(input.review);
+  if (gap > input.policy.titrationReview.maxReadingHoldMinutes) {
+    return {
+      kind: 'none',
+      blockedBy: `the SpO2 readings are too far apart to tell whether the patient is stable (a gap of ${formatDuration(gap)})`,
+      cannotTell: { longestGapMinutes: gap },
+    };
+  }
+  return step;
+}
+
+function nextStep(input: {
   readonly review: TitrationReview;
   readonly assessment: Assessment;
   readonly facts: Facts;

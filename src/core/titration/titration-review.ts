@@ -100,6 +100,22 @@ export function latestReading(review: TitrationReview): Measured | undefined {
   return review.readings[review.readings.length - 1];
 }
 
+/**
+ * The longest time between two consecutive SpO2 readings of the window, in minutes (0 with fewer than
+ * two). Longer than `titrationReview.maxReadingHoldMinutes`, the readings on either side are not
+ * consecutive observations of one stable course: nothing was seen in between.
+ */
+export function longestGapMinutes(review: TitrationReview): number {
+  let longestMs = 0;
+  for (let i = 1; i < review.readings.length; i += 1) {
+    const gapMs = Date.parse(review.readings[i]?.at ?? '') - Date.parse(review.readings[i - 1]?.at ?? '');
+    if (Number.isFinite(gapMs) && gapMs > longestMs) {
+      longestMs = gapMs;
+    }
+  }
+  return longestMs / 60_000;
+}
+
 /** Whether any reading in the window is below the range. */
 export function anyReadingBelow(review: TitrationReview): boolean {
   return review.readings.some((m) => m.value < review.range.lowPercent);

@@ -75,6 +75,35 @@ describe('ready-to-step-down', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
   });
 
+  describe('says it cannot tell when the readings are hours apart', () => {
+    // BTS 2017 (from memory): stop after two consecutive observations in range in a stable patient.
+    // Two readings 5 h 50 min apart are not consecutive observations of a stable course: a reading
+    // stands for at most 120 min (titrationReview.maxReadingHoldMinutes, local choice).
+    it.each([
+      ['stop from 2 L/min', 2],
+      ['3 → 2 L/min', 3],
+    ])('%s: no change offered, the gap named', (_label, flow) => {
+      const facts = reviewFacts({ order: { flowLPerMin: flow }, spo2: [[96, 360], [97, 10]], flows: steady(flow, [360, 10]) });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.indicator).toBe('info');
+      expect(finding.change).toBeUndefined();
+      const card = expectCardRenders(finding);
+      expect(card.summary).toBe('Too few SpO2 readings to tell if stable in target 94–98 % (readings 5 h 50 min apart): record SpO2 before a step down');
+      expect(card.label).toBeUndefined();
+    });
+
+    it('a gap of exactly the hold cap still counts as consecutive', () => {
+      // 120 min apart = maxReadingHoldMinutes (local choice): the readings meet, nothing unobserved between.
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 250], [96, 130], [97, 10]], flows: steady(2, [250, 130, 10]) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toStrictEqual({ kind: 'stop-oxygen' });
+    });
+
+    it('a gap 1 min over the cap holds the step back', () => {
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 251], [96, 130], [97, 10]], flows: steady(2, [251, 130, 10]) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toBeUndefined();
+    });
+  });
+
   describe('stays quiet', () => {
     it('when any reading in the window was below the range', () => {
       // 93 % < 94 % (BTS 2017 Tables 1-3) 4 h ago: not stable over the window.
