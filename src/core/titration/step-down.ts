@@ -8,6 +8,7 @@ import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
 import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
 import { patientSupportTier } from '../rules/support/support-tier.js';
 import type { Facts, OrderChange } from '../types.js';
+import { deviceStepAdvice, hypercapnicAcidosisAdvice } from './step-advice.js';
 import { anyReadingBelow, latestReading, longestGapMinutes, readingsInWindow, type TitrationReview } from './titration-review.js';
 
 /**
@@ -42,7 +43,11 @@ export type StepDown =
       readonly blockedBy: string;
       /** Set when the only bar is too few readings: the record cannot tell whether the patient is stable. */
       readonly cannotTell?: { readonly longestGapMinutes: number };
+      /** The next step in bedside words, where the bar is the device or a hypercapnic acidosis. */
+      readonly bedside?: string;
     };
+
+const ESCALATED_SUPPORT = 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
 
 /** Venturi settings at or below this are low-concentration oxygen for stopping (BTS 2017 Table 4: 24 %). */
 const LOWEST_VENTURI_FIO2 = 0.24;
@@ -76,7 +81,7 @@ export function reasonNotToStepDown(input: {
   }
   const tier = patientSupportTier(facts, order, policy, now);
   if (tier !== undefined && tier !== 'conventional-oxygen') {
-    return 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
+    return ESCALATED_SUPPORT;
   }
   const { oxygenNeedTrendMinutes, spo2FallPoints } = policy.thresholds;
   const window = Math.max(oxygenNeedTrendMinutes, review.lookbackMinutes);
@@ -143,9 +148,12 @@ function nextStep(input: {
 }): StepDown {
   const blockedBy = reasonNotToStepDown(input);
   if (blockedBy !== undefined) {
-    return { kind: 'none', blockedBy };
+    const bedside = hypercapnicAcidosisAdvice(input.assessment) ?? (blockedBy === ESCALATED_SUPPORT ? deviceStepAdvice(input.review.order) : undefined);
+    return { kind: 'none', blockedBy, ...(bedside === undefined ? {} : { bedside }) };
   }
   const { review, assessment, facts, policy, now } = input;
+  const deviceAdvice = deviceStepAdvice(review.order);
+  const onDevice = (why: string): StepDown => ({ kind: 'none', blockedBy: why, ...(deviceAdvice === undefined ? {} : { bedside: deviceAdvice }) });
   const order = review.order;
   const settings = policy.titrationReview;
   const atRisk = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';
@@ -156,14 +164,19 @@ function nextStep(input: {
     if (fio2 !== undefined && fio2 <= LOWEST_VENTURI_FIO2 && enoughToStop) {
       return { kind: 'stop', change: { kind: 'stop-oxygen' }, from: 'a 24 % Venturi mask' };
     }
-    return { kind: 'none', blockedBy: 'a Venturi mask is stepped down by changing its setting, which is left to the team' };
+    return onDevice('a Venturi mask is stepped down by changing its setting, which is left to the team');
   }
   if (order.device !== 'nasal-cannula') {
-    return { kind: 'none', blockedBy: 'a one-click step is offered only on a nasal cannula or a 24 % Venturi mask' };
+    return onDevice('a change of device is left to the team');
   }
   const flow = runningFlow(review, facts, now);
   if (flow === undefined) {
     return { kind: 'none', blockedBy: 'the flow running is not known' };
+  }
+  const cannulaRange = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin;
+  // Above the cannula's range (BTS 2017 Tables 2 and 4: 1-6 L/min) a step of one would still be out of it.
+  if (flow > cannulaRange.max) {
+    return onDevice(`the cannula runs above its ${formatNumber(cannulaRange.min, 0)}–${formatNumber(cannulaRange.max, 0)} L/min range`);
   }
   if (flow <= stopFrom) {
     return enoughToStop
@@ -173,7 +186,6 @@ function nextStep(input: {
           blockedBy: `fewer than ${String(settings.stopAfterReadingsInRange)} consecutive readings in the range before stopping`,
         };
   }
-  const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
-  const next = Math.max(stopFrom, minimum, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
+  const next = Math.max(stopFrom, cannulaRange.min, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
   return { kind: 'lower-flow', change: { kind: 'set-flow', flowLPerMin: next }, fromFlowLPerMin: flow };
 }

@@ -26,7 +26,10 @@ export function describeStep(step: StepDown): {
       };
     case 'none':
       return {
-        advice: `Consider lowering the oxygen by one step (no one-click change: ${step.blockedBy})`,
+        advice:
+          step.bedside === undefined
+            ? `Consider lowering the oxygen by one step (no one-click change: ${step.blockedBy})`
+            : `${step.bedside} (no one-click change: ${step.blockedBy})`,
         label: undefined,
         headline: 'consider a step down',
       };

@@ -126,7 +126,7 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
     }),
     expect: [
       fires('time-above-target-on-oxygen', 'info', 'BTS 2017: lower the oxygen above the target range; BMJ 2018: SpO2 <= 96 %'),
-      says('time-above-target-on-oxygen', /FiO2/, 'common practice: on high flow the FiO2 is lowered first, the flow later'),
+      says('time-above-target-on-oxygen', /lowering the FiO2 first/, 'common practice: on high flow the FiO2 is lowered first, the flow later'),
       noLessOxygen('common practice: no one-click step to a lower tier of support'),
       neverSays(/stop(ping)? the oxygen/i, 'common practice: high flow is weaned, never stopped in one step'),
     ],
@@ -240,7 +240,9 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
     expect: [
       silent('ready-to-step-down', SRC.btsIcs),
       noLessOxygen(`${SRC.btsIcs}; no one-click change while acidotic`),
-      neverSays(/stop(ping)? the oxygen/i, 'BTS 2017 (from memory): never stop oxygen abruptly in hypercapnia (rebound hypoxaemia)'),
+      neverSays(/(?<!not )stop(ping)? the oxygen/i, 'BTS 2017 (from memory): never stop oxygen abruptly in hypercapnia (rebound hypoxaemia)'),
+      says('time-above-target-on-oxygen', /Do not stop the oxygen/, 'BTS 2017 (from memory): never stop oxygen abruptly in hypercapnia (rebound hypoxaemia)'),
+      says('time-above-target-on-oxygen', /consider NIV/, SRC.btsIcs),
     ],
   }),
   scenario({
@@ -278,6 +280,42 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       says('ready-to-step-down', /Lower the flow to 5 L\/min/, 'common practice: 1 L/min a step (policy thresholds.nasalCannulaStepDownLPerMin)'),
       neverSays(/stop(ping)? the oxygen/i, SRC.btsWean),
       noMoreOxygen(SRC.btsWean),
+    ],
+  }),
+  scenario({
+    id: 'pv-class-venturi-35-above-range-next-setting',
+    story: 'Pneumonia on 35 % Venturi at 8 L/min, 94-98 %, SpO2 99-100 % for 5 h: the next lower setting, not air',
+    pov: 'respiratory therapist', topic, hook: 'patient-view', age: 64,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(serviceOrder('Oxygen via Venturi 35% at 8 L/min, target SpO2 94-98%'), DAY),
+        c.pneumonia(),
+        onFio2(35, [99, 100, 99, 100, 99, 100], hours(5, 4, 3, 2, 1, 0.2)),
+      ],
+    }),
+    expect: [
+      fires('time-above-target-on-oxygen', 'info', 'BTS 2017: lower the oxygen above the target range; BMJ 2018: SpO2 <= 96 %'),
+      says('time-above-target-on-oxygen', /next lower Venturi setting, 31 % at 6 L\/min/, SRC.venturiMin),
+      neverSays(/(?<!not )stop(ping)? the oxygen/i, 'common practice: a Venturi is stepped down by setting, one at a time'),
+    ],
+  }),
+  scenario({
+    id: 'pv-class-cannula-8l-above-range',
+    story: 'Nasal cannulae charted at 8 L/min, 94-98 %, SpO2 99 % for 5 h: no step to 7 L/min on a cannula',
+    pov: 'respiratory therapist', topic, hook: 'patient-view', age: 70,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(serviceOrder('Oxygen 8 L/min via nasal cannulae. Target SpO2 94-98%'), DAY),
+        c.pneumonia(),
+        onFlow(8, [99, 99, 99, 99, 99, 99], hours(5, 4, 3, 2, 1, 0.2)),
+      ],
+    }),
+    expect: [
+      fires('time-above-target-on-oxygen', 'info', 'BTS 2017: lower the oxygen above the target range'),
+      neverSays(/Lower the flow to 7 L\/min/, SRC.cannula),
+      says('time-above-target-on-oxygen', /1–6 L\/min/, SRC.cannula),
     ],
   }),
 ];
