@@ -1,6 +1,6 @@
 import * as c from '../support/clinical.js';
 import { SRC } from '../support/clinical.js';
-import { bloodGas, deviceOrder, fio2Percent, onRecord, serviceOrder, spo2, spo2OnFlow } from '../support/fhir.js';
+import { bloodGas, deviceOrder, fio2Percent, medicationOrder, onRecord, serviceOrder, spo2, spo2OnFlow } from '../support/fhir.js';
 import {
   fires,
   neverSays,
@@ -10,6 +10,7 @@ import {
   scenario,
   silent,
   suggestionsKeep,
+  suggestionsLose,
   type Scenario,
 } from '../support/scenario.js';
 
@@ -261,6 +262,8 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       fires('ready-to-step-down', 'info', SRC.btsWean),
       says('ready-to-step-down', /SpO2 on air/, STOP_ON_AIR),
       suggestionsKeep('Target SpO2 94-98%', 'common practice: a stopped order keeps its target range on record'),
+      suggestionsKeep('"status":"completed"', 'FHIR R4 ServiceRequest status (from memory): completed, the therapy done'),
+      suggestionsKeep('check SpO2 on air', STOP_ON_AIR),
     ],
   }),
   scenario({
@@ -316,6 +319,27 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       fires('time-above-target-on-oxygen', 'info', 'BTS 2017: lower the oxygen above the target range'),
       neverSays(/Lower the flow to 7 L\/min/, SRC.cannula),
       says('time-above-target-on-oxygen', /1–6 L\/min/, SRC.cannula),
+    ],
+  }),
+  scenario({
+    id: 'pv-class-pharmacist-medication-request-lower-flow',
+    story: 'MedicationRequest 3 L/min nasal cannula, 94-98 %, SpO2 95-96 % for 6 h: the lowered order stays a valid prescription',
+    pov: 'pharmacist', topic, benign: true, hook: 'patient-view', age: 67,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(medicationOrder('Oxygen 3 L/min via nasal cannula, target SpO2 94-98%', { method: 'nasal cannula', flowLPerMin: 3 }), 2 * DAY),
+        c.pneumonia(),
+        onFlow(3, [95, 96, 95, 96, 95, 96], hours(5, 4, 3, 2, 1, 0.2)),
+      ],
+    }),
+    expect: [
+      fires('ready-to-step-down', 'info', SRC.btsWean),
+      suggestionsKeep('target SpO2 94-98%', `${SRC.btsRange}; the range stays on the lowered order`),
+      suggestionsKeep('"status":"active"', 'common practice: a lowered flow is the same running prescription'),
+      suggestionsKeep('"method":{"text":"nasal cannula"}', SRC.cdsOnly),
+      suggestionsLose('3 L/min', 'common practice: no stale flow left in the words of a changed order'),
+      noMoreOxygen(SRC.btsWean),
     ],
   }),
 ];
