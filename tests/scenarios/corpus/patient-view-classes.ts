@@ -239,6 +239,7 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       ],
     }),
     expect: [
+      fires('acute-hypercapnic-acidosis', 'critical', SRC.btsIcs),
       silent('ready-to-step-down', SRC.btsIcs),
       noLessOxygen(`${SRC.btsIcs}; no one-click change while acidotic`),
       neverSays(/(?<!not )stop(ping)? the oxygen/i, 'BTS 2017 (from memory): never stop oxygen abruptly in hypercapnia (rebound hypoxaemia)'),
@@ -340,6 +341,25 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       suggestionsKeep('"method":{"text":"nasal cannula"}', SRC.cdsOnly),
       suggestionsLose('3 L/min', 'common practice: no stale flow left in the words of a changed order'),
       noMoreOxygen(SRC.btsWean),
+    ],
+  }),
+  scenario({
+    id: 'pv-class-hypercapnic-acidosis-in-range',
+    story: 'COPD on 28 % Venturi, 88-92 %, SpO2 89-91 % for 5 h; gas 40 min ago pH 7.30, PaCO2 7.9 kPa: the acidosis is said on opening the record',
+    pov: 'ward doctor', topic, hook: 'patient-view', age: 76,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(serviceOrder('Oxygen via Venturi 28% at 4 L/min, target SpO2 88-92%'), DAY),
+        c.copd(),
+        onFio2(28, [90, 89, 91, 90, 90, 91], hours(5, 4, 3, 2, 1, 0.2)),
+        bloodGas({ ph: 7.3, pco2: 7.9, po2: 8.1, hco3: 31, minutesAgo: 40 }),
+      ],
+    }),
+    expect: [
+      fires('acute-hypercapnic-acidosis', 'critical', SRC.btsIcs),
+      silent('ready-to-step-down', SRC.btsIcs),
+      noLessOxygen(`${SRC.btsIcs}; no one-click change while acidotic`),
     ],
   }),
 ];
