@@ -19,7 +19,7 @@ import type { Rule } from './support/rule-types.js';
  * or, from `titrationReview.stopFromFlowLPerMin` (2 L/min; 1 L/min with hypercapnic risk) or a 24 %
  * Venturi with the last `titrationReview.stopAfterReadingsInRange` readings in or above the range,
  * stopping the oxygen. Quiet when time-above-target-on-oxygen speaks (that card offers the step).
- * When the only bar to the step is readings further apart than `titrationReview.maxReadingHoldMinutes`,
+ * When the only bar to the step is newest readings further apart than `titrationReview.maxReadingHoldMinutes`,
  * it says the record cannot tell whether the patient is stable and offers no change.
  *
  * Rationale: BTS 2017 (from memory of its weaning section): oxygen is a treatment to be reduced in
@@ -56,7 +56,7 @@ export const rule: Rule = {
     }
     const words = describeStep(step);
     // Readings hours apart: say the record cannot tell, and offer no step (a "can't tell" value).
-    const gap = step.kind === 'none' ? step.cannotTell?.longestGapMinutes : undefined;
+    const gap = step.kind === 'none' ? step.cannotTell?.gapMinutes : undefined;
     const status =
       gap === undefined
         ? `Stable in or above target ${formatRange(review.range)} for ${formatDuration(t.observedMinutes)} observed`

@@ -9,7 +9,7 @@ import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend
 import { patientSupportTier } from '../rules/support/support-tier.js';
 import type { Facts, OrderChange } from '../types.js';
 import { deviceStepAdvice, hypercapnicAcidosisAdvice } from './step-advice.js';
-import { anyReadingBelow, latestReading, longestGapMinutes, readingsInWindow, type TitrationReview } from './titration-review.js';
+import { anyReadingBelow, latestReading, gapBreakingRecentRun, readingsInWindow, type TitrationReview } from './titration-review.js';
 
 /**
  * The next weaning step for the active order, and whether it may be offered as a one-click change.
@@ -42,7 +42,7 @@ export type StepDown =
       readonly kind: 'none';
       readonly blockedBy: string;
       /** Set when the only bar is too few readings: the record cannot tell whether the patient is stable. */
-      readonly cannotTell?: { readonly longestGapMinutes: number };
+      readonly cannotTell?: { readonly gapMinutes: number };
       /** The next step in bedside words, where the bar is the device or a hypercapnic acidosis. */
       readonly bedside?: string;
     };
@@ -112,10 +112,11 @@ function lastReadingsNotBelow(review: TitrationReview, count: number): boolean {
 }
 
 /**
- * The next step, held back when the readings of the window are too far apart to show a stable course:
- * a gap longer than the time a reading stands for (`titrationReview.maxReadingHoldMinutes`) means two
- * readings hours apart are not "two consecutive observations in range" (BTS 2017 weaning, from memory),
- * and what happened between them is not known. That is a "can't tell", said on the card, not a step.
+ * The next step, held back when the newest readings are too far apart to show a stable course: a gap
+ * longer than the time a reading stands for (`titrationReview.maxReadingHoldMinutes`) before the recent
+ * run holds `stopAfterReadingsInRange` readings over `minObservedMinutes` means two readings hours apart
+ * are not "two consecutive observations in range" (BTS 2017 weaning, from memory), and what happened
+ * between them is not known. That is a "can't tell", said on the card, not a step.
  */
 export function planStepDown(input: {
   readonly review: TitrationReview;
@@ -128,12 +129,17 @@ export function planStepDown(input: {
   if (step.kind === 'none') {
     return step;
   }
-  const gap = longestGapMinutes(input.review);
-  if (gap > input.policy.titrationReview.maxReadingHoldMinutes) {
+  const settings = input.policy.titrationReview;
+  const gap = gapBreakingRecentRun(input.review, {
+    maxGapMinutes: settings.maxReadingHoldMinutes,
+    minSpanMinutes: settings.minObservedMinutes,
+    minReadings: settings.stopAfterReadingsInRange,
+  });
+  if (gap !== undefined) {
     return {
       kind: 'none',
       blockedBy: `the SpO2 readings are too far apart to tell whether the patient is stable (a gap of ${formatDuration(gap)})`,
-      cannotTell: { longestGapMinutes: gap },
+      cannotTell: { gapMinutes: gap },
     };
   }
   return step;

@@ -94,12 +94,21 @@ describe('ready-to-step-down', () => {
 
     it('a gap of exactly the hold cap still counts as consecutive', () => {
       // 120 min apart = maxReadingHoldMinutes (local choice): the readings meet, nothing unobserved between.
-      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 250], [96, 130], [97, 10]], flows: steady(2, [250, 130, 10]) });
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 130], [97, 10]], flows: steady(2, [130, 10]) });
       expect(onlyFinding(runRule(rule, facts, view)).change).toStrictEqual({ kind: 'stop-oxygen' });
     });
 
+    it('an early gap behind a recent run of readings does not hold the step back', () => {
+      // 420 → 240 min ago is 180 min (> 120), but the newest four readings, hourly from 180 min ago,
+      // span 170 min (>= minObservedMinutes 120, local choice): consecutive observations now.
+      const ages = [420, 240, 180, 120, 60, 10];
+      const facts = reviewFacts({ order: { flowLPerMin: 3 }, spo2: steady(96, ages), flows: steady(3, ages) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+    });
+
     it('a gap 1 min over the cap holds the step back', () => {
-      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 251], [96, 130], [97, 10]], flows: steady(2, [251, 130, 10]) });
+      // 131 → 10 min ago is 121 min apart; observed 120 + 10 = 130 min (>= 120), two readings.
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 131], [97, 10]], flows: steady(2, [131, 10]) });
       expect(onlyFinding(runRule(rule, facts, view)).change).toBeUndefined();
     });
   });
