@@ -98,7 +98,7 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
   scenario({
     id: 'pv-class-high-flow-fio2-05-in-range',
     story: 'High-flow nasal oxygen 50 L/min FiO2 0.50, 94-98 %, SpO2 95-97 % for 6 h: weaning is the team\'s',
-    pov: 'respiratory therapist', topic, hook: 'patient-view', age: 57,
+    pov: 'respiratory therapist', topic, benign: true, hook: 'patient-view', age: 57,
     build: () => ({
       drafts: [],
       record: [
@@ -360,6 +360,27 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       fires('acute-hypercapnic-acidosis', 'critical', SRC.btsIcs),
       silent('ready-to-step-down', SRC.btsIcs),
       noLessOxygen(`${SRC.btsIcs}; no one-click change while acidotic`),
+    ],
+  }),
+  scenario({
+    id: 'pv-class-pharmacist-device-request-lower-flow',
+    story: 'DeviceRequest nasal cannula 3 L/min with the target in a note, SpO2 95-96 % for 6 h: the lowered order keeps device, note and status',
+    pov: 'pharmacist', topic, benign: true, hook: 'patient-view', age: 58,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(deviceOrder('Nasal cannula', { flowLPerMin: 3, note: 'Target SpO2 94-98%' }), 2 * DAY),
+        c.pneumonia(),
+        onFlow(3, [95, 96, 95, 96, 95, 96], hours(5, 4, 3, 2, 1, 0.2)),
+      ],
+    }),
+    expect: [
+      fires('ready-to-step-down', 'info', SRC.btsWean),
+      suggestionsKeep('Target SpO2 94-98%', `${SRC.btsRange}; the range stays on the lowered order`),
+      suggestionsKeep('"status":"active"', 'common practice: a lowered flow is the same running prescription'),
+      suggestionsKeep('"codeCodeableConcept":{"text":"Nasal cannula"}', SRC.cdsOnly),
+      suggestionsKeep('"valueQuantity":{"value":2,', 'common practice: the coded flow is the new flow'),
+      noMoreOxygen(SRC.btsWean),
     ],
   }),
 ];
