@@ -20,7 +20,8 @@ import type { Rule } from './support/rule-types.js';
  * Venturi with the last `titrationReview.stopAfterReadingsInRange` readings in or above the range,
  * stopping the oxygen. Quiet when time-above-target-on-oxygen speaks (that card offers the step).
  * When the only bar to the step is newest readings further apart than `titrationReview.maxReadingHoldMinutes`,
- * it says the record cannot tell whether the patient is stable and offers no change.
+ * it says the record cannot tell whether the patient is stable and offers no change. On an order that
+ * prescribes a flow range, a lower flow inside it is advised without a change to the prescription.
  *
  * Rationale: BTS 2017 (from memory of its weaning section): oxygen is a treatment to be reduced in
  * stable patients with satisfactory saturations; most stable convalescent patients are stepped down
@@ -51,7 +52,7 @@ export const rule: Rule = {
       return [];
     }
     const step = planStepDown({ review, assessment, facts, policy, now });
-    if (step.kind === 'none' && step.cannotTell === undefined) {
+    if (step.kind === 'none' && step.cannotTell === undefined && step.withinPrescription === undefined) {
       return [];
     }
     const words = describeStep(step);

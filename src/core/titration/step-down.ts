@@ -7,7 +7,7 @@ import { isTitration } from '../rules/support/order-purpose.js';
 import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
 import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
 import { patientSupportTier } from '../rules/support/support-tier.js';
-import type { Facts, OrderChange } from '../types.js';
+import type { Facts, OrderChange, OxygenOrder } from '../types.js';
 import { deviceStepAdvice, hypercapnicAcidosisAdvice } from './step-advice.js';
 import { anyReadingBelow, latestReading, gapBreakingRecentRun, readingsInWindow, type TitrationReview } from './titration-review.js';
 
@@ -45,6 +45,8 @@ export type StepDown =
       readonly cannotTell?: { readonly gapMinutes: number };
       /** The next step in bedside words, where the bar is the device or a hypercapnic acidosis. */
       readonly bedside?: string;
+      /** A lower flow inside a prescribed flow range: the nurse's titration, no change to the order. */
+      readonly withinPrescription?: { readonly flowLPerMin: number; readonly fromFlowLPerMin: number };
     };
 
 const ESCALATED_SUPPORT = 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
@@ -103,6 +105,14 @@ export function reasonNotToStepDown(input: {
 function runningFlow(review: TitrationReview, facts: Facts, now: Date): number | undefined {
   const recorded = readingsInWindow(facts.trendReadings.o2FlowLPerMin, now, review.lookbackMinutes);
   return recorded[recorded.length - 1]?.value ?? review.order.flowLPerMin;
+}
+
+/** Whether the order gives its flow as a range (read-order sets no flow and notes the range). */
+function prescribesFlowRange(order: OxygenOrder, facts: Facts): boolean {
+  return (
+    order.flowLPerMin === undefined &&
+    facts.setAside.some((note) => note.reference === order.reference && note.what === 'Ordered oxygen flow' && note.reason === 'unrecognised')
+  );
 }
 
 /** Whether the last `count` readings are all at or above the range's lower bound. */
@@ -193,5 +203,15 @@ function nextStep(input: {
         };
   }
   const next = Math.max(stopFrom, cannulaRange.min, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
+  if (prescribesFlowRange(review.order, facts)) {
+    // "2-6 L/min to keep SpO2 94-98 %": the step is the nurse's titration within the prescription. A
+    // one-click fixed flow would rewrite a valid range prescription and take away the room to go back
+    // up (common practice: titrate within the prescribed range; change the prescription to leave it).
+    return {
+      kind: 'none',
+      blockedBy: 'the order prescribes a flow range: a step inside it is a titration, not a new prescription',
+      withinPrescription: { flowLPerMin: next, fromFlowLPerMin: flow },
+    };
+  }
   return { kind: 'lower-flow', change: { kind: 'set-flow', flowLPerMin: next }, fromFlowLPerMin: flow };
 }

@@ -75,6 +75,32 @@ describe('ready-to-step-down', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
   });
 
+  it('advises a step inside a prescribed flow range without rewriting the prescription', () => {
+    // "2-6 L/min to keep SpO2 94-98 %" running at 3 L/min, SpO2 96 % (in range, BTS 2017 Tables 1-3):
+    // a lower flow inside the range is the nurse's titration (common practice), so no update is offered
+    // that would fix the flow at one value and lose the range.
+    const base = reviewFacts({ order: { flowLPerMin: undefined }, spo2: steady(96, AGES), flows: steady(3, AGES) });
+    const facts = {
+      ...base,
+      setAside: [
+        {
+          what: 'Ordered oxygen flow',
+          reason: 'unrecognised' as const,
+          detail: 'The flow is given as a range (2–6 L/min), not one setting, so no flow was read.',
+          reference: 'MedicationRequest/lb-o2-active',
+        },
+      ],
+    };
+    const finding = onlyFinding(runRule(rule, facts, view));
+    expect(finding.change).toBeUndefined();
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Stable in or above target 94–98 % for 5 h observed: consider 3 L/min → 2 L/min if the prescribed range allows');
+    expect(card.label).toBeUndefined();
+    // The same patient with one prescribed flow gets the one-click step (common practice: 1 L/min).
+    const fixed = reviewFacts({ order: { flowLPerMin: 3 }, spo2: steady(96, AGES), flows: steady(3, AGES) });
+    expect(onlyFinding(runRule(rule, fixed, view)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+  });
+
   describe('says it cannot tell when the readings are hours apart', () => {
     // BTS 2017 (from memory): stop after two consecutive observations in range in a stable patient.
     // Two readings 5 h 50 min apart are not consecutive observations of a stable course: a reading

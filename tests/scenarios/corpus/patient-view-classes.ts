@@ -383,4 +383,22 @@ export const PATIENT_VIEW_CLASSES: readonly Scenario[] = [
       noMoreOxygen(SRC.btsWean),
     ],
   }),
+  scenario({
+    id: 'pv-class-pharmacist-flow-range-prescription',
+    story: 'Prescribed "2-6 L/min nasal cannulae to keep SpO2 94-98%", running at 3 L/min, SpO2 96 % for 5 h: the step is within the prescription',
+    pov: 'pharmacist', topic, benign: true, hook: 'patient-view', age: 60,
+    build: () => ({
+      drafts: [],
+      record: [
+        onRecord(serviceOrder('Oxygen 2-6 L/min via nasal cannulae to keep SpO2 94-98%'), 2 * DAY),
+        c.pneumonia(),
+        onFlow(3, [96, 96, 96, 96, 96, 96], hours(5, 4, 3, 2, 1, 0.2)),
+      ],
+    }),
+    expect: [
+      fires('ready-to-step-down', 'info', SRC.btsWean),
+      says('ready-to-step-down', /if the prescribed flow range allows it/, 'common practice: nurses titrate within a prescribed flow range'),
+      suggestionsKeep('2-6 L/min', 'common practice: a valid range prescription is not rewritten to one fixed flow'),
+    ],
+  }),
 ];
