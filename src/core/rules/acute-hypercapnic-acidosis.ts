@@ -19,15 +19,23 @@ import type { Rule } from './support/rule-types.js';
  * (venous pH runs a little lower and PCO2 higher than arterial, so the card asks for confirmation).
  * The card states the respiratory rate as recorded rather than naming a mechanism: a tiring patient
  * breathes fast and shallow, a sedated one slowly, and both retain CO2.
+ * Also on patient-view, for a patient with an active oxygen order that is not for comfort: the titration
+ * review's step-down cards hold back in hypercapnic acidosis, and without this card the reason (and the
+ * call for NIV) would not be shown on a record opened with SpO2 in range.
  * Sources: BTS 2017 Table 4; BTS/ICS 2016; RCEM Learning (pH range).
  */
 export const rule: Rule = {
   id: 'acute-hypercapnic-acidosis',
   title: 'Acute-on-chronic hypercapnic (respiratory) acidosis on the current gas',
   version: 3,
-  hooks: ['order-sign'],
+  hooks: ['order-sign', 'patient-view'],
   defaultIndicator: 'critical',
-  evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
+  evaluate: ({ assessment, facts, policy, now, hook }): readonly Finding[] => {
+    // On patient-view the review is of a patient on an oxygen order that titrates to a target: not for
+    // a record without one, nor for comfort oxygen in end-of-life care (BTS 2017: comfort, not targets).
+    if (hook === 'patient-view' && (assessment.order === undefined || assessment.order.purpose === 'comfort')) {
+      return [];
+    }
     const gas = assessment.current.gas;
     const { ph, paco2MmHg } = gas ?? {};
     const t = policy.thresholds;

@@ -19,6 +19,9 @@ import type { Rule } from './support/rule-types.js';
  * or, from `titrationReview.stopFromFlowLPerMin` (2 L/min; 1 L/min with hypercapnic risk) or a 24 %
  * Venturi with the last `titrationReview.stopAfterReadingsInRange` readings in or above the range,
  * stopping the oxygen. Quiet when time-above-target-on-oxygen speaks (that card offers the step).
+ * When the only bar to the step is newest readings further apart than `titrationReview.maxReadingHoldMinutes`,
+ * it says the record cannot tell whether the patient is stable and offers no change. On an order that
+ * prescribes a flow range, a lower flow inside it is advised without a change to the prescription.
  *
  * Rationale: BTS 2017 (from memory of its weaning section): oxygen is a treatment to be reduced in
  * stable patients with satisfactory saturations; most stable convalescent patients are stepped down
@@ -49,10 +52,16 @@ export const rule: Rule = {
       return [];
     }
     const step = planStepDown({ review, assessment, facts, policy, now });
-    if (step.kind === 'none') {
+    if (step.kind === 'none' && step.cannotTell === undefined && step.withinPrescription === undefined) {
       return [];
     }
     const words = describeStep(step);
+    // Readings hours apart: say the record cannot tell, and offer no step (a "can't tell" value).
+    const gap = step.kind === 'none' ? step.cannotTell?.gapMinutes : undefined;
+    const status =
+      gap === undefined
+        ? `Stable in or above target ${formatRange(review.range)} for ${formatDuration(t.observedMinutes)} observed`
+        : `Too few SpO2 readings to tell if stable in target ${formatRange(review.range)} (readings ${formatDuration(gap)} apart)`;
     const trend = oxygenTrend(facts, review.order, now, review.lookbackMinutes);
     const course =
       trend === undefined
@@ -64,7 +73,8 @@ export const rule: Rule = {
       makeFinding(rule, {
         orderReference: review.order.reference,
         values: {
-          headline: words.headline,
+          status,
+          headline: gap === undefined ? words.headline : 'record SpO2 before a step down',
           observedTime: formatDuration(t.observedMinutes),
           window: formatDuration(review.lookbackMinutes),
           timeSplit: describeTimeSplit(review),
@@ -72,12 +82,15 @@ export const rule: Rule = {
           targetRange: formatRange(review.range),
           orderDescription: describeOrder(review.order),
           course,
-          stepAdvice: words.advice,
-          suggestionLabel: words.label ?? '',
+          stepAdvice:
+            gap === undefined
+              ? `${words.advice}, if the patient is clinically stable`
+              : `Consider recording SpO2 again before any step down: a reading is taken to stand for at most ${formatDuration(policy.titrationReview.maxReadingHoldMinutes)}, so the readings are not consecutive observations and the time between them is not observed`,
+          ...(words.label === undefined ? {} : { suggestionLabel: words.label }),
         },
         computations: [timeInRangeComputation(review, policy)],
         sourceKeys: ['bts-2017', 'local-policy'],
-        change: step.change,
+        ...(step.kind === 'none' ? {} : { change: step.change }),
       }),
     ];
   },

@@ -1,5 +1,5 @@
 import { isWithin } from '../assessment/current-values.js';
-import { formatFlow, formatNumber } from '../assessment/format.js';
+import { formatDuration, formatFlow, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { Policy } from '../policy.js';
@@ -7,8 +7,9 @@ import { isTitration } from '../rules/support/order-purpose.js';
 import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
 import { findRisingOxygenNeed, oxygenTrend } from '../rules/support/oxygen-trend.js';
 import { patientSupportTier } from '../rules/support/support-tier.js';
-import type { Facts, OrderChange } from '../types.js';
-import { anyReadingBelow, latestReading, readingsInWindow, type TitrationReview } from './titration-review.js';
+import type { Facts, OrderChange, OxygenOrder } from '../types.js';
+import { deviceStepAdvice, hypercapnicAcidosisAdvice } from './step-advice.js';
+import { anyReadingBelow, latestReading, gapBreakingRecentRun, readingsInWindow, type TitrationReview } from './titration-review.js';
 
 /**
  * The next weaning step for the active order, and whether it may be offered as a one-click change.
@@ -37,7 +38,18 @@ export type StepDown =
       readonly fromFlowLPerMin: number;
     }
   | { readonly kind: 'stop'; readonly change: Extract<OrderChange, { kind: 'stop-oxygen' }>; readonly from: string }
-  | { readonly kind: 'none'; readonly blockedBy: string };
+  | {
+      readonly kind: 'none';
+      readonly blockedBy: string;
+      /** Set when the only bar is too few readings: the record cannot tell whether the patient is stable. */
+      readonly cannotTell?: { readonly gapMinutes: number };
+      /** The next step in bedside words, where the bar is the device or a hypercapnic acidosis. */
+      readonly bedside?: string;
+      /** A lower flow inside a prescribed flow range: the nurse's titration, no change to the order. */
+      readonly withinPrescription?: { readonly flowLPerMin: number; readonly fromFlowLPerMin: number };
+    };
+
+const ESCALATED_SUPPORT = 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
 
 /** Venturi settings at or below this are low-concentration oxygen for stopping (BTS 2017 Table 4: 24 %). */
 const LOWEST_VENTURI_FIO2 = 0.24;
@@ -71,7 +83,7 @@ export function reasonNotToStepDown(input: {
   }
   const tier = patientSupportTier(facts, order, policy, now);
   if (tier !== undefined && tier !== 'conventional-oxygen') {
-    return 'the patient is on high flow or CPAP/NIV: stepping down is a change of support for the team';
+    return ESCALATED_SUPPORT;
   }
   const { oxygenNeedTrendMinutes, spo2FallPoints } = policy.thresholds;
   const window = Math.max(oxygenNeedTrendMinutes, review.lookbackMinutes);
@@ -95,13 +107,55 @@ function runningFlow(review: TitrationReview, facts: Facts, now: Date): number |
   return recorded[recorded.length - 1]?.value ?? review.order.flowLPerMin;
 }
 
+/** Whether the order gives its flow as a range (read-order sets no flow and notes the range). */
+function prescribesFlowRange(order: OxygenOrder, facts: Facts): boolean {
+  return (
+    order.flowLPerMin === undefined &&
+    facts.setAside.some((note) => note.reference === order.reference && note.what === 'Ordered oxygen flow' && note.reason === 'unrecognised')
+  );
+}
+
 /** Whether the last `count` readings are all at or above the range's lower bound. */
 function lastReadingsNotBelow(review: TitrationReview, count: number): boolean {
   const last = review.readings.slice(-count);
   return last.length >= count && last.every((m) => m.value >= review.range.lowPercent);
 }
 
+/**
+ * The next step, held back when the newest readings are too far apart to show a stable course: a gap
+ * longer than the time a reading stands for (`titrationReview.maxReadingHoldMinutes`) before the recent
+ * run holds `stopAfterReadingsInRange` readings over `minObservedMinutes` means two readings hours apart
+ * are not "two consecutive observations in range" (BTS 2017 weaning, from memory), and what happened
+ * between them is not known. That is a "can't tell", said on the card, not a step.
+ */
 export function planStepDown(input: {
+  readonly review: TitrationReview;
+  readonly assessment: Assessment;
+  readonly facts: Facts;
+  readonly policy: Policy;
+  readonly now: Date;
+}): StepDown {
+  const step = nextStep(input);
+  if (step.kind === 'none') {
+    return step;
+  }
+  const settings = input.policy.titrationReview;
+  const gap = gapBreakingRecentRun(input.review, {
+    maxGapMinutes: settings.maxReadingHoldMinutes,
+    minSpanMinutes: settings.minObservedMinutes,
+    minReadings: settings.stopAfterReadingsInRange,
+  });
+  if (gap !== undefined) {
+    return {
+      kind: 'none',
+      blockedBy: `the SpO2 readings are too far apart to tell whether the patient is stable (a gap of ${formatDuration(gap)})`,
+      cannotTell: { gapMinutes: gap },
+    };
+  }
+  return step;
+}
+
+function nextStep(input: {
   readonly review: TitrationReview;
   readonly assessment: Assessment;
   readonly facts: Facts;
@@ -110,9 +164,12 @@ export function planStepDown(input: {
 }): StepDown {
   const blockedBy = reasonNotToStepDown(input);
   if (blockedBy !== undefined) {
-    return { kind: 'none', blockedBy };
+    const bedside = hypercapnicAcidosisAdvice(input.assessment) ?? (blockedBy === ESCALATED_SUPPORT ? deviceStepAdvice(input.review.order) : undefined);
+    return { kind: 'none', blockedBy, ...(bedside === undefined ? {} : { bedside }) };
   }
   const { review, assessment, facts, policy, now } = input;
+  const deviceAdvice = deviceStepAdvice(review.order);
+  const onDevice = (why: string): StepDown => ({ kind: 'none', blockedBy: why, ...(deviceAdvice === undefined ? {} : { bedside: deviceAdvice }) });
   const order = review.order;
   const settings = policy.titrationReview;
   const atRisk = assessment.target.kind === 'range' && assessment.target.basis === 'hypercapnic-risk';
@@ -123,14 +180,19 @@ export function planStepDown(input: {
     if (fio2 !== undefined && fio2 <= LOWEST_VENTURI_FIO2 && enoughToStop) {
       return { kind: 'stop', change: { kind: 'stop-oxygen' }, from: 'a 24 % Venturi mask' };
     }
-    return { kind: 'none', blockedBy: 'a Venturi mask is stepped down by changing its setting, which is left to the team' };
+    return onDevice('a Venturi mask is stepped down by changing its setting, which is left to the team');
   }
   if (order.device !== 'nasal-cannula') {
-    return { kind: 'none', blockedBy: 'a one-click step is offered only on a nasal cannula or a 24 % Venturi mask' };
+    return onDevice('a change of device is left to the team');
   }
   const flow = runningFlow(review, facts, now);
   if (flow === undefined) {
     return { kind: 'none', blockedBy: 'the flow running is not known' };
+  }
+  const cannulaRange = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin;
+  // Above the cannula's range (BTS 2017 Tables 2 and 4: 1-6 L/min) a step of one would still be out of it.
+  if (flow > cannulaRange.max) {
+    return onDevice(`the cannula runs above its ${formatNumber(cannulaRange.min, 0)}–${formatNumber(cannulaRange.max, 0)} L/min range`);
   }
   if (flow <= stopFrom) {
     return enoughToStop
@@ -140,7 +202,16 @@ export function planStepDown(input: {
           blockedBy: `fewer than ${String(settings.stopAfterReadingsInRange)} consecutive readings in the range before stopping`,
         };
   }
-  const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
-  const next = Math.max(stopFrom, minimum, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
+  const next = Math.max(stopFrom, cannulaRange.min, flow - policy.thresholds.nasalCannulaStepDownLPerMin);
+  if (prescribesFlowRange(review.order, facts)) {
+    // "2-6 L/min to keep SpO2 94-98 %": the step is the nurse's titration within the prescription. A
+    // one-click fixed flow would rewrite a valid range prescription and take away the room to go back
+    // up (common practice: titrate within the prescribed range; change the prescription to leave it).
+    return {
+      kind: 'none',
+      blockedBy: 'the order prescribes a flow range: a step inside it is a titration, not a new prescription',
+      withinPrescription: { flowLPerMin: next, fromFlowLPerMin: flow },
+    };
+  }
   return { kind: 'lower-flow', change: { kind: 'set-flow', flowLPerMin: next }, fromFlowLPerMin: flow };
 }

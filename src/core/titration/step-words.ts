@@ -25,8 +25,19 @@ export function describeStep(step: StepDown): {
         headline: 'consider stopping the oxygen',
       };
     case 'none':
+      if (step.withinPrescription !== undefined) {
+        const { fromFlowLPerMin, flowLPerMin } = step.withinPrescription;
+        return {
+          advice: `Consider lowering the flow from ${formatFlow(fromFlowLPerMin)} to ${formatFlow(flowLPerMin)} if the prescribed flow range allows it (the prescription then need not change), and rechecking SpO2`,
+          label: undefined,
+          headline: `consider ${formatFlow(fromFlowLPerMin)} → ${formatFlow(flowLPerMin)} if the prescribed range allows`,
+        };
+      }
       return {
-        advice: `Consider lowering the oxygen by one step (no one-click change: ${step.blockedBy})`,
+        advice:
+          step.bedside === undefined
+            ? `Consider lowering the oxygen by one step (no one-click change: ${step.blockedBy})`
+            : `${step.bedside} (no one-click change: ${step.blockedBy})`,
         label: undefined,
         headline: 'consider a step down',
       };

@@ -100,6 +100,37 @@ export function latestReading(review: TitrationReview): Measured | undefined {
   return review.readings[review.readings.length - 1];
 }
 
+/**
+ * The gap, in minutes, that breaks the recent run of readings, or undefined when there is none. Walking
+ * back from the newest reading, the run is the readings each at most `maxGapMinutes` after the one
+ * before; it is long enough once it holds `minReadings` readings spanning at least `minSpanMinutes`.
+ * A gap longer than `maxGapMinutes` met before that means the newest readings are not consecutive
+ * observations of one course: nothing was seen in between. An early gap behind a long enough recent
+ * run does not count, and running out of readings without such a gap is not a break.
+ */
+export function gapBreakingRecentRun(
+  review: TitrationReview,
+  limits: { readonly maxGapMinutes: number; readonly minSpanMinutes: number; readonly minReadings: number },
+): number | undefined {
+  const times = review.readings.map((m) => Date.parse(m.at)).filter((ms) => !Number.isNaN(ms));
+  const newest = times[times.length - 1];
+  if (newest === undefined) {
+    return undefined;
+  }
+  for (let i = times.length - 1; i >= 1; i -= 1) {
+    const count = times.length - i;
+    const spanMinutes = (newest - (times[i] ?? newest)) / 60_000;
+    if (count >= limits.minReadings && spanMinutes >= limits.minSpanMinutes) {
+      return undefined;
+    }
+    const gapMinutes = ((times[i] ?? 0) - (times[i - 1] ?? 0)) / 60_000;
+    if (gapMinutes > limits.maxGapMinutes) {
+      return gapMinutes;
+    }
+  }
+  return undefined;
+}
+
 /** Whether any reading in the window is below the range. */
 export function anyReadingBelow(review: TitrationReview): boolean {
   return review.readings.some((m) => m.value < review.range.lowPercent);

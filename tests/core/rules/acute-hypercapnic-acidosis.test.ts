@@ -4,6 +4,7 @@ import type { ConditionKind } from '../../../src/core/types.js';
 import { BTS, bloodGas, buildFacts, condition, respRate } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
+import { reviewFacts, steady } from '../titration/review-facts.js';
 
 const withGas = (
   ph: number,
@@ -18,8 +19,8 @@ const withGas = (
   });
 
 describe('acute-hypercapnic-acidosis', () => {
-  it('runs on order-sign as critical', () => {
-    expect(rule.hooks).toStrictEqual(['order-sign']);
+  it('runs on order-sign and patient-view as critical', () => {
+    expect(rule.hooks).toStrictEqual(['order-sign', 'patient-view']);
     expect(rule.defaultIndicator).toBe('critical');
   });
 
@@ -118,6 +119,37 @@ describe('acute-hypercapnic-acidosis', () => {
     it('shows a gas reported in mmHg in mmHg', () => {
       const facts = buildFacts({ conditions: [condition('copd')], bloodGases: [bloodGas({ ageMinutes: 10, ph: 7.3, paco2MmHg: 60 })] });
       expect(onlyFinding(runRule(rule, facts)).values.paco2).toBe('60 mmHg');
+    });
+  });
+
+  describe('on patient-view', () => {
+    // An invented Larkspur Bay COPD patient on 28 % Venturi with SpO2 90 % (in 88-92 %, BTS 2017
+    // Table 4) hourly and a gas 40 min ago: pH 7.29 < 7.35 (RCEM) with PaCO2 8.1 kPa >= 6 kPa (BTS 2017
+    // clarification): acute-on-chronic hypercapnic acidosis; BTS/ICS 2016: consider NIV.
+    const ages = [300, 240, 180, 120, 60, 10];
+    const onVenturi = (purpose: 'titrate' | 'comfort') =>
+      reviewFacts({
+        order: { device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 4, purpose, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } },
+        conditions: ['copd'],
+        spo2: steady(90, ages),
+        fio2: steady(0.28, ages),
+        gases: [bloodGas({ ageMinutes: 40, ph: 7.29, paco2Kpa: 8.1, pao2Kpa: 8.0, hco3: 30 })],
+      });
+
+    it('is critical for a patient on an oxygen order with SpO2 in range', () => {
+      const finding = onlyFinding(runRule(rule, onVenturi('titrate'), { hook: 'patient-view' }));
+      expect(finding.indicator).toBe('critical');
+      expect(expectCardRenders(finding).summary).toContain('consider NIV');
+    });
+
+    it('is silent for comfort oxygen in end-of-life care', () => {
+      // BTS 2017: in terminal palliative care oxygen is for comfort, not a target (SRC.btsPalliative).
+      expect(runRule(rule, onVenturi('comfort'), { hook: 'patient-view' })).toStrictEqual([]);
+    });
+
+    it('is silent on a record with no oxygen order (the review does not apply)', () => {
+      // Common practice: the titration review speaks only about a patient on an oxygen order.
+      expect(runRule(rule, { ...withGas(7.29, 8.1), orders: [], activeOrders: [] }, { hook: 'patient-view' })).toStrictEqual([]);
     });
   });
 });

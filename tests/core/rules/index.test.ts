@@ -63,6 +63,7 @@ describe('RULES', () => {
   it('gives patient-view the titration review, the failing-support and rising-need checks and the partial-data card', () => {
     const onView = RULES.filter((r) => r.hooks.includes('patient-view')).map((r) => r.id).sort();
     expect(onView).toStrictEqual([
+      'acute-hypercapnic-acidosis',
       'blood-gas-overdue',
       'escalated-support-failing',
       'ready-to-step-down',

@@ -75,6 +75,70 @@ describe('ready-to-step-down', () => {
     expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
   });
 
+  it('advises a step inside a prescribed flow range without rewriting the prescription', () => {
+    // "2-6 L/min to keep SpO2 94-98 %" running at 3 L/min, SpO2 96 % (in range, BTS 2017 Tables 1-3):
+    // a lower flow inside the range is the nurse's titration (common practice), so no update is offered
+    // that would fix the flow at one value and lose the range.
+    const base = reviewFacts({ order: { flowLPerMin: undefined }, spo2: steady(96, AGES), flows: steady(3, AGES) });
+    const facts = {
+      ...base,
+      setAside: [
+        {
+          what: 'Ordered oxygen flow',
+          reason: 'unrecognised' as const,
+          detail: 'The flow is given as a range (2–6 L/min), not one setting, so no flow was read.',
+          reference: 'MedicationRequest/lb-o2-active',
+        },
+      ],
+    };
+    const finding = onlyFinding(runRule(rule, facts, view));
+    expect(finding.change).toBeUndefined();
+    const card = expectCardRenders(finding);
+    expect(card.summary).toBe('Stable in or above target 94–98 % for 5 h observed: consider 3 L/min → 2 L/min if the prescribed range allows');
+    expect(card.label).toBeUndefined();
+    // The same patient with one prescribed flow gets the one-click step (common practice: 1 L/min).
+    const fixed = reviewFacts({ order: { flowLPerMin: 3 }, spo2: steady(96, AGES), flows: steady(3, AGES) });
+    expect(onlyFinding(runRule(rule, fixed, view)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+  });
+
+  describe('says it cannot tell when the readings are hours apart', () => {
+    // BTS 2017 (from memory): stop after two consecutive observations in range in a stable patient.
+    // Two readings 5 h 50 min apart are not consecutive observations of a stable course: a reading
+    // stands for at most 120 min (titrationReview.maxReadingHoldMinutes, local choice).
+    it.each([
+      ['stop from 2 L/min', 2],
+      ['3 → 2 L/min', 3],
+    ])('%s: no change offered, the gap named', (_label, flow) => {
+      const facts = reviewFacts({ order: { flowLPerMin: flow }, spo2: [[96, 360], [97, 10]], flows: steady(flow, [360, 10]) });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.indicator).toBe('info');
+      expect(finding.change).toBeUndefined();
+      const card = expectCardRenders(finding);
+      expect(card.summary).toBe('Too few SpO2 readings to tell if stable in target 94–98 % (readings 5 h 50 min apart): record SpO2 before a step down');
+      expect(card.label).toBeUndefined();
+    });
+
+    it('a gap of exactly the hold cap still counts as consecutive', () => {
+      // 120 min apart = maxReadingHoldMinutes (local choice): the readings meet, nothing unobserved between.
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 130], [97, 10]], flows: steady(2, [130, 10]) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toStrictEqual({ kind: 'stop-oxygen' });
+    });
+
+    it('an early gap behind a recent run of readings does not hold the step back', () => {
+      // 420 → 240 min ago is 180 min (> 120), but the newest four readings, hourly from 180 min ago,
+      // span 170 min (>= minObservedMinutes 120, local choice): consecutive observations now.
+      const ages = [420, 240, 180, 120, 60, 10];
+      const facts = reviewFacts({ order: { flowLPerMin: 3 }, spo2: steady(96, ages), flows: steady(3, ages) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+    });
+
+    it('a gap 1 min over the cap holds the step back', () => {
+      // 131 → 10 min ago is 121 min apart; observed 120 + 10 = 130 min (>= 120), two readings.
+      const facts = reviewFacts({ order: { flowLPerMin: 2 }, spo2: [[96, 131], [97, 10]], flows: steady(2, [131, 10]) });
+      expect(onlyFinding(runRule(rule, facts, view)).change).toBeUndefined();
+    });
+  });
+
   describe('stays quiet', () => {
     it('when any reading in the window was below the range', () => {
       // 93 % < 94 % (BTS 2017 Tables 1-3) 4 h ago: not stable over the window.

@@ -89,6 +89,87 @@ describe('time-above-target-on-oxygen', () => {
     expect(finding.values.stepAdvice).toContain('below the target range');
   });
 
+  describe('names the next step in bedside terms where it offers no one-click change', () => {
+    // SpO2 99-100 % above 94-98 % (BTS 2017 Tables 1-3) for 5 h on each device.
+    const above = [[100, 300], [99, 240], [100, 180], [100, 120], [99, 60], [100, 10]] as const;
+
+    it('a 15 L/min reservoir mask: nasal cannulae 2-6 L/min or a simple mask 5-10 L/min, not air', () => {
+      // BTS 2017, Table 2: nasal cannulae 2-6 L/min, simple face mask 5-10 L/min; stepping a reservoir
+      // mask down to one of them rather than to air is BTS 2017 weaning advice, from memory.
+      const facts = reviewFacts({ order: { device: 'reservoir-mask', flowLPerMin: 15 }, spo2: above, flows: steady(15, AGES) });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.stepAdvice).toBe(
+        'Consider changing the reservoir mask to nasal cannulae at 2–6 L/min or a simple face mask at 5–10 L/min, one step, ' +
+          'and rechecking SpO2; not straight to air (no one-click change: a change of device is left to the team)',
+      );
+    });
+
+    it.each([
+      // [setting %, next lower setting and its minimum flow]: BTS 2017 Table 4 (24 % at 2, 28 % at 4);
+      // device labelling, common practice (31 % at 6, 35 % at 8, 40 % at 10).
+      [28, '24 % at 2 L/min'],
+      [35, '31 % at 6 L/min'],
+      [40, '35 % at 8 L/min'],
+      [60, '50 % at 12 L/min'], // 50 % at 12 L/min: from memory
+    ])('a Venturi at %i percent: the next lower setting, %s', (percent, next) => {
+      const facts = reviewFacts({
+        order: { device: 'venturi-mask', setFio2Fraction: percent / 100, flowLPerMin: 8 },
+        spo2: above,
+        fio2: steady(percent / 100, AGES),
+      });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.stepAdvice).toContain(`Consider the next lower Venturi setting, ${next} or more`);
+    });
+
+    it('a cannula charted at 8 L/min: into its 1-6 L/min range, never a one-click 7 L/min on a cannula', () => {
+      // BTS 2017, Tables 2 and 4: nasal cannulae 1-6 L/min in adults.
+      const facts = reviewFacts({ order: { flowLPerMin: 8 }, spo2: above, flows: steady(8, AGES) });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.stepAdvice).toContain('Consider bringing the cannula within its 1–6 L/min range (6 L/min or less)');
+    });
+
+    it('high flow at FiO2 0.5: the FiO2 first, with the team, no one-click change', () => {
+      // Common practice: high flow is weaned by FiO2 first, then flow; a change of support is the team's.
+      const facts = reviewFacts({
+        order: { device: 'high-flow-nasal-cannula', setFio2Fraction: 0.5, flowLPerMin: 50 },
+        spo2: above,
+        fio2: steady(0.5, AGES),
+      });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.stepAdvice).toContain('Consider lowering the FiO2 first');
+    });
+
+    it('hypercapnic acidosis: do not stop, review for NIV', () => {
+      // BTS/ICS 2016: pH < 7.35 with PaCO2 > 6.5 kPa is acute hypercapnic respiratory failure, consider
+      // NIV; BTS 2017 (from memory): never stop oxygen suddenly in hypercapnia (rebound hypoxaemia).
+      const facts = reviewFacts({
+        order: { device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 4, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } },
+        conditions: ['copd'],
+        spo2: steady(95, AGES),
+        fio2: steady(0.28, AGES),
+        gases: [bloodGas({ ageMinutes: 40, ph: 7.29, paco2Kpa: 8.1, pao2Kpa: 9.4, hco3: 30 })],
+      });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.stepAdvice).toMatch(/^Do not stop the oxygen .*consider NIV/);
+    });
+
+    it('a falling or unsafe patient gets no bedside step named: a reading below range earlier', () => {
+      // BTS 2017: below the target range calls for review, never a step down.
+      const facts = reviewFacts({
+        order: { device: 'reservoir-mask', flowLPerMin: 15 },
+        spo2: [[92, 300], [99, 240], [100, 180], [100, 120], [99, 60], [100, 10]],
+        flows: steady(15, AGES),
+      });
+      const finding = onlyFinding(runRule(rule, facts, view));
+      expect(finding.values.stepAdvice).toMatch(/^Consider lowering the oxygen by one step \(no one-click change: an SpO2/);
+    });
+  });
+
   describe('stays quiet', () => {
     it('when the latest reading is back in range (the oxygen was already lowered)', () => {
       // Above for 4 h, then 96 % on 3 L/min 10 min ago: in 94-98 % (BTS 2017), nothing to add.

@@ -91,6 +91,12 @@ function check(e: Expectation, cards: readonly Card[], drafts: readonly FhirReso
       const found = withRule(e.ruleId);
       return found.length <= 1 ? undefined : `expected at most one ${e.ruleId} card: got ${found.length}`;
     }
+    case 'says': {
+      const found = withRule(e.ruleId);
+      const text = (c: Card): string => [c.summary, c.detail ?? '', ...(c.suggestions ?? []).map((x) => x.label)].join('\n');
+      if (found.some((c) => e.pattern.test(text(c)))) return undefined;
+      return found.length === 0 ? `expected ${e.ruleId} to say ${String(e.pattern)}: no such card` : `expected ${e.ruleId} to say ${String(e.pattern)}: it does not`;
+    }
     case 'never-says': {
       const hit = cards.find((c) => e.pattern.test(`${c.summary}\n${c.detail ?? ''}`));
       return hit === undefined ? undefined : `expected no card to say ${String(e.pattern)}: ${ruleOf(hit)} does`;
@@ -138,6 +144,8 @@ function describeExpectation(e: Expectation): string {
       return `nothing above ${e.indicator}`;
     case 'once':
       return `at most one ${e.ruleId}`;
+    case 'says':
+      return `${e.ruleId} says ${String(e.pattern)}`;
     case 'never-says':
       return `no card says ${String(e.pattern)}`;
     case 'suggestions-keep':

@@ -34,7 +34,9 @@ export type Expectation =
   /** Every card's detail is at most this many lines (a side panel, not a report). */
   | { readonly kind: 'short-detail'; readonly maxLines: number; readonly source: string }
   /** At most one card with this rule id. */
-  | { readonly kind: 'once'; readonly ruleId: string; readonly source: string };
+  | { readonly kind: 'once'; readonly ruleId: string; readonly source: string }
+  /** A card with this rule id whose summary, detail or suggestion labels match this pattern. */
+  | { readonly kind: 'says'; readonly ruleId: string; readonly pattern: RegExp; readonly source: string };
 
 export const fires = (ruleId: string, indicator: Indicator, source: string): Expectation => ({ kind: 'fires', ruleId, indicator, source });
 export const firesOneOf = (ruleIds: readonly string[], indicator: Indicator, source: string): Expectation => ({ kind: 'fires-one-of', ruleIds, indicator, source });
@@ -47,6 +49,7 @@ export const noLessOxygen = (source: string): Expectation => ({ kind: 'no-less-o
 export const neverSays = (pattern: RegExp, source: string): Expectation => ({ kind: 'never-says', pattern, source });
 export const oneFio2 = (source: string): Expectation => ({ kind: 'one-fio2', source });
 export const shortDetail = (maxLines: number, source: string): Expectation => ({ kind: 'short-detail', maxLines, source });
+export const says = (ruleId: string, pattern: RegExp, source: string): Expectation => ({ kind: 'says', ruleId, pattern, source });
 export const once = (ruleId: string, source: string): Expectation => ({ kind: 'once', ruleId, source });
 
 /** What a benign order must not raise: alert fatigue is a harm. */
