@@ -3,6 +3,7 @@ import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
 import { formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
+import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
@@ -111,6 +112,10 @@ async function startWithStore(
   if (review.kind === 'refused') {
     return { kind: 'refused', problems: review.problems };
   }
+  const patientKeyOf = (patient: { readonly fhirServer?: string; readonly patientId: string }): string =>
+    patientKey(secret.secret, patient);
+  // Seeded before listening, so the first page opened has content; logged after the listening line.
+  const demoSeed = auth.kind === 'demo' ? await seedDemo(store, config, files, patientKeyOf) : undefined;
   const app = createApp(config, {
     policy: files.policy,
     templates: files.templates,
@@ -120,7 +125,7 @@ async function startWithStore(
     authenticate: auth.authenticate,
     store,
     policyContentHash: files.policyContentHash,
-    patientKey: (patient) => patientKey(secret.secret, patient),
+    patientKey: patientKeyOf,
     review: review.review,
   });
   const server = await listen(app, config);
@@ -143,6 +148,9 @@ async function startWithStore(
     const trust = { mode: 'production', publicUrl: auth.publicUrl, trustedClients: auth.trustedClients };
     log.info({ ...started, ...trust }, `oxygen-order-checker listening; ${PRODUCTION_MODE_NOTICE}`);
   }
+  if (demoSeed !== undefined) {
+    logDemoSeed(log, demoSeed);
+  }
   const purge = startRetentionPurge({
     store,
     retentionDays: config.store.auditRetentionDays,
@@ -163,6 +171,52 @@ async function startWithStore(
     log.info(forced ? { forced } : {}, 'oxygen-order-checker stopped');
   };
   return { kind: 'started', started: { server, url, close } };
+}
+
+type DemoSeedOutcome = DemoSeedResult | { readonly kind: 'failed'; readonly errorType: string };
+
+/**
+ * Demo mode only, and only into an empty store: the invented Larkspur Bay shift (src/demo), so the
+ * review pages have something to show on a fresh clone. Production never reaches this: the caller
+ * seeds only when authentication is the demo's.
+ */
+async function seedDemo(
+  store: Store,
+  config: EnvConfig,
+  files: Extract<LoadedFiles, { kind: 'ok' }>,
+  patientKeyOf: (patient: { readonly fhirServer?: string; readonly patientId: string }) => string,
+): Promise<DemoSeedOutcome> {
+  try {
+    return await seedDemoStore(store, new Date(), {
+      policy: files.policy,
+      templates: files.templates,
+      policyContentHash: files.policyContentHash,
+      patientKey: patientKeyOf,
+      feedbackLimits: { maxRecordsPerClientPerDay: config.feedback.maxRecordsPerClientPerDay },
+    });
+  } catch (error) {
+    // The demo's sample data is a convenience: the service still starts, with an empty review page.
+    return { kind: 'failed', errorType: error instanceof Error ? error.name : typeof error };
+  }
+}
+
+/** One line with counts, never patient data. */
+function logDemoSeed(log: Logger, outcome: DemoSeedOutcome): void {
+  switch (outcome.kind) {
+    case 'seeded': {
+      const { calls, advisories, feedback, units, rules } = outcome;
+      log.info(
+        { demoSeed: 'done', calls, advisories, feedback, units, rules },
+        'demo store seeded with the invented Larkspur Bay shift (demo mode, empty store)',
+      );
+      return;
+    }
+    case 'store-not-empty':
+      log.info({ demoSeed: 'skipped' }, 'demo seed skipped: the store already holds advisories');
+      return;
+    case 'failed':
+      log.warn({ demoSeed: 'failed', errorType: outcome.errorType }, 'demo seed failed; started without sample data');
+  }
 }
 
 async function main(): Promise<void> {

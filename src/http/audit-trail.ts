@@ -1,7 +1,7 @@
 import { buildAuditRecords, type AuditCall } from '../cds/audit-records.js';
 import type { HookEvaluation } from '../cds/evaluate-hook.js';
 import type { Logger } from '../log/logger.js';
-import type { Store } from '../store/store.js';
+import type { AdvisoryRecord, Store } from '../store/store.js';
 
 /** The patient as the audit trail knows them: a keyed hash of the FHIR server and patient id. */
 export type PatientKeyOf = (patient: { readonly fhirServer?: string; readonly patientId: string }) => string;
@@ -18,6 +18,30 @@ export type AuditCallFacts = Omit<AuditCall, 'policyContentHash' | 'patientKey'>
   readonly fhirServer: string | undefined;
   readonly patientId: string;
 };
+
+/**
+ * The audit records of one hook call's cards, the patient known only by their keyed hash. Shared by
+ * the hook route (through `createAuditTrail`) and the demo seed, so a seeded advisory is recorded
+ * exactly as a live one.
+ */
+export function auditRecordsFor(
+  evaluation: HookEvaluation,
+  call: AuditCallFacts,
+  deps: Pick<AuditTrailDeps, 'policyContentHash' | 'patientKey'>,
+): AdvisoryRecord[] {
+  const patientKey = deps.patientKey(
+    call.fhirServer === undefined ? { patientId: call.patientId } : { fhirServer: call.fhirServer, patientId: call.patientId },
+  );
+  return buildAuditRecords(evaluation, {
+    serviceId: call.serviceId,
+    hook: call.hook,
+    hookInstance: call.hookInstance,
+    client: call.client,
+    issuedAt: call.issuedAt,
+    policyContentHash: deps.policyContentHash,
+    patientKey,
+  });
+}
 
 export interface AuditTrail {
   /**
@@ -46,20 +70,7 @@ export function createAuditTrail(deps: AuditTrailDeps): AuditTrail {
       }
       const cards = evaluation.audit.cards;
       try {
-        const patientKey = deps.patientKey(
-          call.fhirServer === undefined ? { patientId: call.patientId } : { fhirServer: call.fhirServer, patientId: call.patientId },
-        );
-        await deps.store.recordAdvisories(
-          buildAuditRecords(evaluation, {
-            serviceId: call.serviceId,
-            hook: call.hook,
-            hookInstance: call.hookInstance,
-            client: call.client,
-            issuedAt: call.issuedAt,
-            policyContentHash: deps.policyContentHash,
-            patientKey,
-          }),
-        );
+        await deps.store.recordAdvisories(auditRecordsFor(evaluation, call, deps));
         return 'recorded';
       } catch (error) {
         failures += 1;
