@@ -42,11 +42,12 @@ function outcomeCell(item: AdvisoryListItem, reasonDisplay: ReasonDisplay): Html
 
 function row(item: AdvisoryListItem, input: AdvisoryListInput): HtmlFragment {
   return html`<tr data-card-uuid="${item.cardUuid}">
-<td>${formatReviewTime(item.issuedAt, input.timeZone)}</td>
-<td>${item.unit ?? html`<span class="muted">not recorded</span>`}</td>
-<td>${item.ruleId}</td>
-<td class="ind-${item.indicator}">${item.indicator}</td>
-<td>${item.summary}</td>
+<td data-col="issued">${formatReviewTime(item.issuedAt, input.timeZone)}</td>
+<td data-col="unit">${item.unit ?? html`<span class="muted">not recorded</span>`}</td>
+<td data-col="patient"><a href="/review?patient=${encodeURIComponent(item.patientKey)}" data-patient-key="${item.patientKey}" title="This patient's advisories (a keyed pseudonym, not an identifier)"><code>${item.patientKey.slice(0, 8)}</code></a></td>
+<td data-col="rule">${item.ruleId}</td>
+<td data-col="indicator" class="ind-${item.indicator}">${item.indicator}</td>
+<td data-col="summary">${item.summary}</td>
 ${outcomeCell(item, input.reasonDisplay)}
 <td><a href="${advisoryPath(item.cardUuid)}" data-advisory-link>Open</a></td>
 </tr>`;
@@ -60,6 +61,7 @@ ${selectField('rule', 'Rule', plain(input.facets.ruleIds), filters.rule)}
 ${selectField('indicator', 'Indicator', plain(INDICATORS), filters.indicator)}
 ${selectField('outcome', 'Outcome', (['accepted', 'overridden', 'none'] as const).map((value) => ({ value, label: OUTCOME_LABELS[value] })), filters.outcome)}
 ${timeFields(filters)}
+${filters.patient === undefined ? '' : html`<input type="hidden" name="patient" value="${filters.patient}"><p id="patient-filter">One patient only: <code>${filters.patient.slice(0, 8)}</code> (a keyed pseudonym; <a href="/review">all patients</a>)</p>`}
 <button type="submit" id="filter-apply">Show</button> <a href="/review" id="filter-clear">Clear filters</a>
 </form>`;
 }
@@ -107,7 +109,7 @@ export function renderAdvisoryListPage(input: AdvisoryListInput): string {
   const table =
     page.items.length === 0
       ? html`<p id="advisory-empty">No advisories match these filters.</p>`
-      : html`<table id="advisory-table"><thead><tr><th>Issued</th><th>Unit</th><th>Rule</th><th>Indicator</th><th>Summary</th><th>Latest outcome</th><th></th></tr></thead>
+      : html`<table id="advisory-table"><thead><tr><th>Issued</th><th>Unit</th><th>Patient</th><th>Rule</th><th>Indicator</th><th>Summary</th><th>Latest outcome</th><th></th></tr></thead>
 <tbody>${page.items.map((item) => row(item, input))}</tbody></table>`;
   return renderPage({
     title: 'Advisories',

@@ -63,7 +63,7 @@ export function renderAdvisoryPage(input: AdvisoryPageInput): string {
 <dt>Issued</dt><dd data-field="issued">${formatReviewTime(a.issuedAt, zone)}</dd>
 <dt>Service and hook</dt><dd data-field="service">${a.serviceId} on ${a.hook}</dd>
 <dt>Client</dt><dd data-field="client">${a.client.iss}${a.client.tenant === undefined ? '' : html`, tenant ${a.client.tenant}`}</dd>
-<dt>Patient key</dt><dd data-field="patient-key"><code>${a.patientKey}</code> <span class="muted">(a keyed pseudonym: the same patient's advisories share it)</span></dd>
+<dt>Patient key</dt><dd data-field="patient-key"><code>${a.patientKey}</code> <span class="muted">(a keyed pseudonym: the same patient's advisories share it; <a href="/review?patient=${encodeURIComponent(a.patientKey)}" data-patient-advisories>all of them</a>)</span></dd>
 <dt>Card uuid</dt><dd data-field="card-uuid"><code>${a.cardUuid}</code></dd>
 </dl>
 <h2 id="key-numbers-heading">Key numbers</h2>

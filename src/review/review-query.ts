@@ -40,6 +40,8 @@ export interface TimeFilters {
 
 export interface ListFilters extends TimeFilters {
   readonly unit?: string;
+  /** A patient key (src/store/patient-key.ts): one patient's advisories, nobody named. */
+  readonly patient?: string;
   readonly rule?: string;
   readonly indicator?: StoredIndicator;
   readonly outcome?: AdvisoryOutcomeFilter;
@@ -166,10 +168,23 @@ function readText(raw: Raw, name: string, issues: QueryIssue[], pattern?: RegExp
   return value;
 }
 
+/** A patient key is lower-case hex (src/store/patient-key.ts); anything else cannot match one. */
+const PATIENT_KEY = /^[0-9a-f]{8,64}$/;
+
+function readPatientKey(raw: Raw, issues: QueryIssue[]): string | undefined {
+  const value = single(raw, 'patient', issues);
+  if (value !== undefined && !PATIENT_KEY.test(value)) {
+    issues.push({ path: 'patient', message: 'must be a patient key as shown on an advisory page (hexadecimal)' });
+    return undefined;
+  }
+  return value;
+}
+
 /** The list page's and `GET /review/api/advisories`' parameters. */
 export function parseListQuery(raw: Raw, context: QueryContext): Parsed<ListFilters, AdvisoryQuery> {
   const issues: QueryIssue[] = [];
   const unit = readText(raw, 'unit', issues);
+  const patient = readPatientKey(raw, issues);
   const rule = readText(raw, 'rule', issues, RULE_ID);
   const indicator = oneOf(raw, 'indicator', INDICATORS, issues);
   const outcome = oneOf(raw, 'outcome', OUTCOMES, issues);
@@ -181,6 +196,7 @@ export function parseListQuery(raw: Raw, context: QueryContext): Parsed<ListFilt
   }
   const filters: ListFilters = {
     ...(unit === undefined ? {} : { unit }),
+    ...(patient === undefined ? {} : { patient }),
     ...(rule === undefined ? {} : { rule }),
     ...(indicator === undefined ? {} : { indicator }),
     ...(outcome === undefined ? {} : { outcome }),
@@ -190,6 +206,7 @@ export function parseListQuery(raw: Raw, context: QueryContext): Parsed<ListFilt
   };
   const query: AdvisoryQuery = {
     ...(unit === undefined ? {} : { unit }),
+    ...(patient === undefined ? {} : { patientKey: patient }),
     ...(rule === undefined ? {} : { ruleId: rule }),
     ...(indicator === undefined ? {} : { indicator }),
     ...(outcome === undefined ? {} : { outcome }),
@@ -218,7 +235,7 @@ export function parseSummaryQuery(raw: Raw, context: QueryContext): Parsed<TimeF
 /** The query string for a page link that keeps the filters: `?unit=Ward%207&page=2`. */
 export function filterQueryString(filters: ListFilters | TimeFilters, page?: number): string {
   const params = new URLSearchParams();
-  for (const name of ['unit', 'rule', 'indicator', 'outcome', 'window', 'from', 'to'] as const) {
+  for (const name of ['unit', 'patient', 'rule', 'indicator', 'outcome', 'window', 'from', 'to'] as const) {
     const value = (filters as Partial<Record<string, string>>)[name];
     if (value !== undefined) {
       params.set(name, value);

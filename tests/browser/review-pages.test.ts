@@ -24,7 +24,7 @@ const HAVE_CHROMIUM = existsSync(CHROMIUM);
 const IN_CI = process.env['CI'] !== undefined && process.env['CI'] !== '';
 const SCREENSHOTS = join(ROOT, 'test-output', 'screenshots');
 /** A page load, a form submit and a full-page screenshot each take a second or two on a shared machine. */
-const BROWSER_STEP_MS = 30_000;
+const BROWSER_STEP_MS = 60_000;
 
 /** Launch flags from the toolchain notes (shared/reference/toolchain.md, "Chromium for browser tests"). */
 const CHROMIUM_ARGS = [
@@ -84,11 +84,10 @@ async function shot(name: string): Promise<void> {
 async function listedRows(): Promise<{ uuid: string; unit: string; rule: string; outcome: string }[]> {
   return page.locator('#advisory-table tr[data-card-uuid]').evaluateAll((rows) =>
     rows.map((row) => {
-      const cells = row.querySelectorAll('td');
       return {
         uuid: row.getAttribute('data-card-uuid') ?? '',
-        unit: cells[1]?.textContent?.trim() ?? '',
-        rule: cells[2]?.textContent?.trim() ?? '',
+        unit: row.querySelector('td[data-col="unit"]')?.textContent?.trim() ?? '',
+        rule: row.querySelector('td[data-col="rule"]')?.textContent?.trim() ?? '',
         outcome: row.querySelector('td[data-outcome]')?.getAttribute('data-outcome') ?? '',
       };
     }),
@@ -171,6 +170,17 @@ describe.skipIf(!HAVE_CHROMIUM && !IN_CI)(
       expect(both.every((row) => row.outcome === 'overridden' && row.rule === rule)).toBe(true);
       expect(await listedTotal()).toBeLessThanOrEqual(overriddenTotal);
       await shot('list-filtered-outcome-rule');
+
+      // one patient: follow a row's patient link; every row then carries that patient's key
+      const patientLink = page.locator('#advisory-table tr[data-card-uuid] a[data-patient-key]').first();
+      const patientKey = (await patientLink.getAttribute('data-patient-key')) ?? '';
+      await Promise.all([page.waitForURL(/patient=/), patientLink.click()]);
+      const keys = await page
+        .locator('#advisory-table a[data-patient-key]')
+        .evaluateAll((links) => links.map((l) => l.getAttribute('data-patient-key') ?? ''));
+      expect(keys.length).toBeGreaterThan(0);
+      expect(keys.every((key) => key === patientKey)).toBe(true);
+      expect(await listedTotal()).toBe((await getJson<{ total: number }>(`/review/api/advisories?patient=${patientKey}`)).total);
     }, BROWSER_STEP_MS);
 
     it('opens an advisory whose chart has one point per SpO2 reading and the band where the axis puts the target', async () => {

@@ -114,3 +114,18 @@ describe('renderAdvisoryListPage', () => {
     expect(renderAdvisoryListPage(input([item(1)]))).not.toContain('id="unmatched-feedback"');
   });
 });
+
+describe('the patient column', () => {
+  it("links each row to that patient's advisories by the keyed pseudonym, never a name", () => {
+    const out = renderAdvisoryListPage(input([item(1, { patientKey: 'ab12cd34ef56ab12' }), item(2, { patientKey: '0011223344556677' })]));
+    const links = elementsWith(out, 'data-patient-key');
+    expect(links.map((l) => l['data-patient-key'])).toStrictEqual(['ab12cd34ef56ab12', '0011223344556677']);
+    expect(links.map((l) => l['href'])).toStrictEqual(['/review?patient=ab12cd34ef56ab12', '/review?patient=0011223344556677']);
+  });
+
+  it('keeps a patient filter in the form and says only one patient is shown', () => {
+    const out = renderAdvisoryListPage(input([item(1, { patientKey: 'ab12cd34ef56ab12' })], { patient: 'ab12cd34ef56ab12' }));
+    expect(out).toContain('<input type="hidden" name="patient" value="ab12cd34ef56ab12">');
+    expect(out).toMatch(/id="patient-filter">One patient only/);
+  });
+});

@@ -21,6 +21,20 @@ describe('parseListQuery', () => {
     });
   });
 
+  it("reads a patient key into the store query, so one patient's advisories can be listed", () => {
+    const key = '6075a676394c51993ee5eea68ddc9a61';
+    const parsed = parseListQuery({ patient: key }, context);
+    expect(parsed).toStrictEqual({
+      kind: 'ok',
+      filters: { patient: key, page: 1, pageSize: 25 },
+      query: { patientKey: key, limit: 25, offset: 0 },
+    });
+    expect(parsed.kind === 'ok' && filterQueryString(parsed.filters, 2)).toBe(`?patient=${key}&page=2`);
+    // A key is hexadecimal: a name or a record number is refused, never searched for.
+    expect(issuesOf({ patient: 'Jane Doe' })).toStrictEqual(['patient']);
+    expect(issuesOf({ patient: 'MRN00123' })).toStrictEqual(['patient']);
+  });
+
   it('treats empty form fields as any and ignores unknown parameters', () => {
     const parsed = parseListQuery({ unit: '', rule: ' ', utm_source: 'x', sort: 'desc' }, context);
     expect(parsed).toStrictEqual({ kind: 'ok', filters: { page: 1, pageSize: 25 }, query: { limit: 25, offset: 0 } });
