@@ -40,7 +40,7 @@ describe('renderAdvisoryListPage', () => {
 
   it('shows the time in the site zone, labelled', () => {
     const out = renderAdvisoryListPage(input([item(1)]));
-    expect(out).toContain('<td>12 Jul 2026, 14:05 BST</td>'); // 13:05 UTC in BST (Summer Time Act 1972)
+    expect(out).toContain('<td data-col="issued">12 Jul 2026, 14:05 BST</td>'); // 13:05 UTC in BST (Summer Time Act 1972)
   });
 
   it('shows the latest outcome: accepted, overridden with its reason display, or none yet', () => {
