@@ -1,4 +1,5 @@
 import Database from 'better-sqlite3';
+import { createGroupCommit } from './group-commit.js';
 import { migrate } from './migrations.js';
 import { prepareFeedbackWriter, prepareLatestRefresh } from './sqlite-feedback.js';
 import { prepareQueries } from './sqlite-queries.js';
@@ -14,8 +15,8 @@ export interface SqliteStoreOptions {
 }
 
 /**
- * Runs synchronous work and hands back its result, or its exception, as a promise. The work is done
- * (and committed) before this returns, so a caller's `await` resumes only after the commit.
+ * Runs synchronous work (a read, or the purge in its own transaction) and hands back its result, or
+ * its exception, as a promise. The work is done (and committed) before this returns.
  */
 function settled<T>(work: () => T): Promise<T> {
   return new Promise<T>((resolve) => {
@@ -27,8 +28,9 @@ function settled<T>(work: () => T): Promise<T> {
  * Opens (creating if needed) the embedded SQLite store and brings its schema up to date.
  *
  * Durability: WAL journal with `synchronous = FULL`, so every commit is fsynced to the WAL before
- * the call returns: an acknowledged write survives kill -9 and power loss (SQLite docs, "Write-Ahead
- * Logging" and "PRAGMA synchronous": NORMAL in WAL mode may lose the last commits on power loss).
+ * a write's promise resolves: an acknowledged write survives kill -9 and power loss (SQLite docs,
+ * "Write-Ahead Logging" and "PRAGMA synchronous": NORMAL in WAL mode may lose the last commits on
+ * power loss). The writes asked for in one event-loop turn share one commit (group-commit.ts).
  * Throws `StoreTooNewError` when the file was written by a newer release.
  */
 export function openSqliteStore(options: SqliteStoreOptions): Store {
@@ -75,14 +77,18 @@ function assembleStore(db: Database.Database): Store {
   const checkAndRememberJti = prepareReplayCheck(db);
   const queries = prepareQueries(db);
   const purge = preparePurge(db);
+  const group = createGroupCommit(db);
 
   let closed = false;
+  /** The hook's and the feedback route's writes share one commit per event-loop turn (group-commit.ts). */
+  const write = <T>(work: () => T): Promise<T> =>
+    closed ? Promise.reject(new Error('store: the store is closed')) : group.enqueue(work);
   return {
-    recordAdvisories: (records) => settled(() => recordAdvisories.immediate(records)),
+    recordAdvisories: (records) => write(() => recordAdvisories.immediate(records)),
     recordFeedback: (client, items, receivedAt, limits) =>
-      settled(() => recordFeedback(client, items, receivedAt, limits)),
+      write(() => recordFeedback(client, items, receivedAt, limits)),
     checkAndRememberJti: (clientKey, jti, expiresAt, now, maxPerClient) =>
-      settled(() => checkAndRememberJti(clientKey, jti, expiresAt, now, maxPerClient)),
+      write(() => checkAndRememberJti(clientKey, jti, expiresAt, now, maxPerClient)),
     listAdvisories: (query) => settled(() => queries.listAdvisories(query)),
     getAdvisory: (cardUuid) => settled(() => queries.getAdvisory(cardUuid)),
     listUnmatchedFeedback: (limit, offset) => settled(() => queries.listUnmatchedFeedback(limit, offset)),
@@ -96,6 +102,8 @@ function assembleStore(db: Database.Database): Store {
           return;
         }
         closed = true;
+        // Writes already asked for are committed (and their callers answered) before the close.
+        group.flushNow();
         // Fold the WAL back into the main file so the file alone is a complete copy.
         db.pragma('wal_checkpoint(TRUNCATE)');
         db.close();

@@ -200,6 +200,34 @@ describe('recordFeedback: the daily quota per client', () => {
     expect(next.kind).toBe('recorded');
   });
 
+  it('counts an earlier request of the same commit: of two concurrent requests that together pass the quota, the second is refused', async () => {
+    // Both are asked for in one event-loop turn, so they share one commit (group-commit.ts); the
+    // second must still see the first's records when it counts the day's quota.
+    const store = await storeWithCards(advisory(1), advisory(2), advisory(3), advisory(4));
+    const [first, second] = await Promise.all([
+      store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z'), accepted(2, '2026-03-14T09:41:00Z')], RECEIVED, limits),
+      store.recordFeedback(EHR, [accepted(3, '2026-03-14T09:41:00Z'), accepted(4, '2026-03-14T09:41:00Z')], RECEIVED, limits),
+    ]);
+    expect(first?.kind).toBe('recorded');
+    // 10:00Z to the next UTC midnight is 14 h = 50,400 s
+    expect(second).toStrictEqual({ kind: 'quota-exceeded', limit: 3, retryAfterS: 50_400 });
+    expect((await store.getAdvisory(card(2)))?.feedback).toHaveLength(1);
+    expect((await store.getAdvisory(card(3)))?.feedback).toStrictEqual([]);
+  });
+
+  it('answers a repeat asked for in the same commit as its first copy as a duplicate of it', async () => {
+    const store = await storeWithCards(advisory(1));
+    const item = accepted(1, '2026-03-14T09:41:00Z');
+    const [first, again] = await Promise.all([
+      store.recordFeedback(EHR, [item], RECEIVED, limits),
+      store.recordFeedback(EHR, [item], RECEIVED, limits),
+    ]);
+    expect(recorded(first).duplicates).toBe(0);
+    expect(recorded(again).duplicates).toBe(1);
+    expect(recorded(again).records).toStrictEqual(recorded(first).records);
+    expect((await store.getAdvisory(card(1)))?.feedback).toHaveLength(1);
+  });
+
   it('still answers a retry of records already held once the quota is used up', async () => {
     const store = await storeWithCards();
     const items = [1, 2, 3].map((n) => accepted(n, '2026-03-14T09:41:00Z'));
@@ -235,6 +263,23 @@ describe('recordFeedback: edge cases', () => {
       store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z'), accepted(2, 'yesterday teatime')], RECEIVED, GENEROUS),
     ).rejects.toThrow(/outcomeTimestamp/);
     expect((await store.getAdvisory(card(1)))?.feedback).toStrictEqual([]);
+  });
+
+  it('refuses only the request that cannot be stored when others share its commit', async () => {
+    const store = await storeWithCards(advisory(1), advisory(2), advisory(3));
+    const [before, broken, after] = await Promise.allSettled([
+      store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS),
+      store.recordFeedback(EHR, [accepted(2, '2026-03-14T09:41:00Z'), accepted(3, 'yesterday teatime')], RECEIVED, GENEROUS),
+      store.recordFeedback(EHR, [accepted(3, '2026-03-14T09:42:00Z')], RECEIVED, GENEROUS),
+    ]);
+    expect(before?.status).toBe('fulfilled');
+    expect(broken?.status).toBe('rejected');
+    expect(after?.status).toBe('fulfilled');
+    expect((await store.getAdvisory(card(1)))?.feedback).toHaveLength(1);
+    expect((await store.getAdvisory(card(2)))?.feedback).toStrictEqual([]);
+    expect((await store.getAdvisory(card(3)))?.feedback.map((f) => f.outcomeTimestamp)).toStrictEqual([
+      '2026-03-14T09:42:00Z',
+    ]);
   });
 
   it('keeps feedback on a card whose advisory retention has removed, flagged as unmatched', async () => {

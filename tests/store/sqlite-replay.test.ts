@@ -87,6 +87,14 @@ describe('checkAndRememberJti', () => {
     expect(answers.map((a) => a.kind).sort()).toStrictEqual(['fresh', 'replayed']);
   });
 
+  it('fills a share once across concurrent calls: only as many new ids as the share are fresh', async () => {
+    const store = memoryStore();
+    const answers = await Promise.all(
+      ['a', 'b', 'c', 'd'].map((id) => store.checkAndRememberJti(THEATRES.iss, id, T0 + 300_000, at(0), 2)),
+    );
+    expect(answers.map((a) => a.kind)).toStrictEqual(['fresh', 'fresh', 'client-full', 'client-full']);
+  });
+
   it("counts a client's live ids only, whichever way expired ones were removed", async () => {
     const store = memoryStore();
     // three short-lived ids fill a share of 3
