@@ -25,8 +25,10 @@ describe('o2check validate-policy', () => {
     writeFileSync(file, text);
     const run = await runO2check(['validate-policy', file]);
     expect(run.code).toBe(1);
-    expect(run.stdout).toContain('targets.standard: lowPercent must be below highPercent');
-    expect(run.stdout).toContain('thresholds.criticalSpo2BelowPercent');
-    expect(run.stdout).toContain('thresholds');
+    expect(run.stdout).toContain(': not valid: 3 errors, 0 warnings');
+    expect(run.stdout).toContain('targets.standard: the range 99–98 % is not ordered: lowPercent must be below highPercent');
+    expect(run.stdout).toContain('thresholds.criticalSpo2BelowPercent: is missing');
+    expect(run.stdout).toContain("thresholds.criticalSpo2Below: unknown key 'criticalSpo2Below'");
+    expect(run.stdout).toContain("fix: did you mean 'criticalSpo2BelowPercent'?");
   });
 });
