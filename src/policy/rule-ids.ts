@@ -38,10 +38,10 @@ function editDistance(a: string, b: string): number {
 
 /**
  * The nearest of `candidates` to `word`, when it is close enough to be a slip (a third of its length),
- * or the one candidate that `word` is the start of (`criticalSpo2Below` for `criticalSpo2BelowPercent`).
+ * or the one candidate that contains `word` (`criticalSpo2Below` for `criticalSpo2BelowPercent`).
  */
 export function nearest(word: string, candidates: readonly string[]): string | undefined {
-  const extended = candidates.filter((c) => c.startsWith(word) && word.length >= 4);
+  const extended = candidates.filter((c) => c.includes(word) && word.length >= 4);
   if (extended.length === 1) return extended[0];
   let best: { candidate: string; distance: number } | undefined;
   for (const candidate of candidates) {
