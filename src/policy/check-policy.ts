@@ -1,5 +1,5 @@
 import { CONDITION_KINDS, type ConditionKind, type Indicator } from '../core/types.js';
-import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS } from './rule-ids.js';
+import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS, SOMETIMES_CRITICAL_RULE_IDS } from './rule-ids.js';
 
 /**
  * The checks that protect patients beyond the schema: a file can have every key right and still aim
@@ -214,7 +214,10 @@ function checkRules(raw: unknown, out: PolicyCheck[]): void {
     const byDefault = defaultIndicatorOf(id);
     if (problem !== undefined) out.push(problem);
     else if (byDefault !== undefined && (indicator === 'info' || indicator === 'warning' || indicator === 'critical')) {
-      if (SEVERITY_RANK[indicator] < SEVERITY_RANK[byDefault]) {
+      // Lowered below its default, or, for a rule that is sometimes critical, held below critical: a
+      // severity entry replaces the indicator of every card the rule makes.
+      const sometimesCritical = SOMETIMES_CRITICAL_RULE_IDS.includes(id) && indicator !== 'critical';
+      if (SEVERITY_RANK[indicator] < SEVERITY_RANK[byDefault] || sometimesCritical) {
         changes.push({ ruleId: id, change: 'lowered', path: ['severity', id], words: `lowers it to ${indicator}` });
       }
     }
@@ -227,6 +230,20 @@ function checkRules(raw: unknown, out: PolicyCheck[]): void {
     );
     if (index >= 0) {
       used.add(index);
+      continue;
+    }
+    if (SOMETIMES_CRITICAL_RULE_IDS.includes(change.ruleId)) {
+      // Not critical by default, so a warning rather than an error: the file is used, the committee told.
+      out.push({
+        level: 'warning',
+        path: change.path,
+        message:
+          `'${change.ruleId}' gives a critical card in some situations (docs/clinical-basis.md); ` +
+          `this file ${change.words}, which hides those critical cards`,
+        fix:
+          'remove the entry, or record the decision: acknowledgements: ' +
+          `[{ ruleId: ${change.ruleId}, change: ${change.change}, reason: "...", by: "...", date: YYYY-MM-DD }]`,
+      });
       continue;
     }
     if (defaultIndicatorOf(change.ruleId) !== 'critical') continue;

@@ -12,6 +12,24 @@ export const RETIRED_RULE_IDS: Readonly<Record<string, { readonly replacedBy: st
   'sickle-cell-oxygen': { replacedBy: 'oxygen-without-hypoxaemia' },
 };
 
+/**
+ * Rules whose default indicator is not critical but which give a critical card in some situations
+ * (SpO2 far below target, a lower-oxygen order in current hypercapnia, CO poisoning with a target...).
+ * A severity entry replaces the indicator of every card a rule makes, so setting one of these to
+ * `warning` or `info`, or switching it off, hides those critical cards. Kept equal to the rules that
+ * write a critical indicator by tests/policy/rule-ids.test.ts.
+ */
+export const SOMETIMES_CRITICAL_RULE_IDS: readonly string[] = [
+  'carbon-monoxide-oximetry',
+  'high-oxygen-requirement',
+  'order-gives-less-oxygen',
+  'spo2-below-target',
+  'target-above-hypercapnic-range',
+  'target-one-sided',
+  'time-below-target',
+  'uncontrolled-oxygen-at-risk',
+];
+
 const DEFAULT_INDICATOR: ReadonlyMap<string, Indicator> = new Map(RULES.map((rule) => [rule.id, rule.defaultIndicator]));
 
 export function defaultIndicatorOf(ruleId: string): Indicator | undefined {

@@ -2,6 +2,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { RULES } from '../../src/core/rules/index.js';
 import { parsePolicyObject, parsePolicyText, type PolicyParse, type PolicyProblem } from '../../src/policy/parse-policy.js';
+import { SOMETIMES_CRITICAL_RULE_IDS } from '../../src/policy/rule-ids.js';
 import { policyWith } from './support/policy-sections.js';
 
 // Line and column numbers below were counted by hand from the lines each test writes at the top of its
@@ -179,7 +180,7 @@ describe('rule ids', () => {
   });
 
   it('accepts every registered id in both lists when no critical rule is touched', () => {
-    const quiet = RULES.filter((rule) => rule.defaultIndicator !== 'critical');
+    const quiet = RULES.filter((rule) => rule.defaultIndicator !== 'critical' && !SOMETIMES_CRITICAL_RULE_IDS.includes(rule.id));
     const result = parsePolicyText(
       policyWith(
         [`disabledRules: [${quiet.map((r) => r.id).join(', ')}]`, `severity: { ${quiet.map((r) => `${r.id}: critical`).join(', ')} }`],
@@ -255,6 +256,30 @@ describe('critical rules switched off or lowered', () => {
     const lines = acknowledged.map((line) => (line.includes('reason:') ? '    reason: ok' : line));
     const problem = at(problems(parsePolicyText(policyWith(lines, 'severity'))), 'acknowledgements.0.reason');
     expect([problem.line, problem.column]).toStrictEqual([6, 5]);
+  });
+
+  it.each(SOMETIMES_CRITICAL_RULE_IDS)('warns, and accepts the file, when %s is switched off or held below critical', (id) => {
+    // e.g. spo2-below-target: critical when SpO2 is far below target (docs/clinical-basis.md); a severity
+    // entry replaces the indicator of every card, so even its default, warning, hides the critical ones
+    const result = parsePolicyText(policyWith(['severity:', `  ${id}: warning`, `disabledRules: [${id}]`], 'severity', 'disabledRules'));
+    expect(result.kind).toBe('ok');
+    expect(result.warnings.map((w) => [w.path, w.line, w.column])).toStrictEqual([
+      [`severity.${id}`, 2, 3],
+      ['disabledRules.0', 3, 17],
+    ]);
+    expect(result.warnings[0]?.message).toContain('which hides those critical cards');
+    const acknowledged = parsePolicyText(
+      policyWith(
+        [
+          'severity:',
+          `  ${id}: warning`,
+          'acknowledgements:',
+          `  - { ruleId: ${id}, change: lowered, reason: "Our early-warning escalation already covers these patients" }`,
+        ],
+        'severity',
+      ),
+    );
+    expect(acknowledged.warnings).toStrictEqual([]);
   });
 
   it('needs no acknowledgement to raise a critical rule or to keep it critical', () => {

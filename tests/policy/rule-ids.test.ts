@@ -1,7 +1,13 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { RULES } from '../../src/core/rules/index.js';
-import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS } from '../../src/policy/rule-ids.js';
+import {
+  defaultIndicatorOf,
+  nearest,
+  registeredRuleIds,
+  RETIRED_RULE_IDS,
+  SOMETIMES_CRITICAL_RULE_IDS,
+} from '../../src/policy/rule-ids.js';
 
 const basis = readFileSync(new URL('../../docs/clinical-basis.md', import.meta.url), 'utf8');
 
@@ -27,6 +33,16 @@ describe('rule ids a policy may name', () => {
       expect(registeredRuleIds()).not.toContain(id);
       expect(registeredRuleIds()).toContain(replacedBy);
     }
+  });
+});
+
+describe('rules that are sometimes critical', () => {
+  it('are exactly the rules, not critical by default, whose source writes a critical indicator', () => {
+    const writesCritical = RULES.filter((rule) => {
+      const text = readFileSync(new URL(`../../src/core/rules/${rule.id}.ts`, import.meta.url), 'utf8');
+      return /indicator:[^,\n]*'critical'/.test(text) && rule.defaultIndicator !== 'critical';
+    }).map((rule) => rule.id);
+    expect([...SOMETIMES_CRITICAL_RULE_IDS].sort()).toStrictEqual(writesCritical.sort());
   });
 });
 
