@@ -154,6 +154,25 @@ describe('the critical SpO2 threshold', () => {
   });
 });
 
+describe('the format', () => {
+  it('suggests the key meant inside a section that has defaults', () => {
+    const result = parsePolicyText(policyWith(['titrationReview:', '  lookbackHour: 8']));
+    const unknown = at(problems(result), 'titrationReview.lookbackHour');
+    expect([unknown.line, unknown.column]).toStrictEqual([2, 3]);
+    expect(unknown.fix).toContain("did you mean 'lookbackHours'?");
+  });
+
+  it('suggests the accepted value nearest a misspelt one', () => {
+    const lines = [
+      'acknowledgements:',
+      '  - { ruleId: spo2-below-target, change: lowerd, reason: "Early-warning escalation covers these patients" }',
+    ];
+    const problem = at(problems(parsePolicyText(policyWith(lines))), 'acknowledgements.0.change');
+    // '  - { ruleId: spo2-below-target, ' is 33 characters: change at column 34
+    expect([problem.line, problem.column, problem.fix]).toStrictEqual([2, 34, "did you mean 'lowered'?"]);
+  });
+});
+
 describe('rule ids', () => {
   it('refuses a misspelt rule id in the disabled list, suggesting the real one (tried as a new user)', () => {
     const result = parsePolicyText(policyWith(['disabledRules:', '  - news2-scale2'], 'disabledRules'));
