@@ -2,7 +2,7 @@ import type { Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
-import { formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
+import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
@@ -139,6 +139,8 @@ async function startWithStore(
     policyVersion: files.policy.version,
     policyContentHash: files.policyContentHash,
     cardTemplates: files.templates.size,
+    policyAcknowledgements: files.policyAcknowledgements,
+    policyWarnings: files.policyWarnings.map(formatLoadProblem),
     dataDir: config.store.dataDir,
     ...review.summary,
   };

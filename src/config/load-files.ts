@@ -4,7 +4,7 @@ import { basename, join } from 'node:path';
 import { parseCardTemplate, type CardTemplate, type CardTemplates } from '../cds/card-templates.js';
 import { missingTemplates } from '../cds/evaluate-hook.js';
 import type { Policy } from '../core/policy.js';
-import { parsePolicyText } from '../policy/parse-policy.js';
+import { parsePolicyText, type PolicyAcknowledgement, type PolicyProblem } from '../policy/parse-policy.js';
 
 /**
  * Reads the policy file and every card template at start-up (the server and the CLI both use this).
@@ -18,6 +18,11 @@ export interface LoadProblem {
   /** Dot path inside the file, `(file)` for the file as a whole. */
   readonly path: string;
   readonly message: string;
+  /** How to put it right, when the checker knows. */
+  readonly fix?: string;
+  /** 1-based line and column in the file, when known. */
+  readonly line?: number;
+  readonly column?: number;
 }
 
 export type LoadedFiles =
@@ -27,6 +32,10 @@ export type LoadedFiles =
       /** sha256 of the policy file's bytes (hex): the audit trail names exactly which file judged a card. */
       readonly policyContentHash: string;
       readonly templates: CardTemplates;
+      /** Problems that do not stop the service; logged at start. */
+      readonly policyWarnings: readonly LoadProblem[];
+      /** Critical rules the policy switches off or lowers, with the recorded reasons; logged at start. */
+      readonly policyAcknowledgements: readonly PolicyAcknowledgement[];
     }
   | { readonly kind: 'invalid'; readonly problems: readonly LoadProblem[] };
 
@@ -47,6 +56,12 @@ function readFailure(error: unknown): string {
 interface LoadedPolicy {
   readonly policy: Policy;
   readonly contentHash: string;
+  readonly warnings: readonly LoadProblem[];
+  readonly acknowledgements: readonly PolicyAcknowledgement[];
+}
+
+function inFile(file: string, problem: PolicyProblem): LoadProblem {
+  return { file, ...problem };
 }
 
 async function loadPolicy(path: string, problems: LoadProblem[]): Promise<LoadedPolicy | undefined> {
@@ -59,11 +74,16 @@ async function loadPolicy(path: string, problems: LoadProblem[]): Promise<Loaded
   }
   const parsed = parsePolicyText(bytes.toString('utf8'));
   if (parsed.kind === 'invalid') {
-    problems.push(...parsed.problems.map((p) => ({ file: path, path: p.path, message: p.message })));
+    problems.push(...parsed.problems.map((p) => inFile(path, p)));
     return undefined;
   }
   // Hashed from the bytes read, not re-read later, so the hash is of the very text that was parsed.
-  return { policy: parsed.policy, contentHash: createHash('sha256').update(bytes).digest('hex') };
+  return {
+    policy: parsed.policy,
+    contentHash: createHash('sha256').update(bytes).digest('hex'),
+    warnings: parsed.warnings.map((p) => inFile(path, p)),
+    acknowledgements: parsed.acknowledgements,
+  };
 }
 
 async function loadCards(dir: string, problems: LoadProblem[]): Promise<Map<string, CardTemplate>> {
@@ -122,10 +142,23 @@ export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles>
   if (problems.length > 0 || loaded === undefined) {
     return { kind: 'invalid', problems };
   }
-  return { kind: 'ok', policy: loaded.policy, policyContentHash: loaded.contentHash, templates };
+  return {
+    kind: 'ok',
+    policy: loaded.policy,
+    policyContentHash: loaded.contentHash,
+    templates,
+    policyWarnings: loaded.warnings,
+    policyAcknowledgements: loaded.acknowledgements,
+  };
 }
 
-/** One problem a line: `file: path: message`. */
+/** One problem: `file:line:column: path: message` (`file: path: message` without a position), then its fix. */
+export function formatLoadProblem(p: LoadProblem): string {
+  const where = p.line === undefined ? `${p.file}:` : `${p.file}:${p.line}:${p.column ?? 1}:`;
+  return `${where} ${p.path}: ${p.message}${p.fix === undefined ? '' : ` (fix: ${p.fix})`}`;
+}
+
+/** One problem a line, as formatLoadProblem gives it. */
 export function formatLoadProblems(problems: readonly LoadProblem[]): string {
-  return problems.map((p) => `${p.file}: ${p.path}: ${p.message}`).join('\n');
+  return problems.map(formatLoadProblem).join('\n');
 }

@@ -7,7 +7,12 @@ import { CONDITION_KINDS } from '../core/types.js';
  * UCUM unit (`kPa` or `mm[Hg]`) and converted to mmHg when the file is loaded.
  */
 
-const percent = z.number().min(50).max(100);
+/**
+ * A target bound: whole SpO2 percent inside 70–100, the span over which pulse oximeters are held to
+ * their stated accuracy (ISO 80601-2-61: Arms within 4 % over SaO2 70–100 %). A range's order and the
+ * ranges' relation to each other are checked in check-policy.ts, with messages that say why.
+ */
+const percent = z.number().min(70).max(100);
 
 function isTimeZone(name: string): boolean {
   try {
@@ -18,11 +23,7 @@ function isTimeZone(name: string): boolean {
   }
 }
 
-export const SaturationRangeSchema = z
-  .strictObject({ lowPercent: percent, highPercent: percent })
-  .refine((r) => r.lowPercent < r.highPercent, {
-    message: 'lowPercent must be below highPercent',
-  });
+export const SaturationRangeSchema = z.strictObject({ lowPercent: percent, highPercent: percent });
 
 export const PressureSchema = z.strictObject({
   value: z.number().positive(),
@@ -36,6 +37,21 @@ export const ReferenceSchema = z.strictObject({
   citation: z.string().min(1),
   url: z.url().optional(),
 });
+
+/**
+ * The record of a committee's decision to switch off, or lower the indicator of, a rule whose cards are
+ * critical by default. Without one, such a change is refused (check-policy.ts); with one, the service
+ * starts and logs it, and `validate-policy` shows it.
+ */
+export const AcknowledgementSchema = z.strictObject({
+  ruleId: z.string().min(1),
+  change: z.enum(['disabled', 'lowered']),
+  reason: z.string().trim().min(10, 'give the reason in words, at least 10 characters'),
+  by: z.string().min(1).optional(),
+  date: z.iso.date().optional(),
+});
+
+export type Acknowledgement = z.infer<typeof AcknowledgementSchema>;
 
 export const PolicyFileSchema = z.strictObject({
   format: z.literal(1),
@@ -137,6 +153,7 @@ export const PolicyFileSchema = z.strictObject({
     }),
   severity: z.record(z.string(), IndicatorSchema).default({}),
   disabledRules: z.array(z.string()).default([]),
+  acknowledgements: z.array(AcknowledgementSchema).default([]),
   references: z.record(z.string(), ReferenceSchema),
   /**
    * Lines appended to every card. The advisory-only and pulse-oximetry lines are required by name, so

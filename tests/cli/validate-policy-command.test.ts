@@ -2,6 +2,7 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { policyWith } from '../policy/support/policy-sections.js';
 import { runO2check } from './cli-harness.js';
 
 const bundled = (name: string): string => new URL(`../../policies/${name}`, import.meta.url).pathname;
@@ -25,8 +26,71 @@ describe('o2check validate-policy', () => {
     writeFileSync(file, text);
     const run = await runO2check(['validate-policy', file]);
     expect(run.code).toBe(1);
-    expect(run.stdout).toContain('targets.standard: lowPercent must be below highPercent');
-    expect(run.stdout).toContain('thresholds.criticalSpo2BelowPercent');
-    expect(run.stdout).toContain('thresholds');
+    expect(run.stdout).toContain(': not valid: 3 errors, 0 warnings');
+    expect(run.stdout).toContain('targets.standard: the range 99–98 % is not ordered: lowPercent must be below highPercent');
+    expect(run.stdout).toContain('thresholds.criticalSpo2BelowPercent: is missing');
+    expect(run.stdout).toContain("thresholds.criticalSpo2Below: unknown key 'criticalSpo2Below'");
+    expect(run.stdout).toContain("fix: did you mean 'criticalSpo2BelowPercent'?");
+  });
+
+  it('refuses the dangerous file a new user tried, every problem with its line and column, and exits 1', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'o2check-policy-'));
+    const file = join(dir, 'larkspur-bay.yaml');
+    writeFileSync(
+      file,
+      policyWith(
+        [
+          'targets:',
+          '  standard: { lowPercent: 80, highPercent: 100 }',
+          '  hypercapnicRisk: { lowPercent: 96, highPercent: 99 }',
+          '  oxygenToxicityRisk: { lowPercent: 85, highPercent: 88 }', // BTS 2017, Table 3 (V2)
+          'severity: { acute-hypercapnic-acidosis: info }',
+          'disabledRules: [news2-scale2]',
+        ],
+        'targets',
+        'severity',
+        'disabledRules',
+      ),
+    );
+    const run = await runO2check(['validate-policy', file]);
+    expect(run.code).toBe(1);
+    // Lines counted by hand from the six lines written; the critical threshold is on line 30 (header
+    // 7-11, site 12-14, hypercapnicRisk 15-19, freshness 20-24, thresholds from 25, its 6th line).
+    expect(run.stdout).toContain(`${file}: not valid: 4 errors, 0 warnings`);
+    expect(run.stdout).toContain(`${file}:3:3: error: targets.hypercapnicRisk: the at-risk range 96–99 %`);
+    expect(run.stdout).toContain(`${file}:5:13: error: severity.acute-hypercapnic-acidosis:`);
+    expect(run.stdout).toContain(`${file}:6:17: error: disabledRules.0: 'news2-scale2' is not a rule id`);
+    expect(run.stdout).toContain("    fix: did you mean 'news2-scale-2'?");
+    expect(run.stdout).toContain(`${file}:30:3: error: thresholds.criticalSpo2BelowPercent:`);
+  });
+
+  it('accepts a file with warnings and an acknowledgement, shows both, and exits 0', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'o2check-policy-'));
+    const file = join(dir, 'larkspur-bay.yaml');
+    writeFileSync(
+      file,
+      policyWith(
+        [
+          'hypercapnicRisk:',
+          '  conditions: [copd, pregnancy]', // BTS 2017 Table 4 lists COPD, not pregnancy
+          '  hypercapniaPaco2AtLeast: { value: 6.0, unit: kPa }', // BTS 2017 clarification
+          '  chronicBicarbonateAboveMmolPerL: 28', // BTS 2017 (V2)
+          '  morbidObesityBmiAbove: 40', // BTS 2017 Table 4 (V2)
+          'disabledRules: [escalated-support-failing]',
+          'acknowledgements:',
+          '  - { ruleId: escalated-support-failing, change: disabled, reason: "Critical care outreach reviews every patient on high flow hourly", by: Oxygen committee }',
+        ],
+        'hypercapnicRisk',
+        'disabledRules',
+      ),
+    );
+    const run = await runO2check(['validate-policy', file]);
+    expect(run.code).toBe(0);
+    expect(run.stdout).toContain(`${file}: valid: larkspur-bay-test v1.0.0 (Larkspur Bay General Hospital test policy), 1 warning`);
+    expect(run.stdout).toContain(
+      '  acknowledged: escalated-support-failing disabled: Critical care outreach reviews every patient on high flow hourly; by Oxygen committee',
+    );
+    // '  conditions: [copd, ' is 21 characters: pregnancy at column 22
+    expect(run.stdout).toContain(`${file}:2:22: warning: hypercapnicRisk.conditions.1: 'pregnancy' is not known`);
   });
 });

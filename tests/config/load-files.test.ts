@@ -94,6 +94,43 @@ describe('loadPolicyAndCards', () => {
       });
     });
 
+    it('returns the policy warnings and acknowledgements, which do not stop the load', async () => {
+      const policyPath = join(scratch, 'acknowledged-policy.yaml');
+      writeFileSync(
+        policyPath,
+        readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8')
+          .replace('    - copd\n', '    - copd\n    - pregnancy\n') // BTS 2017 Table 4 does not list pregnancy
+          .replace('disabledRules: []', 'disabledRules: [acute-hypercapnic-acidosis]')
+          .replace(
+            /^acknowledgements: \[\].*$/m,
+            'acknowledgements: [{ ruleId: acute-hypercapnic-acidosis, change: disabled, reason: "Every gas is reviewed by outreach at once" }]',
+          ),
+      );
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      expect(files.kind).toBe('ok');
+      if (files.kind !== 'ok') return;
+      expect(files.policyAcknowledgements).toStrictEqual([
+        { ruleId: 'acute-hypercapnic-acidosis', change: 'disabled', reason: 'Every gas is reviewed by outreach at once' },
+      ]);
+      expect(files.policyWarnings.map((w) => [w.file, w.path])).toStrictEqual([[policyPath, 'hypercapnicRisk.conditions.1']]);
+      expect(files.policy.disabledRules).toStrictEqual(['acute-hypercapnic-acidosis']);
+    });
+
+    it('refuses a policy that switches off a critical rule without an acknowledgement, at its line', async () => {
+      const policyPath = join(scratch, 'unacknowledged-policy.yaml');
+      const text = readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8').replace('disabledRules: []', 'disabledRules: [escalated-support-failing]');
+      writeFileSync(policyPath, text);
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      expect(files.kind).toBe('invalid');
+      if (files.kind !== 'invalid') return;
+      // The line of `disabledRules:` in the bundled file, read from the text (the file is not ours to pin).
+      const line = text.split('\n').findIndex((l) => l.startsWith('disabledRules:')) + 1;
+      expect(files.problems.map((p) => [p.path, p.line, p.column])).toStrictEqual([['disabledRules.0', line, 17]]);
+      expect(formatLoadProblems(files.problems)).toMatch(
+        new RegExp(`^${policyPath}:${line}:17: disabledRules\\.0: 'escalated-support-failing' gives critical cards by default.*\\(fix: keep the rule`),
+      );
+    });
+
     it('formats problems one a line as file: path: message', () => {
       expect(
         formatLoadProblems([
@@ -104,6 +141,11 @@ describe('loadPolicyAndCards', () => {
         "/etc/o2check/policy.yaml: basis: 'nowhere' is not a key of references\n" +
           '/etc/o2check/cards/x.yaml: (file): cannot be read (EACCES)',
       );
+      expect(
+        formatLoadProblems([
+          { file: '/etc/o2check/policy.yaml', path: 'disabledRules.0', message: 'is wrong', fix: 'correct it', line: 80, column: 17 },
+        ]),
+      ).toBe('/etc/o2check/policy.yaml:80:17: disabledRules.0: is wrong (fix: correct it)');
     });
   });
 });

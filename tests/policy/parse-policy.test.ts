@@ -48,17 +48,19 @@ describe('parsePolicyText', () => {
       const paths = result.problems.map((p) => p.path);
       expect(paths).toContain('targets.standard');
       expect(paths).toContain('thresholds.highOxygenFio2AtLeast');
-      expect(paths).toContain('(root)');
+      expect(paths).toContain('unexpected');
     });
 
     it('refuses a basis that names no reference', () => {
       const raw = parseYaml(btsText) as Record<string, any>;
       raw.basis = 'nowhere';
       const result = parsePolicyObject(raw);
-      expect(result).toStrictEqual({
-        kind: 'invalid',
-        problems: [{ path: 'basis', message: "'nowhere' is not a key of references" }],
-      });
+      expect(result.kind).toBe('invalid');
+      if (result.kind !== 'invalid') return;
+      expect(result.problems.map(({ path, message }) => ({ path, message }))).toStrictEqual([
+        { path: 'basis', message: "'nowhere' is not a key of references" },
+      ]);
+      expect(result.problems[0]?.fix).toContain('bts-2017');
     });
 
     it('reports unreadable YAML as a problem rather than throwing', () => {
