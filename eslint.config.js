@@ -54,5 +54,5 @@ export default tseslint.config(
       '@typescript-eslint/no-explicit-any': 'off',
     },
   },
-  { files: ['eslint.config.js'], ...tseslint.configs.disableTypeChecked },
+  { files: ['eslint.config.js', 'src/store/store-worker-tsx.mjs'], ...tseslint.configs.disableTypeChecked },
 );

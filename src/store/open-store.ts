@@ -1,7 +1,7 @@
 import { accessSync, closeSync, constants, mkdirSync, openSync } from 'node:fs';
 import { join } from 'node:path';
 import { StoreTooNewError } from './migrations.js';
-import { openSqliteStore } from './sqlite-store.js';
+import { openWorkerStore } from './worker-store.js';
 import type { Store } from './store.js';
 
 /** The store's file name inside the data directory. */
@@ -40,7 +40,7 @@ export function openStore(options: OpenStoreOptions): OpenStoreResult {
     };
   }
   try {
-    return { kind: 'opened', store: openSqliteStore({ file }), file };
+    return { kind: 'opened', store: openWorkerStore({ file }), file };
   } catch (error) {
     if (error instanceof StoreTooNewError) {
       return { kind: 'refused', problem: error.message };

@@ -34,6 +34,15 @@ function settled<T>(work: () => T): Promise<T> {
  * Throws `StoreTooNewError` when the file was written by a newer release.
  */
 export function openSqliteStore(options: SqliteStoreOptions): Store {
+  return assembleStore(openSqliteDatabase(options));
+}
+
+/**
+ * The connection as the store uses it: lock wait, WAL, `synchronous = FULL`, foreign keys, schema
+ * migrated. Throws (having closed the connection) `StoreTooNewError` for a file written by a newer
+ * release, or SQLite's error for a file that is not a database.
+ */
+export function openSqliteDatabase(options: SqliteStoreOptions): Database.Database {
   const db = new Database(options.file);
   try {
     // The wait comes first, so switching to WAL and migrating also wait for another process's lock.
@@ -42,7 +51,7 @@ export function openSqliteStore(options: SqliteStoreOptions): Store {
     db.pragma('synchronous = FULL');
     db.pragma('foreign_keys = ON');
     migrate(db, options.file);
-    return assembleStore(db);
+    return db;
   } catch (error) {
     db.close();
     throw error;
