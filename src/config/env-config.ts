@@ -3,6 +3,8 @@ import { z } from 'zod';
 import { isLoopbackHost } from '../security/loopback.js';
 import { parsePublicBaseUrl } from '../security/public-url.js';
 import { bundledPath } from './package-root.js';
+import { REVIEW_VARIABLES } from './review-config.js';
+import { unknownVariables } from './unknown-variables.js';
 
 /**
  * The service's settings, read once from the environment at start-up, checked in full (every problem
@@ -16,10 +18,14 @@ export type LogLevel = (typeof LOG_LEVELS)[number];
 export const MODES = ['demo', 'production'] as const;
 export type Mode = (typeof MODES)[number];
 
+/** The prefix of the service's own variables: any other name with it is refused, not ignored. */
+export const CONFIG_PREFIX = 'O2CHECK_';
+
 /** Defaults in one place, each with its unit. */
 export const ENV_DEFAULTS = {
   HOST: '127.0.0.1', // loopback: the demo is not reachable from other machines unless asked
   PORT: 8080,
+  // Demo mode only (and the command line): production refuses to start without its own policy.
   O2CHECK_POLICY: bundledPath('policies', 'bts-2017.yaml'),
   O2CHECK_CARDS_DIR: bundledPath('cards'),
   LOG_LEVEL: 'info' as LogLevel,
@@ -217,7 +223,8 @@ function parseOrigins(text: string, ctx: z.RefinementCtx): '*' | readonly string
 const EnvSchema = z.object({
   HOST: textVar(ENV_DEFAULTS.HOST),
   PORT: integerVar(ENV_DEFAULTS.PORT, 0, 65_535),
-  O2CHECK_POLICY: textVar(ENV_DEFAULTS.O2CHECK_POLICY),
+  // Empty means unset: demo mode takes the bundled policy, production refuses (policyProblems).
+  O2CHECK_POLICY: textVar(''),
   O2CHECK_CARDS_DIR: textVar(ENV_DEFAULTS.O2CHECK_CARDS_DIR),
   LOG_LEVEL: textVar(ENV_DEFAULTS.LOG_LEVEL).pipe(
     z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }),
@@ -258,7 +265,33 @@ const EnvSchema = z.object({
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
 
+/**
+ * Every variable with the service's prefix that it reads: those parsed here and the review pages'
+ * (review-config.ts). A test checks that every such name in src/ is on this list.
+ */
+export const KNOWN_VARIABLES: readonly string[] = Object.freeze(
+  [...Object.keys(EnvSchema.shape).filter((name) => name.startsWith(CONFIG_PREFIX)), ...REVIEW_VARIABLES].sort(),
+);
+
 const SECURITY_DOC = 'see docs/security.md';
+
+/**
+ * A production service advises on real orders, so it runs the policy its site chose, never the demo's
+ * by default. Read from the raw environment, so it is listed beside any other problem.
+ */
+function policyProblems(env: Readonly<Record<string, string | undefined>>): EnvProblem[] {
+  const production = (env['O2CHECK_MODE'] ?? '').trim() === 'production';
+  if (!production || (env['O2CHECK_POLICY'] ?? '').trim() !== '') {
+    return [];
+  }
+  return [
+    {
+      variable: 'O2CHECK_POLICY',
+      message:
+        'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
+    },
+  ];
+}
 
 /** Demo mode must stay on loopback; production must have what token checks need. */
 function securityProblems(v: ParsedEnv): EnvProblem[] {
@@ -343,14 +376,21 @@ export function parseEnvConfig(
   env: Readonly<Record<string, string | undefined>>,
   cwd: string,
 ): EnvConfigParse {
+  // Listed with every other problem, so one start-up shows all that is wrong.
+  const policy = policyProblems(env);
+  const unknown = unknownVariables(env, KNOWN_VARIABLES, CONFIG_PREFIX);
   const parsed = EnvSchema.safeParse(env);
   if (!parsed.success) {
     return {
       kind: 'invalid',
-      problems: parsed.error.issues.map((issue) => ({
-        variable: issue.path.map(String).join('.') || '(environment)',
-        message: issue.message,
-      })),
+      problems: [
+        ...parsed.error.issues.map((issue) => ({
+          variable: issue.path.map(String).join('.') || '(environment)',
+          message: issue.message,
+        })),
+        ...policy,
+        ...unknown,
+      ],
     };
   }
   const v = parsed.data;
@@ -361,7 +401,7 @@ export function parseEnvConfig(
       message: 'must not be below O2CHECK_FHIR_CALL_TIMEOUT_MS',
     });
   }
-  problems.push(...securityProblems(v));
+  problems.push(...policy, ...securityProblems(v), ...unknown);
   if (problems.length > 0) {
     return { kind: 'invalid', problems };
   }
@@ -371,7 +411,7 @@ export function parseEnvConfig(
     config: deepFreeze({
       host: v.HOST,
       port: v.PORT,
-      policyPath: absolute(v.O2CHECK_POLICY),
+      policyPath: v.O2CHECK_POLICY === '' ? ENV_DEFAULTS.O2CHECK_POLICY : absolute(v.O2CHECK_POLICY),
       cardsDir: absolute(v.O2CHECK_CARDS_DIR),
       logLevel: v.LOG_LEVEL,
       bodyLimitBytes: v.O2CHECK_BODY_LIMIT_BYTES,

@@ -16,6 +16,15 @@ export const REVIEW_DEFAULTS = {
   REVIEW_LINK_SECRET_NAME: 'review-link.secret',
 } as const;
 
+/** Every variable this file reads beyond O2CHECK_DATA_DIR (env-config.ts); the known-name check uses it. */
+export const REVIEW_VARIABLES = [
+  'O2CHECK_REVIEW_IDENTITY_HEADER',
+  'O2CHECK_REVIEW_PROXY_ADDRESSES',
+  'O2CHECK_REVIEW_LINK_TTL_S',
+  'O2CHECK_REVIEW_LINK_SECRET_FILE',
+] as const;
+type ReviewVariable = (typeof REVIEW_VARIABLES)[number];
+
 /** Headers that mean something else on the way in; never an identity. */
 const RESERVED_HEADERS = new Set(['authorization', 'cookie', 'host', 'x-forwarded-for', 'forwarded', 'x-real-ip', 'content-type']);
 /** RFC 9110 §5.1 field-name: a token. */
@@ -35,7 +44,7 @@ export type ReviewConfigParse =
   | { readonly kind: 'ok'; readonly config: ReviewConfig }
   | { readonly kind: 'invalid'; readonly problems: readonly EnvProblem[] };
 
-function text(env: Readonly<Record<string, string | undefined>>, name: string): string {
+function text(env: Readonly<Record<string, string | undefined>>, name: ReviewVariable | 'O2CHECK_DATA_DIR'): string {
   return (env[name] ?? '').trim();
 }
 

@@ -1,6 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { bundledPath } from '../../src/config/package-root.js';
-import { ENV_DEFAULTS, formatEnvProblems, parseEnvConfig } from '../../src/config/env-config.js';
+import { ENV_DEFAULTS, formatEnvProblems, KNOWN_VARIABLES, parseEnvConfig } from '../../src/config/env-config.js';
+import { REVIEW_VARIABLES } from '../../src/config/review-config.js';
+
+const PRODUCTION = {
+  O2CHECK_MODE: 'production',
+  O2CHECK_TRUST: '/etc/o2check/trust.yaml',
+  O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+};
 
 describe('parseEnvConfig', () => {
   it('gives the documented defaults when nothing is set', () => {
@@ -118,7 +125,12 @@ describe('parseEnvConfig', () => {
     it('sends HSTS in production even when O2CHECK_BEHIND_TLS is not set, and not by default in demo mode', () => {
       // RFC 6797: HSTS tells browsers to use HTTPS only; production requires an https public URL.
       const production = parseEnvConfig(
-        { O2CHECK_MODE: 'production', O2CHECK_TRUST: 'trust.yaml', O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example' },
+        {
+          O2CHECK_MODE: 'production',
+          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
+          O2CHECK_TRUST: 'trust.yaml',
+          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+        },
         '/srv',
       );
       expect(production.kind === 'ok' && production.config.behindTls).toBe(true);
@@ -126,11 +138,16 @@ describe('parseEnvConfig', () => {
       expect(demo.kind === 'ok' && demo.config.behindTls).toBe(false);
     });
 
-    it('refuses production mode without a trust file or a public URL, naming both', () => {
+    it('refuses production mode without a policy, a trust file or a public URL, naming all three', () => {
       const result = parseEnvConfig({ O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, '/');
       expect(result).toStrictEqual({
         kind: 'invalid',
         problems: [
+          {
+            variable: 'O2CHECK_POLICY',
+            message:
+              'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
+          },
           {
             variable: 'O2CHECK_TRUST',
             message: 'production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)',
@@ -155,7 +172,12 @@ describe('parseEnvConfig', () => {
       ],
     ])('refuses O2CHECK_PUBLIC_URL=%s', (publicUrl, message) => {
       const result = parseEnvConfig(
-        { O2CHECK_MODE: 'production', O2CHECK_TRUST: '/etc/o2check/trust.yaml', O2CHECK_PUBLIC_URL: publicUrl },
+        {
+          O2CHECK_MODE: 'production',
+          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
+          O2CHECK_TRUST: '/etc/o2check/trust.yaml',
+          O2CHECK_PUBLIC_URL: publicUrl,
+        },
         '/',
       );
       expect(result).toStrictEqual({ kind: 'invalid', problems: [{ variable: 'O2CHECK_PUBLIC_URL', message }] });
@@ -165,6 +187,7 @@ describe('parseEnvConfig', () => {
       const result = parseEnvConfig(
         {
           O2CHECK_MODE: 'production',
+          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
           O2CHECK_TRUST: '/etc/o2check/trust.yaml',
           O2CHECK_PUBLIC_URL: 'https://apps.larkspur-bay.example/oxygen/',
         },
@@ -289,6 +312,7 @@ describe('parseEnvConfig', () => {
       const production = parseEnvConfig(
         {
           O2CHECK_MODE: 'production',
+          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
           O2CHECK_TRUST: 'trust.yaml',
           O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
           O2CHECK_REPLAY_MAX_PER_CLIENT: '250',
@@ -353,6 +377,116 @@ describe('parseEnvConfig', () => {
           { variable: 'LOG_LEVEL', message: 'must be one of fatal' },
         ]),
       ).toBe('PORT: must be a whole number from 0 to 65535\nLOG_LEVEL: must be one of fatal');
+    });
+  });
+
+  describe('the policy in production', () => {
+    it.each([
+      ['unset', undefined],
+      ['empty', ''],
+      ['blank', '   '],
+    ])('refuses production with O2CHECK_POLICY %s, even when everything else is set', (_label, policy) => {
+      const result = parseEnvConfig({ ...PRODUCTION, O2CHECK_POLICY: policy }, '/srv');
+      expect(result.kind === 'invalid' && result.problems).toStrictEqual([
+        {
+          variable: 'O2CHECK_POLICY',
+          message:
+            'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
+        },
+      ]);
+    });
+
+    it('accepts production with an explicit policy, even when it names the bundled file', () => {
+      const result = parseEnvConfig({ ...PRODUCTION, O2CHECK_POLICY: ENV_DEFAULTS.O2CHECK_POLICY }, '/srv');
+      expect(result.kind === 'ok' && result.config.policyPath).toBe(ENV_DEFAULTS.O2CHECK_POLICY);
+    });
+
+    it('keeps the bundled policy as the demo default, unset or empty', () => {
+      for (const env of [{}, { O2CHECK_POLICY: '' }, { O2CHECK_MODE: 'demo', O2CHECK_POLICY: ' ' }]) {
+        const result = parseEnvConfig(env, '/srv');
+        expect(result.kind === 'ok' && result.config.policyPath).toBe(bundledPath('policies', 'bts-2017.yaml'));
+      }
+    });
+
+    it('lists the missing policy beside problems in other variables', () => {
+      const result = parseEnvConfig({ ...PRODUCTION, PORT: 'eighty' }, '/srv');
+      expect(result.kind === 'invalid' && result.problems.map((p) => p.variable)).toStrictEqual(['PORT', 'O2CHECK_POLICY']);
+    });
+  });
+
+  describe('unknown variables with the service prefix', () => {
+    it('refuses a misspelt name in every mode, suggesting the nearest known name', () => {
+      for (const mode of [{}, { ...PRODUCTION, O2CHECK_POLICY: 'local/larkspur-bay.yaml' }]) {
+        const result = parseEnvConfig({ ...mode, O2CHECK_BODY_LIMIT_BYTE: '65536' }, '/srv');
+        expect(result.kind === 'invalid' && result.problems).toStrictEqual([
+          {
+            variable: 'O2CHECK_BODY_LIMIT_BYTE',
+            message: 'is not a setting of this service, so it would be ignored; did you mean O2CHECK_BODY_LIMIT_BYTES?',
+          },
+        ]);
+      }
+    });
+
+    it.each([
+      ['O2CHECK_PUBLC_URL', 'O2CHECK_PUBLIC_URL'], // a letter left out
+      ['O2CHECK_TRSUT', 'O2CHECK_TRUST'], // two letters swapped
+      ['O2CHECK_REVIEW_LINK_TTL', 'O2CHECK_REVIEW_LINK_TTL_S'], // a review-page setting without its unit
+      ['o2check_data_dir', 'O2CHECK_DATA_DIR'], // lower case: Linux environment names are case-sensitive
+      ['O2CHECK_PATIENT_KEYFILE', 'O2CHECK_PATIENT_KEY_FILE'], // a setting with no default
+    ])('refuses %s and suggests %s', (typo, known) => {
+      const result = parseEnvConfig({ [typo]: 'x' }, '/srv');
+      expect(result.kind === 'invalid' && result.problems).toStrictEqual([
+        { variable: typo, message: `is not a setting of this service, so it would be ignored; did you mean ${known}?` },
+      ]);
+    });
+
+    it('refuses a name close to none without guessing, and refuses it when empty too', () => {
+      const result = parseEnvConfig({ O2CHECK_COLOUR_SCHEME: '' }, '/srv');
+      expect(result.kind === 'invalid' && result.problems).toStrictEqual([
+        {
+          variable: 'O2CHECK_COLOUR_SCHEME',
+          message:
+            'is not a setting of this service, so it would be ignored; remove it, or use one of the settings listed in README.md ("Configuration") and docs/security.md',
+        },
+      ]);
+    });
+
+    it('ignores variables that belong to others', () => {
+      const others = {
+        PATH: '/usr/local/bin:/usr/bin:/bin',
+        HOME: '/home/larkspur',
+        NODE_ENV: 'production',
+        NODE_OPTIONS: '--max-old-space-size=512',
+        O2CHECKER_NOTE: 'another prefix',
+        MY_O2CHECK_POLICY: 'the prefix not at the start',
+      };
+      expect(parseEnvConfig(others, '/srv').kind).toBe('ok');
+    });
+
+    it('accepts every known variable at once, and lists every unknown one with the other problems', () => {
+      // Every review-page variable is known here, though review-config.ts checks their values.
+      const known = Object.fromEntries(REVIEW_VARIABLES.map((name) => [name, '']));
+      expect(parseEnvConfig(known, '/srv').kind).toBe('ok');
+      const result = parseEnvConfig(
+        { ...known, O2CHECK_MAX_CONCURENT: '4', O2CHECK_BEHIND_TLS: 'maybe', O2CHECK_CARD_DIR: 'cards' },
+        '/srv',
+      );
+      expect(result.kind === 'invalid' && result.problems.map((p) => [p.variable, p.message.split('; ')[1]])).toStrictEqual([
+        ['O2CHECK_BEHIND_TLS', undefined],
+        ['O2CHECK_CARD_DIR', 'did you mean O2CHECK_CARDS_DIR?'],
+        ['O2CHECK_MAX_CONCURENT', 'did you mean O2CHECK_MAX_CONCURRENT?'],
+      ]);
+    });
+
+    it('knows every default, the review pages and the settings that have no default', () => {
+      const expected = [
+        ...Object.keys(ENV_DEFAULTS).filter((name) => name.startsWith('O2CHECK_')),
+        ...REVIEW_VARIABLES,
+        'O2CHECK_TRUST',
+        'O2CHECK_PUBLIC_URL',
+        'O2CHECK_PATIENT_KEY_FILE',
+      ];
+      expect([...KNOWN_VARIABLES].sort()).toStrictEqual([...new Set(expected)].sort());
     });
   });
 });

@@ -63,6 +63,7 @@ describe('the demo seed at start', () => {
     const production = await startAndStop({
       PORT: '0',
       O2CHECK_MODE: 'production',
+      O2CHECK_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
       O2CHECK_TRUST: trustPath,
       O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
       O2CHECK_DATA_DIR: dataDir,

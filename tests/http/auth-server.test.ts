@@ -40,6 +40,7 @@ afterAll(async () => {
 const production = (extra: Record<string, string> = {}) => ({
   PORT: '0',
   O2CHECK_MODE: 'production',
+  O2CHECK_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
   O2CHECK_TRUST: trustPath,
   O2CHECK_PUBLIC_URL: PUBLIC_URL,
   O2CHECK_DATA_DIR: makeTempDataDir(),
@@ -85,10 +86,11 @@ describe('startServer and the two modes', () => {
     expect(log.lines()[0]).toMatchObject({ msg: `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`, mode: 'demo', level: 40 });
   });
 
-  it('refuses production without a trust file or a public URL', async () => {
+  it('refuses production without a policy, a trust file or a public URL', async () => {
     expect(await startServer({ PORT: '0', O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, ROOT)).toStrictEqual({
       kind: 'refused',
       problems:
+        'O2CHECK_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)\n' +
         'O2CHECK_TRUST: production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)\n' +
         'O2CHECK_PUBLIC_URL: production mode needs the https base URL clients call, e.g. https://cds.example.org (see docs/security.md)',
     });

@@ -127,6 +127,53 @@ describe('startServer', () => {
     });
   });
 
+  describe('the variables it is given', () => {
+    it('refuses production without an explicit policy, before opening anything', async () => {
+      const dataDir = join(makeTempDataDir(), 'never-created');
+      const result = await startServer(
+        {
+          PORT: '0',
+          O2CHECK_MODE: 'production',
+          O2CHECK_TRUST: join(ROOT, 'no-trust-file-needed-to-refuse.yaml'),
+          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+          O2CHECK_DATA_DIR: dataDir,
+        },
+        ROOT,
+        createLogger({ level: 'silent' }),
+      );
+      expect(result).toStrictEqual({
+        kind: 'refused',
+        problems:
+          'O2CHECK_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
+      });
+      expect(existsSync(dataDir)).toBe(false);
+    });
+
+    it('refuses a misspelt setting with a suggestion, listed with the other problems', async () => {
+      const result = await startServer(
+        { PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), O2CHECK_BODY_LIMIT_BYTE: '65536', LOG_LEVEL: 'loud' },
+        ROOT,
+        createLogger({ level: 'silent' }),
+      );
+      expect(result).toStrictEqual({
+        kind: 'refused',
+        problems:
+          'LOG_LEVEL: must be one of fatal, error, warn, info, debug, trace, silent\n' +
+          'O2CHECK_BODY_LIMIT_BYTE: is not a setting of this service, so it would be ignored; did you mean O2CHECK_BODY_LIMIT_BYTES?',
+      });
+    });
+
+    it('starts with the variables of the rest of the system around it', async () => {
+      const result = await startServer(
+        { PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), PATH: '/usr/bin:/bin', HOME: '/home/larkspur', NODE_ENV: 'production' },
+        ROOT,
+        createLogger({ level: 'silent' }),
+      );
+      if (result.kind !== 'started') throw new Error(result.problems);
+      await result.started.close();
+    });
+  });
+
   describe('edge cases', () => {
     it('runs as a process that stops cleanly on SIGTERM', async () => {
       const run = runServer({});
@@ -149,6 +196,16 @@ describe('startServer', () => {
         'oxygen-order-checker refused to start:\n/nonexistent/larkspur-bay-policy.yaml: (file): cannot be read (ENOENT)\n',
       );
       expect(exit.stdout).toBe('');
+    });
+
+    it('exits 1 on a misspelt setting, as a process', async () => {
+      const run = runServer({ O2CHECK_SHUTDOWN_GRACE: '500' });
+      const exit = await run.exit;
+      expect(exit.code).toBe(1);
+      expect(exit.stderr).toBe(
+        'oxygen-order-checker refused to start:\n' +
+          'O2CHECK_SHUTDOWN_GRACE: is not a setting of this service, so it would be ignored; did you mean O2CHECK_SHUTDOWN_GRACE_MS?\n',
+      );
     });
   });
 });
