@@ -16,10 +16,18 @@ export const OVERRIDE_REASON_SYSTEM = 'urn:oxygen-order-checker:override-reason'
 export const RULE_TOPIC_SYSTEM = 'urn:oxygen-order-checker:rule';
 /** CDS Hooks 2.0 §Card: summary "fewer than 140 characters". */
 export const SUMMARY_MAX_LENGTH = 139;
+/** Hex characters of the policy file's sha256 shown on a card: enough to tell two files apart at a glance. */
+export const SHORT_HASH_LENGTH = 12;
 
 export interface CardBuildContext {
   readonly template: CardTemplate;
   readonly policy: Policy;
+  /**
+   * sha256 (hex) of the policy file's bytes, computed where the file was read; its first
+   * {@link SHORT_HASH_LENGTH} characters go on the source label, so an edited file that kept its id and
+   * version is still told apart.
+   */
+  readonly policyContentHash?: string;
   readonly hookInstance: string;
   /** The draft resource `finding.orderReference` points at, when there is one. */
   readonly draftResource: FhirResource | undefined;
@@ -42,6 +50,16 @@ export interface CardBuildContext {
 function overlaps(a: OrderChange, b: OrderChange): boolean {
   const touchesFlow = (c: OrderChange): boolean => c.kind === 'set-flow' || c.kind === 'set-device';
   return a.kind === b.kind || (touchesFlow(a) && touchesFlow(b));
+}
+
+/**
+ * `source.label` (CDS Hooks 2.0 §Source: "a short, human-readable label"): the policy by title, id,
+ * version and short content hash, then the guideline it rests on.
+ */
+export function sourceLabel(policy: Policy, policyContentHash: string | undefined): string {
+  const hash = policyContentHash === undefined ? '' : ` #${policyContentHash.slice(0, SHORT_HASH_LENGTH)}`;
+  const basis = policy.references[policy.basisKey];
+  return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}`;
 }
 
 export interface CardReport {
@@ -181,7 +199,7 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
 
   const basis = ctx.policy.references[ctx.policy.basisKey];
   const source: Card['source'] = {
-    label: `${ctx.policy.title} (${ctx.policy.id} v${ctx.policy.version}) · ${basis?.label ?? ctx.policy.basisKey}`,
+    label: sourceLabel(ctx.policy, ctx.policyContentHash),
     ...(basis?.url === undefined ? {} : { url: basis.url }),
     topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
   };

@@ -99,6 +99,8 @@ export function evaluateHook(
   input: { readonly serviceId: string; readonly request: CdsRequest; readonly data: GatheredData },
   deps: {
     readonly policy: Policy;
+    /** sha256 (hex) of the policy file's bytes, read where the file was loaded; shown on every card. */
+    readonly policyContentHash?: string;
     readonly templates: CardTemplates;
     readonly now: Date;
     /** Also render each card's full workings (the CLI's `--workings`); off for the live service. */
@@ -140,6 +142,7 @@ export function evaluateHook(
     const report = buildCardReport(finding, {
       template,
       policy: deps.policy,
+      ...(deps.policyContentHash === undefined ? {} : { policyContentHash: deps.policyContentHash }),
       hookInstance: input.request.hookInstance,
       draftResource:
         finding.orderReference === undefined ? undefined : findDraftResource(draftOrders, finding.orderReference),

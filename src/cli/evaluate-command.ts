@@ -122,7 +122,13 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
   }
   const evaluation = evaluateHook(
     { serviceId, request: request.request, data: gathered.data },
-    { policy: loaded.policy, templates: loaded.templates, now, workings: options.workings === true },
+    {
+      policy: loaded.policy,
+      policyContentHash: loaded.policyContentHash,
+      templates: loaded.templates,
+      now,
+      workings: options.workings === true,
+    },
   );
   io.stdout(options.workings === true ? workingsText(evaluation) : `${JSON.stringify(evaluation.response, null, 2)}\n`);
   io.stderr(`o2check evaluate: ${evaluation.response.cards.length} card(s), evaluated as at ${now.toISOString()} with policy ${evaluation.policyId} v${evaluation.policyVersion}\n`);

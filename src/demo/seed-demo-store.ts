@@ -67,7 +67,7 @@ export async function evaluateDemoCall(
   }
   const evaluation = evaluateHook(
     { serviceId: service.id, request, data: gathered.data },
-    { policy: deps.policy, templates: deps.templates, now: call.issuedAt },
+    { policy: deps.policy, policyContentHash: deps.policyContentHash, templates: deps.templates, now: call.issuedAt },
   );
   const patientId = request.context['patientId'];
   return auditRecordsFor(

@@ -45,7 +45,7 @@ export interface AppDeps {
   readonly gather?: Gather;
   /** The service's memory: every card issued is recorded there, and feedback is committed there. */
   readonly store: Store;
-  /** sha256 of the policy file bytes (load-files.ts), recorded with every advisory. */
+  /** sha256 of the policy file bytes (load-files.ts): recorded with every advisory, on every card and log line. */
   readonly policyContentHash: string;
   /** The keyed hash that stands for the patient in the audit trail (src/store/patient-key.ts). */
   readonly patientKey: PatientKeyOf;
@@ -122,6 +122,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         templates: deps.templates,
         clock: deps.clock,
         logger: deps.logger,
+        policyContentHash: deps.policyContentHash,
       }),
     ),
   );
@@ -133,6 +134,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
       'service',
       serviceHandler({
         policy: deps.policy,
+        policyContentHash: deps.policyContentHash,
         templates: deps.templates,
         clock: deps.clock,
         gather,

@@ -82,6 +82,8 @@ export interface HookCallSummary {
   readonly ruleIds: readonly string[];
   readonly policyId: string;
   readonly policyVersion: string;
+  /** sha256 (hex) of the policy file's bytes: an edited file that kept its id and version is told apart. */
+  readonly policyContentHash: string;
   readonly cardCount: number;
   readonly fhirFallback: FallbackSummary;
   /** Optional prefetch keys that could not be had; the call went on without them. */
@@ -113,6 +115,8 @@ export interface FeedbackSummary {
   readonly serviceId: string;
   /** The authenticated client's issuer (from the trust file, or the demo's own). */
   readonly clientIss: string;
+  /** sha256 (hex) of the policy file's bytes the service was running on when the feedback came. */
+  readonly policyContentHash: string;
   readonly items: readonly FeedbackItemSummary[];
 }
 
@@ -164,6 +168,7 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
       ruleIds: [...detail.ruleIds],
       policyId: detail.policyId,
       policyVersion: detail.policyVersion,
+      policyContentHash: detail.policyContentHash,
       cardCount: detail.cardCount,
       fhirFallback: {
         used: detail.fhirFallback.used,
@@ -191,6 +196,7 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
   return {
     serviceId: detail.serviceId,
     clientIss: detail.clientIss,
+    policyContentHash: detail.policyContentHash,
     feedback: detail.items.map((item) => ({
       cardUuid: item.cardUuid,
       ...(item.ruleId === undefined ? {} : { ruleId: item.ruleId }),

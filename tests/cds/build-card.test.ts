@@ -1,8 +1,11 @@
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import {
   buildCard,
   buildCardReport,
   OVERRIDE_REASON_SYSTEM,
+  SHORT_HASH_LENGTH,
   truncateSummary,
   type CardBuildContext,
 } from '../../src/cds/build-card.js';
@@ -21,9 +24,14 @@ import {
 } from './support/card-inputs.js';
 
 const policy = bundledPolicy();
+// FIPS 180-4 SHA-256 of the exact bytes of the bundled policy file, as node:crypto computes it.
+const POLICY_HASH = createHash('sha256')
+  .update(readFileSync(new URL('../../policies/bts-2017.yaml', import.meta.url)))
+  .digest('hex');
 const ctx: CardBuildContext = {
   template,
   policy,
+  policyContentHash: POLICY_HASH,
   hookInstance: HOOK_INSTANCE,
   draftResource: draftServiceRequest,
   facts,
@@ -49,7 +57,7 @@ describe('buildCard', () => {
     expect(card.summary).toBe('Target 94–98 % ordered, but this patient is at risk of hypercapnia: 88–92 % advised');
     expect(card.indicator).toBe('critical');
     expect(card.source).toStrictEqual({
-      label: 'Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0) · BTS 2017',
+      label: `Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0 #${POLICY_HASH.slice(0, 12)}) · BTS 2017`,
       url: 'https://www.brit-thoracic.org.uk/',
       topic: { system: 'urn:oxygen-order-checker:rule', code: 'target-above-hypercapnic-range' },
     });
@@ -88,6 +96,14 @@ describe('buildCard', () => {
     ]);
     // No raw ISO time and no FHIR reference on the card: those are in the workings.
     expect(withInputs.detail).not.toMatch(/\d{4}-\d\d-\d\dT|Observation\//);
+  });
+
+  it('puts the short content hash it is given on the source label, and nothing where it has none', () => {
+    expect(SHORT_HASH_LENGTH).toBe(12);
+    const other = createHash('sha256').update('another policy file').digest('hex');
+    expect(buildCard(finding, { ...ctx, policyContentHash: other }).source.label).toContain(`v1.0.0 #${other.slice(0, 12)})`);
+    const { policyContentHash: _hash, ...unhashed } = ctx;
+    expect(buildCard(finding, unhashed).source.label).toContain('(bts-2017-default v1.0.0) · ');
   });
 
   it('names each source by its label, and the policy by id and version', () => {

@@ -1,4 +1,5 @@
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -75,6 +76,36 @@ describe('o2check evaluate', () => {
     const missing = response.cards.find((card) => ruleOf(card) === 'target-range-missing');
     // TSANZ 2015 (Respirology 20:1182): 92-96 % for most acute medical patients.
     expect(missing?.summary).toContain('92–96 %');
+  });
+
+  describe('the policy content hash on the source label', () => {
+    const bundled = new URL('../../policies/bts-2017.yaml', import.meta.url).pathname;
+    // FIPS 180-4 SHA-256 of the exact bytes given, as node:crypto computes it; 12 hex characters shown.
+    const shortHash = (bytes: Buffer): string => createHash('sha256').update(bytes).digest('hex').slice(0, 12);
+    const labels = async (policy: string): Promise<string[]> => {
+      const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--policy', policy]);
+      expect(run.code).toBe(0);
+      const cards = (JSON.parse(run.stdout) as { cards: Card[] }).cards;
+      expect(cards.length).toBeGreaterThan(0);
+      return [...new Set(cards.map((card) => card.source.label))];
+    };
+
+    it('names the file it read by the first 12 hex characters of its sha256 on every card', async () => {
+      expect(await labels(bundled)).toStrictEqual([
+        `Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0 #${shortHash(readFileSync(bundled))}) · BTS 2017`,
+      ]);
+    });
+
+    it('tells apart two files with the same id and version that differ by one byte', async () => {
+      const bytes = readFileSync(bundled);
+      const edited = Buffer.concat([bytes, Buffer.from('\n')]);
+      const copy = join(mkdtempSync(join(tmpdir(), 'o2check-hash-')), 'bts-2017-edited.yaml');
+      writeFileSync(copy, edited);
+      const [original, changed] = [await labels(bundled), await labels(copy)];
+      expect(changed).toHaveLength(1);
+      expect(changed[0]).toContain(`(bts-2017-default v1.0.0 #${shortHash(edited)})`);
+      expect(changed).not.toStrictEqual(original);
+    });
   });
 
   describe('edge cases', () => {

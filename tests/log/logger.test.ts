@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import {
   createLogger,
@@ -11,6 +12,8 @@ import { createMemoryLog } from './memory-log.js';
 // Invented demo values (Larkspur Bay General Hospital); none is a real person or token.
 const TOKEN = 'lbgh-demo-access-token-7f3a9c';
 const PATIENT_ID = 'lbgh-pt-000417';
+// Stands for the sha256 of a policy file's bytes; the logger passes it through unchanged.
+const POLICY_HASH = createHash('sha256').update('id: lb-o2\nversion: 1.0.0\n').digest('hex');
 
 const hookCall: HookCallSummary = {
   kind: 'hook-call',
@@ -20,6 +23,7 @@ const hookCall: HookCallSummary = {
   ruleIds: ['target-range-hypercapnic-risk'],
   policyId: 'bts-2017-default',
   policyVersion: '1.0.0',
+  policyContentHash: POLICY_HASH,
   cardCount: 1,
   fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
   missingKeys: ['encounter'],
@@ -122,6 +126,7 @@ describe('logRequestSummary', () => {
       ruleIds: ['target-range-hypercapnic-risk'],
       policyId: 'bts-2017-default',
       policyVersion: '1.0.0',
+      policyContentHash: POLICY_HASH,
       cardCount: 1,
       fhirFallback: { used: true, keysFetched: ['observations'], keysFailed: [], keysIncomplete: [] },
       missingKeys: ['encounter'],
@@ -161,6 +166,7 @@ describe('logRequestSummary', () => {
         kind: 'feedback',
         serviceId: 'oxygen-order-sign',
         clientIss: 'https://ehr.larkspur-bay.example',
+        policyContentHash: POLICY_HASH,
         items: [
           {
             cardUuid: '0a7c0cf8-4f5c-5c7e-9d51-6f1e0b3c2a11',
@@ -183,6 +189,7 @@ describe('logRequestSummary', () => {
       },
     });
     expect(log.lines()[0]?.['clientIss']).toBe('https://ehr.larkspur-bay.example');
+    expect(log.lines()[0]?.['policyContentHash']).toBe(POLICY_HASH);
     expect(log.lines()[0]?.['feedback']).toStrictEqual([
       {
         cardUuid: '0a7c0cf8-4f5c-5c7e-9d51-6f1e0b3c2a11',

@@ -16,6 +16,8 @@ import type { RouteHandler } from '../respond.js';
 
 export interface ServiceRouteDeps {
   readonly policy: Policy;
+  /** sha256 (hex) of the policy file's bytes: on every card's source label and every hook-call log line. */
+  readonly policyContentHash: string;
   readonly templates: CardTemplates;
   readonly clock: () => Date;
   readonly gather: Gather;
@@ -56,6 +58,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       ruleIds: [],
       policyId: deps.policy.id,
       policyVersion: deps.policy.version,
+      policyContentHash: deps.policyContentHash,
       cardCount: 0,
       fhirFallback: fallback,
       missingKeys: [],
@@ -76,7 +79,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
     const now = deps.clock();
     const result = evaluateHook(
       { serviceId: service.id, request, data: gathered.data },
-      { policy: deps.policy, templates: deps.templates, now },
+      { policy: deps.policy, policyContentHash: deps.policyContentHash, templates: deps.templates, now },
     );
     await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res);
     const linkFor = deps.reviewLinkFor;

@@ -15,6 +15,8 @@ export interface FeedbackRouteDeps {
   readonly templates: CardTemplates;
   readonly clock: () => Date;
   readonly logger: Logger;
+  /** sha256 (hex) of the policy file's bytes the service runs on: named on the feedback log line. */
+  readonly policyContentHash: string;
 }
 
 /** Our card uuids are RFC 9562 UUIDs (stable-uuid.ts); anything else a caller sent is not logged. */
@@ -151,7 +153,7 @@ export function feedbackHandler(deps: FeedbackRouteDeps): RouteHandler {
         alreadyRecorded: write.duplicates,
         unknownCards: write.records.filter((record) => !record.knownCard).length,
       },
-      detail: { kind: 'feedback', serviceId, clientIss: iss, items: summaries },
+      detail: { kind: 'feedback', serviceId, clientIss: iss, policyContentHash: deps.policyContentHash, items: summaries },
     };
   };
 }
