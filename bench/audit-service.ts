@@ -50,7 +50,7 @@ async function main(arm: AuditArm, codeRoot: string): Promise<void> {
   if (config.security.mode !== 'demo') {
     refuse('this bench entry runs in demo mode only (O2CHECK_MODE=demo)');
   }
-  const reviewParsed = parseReviewConfig(process.env, process.cwd(), config.security.mode);
+  const reviewParsed = parseReviewConfig(process.env, process.cwd(), config.security.mode, config.store.dataDir);
   if (reviewParsed.kind === 'invalid') {
     refuse(formatEnvProblems(reviewParsed.problems));
   }

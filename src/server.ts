@@ -54,7 +54,7 @@ export async function startServer(
     return { kind: 'refused', problems: formatEnvProblems(parsedEnv.problems) };
   }
   const config = parsedEnv.config;
-  const reviewParsed = parseReviewConfig(env, cwd, config.security.mode);
+  const reviewParsed = parseReviewConfig(env, cwd, config.security.mode, config.store.dataDir);
   if (reviewParsed.kind === 'invalid') {
     return { kind: 'refused', problems: formatEnvProblems(reviewParsed.problems) };
   }

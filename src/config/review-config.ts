@@ -12,11 +12,10 @@ export const REVIEW_DEFAULTS = {
   // shift and the handover after, short enough that a link copied into a note or a browser history
   // stops working the next day. The proxy sign-in is the way in after that.
   O2CHECK_REVIEW_LINK_TTL_S: 86_400, // seconds
-  O2CHECK_DATA_DIR: 'data', // relative to the working directory
   REVIEW_LINK_SECRET_NAME: 'review-link.secret',
 } as const;
 
-/** Every variable this file reads beyond O2CHECK_DATA_DIR (env-config.ts); the known-name check uses it. */
+/** Every variable this file reads (the data directory comes from env-config.ts); the known-name check uses it. */
 export const REVIEW_VARIABLES = [
   'O2CHECK_REVIEW_IDENTITY_HEADER',
   'O2CHECK_REVIEW_PROXY_ADDRESSES',
@@ -44,11 +43,17 @@ export type ReviewConfigParse =
   | { readonly kind: 'ok'; readonly config: ReviewConfig }
   | { readonly kind: 'invalid'; readonly problems: readonly EnvProblem[] };
 
-function text(env: Readonly<Record<string, string | undefined>>, name: ReviewVariable | 'O2CHECK_DATA_DIR'): string {
+function text(env: Readonly<Record<string, string | undefined>>, name: ReviewVariable): string {
   return (env[name] ?? '').trim();
 }
 
-export function parseReviewConfig(env: Readonly<Record<string, string | undefined>>, cwd: string, mode: Mode): ReviewConfigParse {
+/** `dataDir` is the store's data directory as env-config.ts read it (absolute): the one place it is read. */
+export function parseReviewConfig(
+  env: Readonly<Record<string, string | undefined>>,
+  cwd: string,
+  mode: Mode,
+  dataDir: string,
+): ReviewConfigParse {
   const problems: EnvProblem[] = [];
   const header = text(env, 'O2CHECK_REVIEW_IDENTITY_HEADER');
   const addressText = text(env, 'O2CHECK_REVIEW_PROXY_ADDRESSES');
@@ -88,14 +93,13 @@ export function parseReviewConfig(env: Readonly<Record<string, string | undefine
   }
   const absolute = (path: string): string => (isAbsolute(path) ? path : resolve(cwd, path));
   const secretFile = text(env, 'O2CHECK_REVIEW_LINK_SECRET_FILE');
-  const dataDir = text(env, 'O2CHECK_DATA_DIR') || REVIEW_DEFAULTS.O2CHECK_DATA_DIR;
   return {
     kind: 'ok',
     config: Object.freeze({
       ...(header === '' ? {} : { identityHeader: header.toLowerCase() }),
       proxyAddresses: Object.freeze(addresses.map(normalisePeerAddress)),
       linkTtlS,
-      linkSecretPath: secretFile === '' ? join(absolute(dataDir), REVIEW_DEFAULTS.REVIEW_LINK_SECRET_NAME) : absolute(secretFile),
+      linkSecretPath: secretFile === '' ? join(dataDir, REVIEW_DEFAULTS.REVIEW_LINK_SECRET_NAME) : absolute(secretFile),
       createLinkSecret: secretFile === '',
     }),
   };

@@ -2,15 +2,17 @@ import { describe, expect, it } from 'vitest';
 import { parseReviewConfig, REVIEW_DEFAULTS } from '../../src/config/review-config.js';
 
 const CWD = '/srv/o2check';
+// As env-config.ts resolves the default O2CHECK_DATA_DIR (`./data`) against the working directory.
+const DATA_DIR = '/srv/o2check/data';
 
 function problems(env: Record<string, string>, mode: 'demo' | 'production' = 'production'): string[] {
-  const parsed = parseReviewConfig(env, CWD, mode);
+  const parsed = parseReviewConfig(env, CWD, mode, DATA_DIR);
   return parsed.kind === 'invalid' ? parsed.problems.map((p) => p.variable) : [];
 }
 
 describe('parseReviewConfig', () => {
   it('defaults to a one-day link and the data directory secret, created on first start', () => {
-    expect(parseReviewConfig({}, CWD, 'production')).toStrictEqual({
+    expect(parseReviewConfig({}, CWD, 'production', DATA_DIR)).toStrictEqual({
       kind: 'ok',
       config: { proxyAddresses: [], linkTtlS: 86_400, linkSecretPath: '/srv/o2check/data/review-link.secret', createLinkSecret: true },
     });
@@ -24,10 +26,10 @@ describe('parseReviewConfig', () => {
         O2CHECK_REVIEW_PROXY_ADDRESSES: '10.20.0.5, ::ffff:10.20.0.6,2001:db8::7',
         O2CHECK_REVIEW_LINK_TTL_S: '3600',
         O2CHECK_REVIEW_LINK_SECRET_FILE: 'secrets/review.key',
-        O2CHECK_DATA_DIR: '/var/lib/o2check',
       },
       CWD,
       'production',
+      '/var/lib/o2check',
     );
     expect(parsed).toStrictEqual({
       kind: 'ok',
@@ -41,8 +43,8 @@ describe('parseReviewConfig', () => {
     });
   });
 
-  it('puts the secret in O2CHECK_DATA_DIR when no file is configured', () => {
-    const parsed = parseReviewConfig({ O2CHECK_DATA_DIR: '/var/lib/o2check' }, CWD, 'production');
+  it('puts the secret in the data directory (O2CHECK_DATA_DIR) when no file is configured', () => {
+    const parsed = parseReviewConfig({}, CWD, 'production', '/var/lib/o2check');
     expect(parsed.kind === 'ok' && parsed.config.linkSecretPath).toBe('/var/lib/o2check/review-link.secret');
   });
 

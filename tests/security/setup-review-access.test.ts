@@ -12,7 +12,7 @@ const CARD = '00000000-0000-4000-8000-000000000001';
 describe('setUpReviewAccess', () => {
   const tempDir = useTempDirs();
   function config(env: Record<string, string>, cwd: string, mode: 'demo' | 'production'): ReviewConfig {
-    const parsed = parseReviewConfig(env, cwd, mode);
+    const parsed = parseReviewConfig(env, cwd, mode, cwd);
     if (parsed.kind !== 'ok') {
       throw new Error(JSON.stringify(parsed.problems));
     }
@@ -32,7 +32,7 @@ describe('setUpReviewAccess', () => {
 
   it('in production creates the link secret in the data directory and signs links against the public URL', () => {
     const dir = tempDir();
-    const env = { O2CHECK_DATA_DIR: dir, O2CHECK_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.20.0.5' };
+    const env = { O2CHECK_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.20.0.5' };
     const setup = setUpReviewAccess({ mode: 'production', config: config(env, dir, 'production'), publicUrl: 'https://cds.larkspur-bay.example', clock: () => NOW });
     expect(setup.kind).toBe('ready');
     if (setup.kind !== 'ready' || setup.review.access.mode !== 'production') {
