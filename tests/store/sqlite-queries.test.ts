@@ -1,5 +1,4 @@
-import { afterEach, describe, expect, it } from 'vitest';
-import { openSqliteStore } from '../../src/store/sqlite-store.js';
+import { describe, expect, it } from 'vitest';
 import type { Store } from '../../src/store/store.js';
 import {
   accepted,
@@ -12,25 +11,14 @@ import {
   THEATRES,
   WARD_7,
 } from './support/fixtures.js';
+import { useSqliteStores } from './support/sqlite-stores.js';
 
 const RECEIVED = new Date('2026-03-14T10:00:00Z');
-const open: Store[] = [];
-
-function memoryStore(): Store {
-  const store = openSqliteStore({ file: ':memory:' });
-  open.push(store);
-  return store;
-}
-
-afterEach(async () => {
-  for (const store of open.splice(0)) {
-    await store.close();
-  }
-});
+const trackedStore = useSqliteStores();
 
 describe('listAdvisories', () => {
   async function seeded(): Promise<Store> {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([
       advisory(1, { issuedAt: '2026-03-14T08:00:00Z' }),
       advisory(2, { issuedAt: '2026-03-14T09:00:00Z', ruleId: 'spo2-below-target', indicator: 'critical' }),
@@ -114,7 +102,7 @@ describe('listAdvisories', () => {
 
 describe('getAdvisory', () => {
   it('gives the feedback of the client the card was issued to, oldest outcome first', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([advisory(1)]);
     await store.recordFeedback(EHR, [overridden(1, '2026-03-14T09:50:00Z')], RECEIVED, GENEROUS);
     await store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:45:00Z')], RECEIVED, GENEROUS);
@@ -135,7 +123,7 @@ describe('getAdvisory', () => {
 
 describe('summarise', () => {
   it('counts per rule and unit what was fired, accepted, overridden and left, by latest outcome', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([
       advisory(1),
       advisory(2),
@@ -189,7 +177,7 @@ describe('summarise', () => {
   });
 
   it('groups advisories that named no unit under the empty unit', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     const { unit: _unit, ...noUnit } = advisory(1);
     await store.recordAdvisories([noUnit]);
     expect(await store.summarise({})).toStrictEqual([

@@ -1,9 +1,8 @@
 import { spawn } from 'node:child_process';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { openSqliteStore } from '../../src/store/sqlite-store.js';
-import type { Store } from '../../src/store/store.js';
 import {
   accepted,
   advisory,
@@ -14,26 +13,15 @@ import {
   THEATRES,
   WARD_7,
 } from './support/fixtures.js';
+import { useSqliteStores } from './support/sqlite-stores.js';
 import { useTempDirs } from './support/temp-dir.js';
 
 const RECEIVED = new Date('2026-03-14T10:00:00Z');
-const open: Store[] = [];
-
-function memoryStore(): Store {
-  const store = openSqliteStore({ file: ':memory:' });
-  open.push(store);
-  return store;
-}
-
-afterEach(async () => {
-  for (const store of open.splice(0)) {
-    await store.close();
-  }
-});
+const trackedStore = useSqliteStores();
 
 describe('openSqliteStore: the audit trail', () => {
   it('gives back every field of a recorded advisory, unit and tenant included or left out', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     const withUnit = advisory(1, { client: { iss: EHR.iss, tenant: 'north-site' } });
     const { unit: _unit, ...withoutUnit } = advisory(2, { ruleId: 'spo2-below-target', indicator: 'critical' });
     await store.recordAdvisories([withUnit, withoutUnit]);
@@ -44,7 +32,7 @@ describe('openSqliteStore: the audit trail', () => {
   });
 
   it('records a retried hook call once: a card uuid already held is left as it was', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([advisory(1)]);
     await store.recordAdvisories([advisory(1, { summary: 'a retry computed later' }), advisory(2)]);
 
@@ -54,7 +42,7 @@ describe('openSqliteStore: the audit trail', () => {
   });
 
   it('records all cards of a call or none of them', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await expect(
       store.recordAdvisories([advisory(1), advisory(2, { issuedAt: 'not a time' })]),
     ).rejects.toThrow(/issuedAt/);
@@ -63,7 +51,7 @@ describe('openSqliteStore: the audit trail', () => {
   });
 
   it('is empty until the first advisory, and stays not-empty after a purge removed it', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     expect(await store.isEmpty()).toBe(true);
     await store.recordAdvisories([advisory(1)]);
     expect(await store.isEmpty()).toBe(false);
@@ -78,7 +66,7 @@ describe('openSqliteStore: purge by retention', () => {
   const NOW = new Date('2026-04-13T00:00:00Z');
 
   it('removes advisories issued before the cutoff with all their feedback, and keeps the rest', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([
       advisory(1, { issuedAt: '2026-03-13T23:59:59.999Z' }),
       advisory(2, { issuedAt: '2026-03-14T00:00:00.000Z' }),
@@ -94,7 +82,7 @@ describe('openSqliteStore: purge by retention', () => {
   });
 
   it("removes feedback received before the cutoff and works out the kept advisory's latest outcome again", async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([advisory(1, { issuedAt: '2026-03-14T09:00:00Z' })]);
     // An advisory issued in the window with feedback stamped as received earlier (a clock step back)
     await store.recordFeedback(EHR, [overridden(1, '2026-03-14T09:10:00Z')], new Date('2026-03-13T12:00:00Z'), GENEROUS);
@@ -109,7 +97,7 @@ describe('openSqliteStore: purge by retention', () => {
   });
 
   it('removes unmatched feedback received before the cutoff', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordFeedback(THEATRES, [accepted(8, '2026-03-13T09:00:00Z')], new Date('2026-03-13T09:00:00Z'), GENEROUS);
     await store.recordFeedback(THEATRES, [accepted(9, '2026-03-14T09:00:00Z')], new Date('2026-03-14T09:00:00Z'), GENEROUS);
     expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 0, feedback: 1, replayIds: 0 });
@@ -117,7 +105,7 @@ describe('openSqliteStore: purge by retention', () => {
   });
 
   it('changes nothing when everything is inside the retention window', async () => {
-    const store = memoryStore();
+    const store = trackedStore();
     await store.recordAdvisories([advisory(1)]);
     await store.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS);
     expect(await store.purge(CUTOFF, NOW)).toStrictEqual({ advisories: 0, feedback: 0, replayIds: 0 });
@@ -138,8 +126,7 @@ describe('openSqliteStore: durability on disk', () => {
     await first.close();
     await first.close();
 
-    const again = openSqliteStore({ file });
-    open.push(again);
+    const again = trackedStore(file);
     expect((await again.listAdvisories({ limit: 10, offset: 0 })).total).toBe(2);
     expect((await again.getAdvisory(card(1)))?.feedback).toHaveLength(1);
     expect((await again.listUnmatchedFeedback(10, 0)).total).toBe(1);
@@ -176,8 +163,7 @@ describe('openSqliteStore: durability on disk', () => {
       });
     });
 
-    const after = openSqliteStore({ file });
-    open.push(after);
+    const after = trackedStore(file);
     const page = await after.listAdvisories({ outcome: 'accepted', limit: 1, offset: 0 });
     // every acknowledged card and its feedback is there; the one in flight may or may not be
     expect(page.total).toBeGreaterThanOrEqual(acknowledged);
@@ -188,8 +174,7 @@ describe('openSqliteStore: durability on disk', () => {
 
   it('keeps the file in WAL mode, so the review pages read while the hook writes', () => {
     const file = join(tempDir(), 'audit.sqlite');
-    const store = openSqliteStore({ file });
-    open.push(store);
+    trackedStore(file);
     const raw = new Database(file, { readonly: true });
     // SQLite, "Write-Ahead Logging": WAL mode persists in the database file
     expect(raw.pragma('journal_mode', { simple: true })).toBe('wal');
@@ -198,9 +183,8 @@ describe('openSqliteStore: durability on disk', () => {
 
   it("shares one file between two open stores: each sees the other's commits and replay ids", async () => {
     const file = join(tempDir(), 'audit.sqlite');
-    const one = openSqliteStore({ file });
-    const two = openSqliteStore({ file });
-    open.push(one, two);
+    const one = trackedStore(file);
+    const two = trackedStore(file);
     await one.recordAdvisories([advisory(1)]);
     await two.recordFeedback(EHR, [accepted(1, '2026-03-14T09:41:00Z')], RECEIVED, GENEROUS);
     expect((await one.getAdvisory(card(1)))?.feedback).toHaveLength(1);
