@@ -48,7 +48,7 @@ async function main(arm: AuditArm, codeRoot: string): Promise<void> {
   }
   const config = parsedEnv.config;
   if (config.security.mode !== 'demo') {
-    refuse('this bench entry runs in demo mode only (O2CHECK_MODE=demo)');
+    refuse('this bench entry runs in demo mode only (OXYGEN_CHECKER_MODE=demo)');
   }
   const reviewParsed = parseReviewConfig(process.env, process.cwd(), config.security.mode, config.store.dataDir);
   if (reviewParsed.kind === 'invalid') {

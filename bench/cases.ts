@@ -4,7 +4,7 @@ import { requestMoment, retimeRequest } from '../src/cli/retime-request.js';
 
 /**
  * The example hook calls the bench sends, each moved to `now` with the CLI's retime logic (as
- * `o2check retime` does), so no observation is stale and the service judges them as a live call.
+ * `oxygen-order-checker retime` does), so no observation is stale and the service judges them as a live call.
  */
 export interface HookExample {
   /** The file name without `.json`, e.g. `order-sign-copd-acidosis-venturi`. */

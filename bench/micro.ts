@@ -24,8 +24,8 @@ export interface LoadedFiles {
 
 export async function loadBundledFiles(): Promise<LoadedFiles> {
   const loaded = await loadPolicyAndCards({
-    policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
-    cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+    policyPath: ENV_DEFAULTS.OXYGEN_CHECKER_POLICY,
+    cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR,
   });
   if (loaded.kind === 'invalid') {
     throw new Error(`the bundled policy or cards do not load:\n${formatLoadProblems(loaded.problems)}`);

@@ -22,7 +22,7 @@ export const BENCH_USAGE = `Usage: npm run bench [-- OPTIONS]
   --runner dist|tsx  dist (default): build as npm start does; tsx: run src/server.ts through tsx
   --all-examples     load every order-sign example, not only the chosen few
   --no-profile       skip the CPU profiles
-  --connections N    autocannon connections (default 10, at most the service's O2CHECK_MAX_CONCURRENT)
+  --connections N    autocannon connections (default 10, at most the service's OXYGEN_CHECKER_MAX_CONCURRENT)
   --duration S       measured seconds per case (default 8)
   --warmup S         warm-up seconds per case (default 2)
   --iterations N     micro-benchmark iterations per loop per example (default 2000)`;
@@ -74,7 +74,7 @@ export function parseBenchOptions(args: readonly string[]): BenchOptions | undef
     allExamples: values['all-examples'] === true,
     profile: values['no-profile'] !== true,
     // More connections than the service's overload cap would measure its 503s, not its work.
-    connections: wholeNumber(values.connections, 10, 1, ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT, 'connections'),
+    connections: wholeNumber(values.connections, 10, 1, ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT, 'connections'),
     durationS: wholeNumber(values.duration, quick ? 2 : 8, 1, 60, 'duration'),
     warmupS: wholeNumber(values.warmup, quick ? 1 : 2, 0, 30, 'warmup'),
     microIterations: wholeNumber(values.iterations, quick ? 200 : 2000, 10, 100_000, 'iterations'),

@@ -51,7 +51,7 @@ inside the ${CDS_HOOKS_BUDGET_MS} ms CDS Hooks budget (at most ${(100 * BUDGET_S
   process, for both arms alike.
 - **Feedback.** \`POST /cds-services/{id}/feedback\` on the audit-on process, one item a call, each a
   new record (its own outcome time) on one of the cards the service issued and recorded just before,
-  so each call is one committed transaction. The bench raises \`O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY\`
+  so each call is one committed transaction. The bench raises \`OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY\`
   for these processes so the load measures the commit, not the daily quota's refusal. "× baseline" is
   to the run's \`GET /healthz\` baseline, as in the table above.
 - **In process.** \`store.recordAdvisories\` with one call's records for the example (fresh card
@@ -165,14 +165,14 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
 
 - **Why a build.** Production runs \`npm start\`: tsc, then \`node dist/server.js\`. The bench does the
   same into a private temporary folder (so it never rewrites the shared \`dist/\` under another
-  process), pointing \`O2CHECK_POLICY\` and \`O2CHECK_CARDS_DIR\` at the bundled files. \`--runner tsx\`
+  process), pointing \`OXYGEN_CHECKER_POLICY\` and \`OXYGEN_CHECKER_CARDS_DIR\` at the bundled files. \`--runner tsx\`
   runs the same code through tsx; after start-up the difference is the loader only.
 - **Processes.** The service and the JSON echo each run in their own process group on 127.0.0.1 with
   port 0 (the address is read from the start-up log line and must be loopback). The bench waits for
   \`/healthz\`, and at the end sends SIGTERM to each group, then SIGKILL if it has not gone within a
   few seconds; an exit handler kills any group left. autocannon runs in the bench's own process.
 - **Requests.** The example hook calls in \`examples/\`, each moved to now with the CLI's retime logic
-  (\`src/cli/retime-request.ts\`, as \`o2check retime\` does), so the service judges them as live calls
+  (\`src/cli/retime-request.ts\`, as \`oxygen-order-checker retime\` does), so the service judges them as live calls
   and nothing is stale. The order-sign cases are named in \`bench/cases.ts\`, plus the largest
   order-sign example found by size; every order-select example is run. Each call is checked once
   before and once after its load.
@@ -195,7 +195,7 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
 - Demo mode: no client JWT is checked. Production mode adds one signature check per call; measure it
   separately before sizing a deployment.
 - Prefetch is supplied in every example, as the CDS Hooks latency advice assumes; calls that need the
-  FHIR fallback wait on the FHIR server and are bounded by \`O2CHECK_FHIR_BUDGET_MS\` instead.
+  FHIR fallback wait on the FHIR server and are bounded by \`OXYGEN_CHECKER_FHIR_BUDGET_MS\` instead.
 `);
   return `${sections.join('\n\n')}\n`;
 }

@@ -61,7 +61,7 @@ function describeMachine(): Machine {
 async function runBench(options: BenchOptions): Promise<number> {
   const machine = describeMachine();
   const examples = selectExamples(ROOT, new Date(), options.allExamples);
-  const scratch = mkdtempSync(join(tmpdir(), 'o2check-bench-scratch-'));
+  const scratch = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-scratch-'));
   cleanUps.push(() => rmSync(scratch, { recursive: true, force: true }));
 
   progress(options.runner === 'dist' ? 'building the service (tsc) into a private folder' : 'running from source via tsx');

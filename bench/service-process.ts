@@ -33,7 +33,7 @@ export function prepareService(root: string, runner: ServiceRunner): BuiltServic
       cleanUp: () => undefined,
     };
   }
-  const folder = mkdtempSync(join(tmpdir(), 'o2check-bench-'));
+  const folder = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-'));
   const cleanUp = (): void => rmSync(folder, { recursive: true, force: true });
   const outDir = join(folder, 'dist');
   mkdirSync(outDir);
@@ -59,7 +59,7 @@ function serviceEnv(root: string, dataDir?: string): Record<string, string | und
   const env: Record<string, string | undefined> = {};
   for (const [name, value] of Object.entries(process.env)) {
     // Settings left in the shell (a trust file, a concurrency cap) must not change what is measured.
-    if (!name.startsWith('O2CHECK_') && !['HOST', 'PORT', 'LOG_LEVEL', 'NODE_OPTIONS'].includes(name)) {
+    if (!name.startsWith('OXYGEN_CHECKER_') && !['HOST', 'PORT', 'LOG_LEVEL', 'NODE_OPTIONS'].includes(name)) {
       env[name] = value;
     }
   }
@@ -69,12 +69,12 @@ function serviceEnv(root: string, dataDir?: string): Record<string, string | und
     HOST: '127.0.0.1',
     PORT: '0',
     LOG_LEVEL: 'warn',
-    O2CHECK_MODE: 'demo',
+    OXYGEN_CHECKER_MODE: 'demo',
     // The bundled files, named because a private build folder is not the package root.
-    O2CHECK_POLICY: join(root, 'policies', 'bts-2017.yaml'),
-    O2CHECK_CARDS_DIR: join(root, 'cards'),
+    OXYGEN_CHECKER_POLICY: join(root, 'policies', 'bts-2017.yaml'),
+    OXYGEN_CHECKER_CARDS_DIR: join(root, 'cards'),
     // A fresh store per run (the audit write is part of what is measured), never the shared ./data.
-    ...(dataDir === undefined ? {} : { O2CHECK_DATA_DIR: dataDir }),
+    ...(dataDir === undefined ? {} : { OXYGEN_CHECKER_DATA_DIR: dataDir }),
   };
 }
 
@@ -88,7 +88,7 @@ export async function startService(
 
 /**
  * The feedback load sends thousands of items from one client in seconds: far past the daily quota
- * (O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY) a real client has, which would answer 429. The audit services
+ * (OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY) a real client has, which would answer 429. The audit services
  * get the highest quota the setting takes, so the bench measures the commit, not the refusal.
  */
 const BENCH_FEEDBACK_QUOTA = '10000000';
@@ -101,7 +101,7 @@ const BENCH_FEEDBACK_QUOTA = '10000000';
 export async function startAuditService(root: string, built: BuiltService, arm: AuditArm): Promise<ChildServer> {
   const entry = join(root, 'bench', 'audit-service.ts');
   return startWithDataDir(root, `bench ${arm} service`, ['--import', 'tsx', entry, arm, built.codeRoot], {
-    O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: BENCH_FEEDBACK_QUOTA,
+    OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: BENCH_FEEDBACK_QUOTA,
   });
 }
 
@@ -111,7 +111,7 @@ async function startWithDataDir(
   nodeArgs: readonly string[],
   extraEnv: Readonly<Record<string, string>>,
 ): Promise<ChildServer> {
-  const dataDir = mkdtempSync(join(tmpdir(), 'o2check-bench-data-'));
+  const dataDir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-data-'));
   const started = await startChildServer({
     name,
     nodeArgs,

@@ -2,9 +2,9 @@ import type { Logger } from './log/logger.js';
 import type { PurgeResult, Store } from './store/store.js';
 
 /**
- * The audit trail's retention: advisories and feedback older than `O2CHECK_AUDIT_RETENTION_DAYS`,
+ * The audit trail's retention: advisories and feedback older than `OXYGEN_CHECKER_AUDIT_RETENTION_DAYS`,
  * and token ids past their expiry, are deleted by a purge that runs once at start and then every
- * `O2CHECK_PURGE_INTERVAL_MIN`. The timer never keeps the process alive, a purge never overlaps the
+ * `OXYGEN_CHECKER_PURGE_INTERVAL_MIN`. The timer never keeps the process alive, a purge never overlaps the
  * one before it, and the log line says how many rows went, nothing about them.
  */
 export interface RetentionPurgeOptions {

@@ -65,7 +65,7 @@ export async function startServer(
   const log = logger ?? createLogger({ level: config.logLevel });
   const opened = openStore({ dataDir: config.store.dataDir });
   if (opened.kind === 'refused') {
-    return { kind: 'refused', problems: `O2CHECK_DATA_DIR: ${opened.problem}` };
+    return { kind: 'refused', problems: `OXYGEN_CHECKER_DATA_DIR: ${opened.problem}` };
   }
   const { store } = opened;
   try {
@@ -92,7 +92,7 @@ async function startWithStore(
     ...(config.store.patientKeyFile === undefined ? {} : { secretFile: config.store.patientKeyFile }),
   });
   if (secret.kind === 'refused') {
-    return { kind: 'refused', problems: `O2CHECK_PATIENT_KEY_FILE: ${secret.problem}` };
+    return { kind: 'refused', problems: `OXYGEN_CHECKER_PATIENT_KEY_FILE: ${secret.problem}` };
   }
   const auth = await setUpAuthentication(config.security, {
     fetch: globalThis.fetch,
@@ -160,7 +160,7 @@ async function startWithStore(
     clock: () => new Date(),
     logger: log,
   });
-  // Calls in flight get `O2CHECK_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
+  // Calls in flight get `OXYGEN_CHECKER_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
   const closeGracefully = prepareGracefulClose(server, config.shutdownGraceMs);
   const close = async (): Promise<void> => {
     // Logged once the listener is closed, so the line is true when it is read.

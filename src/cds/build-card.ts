@@ -2,6 +2,7 @@ import type { Assessment } from '../core/assessment/types.js';
 import { formatFlow, formatRange } from '../core/assessment/format.js';
 import type { Policy } from '../core/policy.js';
 import type { Facts, Finding, OrderChange } from '../core/types.js';
+import { CANONICAL_BASE } from '../fhir/codes.js';
 import { planOrderChange } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail } from './card-detail.js';
@@ -11,9 +12,9 @@ import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
 
 /** System of the override-reason codes in `cards/<rule-id>.yaml` (CDS Hooks 2.0 §Card, overrideReasons). */
-export const OVERRIDE_REASON_SYSTEM = 'urn:oxygen-order-checker:override-reason';
+export const OVERRIDE_REASON_SYSTEM = `${CANONICAL_BASE}/CodeSystem/override-reason`;
 /** System of `source.topic`: the rule id that produced the card. */
-export const RULE_TOPIC_SYSTEM = 'urn:oxygen-order-checker:rule';
+export const RULE_TOPIC_SYSTEM = `${CANONICAL_BASE}/CodeSystem/rule`;
 /** CDS Hooks 2.0 §Card: summary "fewer than 140 characters". */
 export const SUMMARY_MAX_LENGTH = 139;
 /** Hex characters of the policy file's sha256 shown on a card: enough to tell two files apart at a glance. */

@@ -10,7 +10,7 @@ import { formatWhen } from './card-time.js';
  * The full workings behind one card, so nothing the advice rests on is lost although the card itself
  * stays short: every input (with its local time and FHIR reference), each calculation, what was set
  * aside, what could not be had, the full sources and every caution of the policy. The CLI shows it
- * (`o2check evaluate --workings`); the card's advisory page can reuse it. All data is escaped for
+ * (`oxygen-order-checker evaluate --workings`); the card's advisory page can reuse it. All data is escaped for
  * GitHub-Flavored Markdown here; only the fixed wording of this file is Markdown.
  */
 

@@ -11,7 +11,7 @@ import { checkOptions, parseOptions } from './parse-options.js';
 import { readRequestFile } from './read-request-file.js';
 import { requestMoment } from './retime-request.js';
 
-export const EVALUATE_USAGE = `Usage: o2check evaluate REQUEST.json [--policy FILE] [--cards DIR] [--service ID] [--now TIME] [--workings]
+export const EVALUATE_USAGE = `Usage: oxygen-order-checker evaluate REQUEST.json [--policy FILE] [--cards DIR] [--service ID] [--now TIME] [--workings]
 
 Prints the CDS Hooks response the service would give for a saved hook request (JSON on stdout).
   --policy   policy file (default: the bundled BTS 2017 policy)
@@ -48,7 +48,7 @@ function workingsText(evaluation: HookEvaluation): string {
 }
 
 /** Offline: no FHIR server is ever called, so the fetch the gatherer holds must never run. */
-const refuseFetch: typeof fetch = () => Promise.reject(new Error('o2check evaluate does not call FHIR servers'));
+const refuseFetch: typeof fetch = () => Promise.reject(new Error('oxygen-order-checker evaluate does not call FHIR servers'));
 
 export async function runEvaluateCommand(args: readonly string[], io: CliIo): Promise<ExitCode> {
   const parsed = parseOptions(args, {
@@ -75,8 +75,8 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
   });
 
   const loaded = await loadPolicyAndCards({
-    policyPath: options.policy ?? ENV_DEFAULTS.O2CHECK_POLICY,
-    cardsDir: options.cards ?? ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+    policyPath: options.policy ?? ENV_DEFAULTS.OXYGEN_CHECKER_POLICY,
+    cardsDir: options.cards ?? ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR,
   });
   if (loaded.kind === 'invalid') {
     throw new UsageError(`cannot start:\n${formatLoadProblems(loaded.problems)}`);
@@ -84,14 +84,14 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
 
   const read = readRequestFile(file, io);
   if (read.kind === 'unreadable') {
-    io.stderr(`o2check evaluate: ${read.message}\n`);
+    io.stderr(`oxygen-order-checker evaluate: ${read.message}\n`);
     return 1;
   }
   const body = read.body;
   const hook = typeof body === 'object' && body !== null ? (body as { hook?: unknown }).hook : undefined;
   const serviceId = options.service ?? CDS_SERVICES.find((s) => s.hook === hook)?.id;
   if (serviceId === undefined) {
-    io.stderr(`o2check evaluate: the request's hook is not one this service answers (${CDS_SERVICES.map((s) => s.hook).join(', ')})\n`);
+    io.stderr(`oxygen-order-checker evaluate: the request's hook is not one this service answers (${CDS_SERVICES.map((s) => s.hook).join(', ')})\n`);
     return 1;
   }
   const request = parseHookRequest(serviceId, body);
@@ -102,7 +102,7 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
         : request.kind === 'unknown-service'
           ? `  no service '${serviceId}'`
           : `  service '${serviceId}' answers ${request.supportedHooks.join(', ')}`;
-    io.stderr(`o2check evaluate: the request is not valid:\n${detail}\n`);
+    io.stderr(`oxygen-order-checker evaluate: the request is not valid:\n${detail}\n`);
     return 1;
   }
 
@@ -117,7 +117,7 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
     // What the service would answer: 412 with an OperationOutcome naming the missing data.
     const result = errorResult(new AppError('CDS_ERR_PREFETCH_UNAVAILABLE', { unavailable: gathered.unavailable }), 'cli');
     io.stdout(`${JSON.stringify(result.body, null, 2)}\n`);
-    io.stderr('o2check evaluate: required data is missing from the prefetch (the service would answer 412)\n');
+    io.stderr('oxygen-order-checker evaluate: required data is missing from the prefetch (the service would answer 412)\n');
     return 1;
   }
   const evaluation = evaluateHook(
@@ -131,6 +131,6 @@ export async function runEvaluateCommand(args: readonly string[], io: CliIo): Pr
     },
   );
   io.stdout(options.workings === true ? workingsText(evaluation) : `${JSON.stringify(evaluation.response, null, 2)}\n`);
-  io.stderr(`o2check evaluate: ${evaluation.response.cards.length} card(s), evaluated as at ${now.toISOString()} with policy ${evaluation.policyId} v${evaluation.policyVersion}\n`);
+  io.stderr(`oxygen-order-checker evaluate: ${evaluation.response.cards.length} card(s), evaluated as at ${now.toISOString()} with policy ${evaluation.policyId} v${evaluation.policyVersion}\n`);
   return 0;
 }

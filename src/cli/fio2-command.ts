@@ -5,7 +5,7 @@ import type { CliIo, ExitCode } from './cli-io.js';
 import { FIO2_CONVENTION, fio2Text } from './fio2-option.js';
 import { checkOptions, numberText, parseOptions } from './parse-options.js';
 
-export const FIO2_USAGE = `Usage: o2check fio2 --device KIND [--flow L_PER_MIN] [--setting FIO2] [--resp-rate N] [--json]
+export const FIO2_USAGE = `Usage: oxygen-order-checker fio2 --device KIND [--flow L_PER_MIN] [--setting FIO2] [--resp-rate N] [--json]
 
 Estimates the FiO2 a delivery device really gives, with its low-high range and notes.
 KIND is one of: ${DEVICE_KINDS.join(', ')}.

@@ -24,7 +24,7 @@ import { FIO2_CONVENTION, fio2Text } from './fio2-option.js';
 import { loadPolicy } from './load-policy.js';
 import { checkOptions, numberText, parseOptions } from './parse-options.js';
 
-export const GAS_USAGE = `Usage: o2check gas --fio2 F --pao2 N --paco2 N --units kPa|mmHg [--age YEARS] [--ph N]
+export const GAS_USAGE = `Usage: oxygen-order-checker gas --fio2 F --pao2 N --paco2 N --units kPa|mmHg [--age YEARS] [--ph N]
                    [--hco3 N] [--altitude-m M | --pb-mmhg N] [--policy FILE] [--json]
 
 Works out the respiratory physiology of one blood gas: barometric pressure, inspired PO2, alveolar PO2

@@ -3,12 +3,12 @@ import { parseOptions } from './parse-options.js';
 import { readRequestFile } from './read-request-file.js';
 import { requestMoment, retimeRequest } from './retime-request.js';
 
-export const RETIME_USAGE = `Usage: o2check retime REQUEST.json [--at TIME]
+export const RETIME_USAGE = `Usage: oxygen-order-checker retime REQUEST.json [--at TIME]
 
 Prints the request with every FHIR date-time moved by the same amount, so that its draft orders are
 signed now (or at --at). Dates without a time, such as birthDate, stay as they are. Use it to send a
 saved example to the running service:
-  o2check retime examples/order-sign-copd-acidosis-venturi.json | curl -s -H 'Content-Type: application/json' \\
+  oxygen-order-checker retime examples/order-sign-copd-acidosis-venturi.json | curl -s -H 'Content-Type: application/json' \\
     --data-binary @- http://127.0.0.1:8080/cds-services/oxygen-order-sign`;
 
 export function runRetimeCommand(args: readonly string[], io: CliIo): ExitCode {
@@ -27,13 +27,13 @@ export function runRetimeCommand(args: readonly string[], io: CliIo): ExitCode {
   }
   const read = readRequestFile(file, io);
   if (read.kind === 'unreadable') {
-    io.stderr(`o2check retime: ${read.message}\n`);
+    io.stderr(`oxygen-order-checker retime: ${read.message}\n`);
     return 1;
   }
   const body = read.body;
   const from = requestMoment(body);
   if (from === undefined) {
-    io.stderr('o2check retime: the request has no draft order with an authoredOn date-time to move from\n');
+    io.stderr('oxygen-order-checker retime: the request has no draft order with an authoredOn date-time to move from\n');
     return 1;
   }
   const to = typeof atText === 'string' ? new Date(atText) : io.now();

@@ -15,7 +15,7 @@ const COMMANDS: Readonly<
   'validate-policy': { run: runValidatePolicyCommand, usage: VALIDATE_POLICY_USAGE },
 };
 
-export const USAGE = `o2check: oxygen order checks from the command line (advisory only; local policy governs)
+export const USAGE = `oxygen-order-checker: oxygen order checks from the command line (advisory only; local policy governs)
 
 Commands:
   evaluate REQUEST.json     the CDS Hooks response the service would give
@@ -24,7 +24,7 @@ Commands:
   retime REQUEST.json       move a saved request's times so it is signed now
   validate-policy FILE      check a policy file
 
-Run o2check COMMAND --help for a command's options.`;
+Run oxygen-order-checker COMMAND --help for a command's options.`;
 
 /** Runs one command line; never exits the process itself, so tests can drive it. */
 export async function runCli(argv: readonly string[], io: CliIo): Promise<ExitCode> {
@@ -35,14 +35,14 @@ export async function runCli(argv: readonly string[], io: CliIo): Promise<ExitCo
   }
   const command = COMMANDS[name];
   if (command === undefined) {
-    io.stderr(`o2check: unknown command '${name}'\n\n${USAGE}\n`);
+    io.stderr(`oxygen-order-checker: unknown command '${name}'\n\n${USAGE}\n`);
     return 2;
   }
   try {
     return await command.run(args, io);
   } catch (error) {
     if (error instanceof UsageError) {
-      io.stderr(`o2check ${name}: ${error.message}\n\n${command.usage}\n`);
+      io.stderr(`oxygen-order-checker ${name}: ${error.message}\n\n${command.usage}\n`);
       return 2;
     }
     throw error;

@@ -2,7 +2,7 @@ import { parsePolicyText, type PolicyProblem } from '../policy/parse-policy.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { parseOptions } from './parse-options.js';
 
-export const VALIDATE_POLICY_USAGE = `Usage: o2check validate-policy FILE
+export const VALIDATE_POLICY_USAGE = `Usage: oxygen-order-checker validate-policy FILE
 
 Checks a policy file as the service does at start-up: the format, then the checks that protect
 patients (ranges, critical thresholds, rule ids, critical rules switched off or lowered). Lists every
@@ -30,7 +30,7 @@ export function runValidatePolicyCommand(args: readonly string[], io: CliIo): Ex
   try {
     text = io.readFile(file);
   } catch {
-    io.stderr(`o2check validate-policy: cannot read ${file}\n`);
+    io.stderr(`oxygen-order-checker validate-policy: cannot read ${file}\n`);
     return 1;
   }
   const result = parsePolicyText(text);

@@ -4,7 +4,7 @@ import { isLoopbackHost } from '../security/loopback.js';
 import { parsePublicBaseUrl } from '../security/public-url.js';
 import { bundledPath } from './package-root.js';
 import { REVIEW_VARIABLES } from './review-config.js';
-import { unknownVariables } from './unknown-variables.js';
+import { renamedVariables, unknownVariables } from './unknown-variables.js';
 
 /**
  * The service's settings, read once from the environment at start-up, checked in full (every problem
@@ -19,57 +19,63 @@ export const MODES = ['demo', 'production'] as const;
 export type Mode = (typeof MODES)[number];
 
 /** The prefix of the service's own variables: any other name with it is refused, not ignored. */
-export const CONFIG_PREFIX = 'O2CHECK_';
+export const CONFIG_PREFIX = 'OXYGEN_CHECKER_';
+
+/**
+ * The prefix the same settings had before version 0.2. A variable left over from an older deployment
+ * is refused with its new name, so an upgrade cannot silently drop a setting back to its default.
+ */
+export const RETIRED_PREFIX = 'O2CHECK_';
 
 /** Defaults in one place, each with its unit. */
 export const ENV_DEFAULTS = {
   HOST: '127.0.0.1', // loopback: the demo is not reachable from other machines unless asked
   PORT: 8080,
   // Demo mode only (and the command line): production refuses to start without its own policy.
-  O2CHECK_POLICY: bundledPath('policies', 'bts-2017.yaml'),
-  O2CHECK_CARDS_DIR: bundledPath('cards'),
+  OXYGEN_CHECKER_POLICY: bundledPath('policies', 'bts-2017.yaml'),
+  OXYGEN_CHECKER_CARDS_DIR: bundledPath('cards'),
   LOG_LEVEL: 'info' as LogLevel,
-  O2CHECK_BODY_LIMIT_BYTES: 1_048_576, // bytes (1 MiB); larger hook requests get 413
+  OXYGEN_CHECKER_BODY_LIMIT_BYTES: 1_048_576, // bytes (1 MiB); larger hook requests get 413
   // Allowed browser origins for CORS, comma-separated; `*` only suits the credential-free demo.
-  O2CHECK_CORS_ORIGINS: '*',
+  OXYGEN_CHECKER_CORS_ORIGINS: '*',
   // CDS Hooks 2.0 §Providing FHIR Resources asks for answers "on the order of 500 ms"; the fallback
   // only runs when prefetch was not supplied, so these bound the slow path rather than the usual one.
-  O2CHECK_FHIR_CALL_TIMEOUT_MS: 1500, // milliseconds per FHIR request
-  O2CHECK_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
-  O2CHECK_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
-  O2CHECK_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
+  OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: 1500, // milliseconds per FHIR request
+  OXYGEN_CHECKER_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
+  OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
+  OXYGEN_CHECKER_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
   // Robustness (docs/api.md, "Robustness"): past the cap a hook call gets 503 with Retry-After.
-  O2CHECK_MAX_CONCURRENT: 16, // hook calls evaluated at once
-  O2CHECK_SHUTDOWN_GRACE_MS: 10_000, // milliseconds in-flight calls may take after SIGTERM
-  O2CHECK_BEHIND_TLS: false, // true when clients reach the service over HTTPS only: sends HSTS
-  O2CHECK_MODE: 'demo' as Mode,
+  OXYGEN_CHECKER_MAX_CONCURRENT: 16, // hook calls evaluated at once
+  OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: 10_000, // milliseconds in-flight calls may take after SIGTERM
+  OXYGEN_CHECKER_BEHIND_TLS: false, // true when clients reach the service over HTTPS only: sends HSTS
+  OXYGEN_CHECKER_MODE: 'demo' as Mode,
   // Client JWT checks (docs/security.md). RFC 7519 §4.1.4 allows "a small leeway" for clock skew;
   // CDS Hooks best practices keep client JWTs to at most an hour.
-  O2CHECK_JWT_CLOCK_SKEW_S: 60, // seconds of leeway on exp, nbf and iat
-  O2CHECK_JWT_MAX_LIFETIME_S: 3600, // seconds: longest exp - iat accepted, and so the replay window
-  O2CHECK_JWKS_TIMEOUT_MS: 2000, // milliseconds per JWKS fetch
-  O2CHECK_JWKS_MAX_BYTES: 65_536, // bytes (64 KiB) per JWKS response
-  O2CHECK_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
-  O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
-  O2CHECK_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
+  OXYGEN_CHECKER_JWT_CLOCK_SKEW_S: 60, // seconds of leeway on exp, nbf and iat
+  OXYGEN_CHECKER_JWT_MAX_LIFETIME_S: 3600, // seconds: longest exp - iat accepted, and so the replay window
+  OXYGEN_CHECKER_JWKS_TIMEOUT_MS: 2000, // milliseconds per JWKS fetch
+  OXYGEN_CHECKER_JWKS_MAX_BYTES: 65_536, // bytes (64 KiB) per JWKS response
+  OXYGEN_CHECKER_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
+  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
+  OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
   // The store (docs/security.md, "Memory"). Relative to the working directory, like the other paths.
-  O2CHECK_DATA_DIR: './data',
+  OXYGEN_CHECKER_DATA_DIR: './data',
   // days an advisory and its feedback are kept: a year of review (an annual audit of override rates)
   // plus a margin for the review to happen late; the local records policy decides, not this default
-  O2CHECK_AUDIT_RETENTION_DAYS: 400,
+  OXYGEN_CHECKER_AUDIT_RETENTION_DAYS: 400,
   // minutes between purges of expired advisories and token ids; the first runs at start. Hourly keeps
   // each purge small and retention accurate to within an hour of a 400-day period.
-  O2CHECK_PURGE_INTERVAL_MIN: 60,
+  OXYGEN_CHECKER_PURGE_INTERVAL_MIN: 60,
   // feedback items in one request: an EHR sends one item per card acted on, a handful per order; 50
   // leaves room for a batch resend without letting one request hold a large share of a daily quota
-  O2CHECK_FEEDBACK_MAX_ITEMS: 50,
+  OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS: 50,
   // feedback records one client may add per UTC day: a 1,000-bed hospital firing a few cards per
   // order on a few thousand orders a day sends well under this; past it the client gets 429
-  O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: 20_000,
+  OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: 20_000,
   // live jti values one client (iss, with tenant when its trust entry lists tenants) may hold in the
   // store's replay cache; at about 5 calls a second with 1-hour tokens a client holds about 18,000.
   // Past it that client alone gets 429; the store's total is bounded by this times the client shares.
-  O2CHECK_REPLAY_MAX_PER_CLIENT: 20_000,
+  OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: 20_000,
 } as const;
 
 export interface FhirFallbackLimits {
@@ -112,9 +118,9 @@ export type SecurityConfig =
   | { readonly mode: 'demo' }
   | {
       readonly mode: 'production';
-      /** The trust file (`O2CHECK_TRUST`), absolute. */
+      /** The trust file (`OXYGEN_CHECKER_TRUST`), absolute. */
       readonly trustPath: string;
-      /** `O2CHECK_PUBLIC_URL`, normalised: https, no trailing slash. */
+      /** `OXYGEN_CHECKER_PUBLIC_URL`, normalised: https, no trailing slash. */
       readonly publicUrl: string;
       readonly limits: AuthLimits;
     };
@@ -224,43 +230,43 @@ const EnvSchema = z.object({
   HOST: textVar(ENV_DEFAULTS.HOST),
   PORT: integerVar(ENV_DEFAULTS.PORT, 0, 65_535),
   // Empty means unset: demo mode takes the bundled policy, production refuses (policyProblems).
-  O2CHECK_POLICY: textVar(''),
-  O2CHECK_CARDS_DIR: textVar(ENV_DEFAULTS.O2CHECK_CARDS_DIR),
+  OXYGEN_CHECKER_POLICY: textVar(''),
+  OXYGEN_CHECKER_CARDS_DIR: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR),
   LOG_LEVEL: textVar(ENV_DEFAULTS.LOG_LEVEL).pipe(
     z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }),
   ),
-  O2CHECK_BODY_LIMIT_BYTES: integerVar(ENV_DEFAULTS.O2CHECK_BODY_LIMIT_BYTES, 1024, 104_857_600),
-  O2CHECK_CORS_ORIGINS: textVar(ENV_DEFAULTS.O2CHECK_CORS_ORIGINS).transform(parseOrigins),
-  O2CHECK_FHIR_CALL_TIMEOUT_MS: integerVar(ENV_DEFAULTS.O2CHECK_FHIR_CALL_TIMEOUT_MS, 1, 60_000),
-  O2CHECK_FHIR_BUDGET_MS: integerVar(ENV_DEFAULTS.O2CHECK_FHIR_BUDGET_MS, 1, 120_000),
-  O2CHECK_FHIR_MAX_RESPONSE_BYTES: integerVar(
-    ENV_DEFAULTS.O2CHECK_FHIR_MAX_RESPONSE_BYTES,
+  OXYGEN_CHECKER_BODY_LIMIT_BYTES: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_BODY_LIMIT_BYTES, 1024, 104_857_600),
+  OXYGEN_CHECKER_CORS_ORIGINS: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_CORS_ORIGINS).transform(parseOrigins),
+  OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS, 1, 60_000),
+  OXYGEN_CHECKER_FHIR_BUDGET_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FHIR_BUDGET_MS, 1, 120_000),
+  OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: integerVar(
+    ENV_DEFAULTS.OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES,
     1024,
     104_857_600,
   ),
-  O2CHECK_FHIR_MAX_PAGES: integerVar(ENV_DEFAULTS.O2CHECK_FHIR_MAX_PAGES, 1, 100),
-  O2CHECK_MAX_CONCURRENT: integerVar(ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT, 1, 10_000),
-  O2CHECK_SHUTDOWN_GRACE_MS: integerVar(ENV_DEFAULTS.O2CHECK_SHUTDOWN_GRACE_MS, 0, 600_000),
-  O2CHECK_BEHIND_TLS: booleanVar(ENV_DEFAULTS.O2CHECK_BEHIND_TLS),
-  O2CHECK_MODE: textVar(ENV_DEFAULTS.O2CHECK_MODE).pipe(
+  OXYGEN_CHECKER_FHIR_MAX_PAGES: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FHIR_MAX_PAGES, 1, 100),
+  OXYGEN_CHECKER_MAX_CONCURRENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT, 1, 10_000),
+  OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS, 0, 600_000),
+  OXYGEN_CHECKER_BEHIND_TLS: booleanVar(ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS),
+  OXYGEN_CHECKER_MODE: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_MODE).pipe(
     z.enum(MODES, { error: `must be one of ${MODES.join(', ')}` }),
   ),
-  O2CHECK_TRUST: textVar(''),
-  O2CHECK_PUBLIC_URL: textVar(''),
-  O2CHECK_JWT_CLOCK_SKEW_S: integerVar(ENV_DEFAULTS.O2CHECK_JWT_CLOCK_SKEW_S, 0, 300),
-  O2CHECK_JWT_MAX_LIFETIME_S: integerVar(ENV_DEFAULTS.O2CHECK_JWT_MAX_LIFETIME_S, 1, 86_400),
-  O2CHECK_JWKS_TIMEOUT_MS: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_TIMEOUT_MS, 1, 30_000),
-  O2CHECK_JWKS_MAX_BYTES: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_MAX_BYTES, 1024, 10_485_760),
-  O2CHECK_JWKS_CACHE_TTL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_CACHE_TTL_S, 1, 86_400),
-  O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: integerVar(ENV_DEFAULTS.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S, 1, 3600),
-  O2CHECK_REPLAY_CACHE_MAX_ENTRIES: integerVar(ENV_DEFAULTS.O2CHECK_REPLAY_CACHE_MAX_ENTRIES, 1000, 10_000_000),
-  O2CHECK_DATA_DIR: textVar(ENV_DEFAULTS.O2CHECK_DATA_DIR),
-  O2CHECK_AUDIT_RETENTION_DAYS: integerVar(ENV_DEFAULTS.O2CHECK_AUDIT_RETENTION_DAYS, 1, 36_500),
-  O2CHECK_PURGE_INTERVAL_MIN: integerVar(ENV_DEFAULTS.O2CHECK_PURGE_INTERVAL_MIN, 1, 10_080),
-  O2CHECK_PATIENT_KEY_FILE: textVar(''),
-  O2CHECK_FEEDBACK_MAX_ITEMS: integerVar(ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_ITEMS, 1, 10_000),
-  O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: integerVar(ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY, 1, 10_000_000),
-  O2CHECK_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.O2CHECK_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
+  OXYGEN_CHECKER_TRUST: textVar(''),
+  OXYGEN_CHECKER_PUBLIC_URL: textVar(''),
+  OXYGEN_CHECKER_JWT_CLOCK_SKEW_S: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWT_CLOCK_SKEW_S, 0, 300),
+  OXYGEN_CHECKER_JWT_MAX_LIFETIME_S: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWT_MAX_LIFETIME_S, 1, 86_400),
+  OXYGEN_CHECKER_JWKS_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWKS_TIMEOUT_MS, 1, 30_000),
+  OXYGEN_CHECKER_JWKS_MAX_BYTES: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWKS_MAX_BYTES, 1024, 10_485_760),
+  OXYGEN_CHECKER_JWKS_CACHE_TTL_S: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWKS_CACHE_TTL_S, 1, 86_400),
+  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S, 1, 3600),
+  OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES, 1000, 10_000_000),
+  OXYGEN_CHECKER_DATA_DIR: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_DATA_DIR),
+  OXYGEN_CHECKER_AUDIT_RETENTION_DAYS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_AUDIT_RETENTION_DAYS, 1, 36_500),
+  OXYGEN_CHECKER_PURGE_INTERVAL_MIN: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_PURGE_INTERVAL_MIN, 1, 10_080),
+  OXYGEN_CHECKER_PATIENT_KEY_FILE: textVar(''),
+  OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS, 1, 10_000),
+  OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY, 1, 10_000_000),
+  OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -280,13 +286,13 @@ const SECURITY_DOC = 'see docs/security.md';
  * by default. Read from the raw environment, so it is listed beside any other problem.
  */
 function policyProblems(env: Readonly<Record<string, string | undefined>>): EnvProblem[] {
-  const production = (env['O2CHECK_MODE'] ?? '').trim() === 'production';
-  if (!production || (env['O2CHECK_POLICY'] ?? '').trim() !== '') {
+  const production = (env['OXYGEN_CHECKER_MODE'] ?? '').trim() === 'production';
+  if (!production || (env['OXYGEN_CHECKER_POLICY'] ?? '').trim() !== '') {
     return [];
   }
   return [
     {
-      variable: 'O2CHECK_POLICY',
+      variable: 'OXYGEN_CHECKER_POLICY',
       message:
         'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
     },
@@ -296,64 +302,64 @@ function policyProblems(env: Readonly<Record<string, string | undefined>>): EnvP
 /** Demo mode must stay on loopback; production must have what token checks need. */
 function securityProblems(v: ParsedEnv): EnvProblem[] {
   const problems: EnvProblem[] = [];
-  if (v.O2CHECK_MODE === 'demo') {
+  if (v.OXYGEN_CHECKER_MODE === 'demo') {
     if (!isLoopbackHost(v.HOST)) {
       problems.push({
         variable: 'HOST',
         message:
           'demo mode has authentication off, so it binds to loopback only (127.0.0.1, ::1 or localhost); ' +
-          `to serve other machines set O2CHECK_MODE=production with O2CHECK_TRUST and O2CHECK_PUBLIC_URL (${SECURITY_DOC})`,
+          `to serve other machines set OXYGEN_CHECKER_MODE=production with OXYGEN_CHECKER_TRUST and OXYGEN_CHECKER_PUBLIC_URL (${SECURITY_DOC})`,
       });
     }
     // Half a production set-up would run with authentication off behind whatever proxy was meant for it.
-    for (const variable of ['O2CHECK_TRUST', 'O2CHECK_PUBLIC_URL'] as const) {
+    for (const variable of ['OXYGEN_CHECKER_TRUST', 'OXYGEN_CHECKER_PUBLIC_URL'] as const) {
       if (v[variable] !== '') {
         problems.push({
           variable,
-          message: 'is set, but O2CHECK_MODE is not production, so authentication would be off; set O2CHECK_MODE=production',
+          message: 'is set, but OXYGEN_CHECKER_MODE is not production, so authentication would be off; set OXYGEN_CHECKER_MODE=production',
         });
       }
     }
     return problems;
   }
-  if (v.O2CHECK_TRUST === '') {
+  if (v.OXYGEN_CHECKER_TRUST === '') {
     problems.push({
-      variable: 'O2CHECK_TRUST',
+      variable: 'OXYGEN_CHECKER_TRUST',
       message: `production mode needs the trust file naming the CDS clients allowed to call (${SECURITY_DOC})`,
     });
   }
-  if (v.O2CHECK_PUBLIC_URL === '') {
+  if (v.OXYGEN_CHECKER_PUBLIC_URL === '') {
     problems.push({
-      variable: 'O2CHECK_PUBLIC_URL',
+      variable: 'OXYGEN_CHECKER_PUBLIC_URL',
       message: `production mode needs the https base URL clients call, e.g. https://cds.example.org (${SECURITY_DOC})`,
     });
   } else {
-    const parsed = parsePublicBaseUrl(v.O2CHECK_PUBLIC_URL, { requireHttps: true });
+    const parsed = parsePublicBaseUrl(v.OXYGEN_CHECKER_PUBLIC_URL, { requireHttps: true });
     if (parsed.kind === 'invalid') {
-      problems.push({ variable: 'O2CHECK_PUBLIC_URL', message: parsed.message });
+      problems.push({ variable: 'OXYGEN_CHECKER_PUBLIC_URL', message: parsed.message });
     }
   }
   return problems;
 }
 
 function securityConfig(v: ParsedEnv, absolute: (path: string) => string): SecurityConfig {
-  if (v.O2CHECK_MODE === 'demo') {
+  if (v.OXYGEN_CHECKER_MODE === 'demo') {
     return { mode: 'demo' };
   }
-  const parsed = parsePublicBaseUrl(v.O2CHECK_PUBLIC_URL, { requireHttps: true });
+  const parsed = parsePublicBaseUrl(v.OXYGEN_CHECKER_PUBLIC_URL, { requireHttps: true });
   return {
     mode: 'production',
-    trustPath: absolute(v.O2CHECK_TRUST),
+    trustPath: absolute(v.OXYGEN_CHECKER_TRUST),
     publicUrl: parsed.kind === 'ok' ? parsed.base : '',
     limits: {
-      clockSkewS: v.O2CHECK_JWT_CLOCK_SKEW_S,
-      maxTokenLifetimeS: v.O2CHECK_JWT_MAX_LIFETIME_S,
-      jwksTimeoutMs: v.O2CHECK_JWKS_TIMEOUT_MS,
-      jwksMaxBytes: v.O2CHECK_JWKS_MAX_BYTES,
-      jwksCacheTtlS: v.O2CHECK_JWKS_CACHE_TTL_S,
-      jwksRefreshMinIntervalS: v.O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S,
-      replayCacheMaxEntries: v.O2CHECK_REPLAY_CACHE_MAX_ENTRIES,
-      replayMaxPerClient: v.O2CHECK_REPLAY_MAX_PER_CLIENT,
+      clockSkewS: v.OXYGEN_CHECKER_JWT_CLOCK_SKEW_S,
+      maxTokenLifetimeS: v.OXYGEN_CHECKER_JWT_MAX_LIFETIME_S,
+      jwksTimeoutMs: v.OXYGEN_CHECKER_JWKS_TIMEOUT_MS,
+      jwksMaxBytes: v.OXYGEN_CHECKER_JWKS_MAX_BYTES,
+      jwksCacheTtlS: v.OXYGEN_CHECKER_JWKS_CACHE_TTL_S,
+      jwksRefreshMinIntervalS: v.OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S,
+      replayCacheMaxEntries: v.OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES,
+      replayMaxPerClient: v.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT,
     },
   };
 }
@@ -378,7 +384,10 @@ export function parseEnvConfig(
 ): EnvConfigParse {
   // Listed with every other problem, so one start-up shows all that is wrong.
   const policy = policyProblems(env);
-  const unknown = unknownVariables(env, KNOWN_VARIABLES, CONFIG_PREFIX);
+  const unknown = [
+    ...unknownVariables(env, KNOWN_VARIABLES, CONFIG_PREFIX),
+    ...renamedVariables(env, KNOWN_VARIABLES, RETIRED_PREFIX, CONFIG_PREFIX),
+  ];
   const parsed = EnvSchema.safeParse(env);
   if (!parsed.success) {
     return {
@@ -395,10 +404,10 @@ export function parseEnvConfig(
   }
   const v = parsed.data;
   const problems: EnvProblem[] = [];
-  if (v.O2CHECK_FHIR_BUDGET_MS < v.O2CHECK_FHIR_CALL_TIMEOUT_MS) {
+  if (v.OXYGEN_CHECKER_FHIR_BUDGET_MS < v.OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS) {
     problems.push({
-      variable: 'O2CHECK_FHIR_BUDGET_MS',
-      message: 'must not be below O2CHECK_FHIR_CALL_TIMEOUT_MS',
+      variable: 'OXYGEN_CHECKER_FHIR_BUDGET_MS',
+      message: 'must not be below OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS',
     });
   }
   problems.push(...policy, ...securityProblems(v), ...unknown);
@@ -411,31 +420,31 @@ export function parseEnvConfig(
     config: deepFreeze({
       host: v.HOST,
       port: v.PORT,
-      policyPath: v.O2CHECK_POLICY === '' ? ENV_DEFAULTS.O2CHECK_POLICY : absolute(v.O2CHECK_POLICY),
-      cardsDir: absolute(v.O2CHECK_CARDS_DIR),
+      policyPath: v.OXYGEN_CHECKER_POLICY === '' ? ENV_DEFAULTS.OXYGEN_CHECKER_POLICY : absolute(v.OXYGEN_CHECKER_POLICY),
+      cardsDir: absolute(v.OXYGEN_CHECKER_CARDS_DIR),
       logLevel: v.LOG_LEVEL,
-      bodyLimitBytes: v.O2CHECK_BODY_LIMIT_BYTES,
-      corsOrigins: v.O2CHECK_CORS_ORIGINS,
+      bodyLimitBytes: v.OXYGEN_CHECKER_BODY_LIMIT_BYTES,
+      corsOrigins: v.OXYGEN_CHECKER_CORS_ORIGINS,
       fhir: {
-        callTimeoutMs: v.O2CHECK_FHIR_CALL_TIMEOUT_MS,
-        budgetMs: v.O2CHECK_FHIR_BUDGET_MS,
-        maxResponseBytes: v.O2CHECK_FHIR_MAX_RESPONSE_BYTES,
-        maxPages: v.O2CHECK_FHIR_MAX_PAGES,
+        callTimeoutMs: v.OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS,
+        budgetMs: v.OXYGEN_CHECKER_FHIR_BUDGET_MS,
+        maxResponseBytes: v.OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES,
+        maxPages: v.OXYGEN_CHECKER_FHIR_MAX_PAGES,
       },
-      maxConcurrentEvaluations: v.O2CHECK_MAX_CONCURRENT,
-      shutdownGraceMs: v.O2CHECK_SHUTDOWN_GRACE_MS,
+      maxConcurrentEvaluations: v.OXYGEN_CHECKER_MAX_CONCURRENT,
+      shutdownGraceMs: v.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS,
       // Production requires an https public URL, so clients reach it over TLS: always send HSTS there.
-      behindTls: v.O2CHECK_BEHIND_TLS || v.O2CHECK_MODE === 'production',
+      behindTls: v.OXYGEN_CHECKER_BEHIND_TLS || v.OXYGEN_CHECKER_MODE === 'production',
       security: securityConfig(v, absolute),
       store: {
-        dataDir: absolute(v.O2CHECK_DATA_DIR),
-        patientKeyFile: v.O2CHECK_PATIENT_KEY_FILE === '' ? undefined : absolute(v.O2CHECK_PATIENT_KEY_FILE),
-        auditRetentionDays: v.O2CHECK_AUDIT_RETENTION_DAYS,
-        purgeIntervalMin: v.O2CHECK_PURGE_INTERVAL_MIN,
+        dataDir: absolute(v.OXYGEN_CHECKER_DATA_DIR),
+        patientKeyFile: v.OXYGEN_CHECKER_PATIENT_KEY_FILE === '' ? undefined : absolute(v.OXYGEN_CHECKER_PATIENT_KEY_FILE),
+        auditRetentionDays: v.OXYGEN_CHECKER_AUDIT_RETENTION_DAYS,
+        purgeIntervalMin: v.OXYGEN_CHECKER_PURGE_INTERVAL_MIN,
       },
       feedback: {
-        maxItemsPerRequest: v.O2CHECK_FEEDBACK_MAX_ITEMS,
-        maxRecordsPerClientPerDay: v.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY,
+        maxItemsPerRequest: v.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
+        maxRecordsPerClientPerDay: v.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
       },
     }),
   };

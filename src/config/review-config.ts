@@ -11,16 +11,16 @@ export const REVIEW_DEFAULTS = {
   // A card's link opens its advisory for one day: long enough to follow it from the EHR during the
   // shift and the handover after, short enough that a link copied into a note or a browser history
   // stops working the next day. The proxy sign-in is the way in after that.
-  O2CHECK_REVIEW_LINK_TTL_S: 86_400, // seconds
+  OXYGEN_CHECKER_REVIEW_LINK_TTL_S: 86_400, // seconds
   REVIEW_LINK_SECRET_NAME: 'review-link.secret',
 } as const;
 
 /** Every variable this file reads (the data directory comes from env-config.ts); the known-name check uses it. */
 export const REVIEW_VARIABLES = [
-  'O2CHECK_REVIEW_IDENTITY_HEADER',
-  'O2CHECK_REVIEW_PROXY_ADDRESSES',
-  'O2CHECK_REVIEW_LINK_TTL_S',
-  'O2CHECK_REVIEW_LINK_SECRET_FILE',
+  'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER',
+  'OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES',
+  'OXYGEN_CHECKER_REVIEW_LINK_TTL_S',
+  'OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE',
 ] as const;
 type ReviewVariable = (typeof REVIEW_VARIABLES)[number];
 
@@ -55,35 +55,35 @@ export function parseReviewConfig(
   dataDir: string,
 ): ReviewConfigParse {
   const problems: EnvProblem[] = [];
-  const header = text(env, 'O2CHECK_REVIEW_IDENTITY_HEADER');
-  const addressText = text(env, 'O2CHECK_REVIEW_PROXY_ADDRESSES');
+  const header = text(env, 'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER');
+  const addressText = text(env, 'OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES');
   const addresses = addressText === '' ? [] : addressText.split(',').map((a) => a.trim()).filter((a) => a !== '');
   if (mode === 'demo') {
-    for (const [variable, value] of [['O2CHECK_REVIEW_IDENTITY_HEADER', header], ['O2CHECK_REVIEW_PROXY_ADDRESSES', addressText]] as const) {
+    for (const [variable, value] of [['OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER', header], ['OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES', addressText]] as const) {
       if (value !== '') {
-        problems.push({ variable, message: 'is set, but O2CHECK_MODE is not production: the demo review pages are open on loopback; set O2CHECK_MODE=production' });
+        problems.push({ variable, message: 'is set, but OXYGEN_CHECKER_MODE is not production: the demo review pages are open on loopback; set OXYGEN_CHECKER_MODE=production' });
       }
     }
   }
   if (header !== '' && (!HEADER_NAME.test(header) || RESERVED_HEADERS.has(header.toLowerCase()))) {
-    problems.push({ variable: 'O2CHECK_REVIEW_IDENTITY_HEADER', message: 'must be a header name of its own, e.g. X-Authenticated-User (not Authorization, Cookie, Host or a forwarding header)' });
+    problems.push({ variable: 'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER', message: 'must be a header name of its own, e.g. X-Authenticated-User (not Authorization, Cookie, Host or a forwarding header)' });
   }
   for (const address of addresses) {
     if (!isIpAddress(address)) {
-      problems.push({ variable: 'O2CHECK_REVIEW_PROXY_ADDRESSES', message: `'${address}' is not an IP address; list the proxy's exact addresses, comma-separated (no names or ranges)` });
+      problems.push({ variable: 'OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES', message: `'${address}' is not an IP address; list the proxy's exact addresses, comma-separated (no names or ranges)` });
     }
   }
   if (mode === 'production' && (header === '') !== (addresses.length === 0)) {
     problems.push({
-      variable: header === '' ? 'O2CHECK_REVIEW_IDENTITY_HEADER' : 'O2CHECK_REVIEW_PROXY_ADDRESSES',
+      variable: header === '' ? 'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER' : 'OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES',
       message: 'the identity header and the proxy addresses go together: set both, or neither (then only card links open advisory pages)',
     });
   }
-  const ttlText = text(env, 'O2CHECK_REVIEW_LINK_TTL_S');
-  let linkTtlS: number = REVIEW_DEFAULTS.O2CHECK_REVIEW_LINK_TTL_S;
+  const ttlText = text(env, 'OXYGEN_CHECKER_REVIEW_LINK_TTL_S');
+  let linkTtlS: number = REVIEW_DEFAULTS.OXYGEN_CHECKER_REVIEW_LINK_TTL_S;
   if (ttlText !== '') {
     if (!/^\d+$/.test(ttlText) || Number(ttlText) < 60 || Number(ttlText) > 604_800) {
-      problems.push({ variable: 'O2CHECK_REVIEW_LINK_TTL_S', message: 'must be a whole number of seconds from 60 to 604800 (7 days)' });
+      problems.push({ variable: 'OXYGEN_CHECKER_REVIEW_LINK_TTL_S', message: 'must be a whole number of seconds from 60 to 604800 (7 days)' });
     } else {
       linkTtlS = Number(ttlText);
     }
@@ -92,7 +92,7 @@ export function parseReviewConfig(
     return { kind: 'invalid', problems };
   }
   const absolute = (path: string): string => (isAbsolute(path) ? path : resolve(cwd, path));
-  const secretFile = text(env, 'O2CHECK_REVIEW_LINK_SECRET_FILE');
+  const secretFile = text(env, 'OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE');
   return {
     kind: 'ok',
     config: Object.freeze({

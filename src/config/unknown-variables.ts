@@ -70,3 +70,27 @@ export function unknownVariables(
       };
     });
 }
+
+/**
+ * Every variable in `env` that still carries a retired prefix, each with the name it has now (or a
+ * note that the setting no longer exists).
+ */
+export function renamedVariables(
+  env: Readonly<Record<string, string | undefined>>,
+  known: readonly string[],
+  retiredPrefix: string,
+  prefix: string,
+): { variable: string; message: string }[] {
+  return Object.keys(env)
+    .filter((name) => env[name] !== undefined && name.toUpperCase().startsWith(retiredPrefix))
+    .sort()
+    .map((variable) => {
+      const renamed = prefix + variable.slice(retiredPrefix.length).toUpperCase();
+      return {
+        variable,
+        message: known.includes(renamed)
+          ? `uses the prefix this service had before version 0.2; rename it to ${renamed}`
+          : `uses the prefix this service had before version 0.2 and names no current setting; remove it`,
+      };
+    });
+}

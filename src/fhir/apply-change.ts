@@ -1,6 +1,6 @@
 import type { OrderChange, SaturationRange } from '../core/types.js';
 import { changeNote, currentWords } from './change-note.js';
-import { EXTENSION_URLS } from './codes.js';
+import { EXTENSION_URLS, isTargetExtensionUrl } from './codes.js';
 import type { FhirResource } from './gathered-data.js';
 import { isObject } from './json.js';
 import { parameterSays } from './order-parts.js';
@@ -48,7 +48,7 @@ function clone(resource: FhirResource): Json | undefined {
 }
 
 function writeTarget(resource: Json, range: SaturationRange): void {
-  const isOurs = (e: unknown): boolean => isObject(e) && e['url'] === EXTENSION_URLS.targetSaturation;
+  const isOurs = (e: unknown): boolean => isObject(e) && isTargetExtensionUrl(typeof e['url'] === 'string' ? e['url'] : undefined);
   for (const dosage of objects(resource, 'dosageInstruction')) {
     const inner = dosage['extension'];
     if (Array.isArray(inner)) dosage['extension'] = inner.filter((e) => !isOurs(e));

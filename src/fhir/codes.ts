@@ -168,6 +168,24 @@ export function isAdverseEffectOrUnderdosing(bareCode: string): boolean {
  */
 export const ICD10_HERBICIDE_PREFIX = 'T603';
 
+/**
+ * The base of this service's FHIR canonical URLs (its extension and code systems). The project owns no
+ * domain, so the base sits under example.org, a name reserved for this use (RFC 2606) and never
+ * registered by anyone else. A canonical URL is an identifier: the service never fetches it.
+ */
+export const CANONICAL_BASE = 'https://oxygen-order-checker.example.org/fhir';
+
 export const EXTENSION_URLS = {
-  targetSaturation: 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation',
+  targetSaturation: `${CANONICAL_BASE}/StructureDefinition/target-oxygen-saturation`,
 } as const;
+
+/**
+ * The private URN the target extension had before version 0.2. Orders drafted then may still carry it,
+ * so it is read as the same extension; it is never written.
+ */
+export const RETIRED_TARGET_EXTENSION_URL = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+
+/** Whether an extension url is this service's target-saturation extension, under its current or retired name. */
+export function isTargetExtensionUrl(url: string | undefined): boolean {
+  return url === EXTENSION_URLS.targetSaturation || url === RETIRED_TARGET_EXTENSION_URL;
+}

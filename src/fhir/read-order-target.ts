@@ -1,5 +1,5 @@
 import type { SaturationRange, SetAsideNote } from '../core/types.js';
-import { EXTENSION_URLS } from './codes.js';
+import { isTargetExtensionUrl } from './codes.js';
 import { objectAt, objectsAt, quantityOf, stringAt, type JsonObject } from './json.js';
 import { PLAUSIBLE, describeRange, isPlausible } from './plausibility.js';
 import { readQuantity } from './read-quantity.js';
@@ -57,7 +57,7 @@ export function readRangeAsTarget(range: unknown, what: string, reference: strin
 export function readTargetExtension(holders: readonly JsonObject[], reference: string): StructuredTarget {
   for (const holder of holders) {
     const extension = objectsAt(holder, 'extension').find(
-      (e) => stringAt(e, 'url') === EXTENSION_URLS.targetSaturation,
+      (e) => isTargetExtensionUrl(stringAt(e, 'url')),
     );
     if (extension !== undefined) {
       return readRangeAsTarget(objectAt(extension, 'valueRange'), 'Target SpO2 extension', reference);

@@ -87,15 +87,15 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     patientKey: deps.patientKey,
   });
   const feedbackLimits = config.feedback ?? {
-    maxItemsPerRequest: ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_ITEMS,
-    maxRecordsPerClientPerDay: ENV_DEFAULTS.O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY,
+    maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
+    maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
-  const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.O2CHECK_MAX_CONCURRENT);
+  const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT);
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
 
-  app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.O2CHECK_BEHIND_TLS }));
+  app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS }));
   app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID));
   app.use(corsHeaders(config.corsOrigins));
   // Browsers send preflights without credentials, so they are answered before authentication.

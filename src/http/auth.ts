@@ -61,7 +61,7 @@ export const DEMO_CLIENT: Extract<AuthResult, { kind: 'allowed' }> = Object.free
 /** Demo mode: authentication off. Only for the loopback demo, never for clinical use. */
 export const allowEveryRequest: Authenticate = () => Promise.resolve(DEMO_CLIENT);
 
-const CLIENT_KEY = 'o2checkClient';
+const CLIENT_KEY = 'oxygenCheckerClient';
 
 const DENIAL_CODES = {
   missing: 'CDS_ERR_AUTH_MISSING',

@@ -1,3 +1,5 @@
+import { CANONICAL_BASE } from '../fhir/codes.js';
+
 /**
  * The one catalogue of errors a caller can see. `docs/errors.md` holds the same codes with how to fix
  * each; tests/http/errors.test.ts keeps the two in step. Codes are never reused for a new meaning.
@@ -138,7 +140,7 @@ export interface HttpResult {
 }
 
 /** Our own code system, so an OperationOutcome names the catalogue code it stands for. */
-export const ERROR_CODE_SYSTEM = 'urn:oxygen-order-checker:error-code';
+export const ERROR_CODE_SYSTEM = `${CANONICAL_BASE}/CodeSystem/error-code`;
 
 /**
  * 412 as a FHIR R4 OperationOutcome, as the CDS Hooks 3.0 ballot recommends for non-2xx bodies

@@ -11,7 +11,7 @@ export interface RequestState {
   detail: RequestDetail | undefined;
 }
 
-const STATE_KEY = 'o2checkRequest';
+const STATE_KEY = 'oxygenCheckerRequest';
 
 export function requestState(res: Response): RequestState {
   const state = res.locals[STATE_KEY] as RequestState | undefined;

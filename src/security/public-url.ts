@@ -1,5 +1,5 @@
 /**
- * The service's public base URL (`O2CHECK_PUBLIC_URL`) and the audience a token must name. CDS Hooks
+ * The service's public base URL (`OXYGEN_CHECKER_PUBLIC_URL`) and the audience a token must name. CDS Hooks
  * 2.0 §Trusting CDS Clients: `aud` is the URL of the endpoint being invoked. It is built from the
  * configured base plus the path called, never from the Host or X-Forwarded-* headers, which a caller
  * (or a proxy) controls.

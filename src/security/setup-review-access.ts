@@ -8,7 +8,7 @@ import { createReviewLinker } from './review-link-token.js';
 /**
  * Builds the review pages' access and the cards' review links at start-up, as setUpAuthentication
  * does for the hook routes. Production loads (or creates) the link secret and signs every link
- * against `O2CHECK_PUBLIC_URL`; the loopback demo leaves the pages open and links to the address the
+ * against `OXYGEN_CHECKER_PUBLIC_URL`; the loopback demo leaves the pages open and links to the address the
  * server actually listens on, known only once it listens (`setListeningUrl`).
  */
 export type ReviewSetup =
@@ -25,7 +25,7 @@ export type ReviewSetup =
 export interface ReviewSetupInput {
   readonly mode: Mode;
   readonly config: ReviewConfig;
-  /** `O2CHECK_PUBLIC_URL`, normalised; required in production. */
+  /** `OXYGEN_CHECKER_PUBLIC_URL`, normalised; required in production. */
   readonly publicUrl?: string;
   readonly clock: () => Date;
 }
@@ -43,12 +43,12 @@ export function setUpReviewAccess(input: ReviewSetupInput): ReviewSetup {
     };
   }
   if (input.publicUrl === undefined || input.publicUrl === '') {
-    return { kind: 'refused', problems: 'O2CHECK_PUBLIC_URL: production review links need the public base URL' };
+    return { kind: 'refused', problems: 'OXYGEN_CHECKER_PUBLIC_URL: production review links need the public base URL' };
   }
   const { config } = input;
   const loaded = loadReviewLinkSecret(config.linkSecretPath, { create: config.createLinkSecret });
   if (loaded.kind === 'refused') {
-    return { kind: 'refused', problems: `O2CHECK_REVIEW_LINK_SECRET_FILE: ${loaded.problem}` };
+    return { kind: 'refused', problems: `OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE: ${loaded.problem}` };
   }
   const access: ReviewAccessConfig = {
     mode: 'production',

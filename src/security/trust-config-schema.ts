@@ -3,7 +3,7 @@ import { DEFAULT_ALGORITHMS, isSigningAlgorithm, keySuitsAlgorithm, refusedAlgor
 import { preparePublicJwk } from './jwk-keys.js';
 
 /**
- * The trust file (`O2CHECK_TRUST`): the CDS clients allowed to call, each with its keys and limits.
+ * The trust file (`OXYGEN_CHECKER_TRUST`): the CDS clients allowed to call, each with its keys and limits.
  * Strict: an unknown key is an error (a typo such as `jwksURL` must not silently disable a check).
  * JWKs themselves stay open (RFC 7517 §4: members not understood are ignored) but are checked by
  * `preparePublicJwk`. Key names are fixed by the project's issue 3 and documented in docs/security.md.

@@ -36,7 +36,7 @@ export function openStore(options: OpenStoreOptions): OpenStoreResult {
   } catch (error) {
     return {
       kind: 'refused',
-      problem: `the data directory ${options.dataDir} cannot be created or written (${describe(error)}); set O2CHECK_DATA_DIR to a directory this service may write`,
+      problem: `the data directory ${options.dataDir} cannot be created or written (${describe(error)}); set OXYGEN_CHECKER_DATA_DIR to a directory this service may write`,
     };
   }
   try {

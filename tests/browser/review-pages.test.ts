@@ -50,7 +50,7 @@ const cspViolations: string[] = [];
 function startService(): Promise<string> {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', LOG_LEVEL: 'info', O2CHECK_DATA_DIR: dataDir },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', LOG_LEVEL: 'info', OXYGEN_CHECKER_DATA_DIR: dataDir },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   service = child;
@@ -104,7 +104,7 @@ beforeAll(async () => {
     return;
   }
   mkdirSync(SCREENSHOTS, { recursive: true });
-  dataDir = mkdtempSync(join(tmpdir(), 'o2check-browser-'));
+  dataDir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-browser-'));
   base = await startService();
   browser = await chromium.launch({ executablePath: CHROMIUM, args: CHROMIUM_ARGS });
   const context = await browser.newContext({ viewport: { width: 1280, height: 900 } });

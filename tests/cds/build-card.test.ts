@@ -38,7 +38,7 @@ const ctx: CardBuildContext = {
   assessment,
   now: NOW,
 };
-const TARGET_EXTENSION = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_EXTENSION = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 
 /** The lines of the detail's "Based on" list, without the bullet. */
 function basedOn(detail: string): string[] {
@@ -59,7 +59,7 @@ describe('buildCard', () => {
     expect(card.source).toStrictEqual({
       label: `Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0 #${POLICY_HASH.slice(0, 12)}) · BTS 2017`,
       url: 'https://www.brit-thoracic.org.uk/',
-      topic: { system: 'urn:oxygen-order-checker:rule', code: 'target-above-hypercapnic-range' },
+      topic: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/rule', code: 'target-above-hypercapnic-range' },
     });
     expect(card.overrideReasons).toStrictEqual([
       { code: 'patient-specific-target', system: OVERRIDE_REASON_SYSTEM, display: 'Patient has an individual target agreed by the team' },

@@ -18,7 +18,7 @@ const policy = bundledPolicy();
 const templates = loadRepositoryCards();
 const deps = { policy, templates, now: NOW };
 const standardOrder = draftOxygenOrder('Oxygen 3 L/min via nasal cannula, target SpO2 94-98%');
-const TARGET_EXTENSION = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_EXTENSION = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 
 function run(serviceId: string, request = orderSignRequest(standardOrder), data = kyphoscoliosisData()) {
   return evaluateHook({ serviceId, request, data }, deps);

@@ -164,7 +164,7 @@ describe('FeedbackRequestSchema', () => {
       {
         card: accepted.card,
         outcome: 'overridden',
-        overrideReason: { reason: { code: 'patient-specific-target', system: 'urn:oxygen-order-checker:override-reason' } },
+        overrideReason: { reason: { code: 'patient-specific-target', system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason' } },
         outcomeTimestamp: accepted.outcomeTimestamp,
       },
     ],

@@ -16,7 +16,7 @@ interface Card {
 
 const ruleOf = (card: Card): string | undefined => card.source.topic?.code;
 
-describe('o2check evaluate', () => {
+describe('oxygen-order-checker evaluate', () => {
   it('answers the kyphoscoliosis request as the service would, with a one-click target change', async () => {
     const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target')]);
     expect(run.code).toBe(0);
@@ -99,7 +99,7 @@ describe('o2check evaluate', () => {
     it('tells apart two files with the same id and version that differ by one byte', async () => {
       const bytes = readFileSync(bundled);
       const edited = Buffer.concat([bytes, Buffer.from('\n')]);
-      const copy = join(mkdtempSync(join(tmpdir(), 'o2check-hash-')), 'bts-2017-edited.yaml');
+      const copy = join(mkdtempSync(join(tmpdir(), 'oxygen-order-checker-hash-')), 'bts-2017-edited.yaml');
       writeFileSync(copy, edited);
       const [original, changed] = [await labels(bundled), await labels(copy)];
       expect(changed).toHaveLength(1);
@@ -109,7 +109,7 @@ describe('o2check evaluate', () => {
   });
 
   describe('edge cases', () => {
-    const dir = mkdtempSync(join(tmpdir(), 'o2check-evaluate-'));
+    const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-evaluate-'));
 
     it('prints the 412 OperationOutcome and exits 1 when required prefetch is missing', async () => {
       const body = JSON.parse(

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { runO2check } from './cli-harness.js';
 
-describe('o2check fio2', () => {
+describe('oxygen-order-checker fio2', () => {
   it('gives a Venturi 28 % at 4 L/min its entrainment ratio and total flow as JSON', async () => {
     const run = await runO2check(['fio2', '--device', 'venturi-mask', '--setting', '28', '--flow', '4', '--json']);
     expect(run.code).toBe(0);

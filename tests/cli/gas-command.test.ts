@@ -6,7 +6,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { runO2check } from './cli-harness.js';
 
 const bundled = readFileSync(new URL('../../policies/bts-2017.yaml', import.meta.url), 'utf8');
-const dir = mkdtempSync(join(tmpdir(), 'o2check-gas-'));
+const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-gas-'));
 afterAll(() => {
   rmSync(dir, { recursive: true, force: true });
 });
@@ -18,7 +18,7 @@ function policyWithSite(name: string, site: string): string {
   return path;
 }
 
-describe('o2check gas', () => {
+describe('oxygen-order-checker gas', () => {
   it('works out a room-air gas at sea level in mmHg', async () => {
     const run = await runO2check(
       ['gas', '--fio2', '0.21', '--pao2', '95', '--paco2', '40', '--units', 'mmHg', '--age', '40', '--json'],
@@ -171,7 +171,7 @@ describe('o2check gas', () => {
               expect(out.alveolarPO2MmHg).toBeGreaterThanOrEqual(1);
               expect(out.aaGradientMmHg).toBeGreaterThanOrEqual(-10);
             } else {
-              expect(run.stderr).toContain('o2check gas:');
+              expect(run.stderr).toContain('oxygen-order-checker gas:');
             }
           },
         ),

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { examplePath, runO2check } from './cli-harness.js';
 
-describe('o2check retime', () => {
+describe('oxygen-order-checker retime', () => {
   const original = JSON.parse(readFileSync(examplePath('order-sign-kyphoscoliosis-standard-target'), 'utf8'));
 
   it('moves every date-time so the draft order is signed at --at, keeping the gaps between them', async () => {
@@ -34,7 +34,7 @@ describe('o2check retime', () => {
 
   describe('edge cases', () => {
     it('refuses a file nested deeper than the service accepts, with exit 1 and no stack trace', async () => {
-      const file = join(mkdtempSync(join(tmpdir(), 'o2check-deep-')), 'deep.json');
+      const file = join(mkdtempSync(join(tmpdir(), 'oxygen-order-checker-deep-')), 'deep.json');
       writeFileSync(file, `${'['.repeat(20_000)}${']'.repeat(20_000)}`);
       for (const command of ['retime', 'evaluate']) {
         const run = await runO2check([command, file]);

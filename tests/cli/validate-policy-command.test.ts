@@ -7,7 +7,7 @@ import { runO2check } from './cli-harness.js';
 
 const bundled = (name: string): string => new URL(`../../policies/${name}`, import.meta.url).pathname;
 
-describe('o2check validate-policy', () => {
+describe('oxygen-order-checker validate-policy', () => {
   it('accepts the TSANZ 2015 preset and shows its ranges', async () => {
     const run = await runO2check(['validate-policy', bundled('tsanz-2015.yaml')]);
     expect(run.code).toBe(0);
@@ -17,7 +17,7 @@ describe('o2check validate-policy', () => {
   });
 
   it('lists every problem of an invalid file with its path and exits 1', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'o2check-policy-'));
+    const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'typo.yaml');
     const text = (await import('node:fs'))
       .readFileSync(bundled('bts-2017.yaml'), 'utf8')
@@ -34,7 +34,7 @@ describe('o2check validate-policy', () => {
   });
 
   it('refuses the dangerous file a new user tried, every problem with its line and column, and exits 1', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'o2check-policy-'));
+    const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'larkspur-bay.yaml');
     writeFileSync(
       file,
@@ -65,7 +65,7 @@ describe('o2check validate-policy', () => {
   });
 
   it('accepts a file with warnings and an acknowledgement, shows both, and exits 0', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'o2check-policy-'));
+    const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'larkspur-bay.yaml');
     writeFileSync(
       file,

@@ -4,14 +4,14 @@ import { ENV_DEFAULTS, formatEnvProblems, KNOWN_VARIABLES, parseEnvConfig } from
 import { REVIEW_VARIABLES } from '../../src/config/review-config.js';
 
 const PRODUCTION = {
-  O2CHECK_MODE: 'production',
-  O2CHECK_TRUST: '/etc/o2check/trust.yaml',
-  O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+  OXYGEN_CHECKER_MODE: 'production',
+  OXYGEN_CHECKER_TRUST: '/etc/oxygen-order-checker/trust.yaml',
+  OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
 };
 
 describe('parseEnvConfig', () => {
   it('gives the documented defaults when nothing is set', () => {
-    const result = parseEnvConfig({}, '/srv/o2check');
+    const result = parseEnvConfig({}, '/srv/oxygen-order-checker');
     expect(result).toStrictEqual({
       kind: 'ok',
       config: {
@@ -28,7 +28,7 @@ describe('parseEnvConfig', () => {
         behindTls: false, // project default: no HSTS until HTTPS is known to be in front
         security: { mode: 'demo' }, // project default: demo mode, authentication off, loopback only
         store: {
-          dataDir: '/srv/o2check/data', // project default: ./data under the working directory
+          dataDir: '/srv/oxygen-order-checker/data', // project default: ./data under the working directory
           patientKeyFile: undefined, // project default: the secret is created in the data directory
           auditRetentionDays: 400, // project default: a year of review plus margin; local records policy decides
           purgeIntervalMin: 60, // project default
@@ -39,8 +39,8 @@ describe('parseEnvConfig', () => {
   });
 
   it('resolves the bundled defaults to files that ship with the package', () => {
-    expect(ENV_DEFAULTS.O2CHECK_POLICY.endsWith('/policies/bts-2017.yaml')).toBe(true);
-    expect(ENV_DEFAULTS.O2CHECK_CARDS_DIR.endsWith('/cards')).toBe(true);
+    expect(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY.endsWith('/policies/bts-2017.yaml')).toBe(true);
+    expect(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR.endsWith('/cards')).toBe(true);
   });
 
   it('reads every variable it knows', () => {
@@ -48,45 +48,45 @@ describe('parseEnvConfig', () => {
       {
         HOST: '0.0.0.0',
         PORT: '9090',
-        O2CHECK_POLICY: 'local/larkspur-bay.yaml',
-        O2CHECK_CARDS_DIR: '/etc/o2check/cards',
+        OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
+        OXYGEN_CHECKER_CARDS_DIR: '/etc/oxygen-order-checker/cards',
         LOG_LEVEL: 'warn',
-        O2CHECK_BODY_LIMIT_BYTES: '65536',
-        O2CHECK_CORS_ORIGINS: 'https://ehr.larkspur-bay.example, https://test.larkspur-bay.example:8443',
-        O2CHECK_FHIR_CALL_TIMEOUT_MS: '400',
-        O2CHECK_FHIR_BUDGET_MS: '900',
-        O2CHECK_FHIR_MAX_RESPONSE_BYTES: '4096',
-        O2CHECK_FHIR_MAX_PAGES: '2',
-        O2CHECK_MAX_CONCURRENT: '4',
-        O2CHECK_SHUTDOWN_GRACE_MS: '2500',
-        O2CHECK_BEHIND_TLS: 'true',
-        O2CHECK_MODE: 'production',
-        O2CHECK_TRUST: 'trust/larkspur-bay-clients.yaml',
-        O2CHECK_PUBLIC_URL: 'https://CDS.larkspur-bay.example/',
-        O2CHECK_JWT_CLOCK_SKEW_S: '30',
-        O2CHECK_JWT_MAX_LIFETIME_S: '600',
-        O2CHECK_JWKS_TIMEOUT_MS: '800',
-        O2CHECK_JWKS_MAX_BYTES: '16384',
-        O2CHECK_JWKS_CACHE_TTL_S: '120',
-        O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S: '15',
-        O2CHECK_REPLAY_CACHE_MAX_ENTRIES: '5000',
-        O2CHECK_REPLAY_MAX_PER_CLIENT: '1500',
-        O2CHECK_DATA_DIR: 'var/o2check',
-        O2CHECK_PATIENT_KEY_FILE: '/etc/o2check/patient-key',
-        O2CHECK_AUDIT_RETENTION_DAYS: '730',
-        O2CHECK_PURGE_INTERVAL_MIN: '15',
-        O2CHECK_FEEDBACK_MAX_ITEMS: '10',
-        O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY: '500',
+        OXYGEN_CHECKER_BODY_LIMIT_BYTES: '65536',
+        OXYGEN_CHECKER_CORS_ORIGINS: 'https://ehr.larkspur-bay.example, https://test.larkspur-bay.example:8443',
+        OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: '400',
+        OXYGEN_CHECKER_FHIR_BUDGET_MS: '900',
+        OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: '4096',
+        OXYGEN_CHECKER_FHIR_MAX_PAGES: '2',
+        OXYGEN_CHECKER_MAX_CONCURRENT: '4',
+        OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
+        OXYGEN_CHECKER_BEHIND_TLS: 'true',
+        OXYGEN_CHECKER_MODE: 'production',
+        OXYGEN_CHECKER_TRUST: 'trust/larkspur-bay-clients.yaml',
+        OXYGEN_CHECKER_PUBLIC_URL: 'https://CDS.larkspur-bay.example/',
+        OXYGEN_CHECKER_JWT_CLOCK_SKEW_S: '30',
+        OXYGEN_CHECKER_JWT_MAX_LIFETIME_S: '600',
+        OXYGEN_CHECKER_JWKS_TIMEOUT_MS: '800',
+        OXYGEN_CHECKER_JWKS_MAX_BYTES: '16384',
+        OXYGEN_CHECKER_JWKS_CACHE_TTL_S: '120',
+        OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: '15',
+        OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: '5000',
+        OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: '1500',
+        OXYGEN_CHECKER_DATA_DIR: 'var/oxygen-order-checker',
+        OXYGEN_CHECKER_PATIENT_KEY_FILE: '/etc/oxygen-order-checker/patient-key',
+        OXYGEN_CHECKER_AUDIT_RETENTION_DAYS: '730',
+        OXYGEN_CHECKER_PURGE_INTERVAL_MIN: '15',
+        OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS: '10',
+        OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: '500',
       },
-      '/srv/o2check',
+      '/srv/oxygen-order-checker',
     );
     expect(result).toStrictEqual({
       kind: 'ok',
       config: {
         host: '0.0.0.0',
         port: 9090,
-        policyPath: '/srv/o2check/local/larkspur-bay.yaml',
-        cardsDir: '/etc/o2check/cards',
+        policyPath: '/srv/oxygen-order-checker/local/larkspur-bay.yaml',
+        cardsDir: '/etc/oxygen-order-checker/cards',
         logLevel: 'warn',
         bodyLimitBytes: 65_536,
         corsOrigins: ['https://ehr.larkspur-bay.example', 'https://test.larkspur-bay.example:8443'],
@@ -96,7 +96,7 @@ describe('parseEnvConfig', () => {
         behindTls: true,
         security: {
           mode: 'production',
-          trustPath: '/srv/o2check/trust/larkspur-bay-clients.yaml',
+          trustPath: '/srv/oxygen-order-checker/trust/larkspur-bay-clients.yaml',
           // WHATWG URL: host lower-cased; the trailing slash is dropped so paths can be appended
           publicUrl: 'https://cds.larkspur-bay.example',
           limits: {
@@ -111,8 +111,8 @@ describe('parseEnvConfig', () => {
           },
         },
         store: {
-          dataDir: '/srv/o2check/var/o2check',
-          patientKeyFile: '/etc/o2check/patient-key',
+          dataDir: '/srv/oxygen-order-checker/var/oxygen-order-checker',
+          patientKeyFile: '/etc/oxygen-order-checker/patient-key',
           auditRetentionDays: 730,
           purgeIntervalMin: 15,
         },
@@ -122,14 +122,14 @@ describe('parseEnvConfig', () => {
   });
 
   describe('modes', () => {
-    it('sends HSTS in production even when O2CHECK_BEHIND_TLS is not set, and not by default in demo mode', () => {
+    it('sends HSTS in production even when OXYGEN_CHECKER_BEHIND_TLS is not set, and not by default in demo mode', () => {
       // RFC 6797: HSTS tells browsers to use HTTPS only; production requires an https public URL.
       const production = parseEnvConfig(
         {
-          O2CHECK_MODE: 'production',
-          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
-          O2CHECK_TRUST: 'trust.yaml',
-          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+          OXYGEN_CHECKER_MODE: 'production',
+          OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
+          OXYGEN_CHECKER_TRUST: 'trust.yaml',
+          OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
         },
         '/srv',
       );
@@ -139,21 +139,21 @@ describe('parseEnvConfig', () => {
     });
 
     it('refuses production mode without a policy, a trust file or a public URL, naming all three', () => {
-      const result = parseEnvConfig({ O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, '/');
+      const result = parseEnvConfig({ OXYGEN_CHECKER_MODE: 'production', HOST: '0.0.0.0' }, '/');
       expect(result).toStrictEqual({
         kind: 'invalid',
         problems: [
           {
-            variable: 'O2CHECK_POLICY',
+            variable: 'OXYGEN_CHECKER_POLICY',
             message:
               'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
           },
           {
-            variable: 'O2CHECK_TRUST',
+            variable: 'OXYGEN_CHECKER_TRUST',
             message: 'production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)',
           },
           {
-            variable: 'O2CHECK_PUBLIC_URL',
+            variable: 'OXYGEN_CHECKER_PUBLIC_URL',
             message:
               'production mode needs the https base URL clients call, e.g. https://cds.example.org (see docs/security.md)',
           },
@@ -170,26 +170,26 @@ describe('parseEnvConfig', () => {
         'https://cds.larkspur-bay.example/cds-services',
         'must be the base URL, without /cds-services (it is added per call)',
       ],
-    ])('refuses O2CHECK_PUBLIC_URL=%s', (publicUrl, message) => {
+    ])('refuses OXYGEN_CHECKER_PUBLIC_URL=%s', (publicUrl, message) => {
       const result = parseEnvConfig(
         {
-          O2CHECK_MODE: 'production',
-          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
-          O2CHECK_TRUST: '/etc/o2check/trust.yaml',
-          O2CHECK_PUBLIC_URL: publicUrl,
+          OXYGEN_CHECKER_MODE: 'production',
+          OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
+          OXYGEN_CHECKER_TRUST: '/etc/oxygen-order-checker/trust.yaml',
+          OXYGEN_CHECKER_PUBLIC_URL: publicUrl,
         },
         '/',
       );
-      expect(result).toStrictEqual({ kind: 'invalid', problems: [{ variable: 'O2CHECK_PUBLIC_URL', message }] });
+      expect(result).toStrictEqual({ kind: 'invalid', problems: [{ variable: 'OXYGEN_CHECKER_PUBLIC_URL', message }] });
     });
 
     it('keeps a path prefix on the public URL, for a proxy that serves the service under one', () => {
       const result = parseEnvConfig(
         {
-          O2CHECK_MODE: 'production',
-          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
-          O2CHECK_TRUST: '/etc/o2check/trust.yaml',
-          O2CHECK_PUBLIC_URL: 'https://apps.larkspur-bay.example/oxygen/',
+          OXYGEN_CHECKER_MODE: 'production',
+          OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
+          OXYGEN_CHECKER_TRUST: '/etc/oxygen-order-checker/trust.yaml',
+          OXYGEN_CHECKER_PUBLIC_URL: 'https://apps.larkspur-bay.example/oxygen/',
         },
         '/',
       );
@@ -208,7 +208,7 @@ describe('parseEnvConfig', () => {
               variable: 'HOST',
               message:
                 'demo mode has authentication off, so it binds to loopback only (127.0.0.1, ::1 or localhost); ' +
-                'to serve other machines set O2CHECK_MODE=production with O2CHECK_TRUST and O2CHECK_PUBLIC_URL (see docs/security.md)',
+                'to serve other machines set OXYGEN_CHECKER_MODE=production with OXYGEN_CHECKER_TRUST and OXYGEN_CHECKER_PUBLIC_URL (see docs/security.md)',
             },
           ],
         });
@@ -223,31 +223,31 @@ describe('parseEnvConfig', () => {
 
     it('refuses a trust file or public URL given without production mode', () => {
       const result = parseEnvConfig(
-        { O2CHECK_TRUST: '/etc/o2check/trust.yaml', O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example' },
+        { OXYGEN_CHECKER_TRUST: '/etc/oxygen-order-checker/trust.yaml', OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example' },
         '/',
       );
       const message =
-        'is set, but O2CHECK_MODE is not production, so authentication would be off; set O2CHECK_MODE=production';
+        'is set, but OXYGEN_CHECKER_MODE is not production, so authentication would be off; set OXYGEN_CHECKER_MODE=production';
       expect(result).toStrictEqual({
         kind: 'invalid',
         problems: [
-          { variable: 'O2CHECK_TRUST', message },
-          { variable: 'O2CHECK_PUBLIC_URL', message },
+          { variable: 'OXYGEN_CHECKER_TRUST', message },
+          { variable: 'OXYGEN_CHECKER_PUBLIC_URL', message },
         ],
       });
     });
 
     it('refuses an unknown mode', () => {
-      const result = parseEnvConfig({ O2CHECK_MODE: 'staging' }, '/');
+      const result = parseEnvConfig({ OXYGEN_CHECKER_MODE: 'staging' }, '/');
       expect(result).toStrictEqual({
         kind: 'invalid',
-        problems: [{ variable: 'O2CHECK_MODE', message: 'must be one of demo, production' }],
+        problems: [{ variable: 'OXYGEN_CHECKER_MODE', message: 'must be one of demo, production' }],
       });
     });
   });
 
   it('freezes the result, nested objects included', () => {
-    const result = parseEnvConfig({ O2CHECK_CORS_ORIGINS: 'https://ehr.larkspur-bay.example' }, '/');
+    const result = parseEnvConfig({ OXYGEN_CHECKER_CORS_ORIGINS: 'https://ehr.larkspur-bay.example' }, '/');
     if (result.kind !== 'ok') throw new Error('expected ok');
     expect(Object.isFrozen(result.config)).toBe(true);
     expect(Object.isFrozen(result.config.fhir)).toBe(true);
@@ -259,8 +259,8 @@ describe('parseEnvConfig', () => {
       {
         PORT: '80x',
         LOG_LEVEL: 'loud',
-        O2CHECK_FHIR_MAX_PAGES: '0',
-        O2CHECK_CORS_ORIGINS: 'https://ehr.larkspur-bay.example/path',
+        OXYGEN_CHECKER_FHIR_MAX_PAGES: '0',
+        OXYGEN_CHECKER_CORS_ORIGINS: 'https://ehr.larkspur-bay.example/path',
       },
       '/',
     );
@@ -273,20 +273,20 @@ describe('parseEnvConfig', () => {
           message: 'must be one of fatal, error, warn, info, debug, trace, silent',
         },
         {
-          variable: 'O2CHECK_CORS_ORIGINS',
+          variable: 'OXYGEN_CHECKER_CORS_ORIGINS',
           message:
             "'https://ehr.larkspur-bay.example/path' is not an origin (scheme://host[:port], no path or trailing slash)",
         },
-        { variable: 'O2CHECK_FHIR_MAX_PAGES', message: 'must be a whole number from 1 to 100' },
+        { variable: 'OXYGEN_CHECKER_FHIR_MAX_PAGES', message: 'must be a whole number from 1 to 100' },
       ],
     });
   });
 
   describe('store and feedback limits', () => {
     it('keeps an absolute data directory as given and resolves a relative key file against the working directory', () => {
-      const result = parseEnvConfig({ O2CHECK_DATA_DIR: '/var/lib/o2check', O2CHECK_PATIENT_KEY_FILE: 'keys/patient' }, '/srv');
+      const result = parseEnvConfig({ OXYGEN_CHECKER_DATA_DIR: '/var/lib/oxygen-order-checker', OXYGEN_CHECKER_PATIENT_KEY_FILE: 'keys/patient' }, '/srv');
       expect(result.kind === 'ok' && result.config.store).toStrictEqual({
-        dataDir: '/var/lib/o2check',
+        dataDir: '/var/lib/oxygen-order-checker',
         patientKeyFile: '/srv/keys/patient',
         auditRetentionDays: 400,
         purgeIntervalMin: 60,
@@ -294,14 +294,14 @@ describe('parseEnvConfig', () => {
     });
 
     it.each([
-      ['O2CHECK_AUDIT_RETENTION_DAYS', '0'],
-      ['O2CHECK_AUDIT_RETENTION_DAYS', '400d'],
-      ['O2CHECK_PURGE_INTERVAL_MIN', '0'],
-      ['O2CHECK_FEEDBACK_MAX_ITEMS', '0'],
-      ['O2CHECK_FEEDBACK_MAX_ITEMS', '-5'],
-      ['O2CHECK_FEEDBACK_MAX_PER_CLIENT_DAY', '0'],
-      ['O2CHECK_REPLAY_MAX_PER_CLIENT', '10'],
-      ['O2CHECK_REPLAY_MAX_PER_CLIENT', 'lots'],
+      ['OXYGEN_CHECKER_AUDIT_RETENTION_DAYS', '0'],
+      ['OXYGEN_CHECKER_AUDIT_RETENTION_DAYS', '400d'],
+      ['OXYGEN_CHECKER_PURGE_INTERVAL_MIN', '0'],
+      ['OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS', '0'],
+      ['OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS', '-5'],
+      ['OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY', '0'],
+      ['OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT', '10'],
+      ['OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT', 'lots'],
     ])('refuses %s=%s under its own name', (variable, value) => {
       const result = parseEnvConfig({ [variable]: value }, '/srv');
       expect(result.kind).toBe('invalid');
@@ -311,11 +311,11 @@ describe('parseEnvConfig', () => {
     it('gives the per-client replay share to production mode only, beside the memory cap', () => {
       const production = parseEnvConfig(
         {
-          O2CHECK_MODE: 'production',
-          O2CHECK_POLICY: 'local/larkspur-bay.yaml',
-          O2CHECK_TRUST: 'trust.yaml',
-          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
-          O2CHECK_REPLAY_MAX_PER_CLIENT: '250',
+          OXYGEN_CHECKER_MODE: 'production',
+          OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
+          OXYGEN_CHECKER_TRUST: 'trust.yaml',
+          OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+          OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: '250',
         },
         '/srv',
       );
@@ -347,25 +347,25 @@ describe('parseEnvConfig', () => {
     });
 
     it('refuses a concurrency cap of 0 and a yes/no flag that is neither', () => {
-      const result = parseEnvConfig({ O2CHECK_MAX_CONCURRENT: '0', O2CHECK_BEHIND_TLS: 'yes' }, '/');
+      const result = parseEnvConfig({ OXYGEN_CHECKER_MAX_CONCURRENT: '0', OXYGEN_CHECKER_BEHIND_TLS: 'yes' }, '/');
       expect(result).toStrictEqual({
         kind: 'invalid',
         problems: [
-          { variable: 'O2CHECK_MAX_CONCURRENT', message: 'must be a whole number from 1 to 10000' },
-          { variable: 'O2CHECK_BEHIND_TLS', message: 'must be true or false' },
+          { variable: 'OXYGEN_CHECKER_MAX_CONCURRENT', message: 'must be a whole number from 1 to 10000' },
+          { variable: 'OXYGEN_CHECKER_BEHIND_TLS', message: 'must be true or false' },
         ],
       });
     });
 
     it('refuses an overall FHIR budget shorter than one call', () => {
       const result = parseEnvConfig(
-        { O2CHECK_FHIR_CALL_TIMEOUT_MS: '2000', O2CHECK_FHIR_BUDGET_MS: '1000' },
+        { OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: '2000', OXYGEN_CHECKER_FHIR_BUDGET_MS: '1000' },
         '/',
       );
       expect(result).toStrictEqual({
         kind: 'invalid',
         problems: [
-          { variable: 'O2CHECK_FHIR_BUDGET_MS', message: 'must not be below O2CHECK_FHIR_CALL_TIMEOUT_MS' },
+          { variable: 'OXYGEN_CHECKER_FHIR_BUDGET_MS', message: 'must not be below OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS' },
         ],
       });
     });
@@ -385,11 +385,11 @@ describe('parseEnvConfig', () => {
       ['unset', undefined],
       ['empty', ''],
       ['blank', '   '],
-    ])('refuses production with O2CHECK_POLICY %s, even when everything else is set', (_label, policy) => {
-      const result = parseEnvConfig({ ...PRODUCTION, O2CHECK_POLICY: policy }, '/srv');
+    ])('refuses production with OXYGEN_CHECKER_POLICY %s, even when everything else is set', (_label, policy) => {
+      const result = parseEnvConfig({ ...PRODUCTION, OXYGEN_CHECKER_POLICY: policy }, '/srv');
       expect(result.kind === 'invalid' && result.problems).toStrictEqual([
         {
-          variable: 'O2CHECK_POLICY',
+          variable: 'OXYGEN_CHECKER_POLICY',
           message:
             'production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
         },
@@ -397,12 +397,12 @@ describe('parseEnvConfig', () => {
     });
 
     it('accepts production with an explicit policy, even when it names the bundled file', () => {
-      const result = parseEnvConfig({ ...PRODUCTION, O2CHECK_POLICY: ENV_DEFAULTS.O2CHECK_POLICY }, '/srv');
-      expect(result.kind === 'ok' && result.config.policyPath).toBe(ENV_DEFAULTS.O2CHECK_POLICY);
+      const result = parseEnvConfig({ ...PRODUCTION, OXYGEN_CHECKER_POLICY: ENV_DEFAULTS.OXYGEN_CHECKER_POLICY }, '/srv');
+      expect(result.kind === 'ok' && result.config.policyPath).toBe(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY);
     });
 
     it('keeps the bundled policy as the demo default, unset or empty', () => {
-      for (const env of [{}, { O2CHECK_POLICY: '' }, { O2CHECK_MODE: 'demo', O2CHECK_POLICY: ' ' }]) {
+      for (const env of [{}, { OXYGEN_CHECKER_POLICY: '' }, { OXYGEN_CHECKER_MODE: 'demo', OXYGEN_CHECKER_POLICY: ' ' }]) {
         const result = parseEnvConfig(env, '/srv');
         expect(result.kind === 'ok' && result.config.policyPath).toBe(bundledPath('policies', 'bts-2017.yaml'));
       }
@@ -410,29 +410,29 @@ describe('parseEnvConfig', () => {
 
     it('lists the missing policy beside problems in other variables', () => {
       const result = parseEnvConfig({ ...PRODUCTION, PORT: 'eighty' }, '/srv');
-      expect(result.kind === 'invalid' && result.problems.map((p) => p.variable)).toStrictEqual(['PORT', 'O2CHECK_POLICY']);
+      expect(result.kind === 'invalid' && result.problems.map((p) => p.variable)).toStrictEqual(['PORT', 'OXYGEN_CHECKER_POLICY']);
     });
   });
 
   describe('unknown variables with the service prefix', () => {
     it('refuses a misspelt name in every mode, suggesting the nearest known name', () => {
-      for (const mode of [{}, { ...PRODUCTION, O2CHECK_POLICY: 'local/larkspur-bay.yaml' }]) {
-        const result = parseEnvConfig({ ...mode, O2CHECK_BODY_LIMIT_BYTE: '65536' }, '/srv');
+      for (const mode of [{}, { ...PRODUCTION, OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml' }]) {
+        const result = parseEnvConfig({ ...mode, OXYGEN_CHECKER_BODY_LIMIT_BYTE: '65536' }, '/srv');
         expect(result.kind === 'invalid' && result.problems).toStrictEqual([
           {
-            variable: 'O2CHECK_BODY_LIMIT_BYTE',
-            message: 'is not a setting of this service, so it would be ignored; did you mean O2CHECK_BODY_LIMIT_BYTES?',
+            variable: 'OXYGEN_CHECKER_BODY_LIMIT_BYTE',
+            message: 'is not a setting of this service, so it would be ignored; did you mean OXYGEN_CHECKER_BODY_LIMIT_BYTES?',
           },
         ]);
       }
     });
 
     it.each([
-      ['O2CHECK_PUBLC_URL', 'O2CHECK_PUBLIC_URL'], // a letter left out
-      ['O2CHECK_TRSUT', 'O2CHECK_TRUST'], // two letters swapped
-      ['O2CHECK_REVIEW_LINK_TTL', 'O2CHECK_REVIEW_LINK_TTL_S'], // a review-page setting without its unit
-      ['o2check_data_dir', 'O2CHECK_DATA_DIR'], // lower case: Linux environment names are case-sensitive
-      ['O2CHECK_PATIENT_KEYFILE', 'O2CHECK_PATIENT_KEY_FILE'], // a setting with no default
+      ['OXYGEN_CHECKER_PUBLC_URL', 'OXYGEN_CHECKER_PUBLIC_URL'], // a letter left out
+      ['OXYGEN_CHECKER_TRSUT', 'OXYGEN_CHECKER_TRUST'], // two letters swapped
+      ['OXYGEN_CHECKER_REVIEW_LINK_TTL', 'OXYGEN_CHECKER_REVIEW_LINK_TTL_S'], // a review-page setting without its unit
+      ['oxygen_checker_data_dir', 'OXYGEN_CHECKER_DATA_DIR'], // lower case: Linux environment names are case-sensitive
+      ['OXYGEN_CHECKER_PATIENT_KEYFILE', 'OXYGEN_CHECKER_PATIENT_KEY_FILE'], // a setting with no default
     ])('refuses %s and suggests %s', (typo, known) => {
       const result = parseEnvConfig({ [typo]: 'x' }, '/srv');
       expect(result.kind === 'invalid' && result.problems).toStrictEqual([
@@ -441,10 +441,10 @@ describe('parseEnvConfig', () => {
     });
 
     it('refuses a name close to none without guessing, and refuses it when empty too', () => {
-      const result = parseEnvConfig({ O2CHECK_COLOUR_SCHEME: '' }, '/srv');
+      const result = parseEnvConfig({ OXYGEN_CHECKER_COLOUR_SCHEME: '' }, '/srv');
       expect(result.kind === 'invalid' && result.problems).toStrictEqual([
         {
-          variable: 'O2CHECK_COLOUR_SCHEME',
+          variable: 'OXYGEN_CHECKER_COLOUR_SCHEME',
           message:
             'is not a setting of this service, so it would be ignored; remove it, or use one of the settings listed in README.md ("Configuration") and docs/security.md',
         },
@@ -457,8 +457,8 @@ describe('parseEnvConfig', () => {
         HOME: '/home/larkspur',
         NODE_ENV: 'production',
         NODE_OPTIONS: '--max-old-space-size=512',
-        O2CHECKER_NOTE: 'another prefix',
-        MY_O2CHECK_POLICY: 'the prefix not at the start',
+        OXYGEN_CHECKERS_NOTE: 'another prefix',
+        MY_OXYGEN_CHECKER_POLICY: 'the prefix not at the start',
       };
       expect(parseEnvConfig(others, '/srv').kind).toBe('ok');
     });
@@ -468,23 +468,23 @@ describe('parseEnvConfig', () => {
       const known = Object.fromEntries(REVIEW_VARIABLES.map((name) => [name, '']));
       expect(parseEnvConfig(known, '/srv').kind).toBe('ok');
       const result = parseEnvConfig(
-        { ...known, O2CHECK_MAX_CONCURENT: '4', O2CHECK_BEHIND_TLS: 'maybe', O2CHECK_CARD_DIR: 'cards' },
+        { ...known, OXYGEN_CHECKER_MAX_CONCURENT: '4', OXYGEN_CHECKER_BEHIND_TLS: 'maybe', OXYGEN_CHECKER_CARD_DIR: 'cards' },
         '/srv',
       );
       expect(result.kind === 'invalid' && result.problems.map((p) => [p.variable, p.message.split('; ')[1]])).toStrictEqual([
-        ['O2CHECK_BEHIND_TLS', undefined],
-        ['O2CHECK_CARD_DIR', 'did you mean O2CHECK_CARDS_DIR?'],
-        ['O2CHECK_MAX_CONCURENT', 'did you mean O2CHECK_MAX_CONCURRENT?'],
+        ['OXYGEN_CHECKER_BEHIND_TLS', undefined],
+        ['OXYGEN_CHECKER_CARD_DIR', 'did you mean OXYGEN_CHECKER_CARDS_DIR?'],
+        ['OXYGEN_CHECKER_MAX_CONCURENT', 'did you mean OXYGEN_CHECKER_MAX_CONCURRENT?'],
       ]);
     });
 
     it('knows every default, the review pages and the settings that have no default', () => {
       const expected = [
-        ...Object.keys(ENV_DEFAULTS).filter((name) => name.startsWith('O2CHECK_')),
+        ...Object.keys(ENV_DEFAULTS).filter((name) => name.startsWith('OXYGEN_CHECKER_')),
         ...REVIEW_VARIABLES,
-        'O2CHECK_TRUST',
-        'O2CHECK_PUBLIC_URL',
-        'O2CHECK_PATIENT_KEY_FILE',
+        'OXYGEN_CHECKER_TRUST',
+        'OXYGEN_CHECKER_PUBLIC_URL',
+        'OXYGEN_CHECKER_PATIENT_KEY_FILE',
       ];
       expect([...KNOWN_VARIABLES].sort()).toStrictEqual([...new Set(expected)].sort());
     });

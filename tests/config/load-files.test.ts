@@ -7,7 +7,7 @@ import { ENV_DEFAULTS } from '../../src/config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from '../../src/config/load-files.js';
 import { RULES } from '../../src/core/rules/index.js';
 
-const scratch = mkdtempSync(join(tmpdir(), 'o2check-load-'));
+const scratch = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-load-'));
 
 afterAll(() => {
   rmSync(scratch, { recursive: true, force: true });
@@ -16,15 +16,15 @@ afterAll(() => {
 /** A copy of the bundled cards folder that a test may break. */
 function copyOfCards(name: string): string {
   const dir = join(scratch, name);
-  cpSync(ENV_DEFAULTS.O2CHECK_CARDS_DIR, dir, { recursive: true });
+  cpSync(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR, dir, { recursive: true });
   return dir;
 }
 
 describe('loadPolicyAndCards', () => {
   it('loads the bundled policy and a template for every registered rule', async () => {
     const files = await loadPolicyAndCards({
-      policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
-      cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+      policyPath: ENV_DEFAULTS.OXYGEN_CHECKER_POLICY,
+      cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR,
     });
     expect(files.kind).toBe('ok');
     if (files.kind !== 'ok') return;
@@ -36,13 +36,13 @@ describe('loadPolicyAndCards', () => {
 
   it('carries the sha256 of the policy file bytes, so a one-byte change gives another hash', async () => {
     const policyPath = join(scratch, 'local-policy.yaml');
-    const bytes = readFileSync(ENV_DEFAULTS.O2CHECK_POLICY);
+    const bytes = readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY);
     writeFileSync(policyPath, bytes);
-    const same = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+    const same = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR });
     // FIPS 180-4 SHA-256 as node:crypto computes it, over the file as read
     expect(same.kind === 'ok' && same.policyContentHash).toBe(createHash('sha256').update(bytes).digest('hex'));
     writeFileSync(policyPath, Buffer.concat([bytes, Buffer.from('\n')]));
-    const edited = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+    const edited = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR });
     expect(edited.kind === 'ok' && edited.policyContentHash).toMatch(/^[0-9a-f]{64}$/);
     expect(edited.kind === 'ok' && same.kind === 'ok' && edited.policyContentHash !== same.policyContentHash).toBe(true);
   });
@@ -53,11 +53,11 @@ describe('loadPolicyAndCards', () => {
     if (first === undefined || second === undefined) throw new Error('expected at least two rules');
     writeFileSync(join(cardsDir, `${first}.yaml`), 'summary: ""\ndetail: text\nsumary: typo\n');
     unlinkSync(join(cardsDir, `${second}.yaml`));
-    writeFileSync(join(cardsDir, 'Not_Kebab.yaml'), readFileSync(join(ENV_DEFAULTS.O2CHECK_CARDS_DIR, `${first}.yaml`)));
+    writeFileSync(join(cardsDir, 'Not_Kebab.yaml'), readFileSync(join(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR, `${first}.yaml`)));
     const policyPath = join(scratch, 'broken-policy.yaml');
     writeFileSync(
       policyPath,
-      readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8').replace('basis: bts-2017', 'basis: nowhere'),
+      readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY, 'utf8').replace('basis: bts-2017', 'basis: nowhere'),
     );
 
     const files = await loadPolicyAndCards({ policyPath, cardsDir });
@@ -78,7 +78,7 @@ describe('loadPolicyAndCards', () => {
   describe('edge cases', () => {
     it('names an unreadable policy file by its error code', async () => {
       const policyPath = join(scratch, 'absent.yaml');
-      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR });
       expect(files).toStrictEqual({
         kind: 'invalid',
         problems: [{ file: policyPath, path: '(file)', message: 'cannot be read (ENOENT)' }],
@@ -87,7 +87,7 @@ describe('loadPolicyAndCards', () => {
 
     it('reports a missing cards folder once, not once per rule', async () => {
       const cardsDir = join(scratch, 'no-such-folder');
-      const files = await loadPolicyAndCards({ policyPath: ENV_DEFAULTS.O2CHECK_POLICY, cardsDir });
+      const files = await loadPolicyAndCards({ policyPath: ENV_DEFAULTS.OXYGEN_CHECKER_POLICY, cardsDir });
       expect(files).toStrictEqual({
         kind: 'invalid',
         problems: [{ file: cardsDir, path: '(file)', message: 'cannot be read (ENOENT)' }],
@@ -98,7 +98,7 @@ describe('loadPolicyAndCards', () => {
       const policyPath = join(scratch, 'acknowledged-policy.yaml');
       writeFileSync(
         policyPath,
-        readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8')
+        readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY, 'utf8')
           .replace('    - copd\n', '    - copd\n    - pregnancy\n') // BTS 2017 Table 4 does not list pregnancy
           .replace('disabledRules: []', 'disabledRules: [acute-hypercapnic-acidosis]')
           .replace(
@@ -106,7 +106,7 @@ describe('loadPolicyAndCards', () => {
             'acknowledgements: [{ ruleId: acute-hypercapnic-acidosis, change: disabled, reason: "Every gas is reviewed by outreach at once" }]',
           ),
       );
-      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR });
       expect(files.kind).toBe('ok');
       if (files.kind !== 'ok') return;
       expect(files.policyAcknowledgements).toStrictEqual([
@@ -118,9 +118,9 @@ describe('loadPolicyAndCards', () => {
 
     it('refuses a policy that switches off a critical rule without an acknowledgement, at its line', async () => {
       const policyPath = join(scratch, 'unacknowledged-policy.yaml');
-      const text = readFileSync(ENV_DEFAULTS.O2CHECK_POLICY, 'utf8').replace('disabledRules: []', 'disabledRules: [escalated-support-failing]');
+      const text = readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY, 'utf8').replace('disabledRules: []', 'disabledRules: [escalated-support-failing]');
       writeFileSync(policyPath, text);
-      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR });
+      const files = await loadPolicyAndCards({ policyPath, cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR });
       expect(files.kind).toBe('invalid');
       if (files.kind !== 'invalid') return;
       // The line of `disabledRules:` in the bundled file, read from the text (the file is not ours to pin).
@@ -134,18 +134,18 @@ describe('loadPolicyAndCards', () => {
     it('formats problems one a line as file: path: message', () => {
       expect(
         formatLoadProblems([
-          { file: '/etc/o2check/policy.yaml', path: 'basis', message: "'nowhere' is not a key of references" },
-          { file: '/etc/o2check/cards/x.yaml', path: '(file)', message: 'cannot be read (EACCES)' },
+          { file: '/etc/oxygen-order-checker/policy.yaml', path: 'basis', message: "'nowhere' is not a key of references" },
+          { file: '/etc/oxygen-order-checker/cards/x.yaml', path: '(file)', message: 'cannot be read (EACCES)' },
         ]),
       ).toBe(
-        "/etc/o2check/policy.yaml: basis: 'nowhere' is not a key of references\n" +
-          '/etc/o2check/cards/x.yaml: (file): cannot be read (EACCES)',
+        "/etc/oxygen-order-checker/policy.yaml: basis: 'nowhere' is not a key of references\n" +
+          '/etc/oxygen-order-checker/cards/x.yaml: (file): cannot be read (EACCES)',
       );
       expect(
         formatLoadProblems([
-          { file: '/etc/o2check/policy.yaml', path: 'disabledRules.0', message: 'is wrong', fix: 'correct it', line: 80, column: 17 },
+          { file: '/etc/oxygen-order-checker/policy.yaml', path: 'disabledRules.0', message: 'is wrong', fix: 'correct it', line: 80, column: 17 },
         ]),
-      ).toBe('/etc/o2check/policy.yaml:80:17: disabledRules.0: is wrong (fix: correct it)');
+      ).toBe('/etc/oxygen-order-checker/policy.yaml:80:17: disabledRules.0: is wrong (fix: correct it)');
     });
   });
 });

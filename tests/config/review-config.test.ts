@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { parseReviewConfig, REVIEW_DEFAULTS } from '../../src/config/review-config.js';
 
-const CWD = '/srv/o2check';
-// As env-config.ts resolves the default O2CHECK_DATA_DIR (`./data`) against the working directory.
-const DATA_DIR = '/srv/o2check/data';
+const CWD = '/srv/oxygen-order-checker';
+// As env-config.ts resolves the default OXYGEN_CHECKER_DATA_DIR (`./data`) against the working directory.
+const DATA_DIR = '/srv/oxygen-order-checker/data';
 
 function problems(env: Record<string, string>, mode: 'demo' | 'production' = 'production'): string[] {
   const parsed = parseReviewConfig(env, CWD, mode, DATA_DIR);
@@ -14,22 +14,22 @@ describe('parseReviewConfig', () => {
   it('defaults to a one-day link and the data directory secret, created on first start', () => {
     expect(parseReviewConfig({}, CWD, 'production', DATA_DIR)).toStrictEqual({
       kind: 'ok',
-      config: { proxyAddresses: [], linkTtlS: 86_400, linkSecretPath: '/srv/o2check/data/review-link.secret', createLinkSecret: true },
+      config: { proxyAddresses: [], linkTtlS: 86_400, linkSecretPath: '/srv/oxygen-order-checker/data/review-link.secret', createLinkSecret: true },
     });
-    expect(REVIEW_DEFAULTS.O2CHECK_REVIEW_LINK_TTL_S).toBe(86_400);
+    expect(REVIEW_DEFAULTS.OXYGEN_CHECKER_REVIEW_LINK_TTL_S).toBe(86_400);
   });
 
   it('reads the proxy header (lower-cased), exact addresses, the link lifetime and a secret file', () => {
     const parsed = parseReviewConfig(
       {
-        O2CHECK_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User',
-        O2CHECK_REVIEW_PROXY_ADDRESSES: '10.20.0.5, ::ffff:10.20.0.6,2001:db8::7',
-        O2CHECK_REVIEW_LINK_TTL_S: '3600',
-        O2CHECK_REVIEW_LINK_SECRET_FILE: 'secrets/review.key',
+        OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User',
+        OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.20.0.5, ::ffff:10.20.0.6,2001:db8::7',
+        OXYGEN_CHECKER_REVIEW_LINK_TTL_S: '3600',
+        OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE: 'secrets/review.key',
       },
       CWD,
       'production',
-      '/var/lib/o2check',
+      '/var/lib/oxygen-order-checker',
     );
     expect(parsed).toStrictEqual({
       kind: 'ok',
@@ -37,36 +37,36 @@ describe('parseReviewConfig', () => {
         identityHeader: 'x-authenticated-user',
         proxyAddresses: ['10.20.0.5', '10.20.0.6', '2001:db8::7'],
         linkTtlS: 3600,
-        linkSecretPath: '/srv/o2check/secrets/review.key',
+        linkSecretPath: '/srv/oxygen-order-checker/secrets/review.key',
         createLinkSecret: false,
       },
     });
   });
 
-  it('puts the secret in the data directory (O2CHECK_DATA_DIR) when no file is configured', () => {
-    const parsed = parseReviewConfig({}, CWD, 'production', '/var/lib/o2check');
-    expect(parsed.kind === 'ok' && parsed.config.linkSecretPath).toBe('/var/lib/o2check/review-link.secret');
+  it('puts the secret in the data directory (OXYGEN_CHECKER_DATA_DIR) when no file is configured', () => {
+    const parsed = parseReviewConfig({}, CWD, 'production', '/var/lib/oxygen-order-checker');
+    expect(parsed.kind === 'ok' && parsed.config.linkSecretPath).toBe('/var/lib/oxygen-order-checker/review-link.secret');
   });
 
   it.each([
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'X-User', O2CHECK_REVIEW_PROXY_ADDRESSES: 'proxy.larkspur-bay.example' }, ['O2CHECK_REVIEW_PROXY_ADDRESSES']],
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'X-User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.0/8' }, ['O2CHECK_REVIEW_PROXY_ADDRESSES']],
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'Authorization', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['O2CHECK_REVIEW_IDENTITY_HEADER']],
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'X-Forwarded-For', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['O2CHECK_REVIEW_IDENTITY_HEADER']],
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'X User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['O2CHECK_REVIEW_IDENTITY_HEADER']],
-    [{ O2CHECK_REVIEW_IDENTITY_HEADER: 'X-User' }, ['O2CHECK_REVIEW_PROXY_ADDRESSES']],
-    [{ O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['O2CHECK_REVIEW_IDENTITY_HEADER']],
-    [{ O2CHECK_REVIEW_LINK_TTL_S: '30' }, ['O2CHECK_REVIEW_LINK_TTL_S']],
-    [{ O2CHECK_REVIEW_LINK_TTL_S: '2592000' }, ['O2CHECK_REVIEW_LINK_TTL_S']],
-    [{ O2CHECK_REVIEW_LINK_TTL_S: '1h' }, ['O2CHECK_REVIEW_LINK_TTL_S']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-User', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: 'proxy.larkspur-bay.example' }, ['OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-User', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.0/8' }, ['OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'Authorization', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-Forwarded-For', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X User', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER']],
+    [{ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-User' }, ['OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES']],
+    [{ OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, ['OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER']],
+    [{ OXYGEN_CHECKER_REVIEW_LINK_TTL_S: '30' }, ['OXYGEN_CHECKER_REVIEW_LINK_TTL_S']],
+    [{ OXYGEN_CHECKER_REVIEW_LINK_TTL_S: '2592000' }, ['OXYGEN_CHECKER_REVIEW_LINK_TTL_S']],
+    [{ OXYGEN_CHECKER_REVIEW_LINK_TTL_S: '1h' }, ['OXYGEN_CHECKER_REVIEW_LINK_TTL_S']],
   ])('names the variable at fault: %j', (env, variables) => {
     expect(problems(env)).toStrictEqual(variables);
   });
 
   it('refuses proxy settings in demo mode, where the pages are open anyway', () => {
-    expect(problems({ O2CHECK_REVIEW_IDENTITY_HEADER: 'X-User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, 'demo')).toStrictEqual([
-      'O2CHECK_REVIEW_IDENTITY_HEADER',
-      'O2CHECK_REVIEW_PROXY_ADDRESSES',
+    expect(problems({ OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-User', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.0.0.1' }, 'demo')).toStrictEqual([
+      'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER',
+      'OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES',
     ]);
   });
 });

@@ -2,8 +2,8 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { CONFIG_PREFIX, KNOWN_VARIABLES } from '../../src/config/env-config.js';
-import { editDistance, nearestName, unknownVariables } from '../../src/config/unknown-variables.js';
+import { CONFIG_PREFIX, KNOWN_VARIABLES, RETIRED_PREFIX, parseEnvConfig } from '../../src/config/env-config.js';
+import { editDistance, nearestName, renamedVariables, unknownVariables } from '../../src/config/unknown-variables.js';
 
 const SRC = fileURLToPath(new URL('../../src', import.meta.url));
 
@@ -32,7 +32,7 @@ describe('editDistance', () => {
     ['CA', 'AC', 1], // one adjacent swap (Wikipedia, "Damerau–Levenshtein distance")
     ['CA', 'ABC', 3], // optimal string alignment: no edit of a swapped pair (Wikipedia, "Damerau–Levenshtein distance")
     ['', 'ABC', 3], // common practice: all insertions
-    ['O2CHECK_BODY_LIMIT_BYTE', 'O2CHECK_BODY_LIMIT_BYTES', 1], // common practice: one insertion
+    ['OXYGEN_CHECKER_BODY_LIMIT_BYTE', 'OXYGEN_CHECKER_BODY_LIMIT_BYTES', 1], // common practice: one insertion
   ])('gives %s to %s as %i', (a, b, distance) => {
     expect(editDistance(a, b)).toBe(distance);
     expect(editDistance(b, a)).toBe(distance);
@@ -68,15 +68,15 @@ describe('editDistance', () => {
 });
 
 describe('nearestName', () => {
-  const known = ['O2CHECK_TRUST', 'O2CHECK_POLICY', 'O2CHECK_PUBLIC_URL'];
+  const known = ['OXYGEN_CHECKER_TRUST', 'OXYGEN_CHECKER_POLICY', 'OXYGEN_CHECKER_PUBLIC_URL'];
 
   it('picks the closest known name and ignores case', () => {
-    expect(nearestName('O2CHECK_POLCY', known, CONFIG_PREFIX)).toBe('O2CHECK_POLICY');
-    expect(nearestName('o2check_trust', known, CONFIG_PREFIX)).toBe('O2CHECK_TRUST');
+    expect(nearestName('OXYGEN_CHECKER_POLCY', known, CONFIG_PREFIX)).toBe('OXYGEN_CHECKER_POLICY');
+    expect(nearestName('oxygen_checker_trust', known, CONFIG_PREFIX)).toBe('OXYGEN_CHECKER_TRUST');
   });
 
   it('suggests nothing when every known name is far away', () => {
-    expect(nearestName('O2CHECK_VERBOSE', known, CONFIG_PREFIX)).toBeUndefined();
+    expect(nearestName('OXYGEN_CHECKER_VERBOSE', known, CONFIG_PREFIX)).toBeUndefined();
   });
 });
 
@@ -84,7 +84,7 @@ describe('the known variables', () => {
   it('include every prefixed name written anywhere in src/, so a new setting cannot be left off', () => {
     const found = new Set<string>();
     for (const file of sourceFiles(SRC)) {
-      for (const match of readFileSync(file, 'utf8').matchAll(/O2CHECK_[A-Z0-9_]+/g)) {
+      for (const match of readFileSync(file, 'utf8').matchAll(/OXYGEN_CHECKER_[A-Z0-9_]+/g)) {
         found.add(match[0]);
       }
     }
@@ -98,6 +98,24 @@ describe('the known variables', () => {
     expect(unknownVariables(env, KNOWN_VARIABLES, CONFIG_PREFIX)).toStrictEqual([]);
     for (const name of KNOWN_VARIABLES) {
       expect(nearestName(name, KNOWN_VARIABLES, CONFIG_PREFIX)).toBe(name);
+    }
+  });
+});
+
+describe('variables left over from the retired prefix', () => {
+  it('are refused with the name each setting has now, so an upgrade keeps every setting', () => {
+    const env = { O2CHECK_POLICY: '/etc/oxygen/policy.yaml', o2check_data_dir: '/var/lib/oxygen', O2CHECK_COLOUR: 'x' };
+    expect(renamedVariables(env, KNOWN_VARIABLES, RETIRED_PREFIX, CONFIG_PREFIX)).toStrictEqual([
+      { variable: 'O2CHECK_COLOUR', message: 'uses the prefix this service had before version 0.2 and names no current setting; remove it' },
+      { variable: 'O2CHECK_POLICY', message: 'uses the prefix this service had before version 0.2; rename it to OXYGEN_CHECKER_POLICY' },
+      { variable: 'o2check_data_dir', message: 'uses the prefix this service had before version 0.2; rename it to OXYGEN_CHECKER_DATA_DIR' },
+    ]);
+  });
+
+  it('stop the service from starting, in demo mode as in production', () => {
+    for (const mode of ['demo', 'production']) {
+      const result = parseEnvConfig({ OXYGEN_CHECKER_MODE: mode, O2CHECK_TRUST: '/etc/oxygen/trust.json' }, '/srv');
+      expect(result.kind === 'invalid' && result.problems.map((p) => p.variable)).toContain('O2CHECK_TRUST');
     }
   });
 });

@@ -15,7 +15,7 @@ let dir: string;
 let trustPath: string;
 
 beforeAll(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'o2check-seed-start-'));
+  dir = await mkdtemp(join(tmpdir(), 'oxygen-order-checker-seed-start-'));
   trustPath = join(dir, 'trust.yaml');
   await writeFile(
     trustPath,
@@ -33,7 +33,7 @@ async function startAndStop(env: Record<string, string>): Promise<{ lines: Recor
   const result = await startServer(env, ROOT, createLogger({ level: 'info', destination: log.stream }));
   if (result.kind !== 'started') throw new Error(result.problems);
   await result.started.close();
-  const { store } = openTempStore(env['O2CHECK_DATA_DIR']);
+  const { store } = openTempStore(env['OXYGEN_CHECKER_DATA_DIR']);
   const page = await store.listAdvisories({ limit: 1, offset: 0 });
   await store.close();
   return { lines: log.lines(), advisories: page.total };
@@ -42,7 +42,7 @@ async function startAndStop(env: Record<string, string>): Promise<{ lines: Recor
 describe('the demo seed at start', () => {
   it('seeds an empty store in demo mode and logs counts only, then skips it on the next start', async () => {
     const dataDir = makeTempDataDir();
-    const first = await startAndStop({ PORT: '0', O2CHECK_DATA_DIR: dataDir });
+    const first = await startAndStop({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: dataDir });
     const seeded = first.lines.find((line) => line['demoSeed'] === 'done');
     expect(seeded).toBeDefined();
     expect(seeded?.['advisories']).toBe(first.advisories);
@@ -53,7 +53,7 @@ describe('the demo seed at start', () => {
     );
     expect(JSON.stringify(seeded)).not.toMatch(/lbgh-demo|Ward|Unit/);
 
-    const second = await startAndStop({ PORT: '0', O2CHECK_DATA_DIR: dataDir });
+    const second = await startAndStop({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: dataDir });
     expect(second.lines.some((line) => line['demoSeed'] === 'skipped')).toBe(true);
     expect(second.advisories).toBe(first.advisories);
   });
@@ -62,11 +62,11 @@ describe('the demo seed at start', () => {
     const dataDir = makeTempDataDir();
     const production = await startAndStop({
       PORT: '0',
-      O2CHECK_MODE: 'production',
-      O2CHECK_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
-      O2CHECK_TRUST: trustPath,
-      O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
-      O2CHECK_DATA_DIR: dataDir,
+      OXYGEN_CHECKER_MODE: 'production',
+      OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
+      OXYGEN_CHECKER_TRUST: trustPath,
+      OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+      OXYGEN_CHECKER_DATA_DIR: dataDir,
     });
     expect(production.lines.some((line) => line['mode'] === 'production')).toBe(true);
     expect(production.lines.some((line) => 'demoSeed' in line)).toBe(false);

@@ -9,7 +9,7 @@ import { createR4Validator } from './helpers/r4-validator.js';
 import { SNOMED, UCUM, oxygenDeviceRequest, oxygenMedicationRequest, oxygenServiceRequest, quantity } from './helpers/larkspur-bay.js';
 
 const validateR4 = createR4Validator(); // one instance per file (cds-hooks.md §9)
-const TARGET_URL = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_URL = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 // BTS 2017 Table 4: 88-92 % for patients at risk of hypercapnic respiratory failure
 const HYPERCAPNIC: OrderChange = { kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } };
 
@@ -185,9 +185,13 @@ describe('applyOrderChange', () => {
   });
 
   describe('edge cases', () => {
-    it('replaces every earlier target extension, including one inside a dosage instruction', () => {
+    it('replaces every earlier target extension, including one inside a dosage instruction and one under the retired URN', () => {
       const twice = oxygenMedicationRequest('mr-9', {
-        extension: [{ url: 'urn:larkspur-bay:other', valueString: 'kept' }, { url: TARGET_URL, valueRange: {} }],
+        extension: [
+          { url: 'urn:larkspur-bay:other', valueString: 'kept' },
+          { url: TARGET_URL, valueRange: {} },
+          { url: 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation', valueRange: {} },
+        ],
         dosageInstruction: [{ text: 'NC', extension: [{ url: TARGET_URL, valueRange: {} }] }],
       });
       const after = change(twice, HYPERCAPNIC);

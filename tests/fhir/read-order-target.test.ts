@@ -2,15 +2,26 @@ import { describe, expect, it } from 'vitest';
 import { readRangeAsTarget, readTargetExtension } from '../../src/fhir/read-order-target.js';
 import { quantity } from './helpers/larkspur-bay.js';
 
-const URL = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_URL = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 
 describe('readTargetExtension', () => {
   it('reads our extension from the first holder that has it', () => {
     const holders = [
       { extension: [{ url: 'urn:other', valueString: 'x' }] },
-      { extension: [{ url: URL, valueRange: { low: quantity(88, '%'), high: quantity(92, '%') } }] }, // BTS 2017, Table 4
+      { extension: [{ url: TARGET_URL, valueRange: { low: quantity(88, '%'), high: quantity(92, '%') } }] }, // BTS 2017, Table 4
     ];
     expect(readTargetExtension(holders, 'MedicationRequest/m')).toStrictEqual({ range: { lowPercent: 88, highPercent: 92 }, notes: [] });
+  });
+
+  it('reads the extension under the private URN it had before version 0.2, so older drafts keep their target', () => {
+    const retired = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+    const holders = [{ extension: [{ url: retired, valueRange: { low: quantity(88, '%'), high: quantity(92, '%') } }] }]; // BTS 2017, Table 4
+    expect(readTargetExtension(holders, 'ServiceRequest/s').range).toStrictEqual({ lowPercent: 88, highPercent: 92 });
+  });
+
+  it('names itself with an http(s) canonical URL, as FHIR requires of an extension', () => {
+    // FHIR R4 Extension.url and StructureDefinition.url: an absolute canonical URL (FHIR R4, Extensibility).
+    expect(new URL(TARGET_URL).protocol).toBe('https:');
   });
 
   it('reads a range given as fractions', () => {

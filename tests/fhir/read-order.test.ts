@@ -4,7 +4,7 @@ import type { FhirResource } from '../../src/fhir/gathered-data.js';
 import type { OrderResourceType } from '../../src/fhir/is-oxygen-order.js';
 import { LOINC, SNOMED, oxygenDeviceRequest, oxygenMedicationRequest, oxygenServiceRequest, quantity } from './helpers/larkspur-bay.js';
 
-const TARGET_URL = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_URL = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 const targetExtension = (low: number, high: number): Record<string, unknown> => ({
   url: TARGET_URL,
   valueRange: { low: quantity(low, '%'), high: quantity(high, '%') },

@@ -31,7 +31,7 @@ afterAll(async () => {
 
 /** A fresh data directory, removed when the test file finishes. */
 export function makeTempDataDir(): string {
-  const dir = mkdtempSync(join(tmpdir(), 'o2check-data-'));
+  const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-data-'));
   dirs.push(dir);
   return dir;
 }

@@ -144,7 +144,7 @@ describe('trusted CDS clients', () => {
       expect((await call(ROTATED)).status).toBe(200);
       expect((await call(EHR_ES384)).status).toBe(200);
       expect(jwks.hits.length).toBe(2);
-      // made-up kids: one refresh per minute per issuer at most (O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S);
+      // made-up kids: one refresh per minute per issuer at most (OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S);
       // the rotation refresh just now used this minute's
       expect((await call(makeKey('ES384', 'lbgh-made-up-1'))).status).toBe(401);
       expect((await call(makeKey('ES384', 'lbgh-made-up-2'))).status).toBe(401);

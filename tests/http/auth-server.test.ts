@@ -19,7 +19,7 @@ let dir: string;
 let trustPath: string;
 
 beforeAll(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'o2check-server-'));
+  dir = await mkdtemp(join(tmpdir(), 'oxygen-order-checker-server-'));
   trustPath = join(dir, 'trust.yaml');
   await writeFile(
     trustPath,
@@ -39,11 +39,11 @@ afterAll(async () => {
 
 const production = (extra: Record<string, string> = {}) => ({
   PORT: '0',
-  O2CHECK_MODE: 'production',
-  O2CHECK_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
-  O2CHECK_TRUST: trustPath,
-  O2CHECK_PUBLIC_URL: PUBLIC_URL,
-  O2CHECK_DATA_DIR: makeTempDataDir(),
+  OXYGEN_CHECKER_MODE: 'production',
+  OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
+  OXYGEN_CHECKER_TRUST: trustPath,
+  OXYGEN_CHECKER_PUBLIC_URL: PUBLIC_URL,
+  OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(),
   ...extra,
 });
 
@@ -80,19 +80,19 @@ describe('startServer and the two modes', () => {
 
   it('warns at start in demo mode', async () => {
     const log = createMemoryLog();
-    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    const result = await startServer({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
     if (result.kind !== 'started') throw new Error(result.problems);
     await result.started.close();
     expect(log.lines()[0]).toMatchObject({ msg: `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`, mode: 'demo', level: 40 });
   });
 
   it('refuses production without a policy, a trust file or a public URL', async () => {
-    expect(await startServer({ PORT: '0', O2CHECK_MODE: 'production', HOST: '0.0.0.0' }, ROOT)).toStrictEqual({
+    expect(await startServer({ PORT: '0', OXYGEN_CHECKER_MODE: 'production', HOST: '0.0.0.0' }, ROOT)).toStrictEqual({
       kind: 'refused',
       problems:
-        'O2CHECK_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)\n' +
-        'O2CHECK_TRUST: production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)\n' +
-        'O2CHECK_PUBLIC_URL: production mode needs the https base URL clients call, e.g. https://cds.example.org (see docs/security.md)',
+        'OXYGEN_CHECKER_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)\n' +
+        'OXYGEN_CHECKER_TRUST: production mode needs the trust file naming the CDS clients allowed to call (see docs/security.md)\n' +
+        'OXYGEN_CHECKER_PUBLIC_URL: production mode needs the https base URL clients call, e.g. https://cds.example.org (see docs/security.md)',
     });
   });
 
@@ -101,7 +101,7 @@ describe('startServer and the two modes', () => {
       kind: 'refused',
       problems:
         'HOST: demo mode has authentication off, so it binds to loopback only (127.0.0.1, ::1 or localhost); ' +
-        'to serve other machines set O2CHECK_MODE=production with O2CHECK_TRUST and O2CHECK_PUBLIC_URL (see docs/security.md)',
+        'to serve other machines set OXYGEN_CHECKER_MODE=production with OXYGEN_CHECKER_TRUST and OXYGEN_CHECKER_PUBLIC_URL (see docs/security.md)',
     });
   });
 
@@ -115,7 +115,7 @@ describe('startServer and the two modes', () => {
         ],
       }),
     );
-    expect(await startServer(production({ O2CHECK_TRUST: bad }), ROOT)).toStrictEqual({
+    expect(await startServer(production({ OXYGEN_CHECKER_TRUST: bad }), ROOT)).toStrictEqual({
       kind: 'refused',
       problems: [
         `${bad}: clients.0.jwks.keys.0: holds private key material ('d'); give public keys only`,
@@ -128,7 +128,7 @@ describe('startServer and the two modes', () => {
   describe('edge cases', () => {
     it('refuses production when the trust file cannot be read', async () => {
       const missing = join(dir, 'absent.yaml');
-      expect(await startServer(production({ O2CHECK_TRUST: missing }), ROOT)).toStrictEqual({
+      expect(await startServer(production({ OXYGEN_CHECKER_TRUST: missing }), ROOT)).toStrictEqual({
         kind: 'refused',
         problems: `${missing}: (file): cannot be read (ENOENT)`,
       });

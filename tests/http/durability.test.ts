@@ -16,7 +16,7 @@ import { requestMoment, retimeRequest } from '../../src/cli/retime-request.js';
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const BURST = fileURLToPath(new URL('./support/feedback-burst.ts', import.meta.url));
 const EXAMPLE = join(ROOT, 'examples', 'order-sign-pneumonia-above-target.json');
-const dataDir = mkdtempSync(join(tmpdir(), 'o2check-durability-'));
+const dataDir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-durability-'));
 const children: ChildProcess[] = [];
 
 afterAll(() => {
@@ -28,7 +28,7 @@ afterAll(() => {
 function startService(): Promise<{ child: ChildProcess; url: string }> {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', LOG_LEVEL: 'info', O2CHECK_DATA_DIR: dataDir },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', LOG_LEVEL: 'info', OXYGEN_CHECKER_DATA_DIR: dataDir },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   children.push(child);

@@ -82,7 +82,7 @@ describe('errorResult', () => {
       ],
     });
     const details = {
-      coding: [{ system: 'urn:oxygen-order-checker:error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
+      coding: [{ system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
       text: 'Required FHIR data was neither prefetched nor obtainable from the FHIR server.',
     };
     // CDS Hooks 3.0 ballot §HTTP status codes: OperationOutcome, severity error, code processing

@@ -126,7 +126,7 @@ describe('hook calls against a failing FHIR server', () => {
             severity: 'error',
             code: 'processing',
             details: {
-              coding: [{ system: 'urn:oxygen-order-checker:error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
+              coding: [{ system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
               text: 'Required FHIR data was neither prefetched nor obtainable from the FHIR server.',
             },
             diagnostics: `Prefetch key 'observations': was not prefetched, and ${reason}`,

@@ -68,7 +68,7 @@ const feedbackBody = {
       card: '1a2b3c4d-5e6f-5a7b-8c9d-0e1f2a3b4c5d',
       outcome: 'overridden',
       overrideReason: {
-        reason: { code: 'patient-specific-target', system: 'urn:oxygen-order-checker:override-reason', display: 'Agreed' },
+        reason: { code: 'patient-specific-target', system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason', display: 'Agreed' },
         userComment: 'Team agreed 88-92 % for this patient on the ward round',
       },
       outcomeTimestamp: '2026-11-30T09:47:00Z',

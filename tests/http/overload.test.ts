@@ -6,7 +6,7 @@ import { get, listenApp, post, type Answer, type AppServer } from './support/app
 import { buildTestApp, TEST_CONFIG } from './test-app.js';
 
 /**
- * The cap on hook calls evaluated at once (`O2CHECK_MAX_CONCURRENT`). Deterministic: the gather step
+ * The cap on hook calls evaluated at once (`OXYGEN_CHECKER_MAX_CONCURRENT`). Deterministic: the gather step
  * is held open by the test, so exactly `CAP` calls are in flight when the extra ones arrive. Past the
  * cap: 503 with Retry-After (RFC 9110 §15.6.4, §10.2.3), before any work is done.
  */

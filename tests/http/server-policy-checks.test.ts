@@ -12,7 +12,7 @@ import { policyWith } from '../policy/support/policy-sections.js';
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 
 function writePolicy(text: string): string {
-  const file = join(mkdtempSync(join(tmpdir(), 'o2check-start-')), 'larkspur-bay.yaml');
+  const file = join(mkdtempSync(join(tmpdir(), 'oxygen-order-checker-start-')), 'larkspur-bay.yaml');
   writeFileSync(file, text);
   return file;
 }
@@ -32,7 +32,7 @@ describe('start-up with a checked policy', () => {
         'disabledRules',
       ),
     );
-    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), O2CHECK_POLICY: file }, ROOT);
+    const result = await startServer({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), OXYGEN_CHECKER_POLICY: file }, ROOT);
     expect(result.kind).toBe('refused');
     const lines = (result.kind === 'refused' ? result.problems : '').split('\n');
     expect(lines.map((line) => line.split(' ')[0])).toStrictEqual([`${file}:3:3:`, `${file}:5:17:`]);
@@ -52,7 +52,7 @@ describe('start-up with a checked policy', () => {
     );
     const log = createMemoryLog();
     const result = await startServer(
-      { PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), O2CHECK_POLICY: file },
+      { PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), OXYGEN_CHECKER_POLICY: file },
       ROOT,
       createLogger({ level: 'info', destination: log.stream }),
     );

@@ -28,7 +28,7 @@ function runServer(env: Record<string, string>): {
 } {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), ...env },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), ...env },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   children.push(child);
@@ -53,7 +53,7 @@ function runServer(env: Record<string, string>): {
 describe('startServer', () => {
   it('listens on loopback, serves liveness and logs the demo-mode notice', async () => {
     const log = createMemoryLog();
-    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    const result = await startServer({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir() }, ROOT, createLogger({ level: 'info', destination: log.stream }));
     if (result.kind !== 'started') throw new Error(result.problems);
     try {
       expect(result.started.url).toMatch(/^http:\/\/127\.0\.0\.1:\d+$/);
@@ -84,7 +84,7 @@ describe('startServer', () => {
   it('purges expired records at start, logging counts only, and closes the store after the HTTP server', async () => {
     const log = createMemoryLog();
     const dataDir = makeTempDataDir();
-    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'info', destination: log.stream }));
+    const result = await startServer({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'info', destination: log.stream }));
     if (result.kind !== 'started') throw new Error(result.problems);
     await result.started.close();
     const messages = log.lines().map((line) => line['msg']);
@@ -106,10 +106,10 @@ describe('startServer', () => {
     const raw = new Database(join(dataDir, STORE_FILE_NAME));
     raw.pragma(`user_version = ${String(LATEST_SCHEMA_VERSION + 1)}`);
     raw.close();
-    const result = await startServer({ PORT: '0', O2CHECK_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'silent' }));
+    const result = await startServer({ PORT: '0', OXYGEN_CHECKER_DATA_DIR: dataDir }, ROOT, createLogger({ level: 'silent' }));
     expect(result.kind).toBe('refused');
     const problems = result.kind === 'refused' ? result.problems : '';
-    expect(problems).toMatch(/^O2CHECK_DATA_DIR: the store .* has schema version \d+, but this release knows versions up to \d+/);
+    expect(problems).toMatch(/^OXYGEN_CHECKER_DATA_DIR: the store .* has schema version \d+, but this release knows versions up to \d+/);
     expect(problems).toContain('run a newer release');
   });
 
@@ -117,13 +117,13 @@ describe('startServer', () => {
     const dataDir = makeTempDataDir();
     const missing = join(dataDir, 'no-such-secret');
     const result = await startServer(
-      { PORT: '0', O2CHECK_DATA_DIR: dataDir, O2CHECK_PATIENT_KEY_FILE: missing },
+      { PORT: '0', OXYGEN_CHECKER_DATA_DIR: dataDir, OXYGEN_CHECKER_PATIENT_KEY_FILE: missing },
       ROOT,
       createLogger({ level: 'silent' }),
     );
     expect(result).toStrictEqual({
       kind: 'refused',
-      problems: `O2CHECK_PATIENT_KEY_FILE: the patient-key secret ${missing} (configured) cannot be read (ENOENT)`,
+      problems: `OXYGEN_CHECKER_PATIENT_KEY_FILE: the patient-key secret ${missing} (configured) cannot be read (ENOENT)`,
     });
   });
 
@@ -133,10 +133,10 @@ describe('startServer', () => {
       const result = await startServer(
         {
           PORT: '0',
-          O2CHECK_MODE: 'production',
-          O2CHECK_TRUST: join(ROOT, 'no-trust-file-needed-to-refuse.yaml'),
-          O2CHECK_PUBLIC_URL: 'https://cds.larkspur-bay.example',
-          O2CHECK_DATA_DIR: dataDir,
+          OXYGEN_CHECKER_MODE: 'production',
+          OXYGEN_CHECKER_TRUST: join(ROOT, 'no-trust-file-needed-to-refuse.yaml'),
+          OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
+          OXYGEN_CHECKER_DATA_DIR: dataDir,
         },
         ROOT,
         createLogger({ level: 'silent' }),
@@ -144,14 +144,14 @@ describe('startServer', () => {
       expect(result).toStrictEqual({
         kind: 'refused',
         problems:
-          'O2CHECK_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
+          'OXYGEN_CHECKER_POLICY: production mode needs the local policy file set explicitly; the bundled demo policy is not used in production (see docs/policy.md)',
       });
       expect(existsSync(dataDir)).toBe(false);
     });
 
     it('refuses a misspelt setting with a suggestion, listed with the other problems', async () => {
       const result = await startServer(
-        { PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), O2CHECK_BODY_LIMIT_BYTE: '65536', LOG_LEVEL: 'loud' },
+        { PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), OXYGEN_CHECKER_BODY_LIMIT_BYTE: '65536', LOG_LEVEL: 'loud' },
         ROOT,
         createLogger({ level: 'silent' }),
       );
@@ -159,13 +159,13 @@ describe('startServer', () => {
         kind: 'refused',
         problems:
           'LOG_LEVEL: must be one of fatal, error, warn, info, debug, trace, silent\n' +
-          'O2CHECK_BODY_LIMIT_BYTE: is not a setting of this service, so it would be ignored; did you mean O2CHECK_BODY_LIMIT_BYTES?',
+          'OXYGEN_CHECKER_BODY_LIMIT_BYTE: is not a setting of this service, so it would be ignored; did you mean OXYGEN_CHECKER_BODY_LIMIT_BYTES?',
       });
     });
 
     it('starts with the variables of the rest of the system around it', async () => {
       const result = await startServer(
-        { PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), PATH: '/usr/bin:/bin', HOME: '/home/larkspur', NODE_ENV: 'production' },
+        { PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), PATH: '/usr/bin:/bin', HOME: '/home/larkspur', NODE_ENV: 'production' },
         ROOT,
         createLogger({ level: 'silent' }),
       );
@@ -189,7 +189,7 @@ describe('startServer', () => {
     });
 
     it('exits 1 naming the file when the policy cannot be read', async () => {
-      const run = runServer({ O2CHECK_POLICY: '/nonexistent/larkspur-bay-policy.yaml' });
+      const run = runServer({ OXYGEN_CHECKER_POLICY: '/nonexistent/larkspur-bay-policy.yaml' });
       const exit = await run.exit;
       expect(exit.code).toBe(1);
       expect(exit.stderr).toBe(
@@ -199,12 +199,12 @@ describe('startServer', () => {
     });
 
     it('exits 1 on a misspelt setting, as a process', async () => {
-      const run = runServer({ O2CHECK_SHUTDOWN_GRACE: '500' });
+      const run = runServer({ OXYGEN_CHECKER_SHUTDOWN_GRACE: '500' });
       const exit = await run.exit;
       expect(exit.code).toBe(1);
       expect(exit.stderr).toBe(
         'oxygen-order-checker refused to start:\n' +
-          'O2CHECK_SHUTDOWN_GRACE: is not a setting of this service, so it would be ignored; did you mean O2CHECK_SHUTDOWN_GRACE_MS?\n',
+          'OXYGEN_CHECKER_SHUTDOWN_GRACE: is not a setting of this service, so it would be ignored; did you mean OXYGEN_CHECKER_SHUTDOWN_GRACE_MS?\n',
       );
     });
   });

@@ -11,7 +11,7 @@ import { startFaultFhirServer, type FaultFhirServer } from './support/fault-fhir
  * SIGTERM on the real process (`node --import tsx src/server.ts`): it stops accepting connections at
  * once, lets a hook call in flight finish (its FHIR read is held open by the test until after the
  * signal), closes that connection after the answer (RFC 9112 §9.6 `Connection: close`), and exits 0;
- * and a call still open when `O2CHECK_SHUTDOWN_GRACE_MS` runs out is cut so the process still exits.
+ * and a call still open when `OXYGEN_CHECKER_SHUTDOWN_GRACE_MS` runs out is cut so the process still exits.
  */
 
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -28,7 +28,7 @@ interface Running {
 function runServer(env: Record<string, string>): Running {
   const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
     cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', O2CHECK_DATA_DIR: makeTempDataDir(), ...env },
+    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), ...env },
     stdio: ['ignore', 'pipe', 'pipe'],
   });
   children.push(child);
@@ -101,11 +101,11 @@ afterAll(async () => {
   await fhir.close();
 });
 
-const SLOW_FHIR_ENV = { O2CHECK_FHIR_CALL_TIMEOUT_MS: '15000', O2CHECK_FHIR_BUDGET_MS: '15000' };
+const SLOW_FHIR_ENV = { OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: '15000', OXYGEN_CHECKER_FHIR_BUDGET_MS: '15000' };
 
 describe('shutdown on SIGTERM', () => {
   it('finishes the call in flight with 200, refuses new connections and exits 0', async () => {
-    const run = runServer({ ...SLOW_FHIR_ENV, O2CHECK_SHUTDOWN_GRACE_MS: '15000' });
+    const run = runServer({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '15000' });
     const url = String((await run.waitForLine('oxygen-order-checker listening'))['url']);
     const before = heldCount();
     const inFlight = post(`${url}/cds-services/oxygen-order-sign`, heldCall());
@@ -129,7 +129,7 @@ describe('shutdown on SIGTERM', () => {
 
   describe('edge cases', () => {
     it('cuts a call still open at the deadline and still exits 0', async () => {
-      const run = runServer({ ...SLOW_FHIR_ENV, O2CHECK_SHUTDOWN_GRACE_MS: '300' });
+      const run = runServer({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '300' });
       const url = String((await run.waitForLine('oxygen-order-checker listening'))['url']);
       const before = heldCount();
       const inFlight = post(`${url}/cds-services/oxygen-order-sign`, heldCall()).then(

@@ -11,8 +11,8 @@ import { NOW } from './larkspur-fixtures.js';
 /** The bundled policy and card templates, loaded the way the server loads them. */
 export async function loadBundledFiles() {
   const files = await loadPolicyAndCards({
-    policyPath: ENV_DEFAULTS.O2CHECK_POLICY,
-    cardsDir: ENV_DEFAULTS.O2CHECK_CARDS_DIR,
+    policyPath: ENV_DEFAULTS.OXYGEN_CHECKER_POLICY,
+    cardsDir: ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR,
   });
   if (files.kind === 'invalid') {
     throw new Error(`bundled files invalid:\n${formatLoadProblems(files.problems)}`);

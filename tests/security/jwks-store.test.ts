@@ -18,8 +18,8 @@ function store(overrides: Partial<JwksStoreOptions> = {}) {
     timeoutMs: 1000,
     maxBytes: 65_536,
     requireHttps: false,
-    ttlMs: 300_000, // project default O2CHECK_JWKS_CACHE_TTL_S = 300
-    minRefreshIntervalMs: 60_000, // project default O2CHECK_JWKS_REFRESH_MIN_INTERVAL_S = 60
+    ttlMs: 300_000, // project default OXYGEN_CHECKER_JWKS_CACHE_TTL_S = 300
+    minRefreshIntervalMs: 60_000, // project default OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S = 60
     onEvent: (event) => events.push(event),
     ...overrides,
   });

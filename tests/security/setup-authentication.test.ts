@@ -16,7 +16,7 @@ const JWKS_URL = 'https://ehr.larkspur-bay.example/keys';
 let dir: string;
 
 beforeAll(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'o2check-setup-'));
+  dir = await mkdtemp(join(tmpdir(), 'oxygen-order-checker-setup-'));
 });
 
 afterAll(async () => {

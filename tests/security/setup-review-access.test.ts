@@ -32,7 +32,7 @@ describe('setUpReviewAccess', () => {
 
   it('in production creates the link secret in the data directory and signs links against the public URL', () => {
     const dir = tempDir();
-    const env = { O2CHECK_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User', O2CHECK_REVIEW_PROXY_ADDRESSES: '10.20.0.5' };
+    const env = { OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User', OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '10.20.0.5' };
     const setup = setUpReviewAccess({ mode: 'production', config: config(env, dir, 'production'), publicUrl: 'https://cds.larkspur-bay.example', clock: () => NOW });
     expect(setup.kind).toBe('ready');
     if (setup.kind !== 'ready' || setup.review.access.mode !== 'production') {
@@ -55,10 +55,10 @@ describe('setUpReviewAccess', () => {
     chmodSync(file, 0o640);
     const setup = setUpReviewAccess({
       mode: 'production',
-      config: config({ O2CHECK_REVIEW_LINK_SECRET_FILE: file }, dir, 'production'),
+      config: config({ OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE: file }, dir, 'production'),
       publicUrl: 'https://cds.larkspur-bay.example',
       clock: () => NOW,
     });
-    expect(setup.kind === 'refused' && setup.problems).toMatch(/^O2CHECK_REVIEW_LINK_SECRET_FILE: .*chmod 600/);
+    expect(setup.kind === 'refused' && setup.problems).toMatch(/^OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE: .*chmod 600/);
   });
 });

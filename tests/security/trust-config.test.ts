@@ -26,7 +26,7 @@ clients:
 let dir: string;
 
 beforeAll(async () => {
-  dir = await mkdtemp(join(tmpdir(), 'o2check-trust-'));
+  dir = await mkdtemp(join(tmpdir(), 'oxygen-order-checker-trust-'));
 });
 
 afterAll(async () => {

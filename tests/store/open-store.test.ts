@@ -54,7 +54,7 @@ describe('openStore', () => {
     writeFileSync(blocker, 'not a directory');
     const result = openStore({ dataDir: join(blocker, 'data') });
     expect(result.kind).toBe('refused');
-    expect(result.kind === 'refused' ? result.problem : '').toMatch(/O2CHECK_DATA_DIR/);
+    expect(result.kind === 'refused' ? result.problem : '').toMatch(/OXYGEN_CHECKER_DATA_DIR/);
   });
 
   it('refuses a store file that is not a database', () => {

@@ -115,7 +115,7 @@ describe('getAdvisory', () => {
     ]);
     expect(found?.feedback[1]).toMatchObject({
       client: EHR,
-      overrideReason: { system: 'urn:oxygen-order-checker:override-reason', code: 'patient-specific-target' },
+      overrideReason: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason', code: 'patient-specific-target' },
       receivedAt: RECEIVED.toISOString(),
     });
   });

@@ -8,7 +8,7 @@ import { bundledPolicy } from './card-inputs.js';
 import { loadRepositoryCards } from './load-cards.js';
 
 /**
- * The invented Larkspur Bay requests in `examples/`, evaluated offline as `o2check evaluate` does:
+ * The invented Larkspur Bay requests in `examples/`, evaluated offline as `oxygen-order-checker evaluate` does:
  * the prefetch only (no FHIR server is called), at the moment the request describes.
  */
 

@@ -25,7 +25,7 @@ const SIGN = '/cds-services/oxygen-order-sign';
 const SELECT = '/cds-services/oxygen-order-select';
 
 const outcomeDetails = {
-  coding: [{ system: 'urn:oxygen-order-checker:error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
+  coding: [{ system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/error-code', code: 'CDS_ERR_PREFETCH_UNAVAILABLE' }],
   text: 'Required FHIR data was neither prefetched nor obtainable from the FHIR server.',
 };
 

@@ -62,7 +62,7 @@ function overridden(cardUuid: string | undefined, at = '2026-11-30T10:02:40Z'): 
     card: cardUuid,
     outcome: 'overridden',
     overrideReason: {
-      reason: { code: 'patient-specific-target', system: 'urn:oxygen-order-checker:override-reason' },
+      reason: { code: 'patient-specific-target', system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason' },
       userComment: COMMENT,
     },
     outcomeTimestamp: at,
@@ -88,7 +88,7 @@ describe('POST /cds-services/{id}/feedback', () => {
     expect(response.status).toBe(200);
     const advisory = await store.getAdvisory(card.uuid ?? '');
     expect(advisory?.feedback[0]?.overrideReason).toStrictEqual({
-      system: 'urn:oxygen-order-checker:override-reason',
+      system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason',
       code: 'patient-specific-target',
     });
     expect(JSON.stringify(advisory)).not.toContain('Harrowgate');

@@ -9,7 +9,7 @@ import { loadExamples } from '../support/fuzz-requests.js';
 import { buildTestApp } from '../test-app.js';
 
 // FIPS 180-4 SHA-256 of the exact bytes of the bundled policy file, as node:crypto computes it.
-const FULL_HASH = createHash('sha256').update(readFileSync(ENV_DEFAULTS.O2CHECK_POLICY)).digest('hex');
+const FULL_HASH = createHash('sha256').update(readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY)).digest('hex');
 
 describe('the policy content hash on cards and log lines', () => {
   const examples = loadExamples();

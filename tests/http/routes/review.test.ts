@@ -172,7 +172,7 @@ describe('GET /review/api/*', () => {
     expect(res.body.feedback).toHaveLength(2);
     expect(res.body.feedback[0]).toMatchObject({
       outcome: 'overridden',
-      overrideReason: { system: 'urn:oxygen-order-checker:override-reason', code: 'patient-specific-target', display: 'Individual target agreed by the team' },
+      overrideReason: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason', code: 'patient-specific-target', display: 'Individual target agreed by the team' },
       outcomeTimestamp: '2026-03-14T09:25:00Z',
     });
     expect(res.body.feedback[1]).toMatchObject({ outcome: 'accepted', outcomeTimestamp: '2026-03-14T09:40:00Z' });

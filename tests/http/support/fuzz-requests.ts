@@ -59,7 +59,7 @@ export function loadExamples(): Example[] {
 }
 
 /** Stands in for a number JSON cannot hold; the sent text carries `1e309` (JSON.parse reads Infinity). */
-const HUGE_LITERAL = 'o2check-fuzz-1e309';
+const HUGE_LITERAL = 'oxygen-order-checker-fuzz-1e309';
 
 const GARBAGE_CONSTANTS: readonly Json[] = [
   null, '', [], {}, 0, -0, -1, 1e308, -1e308, 5e-324, 2 ** 53 + 1, true, false,
@@ -262,6 +262,6 @@ export function answerProblems(answer: Answer, sent: Json, checkR4: boolean): st
 
 /**
  * Fixed seed, so a CI failure replays exactly; fast-check prints the seed and path on failure.
- * `O2CHECK_FUZZ_SEED=<n>` explores other cases locally.
+ * `FUZZ_SEED=<n>` explores other cases locally.
  */
-export const FUZZ_SEED = Number(process.env['O2CHECK_FUZZ_SEED'] ?? '20250314');
+export const FUZZ_SEED = Number(process.env['FUZZ_SEED'] ?? '20250314');

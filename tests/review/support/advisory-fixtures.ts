@@ -14,7 +14,7 @@ export function feedbackRecord(overrides: Partial<FeedbackRecord> = {}): Feedbac
     cardUuid: '7d3b9a52-0d0e-4f45-9a57-3e1c2f9b6a10',
     outcome: 'overridden',
     acceptedSuggestionIds: [],
-    overrideReason: { system: 'urn:oxygen-order-checker:override-reason', code: 'ceiling-of-care' },
+    overrideReason: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason', code: 'ceiling-of-care' },
     outcomeTimestamp: '2026-07-12T13:20:00Z',
     client: { iss: DEMO_ISS },
     receivedAt: '2026-07-12T13:20:02Z',

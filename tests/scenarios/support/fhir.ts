@@ -14,7 +14,7 @@ const SNOMED = 'http://snomed.info/sct';
 const UCUM = 'http://unitsofmeasure.org';
 const ICD10 = 'http://hl7.org/fhir/sid/icd-10';
 const CLINICAL = 'http://terminology.hl7.org/CodeSystem/condition-clinical';
-const TARGET_EXTENSION = 'urn:oxygen-order-checker:fhir:StructureDefinition:target-oxygen-saturation';
+const TARGET_EXTENSION = 'https://oxygen-order-checker.example.org/fhir/StructureDefinition/target-oxygen-saturation';
 
 /** `minutes` before NOW as a FHIR dateTime. */
 export function ago(minutes: number): string {

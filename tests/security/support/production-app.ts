@@ -39,7 +39,7 @@ export interface ProductionAppOptions {
   readonly publicBase?: string;
   /** Opens the store here (a simulated restart reuses a data directory); a fresh one otherwise. */
   readonly dataDir?: string;
-  /** Live token ids per client in the replay cache (O2CHECK_REPLAY_MAX_PER_CLIENT). */
+  /** Live token ids per client in the replay cache (OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT). */
   readonly replayMaxPerClient?: number;
   /** Wraps the store the replay cache uses (to make it fail, say). */
   readonly replayStore?: (real: Store) => Store;

@@ -76,7 +76,7 @@ export function overridden(
     cardUuid: card(n),
     outcome: 'overridden',
     acceptedSuggestionIds: [],
-    overrideReason: { system: 'urn:oxygen-order-checker:override-reason', code },
+    overrideReason: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/override-reason', code },
     outcomeTimestamp,
     ...overrides,
   };

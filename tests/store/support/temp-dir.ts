@@ -12,7 +12,7 @@ export function useTempDirs(): () => string {
     }
   });
   return () => {
-    const dir = mkdtempSync(join(tmpdir(), 'o2check-store-'));
+    const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-store-'));
     made.push(dir);
     return dir;
   };
