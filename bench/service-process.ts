@@ -71,7 +71,7 @@ function serviceEnv(root: string, dataDir?: string): Record<string, string | und
     LOG_LEVEL: 'warn',
     OXYGEN_CHECKER_MODE: 'demo',
     // The bundled files, named because a private build folder is not the package root.
-    OXYGEN_CHECKER_POLICY: join(root, 'policies', 'bts-2017.yaml'),
+    OXYGEN_CHECKER_POLICY: join(root, 'policies', 'based-on-bts-2017.yaml'),
     OXYGEN_CHECKER_CARDS_DIR: join(root, 'cards'),
     // A fresh store per run (the audit write is part of what is measured), never the shared ./data.
     ...(dataDir === undefined ? {} : { OXYGEN_CHECKER_DATA_DIR: dataDir }),

@@ -90,7 +90,7 @@ function keyComputations(computations: readonly Computation[]): readonly Computa
   return computations.slice(-MAX_ARITHMETIC_LINES);
 }
 
-/** "BTS 2017 · Jones 1984 · local policy bts-2017-default v1.0.0". */
+/** "BTS 2017 · Jones 1984 · local policy based-on-bts-2017 v1.0.0". */
 export function sourcesLine(finding: Finding, policy: Policy): string {
   const labels = findingSourceKeys(finding)
     .filter((key) => key !== 'local-policy')

@@ -3,7 +3,7 @@ import { bundledPath } from '../config/package-root.js';
 import { parsePolicyText } from '../policy/parse-policy.js';
 import { UsageError, type CliIo } from './cli-io.js';
 
-export const DEFAULT_POLICY_PATH = bundledPath('policies', 'bts-2017.yaml');
+export const DEFAULT_POLICY_PATH = bundledPath('policies', 'based-on-bts-2017.yaml');
 
 /** Reads and validates a policy file; every problem is reported, as the service does at start. */
 export function loadPolicy(path: string | undefined, io: CliIo): Policy {

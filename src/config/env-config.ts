@@ -32,7 +32,7 @@ export const ENV_DEFAULTS = {
   HOST: '127.0.0.1', // loopback: the demo is not reachable from other machines unless asked
   PORT: 8080,
   // Demo mode only (and the command line): production refuses to start without its own policy.
-  OXYGEN_CHECKER_POLICY: bundledPath('policies', 'bts-2017.yaml'),
+  OXYGEN_CHECKER_POLICY: bundledPath('policies', 'based-on-bts-2017.yaml'),
   OXYGEN_CHECKER_CARDS_DIR: bundledPath('cards'),
   LOG_LEVEL: 'info' as LogLevel,
   OXYGEN_CHECKER_BODY_LIMIT_BYTES: 1_048_576, // bytes (1 MiB); larger hook requests get 413

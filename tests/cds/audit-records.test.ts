@@ -20,7 +20,7 @@ function evaluation(unit: string | undefined, cards: readonly CardAudit[] = [CAR
   return {
     response: { cards: [] },
     ruleIds: cards.map((c) => c.ruleId),
-    policyId: 'bts-2017-default',
+    policyId: 'based-on-bts-2017',
     policyVersion: '1.0.0',
     problems: [],
     audit: { unit, cards },
@@ -57,7 +57,7 @@ describe('buildAuditRecords', () => {
           { name: 'spo2', value: '99 %' },
           { name: 'targetRange', value: '94–98 %' },
         ],
-        policy: { id: 'bts-2017-default', version: '1.0.0', contentHash: CALL.policyContentHash },
+        policy: { id: 'based-on-bts-2017', version: '1.0.0', contentHash: CALL.policyContentHash },
         unit: 'Ward 4',
         issuedAt: '2026-11-30T09:45:00.000Z',
         patientKey: CALL.patientKey,

@@ -26,7 +26,7 @@ import {
 const policy = bundledPolicy();
 // FIPS 180-4 SHA-256 of the exact bytes of the bundled policy file, as node:crypto computes it.
 const POLICY_HASH = createHash('sha256')
-  .update(readFileSync(new URL('../../policies/bts-2017.yaml', import.meta.url)))
+  .update(readFileSync(new URL('../../policies/based-on-bts-2017.yaml', import.meta.url)))
   .digest('hex');
 const ctx: CardBuildContext = {
   template,
@@ -57,7 +57,7 @@ describe('buildCard', () => {
     expect(card.summary).toBe('Target 94–98 % ordered, but this patient is at risk of hypercapnia: 88–92 % advised');
     expect(card.indicator).toBe('critical');
     expect(card.source).toStrictEqual({
-      label: `Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0 #${POLICY_HASH.slice(0, 12)}) · BTS 2017`,
+      label: `Adult acute oxygen targets based on BTS 2017 (based-on-bts-2017 v1.0.0 #${POLICY_HASH.slice(0, 12)}) · BTS 2017`,
       url: 'https://www.brit-thoracic.org.uk/',
       topic: { system: 'https://oxygen-order-checker.example.org/fhir/CodeSystem/rule', code: 'target-above-hypercapnic-range' },
     });
@@ -87,7 +87,7 @@ describe('buildCard', () => {
 
   it("lists only the template's inputs, each in the site's local time with how long ago, then one line per computation", () => {
     const withInputs = buildCard(finding, { ...ctx, template: { ...template, basedOn: ['spo2', 'blood-gas'] } });
-    // NOW is 08:10 UTC on 14 March 2025, GMT in Europe/London (policies/bts-2017.yaml site.timeZone).
+    // NOW is 08:10 UTC on 14 March 2025, GMT in Europe/London (policies/based-on-bts-2017.yaml site.timeZone).
     expect(basedOn(withInputs.detail ?? '')).toStrictEqual([
       'SpO2 93 % at 07:50 (20 min ago)',
       'Blood gas (arterial) at 06:40 (1 h 30 min ago): pH 7.37, PCO2 6.7 kPa, PO2 8.1 kPa, HCO3 29 mmol/L',
@@ -103,12 +103,12 @@ describe('buildCard', () => {
     const other = createHash('sha256').update('another policy file').digest('hex');
     expect(buildCard(finding, { ...ctx, policyContentHash: other }).source.label).toContain(`v1.0.0 #${other.slice(0, 12)})`);
     const { policyContentHash: _hash, ...unhashed } = ctx;
-    expect(buildCard(finding, unhashed).source.label).toContain('(bts-2017-default v1.0.0) · ');
+    expect(buildCard(finding, unhashed).source.label).toContain('(based-on-bts-2017 v1.0.0) · ');
   });
 
   it('names each source by its label, and the policy by id and version', () => {
     expect(card.detail).toContain(
-      '**Sources:** BTS 2017 · Low-flow mixing model · ICAO ISA · Alveolar gas equation · local policy bts-2017-default v1.0.0',
+      '**Sources:** BTS 2017 · Low-flow mixing model · ICAO ISA · Alveolar gas equation · local policy based-on-bts-2017 v1.0.0',
     );
   });
 

@@ -32,7 +32,7 @@ function budgetProblems(card: Card): string[] {
   const maxCharacters =
     card.source.topic?.code === 'oxygenation-summary' ? NUMBERS_CARD_MAX_CHARACTERS : DETAIL_MAX_CHARACTERS;
   if (detail.length > maxCharacters) problems.push(`detail ${detail.length} characters`);
-  // The policy's safety lines stay on every card (policies/bts-2017.yaml cautions; docs/safety.md).
+  // The policy's safety lines stay on every card (policies/based-on-bts-2017.yaml cautions; docs/safety.md).
   if (!detail.includes(policy.cautions[0] ?? '\u0000')) problems.push('advisory-only caution missing');
   if (!detail.includes((policy.cautions[1] ?? '\u0000').replace(/\s+$/, ''))) problems.push('pulse oximetry caution missing');
   if (/\d{4}-\d\d-\d\dT\d\d:\d\d/.test(detail)) problems.push('raw ISO time on the card');

@@ -117,7 +117,7 @@ describe('evaluateHook', () => {
     it('reports the rule ids, the policy and no template problems', () => {
       expect(result.ruleIds).toStrictEqual([...new Set(cards.map((card) => card.source.topic?.code))]);
       expect(result.ruleIds).toContain('target-above-hypercapnic-range');
-      expect([result.policyId, result.policyVersion]).toStrictEqual(['bts-2017-default', '1.0.0']);
+      expect([result.policyId, result.policyVersion]).toStrictEqual(['based-on-bts-2017', '1.0.0']);
       expect(result.problems).toStrictEqual([]);
     });
 

@@ -9,7 +9,7 @@ export interface CliRun {
 }
 
 /** Runs the CLI in-process with captured output and a fixed clock. */
-export async function runO2check(argv: readonly string[], now = new Date('2026-12-01T12:00:00Z')): Promise<CliRun> {
+export async function runCommandLine(argv: readonly string[], now = new Date('2026-12-01T12:00:00Z')): Promise<CliRun> {
   let stdout = '';
   let stderr = '';
   const io: CliIo = {

@@ -4,7 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { expectConformant } from '../helpers/card-conformance.js';
-import { examplePath, runO2check } from './cli-harness.js';
+import { examplePath, runCommandLine } from './cli-harness.js';
 
 interface Card {
   summary: string;
@@ -18,7 +18,7 @@ const ruleOf = (card: Card): string | undefined => card.source.topic?.code;
 
 describe('oxygen-order-checker evaluate', () => {
   it('answers the kyphoscoliosis request as the service would, with a one-click target change', async () => {
-    const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target')]);
+    const run = await runCommandLine(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target')]);
     expect(run.code).toBe(0);
     const response = JSON.parse(run.stdout) as { cards: Card[] };
     expectConformant(response);
@@ -39,7 +39,7 @@ describe('oxygen-order-checker evaluate', () => {
   });
 
   it('prints each card with its full workings with --workings, in the site time zone', async () => {
-    const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--workings']);
+    const run = await runCommandLine(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--workings']);
     expect(run.code).toBe(0);
     const cards = run.stdout.split('\n---\n');
     expect(cards.length).toBeGreaterThan(1);
@@ -55,7 +55,7 @@ describe('oxygen-order-checker evaluate', () => {
   });
 
   it('evaluates at --now when given, so stale data is treated as stale', async () => {
-    const run = await runO2check([
+    const run = await runCommandLine([
       'evaluate',
       examplePath('order-sign-kyphoscoliosis-standard-target'),
       '--now',
@@ -64,13 +64,13 @@ describe('oxygen-order-checker evaluate', () => {
     expect(run.code).toBe(0);
     const response = JSON.parse(run.stdout) as { cards: Card[] };
     expectConformant(response);
-    // Two days later the SpO2 is outside the bundled 240-minute window (policies/bts-2017.yaml).
+    // Two days later the SpO2 is outside the bundled 240-minute window (policies/based-on-bts-2017.yaml).
     expect(response.cards.map(ruleOf)).toContain('no-recent-spo2');
   });
 
   it('applies another policy file given with --policy', async () => {
-    const policy = new URL('../../policies/tsanz-2015.yaml', import.meta.url).pathname;
-    const run = await runO2check(['evaluate', examplePath('order-sign-face-mask-no-target'), '--policy', policy]);
+    const policy = new URL('../../policies/based-on-tsanz-2015.yaml', import.meta.url).pathname;
+    const run = await runCommandLine(['evaluate', examplePath('order-sign-face-mask-no-target'), '--policy', policy]);
     expect(run.code).toBe(0);
     const response = JSON.parse(run.stdout) as { cards: Card[] };
     const missing = response.cards.find((card) => ruleOf(card) === 'target-range-missing');
@@ -79,11 +79,11 @@ describe('oxygen-order-checker evaluate', () => {
   });
 
   describe('the policy content hash on the source label', () => {
-    const bundled = new URL('../../policies/bts-2017.yaml', import.meta.url).pathname;
+    const bundled = new URL('../../policies/based-on-bts-2017.yaml', import.meta.url).pathname;
     // FIPS 180-4 SHA-256 of the exact bytes given, as node:crypto computes it; 12 hex characters shown.
     const shortHash = (bytes: Buffer): string => createHash('sha256').update(bytes).digest('hex').slice(0, 12);
     const labels = async (policy: string): Promise<string[]> => {
-      const run = await runO2check(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--policy', policy]);
+      const run = await runCommandLine(['evaluate', examplePath('order-sign-kyphoscoliosis-standard-target'), '--policy', policy]);
       expect(run.code).toBe(0);
       const cards = (JSON.parse(run.stdout) as { cards: Card[] }).cards;
       expect(cards.length).toBeGreaterThan(0);
@@ -92,7 +92,7 @@ describe('oxygen-order-checker evaluate', () => {
 
     it('names the file it read by the first 12 hex characters of its sha256 on every card', async () => {
       expect(await labels(bundled)).toStrictEqual([
-        `Default adult acute oxygen policy (BTS 2017 targets) (bts-2017-default v1.0.0 #${shortHash(readFileSync(bundled))}) · BTS 2017`,
+        `Adult acute oxygen targets based on BTS 2017 (based-on-bts-2017 v1.0.0 #${shortHash(readFileSync(bundled))}) · BTS 2017`,
       ]);
     });
 
@@ -103,7 +103,7 @@ describe('oxygen-order-checker evaluate', () => {
       writeFileSync(copy, edited);
       const [original, changed] = [await labels(bundled), await labels(copy)];
       expect(changed).toHaveLength(1);
-      expect(changed[0]).toContain(`(bts-2017-default v1.0.0 #${shortHash(edited)})`);
+      expect(changed[0]).toContain(`(based-on-bts-2017 v1.0.0 #${shortHash(edited)})`);
       expect(changed).not.toStrictEqual(original);
     });
   });
@@ -118,7 +118,7 @@ describe('oxygen-order-checker evaluate', () => {
       delete body.prefetch['observations'];
       const file = join(dir, 'no-observations.json');
       writeFileSync(file, JSON.stringify(body));
-      const run = await runO2check(['evaluate', file]);
+      const run = await runCommandLine(['evaluate', file]);
       expect(run.code).toBe(1);
       const outcome = JSON.parse(run.stdout);
       expect(outcome.resourceType).toBe('OperationOutcome');
@@ -128,7 +128,7 @@ describe('oxygen-order-checker evaluate', () => {
     it('names the invalid field and exits 1 for a request without hookInstance', async () => {
       const file = join(dir, 'no-hook-instance.json');
       writeFileSync(file, JSON.stringify({ hook: 'order-sign', context: {} }));
-      const run = await runO2check(['evaluate', file]);
+      const run = await runCommandLine(['evaluate', file]);
       expect(run.code).toBe(1);
       expect(run.stderr).toContain('hookInstance');
     });
@@ -136,7 +136,7 @@ describe('oxygen-order-checker evaluate', () => {
     it('exits 1 for a file that is not JSON', async () => {
       const file = join(dir, 'not-json.json');
       writeFileSync(file, '{ "hook": ');
-      const run = await runO2check(['evaluate', file]);
+      const run = await runCommandLine(['evaluate', file]);
       expect(run.code).toBe(1);
       expect(run.stderr).toContain('cannot read');
     });
@@ -144,14 +144,14 @@ describe('oxygen-order-checker evaluate', () => {
     it('exits 2 for an invalid policy file, listing its problems', async () => {
       const file = join(dir, 'bad-policy.yaml');
       writeFileSync(file, 'format: 1\nid: Bad Id\n');
-      const run = await runO2check(['evaluate', examplePath('order-sign-face-mask-no-target'), '--policy', file]);
+      const run = await runCommandLine(['evaluate', examplePath('order-sign-face-mask-no-target'), '--policy', file]);
       expect(run.code).toBe(2);
       expect(run.stderr).toContain('id');
       expect(run.stderr).toContain('targets');
     });
 
     it('exits 2 without a request file', async () => {
-      const run = await runO2check(['evaluate']);
+      const run = await runCommandLine(['evaluate']);
       expect(run.code).toBe(2);
       expect(run.stderr).toContain('REQUEST.json');
     });

@@ -2,13 +2,13 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { examplePath, runO2check } from './cli-harness.js';
+import { examplePath, runCommandLine } from './cli-harness.js';
 
 describe('oxygen-order-checker retime', () => {
   const original = JSON.parse(readFileSync(examplePath('order-sign-kyphoscoliosis-standard-target'), 'utf8'));
 
   it('moves every date-time so the draft order is signed at --at, keeping the gaps between them', async () => {
-    const run = await runO2check([
+    const run = await runCommandLine([
       'retime',
       examplePath('order-sign-kyphoscoliosis-standard-target'),
       '--at',
@@ -25,7 +25,7 @@ describe('oxygen-order-checker retime', () => {
   });
 
   it('leaves dates without a time, such as the birth date, as they were', async () => {
-    const run = await runO2check(['retime', examplePath('order-sign-kyphoscoliosis-standard-target')]);
+    const run = await runCommandLine(['retime', examplePath('order-sign-kyphoscoliosis-standard-target')]);
     const moved = JSON.parse(run.stdout);
     expect(moved.prefetch.patient.birthDate).toBe(original.prefetch.patient.birthDate);
     // Without --at the request is moved to the CLI clock (fixed in the harness).
@@ -37,14 +37,14 @@ describe('oxygen-order-checker retime', () => {
       const file = join(mkdtempSync(join(tmpdir(), 'oxygen-order-checker-deep-')), 'deep.json');
       writeFileSync(file, `${'['.repeat(20_000)}${']'.repeat(20_000)}`);
       for (const command of ['retime', 'evaluate']) {
-        const run = await runO2check([command, file]);
+        const run = await runCommandLine([command, file]);
         expect(run.code).toBe(1);
         expect(run.stderr).toContain('nests deeper than 64 levels');
       }
     });
 
     it('refuses an --at that is not a date-time with exit 2', async () => {
-      const run = await runO2check(['retime', examplePath('order-sign-paraquat'), '--at', 'tomorrow']);
+      const run = await runCommandLine(['retime', examplePath('order-sign-paraquat'), '--at', 'tomorrow']);
       expect(run.code).toBe(2);
       expect(run.stderr).toContain('--at');
     });

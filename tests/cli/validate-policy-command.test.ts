@@ -3,13 +3,13 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { policyWith } from '../policy/support/policy-sections.js';
-import { runO2check } from './cli-harness.js';
+import { runCommandLine } from './cli-harness.js';
 
 const bundled = (name: string): string => new URL(`../../policies/${name}`, import.meta.url).pathname;
 
 describe('oxygen-order-checker validate-policy', () => {
   it('accepts the TSANZ 2015 preset and shows its ranges', async () => {
-    const run = await runO2check(['validate-policy', bundled('tsanz-2015.yaml')]);
+    const run = await runCommandLine(['validate-policy', bundled('based-on-tsanz-2015.yaml')]);
     expect(run.code).toBe(0);
     // TSANZ 2015: 92-96 % for most patients, 88-92 % for CO2 retainers.
     expect(run.stdout).toContain('standard target 92-96 %');
@@ -20,11 +20,11 @@ describe('oxygen-order-checker validate-policy', () => {
     const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'typo.yaml');
     const text = (await import('node:fs'))
-      .readFileSync(bundled('bts-2017.yaml'), 'utf8')
+      .readFileSync(bundled('based-on-bts-2017.yaml'), 'utf8')
       .replace('lowPercent: 94', 'lowPercent: 99')
       .replace('criticalSpo2BelowPercent', 'criticalSpo2Below');
     writeFileSync(file, text);
-    const run = await runO2check(['validate-policy', file]);
+    const run = await runCommandLine(['validate-policy', file]);
     expect(run.code).toBe(1);
     expect(run.stdout).toContain(': not valid: 3 errors, 0 warnings');
     expect(run.stdout).toContain('targets.standard: the range 99–98 % is not ordered: lowPercent must be below highPercent');
@@ -52,7 +52,7 @@ describe('oxygen-order-checker validate-policy', () => {
         'disabledRules',
       ),
     );
-    const run = await runO2check(['validate-policy', file]);
+    const run = await runCommandLine(['validate-policy', file]);
     expect(run.code).toBe(1);
     // Lines counted by hand from the six lines written; the critical threshold is on line 30 (header
     // 7-11, site 12-14, hypercapnicRisk 15-19, freshness 20-24, thresholds from 25, its 6th line).
@@ -84,7 +84,7 @@ describe('oxygen-order-checker validate-policy', () => {
         'disabledRules',
       ),
     );
-    const run = await runO2check(['validate-policy', file]);
+    const run = await runCommandLine(['validate-policy', file]);
     expect(run.code).toBe(0);
     expect(run.stdout).toContain(`${file}: valid: larkspur-bay-test v1.0.0 (Larkspur Bay General Hospital test policy), 1 warning`);
     expect(run.stdout).toContain(

@@ -17,7 +17,7 @@ describe('parseEnvConfig', () => {
       config: {
         host: '127.0.0.1', // project default: loopback only
         port: 8080, // project default
-        policyPath: bundledPath('policies', 'bts-2017.yaml'),
+        policyPath: bundledPath('policies', 'based-on-bts-2017.yaml'),
         cardsDir: bundledPath('cards'),
         logLevel: 'info',
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
@@ -39,7 +39,7 @@ describe('parseEnvConfig', () => {
   });
 
   it('resolves the bundled defaults to files that ship with the package', () => {
-    expect(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY.endsWith('/policies/bts-2017.yaml')).toBe(true);
+    expect(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY.endsWith('/policies/based-on-bts-2017.yaml')).toBe(true);
     expect(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR.endsWith('/cards')).toBe(true);
   });
 
@@ -404,7 +404,7 @@ describe('parseEnvConfig', () => {
     it('keeps the bundled policy as the demo default, unset or empty', () => {
       for (const env of [{}, { OXYGEN_CHECKER_POLICY: '' }, { OXYGEN_CHECKER_MODE: 'demo', OXYGEN_CHECKER_POLICY: ' ' }]) {
         const result = parseEnvConfig(env, '/srv');
-        expect(result.kind === 'ok' && result.config.policyPath).toBe(bundledPath('policies', 'bts-2017.yaml'));
+        expect(result.kind === 'ok' && result.config.policyPath).toBe(bundledPath('policies', 'based-on-bts-2017.yaml'));
       }
     });
 

@@ -28,7 +28,7 @@ describe('loadPolicyAndCards', () => {
     });
     expect(files.kind).toBe('ok');
     if (files.kind !== 'ok') return;
-    expect([files.policy.id, files.policy.version]).toStrictEqual(['bts-2017-default', '1.0.0']);
+    expect([files.policy.id, files.policy.version]).toStrictEqual(['based-on-bts-2017', '1.0.0']);
     // BTS 2017 Table 4: the bundled default's hypercapnic-risk target
     expect(files.policy.targets.hypercapnicRisk).toStrictEqual({ lowPercent: 88, highPercent: 92 });
     expect([...files.templates.keys()].sort()).toStrictEqual(RULES.map((rule) => rule.id).sort());

@@ -25,7 +25,7 @@ export function minutesAgo(minutes: number): string {
 }
 
 export function loadPolicy(name: 'bts-2017' | 'tsanz-2015'): Policy {
-  const text = readFileSync(new URL(`../../policies/${name}.yaml`, import.meta.url), 'utf8');
+  const text = readFileSync(new URL(`../../policies/based-on-${name}.yaml`, import.meta.url), 'utf8');
   const parsed = parsePolicyText(text);
   if (parsed.kind !== 'ok') {
     throw new Error(`bundled policy ${name} is invalid`);

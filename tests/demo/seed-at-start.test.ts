@@ -63,7 +63,7 @@ describe('the demo seed at start', () => {
     const production = await startAndStop({
       PORT: '0',
       OXYGEN_CHECKER_MODE: 'production',
-      OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
+      OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'based-on-bts-2017.yaml'),
       OXYGEN_CHECKER_TRUST: trustPath,
       OXYGEN_CHECKER_PUBLIC_URL: 'https://cds.larkspur-bay.example',
       OXYGEN_CHECKER_DATA_DIR: dataDir,

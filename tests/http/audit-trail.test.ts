@@ -89,7 +89,7 @@ describe('the audit trail of the hook route', () => {
     const advisory = await store.getAdvisory(first?.uuid ?? '');
     // FIPS 180-4 SHA-256 of the bundled policy file's bytes, as node:crypto computes it
     const expected = createHash('sha256').update(readFileSync(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY)).digest('hex');
-    expect(advisory?.policy).toStrictEqual({ id: 'bts-2017-default', version: '1.0.0', contentHash: expected });
+    expect(advisory?.policy).toStrictEqual({ id: 'based-on-bts-2017', version: '1.0.0', contentHash: expected });
   });
 
   it('keys one patient alike across calls and another patient apart, without their ids', async () => {

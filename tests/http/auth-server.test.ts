@@ -40,7 +40,7 @@ afterAll(async () => {
 const production = (extra: Record<string, string> = {}) => ({
   PORT: '0',
   OXYGEN_CHECKER_MODE: 'production',
-  OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'bts-2017.yaml'),
+  OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'based-on-bts-2017.yaml'),
   OXYGEN_CHECKER_TRUST: trustPath,
   OXYGEN_CHECKER_PUBLIC_URL: PUBLIC_URL,
   OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(),

@@ -42,7 +42,7 @@ describe('start-up with a checked policy', () => {
 
   it('starts with warnings and acknowledgements carried in the start-up log line', async () => {
     const file = writePolicy(
-      readFileSync(join(ROOT, 'policies/bts-2017.yaml'), 'utf8')
+      readFileSync(join(ROOT, 'policies/based-on-bts-2017.yaml'), 'utf8')
         .replace('    - copd\n', '    - copd\n    - pregnancy\n') // BTS 2017 Table 4 does not list pregnancy
         .replace('severity: {}', 'severity: { acute-hypercapnic-acidosis: warning }')
         .replace(

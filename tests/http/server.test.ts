@@ -65,7 +65,7 @@ describe('startServer', () => {
     }
     expect(log.lines()[0]).toMatchObject({
       msg: `oxygen-order-checker listening; ${DEMO_MODE_NOTICE}`,
-      policyId: 'bts-2017-default',
+      policyId: 'based-on-bts-2017',
       policyVersion: '1.0.0',
     });
     expect(log.lines().at(-1)?.['msg']).toBe('oxygen-order-checker stopped');

@@ -3,8 +3,8 @@ import { describe, expect, it } from 'vitest';
 import { parsePolicyObject, parsePolicyText } from '../../src/policy/parse-policy.js';
 import { parse as parseYaml } from 'yaml';
 
-const btsText = readFileSync(new URL('../../policies/bts-2017.yaml', import.meta.url), 'utf8');
-const tsanzText = readFileSync(new URL('../../policies/tsanz-2015.yaml', import.meta.url), 'utf8');
+const btsText = readFileSync(new URL('../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8');
+const tsanzText = readFileSync(new URL('../../policies/based-on-tsanz-2015.yaml', import.meta.url), 'utf8');
 
 describe('parsePolicyText', () => {
   it('accepts the bundled BTS 2017 policy with its published targets', () => {

@@ -17,7 +17,7 @@ export const NOW = new Date('2025-03-14T08:10:00Z');
 export const HOOK_INSTANCE = '5b0e8f9c-7a41-4d2e-9c1b-1f6a2d3e4b5c';
 
 export function bundledPolicy(): Policy {
-  const parsed = parsePolicyText(readFileSync(new URL('../../../policies/bts-2017.yaml', import.meta.url), 'utf8'));
+  const parsed = parsePolicyText(readFileSync(new URL('../../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8'));
   if (parsed.kind !== 'ok') {
     throw new Error('bundled policy does not parse');
   }

@@ -7,7 +7,7 @@ import type { DeliveryInput } from '../../../src/core/devices/index.js';
 import { DEVICE_KINDS } from '../../../src/core/types.js';
 import type { DeviceKind } from '../../../src/core/types.js';
 
-const policy = parseYaml(readFileSync(new URL('../../../policies/bts-2017.yaml', import.meta.url), 'utf8')) as {
+const policy = parseYaml(readFileSync(new URL('../../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8')) as {
   references: Record<string, unknown>;
 };
 const referenceKeys = Object.keys(policy.references);

@@ -6,7 +6,7 @@ import {
 } from '../../../src/core/physiology/blood-gas-interpretation.js';
 import { convertKnown } from '../../../src/units/convert.js';
 
-// Policy default (policies/bts-2017.yaml): hypercapnia at or above 6.0 kPa (BTS 2017 clarification,
+// Policy default (policies/based-on-bts-2017.yaml): hypercapnia at or above 6.0 kPa (BTS 2017 clarification,
 // Thorax 72:588), converted with UCUM to 45.004 mmHg; acidosis below pH 7.35 (RCEM Learning);
 // HCO3 > 28 mmol/L marks long-standing hypercapnia (BTS 2017 as quoted, check-values 3g, V2).
 const hypercapniaMmHg = convertKnown(6.0, 'kPa', 'mm[Hg]');

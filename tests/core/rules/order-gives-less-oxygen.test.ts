@@ -25,7 +25,7 @@ describe('order-gives-less-oxygen', () => {
     // Reservoir mask FiO2 0.60–0.90 vs nasal cannula 2 L/min about 0.28 (check-values.md §2a).
     const facts = buildFacts({ orders: [draftCannula2], activeOrders: [reservoirOnRecord], spo2Percent: [spo2(91)] });
     const finding = onlyFinding(runRule(rule, facts));
-    expect(finding.indicator).toBe('warning'); // 3 points below 94 %: not more than 4 (local choice, bts-2017.yaml)
+    expect(finding.indicator).toBe('warning'); // 3 points below 94 %: not more than 4 (local choice, based-on-bts-2017.yaml)
     expect(finding.change).toBeUndefined(); // no suggestion: the right oxygen depends on the patient
     expect(finding.values.onNow).toContain('Reservoir mask');
     expect(finding.values.orderDescription).toBe('Nasal cannula at 2 L/min');

@@ -13,7 +13,7 @@ export const NOW = new Date('2026-12-01T12:00:00Z');
 
 /** The bundled BTS 2017 policy: vital signs current for 240 min, gases 720 min, Hb 72 h, history 1825 d. */
 export function btsPolicy(): Policy {
-  const text = readFileSync(new URL('../../../policies/bts-2017.yaml', import.meta.url), 'utf8');
+  const text = readFileSync(new URL('../../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8');
   const parsed = parsePolicyText(text);
   if (parsed.kind !== 'ok') {
     throw new Error('bundled policy did not parse');

@@ -90,7 +90,7 @@ describe('POST /cds-services/{id}', () => {
       serviceId: 'oxygen-order-sign',
       hook: 'order-sign',
       hookInstance: 'd1577c69-dfbe-44ad-ba6d-3e05e953b2ea',
-      policyId: 'bts-2017-default',
+      policyId: 'based-on-bts-2017',
       policyVersion: '1.0.0',
       cardCount: cards.length,
       fhirFallback: { used: false, keysFetched: [], keysFailed: [], keysIncomplete: [] },

@@ -23,7 +23,7 @@ describe('the policy content hash on cards and log lines', () => {
     }
     expect(labels.length).toBeGreaterThan(examples.length);
     for (const label of labels) {
-      expect(label).toContain(`(bts-2017-default v1.0.0 #${FULL_HASH.slice(0, 12)})`);
+      expect(label).toContain(`(based-on-bts-2017 v1.0.0 #${FULL_HASH.slice(0, 12)})`);
     }
   });
 

@@ -1,7 +1,7 @@
 /**
  * A small valid policy in sections, for tests that write one section themselves at the top of the file
  * (so its line numbers can be counted by hand) and take the rest from here. Values are those of the
- * bundled policies/bts-2017.yaml, whose comments give each one's source: BTS 2017 Tables 1–4 for the
+ * bundled policies/based-on-bts-2017.yaml, whose comments give each one's source: BTS 2017 Tables 1–4 for the
  * ranges, BTS/ICS 2016 for the ventilation thresholds, the rest local choices or common practice.
  */
 const SECTIONS = {

@@ -2,7 +2,7 @@ import type { FhirResource } from '../../../src/fhir/gathered-data.js';
 import { condition } from './fhir.js';
 
 /**
- * The sources scenario expectations cite (full citations in policies/bts-2017.yaml `references`
+ * The sources scenario expectations cite (full citations in policies/based-on-bts-2017.yaml `references`
  * and /work/shared/reference/check-values.md), and the conditions scenarios use. SNOMED CT codes
  * are those of check-values.md §6 (verified); ICD-10 codes marked "from memory" are that.
  */

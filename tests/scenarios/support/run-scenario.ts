@@ -16,8 +16,8 @@ import { buildScenario, type Expectation, type Indicator, type Scenario } from '
  */
 
 export function loadPolicy(file: 'bts-2017' | 'tsanz-2015'): Policy {
-  const parsed = parsePolicyText(readFileSync(new URL(`../../../policies/${file}.yaml`, import.meta.url), 'utf8'));
-  if (parsed.kind !== 'ok') throw new Error(`policies/${file}.yaml does not parse`);
+  const parsed = parsePolicyText(readFileSync(new URL(`../../../policies/based-on-${file}.yaml`, import.meta.url), 'utf8'));
+  if (parsed.kind !== 'ok') throw new Error(`policies/based-on-${file}.yaml does not parse`);
   return parsed.policy;
 }
 
