@@ -40,16 +40,16 @@ const RangeSchema = z
   .strictObject({ lowPercent: z.number().min(0).max(100), highPercent: z.number().min(0).max(100) })
   .refine((range) => range.lowPercent <= range.highPercent, { message: 'lowPercent must not be above highPercent' });
 
+const EVALUATE_AT_FORMS =
+  "must be 'request', an ISO 8601 date-time with its offset (2026-11-30T09:40:00Z) or { minutesAfterRequest: N }";
+
 const EvaluateAtSchema = z.union(
   [
     z.literal('request'),
-    z.string().refine((text) => ISO_DATE_TIME.test(text) && Number.isFinite(Date.parse(text))),
+    z.string().refine((text) => ISO_DATE_TIME.test(text) && Number.isFinite(Date.parse(text)), EVALUATE_AT_FORMS),
     z.strictObject({ minutesAfterRequest: z.number().finite() }),
   ],
-  {
-    error:
-      "must be 'request', an ISO 8601 date-time with its offset (2026-11-30T09:40:00Z) or { minutesAfterRequest: N }",
-  },
+  { error: EVALUATE_AT_FORMS },
 );
 
 const ExpectSchema = z.strictObject({
