@@ -136,7 +136,7 @@ function schemaProblems(issues: readonly z.core.$ZodIssue[], value: unknown): { 
     for (const step of path) {
       held = held !== null && typeof held === 'object' ? (held as Record<PropertyKey, unknown>)[step] : undefined;
     }
-    if (issue.code === 'invalid_type' && held === undefined) {
+    if (held === undefined) {
       return [{ path, message: 'is missing' }];
     }
     if (issue.code === 'invalid_value' && path.at(-1) === 'indicator') {
@@ -234,7 +234,8 @@ export function loadPolicyCase(file: string, readFile: (path: string) => string)
     const problems = doc.syntaxErrors.map((e) => ({ path: '(file)', message: e.message, ...e.position }));
     return { kind: 'broken', file, name: undefined, problems: problems.length > 0 ? problems : [at([], 'is empty')] };
   }
-  const rawName = (doc.value as { name?: unknown } | null)?.name;
+  const value: unknown = doc.value;
+  const rawName = typeof value === 'object' && value !== null ? (value as Record<string, unknown>)['name'] : undefined;
   const name = typeof rawName === 'string' && rawName.trim() !== '' ? rawName.trim() : undefined;
   const broken = (problems: readonly CaseProblem[]): BrokenCase => ({ kind: 'broken', file, name, problems });
 

@@ -5,7 +5,6 @@ import { evaluateHook } from '../cds/evaluate-hook.js';
 import { parseHookRequest } from '../cds/parse-hook-request.js';
 import { ENV_DEFAULTS } from '../config/env-config.js';
 import { formatLoadProblem, loadPolicyAndCards, type LoadedFiles } from '../config/load-files.js';
-import type { Indicator } from '../core/types.js';
 import { createGatherer } from '../http/gather-data.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { junitXml, type JunitCase } from './junit-xml.js';
@@ -108,7 +107,7 @@ async function runCase(loaded: ReadyCase, policy: LoadedPolicy): Promise<{ cards
       const audit = evaluation.audit.cards[index];
       return {
         ruleId: audit?.ruleId ?? card.source.topic?.code ?? '(unknown rule)',
-        indicator: card.indicator as Indicator,
+        indicator: card.indicator,
         suggestion: (card.suggestions?.length ?? 0) > 0,
         advisedRange: audit?.keyNumbers['advisedRange'],
       };
