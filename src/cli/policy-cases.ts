@@ -231,7 +231,12 @@ export function loadPolicyCase(file: string, readFile: (path: string) => string)
     return { path: dotted(path), message, line: position.line, column: position.column };
   };
   if (doc.syntaxErrors.length > 0 || doc.value === undefined) {
-    const problems = doc.syntaxErrors.map((e) => ({ path: '(file)', message: e.message, ...e.position }));
+    // yaml puts the source it stumbled on after a colon ("Unresolved alias (...): name"): drop it.
+    const problems = doc.syntaxErrors.map((e) => ({
+      path: '(file)',
+      message: `YAML syntax: ${(e.message.split(':')[0] ?? '').trim() || 'unreadable'}`,
+      ...e.position,
+    }));
     return { kind: 'broken', file, name: undefined, problems: problems.length > 0 ? problems : [at([], 'is empty')] };
   }
   const value: unknown = doc.value;

@@ -128,7 +128,14 @@ async function resultOf(loaded: LoadedCase, policy: LoadedPolicy, casesDir: stri
     };
   }
   const expect = loaded.policyCase.expect;
-  const outcome = await runCase(loaded, policy);
+  let outcome: Awaited<ReturnType<typeof runCase>>;
+  try {
+    outcome = await runCase(loaded, policy);
+  } catch (error) {
+    // A request the checks let through but the engine cannot take is this case's failure, not the run's.
+    const kind = error instanceof Error ? error.name : 'error';
+    outcome = { unavailable: `the engine could not evaluate this request (${kind}); please report it with the case file` };
+  }
   if ('unavailable' in outcome) {
     return { file, name: loaded.policyCase.name, expected: expectedWords(expect), got: ['no cards'], differences: [outcome.unavailable], kind: 'failed' };
   }

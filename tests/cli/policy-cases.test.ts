@@ -165,11 +165,23 @@ describe('policy case files: every problem with its line and column, never a cra
   });
 
   it('reports broken YAML at its line and column without quoting the file', () => {
-    const secret = 'LBGH-SECRET-0001';
-    const problems = problemsOf(caseFile(`name: A\nrequest: "${secret}\nexpect: [`));
-    expect(problems.length).toBeGreaterThan(0);
-    expect(problems[0]?.line).toBeGreaterThanOrEqual(2);
-    expect(JSON.stringify(problems)).not.toContain(secret);
+    const secret = 'LBGHSECRET0001';
+    // [text, the line the first problem is on at the least]; an unresolved alias is found only when
+    // the whole document is read, so it is given at the start of the file.
+    const broken: [string, number][] = [
+      [`name: A\nrequest: "${secret}\nexpect: [`, 2],
+      [`name: A\nrequest: *${secret}`, 1],
+      [`name: A\nrequest: |${secret}\n  x`, 2],
+      [`name: A\nrequest: x\n${secret}: [`, 3],
+      [`name: A\n- ${secret}\n`, 2],
+    ];
+    for (const [text, line] of broken) {
+      const problems = problemsOf(caseFile(text));
+      expect(problems.length, text).toBeGreaterThan(0);
+      expect(problems[0]?.line, text).toBeGreaterThanOrEqual(line);
+      expect(problems[0]?.message, text).toMatch(/^YAML syntax: \S/);
+      expect(JSON.stringify(problems), text).not.toContain(secret);
+    }
   });
 
   it('reports a request file that is missing or not JSON at the request key, without quoting it', () => {

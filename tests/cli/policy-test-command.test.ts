@@ -243,6 +243,27 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
     expect(run.stdout).toMatch(/what differed: ward-7\/broken\.yaml:\d+:\d+: \(file\): /);
     expect(run.stdout + run.stderr).not.toContain(secret);
   });
+  it('fails a case whose request lacks data the service requires, as the service would answer 412', async () => {
+    const dir = tempDir();
+    const body = JSON.parse(readFileSync(examplePath('order-sign-kyphoscoliosis-standard-target'), 'utf8')) as {
+      prefetch: Record<string, unknown>;
+    };
+    const keys = Object.keys(body.prefetch);
+    body.prefetch = {};
+    writeFileSync(join(dir, 'request.json'), JSON.stringify(body));
+    writeCase(dir, 'no-prefetch.yaml', [
+      'name: No prefetch',
+      'request: request.json',
+      'evaluateAt: 2026-11-30T09:40:00Z',
+      'expect:',
+      '  absent: [target-range-missing]',
+    ]);
+    const run = await runCommandLine(['policy-test', BTS, dir]);
+    expect(keys.length).toBeGreaterThan(0);
+    expect(run.code).toBe(1);
+    expect(rows(run.stdout)).toEqual([{ result: 'FAIL', file: 'no-prefetch.yaml' }]);
+    expect(run.stdout).toMatch(/what differed: required data is missing from the request's prefetch \(.+\): the service would answer 412/);
+  });
 });
 
 describe('oxygen-order-checker policy-test: the policy is validated first', () => {
