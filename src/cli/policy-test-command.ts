@@ -1,4 +1,4 @@
-import { readdirSync, writeFileSync } from 'node:fs';
+import { readdirSync, statSync, writeFileSync } from 'node:fs';
 import { join, relative } from 'node:path';
 import { z } from 'zod';
 import { evaluateHook } from '../cds/evaluate-hook.js';
@@ -51,8 +51,13 @@ function caseFiles(dir: string): string[] {
     for (const entry of entries) {
       if (entry.name.startsWith('.')) continue;
       const path = join(folder, entry.name);
-      if (entry.isDirectory()) walk(path);
-      else if (entry.isFile() && /\.ya?ml$/.test(entry.name)) found.push(path);
+      if (entry.isDirectory()) {
+        walk(path);
+        continue;
+      }
+      // A linked file is read (a case shared between folders); a linked folder is not, so no loop.
+      const isFile = entry.isFile() || (entry.isSymbolicLink() && statSync(path, { throwIfNoEntry: false })?.isFile() === true);
+      if (isFile && /\.ya?ml$/.test(entry.name)) found.push(path);
     }
   };
   walk(dir);

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -231,11 +231,16 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
     writeCase(dir, 'bad.yaml', kypho(['  cards:', '    - rule: target-above-hypercapnic-range', `      indicatr: ${secret}`], 'Bad'));
     mkdirSync(join(dir, 'ward-7'));
     writeCase(dir, 'ward-7/broken.yaml', [`name: "${secret}`, 'expect: [']);
+    // Hidden folders are skipped (an editor's or a tool's own files); a linked case file is read.
+    mkdirSync(join(dir, '.drafts'));
+    writeCase(dir, '.drafts/unfinished.yaml', ['name: [']);
+    symlinkSync(join(dir, 'good.yaml'), join(dir, 'linked.yaml'));
     const run = await runCommandLine(['policy-test', BTS, dir]);
     expect(run.code).toBe(1);
     expect(rows(run.stdout)).toEqual([
       { result: 'FAIL', file: 'bad.yaml' },
       { result: 'pass', file: 'good.yaml' },
+      { result: 'pass', file: 'linked.yaml' },
       { result: 'FAIL', file: join('ward-7', 'broken.yaml') },
     ]);
     expect(run.stdout).toContain("what differed: bad.yaml:6:7: expect.cards.0.indicatr: unknown key 'indicatr'; did you mean 'indicator'?");
