@@ -320,6 +320,7 @@ describe('oxygen-order-checker policy-test: JUnit XML for CI', () => {
       message:
         '"Target above the range for a patient at risk of hypercapnia" (target-above-hypercapnic-range) was shown (critical); the case says it must not be',
     });
+    // BTS 2017, Table 4: 88-92 % for chest wall deformity; critical with PaCO2 6.7 kPa (>= 6 kPa, BTS 2017).
     expect(failure?.text).toContain('got: critical target-above-hypercapnic-range + suggestion, advises 88–92 %');
     const invalid = byClass.get('policy-cases.invalid')?.children[0];
     expect(invalid?.attributes['type']).toBe('invalid-case');
