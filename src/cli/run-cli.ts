@@ -1,3 +1,4 @@
+import { AUDIT_USAGE, runAuditCommand } from './audit-command.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { EVALUATE_USAGE, runEvaluateCommand } from './evaluate-command.js';
 import { FIO2_USAGE, runFio2Command } from './fio2-command.js';
@@ -8,6 +9,7 @@ import { runValidatePolicyCommand, VALIDATE_POLICY_USAGE } from './validate-poli
 const COMMANDS: Readonly<
   Record<string, { run: (args: readonly string[], io: CliIo) => ExitCode | Promise<ExitCode>; usage: string }>
 > = {
+  audit: { run: runAuditCommand, usage: AUDIT_USAGE },
   evaluate: { run: runEvaluateCommand, usage: EVALUATE_USAGE },
   fio2: { run: runFio2Command, usage: FIO2_USAGE },
   gas: { run: runGasCommand, usage: GAS_USAGE },
@@ -18,6 +20,7 @@ const COMMANDS: Readonly<
 export const USAGE = `oxygen-order-checker: oxygen order checks from the command line (advisory only; local policy governs)
 
 Commands:
+  audit EXPORT_DIR          oxygen audit figures per ward from a FHIR Bulk Data export
   evaluate REQUEST.json     the CDS Hooks response the service would give
   fio2 --device KIND ...    the FiO2 a device delivers
   gas --fio2 F --pao2 ...   alveolar gas, A-a gradient, P/F and gas interpretation

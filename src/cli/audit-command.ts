@@ -1,0 +1,140 @@
+import { statSync, writeFileSync } from 'node:fs';
+import { z } from 'zod';
+import { renderAuditReport } from '../audit/audit-report.js';
+import { auditJson, renderAuditTable } from '../audit/audit-text.js';
+import { ExportCollector } from '../audit/collect-patients.js';
+import { readExportDir } from '../audit/read-export-dir.js';
+import { auditWards, exportPeriod } from '../core/audit/audit-wards.js';
+import type { AuditPeriod } from '../core/audit/types.js';
+import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
+import { loadPolicy } from './load-policy.js';
+import { checkOptions, parseOptions } from './parse-options.js';
+
+export const AUDIT_USAGE = `Usage: oxygen-order-checker audit EXPORT_DIR [--policy FILE] [--from DATE --to DATE]
+                   [--json FILE|-] [--html FILE]
+
+The figures a hospital oxygen audit collects, per ward and overall, from a FHIR Bulk Data export
+(NDJSON files: Patient, Encounter, Observation, Condition, and oxygen orders as MedicationRequest,
+ServiceRequest or DeviceRequest): patients on oxygen; of these, with an order; orders with a target
+range; ranges the patient's risk calls for; at-risk patients on the standard range; SpO2 time in,
+above (on oxygen) and below the range. Definitions: docs/policy.md, "Audit your wards".
+  --policy  the policy whose targets and risk rules judge the orders (default: bundled BTS 2017)
+  --from/--to  the audit period (ISO 8601 date or date-time; default: the whole export)
+  --json    write the figures as JSON to FILE, or to stdout with -
+  --html    write a self-contained HTML report with charts to FILE
+Exit 0 when the audit ran, 1 when the export cannot be read, 2 for a usage error.
+Advisory only: an audit of recorded data; local policy and clinical judgement govern.`;
+
+const dateText = z
+  .string()
+  .regex(/^\d{4}-\d{2}-\d{2}(T[\d:.]+(Z|[+-]\d{2}:\d{2})?)?$/, 'must be an ISO 8601 date or date-time')
+  .refine((s) => !Number.isNaN(Date.parse(s)), 'must be a real date');
+
+const AuditOptionsSchema = z.strictObject({
+  policy: z.string().optional(),
+  from: dateText.optional(),
+  to: dateText.optional(),
+  json: z.string().min(1).optional(),
+  html: z.string().min(1).optional(),
+});
+
+/** A date alone means its whole day: `--to 2026-11-30` runs to the end of 30 November (UTC). */
+function periodEnd(text: string): string {
+  return /^\d{4}-\d{2}-\d{2}$/.test(text) ? `${text}T23:59:59.999Z` : new Date(text).toISOString();
+}
+
+function choosePeriod(o: { readonly from?: string | undefined; readonly to?: string | undefined }, whole: AuditPeriod | undefined): AuditPeriod | undefined {
+  const from = o.from === undefined ? whole?.from : new Date(o.from).toISOString();
+  const to = o.to === undefined ? whole?.to : periodEnd(o.to);
+  if (from === undefined || to === undefined) {
+    return undefined;
+  }
+  if (Date.parse(from) > Date.parse(to)) {
+    throw new UsageError('--from must not be after --to');
+  }
+  return { from, to };
+}
+
+function write(path: string, text: string, what: string): void {
+  try {
+    writeFileSync(path, text);
+  } catch {
+    throw new UsageError(`cannot write the ${what} file ${path}`);
+  }
+}
+
+export async function runAuditCommand(args: readonly string[], io: CliIo): Promise<ExitCode> {
+  const parsed = parseOptions(args, {
+    policy: { type: 'string' },
+    from: { type: 'string' },
+    to: { type: 'string' },
+    json: { type: 'string' },
+    html: { type: 'string' },
+  });
+  if (parsed.values['help'] === true) {
+    io.stdout(`${AUDIT_USAGE}\n`);
+    return 0;
+  }
+  const [dir, ...extra] = parsed.positionals;
+  if (dir === undefined || extra.length > 0) {
+    throw new UsageError('give one EXPORT_DIR');
+  }
+  const o = checkOptions(AuditOptionsSchema, {
+    policy: parsed.values['policy'],
+    from: parsed.values['from'],
+    to: parsed.values['to'],
+    json: parsed.values['json'],
+    html: parsed.values['html'],
+  });
+  const policy = loadPolicy(o.policy, io);
+  const isDir = ((): boolean => {
+    try {
+      return statSync(dir).isDirectory();
+    } catch {
+      return false;
+    }
+  })();
+  if (!isDir) {
+    io.stderr(`oxygen-order-checker audit: ${dir} is not a directory\n`);
+    return 1;
+  }
+  const collector = new ExportCollector();
+  const read = await readExportDir(dir, (resource) => collector.add(resource));
+  if (read.files === 0) {
+    io.stderr(`oxygen-order-checker audit: no .ndjson files in ${dir}\n`);
+    return 1;
+  }
+  const { patients, skipped } = collector.finish(policy, io.now());
+  const period = choosePeriod(o, exportPeriod(patients));
+  if (period === undefined) {
+    io.stderr('oxygen-order-checker audit: the export holds no dated records, so there is no period to audit\n');
+    return 1;
+  }
+  const figures = auditWards(patients, period, policy);
+  const about = { policy: { id: policy.id, version: policy.version } };
+  const jsonText = `${JSON.stringify(auditJson(figures, about), null, 2)}\n`;
+  if (o.json === '-') {
+    io.stdout(jsonText);
+  } else {
+    io.stdout(`Oxygen audit ${period.from} to ${period.to} (policy ${policy.id} v${policy.version})\n\n`);
+    io.stdout(renderAuditTable(figures));
+    const notes = [
+      ...(skipped > 0 ? [`${skipped} resources not used (no patient named, or a type the audit does not read)`] : []),
+      ...(read.unreadableLines > 0 ? [`${read.unreadableLines} lines were not JSON and were skipped`] : []),
+    ];
+    io.stdout(notes.map((n) => `Note: ${n}\n`).join(''));
+    io.stdout('Advisory only: an audit of recorded data; local policy and clinical judgement govern.\n');
+    if (o.json !== undefined) {
+      write(o.json, jsonText, 'JSON');
+    }
+  }
+  if (o.html !== undefined) {
+    const page = renderAuditReport({
+      figures,
+      policy: { id: policy.id, version: policy.version, siteName: policy.site.name },
+      madeAt: io.now().toISOString(),
+    });
+    write(o.html, page, 'HTML');
+  }
+  return 0;
+}
