@@ -70,8 +70,16 @@ export function renderAuditTable(figures: AuditFigures): string {
 
 const round1 = (minutes: number): number => Math.round(minutes * 10) / 10;
 
-function timeJson(t: AuditTime): Record<string, number> {
-  return Object.fromEntries(Object.entries(t).map(([k, v]) => [k, round1(v)]));
+function timeJson(t: AuditTime): AuditTime {
+  return {
+    inRangeMinutes: round1(t.inRangeMinutes),
+    aboveOnOxygenMinutes: round1(t.aboveOnOxygenMinutes),
+    aboveOnAirMinutes: round1(t.aboveOnAirMinutes),
+    belowMinutes: round1(t.belowMinutes),
+    observedMinutes: round1(t.observedMinutes),
+    unobservedMinutes: round1(t.unobservedMinutes),
+    notJudgedMinutes: round1(t.notJudgedMinutes),
+  };
 }
 
 function wardJson(w: WardFigures): Record<string, unknown> {
