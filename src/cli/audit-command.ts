@@ -3,7 +3,8 @@ import { z } from 'zod';
 import { renderAuditReport } from '../audit/audit-report.js';
 import { auditJson, renderAuditTable } from '../audit/audit-text.js';
 import { ExportCollector } from '../audit/collect-patients.js';
-import { readExportDir } from '../audit/read-export-dir.js';
+import { exportFiles } from '../bulk/export-index.js';
+import { describeNdjsonProblem, NdjsonProblems, readNdjsonFile } from '../bulk/ndjson-reader.js';
 import { auditWards, exportPeriod } from '../core/audit/audit-wards.js';
 import type { AuditPeriod } from '../core/audit/types.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
@@ -99,8 +100,14 @@ export async function runAuditCommand(args: readonly string[], io: CliIo): Promi
     return 1;
   }
   const collector = new ExportCollector();
-  const read = await readExportDir(dir, (resource) => collector.add(resource));
-  if (read.files === 0) {
+  const files = exportFiles(dir);
+  const problems = new NdjsonProblems();
+  for (const file of files) {
+    for await (const { resource } of readNdjsonFile(file, problems)) {
+      collector.add(resource);
+    }
+  }
+  if (files.length === 0) {
     io.stderr(`oxygen-order-checker audit: no .ndjson files in ${dir}\n`);
     return 1;
   }
@@ -120,7 +127,9 @@ export async function runAuditCommand(args: readonly string[], io: CliIo): Promi
     io.stdout(renderAuditTable(figures));
     const notes = [
       ...(skipped > 0 ? [`${skipped} resources not used (no patient named, or a type the audit does not read)`] : []),
-      ...(read.unreadableLines > 0 ? [`${read.unreadableLines} lines were not JSON and were skipped`] : []),
+      ...(problems.count > 0
+        ? [`${problems.count} lines were not FHIR resources and were skipped (first: ${problems.first.slice(0, 3).map(describeNdjsonProblem).join('; ')})`]
+        : []),
     ];
     io.stdout(notes.map((n) => `Note: ${n}\n`).join(''));
     io.stdout('Advisory only: an audit of recorded data; local policy and clinical judgement govern.\n');

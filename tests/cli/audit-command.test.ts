@@ -155,7 +155,7 @@ describe('audit', () => {
       writeFileSync(join(dir, 'Encounter.ndjson'), readFileSync(join(EXPORT, 'Encounter.ndjson'), 'utf8'));
       const run = await runCommandLine(['audit', dir]);
       expect(run.code).toBe(0);
-      expect(run.stdout).toContain('1 lines were not JSON');
+      expect(run.stdout).toContain('1 lines were not FHIR resources and were skipped (first: Observation.ndjson line 15: not valid JSON)');
       expect(run.stdout + run.stderr).not.toContain('SECRET-LINE');
     });
 
