@@ -48,7 +48,8 @@ export function oxygenCourse(patient: AuditPatient): OxygenCourse {
     } else {
       steps.push({ at: order.authoredOn, onOxygen: gives });
     }
-    if (endedAt !== undefined && gives) {
+    // An order's end stops oxygen only when no other order is in force then (a newer one may run on).
+    if (endedAt !== undefined && gives && orderInForce(patient, Date.parse(endedAt)) === undefined) {
       steps.push({ at: endedAt, onOxygen: false });
     }
   }

@@ -194,6 +194,34 @@ describe('auditPatient', () => {
       expect(audit).toMatchObject({ onOxygen: true, hasOrder: false });
     });
 
+    it('keeps a patient on oxygen when an order ends while a newer one runs on', () => {
+      // 09:00 order ending 12:00; 10:00 order with no end: oxygen throughout. 99 % at 12:30 is above
+      // 94-98 % on oxygen (BTS 2017 Tables 1-3) until the cap at 14:00 (discharge): 90 min.
+      const audit = auditPatient(
+        auditPatientData({
+          orders: [orderAt('09:00', {}, { recordedStatus: 'completed', endedAt: at('12:00') }), orderAt('10:00')],
+          spo2Percent: [spo2At(99, '12:30')],
+        }),
+        PERIOD,
+        BTS,
+      );
+      expect(audit.time.aboveOnOxygenMinutes).toBe(90);
+      expect(audit.time.aboveOnAirMinutes).toBe(0);
+    });
+
+    it('takes a patient off oxygen when their only order ends', () => {
+      const audit = auditPatient(
+        auditPatientData({
+          orders: [orderAt('09:00', {}, { recordedStatus: 'completed', endedAt: at('12:00') })],
+          spo2Percent: [spo2At(99, '12:30')],
+        }),
+        PERIOD,
+        BTS,
+      );
+      expect(audit.time.aboveOnOxygenMinutes).toBe(0);
+      expect(audit.time.aboveOnAirMinutes).toBe(90);
+    });
+
     it('does not ask comfort oxygen for a target nor judge its SpO2', () => {
       // BTS 2017: oxygen in terminal palliative care is for comfort, not titrated to a saturation.
       const audit = auditPatient(
