@@ -165,6 +165,9 @@ export async function buildExportIndex(exportDir: string, options: ExportIndexOp
   try {
     db.pragma('journal_mode = OFF');
     db.pragma('synchronous = OFF');
+    // SQLite's own default page cache (2 MB; better-sqlite3 builds with 16 MB): the index is read in
+    // patient-sized pieces, and a cache that fills as the export grows would make memory grow with it.
+    db.pragma('cache_size = -2000');
     db.exec(INDEX_SCHEMA);
     const problems = new NdjsonProblems();
     const counts = { patients: 0, encounters: 0, observations: 0, conditions: 0, oxygenOrders: 0, otherOrders: 0, undatedObservations: 0, otherResources: 0 };

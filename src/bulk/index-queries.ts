@@ -62,7 +62,7 @@ export interface IndexQueries {
 
 export function prepareIndexQueries(db: Database.Database): IndexQueries {
   const ORDER_COLUMNS = 'type, id, patient, encounter, authored_ms, body';
-  const orderPage = db.prepare<[number, number, string, number, string, string, number], OrderRow>(
+  const orderPage = db.prepare<[number, number, string, string, string, number], OrderRow>(
     `SELECT ${ORDER_COLUMNS} FROM oxygen_order
      WHERE authored_ms > ? OR (authored_ms = ? AND (type > ? OR (type = ? AND id > ?)))
      ORDER BY authored_ms, type, id LIMIT ?`,
