@@ -12,7 +12,8 @@ import { MEASURES, TIME_PARTS, formatCountOf, formatHours, formatTimeShare } fro
 
 export interface AuditReportInput {
   readonly figures: AuditFigures;
-  readonly policy: { readonly id: string; readonly version: string; readonly siteName: string };
+  /** The policy's id, version and the start of its file hash. */
+  readonly policy: { readonly label: string; readonly siteName: string };
   /** When the report was made (ISO 8601), shown as given. */
   readonly madeAt: string;
 }
@@ -54,7 +55,7 @@ export function renderAuditReport(input: AuditReportInput): string {
 <h1>${title}</h1>
 <dl class="facts" id="audit-about">
 <dt>Period</dt><dd>${figures.period.from} to ${figures.period.to}</dd>
-<dt>Policy</dt><dd>${policy.id} v${policy.version}</dd>
+<dt>Policy</dt><dd>${policy.label}</dd>
 <dt>Made</dt><dd>${input.madeAt}</dd>
 </dl>
 <h2>Prescription and target range</h2>

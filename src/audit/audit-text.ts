@@ -100,7 +100,7 @@ function wardJson(w: WardFigures): Record<string, unknown> {
 /** The figures as JSON: counts with denominators and whole percentages, minutes to 0.1. */
 export function auditJson(
   figures: AuditFigures,
-  about: { readonly policy: { readonly id: string; readonly version: string } },
+  about: { readonly policy: { readonly id: string; readonly version: string; readonly contentSha256: string } },
 ): Record<string, unknown> {
   return {
     period: figures.period,

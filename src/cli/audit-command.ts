@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { statSync, writeFileSync } from 'node:fs';
 import { z } from 'zod';
 import { renderAuditReport } from '../audit/audit-report.js';
@@ -8,7 +9,7 @@ import { describeNdjsonProblem, NdjsonProblems, readNdjsonFile } from '../bulk/n
 import { auditWards, exportPeriod } from '../core/audit/audit-wards.js';
 import type { AuditPeriod } from '../core/audit/types.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
-import { loadPolicy } from './load-policy.js';
+import { DEFAULT_POLICY_PATH, loadPolicy } from './load-policy.js';
 import { checkOptions, parseOptions } from './parse-options.js';
 
 export const AUDIT_USAGE = `Usage: oxygen-order-checker audit EXPORT_DIR [--policy FILE] [--from DATE --to DATE]
@@ -118,20 +119,24 @@ export async function runAuditCommand(args: readonly string[], io: CliIo): Promi
     return 1;
   }
   const figures = auditWards(patients, period, policy);
-  const about = { policy: { id: policy.id, version: policy.version } };
+  // The file's hash, as on cards and log lines, so an edited file that kept its id and version is told apart.
+  const contentSha256 = createHash('sha256').update(io.readFile(o.policy ?? DEFAULT_POLICY_PATH)).digest('hex');
+  const about = { policy: { id: policy.id, version: policy.version, contentSha256 } };
+  const policyLabel = `${policy.id} v${policy.version} ${contentSha256.slice(0, 12)}`;
   const jsonText = `${JSON.stringify(auditJson(figures, about), null, 2)}\n`;
+  const notes = [
+    ...(skipped > 0 ? [`${skipped} resources not used (no patient named, or a type the audit does not read)`] : []),
+    ...(problems.count > 0
+      ? [`${problems.count} lines were not FHIR resources and were skipped (first: ${problems.first.slice(0, 3).map(describeNdjsonProblem).join('; ')})`]
+      : []),
+  ].map((n) => `Note: ${n}\n`);
   if (o.json === '-') {
     io.stdout(jsonText);
+    io.stderr(notes.join(''));
   } else {
-    io.stdout(`Oxygen audit ${period.from} to ${period.to} (policy ${policy.id} v${policy.version})\n\n`);
+    io.stdout(`Oxygen audit ${period.from} to ${period.to} (policy ${policyLabel})\n\n`);
     io.stdout(renderAuditTable(figures));
-    const notes = [
-      ...(skipped > 0 ? [`${skipped} resources not used (no patient named, or a type the audit does not read)`] : []),
-      ...(problems.count > 0
-        ? [`${problems.count} lines were not FHIR resources and were skipped (first: ${problems.first.slice(0, 3).map(describeNdjsonProblem).join('; ')})`]
-        : []),
-    ];
-    io.stdout(notes.map((n) => `Note: ${n}\n`).join(''));
+    io.stdout(notes.join(''));
     io.stdout('Advisory only: an audit of recorded data; local policy and clinical judgement govern.\n');
     if (o.json !== undefined) {
       write(o.json, jsonText, 'JSON');
@@ -140,7 +145,7 @@ export async function runAuditCommand(args: readonly string[], io: CliIo): Promi
   if (o.html !== undefined) {
     const page = renderAuditReport({
       figures,
-      policy: { id: policy.id, version: policy.version, siteName: policy.site.name },
+      policy: { label: policyLabel, siteName: policy.site.name },
       madeAt: io.now().toISOString(),
     });
     write(o.html, page, 'HTML');

@@ -11,7 +11,7 @@ describe('renderAuditReport', () => {
     const ward = wardFigures(HOSTILE, []);
     const page = renderAuditReport({
       figures: { period: { from: '2026-11-01T00:00:00.000Z', to: '2026-11-30T23:59:59.999Z' }, wards: [ward], overall: wardFigures('All wards', []) },
-      policy: { id: 'based-on-bts-2017', version: '1.0.0', siteName: 'Larkspur Bay General Hospital' },
+      policy: { label: 'based-on-bts-2017 v1.0.0 0123456789ab', siteName: 'Larkspur Bay General Hospital' },
       madeAt: '2026-12-01T09:00:00.000Z',
     });
     expect(page).not.toContain('<script');

@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -68,7 +69,9 @@ describe('audit', () => {
     expect(run.code).toBe(0);
     const json = JSON.parse(run.stdout);
     expect(json.period).toEqual({ from: '2026-11-30T07:00:00.000Z', to: '2026-11-30T16:00:00.000Z' });
-    expect(json.policy).toEqual({ id: 'based-on-bts-2017', version: '1.0.0' });
+    const bundled = readFileSync(new URL('../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8');
+    const sha = createHash('sha256').update(bundled).digest('hex');
+    expect(json.policy).toEqual({ id: 'based-on-bts-2017', version: '1.0.0', contentSha256: sha });
     expect(json.wards).toEqual([
       {
         ward: 'Ward 3 (Acute Medicine)',
