@@ -146,6 +146,33 @@ describe('audit', () => {
     expect(JSON.parse(readFileSync(jsonPath, 'utf8')).overall.onOxygen).toBe(4);
   });
 
+  it('gives overall figures equal to the sum of the ward figures on a generated export', async () => {
+    // An invariant, not a value: each patient belongs to one ward (their newest Encounter's location),
+    // so every count, denominator and minute overall is the sum over the wards. The export is the
+    // invented Larkspur Bay demo (demo-export, fixed seed), a few hundred orders.
+    const dir = join(tempDir(), 'export');
+    expect((await runCommandLine(['demo-export', '--orders', '300', '--seed', '7', dir])).code).toBe(0);
+    const run = await runCommandLine(['audit', dir, '--json', '-']);
+    expect(run.code).toBe(0);
+    const json = JSON.parse(run.stdout);
+    expect(json.wards.length).toBeGreaterThan(1);
+    expect(json.overall.onOxygen).toBeGreaterThan(0);
+    const paths = [
+      ['patients'], ['underMinimumAge'], ['onOxygen'],
+      ...['withOrder', 'withTargetRange', 'withRangeForRisk', 'atRiskOnStandardRange'].flatMap((k) => [[k, 'count'], [k, 'of']]),
+      ...['inRangeMinutes', 'aboveOnOxygenMinutes', 'aboveOnAirMinutes', 'belowMinutes', 'observedMinutes', 'unobservedMinutes', 'notJudgedMinutes'].map((k) => ['time', k]),
+    ];
+    const at = (o: any, path: readonly string[]): number => path.reduce((v, k) => v[k], o);
+    for (const path of paths) {
+      const sum = json.wards.reduce((total: number, w: unknown) => total + at(w, path), 0);
+      // Minutes are rounded to 0.1 per ward in the JSON, so their sum may differ by 0.05 a ward.
+      expect(Math.abs(at(json.overall, path) - sum), path.join('.')).toBeLessThanOrEqual(0.05 * json.wards.length + 1e-9);
+    }
+    // Every patient of the export is counted once: the default period spans the whole export.
+    const patients = readFileSync(join(dir, 'Patient.ndjson'), 'utf8').split('\n').filter((l) => l.trim() !== '').length;
+    expect(json.overall.patients).toBe(patients);
+  }, 120_000);
+
   describe('edge cases', () => {
     it('refuses a missing directory with exit 1 and a directory with no NDJSON with exit 1', async () => {
       expect((await runCommandLine(['audit', join(tempDir(), 'nowhere')])).code).toBe(1);
