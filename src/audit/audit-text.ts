@@ -100,11 +100,16 @@ function wardJson(w: WardFigures): Record<string, unknown> {
 /** The figures as JSON: counts with denominators and whole percentages, minutes to 0.1. */
 export function auditJson(
   figures: AuditFigures,
-  about: { readonly policy: { readonly id: string; readonly version: string; readonly contentSha256: string } },
+  about: {
+    readonly policy: { readonly id: string; readonly version: string; readonly contentSha256: string };
+    /** What was read: files, resources not used, lines that were not resources. */
+    readonly source: { readonly files: number; readonly resourcesNotUsed: number; readonly malformedLines: number };
+  },
 ): Record<string, unknown> {
   return {
     period: figures.period,
     policy: about.policy,
+    source: about.source,
     wards: figures.wards.map(wardJson),
     overall: wardJson(figures.overall),
   };

@@ -121,7 +121,10 @@ export async function runAuditCommand(args: readonly string[], io: CliIo): Promi
   const figures = auditWards(patients, period, policy);
   // The file's hash, as on cards and log lines, so an edited file that kept its id and version is told apart.
   const contentSha256 = createHash('sha256').update(io.readFile(o.policy ?? DEFAULT_POLICY_PATH)).digest('hex');
-  const about = { policy: { id: policy.id, version: policy.version, contentSha256 } };
+  const about = {
+    policy: { id: policy.id, version: policy.version, contentSha256 },
+    source: { files: files.length, resourcesNotUsed: skipped, malformedLines: problems.count },
+  };
   const policyLabel = `${policy.id} v${policy.version} ${contentSha256.slice(0, 12)}`;
   const jsonText = `${JSON.stringify(auditJson(figures, about), null, 2)}\n`;
   const notes = [

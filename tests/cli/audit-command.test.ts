@@ -72,6 +72,7 @@ describe('audit', () => {
     const bundled = readFileSync(new URL('../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8');
     const sha = createHash('sha256').update(bundled).digest('hex');
     expect(json.policy).toEqual({ id: 'based-on-bts-2017', version: '1.0.0', contentSha256: sha });
+    expect(json.source).toEqual({ files: 6, resourcesNotUsed: 0, malformedLines: 0 });
     expect(json.wards).toEqual([
       {
         ward: 'Ward 3 (Acute Medicine)',
