@@ -91,7 +91,9 @@ function timeOnRange(
     const endMs = bounds[i + 1] ?? toMs;
     const minutes = (endMs - startMs) / MS_PER_MIN;
     const order = orderInForce(patient, startMs)?.order;
-    const target = order !== undefined && !expectsTarget(order) ? undefined : assessAt(patient, order, startMs, policy).titrationTarget;
+    // Comfort oxygen is not titrated to a saturation (BTS 2017), so its SpO2 is not judged.
+    const titrated = order === undefined || expectsTarget(order);
+    const target = titrated ? assessAt(patient, order, startMs, policy).titrationTarget : undefined;
     if (target === undefined) {
       total = addTime(total, { ...NO_TIME, notJudgedMinutes: minutes });
       continue;
