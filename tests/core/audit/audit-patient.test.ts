@@ -75,7 +75,7 @@ describe('auditPatient', () => {
 
     it('calls for the standard range once a gas shows a normal PCO2 with no previous hypercapnic failure', () => {
       // BTS 2017 Tables 2-4: at risk, PaCO2 normal, no previous NIV/IMV: re-target to 94-98 %.
-      // A normal PaCO2 of 5.0 kPa (reference range 4.7-6.0 kPa, from memory) at 08:30.
+      // PaCO2 5.0 kPa at 08:30, below the hypercapnia threshold of 6 kPa (BTS 2017; Thorax 72:588).
       const gas = { ...bloodGas({ ageMinutes: 0, ph: 7.41, paco2Kpa: 5.0, pao2Kpa: 8.5 }), at: at('08:30') };
       const audit = auditPatient(
         auditPatientData({ conditions: [COPD], bloodGases: [gas], orders: [orderAt('09:00')] }),
