@@ -15,16 +15,31 @@ interface LocalParts {
   readonly minute: string;
 }
 
+/**
+ * One formatter per time zone: building an Intl.DateTimeFormat costs far more than using one (it was
+ * a quarter of the time of replaying an export's orders), and a formatter holds no state between calls.
+ */
+const FORMATTERS = new Map<string, Intl.DateTimeFormat>();
+
+function formatterFor(timeZone: string): Intl.DateTimeFormat {
+  let formatter = FORMATTERS.get(timeZone);
+  if (formatter === undefined) {
+    formatter = new Intl.DateTimeFormat('en-GB', {
+      timeZone,
+      year: 'numeric',
+      month: 'short',
+      day: 'numeric',
+      hour: '2-digit',
+      minute: '2-digit',
+      hourCycle: 'h23',
+    });
+    FORMATTERS.set(timeZone, formatter);
+  }
+  return formatter;
+}
+
 function localParts(at: Date, timeZone: string): LocalParts {
-  const parts = new Intl.DateTimeFormat('en-GB', {
-    timeZone,
-    year: 'numeric',
-    month: 'short',
-    day: 'numeric',
-    hour: '2-digit',
-    minute: '2-digit',
-    hourCycle: 'h23',
-  }).formatToParts(at);
+  const parts = formatterFor(timeZone).formatToParts(at);
   const part = (type: Intl.DateTimeFormatPartTypes): string => parts.find((p) => p.type === type)?.value ?? '';
   return { year: part('year'), month: part('month'), day: part('day'), hour: part('hour'), minute: part('minute') };
 }

@@ -7,6 +7,8 @@ export interface CliIo {
   readonly stderr: (text: string) => void;
   readonly readFile: (path: string) => string;
   readonly now: () => Date;
+  /** Whether stderr is a terminal (a progress bar is drawn there only then); absent means no. */
+  readonly stderrIsTerminal?: boolean;
 }
 
 /** 0: ran (whatever it found); 1: input could not be read or evaluated; 2: usage or configuration error. */

@@ -7,5 +7,6 @@ const code = await runCli(process.argv.slice(2), {
   stderr: (text) => process.stderr.write(text),
   readFile: (path) => readFileSync(path, 'utf8'),
   now: () => new Date(),
+  stderrIsTerminal: process.stderr.isTTY,
 });
 process.exitCode = code;

@@ -1,30 +1,39 @@
+import { AUDIT_USAGE, runAuditCommand } from './audit-command.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
+import { DEMO_EXPORT_USAGE, runDemoExportCommand } from './demo-export-command.js';
 import { EVALUATE_USAGE, runEvaluateCommand } from './evaluate-command.js';
 import { FIO2_USAGE, runFio2Command } from './fio2-command.js';
 import { GAS_USAGE, runGasCommand } from './gas-command.js';
 import { POLICY_TEST_USAGE, runPolicyTestCommand } from './policy-test-command.js';
 import { RETIME_USAGE, runRetimeCommand } from './retime-command.js';
+import { runSimulateCommand, SIMULATE_USAGE } from './simulate-command.js';
 import { runValidatePolicyCommand, VALIDATE_POLICY_USAGE } from './validate-policy-command.js';
 
 const COMMANDS: Readonly<
   Record<string, { run: (args: readonly string[], io: CliIo) => ExitCode | Promise<ExitCode>; usage: string }>
 > = {
+  audit: { run: runAuditCommand, usage: AUDIT_USAGE },
+  'demo-export': { run: runDemoExportCommand, usage: DEMO_EXPORT_USAGE },
   evaluate: { run: runEvaluateCommand, usage: EVALUATE_USAGE },
   fio2: { run: runFio2Command, usage: FIO2_USAGE },
   gas: { run: runGasCommand, usage: GAS_USAGE },
   'policy-test': { run: runPolicyTestCommand, usage: POLICY_TEST_USAGE },
   retime: { run: runRetimeCommand, usage: RETIME_USAGE },
+  simulate: { run: runSimulateCommand, usage: SIMULATE_USAGE },
   'validate-policy': { run: runValidatePolicyCommand, usage: VALIDATE_POLICY_USAGE },
 };
 
 export const USAGE = `oxygen-order-checker: oxygen order checks from the command line (advisory only; local policy governs)
 
 Commands:
+  audit EXPORT_DIR          oxygen audit figures per ward from a FHIR Bulk Data export
+  demo-export --orders N DIR  an invented Bulk Data export of the demo hospital
   evaluate REQUEST.json     the CDS Hooks response the service would give
   fio2 --device KIND ...    the FiO2 a device delivers
   gas --fio2 F --pao2 ...   alveolar gas, A-a gradient, P/F and gas interpretation
   policy-test FILE DIR      run the hospital's own cases against a policy
   retime REQUEST.json       move a saved request's times so it is signed now
+  simulate --policy NEW EXPORT_DIR  replay an export's oxygen orders under two policies
   validate-policy FILE      check a policy file
 
 Run oxygen-order-checker COMMAND --help for a command's options.`;

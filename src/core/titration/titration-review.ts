@@ -37,6 +37,17 @@ export function readingsInWindow(items: readonly Measured[], now: Date, minutes:
     .sort((a, b) => Date.parse(a.at) - Date.parse(b.at));
 }
 
+/** Switches between oxygen and air seen in recorded FiO2 (above 0.21: oxygen) and flow (above 0: oxygen). */
+export function observedOxygenSteps(readings: {
+  readonly fio2Fraction: readonly Measured[];
+  readonly o2FlowLPerMin: readonly Measured[];
+}): OxygenStep[] {
+  return [
+    ...readings.fio2Fraction.map((m) => ({ at: m.at, onOxygen: m.value > AIR_FIO2_AT_MOST })),
+    ...readings.o2FlowLPerMin.map((m) => ({ at: m.at, onOxygen: m.value > 0 })),
+  ];
+}
+
 /**
  * Switches between oxygen and air: a recorded FiO2 above 0.21 or a recorded flow above 0 means oxygen,
  * FiO2 0.21 or flow 0 means air; an order written inside the window starts oxygen at its time.
@@ -50,8 +61,7 @@ export function oxygenSteps(facts: Facts, order: OxygenOrder, now: Date, minutes
   // An active order with no time, or written before the window, was running when the window opened.
   const startedInWindow = !Number.isNaN(authored) && authored > startMs;
   const steps: OxygenStep[] = [
-    ...facts.trendReadings.fio2Fraction.map((m) => ({ at: m.at, onOxygen: m.value > AIR_FIO2_AT_MOST })),
-    ...facts.trendReadings.o2FlowLPerMin.map((m) => ({ at: m.at, onOxygen: m.value > 0 })),
+    ...observedOxygenSteps(facts.trendReadings),
     ...(startedInWindow && order.authoredOn !== undefined ? [{ at: order.authoredOn, onOxygen: true }] : []),
   ];
   return { steps, onOxygenAtStart: !startedInWindow };

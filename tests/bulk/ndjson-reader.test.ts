@@ -1,0 +1,102 @@
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { describeNdjsonProblem, NdjsonProblems, readNdjsonFile, readNdjsonLine } from '../../src/bulk/ndjson-reader.js';
+
+/**
+ * The NDJSON reader of FHIR Bulk Data exports (the Bulk Data Access IG: one resource a line, LF
+ * separated). Malformed lines are counted with file and line number and never echoed.
+ */
+
+const dir = mkdtempSync(join(tmpdir(), 'ndjson-reader-test-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+function write(name: string, text: string): string {
+  const path = join(dir, name);
+  writeFileSync(path, text);
+  return path;
+}
+
+async function readAll(path: string, chunkBytes?: number): Promise<{ ids: string[]; lines: number[]; problems: NdjsonProblems }> {
+  const problems = new NdjsonProblems();
+  const ids: string[] = [];
+  const lines: number[] = [];
+  for await (const record of readNdjsonFile(path, problems, chunkBytes === undefined ? {} : { chunkBytes })) {
+    ids.push(record.resource.id ?? '');
+    lines.push(record.line);
+  }
+  return { ids, lines, problems };
+}
+
+const patient = (id: string, extra = ''): string => JSON.stringify({ resourceType: 'Patient', id, name: [{ text: `Invented ${extra}` }] });
+
+describe('readNdjsonFile', () => {
+  it('reads one resource a line, in file order, with 1-based line numbers', async () => {
+    const path = write('Patient.ndjson', `${patient('a')}\n${patient('b')}\n${patient('c')}\n`);
+    const read = await readAll(path);
+    expect(read.ids).toStrictEqual(['a', 'b', 'c']);
+    expect(read.lines).toStrictEqual([1, 2, 3]);
+    expect(read.problems.count).toBe(0);
+  });
+
+  it('counts malformed lines by file and line number and goes on reading, never holding their text', async () => {
+    const secret = 'Quarrie-Maude-secret-text';
+    const path = write('Observation.ndjson', [patient('a'), `{"resourceType": "Patient", "id": "${secret}"`, '[1,2,3]', `not json ${secret}`, patient('b')].join('\n'));
+    const read = await readAll(path);
+    expect(read.ids).toStrictEqual(['a', 'b']);
+    expect(read.problems.count).toBe(3);
+    expect(read.problems.first).toStrictEqual([
+      { file: 'Observation.ndjson', line: 2, reason: 'not-json' },
+      { file: 'Observation.ndjson', line: 3, reason: 'not-a-resource' },
+      { file: 'Observation.ndjson', line: 4, reason: 'not-json' },
+    ]);
+    const shown = read.problems.first.map(describeNdjsonProblem).join('\n');
+    expect(shown).toContain('Observation.ndjson line 2');
+    expect(shown).not.toContain(secret);
+  });
+
+  it('skips blank lines (a trailing newline, blank lines between records) without counting them', async () => {
+    const path = write('blank.ndjson', `\n${patient('a')}\n\n   \n${patient('b')}\n\n`);
+    const read = await readAll(path);
+    expect(read.ids).toStrictEqual(['a', 'b']);
+    expect(read.lines).toStrictEqual([2, 5]);
+    expect(read.problems.count).toBe(0);
+  });
+
+  it('takes CRLF line ends as LF, and a byte order mark before the first record', async () => {
+    const path = write('crlf.ndjson', `\uFEFF${patient('a')}\r\n${patient('b')}\r\n`);
+    const read = await readAll(path);
+    expect(read.ids).toStrictEqual(['a', 'b']);
+    expect(read.problems.count).toBe(0);
+  });
+
+  it('joins a line split across read chunks, including inside a multi-byte character', async () => {
+    // 7-byte chunks split every line several times, and "é" (2 bytes in UTF-8) falls across some.
+    const records = Array.from({ length: 20 }, (_, i) => patient(`p${i}`, 'éé'.repeat(i % 5)));
+    const path = write('split.ndjson', records.join('\n'));
+    const read = await readAll(path, 7);
+    expect(read.ids).toStrictEqual(records.map((_, i) => `p${i}`));
+    expect(read.problems.count).toBe(0);
+  });
+
+  it('keeps a bounded list of problems but counts them all', async () => {
+    const lines = Array.from({ length: NdjsonProblems.KEPT + 25 }, () => '{broken');
+    const read = await readAll(write('many.ndjson', lines.join('\n')));
+    expect(read.problems.count).toBe(NdjsonProblems.KEPT + 25);
+    expect(read.problems.first).toHaveLength(NdjsonProblems.KEPT);
+  });
+});
+
+describe('readNdjsonLine', () => {
+  it.each([
+    ['', undefined],
+    ['  \t', undefined],
+    ['{"id":"x"}', 'not-a-resource'],
+    ['"Patient"', 'not-a-resource'],
+    ['{"resourceType":"patient"}', 'not-a-resource'],
+    ['{"resourceType":', 'not-json'],
+  ])('reads %j as %j', (text, expected) => {
+    expect(readNdjsonLine(text)).toBe(expected);
+  });
+});
