@@ -326,7 +326,8 @@ function describe(d: RawDiff, oldPolicy: Policy, newPolicy: Policy): PolicyChang
     const moved = (n: number): string => (n === 0 ? 'unchanged' : `${Math.abs(n)} ${Math.abs(n) === 1 ? 'point' : 'points'} ${n > 0 ? 'higher' : 'lower'}`);
     text += low === high ? ` (both bounds ${moved(low)})` : ` (lower bound ${moved(low)}, upper bound ${moved(high)})`;
   }
-  if (isRecord(d.old) && isRecord(d.new) && typeof d.old['mmHg'] === 'number' && d.old['mmHg'] === d.new['mmHg']) {
+  // Within 0.05 mmHg (under 0.01 kPa): a value converted by hand and rounded is the same threshold.
+  if (isRecord(d.old) && isRecord(d.new) && typeof d.old['mmHg'] === 'number' && Math.abs(d.old['mmHg'] - Number(d.new['mmHg'])) < 0.05) {
     text += ' (the same pressure, written differently)';
   }
   return { heading: wording.heading, path, kind, old: d.old, new: d.new, text };
