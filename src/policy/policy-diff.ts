@@ -120,7 +120,7 @@ function walk(a: unknown, b: unknown, path: readonly Step[], out: RawDiff[]): vo
     return;
   }
   if (Array.isArray(a) && Array.isArray(b)) {
-    if ([...a, ...b].every(isPlain)) {
+    if (a.every(isPlain) && b.every(isPlain)) {
       for (const v of a) if (!b.some((w) => sameValue(v, w))) out.push({ path, old: v, new: undefined, item: true });
       for (const v of b) if (!a.some((w) => sameValue(v, w))) out.push({ path, old: undefined, new: v, item: true });
       return;
@@ -197,7 +197,7 @@ function show(value: unknown, unit: string): string {
   }
   if (Array.isArray(value)) return JSON.stringify(value);
   if (typeof value === 'string') return `'${value}'`;
-  return `${String(value)}${unit}`;
+  return typeof value === 'number' || typeof value === 'boolean' ? `${value}${unit}` : JSON.stringify(value);
 }
 
 interface Wording {
@@ -270,7 +270,7 @@ function severityChange(ruleId: string, d: RawDiff): PolicyChange {
   const byDefault = defaultIndicatorOf(ruleId);
   const before = isIndicator(d.old) ? d.old : byDefault;
   const after = isIndicator(d.new) ? d.new : byDefault;
-  const kind = d.old === undefined ? 'added' : d.new === undefined ? 'removed' : 'changed';
+  const kind: PolicyChange['kind'] = d.old === undefined ? 'added' : d.new === undefined ? 'removed' : 'changed';
   const base = { heading: 'Rules and indicators' as const, path: pathText(d.path), kind, old: d.old, new: d.new };
   if (before === undefined || after === undefined || before === after) {
     return { ...base, text: `indicator of ${ruleId}: ${show(d.old, '')} → ${show(d.new, '')} (its default is ${byDefault ?? 'unknown'}; the cards do not change)` };
@@ -288,7 +288,7 @@ function referenceLabel(policy: Policy, key: string): string {
 function describe(d: RawDiff, oldPolicy: Policy, newPolicy: Policy): PolicyChange {
   const path = pathText(d.path);
   const key = keyPath(d.path);
-  const kind = d.old === undefined ? 'added' : d.new === undefined ? 'removed' : 'changed';
+  const kind: PolicyChange['kind'] = d.old === undefined ? 'added' : d.new === undefined ? 'removed' : 'changed';
   const first = typeof d.path[0] === 'string' ? d.path[0] : '';
   if (first === 'severity' && typeof d.path[1] === 'string') return severityChange(d.path[1], d);
   if (key === 'basisKey') {

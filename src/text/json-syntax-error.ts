@@ -13,11 +13,14 @@ export interface JsonSyntaxError {
   readonly column: number;
 }
 
-class Fault {
+/** Thrown inside the scanner only, to unwind from the fault; never leaves this file. */
+class Fault extends Error {
   constructor(
     readonly offset: number,
     readonly expected: string,
-  ) {}
+  ) {
+    super(expected);
+  }
 }
 
 const NUMBER = /-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][+-]?\d+)?/y;

@@ -1,7 +1,6 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import type { Policy } from '../../src/core/policy.js';
 import { parsePolicyText } from '../../src/policy/parse-policy.js';
 import { diffPolicies, policyDiffText, type PolicyChange, type PolicyVersion } from '../../src/policy/policy-diff.js';
 
@@ -217,7 +216,7 @@ describe('diffPolicies', () => {
 
   describe('sections without wording of their own (added to the format later)', () => {
     const base = version(BTS);
-    const withSections = (extra: Record<string, unknown>): PolicyVersion => ({ policy: { ...base.policy, ...extra } as Policy });
+    const withSections = (extra: Record<string, unknown>): PolicyVersion => ({ policy: { ...base.policy, ...extra } });
 
     it('shows a change inside a list of named entries by the entry name and path', () => {
       const icu = (low: number, high: number): Record<string, unknown> => ({
