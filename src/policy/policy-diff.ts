@@ -316,7 +316,9 @@ function describe(d: RawDiff, oldPolicy: Policy, newPolicy: Policy): PolicyChang
   }
   if (d.item) {
     const verb = key === 'disabledRules' ? (d.new === undefined ? 'switched back on' : 'switched off') : `${wording.label} ${kind}`;
-    const what = key === 'disabledRules' ? String(d.new ?? d.old) : show(d.new ?? d.old, '');
+    const ruleId = String(d.new ?? d.old);
+    const byDefault = defaultIndicatorOf(ruleId);
+    const what = key === 'disabledRules' ? `${ruleId}${byDefault === undefined ? '' : ` (its cards: ${byDefault} by default)`}` : show(d.new ?? d.old, '');
     return { heading: wording.heading, path, kind, old: d.old, new: d.new, text: `${verb}: ${what}` };
   }
   let text = `${wording.label}: ${value(d.old)} → ${value(d.new)}`;
@@ -389,8 +391,16 @@ export function diffPolicies(before: PolicyVersion, after: PolicyVersion): Polic
     return rest;
   };
   walk(strip(before.policy), strip(after.policy), [], raw);
+  // A rule switched off or lowered says whether the committee's acknowledgement for it is in the new file.
+  const acknowledged = (c: PolicyChange): PolicyChange => {
+    const match = /^(?:indicator of (\S+) lowered|switched off: (\S+))/.exec(c.text);
+    const ruleId = match?.[1] ?? match?.[2];
+    const change = match?.[1] === undefined ? 'disabled' : 'lowered';
+    const found = ruleId !== undefined && (after.acknowledgements ?? []).some((a) => a.ruleId === ruleId && a.change === change);
+    return found ? { ...c, text: `${c.text}; acknowledged` } : c;
+  };
   const changes = [
-    ...raw.map((d) => describe(d, before.policy, after.policy)),
+    ...raw.map((d) => acknowledged(describe(d, before.policy, after.policy))),
     ...acknowledgementChanges(before.acknowledgements ?? [], after.acknowledgements ?? []),
   ];
   // Stable: within a heading, changes keep the order of the policy file.
@@ -412,8 +422,8 @@ export function policyDiffText(diff: PolicyDiff): string {
     '',
     diff.changes.length === 0
       ? 'No clinical change.'
-      : `${diff.changes.length} ${diff.changes.length === 1 ? 'change' : 'changes'} to the advice the policy gives. ` +
-          'policy test and simulate show their effect on patients; advisory only, the oxygen committee decides.',
+      : `${diff.changes.length} ${diff.changes.length === 1 ? 'change' : 'changes'} besides the identity. ` +
+          'policy test and simulate show what they do to the advice; the oxygen committee decides.',
   );
   return `${lines.join('\n')}\n`;
 }

@@ -25,8 +25,8 @@ describe('oxygen-order-checker policy diff', () => {
     expect(run.stdout).toContain(`Policy changes from based-on-bts-2017 v1.0.0 #${sha(BTS).slice(0, 12)} to based-on-tsanz-2015 v1.0.0 #${sha(TSANZ).slice(0, 12)}`);
     // BTS 2017 Tables 1-3: 94-98 %; TSANZ 2015: 92-96 %.
     expect(run.stdout).toContain('Target ranges\n  standard target (patients not at risk of hypercapnia): 94–98 % → 92–96 % (both bounds 2 points lower)\n');
-    expect(run.stdout).toContain('Rules and indicators\n  switched off: news2-scale-2\n');
-    expect(run.stdout).toContain('3 changes to the advice the policy gives.');
+    expect(run.stdout).toContain('Rules and indicators\n  switched off: news2-scale-2 (its cards: info by default)\n');
+    expect(run.stdout).toContain('3 changes besides the identity.');
   });
 
   it('gives the same changes as JSON with --json', async () => {

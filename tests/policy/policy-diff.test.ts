@@ -52,7 +52,7 @@ describe('diffPolicies', () => {
       "guideline the policy is based on: 'bts-2017' (BTS 2017) → 'tsanz-2015' (TSANZ 2015)",
     );
     // The TSANZ preset switches off the UK early-warning rule (its comment says why).
-    expect(only(diff.changes.filter((c) => c.heading === 'Rules and indicators')).text).toBe('switched off: news2-scale-2');
+    expect(only(diff.changes.filter((c) => c.heading === 'Rules and indicators')).text).toBe('switched off: news2-scale-2 (its cards: info by default)');
     expect(diff.identity.map((c) => c.path)).toStrictEqual(['id', 'title', '(content hash)']);
   });
 
@@ -153,7 +153,7 @@ describe('diffPolicies', () => {
         'a rule switched off',
         ['disabledRules: []', 'disabledRules: [news2-scale-2]'],
         'Rules and indicators',
-        'switched off: news2-scale-2',
+        'switched off: news2-scale-2 (its cards: info by default)', // its default, info, from its rule (src/core/rules)
       ],
       [
         'an indicator raised',
@@ -188,7 +188,7 @@ describe('diffPolicies', () => {
       const diff = diffPolicies(version(BTS), version(lowered));
       // acute-hypercapnic-acidosis is critical by default (docs/clinical-basis.md).
       expect(diff.changes.map((c) => c.text)).toStrictEqual([
-        'indicator of acute-hypercapnic-acidosis lowered: critical → info',
+        'indicator of acute-hypercapnic-acidosis lowered: critical → info; acknowledged',
         'added: acute-hypercapnic-acidosis lowered: Outreach reviews every gas within 15 minutes; by Oxygen committee',
       ]);
       const back = diffPolicies(version(lowered), version(BTS));
@@ -200,7 +200,19 @@ describe('diffPolicies', () => {
 
     it('says a rule switched back on, the reverse of switched off', () => {
       const off = edited(['disabledRules: []', 'disabledRules: [news2-scale-2]']);
-      expect(only(diffPolicies(version(off), version(BTS)).changes).text).toBe('switched back on: news2-scale-2');
+      expect(only(diffPolicies(version(off), version(BTS)).changes).text).toBe('switched back on: news2-scale-2 (its cards: info by default)');
+    });
+
+    it('says when a rule that is critical by default is switched off with the acknowledgement the file records', () => {
+      const off = edited(
+        ['disabledRules: []', 'disabledRules: [escalated-support-failing]'],
+        ['acknowledgements: []', 'acknowledgements: [{ ruleId: escalated-support-failing, change: disabled, reason: "Outreach reviews every patient on high flow hourly" }]'],
+      );
+      // escalated-support-failing is critical by default (docs/policy.md, Validation).
+      expect(diffPolicies(version(BTS), version(off)).changes.map((c) => c.text)).toStrictEqual([
+        'switched off: escalated-support-failing (its cards: critical by default); acknowledged',
+        'added: escalated-support-failing disabled: Outreach reviews every patient on high flow hourly',
+      ]);
     });
 
     it('calls a pressure rewritten in another unit at the same value the same pressure', () => {
