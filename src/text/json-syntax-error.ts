@@ -23,7 +23,6 @@ class Fault extends Error {
   }
 }
 
-const NUMBER = /-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][+-]?\d+)?/y;
 const ESCAPES = new Set(['"', '\\', '/', 'b', 'f', 'n', 'r', 't']);
 
 function scan(text: string): void {
@@ -57,6 +56,25 @@ function scan(text: string): void {
       i += 1;
     }
     fail('a closing double quote');
+  };
+  const digits = (what: string): void => {
+    const start = i;
+    while (text.charAt(i) >= '0' && text.charAt(i) <= '9') i += 1;
+    if (i === start) fail(what);
+  };
+  const number = (): void => {
+    if (text.charAt(i) === '-') i += 1;
+    if (text.charAt(i) === '0') i += 1;
+    else digits('a digit');
+    if (text.charAt(i) === '.') {
+      i += 1;
+      digits('a digit after the decimal point');
+    }
+    if (text.charAt(i) === 'e' || text.charAt(i) === 'E') {
+      i += 1;
+      if (text.charAt(i) === '+' || text.charAt(i) === '-') i += 1;
+      digits('a digit in the exponent');
+    }
   };
   const value = (): void => {
     space();
@@ -113,15 +131,17 @@ function scan(text: string): void {
       string();
       return;
     }
-    for (const literal of ['true', 'false', 'null']) {
-      if (text.startsWith(literal, i)) {
-        i += literal.length;
-        return;
+    const literal = ['true', 'false', 'null'].find((word) => word.charAt(0) === c);
+    if (literal !== undefined) {
+      // At the first character that departs from the word, as a reader would look for the slip.
+      for (const expected of literal) {
+        if (text.charAt(i) !== expected) fail(`'${literal}'`);
+        i += 1;
       }
+      return;
     }
-    NUMBER.lastIndex = i;
-    if (NUMBER.test(text)) {
-      i = NUMBER.lastIndex;
+    if (c === '-' || (c >= '0' && c <= '9')) {
+      number();
       return;
     }
     fail(i >= text.length ? 'a value, but the file ends' : 'a value (an object, list, string in double quotes, number, true, false or null)');
