@@ -10,8 +10,10 @@ Prints a JSON Schema of the policy file format, generated from the schema the se
 for editors that complete keys and flag mistakes as you type. It covers the format (types, required and
 unknown keys, bounds, accepted values); the checks that protect patients need policy validate.
   --out    write the schema to FILE instead of stdout
-  --draft  JSON Schema draft: 2020-12 (default), or 07 for editors and tools that read only draft-07
-With the YAML language server (used by several editors), the first line of a policy file can name it:
+  --draft  JSON Schema draft: 2020-12 (default), or 07 for tools that read only draft-07, such as
+           the YAML language server behind several editors' YAML support
+With the YAML language server, the first line of a policy file names the schema:
+  oxygen-order-checker policy schema --draft 07 --out policy.schema.json
   # yaml-language-server: $schema=./policy.schema.json`;
 
 const PolicySchemaOptionsSchema = z.strictObject({
