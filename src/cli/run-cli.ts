@@ -52,13 +52,19 @@ const groupOf = (name: string): string | undefined => (name.includes(' ') ? name
 
 const GROUPS: readonly string[] = [...new Set(Object.keys(COMMANDS).flatMap((name) => groupOf(name) ?? []))];
 
-/** The first line of a usage text's description, when a command gives no summary of its own. */
-function summaryOf(command: Command): string {
-  if (command.summary !== undefined) return command.summary;
-  const description = command.usage.split('\n\n')[1]?.split('\n')[0] ?? '';
-  const sentence = description.split(/[.:;](\s|$)/)[0] ?? description;
-  return sentence.charAt(0).toLowerCase() + sentence.slice(1);
+/**
+ * A command list line from a usage text, for a command registered without a summary: the first
+ * sentence of the description (the paragraph after the `Usage:` line), lower-cased, cut at a word
+ * near 70 characters.
+ */
+export function summaryFromUsage(usage: string): string {
+  const description = (usage.split('\n\n')[1] ?? '').replace(/\s+/g, ' ').trim();
+  const sentence = description.split(/[.:;](?:\s|$)/)[0] ?? '';
+  const cut = sentence.length <= 70 ? sentence : `${sentence.slice(0, sentence.lastIndexOf(' ', 70))}…`;
+  return cut.charAt(0).toLowerCase() + cut.slice(1);
 }
+
+const summaryOf = (command: Command): string => command.summary ?? summaryFromUsage(command.usage);
 
 const listed = (filter: (name: string) => boolean): [string, Command][] =>
   Object.entries(COMMANDS).filter(([name, command]) => command.renamedTo === undefined && filter(name));

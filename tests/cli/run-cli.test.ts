@@ -1,5 +1,6 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { summaryFromUsage } from '../../src/cli/run-cli.js';
 import { runCommandLine } from './cli-harness.js';
 
 /** Every command as typed, with its options as its usage line gives them. */
@@ -103,5 +104,15 @@ describe('oxygen-order-checker, the command line as a whole', () => {
       expect(run.code).toBe(2);
       expect(run.stderr).toContain("unknown option '--colour'; the options are --json, --help");
     });
+  });
+
+  it('lists a command registered without a summary by the first sentence of its usage text', () => {
+    expect(summaryFromUsage('Usage: oxygen-order-checker policy show FILE [--unit NAME]\n\nShows the effective targets of a policy file as a table. Exit 0.')).toBe(
+      'shows the effective targets of a policy file as a table',
+    );
+    const long = summaryFromUsage(
+      'Usage: oxygen-order-checker x\n\nReplays a FHIR Bulk Data export under two policies and reports every order whose advice\nchanged, with examples: more.',
+    );
+    expect(long).toBe('replays a FHIR Bulk Data export under two policies and reports every…');
   });
 });
