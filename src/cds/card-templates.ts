@@ -1,5 +1,6 @@
 import { parse as parseYaml } from 'yaml';
 import { z } from 'zod';
+import { yamlProblemText } from '../text/yaml-message.js';
 import { describeIssues, type Issue } from './schemas.js';
 
 /**
@@ -67,9 +68,12 @@ export type CardTemplateParse =
 export function parseCardTemplate(yamlText: string): CardTemplateParse {
   let raw: unknown;
   try {
-    raw = parseYaml(yamlText);
+    raw = parseYaml(yamlText, { logLevel: 'error' });
   } catch (error) {
-    const message = error instanceof Error ? (error.message.split('\n')[0] ?? 'unreadable YAML') : 'unreadable YAML';
+    const at = (error as { linePos?: readonly { line: number; col: number }[] } | null)?.linePos?.[0];
+    const message =
+      (error instanceof Error ? yamlProblemText(error.message) : 'unreadable YAML') +
+      (at === undefined ? '' : ` at line ${at.line}, column ${at.col}`);
     return { kind: 'invalid', problems: [{ path: '(file)', message }] };
   }
   const parsed = CardTemplateSchema.safeParse(raw);

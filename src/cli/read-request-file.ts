@@ -1,4 +1,5 @@
 import { describeBreach, describeBreachPath, findJsonLimitBreach } from '../http/json-limits.js';
+import { findJsonSyntaxError } from '../text/json-syntax-error.js';
 import type { CliIo } from './cli-io.js';
 
 export type RequestFileRead =
@@ -7,16 +8,28 @@ export type RequestFileRead =
 
 /**
  * Reads a saved hook request with the same structural limits the service applies to a request body,
- * so the offline commands never recurse into a file the service would have refused.
+ * so the offline commands never recurse into a file the service would have refused. A syntax error
+ * is reported by line and column, never with JSON.parse's message, which quotes the file's text.
  */
 export function readRequestFile(file: string, io: CliIo): RequestFileRead {
+  let text: string;
+  try {
+    text = io.readFile(file);
+  } catch (error) {
+    const code = (error as { code?: unknown } | null)?.code;
+    return { kind: 'unreadable', message: `cannot read ${file}${typeof code === 'string' ? ` (${code})` : ''}` };
+  }
   let body: unknown;
   try {
-    body = JSON.parse(io.readFile(file));
-  } catch (error) {
+    body = JSON.parse(text);
+  } catch {
+    const fault = findJsonSyntaxError(text);
     return {
       kind: 'unreadable',
-      message: `cannot read ${file} as JSON${error instanceof SyntaxError ? `: ${error.message}` : ''}`,
+      message:
+        fault === undefined
+          ? `cannot read ${file} as JSON`
+          : `${file}:${fault.line}:${fault.column}: not valid JSON: expected ${fault.expected}`,
     };
   }
   const breach = findJsonLimitBreach(body);

@@ -1,4 +1,5 @@
 import { isMap, isPair, isScalar, isSeq, LineCounter, parseDocument, type Document, type Node } from 'yaml';
+import { yamlProblemText } from '../text/yaml-message.js';
 
 /**
  * Where a problem sits in the policy text. Pure: works on the text it is given.
@@ -32,15 +33,16 @@ function keyMatches(key: unknown, wanted: PropertyKey): boolean {
 
 export function locateDocument(text: string): LocatedDocument {
   const lineCounter = new LineCounter();
-  const doc: Document = parseDocument(text, { lineCounter, prettyErrors: true });
+  // logLevel 'error': yaml would otherwise print its warnings, with the offending line, to stderr itself.
+  const doc: Document = parseDocument(text, { lineCounter, prettyErrors: true, logLevel: 'error' });
   const at = (offset: number | undefined): TextPosition => {
     if (offset === undefined) return START;
     const { line, col } = lineCounter.linePos(offset);
     return { line, column: col };
   };
   const syntaxErrors = doc.errors.map((error) => ({
-    // The first line of yaml's message; the position is given separately.
-    message: (error.message.split('\n')[0] ?? 'unreadable YAML').replace(/ at line \d+, column \d+:?$/, ''),
+    // The description only: the position is given separately, and the file's text is never echoed.
+    message: yamlProblemText(error.message),
     position: error.linePos === undefined ? START : { line: error.linePos[0].line, column: error.linePos[0].col },
   }));
 
@@ -72,7 +74,7 @@ export function locateDocument(text: string): LocatedDocument {
     return { value: doc.toJS(), syntaxErrors, locate };
   } catch (error) {
     // e.g. an alias expanded past yaml's limit: a problem with the file, not a crash.
-    const message = error instanceof Error ? (error.message.split('\n')[0] ?? 'unreadable YAML') : 'unreadable YAML';
+    const message = error instanceof Error ? yamlProblemText(error.message) : 'unreadable YAML';
     return { value: undefined, syntaxErrors: [{ message, position: START }], locate };
   }
 }

@@ -94,7 +94,17 @@ function valueAt(raw: unknown, path: readonly PropertyKey[]): unknown {
   return value;
 }
 
-const shown = (value: unknown): string => (typeof value === 'string' ? `'${value}'` : JSON.stringify(value) ?? String(value));
+/**
+ * The value at fault, as the message names it. A list or mapping is named by its kind, never printed,
+ * and a whole file that is not a mapping is described, not quoted: a file passed by mistake (a list
+ * of passwords, a token) must not be echoed to a terminal or a log.
+ */
+function shown(value: unknown, path: readonly PropertyKey[] = ['(key)']): string {
+  if (Array.isArray(value)) return 'a list';
+  if (value !== null && typeof value === 'object') return 'a mapping';
+  if (path.length === 0) return typeof value === 'string' ? 'text' : `a ${typeof value}`;
+  return typeof value === 'string' ? `'${value}'` : String(value);
+}
 
 /** Schema issues in the committee's terms: one problem per unknown key, each with a fix. */
 function schemaChecks(raw: unknown, issues: readonly z.core.$ZodIssue[]): PolicyCheck[] {
@@ -118,7 +128,7 @@ function schemaChecks(raw: unknown, issues: readonly z.core.$ZodIssue[]): Policy
         return [
           value === undefined
             ? { level: 'error', path, message: 'is missing', fix: `add it; ${DOCS}, with the bundled value` }
-            : { level: 'error', path, message: `is ${shown(value)}; expected ${issue.expected}`, fix: DOCS },
+            : { level: 'error', path, message: `is ${shown(value, path)}; expected ${issue.expected}`, fix: DOCS },
         ];
       case 'too_small':
         return [

@@ -41,7 +41,7 @@ export const ReferenceSchema = z.strictObject({
 /**
  * The record of a committee's decision to switch off, or lower the indicator of, a rule whose cards are
  * critical by default. Without one, such a change is refused (check-policy.ts); with one, the service
- * starts and logs it, and `validate-policy` shows it.
+ * starts and logs it, and `policy validate` shows it.
  */
 export const AcknowledgementSchema = z.strictObject({
   ruleId: z.string().min(1),

@@ -127,9 +127,9 @@ function rows(stdout: string): { result: string; file: string }[] {
   });
 }
 
-describe('oxygen-order-checker policy-test: the example cases', () => {
+describe('oxygen-order-checker policy test: the example cases', () => {
   it('passes every example case against the preset based on BTS 2017, for which they were written', async () => {
-    const run = await runCommandLine(['policy-test', BTS, EXAMPLE_CASES]);
+    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES]);
     expect(run.stderr).toBe('');
     expect(run.code).toBe(0);
     const table = rows(run.stdout);
@@ -142,7 +142,7 @@ describe('oxygen-order-checker policy-test: the example cases', () => {
   it('fails, against the preset based on TSANZ 2015, exactly the cases that depend on the standard range', async () => {
     const dir = tempDir();
     const junit = join(dir, 'report.xml');
-    const run = await runCommandLine(['policy-test', TSANZ, EXAMPLE_CASES, '--junit', junit]);
+    const run = await runCommandLine(['policy', 'test', TSANZ, EXAMPLE_CASES, '--junit', junit]);
     expect(run.code).toBe(1);
     const failed = rows(run.stdout).filter((row) => row.result === 'FAIL').map((row) => row.file).sort();
     // The standard range: BTS 2017 (Tables 1-3) 94-98 %, TSANZ 2015 (Respirology 20:1182) 92-96 %.
@@ -166,7 +166,7 @@ describe('oxygen-order-checker policy-test: the example cases', () => {
   });
 });
 
-describe('oxygen-order-checker policy-test: pass and fail', () => {
+describe('oxygen-order-checker policy test: pass and fail', () => {
   it('fails a case whose expectation was changed, saying what the cards advise instead', async () => {
     const dir = tempDir();
     const original = readFileSync(join(EXAMPLE_CASES, 'standard-range-advised-when-missing.yaml'), 'utf8');
@@ -176,7 +176,7 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
       .replace('advisedTarget: { lowPercent: 94, highPercent: 98 }', 'advisedTarget: { lowPercent: 92, highPercent: 96 }');
     expect(changed).not.toBe(original);
     writeFileSync(join(dir, 'changed.yaml'), changed);
-    const run = await runCommandLine(['policy-test', BTS, dir]);
+    const run = await runCommandLine(['policy', 'test', BTS, dir]);
     expect(run.code).toBe(1);
     // BTS 2017, Tables 1-3: 94-98 % for a patient not at risk of hypercapnia.
     expect(run.stdout).toContain('what differed: the cards advise a target of 94–98 %; the case expects 92–96 %');
@@ -191,7 +191,7 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
     writeCase(dir, 'b-forbidden.yaml', kypho(['  absent: [target-above-hypercapnic-range]'], 'Forbidden'));
     // PaCO2 6.7 kPa is hypercapnia (>= 6 kPa, BTS 2017; check-values §3g): the card is critical, not info.
     writeCase(dir, 'c-indicator.yaml', kypho(['  cards:', '    - rule: target-above-hypercapnic-range', '      indicator: info'], 'Indicator'));
-    const run = await runCommandLine(['policy-test', BTS, dir]);
+    const run = await runCommandLine(['policy', 'test', BTS, dir]);
     expect(run.code).toBe(1);
     expect(rows(run.stdout)).toEqual([
       { result: 'FAIL', file: 'a-missing.yaml' },
@@ -214,7 +214,7 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
     const expectTarget = ['    - rule: target-above-hypercapnic-range', '      indicator: critical'];
     writeCase(dir, 'open.yaml', kypho(['  cards:', ...expectTarget], 'Open'));
     writeCase(dir, 'only.yaml', kypho(['  only: true', '  cards:', ...expectTarget], 'Only'));
-    const run = await runCommandLine(['policy-test', BTS, dir]);
+    const run = await runCommandLine(['policy', 'test', BTS, dir]);
     expect(run.code).toBe(1);
     expect(rows(run.stdout)).toEqual([
       { result: 'FAIL', file: 'only.yaml' },
@@ -235,7 +235,7 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
     mkdirSync(join(dir, '.drafts'));
     writeCase(dir, '.drafts/unfinished.yaml', ['name: [']);
     symlinkSync(join(dir, 'good.yaml'), join(dir, 'linked.yaml'));
-    const run = await runCommandLine(['policy-test', BTS, dir]);
+    const run = await runCommandLine(['policy', 'test', BTS, dir]);
     expect(run.code).toBe(1);
     expect(rows(run.stdout)).toEqual([
       { result: 'FAIL', file: 'bad.yaml' },
@@ -263,7 +263,7 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
       'expect:',
       '  absent: [target-range-missing]',
     ]);
-    const run = await runCommandLine(['policy-test', BTS, dir]);
+    const run = await runCommandLine(['policy', 'test', BTS, dir]);
     expect(keys.length).toBeGreaterThan(0);
     expect(run.code).toBe(1);
     expect(rows(run.stdout)).toEqual([{ result: 'FAIL', file: 'no-prefetch.yaml' }]);
@@ -271,14 +271,14 @@ describe('oxygen-order-checker policy-test: pass and fail', () => {
   });
 });
 
-describe('oxygen-order-checker policy-test: the policy is validated first', () => {
+describe('oxygen-order-checker policy test: the policy is validated first', () => {
   it('refuses an invalid policy with exit 2, naming each problem with its line, and runs no case', async () => {
     const dir = tempDir();
     const junit = join(dir, 'report.xml');
     const policy = join(dir, 'policy.yaml');
     // An at-risk range above the standard range is refused (validation that protects patients).
     writeFileSync(policy, readFileSync(BTS, 'utf8').replace('hypercapnicRisk: { lowPercent: 88, highPercent: 92 }', 'hypercapnicRisk: { lowPercent: 96, highPercent: 99 }'));
-    const run = await runCommandLine(['policy-test', policy, EXAMPLE_CASES, '--junit', junit]);
+    const run = await runCommandLine(['policy', 'test', policy, EXAMPLE_CASES, '--junit', junit]);
     expect(run.code).toBe(2);
     expect(run.stdout).toBe('');
     expect(run.stderr).toContain('the policy is not valid, so no case was run');
@@ -287,7 +287,7 @@ describe('oxygen-order-checker policy-test: the policy is validated first', () =
   });
 });
 
-describe('oxygen-order-checker policy-test: JUnit XML for CI', () => {
+describe('oxygen-order-checker policy test: JUnit XML for CI', () => {
   it('writes one testcase per case, failures with what differed, escaped and well-formed', async () => {
     const dir = tempDir();
     const cases = join(dir, 'cases');
@@ -297,7 +297,7 @@ describe('oxygen-order-checker policy-test: JUnit XML for CI', () => {
     writeCase(cases, 'fail.yaml', kypho(['  absent: [target-above-hypercapnic-range]'], 'Fails & <tells> why'));
     writeCase(cases, 'invalid.yaml', ['name: Invalid', 'expect: {}']);
     const junit = join(dir, 'report.xml');
-    const run = await runCommandLine(['policy-test', BTS, cases, '--junit', junit]);
+    const run = await runCommandLine(['policy', 'test', BTS, cases, '--junit', junit]);
     expect(run.code).toBe(1);
     const report = parseXml(readFileSync(junit, 'utf8'));
     expect(report.name).toBe('testsuites');
@@ -329,7 +329,7 @@ describe('oxygen-order-checker policy-test: JUnit XML for CI', () => {
 
   it('writes a passing run too, with no failure elements', async () => {
     const junit = join(tempDir(), 'report.xml');
-    const run = await runCommandLine(['policy-test', BTS, EXAMPLE_CASES, '--junit', junit]);
+    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junit', junit]);
     expect(run.code).toBe(0);
     const report = parseXml(readFileSync(junit, 'utf8'));
     expect(all(report, 'testcase').length).toBe(rows(run.stdout).length);
@@ -376,9 +376,9 @@ describe('oxygen-order-checker policy-test: JUnit XML for CI', () => {
   });
 });
 
-describe('oxygen-order-checker policy-test: usage', () => {
+describe('oxygen-order-checker policy test: usage', () => {
   it('answers --help with exit 0', async () => {
-    const run = await runCommandLine(['policy-test', '--help']);
+    const run = await runCommandLine(['policy', 'test', '--help']);
     expect(run.code).toBe(0);
     expect(run.stdout).toContain('Usage: oxygen-order-checker policy test FILE CASES_DIR [--junit FILE]');
   });
@@ -386,10 +386,10 @@ describe('oxygen-order-checker policy-test: usage', () => {
   it('exits 2 for a usage error: arguments missing, an unknown option, a folder that is missing or empty', async () => {
     const empty = tempDir();
     const runs = await Promise.all([
-      runCommandLine(['policy-test', BTS]),
-      runCommandLine(['policy-test', BTS, EXAMPLE_CASES, '--junitt', 'x.xml']),
-      runCommandLine(['policy-test', BTS, join(empty, 'no-such-folder')]),
-      runCommandLine(['policy-test', BTS, empty]),
+      runCommandLine(['policy', 'test', BTS]),
+      runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junitt', 'x.xml']),
+      runCommandLine(['policy', 'test', BTS, join(empty, 'no-such-folder')]),
+      runCommandLine(['policy', 'test', BTS, empty]),
     ]);
     expect(runs.map((run) => run.code)).toEqual([2, 2, 2, 2]);
     expect(runs[0]?.stderr).toContain('give a policy FILE and a CASES_DIR');
@@ -398,7 +398,7 @@ describe('oxygen-order-checker policy-test: usage', () => {
   });
 
   it('exits 2 when the JUnit file cannot be written', async () => {
-    const run = await runCommandLine(['policy-test', BTS, EXAMPLE_CASES, '--junit', join(tempDir(), 'no-such-folder', 'r.xml')]);
+    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junit', join(tempDir(), 'no-such-folder', 'r.xml')]);
     expect(run.code).toBe(2);
     expect(run.stderr).toMatch(/cannot write .*r\.xml \(ENOENT\)/);
   });

@@ -1,4 +1,5 @@
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -7,25 +8,46 @@ import { runCommandLine } from './cli-harness.js';
 
 const bundled = (name: string): string => new URL(`../../policies/${name}`, import.meta.url).pathname;
 
-describe('oxygen-order-checker validate-policy', () => {
+describe('oxygen-order-checker policy validate', () => {
   it('accepts the TSANZ 2015 preset and shows its ranges', async () => {
-    const run = await runCommandLine(['validate-policy', bundled('based-on-tsanz-2015.yaml')]);
+    const run = await runCommandLine(['policy', 'validate', bundled('based-on-tsanz-2015.yaml')]);
     expect(run.code).toBe(0);
     // TSANZ 2015: 92-96 % for most patients, 88-92 % for CO2 retainers.
     expect(run.stdout).toContain('standard target 92-96 %');
     expect(run.stdout).toContain('at risk of hypercapnia 88-92 %');
+    // The hash cards carry: the first 12 hex characters of the sha256 of the file's bytes.
+    const hash = createHash('sha256').update(readFileSync(bundled('based-on-tsanz-2015.yaml'))).digest('hex');
+    expect(run.stdout).toContain(`content hash ${hash.slice(0, 12)}`);
   });
 
-  it('lists every problem of an invalid file with its path and exits 1', async () => {
+  it('still answers to its old name, validate-policy, with a note naming the new one', async () => {
+    const file = bundled('based-on-tsanz-2015.yaml');
+    const [old, current] = [await runCommandLine(['validate-policy', file]), await runCommandLine(['policy', 'validate', file])];
+    expect(old.code).toBe(0);
+    expect(old.stdout).toBe(current.stdout);
+    expect(old.stderr).toBe("oxygen-order-checker: note: 'validate-policy' is now 'policy validate'; the old name still works for now.\n");
+    expect(current.stderr).toBe('');
+  });
+
+  it('exits 1 when the file cannot be read, and 2 without exactly one FILE', async () => {
+    const missing = await runCommandLine(['policy', 'validate', join(tmpdir(), 'no-such-policy-file.yaml')]);
+    expect(missing.code).toBe(1);
+    expect(missing.stderr).toContain('cannot read');
+    expect((await runCommandLine(['policy', 'validate'])).code).toBe(2);
+    const two = await runCommandLine(['policy', 'validate', 'a.yaml', 'b.yaml']);
+    expect(two.code).toBe(2);
+    expect(two.stderr).toContain('oxygen-order-checker policy validate: give exactly one policy FILE');
+  });
+
+  it('lists every problem of an invalid file with its path and exits 2', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'typo.yaml');
-    const text = (await import('node:fs'))
-      .readFileSync(bundled('based-on-bts-2017.yaml'), 'utf8')
+    const text = readFileSync(bundled('based-on-bts-2017.yaml'), 'utf8')
       .replace('lowPercent: 94', 'lowPercent: 99')
       .replace('criticalSpo2BelowPercent', 'criticalSpo2Below');
     writeFileSync(file, text);
-    const run = await runCommandLine(['validate-policy', file]);
-    expect(run.code).toBe(1);
+    const run = await runCommandLine(['policy', 'validate', file]);
+    expect(run.code).toBe(2);
     expect(run.stdout).toContain(': not valid: 3 errors, 0 warnings');
     expect(run.stdout).toContain('targets.standard: the range 99–98 % is not ordered: lowPercent must be below highPercent');
     expect(run.stdout).toContain('thresholds.criticalSpo2BelowPercent: is missing');
@@ -33,7 +55,7 @@ describe('oxygen-order-checker validate-policy', () => {
     expect(run.stdout).toContain("fix: did you mean 'criticalSpo2BelowPercent'?");
   });
 
-  it('refuses the dangerous file a new user tried, every problem with its line and column, and exits 1', async () => {
+  it('refuses the dangerous file a new user tried, every problem with its line and column, and exits 2', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-policy-'));
     const file = join(dir, 'larkspur-bay.yaml');
     writeFileSync(
@@ -52,8 +74,8 @@ describe('oxygen-order-checker validate-policy', () => {
         'disabledRules',
       ),
     );
-    const run = await runCommandLine(['validate-policy', file]);
-    expect(run.code).toBe(1);
+    const run = await runCommandLine(['policy', 'validate', file]);
+    expect(run.code).toBe(2);
     // Lines counted by hand from the six lines written; the critical threshold is on line 30 (header
     // 7-11, site 12-14, hypercapnicRisk 15-19, freshness 20-24, thresholds from 25, its 6th line).
     expect(run.stdout).toContain(`${file}: not valid: 4 errors, 0 warnings`);
@@ -84,7 +106,7 @@ describe('oxygen-order-checker validate-policy', () => {
         'disabledRules',
       ),
     );
-    const run = await runCommandLine(['validate-policy', file]);
+    const run = await runCommandLine(['policy', 'validate', file]);
     expect(run.code).toBe(0);
     expect(run.stdout).toContain(`${file}: valid: larkspur-bay-test v1.0.0 (Larkspur Bay General Hospital test policy), 1 warning`);
     expect(run.stdout).toContain(
