@@ -2,6 +2,7 @@ import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { EVALUATE_USAGE, runEvaluateCommand } from './evaluate-command.js';
 import { FIO2_USAGE, runFio2Command } from './fio2-command.js';
 import { GAS_USAGE, runGasCommand } from './gas-command.js';
+import { POLICY_SHOW_USAGE, runPolicyShowCommand } from './policy-show-command.js';
 import { RETIME_USAGE, runRetimeCommand } from './retime-command.js';
 import { runValidatePolicyCommand, VALIDATE_POLICY_USAGE } from './validate-policy-command.js';
 
@@ -11,6 +12,7 @@ const COMMANDS: Readonly<
   evaluate: { run: runEvaluateCommand, usage: EVALUATE_USAGE },
   fio2: { run: runFio2Command, usage: FIO2_USAGE },
   gas: { run: runGasCommand, usage: GAS_USAGE },
+  'policy-show': { run: runPolicyShowCommand, usage: POLICY_SHOW_USAGE },
   retime: { run: runRetimeCommand, usage: RETIME_USAGE },
   'validate-policy': { run: runValidatePolicyCommand, usage: VALIDATE_POLICY_USAGE },
 };
@@ -21,6 +23,7 @@ Commands:
   evaluate REQUEST.json     the CDS Hooks response the service would give
   fio2 --device KIND ...    the FiO2 a device delivers
   gas --fio2 F --pao2 ...   alveolar gas, A-a gradient, P/F and gas interpretation
+  policy-show FILE          the effective targets and thresholds of a policy [--unit NAME]
   retime REQUEST.json       move a saved request's times so it is signed now
   validate-policy FILE      check a policy file
 
