@@ -134,7 +134,10 @@ function checkRangeSet(
         `${onUnit}the at-risk range ${show(atRisk)} reaches above the lower bound of the standard range ${show(standard)}: ` +
         'a patient at risk of hypercapnic respiratory failure would be given more oxygen than the range for patients not at risk allows',
       fix:
-        `keep ${label(atRisk)}.highPercent at or below ${label(standard)}.lowPercent (${standard.low}); ` +
+        (unitName !== undefined && !owned(atRisk)
+          ? `give the unit its own at-risk range ending at or below ${standard.low} % (${label(standard).replace(/standard$/, 'hypercapnicRisk')}), ` +
+            `or raise ${label(standard)}.lowPercent to ${atRisk.high}; `
+          : `keep ${label(atRisk)}.highPercent at or below ${label(standard)}.lowPercent (${standard.low}); `) +
         'BTS 2017 uses 88–92 % against 94–98 %, TSANZ 2015 88–92 % against 92–96 %',
     });
   }

@@ -79,7 +79,9 @@ describe('unit overrides in the policy file', () => {
       "on unit 'ICU', the at-risk range 88–92 % reaches above the lower bound of the standard range 90–94 %: " +
         'a patient at risk of hypercapnic respiratory failure would be given more oxygen than the range for patients not at risk allows',
     );
-    expect(icu.fix).toContain('keep targets.hypercapnicRisk.highPercent at or below units.0.targets.standard.lowPercent (90)');
+    expect(icu.fix).toContain(
+      'give the unit its own at-risk range ending at or below 90 % (units.0.targets.hypercapnicRisk), or raise units.0.targets.standard.lowPercent to 92',
+    );
     expect(at(list, 'units.1.targets.standard')).toMatchObject({
       line: 9,
       message: "on unit 'HDU', the range 96–94 % is not ordered: lowPercent must be below highPercent",
