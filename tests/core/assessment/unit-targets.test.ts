@@ -194,4 +194,28 @@ describe('unit targets in the engine', () => {
     expect(ruleIds(larkspur, ICU_NAME)).toContain('oxygen-without-hypoxaemia');
     expect(ruleIds(larkspur, WARD_NAME)).not.toContain('oxygen-without-hypoxaemia');
   });
+
+  it('holds for every unit range a policy may set: the unit picks only the ranges it sets, the special conditions never move', () => {
+    // Unit ranges from the ICU trials (check-values §1b) and the guideline presets; each pairs a standard
+    // range with an at-risk range the validation accepts (at-risk top at or below the standard floor).
+    const choices: readonly { standard?: SaturationRange; hypercapnicRisk?: SaturationRange }[] = [
+      { standard: range(92, 96) }, // PILOT 2022 intermediate arm; TSANZ 2015
+      { standard: range(90, 94), hypercapnicRisk: range(88, 90) }, // ICU-ROX 2020 / ICONIC 2023; BTS 2017 Table 4 floor
+      { standard: range(94, 98) }, // BTS 2017, Tables 1-3
+      { hypercapnicRisk: range(86, 90) }, // invented local choice: at-risk only
+    ];
+    for (const choice of choices) {
+      const policy = withPolicy(BTS, { units: [unit('ICU', { names: [ICU_NAME] }, choice)] });
+      for (const where of [ICU_NAME, WARD_NAME, undefined]) {
+        const onUnit = where === ICU_NAME;
+        const standard = onUnit && choice.standard !== undefined ? choice.standard : range(94, 98); // BTS 2017, Tables 1-3
+        const atRisk = onUnit && choice.hypercapnicRisk !== undefined ? choice.hypercapnicRisk : range(88, 92); // BTS 2017, Table 4
+        expect(targetOf(patientOn(where), policy)).toMatchObject({ basis: 'standard', range: standard });
+        expect(targetOf(patientOn(where, ['chest-wall-deformity']), policy)).toMatchObject({ basis: 'hypercapnic-risk', range: atRisk });
+        expect(targetOf(patientOn(where, ['paraquat-poisoning', 'copd']), policy)).toMatchObject({ range: range(85, 88) }); // BTS 2017, Table 3
+        expect(targetOf(patientOn(where, ['carbon-monoxide-poisoning', 'copd']), policy).kind).toBe('no-spo2-target'); // BTS 2017, Table 1
+        expect(targetOf(patientOn(where, ['cluster-headache']), policy).kind).toBe('no-spo2-target'); // BTS 2017 (V2)
+      }
+    }
+  });
 });
