@@ -7,6 +7,7 @@ import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createLogger, type Logger } from './log/logger.js';
+import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
 import { setUpReviewAccess } from './security/setup-review-access.js';
@@ -149,6 +150,11 @@ async function startWithStore(
   } else {
     const trust = { mode: 'production', publicUrl: auth.publicUrl, trustedClients: auth.trustedClients };
     log.info({ ...started, ...trust }, `oxygen-order-checker listening; ${PRODUCTION_MODE_NOTICE}`);
+  }
+  // A policy loaded before its effectiveFrom date is used, not refused: the committee may load it early.
+  const early = notYetInEffectWarning(files.policy, new Date());
+  if (early !== undefined) {
+    log.warn({ policyId: files.policy.id, effectiveFrom: files.policy.effectiveFrom }, early);
   }
   if (demoSeed !== undefined) {
     logDemoSeed(log, demoSeed);

@@ -125,6 +125,10 @@ export function inputsSection(facts: Facts, assessment: Assessment, policy: Poli
   if (facts.encounterUnit !== undefined) {
     lines.push(`Ward: ${facts.encounterUnit}`);
   }
+  if (assessment.unit.kind === 'matched') {
+    // Which unit override set the ranges, so a reader can trace a 92-96 % target to the policy's units list.
+    lines.push(`Unit targets: ${assessment.unit.unit.name} (local policy, units list; matched by ${assessment.unit.matchedBy})`);
+  }
   if (facts.missingData.length > 0) {
     lines.push(`Not available: ${facts.missingData.join(', ')}`);
   }

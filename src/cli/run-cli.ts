@@ -8,6 +8,7 @@ import { FIO2_USAGE, runFio2Command } from './fio2-command.js';
 import { GAS_USAGE, runGasCommand } from './gas-command.js';
 import { POLICY_DIFF_USAGE, runPolicyDiffCommand } from './policy-diff-command.js';
 import { POLICY_SCHEMA_USAGE, runPolicySchemaCommand } from './policy-schema-command.js';
+import { POLICY_SHOW_USAGE, runPolicyShowCommand } from './policy-show-command.js';
 import { POLICY_VALIDATE_USAGE, runPolicyValidateCommand } from './policy-validate-command.js';
 import { POLICY_TEST_USAGE, runPolicyTestCommand } from './policy-test-command.js';
 import { RETIME_USAGE, runRetimeCommand } from './retime-command.js';
@@ -47,6 +48,7 @@ const COMMANDS: Readonly<Record<string, Command>> = {
   gas: { run: runGasCommand, usage: GAS_USAGE, summary: 'alveolar gas, A-a gradient, P/F and the interpretation of one blood gas' },
   retime: { run: runRetimeCommand, usage: RETIME_USAGE, summary: "move a saved request's times so that it is signed now" },
   'policy validate': { run: runPolicyValidateCommand, usage: POLICY_VALIDATE_USAGE, summary: 'check a policy file as the service does at start-up' },
+  'policy show': { run: runPolicyShowCommand, usage: POLICY_SHOW_USAGE, summary: 'the effective targets and thresholds as a table, for the whole policy or one unit' },
   'policy diff': { run: runPolicyDiffCommand, usage: POLICY_DIFF_USAGE, summary: 'what changed between two policy files, in clinical terms' },
   'policy schema': { run: runPolicySchemaCommand, usage: POLICY_SCHEMA_USAGE, summary: 'a JSON Schema of the policy format, for editors' },
   'policy test': { run: runPolicyTestCommand, usage: POLICY_TEST_USAGE, summary: "run the hospital's own cases against a policy" },

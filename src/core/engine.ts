@@ -1,5 +1,6 @@
 import { buildAssessment } from './assessment/build-assessment.js';
 import type { Assessment } from './assessment/types.js';
+import { policyForEncounter } from './assessment/unit-targets.js';
 import type { Policy } from './policy.js';
 import { RULES } from './rules/index.js';
 import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
@@ -86,15 +87,20 @@ function runRules(
  * applies `policy.disabledRules` and `policy.severity` to every rule alike and never looks at which
  * rule it is running; below `population.minimumAgeYears` it runs only rules whose `appliesTo` is
  * `all-ages`. Findings are ordered critical → warning → info, registry order within each.
+ *
+ * The unit override for the encounter's location (policy `units`) is resolved here, once: the
+ * assessment and every rule read the effective policy, so no rule can see one unit's ranges while
+ * the target selection sees another's.
  */
 export function evaluateOrder(
   facts: Facts,
-  policy: Policy,
+  basePolicy: Policy,
   options: { readonly hook: HookName; readonly now: Date },
 ): Evaluation {
+  const { policy, unit } = policyForEncounter(basePolicy, facts);
   const subjects: readonly (OxygenOrder | undefined)[] = facts.orders.filter((o) => o.isSubject);
   const assessments = (subjects.length === 0 ? [undefined] : subjects).map((order) =>
-    buildAssessment(facts, policy, { now: options.now, order }),
+    buildAssessment(facts, policy, { now: options.now, order, unit }),
   );
   const seen = new Set<string>();
   const findings: Finding[] = [];

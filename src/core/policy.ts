@@ -20,10 +20,42 @@ export interface PublishedReference {
   readonly url?: string;
 }
 
+/**
+ * Targets a unit sets for itself (policy `units`), e.g. an ICU on 92–96 %. A unit may set only the
+ * standard and the at-risk range: the oxygen-toxicity range (BTS 2017 Table 3), the special conditions
+ * and every threshold, the critical SpO2 among them, hold on every unit.
+ */
+export interface UnitTargets {
+  /** Short name shown on cards: "ICU" gives "ICU target (local policy)". */
+  readonly name: string;
+  /** How the encounter's location is recognised; the first unit in the file that matches wins. */
+  readonly match: {
+    /** Location names exactly as the record writes them, compared without case or extra spaces. */
+    readonly names: readonly string[];
+    /** Name patterns in which `*` stands for any text, e.g. "*Intensive Care*", compared without case. */
+    readonly patterns: readonly string[];
+    /** Location references ("Location/lbgh-icu") or identifiers ("system|value", or the value alone). */
+    readonly locations: readonly string[];
+  };
+  /** Undefined: the policy's own range applies on this unit. */
+  readonly targets: {
+    readonly standard: SaturationRange | undefined;
+    readonly hypercapnicRisk: SaturationRange | undefined;
+  };
+  /** Key into `references` for the basis of the unit's ranges; cards cite it, else "local-policy". */
+  readonly basisKey: string | undefined;
+}
+
 export interface Policy {
   readonly id: string;
   readonly version: string;
   readonly title: string;
+  /**
+   * The date (ISO, at the site) from which the committee means the policy to apply; undefined for a
+   * file written before the key existed (in effect once loaded). Loading it earlier is allowed and
+   * logged as a warning at start (src/policy/effective-from.ts).
+   */
+  readonly effectiveFrom: string | undefined;
   /** Key into `references` for the guideline the policy is based on. */
   readonly basisKey: string;
   readonly site: {
@@ -42,6 +74,8 @@ export interface Policy {
     /** Paraquat poisoning or bleomycin lung injury (BTS 2017 Table 3: 85–88 %). */
     readonly oxygenToxicityRisk: SaturationRange;
   };
+  /** Unit overrides of `targets`, in file order (first match wins; src/core/assessment/unit-targets.ts). */
+  readonly units: readonly UnitTargets[];
   readonly hypercapnicRisk: {
     /** Conditions that by themselves put a patient at risk (BTS 2017 Table 4). */
     readonly conditions: readonly ConditionKind[];

@@ -197,6 +197,11 @@ export interface Facts {
   /** Prefetch keys or resources that could not be had, named for the "data missing" card. */
   readonly missingData: readonly string[];
   readonly encounterUnit: string | undefined;
+  /**
+   * The encounter's current location as references and identifiers ("Location/lbgh-icu",
+   * "system|value", "value"), for unit overrides that match on them. Absent when not read.
+   */
+  readonly encounterLocationIds?: readonly string[];
 }
 
 /** A calculation shown in a card: the formula, this patient's numbers in it, and the result. */

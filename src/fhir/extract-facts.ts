@@ -4,7 +4,7 @@ import { flattenResources, referenceMatches, referenceOf, type Entry } from './b
 import type { FhirResource, GatheredData } from './gathered-data.js';
 import { oxygenOrderType } from './is-oxygen-order.js';
 import { readConditions } from './read-conditions.js';
-import { readEncounterUnit } from './read-encounter.js';
+import { readEncounterLocationIds, readEncounterUnit } from './read-encounter.js';
 import { readObservations } from './read-observations.js';
 import { readOrder } from './read-order.js';
 import { readPatient } from './read-patient.js';
@@ -160,5 +160,6 @@ export function extractFacts(
     setAside: [...notes, ...patientRead.notes, ...observations.notes, ...conditions.notes],
     missingData: arrayOrEmpty(data.missing).filter((m): m is string => typeof m === 'string'),
     encounterUnit: readEncounterUnit(encounter),
+    encounterLocationIds: readEncounterLocationIds(encounter),
   };
 }

@@ -1,3 +1,4 @@
+import { normaliseUnitName } from '../core/assessment/unit-targets.js';
 import { CONDITION_KINDS, type ConditionKind, type Indicator } from '../core/types.js';
 import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS, SOMETIMES_CRITICAL_RULE_IDS } from './rule-ids.js';
 
@@ -71,33 +72,51 @@ function entries(raw: unknown, path: PolicyPath): readonly [string, unknown][] {
 }
 
 interface Range {
-  readonly key: string;
+  readonly key: (typeof RANGE_KEYS)[number];
   readonly low: number;
   readonly high: number;
+  /** Where the range is written: `targets.standard`, or `units.0.targets.standard` for a unit's own. */
+  readonly path: PolicyPath;
 }
 
 const RANGE_KEYS = ['standard', 'hypercapnicRisk', 'oxygenToxicityRisk'] as const;
+/** The ranges a unit may set for itself (schema.ts, UnitSchema). */
+const UNIT_RANGE_KEYS = ['standard', 'hypercapnicRisk'] as const;
 
-function readRanges(raw: unknown): Range[] {
+function readRanges(raw: unknown, prefix: PolicyPath, keys: readonly (typeof RANGE_KEYS)[number][]): Range[] {
   const ranges: Range[] = [];
-  for (const key of RANGE_KEYS) {
-    const low = num(raw, ['targets', key, 'lowPercent']);
-    const high = num(raw, ['targets', key, 'highPercent']);
-    if (low !== undefined && high !== undefined) ranges.push({ key, low, high });
+  for (const key of keys) {
+    const path = [...prefix, 'targets', key];
+    const low = num(raw, [...path, 'lowPercent']);
+    const high = num(raw, [...path, 'highPercent']);
+    if (low !== undefined && high !== undefined) ranges.push({ key, low, high, path });
   }
   return ranges;
 }
 
 const show = (r: Range): string => `${r.low}–${r.high} %`;
+const label = (r: Range): string => r.path.join('.');
 
-function checkRanges(raw: unknown, out: PolicyCheck[]): void {
-  const ranges = readRanges(raw);
-  for (const range of ranges) {
+/**
+ * The range checks over one set of ranges in force together: the policy's own, or one unit's
+ * effective ranges (its own where it sets them, the policy's otherwise). `owned` says which ranges a
+ * problem may be reported at: for a unit, only its own, so a fault in the policy's ranges is reported
+ * once, at the policy's key.
+ */
+function checkRangeSet(
+  ranges: readonly Range[],
+  owned: (r: Range) => boolean,
+  unitName: string | undefined,
+  raw: unknown,
+  out: PolicyCheck[],
+): void {
+  const onUnit = unitName === undefined ? '' : `on unit '${unitName}', `;
+  for (const range of ranges.filter(owned)) {
     if (range.low >= range.high) {
       out.push({
         level: 'error',
-        path: ['targets', range.key],
-        message: `the range ${show(range)} is not ordered: lowPercent must be below highPercent`,
+        path: range.path,
+        message: `${onUnit}the range ${show(range)} is not ordered: lowPercent must be below highPercent`,
         fix: 'swap the two bounds, or correct the one that is wrong',
       });
     }
@@ -107,22 +126,26 @@ function checkRanges(raw: unknown, out: PolicyCheck[]): void {
   // Precisely: the at-risk range's upper bound must not exceed the standard range's lower bound. The
   // two may meet at one value (TSANZ 2015: 88–92 % against 92–96 %) but never overlap, and the at-risk
   // range is never the higher one (BTS 2017: 88–92 % against 94–98 %).
-  if (standard !== undefined && atRisk !== undefined && atRisk.high > standard.low) {
+  if (standard !== undefined && atRisk !== undefined && atRisk.high > standard.low && (owned(atRisk) || owned(standard))) {
     out.push({
       level: 'error',
-      path: ['targets', 'hypercapnicRisk'],
+      path: owned(atRisk) ? atRisk.path : standard.path,
       message:
-        `the at-risk range ${show(atRisk)} reaches above the lower bound of the standard range ${show(standard)}: ` +
+        `${onUnit}the at-risk range ${show(atRisk)} reaches above the lower bound of the standard range ${show(standard)}: ` +
         'a patient at risk of hypercapnic respiratory failure would be given more oxygen than the range for patients not at risk allows',
       fix:
-        `keep targets.hypercapnicRisk.highPercent at or below targets.standard.lowPercent (${standard.low}); ` +
+        (unitName !== undefined && !owned(atRisk)
+          ? `give the unit its own at-risk range ending at or below ${standard.low} % (${label(standard).replace(/standard$/, 'hypercapnicRisk')}), ` +
+            `or raise ${label(standard)}.lowPercent to ${atRisk.high}; `
+          : `keep ${label(atRisk)}.highPercent at or below ${label(standard)}.lowPercent (${standard.low}); `) +
         'BTS 2017 uses 88–92 % against 94–98 %, TSANZ 2015 88–92 % against 92–96 %',
     });
   }
   const critical = num(raw, ['thresholds', 'criticalSpo2BelowPercent']);
-  if (critical !== undefined) {
-    // SpO2 below the threshold is critical, a range includes its lower bound: the threshold may equal
-    // a lower bound (BTS 2017: critical below 85 %, paraquat range from 85 %) but not exceed it.
+  if (critical === undefined) return;
+  // SpO2 below the threshold is critical, a range includes its lower bound: the threshold may equal
+  // a lower bound (BTS 2017: critical below 85 %, paraquat range from 85 %) but not exceed it.
+  if (unitName === undefined) {
     const inside = ranges.filter((r) => critical > r.low);
     if (inside.length > 0) {
       const lowest = Math.min(...ranges.map((r) => r.low));
@@ -130,12 +153,90 @@ function checkRanges(raw: unknown, out: PolicyCheck[]): void {
         level: 'error',
         path: ['thresholds', 'criticalSpo2BelowPercent'],
         message:
-          `SpO2 below ${critical} % is called critical, but ${inside.map((r) => `targets.${r.key} starts at ${r.low} %`).join(', ')}: ` +
+          `SpO2 below ${critical} % is called critical, but ${inside.map((r) => `${label(r)} starts at ${r.low} %`).join(', ')}: ` +
           'a patient on target would get a critical card calling for more oxygen',
         fix: `set it at or below the lowest lower bound, ${lowest} % (BTS 2017 Table 2: a reservoir mask below 85 %)`,
       });
     }
+    return;
   }
+  // The critical threshold holds on every unit (a unit cannot set its own): a unit range starting
+  // below it is the unit's problem, reported at its lower bound.
+  for (const range of ranges.filter((r) => owned(r) && critical > r.low)) {
+    out.push({
+      level: 'error',
+      path: [...range.path, 'lowPercent'],
+      message:
+        `${onUnit}${label(range)} starts at ${range.low} %, below the critical threshold ${critical} % ` +
+        '(thresholds.criticalSpo2BelowPercent, which holds on every unit): a patient on target would get a critical card calling for more oxygen',
+      fix:
+        `raise the lower bound to ${critical} % or more, or lower thresholds.criticalSpo2BelowPercent ` +
+        '(BTS 2017 Table 2: a reservoir mask below 85 %)',
+    });
+  }
+}
+
+function checkRanges(raw: unknown, out: PolicyCheck[]): void {
+  const policyRanges = readRanges(raw, [], RANGE_KEYS);
+  checkRangeSet(policyRanges, () => true, undefined, raw, out);
+  list(raw, ['units']).forEach((unit, index) => {
+    const own = readRanges(raw, ['units', index], UNIT_RANGE_KEYS);
+    const effective = RANGE_KEYS.flatMap((key) => own.find((r) => r.key === key) ?? policyRanges.filter((r) => r.key === key));
+    checkRangeSet(effective, (r) => own.includes(r), str(unit, ['name']) ?? `#${index + 1}`, raw, out);
+  });
+}
+
+/**
+ * A unit list the engine can read one way only: unique unit names, no exact name or location given to
+ * two units (the first would always win, so the second entry would never apply), and a `basis` that
+ * names a reference. Patterns may overlap; the first unit listed wins (docs/policy.md).
+ */
+function checkUnits(raw: unknown, out: PolicyCheck[]): void {
+  const names = new Map<string, number>();
+  const claimed = new Map<string, { readonly unit: number; readonly what: string }>();
+  const references = entries(raw, ['references']).map(([key]) => key);
+  list(raw, ['units']).forEach((unit, index) => {
+    const name = str(unit, ['name']);
+    if (name !== undefined) {
+      const first = names.get(name.trim().toLowerCase());
+      if (first !== undefined) {
+        out.push({
+          level: 'error',
+          path: ['units', index, 'name'],
+          message: `a second unit named '${name}' (the first is units.${first})`,
+          fix: 'give each unit its own name, or merge the two entries',
+        });
+      } else {
+        names.set(name.trim().toLowerCase(), index);
+      }
+    }
+    for (const field of ['names', 'locations'] as const) {
+      list(unit, ['match', field]).forEach((entry, at) => {
+        if (typeof entry !== 'string') return;
+        const key = `${field}\n${field === 'names' ? normaliseUnitName(entry) : entry.trim()}`;
+        const earlier = claimed.get(key);
+        if (earlier !== undefined && earlier.unit !== index) {
+          out.push({
+            level: 'error',
+            path: ['units', index, 'match', field, at],
+            message: `'${entry}' is also matched by units.${earlier.unit}, listed first, so this entry would never apply`,
+            fix: 'keep it under one unit only',
+          });
+        } else if (earlier === undefined) {
+          claimed.set(key, { unit: index, what: entry });
+        }
+      });
+    }
+    const basis = str(unit, ['basis']);
+    if (basis !== undefined && get(raw, ['references']) !== undefined && !references.includes(basis)) {
+      out.push({
+        level: 'error',
+        path: ['units', index, 'basis'],
+        message: `'${basis}' is not a key of references`,
+        fix: 'name one of the references, or add the source of the unit\'s ranges under references',
+      });
+    }
+  });
 }
 
 function checkPh(raw: unknown, out: PolicyCheck[]): void {
@@ -294,6 +395,7 @@ export function checkPolicy(raw: unknown): PolicyCheck[] {
   const out: PolicyCheck[] = [];
   checkBasis(raw, out);
   checkRanges(raw, out);
+  checkUnits(raw, out);
   checkPh(raw, out);
   checkHypercapnicConditions(raw, out);
   checkRules(raw, out);

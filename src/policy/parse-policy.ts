@@ -208,6 +208,7 @@ function validate(input: unknown, locate?: (path: PolicyPath) => TextPosition): 
     id: file.id,
     version: file.version,
     title: file.title,
+    effectiveFrom: file.effectiveFrom,
     basisKey: file.basis,
     site: {
       name: file.site.name,
@@ -219,6 +220,12 @@ function validate(input: unknown, locate?: (path: PolicyPath) => TextPosition): 
       timeZone: file.site.timeZone,
     },
     targets: file.targets,
+    units: file.units.map((unit) => ({
+      name: unit.name,
+      match: unit.match,
+      targets: { standard: unit.targets.standard, hypercapnicRisk: unit.targets.hypercapnicRisk },
+      basisKey: unit.basis,
+    })),
     hypercapnicRisk: {
       conditions: file.hypercapnicRisk.conditions,
       hypercapniaPaco2: toThreshold(file.hypercapnicRisk.hypercapniaPaco2AtLeast),

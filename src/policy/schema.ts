@@ -53,12 +53,41 @@ export const AcknowledgementSchema = z.strictObject({
 
 export type Acknowledgement = z.infer<typeof AcknowledgementSchema>;
 
+/**
+ * A unit that sets its own ranges (an ICU on 92–96 % or 90–94 %), matched on the encounter's location.
+ * Only the standard and at-risk ranges: the oxygen-toxicity range, the special conditions and every
+ * threshold (the critical SpO2 among them) hold on every unit. The checks in check-policy.ts apply to
+ * each unit's effective ranges.
+ */
+export const UnitSchema = z.strictObject({
+  /** Short name for cards: "ICU" gives "ICU target (local policy)". */
+  name: z.string().trim().min(1).max(40),
+  match: z
+    .strictObject({
+      names: z.array(z.string().trim().min(1)).default([]),
+      patterns: z.array(z.string().trim().min(1)).default([]),
+      locations: z.array(z.string().trim().min(1)).default([]),
+    })
+    .refine((m) => m.names.length + m.patterns.length + m.locations.length > 0, {
+      message: 'matches no location: give at least one of names, patterns or locations',
+    }),
+  targets: z
+    .strictObject({ standard: SaturationRangeSchema.optional(), hypercapnicRisk: SaturationRangeSchema.optional() })
+    .refine((t) => t.standard !== undefined || t.hypercapnicRisk !== undefined, {
+      message: 'sets no range: give standard, hypercapnicRisk or both',
+    }),
+  /** Key into references for the source of the unit's ranges (e.g. an ICU trial); cards cite it. */
+  basis: z.string().min(1).optional(),
+});
+
 export const PolicyFileSchema = z.strictObject({
   format: z.literal(1),
   id: z.string().regex(/^[a-z0-9][a-z0-9-]*$/, 'use lower-case letters, digits and hyphens'),
   version: z.string().min(1),
   title: z.string().min(1),
   basis: z.string().min(1),
+  /** ISO date from which the policy applies; absent in files written before it (in effect once loaded). */
+  effectiveFrom: z.iso.date().optional(),
   site: z.strictObject({
     name: z.string().min(1),
     /** metres above sea level */
@@ -75,6 +104,7 @@ export const PolicyFileSchema = z.strictObject({
     hypercapnicRisk: SaturationRangeSchema,
     oxygenToxicityRisk: SaturationRangeSchema,
   }),
+  units: z.array(UnitSchema).default([]),
   hypercapnicRisk: z.strictObject({
     conditions: z.array(z.enum(CONDITION_KINDS)).min(1),
     hypercapniaPaco2AtLeast: PressureSchema,

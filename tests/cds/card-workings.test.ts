@@ -36,6 +36,26 @@ describe('renderWorkings', () => {
     ]);
   });
 
+  it('names the unit override that set the ranges, and says nothing of units when none did', () => {
+    const icu = {
+      name: 'ICU',
+      match: { names: ['Ward 7 (respiratory)'], patterns: [], locations: [] },
+      targets: { standard: { lowPercent: 92, highPercent: 96 }, hypercapnicRisk: undefined }, // PILOT 2022 intermediate arm
+      basisKey: undefined,
+    };
+    const onUnit = renderWorkings({
+      finding,
+      facts,
+      assessment: { ...assessment, unit: { kind: 'matched', unit: icu, index: 0, matchedBy: "name 'Ward 7 (respiratory)'", alsoMatched: [] } },
+      policy,
+      now: NOW,
+    });
+    expect(section(onUnit, 'Inputs used').at(-1)).toBe(
+      "- Unit targets: ICU (local policy, units list; matched by name 'Ward 7 (respiratory)')",
+    );
+    expect(workings).not.toContain('Unit targets');
+  });
+
   it('shows each calculation with the formula and the patient numbers substituted', () => {
     expect(section(workings, 'Calculation')).toStrictEqual([
       '- **Barometric pressure at the site** (ICAO ISA)',

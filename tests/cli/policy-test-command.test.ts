@@ -277,12 +277,14 @@ describe('oxygen-order-checker policy test: the policy is validated first', () =
     const junit = join(dir, 'report.xml');
     const policy = join(dir, 'policy.yaml');
     // An at-risk range above the standard range is refused (validation that protects patients).
-    writeFileSync(policy, readFileSync(BTS, 'utf8').replace('hypercapnicRisk: { lowPercent: 88, highPercent: 92 }', 'hypercapnicRisk: { lowPercent: 96, highPercent: 99 }'));
+    const text = readFileSync(BTS, 'utf8').replace('hypercapnicRisk: { lowPercent: 88, highPercent: 92 }', 'hypercapnicRisk: { lowPercent: 96, highPercent: 99 }');
+    writeFileSync(policy, text);
+    const line = text.split('\n').findIndex((l) => l.includes('lowPercent: 96')) + 1;
     const run = await runCommandLine(['policy', 'test', policy, EXAMPLE_CASES, '--junit', junit]);
     expect(run.code).toBe(2);
     expect(run.stdout).toBe('');
     expect(run.stderr).toContain('the policy is not valid, so no case was run');
-    expect(run.stderr).toMatch(new RegExp(`${policy}:17:\\d+: targets\\.hypercapnicRisk`));
+    expect(run.stderr).toMatch(new RegExp(`${policy}:${line}:\\d+: targets\\.hypercapnicRisk`));
     expect(existsSync(junit)).toBe(false);
   });
 });

@@ -12,6 +12,7 @@ const COMMANDS: readonly (readonly string[])[] = [
   ['policy', 'validate'],
   ['policy', 'diff'],
   ['policy', 'schema'],
+  ['policy', 'show'],
   ['policy', 'test'],
   ['simulate'],
   ['audit'],

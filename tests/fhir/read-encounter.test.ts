@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { readEncounterUnit } from '../../src/fhir/read-encounter.js';
+import { readEncounterLocationIds, readEncounterUnit } from '../../src/fhir/read-encounter.js';
 
 describe('readEncounterUnit', () => {
   it('reads the active location of an invented Larkspur Bay encounter', () => {
@@ -24,6 +24,49 @@ describe('readEncounterUnit', () => {
       expect(readEncounterUnit(undefined)).toBeUndefined();
       expect(readEncounterUnit({ resourceType: 'Encounter', location: 'Ward 2', serviceType: [] })).toBeUndefined();
       expect(readEncounterUnit({ resourceType: 'Patient', serviceType: { text: 'x' } })).toBeUndefined();
+    });
+  });
+});
+
+describe('readEncounterLocationIds', () => {
+  it('reads the reference and identifier of the active location, not of past ones', () => {
+    const encounter = {
+      resourceType: 'Encounter',
+      location: [
+        { status: 'completed', location: { reference: 'Location/lbgh-ed', display: 'Emergency Department' } },
+        {
+          status: 'active',
+          location: {
+            reference: 'Location/lbgh-icu',
+            identifier: { system: 'https://larkspur-bay.example.org/locations', value: 'ICU' },
+            display: 'Intensive Care Unit',
+          },
+        },
+      ],
+    };
+    expect(readEncounterLocationIds(encounter)).toStrictEqual([
+      'Location/lbgh-icu',
+      'https://larkspur-bay.example.org/locations|ICU',
+      'ICU',
+    ]);
+  });
+
+  it('reads locations without a status when none is active, and skips planned ones', () => {
+    const encounter = {
+      resourceType: 'Encounter',
+      location: [
+        { status: 'planned', location: { reference: 'Location/lbgh-ward-7' } },
+        { location: { identifier: { value: 'W4' } } },
+      ],
+    };
+    expect(readEncounterLocationIds(encounter)).toStrictEqual(['W4']);
+  });
+
+  describe('edge cases', () => {
+    it('gives no ids for a missing or odd encounter', () => {
+      expect(readEncounterLocationIds(undefined)).toStrictEqual([]);
+      expect(readEncounterLocationIds({ resourceType: 'Encounter', location: 'ICU' })).toStrictEqual([]);
+      expect(readEncounterLocationIds({ resourceType: 'Patient', location: [{ location: { reference: 'Location/x' } }] })).toStrictEqual([]);
     });
   });
 });

@@ -18,6 +18,7 @@ import { assessHypercapnicRisk } from './hypercapnic-risk.js';
 import { assessPopulation } from './population.js';
 import { compareOrderedTarget, selectTarget, selectTitrationTarget } from './target-selection.js';
 import type { Assessment, BarometricPressureUsed, CurrentValues } from './types.js';
+import type { UnitMatch } from './unit-targets.js';
 
 /** The pressure the site uses: a measured or agreed policy value wins over the altitude model. */
 export function siteBarometricPressure(policy: Policy): BarometricPressureUsed {
@@ -81,12 +82,14 @@ export function estimateOrderDelivery(
 
 /**
  * Builds the assessment for one subject order (the first `isSubject` order unless one is named).
- * Pure: the same facts, policy, order and clock always give the same assessment.
+ * Pure: the same facts, policy, order and clock always give the same assessment. `policy` is the
+ * effective policy for the encounter's unit and `unit` the match that made it (the engine resolves
+ * both once, unit-targets.ts); without `unit`, no unit override is taken to apply.
  */
 export function buildAssessment(
   facts: Facts,
   policy: Policy,
-  options: { readonly now: Date; readonly order?: OxygenOrder | undefined },
+  options: { readonly now: Date; readonly order?: OxygenOrder | undefined; readonly unit?: UnitMatch },
 ): Assessment {
   const { now } = options;
   const order = 'order' in options ? options.order : facts.orders.find((o) => o.isSubject);
@@ -109,7 +112,8 @@ export function buildAssessment(
       : undefined;
 
   const hypercapnicRisk = assessHypercapnicRisk(facts, policy, current, now);
-  const target = selectTarget(facts, policy, hypercapnicRisk);
+  const unit = options.unit ?? { kind: 'none', reason: 'no-units' };
+  const target = selectTarget(facts, policy, hypercapnicRisk, unit);
   const targetComparison = compareOrderedTarget(order, target, policy);
 
   return {
@@ -143,6 +147,7 @@ export function buildAssessment(
       gasInterpretation: computeGasInterpretation(current.gas, policy),
     },
     hypercapnicRisk,
+    unit,
     target,
     targetComparison,
     titrationTarget: selectTitrationTarget(order, target, targetComparison),

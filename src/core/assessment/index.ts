@@ -6,3 +6,5 @@ export { classifyHypercapnia, readCompensation } from './hypercapnia-classificat
 export { assessPopulation } from './population.js';
 export { compareOrderedTarget, selectTarget, selectTitrationTarget } from './target-selection.js';
 export type * from './types.js';
+export { matchUnit, normaliseUnitName, policyForEncounter, policyForUnit, unitTargetWords } from './unit-targets.js';
+export type { EncounterLocation, UnitMatch } from './unit-targets.js';

@@ -8,6 +8,7 @@ import type {
   TargetComparison,
   TitrationTarget,
 } from './types.js';
+import { unitTargetWords, type UnitMatch } from './unit-targets.js';
 
 /**
  * Situations where BTS 2017 sets no SpO2 target, in order of precedence, each with its reason.
@@ -40,12 +41,34 @@ function sameRange(a: SaturationRange, b: SaturationRange): boolean {
  * does not make the patient at risk (hypercapnic-risk.ts), so the patient's own range stands
  * (basis `standard-despite-acute-hypercapnia`); with `hypercapnic-risk-range` it moves to
  * `targets.hypercapnicRisk`, saying that local policy moved it.
+ *
+ * `policy` is the effective policy for the encounter's unit (unit-targets.ts): a unit override has
+ * already replaced the standard or at-risk range, and `unit` says which, so the reason on the card
+ * names it ("ICU target (local policy)") and cites the unit's basis. The special conditions above
+ * come first whatever the unit.
  */
 export function selectTarget(
   facts: Facts,
   policy: Policy,
   risk: HypercapnicRiskDecision,
+  unit: UnitMatch = { kind: 'none', reason: 'no-units' },
 ): ApplicableTarget {
+  const ranged = (
+    range: 'standard' | 'hypercapnicRisk',
+    target: Omit<Extract<ApplicableTarget, { kind: 'range' }>, 'kind' | 'range'>,
+  ): ApplicableTarget => {
+    const words = unitTargetWords(unit, range);
+    if (words === undefined || unit.kind === 'none') {
+      return { kind: 'range', range: policy.targets[range], ...target };
+    }
+    return {
+      kind: 'range',
+      range: policy.targets[range],
+      basis: target.basis,
+      reason: `${words}; ${target.reason}`,
+      sourceKey: unit.unit.basisKey ?? 'local-policy',
+    };
+  };
   const has = (kind: ConditionKind): boolean => facts.conditions.some((c) => c.kind === kind);
   if (has('carbon-monoxide-poisoning')) {
     return {
@@ -79,46 +102,38 @@ export function selectTarget(
     if (risk.classification.kind === 'acute') {
       // Only reached with `acuteHypercapniaWithoutRiskTarget: keep`: the current gas did not count
       // as a risk (hypercapnic-risk.ts), so the patient's own range stands, and the card says why.
-      return {
-        kind: 'range',
-        range: policy.targets.standard,
+      return ranged('standard', {
         basis: 'standard-despite-acute-hypercapnia',
         reason:
           'acute hypercapnia with no sign of chronic CO2 retention: the range is kept by local policy, ' +
           'since the CO2 comes from tiring, not from oxygen',
         sourceKey: 'local-policy',
-      };
+      });
     }
-    return {
-      kind: 'range',
-      range: policy.targets.standard,
+    return ranged('standard', {
       basis: 'standard',
       reason: 'no documented risk of hypercapnic respiratory failure',
       sourceKey: policy.basisKey,
-    };
+    });
   }
   if (risk.currentHypercapnia === false && !risk.previousFailure) {
-    return {
-      kind: 'range',
-      range: policy.targets.standard,
+    return ranged('standard', {
       basis: 'standard-after-normal-gas',
       reason:
         `at risk, but the current gas shows PCO2 below ${policy.hypercapnicRisk.hypercapniaPaco2.display} ` +
         'and there is no previous NIV, IMV or hypercapnic failure',
       sourceKey: 'bts-2017',
-    };
+    });
   }
   const acuteOnly = risk.classification.kind === 'acute';
-  return {
-    kind: 'range',
-    range: policy.targets.hypercapnicRisk,
+  return ranged('hypercapnicRisk', {
     basis: 'hypercapnic-risk',
     reason: acuteOnly
       ? `acute hypercapnia with no sign of chronic CO2 retention (${joinWords(risk.reasons.map((r) => r.evidence))}): ` +
         'local policy moves the range to the at-risk range'
       : `at risk of hypercapnic respiratory failure (${joinWords(risk.reasons.map((r) => r.evidence))})`,
     sourceKey: acuteOnly ? 'local-policy' : 'bts-2017',
-  };
+  });
 }
 
 /** Classifies the ordered target against the applicable one; each outcome has one owning rule. */

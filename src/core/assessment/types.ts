@@ -16,6 +16,7 @@ import type {
   OxygenOrder,
   SaturationRange,
 } from '../types.js';
+import type { UnitMatch } from './unit-targets.js';
 
 type OkValue<T> = T extends { readonly kind: 'ok'; readonly value: infer V } ? V : never;
 
@@ -261,6 +262,8 @@ export interface Assessment {
   readonly current: CurrentValues;
   readonly physiology: PhysiologyResults;
   readonly hypercapnicRisk: HypercapnicRiskDecision;
+  /** The unit override whose ranges the target came from, or why none applies (unit-targets.ts). */
+  readonly unit: UnitMatch;
   readonly target: ApplicableTarget;
   readonly targetComparison: TargetComparison;
   readonly titrationTarget: TitrationTarget | undefined;

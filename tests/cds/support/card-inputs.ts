@@ -119,6 +119,7 @@ const pressureComputation = {
 export const assessment: Assessment = {
   order: facts.orders[0],
   barometricPressure: { mmHg: 756.4, model: 'isa-1993', sourceKey: 'isa-1993', computation: pressureComputation },
+  unit: { kind: 'none', reason: 'no-units' },
   delivery: {
     kind: 'ok',
     value: {
