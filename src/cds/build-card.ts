@@ -8,10 +8,14 @@ import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
+import { offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
 
-/** System of the override-reason codes in `cards/<rule-id>.yaml` (CDS Hooks 2.0 §Card, overrideReasons). */
+/**
+ * System of the override-reason codes in `cards/<rule-id>.yaml` and the policy's `overrideReasons`
+ * (CDS Hooks 2.0 §Card, overrideReasons).
+ */
 export const OVERRIDE_REASON_SYSTEM = `${CANONICAL_BASE}/CodeSystem/override-reason`;
 /** System of `source.topic`: the rule id that produced the card. */
 export const RULE_TOPIC_SYSTEM = `${CANONICAL_BASE}/CodeSystem/rule`;
@@ -99,6 +103,11 @@ export function describeChange(change: OrderChange): string {
   }
 }
 
+/** The finding's values and the policy's (the guideline cited): the policy's names are its own (policy-card-text.ts). */
+function cardValues(finding: Finding, policy: Policy): Record<string, string> {
+  return { ...finding.values, ...policyCardValues(policy, finding.ruleId) };
+}
+
 function lowerFirst(text: string): string {
   return text.charAt(0).toLowerCase() + text.slice(1);
 }
@@ -158,7 +167,7 @@ function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, 
   if (ctx.template.suggestionLabel === undefined) {
     problems.push(`${finding.ruleId}: template has no suggestionLabel`);
   } else {
-    const rendered = renderTemplate(ctx.template.suggestionLabel, finding.values, 'plain');
+    const rendered = renderTemplate(ctx.template.suggestionLabel, cardValues(finding, ctx.policy), 'plain');
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
     label = rendered.text;
   }
@@ -189,8 +198,9 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const problems: string[] = [];
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
-  const summary = renderTemplate(ctx.template.summary, finding.values, 'plain');
-  const detail = renderTemplate(ctx.template.detail, finding.values, 'markdown');
+  const values = cardValues(finding, ctx.policy);
+  const summary = renderTemplate(ctx.template.summary, values, 'plain');
+  const detail = renderTemplate(ctx.template.detail, values, 'markdown');
   for (const [part, rendered] of [['summary', summary], ['detail', detail]] as const) {
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
   }
@@ -222,7 +232,7 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     indicator: finding.indicator,
     source,
     ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
-    overrideReasons: ctx.template.overrideReasons.map((reason) => ({
+    overrideReasons: offeredOverrideReasons(ctx.policy, finding.ruleId, ctx.template).map((reason) => ({
       code: reason.code,
       system: OVERRIDE_REASON_SYSTEM,
       display: reason.display,
