@@ -8,7 +8,7 @@ import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
-import { offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
+import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
 
@@ -59,12 +59,15 @@ function overlaps(a: OrderChange, b: OrderChange): boolean {
 
 /**
  * `source.label` (CDS Hooks 2.0 §Source: "a short, human-readable label"): the policy by title, id,
- * version and short content hash, then the guideline it rests on.
+ * version and short content hash, then the guideline it rests on; when the policy has the rule's card
+ * cite another guideline (`clinicalBasis.ruleCitations`), that one too: `· TSANZ 2015; cites BTS 2017`.
  */
-export function sourceLabel(policy: Policy, policyContentHash: string | undefined): string {
+export function sourceLabel(policy: Policy, policyContentHash: string | undefined, ruleId?: string): string {
   const hash = policyContentHash === undefined ? '' : ` #${policyContentHash.slice(0, SHORT_HASH_LENGTH)}`;
   const basis = policy.references[policy.basisKey];
-  return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}`;
+  const citedKey = ruleId === undefined ? policy.basisKey : citedGuidelineKey(policy, ruleId);
+  const cites = citedKey === policy.basisKey ? '' : `; cites ${policy.references[citedKey]?.label ?? citedKey}`;
+  return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}${cites}`;
 }
 
 export interface CardReport {
@@ -208,10 +211,11 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const unknownKeys = findingSourceKeys(finding).filter((key) => ctx.policy.references[key] === undefined);
   problems.push(...unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
 
-  const basis = ctx.policy.references[ctx.policy.basisKey];
+  // The link of the guideline the card cites, else of the primary.
+  const url = ctx.policy.references[citedGuidelineKey(ctx.policy, finding.ruleId)]?.url ?? ctx.policy.references[ctx.policy.basisKey]?.url;
   const source: Card['source'] = {
-    label: sourceLabel(ctx.policy, ctx.policyContentHash),
-    ...(basis?.url === undefined ? {} : { url: basis.url }),
+    label: sourceLabel(ctx.policy, ctx.policyContentHash, finding.ruleId),
+    ...(url === undefined ? {} : { url }),
     topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
   };
 
