@@ -85,7 +85,9 @@ export function checkLocalWording(
       kind: 'invalid',
       problems: parsed.error.issues.map((issue) => {
         const path = issue.path.map((step) => (typeof step === 'symbol' ? String(step) : step));
-        return { path: path.map(String).join('.') || '(root)', message: issue.message, fix: 'docs/policy.md lists the keys of a card file', ...doc.locate(path) };
+        // An unknown key is placed at the key itself, not at the map that holds it.
+        const at = issue.code === 'unrecognized_keys' && issue.keys[0] !== undefined ? [...path, issue.keys[0]] : path;
+        return { path: path.map(String).join('.') || '(root)', message: issue.message, fix: 'docs/policy.md lists the keys of a card file', ...doc.locate(at) };
       }),
     };
   }
