@@ -1,4 +1,5 @@
 import type { OverrideReasonText, Policy } from '../core/policy.js';
+import { citedGuidelineKey } from '../core/rules/support/cited-guideline.js';
 import { GUIDELINE_TOPICS } from '../policy/card-sections-schema.js';
 import type { CardTemplate } from './card-templates.js';
 
@@ -22,9 +23,7 @@ function labelOf(policy: Policy, key: string): string {
 }
 
 /** The reference key a rule's `{{guideline}}` cites: the policy's citation for the rule, else the primary. */
-export function citedGuidelineKey(policy: Policy, ruleId: string): string {
-  return policy.clinicalBasis.ruleCitations[ruleId] ?? policy.basisKey;
-}
+export { citedGuidelineKey };
 
 /** The values of {@link POLICY_PLACEHOLDERS} for one rule's card (labels; the links are in the card's sources). */
 export function policyCardValues(policy: Policy, ruleId: string): Record<string, string> {

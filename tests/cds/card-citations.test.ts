@@ -112,8 +112,7 @@ function findingFor(ruleId: string): { finding: Finding; template: CardTemplate 
   if (template === undefined) throw new Error(`no template ${ruleId}`);
   const names = placeholderNames([template.summary, template.detail, template.suggestionLabel ?? ''].join('\n'));
   const values = Object.fromEntries(names.filter((n) => !POLICY_PLACEHOLDERS.includes(n)).map((n) => [n, `v-${n}`]));
-  const { change: _change, ...rest } = fixtureFinding;
-  return { finding: { ...rest, ruleId, values, sourceKeys: [] }, template };
+  return { finding: { ...fixtureFinding, change: undefined, ruleId, values, sourceKeys: [] }, template };
 }
 
 function cardUnder(policy: Policy, ruleId: string) {
