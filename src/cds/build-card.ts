@@ -8,10 +8,14 @@ import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
+import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
 
-/** System of the override-reason codes in `cards/<rule-id>.yaml` (CDS Hooks 2.0 §Card, overrideReasons). */
+/**
+ * System of the override-reason codes in `cards/<rule-id>.yaml` and the policy's `overrideReasons`
+ * (CDS Hooks 2.0 §Card, overrideReasons).
+ */
 export const OVERRIDE_REASON_SYSTEM = `${CANONICAL_BASE}/CodeSystem/override-reason`;
 /** System of `source.topic`: the rule id that produced the card. */
 export const RULE_TOPIC_SYSTEM = `${CANONICAL_BASE}/CodeSystem/rule`;
@@ -55,12 +59,15 @@ function overlaps(a: OrderChange, b: OrderChange): boolean {
 
 /**
  * `source.label` (CDS Hooks 2.0 §Source: "a short, human-readable label"): the policy by title, id,
- * version and short content hash, then the guideline it rests on.
+ * version and short content hash, then the guideline it rests on; when the policy has the rule's card
+ * cite another guideline (`clinicalBasis.ruleCitations`), that one too: `· TSANZ 2015; cites BTS 2017`.
  */
-export function sourceLabel(policy: Policy, policyContentHash: string | undefined): string {
+export function sourceLabel(policy: Policy, policyContentHash: string | undefined, ruleId?: string): string {
   const hash = policyContentHash === undefined ? '' : ` #${policyContentHash.slice(0, SHORT_HASH_LENGTH)}`;
   const basis = policy.references[policy.basisKey];
-  return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}`;
+  const citedKey = ruleId === undefined ? policy.basisKey : citedGuidelineKey(policy, ruleId);
+  const cites = citedKey === policy.basisKey ? '' : `; cites ${policy.references[citedKey]?.label ?? citedKey}`;
+  return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}${cites}`;
 }
 
 export interface CardReport {
@@ -97,6 +104,11 @@ export function describeChange(change: OrderChange): string {
     case 'stop-oxygen':
       return 'Stop the oxygen (end the order)';
   }
+}
+
+/** The finding's values and the policy's (the guideline cited): the policy's names are its own (policy-card-text.ts). */
+function cardValues(finding: Finding, policy: Policy): Record<string, string> {
+  return { ...finding.values, ...policyCardValues(policy, finding.ruleId) };
 }
 
 function lowerFirst(text: string): string {
@@ -158,7 +170,7 @@ function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, 
   if (ctx.template.suggestionLabel === undefined) {
     problems.push(`${finding.ruleId}: template has no suggestionLabel`);
   } else {
-    const rendered = renderTemplate(ctx.template.suggestionLabel, finding.values, 'plain');
+    const rendered = renderTemplate(ctx.template.suggestionLabel, cardValues(finding, ctx.policy), 'plain');
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
     label = rendered.text;
   }
@@ -189,8 +201,9 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const problems: string[] = [];
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
-  const summary = renderTemplate(ctx.template.summary, finding.values, 'plain');
-  const detail = renderTemplate(ctx.template.detail, finding.values, 'markdown');
+  const values = cardValues(finding, ctx.policy);
+  const summary = renderTemplate(ctx.template.summary, values, 'plain');
+  const detail = renderTemplate(ctx.template.detail, values, 'markdown');
   for (const [part, rendered] of [['summary', summary], ['detail', detail]] as const) {
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
   }
@@ -198,10 +211,11 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const unknownKeys = findingSourceKeys(finding).filter((key) => ctx.policy.references[key] === undefined);
   problems.push(...unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
 
-  const basis = ctx.policy.references[ctx.policy.basisKey];
+  // The link of the guideline the card cites, else of the primary.
+  const url = ctx.policy.references[citedGuidelineKey(ctx.policy, finding.ruleId)]?.url ?? ctx.policy.references[ctx.policy.basisKey]?.url;
   const source: Card['source'] = {
-    label: sourceLabel(ctx.policy, ctx.policyContentHash),
-    ...(basis?.url === undefined ? {} : { url: basis.url }),
+    label: sourceLabel(ctx.policy, ctx.policyContentHash, finding.ruleId),
+    ...(url === undefined ? {} : { url }),
     topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
   };
 
@@ -222,7 +236,7 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     indicator: finding.indicator,
     source,
     ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
-    overrideReasons: ctx.template.overrideReasons.map((reason) => ({
+    overrideReasons: offeredOverrideReasons(ctx.policy, finding.ruleId, ctx.template).map((reason) => ({
       code: reason.code,
       system: OVERRIDE_REASON_SYSTEM,
       display: reason.display,

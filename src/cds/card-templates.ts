@@ -28,6 +28,13 @@ export type BasedOnKind = (typeof BASED_ON_KINDS)[number];
 
 const KEBAB_CODE = /^[a-z0-9]+(?:-[a-z0-9]+)*$/;
 
+const squash = (text: string): string => text.replace(/\s+/g, ' ').trim().toLowerCase();
+
+/** Whether a text holds a statement word for word, line breaks and case aside. */
+export function containsStatement(text: string, statement: string): boolean {
+  return squash(text).includes(squash(statement));
+}
+
 /** Strict: an unknown key is an error, so a misspelt `sumary` cannot silently drop the wording. */
 export const CardTemplateSchema = z
   .strictObject({
@@ -36,6 +43,12 @@ export const CardTemplateSchema = z
     /** The inputs the card lists under "Based on": only those the finding rests on. */
     basedOn: z.array(z.enum(BASED_ON_KINDS)).max(5).optional(),
     suggestionLabel: z.string().min(1).optional(),
+    /**
+     * This card's own safety statements (e.g. "never a reason to withhold oxygen"), each as written in
+     * its summary or detail. Local wording (the policy's `cardWording` folder) must keep each one word
+     * for word; the policy's cautions are added to every card by the builder whatever the wording.
+     */
+    safetyStatements: z.array(z.string().min(8)).optional(),
     overrideReasons: z
       .array(
         z.strictObject({
@@ -47,6 +60,15 @@ export const CardTemplateSchema = z
       .max(4),
   })
   .superRefine((template, ctx) => {
+    (template.safetyStatements ?? []).forEach((statement, index) => {
+      if (!containsStatement(`${template.summary}\n${template.detail}`, statement)) {
+        ctx.addIssue({
+          code: 'custom',
+          path: ['safetyStatements', index],
+          message: 'is not in the summary or detail word for word',
+        });
+      }
+    });
     const seen = new Set<string>();
     template.overrideReasons.forEach((reason, index) => {
       if (seen.has(reason.code)) {

@@ -1,8 +1,13 @@
 import { createHash } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
-import { basename, join } from 'node:path';
+import { basename, dirname, join, resolve } from 'node:path';
 import { parseCardTemplate, type CardTemplate, type CardTemplates } from '../cds/card-templates.js';
 import { missingTemplates } from '../cds/evaluate-hook.js';
+import { checkLocalWording } from '../cds/local-card-wording.js';
+import { offeredOverrideReasons } from '../cds/policy-card-text.js';
+import { RULES } from '../core/rules/index.js';
+import { MAX_OFFERED_REASONS } from '../policy/card-sections-schema.js';
+import { locateDocument } from '../policy/locate.js';
 import type { Policy } from '../core/policy.js';
 import { parsePolicyText, type PolicyAcknowledgement, type PolicyProblem } from '../policy/parse-policy.js';
 
@@ -55,6 +60,8 @@ function readFailure(error: unknown): string {
 
 interface LoadedPolicy {
   readonly policy: Policy;
+  /** The text parsed, for the positions of problems found after parsing. */
+  readonly text: string;
   readonly contentHash: string;
   readonly warnings: readonly LoadProblem[];
   readonly acknowledgements: readonly PolicyAcknowledgement[];
@@ -72,7 +79,8 @@ async function loadPolicy(path: string, problems: LoadProblem[]): Promise<Loaded
     problems.push({ file: path, path: '(file)', message: readFailure(error) });
     return undefined;
   }
-  const parsed = parsePolicyText(bytes.toString('utf8'));
+  const text = bytes.toString('utf8');
+  const parsed = parsePolicyText(text);
   if (parsed.kind === 'invalid') {
     problems.push(...parsed.problems.map((p) => inFile(path, p)));
     return undefined;
@@ -80,6 +88,7 @@ async function loadPolicy(path: string, problems: LoadProblem[]): Promise<Loaded
   // Hashed from the bytes read, not re-read later, so the hash is of the very text that was parsed.
   return {
     policy: parsed.policy,
+    text,
     contentHash: createHash('sha256').update(bytes).digest('hex'),
     warnings: parsed.warnings.map((p) => inFile(path, p)),
     acknowledgements: parsed.acknowledgements,
@@ -123,6 +132,66 @@ async function loadCards(dir: string, problems: LoadProblem[]): Promise<Map<stri
   return templates;
 }
 
+/**
+ * The policy's card-wording folder (`cardWording.folder`, relative to the policy file's folder): each
+ * `<rule-id>.yaml` there replaces the bundled template of that rule once it passes the checks of
+ * local-card-wording.ts. Resolved here, in the shell, so the core and the card builder stay pure.
+ */
+async function overlayLocalWording(
+  policyPath: string,
+  folder: string,
+  templates: Map<string, CardTemplate>,
+  problems: LoadProblem[],
+): Promise<void> {
+  const dir = resolve(dirname(policyPath), folder);
+  let names: string[];
+  try {
+    names = (await readdir(dir)).sort();
+  } catch (error) {
+    problems.push({ file: policyPath, path: 'cardWording.folder', message: `'${dir}' ${readFailure(error)}`, fix: 'give a folder relative to the policy file' });
+    return;
+  }
+  const ruleIds = RULES.map((rule) => rule.id);
+  for (const name of names.filter((n) => n.endsWith('.yaml') || n.endsWith('.yml'))) {
+    const file = join(dir, name);
+    const ruleId = CARD_FILE.exec(basename(name))?.[1];
+    if (ruleId === undefined) {
+      problems.push({ file, path: '(file)', message: 'must be named <rule-id>.yaml with a kebab-case rule id', line: 1, column: 1 });
+      continue;
+    }
+    let text: string;
+    try {
+      text = await readFile(file, 'utf8');
+    } catch (error) {
+      problems.push({ file, path: '(file)', message: readFailure(error) });
+      continue;
+    }
+    const checked = checkLocalWording(ruleId, text, ruleIds.includes(ruleId) ? templates.get(ruleId) : undefined, ruleIds);
+    if (checked.kind === 'invalid') {
+      problems.push(...checked.problems.map((p) => ({ file, ...p })));
+      continue;
+    }
+    templates.set(ruleId, checked.template);
+  }
+}
+
+/** A card offers at most MAX_OFFERED_REASONS override reasons once the policy's are merged in. */
+function checkOfferedReasons(loaded: LoadedPolicy, path: string, templates: CardTemplates, problems: LoadProblem[]): void {
+  const locate = locateDocument(loaded.text).locate;
+  for (const [ruleId, template] of templates) {
+    const count = offeredOverrideReasons(loaded.policy, ruleId, template).length;
+    if (count > MAX_OFFERED_REASONS) {
+      problems.push({
+        file: path,
+        path: 'overrideReasons',
+        message: `gives the card of '${ruleId}' ${count} override reasons; at most ${MAX_OFFERED_REASONS} are offered on one card`,
+        fix: `use merge: replace, or fewer reasons in allCards or byRule.${ruleId}`,
+        ...locate(['overrideReasons']),
+      });
+    }
+  }
+}
+
 /** Loads both; `invalid` lists every problem found. */
 export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles> {
   const problems: LoadProblem[] = [];
@@ -130,6 +199,13 @@ export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles>
     loadPolicy(paths.policyPath, problems),
     loadCards(paths.cardsDir, problems),
   ]);
+  const folder = loaded?.policy.cardWording.folder;
+  if (loaded !== undefined && folder !== undefined) {
+    await overlayLocalWording(paths.policyPath, folder, templates, problems);
+  }
+  if (loaded !== undefined) {
+    checkOfferedReasons(loaded, paths.policyPath, templates, problems);
+  }
   if (!problems.some((p) => p.file === paths.cardsDir)) {
     for (const ruleId of missingTemplates(templates)) {
       problems.push({

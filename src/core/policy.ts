@@ -170,4 +170,32 @@ export interface Policy {
   readonly references: Readonly<Record<string, PublishedReference>>;
   /** Lines added to every card's detail (oximetry limits, advisory-only wording, local contacts). */
   readonly cautions: readonly string[];
+  /** What the cards cite: the guidelines followed and, per rule or topic, the one a card's statement is from. */
+  readonly clinicalBasis: ClinicalBasis;
+  /** Local card wording: a folder that overrides `cards/<rule-id>.yaml` per rule, read by the shell at load. */
+  readonly cardWording: { readonly folder: string | undefined };
+  /** The override reasons the policy offers on cards, merged with each card file's (docs/policy.md). */
+  readonly overrideReasons: PolicyOverrideReasons;
+}
+
+export interface ClinicalBasis {
+  /** Reference keys of the guidelines the policy follows; the primary (`basisKey`) first. */
+  readonly guidelineKeys: readonly string[];
+  /** Rule id → reference key its card cites as `{{guideline}}`; unlisted rules cite the primary. */
+  readonly ruleCitations: Readonly<Record<string, string>>;
+  /** Topic (e.g. `ventilation`) → reference key, for `{{<topic>Guideline}}`. */
+  readonly topicCitations: Readonly<Record<string, string>>;
+}
+
+export interface OverrideReasonText {
+  /** kebab-case, under the service's override-reason CodeSystem. */
+  readonly code: string;
+  readonly display: string;
+}
+
+export interface PolicyOverrideReasons {
+  /** `add` to the card file's reasons, or `replace` them where the policy gives any for the rule. */
+  readonly merge: 'add' | 'replace';
+  readonly allCards: readonly OverrideReasonText[];
+  readonly byRule: Readonly<Record<string, readonly OverrideReasonText[]>>;
 }

@@ -104,7 +104,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   if (deps.review !== undefined) {
     // Outside /cds-services authentication: the review router decides its own access.
     const { access } = deps.review;
-    const reasonDisplay = reasonDisplaysFrom(deps.templates);
+    const reasonDisplay = reasonDisplaysFrom(deps.templates, deps.policy);
     app.use('/review', reviewRouter({ store: deps.store, access, policy: deps.policy, reasonDisplay, clock: deps.clock }, deps.logger));
   }
 
@@ -120,6 +120,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         store: deps.store,
         limits: feedbackLimits,
         templates: deps.templates,
+        policy: deps.policy,
         clock: deps.clock,
         logger: deps.logger,
         policyContentHash: deps.policyContentHash,

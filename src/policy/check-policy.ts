@@ -1,5 +1,6 @@
 import { normaliseUnitName } from '../core/assessment/unit-targets.js';
 import { CONDITION_KINDS, type ConditionKind, type Indicator } from '../core/types.js';
+import { checkCardSections } from './check-card-sections.js';
 import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS, SOMETIMES_CRITICAL_RULE_IDS } from './rule-ids.js';
 
 /**
@@ -399,5 +400,6 @@ export function checkPolicy(raw: unknown): PolicyCheck[] {
   checkPh(raw, out);
   checkHypercapnicConditions(raw, out);
   checkRules(raw, out);
+  out.push(...checkCardSections(raw));
   return out;
 }

@@ -4,7 +4,7 @@ import { convertKnown } from '../units/convert.js';
 import { checkPolicy, type PolicyCheck, type PolicyPath } from './check-policy.js';
 import { locateDocument, type TextPosition } from './locate.js';
 import { nearest } from './rule-ids.js';
-import { PolicyFileSchema, type Acknowledgement } from './schema.js';
+import { PolicyFileSchema, type Acknowledgement, type PolicyFile } from './schema.js';
 
 /**
  * Validation of a policy file: the strict schema, then the checks that protect patients
@@ -195,6 +195,20 @@ function deepFreeze<T>(value: T): T {
   return value;
 }
 
+/** The sections on what cards cite and say (card-sections-schema.ts); the primary guideline listed first. */
+function cardSections(file: PolicyFile): Pick<Policy, 'clinicalBasis' | 'cardWording' | 'overrideReasons'> {
+  const basis = file.clinicalBasis;
+  return {
+    clinicalBasis: {
+      guidelineKeys: [file.basis, ...(basis?.guidelines ?? []).filter((key) => key !== file.basis)],
+      ruleCitations: basis?.ruleCitations ?? {},
+      topicCitations: basis?.topicCitations ?? {},
+    },
+    cardWording: { folder: file.cardWording.folder },
+    overrideReasons: file.overrideReasons,
+  };
+}
+
 function validate(input: unknown, locate?: (path: PolicyPath) => TextPosition): PolicyParse {
   const parsed = PolicyFileSchema.safeParse(input);
   const checks = [...(parsed.success ? [] : schemaChecks(input, parsed.error.issues)), ...checkPolicy(input)];
@@ -252,6 +266,7 @@ function validate(input: unknown, locate?: (path: PolicyPath) => TextPosition): 
       ]),
     ),
     cautions: [file.cautions.advisoryOnly, file.cautions.pulseOximetry, ...file.cautions.more],
+    ...cardSections(file),
   };
   return { kind: 'ok', policy: deepFreeze(policy), warnings, acknowledgements: deepFreeze(file.acknowledgements) };
 }

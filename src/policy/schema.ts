@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { CONDITION_KINDS } from '../core/types.js';
+import { CardWordingSchema, ClinicalBasisSchema, PolicyOverrideReasonsSchema } from './card-sections-schema.js';
 
 /**
  * The policy file format (format version 1). Strict: an unknown key is an error, so a typo in a
@@ -85,9 +86,12 @@ export const PolicyFileSchema = z.strictObject({
   id: z.string().regex(/^[a-z0-9][a-z0-9-]*$/, 'use lower-case letters, digits and hyphens'),
   version: z.string().min(1),
   title: z.string().min(1),
+  /** Reference key of the primary guideline; the cards cite it unless `clinicalBasis` names another. */
   basis: z.string().min(1),
   /** ISO date from which the policy applies; absent in files written before it (in effect once loaded). */
   effectiveFrom: z.iso.date().optional(),
+  /** Default: the primary guideline alone (how cards cited before this section existed). */
+  clinicalBasis: ClinicalBasisSchema.optional(),
   site: z.strictObject({
     name: z.string().min(1),
     /** metres above sea level */
@@ -194,6 +198,10 @@ export const PolicyFileSchema = z.strictObject({
     pulseOximetry: z.string().min(20),
     more: z.array(z.string().min(1)).default([]),
   }),
+  /** Default: no folder, the bundled `cards/` wording for every rule. */
+  cardWording: CardWordingSchema.default({}),
+  /** Default: the reasons in each `cards/<rule-id>.yaml`, as before. */
+  overrideReasons: PolicyOverrideReasonsSchema.default({ merge: 'add', allCards: [], byRule: {} }),
 });
 
 export type PolicyFile = z.infer<typeof PolicyFileSchema>;

@@ -4,6 +4,7 @@ import type { ConditionKind, Facts, Finding } from '../types.js';
 import { describeAge, describeMeasured } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
+import { citedGuidelineLabel } from './support/cited-guideline.js';
 
 /** Documented acute illnesses in which a raised PCO2 means tiring, not chronic retention. */
 const ACUTE_CAUSES: readonly ConditionKind[] = ['acute-asthma', 'sedative-or-opioid-toxicity'];
@@ -16,7 +17,7 @@ function describeCauses(facts: Facts): string {
 }
 
 /** The range the patient keeps or is moved to, and why, as the card states it. */
-function describeRange(assessment: Assessment): string {
+function describeRange(assessment: Assessment, guideline: string): string {
   const target = assessment.target;
   if (target.kind === 'no-spo2-target') {
     return `No SpO2 range applies (${target.reason}); oxygen is not reduced because of the CO2.`;
@@ -31,7 +32,7 @@ function describeRange(assessment: Assessment): string {
   return (
     `The range stays ${range} (local policy keeps the patient's range for acute hypercapnia without ` +
     'chronic retention). With no history of CO2 retention the raised PCO2 comes from tiring, not from ' +
-    'oxygen, and lowering oxygen adds hypoxaemia to the acidosis; the BTS guideline keeps acute asthma at ' +
+    `oxygen, and lowering oxygen adds hypoxaemia to the acidosis; ${guideline} keeps acute asthma at ` +
     'the standard range.'
   );
 }
@@ -89,7 +90,7 @@ export const rule: Rule = {
           asthmaNote: asthma
             ? 'In acute asthma a normal or raised PaCO2 marks life-threatening or near-fatal asthma.'
             : 'In acute asthma even a normal PaCO2 marks life-threatening asthma.',
-          rangeReasoning: describeRange(assessment),
+          rangeReasoning: describeRange(assessment, citedGuidelineLabel(policy, rule.id)),
         },
         computations: classification.compensation === undefined ? [] : [classification.compensation.computation],
         sourceKeys: ['bts-2017', 'bts-sign-asthma', 'rcem-abg', 'local-policy'],

@@ -7,6 +7,7 @@ import { describeAge, describeMeasured, describeOrder } from './support/describe
 import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { citedGuidelineLabel } from './support/cited-guideline.js';
 
 /**
  * How the SpO2 is known to have been taken on air, in words for the card; undefined when it is not
@@ -51,7 +52,8 @@ function conditionNote(kind: ConditionKind, policy: Policy): string | undefined 
   }
   if (kind === 'pregnancy') {
     // BTS 2017, pregnancy section (quoted secondarily): no oxygen in uncomplicated labour unless SpO2 < 94 %.
-    return `in uncomplicated labour the BTS guideline advises no oxygen unless SpO2 is below ${formatPercent(policy.targets.standard.lowPercent)}`;
+    // The number is the policy's lower bound (BTS 2017: 94 %), so the words say whose it is.
+    return `in uncomplicated labour ${citedGuidelineLabel(policy, 'oxygen-without-hypoxaemia')} advises no oxygen unless SpO2 is below the target range (here ${formatPercent(policy.targets.standard.lowPercent)})`;
   }
   return undefined;
 }

@@ -6,6 +6,7 @@ import { givesOxygen } from './support/order-purpose.js';
 import { makeFinding } from './support/make-finding.js';
 import { repeatGasWindow } from './support/repeat-gas-window.js';
 import type { Rule } from './support/rule-types.js';
+import { citedGuidelineLabel } from './support/cited-guideline.js';
 
 /**
  * A patient at risk of hypercapnic respiratory failure (including one re-targeted after a normal gas)
@@ -51,10 +52,10 @@ export const rule: Rule = {
       ? 'Blood gas advised now: no current gas'
       : `Repeat blood gas due ${dueWindow} after this oxygen change`;
     const gasAdvice = noCurrentGas
-      ? `There is no current blood gas. The BTS guideline advises one now for a patient at risk: if the ` +
+      ? `There is no current blood gas. ${citedGuidelineLabel(policy, rule.id)} advises one now for a patient at risk: if the ` +
         `PCO2 is normal and there has been no hypercapnic failure, the range becomes ${standard}; then ` +
         `again ${repeatWindow} after starting or changing oxygen`
-      : `The BTS guideline advises a repeat blood gas ${repeatWindow} after ` +
+      : `${citedGuidelineLabel(policy, rule.id)} advises a repeat blood gas ${repeatWindow} after ` +
         `starting or changing oxygen in these patients, because the PaCO2 may rise without an obvious ` +
         `change in the patient: due ${dueWindow}`;
     return [

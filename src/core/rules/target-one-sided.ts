@@ -4,6 +4,7 @@ import { describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import { expectsTarget } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { citedGuidelineLabel } from './support/cited-guideline.js';
 
 type Bound = Extract<TargetNote, { kind: 'one-sided' }>['bound'];
 
@@ -70,7 +71,7 @@ export const rule: Rule = {
         `replaces the ${what} in the order's words.`
       : aboveAtRiskRange
         ? `The ${what} asks for SpO2 above the whole of ${advisedRange}, the range for a patient at risk of ` +
-          'hypercapnic respiratory failure: more oxygen than the BTS guideline advises for them. No ' +
+          `hypercapnic respiratory failure: more oxygen than ${citedGuidelineLabel(policy, rule.id)} advises for them. No ` +
           `one-click change is offered, because replacing the ${what} would change what was asked; please ` +
           'choose the range.'
         : `No one-click change is offered: ${advisedRange} would not keep the ${what} written, so choosing ` +

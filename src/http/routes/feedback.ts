@@ -1,4 +1,6 @@
 import type { CardTemplates } from '../../cds/card-templates.js';
+import { offeredOverrideReasons } from '../../cds/policy-card-text.js';
+import type { Policy } from '../../core/policy.js';
 import { FeedbackRequestSchema, describeIssues, type FeedbackRequest } from '../../cds/schemas.js';
 import { CDS_SERVICES } from '../../cds/services.js';
 import type { FeedbackConfig } from '../../config/env-config.js';
@@ -13,6 +15,8 @@ export interface FeedbackRouteDeps {
   readonly store: Store;
   readonly limits: FeedbackConfig;
   readonly templates: CardTemplates;
+  /** The policy in force: its override reasons are offered on cards beside the card files' (policy-card-text.ts). */
+  readonly policy: Policy;
   readonly clock: () => Date;
   readonly logger: Logger;
   /** sha256 (hex) of the policy file's bytes the service runs on: named on the feedback log line. */
@@ -91,7 +95,9 @@ async function ruleIdsOf(store: Store, records: readonly FeedbackRecord[]): Prom
  * client, within per-request and per-day limits, so one client cannot push out another's records.
  */
 export function feedbackHandler(deps: FeedbackRouteDeps): RouteHandler {
-  const offeredCodes = new Set([...deps.templates.values()].flatMap((t) => t.overrideReasons.map((r) => r.code)));
+  const offeredCodes = new Set(
+    [...deps.templates].flatMap(([ruleId, template]) => offeredOverrideReasons(deps.policy, ruleId, template).map((r) => r.code)),
+  );
   return async (req, res) => {
     const serviceId = String(req.params['id'] ?? '');
     if (!CDS_SERVICES.some((service) => service.id === serviceId)) {

@@ -6,6 +6,7 @@ import {
   renderTemplate,
   type CardTemplate,
 } from '../../../src/cds/card-templates.js';
+import { policyCardValues } from '../../../src/cds/policy-card-text.js';
 import type { Finding } from '../../../src/core/types.js';
 import { BTS } from '../facts-builder.js';
 
@@ -30,15 +31,17 @@ export function loadCardTemplate(ruleId: string): CardTemplate {
  */
 export function expectCardRenders(finding: Finding): { summary: string; detail: string; label: string | undefined } {
   const template = loadCardTemplate(finding.ruleId);
-  const provided = Object.keys(finding.values);
+  // The card builder adds the policy's values (the guideline cited) to the rule's own.
+  const values = { ...finding.values, ...policyCardValues(BTS, finding.ruleId) };
+  const provided = Object.keys(values);
   const needed = [...placeholderNames(template.summary), ...placeholderNames(template.detail)];
   if (finding.change !== undefined) {
     expect(template.suggestionLabel, `${finding.ruleId} makes a change but has no suggestionLabel`).toBeTypeOf('string');
     needed.push(...placeholderNames(template.suggestionLabel ?? ''));
   }
   expect(needed.filter((name) => !provided.includes(name))).toStrictEqual([]);
-  const summary = renderTemplate(template.summary, finding.values, 'plain');
-  const detail = renderTemplate(template.detail, finding.values, 'markdown');
+  const summary = renderTemplate(template.summary, values, 'plain');
+  const detail = renderTemplate(template.detail, values, 'markdown');
   expect([...summary.missing, ...detail.missing]).toStrictEqual([]);
   expect(summary.text.length).toBeLessThan(SUMMARY_LIMIT);
   const keys = [...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)];
@@ -46,6 +49,6 @@ export function expectCardRenders(finding: Finding): { summary: string; detail: 
   const label =
     finding.change === undefined || template.suggestionLabel === undefined
       ? undefined
-      : renderTemplate(template.suggestionLabel, finding.values, 'plain').text;
+      : renderTemplate(template.suggestionLabel, values, 'plain').text;
   return { summary: summary.text, detail: detail.text, label };
 }

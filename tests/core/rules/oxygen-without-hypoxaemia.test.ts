@@ -67,7 +67,11 @@ describe('oxygen-without-hypoxaemia', () => {
     // BTS 2008 Table 2 (V): hypoxaemic in sickle cell crisis includes below the patient's usual saturation
     expect(text('sickle-cell-crisis')).toContain("below the patient's known usual saturation");
     // BTS 2017 pregnancy section (V2): no oxygen in uncomplicated labour unless SpO2 < 94 %
-    expect(text('pregnancy')).toContain('unless SpO2 is below 94 %');
+    expect(text('pregnancy')).toContain('BTS 2017 advises no oxygen unless SpO2 is below the target range (here 94 %)');
+    // Under the TSANZ preset the bound is the policy's 92 % (TSANZ 2015), never put in BTS 2017's mouth as its own.
+    const underTsanz = onlyFinding(runRule(rule, onAir(97, ['pregnancy']), { policy: TSANZ })).values.reason ?? '';
+    expect(underTsanz).toContain('below the target range (here 92 %)');
+    expect(underTsanz).not.toMatch(/BTS[^.;]*below 92/);
     // BMJ 2018 (V): do not start oxygen at SpO2 >= 93 % in acute stroke or myocardial infarction
     expect(text('stroke')).toContain('93 %');
     expect(onlyFinding(runRule(rule, onAir(97, ['acute-coronary-syndrome']))).sourceKeys).toStrictEqual(['bts-2017', 'bmj-2018']);

@@ -17,7 +17,7 @@ describe('pneumothorax-oxygen', () => {
     const finding = onlyFinding(runRule(rule, buildFacts({ conditions: pneumothorax })));
     expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 15 });
     const card = expectCardRenders(finding);
-    expect(card.summary).toBe('Pneumothorax under observation: BTS advises a reservoir mask at 15 L/min, aiming for 100 %');
+    expect(card.summary).toBe('Pneumothorax under observation: BTS 2017 advises a reservoir mask at 15 L/min, aiming for 100 %');
   });
 
   it.each<[string, Parameters<typeof oxygenOrder>[0], string | undefined]>([

@@ -74,7 +74,7 @@ describe('target-one-sided', () => {
       const finding = onlyFinding(runRule(rule, facts(text, copd)));
       expect(finding.change).toBeUndefined();
       expect(finding.indicator).toBe('warning');
-      expect(finding.values.suggestionNote).toMatch(/more oxygen than the BTS guideline advises/);
+      expect(finding.values.suggestionNote).toMatch(/more oxygen than BTS 2017 advises/);
       expectCardRenders(finding);
     },
   );
@@ -124,7 +124,14 @@ describe('target-one-sided', () => {
       // BTS 2017, Table 4: 88-92 % for COPD; 94 % lies above the whole range
       const finding = onlyFinding(runRule(rule, facts('target SpO2 94%', copd)));
       expect(finding.change).toBeUndefined();
-      expect(finding.values.suggestionNote).toMatch(/more oxygen than the BTS guideline advises/);
+      expect(finding.values.suggestionNote).toMatch(/more oxygen than BTS 2017 advises/);
+    });
+
+    it('names the guideline the policy cites for the rule: TSANZ 2015 under the TSANZ preset', () => {
+      // TSANZ 2015 (Respirology 20:1182, from memory): 88-92 % for CO2 retainers; 94 % lies above it
+      const finding = onlyFinding(runRule(rule, facts('target SpO2 94%', copd), { policy: TSANZ }));
+      expect(finding.values.suggestionNote).toMatch(/more oxygen than TSANZ 2015 advises/);
+      expect(finding.values.suggestionNote).not.toMatch(/BTS/);
     });
   });
 
