@@ -1,4 +1,5 @@
 import { CONDITION_KINDS, type ConditionKind, type Indicator } from '../core/types.js';
+import { checkDeviceCatalogue } from './device-catalogue.js';
 import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS, SOMETIMES_CRITICAL_RULE_IDS } from './rule-ids.js';
 
 /**
@@ -297,5 +298,6 @@ export function checkPolicy(raw: unknown): PolicyCheck[] {
   checkPh(raw, out);
   checkHypercapnicConditions(raw, out);
   checkRules(raw, out);
+  checkDeviceCatalogue(raw, out);
   return out;
 }
