@@ -106,7 +106,7 @@ function checkFlowLimits(devices: Record<string, unknown>, flowmeterMax: number,
         level: bounds.below.level,
         path: [...path, 'from'],
         message: `${kind} from ${from} L/min is below ${bounds.below.litres} L/min: ${bounds.below.reason}`,
-        fix: `set from to ${bounds.below.litres} L/min or more`,
+        fix: `raise flowLPerMin.from to ${bounds.below.litres} L/min or more`,
       });
     }
     // A ward flowmeter gives only up to its top flow; high flow has its own flow source.
@@ -116,14 +116,14 @@ function checkFlowLimits(devices: Record<string, unknown>, flowmeterMax: number,
         level: 'error',
         path: [...path, 'to'],
         message: `${kind} up to ${to} L/min is more than a ward flowmeter gives (thresholds.flowmeterMaxLPerMin: ${flowmeterMax} L/min)`,
-        fix: `set to to ${Math.min(flowmeterMax, bounds.above.litres)} L/min or less`,
+        fix: `lower flowLPerMin.to to ${Math.min(flowmeterMax, bounds.above.litres)} L/min or less`,
       });
     } else if (to !== undefined && to > bounds.above.litres) {
       out.push({
         level: bounds.above.level,
         path: [...path, 'to'],
-        message: `${kind} up to ${to} L/min is above ${bounds.above.litres} L/min: ${bounds.above.reason}`,
-        fix: `set to to ${bounds.above.litres} L/min or less`,
+        message: `${kind} up to ${to} L/min goes beyond ${bounds.above.litres} L/min: ${bounds.above.reason}`,
+        fix: `lower flowLPerMin.to to ${bounds.above.litres} L/min or less`,
       });
     }
   }
