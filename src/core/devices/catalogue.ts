@@ -1,5 +1,5 @@
 import type { DeviceCatalogue, FlowLimitsLPerMin, StockedVenturiSetting } from '../policy.js';
-import type { DeviceKind } from '../types.js';
+import type { DeviceKind, OrderChange } from '../types.js';
 import { cpapNivModel } from './cpap-niv.js';
 import { highFlowNasalCannulaModel } from './high-flow-nasal-cannula.js';
 import { nasalCannulaModel } from './nasal-cannula.js';
@@ -108,4 +108,18 @@ export function stockedVenturiSetting(catalogue: DeviceCatalogue, fio2Fraction: 
   return stockedVenturiSettings(catalogue).find(
     (s) => Math.abs(s.fio2Fraction - fio2Fraction) <= VENTURI_SETTING_MATCH_TOLERANCE,
   );
+}
+
+/**
+ * Whether a one-click change may be offered under this catalogue: any change but a device change, or
+ * a device change to a stocked device (and, for a Venturi mask, a stocked valve).
+ */
+export function changeUsesStock(change: OrderChange, catalogue: DeviceCatalogue): boolean {
+  if (change.kind !== 'set-device') {
+    return true;
+  }
+  if (change.device === 'venturi-mask') {
+    return change.setFio2Fraction !== undefined && stockedVenturiSetting(catalogue, change.setFio2Fraction) !== undefined;
+  }
+  return isStocked(catalogue, change.device);
 }
