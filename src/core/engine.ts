@@ -3,6 +3,7 @@ import type { Assessment } from './assessment/types.js';
 import { policyForEncounter } from './assessment/unit-targets.js';
 import type { Policy } from './policy.js';
 import { RULES } from './rules/index.js';
+import { changeUsesStock } from './devices/catalogue.js';
 import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
 import type { Rule } from './rules/support/rule-types.js';
 import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
@@ -69,8 +70,10 @@ function runRules(
     for (const made of rule.evaluate({ facts, policy, assessment, hook: options.hook, now: options.now })) {
       // One safety interlock for every rule: no one-click change lowers the oxygen while the patient
       // may be tiring or is below target (support/oxygen-lowering.ts). The card's advice stays.
+      // And none offers a device or Venturi valve the hospital does not stock (policy `devices`).
       const finding =
-        made.change !== undefined && noLowering && changeLowersOxygen(made.change, assessment, facts)
+        made.change !== undefined &&
+        ((noLowering && changeLowersOxygen(made.change, assessment, facts)) || !changeUsesStock(made.change, policy.devices))
           ? { ...made, change: undefined }
           : made;
       findings.push(override === undefined ? finding : { ...finding, indicator: override });

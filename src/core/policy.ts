@@ -1,4 +1,4 @@
-import type { ConditionKind, Indicator, SaturationRange } from './types.js';
+import type { ConditionKind, DeviceKind, Indicator, SaturationRange } from './types.js';
 
 /**
  * The local oxygen policy as the core sees it: parsed, unit-converted and frozen by src/policy.
@@ -44,6 +44,32 @@ export interface UnitTargets {
   };
   /** Key into `references` for the basis of the unit's ranges; cards cite it, else "local-policy". */
   readonly basisKey: string | undefined;
+}
+
+/** Flow limits, L/min, a hospital sets for a device it stocks (`from` ≤ `to`). */
+export interface FlowLimitsLPerMin {
+  readonly from: number;
+  readonly to: number;
+}
+
+/** One Venturi valve a hospital stocks: its FiO2 setting and the minimum O2 flow printed on it. */
+export interface StockedVenturiSetting {
+  /** The valve's setting as a fraction, e.g. 0.28 for the 28 % valve. */
+  readonly fio2Fraction: number;
+  /** The least O2 flow at which the valve entrains as labelled, L/min (manufacturer's label). */
+  readonly minimumFlowLPerMin: number;
+}
+
+/**
+ * The devices the hospital stocks (policy `devices`; docs/policy.md, "device catalogue"). A device
+ * kind that is absent is not stocked: no card offers it. Orders for it are still checked, against
+ * the device model's built-in range.
+ */
+export interface DeviceCatalogue {
+  /** Each stocked kind but the Venturi mask, with the flows the hospital runs it at. */
+  readonly flowLimits: Readonly<Partial<Record<Exclude<DeviceKind, 'venturi-mask'>, FlowLimitsLPerMin>>>;
+  /** The Venturi valves stocked, ascending by setting; empty when no Venturi masks are stocked. */
+  readonly venturiSettings: readonly StockedVenturiSetting[];
 }
 
 export interface Policy {
@@ -163,6 +189,8 @@ export interface Policy {
     /** Consecutive readings in the target range before stopping (BTS 2017, from memory: 2). */
     readonly stopAfterReadingsInRange: number;
   };
+  /** The devices the hospital stocks, their flow limits and Venturi valves. */
+  readonly devices: DeviceCatalogue;
   /** Severity overrides by rule id; a hospital may raise or lower a rule's indicator. */
   readonly severity: Readonly<Record<string, Indicator>>;
   /** Rules switched off by the hospital, by rule id. */

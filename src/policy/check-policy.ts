@@ -1,6 +1,7 @@
 import { normaliseUnitName } from '../core/assessment/unit-targets.js';
 import { CONDITION_KINDS, type ConditionKind, type Indicator } from '../core/types.js';
 import { checkCardSections } from './check-card-sections.js';
+import { checkDeviceCatalogue } from './device-catalogue.js';
 import { defaultIndicatorOf, nearest, registeredRuleIds, RETIRED_RULE_IDS, SOMETIMES_CRITICAL_RULE_IDS } from './rule-ids.js';
 
 /**
@@ -401,5 +402,6 @@ export function checkPolicy(raw: unknown): PolicyCheck[] {
   checkHypercapnicConditions(raw, out);
   checkRules(raw, out);
   out.push(...checkCardSections(raw));
+  checkDeviceCatalogue(raw, out);
   return out;
 }

@@ -2,6 +2,7 @@ import type { z } from 'zod';
 import type { Policy, PressureThreshold } from '../core/policy.js';
 import { convertKnown } from '../units/convert.js';
 import { checkPolicy, type PolicyCheck, type PolicyPath } from './check-policy.js';
+import { toDeviceCatalogue } from './device-catalogue.js';
 import { locateDocument, type TextPosition } from './locate.js';
 import { nearest } from './rule-ids.js';
 import { PolicyFileSchema, type Acknowledgement, type PolicyFile } from './schema.js';
@@ -255,6 +256,7 @@ function validate(input: unknown, locate?: (path: PolicyPath) => TextPosition): 
       nivPaco2Above: toThreshold(file.thresholds.nivPaco2Above),
     },
     titrationReview: file.titrationReview,
+    devices: toDeviceCatalogue(file.devices),
     severity: file.severity,
     disabledRules: file.disabledRules,
     references: Object.fromEntries(

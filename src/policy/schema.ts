@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { CONDITION_KINDS } from '../core/types.js';
 import { CardWordingSchema, ClinicalBasisSchema, PolicyOverrideReasonsSchema } from './card-sections-schema.js';
+import { BUILT_IN_DEVICE_CATALOGUE } from '../core/devices/catalogue.js';
 
 /**
  * The policy file format (format version 1). Strict: an unknown key is an error, so a typo in a
@@ -80,6 +81,54 @@ export const UnitSchema = z.strictObject({
   /** Key into references for the source of the unit's ranges (e.g. an ICU trial); cards cite it. */
   basis: z.string().min(1).optional(),
 });
+
+/**
+ * A stocked device's flow limits, L/min. Their order and their place inside what the device allows
+ * are checked in device-catalogue-checks.ts, with the reason.
+ */
+const StockedDeviceSchema = z.strictObject({
+  flowLPerMin: z.strictObject({ from: z.number().positive(), to: z.number().positive() }),
+});
+
+/** One Venturi valve: its setting in percent as labelled, and the minimum O2 flow printed on it (L/min). */
+const VenturiValveSchema = z.strictObject({
+  fio2Percent: z.number(),
+  minimumFlowLPerMin: z.number().positive(),
+});
+
+/**
+ * The devices the hospital stocks (docs/policy.md, "device catalogue"). Keys are the device kinds; a
+ * kind left out is not stocked, so no card offers it. The default is every device at the device
+ * models' built-in values, which is how the service behaved before the section existed.
+ */
+export const DevicesSchema = z.strictObject({
+  'nasal-cannula': StockedDeviceSchema.optional(),
+  'simple-face-mask': StockedDeviceSchema.optional(),
+  'reservoir-mask': StockedDeviceSchema.optional(),
+  'venturi-mask': z.strictObject({ settings: z.array(VenturiValveSchema).min(1) }).optional(),
+  'tracheostomy-mask': StockedDeviceSchema.optional(),
+  'high-flow-nasal-cannula': StockedDeviceSchema.optional(),
+  'cpap-niv': StockedDeviceSchema.optional(),
+});
+
+export type DevicesSection = z.infer<typeof DevicesSchema>;
+
+/** The built-in catalogue written as a `devices` section: the schema's default. */
+export function builtInDevicesSection(): DevicesSection {
+  const section: Record<string, unknown> = Object.fromEntries(
+    Object.entries(BUILT_IN_DEVICE_CATALOGUE.flowLimits).map(([kind, limits]) => [
+      kind,
+      { flowLPerMin: { from: limits.from, to: limits.to } },
+    ]),
+  );
+  section['venturi-mask'] = {
+    settings: BUILT_IN_DEVICE_CATALOGUE.venturiSettings.map((s) => ({
+      fio2Percent: Math.round(s.fio2Fraction * 100),
+      minimumFlowLPerMin: s.minimumFlowLPerMin,
+    })),
+  };
+  return DevicesSchema.parse(section);
+}
 
 export const PolicyFileSchema = z.strictObject({
   format: z.literal(1),
@@ -185,6 +234,7 @@ export const PolicyFileSchema = z.strictObject({
       stopFromFlowLPerMin: { standard: 2, hypercapnicRisk: 1 },
       stopAfterReadingsInRange: 2,
     }),
+  devices: DevicesSchema.default(builtInDevicesSection),
   severity: z.record(z.string(), IndicatorSchema).default({}),
   disabledRules: z.array(z.string()).default([]),
   acknowledgements: z.array(AcknowledgementSchema).default([]),

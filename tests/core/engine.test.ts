@@ -146,3 +146,23 @@ describe('evaluateOrder', () => {
     });
   });
 });
+
+describe('evaluateOrder with a hospital device catalogue', () => {
+  // A pneumothorax under observation on a nasal cannula: BTS 2017 Table 2 advises a reservoir mask at
+  // 15 L/min; pneumothorax-oxygen offers it as a one-click change under the bundled policy.
+  const pneumothorax = buildFacts({ conditions: [condition('pneumothorax')], spo2Percent: [spo2(95)] });
+  const offered = (policy: typeof BTS) =>
+    evaluateOrder(pneumothorax, policy, { hook: 'order-sign', now: NOW }).findings.find((f) => f.ruleId === 'pneumothorax-oxygen');
+
+  it('offers a stocked reservoir mask', () => {
+    expect(offered(BTS)?.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 15 });
+  });
+
+  it('withholds the change, and keeps the card, where the hospital stocks no reservoir mask', () => {
+    const { 'reservoir-mask': _dropped, ...others } = BTS.devices.flowLimits;
+    const policy = withPolicy(BTS, { devices: { ...BTS.devices, flowLimits: others } });
+    const finding = offered(policy);
+    expect(finding).toBeDefined();
+    expect(finding?.change).toBeUndefined();
+  });
+});

@@ -244,14 +244,14 @@ describe('diffPolicies', () => {
     });
 
     it('shows a section added or removed whole, and a nested value changed, with the unit its name carries', () => {
-      const devices = { devices: { venturi: { minimumFlowLPerMin: { '24': 2, '28': 4 } } } };
+      const devices = { bedsideKit: { venturi: { minimumFlowLPerMin: { '24': 2, '28': 4 } } } };
       const added = only(diffPolicies(base, withSections(devices)).changes);
       expect(added.kind).toBe('added');
-      expect(added.text).toBe('added: devices: {"venturi":{"minimumFlowLPerMin":{"24":2,"28":4}}}');
+      expect(added.text).toBe('added: bedsideKit: {"venturi":{"minimumFlowLPerMin":{"24":2,"28":4}}}');
       expect(only(diffPolicies(withSections(devices), base).changes).kind).toBe('removed');
-      const changed = { devices: { venturi: { minimumFlowLPerMin: { '24': 2, '28': 6 } } } };
+      const changed = { bedsideKit: { venturi: { minimumFlowLPerMin: { '24': 2, '28': 6 } } } };
       expect(only(diffPolicies(withSections(devices), withSections(changed)).changes).text).toBe(
-        'changed: devices.venturi.minimumFlowLPerMin.28: 4 L/min → 6 L/min',
+        'changed: bedsideKit.venturi.minimumFlowLPerMin.28: 4 L/min → 6 L/min',
       );
     });
 

@@ -1,5 +1,7 @@
+import { stockedVenturiSettings } from '../devices/catalogue.js';
 import { estimateDelivery } from '../devices/index.js';
 import type { DeliveryEstimate } from '../devices/types.js';
+import type { VenturiSetting } from '../devices/venturi-mask.js';
 import { siteBarometricPressureMmHg } from '../physiology/index.js';
 import type { Policy } from '../policy.js';
 import type { Facts, Outcome, OxygenOrder } from '../types.js';
@@ -58,10 +60,15 @@ export function siteBarometricPressure(policy: Policy): BarometricPressureUsed {
   };
 }
 
-/** The delivered-FiO2 estimate for the order's device and settings, at the current respiratory rate. */
+/**
+ * The delivered-FiO2 estimate for the order's device and settings, at the current respiratory rate.
+ * `venturiSettings`: the hospital's stocked valves (`stockedVenturiSettings(policy.devices)`), whose
+ * printed minimum flows the Venturi model reads first.
+ */
 export function estimateOrderDelivery(
   order: OxygenOrder | undefined,
   current: CurrentValues,
+  venturiSettings: readonly VenturiSetting[] = [],
 ): Outcome<DeliveryEstimate> {
   if (order === undefined) {
     return { kind: 'unknown', reason: 'no oxygen order to estimate' };
@@ -77,6 +84,7 @@ export function estimateOrderDelivery(
     ...(order.flowLPerMin === undefined ? {} : { flowLPerMin: order.flowLPerMin }),
     ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
     ...(current.respRate === undefined ? {} : { respRatePerMin: current.respRate.value }),
+    ...(venturiSettings.length === 0 ? {} : { venturiSettings }),
   });
 }
 
@@ -95,7 +103,7 @@ export function buildAssessment(
   const order = 'order' in options ? options.order : facts.orders.find((o) => o.isSubject);
   const current = pickCurrentValues(facts, policy, now);
   const barometricPressure = siteBarometricPressure(policy);
-  const delivery = estimateOrderDelivery(order, current);
+  const delivery = estimateOrderDelivery(order, current, stockedVenturiSettings(policy.devices));
   const fio2AtGas = fio2InForceAt(current.arterialGas?.at, facts, order, delivery, policy);
   const fio2AtSpo2 = fio2InForceAt(current.spo2?.at, facts, order, delivery, policy);
 

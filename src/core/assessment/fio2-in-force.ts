@@ -1,5 +1,7 @@
 import type { DeliveryEstimate } from '../devices/types.js';
+import { stockedVenturiSettings } from '../devices/catalogue.js';
 import { estimateDelivery } from '../devices/index.js';
+import type { VenturiSetting } from '../devices/venturi-mask.js';
 import { ROOM_AIR_FIO2 } from '../physiology/constants.js';
 import type { Policy } from '../policy.js';
 import type { Facts, Measured, Outcome, OxygenOrder } from '../types.js';
@@ -38,6 +40,7 @@ function estimateAtRecordedFlow(
   flowLPerMin: number,
   order: OxygenOrder,
   orderDelivery: Outcome<DeliveryEstimate>,
+  venturiSettings: readonly VenturiSetting[],
 ): Outcome<DeliveryEstimate> {
   if (orderDelivery.kind === 'ok' && order.flowLPerMin === flowLPerMin) {
     return orderDelivery;
@@ -50,6 +53,7 @@ function estimateAtRecordedFlow(
     flowLPerMin,
     ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
     ...(respRate === undefined ? {} : { respRatePerMin: respRate }),
+    ...(venturiSettings.length === 0 ? {} : { venturiSettings }),
   });
 }
 
@@ -105,7 +109,7 @@ export function fio2InForceAt(
     };
   }
   if (recordedFlow !== undefined && order?.device !== undefined) {
-    const estimate = estimateAtRecordedFlow(recordedFlow.value, order, orderDelivery);
+    const estimate = estimateAtRecordedFlow(recordedFlow.value, order, orderDelivery, stockedVenturiSettings(policy.devices));
     if (estimate.kind === 'ok') {
       return { kind: 'ok', value: fromDelivery(estimate.value, 'recorded-flow', recordedFlow.at) };
     }

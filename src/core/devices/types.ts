@@ -1,4 +1,5 @@
 import type { DeviceKind, Outcome } from '../types.js';
+import type { VenturiSetting } from './venturi-mask.js';
 
 /**
  * What an order (or a chart entry) says about the device's settings. Every field is optional: a model
@@ -11,6 +12,11 @@ export interface DeliveryInput {
   readonly setFio2Fraction?: number;
   /** When known, drives the patient's inspiratory demand (breaths/min). */
   readonly respRatePerMin?: number;
+  /**
+   * The Venturi valves the hospital stocks, with the minimum flows printed on them (policy
+   * `devices`); read first, before the standard settings. Other models ignore it.
+   */
+  readonly venturiSettings?: readonly VenturiSetting[];
 }
 
 /** An FiO2 estimate with the spread it may plausibly take. All fractions, low ≤ estimate ≤ high. */

@@ -61,10 +61,16 @@ export function venturiTotalFlowLPerMin(o2FlowLPerMin: number, settingFraction: 
   return o2FlowLPerMin * (1 + entrainmentRatio(settingFraction));
 }
 
-export function findVenturiSetting(fio2Fraction: number): VenturiSetting | undefined {
-  return VENTURI_SETTINGS.find(
-    (s) => Math.abs(s.fio2Fraction - fio2Fraction) <= VENTURI_SETTING_MATCH_TOLERANCE,
-  );
+/**
+ * The setting matching `fio2Fraction`: from `stocked` (the hospital's valves, whose printed minimum
+ * flows win) when one matches, else from the standard settings.
+ */
+export function findVenturiSetting(
+  fio2Fraction: number,
+  stocked: readonly VenturiSetting[] = [],
+): VenturiSetting | undefined {
+  const matches = (s: VenturiSetting): boolean => Math.abs(s.fio2Fraction - fio2Fraction) <= VENTURI_SETTING_MATCH_TOLERANCE;
+  return stocked.find(matches) ?? VENTURI_SETTINGS.find(matches);
 }
 
 const percent = (fraction: number): string => `${formatNumber(fraction * 100)} %`;
@@ -111,7 +117,7 @@ export function estimateVenturiMask(input: DeliveryInput): Outcome<DeliveryEstim
   }
   const flow = checked.value.flowLPerMin ?? 0;
   const requested = checked.value.setFio2Fraction ?? ROOM_AIR_O2_FRACTION;
-  const setting = findVenturiSetting(requested);
+  const setting = findVenturiSetting(requested, input.venturiSettings);
   if (setting === undefined) {
     return {
       kind: 'unknown',

@@ -1,5 +1,6 @@
 import { estimateOrderDelivery } from '../assessment/build-assessment.js';
 import { formatFlow, formatRange } from '../assessment/format.js';
+import { flowRangeFor } from '../devices/catalogue.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange } from '../types.js';
 import { describeDelivery, describeOrder, findCondition } from './support/describe.js';
@@ -18,14 +19,15 @@ const HIGH_CONCENTRATION_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'hi
  * looks normal and no SpO2 target applies; BTS 2017 Table 1 advises as much oxygen as possible
  * (reservoir or bag-valve mask) and checking COHb. Warning; critical when the order titrates to an
  * SpO2 target or gives less oxygen than an active order on record (a down-titration). Suggests a
- * reservoir mask at the device's top flow when the order is on another device, or that top flow when a
+ * reservoir mask at the top of the hospital's reservoir-mask limits (policy `devices`; the model's top
+ * flow by default) when the order is on another device, or that top flow when a
  * reservoir mask is run below it; no device change to a patient on high flow or CPAP/NIV (device tiers).
  * Source: BTS 2017 Table 1 (recommendation on CO poisoning).
  */
 export const rule: Rule = {
   id: 'carbon-monoxide-oximetry',
   title: 'Carbon monoxide poisoning: SpO2 is not a valid target',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -41,7 +43,8 @@ export const rule: Rule = {
     const downTitration =
       delivery.kind === 'ok' && onRecord.some((fio2) => delivery.value.fio2.estimate < fio2);
     const reservoir = DEVICE_MODELS['reservoir-mask'];
-    const topFlow = reservoir.flowRangeLPerMin.max;
+    // The top of the hospital's reservoir-mask limits (policy `devices`; the model's 15 L/min by default).
+    const topFlow = flowRangeFor(policy.devices, 'reservoir-mask').max;
     // A stop, weaning, room-air or comfort order still gets the card (CO poisoning needs as much
     // oxygen as possible), but never a one-click change that turns it into high-flow oxygen; and never
     // a mask for a patient on high flow or NIV (an order on record, a recorded high flow).

@@ -1,4 +1,5 @@
 import { formatFlow, formatNumber } from '../assessment/format.js';
+import { flowRangeFor } from '../devices/catalogue.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange } from '../types.js';
 import { describeOrder } from './support/describe.js';
@@ -32,7 +33,9 @@ function concernFor(device: DeviceKind, below: boolean): string {
 }
 
 /**
- * The ordered flow is outside the device model's usual adult range (`DeviceModel.flowRangeLPerMin`).
+ * The ordered flow is outside the hospital's flow limits for the device (policy `devices`), or, for a
+ * device the hospital does not stock, the device model's usual adult range (`DeviceModel.flowRangeLPerMin`).
+ * The policy checks keep the hospital's limits inside what each device allows (device-catalogue.ts).
  *
  * Rationale: below its range a mask rebreathes exhaled gas (a simple face mask under 5 L/min raised
  * minute ventilation by about 40 % in Jensen 1991) and a reservoir bag collapses; above it, nasal
@@ -46,17 +49,17 @@ function concernFor(device: DeviceKind, below: boolean): string {
 export const rule: Rule = {
   id: 'flow-outside-device-range',
   title: 'Flow outside the device range',
-  version: 2,
+  version: 3,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
-  evaluate: ({ assessment }): readonly Finding[] => {
+  evaluate: ({ assessment, policy }): readonly Finding[] => {
     const { order, hypercapnicRisk } = assessment;
     const flow = order?.flowLPerMin;
     if (order === undefined || order.device === undefined || flow === undefined || CHECKED_ELSEWHERE.includes(order.device)) {
       return [];
     }
     const model = DEVICE_MODELS[order.device];
-    const { min, max } = model.flowRangeLPerMin;
+    const { min, max } = flowRangeFor(policy.devices, order.device);
     if (flow >= min && flow <= max) {
       return [];
     }

@@ -2,7 +2,7 @@ import { estimateOrderDelivery } from '../assessment/build-assessment.js';
 import { isWithin, newestFirst } from '../assessment/current-values.js';
 import { formatFlow, formatRange } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
-import { DEVICE_MODELS } from '../devices/index.js';
+import { flowRangeFor } from '../devices/catalogue.js';
 import type { Facts, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
@@ -68,7 +68,8 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
  * patient improves; BMJ 2018 recommends keeping SpO2 at or below 96 % in acutely ill medical patients,
  * and in COPD exacerbations an SpO2 above 92 % has been linked with higher mortality (Echevarria
  * 2021), so the finding is a warning when the at-risk range applies and information otherwise.
- * Suggests one step down on a nasal cannula (not below the device's lowest flow); elsewhere the next
+ * Suggests one step down on a nasal cannula (not below the hospital's lowest cannula flow, policy
+ * `devices`; the device's lowest flow by default); elsewhere the next
  * step depends on the device and local practice, so no change is offered. No step down is offered
  * while the current gas shows hypercapnic acidosis or acute hypercapnia without chronic retention. Silent when the order
  * already gives less oxygen than the patient was having, and when another card advises a higher
@@ -80,7 +81,7 @@ function withinHigherAdvisedRange(assessment: Assessment, spo2Percent: number): 
 export const rule: Rule = {
   id: 'spo2-above-target',
   title: 'SpO2 above the target range while on oxygen',
-  version: 5,
+  version: 6,
   hooks: ['order-sign'],
   defaultIndicator: 'info',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -102,7 +103,8 @@ export const rule: Rule = {
     if (withinHigherAdvisedRange(assessment, spo2.value) || orderAlreadyLowers(order, assessment, facts, latestFlow)) {
       return [];
     }
-    const minimum = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin.min;
+    // The hospital's lowest cannula flow (policy `devices`; BTS 2017's 1 L/min by default).
+    const minimum = flowRangeFor(policy.devices, 'nasal-cannula').min;
     const flow = order.flowLPerMin;
     // Offer a step down only when this order is not already lower than what is running, and never
     // while the gas shows hypercapnic acidosis or acute hypercapnia (support/oxygen-lowering.ts).

@@ -1,5 +1,6 @@
 import { highFlowAtReading } from '../assessment/bedside-physiology.js';
 import { formatFlow, formatFraction, formatPercent, formatRange } from '../assessment/format.js';
+import { flowRangeFor, isStocked } from '../devices/catalogue.js';
 import { DEVICE_MODELS } from '../devices/index.js';
 import type { DeviceKind, Finding, OrderChange, OxygenOrder } from '../types.js';
 import { describeMeasured, describeOrder, readOnOxygen } from './support/describe.js';
@@ -36,13 +37,15 @@ const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow
  * not at risk of hypercapnia and the device is not already one of the above.
  * Silent when escalated-support-failing speaks (below target on CPAP/NIV, or on high flow at a high
  * set FiO2), so the two never repeat one message; speaks again if the hospital disables that rule.
- * Never suggests a device on a lower tier than the patient is on (devices/device-tier.ts).
+ * Never suggests a device on a lower tier than the patient is on (devices/device-tier.ts), nor a
+ * reservoir mask the hospital does not stock (policy `devices`); its flow is the top of the
+ * hospital's reservoir-mask limits.
  * Source: BTS 2017 Table 2; the points-below threshold is a local choice.
  */
 export const rule: Rule = {
   id: 'spo2-below-target',
   title: 'SpO2 below the target range',
-  version: 4,
+  version: 5,
   hooks: ['order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -94,16 +97,20 @@ export const rule: Rule = {
       return [];
     }
     const reservoir = DEVICE_MODELS['reservoir-mask'];
+    // The top of the hospital's reservoir-mask flows (the model's 15 L/min when it sets none).
+    const reservoirTopFlow = flowRangeFor(policy.devices, 'reservoir-mask').max;
     // Never offer a reservoir mask in place of an order for high flow or NIV, or while one runs.
     // Nor a mask to a patient on a higher tier of support (a recorded high flow, say): keepTier.
+    // Nor one the hospital does not stock: the card's words still give the guideline's advice.
     const change: OrderChange | undefined = keepTier(
-      belowCriticalLevel &&
+      isStocked(policy.devices, 'reservoir-mask') &&
+        belowCriticalLevel &&
         !hypercapnicRisk.atRisk &&
         !onTopDevice &&
         highFlow === undefined &&
         !isTopDevice(order) &&
         isTitration(order)
-        ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoir.flowRangeLPerMin.max }
+        ? { kind: 'set-device', device: 'reservoir-mask', flowLPerMin: reservoirTopFlow }
         : undefined,
       patientSupportTier(facts, order, policy, now),
     );
@@ -134,6 +141,7 @@ export const rule: Rule = {
                   ? `the target that applies, ${formatRange(titrationTarget.range)} (${formatRange(order.target)} ordered)`
                   : `the target ${formatRange(titrationTarget.range)}`,
           criticalLevel: formatPercent(criticalSpo2BelowPercent),
+          // The guideline's flow, which the card's words attribute to it.
           reservoirFlow: formatFlow(reservoir.flowRangeLPerMin.max),
           urgency: because.length === 0 ? 'below the target range' : because.join('; '),
           ...(change?.kind === 'set-device'

@@ -1,5 +1,6 @@
 import { formatFlow, formatNumber, formatPercent } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
+import { stockedVenturiSettings } from '../devices/catalogue.js';
 import { DEVICE_MODELS, findVenturiSetting } from '../devices/index.js';
 import type { Policy } from '../policy.js';
 import type { Finding, OrderChange, OxygenOrder } from '../types.js';
@@ -14,7 +15,11 @@ import type { Rule } from './support/rule-types.js';
  * the flow is part of the order. Suggests the minimum, or the minimum × the tachypnoea multiplier.
  */
 function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Policy): readonly Finding[] {
-  const setting = order.setFio2Fraction === undefined ? undefined : findVenturiSetting(order.setFio2Fraction);
+  // The hospital's valve, with the minimum flow printed on it, when it stocks this setting.
+  const setting =
+    order.setFio2Fraction === undefined
+      ? undefined
+      : findVenturiSetting(order.setFio2Fraction, stockedVenturiSettings(policy.devices));
   if (setting === undefined) {
     return [];
   }
@@ -62,12 +67,14 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
  * setting states no O2 flow at all.
  * Silent for stop and room-air orders and 0 L/min; comfort and weaning orders get the card but no
  * raised flow (`isTitration`).
+ * The minimum flow is the one printed on the hospital's valve (policy `devices`) when it stocks the
+ * setting, else the usual one (devices/venturi-mask.ts).
  * Sources: BTS 2017 Table 4; Jones, Turner & Hughes, Lancet 1984.
  */
 export const rule: Rule = {
   id: 'venturi-flow-insufficient',
   title: 'Venturi mask flow too low for the setting or the patient',
-  version: 4,
+  version: 5,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {

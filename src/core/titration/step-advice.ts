@@ -1,8 +1,8 @@
 import { formatFlow, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
-import { NASAL_CANNULA_FLOW_RANGE_L_PER_MIN } from '../devices/nasal-cannula.js';
-import { SIMPLE_FACE_MASK_FLOW_RANGE_L_PER_MIN } from '../devices/simple-face-mask.js';
-import { findVenturiSetting, VENTURI_SETTINGS } from '../devices/venturi-mask.js';
+import { BUILT_IN_DEVICE_CATALOGUE, flowRangeFor, stockedVenturiSettings } from '../devices/catalogue.js';
+import { findVenturiSetting } from '../devices/venturi-mask.js';
+import type { DeviceCatalogue } from '../policy.js';
 import type { OxygenOrder } from '../types.js';
 
 /**
@@ -32,10 +32,14 @@ export function hypercapnicAcidosisAdvice(assessment: Assessment): string | unde
   return undefined;
 }
 
-/** Bedside words for the next step on a device the service offers no one-click change for. */
-export function deviceStepAdvice(order: OxygenOrder): string | undefined {
-  const cannula = NASAL_CANNULA_FLOW_RANGE_L_PER_MIN;
-  const mask = SIMPLE_FACE_MASK_FLOW_RANGE_L_PER_MIN;
+/**
+ * Bedside words for the next step on a device the service offers no one-click change for. Flows are
+ * the hospital's limits and the lower Venturi setting is a valve it stocks (policy `devices`).
+ */
+export function deviceStepAdvice(order: OxygenOrder, catalogue: DeviceCatalogue = BUILT_IN_DEVICE_CATALOGUE): string | undefined {
+  const cannula = flowRangeFor(catalogue, 'nasal-cannula');
+  const mask = flowRangeFor(catalogue, 'simple-face-mask');
+  const valves = stockedVenturiSettings(catalogue);
   switch (order.device) {
     case 'reservoir-mask':
       return (
@@ -49,8 +53,8 @@ export function deviceStepAdvice(order: OxygenOrder): string | undefined {
         'nasal cannulae at 2–4 L/min, and rechecking SpO2; not straight to air'
       );
     case 'venturi-mask': {
-      const setting = order.setFio2Fraction === undefined ? undefined : findVenturiSetting(order.setFio2Fraction);
-      const lower = setting === undefined ? undefined : [...VENTURI_SETTINGS].reverse().find((s) => s.fio2Fraction < setting.fio2Fraction);
+      const setting = order.setFio2Fraction === undefined ? undefined : findVenturiSetting(order.setFio2Fraction, valves);
+      const lower = setting === undefined ? undefined : [...valves].reverse().find((s) => s.fio2Fraction < setting.fio2Fraction);
       return lower === undefined
         ? 'Consider the next lower Venturi setting and rechecking SpO2'
         : `Consider the next lower Venturi setting, ${formatNumber(lower.fio2Fraction * 100, 0)} % at ` +

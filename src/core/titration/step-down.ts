@@ -1,7 +1,7 @@
 import { isWithin } from '../assessment/current-values.js';
 import { formatDuration, formatFlow, formatNumber } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
-import { DEVICE_MODELS } from '../devices/index.js';
+import { flowRangeFor } from '../devices/catalogue.js';
 import type { Policy } from '../policy.js';
 import { isTitration } from '../rules/support/order-purpose.js';
 import { reasonNotToLowerOxygen } from '../rules/support/oxygen-lowering.js';
@@ -164,11 +164,11 @@ function nextStep(input: {
 }): StepDown {
   const blockedBy = reasonNotToStepDown(input);
   if (blockedBy !== undefined) {
-    const bedside = hypercapnicAcidosisAdvice(input.assessment) ?? (blockedBy === ESCALATED_SUPPORT ? deviceStepAdvice(input.review.order) : undefined);
+    const bedside = hypercapnicAcidosisAdvice(input.assessment) ?? (blockedBy === ESCALATED_SUPPORT ? deviceStepAdvice(input.review.order, input.policy.devices) : undefined);
     return { kind: 'none', blockedBy, ...(bedside === undefined ? {} : { bedside }) };
   }
   const { review, assessment, facts, policy, now } = input;
-  const deviceAdvice = deviceStepAdvice(review.order);
+  const deviceAdvice = deviceStepAdvice(review.order, policy.devices);
   const onDevice = (why: string): StepDown => ({ kind: 'none', blockedBy: why, ...(deviceAdvice === undefined ? {} : { bedside: deviceAdvice }) });
   const order = review.order;
   const settings = policy.titrationReview;
@@ -189,8 +189,9 @@ function nextStep(input: {
   if (flow === undefined) {
     return { kind: 'none', blockedBy: 'the flow running is not known' };
   }
-  const cannulaRange = DEVICE_MODELS['nasal-cannula'].flowRangeLPerMin;
-  // Above the cannula's range (BTS 2017 Tables 2 and 4: 1-6 L/min) a step of one would still be out of it.
+  // The hospital's cannula limits (policy `devices`; BTS 2017 Tables 2 and 4: 1-6 L/min by default):
+  // above them a step of one would still be out of range.
+  const cannulaRange = flowRangeFor(policy.devices, 'nasal-cannula');
   if (flow > cannulaRange.max) {
     return onDevice(`the cannula runs above its ${formatNumber(cannulaRange.min, 0)}–${formatNumber(cannulaRange.max, 0)} L/min range`);
   }

@@ -4,6 +4,7 @@ import type { DeviceKind } from '../../../src/core/types.js';
 import { buildFacts, condition, oxygenOrder } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
+import { LARKSPUR_BAY_DEVICES, policyWithDevices } from '../devices/catalogue-policy.js';
 
 const order = (device: DeviceKind, flowLPerMin: number) => [oxygenOrder({ device, flowLPerMin })];
 
@@ -90,5 +91,56 @@ describe('flow-outside-device-range', () => {
       expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.28, flowLPerMin: 1 })] }))).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: [oxygenOrder({ flowLPerMin: undefined })] }))).toStrictEqual([]);
     });
+  });
+});
+
+describe('flow-outside-device-range with a hospital device catalogue', () => {
+  // The invented Larkspur Bay catalogue (tests/core/devices/catalogue-policy.ts): local limits inside
+  // each device's published range (BTS 2017 Tables 2 and 4; the device models' sources), no CPAP/NIV.
+  const policy = policyWithDevices(LARKSPUR_BAY_DEVICES);
+  const LOCAL: readonly [DeviceKind, number, number][] = [
+    ['nasal-cannula', 1, 4],
+    ['simple-face-mask', 5, 8],
+    ['reservoir-mask', 12, 15],
+    ['tracheostomy-mask', 6, 12],
+    ['high-flow-nasal-cannula', 20, 50],
+  ];
+
+  describe.each(LOCAL)('%s stocked at %s-%s L/min', (device, from, to) => {
+    it.each([
+      ['at its lower limit', from],
+      ['inside its limits', (from + to) / 2],
+      ['at its upper limit', to],
+    ])('is silent %s', (_where, flow) => {
+      expect(runRule(rule, buildFacts({ orders: order(device, flow) }), { policy })).toStrictEqual([]);
+    });
+
+    it('warns above its upper limit, offering no lower flow', () => {
+      const finding = onlyFinding(runRule(rule, buildFacts({ orders: order(device, to + 1) }), { policy }));
+      expect(finding.values.direction).toBe('above');
+      expect(finding.values.deviceRange).toBe(`${from}–${to} L/min`);
+      expect(finding.change).toBeUndefined();
+      expectCardRenders(finding);
+    });
+
+    it("warns below its lower limit and offers the hospital's lower limit", () => {
+      const finding = onlyFinding(runRule(rule, buildFacts({ orders: order(device, from - 0.5) }), { policy }));
+      expect(finding.values.direction).toBe('below');
+      expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: from });
+      expectCardRenders(finding);
+    });
+  });
+
+  it('warns for a nasal cannula at 5 L/min where the hospital keeps cannulae to 4, and not under the preset', () => {
+    // BTS 2017, Tables 2 and 4: 1-6 L/min, poorly tolerated above about 4 L/min
+    const card = expectCardRenders(onlyFinding(runRule(rule, buildFacts({ orders: order('nasal-cannula', 5) }), { policy })));
+    expect(card.summary).toBe('Flow 5 L/min is above the usual 1–4 L/min for this device (Nasal cannula)');
+    expect(runRule(rule, buildFacts({ orders: order('nasal-cannula', 5) }))).toStrictEqual([]);
+  });
+
+  it("checks a device the hospital does not stock against the model's range", () => {
+    // CPAP/NIV bleed-in 1-15 L/min (from memory, devices/cpap-niv.ts): not stocked at Larkspur Bay
+    expect(runRule(rule, buildFacts({ orders: order('cpap-niv', 12) }), { policy })).toStrictEqual([]);
+    expect(onlyFinding(runRule(rule, buildFacts({ orders: order('cpap-niv', 20) }), { policy })).values.deviceRange).toBe('1–15 L/min');
   });
 });

@@ -3,6 +3,7 @@ import { rule } from '../../../src/core/rules/spo2-above-target.js';
 import { activeOrder, bloodGas, buildFacts, condition, fio2, o2Flow, oxygenOrder, respRate, spo2 } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
+import { policyWithDevices, venturiLines } from '../devices/catalogue-policy.js';
 
 const atRiskOrder = [oxygenOrder({ flowLPerMin: 2, target: { lowPercent: 88, highPercent: 92, readFrom: 'structured' } })];
 
@@ -218,5 +219,24 @@ describe('spo2-above-target', () => {
       const facts = buildFacts({ conditions: [condition('carbon-monoxide-poisoning')], spo2Percent: [spo2(100)], activeOrders: [activeOrder()] });
       expect(runRule(rule, facts)).toStrictEqual([]);
     });
+  });
+});
+
+describe('spo2-above-target with a hospital device catalogue', () => {
+  // Invented local limits: cannulae from 2 L/min (inside BTS 2017's 1-6 L/min, Tables 2 and 4)
+  const policy = policyWithDevices([
+    'devices:',
+    '  nasal-cannula: { flowLPerMin: { from: 2, to: 6 } }',
+    '  reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }',
+    ...venturiLines([[28, 4]]),
+  ]);
+  const above = (flow: number) => buildFacts({ orders: [oxygenOrder({ flowLPerMin: flow })], spo2Percent: [spo2(99)], o2FlowLPerMin: [o2Flow(flow)] });
+
+  it("steps down to the hospital's lowest cannula flow and no further", () => {
+    // BTS 2017: reduce oxygen above 94-98 %; one step of 1 L/min (common practice)
+    expect(onlyFinding(runRule(rule, above(3), { policy })).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 2 });
+    expect(onlyFinding(runRule(rule, above(2), { policy })).change).toBeUndefined();
+    // Under the preset 2 L/min still steps to 1 L/min (BTS 2017, Tables 2 and 4: from 1 L/min)
+    expect(onlyFinding(runRule(rule, above(2))).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 1 });
   });
 });

@@ -4,6 +4,7 @@ import type { Facts } from '../../../src/core/types.js';
 import { BTS, activeOrder, buildFacts, condition, fio2, minutesAgo, o2Flow, oxygenOrder, spo2, withPolicy } from '../facts-builder.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
+import { policyWithDevices, venturiLines } from '../devices/catalogue-policy.js';
 
 const onOxygen = { activeOrders: [activeOrder()] };
 
@@ -221,5 +222,28 @@ describe('spo2-below-target', () => {
       const policy = withPolicy(BTS, { thresholds: { ...BTS.thresholds, criticalPointsBelowTarget: 2 } });
       expect(onlyFinding(runRule(rule, buildFacts({ ...onOxygen, spo2Percent: [spo2(91)] }), { policy })).indicator).toBe('critical');
     });
+  });
+});
+
+describe('spo2-below-target with a hospital device catalogue', () => {
+  // SpO2 82 % on a nasal cannula, not at risk: BTS 2017 Table 2 advises a reservoir mask below 85 %
+  const low = () => buildFacts({ ...onOxygen, spo2Percent: [spo2(82)] });
+  const VENTURI = venturiLines([[28, 4]]); // BTS 2017, Table 4
+
+  it("offers the reservoir mask at the top of the hospital's reservoir-mask limits", () => {
+    // Invented local limits 10-12 L/min, inside BTS 2008's 10-15 L/min
+    const policy = policyWithDevices(['devices:', '  reservoir-mask: { flowLPerMin: { from: 10, to: 12 } }', ...VENTURI]);
+    const finding = onlyFinding(runRule(rule, low(), { policy }));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'reservoir-mask', flowLPerMin: 12 });
+    // The card's words still give the guideline's 15 L/min (BTS 2017, Table 2)
+    expect(finding.values.reservoirFlow).toBe('15 L/min');
+  });
+
+  it('offers no reservoir mask where none is stocked, and keeps the critical card', () => {
+    const policy = policyWithDevices(['devices:', '  nasal-cannula: { flowLPerMin: { from: 1, to: 6 } }', ...VENTURI]);
+    const finding = onlyFinding(runRule(rule, low(), { policy }));
+    expect(finding.indicator).toBe('critical'); // BTS 2017, Table 2: below 85 %
+    expect(finding.change).toBeUndefined();
+    expectCardRenders(finding);
   });
 });

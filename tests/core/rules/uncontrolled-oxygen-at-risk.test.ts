@@ -1,6 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/uncontrolled-oxygen-at-risk.js';
-import { activeOrder, bloodGas, buildFacts, condition, oxygenOrder, spo2 } from '../facts-builder.js';
+import { BUILT_IN_DEVICE_CATALOGUE } from '../../../src/core/devices/catalogue.js';
+import type { StockedVenturiSetting } from '../../../src/core/policy.js';
+import { activeOrder, bloodGas, BTS, buildFacts, condition, oxygenOrder, respRate, spo2, withPolicy } from '../facts-builder.js';
+import { policyWithDevices, venturiLines } from '../devices/catalogue-policy.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -96,5 +99,98 @@ describe('uncontrolled-oxygen-at-risk', () => {
       });
       expect(runRule(rule, facts)).toStrictEqual([]);
     });
+  });
+});
+
+describe('uncontrolled-oxygen-at-risk with a hospital device catalogue', () => {
+  const RESERVOIR = '  reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }'; // BTS 2017 Table 2; BTS 2008
+  const stocking = (valves: readonly (readonly [number, number])[]) =>
+    policyWithDevices(['devices:', RESERVOIR, ...(valves.length === 0 ? [] : venturiLines(valves))]);
+  // A COPD patient on a reservoir mask, SpO2 90 % inside the 88-92 % range (BTS 2017, Table 4)
+  const copdOnReservoir = (rr?: number) =>
+    buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(90)], ...(rr === undefined ? {} : { respRatePerMin: [respRate(rr)] }) });
+
+  it('offers the 28 % valve when the hospital stocks no 24 % valve', () => {
+    // BTS 2017, Table 4: 28 % at 4 L/min; 35 % and 60 % at 8 and 15 L/min (device labelling, common practice)
+    const policy = stocking([
+      [28, 4],
+      [35, 8],
+      [60, 15],
+    ]);
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(), { policy }));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 });
+    expect(expectCardRenders(finding).label).toBe('Change to Venturi mask 28 % at 4 L/min');
+  });
+
+  it('offers the 24 % valve at 2 L/min when the hospital stocks no 28 % valve', () => {
+    // BTS 2017, Table 4: a 24 % Venturi at 2-3 L/min is the other controlled starting device
+    const policy = stocking([
+      [24, 2],
+      [35, 8],
+    ]);
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(), { policy }));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'venturi-mask', flowLPerMin: 2, setFio2Fraction: 0.24 });
+    expect(expectCardRenders(finding).label).toBe('Change to Venturi mask 24 % at 2 L/min');
+  });
+
+  it.each([
+    ['only 35 % and 60 % valves', [[35, 8], [60, 15]] as const],
+    ['no Venturi mask', [] as const],
+  ])('with %s stocked, says so in words and offers no device', (_name, valves) => {
+    // BTS 2017, Table 4: 24 % or 28 % Venturi, or nasal cannulae at 1-2 L/min; a 35 % valve is not one of them
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(), { policy: stocking(valves) }));
+    expect(finding.change).toBeUndefined();
+    const card = expectCardRenders(finding);
+    expect(card.detail).toContain('No 24 % or 28 % Venturi valve is stocked here');
+    expect(card.detail).toContain('nasal cannulae at 1–2 L/min');
+    expect(card.detail).not.toContain('35 %');
+  });
+
+  it("offers the minimum flow printed on the hospital's valve", () => {
+    // Invented label: a 28 % valve printed 5 L/min (manufacturers differ; BTS 2017 Table 4 gives 4 L/min)
+    const policy = stocking([[28, 5]]);
+    expect(onlyFinding(runRule(rule, copdOnReservoir(), { policy })).change).toMatchObject({ flowLPerMin: 5, setFio2Fraction: 0.28 });
+  });
+
+  it.each([
+    // BTS 2017, Table 4: RR > 30/min -> 1.5 x the minimum: 28 % 4 -> 6 L/min, 24 % 2 -> 3 L/min
+    ['28 % valve', [[24, 2], [28, 4]] as const, 0.28, 6],
+    ['24 % valve', [[24, 2], [35, 8]] as const, 0.24, 3],
+  ])('raises the %s by the policy multiplier when the respiratory rate is above its threshold', (_name, valves, setting, flow) => {
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(34), { policy: stocking(valves) }));
+    expect(finding.change).toStrictEqual({ kind: 'set-device', device: 'venturi-mask', flowLPerMin: flow, setFio2Fraction: setting });
+    expect(expectCardRenders(finding).detail).toContain('raised for a respiratory rate above 30/min');
+  });
+
+  it('reads the tachypnoea threshold and multiplier from the policy, not the guideline', () => {
+    // Invented local thresholds: above 25/min, double the flow (BTS 2017 Table 4 says above 30/min, 1.5 x)
+    const base = stocking([[28, 4]]);
+    const policy = withPolicy(base, { thresholds: { ...base.thresholds, venturiTachypnoeaRespRateAbove: 25, venturiTachypnoeaFlowMultiplier: 2 } });
+    expect(onlyFinding(runRule(rule, copdOnReservoir(28), { policy })).change).toMatchObject({ flowLPerMin: 8 });
+    expect(onlyFinding(runRule(rule, copdOnReservoir(25), { policy })).change).toMatchObject({ flowLPerMin: 4 });
+  });
+
+  it('never offers a valve the hospital does not stock, nor one that is not controlled, over every catalogue of the standard valves', () => {
+    // Every subset of the standard valves at their usual minimums (BTS 2017 Table 4; device labelling)
+    const standard = BUILT_IN_DEVICE_CATALOGUE.venturiSettings;
+    for (let mask = 0; mask < 2 ** standard.length; mask += 1) {
+      const stocked: StockedVenturiSetting[] = standard.filter((_s, i) => (mask & (2 ** i)) !== 0);
+      const policy = withPolicy(BTS, { devices: { ...BTS.devices, venturiSettings: stocked } });
+      for (const rr of [18, 34]) {
+        const finding = onlyFinding(runRule(rule, copdOnReservoir(rr), { policy }));
+        const change = finding.change;
+        const controlled = stocked.find((s) => s.fio2Fraction === 0.28) ?? stocked.find((s) => s.fio2Fraction === 0.24);
+        if (controlled === undefined) {
+          expect(change).toBeUndefined();
+          continue;
+        }
+        expect(change).toStrictEqual({
+          kind: 'set-device',
+          device: 'venturi-mask',
+          setFio2Fraction: controlled.fio2Fraction,
+          flowLPerMin: controlled.minimumFlowLPerMin * (rr > 30 ? 1.5 : 1),
+        });
+      }
+    }
   });
 });

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { rule } from '../../../src/core/rules/venturi-flow-insufficient.js';
-import { buildFacts, oxygenOrder, respRate } from '../facts-builder.js';
+import { buildFacts, condition, oxygenOrder, respRate } from '../facts-builder.js';
+import { LARKSPUR_BAY_DEVICES, policyWithDevices, venturiLines } from '../devices/catalogue-policy.js';
 import { expectCardRenders } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
@@ -116,5 +117,59 @@ describe('venturi-flow-insufficient', () => {
       expect(runRule(rule, buildFacts())).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: venturi(0.33, 2) }))).toStrictEqual([]);
     });
+  });
+});
+
+describe('venturi-flow-insufficient with a hospital device catalogue', () => {
+  const RESERVOIR = '  reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }'; // BTS 2017 Table 2; BTS 2008
+  // Larkspur Bay stocks 24 % at 2, 28 % at 4, 35 % at 8 and 60 % at 15 L/min (BTS 2017 Table 4 for 24 and
+  // 28 %; device labelling, common practice, for 35 and 60 %)
+  const larkspur = policyWithDevices(LARKSPUR_BAY_DEVICES);
+  const atRisk = (setting: number, flow: number, rr: number) =>
+    buildFacts({ orders: venturi(setting, flow), conditions: [condition('copd')], respRatePerMin: [respRate(rr)] });
+
+  describe.each([
+    // [setting, printed minimum, raised flow = 1.5 x minimum (BTS 2017 Table 4)]
+    [0.24, 2, 3],
+    [0.28, 4, 6],
+    [0.35, 8, 12],
+  ])('an at-risk patient breathing 34/min on the stocked %s valve', (setting, minimum, raised) => {
+    it(`at its ${minimum} L/min minimum is raised to ${raised} L/min, the setting kept`, () => {
+      const finding = onlyFinding(runRule(rule, atRisk(setting, minimum, 34), { policy: larkspur }));
+      expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: raised });
+      expect(finding.values.minimumFlow).toBe(`${minimum} L/min`);
+      expectCardRenders(finding);
+    });
+
+    it('is silent at rest at its minimum', () => {
+      // BTS 2017, Table 4: the minimum flow at a respiratory rate of 30/min or less
+      expect(runRule(rule, atRisk(setting, minimum, 30), { policy: larkspur })).toStrictEqual([]);
+    });
+  });
+
+  it('says the raised flow for the stocked 60 % valve is beyond a ward flowmeter, and offers none', () => {
+    // 1.5 x 15 = 22.5 L/min (BTS 2017 Table 4; check-values 2b), above the 15 L/min flowmeter (common practice)
+    const finding = onlyFinding(runRule(rule, atRisk(0.6, 15, 34), { policy: larkspur }));
+    expect(finding.change).toBeUndefined();
+    expect(finding.values.flowBalance).toContain('beyond a ward flowmeter (15 L/min)');
+  });
+
+  it("checks the flow against the minimum printed on the hospital's valve", () => {
+    // Invented label: a 24 % valve printed 3 L/min (BTS 2017 Table 4 gives 24 % at 2-3 L/min)
+    const policy = policyWithDevices(['devices:', RESERVOIR, ...venturiLines([[24, 3], [28, 4]])]);
+    const finding = onlyFinding(runRule(rule, atRisk(0.24, 2, 18), { policy }));
+    expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 3 });
+    expect(finding.values.minimumFlow).toBe('3 L/min');
+    // Under the preset the usual 2 L/min minimum stands, and 2 L/min is enough
+    expect(runRule(rule, atRisk(0.24, 2, 18))).toStrictEqual([]);
+    // With no flow stated, the printed minimum is what the card asks for
+    const unstated = buildFacts({ orders: [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: 0.24, flowLPerMin: undefined })] });
+    expect(onlyFinding(runRule(rule, unstated, { policy })).change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 3 });
+  });
+
+  it('keeps the usual minimum for a setting the hospital does not stock', () => {
+    // Device labelling (common practice): 31 % at 6 L/min; Larkspur Bay stocks no 31 % valve
+    const finding = onlyFinding(runRule(rule, atRisk(0.31, 4, 18), { policy: larkspur }));
+    expect(finding.change).toStrictEqual({ kind: 'set-flow', flowLPerMin: 6 });
   });
 });
