@@ -51,9 +51,13 @@ export interface ReloaderDeps {
   readonly load?: (paths: FilePaths) => Promise<LoadedFiles>;
 }
 
-/** The name of a snapshot's policy as the log shows it. */
-function nameOf(snapshot: PolicySnapshot): { id: string; version: string; contentHash: string } {
-  return { id: snapshot.policy.id, version: snapshot.policy.version, contentHash: snapshot.contentHash };
+/** The policy a swap replaced, as flat fields: the logger redacts any nested `id` (logger.ts). */
+function previousOf(snapshot: PolicySnapshot): Record<string, string> {
+  return {
+    previousPolicyId: snapshot.policy.id,
+    previousPolicyVersion: snapshot.policy.version,
+    previousPolicyContentHash: snapshot.contentHash,
+  };
 }
 
 /** One problem as a structured log entry: where (file, line, column, path), what, and the fix. */
@@ -132,7 +136,7 @@ export function createPolicyReloader(deps: ReloaderDeps): PolicyReloader {
       {
         policyReload: 'swapped',
         trigger,
-        previousPolicy: nameOf(previous),
+        ...previousOf(previous),
         policyId: next.policy.id,
         policyVersion: next.policy.version,
         policyContentHash: next.contentHash,
