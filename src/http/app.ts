@@ -16,6 +16,7 @@ import { parseJsonBody, requireJsonContentType } from './json-body.js';
 import { createEvaluationGate } from './overload.js';
 import { perSnapshot, pinnedPolicy, pinPolicy } from './pinned-policy.js';
 import { requestContext } from './request-context.js';
+import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
@@ -69,8 +70,10 @@ const ROUTES = {
   service: '/cds-services/:id',
   feedback: '/cds-services/:id/feedback',
   health: '/healthz',
-  policy: '/policy',
 } as const;
+
+/** Read by staff, not CDS clients: no preflight and no CORS, so other sites' scripts cannot read it. */
+const POLICY_ROUTE = '/policy';
 
 /**
  * Builds the express app. Route handlers are thin: they validate, call src/cds and src/fhir, and
@@ -143,7 +146,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   if (deps.review !== undefined) {
     // Outside /cds-services authentication: the review router decides its own access, and /policy
     // is read by the same staff under the same rule (routes/policy.ts).
-    app.get(ROUTES.policy, route('policy', policyHandler({ access: deps.review.access, clock: deps.clock })));
+    app.get(POLICY_ROUTE, reviewHeaders, route('policy', policyHandler({ access: deps.review.access, clock: deps.clock })));
     app.use('/review', (req, res, next) => {
       handlersFor(pinnedPolicy(res)).review?.(req, res, next);
     });

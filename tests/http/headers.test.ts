@@ -25,7 +25,6 @@ const CALLS: readonly (readonly [string, number, Call])[] = [
       .post(`${SERVICE}/feedback`)
       .send({ feedback: [{ card: 'c-1', outcome: 'overridden', outcomeTimestamp: '2025-03-14T09:00:00Z' }] })],
   ['liveness', 200, (app) => request(app).get('/healthz')],
-  ['the policy in force', 200, (app) => request(app).get('/policy')],
   ['a preflight', 204, (app) => request(app).options(SERVICE).set('Origin', 'https://ehr.larkspur-bay.example')],
   ['an invalid request', 400, (app) => request(app).post(SERVICE).send({ hook: 'order-sign' })],
   ['malformed JSON', 400, (app) => request(app).post(SERVICE).set('Content-Type', 'application/json').send('{')],
@@ -36,8 +35,7 @@ const CALLS: readonly (readonly [string, number, Call])[] = [
 
 describe('security headers', () => {
   it.each(CALLS)('are on %s (status %i)', async (_name, status, call) => {
-    // With the demo's staff access, so GET /policy is served too.
-    const { app } = await buildTestApp({ review: { access: { mode: 'demo' } } });
+    const { app } = await buildTestApp();
     const response = await call(app);
     expect(response.status).toBe(status);
     for (const [name, value] of Object.entries(SECURITY_HEADERS)) {

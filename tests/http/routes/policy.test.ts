@@ -5,6 +5,7 @@ import { describe, expect, it } from 'vitest';
 import { ENV_DEFAULTS } from '../../../src/config/env-config.js';
 import type { Policy } from '../../../src/core/policy.js';
 import { createPolicyHolder, type PolicySnapshot } from '../../../src/live-policy/policy-snapshot.js';
+import { REVIEW_HEADERS } from '../../../src/http/review-headers.js';
 import type { ReviewAccessConfig } from '../../../src/security/review-access.js';
 import { NOW } from '../larkspur-fixtures.js';
 import { LINK_SECRET } from '../support/review-app.js';
@@ -118,6 +119,18 @@ describe('GET /policy', () => {
       const { app } = await buildTestApp();
       expect((await request(app).get('/policy')).status).toBe(404);
     });
+  });
+
+  it('carries the review headers and no CORS, so another site cannot read it from a browser', async () => {
+    const { app } = await appWith(DEMO);
+    const res = await request(app).get('/policy').set('Origin', 'https://elsewhere.example');
+    expect(res.status).toBe(200);
+    for (const [name, value] of Object.entries(REVIEW_HEADERS)) {
+      expect(res.headers[name.toLowerCase()], name).toBe(value);
+    }
+    expect(res.headers['access-control-allow-origin']).toBeUndefined(); // Fetch Standard §CORS protocol
+    const preflight = await request(app).options('/policy').set('Origin', 'https://elsewhere.example');
+    expect(preflight.headers['access-control-allow-methods']).toBeUndefined();
   });
 
   describe('edge cases', () => {
