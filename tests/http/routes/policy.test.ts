@@ -99,20 +99,22 @@ describe('GET /policy', () => {
     });
 
     it.each([
-      ['production, the proxy without an identity', AS_PROXY, {}],
-      ['production, an identity from another address', OTHER_PROXY, { 'X-Authenticated-User': 'pharm.adeyemi', 'X-Forwarded-For': '10.20.0.5' }],
-      ['production, the identity sent twice', AS_PROXY, { 'X-Authenticated-User': ['pharm.adeyemi', 'admin'] }],
-      ['demo, asked for by a name that is not loopback', DEMO, { Host: 'rebind.example' }],
-    ] as const)('refuses %s with 403', async (_name, access, headers) => {
-      const { app } = await appWith(access);
+      ['production, the proxy without an identity', AS_PROXY, {}, 'no-identity'],
+      ['production, an identity from another address', OTHER_PROXY, { 'X-Authenticated-User': 'pharm.adeyemi', 'X-Forwarded-For': '10.20.0.5' }, 'not-from-proxy'],
+      ['production, the identity sent twice', AS_PROXY, { 'X-Authenticated-User': ['pharm.adeyemi', 'admin'] }, 'identity-unreadable'],
+      ['demo, asked for by a name that is not loopback', DEMO, { Host: 'rebind.example' }, 'demo-host-not-loopback'],
+    ] as const)('refuses %s with 403', async (_name, access, headers, reason) => {
+      const { app, log } = await appWith(access);
       let call = request(app).get('/policy');
-      for (const [name, value] of Object.entries(headers)) {
-        call = call.set(name, value as string | string[]);
+      for (const [name, value] of Object.entries(headers) as [string, string | readonly string[]][]) {
+        // A list goes out as one header line per item (node:http), which superagent's types do not say.
+        call = call.set(name, (typeof value === 'string' ? value : [...value]) as string);
       }
       const res = await call;
       expect(res.status).toBe(403);
       expect(res.body).toStrictEqual(REFUSED);
       expect(res.text).not.toContain(FILE_HASH);
+      expect(log.lines().find((line) => line['route'] === 'policy')).toMatchObject({ status: 403, reviewRefused: reason });
     });
 
     it('is not served when the app has no staff access set up', async () => {
