@@ -5,6 +5,7 @@ import type * as EnvConfigModule from '../src/config/env-config.js';
 import type * as LoadFilesModule from '../src/config/load-files.js';
 import type * as ReviewConfigModule from '../src/config/review-config.js';
 import type * as AppModule from '../src/http/app.js';
+import type * as PolicySnapshotModule from '../src/live-policy/policy-snapshot.js';
 import type * as LoggerModule from '../src/log/logger.js';
 import type * as AuthenticationModule from '../src/security/setup-authentication.js';
 import type * as ReviewAccessModule from '../src/security/setup-review-access.js';
@@ -37,6 +38,7 @@ async function main(arm: AuditArm, codeRoot: string): Promise<void> {
   const { formatLoadProblems, loadPolicyAndCards } = await load<typeof LoadFilesModule>('config/load-files.js');
   const { parseReviewConfig } = await load<typeof ReviewConfigModule>('config/review-config.js');
   const { createApp } = await load<typeof AppModule>('http/app.js');
+  const { createPolicyHolder, snapshotOf } = await load<typeof PolicySnapshotModule>('live-policy/policy-snapshot.js');
   const { createLogger } = await load<typeof LoggerModule>('log/logger.js');
   const { setUpAuthentication } = await load<typeof AuthenticationModule>('security/setup-authentication.js');
   const { setUpReviewAccess } = await load<typeof ReviewAccessModule>('security/setup-review-access.js');
@@ -82,14 +84,12 @@ async function main(arm: AuditArm, codeRoot: string): Promise<void> {
     refuse(review.problems);
   }
   const app = createApp(config, {
-    policy: files.policy,
-    templates: files.templates,
+    policy: createPolicyHolder(snapshotOf(files, new Date())),
     logger: log,
     clock: () => new Date(),
     fetch: globalThis.fetch,
     authenticate: auth.authenticate,
     store,
-    policyContentHash: files.policyContentHash,
     patientKey: (patient) => patientKey(secret.secret, patient),
     review: review.review,
   });

@@ -6,6 +6,9 @@ import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedF
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
+import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
+import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
+import { watchPolicyFiles, type PolicyWatch } from './live-policy/watch-policy.js';
 import { createLogger, type Logger } from './log/logger.js';
 import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
@@ -20,8 +23,9 @@ import type { Store } from './store/store.js';
  * start, with every problem listed, when any is wrong), open the store and the patient-key secret in
  * the data directory (refusing to start without them: a service that forgot its cards and feedback
  * would break the audit trail's promise), build the app, listen, purge expired records on a schedule,
- * and close cleanly on SIGTERM or SIGINT: the HTTP server first, then the store. Problems go to
- * stderr as plain lines, since the logger's level may hide them.
+ * reload the policy on SIGHUP (and on file change when `OXYGEN_CHECKER_POLICY_WATCH` is on; see
+ * src/live-policy), and close cleanly on SIGTERM or SIGINT: the HTTP server first, then the store.
+ * Problems go to stderr as plain lines, since the logger's level may hide them.
  */
 
 export const DEMO_MODE_NOTICE =
@@ -33,6 +37,11 @@ export const PRODUCTION_MODE_NOTICE =
 export interface StartedServer {
   readonly server: Server;
   readonly url: string;
+  /**
+   * Reads and checks the policy file and cards again; puts them in force only if they pass, else keeps
+   * the policy in force and logs every problem. SIGHUP calls it; so may tests. Never rejects.
+   */
+  readonly reloadPolicy: (trigger: ReloadTrigger) => Promise<ReloadOutcome>;
   readonly close: () => Promise<void>;
 }
 
@@ -117,15 +126,14 @@ async function startWithStore(
     patientKey(secret.secret, patient);
   // Seeded before listening, so the first page opened has content; logged after the listening line.
   const demoSeed = auth.kind === 'demo' ? await seedDemo(store, config, files, patientKeyOf) : undefined;
+  const policy = createPolicyHolder(snapshotOf(files, new Date()));
   const app = createApp(config, {
-    policy: files.policy,
-    templates: files.templates,
+    policy,
     logger: log,
     clock: () => new Date(),
     fetch: globalThis.fetch,
     authenticate: auth.authenticate,
     store,
-    policyContentHash: files.policyContentHash,
     patientKey: patientKeyOf,
     review: review.review,
   });
@@ -142,6 +150,7 @@ async function startWithStore(
     cardTemplates: files.templates.size,
     policyAcknowledgements: files.policyAcknowledgements,
     policyWarnings: files.policyWarnings.map(formatLoadProblem),
+    policyWatch: config.policyWatch,
     dataDir: config.store.dataDir,
     ...review.summary,
   };
@@ -166,9 +175,20 @@ async function startWithStore(
     clock: () => new Date(),
     logger: log,
   });
+  const reloader = createPolicyReloader({
+    holder: policy,
+    paths: config,
+    mode: config.security.mode,
+    logger: log,
+    clock: () => new Date(),
+  });
+  const watch: PolicyWatch | undefined = config.policyWatch
+    ? watchPolicyFiles({ paths: config, logger: log, onChange: () => void reloader.reload('file-change') })
+    : undefined;
   // Calls in flight get `OXYGEN_CHECKER_SHUTDOWN_GRACE_MS` to finish; then their connections are cut.
   const closeGracefully = prepareGracefulClose(server, config.shutdownGraceMs);
   const close = async (): Promise<void> => {
+    watch?.close();
     // Logged once the listener is closed, so the line is true when it is read.
     const closing = closeGracefully();
     log.info({ graceMs: config.shutdownGraceMs }, 'oxygen-order-checker stopping: no new connections');
@@ -178,7 +198,7 @@ async function startWithStore(
     await store.close();
     log.info(forced ? { forced } : {}, 'oxygen-order-checker stopped');
   };
-  return { kind: 'started', started: { server, url, close } };
+  return { kind: 'started', started: { server, url, reloadPolicy: (trigger) => reloader.reload(trigger), close } };
 }
 
 type DemoSeedOutcome = DemoSeedResult | { readonly kind: 'failed'; readonly errorType: string };
@@ -234,7 +254,14 @@ async function main(): Promise<void> {
     process.exitCode = 1;
     return;
   }
-  const { close } = result.started;
+  const { close, reloadPolicy } = result.started;
+  // SIGHUP is the usual "read your configuration again" signal for a daemon; without a listener
+  // Node would exit on it. The outcome is logged by the reloader.
+  const reload = (): void => {
+    void reloadPolicy('signal');
+  };
+  // Kept through shutdown: a late SIGHUP must not end the process before calls in flight finish.
+  process.on('SIGHUP', reload);
   const stop = (): void => {
     void close().then(() => {
       process.exitCode = 0;

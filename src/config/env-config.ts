@@ -34,6 +34,9 @@ export const ENV_DEFAULTS = {
   // Demo mode only (and the command line): production refuses to start without its own policy.
   OXYGEN_CHECKER_POLICY: bundledPath('policies', 'based-on-bts-2017.yaml'),
   OXYGEN_CHECKER_CARDS_DIR: bundledPath('cards'),
+  // Off: a policy change is loaded on SIGHUP, when the operator says so. On: also when the policy
+  // file or the cards folder changes on disk (src/live-policy/watch-policy.ts).
+  OXYGEN_CHECKER_POLICY_WATCH: false,
   LOG_LEVEL: 'info' as LogLevel,
   OXYGEN_CHECKER_BODY_LIMIT_BYTES: 1_048_576, // bytes (1 MiB); larger hook requests get 413
   // Allowed browser origins for CORS, comma-separated; `*` only suits the credential-free demo.
@@ -130,6 +133,8 @@ export interface EnvConfig {
   readonly port: number;
   readonly policyPath: string;
   readonly cardsDir: string;
+  /** Reload the policy when its file or the cards folder changes, as well as on SIGHUP. */
+  readonly policyWatch: boolean;
   readonly logLevel: LogLevel;
   readonly bodyLimitBytes: number;
   /** `'*'` (any origin, no credentials) or an explicit allowlist of origins. */
@@ -232,6 +237,7 @@ const EnvSchema = z.object({
   // Empty means unset: demo mode takes the bundled policy, production refuses (policyProblems).
   OXYGEN_CHECKER_POLICY: textVar(''),
   OXYGEN_CHECKER_CARDS_DIR: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_CARDS_DIR),
+  OXYGEN_CHECKER_POLICY_WATCH: booleanVar(ENV_DEFAULTS.OXYGEN_CHECKER_POLICY_WATCH),
   LOG_LEVEL: textVar(ENV_DEFAULTS.LOG_LEVEL).pipe(
     z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }),
   ),
@@ -422,6 +428,7 @@ export function parseEnvConfig(
       port: v.PORT,
       policyPath: v.OXYGEN_CHECKER_POLICY === '' ? ENV_DEFAULTS.OXYGEN_CHECKER_POLICY : absolute(v.OXYGEN_CHECKER_POLICY),
       cardsDir: absolute(v.OXYGEN_CHECKER_CARDS_DIR),
+      policyWatch: v.OXYGEN_CHECKER_POLICY_WATCH,
       logLevel: v.LOG_LEVEL,
       bodyLimitBytes: v.OXYGEN_CHECKER_BODY_LIMIT_BYTES,
       corsOrigins: v.OXYGEN_CHECKER_CORS_ORIGINS,

@@ -1,9 +1,8 @@
 import { randomUUID } from 'node:crypto';
 import express, { type Express } from 'express';
-import type { CardTemplates } from '../cds/card-templates.js';
 import { missingTemplates } from '../cds/evaluate-hook.js';
 import { ENV_DEFAULTS, type EnvConfig } from '../config/env-config.js';
-import type { Policy } from '../core/policy.js';
+import type { PolicyHolder } from '../live-policy/policy-snapshot.js';
 import type { Logger } from '../log/logger.js';
 import { reasonDisplaysFrom } from '../review/override-reasons.js';
 import type { ReviewAccessConfig } from '../security/review-access.js';
@@ -15,12 +14,15 @@ import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createGatherer, type Gather } from './gather-data.js';
 import { parseJsonBody, requireJsonContentType } from './json-body.js';
 import { createEvaluationGate } from './overload.js';
+import { perSnapshot, pinnedPolicy, pinPolicy } from './pinned-policy.js';
 import { requestContext } from './request-context.js';
+import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler } from './routes/health.js';
+import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
 import { securityHeaders } from './security-headers.js';
 
@@ -32,8 +34,11 @@ export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir
   Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>>;
 
 export interface AppDeps {
-  readonly policy: Policy;
-  readonly templates: CardTemplates;
+  /**
+   * The policy in force, with its content hash and card wording (src/live-policy): swapped whole by a
+   * reload. Each request takes the snapshot once when it arrives and keeps it (pinned-policy.ts).
+   */
+  readonly policy: PolicyHolder;
   readonly logger: Logger;
   /** The time a hook call is evaluated at; injected so tests are not at the mercy of the date. */
   readonly clock: () => Date;
@@ -45,8 +50,6 @@ export interface AppDeps {
   readonly gather?: Gather;
   /** The service's memory: every card issued is recorded there, and feedback is committed there. */
   readonly store: Store;
-  /** sha256 of the policy file bytes (load-files.ts): recorded with every advisory, on every card and log line. */
-  readonly policyContentHash: string;
   /** The keyed hash that stands for the patient in the audit trail (src/store/patient-key.ts). */
   readonly patientKey: PatientKeyOf;
   /** Defaults to random UUIDs. */
@@ -69,81 +72,94 @@ const ROUTES = {
   health: '/healthz',
 } as const;
 
+/** Read by staff, not CDS clients: no preflight and no CORS, so other sites' scripts cannot read it. */
+const POLICY_ROUTE = '/policy';
+
 /**
  * Builds the express app. Route handlers are thin: they validate, call src/cds and src/fhir, and
  * return a result that one writer sends; every error leaves through one JSON error middleware.
  */
 export function createApp(config: AppConfig, deps: AppDeps): Express {
   // A rule without wording would fail on the first call that fires it: fail when the app is built.
-  const unworded = missingTemplates(deps.templates);
+  // A reload checks the same before it swaps (load-files.ts), so a later snapshot cannot lack one.
+  const unworded = missingTemplates(deps.policy.current().templates);
   if (unworded.length > 0) {
     throw new Error(`createApp: no card template for rule(s) ${unworded.join(', ')}`);
   }
   const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
-  const audit = createAuditTrail({
-    store: deps.store,
-    logger: deps.logger,
-    policyContentHash: deps.policyContentHash,
-    patientKey: deps.patientKey,
-  });
+  const audit = createAuditTrail({ store: deps.store, logger: deps.logger, patientKey: deps.patientKey });
   const feedbackLimits = config.feedback ?? {
     maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
   const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT);
+  // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
+  const handlersFor = perSnapshot((snapshot) => ({
+    review:
+      deps.review === undefined
+        ? undefined
+        : reviewRouter(
+            {
+              store: deps.store,
+              access: deps.review.access,
+              policy: snapshot.policy,
+              reasonDisplay: reasonDisplaysFrom(snapshot.templates, snapshot.policy),
+              clock: deps.clock,
+            },
+            deps.logger,
+          ),
+    feedback: route(
+      'feedback',
+      feedbackHandler({
+        store: deps.store,
+        limits: feedbackLimits,
+        templates: snapshot.templates,
+        policy: snapshot.policy,
+        clock: deps.clock,
+        logger: deps.logger,
+        policyContentHash: snapshot.contentHash,
+      }),
+    ),
+    service: route(
+      'service',
+      serviceHandler({
+        policy: snapshot.policy,
+        policyContentHash: snapshot.contentHash,
+        templates: snapshot.templates,
+        clock: deps.clock,
+        gather,
+        audit: audit.forPolicy(snapshot.contentHash),
+        ...(deps.review?.linkFor === undefined ? {} : { reviewLinkFor: deps.review.linkFor }),
+      }),
+    ),
+  }));
   const app = express();
   app.disable('x-powered-by');
   app.set('etag', false);
 
   app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS }));
   app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID));
+  app.use(pinPolicy(deps.policy));
   app.use(corsHeaders(config.corsOrigins));
   // Browsers send preflights without credentials, so they are answered before authentication.
   app.options(Object.values(ROUTES), answerPreflight);
   app.get(ROUTES.health, route('healthz', healthHandler));
   if (deps.review !== undefined) {
-    // Outside /cds-services authentication: the review router decides its own access.
-    const { access } = deps.review;
-    const reasonDisplay = reasonDisplaysFrom(deps.templates, deps.policy);
-    app.use('/review', reviewRouter({ store: deps.store, access, policy: deps.policy, reasonDisplay, clock: deps.clock }, deps.logger));
+    // Outside /cds-services authentication: the review router decides its own access, and /policy
+    // is read by the same staff under the same rule (routes/policy.ts).
+    app.get(POLICY_ROUTE, reviewHeaders, route('policy', policyHandler({ access: deps.review.access, clock: deps.clock })));
+    app.use('/review', (req, res, next) => {
+      handlersFor(pinnedPolicy(res)).review?.(req, res, next);
+    });
   }
 
   app.use('/cds-services', requireAuthentication(deps.authenticate));
   app.use(requireJsonContentType);
   app.use(parseJsonBody(config.bodyLimitBytes));
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
-  app.post(
-    ROUTES.feedback,
-    route(
-      'feedback',
-      feedbackHandler({
-        store: deps.store,
-        limits: feedbackLimits,
-        templates: deps.templates,
-        policy: deps.policy,
-        clock: deps.clock,
-        logger: deps.logger,
-        policyContentHash: deps.policyContentHash,
-      }),
-    ),
-  );
+  app.post(ROUTES.feedback, (req, res, next) => handlersFor(pinnedPolicy(res)).feedback(req, res, next));
   // Admitted after the body is read: the cap counts evaluations, so a slow upload holds no slot.
-  app.post(
-    ROUTES.service,
-    gate.admit,
-    route(
-      'service',
-      serviceHandler({
-        policy: deps.policy,
-        policyContentHash: deps.policyContentHash,
-        templates: deps.templates,
-        clock: deps.clock,
-        gather,
-        audit,
-        ...(deps.review?.linkFor === undefined ? {} : { reviewLinkFor: deps.review.linkFor }),
-      }),
-    ),
-  );
+  app.post(ROUTES.service, gate.admit, (req, res, next) => handlersFor(pinnedPolicy(res)).service(req, res, next));
 
   app.use(notFound);
   app.use(jsonErrorHandler(deps.logger));

@@ -9,8 +9,6 @@ export type PatientKeyOf = (patient: { readonly fhirServer?: string; readonly pa
 export interface AuditTrailDeps {
   readonly store: Store;
   readonly logger: Logger;
-  /** sha256 of the policy file bytes, from load-files.ts. */
-  readonly policyContentHash: string;
   readonly patientKey: PatientKeyOf;
 }
 
@@ -27,7 +25,7 @@ export type AuditCallFacts = Omit<AuditCall, 'policyContentHash' | 'patientKey'>
 export function auditRecordsFor(
   evaluation: HookEvaluation,
   call: AuditCallFacts,
-  deps: Pick<AuditTrailDeps, 'policyContentHash' | 'patientKey'>,
+  deps: Pick<AuditTrailDeps, 'patientKey'> & { readonly policyContentHash: string },
 ): AdvisoryRecord[] {
   const patientKey = deps.patientKey(
     call.fhirServer === undefined ? { patientId: call.patientId } : { fhirServer: call.fhirServer, patientId: call.patientId },
@@ -61,16 +59,23 @@ function describeFailure(error: unknown): Record<string, string> {
   return typeof code === 'string' ? { errorType, errorCode: code.slice(0, 64) } : { errorType };
 }
 
-export function createAuditTrail(deps: AuditTrailDeps): AuditTrail {
+/** The trail for each policy in force in turn; one count of failures across them all. */
+export interface AuditTrails {
+  /** Records under `policyContentHash`: the hash of the policy snapshot that produced the cards. */
+  forPolicy(policyContentHash: string): AuditTrail;
+  failures(): number;
+}
+
+export function createAuditTrail(deps: AuditTrailDeps): AuditTrails {
   let failures = 0;
-  return {
+  const forPolicy = (policyContentHash: string): AuditTrail => ({
     async record(evaluation, call, requestId) {
       if (evaluation.audit.cards.length === 0) {
         return 'recorded';
       }
       const cards = evaluation.audit.cards;
       try {
-        await deps.store.recordAdvisories(auditRecordsFor(evaluation, call, deps));
+        await deps.store.recordAdvisories(auditRecordsFor(evaluation, call, { patientKey: deps.patientKey, policyContentHash }));
         return 'recorded';
       } catch (error) {
         failures += 1;
@@ -90,5 +95,6 @@ export function createAuditTrail(deps: AuditTrailDeps): AuditTrail {
       }
     },
     failures: () => failures,
-  };
+  });
+  return { forPolicy, failures: () => failures };
 }

@@ -37,6 +37,10 @@ export const ERROR_CATALOGUE = {
     status: 403,
     message: 'Open the review pages through the hospital sign-in, or with a current link from the advisory card.',
   },
+  CDS_ERR_POLICY_ACCESS_DENIED: {
+    status: 403,
+    message: 'Read the policy in force through the hospital sign-in.',
+  },
   CDS_ERR_SERVICE_NOT_FOUND: {
     status: 404,
     message: 'No CDS service has that id; GET /cds-services lists them.',

@@ -19,6 +19,7 @@ describe('parseEnvConfig', () => {
         port: 8080, // project default
         policyPath: bundledPath('policies', 'based-on-bts-2017.yaml'),
         cardsDir: bundledPath('cards'),
+        policyWatch: false, // project default: reload on SIGHUP only
         logLevel: 'info',
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
@@ -50,6 +51,7 @@ describe('parseEnvConfig', () => {
         PORT: '9090',
         OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml',
         OXYGEN_CHECKER_CARDS_DIR: '/etc/oxygen-order-checker/cards',
+        OXYGEN_CHECKER_POLICY_WATCH: 'true',
         LOG_LEVEL: 'warn',
         OXYGEN_CHECKER_BODY_LIMIT_BYTES: '65536',
         OXYGEN_CHECKER_CORS_ORIGINS: 'https://ehr.larkspur-bay.example, https://test.larkspur-bay.example:8443',
@@ -87,6 +89,7 @@ describe('parseEnvConfig', () => {
         port: 9090,
         policyPath: '/srv/oxygen-order-checker/local/larkspur-bay.yaml',
         cardsDir: '/etc/oxygen-order-checker/cards',
+        policyWatch: true,
         logLevel: 'warn',
         bodyLimitBytes: 65_536,
         corsOrigins: ['https://ehr.larkspur-bay.example', 'https://test.larkspur-bay.example:8443'],

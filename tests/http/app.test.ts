@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { discoveryResponse } from '../../src/cds/services.js';
 import { createApp } from '../../src/http/app.js';
 import { allowEveryRequest } from '../../src/http/auth.js';
+import { createPolicyHolder, snapshotOf } from '../../src/live-policy/policy-snapshot.js';
 import { createLogger } from '../../src/log/logger.js';
 import { expectConformant } from '../helpers/card-conformance.js';
 import { openTempStore, testPatientKey } from '../helpers/temp-store.js';
@@ -19,14 +20,12 @@ describe('createApp', () => {
     templates.delete('spo2-below-target');
     expect(() =>
       createApp(TEST_CONFIG, {
-        policy: files.policy,
-        templates,
+        policy: createPolicyHolder(snapshotOf({ ...files, templates }, NOW)),
         logger: createLogger({ level: 'silent', destination: createMemoryLog().stream }),
         clock: () => NOW,
         fetch: globalThis.fetch,
         authenticate: allowEveryRequest,
         store: openTempStore().store,
-        policyContentHash: files.policyContentHash,
         patientKey: testPatientKey,
       }),
     ).toThrow('createApp: no card template for rule(s) spo2-below-target');

@@ -45,7 +45,8 @@ const onRejection = (reason: unknown): void => {
 beforeAll(async () => {
   process.on('unhandledRejection', onRejection);
   fhir = await startFaultFhirServer({ slowMs: 60_000 });
-  const built = await buildTestApp({ clock: () => now }, { fhir: LIMITS });
+  // The demo's staff access, so GET /policy is on the routes fuzzed too.
+  const built = await buildTestApp({ clock: () => now, review: { access: { mode: 'demo' } } }, { fhir: LIMITS });
   log = built.log;
   server = await listenApp(built.app);
 });
@@ -83,6 +84,7 @@ const PATHS = [
   '/cds-services',
   '/cds-services/no-such-service',
   '/healthz',
+  '/policy',
 ] as const;
 
 const CONTENT_TYPES = [

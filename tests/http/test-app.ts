@@ -3,6 +3,7 @@ import { ENV_DEFAULTS } from '../../src/config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from '../../src/config/load-files.js';
 import { createApp, type AppConfig, type AppDeps } from '../../src/http/app.js';
 import { allowEveryRequest } from '../../src/http/auth.js';
+import { createPolicyHolder, snapshotOf, type PolicySnapshot } from '../../src/live-policy/policy-snapshot.js';
 import { createLogger } from '../../src/log/logger.js';
 import { openTempStore, testPatientKey } from '../helpers/temp-store.js';
 import { createMemoryLog, type MemoryLog } from '../log/memory-log.js';
@@ -18,6 +19,11 @@ export async function loadBundledFiles() {
     throw new Error(`bundled files invalid:\n${formatLoadProblems(files.problems)}`);
   }
   return files;
+}
+
+/** The bundled files as the snapshot the server starts with, loaded at the fixtures' clock. */
+export async function bundledSnapshot(): Promise<PolicySnapshot> {
+  return snapshotOf(await loadBundledFiles(), NOW);
 }
 
 export const TEST_CONFIG: AppConfig = {
@@ -39,20 +45,17 @@ export async function buildTestApp(
   overrides: Partial<AppDeps> = {},
   config: Partial<AppConfig> = {},
 ): Promise<TestApp> {
-  const files = await loadBundledFiles();
   const log = createMemoryLog();
   let next = 0;
   const app = createApp(
     { ...TEST_CONFIG, ...config },
     {
-      policy: files.policy,
-      templates: files.templates,
+      policy: overrides.policy ?? createPolicyHolder(await bundledSnapshot()),
       logger: createLogger({ level: 'info', destination: log.stream }),
       clock: () => NOW,
       fetch: globalThis.fetch,
       authenticate: allowEveryRequest,
       newRequestId: () => `req-${++next}`,
-      policyContentHash: files.policyContentHash,
       patientKey: testPatientKey,
       ...overrides,
       store: overrides.store ?? openTempStore().store,

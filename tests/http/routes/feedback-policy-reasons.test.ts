@@ -8,7 +8,8 @@ import type { Policy } from '../../../src/core/policy.js';
 import { parsePolicyText } from '../../../src/policy/parse-policy.js';
 import { openTempStore } from '../../helpers/temp-store.js';
 import { loadExamples } from '../support/fuzz-requests.js';
-import { buildTestApp } from '../test-app.js';
+import { createPolicyHolder } from '../../../src/live-policy/policy-snapshot.js';
+import { bundledSnapshot, buildTestApp } from '../test-app.js';
 
 /**
  * The override reasons a policy sets are offered on the cards, accepted as offered by the feedback
@@ -34,7 +35,8 @@ function larkspurPolicy(merge: 'add' | 'replace'): Policy {
 
 async function issue(policy: Policy) {
   const { store } = openTempStore();
-  const { app, log } = await buildTestApp({ store, policy, clock: () => NOW, review: { access: { mode: 'demo' } } });
+  const holder = createPolicyHolder({ ...(await bundledSnapshot()), policy });
+  const { app, log } = await buildTestApp({ store, policy: holder, clock: () => NOW, review: { access: { mode: 'demo' } } });
   const response = await request(app).post('/cds-services/oxygen-order-sign').send(example?.body);
   const cards = (response.body as { cards: Card[] }).cards;
   if (cards.length === 0) throw new Error('expected cards');
