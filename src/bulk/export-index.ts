@@ -7,7 +7,7 @@ import type { FhirResource } from '../fhir/gathered-data.js';
 import { oxygenOrderType, type OrderResourceType } from '../fhir/is-oxygen-order.js';
 import { NdjsonProblems, readNdjsonFile, type NdjsonReadOptions } from './ndjson-reader.js';
 import { conditionKnownMs, fhirTimeMs, matchesObservationPrefetch, observationTimes, orderEndMs, patientOf, referencedId } from './resource-times.js';
-import { INDEX_SCHEMA, INDEX_SECONDARY, prepareIndexQueries, type IndexQueries } from './index-queries.js';
+import { INDEX_SCHEMA, INDEX_SECONDARY, prepareIndexQueries, toOrder, type IndexQueries } from './index-queries.js';
 
 /**
  * An on-disk SQLite index of a FHIR Bulk Data export, so that for one oxygen order the record as it
@@ -80,18 +80,18 @@ export class ExportIndex {
   }
 
   /** Every replayable oxygen order, in authoredOn order (then type and id), paged so memory stays flat. */
-  *orders(pageSize = 500): Generator<IndexedOrder> {
+  *orders(pageSize = 100): Generator<IndexedOrder> {
     let after: { authoredMs: number; type: string; id: string } = { authoredMs: -Infinity, type: '', id: '' };
     for (;;) {
       const page = this.#queries.orderPage(after, pageSize);
-      for (const order of page) {
-        yield order;
+      for (const row of page) {
+        yield toOrder(row);
       }
       const last = page.at(-1);
       if (last === undefined || page.length < pageSize) {
         return;
       }
-      after = last;
+      after = { authoredMs: last.authored_ms, type: last.type, id: last.id };
     }
   }
 

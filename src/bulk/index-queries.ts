@@ -26,7 +26,7 @@ CREATE INDEX order_by_time ON oxygen_order (authored_ms, type, id);
 CREATE INDEX order_by_patient ON oxygen_order (patient, authored_ms);
 `;
 
-interface OrderRow {
+export interface OrderRow {
   readonly type: OrderResourceType;
   readonly id: string;
   readonly patient: string;
@@ -35,7 +35,7 @@ interface OrderRow {
   readonly body: string;
 }
 
-function toOrder(row: OrderRow): IndexedOrder {
+export function toOrder(row: OrderRow): IndexedOrder {
   return {
     type: row.type,
     id: row.id,
@@ -50,7 +50,8 @@ function toOrder(row: OrderRow): IndexedOrder {
 const parseBody = (row: { readonly body: string }): FhirResource => JSON.parse(row.body) as FhirResource;
 
 export interface IndexQueries {
-  orderPage(after: { authoredMs: number; type: string; id: string }, limit: number): IndexedOrder[];
+  /** A page of orders as rows; each is parsed only when it is reached (`toOrder`), so a page holds no parsed JSON. */
+  orderPage(after: { authoredMs: number; type: string; id: string }, limit: number): OrderRow[];
   patient(id: string): FhirResource | undefined;
   encounter(id: string): FhirResource | undefined;
   observationsAsOf(patient: string, atMs: number, limit: number): FhirResource[];
@@ -89,10 +90,9 @@ export function prepareIndexQueries(db: Database.Database): IndexQueries {
   const ordersOf = db.prepare<[string], OrderRow>(`SELECT ${ORDER_COLUMNS} FROM oxygen_order WHERE patient = ? ORDER BY authored_ms, type, id`);
   return {
     orderPage: (after, limit) =>
-      (after.authoredMs === -Infinity
+      after.authoredMs === -Infinity
         ? firstPage.all(limit)
-        : orderPage.all(after.authoredMs, after.authoredMs, after.type, after.type, after.id, limit)
-      ).map(toOrder),
+        : orderPage.all(after.authoredMs, after.authoredMs, after.type, after.type, after.id, limit),
     patient: (id) => {
       const row = patient.get(id);
       return row === undefined ? undefined : parseBody(row);

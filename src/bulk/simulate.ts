@@ -11,6 +11,7 @@ import { createGatherer } from '../http/gather-data.js';
 import type { ExportIndex } from './export-index.js';
 import type { NdjsonProblem } from './ndjson-reader.js';
 import { buildOrderSignRequest, recordAsOf } from './order-sign-request.js';
+import { fullCollector } from './full-collection.js';
 import { fhirTimeMs } from './resource-times.js';
 import { SimulationTally, type Advisory, type TallySnapshot } from './simulation-tally.js';
 
@@ -85,6 +86,8 @@ const refuseFetch: typeof fetch = () => Promise.reject(new Error('simulate does 
 const gather = createGatherer({ fetch: refuseFetch, limits: { callTimeoutMs: 1, budgetMs: 1, maxResponseBytes: 0, maxPages: 1 } });
 
 const YIELD_EVERY_ORDERS = 20;
+/** How often the replay asks for a full collection (see full-collection.ts). */
+const COLLECT_EVERY_ORDERS = 250;
 
 export type ProgressListener = (done: number, total: number) => void;
 
@@ -107,9 +110,14 @@ export async function runSimulation(
   tally.skipBeforeReplay('no-authored-on', index.skippedOrders['no-authored-on']);
   tally.skipBeforeReplay('no-patient', index.skippedOrders['no-patient']);
   const total = index.counts.oxygenOrders;
+  const collect = fullCollector();
+  collect(); // what indexing left behind
   let done = 0;
   for (const order of index.orders()) {
     done += 1;
+    if (done % COLLECT_EVERY_ORDERS === 0) {
+      collect();
+    }
     if (done % YIELD_EVERY_ORDERS === 0) {
       // Awaiting only promises never returns to the event loop, and V8's foreground tasks (finishing a
       // major garbage collection among them) wait for it: without this the heap grows with the export.

@@ -33,6 +33,9 @@ function padLeft(text: string, width: number): string {
   return text.length >= width ? text : ' '.repeat(width - text.length) + text;
 }
 
+/** How many examples of each kind of change the text shows (the JSON and HTML keep all the tally holds). */
+export const SUMMARY_EXAMPLES_PER_KIND = 2;
+
 export function formatSimulationSummary(report: SimulationReport, exportDir: string): string {
   const t = report.tally;
   const skipped = t.ordersSeen - t.ordersEvaluated;
@@ -60,11 +63,11 @@ export function formatSimulationSummary(report: SimulationReport, exportDir: str
   }
   const kindsWithExamples = CHANGE_KINDS.filter((k) => t.examples[k].length > 0);
   if (kindsWithExamples.length > 0) {
-    lines.push('', 'Examples of changed advice (order, ward, SpO2 at order time; before → after):');
+    lines.push('', `Examples of changed advice, the first ${SUMMARY_EXAMPLES_PER_KIND} of each kind (order, ward, SpO2 at order time; before → after):`);
   }
   for (const kind of kindsWithExamples) {
     lines.push(`  ${CHANGE_WORDS[kind]}:`);
-    for (const e of t.examples[kind]) {
+    for (const e of t.examples[kind].slice(0, SUMMARY_EXAMPLES_PER_KIND)) {
       const spo2 = e.spo2Percent === undefined ? 'no current SpO2' : `SpO2 ${e.spo2Percent} %`;
       lines.push(`    ${e.orderReference} (${e.authoredOn}), ${e.ward ?? 'ward not recorded'}, ${spo2}`);
       lines.push(`      before: ${e.before.join(', ') || 'no advisories'}`);
