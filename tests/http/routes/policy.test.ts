@@ -76,7 +76,7 @@ describe('GET /policy', () => {
     const first = await bundledSnapshot();
     const snapshot: PolicySnapshot = {
       ...first,
-      policy: { ...first.policy, effectiveFrom: '2027-01-04' } as Policy,
+      policy: { ...first.policy, effectiveFrom: '2027-01-04' },
       acknowledgements: [{ ruleId: 'acute-hypercapnic-acidosis', change: 'disabled', reason: 'Invented demo reason for the test' }],
       warnings: [{ file: '/etc/larkspur-bay/private/policy.yaml', path: 'hypercapnicRisk.conditions.9', message: 'is not known to carry hypercapnic risk', line: 30, column: 7 }],
     };
