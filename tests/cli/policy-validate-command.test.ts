@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
@@ -27,6 +27,19 @@ describe('oxygen-order-checker policy validate', () => {
     expect(old.stdout).toBe(current.stdout);
     expect(old.stderr).toBe("oxygen-order-checker: note: 'validate-policy' is now 'policy validate'; the old name still works for now.\n");
     expect(current.stderr).toBe('');
+  });
+
+  it('checks the card-wording folder as the service does: a local card for no rule exits 2 naming that file', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'larkspur-wording-'));
+    mkdirSync(join(dir, 'larkspur-cards'));
+    // An invented local card named after a rule id that does not exist (a typing slip).
+    writeFileSync(join(dir, 'larkspur-cards', 'spo2-abvoe-target.yaml'), 'summary: "x"\ndetail: "y"\noverrideReasons:\n  - { code: other, display: Other }\n');
+    const policy = join(dir, 'policy.yaml');
+    writeFileSync(policy, readFileSync(bundled('based-on-bts-2017.yaml'), 'utf8').replace('cardWording: {}', 'cardWording: { folder: ./larkspur-cards }'));
+    const run = await runCommandLine(['policy', 'validate', policy]);
+    expect(run.code).toBe(2);
+    expect(run.stdout).toContain(`${policy}: not valid with its cards: 1 error`);
+    expect(run.stdout).toContain('spo2-abvoe-target.yaml');
   });
 
   it('exits 1 when the file cannot be read, and 2 without exactly one FILE', async () => {
