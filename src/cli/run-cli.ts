@@ -52,9 +52,9 @@ const COMMANDS: Readonly<Record<string, Command>> = {
   'policy diff': { run: runPolicyDiffCommand, usage: POLICY_DIFF_USAGE, summary: 'what changed between two policy files, in clinical terms' },
   'policy schema': { run: runPolicySchemaCommand, usage: POLICY_SCHEMA_USAGE, summary: 'a JSON Schema of the policy format, for editors' },
   'policy test': { run: runPolicyTestCommand, usage: POLICY_TEST_USAGE, summary: "run the hospital's own cases against a policy" },
-  simulate: { run: runSimulateCommand, usage: SIMULATE_USAGE, section: 'records' },
-  audit: { run: runAuditCommand, usage: AUDIT_USAGE, section: 'records' },
-  'demo-export': { run: runDemoExportCommand, usage: DEMO_EXPORT_USAGE, section: 'records' },
+  simulate: { run: runSimulateCommand, usage: SIMULATE_USAGE, section: 'records', summary: "what a new policy would have changed on an export's past orders" },
+  audit: { run: runAuditCommand, usage: AUDIT_USAGE, section: 'records', summary: 'oxygen audit figures per ward and overall from an export' },
+  'demo-export': { run: runDemoExportCommand, usage: DEMO_EXPORT_USAGE, section: 'records', summary: 'an invented Bulk Data export of the demo hospital, of any size' },
   'validate-policy': { run: runPolicyValidateCommand, usage: POLICY_VALIDATE_USAGE, renamedTo: 'policy validate' },
 };
 
