@@ -77,6 +77,9 @@ function unitRow(unit: UnitTargets, index: number): Row {
 }
 
 const litres = (n: number): string => `${formatNumber(n, 1)} L/min`;
+/** "1–4 L/min"; "15 L/min" for a device run at one flow only. */
+const flowLimits = (l: { readonly from: number; readonly to: number }): string =>
+  l.from === l.to ? litres(l.to) : `${formatNumber(l.from, 1)}–${litres(l.to)}`;
 
 function deviceRows(view: PolicyView): Row[] {
   const { kinds, venturiValves, usualVenturiValvesNotStocked } = view.devices;
@@ -86,7 +89,7 @@ function deviceRows(view: PolicyView): Row[] {
     .flatMap((k) =>
       k.kind === 'venturi-mask'
         ? venturiValves.map((v) => ({ label: `Venturi mask, ${formatNumber(v.fio2Percent, 1)} % valve`, value: `O2 at least ${litres(v.minimumFlowLPerMin)}` }))
-        : [{ label: k.label, value: k.flowLPerMin === undefined ? '' : `${formatNumber(k.flowLPerMin.from, 1)}–${litres(k.flowLPerMin.to)}` }],
+        : [{ label: k.label, value: k.flowLPerMin === undefined ? '' : flowLimits(k.flowLPerMin) }],
     );
   const notStocked = kinds.filter((k) => !k.stocked).map((k) => k.label);
   rows.push({

@@ -470,6 +470,8 @@ const describedSeparately = (d: RawDiff): boolean => {
 
 const range = (r: SaturationRange): string => `${String(r.lowPercent)}–${String(r.highPercent)} %`;
 const litres = (n: number): string => `${String(n)} L/min`;
+/** "1–4 L/min"; "15 L/min" when a device is run at one flow only. */
+const flows = (l: { readonly from: number; readonly to: number }): string => (l.from === l.to ? litres(l.to) : `${String(l.from)}–${litres(l.to)}`);
 
 function effectiveFromChanges(before: Policy, after: Policy): PolicyChange[] {
   if (before.effectiveFrom === after.effectiveFrom) return [];
@@ -603,17 +605,17 @@ function deviceChanges(before: Policy, after: Policy): PolicyChange[] {
     const label = DEVICE_MODELS[kind].label;
     const path = `devices.flowLimits.${kind}`;
     if (a === undefined && b !== undefined) {
-      out.push({ heading, path, kind: 'added', new: b, text: `now stocked: ${label}, ${String(b.from)}–${litres(b.to)}` });
+      out.push({ heading, path, kind: 'added', new: b, text: `now stocked: ${label}, ${flows(b)}` });
     } else if (a !== undefined && b === undefined) {
       out.push({
         heading,
         path,
         kind: 'removed',
         old: a,
-        text: `no longer stocked: ${label} (was ${String(a.from)}–${litres(a.to)}): no card offers it; an order for it is still checked`,
+        text: `no longer stocked: ${label} (was ${flows(a)}): no card offers it; an order for it is still checked`,
       });
     } else if (a !== undefined && b !== undefined) {
-      out.push({ heading, path, kind: 'changed', old: a, new: b, text: `${label} flow limits: ${String(a.from)}–${litres(a.to)} → ${String(b.from)}–${litres(b.to)}` });
+      out.push({ heading, path, kind: 'changed', old: a, new: b, text: `${label} flow limits: ${flows(a)} → ${flows(b)}` });
     }
   }
   const valves = (p: Policy): { percent: number; minimumFlowLPerMin: number }[] =>

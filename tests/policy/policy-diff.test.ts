@@ -330,6 +330,9 @@ describe('diffPolicies', () => {
       // BTS 2017 Tables 2 and 4: 1-6 L/min; above about 4 L/min often poorly tolerated.
       const cannula = edited(['nasal-cannula: { flowLPerMin: { from: 1, to: 6 } }', 'nasal-cannula: { flowLPerMin: { from: 1, to: 4 } }']);
       expect(texts(BTS, cannula, 'Devices stocked')).toStrictEqual(['Nasal cannula flow limits: 1–6 L/min → 1–4 L/min']);
+      // BTS 2017, Table 2: reservoir mask at 15 L/min; a hospital that runs it at that flow only.
+      const reservoir = edited(['reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }', 'reservoir-mask: { flowLPerMin: { from: 15, to: 15 } }']);
+      expect(texts(BTS, reservoir, 'Devices stocked')).toStrictEqual(['Reservoir mask flow limits: 10–15 L/min → 15 L/min']);
     });
 
     it('says a Venturi valve added, removed, or with another minimum flow, and Venturi masks no longer stocked', () => {
