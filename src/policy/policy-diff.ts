@@ -685,6 +685,8 @@ function clinicalBasisChanges(before: Policy, after: Policy): PolicyChange[] {
   ].sort();
   const moves = new Map<string, { from: string; to: string; ruleIds: string[] }>();
   for (const ruleId of ruleIds) {
+    // A rule the new file switches off gives no cards, so what they would cite is no change to report.
+    if (after.disabledRules.includes(ruleId)) continue;
     const from = cites(before, ruleId);
     const to = cites(after, ruleId);
     if (from === to) continue;

@@ -247,13 +247,16 @@ describe('diffPolicies', () => {
       // Invariant: a card moves iff the TSANZ preset leaves it on its primary; listed rules keep BTS 2017.
       for (const ruleId of listedForBts) expect(ruleIds).not.toContain(ruleId);
       expect(ruleIds).toContain('spo2-above-target'); // reduce oxygen above the range: TSANZ 2015 says so too (from memory)
+      // The TSANZ preset switches NEWS2 Scale 2 off: it gives no cards, so nothing it would cite is a change.
+      expect(ruleIds).not.toContain('news2-scale-2');
       expect(change.text).toBe(`the cards of ${ruleIds.length} rules now cite TSANZ 2015 instead of BTS 2017: ${ruleIds.join(', ')}`);
       // The ventilation thresholds cite BTS/ICS 2016 in both presets, so that line does not appear.
       expect(cite.some((c) => c.path.startsWith('clinicalBasis.topicCitations'))).toBe(false);
       expect(diff.changes.some((c) => c.heading === 'Other changes')).toBe(false);
-      // And back: the same cards, the other way.
+      // And back: the same cards the other way, with NEWS2 Scale 2, switched back on, citing BTS 2017.
       const back = only(diffPolicies(version(tsanzText), version(BTS)).changes.filter((c) => c.path === 'clinicalBasis.ruleCitations'));
-      expect(back.text).toBe(`the cards of ${ruleIds.length} rules now cite BTS 2017 instead of TSANZ 2015: ${ruleIds.join(', ')}`);
+      const backIds = [...ruleIds, 'news2-scale-2'].sort();
+      expect(back.text).toBe(`the cards of ${backIds.length} rules now cite BTS 2017 instead of TSANZ 2015: ${backIds.join(', ')}`);
     });
 
     it('reads the ICU example against the BTS preset without structural fallbacks for the new sections', () => {
