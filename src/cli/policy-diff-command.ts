@@ -6,9 +6,11 @@ import { parseOptions } from './parse-options.js';
 export const POLICY_DIFF_USAGE = `Usage: oxygen-order-checker policy diff OLD NEW [--json]
 
 Shows what changed from the policy file OLD (e.g. the one in use) to NEW, in clinical terms, grouped by
-heading: target ranges, who is at risk of hypercapnic respiratory failure, thresholds with their units,
-freshness windows, rules switched on or off, indicators raised or lowered, acknowledgements, site,
-population and special conditions; then any other change by its path. The identity (id, version and
+heading: the date it applies from, target ranges, unit overrides, who is at risk of hypercapnic
+respiratory failure, thresholds with their units, freshness windows, rules switched on or off,
+indicators raised or lowered, acknowledgements, the devices stocked and their Venturi valves, what the
+cards cite, card wording and override reasons, site, population and special conditions; then any
+other change by its path. The identity (id, version and
 content hash) is shown too, so two files that differ only in their bytes are still told apart.
   --json  print the changes as JSON for scripts
 It is a report: exit 0 whenever both files are valid, changed or not; 1 when a file cannot be read;

@@ -3,14 +3,16 @@ import type { UnitTargets } from '../core/policy.js';
 import { parsePolicyText } from '../policy/parse-policy.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { parseOptions } from './parse-options.js';
-import { policyView, type PolicyView, type ShownRange } from './policy-view.js';
+import { policyView, type GuidelineView, type PolicyView, type ShownRange } from './policy-view.js';
 
 export const POLICY_SHOW_USAGE = `Usage: oxygen-order-checker policy show FILE [--unit NAME] [--json]
 
 Shows the effective targets and thresholds of a policy file as a table, each with its unit: the SpO2
 ranges, which conditions carry a risk of hypercapnic respiratory failure, the critical SpO2, the NIV
 and ventilation thresholds, high FiO2, freshness windows, the titration review, the rules switched
-off or with changed indicators, the acknowledgements with their reasons, and effectiveFrom.
+off or with changed indicators, the acknowledgements with their reasons, effectiveFrom, the devices
+stocked with their flow limits and Venturi valves, the guidelines the cards cite, the local card
+wording folder, and the override reasons the policy offers on cards.
 
   --unit NAME   the values on one unit: NAME as the record names the encounter's location (or a
                 Location reference or identifier); says which unit override matched, or that none did
@@ -72,6 +74,74 @@ function unitRow(unit: UnitTargets, index: number): Row {
     unit.targets.hypercapnicRisk === undefined ? undefined : `at risk ${formatRange(unit.targets.hypercapnicRisk)}`,
   ].filter((r) => r !== undefined);
   return { label: `${index + 1}. ${unit.name}`, value: ranges.join('; '), note: matchers.join('; ') };
+}
+
+const litres = (n: number): string => `${formatNumber(n, 1)} L/min`;
+/** "1–4 L/min"; "15 L/min" for a device run at one flow only. */
+const flowLimits = (l: { readonly from: number; readonly to: number }): string =>
+  l.from === l.to ? litres(l.to) : `${formatNumber(l.from, 1)}–${litres(l.to)}`;
+
+function deviceRows(view: PolicyView): Row[] {
+  const { kinds, venturiValves, usualVenturiValvesNotStocked } = view.devices;
+  // One row per Venturi valve: the nurse looks for a valve by its setting and reads its flow.
+  const rows: Row[] = kinds
+    .filter((k) => k.stocked)
+    .flatMap((k) =>
+      k.kind === 'venturi-mask'
+        ? venturiValves.map((v) => ({ label: `Venturi mask, ${formatNumber(v.fio2Percent, 1)} % valve`, value: `O2 at least ${litres(v.minimumFlowLPerMin)}` }))
+        : [{ label: k.label, value: k.flowLPerMin === undefined ? '' : flowLimits(k.flowLPerMin) }],
+    );
+  const notStocked = kinds.filter((k) => !k.stocked).map((k) => k.label);
+  rows.push({
+    label: 'Not stocked',
+    value: notStocked.length === 0 ? 'none' : `${notStocked.join(', ')}: no card offers ${notStocked.length === 1 ? 'it' : 'them'}`,
+  });
+  if (venturiValves.length > 0) {
+    rows.push({
+      label: 'Usual Venturi valves not stocked',
+      value:
+        usualVenturiValvesNotStocked.length === 0
+          ? 'none'
+          : `${usualVenturiValvesNotStocked.map((p) => `${formatNumber(p, 1)} %`).join(', ')}: no card offers ${usualVenturiValvesNotStocked.length === 1 ? 'it' : 'them'}`,
+    });
+  }
+  return rows;
+}
+
+const labelOf = (g: GuidelineView): string => g.label ?? `'${g.key}'`;
+
+function clinicalBasisRows(view: PolicyView): Row[] {
+  const { guidelines, citedForRules, topics } = view.clinicalBasis;
+  const primary = guidelines.find((g) => g.primary);
+  const primaryLabel = primary === undefined ? labelOf({ key: view.policy.basis.key, label: view.policy.basis.label }) : labelOf(primary);
+  const rules = (n: number): string => `${n} ${n === 1 ? 'rule' : 'rules'}`;
+  return [
+    { label: 'Guidelines followed', value: guidelines.map((g) => `${labelOf(g)}${g.primary ? ' (primary)' : ''}`).join(', ') },
+    ...citedForRules.map((c) => ({ label: `Cards citing ${labelOf(c)}`, value: `${rules(c.ruleIds.length)}: ${c.ruleIds.join(', ')}` })),
+    { label: citedForRules.length === 0 ? 'Every card cites' : 'Every other card cites', value: `${primaryLabel} (primary)` },
+    ...topics.map((t) => ({
+      label: `${t.topic[0]?.toUpperCase() ?? ''}${t.topic.slice(1)} thresholds cite`,
+      value: `${labelOf(t)}${t.setBy === 'primary' ? ' (primary; none named for the topic)' : ''}`,
+    })),
+  ];
+}
+
+function cardRows(view: PolicyView): Row[] {
+  const { merge, allCards, byRule } = view.overrideReasons;
+  const reason = (r: { readonly code: string; readonly display: string }): string => `"${r.display}" (${r.code})`;
+  const count = (n: number): string => `${n} ${n === 1 ? 'reason' : 'reasons'}`;
+  return [
+    {
+      label: 'Local card wording folder',
+      value: view.cardWording.folder === undefined ? 'none: the bundled wording for every card' : `${view.cardWording.folder} (from the policy file's folder)`,
+    },
+    {
+      label: 'Override reasons merged by',
+      value: merge === 'add' ? "add: after each card file's own reasons" : "replace: instead of the card file's, for a rule the policy gives any",
+    },
+    { label: 'Reasons on every card', value: allCards.length === 0 ? 'none' : allCards.map(reason).join('; ') },
+    { label: 'Reasons for one rule', value: byRule.length === 0 ? 'none' : byRule.map((r) => `${r.ruleId}: ${count(r.count)}`).join(', ') },
+  ];
 }
 
 function sections(view: PolicyView): Section[] {
@@ -178,6 +248,9 @@ function sections(view: PolicyView): Section[] {
     },
     { title: 'Acknowledgements', rows: acks.length === 0 ? [{ label: 'none', value: '' }] : acks },
     { title: 'Unit overrides (the first that matches wins)', rows: view.units.length === 0 ? [{ label: 'none', value: '' }] : view.units.map(unitRow) },
+    { title: 'Devices stocked (device catalogue): flow limits, Venturi valves with their minimum O2 flow', rows: deviceRows(view) },
+    { title: 'What the cards cite (clinical basis)', rows: clinicalBasisRows(view) },
+    { title: 'Card wording and override reasons', rows: cardRows(view) },
   ];
 }
 

@@ -1,7 +1,9 @@
-import type { Policy } from '../core/policy.js';
-import type { Indicator } from '../core/types.js';
+import { DEVICE_MODELS } from '../core/devices/index.js';
+import type { OverrideReasonText, Policy, UnitTargets } from '../core/policy.js';
+import { DEVICE_KINDS, type Indicator, type SaturationRange } from '../core/types.js';
+import { GUIDELINE_TOPICS } from './card-sections-schema.js';
 import type { PolicyAcknowledgement } from './parse-policy.js';
-import { defaultIndicatorOf } from './rule-ids.js';
+import { defaultIndicatorOf, registeredRuleIds } from './rule-ids.js';
 
 /**
  * What changed between two policies, in the oxygen team's terms: "critical SpO2: below 85 % → below
@@ -23,8 +25,10 @@ export interface PolicyVersion {
 
 export const HEADINGS = [
   'Identity',
+  'When it applies',
   'Basis and site',
   'Target ranges',
+  'Unit overrides',
   'Who is at risk of hypercapnic respiratory failure',
   'Population',
   'Special conditions',
@@ -33,6 +37,9 @@ export const HEADINGS = [
   'Titration review',
   'Rules and indicators',
   'Acknowledgements',
+  'Devices stocked',
+  'What the cards cite',
+  'Card wording and override reasons',
   'References and cautions',
   'Other changes',
 ] as const;
@@ -323,16 +330,21 @@ function describe(d: RawDiff, oldPolicy: Policy, newPolicy: Policy): PolicyChang
   }
   let text = `${wording.label}: ${value(d.old)} → ${value(d.new)}`;
   if (isRecord(d.old) && isRecord(d.new) && typeof d.old['lowPercent'] === 'number' && typeof d.new['lowPercent'] === 'number') {
-    const low = d.new['lowPercent'] - d.old['lowPercent'];
-    const high = Number(d.new['highPercent']) - Number(d.old['highPercent']);
-    const moved = (n: number): string => (n === 0 ? 'unchanged' : `${Math.abs(n)} ${Math.abs(n) === 1 ? 'point' : 'points'} ${n > 0 ? 'higher' : 'lower'}`);
-    text += low === high ? ` (both bounds ${moved(low)})` : ` (lower bound ${moved(low)}, upper bound ${moved(high)})`;
+    text += rangeMove(d.old as unknown as SaturationRange, d.new as unknown as SaturationRange);
   }
   // Within 0.05 mmHg (under 0.01 kPa): a value converted by hand and rounded is the same threshold.
   if (isRecord(d.old) && isRecord(d.new) && typeof d.old['mmHg'] === 'number' && Math.abs(d.old['mmHg'] - Number(d.new['mmHg'])) < 0.05) {
     text += ' (the same pressure, written differently)';
   }
   return { heading: wording.heading, path, kind, old: d.old, new: d.new, text };
+}
+
+/** " (both bounds 2 points lower)": how a range moved, so a reader need not subtract. */
+function rangeMove(before: SaturationRange, after: SaturationRange): string {
+  const low = after.lowPercent - before.lowPercent;
+  const high = after.highPercent - before.highPercent;
+  const moved = (n: number): string => (n === 0 ? 'unchanged' : `${Math.abs(n)} ${Math.abs(n) === 1 ? 'point' : 'points'} ${n > 0 ? 'higher' : 'lower'}`);
+  return low === high ? ` (both bounds ${moved(low)})` : ` (lower bound ${moved(low)}, upper bound ${moved(high)})`;
 }
 
 /** Hex characters of the content hash shown, as on cards' source labels (src/cds/build-card.ts). */
@@ -400,7 +412,8 @@ export function diffPolicies(before: PolicyVersion, after: PolicyVersion): Polic
     return found ? { ...c, text: `${c.text}; acknowledged` } : c;
   };
   const changes = [
-    ...raw.map((d) => acknowledged(describe(d, before.policy, after.policy))),
+    ...raw.filter((d) => !describedSeparately(d)).map((d) => acknowledged(describe(d, before.policy, after.policy))),
+    ...describedSections(before.policy, after.policy),
     ...acknowledgementChanges(before.acknowledgements ?? [], after.acknowledgements ?? []),
   ];
   // Stable: within a heading, changes keep the order of the policy file.
@@ -426,4 +439,363 @@ export function policyDiffText(diff: PolicyDiff): string {
           'policy test and simulate show what they do to the advice; the oxygen committee decides.',
   );
   return `${lines.join('\n')}\n`;
+}
+
+/*
+ * Sections with wording of their own, compared as the oxygen team reads them rather than key by key:
+ * unit overrides by unit name, the device catalogue by device and valve, the guideline each card ends
+ * up citing, and override reasons by code. A key added inside these sections later, that none of the
+ * functions below reads, still reaches "Other changes" through the structural walk.
+ */
+
+/** Key paths the functions below describe; raw differences under them are not shown twice. */
+const DESCRIBED_SEPARATELY: readonly string[] = [
+  'effectiveFrom',
+  'units',
+  'devices.flowLimits',
+  'devices.venturiSettings',
+  'clinicalBasis.guidelineKeys',
+  'clinicalBasis.ruleCitations',
+  'clinicalBasis.topicCitations',
+  'cardWording.folder',
+  'overrideReasons.merge',
+  'overrideReasons.allCards',
+  'overrideReasons.byRule',
+];
+
+const describedSeparately = (d: RawDiff): boolean => {
+  const key = keyPath(d.path);
+  return DESCRIBED_SEPARATELY.some((p) => key === p || key.startsWith(`${p}.`));
+};
+
+const range = (r: SaturationRange): string => `${String(r.lowPercent)}–${String(r.highPercent)} %`;
+const litres = (n: number): string => `${String(n)} L/min`;
+/** "1–4 L/min"; "15 L/min" when a device is run at one flow only. */
+const flows = (l: { readonly from: number; readonly to: number }): string => (l.from === l.to ? litres(l.to) : `${String(l.from)}–${litres(l.to)}`);
+
+function effectiveFromChanges(before: Policy, after: Policy): PolicyChange[] {
+  if (before.effectiveFrom === after.effectiveFrom) return [];
+  const date = (d: string | undefined): string => d ?? 'not stated (in effect once loaded)';
+  const kind: PolicyChange['kind'] = before.effectiveFrom === undefined ? 'added' : after.effectiveFrom === undefined ? 'removed' : 'changed';
+  return [
+    {
+      heading: 'When it applies',
+      path: 'effectiveFrom',
+      kind,
+      old: before.effectiveFrom,
+      new: after.effectiveFrom,
+      text: `effective from: ${date(before.effectiveFrom)} → ${date(after.effectiveFrom)}`,
+    },
+  ];
+}
+
+const UNIT_RANGES = [
+  ['standard', 'standard range'],
+  ['hypercapnicRisk', 'at-risk range'],
+] as const;
+
+function unitRanges(unit: UnitTargets): string {
+  const own = UNIT_RANGES.flatMap(([key, label]) => {
+    const r = unit.targets[key];
+    return r === undefined ? [] : [`${label} ${range(r)}`];
+  });
+  return own.length === 0 ? 'no range of its own' : own.join(', ');
+}
+
+function unitMatchers(unit: UnitTargets): string[] {
+  return [
+    ...unit.match.names.map((n) => `name "${n}"`),
+    ...unit.match.patterns.map((p) => `pattern "${p}"`),
+    ...unit.match.locations.map((l) => `location ${l}`),
+  ];
+}
+
+function unitChanges(before: Policy, after: Policy): PolicyChange[] {
+  const heading = 'Unit overrides' as const;
+  const out: PolicyChange[] = [];
+  const at = (name: string): string => `units[name=${name}]`;
+  for (const old of before.units) {
+    const now = after.units.find((u) => u.name === old.name);
+    if (now === undefined) {
+      out.push({
+        heading,
+        path: at(old.name),
+        kind: 'removed',
+        old,
+        text: `unit removed: ${old.name} (was ${unitRanges(old)}; matched by ${unitMatchers(old).join(', ')}): its patients get the policy's own ranges`,
+      });
+      continue;
+    }
+    for (const [key, label] of UNIT_RANGES) {
+      const a = old.targets[key];
+      const b = now.targets[key];
+      if (sameValue(a, b)) continue;
+      const words = (r: SaturationRange | undefined, policy: Policy): string =>
+        r === undefined ? `the policy's own (${range(policy.targets[key])})` : range(r);
+      out.push({
+        heading,
+        path: `${at(old.name)}.targets.${key}`,
+        kind: a === undefined ? 'added' : b === undefined ? 'removed' : 'changed',
+        old: a,
+        new: b,
+        text: `${old.name} ${label}: ${words(a, before)} → ${words(b, after)}${a !== undefined && b !== undefined ? rangeMove(a, b) : ''}`,
+      });
+    }
+    const was = unitMatchers(old);
+    const is = unitMatchers(now);
+    const added = is.filter((m) => !was.includes(m));
+    const removed = was.filter((m) => !is.includes(m));
+    if (added.length > 0 || removed.length > 0) {
+      const parts = [
+        ...(added.length === 0 ? [] : [`now also matched by ${added.join(', ')}`]),
+        ...(removed.length === 0 ? [] : [`no longer matched by ${removed.join(', ')}`]),
+      ];
+      out.push({ heading, path: `${at(old.name)}.match`, kind: 'changed', old: old.match, new: now.match, text: `${old.name}: ${parts.join('; ')}` });
+    }
+    if (old.basisKey !== now.basisKey) {
+      const cites = (key: string | undefined, policy: Policy): string => (key === undefined ? "'local-policy' (the default)" : referenceLabel(policy, key));
+      out.push({
+        heading,
+        path: `${at(old.name)}.basisKey`,
+        kind: 'changed',
+        old: old.basisKey,
+        new: now.basisKey,
+        text: `${old.name} cards cite: ${cites(old.basisKey, before)} → ${cites(now.basisKey, after)}`,
+      });
+    }
+  }
+  for (const now of after.units) {
+    if (before.units.some((u) => u.name === now.name)) continue;
+    out.push({
+      heading,
+      path: at(now.name),
+      kind: 'added',
+      new: now,
+      text: `unit added: ${now.name}: ${unitRanges(now)}; matched by ${unitMatchers(now).join(', ')}`,
+    });
+  }
+  // The first unit that matches wins, so the order of units kept in both files is advice too.
+  const kept = (from: Policy, other: Policy): string[] => from.units.map((u) => u.name).filter((n) => other.units.some((u) => u.name === n));
+  const oldOrder = kept(before, after);
+  const newOrder = kept(after, before);
+  if (!sameValue(oldOrder, newOrder)) {
+    out.push({
+      heading,
+      path: 'units',
+      kind: 'changed',
+      old: oldOrder,
+      new: newOrder,
+      text: `order the units are tried in (the first that matches wins): ${oldOrder.join(', ')} → ${newOrder.join(', ')}`,
+    });
+  }
+  return out;
+}
+
+// Percent from a fraction without binary noise: 0.28 is 28 %, as the valves are labelled.
+const valvePercent = (fraction: number): number => Math.round(fraction * 1000) / 10;
+
+function deviceChanges(before: Policy, after: Policy): PolicyChange[] {
+  const heading = 'Devices stocked' as const;
+  const out: PolicyChange[] = [];
+  for (const kind of DEVICE_KINDS) {
+    if (kind === 'venturi-mask') continue;
+    const a = before.devices.flowLimits[kind];
+    const b = after.devices.flowLimits[kind];
+    if (sameValue(a, b)) continue;
+    const label = DEVICE_MODELS[kind].label;
+    const path = `devices.flowLimits.${kind}`;
+    if (a === undefined && b !== undefined) {
+      out.push({ heading, path, kind: 'added', new: b, text: `now stocked: ${label}, ${flows(b)}` });
+    } else if (a !== undefined && b === undefined) {
+      out.push({
+        heading,
+        path,
+        kind: 'removed',
+        old: a,
+        text: `no longer stocked: ${label} (was ${flows(a)}): no card offers it; an order for it is still checked`,
+      });
+    } else if (a !== undefined && b !== undefined) {
+      out.push({ heading, path, kind: 'changed', old: a, new: b, text: `${label} flow limits: ${flows(a)} → ${flows(b)}` });
+    }
+  }
+  const valves = (p: Policy): { percent: number; minimumFlowLPerMin: number }[] =>
+    p.devices.venturiSettings.map((v) => ({ percent: valvePercent(v.fio2Fraction), minimumFlowLPerMin: v.minimumFlowLPerMin }));
+  const was = valves(before);
+  const is = valves(after);
+  const valveWords = (list: readonly { percent: number; minimumFlowLPerMin: number }[]): string =>
+    list.map((v) => `${String(v.percent)} % (O2 at least ${litres(v.minimumFlowLPerMin)})`).join(', ');
+  if (was.length > 0 && is.length === 0) {
+    out.push({
+      heading,
+      path: 'devices.venturiSettings',
+      kind: 'removed',
+      old: was,
+      text: `no longer stocked: Venturi mask (was valves ${valveWords(was)}): no card offers it; an order for it is still checked`,
+    });
+  } else if (was.length === 0 && is.length > 0) {
+    out.push({ heading, path: 'devices.venturiSettings', kind: 'added', new: is, text: `now stocked: Venturi mask, valves ${valveWords(is)}` });
+  } else {
+    for (const v of was) {
+      const now = is.find((w) => w.percent === v.percent);
+      const path = `devices.venturiSettings[fio2Percent=${String(v.percent)}]`;
+      if (now === undefined) {
+        out.push({ heading, path, kind: 'removed', old: v, text: `Venturi valve no longer stocked: ${valveWords([v])}: no card offers it` });
+      } else if (now.minimumFlowLPerMin !== v.minimumFlowLPerMin) {
+        out.push({
+          heading,
+          path,
+          kind: 'changed',
+          old: v,
+          new: now,
+          text: `Venturi ${String(v.percent)} % valve, minimum O2 flow: ${litres(v.minimumFlowLPerMin)} → ${litres(now.minimumFlowLPerMin)}`,
+        });
+      }
+    }
+    for (const v of is) {
+      if (was.some((w) => w.percent === v.percent)) continue;
+      out.push({ heading, path: `devices.venturiSettings[fio2Percent=${String(v.percent)}]`, kind: 'added', new: v, text: `Venturi valve now stocked: ${valveWords([v])}` });
+    }
+  }
+  return out;
+}
+
+function labelOnly(policy: Policy, key: string): string {
+  return policy.references[key]?.label ?? `'${key}'`;
+}
+
+function clinicalBasisChanges(before: Policy, after: Policy): PolicyChange[] {
+  const heading = 'What the cards cite' as const;
+  const out: PolicyChange[] = [];
+  const path = 'clinicalBasis.guidelineKeys';
+  for (const key of before.clinicalBasis.guidelineKeys) {
+    if (!after.clinicalBasis.guidelineKeys.includes(key)) {
+      out.push({ heading, path, kind: 'removed', old: key, text: `guideline no longer followed: ${referenceLabel(before, key)}` });
+    }
+  }
+  for (const key of after.clinicalBasis.guidelineKeys) {
+    if (!before.clinicalBasis.guidelineKeys.includes(key)) {
+      out.push({ heading, path, kind: 'added', new: key, text: `guideline followed added: ${referenceLabel(after, key)}` });
+    }
+  }
+  // What each card ends up citing (its own citation, else the primary), so a change of primary shows
+  // on the cards it moves and not on those that keep citing the same guideline.
+  const cites = (p: Policy, ruleId: string): string => p.clinicalBasis.ruleCitations[ruleId] ?? p.basisKey;
+  const ruleIds = [
+    ...new Set([...registeredRuleIds(), ...Object.keys(before.clinicalBasis.ruleCitations), ...Object.keys(after.clinicalBasis.ruleCitations)]),
+  ].sort();
+  const moves = new Map<string, { from: string; to: string; ruleIds: string[] }>();
+  for (const ruleId of ruleIds) {
+    // A rule the new file switches off gives no cards, so what they would cite is no change to report.
+    if (after.disabledRules.includes(ruleId)) continue;
+    const from = cites(before, ruleId);
+    const to = cites(after, ruleId);
+    if (from === to) continue;
+    const move = moves.get(`${from}\n${to}`) ?? { from, to, ruleIds: [] };
+    move.ruleIds.push(ruleId);
+    moves.set(`${from}\n${to}`, move);
+  }
+  for (const move of moves.values()) {
+    const n = move.ruleIds.length;
+    out.push({
+      heading,
+      path: 'clinicalBasis.ruleCitations',
+      kind: 'changed',
+      old: { guideline: move.from, ruleIds: move.ruleIds },
+      new: { guideline: move.to, ruleIds: move.ruleIds },
+      text: `the cards of ${n} ${n === 1 ? 'rule' : 'rules'} now cite ${labelOnly(after, move.to)} instead of ${labelOnly(before, move.from)}: ${move.ruleIds.join(', ')}`,
+    });
+  }
+  for (const topic of GUIDELINE_TOPICS) {
+    const from = before.clinicalBasis.topicCitations[topic] ?? before.basisKey;
+    const to = after.clinicalBasis.topicCitations[topic] ?? after.basisKey;
+    if (from === to) continue;
+    out.push({
+      heading,
+      path: `clinicalBasis.topicCitations.${topic}`,
+      kind: 'changed',
+      old: from,
+      new: to,
+      text: `${topic} thresholds cite: ${labelOnly(before, from)} → ${labelOnly(after, to)}`,
+    });
+  }
+  return out;
+}
+
+function reasonChanges(where: string, path: string, a: readonly OverrideReasonText[], b: readonly OverrideReasonText[]): PolicyChange[] {
+  const heading = 'Card wording and override reasons' as const;
+  const words = (r: OverrideReasonText): string => `"${r.display}" (${r.code})`;
+  const out: PolicyChange[] = [];
+  for (const r of a) {
+    const now = b.find((x) => x.code === r.code);
+    if (now === undefined) {
+      out.push({ heading, path: `${path}[code=${r.code}]`, kind: 'removed', old: r, text: `override reason on ${where} removed: ${words(r)}` });
+    } else if (now.display !== r.display) {
+      out.push({
+        heading,
+        path: `${path}[code=${r.code}]`,
+        kind: 'changed',
+        old: r,
+        new: now,
+        text: `override reason on ${where} reworded: ${r.code}: "${r.display}" → "${now.display}"`,
+      });
+    }
+  }
+  for (const r of b) {
+    if (!a.some((x) => x.code === r.code)) {
+      out.push({ heading, path: `${path}[code=${r.code}]`, kind: 'added', new: r, text: `override reason on ${where} added: ${words(r)}` });
+    }
+  }
+  return out;
+}
+
+function cardChanges(before: Policy, after: Policy): PolicyChange[] {
+  const heading = 'Card wording and override reasons' as const;
+  const out: PolicyChange[] = [];
+  const a = before.cardWording.folder;
+  const b = after.cardWording.folder;
+  if (a !== b) {
+    const folder = (f: string | undefined): string => (f === undefined ? 'none (the bundled wording)' : `'${f}'`);
+    out.push({
+      heading,
+      path: 'cardWording.folder',
+      kind: a === undefined ? 'added' : b === undefined ? 'removed' : 'changed',
+      old: a,
+      new: b,
+      text: `local card wording folder: ${folder(a)} → ${folder(b)}`,
+    });
+  }
+  const merge = { add: "add (after each card file's own reasons)", replace: "replace (instead of the card file's, for a rule the policy gives any)" };
+  if (before.overrideReasons.merge !== after.overrideReasons.merge) {
+    out.push({
+      heading,
+      path: 'overrideReasons.merge',
+      kind: 'changed',
+      old: before.overrideReasons.merge,
+      new: after.overrideReasons.merge,
+      text: `override reasons merged by: ${merge[before.overrideReasons.merge]} → ${merge[after.overrideReasons.merge]}`,
+    });
+  }
+  out.push(...reasonChanges('every card', 'overrideReasons.allCards', before.overrideReasons.allCards, after.overrideReasons.allCards));
+  const ruleIds = [...new Set([...Object.keys(before.overrideReasons.byRule), ...Object.keys(after.overrideReasons.byRule)])].sort();
+  for (const ruleId of ruleIds) {
+    out.push(
+      ...reasonChanges(
+        `${ruleId} cards`,
+        `overrideReasons.byRule.${ruleId}`,
+        before.overrideReasons.byRule[ruleId] ?? [],
+        after.overrideReasons.byRule[ruleId] ?? [],
+      ),
+    );
+  }
+  return out;
+}
+
+function describedSections(before: Policy, after: Policy): PolicyChange[] {
+  return [
+    ...effectiveFromChanges(before, after),
+    ...unitChanges(before, after),
+    ...deviceChanges(before, after),
+    ...clinicalBasisChanges(before, after),
+    ...cardChanges(before, after),
+  ];
 }

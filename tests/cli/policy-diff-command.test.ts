@@ -26,7 +26,12 @@ describe('oxygen-order-checker policy diff', () => {
     // BTS 2017 Tables 1-3: 94-98 %; TSANZ 2015: 92-96 %.
     expect(run.stdout).toContain('Target ranges\n  standard target (patients not at risk of hypercapnia): 94–98 % → 92–96 % (both bounds 2 points lower)\n');
     expect(run.stdout).toContain('Rules and indicators\n  switched off: news2-scale-2 (its cards: info by default)\n');
-    expect(run.stdout).toContain('3 changes besides the identity.');
+    // policies/based-on-tsanz-2015.yaml clinicalBasis: TSANZ 2015 primary; the rules it lists keep citing BTS 2017.
+    expect(run.stdout).toContain("What the cards cite\n  guideline no longer followed: 'rcp-news2-2017' (NEWS2 (RCP 2017))\n");
+    expect(run.stdout).toMatch(/\n {2}the cards of \d+ rules now cite TSANZ 2015 instead of BTS 2017: .*spo2-above-target/);
+    expect(run.stdout).not.toMatch(/now cite TSANZ 2015 instead of BTS 2017: .*pneumothorax-oxygen/); // BTS 2017, Table 2: cited in both
+    expect(run.stdout).not.toContain('Other changes');
+    expect(run.stdout).toContain('6 changes besides the identity.');
   });
 
   it('gives the same changes as JSON with --json', async () => {

@@ -145,6 +145,120 @@ describe('oxygen-order-checker policy show', () => {
     expect(view.warnings).toStrictEqual([]);
   });
 
+  describe('the device catalogue, the clinical basis, card wording and override reasons', () => {
+    /** Every row under a section title, up to the blank line that ends it. */
+    function section(stdout: string, title: string): string[] {
+      const lines = stdout.split('\n');
+      const start = lines.findIndex((l) => l.startsWith(title));
+      if (start < 0) throw new Error(`no section '${title}' in:\n${stdout}`);
+      const end = lines.findIndex((l, i) => i > start && l === '');
+      return lines.slice(start + 1, end < 0 ? undefined : end);
+    }
+
+    it('shows each stocked device with its flow limits in L/min and each Venturi valve with its minimum O2 flow', async () => {
+      const run = await runCommandLine([...COMMAND, bundled('based-on-bts-2017.yaml')]);
+      expect(run.code).toBe(0);
+      expect(row(run.stdout, 'Nasal cannula')).toBe('1–6 L/min'); // BTS 2017, Tables 2 and 4
+      expect(row(run.stdout, 'Simple face mask')).toBe('5–10 L/min'); // BTS 2017, Table 2
+      expect(row(run.stdout, 'Reservoir mask')).toBe('10–15 L/min'); // BTS 2017, Table 2 (15 L/min); BTS 2008 (10-15)
+      expect(row(run.stdout, 'Venturi mask, 24 % valve')).toBe('O2 at least 2 L/min'); // BTS 2017, Table 4
+      expect(row(run.stdout, 'Venturi mask, 28 % valve')).toBe('O2 at least 4 L/min'); // BTS 2017, Table 4
+      expect(row(run.stdout, 'Venturi mask, 60 % valve')).toBe('O2 at least 15 L/min'); // device labelling convention (common practice)
+      // The preset stocks every kind and every usual valve (24, 28, 31, 35, 40, 50, 60 %: common practice).
+      expect(row(run.stdout, 'Not stocked')).toBe('none');
+      expect(row(run.stdout, 'Usual Venturi valves not stocked')).toBe('none');
+      const valves = section(run.stdout, 'Devices stocked').filter((l) => l.includes('% valve'));
+      expect(valves).toHaveLength(7);
+      // Ascending by setting, minimum flows rising with it (air-entrainment mass balance).
+      const flows = valves.map((l) => Number(/at least (\d+) L\/min/.exec(l)?.[1]));
+      expect(flows).toStrictEqual([...flows].sort((a, b) => a - b));
+    });
+
+    it('names the device kinds and usual Venturi valves a catalogue leaves out, in text and in --json', async () => {
+      // A hospital that buys no 24 % valve and keeps no CPAP or NIV on its wards (invented, Larkspur Bay).
+      const text = btsText().replace(/^ {6}- \{ fio2Percent: 24,.*\n/m, '').replace(/^ {2}cpap-niv: .*\n/m, '');
+      expect(text).not.toContain('fio2Percent: 24');
+      const file = writePolicy(text);
+      const run = await runCommandLine([...COMMAND, file]);
+      expect(run.code).toBe(0);
+      expect(run.stdout).not.toContain('Venturi mask, 24 % valve');
+      expect(row(run.stdout, 'Venturi mask, 28 % valve')).toBe('O2 at least 4 L/min'); // BTS 2017, Table 4
+      expect(row(run.stdout, 'Not stocked')).toBe('CPAP or NIV: no card offers it');
+      expect(row(run.stdout, 'Usual Venturi valves not stocked')).toBe('24 %: no card offers it'); // BTS 2017 Table 4 names the 24 % valve
+      const view = (JSON.parse((await runCommandLine([...COMMAND, file, '--json'])).stdout) as PolicyView).devices;
+      expect(view.usualVenturiValvesNotStocked).toStrictEqual([24]);
+      expect(view.venturiValves[0]).toStrictEqual({ fio2Percent: 28, minimumFlowLPerMin: 4 }); // BTS 2017, Table 4
+      const cpap = view.kinds.find((k) => k.kind === 'cpap-niv');
+      expect(cpap?.stocked).toBe(false);
+      expect(cpap?.flowLPerMin).toBeUndefined();
+      expect(view.kinds.find((k) => k.kind === 'nasal-cannula')).toMatchObject({ stocked: true, flowLPerMin: { from: 1, to: 6 } }); // BTS 2017, Tables 2 and 4
+    });
+
+    it('says Venturi masks are not stocked when no valve is, rather than listing the valves missing', async () => {
+      const text = btsText().replace(/^ {2}venturi-mask:\n {4}settings:.*\n( {6}- .*\n)+/m, '');
+      const run = await runCommandLine([...COMMAND, writePolicy(text)]);
+      expect(run.code).toBe(0);
+      expect(row(run.stdout, 'Not stocked')).toBe('Venturi mask: no card offers it');
+      expect(run.stdout).not.toContain('Usual Venturi valves not stocked');
+    });
+
+    it('shows the TSANZ preset citing BTS 2017 for exactly the rules its clinical basis lists, and the ventilation topic', async () => {
+      const run = await runCommandLine([...COMMAND, bundled('based-on-tsanz-2015.yaml')]);
+      expect(run.code).toBe(0);
+      // policies/based-on-tsanz-2015.yaml clinicalBasis: TSANZ 2015 primary; BTS 2017 for the statements
+      // that are BTS 2017's (e.g. pneumothorax at 15 L/min, BTS 2017 Table 2; 24 % Venturi, Table 4).
+      expect(row(run.stdout, 'Guidelines followed')).toBe('TSANZ 2015 (primary), BTS 2017, BTS/ICS 2016');
+      const cited = row(run.stdout, 'Cards citing BTS 2017');
+      const listed = [...readFileSync(bundled('based-on-tsanz-2015.yaml'), 'utf8').matchAll(/^ {4}([a-z0-9-]+): bts-2017\b/gm)].map((m) => m[1]);
+      expect(listed.length).toBeGreaterThan(0);
+      expect(cited).toBe(`${listed.length} rules: ${[...listed].sort().join(', ')}`);
+      expect(cited).toContain('pneumothorax-oxygen'); // BTS 2017, Table 2
+      expect(cited).toContain('uncontrolled-oxygen-at-risk'); // BTS 2017, Table 4
+      expect(row(run.stdout, 'Every other card cites')).toBe('TSANZ 2015 (primary)');
+      expect(row(run.stdout, 'Ventilation thresholds cite')).toBe('BTS/ICS 2016'); // NIV and invasive ventilation thresholds (BTS/ICS 2016)
+      const view = (JSON.parse((await runCommandLine([...COMMAND, bundled('based-on-tsanz-2015.yaml'), '--json'])).stdout) as PolicyView)
+        .clinicalBasis;
+      expect(view.citedForRules).toStrictEqual([{ key: 'bts-2017', label: 'BTS 2017', ruleIds: [...listed].sort() }]);
+      expect(view.guidelines.filter((g) => g.primary)).toStrictEqual([{ key: 'tsanz-2015', label: 'TSANZ 2015', primary: true }]);
+      expect(view.topics).toStrictEqual([{ key: 'bts-ics-2016', label: 'BTS/ICS 2016', topic: 'ventilation', setBy: 'policy' }]);
+    });
+
+    it('says every card cites the primary when no rule names another, and a rule listed with the primary is not another', async () => {
+      const text = btsText().replace(/^ {2}ruleCitations: \{\}.*$/m, '  ruleCitations: { spo2-below-target: bts-2017 }');
+      expect(text).toContain('ruleCitations: { spo2-below-target: bts-2017 }');
+      const run = await runCommandLine([...COMMAND, writePolicy(text)]);
+      expect(run.code).toBe(0);
+      expect(row(run.stdout, 'Every card cites')).toBe('BTS 2017 (primary)');
+      expect(run.stdout).not.toContain('Cards citing');
+    });
+
+    it('shows the card wording folder and the override reasons the policy adds, with per-rule counts', async () => {
+      const text = btsText()
+        .replace(/^cardWording: \{\}.*$/m, 'cardWording: { folder: ./larkspur-cards }')
+        .replace(/^ {2}merge: add .*$/m, '  merge: replace')
+        .replace(/^ {2}allCards: \[\].*$/m, '  allCards: [{ code: discussed-with-consultant, display: "Discussed with the consultant on call" }]')
+        .replace(
+          /^ {2}byRule: \{\}.*$/m,
+          '  byRule:\n    target-differs-from-policy:\n      - { code: outreach-agreed-target, display: "Target agreed with outreach" }\n      - { code: palliative-plan, display: "Palliative care plan" }',
+        );
+      const file = writePolicy(text);
+      const run = await runCommandLine([...COMMAND, file]);
+      expect(run.code).toBe(0);
+      expect(row(run.stdout, 'Local card wording folder')).toBe("./larkspur-cards (from the policy file's folder)");
+      expect(row(run.stdout, 'Override reasons merged by')).toBe("replace: instead of the card file's, for a rule the policy gives any");
+      expect(row(run.stdout, 'Reasons on every card')).toBe('"Discussed with the consultant on call" (discussed-with-consultant)');
+      expect(row(run.stdout, 'Reasons for one rule')).toBe('target-differs-from-policy: 2 reasons');
+      const view = JSON.parse((await runCommandLine([...COMMAND, file, '--json'])).stdout) as PolicyView;
+      expect(view.cardWording).toStrictEqual({ folder: './larkspur-cards' });
+      expect(view.overrideReasons.merge).toBe('replace');
+      expect(view.overrideReasons.byRule.map((r) => [r.ruleId, r.count])).toStrictEqual([['target-differs-from-policy', 2]]);
+      const bundledRun = await runCommandLine([...COMMAND, bundled('based-on-bts-2017.yaml')]);
+      expect(row(bundledRun.stdout, 'Local card wording folder')).toBe('none: the bundled wording for every card');
+      expect(row(bundledRun.stdout, 'Reasons on every card')).toBe('none');
+      expect(row(bundledRun.stdout, 'Override reasons merged by')).toBe("add: after each card file's own reasons");
+    });
+  });
+
   describe('edge cases', () => {
     it('refuses an invalid file with exit 2, as policy validate does, naming each problem and pointing to policy validate', async () => {
       const file = writePolicy(btsText().replace('lowPercent: 94', 'lowPercent: 99'));
