@@ -118,6 +118,31 @@ describe('based-on-tsanz-2015 gives the TSANZ 2015 targets', () => {
     expect(policy.references[policy.basisKey]?.citation).toContain('Respirology 2015;20:1182'); // the guideline itself
   });
 
+  it('says, beside each value carried over from BTS 2017, that it is BTS\'s and not TSANZ\'s', () => {
+    const lines = text('based-on-tsanz-2015').split('\n');
+    const line = (key: string): string => lines.find((l) => l.trimStart().startsWith(`${key}:`)) ?? `${key}: (missing)`;
+    // BTS 2017 Tables 2-4 and its clarification: values TSANZ 2015 does not give (or we have not read in it).
+    for (const key of [
+      'conditions', // BTS 2017, Table 4
+      'hypercapniaPaco2AtLeast', // BTS 2017 clarification
+      'criticalSpo2BelowPercent', // BTS 2017, Table 2
+      'venturiTachypnoeaRespRateAbove', // BTS 2017, Table 4
+      'venturiTachypnoeaFlowMultiplier', // BTS 2017, Table 4
+      'pneumothoraxFlowLPerMin', // BTS 2017, Table 2
+      'repeatGasMinutes', // BTS 2017, Tables 2-4
+      'spo2FallPoints', // BTS 2017 summary
+      'oxygenOnlyIfHypoxaemic', // BTS 2017, Table 3
+    ]) {
+      expect(line(key)).toMatch(/# BTS kept: BTS 2017/);
+    }
+    // The TSANZ figures themselves say TSANZ, not BTS kept.
+    for (const key of ['standard', 'hypercapnicRisk']) {
+      const target = lines.find((l) => l.startsWith(`  ${key}: { lowPercent`)) ?? '';
+      expect(target).toContain('# TSANZ 2015'); // TSANZ 2015 (Respirology 20:1182)
+      expect(target).not.toContain('BTS kept');
+    }
+  });
+
   it('to a patient through the engine', () => {
     expect(rangeFor(policy, [])).toStrictEqual(range(92, 96)); // TSANZ 2015
     expect(rangeFor(policy, ['copd'])).toStrictEqual(range(88, 92)); // TSANZ 2015 (V2)
