@@ -142,8 +142,24 @@ describe('uncontrolled-oxygen-at-risk with a hospital device catalogue', () => {
     expect(finding.change).toBeUndefined();
     const card = expectCardRenders(finding);
     expect(card.detail).toContain('No 24 % or 28 % Venturi valve is stocked here');
-    expect(card.detail).toContain('nasal cannulae at 1–2 L/min');
+    // The guideline's own advice names nasal cannulae; the offer does not, as none are stocked here.
+    expect(card.detail.replace(/\s+/g, ' ')).toContain('or nasal cannulae at 1–2 L/min'); // BTS 2017, Table 4
+    expect(finding.values.controlledDevice).not.toContain('nasal cannula');
     expect(card.detail).not.toContain('35 %');
+  });
+
+  it.each([
+    [true, 'nasal cannulae at 1–2 L/min'], // BTS 2017, Table 4: nasal cannulae at 1-2 L/min for at-risk patients
+    [false, undefined],
+  ])('with no 24 or 28 per cent valve, names nasal cannulae as the other device only when stocked: %s', (cannulaStocked, named) => {
+    // BTS 2017, Tables 2 and 4: nasal cannulae 1-6 L/min in adults
+    const cannula = cannulaStocked ? ['  nasal-cannula: { flowLPerMin: { from: 1, to: 6 } }'] : [];
+    const policy = policyWithDevices(['devices:', RESERVOIR, ...cannula, ...venturiLines([[35, 8]])]);
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(), { policy }));
+    expect(finding.values.controlledDevice).toContain('No 24 % or 28 % Venturi valve is stocked here');
+    if (named === undefined) expect(finding.values.controlledDevice).not.toContain('nasal cannula');
+    else expect(finding.values.controlledDevice).toContain(named);
+    expectCardRenders(finding);
   });
 
   it("offers the minimum flow printed on the hospital's valve", () => {
