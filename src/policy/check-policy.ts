@@ -81,6 +81,9 @@ interface Range {
   readonly path: PolicyPath;
 }
 
+/** The top of the at-risk range in BTS 2017 Table 4 (88–92 %) and TSANZ 2015 (88–92 %). */
+const AT_RISK_HIGHEST_PERCENT = 92;
+
 const RANGE_KEYS = ['standard', 'hypercapnicRisk', 'oxygenToxicityRisk'] as const;
 /** The ranges a unit may set for itself (schema.ts, UnitSchema). */
 const UNIT_RANGE_KEYS = ['standard', 'hypercapnicRisk'] as const;
@@ -128,7 +131,8 @@ function checkRangeSet(
   // Precisely: the at-risk range's upper bound must not exceed the standard range's lower bound. The
   // two may meet at one value (TSANZ 2015: 88–92 % against 92–96 %) but never overlap, and the at-risk
   // range is never the higher one (BTS 2017: 88–92 % against 94–98 %).
-  if (standard !== undefined && atRisk !== undefined && atRisk.high > standard.low && (owned(atRisk) || owned(standard))) {
+  const overlaps = standard !== undefined && atRisk !== undefined && atRisk.high > standard.low;
+  if (standard !== undefined && atRisk !== undefined && overlaps && (owned(atRisk) || owned(standard))) {
     out.push({
       level: 'error',
       path: owned(atRisk) ? atRisk.path : standard.path,
@@ -141,6 +145,20 @@ function checkRangeSet(
             `or raise ${label(standard)}.lowPercent to ${atRisk.high}; `
           : `keep ${label(atRisk)}.highPercent at or below ${label(standard)}.lowPercent (${standard.low}); `) +
         'BTS 2017 uses 88–92 % against 94–98 %, TSANZ 2015 88–92 % against 92–96 %',
+    });
+  }
+  // BTS 2017 Table 4 and TSANZ 2015 both aim patients at risk of hypercapnic respiratory failure at
+  // 88–92 %: an at-risk range reaching above 92 % gives CO2 retainers more oxygen than either guideline.
+  // A warning, not an error: a committee may have a reason, but it should be a decision, not a slip.
+  // Not repeated where the range already overlaps the standard one (an error that says more).
+  if (atRisk !== undefined && owned(atRisk) && !overlaps && atRisk.high > AT_RISK_HIGHEST_PERCENT) {
+    out.push({
+      level: 'warning',
+      path: [...atRisk.path, 'highPercent'],
+      message:
+        `${onUnit}the at-risk range ${show(atRisk)} reaches above ${AT_RISK_HIGHEST_PERCENT} %: ` +
+        'patients at risk of hypercapnic respiratory failure would be aimed higher than BTS 2017 Table 4 (88–92 %) and TSANZ 2015 (88–92 %) advise',
+      fix: `keep ${label(atRisk)}.highPercent at or below ${AT_RISK_HIGHEST_PERCENT}, unless the oxygen committee has decided otherwise`,
     });
   }
   const critical = num(raw, ['thresholds', 'criticalSpo2BelowPercent']);

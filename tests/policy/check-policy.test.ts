@@ -408,3 +408,50 @@ describe('every problem at once', () => {
     expect(problems(result).every((p) => p.line === undefined && p.column === undefined)).toBe(true);
   });
 });
+
+describe('an at-risk range above 88–92 %', () => {
+  // BTS 2017 Table 4 and TSANZ 2015 (V2) both give patients at risk of hypercapnic failure 88–92 %: a
+  // range reaching above 92 % is a warning wherever it is written, never silent, and never an error.
+  const withTargets = (atRisk: string, units: readonly string[] = []): PolicyParse =>
+    parsePolicyText(
+      policyWith(
+        [
+          'targets:',
+          '  standard: { lowPercent: 94, highPercent: 98 }', // BTS 2017, Tables 1-3
+          `  hypercapnicRisk: ${atRisk}`,
+          '  oxygenToxicityRisk: { lowPercent: 85, highPercent: 88 }', // BTS 2017, Table 3 (V2)
+          ...units,
+        ],
+        'targets',
+      ),
+    );
+
+  it.each([
+    ['{ lowPercent: 88, highPercent: 92 }', false], // BTS 2017, Table 4: the guideline range itself
+    ['{ lowPercent: 86, highPercent: 90 }', false], // lower, not higher: not this check's concern
+    ['{ lowPercent: 88, highPercent: 93 }', true], // one point above BTS 2017 Table 4's top
+    ['{ lowPercent: 90, highPercent: 94 }', true], // meets the standard floor, still above 92 %
+  ])('policy at-risk range %s: warned %s', (atRisk, warned) => {
+    const result = withTargets(atRisk);
+    expect(problems(result)).toStrictEqual([]);
+    const warning = result.warnings.find((w) => w.path === 'targets.hypercapnicRisk.highPercent');
+    expect(warning !== undefined).toBe(warned);
+    if (warned) {
+      expect(warning).toMatchObject({ line: 3 });
+      expect(warning?.message).toContain('BTS 2017 Table 4 (88–92 %)');
+    }
+  });
+
+  it("warns of a unit's own at-risk range above 92 %, at the unit's path, and leaves the policy's alone", () => {
+    const result = withTargets('{ lowPercent: 88, highPercent: 92 }', [
+      'units:',
+      '  - name: ICU',
+      '    match: { names: [Larkspur Bay General Hospital, Intensive Care Unit] }',
+      // PILOT 2022 higher arm 96-100 %; an at-risk range 88-96 % meets its floor but is above BTS 2017 Table 4.
+      '    targets: { standard: { lowPercent: 96, highPercent: 100 }, hypercapnicRisk: { lowPercent: 88, highPercent: 96 } }',
+    ]);
+    expect(problems(result)).toStrictEqual([]);
+    expect(result.warnings.map((w) => w.path)).toStrictEqual(['units.0.targets.hypercapnicRisk.highPercent']);
+    expect(result.warnings[0]?.message).toContain("on unit 'ICU', the at-risk range 88–96 % reaches above 92 %");
+  });
+});

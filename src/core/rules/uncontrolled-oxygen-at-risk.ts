@@ -1,4 +1,4 @@
-import { stockedVenturiSetting } from '../devices/catalogue.js';
+import { isStocked, stockedVenturiSetting } from '../devices/catalogue.js';
 import { VENTURI_FLOW_RANGE_L_PER_MIN, type VenturiSetting } from '../devices/venturi-mask.js';
 import { formatFlow, formatNumber, formatPercent, formatRange } from '../assessment/format.js';
 import type { Assessment } from '../assessment/types.js';
@@ -68,7 +68,7 @@ function controlledDevice(assessment: Assessment, policy: Policy): ControlledDev
 export const rule: Rule = {
   id: 'uncontrolled-oxygen-at-risk',
   title: 'High-concentration device for a patient at risk of hypercapnia',
-  version: 4,
+  version: 5,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, facts, policy, now }): readonly Finding[] => {
@@ -125,8 +125,9 @@ export const rule: Rule = {
           criticalLevel: formatPercent(policy.thresholds.criticalSpo2BelowPercent),
           controlledDevice:
             controlled === 'not-stocked'
-              ? 'No 24 % or 28 % Venturi valve is stocked here (local policy): consider another controlled device, ' +
-                'such as nasal cannulae at 1–2 L/min.'
+              ? 'No 24 % or 28 % Venturi valve is stocked here (local policy): consider another controlled device' +
+                // Only a stocked device is offered (policy `devices`): nasal cannulae are named when stocked.
+                (isStocked(policy.devices, 'nasal-cannula') ? ', such as nasal cannulae at 1–2 L/min.' : '.')
               : suggestedDevice === undefined || controlled === undefined
                 ? 'Consider a controlled device.'
                 : `Consider a controlled device: the ${suggestedDevice}` +

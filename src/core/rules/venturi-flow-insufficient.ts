@@ -12,7 +12,8 @@ import type { Rule } from './support/rule-types.js';
 /**
  * A Venturi order at a standard setting with no O2 flow: the adaptor entrains as labelled only at
  * or above its minimum flow (BTS 2017 Table 4 for 24 % and 28 %; device labelling for the rest), so
- * the flow is part of the order. Suggests the minimum, or the minimum × the tachypnoea multiplier.
+ * the flow is part of the order. Suggests the minimum, or the minimum × the tachypnoea multiplier,
+ * when a ward flowmeter (`thresholds.flowmeterMaxLPerMin`) can give it.
  */
 function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Policy): readonly Finding[] {
   // The hospital's valve, with the minimum flow printed on it, when it stocks this setting.
@@ -27,7 +28,9 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
   const rr = assessment.current.respRate?.value;
   const { venturiTachypnoeaRespRateAbove: rrAbove, venturiTachypnoeaFlowMultiplier: multiplier } = policy.thresholds;
   const needed = rr !== undefined && rr > rrAbove ? minimum * multiplier : minimum;
-  const maxFlow = DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max;
+  // As for a stated flow: a flow a ward flowmeter cannot give is no suggestion (60 % at 15 L/min raised
+  // by half is 22.5 L/min); the patient needs another device.
+  const maxFlow = Math.min(DEVICE_MODELS['venturi-mask'].flowRangeLPerMin.max, policy.thresholds.flowmeterMaxLPerMin);
   const settingText = formatPercent(setting.fio2Fraction * 100);
   return [
     makeFinding(rule, {
@@ -40,7 +43,11 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
         minimumFlow: formatFlow(minimum),
         respRate: rr === undefined ? 'not recorded' : `${formatNumber(rr, 0)}/min`,
         respRateThreshold: `${formatNumber(rrAbove, 0)}/min`,
-        flowBalance: 'With no flow stated, the total flow from the mask cannot be estimated.',
+        flowBalance:
+          'With no flow stated, the total flow from the mask cannot be estimated.' +
+          (needed > maxFlow
+            ? ` The raised flow, ${formatFlow(needed)}, is beyond a ward flowmeter (${formatFlow(maxFlow)}): another device is needed.`
+            : ''),
         ...(needed <= maxFlow ? { suggestedFlow: formatFlow(needed) } : {}),
       },
       sourceKeys: ['bts-2017', 'jones-1984'],
@@ -74,7 +81,7 @@ function flowNotStated(order: OxygenOrder, assessment: Assessment, policy: Polic
 export const rule: Rule = {
   id: 'venturi-flow-insufficient',
   title: 'Venturi mask flow too low for the setting or the patient',
-  version: 5,
+  version: 6,
   hooks: ['order-select', 'order-sign'],
   defaultIndicator: 'warning',
   evaluate: ({ assessment, policy }): readonly Finding[] => {

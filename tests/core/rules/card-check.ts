@@ -52,3 +52,15 @@ export function expectCardRenders(finding: Finding): { summary: string; detail: 
       : renderTemplate(template.suggestionLabel, values, 'plain').text;
   return { summary: summary.text, detail: detail.text, label };
 }
+
+/**
+ * The sentences of a rendered card that name `guideline` and state `range` without "under this
+ * policy" straight after it: each would put a range the policy set in the guideline's mouth. A range
+ * the policy or a unit chose (say 88–90 %) is not a guideline's unless the guideline gives it.
+ */
+export function rangesAttributedTo(detail: string, guideline: string, range: string): readonly string[] {
+  return detail
+    .replace(/\s+/g, ' ')
+    .split(/(?<=\.)\s+/)
+    .filter((sentence) => sentence.includes(guideline) && sentence.split(range).slice(1).some((after) => !after.startsWith(' under this policy')));
+}

@@ -4,7 +4,7 @@ import { BUILT_IN_DEVICE_CATALOGUE } from '../../../src/core/devices/catalogue.j
 import type { StockedVenturiSetting } from '../../../src/core/policy.js';
 import { activeOrder, bloodGas, BTS, buildFacts, condition, oxygenOrder, respRate, spo2, withPolicy } from '../facts-builder.js';
 import { policyWithDevices, venturiLines } from '../devices/catalogue-policy.js';
-import { expectCardRenders } from './card-check.js';
+import { expectCardRenders, rangesAttributedTo } from './card-check.js';
 import { onlyFinding, runRule } from './run-rule.js';
 
 const reservoir = oxygenOrder({ device: 'reservoir-mask', flowLPerMin: 15, target: { lowPercent: 88, highPercent: 92, readFrom: 'text' } });
@@ -142,8 +142,24 @@ describe('uncontrolled-oxygen-at-risk with a hospital device catalogue', () => {
     expect(finding.change).toBeUndefined();
     const card = expectCardRenders(finding);
     expect(card.detail).toContain('No 24 % or 28 % Venturi valve is stocked here');
-    expect(card.detail).toContain('nasal cannulae at 1–2 L/min');
+    // The guideline's own advice names nasal cannulae; the offer does not, as none are stocked here.
+    expect(card.detail.replace(/\s+/g, ' ')).toContain('or nasal cannulae at 1–2 L/min'); // BTS 2017, Table 4
+    expect(finding.values.controlledDevice).not.toContain('nasal cannula');
     expect(card.detail).not.toContain('35 %');
+  });
+
+  it.each([
+    [true, 'nasal cannulae at 1–2 L/min'], // BTS 2017, Table 4: nasal cannulae at 1-2 L/min for at-risk patients
+    [false, undefined],
+  ])('with no 24 or 28 per cent valve, names nasal cannulae as the other device only when stocked: %s', (cannulaStocked, named) => {
+    // BTS 2017, Tables 2 and 4: nasal cannulae 1-6 L/min in adults
+    const cannula = cannulaStocked ? ['  nasal-cannula: { flowLPerMin: { from: 1, to: 6 } }'] : [];
+    const policy = policyWithDevices(['devices:', RESERVOIR, ...cannula, ...venturiLines([[35, 8]])]);
+    const finding = onlyFinding(runRule(rule, copdOnReservoir(), { policy }));
+    expect(finding.values.controlledDevice).toContain('No 24 % or 28 % Venturi valve is stocked here');
+    if (named === undefined) expect(finding.values.controlledDevice).not.toContain('nasal cannula');
+    else expect(finding.values.controlledDevice).toContain(named);
+    expectCardRenders(finding);
   });
 
   it("offers the minimum flow printed on the hospital's valve", () => {
@@ -194,3 +210,26 @@ describe('uncontrolled-oxygen-at-risk with a hospital device catalogue', () => {
     }
   });
 });
+
+describe('uncontrolled-oxygen-at-risk under a range the policy chose', () => {
+  // A policy or unit may set its own at-risk range (docs/policy.md); the card must not say the
+  // guideline gives it. BTS 2017 Table 4 gives 88-92 %; 88-90 % (a narrower local band), 86-90 % and
+  // 90-92 % are invented local choices, never BTS 2017's.
+  it.each([
+    [88, 92], // BTS 2017, Table 4: the guideline's own range, still named as the policy's
+    [88, 90], // local choice (invented)
+    [86, 90], // local choice (invented)
+    [90, 92], // local choice (invented)
+  ])('names the at-risk range %i-%i as this policy\'s, never as BTS 2017\'s', (lowPercent, highPercent) => {
+    const policy = withPolicy(BTS, {
+      targets: { ...BTS.targets, hypercapnicRisk: { lowPercent, highPercent }, standard: { lowPercent: highPercent, highPercent: highPercent + 4 } },
+    });
+    const finding = onlyFinding(runRule(rule, buildFacts({ orders: [reservoir], conditions: copd, spo2Percent: [spo2(highPercent)] }), { policy }));
+    const range = `${lowPercent}–${highPercent} %`;
+    expect(finding.values.advisedRange).toBe(range);
+    const { detail } = expectCardRenders(finding); // rendered with BTS 2017 as the guideline cited
+    expect(detail.replace(/\s+/g, ' ')).toContain(`${range} under this policy`);
+    expect(rangesAttributedTo(detail, 'BTS 2017', range)).toStrictEqual([]);
+  });
+});
+

@@ -113,6 +113,21 @@ describe('venturi-flow-insufficient', () => {
       expect(card.label).toBe(`Set O2 flow to ${flow} L/min (same ${Math.round(setting * 100)} % setting)`);
     });
 
+    it.each([
+      // 60 % valve minimum 15 L/min (device labelling, common practice) x 1.5 above RR 30 (BTS 2017, Table 4) = 22.5
+      [0.6, 22.5],
+      // 50 % valve minimum 12 L/min (from memory) x 1.5 (BTS 2017, Table 4) = 18
+      [0.5, 18],
+    ])('with no flow stated, never suggests a flow beyond a ward flowmeter: Venturi %s needs %s L/min', (setting, needed) => {
+      // flowmeterMaxLPerMin 15 (common practice), as when a flow is stated
+      const orders = [oxygenOrder({ device: 'venturi-mask', setFio2Fraction: setting, flowLPerMin: undefined })];
+      const finding = onlyFinding(runRule(rule, buildFacts({ orders, respRatePerMin: [respRate(34)] })));
+      expect(finding.change).toBeUndefined();
+      expect(finding.values.suggestedFlow).toBeUndefined();
+      expect(finding.values.flowBalance).toContain(`The raised flow, ${needed} L/min, is beyond a ward flowmeter (15 L/min): another device is needed.`);
+      expectCardRenders(finding);
+    });
+
     it('does not fire for other devices or a non-standard setting', () => {
       expect(runRule(rule, buildFacts())).toStrictEqual([]);
       expect(runRule(rule, buildFacts({ orders: venturi(0.33, 2) }))).toStrictEqual([]);
