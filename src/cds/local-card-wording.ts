@@ -47,6 +47,11 @@ function placeholdersOf(template: CardTemplate, keys: readonly (typeof TEXT_KEYS
   return new Set(keys.flatMap((key) => placeholderNames(template[key] ?? '')));
 }
 
+/** What to do about a card file that is not a valid card file: compare it with the bundled one. */
+function cardFileFix(ruleId: string): string {
+  return `compare with cards/${ruleId}.yaml; a card file takes summary, detail, basedOn, suggestionLabel, safetyStatements and overrideReasons (docs/policy.md, local card wording)`;
+}
+
 /**
  * Checks the text of a local card file for `ruleId` against the rule's bundled template (`undefined`
  * when no rule has that id; `ruleIds` then gives the nearest for the fix).
@@ -87,7 +92,7 @@ export function checkLocalWording(
         const path = issue.path.map((step) => (typeof step === 'symbol' ? String(step) : step));
         // An unknown key is placed at the key itself, not at the map that holds it.
         const at = issue.code === 'unrecognized_keys' && issue.keys[0] !== undefined ? [...path, issue.keys[0]] : path;
-        return { path: path.map(String).join('.') || '(root)', message: issue.message, fix: 'docs/policy.md lists the keys of a card file', ...doc.locate(at) };
+        return { path: path.map(String).join('.') || '(root)', message: issue.message, fix: cardFileFix(ruleId), ...doc.locate(at) };
       }),
     };
   }

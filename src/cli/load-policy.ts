@@ -16,7 +16,11 @@ export function loadPolicy(path: string | undefined, io: CliIo): Policy {
   }
   const parsed = parsePolicyText(text);
   if (parsed.kind === 'invalid') {
-    const lines = parsed.problems.map((p) => `  ${p.path}: ${p.message}`);
+    // As policy validate gives them: where (file, line, column), what and how to fix it; never the text.
+    const lines = parsed.problems.map((p) => {
+      const where = p.line === undefined ? file : `${file}:${p.line}:${p.column ?? 1}`;
+      return `  ${where}: ${p.path}: ${p.message}${p.fix === undefined ? '' : `\n    fix: ${p.fix}`}`;
+    });
     throw new UsageError(`the policy file ${file} is not valid:\n${lines.join('\n')}`);
   }
   return parsed.policy;

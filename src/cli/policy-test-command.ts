@@ -1,5 +1,5 @@
-import { readdirSync, statSync, writeFileSync } from 'node:fs';
-import { join, relative } from 'node:path';
+import { mkdirSync, readdirSync, statSync, writeFileSync } from 'node:fs';
+import { dirname, join, relative } from 'node:path';
 import { z } from 'zod';
 import { evaluateHook } from '../cds/evaluate-hook.js';
 import { parseHookRequest } from '../cds/parse-hook-request.js';
@@ -249,6 +249,8 @@ export async function runPolicyTestCommand(args: readonly string[], io: CliIo): 
       cases,
     });
     try {
+      // A CI job names a report folder it has not made yet (reports/policy-cases.xml): make it.
+      mkdirSync(dirname(options.junit), { recursive: true });
       writeFileSync(options.junit, xml, 'utf8');
     } catch (error) {
       const code = (error as { code?: unknown } | null)?.code;

@@ -39,6 +39,18 @@ describe('checkLocalWording', () => {
     expect(problem?.fix).toContain("did you mean 'spo2-above-target.yaml'?");
   });
 
+  it.each([
+    { what: 'a missing key', text: (t: string) => t.replace(/^overrideReasons:[\s\S]*$/m, '') },
+    { what: 'an unknown key', text: (t: string) => `${t}\nsumary: "misspelt"\n` },
+    { what: 'a safety statement not in the text', text: (t: string) => t.replace('a single high reading may be an\n  artefact', 'a reading may mislead') },
+  ])('refuses a file that is not a valid card file ($what), pointing to the bundled card for the fix', ({ text }) => {
+    const problems = problemsOf(check('spo2-above-target', text(bundledText('spo2-above-target'))));
+    expect(problems.length).toBeGreaterThan(0);
+    for (const problem of problems) {
+      expect(problem.fix).toContain('compare with cards/spo2-above-target.yaml');
+    }
+  });
+
   it('refuses a placeholder the rule does not supply, at its own line and column', () => {
     const text = bundledText('spo2-above-target').replace('The latest SpO2, {{spo2}},', 'The latest SpO2, {{spo2}} ({{spo2Value}}),');
     const problems = problemsOf(check('spo2-above-target', text));

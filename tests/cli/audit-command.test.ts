@@ -190,6 +190,22 @@ describe('audit', () => {
       expect(run.stdout + run.stderr).not.toContain('SECRET-LINE');
     });
 
+    it('refuses a policy that is not valid with exit 2, each problem with its line, column and fix, never its text', async () => {
+      // BTS 2017 Table 4 keeps the at-risk range (88-92 %) below the standard range (94-98 %); 88-96 % overlaps it.
+      const dir = tempDir();
+      const bundled = readFileSync(new URL('../../policies/based-on-bts-2017.yaml', import.meta.url), 'utf8');
+      const widened = bundled.replace('hypercapnicRisk: { lowPercent: 88, highPercent: 92 }', 'hypercapnicRisk: { lowPercent: 88, highPercent: 96 }');
+      expect(widened).not.toBe(bundled);
+      const policy = join(dir, 'widened.yaml');
+      writeFileSync(policy, widened);
+      const line = widened.split('\n').findIndex((l) => l.includes('highPercent: 96')) + 1;
+      const run = await runCommandLine(['audit', EXPORT, '--policy', policy]);
+      expect(run.code).toBe(2);
+      expect(run.stderr).toContain(`${policy}:${line}:3: targets.hypercapnicRisk: the at-risk range 88–96 %`);
+      expect(run.stderr).toMatch(/\n {4}fix: keep targets\.hypercapnicRisk\.highPercent at or below/);
+      expect(run.stderr).not.toContain('lowPercent: 88, highPercent: 96');
+    });
+
     it('answers a usage error with exit 2', async () => {
       expect((await runCommandLine(['audit'])).code).toBe(2);
       expect((await runCommandLine(['audit', EXPORT, '--from', '2026-12-01', '--to', '2026-11-30'])).code).toBe(2);

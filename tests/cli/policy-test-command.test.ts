@@ -399,9 +399,19 @@ describe('oxygen-order-checker policy test: usage', () => {
     expect(runs[3]?.stderr).toContain('no case files (*.yaml)');
   });
 
+  it('makes the JUnit file\u2019s folder when it does not exist yet, as a CI job expects', async () => {
+    const junit = join(tempDir(), 'reports', 'nightly', 'r.xml');
+    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junit', junit]);
+    expect(run.code).toBe(0);
+    expect(parseXml(readFileSync(junit, 'utf8'))).toBeDefined();
+  });
+
   it('exits 2 when the JUnit file cannot be written', async () => {
-    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junit', join(tempDir(), 'no-such-folder', 'r.xml')]);
+    // The folder named is a file, so neither the folder nor the report can be made.
+    const blocker = join(tempDir(), 'not-a-folder');
+    writeFileSync(blocker, '');
+    const run = await runCommandLine(['policy', 'test', BTS, EXAMPLE_CASES, '--junit', join(blocker, 'r.xml')]);
     expect(run.code).toBe(2);
-    expect(run.stderr).toMatch(/cannot write .*r\.xml \(ENOENT\)/);
+    expect(run.stderr).toMatch(/cannot write .*r\.xml \((ENOTDIR|EEXIST)\)/);
   });
 });

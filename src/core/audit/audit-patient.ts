@@ -1,4 +1,5 @@
 import { buildAssessment } from '../assessment/build-assessment.js';
+import { matchUnit, policyForEncounter, policyForUnit } from '../assessment/unit-targets.js';
 import type { Assessment } from '../assessment/types.js';
 import type { Policy } from '../policy.js';
 import { expectsTarget } from '../rules/support/order-purpose.js';
@@ -63,9 +64,14 @@ function sameRange(a: SaturationRange, b: SaturationRange): boolean {
   return a.lowPercent === b.lowPercent && a.highPercent === b.highPercent;
 }
 
+// The ward's unit override (policy `units`) applies as on a card: the engine resolves the unit from
+// the encounter's location first (engine.ts), so the audit must too, or an ICU on its own range would
+// be judged against the wards' range.
 function assessAt(patient: AuditPatient, order: OxygenOrder | undefined, ms: number, policy: Policy): Assessment {
   const now = new Date(ms);
-  return buildAssessment(factsAt(patient, order, now, policy), policy, { now, order });
+  const facts = factsAt(patient, order, now, policy);
+  const { policy: unitPolicy, unit } = policyForEncounter(policy, facts);
+  return buildAssessment(facts, unitPolicy, { now, order, unit });
 }
 
 /** The patient's stay inside the period, in ms; undefined when they do not overlap. */
@@ -153,6 +159,8 @@ export function auditPatient(patient: AuditPatient, period: AuditPeriod, policy:
   const target = assessment.target;
   const ordered = audited?.target === undefined ? undefined : { lowPercent: audited.target.lowPercent, highPercent: audited.target.highPercent };
   const atRiskRangeCalledFor = target.kind === 'range' && target.basis === 'hypercapnic-risk';
+  // The standard range of the patient's unit (its override, else the policy's), as the assessment read it.
+  const standard = policyForUnit(policy, matchUnit(policy.units, { name: patient.ward, ids: [] })).targets.standard;
   return {
     ...none,
     onOxygen: true,
@@ -162,7 +170,7 @@ export function auditPatient(patient: AuditPatient, period: AuditPeriod, policy:
     rangeForRisk:
       ordered === undefined || target.kind !== 'range' ? undefined : assessment.targetComparison.kind === 'matches',
     atRiskRangeCalledFor,
-    atRiskOnStandardRange: atRiskRangeCalledFor && ordered !== undefined && sameRange(ordered, policy.targets.standard),
+    atRiskOnStandardRange: atRiskRangeCalledFor && ordered !== undefined && sameRange(ordered, standard),
     orderedRange: ordered,
     advisedRange: target.kind === 'range' ? target.range : undefined,
     time: timeOnRange(patient, course, firstOn, stay.endMs, policy),

@@ -234,4 +234,43 @@ describe('auditPatient', () => {
       expect(audit.time.notJudgedMinutes).toBe(300);
     });
   });
+  describe('a unit with its own range (policy units)', () => {
+    // An ICU on 92-96 % (PILOT 2022 intermediate arm, the TSANZ 2015 standard range) with the BTS 2017
+    // at-risk range 88-92 % kept, as docs/policy.md works through for the invented Larkspur Bay ICU.
+    const ICU = 'Intensive Care Unit, Larkspur Bay General Hospital';
+    const withIcu = withPolicy(BTS, {
+      units: [
+        {
+          name: 'ICU',
+          match: { names: [], patterns: ['*Intensive Care*'], locations: [] },
+          targets: { standard: { lowPercent: 92, highPercent: 96 }, hypercapnicRisk: undefined }, // PILOT 2022; TSANZ 2015
+          basisKey: undefined,
+        },
+      ],
+    });
+    const icuOrder = orderAt('09:00', { target: { lowPercent: 92, highPercent: 96, readFrom: 'text' } });
+
+    it.each([
+      { ward: ICU, range: { lowPercent: 92, highPercent: 96 }, forRisk: true }, // the unit's range
+      { ward: 'Ward 7 (Respiratory)', range: { lowPercent: 94, highPercent: 98 }, forRisk: false }, // BTS 2017, Tables 1-3
+    ])('judges an order on $ward against that ward\u2019s range', ({ ward, range, forRisk }) => {
+      // 09:00 93 %, discharge at 14:00: it stands 120 min (the hold), in the unit's 92-96 % but below 94-98 %.
+      const audit = auditPatient(
+        auditPatientData({ ward, orders: [icuOrder], spo2Percent: [spo2At(93, '09:00')] }),
+        PERIOD,
+        withIcu,
+      );
+      expect(audit.advisedRange).toEqual(range);
+      expect(audit.rangeForRisk).toBe(forRisk);
+      expect(audit.time.inRangeMinutes).toBe(forRisk ? 120 : 0);
+      expect(audit.time.belowMinutes).toBe(forRisk ? 0 : 120);
+    });
+
+    it('counts a COPD patient prescribed the unit\u2019s standard range as at risk on the standard range', () => {
+      // BTS 2017 Table 4: COPD calls for 88-92 % on every unit; 92-96 % is the ICU's standard range.
+      const audit = auditPatient(auditPatientData({ ward: ICU, conditions: [COPD], orders: [icuOrder] }), PERIOD, withIcu);
+      expect(audit).toMatchObject({ rangeForRisk: false, atRiskRangeCalledFor: true, atRiskOnStandardRange: true });
+      expect(audit.advisedRange).toEqual({ lowPercent: 88, highPercent: 92 }); // BTS 2017, Table 4
+    });
+  });
 });
