@@ -2,6 +2,7 @@ import { resolve } from 'node:path';
 import { SHORT_HASH_LENGTH } from '../cds/build-card.js';
 import { ENV_DEFAULTS } from '../config/env-config.js';
 import { loadPolicyAndCards, type LoadProblem } from '../config/load-files.js';
+import { notYetInEffectWarning } from '../policy/effective-from.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { count, describeProblem, invalidReport, readPolicyFile } from './policy-file.js';
 import { parseOptions } from './parse-options.js';
@@ -55,6 +56,8 @@ export async function runPolicyValidateCommand(args: readonly string[], io: CliI
     return 2;
   }
   const { policy, acknowledgements } = result;
+  // As the service warns at start: a policy may be loaded before its date, but not by surprise.
+  const early = notYetInEffectWarning(policy, io.now());
   const acknowledged = acknowledgements.map(
     (a) =>
       `  acknowledged: ${a.ruleId} ${a.change}: ${a.reason}` +
@@ -68,6 +71,7 @@ export async function runPolicyValidateCommand(args: readonly string[], io: CliI
       `site ${policy.site.name} at ${policy.site.altitudeM} m\n` +
       `  content hash ${read.contentHash.slice(0, SHORT_HASH_LENGTH)} (as cards show it)\n` +
       acknowledged.join('') +
+      (early === undefined ? '' : `  note: ${early}\n`) +
       result.warnings.map((p) => `${describeProblem(file, 'warning', p)}\n`).join(''),
   );
   return 0;

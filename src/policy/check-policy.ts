@@ -141,8 +141,9 @@ function checkRangeSet(
         'a patient at risk of hypercapnic respiratory failure would be given more oxygen than the range for patients not at risk allows',
       fix:
         (unitName !== undefined && !owned(atRisk)
-          ? `give the unit its own at-risk range ending at or below ${standard.low} % (${label(standard).replace(/standard$/, 'hypercapnicRisk')}), ` +
-            `or raise ${label(standard)}.lowPercent to ${atRisk.high}; `
+          ? `give the unit its own at-risk range ending at or below ${standard.low} % (${label(standard).replace(/standard$/, 'hypercapnicRisk')})` +
+            // Raising the floor is offered only when a range of some width would be left.
+            (atRisk.high < standard.high ? `, or raise ${label(standard)}.lowPercent to ${atRisk.high}; ` : '; ')
           : `keep ${label(atRisk)}.highPercent at or below ${label(standard)}.lowPercent (${standard.low}); `) +
         'BTS 2017 uses 88–92 % against 94–98 %, TSANZ 2015 88–92 % against 92–96 %',
     });

@@ -42,6 +42,18 @@ describe('oxygen-order-checker policy validate', () => {
     expect(run.stdout).toContain('spo2-abvoe-target.yaml');
   });
 
+  it('notes a policy not yet in effect, as the service warns at start, and still accepts it', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'larkspur-early-'));
+    const policy = join(dir, 'policy.yaml');
+    // An invented next version the committee means to apply from 4 January 2027.
+    writeFileSync(policy, readFileSync(bundled('based-on-bts-2017.yaml'), 'utf8').replace(/^effectiveFrom: .*$/m, 'effectiveFrom: 2027-01-04'));
+    const early = await runCommandLine(['policy', 'validate', policy], new Date('2026-12-20T09:00:00Z'));
+    expect(early.code).toBe(0);
+    expect(early.stdout).toMatch(/\n {2}note: .*2027-01-04/);
+    const inForce = await runCommandLine(['policy', 'validate', policy], new Date('2027-01-05T09:00:00Z'));
+    expect(inForce.stdout).not.toContain('note:');
+  });
+
   it('exits 1 when the file cannot be read, and 2 without exactly one FILE', async () => {
     const missing = await runCommandLine(['policy', 'validate', join(tmpdir(), 'no-such-policy-file.yaml')]);
     expect(missing.code).toBe(1);

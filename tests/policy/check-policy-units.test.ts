@@ -82,6 +82,13 @@ describe('unit overrides in the policy file', () => {
     expect(icu.fix).toContain(
       'give the unit its own at-risk range ending at or below 90 % (units.0.targets.hypercapnicRisk), or raise units.0.targets.standard.lowPercent to 92',
     );
+    // A unit whose whole range sits inside the at-risk range: raising its floor would leave no range.
+    const narrow = problems(
+      withUnits(['  - name: Recovery', '    match: { names: [Recovery] }', '    targets:', '      standard: { lowPercent: 89, highPercent: 92 }']),
+    );
+    const recovery = at(narrow, 'units.0.targets.standard');
+    expect(recovery.fix).toContain('give the unit its own at-risk range ending at or below 89 %');
+    expect(recovery.fix).not.toContain('or raise');
     expect(at(list, 'units.1.targets.standard')).toMatchObject({
       line: 9,
       message: "on unit 'HDU', the range 96–94 % is not ordered: lowPercent must be below highPercent",
