@@ -5,6 +5,7 @@ import { parseReviewConfig, type ReviewConfig } from './config/review-config.js'
 import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
+import { answerClientErrors } from './http/client-error.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
 import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
@@ -138,6 +139,7 @@ async function startWithStore(
     review: review.review,
   });
   const server = await listen(app, config);
+  answerClientErrors(server, { strictTransportSecurity: config.behindTls });
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;
