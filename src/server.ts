@@ -1,4 +1,4 @@
-import type { Server } from 'node:http';
+import { createServer, type Server } from 'node:http';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
@@ -6,6 +6,7 @@ import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedF
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
 import { answerClientErrors } from './http/client-error.js';
+import { serverTimeoutOptions } from './http/connection-timeouts.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
 import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
@@ -48,7 +49,11 @@ export interface StartedServer {
 
 function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<Server> {
   return new Promise((resolve, reject) => {
-    const server = app.listen(config.port, config.host);
+    // What app.listen does, with the timeouts set: Node's defaults hold a slow body for 300 s.
+    const server = createServer(serverTimeoutOptions(config.timeouts), app);
+    // Inactivity either way; with no 'timeout' listener Node destroys the socket.
+    server.setTimeout(config.timeouts.socketIdleTimeoutMs);
+    server.listen(config.port, config.host);
     server.once('listening', () => resolve(server));
     server.once('error', reject);
   });
