@@ -1,4 +1,5 @@
 import { createServer, type Server } from 'node:http';
+import { performance } from 'node:perf_hooks';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
@@ -11,7 +12,8 @@ import { prepareGracefulClose } from './http/graceful-close.js';
 import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
 import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
 import { watchPolicyFiles, type PolicyWatch } from './live-policy/watch-policy.js';
-import { createLogger, type Logger } from './log/logger.js';
+import { createLogger, logClientError, type Logger } from './log/logger.js';
+import { createRefusalLimiter } from './log/refusal-limiter.js';
 import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
@@ -144,7 +146,11 @@ async function startWithStore(
     review: review.review,
   });
   const server = await listen(app, config);
-  answerClientErrors(server, { strictTransportSecurity: config.behindTls });
+  const parserRefusals = createRefusalLimiter();
+  answerClientErrors(server, { strictTransportSecurity: config.behindTls }, (event) => {
+    const source = { limiter: parserRefusals, client: event.remoteAddress ?? 'unknown', nowMs: performance.now() };
+    logClientError(log, event, source);
+  });
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;

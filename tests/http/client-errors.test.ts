@@ -135,6 +135,35 @@ describe('requests the HTTP parser refuses', () => {
   });
 });
 
+describe('what a hostile request can write to the log', () => {
+  // A few kilobytes: the longest summary line the service writes for an ordinary call is under 2 KB.
+  const LINE_MAX_BYTES = 4096;
+
+  it('keeps every line short for a 2.5 KB gzip body, a 100 KB header and a long hook instance', async () => {
+    const before = log.text().length;
+    // About 2.5 KB compressed, about 2.5 MB of JSON once decompressed.
+    const bomb = gzipSync(Buffer.from(JSON.stringify({ hook: 'order-sign', hookInstance: 'h'.repeat(2_500_000), context: {} })));
+    expect(bomb.length).toBeLessThan(4_000);
+    await fetch(`${started.url}/cds-services/oxygen-order-check`, {
+      method: 'POST',
+      headers: { 'Content-Type': 'application/json', 'Content-Encoding': 'gzip' },
+      body: bomb,
+    });
+    await fetch(`${started.url}/cds-services/${'s'.repeat(6_000)}`, {
+      method: 'POST',
+      headers: { 'Content-Type': 'application/json', 'User-Agent': 'u'.repeat(8_000) },
+      body: JSON.stringify({ hook: 'x'.repeat(4_000), hookInstance: 'i'.repeat(4_000), context: {} }),
+    });
+    await rawExchange(`GET /healthz HTTP/1.1\r\nHost: localhost\r\nAuthorization: Bearer ${'a'.repeat(100_000)}\r\n\r\n`);
+    // The summary line is written when the response closes; let it land.
+    await new Promise((resolve) => setTimeout(resolve, 100));
+    const lines = log.text().slice(before).split('\n').filter((line) => line !== '');
+    expect(lines.length).toBeGreaterThanOrEqual(3);
+    for (const line of lines) expect(Buffer.byteLength(line)).toBeLessThan(LINE_MAX_BYTES);
+    expect(lines.some((line) => line.includes('"nodeCode":"HPE_HEADER_OVERFLOW"'))).toBe(true);
+  });
+});
+
 describe('clientErrorResponse', () => {
   it.each([
     ['HPE_HEADER_OVERFLOW', 431],
