@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { connect } from 'node:net';
 import { gzipSync } from 'node:zlib';
 import { fileURLToPath } from 'node:url';
@@ -154,6 +155,17 @@ describe('what a hostile request can write to the log', () => {
       headers: { 'Content-Type': 'application/json', 'User-Agent': 'u'.repeat(8_000) },
       body: JSON.stringify({ hook: 'x'.repeat(4_000), hookInstance: 'i'.repeat(4_000), context: {} }),
     });
+    // A valid call (an invented Larkspur Bay patient) whose hookInstance is 256 characters, the most the
+    // request schema takes (src/cds/schemas.ts): answered, and its summary line carries it, capped.
+    const example = JSON.parse(readFileSync(new URL('../../examples/order-sign-carbon-monoxide.json', import.meta.url), 'utf8')) as Record<string, unknown>;
+    const discovery = (await (await fetch(`${started.url}/cds-services`)).json()) as { services: { id: string; hook: string }[] };
+    const service = discovery.services.find((entry) => entry.hook === example['hook']);
+    const answered = await fetch(`${started.url}/cds-services/${service?.id ?? 'missing'}`, {
+      method: 'POST',
+      headers: { 'Content-Type': 'application/json' },
+      body: JSON.stringify({ ...example, hookInstance: 'i'.repeat(256) }),
+    });
+    expect(answered.status).toBe(200);
     await rawExchange(`GET /healthz HTTP/1.1\r\nHost: localhost\r\nAuthorization: Bearer ${'a'.repeat(100_000)}\r\n\r\n`);
     // The summary line is written when the response closes; let it land.
     await new Promise((resolve) => setTimeout(resolve, 100));
@@ -161,6 +173,7 @@ describe('what a hostile request can write to the log', () => {
     expect(lines.length).toBeGreaterThanOrEqual(3);
     for (const line of lines) expect(Buffer.byteLength(line)).toBeLessThan(LINE_MAX_BYTES);
     expect(lines.some((line) => line.includes('"nodeCode":"HPE_HEADER_OVERFLOW"'))).toBe(true);
+    expect(lines.some((line) => line.includes(`"hookInstance":"${'i'.repeat(200)}…[cut from 256 chars]"`))).toBe(true);
   });
 });
 
