@@ -1,15 +1,19 @@
-import type { Server } from 'node:http';
+import { createServer, type Server } from 'node:http';
+import { performance } from 'node:perf_hooks';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
 import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
+import { answerClientErrors } from './http/client-error.js';
+import { serverTimeoutOptions } from './http/connection-timeouts.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
 import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
 import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
 import { watchPolicyFiles, type PolicyWatch } from './live-policy/watch-policy.js';
-import { createLogger, type Logger } from './log/logger.js';
+import { createLogger, logClientError, type Logger } from './log/logger.js';
+import { createRefusalLimiter } from './log/refusal-limiter.js';
 import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
@@ -47,7 +51,11 @@ export interface StartedServer {
 
 function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<Server> {
   return new Promise((resolve, reject) => {
-    const server = app.listen(config.port, config.host);
+    // What app.listen does, with the timeouts set: Node's defaults hold a slow body for 300 s.
+    const server = createServer(serverTimeoutOptions(config.timeouts), app);
+    // Inactivity either way; with no 'timeout' listener Node destroys the socket.
+    server.setTimeout(config.timeouts.socketIdleTimeoutMs);
+    server.listen(config.port, config.host);
     server.once('listening', () => resolve(server));
     server.once('error', reject);
   });
@@ -138,6 +146,11 @@ async function startWithStore(
     review: review.review,
   });
   const server = await listen(app, config);
+  const parserRefusals = createRefusalLimiter();
+  answerClientErrors(server, { strictTransportSecurity: config.behindTls }, (event) => {
+    const source = { limiter: parserRefusals, client: event.remoteAddress ?? 'unknown', nowMs: performance.now() };
+    logClientError(log, event, source);
+  });
   const address = server.address();
   const port = typeof address === 'object' && address !== null ? address.port : config.port;
   const url = `http://${config.host.includes(':') ? `[${config.host}]` : config.host}:${port}`;

@@ -50,6 +50,17 @@ export const ENV_DEFAULTS = {
   // Robustness (docs/api.md, "Robustness"): past the cap a hook call gets 503 with Retry-After.
   OXYGEN_CHECKER_MAX_CONCURRENT: 16, // hook calls evaluated at once
   OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: 10_000, // milliseconds in-flight calls may take after SIGTERM
+  // Connection timeouts (docs/security.md, "Timeouts"). A hook call's body is at most 1 MiB and CDS
+  // Hooks 2.0 asks for answers "on the order of 500 ms", so a client still sending after 10 s is
+  // stalled or hostile; without these Node holds a slow body for 300 s (its requestTimeout default).
+  OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: 10_000, // milliseconds for a whole request (headers and body) to arrive
+  OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: 5_000, // milliseconds for the request headers to arrive
+  // Node's own default; set it above any load balancer's idle timeout in front, or the proxy may
+  // reuse a connection the service is closing (common practice).
+  OXYGEN_CHECKER_KEEP_ALIVE_TIMEOUT_MS: 5_000, // milliseconds an idle kept-alive connection stays open
+  // Inactivity either way on a socket: a client that stops sending, or stops reading its answer. Above
+  // the FHIR budget, so a slow fallback is never taken for an idle client.
+  OXYGEN_CHECKER_SOCKET_IDLE_TIMEOUT_MS: 30_000, // milliseconds without a byte in or out before a socket is cut
   OXYGEN_CHECKER_BEHIND_TLS: false, // true when clients reach the service over HTTPS only: sends HSTS
   OXYGEN_CHECKER_MODE: 'demo' as Mode,
   // Client JWT checks (docs/security.md). RFC 7519 §4.1.4 allows "a small leeway" for clock skew;
@@ -100,6 +111,14 @@ export interface AuthLimits {
   readonly replayMaxPerClient: number;
 }
 
+/** How long the HTTP server waits on a client (src/http/connection-timeouts.ts). */
+export interface ConnectionTimeouts {
+  readonly requestTimeoutMs: number;
+  readonly headersTimeoutMs: number;
+  readonly keepAliveTimeoutMs: number;
+  readonly socketIdleTimeoutMs: number;
+}
+
 /** Where the service keeps its memory, and how long (src/store). */
 export interface StoreConfig {
   /** The data directory, absolute: the database and, unless configured, the patient-key secret. */
@@ -142,6 +161,7 @@ export interface EnvConfig {
   readonly fhir: FhirFallbackLimits;
   readonly maxConcurrentEvaluations: number;
   readonly shutdownGraceMs: number;
+  readonly timeouts: ConnectionTimeouts;
   /** Clients reach the service over HTTPS only (TLS here or at a proxy), so HSTS is sent. */
   readonly behindTls: boolean;
   readonly security: SecurityConfig;
@@ -253,6 +273,10 @@ const EnvSchema = z.object({
   OXYGEN_CHECKER_FHIR_MAX_PAGES: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FHIR_MAX_PAGES, 1, 100),
   OXYGEN_CHECKER_MAX_CONCURRENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT, 1, 10_000),
   OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS, 0, 600_000),
+  OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REQUEST_TIMEOUT_MS, 100, 300_000),
+  OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_HEADERS_TIMEOUT_MS, 100, 300_000),
+  OXYGEN_CHECKER_KEEP_ALIVE_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_KEEP_ALIVE_TIMEOUT_MS, 100, 600_000),
+  OXYGEN_CHECKER_SOCKET_IDLE_TIMEOUT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_SOCKET_IDLE_TIMEOUT_MS, 100, 600_000),
   OXYGEN_CHECKER_BEHIND_TLS: booleanVar(ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS),
   OXYGEN_CHECKER_MODE: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_MODE).pipe(
     z.enum(MODES, { error: `must be one of ${MODES.join(', ')}` }),
@@ -416,6 +440,13 @@ export function parseEnvConfig(
       message: 'must not be below OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS',
     });
   }
+  // Node refuses a headers timeout longer than the request timeout (node/lib/_http_server.js).
+  if (v.OXYGEN_CHECKER_HEADERS_TIMEOUT_MS > v.OXYGEN_CHECKER_REQUEST_TIMEOUT_MS) {
+    problems.push({
+      variable: 'OXYGEN_CHECKER_HEADERS_TIMEOUT_MS',
+      message: 'must not be above OXYGEN_CHECKER_REQUEST_TIMEOUT_MS',
+    });
+  }
   problems.push(...policy, ...securityProblems(v), ...unknown);
   if (problems.length > 0) {
     return { kind: 'invalid', problems };
@@ -440,6 +471,12 @@ export function parseEnvConfig(
       },
       maxConcurrentEvaluations: v.OXYGEN_CHECKER_MAX_CONCURRENT,
       shutdownGraceMs: v.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS,
+      timeouts: {
+        requestTimeoutMs: v.OXYGEN_CHECKER_REQUEST_TIMEOUT_MS,
+        headersTimeoutMs: v.OXYGEN_CHECKER_HEADERS_TIMEOUT_MS,
+        keepAliveTimeoutMs: v.OXYGEN_CHECKER_KEEP_ALIVE_TIMEOUT_MS,
+        socketIdleTimeoutMs: v.OXYGEN_CHECKER_SOCKET_IDLE_TIMEOUT_MS,
+      },
       // Production requires an https public URL, so clients reach it over TLS: always send HSTS there.
       behindTls: v.OXYGEN_CHECKER_BEHIND_TLS || v.OXYGEN_CHECKER_MODE === 'production',
       security: securityConfig(v, absolute),

@@ -25,6 +25,7 @@ import { healthHandler } from './routes/health.js';
 import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
 import { securityHeaders } from './security-headers.js';
+import type { RefusalLimits } from '../log/refusal-limiter.js';
 
 /**
  * The settings the app reads: a slice of EnvConfig, so tests need not invent host or paths. The
@@ -54,6 +55,8 @@ export interface AppDeps {
   readonly patientKey: PatientKeyOf;
   /** Defaults to random UUIDs. */
   readonly newRequestId?: () => string;
+  /** How many identical refusals per client are logged one by one; defaults in src/log/refusal-limiter.ts. */
+  readonly refusalLogLimits?: RefusalLimits;
   /** The review pages and card links; /review is not served without it. */
   readonly review?: ReviewAppDeps;
 }
@@ -138,7 +141,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.set('etag', false);
 
   app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS }));
-  app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID));
+  app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID, deps.refusalLogLimits));
   app.use(pinPolicy(deps.policy));
   app.use(corsHeaders(config.corsOrigins));
   // Browsers send preflights without credentials, so they are answered before authentication.

@@ -36,6 +36,32 @@ function bodyParserCode(error: unknown): ErrorCode | undefined {
 }
 
 /**
+ * The encodings body-parser decompresses (its README, "inflate"), named the way the issue names them.
+ * Only these names are ever quoted back: any other Content-Encoding is refused before reading (415).
+ */
+const DECOMPRESSED_ENCODINGS: Readonly<Record<string, string>> = {
+  gzip: 'gzip',
+  'x-gzip': 'gzip',
+  deflate: 'deflate',
+  br: 'br',
+  zstd: 'zstd',
+};
+
+/**
+ * A body declared compressed that zlib cannot decompress: body-parser passes zlib's own error on as a
+ * 400 without a `type`, which would otherwise be an unexplained 500. Returns the encoding's name.
+ */
+export function invalidEncodingOf(error: unknown, contentEncoding: string | undefined): string | undefined {
+  if (error === null || typeof error !== 'object' || contentEncoding === undefined) {
+    return undefined;
+  }
+  const encoding = DECOMPRESSED_ENCODINGS[contentEncoding.trim().toLowerCase()];
+  const { type, status, errno } = error as { type?: unknown; status?: unknown; errno?: unknown };
+  const fromZlib = typeof errno === 'number' || (typeof status === 'number' && status >= 400 && status < 500);
+  return encoding !== undefined && type === undefined && fromZlib ? encoding : undefined;
+}
+
+/**
  * The router marks a path segment it cannot percent-decode as a 400 URIError: the path names
  * nothing this service has, so it is a 404 like any unknown path.
  */
@@ -44,9 +70,16 @@ function isUndecodablePath(error: unknown): boolean {
 }
 
 /** Any error becomes a catalogue error; unknown ones become the generic 500 and are logged. */
-export function toAppError(error: unknown): AppError | undefined {
+export function toAppError(error: unknown, contentEncoding?: string): AppError | undefined {
   if (error instanceof AppError) {
     return error;
+  }
+  const encoding = invalidEncodingOf(error, contentEncoding);
+  if (encoding !== undefined) {
+    return new AppError('CDS_ERR_REQUEST_ENCODING_INVALID', {
+      cause: error,
+      issues: [{ path: 'Content-Encoding', message: `the body is not valid ${encoding} data` }],
+    });
   }
   if (isUndecodablePath(error)) {
     return new AppError('CDS_ERR_NOT_FOUND', { cause: error });
@@ -57,13 +90,13 @@ export function toAppError(error: unknown): AppError | undefined {
 
 /** The one JSON error middleware: express's HTML error page never reaches a client. */
 export function jsonErrorHandler(logger: Logger): ErrorRequestHandler {
-  return (error: unknown, _req, res, next) => {
+  return (error: unknown, req, res, next) => {
     if (res.headersSent) {
       next(error);
       return;
     }
     const state = requestState(res);
-    let appError = toAppError(error);
+    let appError = toAppError(error, req.headers['content-encoding']);
     if (appError === undefined) {
       logInternalError(logger, state.requestId, error);
       appError = new AppError('CDS_ERR_INTERNAL');

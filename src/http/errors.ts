@@ -17,6 +17,14 @@ export const ERROR_CATALOGUE = {
     status: 400,
     message: 'The request body nests too deeply, or holds too long a list or text; see issues.',
   },
+  CDS_ERR_REQUEST_ENCODING_INVALID: {
+    status: 400,
+    message: 'The request body is not validly compressed in the Content-Encoding it declares; see issues.',
+  },
+  CDS_ERR_HTTP_MALFORMED: {
+    status: 400,
+    message: 'The request is not well-formed HTTP/1.1; the connection was closed.',
+  },
   CDS_ERR_HOOK_NOT_SUPPORTED: {
     status: 400,
     message: 'This CDS service is not registered for that hook.',
@@ -53,6 +61,10 @@ export const ERROR_CATALOGUE = {
     status: 404,
     message: 'No advisory with that card uuid is on record.',
   },
+  CDS_ERR_REQUEST_TIMEOUT: {
+    status: 408,
+    message: 'The request did not arrive in full within the time this service allows; the connection was closed.',
+  },
   CDS_ERR_PREFETCH_UNAVAILABLE: {
     status: 412,
     message: 'Required FHIR data was neither prefetched nor obtainable from the FHIR server.',
@@ -76,6 +88,10 @@ export const ERROR_CATALOGUE = {
   CDS_ERR_AUTH_TOO_MANY_TOKENS: {
     status: 429,
     message: 'This client holds as many unexpired tokens as this service remembers for it; retry after the Retry-After delay.',
+  },
+  CDS_ERR_REQUEST_HEADERS_TOO_LARGE: {
+    status: 431,
+    message: 'The request headers are larger than this service accepts; the connection was closed.',
   },
   CDS_ERR_INTERNAL: {
     status: 500,

@@ -1,6 +1,7 @@
 import { performance } from 'node:perf_hooks';
 import type { RequestHandler, Response } from 'express';
 import { logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
+import { createRefusalLimiter, DEFAULT_REFUSAL_LIMITS, type RefusalLimits } from '../log/refusal-limiter.js';
 
 /** Per-request bookkeeping the summary line is written from. */
 export interface RequestState {
@@ -25,7 +26,13 @@ export function requestState(res: Response): RequestState {
  * Gives each request an id (sent back as `X-Request-Id`; an incoming one is ignored, since a caller
  * could put anything in it) and writes exactly one summary line when the response closes.
  */
-export function requestContext(logger: Logger, newRequestId: () => string): RequestHandler {
+export function requestContext(
+  logger: Logger,
+  newRequestId: () => string,
+  refusalLimits: RefusalLimits = DEFAULT_REFUSAL_LIMITS,
+): RequestHandler {
+  // Repeated identical refusals from one client are rate-limited in the log, not in the answer.
+  const refusals = createRefusalLimiter(refusalLimits);
   return (req, res, next) => {
     const state: RequestState = {
       requestId: newRequestId(),
@@ -45,7 +52,7 @@ export function requestContext(logger: Logger, newRequestId: () => string): Requ
         durationMs: performance.now() - state.startedAt,
         errorCode: state.errorCode,
         detail: state.detail,
-      });
+      }, { limiter: refusals, client: req.socket.remoteAddress ?? 'unknown', nowMs: performance.now() });
     });
     next();
   };

@@ -1,5 +1,7 @@
 import { pino, type DestinationStream, type Logger } from 'pino';
 import type { LogLevel } from '../config/env-config.js';
+import { capList, capOptional, capText } from './cap-text.js';
+import type { RefusalLimiter } from './refusal-limiter.js';
 
 export type { Logger } from 'pino';
 
@@ -157,14 +159,14 @@ export interface RequestSummary {
 
 /**
  * Copies only the named fields, so an object with extra properties (a whole request, say) cannot
- * smuggle them into the line.
+ * smuggle them into the line; text the caller chose is capped (cap-text.ts).
  */
 function pickDetail(detail: RequestDetail): Record<string, unknown> {
   if (detail.kind === 'hook-call') {
     return {
-      serviceId: detail.serviceId,
-      hook: detail.hook,
-      hookInstance: detail.hookInstance,
+      serviceId: capText(detail.serviceId),
+      hook: capText(detail.hook),
+      hookInstance: capText(detail.hookInstance),
       ruleIds: [...detail.ruleIds],
       policyId: detail.policyId,
       policyVersion: detail.policyVersion,
@@ -177,25 +179,31 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
         keysIncomplete: [...detail.fhirFallback.keysIncomplete],
       },
       missingKeys: [...detail.missingKeys],
-      ...(detail.cardProblems.length === 0 ? {} : { cardProblems: [...detail.cardProblems] }),
+      ...(detail.cardProblems.length === 0 ? {} : { cardProblems: capList(detail.cardProblems) }),
       ...(detail.unavailableKeys.length === 0 ? {} : { unavailableKeys: [...detail.unavailableKeys] }),
-      ...(detail.fhirServerRefused === undefined ? {} : { fhirServerRefused: detail.fhirServerRefused }),
+      ...(detail.fhirServerRefused === undefined ? {} : { fhirServerRefused: capText(detail.fhirServerRefused) }),
     };
   }
   if (detail.kind === 'review') {
-    const fields = { reviewVia: detail.via, reviewer: detail.reviewer, reviewRefused: detail.refused };
+    const fields = { reviewVia: detail.via, reviewer: capOptional(detail.reviewer), reviewRefused: detail.refused };
     return Object.fromEntries(Object.entries(fields).filter(([, value]) => value !== undefined));
   }
   if (detail.kind === 'auth-refused') {
-    const ids = { iss: detail.iss, kid: detail.kid, jti: detail.jti, tenant: detail.tenant };
+    // Read from a token the service refused: any text at all, so each is capped.
+    const ids = {
+      iss: capOptional(detail.iss),
+      kid: capOptional(detail.kid),
+      jti: capOptional(detail.jti),
+      tenant: capOptional(detail.tenant),
+    };
     return {
       authRefused: detail.reason,
       ...Object.fromEntries(Object.entries(ids).filter(([, value]) => value !== undefined)),
     };
   }
   return {
-    serviceId: detail.serviceId,
-    clientIss: detail.clientIss,
+    serviceId: capText(detail.serviceId),
+    clientIss: capText(detail.clientIss),
     policyContentHash: detail.policyContentHash,
     feedback: detail.items.map((item) => ({
       cardUuid: item.cardUuid,
@@ -208,11 +216,44 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
   };
 }
 
-/** Writes the one summary line a request gets. */
-export function logRequestSummary(logger: Logger, summary: RequestSummary): void {
+/** Where a refusal came from, for rate-limiting repeated ones in the log (refusal-limiter.ts). */
+export interface RefusalSource {
+  readonly limiter: RefusalLimiter;
+  /** The client's address as the socket saw it. */
+  readonly client: string;
+  /** A monotonic time in milliseconds. */
+  readonly nowMs: number;
+}
+
+/**
+ * Whether a refusal (a 4xx) is written, after the one summary line of those not written since the
+ * client's last window, when there were any. Anything else is always written.
+ */
+function refusalWritten(logger: Logger, status: number, reason: string, source: RefusalSource | undefined): boolean {
+  if (source === undefined || status < 400 || status >= 500) {
+    return true;
+  }
+  const decision = source.limiter.decide(source.client, reason, source.nowMs);
+  if (decision.kind === 'suppress') {
+    return false;
+  }
+  if (decision.suppressedBefore > 0) {
+    logger.warn(
+      { client: capText(source.client), refusal: reason, refusalsNotLogged: decision.suppressedBefore },
+      'repeated refusals from one client were not logged one by one',
+    );
+  }
+  return true;
+}
+
+/** Writes the one summary line a request gets (unless it is one refusal too many; see above). */
+export function logRequestSummary(logger: Logger, summary: RequestSummary, refusals?: RefusalSource): void {
+  if (!refusalWritten(logger, summary.status, summary.errorCode ?? String(summary.status), refusals)) {
+    return;
+  }
   const line: Record<string, unknown> = {
     requestId: summary.requestId,
-    method: summary.method,
+    method: capText(summary.method),
     route: summary.route,
     status: summary.status,
     durationMs: Math.round(summary.durationMs * 10) / 10,
@@ -252,5 +293,25 @@ export function logInternalError(logger: Logger, requestId: string, error: unkno
           .map((frame) => frame.trim())
           .filter((frame) => frame.startsWith('at '))
       : [];
-  logger.error({ requestId, errorType: type, frames }, 'internal error');
+  logger.error({ requestId, errorType: capText(type), frames: capList(frames) }, 'internal error');
+}
+
+/** A request Node's HTTP parser refused before the app saw it (src/http/client-error.ts). */
+export interface ClientErrorLine {
+  /** The catalogue code answered. */
+  readonly code: string;
+  /** Node's error code, never its message (which may quote the request). */
+  readonly nodeCode: string;
+  readonly answered: boolean;
+}
+
+/** One line per parser refusal, rate-limited per client and code like the other refusals. */
+export function logClientError(logger: Logger, line: ClientErrorLine, source: RefusalSource): void {
+  if (!refusalWritten(logger, 400, line.code, source)) {
+    return;
+  }
+  logger.info(
+    { client: capText(source.client), errorCode: line.code, nodeCode: capText(line.nodeCode), answered: line.answered },
+    'request refused by the HTTP parser',
+  );
 }

@@ -26,6 +26,8 @@ describe('parseEnvConfig', () => {
         fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
         maxConcurrentEvaluations: 16, // project default (docs/api.md, Robustness)
         shutdownGraceMs: 10_000, // project default
+        // project defaults: CDS Hooks 2.0 asks for answers "on the order of 500 ms"; Node's 300 s is far too long
+        timeouts: { requestTimeoutMs: 10_000, headersTimeoutMs: 5_000, keepAliveTimeoutMs: 5_000, socketIdleTimeoutMs: 30_000 },
         behindTls: false, // project default: no HSTS until HTTPS is known to be in front
         security: { mode: 'demo' }, // project default: demo mode, authentication off, loopback only
         store: {
@@ -61,6 +63,10 @@ describe('parseEnvConfig', () => {
         OXYGEN_CHECKER_FHIR_MAX_PAGES: '2',
         OXYGEN_CHECKER_MAX_CONCURRENT: '4',
         OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
+        OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: '8000',
+        OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: '4000',
+        OXYGEN_CHECKER_KEEP_ALIVE_TIMEOUT_MS: '65000',
+        OXYGEN_CHECKER_SOCKET_IDLE_TIMEOUT_MS: '20000',
         OXYGEN_CHECKER_BEHIND_TLS: 'true',
         OXYGEN_CHECKER_MODE: 'production',
         OXYGEN_CHECKER_TRUST: 'trust/larkspur-bay-clients.yaml',
@@ -96,6 +102,7 @@ describe('parseEnvConfig', () => {
         fhir: { callTimeoutMs: 400, budgetMs: 900, maxResponseBytes: 4096, maxPages: 2 },
         maxConcurrentEvaluations: 4,
         shutdownGraceMs: 2500,
+        timeouts: { requestTimeoutMs: 8000, headersTimeoutMs: 4000, keepAliveTimeoutMs: 65_000, socketIdleTimeoutMs: 20_000 },
         behindTls: true,
         security: {
           mode: 'production',

@@ -41,7 +41,11 @@ let slowestMs = 0;
 const statuses = new Map<number, number>();
 
 beforeAll(async () => {
-  const built = await buildTestApp({ clock: () => now });
+  // Every call's line is read below, so no repeated refusal is held back from the log.
+  const built = await buildTestApp({
+    clock: () => now,
+    refusalLogLimits: { maxLinesPerWindow: Number.MAX_SAFE_INTEGER, windowMs: 60_000, maxClients: 10 },
+  });
   log = built.log;
   server = await listenApp(built.app);
 });

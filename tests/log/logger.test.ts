@@ -7,6 +7,7 @@ import {
   type FeedbackItemSummary,
   type HookCallSummary,
 } from '../../src/log/logger.js';
+import { createRefusalLimiter } from '../../src/log/refusal-limiter.js';
 import { createMemoryLog } from './memory-log.js';
 
 // Invented demo values (Larkspur Bay General Hospital); none is a real person or token.
@@ -262,5 +263,57 @@ describe('logRequestSummary', () => {
       });
       expect(log.text()).toBe('');
     });
+  });
+});
+
+describe('caller-controlled text in the summary line', () => {
+  it('is capped, whatever field of the detail it arrives in', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const long = 'q'.repeat(100_000);
+    logRequestSummary(logger, {
+      requestId: 'req-1', method: 'POST', route: 'service', status: 200, durationMs: 1, errorCode: undefined,
+      detail: { ...hookCall, serviceId: long, hook: long, hookInstance: long, cardProblems: Array.from({ length: 500 }, () => long) },
+    });
+    logRequestSummary(logger, {
+      requestId: 'req-2', method: 'POST', route: 'service', status: 401, durationMs: 1, errorCode: 'CDS_ERR_AUTH_INVALID_TOKEN',
+      detail: { kind: 'auth-refused', reason: 'unknown-issuer', iss: long, kid: long, jti: long, tenant: long },
+    });
+    const lines = log.text().split('\n').filter((line) => line !== '');
+    expect(lines).toHaveLength(2);
+    // A line is a few kilobytes at most, however long the caller's text (the list keeps 50 capped items).
+    for (const line of lines) expect(Buffer.byteLength(line)).toBeLessThan(16_384);
+    expect(log.lines()[0]?.['hookInstance']).toBe(`${'q'.repeat(200)}…[cut from 100000 chars]`);
+    expect(log.lines()[1]?.['kid']).toBe(`${'q'.repeat(200)}…[cut from 100000 chars]`);
+  });
+});
+
+describe('repeated refusals', () => {
+  const refusal = (requestId: string) => ({
+    requestId, method: 'POST', route: 'service', status: 401, durationMs: 1,
+    errorCode: 'CDS_ERR_AUTH_MISSING', detail: undefined,
+  });
+
+  it('are logged N times per client per window, then summed up in one line', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const limiter = createRefusalLimiter({ maxLinesPerWindow: 2, windowMs: 60_000, maxClients: 10 });
+    for (let i = 0; i < 12; i += 1) logRequestSummary(logger, refusal(`req-${i}`), { limiter, client: '10.0.0.9', nowMs: 0 });
+    expect(log.lines()).toHaveLength(2);
+    logRequestSummary(logger, refusal('req-later'), { limiter, client: '10.0.0.9', nowMs: 60_000 });
+    expect(log.lines().slice(2)).toMatchObject([
+      { client: '10.0.0.9', refusal: 'CDS_ERR_AUTH_MISSING', refusalsNotLogged: 10 },
+      { requestId: 'req-later', status: 401 },
+    ]);
+  });
+
+  it('never hold back a line that is not a refusal', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const limiter = createRefusalLimiter({ maxLinesPerWindow: 1, windowMs: 60_000, maxClients: 10 });
+    for (const status of [200, 200, 500, 500, 503]) {
+      logRequestSummary(logger, { ...refusal('req'), status }, { limiter, client: '10.0.0.9', nowMs: 0 });
+    }
+    expect(log.lines()).toHaveLength(5);
   });
 });
