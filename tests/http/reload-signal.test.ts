@@ -1,9 +1,7 @@
-import { spawn, type ChildProcess } from 'node:child_process';
-import { fileURLToPath } from 'node:url';
 import { afterEach, describe, expect, it } from 'vitest';
-import { makeTempDataDir } from '../helpers/temp-store.js';
 import { larkspurPolicy, policyFolder, sha256 } from '../live-policy/support/policy-files.js';
 import { get } from './support/app-server.js';
+import { killServerProcesses, runServerProcess } from './support/server-process.js';
 
 /**
  * SIGHUP on the real process (`node --import tsx src/server.ts`), as an operator sends it: a good file
@@ -11,52 +9,14 @@ import { get } from './support/app-server.js';
  * on serving the last good policy.
  */
 
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const children: ChildProcess[] = [];
 
-afterEach(() => {
-  for (const child of children.splice(0)) {
-    if (child.exitCode === null && child.signalCode === null) child.kill('SIGKILL');
-  }
-});
+afterEach(killServerProcesses);
 
-function runServer(env: Record<string, string>) {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
-    cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), ...env },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  children.push(child);
-  let stdout = '';
-  const waiters: (() => void)[] = [];
-  child.stdout?.on('data', (chunk: Buffer) => {
-    stdout += chunk.toString();
-    for (const waiter of waiters.splice(0)) waiter();
-  });
-  const lines = (): Record<string, unknown>[] =>
-    stdout
-      .split('\n')
-      .filter((line) => line.trim() !== '')
-      .map((line) => JSON.parse(line) as Record<string, unknown>);
-  const waitForLine = (msgStart: string): Promise<Record<string, unknown>> =>
-    new Promise((resolve) => {
-      const check = (): void => {
-        const found = lines().find((line) => String(line['msg']).startsWith(msgStart));
-        if (found === undefined) waiters.push(check);
-        else resolve(found);
-      };
-      check();
-    });
-  const exit = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => {
-    child.on('exit', (code, signal) => resolve({ code, signal }));
-  });
-  return { child, lines, waitForLine, exit };
-}
 
 describe('SIGHUP', () => {
   it('loads a good policy file, refuses a bad one and keeps serving the last good one', async () => {
     const folder = policyFolder(larkspurPolicy('1.0.0'));
-    const run = runServer({ OXYGEN_CHECKER_POLICY: folder.policyPath });
+    const run = runServerProcess({ OXYGEN_CHECKER_POLICY: folder.policyPath });
     const listening = await run.waitForLine('oxygen-order-checker listening');
     const url = String(listening['url']);
     expect(listening['policyContentHash']).toBe(sha256(larkspurPolicy('1.0.0')));

@@ -1,11 +1,9 @@
-import { spawn, type ChildProcess } from 'node:child_process';
 import { connect } from 'node:net';
-import { fileURLToPath } from 'node:url';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
-import { makeTempDataDir } from '../helpers/temp-store.js';
 import { fhirAuthorization, fullPrefetch, orderSignRequest } from './larkspur-fixtures.js';
 import { post } from './support/app-server.js';
 import { startFaultFhirServer, type FaultFhirServer } from './support/fault-fhir-server.js';
+import { killServerProcesses, runServerProcess } from './support/server-process.js';
 
 /**
  * SIGTERM on the real process (`node --import tsx src/server.ts`): it stops accepting connections at
@@ -14,49 +12,8 @@ import { startFaultFhirServer, type FaultFhirServer } from './support/fault-fhir
  * and a call still open when `OXYGEN_CHECKER_SHUTDOWN_GRACE_MS` runs out is cut so the process still exits.
  */
 
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const children: ChildProcess[] = [];
 let fhir: FaultFhirServer;
 
-interface Running {
-  readonly child: ChildProcess;
-  readonly lines: () => Record<string, unknown>[];
-  readonly waitForLine: (msgStart: string) => Promise<Record<string, unknown>>;
-  readonly exit: Promise<{ code: number | null; signal: NodeJS.Signals | null }>;
-}
-
-function runServer(env: Record<string, string>): Running {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'src/server.ts'], {
-    cwd: ROOT,
-    env: { PATH: process.env['PATH'] ?? '', HOST: '127.0.0.1', PORT: '0', OXYGEN_CHECKER_DATA_DIR: makeTempDataDir(), ...env },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
-  children.push(child);
-  let stdout = '';
-  const waiters: (() => void)[] = [];
-  child.stdout?.on('data', (chunk: Buffer) => {
-    stdout += chunk.toString();
-    for (const waiter of waiters.splice(0)) waiter();
-  });
-  const lines = (): Record<string, unknown>[] =>
-    stdout
-      .split('\n')
-      .filter((line) => line.trim() !== '')
-      .map((line) => JSON.parse(line) as Record<string, unknown>);
-  const waitForLine = (msgStart: string): Promise<Record<string, unknown>> =>
-    new Promise((resolve) => {
-      const check = (): void => {
-        const found = lines().find((line) => String(line['msg']).startsWith(msgStart));
-        if (found === undefined) waiters.push(check);
-        else resolve(found);
-      };
-      check();
-    });
-  const exit = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => {
-    child.on('exit', (code, signal) => resolve({ code, signal }));
-  });
-  return { child, lines, waitForLine, exit };
-}
 
 /** Resolves with the socket error code, or 'connected' when a connection is accepted. */
 function tryConnect(url: string): Promise<string> {
@@ -91,11 +48,7 @@ beforeAll(async () => {
   fhir = await startFaultFhirServer({ slowMs: 60_000 });
 });
 
-afterEach(() => {
-  for (const child of children.splice(0)) {
-    if (child.exitCode === null && child.signalCode === null) child.kill('SIGKILL');
-  }
-});
+afterEach(killServerProcesses);
 
 afterAll(async () => {
   await fhir.close();
@@ -105,7 +58,7 @@ const SLOW_FHIR_ENV = { OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: '15000', OXYGEN_CHE
 
 describe('shutdown on SIGTERM', () => {
   it('finishes the call in flight with 200, refuses new connections and exits 0', async () => {
-    const run = runServer({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '15000' });
+    const run = runServerProcess({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '15000' });
     const url = String((await run.waitForLine('oxygen-order-checker listening'))['url']);
     const before = heldCount();
     const inFlight = post(`${url}/cds-services/oxygen-order-sign`, heldCall());
@@ -129,7 +82,7 @@ describe('shutdown on SIGTERM', () => {
 
   describe('edge cases', () => {
     it('cuts a call still open at the deadline and still exits 0', async () => {
-      const run = runServer({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '300' });
+      const run = runServerProcess({ ...SLOW_FHIR_ENV, OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '300' });
       const url = String((await run.waitForLine('oxygen-order-checker listening'))['url']);
       const before = heldCount();
       const inFlight = post(`${url}/cds-services/oxygen-order-sign`, heldCall()).then(
