@@ -7,8 +7,9 @@ import {
   type CardTemplate,
 } from '../../../src/cds/card-templates.js';
 import { policyCardValues } from '../../../src/cds/policy-card-text.js';
+import type { Policy } from '../../../src/core/policy.js';
 import type { Finding } from '../../../src/core/types.js';
-import { BTS } from '../facts-builder.js';
+import { BTS, withPolicy } from '../facts-builder.js';
 
 /** CDS Hooks 2.0: a card summary is fewer than 140 characters. */
 export const SUMMARY_LIMIT = 140;
@@ -63,4 +64,31 @@ export function rangesAttributedTo(detail: string, guideline: string, range: str
     .replace(/\s+/g, ' ')
     .split(/(?<=\.)\s+/)
     .filter((sentence) => sentence.includes(guideline) && sentence.split(range).slice(1).some((after) => !after.startsWith(' under this policy')));
+}
+
+/**
+ * At-risk ranges a policy or unit may set for itself (docs/policy.md). BTS 2017 Table 4 gives 88-92 %;
+ * 88-90 % (a narrower local band), 86-90 % and 90-92 % are invented local choices, never BTS 2017's.
+ */
+export const POLICY_AT_RISK_RANGES: readonly (readonly [number, number])[] = [
+  [88, 92], // BTS 2017, Table 4: the guideline's own range, still named as the policy's
+  [88, 90], // local choice (invented)
+  [86, 90], // local choice (invented)
+  [90, 92], // local choice (invented)
+];
+
+/** The bundled policy with the at-risk range `lowPercent`-`highPercent` and a standard range just above it. */
+export function policyWithAtRiskRange(lowPercent: number, highPercent: number): Policy {
+  return withPolicy(BTS, {
+    targets: { ...BTS.targets, hypercapnicRisk: { lowPercent, highPercent }, standard: { lowPercent: highPercent, highPercent: highPercent + 4 } },
+  });
+}
+
+/** The card advises the policy's at-risk range and names it as this policy's, never as BTS 2017's. */
+export function expectRangeNamedAsPolicys(finding: Finding, lowPercent: number, highPercent: number): void {
+  const range = `${lowPercent}–${highPercent} %`;
+  expect(finding.values.advisedRange).toBe(range);
+  const { detail } = expectCardRenders(finding); // rendered with BTS 2017 as the guideline cited
+  expect(detail.replace(/\s+/g, ' ')).toContain(`${range} under this policy`);
+  expect(rangesAttributedTo(detail, 'BTS 2017', range)).toStrictEqual([]);
 }
