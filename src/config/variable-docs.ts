@@ -44,7 +44,7 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
   HOST: {
     group: 'Service',
     description:
-      'The address the service listens on. Demo mode accepts loopback only; in a container or behind a proxy on another host, production mode with `0.0.0.0` or the private interface.',
+      'The address the service listens on. Demo mode accepts loopback only; production mode may listen on `0.0.0.0` (in a container) or the private interface a proxy forwards to.',
   },
   PORT: { group: 'Service', description: 'The TCP port the service listens on (plain HTTP; TLS is the proxy\'s).' },
   LOG_LEVEL: { group: 'Service', description: 'The pino log level. Logs never carry tokens or patient identifiers.' },
