@@ -3,6 +3,7 @@ import { performance } from 'node:perf_hooks';
 import { pathToFileURL } from 'node:url';
 import { formatEnvProblems, parseEnvConfig, type EnvConfig } from './config/env-config.js';
 import { parseReviewConfig, type ReviewConfig } from './config/review-config.js';
+import { readSecretValueFiles } from './config/secret-variables.js';
 import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
@@ -63,10 +64,16 @@ function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<S
 
 /** Starts the service, or returns the problems that stop it. Used by `main` and by tests. */
 export async function startServer(
-  env: Readonly<Record<string, string | undefined>>,
+  givenEnv: Readonly<Record<string, string | undefined>>,
   cwd: string,
   logger?: Logger,
 ): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
+  // Secret values given as files (`NAME_FILE`, as container secrets are mounted) are read first.
+  const secretValues = readSecretValueFiles(givenEnv, cwd);
+  if (secretValues.kind === 'invalid') {
+    return { kind: 'refused', problems: formatEnvProblems(secretValues.problems) };
+  }
+  const env = secretValues.env;
   const parsedEnv = parseEnvConfig(env, cwd);
   if (parsedEnv.kind === 'invalid') {
     return { kind: 'refused', problems: formatEnvProblems(parsedEnv.problems) };

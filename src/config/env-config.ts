@@ -179,6 +179,15 @@ export type EnvConfigParse =
   | { readonly kind: 'ok'; readonly config: EnvConfig }
   | { readonly kind: 'invalid'; readonly problems: readonly EnvProblem[] };
 
+/**
+ * What each variable's parser accepts and defaults to, attached to it with zod's `.meta()` so the
+ * configuration reference (src/config/config-reference.ts) is generated from the parser itself.
+ */
+export type VariableMeta =
+  | { readonly kind: 'integer'; readonly default: number; readonly min: number; readonly max: number }
+  | { readonly kind: 'boolean'; readonly default: boolean }
+  | { readonly kind: 'text'; readonly default: string };
+
 /** An unset or empty variable takes its default; anything else must parse as a whole integer. */
 function integerVar(fallback: number, min: number, max: number) {
   return z
@@ -198,7 +207,8 @@ function integerVar(fallback: number, min: number, max: number) {
         return z.NEVER;
       }
       return value;
-    });
+    })
+    .meta({ kind: 'integer', default: fallback, min, max } satisfies VariableMeta);
 }
 
 /** An unset or empty variable takes its default; otherwise `true` or `false`. */
@@ -216,14 +226,16 @@ function booleanVar(fallback: boolean) {
         return z.NEVER;
       }
       return value === 'true';
-    });
+    })
+    .meta({ kind: 'boolean', default: fallback } satisfies VariableMeta);
 }
 
 function textVar(fallback: string) {
   return z
     .string()
     .optional()
-    .transform((text) => (text === undefined || text.trim() === '' ? fallback : text.trim()));
+    .transform((text) => (text === undefined || text.trim() === '' ? fallback : text.trim()))
+    .meta({ kind: 'text', default: fallback } satisfies VariableMeta);
 }
 
 function parseOrigins(text: string, ctx: z.RefinementCtx): '*' | readonly string[] {
@@ -251,7 +263,8 @@ function parseOrigins(text: string, ctx: z.RefinementCtx): '*' | readonly string
   return origins;
 }
 
-const EnvSchema = z.object({
+/** The parser of every variable env-config.ts reads; config-reference.ts documents it. */
+export const EnvSchema = z.object({
   HOST: textVar(ENV_DEFAULTS.HOST),
   PORT: integerVar(ENV_DEFAULTS.PORT, 0, 65_535),
   // Empty means unset: demo mode takes the bundled policy, production refuses (policyProblems).

@@ -15,6 +15,9 @@ export const REVIEW_DEFAULTS = {
   REVIEW_LINK_SECRET_NAME: 'review-link.secret',
 } as const;
 
+/** The link lifetimes accepted, in seconds: one minute to seven days. */
+export const REVIEW_LINK_TTL_RANGE_S = { min: 60, max: 604_800 } as const;
+
 /** Every variable this file reads (the data directory comes from env-config.ts); the known-name check uses it. */
 export const REVIEW_VARIABLES = [
   'OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER',
@@ -82,7 +85,7 @@ export function parseReviewConfig(
   const ttlText = text(env, 'OXYGEN_CHECKER_REVIEW_LINK_TTL_S');
   let linkTtlS: number = REVIEW_DEFAULTS.OXYGEN_CHECKER_REVIEW_LINK_TTL_S;
   if (ttlText !== '') {
-    if (!/^\d+$/.test(ttlText) || Number(ttlText) < 60 || Number(ttlText) > 604_800) {
+    if (!/^\d+$/.test(ttlText) || Number(ttlText) < REVIEW_LINK_TTL_RANGE_S.min || Number(ttlText) > REVIEW_LINK_TTL_RANGE_S.max) {
       problems.push({ variable: 'OXYGEN_CHECKER_REVIEW_LINK_TTL_S', message: 'must be a whole number of seconds from 60 to 604800 (7 days)' });
     } else {
       linkTtlS = Number(ttlText);

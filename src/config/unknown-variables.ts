@@ -37,7 +37,7 @@ export function unknownVariables(
         message:
           `is not a setting of this service, so it would be ignored; ` +
           (suggestion === undefined
-            ? `remove it, or use one of the settings listed in README.md ("Configuration") and docs/security.md`
+            ? `remove it, or use one of the settings listed in docs/configuration.md`
             : `did you mean ${suggestion}?`),
       };
     });

@@ -17,6 +17,7 @@ const COMMANDS: readonly (readonly string[])[] = [
   ['simulate'],
   ['audit'],
   ['demo-export'],
+  ['config', 'docs'],
 ];
 
 /** The options named in a usage text's synopsis: the `Usage:` line and the lines that continue it. */

@@ -456,7 +456,7 @@ describe('parseEnvConfig', () => {
         {
           variable: 'OXYGEN_CHECKER_COLOUR_SCHEME',
           message:
-            'is not a setting of this service, so it would be ignored; remove it, or use one of the settings listed in README.md ("Configuration") and docs/security.md',
+            'is not a setting of this service, so it would be ignored; remove it, or use one of the settings listed in docs/configuration.md',
         },
       ]);
     });
