@@ -21,7 +21,9 @@ import { requestState } from './request-context.js';
  * 2. `admit`, once the client is known: the client holds its whole share (429, RFC 6585 §4): at most
  *    `maxConcurrentPerClient` of its calls are evaluated at once, so a client whose calls hang on its
  *    FHIR server, or whose sockets do not read, holds its own slots and no one else's.
- * 3. `admit`: every slot is taken (503): at most `maxConcurrent` calls are evaluated at once.
+ * 3. `admit`: every slot is taken (503): at most `maxConcurrent` calls are evaluated at once. This
+ *    is what bounds calls waiting on I/O (the store's commit, FHIR servers), which the loop's delay
+ *    does not show.
  *
  * A slot is held for the evaluation only: it is given back when the answer is handed to the socket
  * (`res.end`), or when the connection drops first. Not on `finish` or `close`: both wait until the
