@@ -90,6 +90,17 @@ export const ENV_DEFAULTS = {
   // store's replay cache; at about 5 calls a second with 1-hour tokens a client holds about 18,000.
   // Past it that client alone gets 429; the store's total is bounded by this times the client shares.
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: 20_000,
+  // hook calls one client (its token's issuer; its address in the demo) may have evaluated at once:
+  // half the shared cap, so a client whose calls hang on its FHIR server, or whose sockets do not
+  // read, leaves at least half the slots to others. Past it that client alone gets 429. Used as at
+  // most OXYGEN_CHECKER_MAX_CONCURRENT. A site with one EHR calling may raise it to that cap.
+  OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: 8,
+  // milliseconds the event loop may run late (work waiting for the CPU) before new hook calls get 503
+  // with Retry-After (src/http/loop-delay.ts). CDS Hooks 2.0 asks for answers "on the order of
+  // 500 ms". A call read this late has waited about that long already, and waits about as long again
+  // for each turn it still needs (its store write, its answer), so a fifth of the budget keeps a call
+  // admitted now within it; past that, a quick 503 serves the EHR better than a late answer.
+  OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: 100,
 } as const;
 
 export interface FhirFallbackLimits {
@@ -160,6 +171,10 @@ export interface EnvConfig {
   readonly corsOrigins: '*' | readonly string[];
   readonly fhir: FhirFallbackLimits;
   readonly maxConcurrentEvaluations: number;
+  /** Hook calls one client may have evaluated at once (src/http/client-key.ts says who a client is). */
+  readonly maxConcurrentPerClient: number;
+  /** Event-loop delay past which new hook calls are refused (src/http/loop-delay.ts). */
+  readonly maxLoopDelayMs: number;
   readonly shutdownGraceMs: number;
   readonly timeouts: ConnectionTimeouts;
   /** Clients reach the service over HTTPS only (TLS here or at a proxy), so HSTS is sent. */
@@ -310,6 +325,8 @@ export const EnvSchema = z.object({
   OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS, 1, 10_000),
   OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY, 1, 10_000_000),
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
+  OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT, 1, 10_000),
+  OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS, 10, 60_000),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -483,6 +500,8 @@ export function parseEnvConfig(
         maxPages: v.OXYGEN_CHECKER_FHIR_MAX_PAGES,
       },
       maxConcurrentEvaluations: v.OXYGEN_CHECKER_MAX_CONCURRENT,
+      maxConcurrentPerClient: Math.min(v.OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT, v.OXYGEN_CHECKER_MAX_CONCURRENT),
+      maxLoopDelayMs: v.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS,
       shutdownGraceMs: v.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS,
       timeouts: {
         requestTimeoutMs: v.OXYGEN_CHECKER_REQUEST_TIMEOUT_MS,

@@ -13,7 +13,7 @@ import { answerPreflight, corsHeaders } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createGatherer, type Gather } from './gather-data.js';
 import { parseJsonBody, requireJsonContentType } from './json-body.js';
-import { createEvaluationGate } from './overload.js';
+import { createEvaluationGate, gateLimitsFrom } from './overload.js';
 import { perSnapshot, pinnedPolicy, pinPolicy } from './pinned-policy.js';
 import { requestContext } from './request-context.js';
 import { reviewHeaders } from './review-headers.js';
@@ -32,7 +32,8 @@ import type { RefusalLimits } from '../log/refusal-limiter.js';
  * robustness settings fall back to their ENV_DEFAULTS when a test leaves them out.
  */
 export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
-  Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>>;
+  Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>> &
+  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs'>>;
 
 export interface AppDeps {
   /**
@@ -95,7 +96,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
-  const gate = createEvaluationGate(config.maxConcurrentEvaluations ?? ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT);
+  const gate = createEvaluationGate(gateLimitsFrom(config));
   // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
   const handlersFor = perSnapshot((snapshot) => ({
     review:
@@ -156,6 +157,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     });
   }
 
+  app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)
   app.use('/cds-services', requireAuthentication(deps.authenticate));
   app.use(requireJsonContentType);
   app.use(parseJsonBody(config.bodyLimitBytes));

@@ -89,6 +89,10 @@ export const ERROR_CATALOGUE = {
     status: 429,
     message: 'This client holds as many unexpired tokens as this service remembers for it; retry after the Retry-After delay.',
   },
+  CDS_ERR_CLIENT_BUSY: {
+    status: 429,
+    message: 'This client has as many hook calls being checked at once as the service takes from one client; retry after the Retry-After delay.',
+  },
   CDS_ERR_REQUEST_HEADERS_TOO_LARGE: {
     status: 431,
     message: 'The request headers are larger than this service accepts; the connection was closed.',

@@ -25,6 +25,9 @@ describe('parseEnvConfig', () => {
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
         fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
         maxConcurrentEvaluations: 16, // project default (docs/api.md, Robustness)
+        maxConcurrentPerClient: 8, // project default: half the shared cap (docs/api.md, Robustness)
+        // project default: a fifth of the "on the order of 500 ms" of CDS Hooks 2.0 (docs/api.md, Robustness)
+        maxLoopDelayMs: 100,
         shutdownGraceMs: 10_000, // project default
         // project defaults: CDS Hooks 2.0 asks for answers "on the order of 500 ms"; Node's 300 s is far too long
         timeouts: { requestTimeoutMs: 10_000, headersTimeoutMs: 5_000, keepAliveTimeoutMs: 5_000, socketIdleTimeoutMs: 30_000 },
@@ -62,6 +65,8 @@ describe('parseEnvConfig', () => {
         OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: '4096',
         OXYGEN_CHECKER_FHIR_MAX_PAGES: '2',
         OXYGEN_CHECKER_MAX_CONCURRENT: '4',
+        OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: '6',
+        OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: '250',
         OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
         OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: '8000',
         OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: '4000',
@@ -101,6 +106,8 @@ describe('parseEnvConfig', () => {
         corsOrigins: ['https://ehr.larkspur-bay.example', 'https://test.larkspur-bay.example:8443'],
         fhir: { callTimeoutMs: 400, budgetMs: 900, maxResponseBytes: 4096, maxPages: 2 },
         maxConcurrentEvaluations: 4,
+        maxConcurrentPerClient: 4, // 6 was asked for: a client's share is at most the shared cap
+        maxLoopDelayMs: 250,
         shutdownGraceMs: 2500,
         timeouts: { requestTimeoutMs: 8000, headersTimeoutMs: 4000, keepAliveTimeoutMs: 65_000, socketIdleTimeoutMs: 20_000 },
         behindTls: true,

@@ -30,6 +30,9 @@ export const TEST_CONFIG: AppConfig = {
   bodyLimitBytes: 1_048_576,
   corsOrigins: '*',
   fhir: { callTimeoutMs: 1000, budgetMs: 2000, maxResponseBytes: 1_048_576, maxPages: 5 },
+  // Shedding by waiting time off: a loaded test machine runs the event loop late for reasons of its
+  // own, which would refuse calls in tests about other things. load-shedding.test.ts turns it on.
+  maxLoopDelayMs: 600_000,
 };
 
 export interface TestApp {
