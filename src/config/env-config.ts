@@ -44,7 +44,7 @@ export const ENV_DEFAULTS = {
   // CDS Hooks 2.0 §Providing FHIR Resources asks for answers "on the order of 500 ms"; the fallback
   // only runs when prefetch was not supplied, so these bound the slow path rather than the usual one.
   OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: 1500, // milliseconds per FHIR request
-  OXYGEN_CHECKER_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
+  OXYGEN_CHECKER_FHIR_BUDGET_MS: 2000, // milliseconds for all FHIR requests and pages of one hook call together
   OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
   OXYGEN_CHECKER_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
   // Robustness (docs/api.md, "Robustness"): past the cap a hook call gets 503 with Retry-After.

@@ -23,7 +23,7 @@ describe('parseEnvConfig', () => {
         logLevel: 'info',
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
-        fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
+        fhir: { callTimeoutMs: 1500, budgetMs: 2000, maxResponseBytes: 2_097_152, maxPages: 5 },
         maxConcurrentEvaluations: 16, // project default (docs/api.md, Robustness)
         shutdownGraceMs: 10_000, // project default
         // project defaults: CDS Hooks 2.0 asks for answers "on the order of 500 ms"; Node's 300 s is far too long
