@@ -70,7 +70,7 @@ export const ENV_DEFAULTS = {
   OXYGEN_CHECKER_JWKS_TIMEOUT_MS: 2000, // milliseconds per JWKS fetch
   OXYGEN_CHECKER_JWKS_MAX_BYTES: 65_536, // bytes (64 KiB) per JWKS response
   OXYGEN_CHECKER_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
-  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
+  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds: window for an issuer's unknown-kid refreshes (5 in each)
   OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
   // The store (docs/security.md, "Memory"). Relative to the working directory, like the other paths.
   OXYGEN_CHECKER_DATA_DIR: './data',
