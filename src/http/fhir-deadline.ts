@@ -50,7 +50,7 @@ export const DEFAULT_CHECK_EVERY_MS = 100;
 export const DEFAULT_TOLERANCE_MS = 25;
 
 export interface FallbackDeadline {
-  /** Aborted once the budget is spent. */
+  /** Aborted once the budget, counted from the start, is spent (checked from the first request on). */
   readonly signal: AbortSignal;
   /**
    * A signal for one FHIR request: aborted after `timeoutMs` of the server's time, or with the whole
@@ -151,7 +151,8 @@ export function startFallbackDeadline(options: DeadlineOptions, timers: Deadline
     schedule(at);
   }
 
-  schedule(startedAt);
+  // No timer until the first request: most hook calls bring full prefetch and never ask anything.
+  let checking = false;
 
   return {
     signal: overall.signal,
@@ -164,8 +165,11 @@ export function startFallbackDeadline(options: DeadlineOptions, timers: Deadline
       const at = timers.now();
       const entry: OpenRequest = { controller, startedAt: at, stalledAtStart: stalled, timeoutMs, timingOut: false };
       open.add(entry);
-      // A request shorter than the next check must still be checked in time.
-      if (cancelTimer !== undefined && at + timeoutMs < dueAt) {
+      if (!checking) {
+        checking = true;
+        schedule(at);
+      } else if (cancelTimer !== undefined && at + timeoutMs < dueAt) {
+        // A request shorter than the next check must still be checked in time.
         cancelTimer();
         schedule(at);
       }

@@ -58,6 +58,7 @@ describe('startFallbackDeadline', () => {
   it('expires at the budget on a responsive event loop, after one pass of pending I/O', () => {
     const timers = manualTimers();
     const deadline = startFallbackDeadline({ budgetMs: 2000 }, timers);
+    deadline.request(60_000);
     runOnTime(timers, 1999);
     expect(deadline.signal.aborted).toBe(false);
     runOnTime(timers, 2000);
@@ -127,6 +128,7 @@ describe('startFallbackDeadline', () => {
   it('credits at most maxStallCreditMs of stalls, so the deadline still ends', () => {
     const timers = manualTimers();
     const deadline = startFallbackDeadline({ budgetMs: 300, maxStallCreditMs: 100 }, timers);
+    deadline.request(60_000);
     timers.advanceTo(10_000);
     timers.fireTimer();
     expect(deadline.stalledMs()).toBe(100);
@@ -135,9 +137,21 @@ describe('startFallbackDeadline', () => {
   });
 
   describe('edge cases', () => {
+    it('sets no timer until the first request, and counts the budget from its start', () => {
+      const timers = manualTimers();
+      const deadline = startFallbackDeadline({ budgetMs: 2000 }, timers);
+      expect(timers.pendingTimerMs()).toBeUndefined();
+      timers.advanceTo(500);
+      deadline.request(60_000);
+      runOnTime(timers, 2000);
+      timers.runIoPass();
+      expect(deadline.signal.aborted).toBe(true);
+    });
+
     it('forgives timer jitter within the tolerance', () => {
       const timers = manualTimers();
       const deadline = startFallbackDeadline({ budgetMs: 2000, toleranceMs: 25 }, timers);
+      deadline.request(60_000);
       for (let step = 0; step < 5; step += 1) {
         const due = timers.pendingTimerMs() ?? 0;
         timers.advanceTo(due + 20);
@@ -149,6 +163,7 @@ describe('startFallbackDeadline', () => {
     it('checks a request whose timeout is shorter than the checking step in time', () => {
       const timers = manualTimers();
       const deadline = startFallbackDeadline({ budgetMs: 2000, checkEveryMs: 100 }, timers);
+      deadline.request(60_000);
       runOnTime(timers, 10);
       deadline.request(30);
       expect(timers.pendingTimerMs()).toBe(40);
@@ -157,6 +172,8 @@ describe('startFallbackDeadline', () => {
     it('stops checking once closed', () => {
       const timers = manualTimers();
       const deadline = startFallbackDeadline({ budgetMs: 2000 }, timers);
+      deadline.request(60_000);
+      expect(timers.pendingTimerMs()).toBeDefined();
       deadline.close();
       expect(timers.pendingTimerMs()).toBeUndefined();
       runOnTime(timers, 5000);
