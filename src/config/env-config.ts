@@ -44,7 +44,7 @@ export const ENV_DEFAULTS = {
   // CDS Hooks 2.0 §Providing FHIR Resources asks for answers "on the order of 500 ms"; the fallback
   // only runs when prefetch was not supplied, so these bound the slow path rather than the usual one.
   OXYGEN_CHECKER_FHIR_CALL_TIMEOUT_MS: 1500, // milliseconds per FHIR request
-  OXYGEN_CHECKER_FHIR_BUDGET_MS: 2500, // milliseconds for all FHIR requests of one hook call together
+  OXYGEN_CHECKER_FHIR_BUDGET_MS: 2000, // milliseconds for all FHIR requests and pages of one hook call together
   OXYGEN_CHECKER_FHIR_MAX_RESPONSE_BYTES: 2_097_152, // bytes (2 MiB) per FHIR response body
   OXYGEN_CHECKER_FHIR_MAX_PAGES: 5, // searchset pages followed per prefetch key, the first included
   // Robustness (docs/api.md, "Robustness"): past the cap a hook call gets 503 with Retry-After.
@@ -70,7 +70,7 @@ export const ENV_DEFAULTS = {
   OXYGEN_CHECKER_JWKS_TIMEOUT_MS: 2000, // milliseconds per JWKS fetch
   OXYGEN_CHECKER_JWKS_MAX_BYTES: 65_536, // bytes (64 KiB) per JWKS response
   OXYGEN_CHECKER_JWKS_CACHE_TTL_S: 300, // seconds a fetched JWKS is used before it is fetched again
-  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds between unknown-kid refreshes per issuer
+  OXYGEN_CHECKER_JWKS_REFRESH_MIN_INTERVAL_S: 60, // seconds: window for an issuer's unknown-kid refreshes (5 in each)
   OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: 100_000, // jti values held at once; when full, new tokens are refused
   // The store (docs/security.md, "Memory"). Relative to the working directory, like the other paths.
   OXYGEN_CHECKER_DATA_DIR: './data',

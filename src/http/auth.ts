@@ -103,6 +103,7 @@ export function requireAuthentication(authenticate: Authenticate): RequestHandle
     }
     const { kind: _kind, ...client } = result;
     res.locals[CLIENT_KEY] = client;
+    requestState(res).authenticatedIss = client.iss;
     next();
   };
 }

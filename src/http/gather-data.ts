@@ -3,6 +3,7 @@ import type { FhirFallbackLimits } from '../config/env-config.js';
 import type { FhirResource, GatheredData } from '../fhir/gathered-data.js';
 import type { FallbackSummary } from '../log/logger.js';
 import type { UnavailablePrefetch } from './errors.js';
+import { startFallbackDeadline } from './fhir-deadline.js';
 import {
   DESTINATION,
   gatherKey,
@@ -80,7 +81,12 @@ export interface GatherDeps {
   readonly limits: FhirFallbackLimits;
 }
 
-/** Builds the gather step. All keys are gathered in parallel inside one overall time budget. */
+/**
+ * Builds the gather step. All keys are gathered in parallel inside one deadline of `budgetMs`, which
+ * every request and every next page shares; at the deadline the answer rests on what was read by
+ * then (a page not read makes its key incomplete; a key not read at all is missing or, if required,
+ * a 412).
+ */
 export function createGatherer(deps: GatherDeps): Gather {
   return async (request, templates) => {
     const token = request.fhirAuthorization?.access_token;
@@ -90,18 +96,23 @@ export function createGatherer(deps: GatherDeps): Gather {
             fetch: deps.fetch,
             fhirServer: request.fhirServer,
             accessToken: token,
-            budget: AbortSignal.timeout(deps.limits.budgetMs),
+            deadline: startFallbackDeadline({ budgetMs: deps.limits.budgetMs }),
             limits: deps.limits,
             calls: { count: 0 },
           }
         : undefined;
     const keys = Object.keys(templates).filter(isPrefetchKey);
-    const settled = await Promise.all(
-      keys.map(async (key) => {
-        const result = await gatherKey(key, templates[key] ?? '', request, scope);
-        return [key, result] as const;
-      }),
-    );
+    let settled: (readonly [PrefetchKey, KeyResult])[];
+    try {
+      settled = await Promise.all(
+        keys.map(async (key) => {
+          const result = await gatherKey(key, templates[key] ?? '', request, scope);
+          return [key, result] as const;
+        }),
+      );
+    } finally {
+      scope?.deadline.close();
+    }
     const results = new Map(settled);
     const unavailable: UnavailablePrefetch[] = [];
     const missing: string[] = [];

@@ -7,6 +7,7 @@ import {
   type FetchFailure,
   type FhirFetchOutcome,
 } from './fhir-client.js';
+import type { FallbackDeadline } from './fhir-deadline.js';
 import { followPages, type PagingOptions } from './gather-pages.js';
 import { readPrefetchKey, readPrefetchValue, type PrefetchReading } from './read-prefetch.js';
 import { belongsToPatient } from './same-patient.js';
@@ -70,20 +71,30 @@ export interface FetchScope {
   readonly fetch: typeof fetch;
   readonly fhirServer: string;
   readonly accessToken: string;
-  readonly budget: AbortSignal;
+  /** Shared by every request and page of the hook call (fhir-deadline.ts). */
+  readonly deadline: FallbackDeadline;
   readonly limits: FhirFallbackLimits;
   /** How many FHIR requests this hook call made, for the summary line. */
   readonly calls: { count: number };
 }
 
-function callFhir(url: URL, scope: FetchScope): Promise<FhirFetchOutcome> {
+async function callFhir(url: URL, scope: FetchScope): Promise<FhirFetchOutcome> {
+  if (scope.deadline.signal.aborted) {
+    // Time is up: nothing more is asked; what was read so far is what the answer rests on.
+    return { kind: 'failed', failure: 'timeout' };
+  }
   scope.calls.count += 1;
-  return getFhirJson(url, {
-    fetch: scope.fetch,
-    accessToken: scope.accessToken,
-    signal: AbortSignal.any([scope.budget, AbortSignal.timeout(scope.limits.callTimeoutMs)]),
-    maxResponseBytes: scope.limits.maxResponseBytes,
-  });
+  const { signal, release } = scope.deadline.request(scope.limits.callTimeoutMs);
+  try {
+    return await getFhirJson(url, {
+      fetch: scope.fetch,
+      accessToken: scope.accessToken,
+      signal,
+      maxResponseBytes: scope.limits.maxResponseBytes,
+    });
+  } finally {
+    release();
+  }
 }
 
 /** Which key, and whose data, a reading must be. */

@@ -1,7 +1,7 @@
 import { performance } from 'node:perf_hooks';
 import type { RequestHandler, Response } from 'express';
 import { logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
-import { createRefusalLimiter, DEFAULT_REFUSAL_LIMITS, type RefusalLimits } from '../log/refusal-limiter.js';
+import { createRefusalLimiter, DEFAULT_REFUSAL_LIMITS, refusalClientKey, type RefusalLimits } from '../log/refusal-limiter.js';
 
 /** Per-request bookkeeping the summary line is written from. */
 export interface RequestState {
@@ -10,6 +10,8 @@ export interface RequestState {
   route: string;
   errorCode: string | undefined;
   detail: RequestDetail | undefined;
+  /** The issuer authentication let through, if it did (set by requireAuthentication). */
+  authenticatedIss?: string | undefined;
 }
 
 const STATE_KEY = 'oxygenCheckerRequest';
@@ -52,7 +54,7 @@ export function requestContext(
         durationMs: performance.now() - state.startedAt,
         errorCode: state.errorCode,
         detail: state.detail,
-      }, { limiter: refusals, client: req.socket.remoteAddress ?? 'unknown', nowMs: performance.now() });
+      }, { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs: performance.now() });
     });
     next();
   };

@@ -219,7 +219,7 @@ function pickDetail(detail: RequestDetail): Record<string, unknown> {
 /** Where a refusal came from, for rate-limiting repeated ones in the log (refusal-limiter.ts). */
 export interface RefusalSource {
   readonly limiter: RefusalLimiter;
-  /** The client's address as the socket saw it. */
+  /** Who the refusal is counted against: the authenticated issuer, else the address (refusalClientKey). */
   readonly client: string;
   /** A monotonic time in milliseconds. */
   readonly nowMs: number;

@@ -1,5 +1,5 @@
 /**
- * Repeated identical refusals from one client (the same client address, the same reason) are logged
+ * Repeated identical refusals from one client (the same client, the same reason) are logged
  * at most `maxLinesPerWindow` times per window; the rest are counted, and the next refusal after the
  * window ends carries the count of those not logged, in one summary line. A client sending junk in a
  * loop cannot fill the log, yet the operator still sees that it did, and how much.
@@ -7,6 +7,22 @@
  * Pure: the caller passes the time. The table of clients is bounded; past `maxClients` an entry whose
  * window has ended is dropped, and if none has, the refusal is counted under one shared entry.
  */
+
+/**
+ * Who a refusal is counted against. Behind a shared proxy or load balancer every client has the same
+ * socket address, so one noisy client would silence the others' refusal lines; a request that passed
+ * authentication is therefore counted against its issuer. One that did not (a 401, or anything refused
+ * before authentication) falls back to the address: the `iss` a token merely claims is not used, or a
+ * stranger could claim a real client's issuer and use up that client's lines.
+ */
+export function refusalClientKey(who: {
+  readonly authenticatedIss: string | undefined;
+  readonly address: string | undefined;
+}): string {
+  return who.authenticatedIss === undefined
+    ? `address ${who.address ?? 'unknown'}`
+    : `issuer ${who.authenticatedIss}`;
+}
 
 export interface RefusalLimits {
   readonly maxLinesPerWindow: number;

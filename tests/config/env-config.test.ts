@@ -23,7 +23,7 @@ describe('parseEnvConfig', () => {
         logLevel: 'info',
         bodyLimitBytes: 1_048_576, // project default: 1 MiB
         corsOrigins: '*', // CDS Hooks 2.0 §Security › CORS: credential-free demo only
-        fhir: { callTimeoutMs: 1500, budgetMs: 2500, maxResponseBytes: 2_097_152, maxPages: 5 },
+        fhir: { callTimeoutMs: 1500, budgetMs: 2000, maxResponseBytes: 2_097_152, maxPages: 5 },
         maxConcurrentEvaluations: 16, // project default (docs/api.md, Robustness)
         maxConcurrentPerClient: 8, // project default: half the shared cap (docs/api.md, Robustness)
         // project default: a fifth of the "on the order of 500 ms" of CDS Hooks 2.0 (docs/api.md, Robustness)

@@ -1,5 +1,8 @@
+import request from 'supertest';
 import { describe, expect, it } from 'vitest';
-import { createRefusalLimiter, type RefusalDecision } from '../../src/log/refusal-limiter.js';
+import type { Authenticate } from '../../src/http/auth.js';
+import { createRefusalLimiter, refusalClientKey, type RefusalDecision } from '../../src/log/refusal-limiter.js';
+import { buildTestApp } from '../http/test-app.js';
 
 const LIMITS = { maxLinesPerWindow: 3, windowMs: 60_000, maxClients: 4 };
 
@@ -41,5 +44,67 @@ describe('createRefusalLimiter', () => {
     // Once the windows end, new clients get their own entries again.
     expect(limiter.decide('10.0.2.1', 'CDS_ERR_NOT_FOUND', 200_000)).toStrictEqual({ kind: 'log', suppressedBefore: 0 });
     expect(limiter.size()).toBeLessThanOrEqual(LIMITS.maxClients + 1);
+  });
+});
+
+describe('refusalClientKey', () => {
+  it('counts an authenticated request against its issuer, whatever address it came from', () => {
+    const viaProxy = refusalClientKey({ authenticatedIss: 'https://ehr.larkspur-bay.example', address: '10.0.0.1' });
+    const direct = refusalClientKey({ authenticatedIss: 'https://ehr.larkspur-bay.example', address: '10.0.0.9' });
+    expect(viaProxy).toBe(direct);
+    expect(refusalClientKey({ authenticatedIss: 'https://theatres.larkspur-bay.example', address: '10.0.0.1' })).not.toBe(viaProxy);
+  });
+
+  it('falls back to the address when the request was not authenticated', () => {
+    expect(refusalClientKey({ authenticatedIss: undefined, address: '10.0.0.7' })).toBe('address 10.0.0.7');
+    expect(refusalClientKey({ authenticatedIss: undefined, address: undefined })).toBe('address unknown');
+  });
+
+  describe('edge cases', () => {
+    it('never lets an issuer and an address share a key', () => {
+      expect(refusalClientKey({ authenticatedIss: '10.0.0.7', address: '10.0.0.7' })).not.toBe(
+        refusalClientKey({ authenticatedIss: undefined, address: '10.0.0.7' }),
+      );
+    });
+  });
+});
+
+describe('refusals in the app, every client behind one proxy address (loopback here)', () => {
+  const EHR = 'https://ehr.larkspur-bay.example';
+  const THEATRES = 'https://theatres.larkspur-bay.example';
+  /** A stand-in authenticator: the header names the (already trusted) issuer; no header, no entry. */
+  const byHeader: Authenticate = (req) => {
+    const iss = req.header('x-test-issuer');
+    return Promise.resolve(
+      iss === undefined
+        ? { kind: 'denied', reason: 'missing' }
+        : { kind: 'allowed', client: iss, iss, fhirServers: { kind: 'loopback-only' } },
+    );
+  };
+  const SERVICE = '/cds-services/oxygen-order-sign';
+  const LIMITS = { maxLinesPerWindow: 2, windowMs: 60_000, maxClients: 100 };
+
+  const refusalLines = (lines: Record<string, unknown>[], status: number) =>
+    lines.filter((line) => line['status'] === status);
+
+  it("keys authenticated refusals on the issuer, so one client's flood does not silence another's", async () => {
+    const { app, log } = await buildTestApp({ authenticate: byHeader, refusalLogLimits: LIMITS });
+    for (let i = 0; i < 6; i += 1) {
+      expect((await request(app).post(SERVICE).set('x-test-issuer', EHR)).status).toBe(400);
+    }
+    expect((await request(app).post(SERVICE).set('x-test-issuer', THEATRES)).status).toBe(400);
+    // Two lines for the noisy client, and the quiet one's refusal is still written.
+    expect(refusalLines(log.lines(), 400)).toHaveLength(LIMITS.maxLinesPerWindow + 1);
+  });
+
+  it('keys unauthenticated refusals on the address, which all such callers behind the proxy share', async () => {
+    const { app, log } = await buildTestApp({ authenticate: byHeader, refusalLogLimits: LIMITS });
+    for (let i = 0; i < 6; i += 1) {
+      expect((await request(app).post(SERVICE)).status).toBe(401);
+    }
+    expect(refusalLines(log.lines(), 401)).toHaveLength(LIMITS.maxLinesPerWindow);
+    // The address's allowance is its own: an authenticated client's refusals are still written.
+    expect((await request(app).post(SERVICE).set('x-test-issuer', EHR)).status).toBe(400);
+    expect(refusalLines(log.lines(), 400)).toHaveLength(1);
   });
 });
