@@ -102,6 +102,15 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
     unit: 'hook calls',
     description: 'Hook calls evaluated at once by one process; past it a call gets 503 with Retry-After (docs/api.md, "Robustness").',
   },
+  OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: {
+    group: 'Load, limits and timeouts',
+    unit: 'hook calls',
+    description: 'Hook calls one client (its token\'s issuer in production, its address in demo) may have evaluated at once; past it that client gets 429 with Retry-After, so a client whose sockets do not read or whose FHIR server hangs holds only its own share (docs/security.md, "Load and per-client shares"). At most OXYGEN_CHECKER_MAX_CONCURRENT.',
+  },
+  OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: {
+    group: 'Load, limits and timeouts',
+    description: 'How late the event loop may run before new hook calls are shed with 503 and Retry-After: the measure of time spent waiting, so a call is refused early rather than answered past the CDS Hooks budget of about 500 ms (docs/api.md, "Load and shutdown").',
+  },
   OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: {
     group: 'Load, limits and timeouts',
     description: 'How long calls in flight may take to finish after SIGTERM. Keep it below the orchestrator\'s termination grace period.',
