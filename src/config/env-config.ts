@@ -90,6 +90,10 @@ export const ENV_DEFAULTS = {
   // store's replay cache; at about 5 calls a second with 1-hour tokens a client holds about 18,000.
   // Past it that client alone gets 429; the store's total is bounded by this times the client shares.
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: 20_000,
+  // The store (docs/api.md, "Settings"; src/store/README.md): a postgres:// URL puts the audit trail,
+  // feedback and replay cache in one PostgreSQL database shared by every instance; empty keeps the
+  // embedded SQLite store in OXYGEN_CHECKER_DATA_DIR (one instance).
+  DATABASE_URL: '',
 } as const;
 
 export interface FhirFallbackLimits {
@@ -127,6 +131,8 @@ export interface StoreConfig {
   readonly patientKeyFile: string | undefined;
   readonly auditRetentionDays: number;
   readonly purgeIntervalMin: number;
+  /** `DATABASE_URL` when set: the shared PostgreSQL store instead of SQLite in `dataDir`. */
+  readonly databaseUrl?: string;
 }
 
 /** Per-client limits on feedback (docs/api.md, "Feedback"). */
@@ -297,6 +303,11 @@ const EnvSchema = z.object({
   OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS, 1, 10_000),
   OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY, 1, 10_000_000),
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
+  DATABASE_URL: textVar(ENV_DEFAULTS.DATABASE_URL).refine(
+    (url) => url === '' || /^postgres(ql)?:\/\/./i.test(url),
+    // The value is not echoed: it may carry a password.
+    { message: 'must be a postgres:// or postgresql:// URL (or empty for the embedded SQLite store)' },
+  ),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -485,6 +496,7 @@ export function parseEnvConfig(
         patientKeyFile: v.OXYGEN_CHECKER_PATIENT_KEY_FILE === '' ? undefined : absolute(v.OXYGEN_CHECKER_PATIENT_KEY_FILE),
         auditRetentionDays: v.OXYGEN_CHECKER_AUDIT_RETENTION_DAYS,
         purgeIntervalMin: v.OXYGEN_CHECKER_PURGE_INTERVAL_MIN,
+        ...(v.DATABASE_URL === '' ? {} : { databaseUrl: v.DATABASE_URL }),
       },
       feedback: {
         maxItemsPerRequest: v.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
