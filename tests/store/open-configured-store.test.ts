@@ -5,10 +5,8 @@ import { describe, expect, it } from 'vitest';
 import { openConfiguredStore, STORE_FILE_NAME } from '../../src/store/open-store.js';
 import { describeDatabase } from '../../src/store/postgres-pool.js';
 import { advisory, card } from './support/fixtures.js';
-import { POSTGRES_SKIP_REASON, testDatabaseUrl } from './support/store-kinds.js';
+import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from './support/store-kinds.js';
 import { useTempDirs } from './support/temp-dir.js';
-
-const url = testDatabaseUrl();
 
 describe('openConfiguredStore', () => {
   const tempDir = useTempDirs();
@@ -42,13 +40,14 @@ describe('openConfiguredStore', () => {
   });
 
   it('opens the PostgreSQL store when a database URL is given, and a second instance shares it', async (context) => {
-    context.skip(url === undefined, POSTGRES_SKIP_REASON);
+    context.skip(POSTGRES_SKIP_REASON !== undefined, POSTGRES_SKIP_REASON);
+    const url = requireTestDatabaseUrl();
     const admin = new pg.Client({ connectionString: url });
     await admin.connect();
     const database = `open_store_test_${randomBytes(6).toString('hex')}`;
     await admin.query(`CREATE DATABASE ${database}`);
     try {
-      const target = new URL(url ?? '');
+      const target = new URL(url);
       target.pathname = `/${database}`;
       const dataDir = tempDir();
       const [one, two] = await Promise.all([

@@ -5,9 +5,7 @@ import { LATEST_SCHEMA_VERSION, MIGRATIONS, StoreTooNewError } from '../../src/s
 import { migratePostgres, POSTGRES_MIGRATIONS } from '../../src/store/postgres-migrations.js';
 import { openPostgresStore } from '../../src/store/postgres-store.js';
 import { advisory, card } from './support/fixtures.js';
-import { POSTGRES_SKIP_REASON, testDatabaseUrl } from './support/store-kinds.js';
-
-const url = testDatabaseUrl();
+import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from './support/store-kinds.js';
 
 describe('the PostgreSQL schema steps', () => {
   it('are the SQLite steps one for one: same versions, same descriptions, so one version means one schema', () => {
@@ -23,7 +21,7 @@ describe('migratePostgres', () => {
   let admin: pg.Pool | undefined;
 
   beforeEach((context) => {
-    context.skip(url === undefined, POSTGRES_SKIP_REASON);
+    context.skip(POSTGRES_SKIP_REASON !== undefined, POSTGRES_SKIP_REASON);
   });
   afterEach(async () => {
     for (const client of clients.splice(0)) {
@@ -40,12 +38,12 @@ describe('migratePostgres', () => {
   function newSchema(): string {
     const schema = `migrate_test_${randomBytes(6).toString('hex')}`;
     schemas.push(schema);
-    admin ??= new pg.Pool({ connectionString: url, max: 2 });
+    admin ??= new pg.Pool({ connectionString: requireTestDatabaseUrl(), max: 2 });
     return schema;
   }
 
   async function connect(schema: string): Promise<pg.Client> {
-    const client = new pg.Client({ connectionString: url, options: `-c search_path=${schema}` });
+    const client = new pg.Client({ connectionString: requireTestDatabaseUrl(), options: `-c search_path=${schema}` });
     clients.push(client);
     await client.connect();
     return client;
@@ -95,7 +93,7 @@ describe('migratePostgres', () => {
   it('ends with one schema when several stores open a new schema at once, and they share it', async () => {
     const schema = newSchema();
     const stores = await Promise.all(
-      [1, 2, 3].map(() => openPostgresStore({ connectionString: url ?? '', schema })),
+      [1, 2, 3].map(() => openPostgresStore({ connectionString: requireTestDatabaseUrl(), schema })),
     );
     try {
       const [one, two] = stores;
@@ -154,7 +152,7 @@ describe('migratePostgres', () => {
     await expect(refusal).rejects.toThrow(
       new RegExp(`the test database has schema version ${String(newer)}.*versions up to ${String(LATEST_SCHEMA_VERSION)}`),
     );
-    await expect(openPostgresStore({ connectionString: url ?? '', schema })).rejects.toBeInstanceOf(StoreTooNewError);
+    await expect(openPostgresStore({ connectionString: requireTestDatabaseUrl(), schema })).rejects.toBeInstanceOf(StoreTooNewError);
     const steps = await client.query<{ version: number }>('SELECT version FROM schema_migration ORDER BY version');
     expect(steps.rows.map((row) => row.version)).toStrictEqual([...MIGRATIONS.map((m) => m.version), newer]);
   });

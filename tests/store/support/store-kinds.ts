@@ -21,7 +21,23 @@ export function testDatabaseUrl(): string | undefined {
   return url === undefined || url === '' ? undefined : url;
 }
 
-export const POSTGRES_SKIP_REASON = `${TEST_DATABASE_URL_VARIABLE} is not set, so the PostgreSQL store is not tested here; .ci/run starts a PostgreSQL cluster and sets it`;
+const MISSING = `${TEST_DATABASE_URL_VARIABLE} is not set, so the PostgreSQL store is not tested here; .ci/run starts a PostgreSQL cluster and sets it`;
+
+/**
+ * Why the PostgreSQL tests are skipped here, or undefined when they run. In CI (`CI` set) they are
+ * never skipped: without a test database they fail, as the browser tests do without Chromium.
+ */
+export const POSTGRES_SKIP_REASON: string | undefined =
+  testDatabaseUrl() === undefined && (process.env['CI'] ?? '') === '' ? MISSING : undefined;
+
+/** The test database URL, or an error saying how to give one. */
+export function requireTestDatabaseUrl(): string {
+  const url = testDatabaseUrl();
+  if (url === undefined) {
+    throw new Error(MISSING);
+  }
+  return url;
+}
 
 /** A place a store lives: a database file, or a PostgreSQL schema. */
 export interface StoreKind {
@@ -53,18 +69,15 @@ const sqlite: StoreKind = {
 /** Schemas this process made, for names unique across the test files that run at once. */
 let schemasMade = 0;
 
-function postgres(url: string | undefined): StoreKind {
+function postgres(): StoreKind {
   let admin: pg.Pool | undefined;
   const adminPool = (): pg.Pool => {
-    if (url === undefined) {
-      throw new Error(POSTGRES_SKIP_REASON);
-    }
-    admin ??= new pg.Pool({ connectionString: url, max: 2 });
+    admin ??= new pg.Pool({ connectionString: requireTestDatabaseUrl(), max: 2 });
     return admin;
   };
   return {
     name: 'PostgreSQL',
-    skipReason: url === undefined ? POSTGRES_SKIP_REASON : undefined,
+    skipReason: POSTGRES_SKIP_REASON,
     newPlace: () => {
       schemasMade += 1;
       // The store creates the schema on first open (postgres-migrations.ts).
@@ -72,12 +85,7 @@ function postgres(url: string | undefined): StoreKind {
         `store_test_${String(process.pid)}_${String(schemasMade)}_${randomBytes(4).toString('hex')}`,
       );
     },
-    openAt: (place) => {
-      if (url === undefined) {
-        return Promise.reject(new Error(POSTGRES_SKIP_REASON));
-      }
-      return openPostgresStore({ connectionString: url, schema: place });
-    },
+    openAt: async (place) => openPostgresStore({ connectionString: requireTestDatabaseUrl(), schema: place }),
     dropPlace: async (place) => {
       await adminPool().query(`DROP SCHEMA IF EXISTS ${place} CASCADE`);
     },
@@ -90,5 +98,5 @@ function postgres(url: string | undefined): StoreKind {
 }
 
 /** Both kinds, SQLite first; for `describe.each`. */
-export const STORE_KINDS: readonly StoreKind[] = [sqlite, postgres(testDatabaseUrl())];
+export const STORE_KINDS: readonly StoreKind[] = [sqlite, postgres()];
 
