@@ -99,7 +99,13 @@ export async function inTransaction<T>(
   const client = await pool.connect();
   let broken: Error | undefined;
   try {
-    await client.query(begin);
+    try {
+      await client.query(begin);
+    } catch (error) {
+      // A connection that cannot even begin is not given to the next caller.
+      broken = error instanceof Error ? error : new Error(String(error));
+      throw error;
+    }
     try {
       const result = await work(client);
       await client.query('COMMIT');
