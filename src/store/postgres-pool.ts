@@ -62,22 +62,25 @@ export function describeDatabase(connectionString: string, schema?: string): str
 }
 
 /**
- * Opens the pool. Every connection asks for `synchronous_commit = on` whatever the server's default,
- * so a COMMIT returns only once its WAL is flushed to disk (PostgreSQL docs, "synchronous_commit"):
- * an acknowledged write survives a crash of the database server as well as of this process.
+ * Opens the pool. Every connection sets `synchronous_commit = on` whatever the server's, the role's
+ * or the URL's setting, so a COMMIT returns only once its WAL is flushed to disk (PostgreSQL docs,
+ * "synchronous_commit"): an acknowledged write survives a crash of the database server as well as of
+ * this process. It is a statement sent first on each new connection, not a startup option, because
+ * pg lets an `options` parameter in the URL replace startup options given here.
  */
 export function createStorePool(options: PostgresStoreOptions): pg.Pool {
-  const settings = ['-c synchronous_commit=on'];
-  if (options.schema !== undefined) {
-    settings.push(`-c search_path=${checkSchemaName(options.schema)}`);
-  }
   const pool = new pg.Pool({
     connectionString: options.connectionString,
     max: options.maxConnections ?? 10,
     // A pool checkout that waits this long means the database is gone or saturated: fail the call.
     connectionTimeoutMillis: 5000,
-    options: settings.join(' '),
+    ...(options.schema === undefined ? {} : { options: `-c search_path=${checkSchemaName(options.schema)}` }),
     types: storeTypes,
+  });
+  pool.on('connect', (client) => {
+    // Sent before any query of the caller's on this connection (pg runs a client's queries in order).
+    // Should it fail, the connection is broken and the caller's own query fails with it.
+    client.query('SET synchronous_commit = on').catch(() => undefined);
   });
   // An idle connection the server dropped (restart, failover) is removed from the pool by pg; without a
   // listener its 'error' event would end the process. The next call opens a fresh connection, and a
