@@ -19,7 +19,7 @@ import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
 import { setUpAuthentication } from './security/setup-authentication.js';
 import { setUpReviewAccess } from './security/setup-review-access.js';
-import { openStore } from './store/open-store.js';
+import { openConfiguredStore } from './store/open-store.js';
 import { loadOrCreateSecret, patientKey } from './store/patient-key.js';
 import type { Store } from './store/store.js';
 
@@ -88,9 +88,12 @@ export async function startServer(
     return { kind: 'refused', problems: formatLoadProblems(files.problems) };
   }
   const log = logger ?? createLogger({ level: config.logLevel });
-  const opened = openStore({ dataDir: config.store.dataDir });
+  const opened = await openConfiguredStore({
+    dataDir: config.store.dataDir,
+    ...(config.store.databaseUrl === undefined ? {} : { databaseUrl: config.store.databaseUrl }),
+  });
   if (opened.kind === 'refused') {
-    return { kind: 'refused', problems: `OXYGEN_CHECKER_DATA_DIR: ${opened.problem}` };
+    return { kind: 'refused', problems: `${opened.variable}: ${opened.problem}` };
   }
   const { store } = opened;
   try {

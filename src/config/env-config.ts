@@ -101,6 +101,10 @@ export const ENV_DEFAULTS = {
   // for each turn it still needs (its store write, its answer), so a fifth of the budget keeps a call
   // admitted now within it; past that, a quick 503 serves the EHR better than a late answer.
   OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: 100,
+  // The store (docs/api.md, "Settings"; src/store/README.md): a postgres:// URL puts the audit trail,
+  // feedback and replay cache in one PostgreSQL database shared by every instance; empty keeps the
+  // embedded SQLite store in OXYGEN_CHECKER_DATA_DIR (one instance).
+  DATABASE_URL: '',
 } as const;
 
 export interface FhirFallbackLimits {
@@ -138,6 +142,8 @@ export interface StoreConfig {
   readonly patientKeyFile: string | undefined;
   readonly auditRetentionDays: number;
   readonly purgeIntervalMin: number;
+  /** `DATABASE_URL` when set: the shared PostgreSQL store instead of SQLite in `dataDir`. */
+  readonly databaseUrl?: string;
 }
 
 /** Per-client limits on feedback (docs/api.md, "Feedback"). */
@@ -327,6 +333,11 @@ export const EnvSchema = z.object({
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
   OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT, 1, 10_000),
   OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS, 10, 60_000),
+  DATABASE_URL: textVar(ENV_DEFAULTS.DATABASE_URL).refine(
+    (url) => url === '' || /^postgres(ql)?:\/\/./i.test(url),
+    // The value is not echoed: it may carry a password.
+    { message: 'must be a postgres:// or postgresql:// URL (or empty for the embedded SQLite store)' },
+  ),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -517,6 +528,7 @@ export function parseEnvConfig(
         patientKeyFile: v.OXYGEN_CHECKER_PATIENT_KEY_FILE === '' ? undefined : absolute(v.OXYGEN_CHECKER_PATIENT_KEY_FILE),
         auditRetentionDays: v.OXYGEN_CHECKER_AUDIT_RETENTION_DAYS,
         purgeIntervalMin: v.OXYGEN_CHECKER_PURGE_INTERVAL_MIN,
+        ...(v.DATABASE_URL === '' ? {} : { databaseUrl: v.DATABASE_URL }),
       },
       feedback: {
         maxItemsPerRequest: v.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,

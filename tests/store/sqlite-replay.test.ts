@@ -1,15 +1,16 @@
 import { describe, expect, it } from 'vitest';
 import { EHR, THEATRES } from './support/fixtures.js';
-import { useSqliteStores } from './support/sqlite-stores.js';
+import { STORE_KINDS } from './support/store-kinds.js';
+import { useStores } from './support/use-stores.js';
 
 const T0 = Date.parse('2026-03-14T09:00:00Z');
 const at = (ms: number): Date => new Date(T0 + ms);
-const trackedStore = useSqliteStores();
+describe.each(STORE_KINDS)('checkAndRememberJti on the $name store', (kind) => {
+  const trackedStore = useStores(kind).fresh;
 
-describe('checkAndRememberJti', () => {
   it('accepts a jti once and refuses it while its token lives', async () => {
     // CDS Hooks 2.0 §Trusting CDS Clients: jti is a nonce for replay protection (RFC 7519 §4.1.7)
-    const store = trackedStore();
+    const store = await trackedStore();
     expect(await store.checkAndRememberJti(EHR.iss, 'jti-1', T0 + 300_000, at(0), 10)).toStrictEqual({ kind: 'fresh' });
     expect(await store.checkAndRememberJti(EHR.iss, 'jti-1', T0 + 300_000, at(299_999), 10)).toStrictEqual({
       kind: 'replayed',
@@ -18,7 +19,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it("keeps one client's ids apart from another's", async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     await store.checkAndRememberJti(EHR.iss, 'shared-id', T0 + 300_000, at(0), 10);
     expect(await store.checkAndRememberJti(THEATRES.iss, 'shared-id', T0 + 300_000, at(0), 10)).toStrictEqual({
       kind: 'fresh',
@@ -26,7 +27,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('lets an id be remembered again once its token has expired', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     await store.checkAndRememberJti(EHR.iss, 'jti-1', T0 + 1000, at(0), 10);
     // RFC 7519 §4.1.4: a token must not be accepted on or after its exp; the id has nothing left to guard
     expect(await store.checkAndRememberJti(EHR.iss, 'jti-1', T0 + 301_000, at(1000), 10)).toStrictEqual({
@@ -38,7 +39,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('refuses a client that holds its whole share, saying when its oldest id expires', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     await store.checkAndRememberJti(THEATRES.iss, 'a', T0 + 90_500, at(0), 2);
     await store.checkAndRememberJti(THEATRES.iss, 'b', T0 + 300_000, at(0), 2);
     // oldest held id expires 90.5 s after now: Retry-After rounds up to whole seconds (RFC 9110 §10.2.3)
@@ -57,7 +58,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('answers at least one second when the oldest id is about to expire', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     await store.checkAndRememberJti(THEATRES.iss, 'a', T0 + 10, at(0), 1);
     expect(await store.checkAndRememberJti(THEATRES.iss, 'b', T0 + 300_000, at(9), 1)).toStrictEqual({
       kind: 'client-full',
@@ -66,7 +67,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('tells exactly one of two concurrent calls with the same id that it is fresh', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     const answers = await Promise.all([
       store.checkAndRememberJti(EHR.iss, 'x', T0 + 1000, at(0), 10),
       store.checkAndRememberJti(EHR.iss, 'x', T0 + 1000, at(0), 10),
@@ -75,7 +76,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('fills a share once across concurrent calls: only as many new ids as the share are fresh', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     const answers = await Promise.all(
       ['a', 'b', 'c', 'd'].map((id) => store.checkAndRememberJti(THEATRES.iss, id, T0 + 300_000, at(0), 2)),
     );
@@ -83,7 +84,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it("counts a client's live ids only, whichever way expired ones were removed", async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     // three short-lived ids fill a share of 3
     for (const id of ['a', 'b', 'c']) {
       await store.checkAndRememberJti(THEATRES.iss, id, T0 + 1000, at(0), 3);
@@ -102,7 +103,7 @@ describe('checkAndRememberJti', () => {
   });
 
   it('purges expired ids and keeps live ones', async () => {
-    const store = trackedStore();
+    const store = await trackedStore();
     await store.checkAndRememberJti(EHR.iss, 'old', T0 + 1000, at(0), 10);
     await store.checkAndRememberJti(EHR.iss, 'live', T0 + 600_000, at(0), 10);
     const result = await store.purge(new Date('2026-01-01T00:00:00Z'), at(5000));
@@ -114,7 +115,7 @@ describe('checkAndRememberJti', () => {
 
   describe('edge cases', () => {
     it.each([0, -1, 1.5])('refuses a share of %d ids as a programming error', async (max) => {
-      const store = trackedStore();
+      const store = await trackedStore();
       await expect(store.checkAndRememberJti(EHR.iss, 'a', T0 + 1000, at(0), max)).rejects.toThrow(RangeError);
     });
   });
