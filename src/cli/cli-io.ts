@@ -9,6 +9,9 @@ export interface CliIo {
   readonly now: () => Date;
   /** Whether stderr is a terminal (a progress bar is drawn there only then); absent means no. */
   readonly stderrIsTerminal?: boolean;
+  /** The environment and working directory, for the commands that act on the service's own store. */
+  readonly env?: Readonly<Record<string, string | undefined>>;
+  readonly cwd?: string;
 }
 
 /** 0: ran (whatever it found); 1: input could not be read or evaluated; 2: usage or configuration error. */

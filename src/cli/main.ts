@@ -8,5 +8,7 @@ const code = await runCli(process.argv.slice(2), {
   readFile: (path) => readFileSync(path, 'utf8'),
   now: () => new Date(),
   stderrIsTerminal: process.stderr.isTTY,
+  env: process.env,
+  cwd: process.cwd(),
 });
 process.exitCode = code;

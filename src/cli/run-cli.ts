@@ -3,6 +3,7 @@ import { nearestWithin } from '../text/edit-distance.js';
 import { AUDIT_USAGE, runAuditCommand } from './audit-command.js';
 import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
 import { CONFIG_DOCS_USAGE, runConfigDocsCommand } from './config-docs-command.js';
+import { STORE_MIGRATE_USAGE, runStoreMigrateCommand } from './store-migrate-command.js';
 import { DEMO_EXPORT_USAGE, runDemoExportCommand } from './demo-export-command.js';
 import { EVALUATE_USAGE, runEvaluateCommand } from './evaluate-command.js';
 import { FIO2_USAGE, runFio2Command } from './fio2-command.js';
@@ -57,6 +58,7 @@ const COMMANDS: Readonly<Record<string, Command>> = {
   audit: { run: runAuditCommand, usage: AUDIT_USAGE, section: 'records', summary: 'oxygen audit figures per ward and overall from an export' },
   'demo-export': { run: runDemoExportCommand, usage: DEMO_EXPORT_USAGE, section: 'records', summary: 'an invented Bulk Data export of the demo hospital, of any size' },
   'config docs': { run: runConfigDocsCommand, usage: CONFIG_DOCS_USAGE, summary: 'the configuration reference: every environment variable, its default and meaning' },
+  'store migrate': { run: runStoreMigrateCommand, usage: STORE_MIGRATE_USAGE, summary: "bring the store up to this version's schema, then exit (for a migration job)" },
   'validate-policy': { run: runPolicyValidateCommand, usage: POLICY_VALIDATE_USAGE, renamedTo: 'policy validate' },
 };
 

@@ -182,6 +182,13 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
     description:
       'The data directory, relative to the working directory: the SQLite store (audit trail, feedback, replay cache) and, unless configured, the patient-key and review-link secrets. Created owner-only.',
   },
+  DATABASE_URL: {
+    group: 'Store',
+    format: 'postgresql:// URL',
+    secret: 'value',
+    description:
+      'The PostgreSQL database several instances share (audit trail, feedback, replay cache); unset, the SQLite store in the data directory is used. It holds a password: give it as DATABASE_URL_FILE (docs/deployment.md).',
+  },
   OXYGEN_CHECKER_PATIENT_KEY_FILE: {
     group: 'Store',
     format: 'path',

@@ -54,6 +54,7 @@ describe('the configuration reference', () => {
   it('marks the secret files, and gives every duration, size and period a unit', () => {
     const variables = serviceReference();
     expect(variables.filter((v) => v.secret !== undefined).map((v) => v.name).sort()).toStrictEqual([
+      'DATABASE_URL',
       'OXYGEN_CHECKER_PATIENT_KEY_FILE',
       'OXYGEN_CHECKER_REVIEW_LINK_SECRET_FILE',
     ]);

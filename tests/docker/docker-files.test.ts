@@ -184,9 +184,7 @@ describe('the migration Job', () => {
     expect(at(MIGRATION, 'spec', 'template', 'spec', 'containers', 0, 'image')).toBe(at(CONTAINER, 'image'));
   });
 
-  // Expected to fail until the PostgreSQL store brings its migrate command: then `it.fails` becomes
-  // `it` (or the Job runs whatever command that work names, and this test follows it).
-  it.fails('runs a command the command line has', async () => {
+  it('runs a command the command line has', async () => {
     const run = await runCommandLine([...command.slice(2), '--help']);
     expect(run.code).toBe(0);
   });
@@ -197,7 +195,7 @@ describe('configuration in compose and Kubernetes', () => {
   const variables = reference.kind === 'ok' ? reference.variables : [];
   const byName = new Map(variables.map((v) => [v.name, v]));
   /** Variables the deployment sets that arrive with work merged beside this one. */
-  const PENDING = new Set(['DATABASE_URL']);
+  const PENDING = new Set<string>();
 
   /** Every variable set for the service: compose's checker services, the Deployment and the Job. */
   function setVariables(): [string, string, string][] {
@@ -226,9 +224,8 @@ describe('configuration in compose and Kubernetes', () => {
     expect(unknown).toStrictEqual([]);
   });
 
-  // Expected to fail until the PostgreSQL store's DATABASE_URL is merged with its VARIABLE_DOCS entry
-  // (`secret: 'value'`, so DATABASE_URL_FILE is read); then `it.fails` becomes `it` and PENDING empties.
-  it.fails('DATABASE_URL is in the configuration reference as a secret value', () => {
+  // Secret value: DATABASE_URL_FILE is read (src/config/secret-variables.ts).
+  it('DATABASE_URL is in the configuration reference as a secret value', () => {
     expect(byName.get('DATABASE_URL')?.secret).toBe('value');
   });
 
