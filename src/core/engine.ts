@@ -6,6 +6,7 @@ import { RULES } from './rules/index.js';
 import { changeUsesStock } from './devices/catalogue.js';
 import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
 import type { Rule } from './rules/support/rule-types.js';
+import { findingGroupKey, sameFinding } from './same-finding.js';
 import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
 
 export type { Rule, RuleContext } from './rules/support/rule-types.js';
@@ -41,26 +42,52 @@ export function oncePerPatient(findings: readonly Finding[]): Finding[] {
   });
 }
 
-/** A stable key for a finding, so the same finding made by two subject orders' runs is kept once. */
-function findingKey(finding: Finding): string {
-  return JSON.stringify([finding.ruleId, finding.orderReference, finding.values, finding.change ?? null]);
+/** The registry's rules for each hook, in registry order, picked once rather than on every call. */
+const RULES_BY_HOOK: ReadonlyMap<HookName, readonly Rule[]> = new Map(
+  (['order-sign', 'order-select', 'patient-view'] as const).map((hook) => [hook, RULES.filter((r) => r.hooks.includes(hook))]),
+);
+
+/** A policy's disabled rule ids as a set, made once per policy (a policy is frozen once loaded). */
+const disabledSets = new WeakMap<readonly string[], ReadonlySet<string>>();
+
+function disabledRuleIds(policy: Policy): ReadonlySet<string> {
+  let disabled = disabledSets.get(policy.disabledRules);
+  if (disabled === undefined) {
+    disabled = new Set(policy.disabledRules);
+    disabledSets.set(policy.disabledRules, disabled);
+  }
+  return disabled;
+}
+
+/** Keeps `finding` unless the same finding is already kept; `kept` groups them by rule and order. */
+function keepOnce(kept: Map<string, Finding[]>, finding: Finding): boolean {
+  const key = findingGroupKey(finding);
+  const group = kept.get(key);
+  if (group === undefined) {
+    kept.set(key, [finding]);
+    return true;
+  }
+  if (group.some((other) => sameFinding(other, finding))) {
+    return false;
+  }
+  group.push(finding);
+  return true;
 }
 
 function runRules(
-  rules: readonly Rule[],
   facts: Facts,
   policy: Policy,
   assessment: Assessment,
   options: { readonly hook: HookName; readonly now: Date },
 ): Finding[] {
-  const disabled = new Set(policy.disabledRules);
+  const disabled = disabledRuleIds(policy);
   const findings: Finding[] = [];
   // The guidelines encoded are for adults: below the policy's minimum age only the rules that hold
   // for anyone run (data quality, order keeping, and the card saying local paediatric policy applies).
   const childOnly = assessment.population.kind === 'below-minimum-age';
   const noLowering = reasonNotToLowerOxygen(assessment) !== undefined;
-  for (const rule of rules) {
-    if (!rule.hooks.includes(options.hook) || disabled.has(rule.id)) {
+  for (const rule of RULES_BY_HOOK.get(options.hook) ?? []) {
+    if (disabled.has(rule.id)) {
       continue;
     }
     if (childOnly && (rule.appliesTo ?? 'adults') === 'adults') {
@@ -105,13 +132,11 @@ export function evaluateOrder(
   const assessments = (subjects.length === 0 ? [undefined] : subjects).map((order) =>
     buildAssessment(facts, policy, { now: options.now, order, unit }),
   );
-  const seen = new Set<string>();
+  const kept = new Map<string, Finding[]>();
   const findings: Finding[] = [];
   for (const assessment of assessments) {
-    for (const finding of runRules(RULES, facts, policy, assessment, options)) {
-      const key = findingKey(finding);
-      if (!seen.has(key)) {
-        seen.add(key);
+    for (const finding of runRules(facts, policy, assessment, options)) {
+      if (keepOnce(kept, finding)) {
         findings.push(finding);
       }
     }

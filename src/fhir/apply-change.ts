@@ -1,6 +1,7 @@
 import type { OrderChange, SaturationRange } from '../core/types.js';
 import { changeNote, currentWords } from './change-note.js';
 import { EXTENSION_URLS, isTargetExtensionUrl } from './codes.js';
+import { copyJson } from './copy-json.js';
 import type { FhirResource } from './gathered-data.js';
 import { isObject } from './json.js';
 import { parameterSays } from './order-parts.js';
@@ -40,8 +41,8 @@ export type ChangePlan =
 
 function clone(resource: FhirResource): Json | undefined {
   try {
-    const copy: unknown = JSON.parse(JSON.stringify(resource));
-    return isObject(copy) ? (copy) : undefined;
+    const copy = copyJson(resource);
+    return isObject(copy) ? copy : undefined;
   } catch {
     return undefined;
   }

@@ -97,11 +97,12 @@ function readRecordOrders(
       continue;
     }
     seen.add(reference);
-    onRecord.push(readOrder(entry.resource, type, reference, false).order);
+    // Read once: as a subject it differs only in `isSubject`.
+    const read = readOrder(entry.resource, type, reference, true);
+    onRecord.push({ ...read.order, isSubject: false });
     if (status !== 'active') {
       continue;
     }
-    const read = readOrder(entry.resource, type, reference, true);
     const authored = read.order.authoredOn === undefined ? Number.NaN : Date.parse(read.order.authoredOn);
     const at = Number.isNaN(authored) ? Number.NEGATIVE_INFINITY : authored;
     if (subject === undefined || at > subject.at) {

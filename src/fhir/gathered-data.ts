@@ -22,18 +22,29 @@ export type FhirResource = { readonly resourceType: string; readonly id?: string
   Record<string, unknown>
 >;
 
+const RESOURCE_TYPE = /^[A-Z][A-Za-z]{1,63}$/;
+
 /** The least a JSON value must have to be treated as a FHIR resource. */
 export const FhirResourceSchema = z.looseObject({
-  resourceType: z.string().regex(/^[A-Z][A-Za-z]{1,63}$/),
+  resourceType: z.string().regex(RESOURCE_TYPE),
   id: z.string().min(1).max(64).optional(),
 });
 
-/** Narrows an untrusted value to a FHIR resource, or undefined when it is not one. */
+/**
+ * Narrows an untrusted value to a FHIR resource, or undefined when it is not one: the checks of
+ * {@link FhirResourceSchema}, written out because every gathered resource passes through here.
+ */
 export function asFhirResource(value: unknown): FhirResource | undefined {
-  const parsed = FhirResourceSchema.safeParse(value);
-  if (!parsed.success) {
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) {
     return undefined;
   }
-  // The schema checked the two typed keys; the rest stays unknown and is narrowed where it is read.
+  const { resourceType, id } = value as { readonly resourceType?: unknown; readonly id?: unknown };
+  if (typeof resourceType !== 'string' || !RESOURCE_TYPE.test(resourceType)) {
+    return undefined;
+  }
+  if (id !== undefined && (typeof id !== 'string' || id.length < 1 || id.length > 64)) {
+    return undefined;
+  }
+  // The two typed keys are checked; the rest stays unknown and is narrowed where it is read.
   return value as FhirResource;
 }

@@ -1,5 +1,3 @@
-import { z } from 'zod';
-
 /**
  * Narrowing helpers for untrusted FHIR JSON. Every reader goes through these, so a field of the
  * wrong shape is skipped (undefined or an empty list) rather than thrown on.
@@ -47,28 +45,45 @@ export function stringAt(value: unknown, key: string): string | undefined {
   return trimmed === '' ? undefined : trimmed;
 }
 
-const optionalString = z.string().optional().catch(undefined);
+/** A string field, or undefined when it is absent or of another type (the field, not the whole value, is dropped). */
+function optionalString(value: unknown): string | undefined {
+  return typeof value === 'string' ? value : undefined;
+}
 
-/** FHIR Coding; a field of the wrong type is dropped, not the whole coding. */
-export const CodingSchema = z.looseObject({
-  system: optionalString,
-  code: optionalString,
-  display: optionalString,
-});
-export type Coding = z.infer<typeof CodingSchema>;
+/** FHIR Coding, narrowed: a field of the wrong type is dropped, not the whole coding. */
+export interface Coding {
+  readonly system?: string | undefined;
+  readonly code?: string | undefined;
+  readonly display?: string | undefined;
+}
 
-/** FHIR Quantity: a finite number value is required; unit spellings are kept for display. */
-export const QuantitySchema = z.looseObject({
-  value: z.number(),
-  unit: optionalString,
-  system: optionalString,
-  code: optionalString,
-});
-export type Quantity = z.infer<typeof QuantitySchema>;
+/** FHIR Quantity, narrowed: a finite number value is required; unit spellings are kept for display. */
+export interface Quantity {
+  readonly value: number;
+  readonly unit?: string | undefined;
+  readonly system?: string | undefined;
+  readonly code?: string | undefined;
+}
 
+/**
+ * The four fields of a Quantity this service reads, or undefined without a finite number value.
+ * Checked by hand rather than with a schema: it runs for every observation and order quantity, and
+ * only these fields are ever read.
+ */
 export function quantityOf(value: unknown): Quantity | undefined {
-  const parsed = QuantitySchema.safeParse(value);
-  return parsed.success ? parsed.data : undefined;
+  if (!isObject(value)) {
+    return undefined;
+  }
+  const number = value['value'];
+  if (typeof number !== 'number' || !Number.isFinite(number)) {
+    return undefined;
+  }
+  return {
+    value: number,
+    unit: optionalString(value['unit']),
+    system: optionalString(value['system']),
+    code: optionalString(value['code']),
+  };
 }
 
 export const UCUM_SYSTEM = 'http://unitsofmeasure.org';
@@ -89,9 +104,8 @@ export function unitOf(quantity: Quantity): string {
 export function codingsOf(concept: unknown): readonly Coding[] {
   const out: Coding[] = [];
   for (const raw of arrayAt(concept, 'coding')) {
-    const parsed = CodingSchema.safeParse(raw);
-    if (parsed.success) {
-      out.push(parsed.data);
+    if (isObject(raw)) {
+      out.push({ system: optionalString(raw['system']), code: optionalString(raw['code']), display: optionalString(raw['display']) });
     }
   }
   return out;

@@ -24,6 +24,12 @@ interface DevicePattern {
   readonly device: DeviceKind;
   readonly pattern: RegExp;
   readonly specific: boolean;
+  /**
+   * Lower-case words, one of which every match of `pattern` contains: a text holding none of them
+   * cannot match, so the pattern is not run on it. Most texts name one device, so most patterns are
+   * skipped this way (tests/fhir/read-device-text-gates.test.ts checks each match holds one).
+   */
+  readonly needs: readonly string[];
 }
 
 /** A flow as written before or after a device word: "2L", "2 L/min", "4 lpm", "2 litres". */
@@ -37,16 +43,19 @@ function inDevicePosition(word: string): string {
   return String.raw`(?:(?<=\b(?:via|per|on)\s{1,3})|(?<=${FLOW_WORDS}\s{0,3}))${word}\b|\b${word}(?=\s{0,3}${FLOW_WORDS}\b)`;
 }
 
-const PATTERNS: readonly DevicePattern[] = [
+/** Exported for the test that checks each pattern's `needs`. */
+export const DEVICE_PATTERNS: readonly DevicePattern[] = [
   {
     device: 'high-flow-nasal-cannula',
     specific: true,
+    needs: ['hfn', 'nhf', 'high'],
     pattern:
       /\bH?HFN(?:C|O|OT)\b|\bNHF\b|\b(?:heated humidified )?high[- ]?flow nasal(?: (?:cannula[es]?|cannulae|oxygen|prongs?|therapy))?\b|\bnasal high[- ]?flow\b/gi,
   },
   {
     device: 'nasal-cannula',
     specific: true,
+    needs: ['nasal', 'nc', 'n/c', 'np', 'prongs', 'specs'],
     pattern: new RegExp(
       String.raw`\bnasal (?:cannula[es]?|cannulae|canula|prongs?|specs|spectacles)\b|\bNC\b|\bn\/c\b|` +
         // "NP" also means nurse practitioner, so it and the bare "prongs"/"specs" count only where a
@@ -58,6 +67,7 @@ const PATTERNS: readonly DevicePattern[] = [
   {
     device: 'simple-face-mask',
     specific: true,
+    needs: ['simple', 'hudson', 'mc mask', 'medium', 'fm'],
     pattern: new RegExp(
       String.raw`\bsimple (?:face )?mask\b|\bHudson(?: mask)?\b|\bMC mask\b|\bmedium[- ]concentration mask\b|` +
         inDevicePosition('(?:FM|SFM)'),
@@ -67,6 +77,7 @@ const PATTERNS: readonly DevicePattern[] = [
   {
     device: 'venturi-mask',
     specific: true,
+    needs: ['venturi', 'fixed', 'air', 'controlled', 'hafoe', 'mask', 'vm', 'v2', 'v3', 'v4', 'v5', 'v6'],
     pattern: new RegExp(
       String.raw`\bventuri(?: mask)?\b|\bfixed[- ]performance(?: mask)?\b|\bair[- ]entrainment(?: mask)?\b|\bcontrolled[- ]oxygen mask\b|\bHAFOE\b|\bV(?:M ?)?(?:24|28|31|35|40|50|60)\b|(?<![\d.])(?:24|28|31|35|40|50|60) ?% ?mask\b|${inDevicePosition('VM')}`,
       'gi',
@@ -75,22 +86,25 @@ const PATTERNS: readonly DevicePattern[] = [
   {
     device: 'reservoir-mask',
     specific: true,
+    needs: ['non', 'nrb', 'reservoir', 'trauma', 'high', 'mask'],
     pattern:
       /\bnon[- ]?re-?breath(?:er|ing)(?: (?:reservoir )?mask)?\b|\bNRBM?\b|\breservoir[- ](?:bag )?mask\b|\btrauma mask\b|\bhigh[- ]concentration mask\b|(?<![\d.])15 ?L mask\b/gi,
   },
   {
     device: 'tracheostomy-mask',
     specific: true,
+    needs: ['trach', 'stoma'],
     pattern: /\b(?:trach|trache|trachy|tracheostomy|tracheal) (?:mask|collar)\b|\bstoma mask\b/gi,
   },
   {
     device: 'cpap-niv',
     specific: true,
+    needs: ['pap', 'niv', 'level', 'nippv', 'continuous', 'invasive'],
     pattern:
       /\bC-?PAP\b|\bNIV\b|\bBi-?PAP\b|\bBPAP\b|\bbi-?level\b|\bNIPPV\b|\bcontinuous positive airway pressure\b|\bnon[- ]?invasive (?:positive[- ]pressure )?ventilation\b/gi,
   },
-  { device: 'high-flow-nasal-cannula', specific: false, pattern: /\bhigh[- ]?flow\b/gi },
-  { device: 'simple-face-mask', specific: false, pattern: /\b(?:face|oxygen|O2) ?mask\b/gi },
+  { device: 'high-flow-nasal-cannula', specific: false, needs: ['high'], pattern: /\bhigh[- ]?flow\b/gi },
+  { device: 'simple-face-mask', specific: false, needs: ['mask'], pattern: /\b(?:face|oxygen|O2) ?mask\b/gi },
 ];
 
 /** Words that make a device mention history, a plan or a negation rather than the order. */
@@ -99,7 +113,13 @@ const NOT_THE_ORDER =
 
 export function findDeviceMentions(text: string): readonly DeviceMention[] {
   const found: DeviceMention[] = [];
-  for (const { device, pattern, specific } of PATTERNS) {
+  // Only ASCII letters match the patterns' letters (case-insensitive without the u flag), so the
+  // lower-cased text holds a needed word wherever a pattern could match.
+  const lower = text.toLowerCase();
+  for (const { device, pattern, specific, needs } of DEVICE_PATTERNS) {
+    if (!needs.some((word) => lower.includes(word))) {
+      continue;
+    }
     for (const m of text.matchAll(pattern)) {
       const start = m.index;
       const end = start + m[0].length;

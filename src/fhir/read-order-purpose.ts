@@ -20,9 +20,14 @@ const WEAN = /\bwean(?:ing|ed)?\b/i;
 const ROOM_AIR = /\b(?:room|ambient)\s+air\b|\bon\s+air\b|\bRA\b/;
 const TO_AIR = /\b(?:wean(?:ing|ed)?|step(?:ped)?\s+down)\s+(?:off\s+|to\s+|onto\s+)?(?:room\s+air|air|RA|off)\b/i;
 
+/** Each pattern with the `g` flag that `matchAll` needs, compiled once rather than on every call. */
+const EVERY_MATCH = new Map<RegExp, RegExp>(
+  [STOP, COMFORT, WEAN, ROOM_AIR, TO_AIR].map((pattern) => [pattern, new RegExp(pattern.source, `${pattern.flags}g`)]),
+);
+
 function statesUnnegated(text: string, pattern: RegExp): boolean {
-  const flags = pattern.flags.includes('g') ? pattern.flags : `${pattern.flags}g`;
-  for (const m of text.matchAll(new RegExp(pattern.source, flags))) {
+  const everyMatch = EVERY_MATCH.get(pattern) ?? new RegExp(pattern.source, `${pattern.flags.replace('g', '')}g`);
+  for (const m of text.matchAll(everyMatch)) {
     if (!NEGATED.test(text.slice(Math.max(0, m.index - 30), m.index))) {
       return true;
     }

@@ -10,7 +10,7 @@ import { readRangeAsTarget, readTargetExtension } from './read-order-target.js';
 import { readQuantity } from './read-quantity.js';
 import { readSettingText, type SettingTextRead } from './read-setting-text.js';
 import { readOrderPurpose } from './read-order-purpose.js';
-import { rangeKeepsBound, readWrittenTarget } from './read-target-text.js';
+import { findTargetStatements, rangeKeepsBound, readWrittenTarget, type TargetStatements } from './read-target-text.js';
 import { convertUnit, normaliseUnit } from '../units/convert.js';
 
 /**
@@ -139,14 +139,20 @@ interface TargetRead {
   readonly note: TargetNote | undefined;
 }
 
-function readTarget(parts: OrderParts, texts: readonly string[], reference: string, notes: OrderNotes): TargetRead {
+function readTarget(
+  parts: OrderParts,
+  texts: readonly string[],
+  statements: readonly TargetStatements[],
+  reference: string,
+  notes: OrderNotes,
+): TargetRead {
   let structured = readTargetExtension(parts.targetHolders, reference);
   for (const range of parts.targetRanges) {
     if (structured.range !== undefined) break;
     structured = readRangeAsTarget(range, 'Target SpO2 parameter', reference);
   }
   notes.list.push(...structured.notes);
-  const written = readWrittenTarget(texts);
+  const written = readWrittenTarget(texts, statements);
   if (structured.range === undefined) {
     return { target: written.range === undefined ? undefined : { ...written.range, readFrom: 'text' }, note: written.note };
   }
@@ -227,10 +233,11 @@ export function readOrder(
   const texts = parts.texts.map(currentWords);
   const coded = readStructuredSettings(parts.quantities, notes);
   const device = readDevice({ ...parts, texts }, notes);
-  const written = texts.map((t) => readSettingText(t, device.device));
+  const statements = texts.map(findTargetStatements);
+  const written = texts.map((t, i) => readSettingText(t, device.device, statements[i]));
   const flowLPerMin = readFlow(parts, coded.flow, written, notes);
   const setFio2Fraction = readFio2(coded.fio2, written, notes);
-  const target = readTarget(parts, texts, reference, notes);
+  const target = readTarget(parts, texts, statements, reference, notes);
   const status = stringAt(resource, 'status');
   return {
     order: {

@@ -2,7 +2,7 @@ import type { DeviceKind } from '../core/types.js';
 import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { isOutsideTheOrder } from './read-device-text.js';
-import { findBoundMentions, findTargetMentions } from './read-target-text.js';
+import { findTargetStatements, type TargetStatements } from './read-target-text.js';
 
 /**
  * Finds the oxygen flow and set FiO2 written in order words: "2 L/min", "2L", "15 litres per minute",
@@ -90,7 +90,11 @@ function fractionOf(value: number, style: 'percent' | 'fraction'): number | unde
   return converted.kind === 'ok' ? tidyNumber(converted.value) : undefined;
 }
 
-export function findFio2Mentions(text: string, device: DeviceKind | undefined): readonly Fio2Mention[] {
+export function findFio2Mentions(
+  text: string,
+  device: DeviceKind | undefined,
+  statements: TargetStatements = findTargetStatements(text),
+): readonly Fio2Mention[] {
   const mentions: Fio2Mention[] = [];
   for (const m of text.matchAll(FIO2_KEYWORD)) {
     const number = m[1] ?? '';
@@ -114,8 +118,7 @@ export function findFio2Mentions(text: string, device: DeviceKind | undefined): 
       mentions.push({ start: m.index, end, fraction, style: 'percent', valueStart, valueEnd });
     }
   }
-  const ranges = findTargetMentions(text);
-  const bounds = findBoundMentions(text, ranges);
+  const { ranges, bounds } = statements;
   // A saturation written as a range or a bound ("≥ 92 %", "if SpO2 below 85 %") is never a setting.
   const targets = [...ranges, ...bounds.targets, ...bounds.triggers];
   for (const m of text.matchAll(PERCENT)) {
@@ -179,9 +182,13 @@ export interface SettingTextRead {
  * The flow and set FiO2 the text orders (history and plans, e.g. "escalate to 15L", and step sizes,
  * e.g. "wean by 0.5 L/min steps", are skipped).
  */
-export function readSettingText(text: string, device: DeviceKind | undefined): SettingTextRead {
+export function readSettingText(
+  text: string,
+  device: DeviceKind | undefined,
+  statements: TargetStatements = findTargetStatements(text),
+): SettingTextRead {
   const flow = findFlowMentions(text).find((m) => isOrderedSetting(text, m));
-  const fio2 = findFio2Mentions(text, device).find((m) => isOrderedSetting(text, m));
+  const fio2 = findFio2Mentions(text, device, statements).find((m) => isOrderedSetting(text, m));
   return {
     flowLPerMin: flow?.flowLPerMin,
     flowRange: flow?.range,

@@ -295,6 +295,21 @@ export function findBoundMentions(text: string, ranges: readonly TargetMention[]
   return { targets, triggers };
 }
 
+/**
+ * The ranges and bounds one text states. The setting reader (a "%" inside them is never a set FiO2)
+ * and the target reader both need them, so the order reader finds them once per text and hands them
+ * to both.
+ */
+export interface TargetStatements {
+  readonly ranges: readonly TargetMention[];
+  readonly bounds: BoundsFound;
+}
+
+export function findTargetStatements(text: string): TargetStatements {
+  const ranges = findTargetMentions(text);
+  return { ranges, bounds: findBoundMentions(text, ranges) };
+}
+
 /** The statement that there is no SpO2 target, if the text makes one. */
 export function findNoTargetStatement(text: string): { readonly start: number; readonly end: number } | undefined {
   const m = NO_TARGET.exec(text);
@@ -359,21 +374,23 @@ function readSingleValue(
  * range make the target ambiguous: the note lists the ranges and the range returned is the one that
  * allows the most oxygen, so the hypercapnic-risk check still sees the reading that could harm.
  */
-export function readWrittenTarget(texts: readonly string[]): WrittenTarget {
+export function readWrittenTarget(
+  texts: readonly string[],
+  statements: readonly TargetStatements[] = texts.map(findTargetStatements),
+): WrittenTarget {
   const ranges: SaturationRange[] = [];
   const bounds: { readonly mention: BoundMention; readonly text: string }[] = [];
   const quoted: string[] = [];
   const singles: { readonly mention: SingleValueMention; readonly quote: string }[] = [];
   let conditional = false;
   let noTarget: string | undefined;
-  for (const text of texts) {
-    const found = findTargetMentions(text);
+  for (const [index, text] of texts.entries()) {
+    const { ranges: found, bounds: boundsFound } = statements[index] ?? findTargetStatements(text);
     for (const m of found) {
       if (!ranges.some((r) => sameRange(r, m.range))) ranges.push(m.range);
       conditional ||= m.conditional;
       quoted.push(sentenceAround(text, m.start, m.end));
     }
-    const boundsFound = findBoundMentions(text, found);
     for (const mention of boundsFound.targets) {
       bounds.push({ mention, text });
       conditional ||= mention.conditional;

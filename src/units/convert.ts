@@ -53,9 +53,50 @@ function quietly<T>(call: () => T): T {
   }
 }
 
+/**
+ * A bounded memo of answers that depend only on unit strings. The UCUM library parses a unit string
+ * on every call; a request names a handful of units over and over (every SpO2 in %, every flow in
+ * L/min), so each string is looked up once. Senders choose the strings, so the memo is emptied when
+ * it reaches its bound rather than growing with whatever they send.
+ */
+class UnitMemo<T> {
+  readonly #answers = new Map<string, T>();
+  constructor(private readonly bound: number) {}
+
+  has(key: string): boolean {
+    return this.#answers.has(key);
+  }
+
+  get(key: string, compute: () => T): T {
+    if (this.#answers.has(key)) {
+      return this.#answers.get(key) as T;
+    }
+    const answer = compute();
+    this.set(key, answer);
+    return answer;
+  }
+
+  set(key: string, answer: T): void {
+    if (this.#answers.size >= this.bound) {
+      this.#answers.clear();
+    }
+    this.#answers.set(key, answer);
+  }
+}
+
+/** Distinct unit strings (and unit pairs) remembered; far more than the service reads (about 30). */
+const MEMO_BOUND = 1000;
+const normalised = new UnitMemo<string | undefined>(MEMO_BOUND);
+/** Unit pairs the library cannot convert between, whatever the value (e.g. L/min to g). */
+const incommensurable = new UnitMemo<true>(MEMO_BOUND);
+
 /** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
 export function normaliseUnit(unit: string): string | undefined {
   const trimmed = unit.trim();
+  return normalised.get(trimmed, () => lookUpUnit(trimmed));
+}
+
+function lookUpUnit(trimmed: string): string | undefined {
   // Own keys only: a unit sent as `constructor` or `__proto__` must not find Object.prototype's.
   const lower = trimmed.toLowerCase();
   if (Object.hasOwn(ALIASES, lower)) {
@@ -88,14 +129,29 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
   if (from === to) {
     return { kind: 'ok', value };
   }
+  const cannot: Conversion = { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+  const pair = `${from}\u0000${to}`;
+  if (incommensurable.has(pair)) {
+    return cannot;
+  }
+  // With a finite value the library fails only on the units themselves, so such a pair is remembered.
+  const unitsFailed = (): Conversion => {
+    if (Number.isFinite(value)) {
+      incommensurable.set(pair, true);
+    }
+    return cannot;
+  };
   let result: ReturnType<typeof utils.convertUnitTo>;
   try {
     result = quietly(() => utils.convertUnitTo(from, value, to));
   } catch {
-    return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+    return unitsFailed();
   }
-  if (result.status !== 'succeeded' || result.toVal === null || !Number.isFinite(result.toVal)) {
-    return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+  if (result.status !== 'succeeded') {
+    return unitsFailed();
+  }
+  if (result.toVal === null || !Number.isFinite(result.toVal)) {
+    return cannot;
   }
   return { kind: 'ok', value: result.toVal };
 }

@@ -27,6 +27,7 @@ import { ratioOverFio2Range } from './oxygenation-ratio.js';
 /** Rice 2007 published S/F cut-offs; each belongs to the band below it, as classifySfRice places it. */
 export const RICE_CUTOFFS: readonly number[] = [RICE_SF_CUTOFFS.pf200, RICE_SF_CUTOFFS.pf300];
 import type { Fio2InForce, PhysiologyResults } from './types.js';
+import { sortByTime } from '../time/sort-by-time.js';
 
 /** S/F from the current SpO2 and the FiO2 in force when it was read (Rice 2007; not above 97 %). */
 export function computeSfRatio(
@@ -131,7 +132,7 @@ export function highFlowAtReading(
     return undefined;
   }
   // The set FiO2 running at the reading: the newest high-flow order on record, else this order.
-  const newestOnRecord = [...onRecord].sort((a, b) => Date.parse(b.authoredOn ?? '') - Date.parse(a.authoredOn ?? ''));
+  const newestOnRecord = sortByTime(onRecord, (o) => o.authoredOn ?? '', 'newest-first');
   const orderedSetFio2 = [...newestOnRecord, ...inForce].find((o) => o.setFio2Fraction !== undefined)?.setFio2Fraction;
   // An order in force with no readable time may be the earliest, so the start is then unknown.
   const timed = inForce.every((o) => o.authoredOn !== undefined && !Number.isNaN(Date.parse(o.authoredOn)));

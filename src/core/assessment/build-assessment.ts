@@ -22,8 +22,20 @@ import { compareOrderedTarget, selectTarget, selectTitrationTarget } from './tar
 import type { Assessment, BarometricPressureUsed, CurrentValues } from './types.js';
 import type { UnitMatch } from './unit-targets.js';
 
+/** Each site's pressure, worked out once: it depends on the policy's (frozen) site alone. */
+const pressureOfSite = new WeakMap<Policy['site'], BarometricPressureUsed>();
+
 /** The pressure the site uses: a measured or agreed policy value wins over the altitude model. */
 export function siteBarometricPressure(policy: Policy): BarometricPressureUsed {
+  let pressure = pressureOfSite.get(policy.site);
+  if (pressure === undefined) {
+    pressure = workOutSitePressure(policy);
+    pressureOfSite.set(policy.site, pressure);
+  }
+  return pressure;
+}
+
+function workOutSitePressure(policy: Policy): BarometricPressureUsed {
   const configured = policy.site.barometricPressureMmHg;
   if (configured !== undefined) {
     return {

@@ -2,6 +2,7 @@ import type { Policy } from '../policy.js';
 import type { BloodGas, Facts, Measured } from '../types.js';
 import { minutesBetween } from './format.js';
 import type { CurrentValues } from './types.js';
+import { sortByTime } from '../time/sort-by-time.js';
 
 /** True when `at` is no older than `windowMinutes` before `now` (a slightly future time counts). */
 export function isWithin(at: string, now: Date, windowMinutes: number): boolean {
@@ -11,7 +12,7 @@ export function isWithin(at: string, now: Date, windowMinutes: number): boolean 
 
 /** Sorted most recent first; the reader promises this order, but the core does not rely on it. */
 export function newestFirst<T extends { readonly at: string }>(items: readonly T[]): readonly T[] {
-  return [...items].sort((a, b) => Date.parse(b.at) - Date.parse(a.at));
+  return sortByTime(items, (item) => item.at, 'newest-first');
 }
 
 function latestWithin<T extends { readonly at: string }>(

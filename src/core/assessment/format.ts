@@ -8,8 +8,19 @@ import type { BloodGas, SaturationRange } from '../types.js';
 
 /** Rounds to at most `decimals` places and drops trailing zeros: 6.70 → "6.7", 3.0 → "3". */
 export function formatNumber(value: number, decimals: number): string {
+  // Whole numbers (most card values) need no rounding; below 1e21 String() writes them as toFixed does.
+  if (Number.isInteger(value) && Math.abs(value) < 1e21) {
+    return String(value === 0 ? 0 : value);
+  }
   const fixed = value.toFixed(decimals);
-  return fixed.includes('.') ? fixed.replace(/\.?0+$/, '') : fixed;
+  if (!fixed.includes('.')) {
+    return fixed;
+  }
+  let end = fixed.length;
+  while (fixed[end - 1] === '0') {
+    end -= 1;
+  }
+  return fixed.slice(0, fixed[end - 1] === '.' ? end - 1 : end);
 }
 
 /** "88–92 %" (en dash, space before the unit as in SI usage). */

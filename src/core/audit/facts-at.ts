@@ -1,6 +1,7 @@
 import type { Policy } from '../policy.js';
 import type { BloodGas, Facts, Measured, OxygenOrder } from '../types.js';
 import type { AuditPatient } from './types.js';
+import { sortByTime } from '../time/sort-by-time.js';
 
 /**
  * The Facts the engine would have had about an audited patient at one moment: only what was recorded
@@ -19,12 +20,11 @@ function ageMinutes(at: string, nowMs: number): number | undefined {
 
 /** Items dated at or before now and at most `windowMinutes` old, newest first. */
 function within<T extends { readonly at: string }>(items: readonly T[], nowMs: number, windowMinutes: number): T[] {
-  return items
-    .filter((item) => {
-      const age = ageMinutes(item.at, nowMs);
-      return age !== undefined && age >= 0 && age <= windowMinutes;
-    })
-    .sort((a, b) => Date.parse(b.at) - Date.parse(a.at));
+  const kept = items.filter((item) => {
+    const age = ageMinutes(item.at, nowMs);
+    return age !== undefined && age >= 0 && age <= windowMinutes;
+  });
+  return sortByTime(kept, (item) => item.at, 'newest-first');
 }
 
 export function factsAt(patient: AuditPatient, order: OxygenOrder | undefined, at: Date, policy: Policy): Facts {

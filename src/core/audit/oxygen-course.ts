@@ -3,6 +3,7 @@ import type { OxygenStep } from '../titration/time-in-range.js';
 import { observedOxygenSteps } from '../titration/titration-review.js';
 import type { OxygenOrder } from '../types.js';
 import type { AuditOrder, AuditPatient } from './types.js';
+import { sortByTime } from '../time/sort-by-time.js';
 
 /**
  * When an audited patient was on oxygen, and which order was in force when. Pure.
@@ -53,9 +54,12 @@ export function oxygenCourse(patient: AuditPatient): OxygenCourse {
       steps.push({ at: endedAt, onOxygen: false });
     }
   }
-  const sorted = steps
-    .filter((s) => !Number.isNaN(Date.parse(s.at)))
-    .sort((a, b) => Date.parse(a.at) - Date.parse(b.at) || Number(a.onOxygen) - Number(b.onOxygen));
+  const sorted = sortByTime(
+    steps.filter((s) => !Number.isNaN(Date.parse(s.at))),
+    (s) => s.at,
+    'oldest-first',
+    (a, b) => Number(a.onOxygen) - Number(b.onOxygen),
+  );
   return { steps: sorted, onOxygenAtStart };
 }
 

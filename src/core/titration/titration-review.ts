@@ -4,6 +4,7 @@ import type { Policy } from '../policy.js';
 import { expectsTarget } from '../rules/support/order-purpose.js';
 import type { Computation, Facts, Measured, OxygenOrder, SaturationRange } from '../types.js';
 import { timeInRange, type OxygenStep, type TimeInRange } from './time-in-range.js';
+import { sortByTime } from '../time/sort-by-time.js';
 
 /**
  * What the titration review on `patient-view` looks at, built once per rule from the facts: the SpO2
@@ -29,12 +30,11 @@ const AIR_FIO2_AT_MOST = 0.215;
 export function readingsInWindow(items: readonly Measured[], now: Date, minutes: number): Measured[] {
   const end = now.getTime();
   const start = end - minutes * 60_000;
-  return items
-    .filter((m) => {
-      const at = Date.parse(m.at);
-      return !Number.isNaN(at) && at >= start && at <= end;
-    })
-    .sort((a, b) => Date.parse(a.at) - Date.parse(b.at));
+  const kept = items.filter((m) => {
+    const at = Date.parse(m.at);
+    return !Number.isNaN(at) && at >= start && at <= end;
+  });
+  return sortByTime(kept, (m) => m.at, 'oldest-first');
 }
 
 /** Switches between oxygen and air seen in recorded FiO2 (above 0.21: oxygen) and flow (above 0: oxygen). */
@@ -98,9 +98,12 @@ export function reviewTitration(input: {
   const latest = readings[readings.length - 1];
   const latestMs = latest === undefined ? Number.NaN : Date.parse(latest.at);
   // The newest switch at or before the latest reading (oxygen wins a tie, as in timeInRange).
-  const before = steps
-    .filter((s) => Date.parse(s.at) <= latestMs)
-    .sort((a, b) => Date.parse(a.at) - Date.parse(b.at) || Number(a.onOxygen) - Number(b.onOxygen));
+  const before = sortByTime(
+    steps.filter((s) => Date.parse(s.at) <= latestMs),
+    (s) => s.at,
+    'oldest-first',
+    (a, b) => Number(a.onOxygen) - Number(b.onOxygen),
+  );
   const latestOnOxygen = before[before.length - 1]?.onOxygen ?? onOxygenAtStart;
   return { order, range: titrationTarget.range, lookbackMinutes, readings, time, latestOnOxygen };
 }

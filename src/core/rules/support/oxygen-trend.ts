@@ -3,6 +3,7 @@ import { formatFlow, formatFraction } from '../../assessment/format.js';
 import { DEVICE_MODELS } from '../../devices/index.js';
 import type { DeviceKind, Facts, Measured, OxygenOrder } from '../../types.js';
 import { deviceLabel } from './describe.js';
+import { sortByTime } from '../../time/sort-by-time.js';
 
 /**
  * The oxygen given over a window, compared end to end, shared by rising-oxygen-need (order-sign and
@@ -19,9 +20,8 @@ const FLOW_SETS_OXYGEN: readonly DeviceKind[] = ['nasal-cannula', 'simple-face-m
 
 /** Oldest first, within the trend window and not in the future. */
 export function inWindow(items: readonly Measured[], now: Date, windowMinutes: number): readonly Measured[] {
-  return items
-    .filter((m) => isWithin(m.at, now, windowMinutes) && Date.parse(m.at) <= now.getTime())
-    .sort((a, b) => Date.parse(a.at) - Date.parse(b.at));
+  const kept = items.filter((m) => isWithin(m.at, now, windowMinutes) && Date.parse(m.at) <= now.getTime());
+  return sortByTime(kept, (m) => m.at, 'oldest-first');
 }
 
 /** The oxygen given at the two ends of the window, in one comparable measure. */
