@@ -15,7 +15,7 @@ const redact = compileRedaction(REDACT_PATHS, CENSOR);
 /** What pino's own `redact` option writes for `line`: the behaviour the compiled walk replaces. */
 function pinoRedacted(line: Record<string, unknown>): unknown {
   const log = createMemoryLog();
-  pino({ base: undefined, timestamp: false, redact: { paths: [...REDACT_PATHS], censor: CENSOR } }, log.stream).info(line);
+  pino({ base: null, timestamp: false, redact: { paths: [...REDACT_PATHS], censor: CENSOR } }, log.stream).info(line);
   const { level: _level, ...rest } = log.lines()[0] ?? {};
   return rest;
 }
