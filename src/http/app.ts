@@ -9,13 +9,13 @@ import type { ReviewAccessConfig } from '../security/review-access.js';
 import type { Store } from '../store/store.js';
 import { createAuditTrail, type PatientKeyOf } from './audit-trail.js';
 import { requireAuthentication, type Authenticate } from './auth.js';
-import { answerPreflight, corsHeaders } from './cors.js';
+import { answerPreflight } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createGatherer, type Gather } from './gather-data.js';
-import { parseJsonBody, requireJsonContentType } from './json-body.js';
+import { parseJsonBody } from './json-body.js';
 import { createEvaluationGate, gateLimitsFrom } from './overload.js';
-import { perSnapshot, pinnedPolicy, pinPolicy } from './pinned-policy.js';
-import { requestContext } from './request-context.js';
+import { perSnapshot, pinnedPolicy } from './pinned-policy.js';
+import { startRequest } from './request-start.js';
 import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
@@ -24,7 +24,6 @@ import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler } from './routes/health.js';
 import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
-import { securityHeaders } from './security-headers.js';
 import type { RefusalLimits } from '../log/refusal-limiter.js';
 
 /**
@@ -141,10 +140,16 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.disable('x-powered-by');
   app.set('etag', false);
 
-  app.use(securityHeaders({ strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS }));
-  app.use(requestContext(deps.logger, deps.newRequestId ?? randomUUID, deps.refusalLogLimits));
-  app.use(pinPolicy(deps.policy));
-  app.use(corsHeaders(config.corsOrigins));
+  app.use(
+    startRequest({
+      securityHeaders: { strictTransportSecurity: config.behindTls ?? ENV_DEFAULTS.OXYGEN_CHECKER_BEHIND_TLS },
+      logger: deps.logger,
+      newRequestId: deps.newRequestId ?? randomUUID,
+      ...(deps.refusalLogLimits === undefined ? {} : { refusalLimits: deps.refusalLogLimits }),
+      policy: deps.policy,
+      corsOrigins: config.corsOrigins,
+    }),
+  );
   // Browsers send preflights without credentials, so they are answered before authentication.
   app.options(Object.values(ROUTES), answerPreflight);
   app.get(ROUTES.health, route('healthz', healthHandler));
@@ -159,7 +164,6 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
 
   app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)
   app.use('/cds-services', requireAuthentication(deps.authenticate));
-  app.use(requireJsonContentType);
   app.use(parseJsonBody(config.bodyLimitBytes));
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
   app.post(ROUTES.feedback, (req, res, next) => handlersFor(pinnedPolicy(res)).feedback(req, res, next));

@@ -1,3 +1,4 @@
+import type { IncomingMessage, ServerResponse } from 'node:http';
 import type { RequestHandler } from 'express';
 import { requestState } from './request-context.js';
 
@@ -11,10 +12,10 @@ export const CORS_ALLOW_HEADERS = 'Authorization, Content-Type';
 /** Seconds a browser may cache a preflight answer (common practice: minutes, not days). */
 export const CORS_MAX_AGE_SECONDS = 600;
 
-/** Adds the Allow-Origin headers to every response a permitted origin may read. */
-export function corsHeaders(origins: '*' | readonly string[]): RequestHandler {
+/** Adds the Allow-Origin headers to every response a permitted origin may read (request-start.ts). */
+export function corsHeaderSetter(origins: '*' | readonly string[]): (req: IncomingMessage, res: ServerResponse) => void {
   const allowed = origins === '*' ? undefined : new Set(origins);
-  return (req, res, next) => {
+  return (req, res) => {
     if (allowed === undefined) {
       res.setHeader('Access-Control-Allow-Origin', '*');
     } else {
@@ -25,7 +26,6 @@ export function corsHeaders(origins: '*' | readonly string[]): RequestHandler {
       }
     }
     res.setHeader('Access-Control-Expose-Headers', 'X-Request-Id, WWW-Authenticate');
-    next();
   };
 }
 

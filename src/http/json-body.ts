@@ -1,4 +1,4 @@
-import express, { type RequestHandler } from 'express';
+import express, { type Request, type RequestHandler } from 'express';
 import { AppError } from './errors.js';
 import {
   describeBreach,
@@ -19,12 +19,11 @@ function hasBody(headers: Readonly<Record<string, string | string[] | undefined>
  * POST bodies must be JSON (415 otherwise). A POST with no body at all passes here and is refused by
  * the request schema with a 400 naming what is missing, which tells the caller more.
  */
-export const requireJsonContentType: RequestHandler = (req, _res, next) => {
+function refuseNonJson(req: Request): void {
   if (req.method === 'POST' && hasBody(req.headers) && req.is(JSON_TYPES) === false) {
     throw new AppError('CDS_ERR_UNSUPPORTED_MEDIA_TYPE');
   }
-  next();
-};
+}
 
 function draftEntryCount(body: unknown): number {
   const context = (body as { context?: unknown } | null)?.context;
@@ -34,19 +33,18 @@ function draftEntryCount(body: unknown): number {
 }
 
 /**
- * Refuses a parsed body beyond the structural limits of json-limits.ts with a 400 naming where, so
- * no recursive code further in (ours, zod's or JSON.stringify's) meets a value it cannot handle.
+ * A parsed body beyond the structural limits of json-limits.ts, as a 400 naming where, so no
+ * recursive code further in (ours, zod's or JSON.stringify's) meets a value it cannot handle.
  */
-export const checkJsonLimits: RequestHandler = (req, _res, next) => {
-  const body: unknown = req.body;
+function limitsBreach(body: unknown): AppError | undefined {
   const breach = findJsonLimitBreach(body);
   if (breach !== undefined) {
-    throw new AppError('CDS_ERR_REQUEST_TOO_COMPLEX', {
+    return new AppError('CDS_ERR_REQUEST_TOO_COMPLEX', {
       issues: [{ path: describeBreachPath(breach.path), message: describeBreach(breach.kind) }],
     });
   }
   if (draftEntryCount(body) > MAX_DRAFT_ORDER_ENTRIES) {
-    throw new AppError('CDS_ERR_REQUEST_TOO_COMPLEX', {
+    return new AppError('CDS_ERR_REQUEST_TOO_COMPLEX', {
       issues: [
         {
           path: 'context.draftOrders.entry',
@@ -55,13 +53,29 @@ export const checkJsonLimits: RequestHandler = (req, _res, next) => {
       ],
     });
   }
-  next();
-};
+  return undefined;
+}
 
 /**
- * express.json with a size cap, then the structural limits; body-parser's errors are mapped to the
- * catalogue by the error middleware.
+ * One step for the body of every call: the media type (415), then express.json with a size cap, then
+ * the structural limits. body-parser's errors are mapped to the catalogue by the error middleware.
  */
-export function parseJsonBody(limitBytes: number): RequestHandler[] {
-  return [express.json({ limit: limitBytes, strict: true, type: JSON_TYPES }), checkJsonLimits];
+export function parseJsonBody(limitBytes: number): RequestHandler {
+  const parse = express.json({ limit: limitBytes, strict: true, type: JSON_TYPES });
+  return (req, res, next) => {
+    refuseNonJson(req);
+    parse(req, res, (error?: unknown) => {
+      // Called from the body stream's events, so errors go to next(), never thrown.
+      if (error !== undefined && error !== null) {
+        next(error);
+        return;
+      }
+      const breach = limitsBreach(req.body);
+      if (breach !== undefined) {
+        next(breach);
+        return;
+      }
+      next();
+    });
+  };
 }

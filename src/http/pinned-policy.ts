@@ -1,18 +1,17 @@
-import type { RequestHandler, Response } from 'express';
+import type { Response } from 'express';
 import type { PolicyHolder, PolicySnapshot } from '../live-policy/policy-snapshot.js';
 
 /**
  * Each request takes the policy in force when it arrives, once, and keeps it to the end: a reload
  * while it waits on a FHIR server or the store changes the next request, never this one. Mounted
- * right after the request context, before anything that reads the policy.
+ * right after the request context (request-start.ts), before anything that reads the policy.
  */
 
 const PINNED_KEY = 'oxygenCheckerPolicy';
 
-export function pinPolicy(holder: PolicyHolder): RequestHandler {
-  return (_req, res, next) => {
+export function pinPolicy(holder: PolicyHolder): (res: Response) => void {
+  return (res) => {
     res.locals[PINNED_KEY] = holder.current();
-    next();
   };
 }
 

@@ -1,5 +1,5 @@
 import { performance } from 'node:perf_hooks';
-import type { RequestHandler, Response } from 'express';
+import type { Request, Response } from 'express';
 import { logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
 import { createRefusalLimiter, DEFAULT_REFUSAL_LIMITS, refusalClientKey, type RefusalLimits } from '../log/refusal-limiter.js';
 
@@ -26,16 +26,17 @@ export function requestState(res: Response): RequestState {
 
 /**
  * Gives each request an id (sent back as `X-Request-Id`; an incoming one is ignored, since a caller
- * could put anything in it) and writes exactly one summary line when the response closes.
+ * could put anything in it) and writes exactly one summary line when the response closes. Run first
+ * for every request by request-start.ts.
  */
 export function requestContext(
   logger: Logger,
   newRequestId: () => string,
   refusalLimits: RefusalLimits = DEFAULT_REFUSAL_LIMITS,
-): RequestHandler {
+): (req: Request, res: Response) => void {
   // Repeated identical refusals from one client are rate-limited in the log, not in the answer.
   const refusals = createRefusalLimiter(refusalLimits);
-  return (req, res, next) => {
+  return (req, res) => {
     const state: RequestState = {
       requestId: newRequestId(),
       startedAt: performance.now(),
@@ -46,16 +47,16 @@ export function requestContext(
     res.locals[STATE_KEY] = state;
     res.setHeader('X-Request-Id', state.requestId);
     res.once('close', () => {
+      const nowMs = performance.now();
       logRequestSummary(logger, {
         requestId: state.requestId,
         method: req.method,
         route: state.route,
         status: res.statusCode,
-        durationMs: performance.now() - state.startedAt,
+        durationMs: nowMs - state.startedAt,
         errorCode: state.errorCode,
         detail: state.detail,
-      }, { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs: performance.now() });
+      }, { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs });
     });
-    next();
   };
 }

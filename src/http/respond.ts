@@ -24,14 +24,30 @@ export function sendResult(res: Response, result: HttpResult): void {
   res.status(result.status).json(result.body);
 }
 
-/** Adapts a handler to express, naming the route for the log line (never the raw URL). */
+/**
+ * Adapts a handler to express, naming the route for the log line (never the raw URL). A handler's
+ * promise is followed directly, without another async layer; a rejection (or a throw) goes to the
+ * error middleware, as express 5 would send it.
+ */
 export function route(name: string, handler: RouteHandler): RequestHandler {
-  return async (req, res) => {
-    requestState(res).route = name;
-    const result = await handler(req, res);
-    if (result.detail !== undefined) {
-      requestState(res).detail = result.detail;
+  return (req, res, next) => {
+    const state = requestState(res);
+    state.route = name;
+    const send = (result: RouteResult): void => {
+      try {
+        if (result.detail !== undefined) {
+          state.detail = result.detail;
+        }
+        sendResult(res, result);
+      } catch (error) {
+        next(error);
+      }
+    };
+    const result = handler(req, res);
+    if (result instanceof Promise) {
+      void result.then(send, next);
+    } else {
+      send(result);
     }
-    sendResult(res, result);
   };
 }

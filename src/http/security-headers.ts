@@ -1,4 +1,4 @@
-import type { RequestHandler } from 'express';
+import type { ServerResponse } from 'node:http';
 
 /**
  * Headers every response carries. The service answers JSON to EHR clients and is never meant to be
@@ -34,13 +34,15 @@ export function securityHeaderValues(options: SecurityHeaderOptions): Readonly<R
   };
 }
 
-/** Sets the headers before any route runs, so errors, preflights and 404s carry them too. */
-export function securityHeaders(options: SecurityHeaderOptions): RequestHandler {
+/**
+ * Sets the headers on a response; the list is built once. Run before any route (request-start.ts),
+ * so errors, preflights and 404s carry them too.
+ */
+export function securityHeaderSetter(options: SecurityHeaderOptions): (res: ServerResponse) => void {
   const values = Object.entries(securityHeaderValues(options));
-  return (_req, res, next) => {
+  return (res) => {
     for (const [name, value] of values) {
       res.setHeader(name, value);
     }
-    next();
   };
 }

@@ -99,8 +99,11 @@ type KeyChoice =
   | { readonly kind: 'keys'; readonly keys: readonly PreparedKey[] }
   | { readonly kind: 'refused'; readonly reason: VerifyFailure };
 
-/** The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. */
-async function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): Promise<KeyChoice> {
+/**
+ * The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. Keys from
+ * the trust file are answered at once, without a promise: most clients list their keys there.
+ */
+function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): KeyChoice | Promise<KeyChoice> {
   let url: string | undefined;
   if (jku !== undefined) {
     const normalised = typeof jku === 'string' ? normalisedUrl(jku) : undefined;
@@ -116,7 +119,11 @@ async function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks
     const keys = client.keySource.kind === 'static' ? client.keySource.keys.get(kid) : undefined;
     return keys === undefined ? { kind: 'refused', reason: 'kid-unknown' } : { kind: 'keys', keys };
   }
-  const found = await jwks.findKeys(url, kid, client.iss);
+  return fetchedKeys(url, kid, client.iss, jwks);
+}
+
+async function fetchedKeys(url: string, kid: string, iss: string, jwks: JwksStore): Promise<KeyChoice> {
+  const found = await jwks.findKeys(url, kid, iss);
   if (found.kind === 'found') {
     return { kind: 'keys', keys: found.keys };
   }
@@ -156,7 +163,8 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
     if (!client.algorithms.includes(alg)) {
       return refuse('alg-not-allowed');
     }
-    const choice = await chooseKeys(client, kid, header['jku'], deps.jwks);
+    const chosen = chooseKeys(client, kid, header['jku'], deps.jwks);
+    const choice = chosen instanceof Promise ? await chosen : chosen;
     if (choice.kind === 'refused') {
       return refuse(choice.reason);
     }

@@ -70,5 +70,25 @@ export function audienceMatches(aud: unknown, expected: string): boolean {
   if (values.length === 0 || !values.every((value) => typeof value === 'string')) {
     return false;
   }
-  return values.some((value) => normaliseUrl(value) === expected);
+  return values.some((value) => normalisedAudience(value) === expected);
+}
+
+/**
+ * `normaliseUrl` remembered for the audiences lately seen: a client names the same few endpoint URLs
+ * in every token, and parsing a URL is the check's largest cost after the signature. Only values from
+ * tokens whose signature has been verified reach it, and it is emptied when full, so it stays small.
+ */
+const AUDIENCES_REMEMBERED = 256;
+const normalisedAudiences = new Map<string, string | undefined>();
+
+function normalisedAudience(value: string): string | undefined {
+  if (normalisedAudiences.has(value)) {
+    return normalisedAudiences.get(value);
+  }
+  if (normalisedAudiences.size >= AUDIENCES_REMEMBERED) {
+    normalisedAudiences.clear();
+  }
+  const normalised = normaliseUrl(value);
+  normalisedAudiences.set(value, normalised);
+  return normalised;
 }
