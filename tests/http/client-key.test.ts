@@ -10,7 +10,11 @@ import { createLogger } from '../../src/log/logger.js';
 
 async function keyFor(authenticate: Authenticate): Promise<unknown> {
   const app = express();
-  app.use(requestContext(createLogger({ level: 'silent' }), () => 'req-1'));
+  const beginContext = requestContext(createLogger({ level: 'silent' }), () => 'req-1');
+  app.use((req, res, next) => {
+    beginContext(req, res);
+    next();
+  });
   app.use(requireAuthentication(authenticate));
   app.get('/key', (req, res) => {
     res.json({ key: clientKeyOf(req, res) });

@@ -56,7 +56,11 @@ async function gateApp(limits: GateLimits): Promise<GateApp> {
   const app = express();
   const logger = createLogger({ level: 'silent' });
   let ids = 0;
-  app.use(requestContext(logger, () => `req-${++ids}`));
+  const beginContext = requestContext(logger, () => `req-${++ids}`);
+  app.use((req, res, next) => {
+    beginContext(req, res);
+    next();
+  });
   app.post('/call', gate.shed);
   app.use(requireAuthentication(allowEveryRequest));
   app.post('/call', gate.admit, async (req, res) => {
