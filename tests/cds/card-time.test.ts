@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formatAgo, formatClockTime, formatWhen } from '../../src/cds/card-time.js';
+import { cardClock, formatAgo, formatClockTime, formatWhen } from '../../src/cds/card-time.js';
 
 // Zone rules are from the IANA time zone database (tzdata): Europe/London is GMT (UTC+0) in winter and
 // BST (UTC+1) from 01:00 UTC on the last Sunday of March; Australia/Sydney is AEDT (UTC+11) in
@@ -54,6 +54,40 @@ describe('formatWhen', () => {
       const now = new Date('2025-01-15T09:40:00Z');
       expect(formatAgo('2025-01-15T09:50:00Z', now)).toBe('later than this check');
       expect(formatWhen('not a time', now, 'Europe/London')).toBe('at not a time (time not readable)');
+    });
+  });
+});
+
+describe('cardClock', () => {
+  it('shows each time as formatWhen does, across a clock change, another day and another year', () => {
+    // tzdata: London went from 01:00 GMT to 02:00 BST at 01:00 UTC on 30 March 2025.
+    const now = new Date('2025-03-30T01:10:00Z');
+    const times = [
+      '2025-03-30T00:50:00Z', // 00:50 GMT
+      '2025-03-30T01:10:00Z', // 02:10 BST
+      '2025-03-29T23:30:00Z', // the day before in London, the same day in Sydney
+      '2024-12-31T23:50:00Z', // another year
+      '2025-03-30T02:10:00+01:00',
+      '2025-03-30T01:20:00Z', // later than the check
+      'not a time',
+    ];
+    for (const zone of ['Europe/London', 'Australia/Sydney', 'America/St_Johns']) {
+      const clock = cardClock(now, zone);
+      for (const at of times) {
+        expect(clock.when(at), `${zone} ${at}`).toBe(formatWhen(at, now, zone));
+      }
+    }
+    const london = cardClock(now, 'Europe/London');
+    expect(london.when('2025-03-30T00:50:00Z')).toBe('at 00:50 (20 min ago)'); // GMT, tzdata
+    expect(london.when('2025-03-30T01:10:00Z')).toBe('at 02:10 (0 min ago)'); // BST, tzdata
+  });
+
+  describe('edge cases', () => {
+    it('gives the same text when a time is asked for again', () => {
+      const clock = cardClock(new Date('2025-01-15T09:40:00Z'), 'Europe/London');
+      const first = clock.when('2025-01-15T09:20:00Z');
+      expect(clock.when('2025-01-15T09:20:00Z')).toBe(first);
+      expect(first).toBe('at 09:20 (20 min ago)'); // GMT (UTC+0) in January, tzdata
     });
   });
 });
