@@ -38,13 +38,108 @@ function formatterFor(timeZone: string): Intl.DateTimeFormat {
   return formatter;
 }
 
-function localParts(at: Date, timeZone: string): LocalParts {
+/** The local clock parts as Intl gives them: exact in every zone and era, but dear. */
+function intlLocalParts(at: Date, timeZone: string): LocalParts {
   // One walk over the parts rather than a search per field; the first of each type counts.
   const found: Partial<Record<Intl.DateTimeFormatPartTypes, string>> = {};
   for (const part of formatterFor(timeZone).formatToParts(at)) {
     found[part.type] ??= part.value;
   }
   return { year: found.year ?? '', month: found.month ?? '', day: found.day ?? '', hour: found.hour ?? '', minute: found.minute ?? '' };
+}
+
+/** Numeric formatters, to the second, used only to learn a zone's offset from UTC. */
+const OFFSET_FORMATTERS = new Map<string, Intl.DateTimeFormat>();
+
+/** How far the zone's wall clock is ahead of UTC at `ms`, in ms (whole seconds: old local mean times have them). */
+function offsetMsAt(ms: number, timeZone: string): number {
+  let formatter = OFFSET_FORMATTERS.get(timeZone);
+  if (formatter === undefined) {
+    formatter = new Intl.DateTimeFormat('en-GB', {
+      timeZone,
+      year: 'numeric',
+      month: 'numeric',
+      day: 'numeric',
+      hour: 'numeric',
+      minute: 'numeric',
+      second: 'numeric',
+      hourCycle: 'h23',
+    });
+    OFFSET_FORMATTERS.set(timeZone, formatter);
+  }
+  const field: Partial<Record<Intl.DateTimeFormatPartTypes, number>> = {};
+  for (const part of formatter.formatToParts(ms)) {
+    field[part.type] ??= Number(part.value);
+  }
+  const wall = Date.UTC(field.year ?? 0, (field.month ?? 1) - 1, field.day ?? 1, field.hour ?? 0, field.minute ?? 0, field.second ?? 0);
+  return wall - Math.floor(ms / 1000) * 1000;
+}
+
+const HOUR_MS = 3_600_000;
+/** Hours kept per zone (about six months of them); the cache is emptied whole when it fills. */
+const MAX_HOURS_KEPT = 4096;
+/**
+ * Per zone, the offset in force through each UTC hour seen, or `null` when it changes within that
+ * hour. The same offset at an hour's first and last millisecond means none changed in between, as no
+ * zone changes its clocks twice within one hour (tzdata, from memory); an hour that holds a change is
+ * left to Intl.
+ */
+const STEADY_OFFSETS = new Map<string, Map<number, number | null>>();
+
+function steadyOffsetMs(ms: number, timeZone: string): number | undefined {
+  let byHour = STEADY_OFFSETS.get(timeZone);
+  if (byHour === undefined) {
+    byHour = new Map();
+    STEADY_OFFSETS.set(timeZone, byHour);
+  }
+  const hour = Math.floor(ms / HOUR_MS);
+  let offset = byHour.get(hour);
+  if (offset === undefined) {
+    const start = hour * HOUR_MS;
+    const atStart = offsetMsAt(start, timeZone);
+    offset = atStart === offsetMsAt(start + HOUR_MS - 1, timeZone) ? atStart : null;
+    if (byHour.size >= MAX_HOURS_KEPT) {
+      byHour.clear();
+    }
+    byHour.set(hour, offset);
+  }
+  return offset ?? undefined;
+}
+
+let monthNames: readonly string[] | undefined;
+
+/** The short month names the formatter writes ("Sept" in en-GB), read from it once. */
+function shortMonthNames(): readonly string[] {
+  monthNames ??= Array.from({ length: 12 }, (_, month) => intlLocalParts(new Date(Date.UTC(2000, month, 15, 12)), 'UTC').month);
+  return monthNames;
+}
+
+const twoDigits = (value: number): string => String(value).padStart(2, '0');
+
+/**
+ * The local clock parts of `at` in `timeZone`, as the en-GB formatter writes them. Intl is the
+ * dearest step of a card (a formatToParts call per time), so the zone's offset is learnt once per UTC
+ * hour and the parts are worked out from it; an hour in which the clocks change, and a year outside
+ * four digits, are left to Intl. tests/cds/card-time.test.ts holds the two ways equal.
+ */
+function localParts(at: Date, timeZone: string): LocalParts {
+  const ms = at.getTime();
+  const offset = steadyOffsetMs(ms, timeZone);
+  if (offset === undefined) {
+    return intlLocalParts(at, timeZone);
+  }
+  const wall = new Date(ms + offset);
+  const year = wall.getUTCFullYear();
+  if (year < 1000 || year > 9999) {
+    return intlLocalParts(at, timeZone);
+  }
+  return {
+    year: String(year),
+    month: shortMonthNames()[wall.getUTCMonth()] ?? '',
+    day: String(wall.getUTCDate()),
+    hour: twoDigits(wall.getUTCHours()),
+    minute: twoDigits(wall.getUTCMinutes()),
+  };
 }
 
 /** "09:25", "29 Nov 21:10" or "29 Nov 2025 21:10" as `there` reads beside `here` (see formatClockTime). */
