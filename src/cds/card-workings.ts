@@ -239,6 +239,8 @@ export function prepareWorkings(
   clock: CardClock = cardClock(now, policy.site.timeZone),
 ): (finding: Finding, assessment: Assessment) => string {
   const inputsByAssessment = new Map<Assessment, DetailSection>();
+  // Cards of one rule, and often of several, cite the same keys.
+  const sourcesByKeys = new Map<string, DetailSection>();
   const setAside = setAsideSection(facts.setAside);
   const cautions = cautionsSection(policy);
   return (finding, assessment) => {
@@ -247,12 +249,13 @@ export function prepareWorkings(
       inputs = inputsSection(facts, assessment, policy, clock);
       inputsByAssessment.set(assessment, inputs);
     }
-    return renderSections([
-      inputs,
-      calculationSection(finding.computations, policy),
-      setAside,
-      sourcesSection(findingSourceKeys(finding), policy),
-      cautions,
-    ]);
+    const keys = findingSourceKeys(finding);
+    const joinedKeys = keys.join('\n');
+    let sources = sourcesByKeys.get(joinedKeys);
+    if (sources === undefined) {
+      sources = sourcesSection(keys, policy);
+      sourcesByKeys.set(joinedKeys, sources);
+    }
+    return renderSections([inputs, calculationSection(finding.computations, policy), setAside, sources, cautions]);
   };
 }

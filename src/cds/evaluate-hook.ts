@@ -137,6 +137,14 @@ export function evaluateHook(
   const clock = cardClock(deps.now, deps.policy.site.timeZone);
   const renderWorkings = prepareWorkings(facts, deps.policy, deps.now, clock);
   const renderDetail = prepareCompactDetail(facts, deps.policy, clock);
+  // Several cards may be about one order: the draft bundle is searched once per order reference.
+  const draftByReference = new Map<string, ReturnType<typeof findDraftResource>>();
+  const draftResourceFor = (reference: string): ReturnType<typeof findDraftResource> => {
+    if (!draftByReference.has(reference)) {
+      draftByReference.set(reference, findDraftResource(draftOrders, reference));
+    }
+    return draftByReference.get(reference);
+  };
   const seriesByAssessment = new Map<Assessment, AdvisorySeries>();
   const seriesFor = (cardAssessment: Assessment): AdvisorySeries => {
     let series = seriesByAssessment.get(cardAssessment);
@@ -161,7 +169,7 @@ export function evaluateHook(
       ...(deps.policyContentHash === undefined ? {} : { policyContentHash: deps.policyContentHash }),
       hookInstance: input.request.hookInstance,
       draftResource:
-        finding.orderReference === undefined ? undefined : findDraftResource(draftOrders, finding.orderReference),
+        finding.orderReference === undefined ? undefined : draftResourceFor(finding.orderReference),
       facts,
       assessment: cardAssessment,
       now: deps.now,
