@@ -1,4 +1,4 @@
-import { createHash } from 'node:crypto';
+import * as crypto from 'node:crypto';
 
 /**
  * Name-based UUIDs (version 5, SHA-1; RFC 9562 §5.5). A card's uuid is derived from what the card
@@ -22,10 +22,19 @@ function uuidBytes(uuid: string): Buffer {
 /** Our namespace's bytes, read once: every card uuid of every call is hashed under it. */
 const CARD_NAMESPACE_BYTES = uuidBytes(CARD_UUID_NAMESPACE);
 
+/**
+ * SHA-1 of a few bytes. The one-shot `crypto.hash` (Node 20.12 and later) costs about half of a Hash
+ * object for a name this short, and a card call makes several; `engines` still admits older Node 20
+ * releases, which lack it.
+ */
+const sha1: (data: Buffer) => Buffer =
+  typeof crypto.hash === 'function'
+    ? (data) => crypto.hash('sha1', data, 'buffer')
+    : (data) => crypto.createHash('sha1').update(data).digest();
+
 /** RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name, version 5, variant 10. */
 function uuidV5FromBytes(namespaceBytes: Buffer, name: string): string {
-  const hash = createHash('sha1').update(namespaceBytes).update(name, 'utf8').digest();
-  const bytes = hash.subarray(0, 16);
+  const bytes = sha1(Buffer.concat([namespaceBytes, Buffer.from(name, 'utf8')])).subarray(0, 16);
   bytes[6] = ((bytes[6] ?? 0) & 0x0f) | 0x50;
   bytes[8] = ((bytes[8] ?? 0) & 0x3f) | 0x80;
   const hex = bytes.toString('hex');
