@@ -238,24 +238,26 @@ export function prepareWorkings(
   now: Date,
   clock: CardClock = cardClock(now, policy.site.timeZone),
 ): (finding: Finding, assessment: Assessment) => string {
-  const inputsByAssessment = new Map<Assessment, DetailSection>();
+  // The shared sections are kept as rendered text: only the calculation is rendered per card.
+  const inputsByAssessment = new Map<Assessment, string>();
   // Cards of one rule, and often of several, cite the same keys.
-  const sourcesByKeys = new Map<string, DetailSection>();
-  const setAside = setAsideSection(facts.setAside);
-  const cautions = cautionsSection(policy);
+  const sourcesByKeys = new Map<string, string>();
+  const setAside = renderSections([setAsideSection(facts.setAside)]);
+  const cautions = renderSections([cautionsSection(policy)]);
   return (finding, assessment) => {
     let inputs = inputsByAssessment.get(assessment);
     if (inputs === undefined) {
-      inputs = inputsSection(facts, assessment, policy, clock);
+      inputs = renderSections([inputsSection(facts, assessment, policy, clock)]);
       inputsByAssessment.set(assessment, inputs);
     }
     const keys = findingSourceKeys(finding);
     const joinedKeys = keys.join('\n');
     let sources = sourcesByKeys.get(joinedKeys);
     if (sources === undefined) {
-      sources = sourcesSection(keys, policy);
+      sources = renderSections([sourcesSection(keys, policy)]);
       sourcesByKeys.set(joinedKeys, sources);
     }
-    return renderSections([inputs, calculationSection(finding.computations, policy), setAside, sources, cautions]);
+    // renderSections joins sections with a blank line; so do these.
+    return [inputs, renderSections([calculationSection(finding.computations, policy)]), setAside, sources, cautions].join('\n\n');
   };
 }
