@@ -5,9 +5,10 @@ import type { Facts, Finding, OrderChange } from '../core/types.js';
 import { CANONICAL_BASE } from '../fhir/codes.js';
 import { planOrderChange } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
-import { compactDetail } from './card-detail.js';
+import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
-import { escapeMarkdown, renderTemplate, type CardTemplate } from './card-templates.js';
+import { compiledCardTemplate, escapeMarkdown, renderCompiled, type CardTemplate } from './card-templates.js';
+import { oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
@@ -49,6 +50,11 @@ export interface CardBuildContext {
   readonly earlierChanges?: readonly OrderChange[];
   /** What the action's description calls the order: `draft order` (default) or `active order` (patient-view). */
   readonly orderWord?: 'draft order' | 'active order';
+  /**
+   * The call's detail renderer (`prepareCompactDetail` over the same facts, policy and clock), so the
+   * sections its cards share are built once; without it, the detail is built for this card alone.
+   */
+  readonly compactDetail?: CompactDetailRenderer;
 }
 
 /** A flow change and a device change both set the flow; the later one wins. */
@@ -68,6 +74,48 @@ export function sourceLabel(policy: Policy, policyContentHash: string | undefine
   const citedKey = ruleId === undefined ? policy.basisKey : citedGuidelineKey(policy, ruleId);
   const cites = citedKey === policy.basisKey ? '' : `; cites ${policy.references[citedKey]?.label ?? citedKey}`;
   return `${policy.title} (${policy.id} v${policy.version}${hash}) · ${basis?.label ?? policy.basisKey}${cites}`;
+}
+
+/**
+ * The card's `source`, the same object for every card of a rule under one policy file: keyed by rule
+ * id and content hash (a rule id holds no line break). Frozen, as cards of many calls share it.
+ */
+function cardSource(policy: Policy, policyContentHash: string | undefined, ruleId: string): Card['source'] {
+  return sourceOnce(policy, policyContentHash === undefined ? ruleId : `${ruleId}\n${policyContentHash}`);
+}
+
+const sourceOnce = oncePerPolicyAndKey((policy, key): Card['source'] => {
+  const [ruleId = '', policyContentHash] = key.split('\n');
+  // The link of the guideline the card cites, else of the primary.
+  const url = policy.references[citedGuidelineKey(policy, ruleId)]?.url ?? policy.references[policy.basisKey]?.url;
+  return Object.freeze({
+    label: sourceLabel(policy, policyContentHash, ruleId),
+    ...(url === undefined ? {} : { url }),
+    topic: Object.freeze({ system: RULE_TOPIC_SYSTEM, code: ruleId }),
+  });
+});
+
+type CardOverrideReasons = NonNullable<Card['overrideReasons']>;
+
+/** Per template (a local wording file may give a rule other reasons), per policy and rule id. */
+const OVERRIDE_REASONS = new WeakMap<CardTemplate, (policy: Policy, ruleId: string) => CardOverrideReasons>();
+
+/** The card's `overrideReasons`, built once per template, policy and rule, and frozen as cards share them. */
+function cardOverrideReasons(policy: Policy, ruleId: string, template: CardTemplate): CardOverrideReasons {
+  let forTemplate = OVERRIDE_REASONS.get(template);
+  if (forTemplate === undefined) {
+    forTemplate = oncePerPolicyAndKey(
+      (p, id) =>
+        // The card type is zod's, which has no readonly arrays; frozen all the same, so a change fails loudly.
+        Object.freeze(
+          offeredOverrideReasons(p, id, template).map((reason) =>
+            Object.freeze({ code: reason.code, system: OVERRIDE_REASON_SYSTEM, display: reason.display }),
+          ),
+        ) as CardOverrideReasons,
+    );
+    OVERRIDE_REASONS.set(template, forTemplate);
+  }
+  return forTemplate(policy, ruleId);
 }
 
 export interface CardReport {
@@ -107,8 +155,9 @@ export function describeChange(change: OrderChange): string {
 }
 
 /** The finding's values and the policy's (the guideline cited): the policy's names are its own (policy-card-text.ts). */
-function cardValues(finding: Finding, policy: Policy): Record<string, string> {
-  return { ...finding.values, ...policyCardValues(policy, finding.ruleId) };
+function cardValues(finding: Finding, policy: Policy): Readonly<Record<string, string>> {
+  // Object.assign, not `{ ...a, ...b }`: on Node 20 the two-spread literal cost some 10 µs a card.
+  return Object.assign({}, finding.values, policyCardValues(policy, finding.ruleId));
 }
 
 function lowerFirst(text: string): string {
@@ -129,7 +178,13 @@ function leftAsWrittenNote(values: readonly string[]): string {
   return ` (the order text also gives ${quoted}: left as written and marked for review)`;
 }
 
-function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, problems: string[]): SuggestionOutcome {
+function buildSuggestion(
+  finding: Finding,
+  ctx: CardBuildContext,
+  values: Readonly<Record<string, string>>,
+  uuid: string,
+  problems: string[],
+): SuggestionOutcome {
   const change = finding.change;
   if (change === undefined) {
     return NONE;
@@ -167,10 +222,11 @@ function buildSuggestion(finding: Finding, ctx: CardBuildContext, uuid: string, 
   }
   const changes = [...carried, change];
   let label = describeChange(change);
-  if (ctx.template.suggestionLabel === undefined) {
+  const compiledLabel = compiledCardTemplate(ctx.template).suggestionLabel;
+  if (compiledLabel === undefined) {
     problems.push(`${finding.ruleId}: template has no suggestionLabel`);
   } else {
-    const rendered = renderTemplate(ctx.template.suggestionLabel, cardValues(finding, ctx.policy), 'plain');
+    const rendered = renderCompiled(compiledLabel, values, 'plain');
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
     label = rendered.text;
   }
@@ -202,8 +258,9 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
   const values = cardValues(finding, ctx.policy);
-  const summary = renderTemplate(ctx.template.summary, values, 'plain');
-  const detail = renderTemplate(ctx.template.detail, values, 'markdown');
+  const compiled = compiledCardTemplate(ctx.template);
+  const summary = renderCompiled(compiled.summary, values, 'plain');
+  const detail = renderCompiled(compiled.detail, values, 'markdown');
   for (const [part, rendered] of [['summary', summary], ['detail', detail]] as const) {
     problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
   }
@@ -211,36 +268,23 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const unknownKeys = findingSourceKeys(finding).filter((key) => ctx.policy.references[key] === undefined);
   problems.push(...unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
 
-  // The link of the guideline the card cites, else of the primary.
-  const url = ctx.policy.references[citedGuidelineKey(ctx.policy, finding.ruleId)]?.url ?? ctx.policy.references[ctx.policy.basisKey]?.url;
-  const source: Card['source'] = {
-    label: sourceLabel(ctx.policy, ctx.policyContentHash, finding.ruleId),
-    ...(url === undefined ? {} : { url }),
-    topic: { system: RULE_TOPIC_SYSTEM, code: finding.ruleId },
-  };
-
-  const { suggestion, withheldReason } = buildSuggestion(finding, ctx, uuid, problems);
+  const { suggestion, withheldReason } = buildSuggestion(finding, ctx, values, uuid, problems);
+  const renderDetail =
+    ctx.compactDetail ?? ((input) => compactDetail({ ...input, facts: ctx.facts, policy: ctx.policy, now: ctx.now }));
   const withheld = withheldReason === undefined ? '' : `\n\nNo one-click change is offered: ${escapeMarkdown(withheldReason)}`;
   const card: Card = {
     uuid,
     summary: truncateSummary(summary.text.trim()),
-    detail: compactDetail({
+    detail: renderDetail({
       ruleText: `${detail.text.trim()}${withheld}`,
       basedOn: ctx.template.basedOn ?? [],
       finding,
-      facts: ctx.facts,
       assessment: ctx.assessment,
-      policy: ctx.policy,
-      now: ctx.now,
     }),
     indicator: finding.indicator,
-    source,
+    source: cardSource(ctx.policy, ctx.policyContentHash, finding.ruleId),
     ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
-    overrideReasons: offeredOverrideReasons(ctx.policy, finding.ruleId, ctx.template).map((reason) => ({
-      code: reason.code,
-      system: OVERRIDE_REASON_SYSTEM,
-      display: reason.display,
-    })),
+    overrideReasons: cardOverrideReasons(ctx.policy, finding.ruleId, ctx.template),
   };
   return { card, problems };
 }

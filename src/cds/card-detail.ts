@@ -3,23 +3,18 @@ import { formatFio2Range, formatNumber } from '../core/assessment/format.js';
 import type { Policy } from '../core/policy.js';
 import type { Computation, Facts, Finding, Measured } from '../core/types.js';
 import { escapeMarkdown, type BasedOnKind } from './card-templates.js';
-import { formatWhen } from './card-time.js';
-import {
-  describeOrderAsRead,
-  findingSourceKeys,
-  gasValues,
-  referenceLabel,
-  reportedValue,
-  type CardClock,
-} from './card-workings.js';
+import { cardClock, type CardClock } from './card-time.js';
+import { describeOrderAsRead, findingSourceKeys, gasValues, referenceLabel, reportedValue } from './card-workings.js';
+import { oncePerPolicy } from './once-per-policy.js';
 
 /**
  * The compact detail of a card, short enough to act on in an EHR's side panel: the rule's own text,
  * a short "Based on" list of only the inputs the card's template names (each with its local time and
  * how long ago), one line of arithmetic per key computation, the sources as labels, and the policy's
  * cautions in one paragraph. The full inputs and workings are in `renderWorkings` (card-workings.ts).
+ * Of these only the rule text and the arithmetic are the card's own: the inputs are the same for every
+ * card of one assessment, the cautions for every card of one policy, so each is built once.
  */
-
 
 /** At most this many computations are shown on the card, one line each; the rest are in the workings. */
 export const MAX_ARITHMETIC_LINES = 3;
@@ -27,7 +22,7 @@ export const MAX_ARITHMETIC_LINES = 3;
 function measuredLine(label: string, measured: Measured | undefined, clock: CardClock): string {
   return measured === undefined
     ? `${label}: no current reading`
-    : `${label} ${reportedValue(measured)} ${formatWhen(measured.at, clock.now, clock.timeZone)}`;
+    : `${label} ${reportedValue(measured)} ${clock.when(measured.at)}`;
 }
 
 function basedOnLines(kind: BasedOnKind, facts: Facts, assessment: Assessment, clock: CardClock): string[] {
@@ -59,7 +54,7 @@ function basedOnLines(kind: BasedOnKind, facts: Facts, assessment: Assessment, c
       return gases.flatMap((gas) =>
         gas === undefined
           ? []
-          : [`Blood gas (${gas.specimen}) ${formatWhen(gas.at, clock.now, clock.timeZone)}: ${gasValues(gas)}`],
+          : [`Blood gas (${gas.specimen}) ${clock.when(gas.at)}: ${gasValues(gas)}`],
       );
     }
     case 'haemoglobin':
@@ -92,46 +87,89 @@ function keyComputations(computations: readonly Computation[]): readonly Computa
 
 /** "BTS 2017 · Jones 1984 · local policy based-on-bts-2017 v1.0.0". */
 export function sourcesLine(finding: Finding, policy: Policy): string {
-  const labels = findingSourceKeys(finding)
-    .filter((key) => key !== 'local-policy')
-    .map((key) => referenceLabel(key, policy));
+  // A rule cites the same few keys on every card, so the line is kept per policy and list of keys.
+  const keys = findingSourceKeys(finding);
+  const lines = sourcesLinesOf(policy);
+  const joined = keys.join('\n');
+  let line = lines.get(joined);
+  if (line === undefined) {
+    line = buildSourcesLine(keys, policy);
+    lines.set(joined, line);
+  }
+  return line;
+}
+
+const sourcesLinesOf = oncePerPolicy(() => new Map<string, string>());
+
+function buildSourcesLine(keys: readonly string[], policy: Policy): string {
+  const labels = keys.filter((key) => key !== 'local-policy').map((key) => referenceLabel(key, policy));
   return [...new Set(labels), `local policy ${policy.id} v${policy.version}`].map(escapeMarkdown).join(' · ');
 }
 
 /** The policy's cautions (advisory only, pulse oximetry limits, any local lines) as one paragraph. */
 export function cautionsParagraph(policy: Policy): string {
-  return `_${policy.cautions.map((line) => escapeMarkdown(line.trim())).join(' ')}_`;
+  return cautionsOnce(policy);
 }
 
-export interface CompactDetailInput {
+const cautionsOnce = oncePerPolicy((policy) => `_${policy.cautions.map((line) => escapeMarkdown(line.trim())).join(' ')}_`);
+
+/** What one card adds to the parts its call shares: its rule text, inputs named, finding and assessment. */
+export interface CardDetailInput {
   /** The template's detail, already rendered with the finding's values. */
   readonly ruleText: string;
   readonly basedOn: readonly BasedOnKind[];
   readonly finding: Finding;
-  readonly facts: Facts;
   readonly assessment: Assessment;
+}
+
+export interface CompactDetailInput extends CardDetailInput {
+  readonly facts: Facts;
   readonly policy: Policy;
   readonly now: Date;
 }
 
+/** Renders the compact detail of each card of one call; see {@link prepareCompactDetail}. */
+export type CompactDetailRenderer = (input: CardDetailInput) => string;
+
+/**
+ * {@link compactDetail} for every card of one call, with the same output: each assessment's "Based on"
+ * lines are built and escaped once, whichever cards list them.
+ */
+export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardClock): CompactDetailRenderer {
+  const linesByAssessment = new Map<Assessment, Map<BasedOnKind, readonly string[]>>();
+  const inputLines = (kind: BasedOnKind, assessment: Assessment): readonly string[] => {
+    let byKind = linesByAssessment.get(assessment);
+    if (byKind === undefined) {
+      byKind = new Map();
+      linesByAssessment.set(assessment, byKind);
+    }
+    let lines = byKind.get(kind);
+    if (lines === undefined) {
+      lines = basedOnLines(kind, facts, assessment, clock).map(escapeMarkdown);
+      byKind.set(kind, lines);
+    }
+    return lines;
+  };
+  return (input) => {
+    const inputs = [...new Set(input.basedOn)].flatMap((kind) => inputLines(kind, input.assessment));
+    const computations = input.finding.computations;
+    const shown = keyComputations(computations);
+    const arithmetic = shown.map(arithmeticLine);
+    if (computations.length > shown.length) {
+      arithmetic.push(`${computations.length - shown.length} earlier step(s) not shown`);
+    }
+    const list = [...inputs, ...arithmetic];
+    const blocks = [
+      input.ruleText.trim(),
+      ...(list.length === 0 ? [] : [`**Based on:**\n${list.map((line) => `- ${line}`).join('\n')}`]),
+      `**Sources:** ${sourcesLine(input.finding, policy)}`,
+      cautionsParagraph(policy),
+    ];
+    return blocks.join('\n\n');
+  };
+}
+
 /** The card's detail (GitHub-Flavored Markdown). Pure. */
 export function compactDetail(input: CompactDetailInput): string {
-  const clock: CardClock = { now: input.now, timeZone: input.policy.site.timeZone };
-  const inputs = [...new Set(input.basedOn)].flatMap((kind) =>
-    basedOnLines(kind, input.facts, input.assessment, clock).map(escapeMarkdown),
-  );
-  const computations = input.finding.computations;
-  const shown = keyComputations(computations);
-  const arithmetic = shown.map(arithmeticLine);
-  if (computations.length > shown.length) {
-    arithmetic.push(`${computations.length - shown.length} earlier step(s) not shown`);
-  }
-  const list = [...inputs, ...arithmetic];
-  const blocks = [
-    input.ruleText.trim(),
-    ...(list.length === 0 ? [] : [`**Based on:**\n${list.map((line) => `- ${line}`).join('\n')}`]),
-    `**Sources:** ${sourcesLine(input.finding, input.policy)}`,
-    cautionsParagraph(input.policy),
-  ];
-  return blocks.join('\n\n');
+  return prepareCompactDetail(input.facts, input.policy, cardClock(input.now, input.policy.site.timeZone))(input);
 }

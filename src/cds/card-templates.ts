@@ -111,19 +111,34 @@ export function placeholderNames(templateText: string): string[] {
   return [...new Set([...templateText.matchAll(PLACEHOLDER)].map((match) => match[1] ?? ''))];
 }
 
-/** Characters with meaning in GitHub-Flavored Markdown, backslash-escaped in interpolated values. */
-const MARKDOWN_SPECIAL = /[\\`*_[\]<>|#]/g;
+/**
+ * A value needs work only when it holds a GFM special character or a line break; most values (numbers,
+ * ranges, times, words) hold neither and are returned as they are, without a copy.
+ */
+const NEEDS_ESCAPE = /[\\`*_[\]<>|#\r\n]/;
+/**
+ * Folding and escaping in one pass: a line break with the white space around it (group 1) becomes one
+ * space, any other match is a special character and gets a backslash. White space is never special, so
+ * this gives the same text as folding first and escaping after.
+ */
+const ESCAPE_PASS = /(\s*[\r\n]+\s*)|[\\`*_[\]<>|#]/g;
+const LINE_BREAK = /[\r\n]/;
+const FOLD_PASS = /\s*[\r\n]+\s*/g;
+
+function escapeOne(match: string, lineBreak: string | undefined): string {
+  return lineBreak === undefined ? `\\${match}` : ' ';
+}
 
 /**
  * Escapes a value for GFM: the characters `` \ ` * _ [ ] < > | # `` get a backslash, and line
  * breaks fold to one space so a value cannot start a list, heading or table row of its own.
  */
 export function escapeMarkdown(value: string): string {
-  return foldLines(value).replace(MARKDOWN_SPECIAL, (character) => `\\${character}`);
+  return NEEDS_ESCAPE.test(value) ? value.replace(ESCAPE_PASS, escapeOne) : value;
 }
 
 function foldLines(value: string): string {
-  return value.replace(/\s*[\r\n]+\s*/g, ' ');
+  return LINE_BREAK.test(value) ? value.replace(FOLD_PASS, ' ') : value;
 }
 
 export interface Rendered {
@@ -135,25 +150,82 @@ export interface Rendered {
 export const MISSING_VALUE_TEXT = '(not available)';
 
 /**
- * Fills `{{name}}` placeholders. `markdown` escapes each value for GFM (card detail); `plain` leaves
- * values as they are (summaries and button labels are plain text). One pass: a value that itself
- * contains `{{…}}` is not expanded again.
+ * A template text split once into its fixed wording and its placeholders, so that rendering scans no
+ * text: `literals[0]`, the value of `names[0]`, `literals[1]`, …, `literals[names.length]`.
  */
-export function renderTemplate(
-  templateText: string,
+export interface CompiledText {
+  readonly literals: readonly string[];
+  readonly names: readonly string[];
+}
+
+/** Splits a template text at its `{{name}}` placeholders (a capturing split alternates text and names). */
+export function compileText(templateText: string): CompiledText {
+  const pieces = templateText.split(PLACEHOLDER);
+  return {
+    literals: pieces.filter((_piece, index) => index % 2 === 0),
+    names: pieces.filter((_piece, index) => index % 2 === 1),
+  };
+}
+
+/**
+ * Fills a compiled text's placeholders. `markdown` escapes each value for GFM (card detail); `plain`
+ * leaves values as they are (summaries and button labels are plain text) but folds line breaks. A
+ * value that itself contains `{{…}}` is not expanded again.
+ */
+export function renderCompiled(
+  compiled: CompiledText,
   values: Readonly<Record<string, string>>,
   mode: 'markdown' | 'plain' = 'markdown',
 ): Rendered {
   const missing: string[] = [];
-  const text = templateText.replace(PLACEHOLDER, (_match, name: string) => {
+  let text = compiled.literals[0] ?? '';
+  compiled.names.forEach((name, index) => {
     const value = Object.hasOwn(values, name) ? values[name] : undefined;
     if (value === undefined || value.trim() === '') {
       if (!missing.includes(name)) {
         missing.push(name);
       }
-      return MISSING_VALUE_TEXT;
+      text += MISSING_VALUE_TEXT;
+    } else {
+      text += mode === 'markdown' ? escapeMarkdown(value) : foldLines(value);
     }
-    return mode === 'markdown' ? escapeMarkdown(value) : foldLines(value);
+    text += compiled.literals[index + 1] ?? '';
   });
   return { text, missing };
+}
+
+/** Fills `{{name}}` placeholders of a template text; see {@link renderCompiled}. */
+export function renderTemplate(
+  templateText: string,
+  values: Readonly<Record<string, string>>,
+  mode: 'markdown' | 'plain' = 'markdown',
+): Rendered {
+  return renderCompiled(compileText(templateText), values, mode);
+}
+
+/** A card template's texts, compiled. */
+export interface CompiledCardTemplate {
+  readonly summary: CompiledText;
+  readonly detail: CompiledText;
+  readonly suggestionLabel: CompiledText | undefined;
+}
+
+/**
+ * Templates are parsed once and never change, so each is compiled once: at load (load-files.ts) or,
+ * for a template made elsewhere (tests, the CLI), on first use. Held weakly, so a template dropped
+ * by a reload of the card files takes its compiled form with it.
+ */
+const COMPILED = new WeakMap<CardTemplate, CompiledCardTemplate>();
+
+export function compiledCardTemplate(template: CardTemplate): CompiledCardTemplate {
+  let compiled = COMPILED.get(template);
+  if (compiled === undefined) {
+    compiled = {
+      summary: compileText(template.summary),
+      detail: compileText(template.detail),
+      suggestionLabel: template.suggestionLabel === undefined ? undefined : compileText(template.suggestionLabel),
+    };
+    COMPILED.set(template, compiled);
+  }
+  return compiled;
 }

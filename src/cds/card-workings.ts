@@ -4,7 +4,7 @@ import { DEVICE_MODELS } from '../core/devices/index.js';
 import type { Policy } from '../core/policy.js';
 import type { BloodGas, Computation, DeviceKind, Facts, Finding, Measured, OxygenOrder, SetAsideNote } from '../core/types.js';
 import { escapeMarkdown } from './card-templates.js';
-import { formatWhen } from './card-time.js';
+import { cardClock, type CardClock } from './card-time.js';
 
 /**
  * The full workings behind one card, so nothing the advice rests on is lost although the card itself
@@ -19,11 +19,7 @@ export interface DetailSection {
   readonly lines: readonly string[];
 }
 
-/** The clock of one call and the zone its times are shown in (`policy.site.timeZone`). */
-export interface CardClock {
-  readonly now: Date;
-  readonly timeZone: string;
-}
+export type { CardClock };
 
 /** The device registry's plain label, e.g. "Nasal cannula". */
 export function deviceLabel(kind: DeviceKind): string {
@@ -49,7 +45,7 @@ function withReference(line: string, reference: string | undefined): string {
 function measuredLine(label: string, measured: Measured | undefined, clock: CardClock): string | undefined {
   return measured === undefined
     ? undefined
-    : withReference(`${label} ${reportedValue(measured)} ${formatWhen(measured.at, clock.now, clock.timeZone)}`, measured.reference);
+    : withReference(`${label} ${reportedValue(measured)} ${clock.when(measured.at)}`, measured.reference);
 }
 
 /** "Nasal cannula, 3 L/min, target 94–98 %": the order as read, without its reference. */
@@ -80,7 +76,7 @@ export function gasValues(gas: BloodGas): string {
 }
 
 function gasLine(gas: BloodGas, clock: CardClock): string {
-  return `Blood gas (${gas.specimen}) ${formatWhen(gas.at, clock.now, clock.timeZone)}: ${gasValues(gas)}`;
+  return `Blood gas (${gas.specimen}) ${clock.when(gas.at)}: ${gasValues(gas)}`;
 }
 
 function pressureModel(assessment: Assessment, policy: Policy): string {
@@ -221,7 +217,7 @@ export interface WorkingsInput {
  * sources and cautions. Pure.
  */
 export function renderWorkings(input: WorkingsInput): string {
-  const clock: CardClock = { now: input.now, timeZone: input.policy.site.timeZone };
+  const clock = cardClock(input.now, input.policy.site.timeZone);
   return renderSections([
     inputsSection(input.facts, input.assessment, input.policy, clock),
     calculationSection(input.finding.computations, input.policy),
@@ -240,23 +236,28 @@ export function prepareWorkings(
   facts: Facts,
   policy: Policy,
   now: Date,
+  clock: CardClock = cardClock(now, policy.site.timeZone),
 ): (finding: Finding, assessment: Assessment) => string {
-  const clock: CardClock = { now, timeZone: policy.site.timeZone };
-  const inputsByAssessment = new Map<Assessment, DetailSection>();
-  const setAside = setAsideSection(facts.setAside);
-  const cautions = cautionsSection(policy);
+  // The shared sections are kept as rendered text: only the calculation is rendered per card.
+  const inputsByAssessment = new Map<Assessment, string>();
+  // Cards of one rule, and often of several, cite the same keys.
+  const sourcesByKeys = new Map<string, string>();
+  const setAside = renderSections([setAsideSection(facts.setAside)]);
+  const cautions = renderSections([cautionsSection(policy)]);
   return (finding, assessment) => {
     let inputs = inputsByAssessment.get(assessment);
     if (inputs === undefined) {
-      inputs = inputsSection(facts, assessment, policy, clock);
+      inputs = renderSections([inputsSection(facts, assessment, policy, clock)]);
       inputsByAssessment.set(assessment, inputs);
     }
-    return renderSections([
-      inputs,
-      calculationSection(finding.computations, policy),
-      setAside,
-      sourcesSection(findingSourceKeys(finding), policy),
-      cautions,
-    ]);
+    const keys = findingSourceKeys(finding);
+    const joinedKeys = keys.join('\n');
+    let sources = sourcesByKeys.get(joinedKeys);
+    if (sources === undefined) {
+      sources = renderSections([sourcesSection(keys, policy)]);
+      sourcesByKeys.set(joinedKeys, sources);
+    }
+    // renderSections joins sections with a blank line; so do these.
+    return [inputs, renderSections([calculationSection(finding.computations, policy)]), setAside, sources, cautions].join('\n\n');
   };
 }

@@ -1,4 +1,5 @@
 import { evaluateOrder } from '../core/engine.js';
+import type { Assessment } from '../core/assessment/types.js';
 import type { Policy } from '../core/policy.js';
 import type { HookName, OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
@@ -8,7 +9,9 @@ import type { GatheredData } from '../fhir/gathered-data.js';
 import type { AdvisorySeries, StoredIndicator } from '../store/store.js';
 import { advisorySeries } from './advisory-series.js';
 import { buildCardReport } from './build-card.js';
+import { prepareCompactDetail } from './card-detail.js';
 import type { CardTemplates } from './card-templates.js';
+import { cardClock } from './card-time.js';
 import { prepareWorkings } from './card-workings.js';
 import {
   OrderSelectContextSchema,
@@ -130,7 +133,27 @@ export function evaluateHook(
   const problems: string[] = [];
   const workings: CardWorkings[] = [];
   const audit: CardAudit[] = [];
-  const renderWorkings = prepareWorkings(facts, deps.policy, deps.now);
+  // What the cards of this call share is built once: its clock, each assessment's inputs and chart.
+  const clock = cardClock(deps.now, deps.policy.site.timeZone);
+  const renderWorkings = prepareWorkings(facts, deps.policy, deps.now, clock);
+  const renderDetail = prepareCompactDetail(facts, deps.policy, clock);
+  // Several cards may be about one order: the draft bundle is searched once per order reference.
+  const draftByReference = new Map<string, ReturnType<typeof findDraftResource>>();
+  const draftResourceFor = (reference: string): ReturnType<typeof findDraftResource> => {
+    if (!draftByReference.has(reference)) {
+      draftByReference.set(reference, findDraftResource(draftOrders, reference));
+    }
+    return draftByReference.get(reference);
+  };
+  const seriesByAssessment = new Map<Assessment, AdvisorySeries>();
+  const seriesFor = (cardAssessment: Assessment): AdvisorySeries => {
+    let series = seriesByAssessment.get(cardAssessment);
+    if (series === undefined) {
+      series = advisorySeries(facts, cardAssessment, deps.now);
+      seriesByAssessment.set(cardAssessment, series);
+    }
+    return series;
+  };
   const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
     if (template === undefined) {
@@ -139,25 +162,26 @@ export function evaluateHook(
     const key = `${finding.ruleId}\n${finding.orderReference ?? ''}`;
     const occurrence = seen.get(key) ?? 0;
     seen.set(key, occurrence + 1);
+    const cardAssessment = assessmentFor(finding.orderReference);
     const report = buildCardReport(finding, {
       template,
       policy: deps.policy,
       ...(deps.policyContentHash === undefined ? {} : { policyContentHash: deps.policyContentHash }),
       hookInstance: input.request.hookInstance,
       draftResource:
-        finding.orderReference === undefined ? undefined : findDraftResource(draftOrders, finding.orderReference),
+        finding.orderReference === undefined ? undefined : draftResourceFor(finding.orderReference),
       facts,
-      assessment: assessmentFor(finding.orderReference),
+      assessment: cardAssessment,
       now: deps.now,
       occurrence,
       earlierChanges: finding.orderReference === undefined ? [] : (offered.get(finding.orderReference) ?? []),
       orderWord: hook === 'patient-view' ? 'active order' : 'draft order',
+      compactDetail: renderDetail,
     });
     if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
     }
     problems.push(...report.problems);
-    const cardAssessment = assessmentFor(finding.orderReference);
     const markdown = renderWorkings(finding, cardAssessment);
     if (deps.workings === true) {
       workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
@@ -172,7 +196,7 @@ export function evaluateHook(
       detail: report.card.detail ?? '',
       keyNumbers: finding.values,
       workings: markdown,
-      series: advisorySeries(facts, cardAssessment, deps.now),
+      series: seriesFor(cardAssessment),
     });
     return report.card;
   });

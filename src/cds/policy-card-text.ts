@@ -2,6 +2,7 @@ import type { OverrideReasonText, Policy } from '../core/policy.js';
 import { citedGuidelineKey } from '../core/rules/support/cited-guideline.js';
 import { GUIDELINE_TOPICS } from '../policy/card-sections-schema.js';
 import type { CardTemplate } from './card-templates.js';
+import { oncePerPolicyAndKey } from './once-per-policy.js';
 
 /**
  * What a card takes from the policy rather than from its rule: the guideline it cites and the
@@ -25,8 +26,17 @@ function labelOf(policy: Policy, key: string): string {
 /** The reference key a rule's `{{guideline}}` cites: the policy's citation for the rule, else the primary. */
 export { citedGuidelineKey };
 
-/** The values of {@link POLICY_PLACEHOLDERS} for one rule's card (labels; the links are in the card's sources). */
-export function policyCardValues(policy: Policy, ruleId: string): Record<string, string> {
+const valuesOnce = oncePerPolicyAndKey((policy, ruleId) => Object.freeze(buildPolicyCardValues(policy, ruleId)));
+
+/**
+ * The values of {@link POLICY_PLACEHOLDERS} for one rule's card (labels; the links are in the card's
+ * sources). Built once per policy and rule, and frozen, as every card of that rule shows the same.
+ */
+export function policyCardValues(policy: Policy, ruleId: string): Readonly<Record<string, string>> {
+  return valuesOnce(policy, ruleId);
+}
+
+function buildPolicyCardValues(policy: Policy, ruleId: string): Record<string, string> {
   const values: Record<string, string> = {
     guideline: labelOf(policy, citedGuidelineKey(policy, ruleId)),
     guidelines: policy.clinicalBasis.guidelineKeys.map((key) => labelOf(policy, key)).join(', '),

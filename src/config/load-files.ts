@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { readdir, readFile } from 'node:fs/promises';
 import { basename, dirname, join, resolve } from 'node:path';
-import { parseCardTemplate, type CardTemplate, type CardTemplates } from '../cds/card-templates.js';
+import { compiledCardTemplate, parseCardTemplate, type CardTemplate, type CardTemplates } from '../cds/card-templates.js';
 import { missingTemplates } from '../cds/evaluate-hook.js';
 import { checkLocalWording } from '../cds/local-card-wording.js';
 import { offeredOverrideReasons } from '../cds/policy-card-text.js';
@@ -217,6 +217,10 @@ export async function loadPolicyAndCards(paths: FilePaths): Promise<LoadedFiles>
   }
   if (problems.length > 0 || loaded === undefined) {
     return { kind: 'invalid', problems };
+  }
+  // Compiled now rather than on the first hook call that shows each card (card-templates.ts).
+  for (const template of templates.values()) {
+    compiledCardTemplate(template);
   }
   return {
     kind: 'ok',

@@ -1,10 +1,17 @@
+import { readdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
+  compiledCardTemplate,
+  compileText,
   escapeMarkdown,
   MISSING_VALUE_TEXT,
   parseCardTemplate,
   placeholderNames,
+  renderCompiled,
   renderTemplate,
+  type CardTemplate,
 } from '../../src/cds/card-templates.js';
 
 const validYaml = `
@@ -110,5 +117,134 @@ describe('renderTemplate', () => {
 describe('placeholderNames', () => {
   it('lists distinct names in order of first use', () => {
     expect(placeholderNames('{{b}} {{a}} {{ b }}')).toStrictEqual(['b', 'a']);
+  });
+});
+
+// GFM spec, "Backslash escapes" (§2.4, number from memory): these are the characters we escape.
+const SPECIALS = ['\\', '`', '*', '_', '[', ']', '<', '>', '|', '#'];
+
+/**
+ * The renderer as it was before templates were compiled (a regex replace over the template text, fold
+ * then escape per value): the compiled renderer must give the same text and the same missing names.
+ */
+function referenceEscape(value: string): string {
+  return value.replace(/\s*[\r\n]+\s*/g, ' ').replace(/[\\`*_[\]<>|#]/g, (character) => `\\${character}`);
+}
+function referenceRender(
+  templateText: string,
+  values: Readonly<Record<string, string>>,
+  mode: 'markdown' | 'plain',
+): { text: string; missing: string[] } {
+  const missing: string[] = [];
+  const text = templateText.replace(/\{\{\s*([A-Za-z][A-Za-z0-9]*)\s*\}\}/g, (_match, name: string) => {
+    const value = Object.hasOwn(values, name) ? values[name] : undefined;
+    if (value === undefined || value.trim() === '') {
+      if (!missing.includes(name)) {
+        missing.push(name);
+      }
+      return MISSING_VALUE_TEXT;
+    }
+    return mode === 'markdown' ? referenceEscape(value) : value.replace(/\s*[\r\n]+\s*/g, ' ');
+  });
+  return { text, missing };
+}
+
+function bundledTemplates(): [string, CardTemplate][] {
+  const folder = join(import.meta.dirname, '../../cards');
+  return readdirSync(folder)
+    .filter((file) => file.endsWith('.yaml'))
+    .map((file) => {
+      const parsed = parseCardTemplate(readFileSync(join(folder, file), 'utf8'));
+      if (parsed.kind !== 'ok') {
+        throw new Error(`${file} does not parse`);
+      }
+      return [file, parsed.template];
+    });
+}
+
+/** Values that exercise every path: plain, specials, line breaks, blank, a placeholder inside a value. */
+const VALUE_KINDS = ['88–92 %', 'a_b *c* [d] <e> |f| #g `h` \\i', 'line one\n  - line two\r\n# three', '   ', '', '{{other}}'];
+
+describe('compiled card templates', () => {
+  it('render every bundled card text as the former renderer did, for every placeholder and value kind', () => {
+    const templates = bundledTemplates();
+    expect(templates.length).toBeGreaterThan(20);
+    for (const [file, template] of templates) {
+      const compiled = compiledCardTemplate(template);
+      const texts = [
+        [template.summary, compiled.summary],
+        [template.detail, compiled.detail],
+        ...(template.suggestionLabel === undefined || compiled.suggestionLabel === undefined
+          ? []
+          : [[template.suggestionLabel, compiled.suggestionLabel] as const]),
+      ] as const;
+      for (const [text, compiledText] of texts) {
+        const names = placeholderNames(text);
+        VALUE_KINDS.forEach((_kind, shift) => {
+          // Each placeholder gets a different kind of value, and one in three is left out.
+          const values = Object.fromEntries(
+            names.flatMap((name, index) => (index % 3 === shift % 3 ? [] : [[name, VALUE_KINDS[(index + shift) % VALUE_KINDS.length] ?? '']])),
+          );
+          for (const mode of ['markdown', 'plain'] as const) {
+            expect(renderCompiled(compiledText, values, mode), `${file} ${mode}`).toStrictEqual(referenceRender(text, values, mode));
+          }
+        });
+      }
+    }
+  });
+
+  it('compiles each template once and keeps it', () => {
+    const template = bundledTemplates()[0]?.[1];
+    if (template === undefined) {
+      throw new Error('cards/ holds no card file');
+    }
+    expect(compiledCardTemplate(template)).toBe(compiledCardTemplate(template));
+  });
+
+  it('splits a text into its fixed wording and its placeholders, in order', () => {
+    expect(compileText('SpO2 {{spo2}} below {{ range }}.')).toStrictEqual({ literals: ['SpO2 ', ' below ', '.'], names: ['spo2', 'range'] });
+    expect(compileText('no placeholders')).toStrictEqual({ literals: ['no placeholders'], names: [] });
+  });
+
+  it('render any template and values as the former renderer did', () => {
+    const name = fc.constantFrom('a', 'b', 'spo2', 'toString');
+    const piece = fc.oneof(fc.string(), name.map((n) => `{{${n}}}`), name.map((n) => `{{ ${n} }}`));
+    fc.assert(
+      fc.property(fc.array(piece, { maxLength: 8 }), fc.dictionary(name, fc.string()), fc.constantFrom<'markdown' | 'plain'>('markdown', 'plain'), (pieces, values, mode) => {
+        const text = pieces.join('');
+        expect(renderTemplate(text, values, mode)).toStrictEqual(referenceRender(text, values, mode));
+      }),
+    );
+  });
+});
+
+describe('escapeMarkdown invariants', () => {
+  it('escapes every Markdown special character, wherever it stands', () => {
+    for (const special of SPECIALS) {
+      expect(escapeMarkdown(special)).toBe(`\\${special}`);
+      expect(escapeMarkdown(`SpO2 ${special}92`)).toBe(`SpO2 \\${special}92`);
+    }
+  });
+
+  it('returns text without special characters or line breaks unchanged', () => {
+    const ordinary = fc.string({ unit: fc.constantFrom(...'abcXYZ 0189.,:;-–%/()=+~!?@$^&{}"\'\t°'.split('')) });
+    fc.assert(
+      fc.property(ordinary, (text) => {
+        expect(escapeMarkdown(text)).toBe(text);
+      }),
+    );
+  });
+
+  it('leaves no special character unescaped and no line break, and matches folding then escaping', () => {
+    const mixed = fc.string({ unit: fc.constantFrom(...SPECIALS, 'a', ' ', '\t', '\n', '\r', '\u00a0') });
+    fc.assert(
+      fc.property(mixed, (text) => {
+        const escaped = escapeMarkdown(text);
+        expect(escaped).toBe(referenceEscape(text));
+        expect(escaped).not.toMatch(/[\r\n]/);
+        // Once every backslash pair is taken out, nothing special is left.
+        expect(escaped.replace(/\\./g, '')).not.toMatch(/[\\`*_[\]<>|#]/);
+      }),
+    );
   });
 });

@@ -50,6 +50,15 @@ describe('cardUuid', () => {
     expect(suggestionUuid(card, 0)).toMatch(V5);
   });
 
+  it('hashes under our namespace as uuidV5 does, its bytes read once', () => {
+    // Checked with Python's uuid module: uuid.uuid5(UUID(CARD_UUID_NAMESPACE), 'hook-1\nspo2-below-target\nMedicationRequest/o2-1')
+    const expected = '60820cc0-e4a3-54b3-aea5-a37d0b90bb4b';
+    expect(cardUuid('hook-1', 'spo2-below-target', 'MedicationRequest/o2-1')).toBe(expected);
+    expect(uuidV5(CARD_UUID_NAMESPACE, 'hook-1\nspo2-below-target\nMedicationRequest/o2-1')).toBe(expected);
+    // The same namespace written in capitals names the same bytes (RFC 9562 §4, hex is case-insensitive; from memory).
+    expect(uuidV5(CARD_UUID_NAMESPACE.toUpperCase(), 'hook-1\nspo2-below-target\nMedicationRequest/o2-1')).toBe(expected);
+  });
+
   describe('edge cases', () => {
     it('treats occurrence 0 as the plain name', () => {
       expect(cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1', 0)).toBe(cardUuid(hookInstance, 'rule-a', 'ServiceRequest/1'));
