@@ -19,7 +19,6 @@ export type VerifyFailure =
   | 'kid-missing'
   | 'crit-unsupported'
   | 'iss-untrusted'
-  | 'jku-not-allowed'
   | 'kid-unknown'
   | 'jwks-unavailable'
   | 'key-unsuitable'
@@ -100,26 +99,27 @@ type KeyChoice =
   | { readonly kind: 'refused'; readonly reason: VerifyFailure };
 
 /**
- * The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. Keys from
- * the trust file are answered at once, without a promise: most clients list their keys there.
+ * The keys named `kid`: from an allowlisted `jku`, else from the client's configured source. A `jku`
+ * that is not on the client's allowlist is never fetched (fetching it would be server-side request
+ * forgery and trivial key substitution) but does not refuse the token either: EHRs put their own
+ * `jku` in every header, and the token is then checked against the keys the trust file gives for
+ * this client by `kid`, as if the header had no `jku` (docs/security.md, "What is checked on every call", step 5).
+ * Keys from the trust file are answered at once, without a promise: most clients list their keys there.
  */
 function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): KeyChoice | Promise<KeyChoice> {
-  let url: string | undefined;
-  if (jku !== undefined) {
-    const normalised = typeof jku === 'string' ? normalisedUrl(jku) : undefined;
-    if (normalised === undefined || !client.jkuAllowlist.includes(normalised)) {
-      // Never fetched: an arbitrary jku is server-side request forgery and trivial key substitution.
-      return { kind: 'refused', reason: 'jku-not-allowed' };
-    }
-    url = normalised;
-  } else if (client.keySource.kind === 'remote') {
-    url = client.keySource.url;
-  }
+  const allowlistedJku = typeof jku === 'string' ? allowlisted(client, jku) : undefined;
+  const url = allowlistedJku ?? (client.keySource.kind === 'remote' ? client.keySource.url : undefined);
   if (url === undefined) {
     const keys = client.keySource.kind === 'static' ? client.keySource.keys.get(kid) : undefined;
     return keys === undefined ? { kind: 'refused', reason: 'kid-unknown' } : { kind: 'keys', keys };
   }
   return fetchedKeys(url, kid, client.iss, jwks);
+}
+
+/** The `jku` as the allowlist holds it, when the client may name it; else undefined. */
+function allowlisted(client: TrustedClient, jku: string): string | undefined {
+  const normalised = normalisedUrl(jku);
+  return normalised !== undefined && client.jkuAllowlist.includes(normalised) ? normalised : undefined;
 }
 
 async function fetchedKeys(url: string, kid: string, iss: string, jwks: JwksStore): Promise<KeyChoice> {

@@ -128,16 +128,26 @@ describe('authentication attacks on a service call', () => {
     ]);
   });
 
-  it('refuses a jku that is not allowlisted, and never fetches it', async () => {
-    // CDS Hooks 2.0: services SHOULD allowlist jku; fetching any other is SSRF and key substitution
+  it('never fetches a jku that is not allowlisted, and refuses a key published only there', async () => {
+    // CDS Hooks 2.0: services SHOULD allowlist jku; fetching any other is SSRF and key substitution.
+    // The token is checked against the client's configured keys by kid instead.
     const built = await buildProductionApp({ requireHttps: false });
     const jku = `${attackerJwks.origin}${ATTACKER_JKU_PATH}`;
     const token = signToken(attackerKey, serviceClaims(), { jku });
     const response = await callService(built, `Bearer ${token}`);
     expect([response.status, response.body]).toStrictEqual([401, INVALID]);
     expect(attackerJwks.hits).toStrictEqual([]);
-    expect(built.log.lines()[0]?.['authRefused']).toBe('jku-not-allowed');
+    expect(['kid-unknown', 'signature-invalid']).toContain(built.log.lines()[0]?.['authRefused']);
     expectHandlerNotRun(built);
+  });
+
+  it('accepts the client’s own key with a jku that is not allowlisted, without fetching it', async () => {
+    // An EHR may put its own jku in every header; its key in the trust file still verifies the token
+    const built = await buildProductionApp({ requireHttps: false });
+    const jku = `${attackerJwks.origin}${ATTACKER_JKU_PATH}`;
+    const response = await callService(built, `Bearer ${signToken(EHR_ES384, serviceClaims(), { jku })}`);
+    expect(response.status).toBe(200);
+    expect(attackerJwks.hits).toStrictEqual([]);
   });
 
   it('refuses a tenant the client is not listed for', async () => {

@@ -138,8 +138,10 @@ describe('createJwtVerifier', () => {
       ['a crit header', () => signToken(EHR_ES384, claims(SIGN_AUD), { crit: ['exp'] }), 'crit-unsupported'],
       ['an iss not on the list', () => signToken(EHR_ES384, claims(SIGN_AUD, { iss: 'https://ehr.attacker.example' })), 'iss-untrusted'],
       ['no iss', () => signToken(EHR_ES384, claims(SIGN_AUD, { iss: undefined })), 'iss-untrusted'],
-      // CDS Hooks 2.0: only a jku allowlisted for that iss
-      ['a jku not on the allowlist', () => signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' }), 'jku-not-allowed'],
+      // CDS Hooks 2.0: only a jku allowlisted for that iss is fetched; any other is ignored, and the
+      // attacker's key is then checked against this issuer's configured keys by kid
+      ['an attacker’s key behind a jku not on the allowlist', () => signToken(makeKey('ES384', 'attacker-1'), claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' }), 'kid-unknown'],
+      ['an attacker’s key under this issuer’s kid, behind a jku not on the allowlist', () => signToken(THEATRES_ES384, claims(SIGN_AUD), { kid: EHR_ES384.kid, jku: 'https://attacker.example/jwks.json' }), 'signature-invalid'],
       ['an unknown kid', () => signToken(makeKey('ES384', 'lbgh-unknown'), claims(SIGN_AUD)), 'kid-unknown'],
       ['a key of another trusted issuer', () => signToken(THEATRES_ES384, claims(SIGN_AUD)), 'kid-unknown'],
       ['another issuer’s key under this issuer’s kid', () => signToken(THEATRES_ES384, claims(SIGN_AUD), { kid: EHR_ES384.kid }), 'signature-invalid'],
@@ -180,11 +182,26 @@ describe('createJwtVerifier', () => {
   });
 
   describe('edge cases', () => {
-    it('never fetches a jku that is not allowlisted', async () => {
-      const served = fakeFetch({ 'https://attacker.example/jwks.json': { keys: [EHR_ES384.publicJwk] } });
-      const token = signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' });
-      expect(await reasonFor(token, SIGN_AUD, verifier(trust, { fetch: served.fetch }))).toBe('jku-not-allowed');
+    it('never fetches a jku that is not allowlisted, and checks the token against the configured keys by kid', async () => {
+      const attacker = makeKey('ES384', EHR_ES384.kid);
+      const served = fakeFetch({ 'https://attacker.example/jwks.json': { keys: [attacker.publicJwk] } });
+      const check = verifier(trust, { fetch: served.fetch });
+      // the client's own key: accepted, as an EHR that puts its own jku in every header expects
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' }), SIGN_AUD, check)).toBe('verified');
+      // a key published only at the unlisted jku: the configured key of that kid does not verify it
+      expect(await reasonFor(signToken(attacker, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' }), SIGN_AUD, check)).toBe('signature-invalid');
+      // a jku that is not even a URL is ignored the same way
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'not a url' }), SIGN_AUD, check)).toBe('verified');
       expect(served.asked).toStrictEqual([]);
+    });
+
+    it('fetches only the configured key set URL when the jku is not allowlisted', async () => {
+      const keysUrl = 'https://ehr.larkspur-bay.example/keys';
+      const remote = trustOf([ehrClient({ jwks: undefined, jwksUrl: keysUrl })]);
+      const served = fakeFetch({ [keysUrl]: { keys: [EHR_ES384.publicJwk] }, 'https://attacker.example/jwks.json': { keys: [] } });
+      const token = signToken(EHR_ES384, claims(SIGN_AUD), { jku: 'https://attacker.example/jwks.json' });
+      expect(await reasonFor(token, SIGN_AUD, verifier(remote, { fetch: served.fetch }))).toBe('verified');
+      expect(served.asked).toStrictEqual([keysUrl]);
     });
 
     it('takes keys from an allowlisted jku, not from the static set', async () => {
