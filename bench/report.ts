@@ -3,6 +3,10 @@ import type { LoadResult } from './load-test.js';
 import type { AuditMeasurements } from './audit-cases.js';
 import type { AuditMicroResult } from './audit-micro.js';
 import type { MicroResult } from './micro.js';
+import type { BulkMeasurements } from './bulk-cases.js';
+import type { ColdStartResult } from './cold-start.js';
+import type { HttpTargetMeasurements } from './http-targets.js';
+import type { TargetFigure } from './targets.js';
 
 /**
  * Turns one run's measurements into ratios and plain statements. Nothing here is a figure of its
@@ -73,6 +77,17 @@ export interface RunReport {
   readonly profiledExample: string | undefined;
   /** The audit trail's cost (bench/audit-cases.ts, bench/audit-micro.ts); absent from older runs. */
   readonly audit?: AuditReport;
+  /** Issue 9's targets and what they were computed from; absent from older runs. */
+  readonly targets?: TargetsReport;
+}
+
+export interface TargetsReport {
+  readonly figures: readonly TargetFigure[];
+  readonly http?: Omit<HttpTargetMeasurements, 'problems'>;
+  /** The pure pipeline on the 70 KB request (also a row of `micro`). */
+  readonly largeMicroName?: string;
+  readonly bulk?: BulkMeasurements;
+  readonly coldStart?: ColdStartResult;
 }
 
 export interface AuditReport {
