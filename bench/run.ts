@@ -222,14 +222,14 @@ async function runBench(options: BenchOptions): Promise<number> {
     }
     return 1;
   }
-  if (options.writeDoc) {
-    writeFileSync(join(ROOT, 'docs', 'performance.md'), renderPerformanceDoc(report, loadBeforeFigures(join(ROOT, BEFORE_FILE))));
-    progress('wrote docs/performance.md');
-  }
   if (options.writeBefore) {
     const note = `the code before issue 9's speed work, measured by \`npm run bench -- --write-before\` on a shared 2-core machine (load average ${machine.loadAverage.map((v) => v.toFixed(2)).join(' / ')} at the start)`;
     writeFileSync(join(ROOT, BEFORE_FILE), beforeFileText(figures, machine.commit, machine.date, note));
     progress(`wrote ${BEFORE_FILE}`);
+  }
+  if (options.writeDoc) {
+    writeFileSync(join(ROOT, 'docs', 'performance.md'), renderPerformanceDoc(report, loadBeforeFigures(join(ROOT, BEFORE_FILE))));
+    progress('wrote docs/performance.md');
   }
   return 0;
 }
