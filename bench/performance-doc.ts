@@ -124,7 +124,7 @@ Do not edit the numbers by hand: run the bench again.
 - Service: ${s.runner === 'dist' ? `built with tsc and run as \`node dist/server.js\` (build took ${(s.buildS ?? 0).toFixed(0)} s)` : 'run from source with `node --import tsx src/server.ts`'}, demo mode, \`LOG_LEVEL=warn\`, default limits
 - Load: autocannon, ${s.connections} connections, ${s.warmupS} s warm-up (discarded) then ${s.durationS} s measured, per case, after a throwaway load on each process
 - Micro-benchmark: ${s.microIterations} timed iterations per loop per example
-
+${s.elapsedS === undefined ? '' : `- The whole run took ${Math.round(s.elapsedS / 60)} min (${Math.round(s.elapsedS)} s), build included\n`}
 ### HTTP load
 
 ${loadTable(report)}

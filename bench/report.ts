@@ -65,6 +65,8 @@ export interface RunReport {
     readonly warmupS: number;
     readonly buildS: number | undefined;
     readonly microIterations: number;
+    /** Wall time of the whole run up to its report, seconds; absent from older runs. */
+    readonly elapsedS?: number;
   };
   readonly rows: readonly LoadRow[];
   readonly baseline: BaselineSummary;

@@ -66,6 +66,7 @@ function describeMachine(): Machine {
 }
 
 async function runBench(options: BenchOptions): Promise<number> {
+  const runStart = performance.now();
   const machine = describeMachine();
   const examples = selectExamples(ROOT, new Date(), options.allExamples);
   const scratch = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-scratch-'));
@@ -165,6 +166,7 @@ async function runBench(options: BenchOptions): Promise<number> {
       warmupS: options.warmupS,
       buildS,
       microIterations: options.microIterations,
+      elapsedS: (performance.now() - runStart) / 1000,
     },
     rows: http.rows,
     baseline: http.baseline,

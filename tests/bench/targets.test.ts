@@ -4,6 +4,8 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import type { LoadResult } from '../../bench/load-test.js';
 import type { MicroResult, Timing } from '../../bench/micro.js';
+import { renderPerformanceDoc } from '../../bench/performance-doc.js';
+import type { RunReport } from '../../bench/report.js';
 import { BEFORE_FILE, beforeFileText, parseBeforeFigures, renderTargetsSection, targetsTable } from '../../bench/targets-doc.js';
 import {
   TARGETS,
@@ -156,6 +158,44 @@ describe('printing', () => {
     expect(parseBeforeFigures('{"commit":"abc","figures":[]}')).toBeUndefined();
     expect(parseBeforeFigures('{"commit":"abc","date":"d","figures":[{"id":"x"}]}')).toBeUndefined();
     expect(renderTargetsSection(undefined, undefined)).toContain(`No before figures were found (\`${BEFORE_FILE}\`)`);
+  });
+});
+
+describe('docs/performance.md', () => {
+  it('opens with the targets, before and after side by side, ahead of the latest run’s tables', () => {
+    const report: RunReport = {
+      machine: {
+        date: '2026-12-05T00:30:00.000Z',
+        node: 'v20.0.0',
+        cpus: 2,
+        cpuModel: 'invented CPU',
+        loadAverage: [1, 1, 1],
+        loadAverageEnd: [1, 1, 1],
+        platform: 'linux',
+        commit: 'def5678',
+        uncommitted: [],
+      },
+      settings: { runner: 'dist', connections: 10, durationS: 8, warmupS: 2, buildS: 30, microIterations: 2000, elapsedS: 754 },
+      rows: [],
+      baseline: { first: load(4000, 5), last: load(4000, 5), meanReqPerSec: 4000, driftPercent: 0 },
+      echo: undefined,
+      logLinesDuringLoad: 0,
+      micro: [micro('sign-a', 10, 25)],
+      serviceProfile: undefined,
+      microProfile: undefined,
+      profiledExample: undefined,
+      targets: { figures: [{ id: 'engine-examples', value: 2.5, basis: 'median of 1 example' }] },
+    };
+    const before = parseBeforeFigures(
+      beforeFileText([{ id: 'engine-examples', value: 47, basis: 'x' }], 'abc1234', '2026-12-04T23:40:00.000Z', 'invented'),
+    );
+    const page = renderPerformanceDoc(report, before);
+    const targets = page.indexOf('## Issue 9 targets');
+    expect(targets).toBeGreaterThan(0);
+    expect(page.indexOf('## Latest run')).toBeGreaterThan(targets);
+    expect(page).toContain('| evaluateHook × JSON.parse, median over the examples | ≤ 3.00 × | 47.0 × FAIL | 2.50 × | **PASS** |');
+    // 754 s of wall time is 13 min.
+    expect(page).toContain('- The whole run took 13 min (754 s), build included');
   });
 });
 
