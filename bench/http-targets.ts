@@ -62,8 +62,12 @@ export async function sendSigned(baseUrl: string, call: SignedCall): Promise<{ s
   return { status: response.status, text: await response.text() };
 }
 
-/** A maker over calls signed ahead: `cycle` for the baseline (it keeps no replay cache), once for the service. */
-export function callFeed(calls: readonly SignedCall[], cycle: boolean) {
+/**
+ * A maker over calls signed ahead: `cycle` for the baseline (it keeps no replay cache), once for the
+ * service. `reserve` calls are held back from each run's bound, for requests autocannon has in flight
+ * when it reaches it, so no token is ever sent twice.
+ */
+export function callFeed(calls: readonly SignedCall[], cycle: boolean, reserve = 0) {
   let next = 0;
   return {
     makeRequest: () => {
@@ -71,7 +75,7 @@ export function callFeed(calls: readonly SignedCall[], cycle: boolean) {
       next += 1;
       return { path: call.path, body: call.body, headers: { authorization: call.authorization, 'x-bench-case': call.caseName } };
     },
-    maxRequests: () => (cycle ? Number.MAX_SAFE_INTEGER : Math.max(0, calls.length - next)),
+    maxRequests: () => (cycle ? Number.MAX_SAFE_INTEGER : Math.max(1, calls.length - next - reserve)),
     used: () => next,
   };
 }
@@ -126,7 +130,7 @@ export async function measureHttpTargets(ctx: HttpTargetContext): Promise<HttpTa
       label,
       url,
       method: 'POST',
-      ...callFeed(calls, cycle),
+      ...callFeed(calls, cycle, options.connections),
       ...(overallRate === undefined ? {} : { overallRate }),
       connections: options.connections,
       durationS: options.durationS,

@@ -44,6 +44,8 @@ export interface LoadResult {
   readonly non2xx: number;
   readonly errors: number;
   readonly timeouts: number;
+  /** Answers by status code, when any was not 2xx (to say which in a problem). */
+  readonly statusCodes?: Readonly<Record<string, number>>;
 }
 
 /** Far above what one node process on a small machine can answer in a run; a bound, not a target. */
@@ -123,6 +125,9 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
     non2xx: result.non2xx,
     errors: result.errors,
     timeouts: result.timeouts,
+    ...(result.non2xx > 0
+      ? { statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, stat]) => [code, stat.count ?? 0])) }
+      : {}),
   };
 }
 
@@ -130,7 +135,10 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
 export function loadProblems(result: LoadResult): string[] {
   const problems: string[] = [];
   if (result.non2xx > 0) {
-    problems.push(`${result.label}: ${result.non2xx} non-2xx answers`);
+    const codes = Object.entries(result.statusCodes ?? {})
+      .map(([code, count]) => `${count} × ${code}`)
+      .join(', ');
+    problems.push(`${result.label}: ${result.non2xx} non-2xx answers${codes === '' ? '' : ` (${codes})`}`);
   }
   if (result.errors > 0 || result.timeouts > 0) {
     problems.push(`${result.label}: ${result.errors} errors, ${result.timeouts} timeouts`);

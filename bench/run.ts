@@ -219,6 +219,10 @@ async function runBench(options: BenchOptions): Promise<number> {
 
   if (problems.length > 0) {
     progress(`the run is not usable:\n  ${problems.join('\n  ')}`);
+    // Kept for finding out what went wrong; never read back into the doc.
+    const kept = join(tmpdir(), `oxygen-order-checker-bench-unusable-${machine.date.replace(/[:.]/g, '-')}.json`);
+    writeFileSync(kept, `${JSON.stringify(report, null, 2)}\n`);
+    progress(`this run's measurements are in ${kept}`);
     if (options.writeDoc) {
       progress('docs/performance.md was not rewritten');
     }
