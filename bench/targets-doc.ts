@@ -1,6 +1,6 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { markdownTable, whole, type TargetsReport } from './report.js';
-import { TARGETS, formatLimit, formatValue, judge, judgeAll, type BeforeFigures, type TargetFigure } from './targets.js';
+import { TARGETS, answeredPerSecond, formatLimit, formatValue, judge, judgeAll, type BeforeFigures, type TargetFigure } from './targets.js';
 
 /**
  * The issue-9 section of docs/performance.md: every target with its limit, the "before" figure kept
@@ -47,13 +47,14 @@ function httpTable(targets: TargetsReport): string {
     return 'Not measured in this run.';
   }
   return markdownTable(
-    ['case', 'request B (mean)', 'service req/s', 'baseline req/s', 'service × baseline', 'p50 ms service / baseline', 'p99 ms service / baseline'],
+    ['case', 'request B (mean)', 'service 2xx/s', 'baseline 2xx/s', 'service × baseline', 'service not 2xx', 'p50 ms service / baseline', 'p99 ms service / baseline'],
     [http.mix, http.large, http.halfRatePair].map((pair) => [
       pair.label,
       whole(pair.requestBytes),
-      whole(pair.service.reqPerSec),
-      whole(pair.baseline.reqPerSec),
-      `${(pair.service.reqPerSec / pair.baseline.reqPerSec).toFixed(2)} ×`,
+      whole(answeredPerSecond(pair.service)),
+      whole(answeredPerSecond(pair.baseline)),
+      `${(answeredPerSecond(pair.service) / answeredPerSecond(pair.baseline)).toFixed(2)} ×`,
+      whole(pair.service.non2xx),
       `${pair.service.latencyMs.p50} / ${pair.baseline.latencyMs.p50}`,
       `${pair.service.latencyMs.p99} / ${pair.baseline.latencyMs.p99}`,
     ]),
@@ -120,7 +121,9 @@ ${targetsTable(targets, before)}
   cache, so it is sent the same tokens in turn. The examples mix sends every chosen example in turn; the
   70 KB request is \`bench/large-request.ts\`: an invented Larkspur Bay patient's order-sign call with
   200 SpO2, respiratory-rate and blood gas observations. Loads take turns (service first, then baseline
-  first). The bench raises the replay cache's per-client share so a whole run's tokens fit.
+  first). The bench raises the replay cache's per-client share so a whole run's tokens fit. Throughput
+  counts calls answered 2xx; a call the service refuses (503 when overloaded or its store is slow) is
+  no throughput, and any refusal fails the target it happened in, with the count beside it.
 - **Latency at half saturation.** The service's saturating rate is its throughput on the mix above;
   half of it is then sent to each process at an even pace (autocannon \`overallRate\`), and the p99s
   compared. autocannon records whole milliseconds; a p99 under 1 ms counts as 1 ms.

@@ -46,6 +46,8 @@ export interface TargetFigure {
   readonly value: number;
   /** How the value was made, in a few words (what over what). */
   readonly basis: string;
+  /** Set when the figure cannot pass whatever its value, e.g. the service refused calls under load. */
+  readonly failedBecause?: string;
 }
 
 export interface JudgedTarget extends TargetSpec {
@@ -65,7 +67,9 @@ export function judge(spec: TargetSpec, value: number | undefined): JudgedTarget
 export function judgeAll(figures: readonly TargetFigure[]): JudgedTarget[] {
   return TARGETS.map((spec) => {
     const figure = figures.find((f) => f.id === spec.id);
-    return { ...spec, value: figure?.value, basis: figure?.basis ?? '', verdict: judge(spec, figure?.value) };
+    const verdict = judge(spec, figure?.value);
+    const basis = [figure?.basis ?? '', figure?.failedBecause ?? ''].filter((part) => part !== '').join('; ');
+    return { ...spec, value: figure?.value, basis, verdict: figure?.failedBecause !== undefined && verdict === 'PASS' ? 'FAIL' : verdict };
   });
 }
 
@@ -81,17 +85,41 @@ export function median(values: readonly number[]): number {
 /** autocannon reports latency in whole milliseconds; a p99 under 1 ms is counted as 1 ms. */
 const MIN_P99_MS = 1;
 
+/** Calls answered 2xx a second: a quick refusal (503) must not count as throughput. */
+export function answeredPerSecond(result: HttpTargetMeasurements['mix']['service']): number {
+  return result.durationS > 0 ? result.completed / result.durationS : 0;
+}
+
+/** "3 of 240 calls refused (3 × 503)" when the service answered any call with other than 2xx. */
+export function refusedCalls(result: HttpTargetMeasurements['mix']['service']): string | undefined {
+  if (result.non2xx === 0) {
+    return undefined;
+  }
+  const codes = Object.entries(result.statusCodes ?? {})
+    .filter(([code]) => !code.startsWith('2'))
+    .map(([code, count]) => `${count} × ${code}`)
+    .join(', ');
+  return `the service answered ${result.non2xx} of ${result.completed + result.non2xx} calls with other than 2xx${codes === '' ? '' : ` (${codes})`}`;
+}
+
 export function httpFigures(http: HttpTargetMeasurements): TargetFigure[] {
-  const rps = (pair: HttpTargetMeasurements['mix']): number => pair.service.reqPerSec / pair.baseline.reqPerSec;
+  const rps = (pair: HttpTargetMeasurements['mix']): number => answeredPerSecond(pair.service) / answeredPerSecond(pair.baseline);
   const p99 = (ms: number): number => Math.max(ms, MIN_P99_MS);
   const half = http.halfRatePair;
+  const refused = (pair: HttpTargetMeasurements['mix']): { failedBecause?: string } => {
+    const why = refusedCalls(pair.service);
+    return why === undefined ? {} : { failedBecause: why };
+  };
+  const basis = (pair: HttpTargetMeasurements['mix']): string =>
+    `${Math.round(answeredPerSecond(pair.service))} / ${Math.round(answeredPerSecond(pair.baseline))} calls answered 2xx a second`;
   return [
-    { id: 'http-mix-throughput', value: rps(http.mix), basis: `${Math.round(http.mix.service.reqPerSec)} / ${Math.round(http.mix.baseline.reqPerSec)} req/s` },
-    { id: 'http-large-throughput', value: rps(http.large), basis: `${Math.round(http.large.service.reqPerSec)} / ${Math.round(http.large.baseline.reqPerSec)} req/s` },
+    { id: 'http-mix-throughput', value: rps(http.mix), basis: basis(http.mix), ...refused(http.mix) },
+    { id: 'http-large-throughput', value: rps(http.large), basis: basis(http.large), ...refused(http.large) },
     {
       id: 'http-half-rate-p99',
       value: p99(half.service.latencyMs.p99) / p99(half.baseline.latencyMs.p99),
       basis: `${half.service.latencyMs.p99} / ${half.baseline.latencyMs.p99} ms at ${http.halfRate} req/s`,
+      ...refused(half),
     },
   ];
 }

@@ -107,6 +107,29 @@ describe('figures from measurements', () => {
     expect(judgeAll(figures).filter((t) => t.verdict === 'PASS').map((t) => t.id)).toEqual(['http-large-throughput']);
   });
 
+  it('count only calls answered 2xx as throughput, and fail a target in which the service refused calls', () => {
+    const pair = (service: LoadResult, baseline: LoadResult) => ({ label: 'x', requestBytes: 1, service, baseline });
+    // 800 calls in 8 s, 200 of them refused with 503: 75 answered a second, not 100.
+    const refusing: LoadResult = { ...load(100, 20), completed: 600, non2xx: 200, statusCodes: { '200': 600, '503': 200 } };
+    const judged = judgeAll(
+      httpFigures({
+        mix: pair(refusing, load(80, 20)),
+        large: pair(load(90, 20), load(100, 20)),
+        halfRate: 50,
+        halfRatePair: pair({ ...load(50, 20), non2xx: 3, statusCodes: { '503': 3 } }, load(50, 20)),
+        mixExamples: ['a'],
+        problems: [],
+      }),
+    );
+    const mix = judged.find((t) => t.id === 'http-mix-throughput');
+    expect(mix?.value).toBeCloseTo(75 / 80, 10);
+    expect(mix?.verdict).toBe('FAIL');
+    expect(mix?.basis).toContain('the service answered 200 of 800 calls with other than 2xx (200 × 503)');
+    expect(judged.find((t) => t.id === 'http-large-throughput')?.verdict).toBe('PASS');
+    // p99 20 / 20 ms is within 1.5 ×, but refused calls have no latency to count: FAIL.
+    expect(judged.find((t) => t.id === 'http-half-rate-p99')?.verdict).toBe('FAIL');
+  });
+
   it('take the median of the examples’ evaluateHook / JSON.parse ratios, and the large request on its own', () => {
     const figures = engineFigures([micro('a', 10, 20), micro('b', 10, 500), micro('c', 20, 50)], micro('large', 100, 250));
     // Ratios 2, 50 and 2.5: the median is 2.5, so one slow example does not decide.
