@@ -103,7 +103,7 @@ export function renderTargetsSection(targets: TargetsReport | undefined, before:
   const beforeText =
     before === undefined
       ? `No before figures were found (\`${BEFORE_FILE}\`).`
-      : `"Before" is one full run on commit ${before.commit} (${before.date}), kept in \`${BEFORE_FILE}\`${before.note === '' ? '' : `: ${before.note}`}`;
+      : `"Before" is one full run on commit ${before.commit} (${before.date}), kept in \`${BEFORE_FILE}\`${before.note === '' ? '' : `: ${before.note}`}.`;
   return `## Issue 9 targets
 
 Each target is a ratio measured side by side in one run (or, for cold start, a time), so a busy
