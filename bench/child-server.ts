@@ -1,5 +1,6 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { once } from 'node:events';
+import { createServer } from 'node:net';
 import { createInterface } from 'node:readline';
 import { setTimeout as sleep } from 'node:timers/promises';
 
@@ -28,6 +29,11 @@ export interface ChildServerSpec {
   readonly env: Readonly<Record<string, string | undefined>>;
   readonly cwd: string;
   readonly startTimeoutMs: number;
+  /**
+   * Where it will listen, when the bench chose the port itself: for a server that prints no listening
+   * line at the log level it runs at (the service in production mode logs it at `info`).
+   */
+  readonly knownUrl?: string;
 }
 
 const LOOPBACK = new Set(['127.0.0.1', '[::1]', 'localhost']);
@@ -64,6 +70,18 @@ function listeningUrl(line: string): string | undefined {
   } catch {
     return undefined;
   }
+}
+
+/** A loopback port free at the moment of asking, for a server the bench tells where to listen. */
+export async function freePort(): Promise<number> {
+  const server = createServer();
+  server.listen(0, '127.0.0.1');
+  await once(server, 'listening');
+  const address = server.address();
+  const port = typeof address === 'object' && address !== null ? address.port : 0;
+  server.close();
+  await once(server, 'close');
+  return port;
 }
 
 /** GET `url` until it answers 200, at most `tries` times. */
@@ -121,6 +139,11 @@ export async function startChildServer(spec: ChildServerSpec): Promise<ChildServ
       () => reject(new Error(`${spec.name} printed no listening line within ${spec.startTimeoutMs} ms`)),
       spec.startTimeoutMs,
     );
+    if (spec.knownUrl !== undefined) {
+      started = true;
+      clearTimeout(timer);
+      resolve(spec.knownUrl);
+    }
     // Read stdout for as long as the child runs: a full pipe would stall the server.
     createInterface({ input: child.stdout }).on('line', (line) => {
       remember(line);

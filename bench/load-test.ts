@@ -16,6 +16,15 @@ export interface LoadSpec {
    * Built in the bench's own process, so keep it cheap; `body` is still sent by the check calls.
    */
   readonly makeBody?: () => string;
+  /**
+   * A whole request for every call (path, body, headers), for calls that each need their own signed
+   * token; it wins over `body` and `makeBody`. `maxRequests` then bounds each run to what is left of
+   * the calls made ahead, so a run never sends a token twice.
+   */
+  readonly makeRequest?: () => { readonly path: string; readonly body: string; readonly headers: Readonly<Record<string, string>> };
+  readonly maxRequests?: () => number;
+  /** Requests per second over all connections, sent at an even pace (autocannon `overallRate`). */
+  readonly overallRate?: number;
   readonly connections: number;
   readonly durationS: number;
   readonly warmupS: number;
@@ -35,6 +44,8 @@ export interface LoadResult {
   readonly non2xx: number;
   readonly errors: number;
   readonly timeouts: number;
+  /** Answers by status code, when any was not 2xx (to say which in a problem). */
+  readonly statusCodes?: Readonly<Record<string, number>>;
 }
 
 /** Far above what one node process on a small machine can answer in a run; a bound, not a target. */
@@ -49,7 +60,8 @@ function fire(spec: LoadSpec, durationS: number): Promise<autocannon.Result> {
       method: spec.method,
       connections: spec.connections,
       duration: durationS,
-      maxOverallRequests: MAX_REQUESTS_PER_RUN,
+      maxOverallRequests: Math.max(1, Math.min(MAX_REQUESTS_PER_RUN, spec.maxRequests?.() ?? MAX_REQUESTS_PER_RUN)),
+      ...(spec.overallRate === undefined ? {} : { overallRate: spec.overallRate }),
       timeout: 10,
       ...(spec.body === undefined
         ? {}
@@ -59,6 +71,20 @@ function fire(spec: LoadSpec, durationS: number): Promise<autocannon.Result> {
         : {
             headers: { 'content-type': 'application/json' },
             requests: [{ setupRequest: (request: autocannon.Request) => ({ ...request, body: makeBody() }) }],
+          }),
+      ...(spec.makeRequest === undefined
+        ? {}
+        : {
+            requests: [
+              {
+                setupRequest: (request: autocannon.Request) => {
+                  const made = spec.makeRequest?.();
+                  return made === undefined
+                    ? request
+                    : { ...request, method: 'POST', path: made.path, body: made.body, headers: { 'content-type': 'application/json', ...made.headers } };
+                },
+              },
+            ],
           }),
     };
     const instance = autocannon(options, (error, result) => {
@@ -99,6 +125,9 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
     non2xx: result.non2xx,
     errors: result.errors,
     timeouts: result.timeouts,
+    ...(result.non2xx > 0
+      ? { statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, stat]) => [code, stat.count ?? 0])) }
+      : {}),
   };
 }
 
@@ -106,7 +135,10 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
 export function loadProblems(result: LoadResult): string[] {
   const problems: string[] = [];
   if (result.non2xx > 0) {
-    problems.push(`${result.label}: ${result.non2xx} non-2xx answers`);
+    const codes = Object.entries(result.statusCodes ?? {})
+      .map(([code, count]) => `${count} × ${code}`)
+      .join(', ');
+    problems.push(`${result.label}: ${result.non2xx} non-2xx answers${codes === '' ? '' : ` (${codes})`}`);
   }
   if (result.errors > 0 || result.timeouts > 0) {
     problems.push(`${result.label}: ${result.errors} errors, ${result.timeouts} timeouts`);

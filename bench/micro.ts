@@ -13,8 +13,9 @@ import type { HookExample } from './cases.js';
 
 /**
  * The pure pipeline in-process, without HTTP: `evaluateHook` over data gathered from the prefetch,
- * timed against `JSON.parse` + `JSON.stringify` of the same request text in the same process and run.
- * The three loops take turns in rounds, so a slow spell on a shared machine falls on all of them.
+ * timed against `JSON.parse` of the same request text (issue 9's yardstick) and `JSON.parse` +
+ * `JSON.stringify` of it (the older one) in the same process and run. The four loops take turns in
+ * rounds, so a slow spell on a shared machine falls on all of them.
  */
 
 export interface LoadedFiles {
@@ -90,6 +91,12 @@ export function jsonRoundTrip(text: string): number {
   return JSON.stringify(JSON.parse(text)).length;
 }
 
+/** The issue-9 yardstick: `JSON.parse` of the request text alone. */
+export function jsonParseOnly(text: string): number {
+  const parsed = JSON.parse(text) as Record<string, unknown>;
+  return typeof parsed === 'object' && parsed !== null ? 1 : 0;
+}
+
 export interface Timing {
   readonly iterations: number;
   readonly meanUs: number;
@@ -125,7 +132,10 @@ export interface MicroResult {
   readonly name: string;
   readonly requestBytes: number;
   readonly cards: number;
+  /** `JSON.parse` + `JSON.stringify` of the request text. */
   readonly baseline: Timing;
+  /** `JSON.parse` of the request text alone; absent from runs before issue 9. */
+  readonly parseOnly?: Timing;
   readonly evaluate: Timing;
   readonly wholePath: Timing;
 }
@@ -139,10 +149,11 @@ export async function runMicro(
   const prepared = await prepareCase(example);
   let sink = 0;
   for (let i = 0; i < settings.warmupIterations; i += 1) {
-    sink += jsonRoundTrip(example.body) + evaluatePrepared(prepared, files, now);
+    sink += jsonRoundTrip(example.body) + jsonParseOnly(example.body) + evaluatePrepared(prepared, files, now);
     sink += await runWholePath(example, files, now);
   }
   const baseline = new Samples();
+  const parseOnly = new Samples();
   const evaluate = new Samples();
   const wholePath = new Samples();
   const perRound = Math.max(1, Math.ceil(settings.iterations / settings.rounds));
@@ -151,6 +162,11 @@ export async function runMicro(
       const start = performance.now();
       sink += jsonRoundTrip(example.body);
       baseline.add(performance.now() - start);
+    }
+    for (let i = 0; i < perRound && parseOnly.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += jsonParseOnly(example.body);
+      parseOnly.add(performance.now() - start);
     }
     for (let i = 0; i < perRound && evaluate.elapsedMs < settings.maxMsPerLoop; i += 1) {
       const start = performance.now();
@@ -171,6 +187,7 @@ export async function runMicro(
     requestBytes: example.requestBytes,
     cards: evaluatePrepared(prepared, files, now),
     baseline: baseline.timing(),
+    parseOnly: parseOnly.timing(),
     evaluate: evaluate.timing(),
     wholePath: wholePath.timing(),
   };

@@ -4,6 +4,8 @@ import type { ServiceRunner } from './service-process.js';
 
 export interface BenchOptions {
   readonly writeDoc: boolean;
+  /** Keep this run's issue-9 figures as the "before" column (bench/before-issue-9.json). */
+  readonly writeBefore: boolean;
   readonly runner: ServiceRunner;
   readonly allExamples: boolean;
   readonly profile: boolean;
@@ -14,10 +16,17 @@ export interface BenchOptions {
   readonly profileS: number;
   /** Seconds of throwaway load on each process before the first measurement (JIT, caches). */
   readonly primeS: number;
+  /** Orders in the smaller bulk export (the larger has LARGE_FACTOR times as many). */
+  readonly bulkOrders: number;
+  /** Rounds of read-and-parse against simulate at the smaller size. */
+  readonly bulkRounds: number;
+  /** Fresh starts of the service per cold-start figure. */
+  readonly coldStarts: number;
 }
 
 export const BENCH_USAGE = `Usage: npm run bench [-- OPTIONS]
   --write-doc        rewrite docs/performance.md from this run
+  --write-before     keep this run's issue-9 target figures in bench/before-issue-9.json
   --quick            short runs to check the bench works (figures not for the doc)
   --runner dist|tsx  dist (default): build as npm start does; tsx: run src/server.ts through tsx
   --all-examples     load every order-sign example, not only the chosen few
@@ -46,6 +55,7 @@ export function parseBenchOptions(args: readonly string[]): BenchOptions | undef
     allowPositionals: false,
     options: {
       'write-doc': { type: 'boolean', default: false },
+      'write-before': { type: 'boolean', default: false },
       quick: { type: 'boolean', default: false },
       runner: { type: 'string' },
       'all-examples': { type: 'boolean', default: false },
@@ -68,8 +78,12 @@ export function parseBenchOptions(args: readonly string[]): BenchOptions | undef
   if (quick && values['write-doc'] === true) {
     throw new Error('--quick figures are too short for docs/performance.md; drop one of the two');
   }
+  if (quick && values['write-before'] === true) {
+    throw new Error('--quick figures are too short to keep as before figures; drop one of the two');
+  }
   return {
     writeDoc: values['write-doc'] === true,
+    writeBefore: values['write-before'] === true,
     runner,
     allExamples: values['all-examples'] === true,
     profile: values['no-profile'] !== true,
@@ -80,5 +94,8 @@ export function parseBenchOptions(args: readonly string[]): BenchOptions | undef
     microIterations: wholeNumber(values.iterations, quick ? 200 : 2000, 10, 100_000, 'iterations'),
     profileS: quick ? 2 : 5,
     primeS: quick ? 1 : 3,
+    bulkOrders: quick ? 20 : 300,
+    bulkRounds: quick ? 1 : 2,
+    coldStarts: quick ? 1 : 3,
   };
 }

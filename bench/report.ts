@@ -3,6 +3,10 @@ import type { LoadResult } from './load-test.js';
 import type { AuditMeasurements } from './audit-cases.js';
 import type { AuditMicroResult } from './audit-micro.js';
 import type { MicroResult } from './micro.js';
+import type { BulkMeasurements } from './bulk-cases.js';
+import type { ColdStartResult } from './cold-start.js';
+import type { HttpTargetMeasurements } from './http-targets.js';
+import type { TargetFigure } from './targets.js';
 
 /**
  * Turns one run's measurements into ratios and plain statements. Nothing here is a figure of its
@@ -61,6 +65,8 @@ export interface RunReport {
     readonly warmupS: number;
     readonly buildS: number | undefined;
     readonly microIterations: number;
+    /** Wall time of the whole run up to its report, seconds; absent from older runs. */
+    readonly elapsedS?: number;
   };
   readonly rows: readonly LoadRow[];
   readonly baseline: BaselineSummary;
@@ -73,6 +79,17 @@ export interface RunReport {
   readonly profiledExample: string | undefined;
   /** The audit trail's cost (bench/audit-cases.ts, bench/audit-micro.ts); absent from older runs. */
   readonly audit?: AuditReport;
+  /** Issue 9's targets and what they were computed from; absent from older runs. */
+  readonly targets?: TargetsReport;
+}
+
+export interface TargetsReport {
+  readonly figures: readonly TargetFigure[];
+  readonly http?: Omit<HttpTargetMeasurements, 'problems'>;
+  /** The pure pipeline on the 70 KB request (also a row of `micro`). */
+  readonly largeMicroName?: string;
+  readonly bulk?: BulkMeasurements;
+  readonly coldStart?: ColdStartResult;
 }
 
 export interface AuditReport {
@@ -143,6 +160,8 @@ export function microTable(micro: readonly MicroResult[]): string {
       'JSON parse+stringify µs median (baseline)',
       'evaluateHook µs median / p99',
       '× baseline',
+      'JSON.parse µs median',
+      'evaluateHook × JSON.parse',
       'whole pure path µs median / p99',
       '× baseline',
     ],
@@ -153,6 +172,8 @@ export function microTable(micro: readonly MicroResult[]): string {
       micros(m.baseline.p50Us),
       `${micros(m.evaluate.p50Us)} / ${micros(m.evaluate.p99Us)}`,
       ratio(m.evaluate.p50Us / m.baseline.p50Us),
+      m.parseOnly === undefined ? 'not measured' : micros(m.parseOnly.p50Us),
+      m.parseOnly === undefined ? '' : ratio(m.evaluate.p50Us / m.parseOnly.p50Us),
       `${micros(m.wholePath.p50Us)} / ${micros(m.wholePath.p99Us)}`,
       ratio(m.wholePath.p50Us / m.baseline.p50Us),
     ]),

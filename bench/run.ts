@@ -7,15 +7,22 @@ import { fileURLToPath } from 'node:url';
 import { measureAudit } from './audit-cases.js';
 import { runAuditMicro, type AuditMicroResult } from './audit-micro.js';
 import { auditFindings, auditLoadTable, auditMicroFinding, auditMicroTable, feedbackTable } from './audit-report.js';
+import { createBenchClient, writeTrustFile } from './bench-client.js';
+import { measureBulk } from './bulk-cases.js';
 import { selectExamples } from './cases.js';
+import { measureColdStart } from './cold-start.js';
+import { measureHttpTargets, sourcesOf } from './http-targets.js';
+import { largeExample } from './large-request.js';
+import { bulkFigures, coldStartFigures, engineFigures, httpFigures, judgeAll, targetLines, type TargetFigure } from './targets.js';
 import { killAllChildServers } from './child-server.js';
 import { measureHttp } from './http-cases.js';
 import { loadBundledFiles, runMicro, type MicroResult } from './micro.js';
 import { BENCH_USAGE, parseBenchOptions, type BenchOptions } from './options.js';
 import { renderPerformanceDoc } from './performance-doc.js';
+import { BEFORE_FILE, beforeFileText, loadBeforeFigures } from './targets-doc.js';
 import { profileMicro, profileService } from './profiles.js';
 import { dominantAreas, profileSection } from './profile-report.js';
-import { findings, loadTable, microFinding, microTable, type AuditReport, type Machine, type RunReport } from './report.js';
+import { findings, loadTable, microFinding, microTable, type AuditReport, type Machine, type RunReport, type TargetsReport } from './report.js';
 import { prepareService } from './service-process.js';
 
 /**
@@ -59,6 +66,7 @@ function describeMachine(): Machine {
 }
 
 async function runBench(options: BenchOptions): Promise<number> {
+  const runStart = performance.now();
   const machine = describeMachine();
   const examples = selectExamples(ROOT, new Date(), options.allExamples);
   const scratch = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-scratch-'));
@@ -72,12 +80,28 @@ async function runBench(options: BenchOptions): Promise<number> {
 
   const http = await measureHttp({ root: ROOT, built, examples, options, scratch, progress });
   const audit = await measureAudit({ root: ROOT, built, examples, options, scratch, progress });
+  const large = largeExample(new Date());
+  const mixExamples = [...examples.sign, ...examples.select];
+  const httpTargets = await measureHttpTargets({ root: ROOT, built, examples, options, scratch, progress, mixExamples, large });
+
+  progress(`cold start: ${options.coldStarts} fresh start(s) of the production service per figure`);
+  const coldClient = createBenchClient();
+  const coldTrust = join(scratch, 'cold-start-trust.json');
+  writeTrustFile(coldClient, coldTrust);
+  const [coldSource] = sourcesOf([examples.largestSign]);
+  if (coldSource === undefined) {
+    throw new Error('no example for the cold start');
+  }
+  const coldStart = await measureColdStart(ROOT, built, coldClient, coldTrust, coldSource, options.coldStarts);
+
+  progress('bulk simulation against a read-and-parse loop over the same NDJSON');
+  const bulk = await measureBulk(ROOT, built, scratch, options.bulkOrders, options.bulkRounds, progress);
 
   progress('micro-benchmark of the pure pipeline');
   const files = await loadBundledFiles();
   const microNow = new Date();
   const micro: MicroResult[] = [];
-  for (const example of [...examples.sign, ...examples.select]) {
+  for (const example of [...examples.sign, ...examples.select, large]) {
     micro.push(
       await runMicro(example, files, microNow, {
         iterations: options.microIterations,
@@ -124,6 +148,15 @@ async function runBench(options: BenchOptions): Promise<number> {
     http: { pairs: audit.pairs, feedback: audit.feedback, feedbackCards: audit.feedbackCards },
     micro: auditMicro,
   };
+  const largeMicro = micro.find((m) => m.name === large.name);
+  const figures: TargetFigure[] = [
+    ...httpFigures(httpTargets),
+    ...engineFigures(micro.filter((m) => m.name !== large.name), largeMicro),
+    ...bulkFigures(bulk),
+    ...coldStartFigures(coldStart),
+  ];
+  const { problems: _httpTargetProblems, ...httpTargetFigures } = httpTargets;
+  const targets: TargetsReport = { figures, http: httpTargetFigures, largeMicroName: large.name, bulk, coldStart };
   const report: RunReport = {
     machine: { ...machine, loadAverageEnd: loadavg() },
     settings: {
@@ -133,6 +166,7 @@ async function runBench(options: BenchOptions): Promise<number> {
       warmupS: options.warmupS,
       buildS,
       microIterations: options.microIterations,
+      elapsedS: (performance.now() - runStart) / 1000,
     },
     rows: http.rows,
     baseline: http.baseline,
@@ -143,10 +177,14 @@ async function runBench(options: BenchOptions): Promise<number> {
     microProfile,
     profiledExample: options.profile ? examples.largestSign.name : undefined,
     audit: auditReport,
+    targets,
   };
-  const problems = [...http.problems, ...audit.problems];
+  const problems = [...http.problems, ...audit.problems, ...httpTargets.problems];
 
   const out: string[] = [
+    'Issue 9 targets (measured side by side in this run):',
+    ...targetLines(judgeAll(figures)),
+    '',
     `${machine.date}, node ${machine.node}, ${machine.cpus} CPUs, runner ${options.runner}, commit ${machine.commit}` +
       (machine.uncommitted.length > 0 ? ` with uncommitted changes to ${machine.uncommitted.join(', ')}` : ''),
     '',
@@ -181,13 +219,22 @@ async function runBench(options: BenchOptions): Promise<number> {
 
   if (problems.length > 0) {
     progress(`the run is not usable:\n  ${problems.join('\n  ')}`);
+    // Kept for finding out what went wrong; never read back into the doc.
+    const kept = join(tmpdir(), `oxygen-order-checker-bench-unusable-${machine.date.replace(/[:.]/g, '-')}.json`);
+    writeFileSync(kept, `${JSON.stringify(report, null, 2)}\n`);
+    progress(`this run's measurements are in ${kept}`);
     if (options.writeDoc) {
       progress('docs/performance.md was not rewritten');
     }
     return 1;
   }
+  if (options.writeBefore) {
+    const note = `the code before issue 9's speed work, measured by \`npm run bench -- --write-before\` on a shared 2-core machine (load average ${machine.loadAverage.map((v) => v.toFixed(2)).join(' / ')} at the start)`;
+    writeFileSync(join(ROOT, BEFORE_FILE), beforeFileText(figures, machine.commit, machine.date, note));
+    progress(`wrote ${BEFORE_FILE}`);
+  }
   if (options.writeDoc) {
-    writeFileSync(join(ROOT, 'docs', 'performance.md'), renderPerformanceDoc(report));
+    writeFileSync(join(ROOT, 'docs', 'performance.md'), renderPerformanceDoc(report, loadBeforeFigures(join(ROOT, BEFORE_FILE))));
     progress('wrote docs/performance.md');
   }
   return 0;

@@ -3,7 +3,7 @@ import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node
 import { tmpdir } from 'node:os';
 import { join, sep } from 'node:path';
 import type { AuditArm } from './audit-off-store.js';
-import { startChildServer, waitForOk, type ChildServer } from './child-server.js';
+import { freePort, startChildServer, waitForOk, type ChildServer } from './child-server.js';
 
 /**
  * How the service under test runs. `dist` is what `npm start` runs (tsc, then `node dist/server.js`),
@@ -110,6 +110,7 @@ async function startWithDataDir(
   name: string,
   nodeArgs: readonly string[],
   extraEnv: Readonly<Record<string, string>>,
+  knownUrl?: string,
 ): Promise<ChildServer> {
   const dataDir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-data-'));
   const started = await startChildServer({
@@ -118,6 +119,7 @@ async function startWithDataDir(
     env: { ...serviceEnv(root, dataDir), ...extraEnv },
     cwd: root,
     startTimeoutMs: 30_000,
+    ...(knownUrl === undefined ? {} : { knownUrl }),
   });
   const server: ChildServer = {
     ...started,
@@ -127,10 +129,11 @@ async function startWithDataDir(
     },
   };
   try {
-    await waitForOk(`${server.url}/healthz`, 50);
+    // With no listening line to wait for first, the start-up itself is waited out here (up to ~30 s).
+    await waitForOk(`${server.url}/healthz`, knownUrl === undefined ? 50 : 300);
   } catch (error) {
     await server.stop(1000);
-    throw error;
+    throw new Error(`${error instanceof Error ? error.message : String(error)}\n${server.tail()}`, { cause: error });
   }
   return server;
 }
@@ -140,6 +143,61 @@ export async function startJsonEcho(root: string, replyFile: string): Promise<Ch
   const server = await startChildServer({
     name: 'json-echo',
     nodeArgs: ['--import', 'tsx', join(root, 'bench', 'json-echo-server.ts'), replyFile],
+    env: serviceEnv(root),
+    cwd: root,
+    startTimeoutMs: 30_000,
+  });
+  try {
+    await waitForOk(`${server.url}/healthz`, 50);
+  } catch (error) {
+    await server.stop(1000);
+    throw error;
+  }
+  return server;
+}
+
+/**
+ * Production mode for the issue-9 figures: the bench's own client in the trust file, the public URL
+ * its tokens are addressed to, and a replay cache large enough for every token of the run (each call
+ * carries a new jti; the defaults would refuse a client past 20,000 live tokens with 429).
+ */
+export function productionEnv(trustFile: string, publicUrl: string): Record<string, string> {
+  return {
+    OXYGEN_CHECKER_MODE: 'production',
+    OXYGEN_CHECKER_TRUST: trustFile,
+    OXYGEN_CHECKER_PUBLIC_URL: publicUrl,
+    OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: '10000000',
+    OXYGEN_CHECKER_REPLAY_CACHE_MAX_ENTRIES: '10000000',
+  };
+}
+
+export async function startProductionService(
+  root: string,
+  built: BuiltService,
+  trustFile: string,
+  publicUrl: string,
+): Promise<ChildServer> {
+  // At LOG_LEVEL=warn production mode prints no listening line (it is at info), so the bench picks the port.
+  const port = await freePort();
+  return startWithDataDir(
+    root,
+    'oxygen-order-checker (production)',
+    built.nodeArgs,
+    { ...productionEnv(trustFile, publicUrl), PORT: String(port) },
+    `http://127.0.0.1:${port}`,
+  );
+}
+
+/** The environment of a production service started by hand (the cold-start timing). */
+export function productionServiceEnv(root: string, trustFile: string, publicUrl: string, dataDir: string, port: number): Record<string, string | undefined> {
+  return { ...serviceEnv(root, dataDir), PORT: String(port), ...productionEnv(trustFile, publicUrl) };
+}
+
+/** The bare express + same-token baseline (bench/token-baseline-server.ts) in its own process. */
+export async function startTokenBaseline(root: string, configFile: string): Promise<ChildServer> {
+  const server = await startChildServer({
+    name: 'token-baseline',
+    nodeArgs: ['--import', 'tsx', join(root, 'bench', 'token-baseline-server.ts'), configFile],
     env: serviceEnv(root),
     cwd: root,
     startTimeoutMs: 30_000,

@@ -1,0 +1,86 @@
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { join } from 'node:path';
+import { writeDemoExport } from '../src/bulk/write-demo-export.js';
+import type { BulkChildResult } from './bulk-child.js';
+import type { BuiltService } from './service-process.js';
+
+/**
+ * Bulk simulation against its floor, in one run: an invented export (`demo-export`) at two sizes, the
+ * larger `LARGE_FACTOR` times the smaller; at the smaller size a process that only reads and parses
+ * every NDJSON line and one that runs `simulate` over the same files take turns; at both sizes the
+ * simulation's peak memory (maxRSS of its own process) is kept.
+ */
+
+export const LARGE_FACTOR = 4;
+/** The demo export's seed: the same seed and size give the same files. */
+const SEED = 9;
+
+export interface BulkMeasurements {
+  readonly smallOrders: number;
+  readonly largeOrders: number;
+  /** Best of the rounds at the smaller size (the least disturbed by other work on the machine). */
+  readonly read: BulkChildResult;
+  readonly simulate: BulkChildResult;
+  readonly simulateLarge: BulkChildResult;
+}
+
+function runChild(root: string, args: readonly string[]): BulkChildResult {
+  const child = spawnSync(process.execPath, ['--import', 'tsx', join(root, 'bench', 'bulk-child.ts'), ...args], {
+    cwd: root,
+    encoding: 'utf8',
+    timeout: 600_000,
+    maxBuffer: 1024 * 1024,
+  });
+  if (child.status !== 0) {
+    throw new Error(`bench/bulk-child.ts ${args[0] ?? ''} failed (exit ${String(child.status)}): ${child.stderr.slice(0, 1200)}`);
+  }
+  const line = child.stdout.trim().split('\n').at(-1) ?? '';
+  return JSON.parse(line) as BulkChildResult;
+}
+
+const faster = (a: BulkChildResult | undefined, b: BulkChildResult): BulkChildResult => (a === undefined || b.ms < a.ms ? b : a);
+
+export async function measureBulk(
+  root: string,
+  built: BuiltService,
+  scratch: string,
+  smallOrders: number,
+  rounds: number,
+  progress: (line: string) => void,
+): Promise<BulkMeasurements> {
+  const policy = join(root, 'policies', 'based-on-bts-2017.yaml');
+  const cards = join(root, 'cards');
+  const largeOrders = smallOrders * LARGE_FACTOR;
+  const smallDir = mkdtempSync(join(scratch, 'bulk-small-'));
+  const largeDir = mkdtempSync(join(scratch, 'bulk-large-'));
+  try {
+    progress(`writing demo exports of ${smallOrders} and ${largeOrders} orders`);
+    await writeDemoExport(smallDir, smallOrders, SEED);
+    await writeDemoExport(largeDir, largeOrders, SEED);
+    let read: BulkChildResult | undefined;
+    let simulate: BulkChildResult | undefined;
+    for (let round = 0; round < rounds; round += 1) {
+      // Turns alternate, so a machine getting busier does not favour one side.
+      const order = round % 2 === 0 ? (['read', 'simulate'] as const) : (['simulate', 'read'] as const);
+      for (const mode of order) {
+        const result = runChild(root, mode === 'read' ? [mode, smallDir, built.codeRoot] : [mode, smallDir, built.codeRoot, policy, cards]);
+        progress(`bulk ${mode}, ${smallOrders} orders: ${Math.round(result.ms)} ms, ${result.lines} lines, peak ${Math.round(result.maxRssKb / 1024)} MB`);
+        if (mode === 'read') {
+          read = faster(read, result);
+        } else {
+          simulate = faster(simulate, result);
+        }
+      }
+    }
+    const simulateLarge = runChild(root, ['simulate', largeDir, built.codeRoot, policy, cards]);
+    progress(`bulk simulate, ${largeOrders} orders: ${Math.round(simulateLarge.ms)} ms, peak ${Math.round(simulateLarge.maxRssKb / 1024)} MB`);
+    if (read === undefined || simulate === undefined) {
+      throw new Error('the bulk rounds measured nothing');
+    }
+    return { smallOrders, largeOrders, read, simulate, simulateLarge };
+  } finally {
+    rmSync(smallDir, { recursive: true, force: true });
+    rmSync(largeDir, { recursive: true, force: true });
+  }
+}

@@ -1,0 +1,114 @@
+import { createReadStream, readdirSync, statSync } from 'node:fs';
+import { join } from 'node:path';
+import { performance } from 'node:perf_hooks';
+import { createInterface } from 'node:readline';
+import { pathToFileURL } from 'node:url';
+import type * as LoadFilesModule from '../src/config/load-files.js';
+import type * as ExportIndexModule from '../src/bulk/export-index.js';
+import type * as SimulateModule from '../src/bulk/simulate.js';
+
+/**
+ * One bulk measurement in a process of its own, so its peak memory (maxRSS) is its own:
+ *
+ *   node --import tsx bench/bulk-child.ts read EXPORT_DIR CODE_ROOT
+ *     the floor: read every NDJSON line of the export and JSON.parse it, nothing else
+ *   node --import tsx bench/bulk-child.ts simulate EXPORT_DIR CODE_ROOT POLICY CARDS_DIR
+ *     what `oxygen-order-checker simulate` does: index the export, then replay every order under a
+ *     baseline and a proposed policy (here the same file twice), keeping only the tally
+ *
+ * The service's modules come from CODE_ROOT (the bench's build, or src/), as the rest of the run.
+ * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb }.
+ */
+
+export interface BulkChildResult {
+  readonly mode: 'read' | 'simulate';
+  readonly ms: number;
+  /** NDJSON lines in the export (read: lines parsed). */
+  readonly lines: number;
+  readonly bytes: number;
+  /** Oxygen orders replayed (simulate only). */
+  readonly orders: number;
+  readonly maxRssKb: number;
+}
+
+export function ndjsonFiles(dir: string): string[] {
+  return readdirSync(dir)
+    .filter((file) => file.endsWith('.ndjson'))
+    .sort()
+    .map((file) => join(dir, file));
+}
+
+async function readAndParse(dir: string): Promise<{ lines: number; bytes: number }> {
+  let lines = 0;
+  let bytes = 0;
+  for (const file of ndjsonFiles(dir)) {
+    bytes += statSync(file).size;
+    for await (const line of createInterface({ input: createReadStream(file, 'utf8'), crlfDelay: Infinity })) {
+      if (line.trim() === '') {
+        continue;
+      }
+      const parsed = JSON.parse(line) as { resourceType?: unknown };
+      if (typeof parsed.resourceType === 'string') {
+        lines += 1;
+      }
+    }
+  }
+  return { lines, bytes };
+}
+
+async function simulate(dir: string, codeRoot: string, policyPath: string, cardsDir: string): Promise<number> {
+  const load = async <T>(path: string): Promise<T> => (await import(pathToFileURL(join(codeRoot, path)).href)) as T;
+  const { loadPolicyAndCards } = await load<typeof LoadFilesModule>('config/load-files.js');
+  const { buildExportIndex } = await load<typeof ExportIndexModule>('bulk/export-index.js');
+  const { runSimulation } = await load<typeof SimulateModule>('bulk/simulate.js');
+  const loaded = await loadPolicyAndCards({ policyPath, cardsDir });
+  if (loaded.kind === 'invalid') {
+    throw new Error('the bundled policy does not load');
+  }
+  const side = { file: policyPath, policy: loaded.policy, policyContentHash: loaded.policyContentHash, templates: loaded.templates };
+  const start = performance.now();
+  const index = await buildExportIndex(dir, {});
+  try {
+    const report = await runSimulation(index, side, side);
+    timedMs = performance.now() - start;
+    return report.tally.ordersEvaluated;
+  } finally {
+    index.close();
+  }
+}
+
+let timedMs = 0;
+
+async function main(): Promise<void> {
+  const [mode, dir, codeRoot, policyPath, cardsDir] = process.argv.slice(2);
+  if ((mode !== 'read' && mode !== 'simulate') || dir === undefined || codeRoot === undefined) {
+    process.stderr.write('usage: bulk-child.ts read|simulate EXPORT_DIR CODE_ROOT [POLICY CARDS_DIR]\n');
+    process.exit(2);
+  }
+  let orders = 0;
+  let counted: { lines: number; bytes: number };
+  if (mode === 'read') {
+    const start = performance.now();
+    counted = await readAndParse(dir);
+    timedMs = performance.now() - start;
+  } else {
+    if (policyPath === undefined || cardsDir === undefined) {
+      process.stderr.write('simulate needs POLICY and CARDS_DIR\n');
+      process.exit(2);
+    }
+    orders = await simulate(dir, codeRoot, policyPath, cardsDir);
+    // Counted after the timed part, so the count is not in the figure.
+    counted = await readAndParse(dir);
+  }
+  const result: BulkChildResult = {
+    mode,
+    ms: timedMs,
+    lines: counted.lines,
+    bytes: counted.bytes,
+    orders,
+    maxRssKb: process.resourceUsage().maxRSS,
+  };
+  process.stdout.write(`${JSON.stringify(result)}\n`);
+}
+
+await main();

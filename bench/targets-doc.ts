@@ -1,0 +1,156 @@
+import { existsSync, readFileSync } from 'node:fs';
+import { markdownTable, whole, type TargetsReport } from './report.js';
+import { TARGETS, answeredPerSecond, formatLimit, formatValue, judge, judgeAll, type BeforeFigures, type TargetFigure } from './targets.js';
+
+/**
+ * The issue-9 section of docs/performance.md: every target with its limit, the "before" figure kept
+ * from one full run on the code before the speed work (bench/before-issue-9.json), this run's figure
+ * and its verdict, then how each was measured and the figures behind it.
+ */
+
+export const BEFORE_FILE = 'bench/before-issue-9.json';
+
+function isFigure(value: unknown): value is TargetFigure {
+  const v = value as Partial<TargetFigure> | null;
+  return typeof v?.id === 'string' && typeof v.value === 'number' && typeof v.basis === 'string';
+}
+
+/** The before figures, or undefined when the file is missing or not in the expected shape. */
+export function parseBeforeFigures(text: string): BeforeFigures | undefined {
+  const raw = JSON.parse(text) as Partial<BeforeFigures> | null;
+  if (typeof raw?.commit !== 'string' || typeof raw.date !== 'string' || !Array.isArray(raw.figures) || !raw.figures.every(isFigure)) {
+    return undefined;
+  }
+  return { commit: raw.commit, date: raw.date, note: typeof raw.note === 'string' ? raw.note : '', figures: raw.figures };
+}
+
+export function loadBeforeFigures(path: string): BeforeFigures | undefined {
+  return existsSync(path) ? parseBeforeFigures(readFileSync(path, 'utf8')) : undefined;
+}
+
+export function targetsTable(targets: TargetsReport | undefined, before: BeforeFigures | undefined): string {
+  const judged = judgeAll(targets?.figures ?? []);
+  const beforeHeader = before === undefined ? 'before' : `before (${before.commit}, ${before.date.slice(0, 10)})`;
+  return markdownTable(
+    ['target', 'limit', beforeHeader, 'this run', 'verdict', 'from'],
+    judged.map((t) => {
+      const was = before?.figures.find((f) => f.id === t.id)?.value;
+      const wasText = was === undefined ? '–' : `${formatValue(t, was)} ${judge(t, was)}`;
+      return [t.title, formatLimit(t), wasText, formatValue(t, t.value), t.verdict === 'not measured' ? 'not measured' : `**${t.verdict}**`, t.basis];
+    }),
+  );
+}
+
+function httpTable(targets: TargetsReport): string {
+  const http = targets.http;
+  if (http === undefined) {
+    return 'Not measured in this run.';
+  }
+  return markdownTable(
+    ['case', 'request B (mean)', 'service 2xx/s', 'baseline 2xx/s', 'service × baseline', 'service not 2xx', 'p50 ms service / baseline', 'p99 ms service / baseline'],
+    [http.mix, http.large, http.halfRatePair].map((pair) => [
+      pair.label,
+      whole(pair.requestBytes),
+      whole(answeredPerSecond(pair.service)),
+      whole(answeredPerSecond(pair.baseline)),
+      `${(answeredPerSecond(pair.service) / answeredPerSecond(pair.baseline)).toFixed(2)} ×`,
+      whole(pair.service.non2xx),
+      `${pair.service.latencyMs.p50} / ${pair.baseline.latencyMs.p50}`,
+      `${pair.service.latencyMs.p99} / ${pair.baseline.latencyMs.p99}`,
+    ]),
+  );
+}
+
+function bulkTable(targets: TargetsReport): string {
+  const bulk = targets.bulk;
+  if (bulk === undefined) {
+    return 'Not measured in this run.';
+  }
+  const row = (label: string, r: typeof bulk.read): string[] => [
+    label,
+    whole(r.lines),
+    whole(r.bytes / 1024),
+    whole(r.ms),
+    whole(r.lines / (r.ms / 1000)),
+    whole(r.maxRssKb / 1024),
+  ];
+  return markdownTable(
+    ['process', 'NDJSON lines', 'KB', 'ms', 'lines/s', 'peak RSS MB'],
+    [
+      row(`read and JSON.parse every line, ${bulk.smallOrders} orders`, bulk.read),
+      row(`simulate (index, then replay under two policies), ${bulk.smallOrders} orders`, bulk.simulate),
+      row(`simulate, ${bulk.largeOrders} orders`, bulk.simulateLarge),
+    ],
+  );
+}
+
+function coldTable(targets: TargetsReport): string {
+  const cold = targets.coldStart;
+  if (cold === undefined) {
+    return 'Not measured in this run.';
+  }
+  const ms = (values: readonly number[]): string => values.map((v) => whole(v)).join(', ');
+  return markdownTable(
+    ['first 200 on', 'ms from spawn, each start'],
+    [
+      ['GET /healthz', ms(cold.healthzMs)],
+      ['a signed hook call', ms(cold.hookMs)],
+    ],
+  );
+}
+
+export function renderTargetsSection(targets: TargetsReport | undefined, before: BeforeFigures | undefined): string {
+  const beforeText =
+    before === undefined
+      ? `No before figures were found (\`${BEFORE_FILE}\`).`
+      : `"Before" is one full run on commit ${before.commit} (${before.date}), kept in \`${BEFORE_FILE}\`${before.note === '' ? '' : `: ${before.note}`}.`;
+  return `## Issue 9 targets
+
+Each target is a ratio measured side by side in one run (or, for cold start, a time), so a busy
+machine falls on both sides of it. The bench prints each with PASS or FAIL. ${beforeText}
+
+${targetsTable(targets, before)}
+
+- **Hook throughput.** The service in production mode (\`node dist/server.js\`, a trust file naming the
+  bench's own client with an ES384 key pair made at bench start, a valid token with its own \`jti\` on
+  every call, the audit trail on as shipped, a fresh hookInstance on every call so every audit write
+  inserts its cards) against \`bench/token-baseline-server.ts\`: a bare express 5 app in its own
+  process that parses the same body, verifies the same token with jsonwebtoken (signature, issuer,
+  audience, expiry; its KeyObject built once) and answers with the service's own answer to that case,
+  byte for byte. The tokens are signed before each load, never during it; the baseline keeps no replay
+  cache, so it is sent the same tokens in turn. The examples mix sends every chosen example in turn; the
+  70 KB request is \`bench/large-request.ts\`: an invented Larkspur Bay patient's order-sign call with
+  200 SpO2, respiratory-rate and blood gas observations. Loads take turns (service first, then baseline
+  first). The bench raises the replay cache's per-client share so a whole run's tokens fit. Throughput
+  counts calls answered 2xx; a call the service refuses (503 when overloaded or its store is slow) is
+  no throughput, and any refusal fails the target it happened in, with the count beside it.
+- **Latency at half saturation.** The service's saturating rate is its throughput on the mix above;
+  half of it is then sent to each process at an even pace (autocannon \`overallRate\`), and the p99s
+  compared. autocannon records whole milliseconds; a p99 under 1 ms counts as 1 ms.
+- **Engine in process.** \`evaluateHook\` against \`JSON.parse\` alone of the same request text, medians of
+  interleaved loops (the pure-pipeline table below also keeps the older parse + stringify yardstick);
+  the median of the examples' ratios, and the ratio on the 70 KB request.
+- **Bulk.** \`demo-export\` writes an invented export; a process that only reads and \`JSON.parse\`s every
+  NDJSON line of it, and one that runs what \`simulate\` runs (index the export, replay every order under
+  two policies, here the bundled one twice), take turns; the faster of each is kept. Throughput is
+  NDJSON lines a second. Peak memory is each simulate process's maxRSS; "flat" is read here as the larger
+  export (4 × the orders) peaking at no more than 1.2 × the smaller's.
+- **Cold start.** From spawning \`node dist/server.js\` in production mode with a new data directory to
+  its first 200, polling every 5 ms: on \`GET /healthz\` in one start, on a signed hook call in another;
+  the median of the starts.
+- The machine is shared (2 cores, other people's work on them): figures move from run to run, which is
+  why every target is a ratio taken within one run, and the load average is printed below.
+
+${httpTable(targets ?? { figures: [] })}
+
+${bulkTable(targets ?? { figures: [] })}
+
+${coldTable(targets ?? { figures: [] })}`;
+}
+
+/** The before file's content from this run's figures. */
+export function beforeFileText(figures: readonly TargetFigure[], commit: string, date: string, note: string): string {
+  const known = new Set(TARGETS.map((t) => t.id));
+  const before: BeforeFigures = { commit, date, note, figures: figures.filter((f) => known.has(f.id)) };
+  return `${JSON.stringify(before, null, 2)}\n`;
+}
