@@ -2,6 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, sep } from 'node:path';
+import { ENV_DEFAULTS } from '../src/config/env-config.js';
 import type { AuditArm } from './audit-off-store.js';
 import { freePort, startChildServer, waitForOk, type ChildServer } from './child-server.js';
 
@@ -73,6 +74,10 @@ function serviceEnv(root: string, dataDir?: string): Record<string, string | und
     // The bundled files, named because a private build folder is not the package root.
     OXYGEN_CHECKER_POLICY: join(root, 'policies', 'based-on-bts-2017.yaml'),
     OXYGEN_CHECKER_CARDS_DIR: join(root, 'cards'),
+    // The bench is one client sending the whole load (one address in the demo, one issuer in production):
+    // its share is the shared cap, as a site with one EHR would set it (docs/security.md, "Load and
+    // per-client shares"). Load shedding by waiting time stays as shipped.
+    OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: String(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT),
     // A fresh store per run (the audit write is part of what is measured), never the shared ./data.
     ...(dataDir === undefined ? {} : { OXYGEN_CHECKER_DATA_DIR: dataDir }),
   };
