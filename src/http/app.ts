@@ -21,7 +21,7 @@ import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
-import { healthHandler } from './routes/health.js';
+import { healthHandler, readinessHandler } from './routes/health.js';
 import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
 import type { RefusalLimits } from '../log/refusal-limiter.js';
@@ -57,6 +57,8 @@ export interface AppDeps {
   readonly newRequestId?: () => string;
   /** How many identical refusals per client are logged one by one; defaults in src/log/refusal-limiter.ts. */
   readonly refusalLogLimits?: RefusalLimits;
+  /** How long /readyz waits for the store; defaults to READINESS_STORE_TIMEOUT_MS (routes/health.ts). */
+  readonly readinessTimeoutMs?: number;
   /** The review pages and card links; /review is not served without it. */
   readonly review?: ReviewAppDeps;
 }
@@ -73,6 +75,7 @@ const ROUTES = {
   service: '/cds-services/:id',
   feedback: '/cds-services/:id/feedback',
   health: '/healthz',
+  ready: '/readyz',
 } as const;
 
 /** Read by staff, not CDS clients: no preflight and no CORS, so other sites' scripts cannot read it. */
@@ -153,6 +156,17 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   // Browsers send preflights without credentials, so they are answered before authentication.
   app.options(Object.values(ROUTES), answerPreflight);
   app.get(ROUTES.health, route('healthz', healthHandler));
+  app.get(
+    ROUTES.ready,
+    route(
+      'readyz',
+      readinessHandler({
+        policy: deps.policy,
+        store: deps.store,
+        ...(deps.readinessTimeoutMs === undefined ? {} : { storeTimeoutMs: deps.readinessTimeoutMs }),
+      }),
+    ),
+  );
   if (deps.review !== undefined) {
     // Outside /cds-services authentication: the review router decides its own access, and /policy
     // is read by the same staff under the same rule (routes/policy.ts).
