@@ -22,6 +22,7 @@ import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler, readinessHandler } from './routes/health.js';
+import { createServiceMetrics, measuredFetch, measuredStore, metricsHandler, type ServiceMetrics } from './metrics.js';
 import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
 import type { RefusalLimits } from '../log/refusal-limiter.js';
@@ -32,7 +33,7 @@ import type { RefusalLimits } from '../log/refusal-limiter.js';
  */
 export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
   Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>> &
-  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs'>>;
+  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs' | 'metrics'>>;
 
 export interface AppDeps {
   /**
@@ -59,6 +60,11 @@ export interface AppDeps {
   readonly refusalLogLimits?: RefusalLimits;
   /** How long /readyz waits for the store; defaults to READINESS_STORE_TIMEOUT_MS (routes/health.ts). */
   readonly readinessTimeoutMs?: number;
+  /**
+   * The app's Prometheus metrics (metrics.ts); built here when absent. The server builds them itself
+   * so the token checks' replay cache counts into the same registry.
+   */
+  readonly metrics?: ServiceMetrics;
   /** The review pages and card links; /review is not served without it. */
   readonly review?: ReviewAppDeps;
 }
@@ -81,6 +87,9 @@ const ROUTES = {
 /** Read by staff, not CDS clients: no preflight and no CORS, so other sites' scripts cannot read it. */
 const POLICY_ROUTE = '/policy';
 
+/** Prometheus text (metrics.ts); served only when the settings say so. */
+const METRICS_ROUTE = '/metrics';
+
 /**
  * Builds the express app. Route handlers are thin: they validate, call src/cds and src/fhir, and
  * return a result that one writer sends; every error leaves through one JSON error middleware.
@@ -92,13 +101,15 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   if (unworded.length > 0) {
     throw new Error(`createApp: no card template for rule(s) ${unworded.join(', ')}`);
   }
-  const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
-  const audit = createAuditTrail({ store: deps.store, logger: deps.logger, patientKey: deps.patientKey });
+  const metrics = deps.metrics ?? createServiceMetrics({ policy: deps.policy });
+  const store = measuredStore(deps.store, metrics);
+  const gather = deps.gather ?? createGatherer({ fetch: measuredFetch(deps.fetch, metrics), limits: config.fhir });
+  const audit = createAuditTrail({ store, logger: deps.logger, patientKey: deps.patientKey });
   const feedbackLimits = config.feedback ?? {
     maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
-  const gate = createEvaluationGate(gateLimitsFrom(config));
+  const gate = createEvaluationGate(gateLimitsFrom(config), { onRefused: metrics.overloadRefused });
   // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
   const handlersFor = perSnapshot((snapshot) => ({
     review:
@@ -106,7 +117,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         ? undefined
         : reviewRouter(
             {
-              store: deps.store,
+              store,
               access: deps.review.access,
               policy: snapshot.policy,
               reasonDisplay: reasonDisplaysFrom(snapshot.templates, snapshot.policy),
@@ -117,7 +128,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     feedback: route(
       'feedback',
       feedbackHandler({
-        store: deps.store,
+        store,
         limits: feedbackLimits,
         templates: snapshot.templates,
         policy: snapshot.policy,
@@ -135,6 +146,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         clock: deps.clock,
         gather,
         audit: audit.forPolicy(snapshot.contentHash),
+        onCards: metrics.cardsIssued,
         ...(deps.review?.linkFor === undefined ? {} : { reviewLinkFor: deps.review.linkFor }),
       }),
     ),
@@ -151,6 +163,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
       ...(deps.refusalLogLimits === undefined ? {} : { refusalLimits: deps.refusalLogLimits }),
       policy: deps.policy,
       corsOrigins: config.corsOrigins,
+      onRequestFinished: metrics.requestFinished,
     }),
   );
   // Browsers send preflights without credentials, so they are answered before authentication.
@@ -162,7 +175,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
       'readyz',
       readinessHandler({
         policy: deps.policy,
-        store: deps.store,
+        store,
         ...(deps.readinessTimeoutMs === undefined ? {} : { storeTimeoutMs: deps.readinessTimeoutMs }),
       }),
     ),
@@ -174,6 +187,11 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     app.use('/review', (req, res, next) => {
       handlersFor(pinnedPolicy(res)).review?.(req, res, next);
     });
+  }
+
+  if (config.metrics ?? false) {
+    // No authentication, as a Prometheus scrape expects: the network restricts it (docs/security.md).
+    app.get(METRICS_ROUTE, metricsHandler(metrics));
   }
 
   app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)
