@@ -98,7 +98,12 @@ describe('GET /metrics', () => {
     expect(all.filter((sample) => sample.name === 'oxygen_checker_policy_info')).toHaveLength(1);
   });
 
-  it('counts a call refused because every evaluation slot was taken as a shared-cap refusal', async () => {
+  it.each([
+    // One slot in all: the second call finds every slot taken (503, overload.ts).
+    ['shared-cap', { maxConcurrentEvaluations: 1 }, 503, 'client-share'],
+    // Slots to spare, but one per client: the same client's second call is over its share (429, RFC 6585 §4).
+    ['client-share', { maxConcurrentEvaluations: 4, maxConcurrentPerClient: 1 }, 429, 'shared-cap'],
+  ] as const)('counts a call refused for %s while another holds its slot', async (reason, limits, status, other) => {
     let entered: () => void = () => undefined;
     const inside = new Promise<void>((resolve) => {
       entered = resolve;
@@ -108,24 +113,24 @@ describe('GET /metrics', () => {
       release = resolve;
     });
     const real = createGatherer({ fetch: globalThis.fetch, limits: TEST_CONFIG.fhir });
-    // The first call holds the only slot until the test lets it go.
+    // The first call holds its slot until the test lets it go.
     const gather: Gather = async (...args) => {
       entered();
       await released;
       return real(...args);
     };
-    const { app } = await buildTestApp({ gather }, { metrics: true, maxConcurrentEvaluations: 1 });
+    const { app } = await buildTestApp({ gather }, { metrics: true, ...limits });
     const first = request(app).post(SERVICE).send(orderSignRequest()).then((response) => response.status);
     await inside;
     const refused = await request(app).post(SERVICE).send(orderSignRequest());
-    expect(refused.status).toBe(503);
+    expect(refused.status).toBe(status);
     release();
     expect(await first).toBe(200);
 
     const { all } = await scrape(app);
-    expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason: 'shared-cap' })).toBe(1);
-    expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason: 'client-share' })).toBeUndefined();
-    expect(valueOf(all, 'oxygen_checker_http_requests_total', { route: 'service', status: '503' })).toBe(1);
+    expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason })).toBe(1);
+    expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason: other })).toBeUndefined();
+    expect(valueOf(all, 'oxygen_checker_http_requests_total', { route: 'service', status: String(status) })).toBe(1);
   });
 
   it('counts FHIR requests by outcome, never by URL', async () => {
