@@ -16,6 +16,7 @@ export function withoutAuditWrites(store: Store): Store {
     facets: () => store.facets(),
     purge: (cutoff, now) => store.purge(cutoff, now),
     isEmpty: () => store.isEmpty(),
+    readiness: () => store.readiness(),
     close: () => store.close(),
   };
 }

@@ -7,6 +7,7 @@ import { readSecretValueFiles } from './config/secret-variables.js';
 import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
+import { createServiceMetrics, measuredStore } from './http/metrics.js';
 import { answerClientErrors } from './http/client-error.js';
 import { serverTimeoutOptions } from './http/connection-timeouts.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
@@ -122,11 +123,14 @@ async function startWithStore(
   if (secret.kind === 'refused') {
     return { kind: 'refused', problems: `OXYGEN_CHECKER_PATIENT_KEY_FILE: ${secret.problem}` };
   }
+  const policy = createPolicyHolder(snapshotOf(files, new Date()));
+  // One registry for the app and the token checks, so replay-cache answers count beside the requests.
+  const metrics = createServiceMetrics({ policy, processMetrics: true });
   const auth = await setUpAuthentication(config.security, {
     fetch: globalThis.fetch,
     clock: () => new Date(),
     logger: log,
-    store,
+    store: measuredStore(store, metrics),
   });
   if (auth.kind === 'refused') {
     return { kind: 'refused', problems: auth.problems };
@@ -144,9 +148,9 @@ async function startWithStore(
     patientKey(secret.secret, patient);
   // Seeded before listening, so the first page opened has content; logged after the listening line.
   const demoSeed = auth.kind === 'demo' ? await seedDemo(store, config, files, patientKeyOf) : undefined;
-  const policy = createPolicyHolder(snapshotOf(files, new Date()));
   const app = createApp(config, {
     policy,
+    metrics,
     logger: log,
     clock: () => new Date(),
     fetch: globalThis.fetch,

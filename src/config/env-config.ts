@@ -17,6 +17,7 @@ export type LogLevel = (typeof LOG_LEVELS)[number];
 /** `demo`: loopback only, authentication off. `production`: signed JWTs from trusted clients only. */
 export const MODES = ['demo', 'production'] as const;
 export type Mode = (typeof MODES)[number];
+export const METRICS_SETTINGS = ['off', 'on'] as const;
 
 /** The prefix of the service's own variables: any other name with it is refused, not ignored. */
 export const CONFIG_PREFIX = 'OXYGEN_CHECKER_';
@@ -105,6 +106,10 @@ export const ENV_DEFAULTS = {
   // feedback and replay cache in one PostgreSQL database shared by every instance; empty keeps the
   // embedded SQLite store in OXYGEN_CHECKER_DATA_DIR (one instance).
   DATABASE_URL: '',
+  // GET /metrics (Prometheus text, src/http/metrics.ts): `off` in production unless turned on, since
+  // it is served on the service's own port and must be restricted by the network (docs/security.md).
+  // Demo mode serves it anyway: demo mode listens on loopback only.
+  OXYGEN_CHECKER_METRICS: 'off',
 } as const;
 
 export interface FhirFallbackLimits {
@@ -188,6 +193,8 @@ export interface EnvConfig {
   readonly security: SecurityConfig;
   readonly store: StoreConfig;
   readonly feedback: FeedbackConfig;
+  /** GET /metrics is served: `OXYGEN_CHECKER_METRICS=on`, or demo mode (loopback only). */
+  readonly metrics?: boolean;
 }
 
 export interface EnvProblem {
@@ -337,6 +344,9 @@ export const EnvSchema = z.object({
     (url) => url === '' || /^postgres(ql)?:\/\/./i.test(url),
     // The value is not echoed: it may carry a password.
     { message: 'must be a postgres:// or postgresql:// URL (or empty for the embedded SQLite store)' },
+  ),
+  OXYGEN_CHECKER_METRICS: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_METRICS).pipe(
+    z.enum(METRICS_SETTINGS, { error: `must be one of ${METRICS_SETTINGS.join(', ')}` }),
   ),
 });
 
@@ -534,6 +544,7 @@ export function parseEnvConfig(
         maxItemsPerRequest: v.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
         maxRecordsPerClientPerDay: v.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
       },
+      metrics: v.OXYGEN_CHECKER_METRICS === 'on' || v.OXYGEN_CHECKER_MODE === 'demo',
     }),
   };
 }

@@ -182,6 +182,11 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
     description:
       'The data directory, relative to the working directory: the SQLite store (audit trail, feedback, replay cache) and, unless configured, the patient-key and review-link secrets. Created owner-only.',
   },
+  OXYGEN_CHECKER_METRICS: {
+    group: 'Service',
+    description:
+      '`on` serves GET /metrics (Prometheus text) on the service\'s own port, without authentication: let only the scraper reach it (network policy or proxy; docs/security.md). `off` does not serve it. Demo mode serves it either way, on loopback.',
+  },
   DATABASE_URL: {
     group: 'Store',
     format: 'postgresql:// URL',

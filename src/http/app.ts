@@ -21,7 +21,8 @@ import { route } from './respond.js';
 import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
-import { healthHandler } from './routes/health.js';
+import { healthHandler, readinessHandler } from './routes/health.js';
+import { createServiceMetrics, measuredFetch, measuredStore, metricsHandler, type ServiceMetrics } from './metrics.js';
 import { policyHandler } from './routes/policy.js';
 import { reviewRouter } from './routes/review.js';
 import type { RefusalLimits } from '../log/refusal-limiter.js';
@@ -32,7 +33,7 @@ import type { RefusalLimits } from '../log/refusal-limiter.js';
  */
 export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
   Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>> &
-  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs'>>;
+  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs' | 'metrics'>>;
 
 export interface AppDeps {
   /**
@@ -57,6 +58,13 @@ export interface AppDeps {
   readonly newRequestId?: () => string;
   /** How many identical refusals per client are logged one by one; defaults in src/log/refusal-limiter.ts. */
   readonly refusalLogLimits?: RefusalLimits;
+  /** How long /readyz waits for the store; defaults to READINESS_STORE_TIMEOUT_MS (routes/health.ts). */
+  readonly readinessTimeoutMs?: number;
+  /**
+   * The app's Prometheus metrics (metrics.ts); built here when absent. The server builds them itself
+   * so the token checks' replay cache counts into the same registry.
+   */
+  readonly metrics?: ServiceMetrics;
   /** The review pages and card links; /review is not served without it. */
   readonly review?: ReviewAppDeps;
 }
@@ -73,10 +81,14 @@ const ROUTES = {
   service: '/cds-services/:id',
   feedback: '/cds-services/:id/feedback',
   health: '/healthz',
+  ready: '/readyz',
 } as const;
 
 /** Read by staff, not CDS clients: no preflight and no CORS, so other sites' scripts cannot read it. */
 const POLICY_ROUTE = '/policy';
+
+/** Prometheus text (metrics.ts); served only when the settings say so. */
+const METRICS_ROUTE = '/metrics';
 
 /**
  * Builds the express app. Route handlers are thin: they validate, call src/cds and src/fhir, and
@@ -89,13 +101,15 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   if (unworded.length > 0) {
     throw new Error(`createApp: no card template for rule(s) ${unworded.join(', ')}`);
   }
-  const gather = deps.gather ?? createGatherer({ fetch: deps.fetch, limits: config.fhir });
-  const audit = createAuditTrail({ store: deps.store, logger: deps.logger, patientKey: deps.patientKey });
+  const metrics = deps.metrics ?? createServiceMetrics({ policy: deps.policy });
+  const store = measuredStore(deps.store, metrics);
+  const gather = deps.gather ?? createGatherer({ fetch: measuredFetch(deps.fetch, metrics), limits: config.fhir });
+  const audit = createAuditTrail({ store, logger: deps.logger, patientKey: deps.patientKey });
   const feedbackLimits = config.feedback ?? {
     maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
-  const gate = createEvaluationGate(gateLimitsFrom(config));
+  const gate = createEvaluationGate(gateLimitsFrom(config), { onRefused: metrics.overloadRefused });
   // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
   const handlersFor = perSnapshot((snapshot) => ({
     review:
@@ -103,7 +117,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         ? undefined
         : reviewRouter(
             {
-              store: deps.store,
+              store,
               access: deps.review.access,
               policy: snapshot.policy,
               reasonDisplay: reasonDisplaysFrom(snapshot.templates, snapshot.policy),
@@ -114,7 +128,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     feedback: route(
       'feedback',
       feedbackHandler({
-        store: deps.store,
+        store,
         limits: feedbackLimits,
         templates: snapshot.templates,
         policy: snapshot.policy,
@@ -132,6 +146,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
         clock: deps.clock,
         gather,
         audit: audit.forPolicy(snapshot.contentHash),
+        onCards: metrics.cardsIssued,
         ...(deps.review?.linkFor === undefined ? {} : { reviewLinkFor: deps.review.linkFor }),
       }),
     ),
@@ -148,11 +163,23 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
       ...(deps.refusalLogLimits === undefined ? {} : { refusalLimits: deps.refusalLogLimits }),
       policy: deps.policy,
       corsOrigins: config.corsOrigins,
+      onRequestFinished: metrics.requestFinished,
     }),
   );
   // Browsers send preflights without credentials, so they are answered before authentication.
   app.options(Object.values(ROUTES), answerPreflight);
   app.get(ROUTES.health, route('healthz', healthHandler));
+  app.get(
+    ROUTES.ready,
+    route(
+      'readyz',
+      readinessHandler({
+        policy: deps.policy,
+        store,
+        ...(deps.readinessTimeoutMs === undefined ? {} : { storeTimeoutMs: deps.readinessTimeoutMs }),
+      }),
+    ),
+  );
   if (deps.review !== undefined) {
     // Outside /cds-services authentication: the review router decides its own access, and /policy
     // is read by the same staff under the same rule (routes/policy.ts).
@@ -160,6 +187,11 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     app.use('/review', (req, res, next) => {
       handlersFor(pinnedPolicy(res)).review?.(req, res, next);
     });
+  }
+
+  if (config.metrics ?? false) {
+    // No authentication, as a Prometheus scrape expects: the network restricts it (docs/security.md).
+    app.get(METRICS_ROUTE, metricsHandler(metrics));
   }
 
   app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)

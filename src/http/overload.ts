@@ -46,6 +46,8 @@ export interface GateLimits {
 export interface GateDeps {
   /** Defaults to the process's loop delay gauge; tests of the decisions pass their own. */
   readonly loopDelayMs?: () => number;
+  /** Told each refusal's reason (the metrics, src/http/metrics.ts). */
+  readonly onRefused?: (reason: 'loop-delay' | 'shared-cap' | 'client-share') => void;
 }
 
 export interface EvaluationGate {
@@ -73,7 +75,8 @@ export function createEvaluationGate(limits: GateLimits, deps: GateDeps = {}): E
   let inFlight = 0;
   const perClient = new Map<string, number>();
 
-  const refuse = (res: Response, code: ErrorCode): never => {
+  const refuse = (res: Response, code: ErrorCode, reason: 'loop-delay' | 'shared-cap' | 'client-share'): never => {
+    deps.onRefused?.(reason);
     // The refusal's summary line names the route it refused, as the handler would have.
     requestState(res).route = 'service';
     res.setHeader('Retry-After', String(RETRY_AFTER_SECONDS));
@@ -82,7 +85,7 @@ export function createEvaluationGate(limits: GateLimits, deps: GateDeps = {}): E
 
   const shed: RequestHandler = (_req, res, next) => {
     if (inFlight > 0 && loopDelayMs() > limits.maxLoopDelayMs) {
-      refuse(res, 'CDS_ERR_OVERLOADED');
+      refuse(res, 'CDS_ERR_OVERLOADED', 'loop-delay');
     }
     next();
   };
@@ -98,7 +101,7 @@ export function createEvaluationGate(limits: GateLimits, deps: GateDeps = {}): E
     const client = clientKeyOf(req, res);
     const code = refusal(client);
     if (code !== undefined) {
-      refuse(res, code);
+      refuse(res, code, code === 'CDS_ERR_CLIENT_BUSY' ? 'client-share' : 'shared-cap');
     }
     inFlight += 1;
     perClient.set(client, (perClient.get(client) ?? 0) + 1);

@@ -33,6 +33,8 @@ export function requestContext(
   logger: Logger,
   newRequestId: () => string,
   refusalLimits: RefusalLimits = DEFAULT_REFUSAL_LIMITS,
+  /** Told the same route, status and duration as the summary line (the metrics, src/http/metrics.ts). */
+  onFinished?: (route: string, status: number, durationMs: number) => void,
 ): (req: Request, res: Response) => void {
   // Repeated identical refusals from one client are rate-limited in the log, not in the answer.
   const refusals = createRefusalLimiter(refusalLimits);
@@ -57,6 +59,7 @@ export function requestContext(
         errorCode: state.errorCode,
         detail: state.detail,
       }, { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs });
+      onFinished?.(state.route, res.statusCode, nowMs - state.startedAt);
     });
   };
 }

@@ -19,11 +19,18 @@ export interface RequestStartOptions {
   readonly refusalLimits?: RefusalLimits;
   readonly policy: PolicyHolder;
   readonly corsOrigins: '*' | readonly string[];
+  /** Told each request's route name, status and duration when it closes (the metrics). */
+  readonly onRequestFinished?: (route: string, status: number, durationMs: number) => void;
 }
 
 export function startRequest(options: RequestStartOptions): RequestHandler {
   const setSecurityHeaders = securityHeaderSetter(options.securityHeaders);
-  const beginContext = requestContext(options.logger, options.newRequestId, options.refusalLimits);
+  const beginContext = requestContext(
+    options.logger,
+    options.newRequestId,
+    options.refusalLimits,
+    options.onRequestFinished,
+  );
   const pin = pinPolicy(options.policy);
   const setCorsHeaders = corsHeaderSetter(options.corsOrigins);
   return (req, res, next) => {

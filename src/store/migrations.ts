@@ -150,7 +150,8 @@ export class StoreTooNewError extends Error {
   }
 }
 
-function userVersion(db: Database.Database): number {
+/** The schema version in the database header (`PRAGMA user_version`). */
+export function userVersion(db: Database.Database): number {
   const version = db.pragma('user_version', { simple: true });
   if (typeof version !== 'number') {
     throw new Error('migrate: PRAGMA user_version did not answer a number');

@@ -131,7 +131,8 @@ const CREATE_MIGRATION_TABLE = `CREATE TABLE IF NOT EXISTS schema_migration (
  */
 const LOCK = `SELECT pg_advisory_xact_lock(${String(LOCK_CLASS.migrate)}, hashtext(coalesce($1::text, current_schema(), '')))`;
 
-async function versionNow(client: pg.ClientBase): Promise<number> {
+/** The highest step recorded in `schema_migration`: the schema version reached. */
+export async function versionNow(client: pg.ClientBase | pg.Pool): Promise<number> {
   const result = await client.query<{ version: number | null }>('SELECT max(version) AS version FROM schema_migration');
   return result.rows[0]?.version ?? 0;
 }

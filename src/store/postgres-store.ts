@@ -1,6 +1,6 @@
 import type pg from 'pg';
 import { checkFeedbackArguments, feedbackClientKey, refreshLatest, writeFeedback } from './postgres-feedback.js';
-import { migratePostgres } from './postgres-migrations.js';
+import { migratePostgres, POSTGRES_MIGRATIONS, versionNow } from './postgres-migrations.js';
 import {
   createKeyedQueue,
   createStorePool,
@@ -14,6 +14,9 @@ import { advisoryToRow } from './sqlite-rows.js';
 import type { AdvisoryRecord, PurgeResult, Store } from './store.js';
 
 export type { PostgresStoreOptions } from './postgres-pool.js';
+
+/** The schema version this release writes on PostgreSQL (the same as SQLite's; a test keeps them equal). */
+const LATEST_POSTGRES_VERSION: number = POSTGRES_MIGRATIONS.reduce((max, m) => Math.max(max, m.version), 0);
 
 /**
  * Opens the store on a PostgreSQL database shared by every instance of the service, bringing the
@@ -137,6 +140,8 @@ function assemblePostgresStore(pool: pg.Pool): Store {
     facets: () => track(() => queries.facets()),
     purge: (cutoff, now) => track(() => purge(pool, cutoff, now)),
     isEmpty: () => track(() => queries.isEmpty()),
+    readiness: () =>
+      track(async () => ({ schemaVersion: await versionNow(pool), latestSchemaVersion: LATEST_POSTGRES_VERSION })),
     close: () => {
       closing ??= (async () => {
         // Calls already made are answered (their writes committed or refused) before the pool ends.

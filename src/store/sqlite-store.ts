@@ -1,6 +1,6 @@
 import Database from 'better-sqlite3';
 import { createGroupCommit } from './group-commit.js';
-import { migrate } from './migrations.js';
+import { LATEST_SCHEMA_VERSION, migrate, userVersion } from './migrations.js';
 import { prepareFeedbackWriter, prepareLatestRefresh } from './sqlite-feedback.js';
 import { prepareQueries } from './sqlite-queries.js';
 import { prepareReplayCheck } from './sqlite-replay.js';
@@ -105,6 +105,13 @@ function assembleStore(db: Database.Database): Store {
     facets: () => settled(() => queries.facets()),
     purge: (cutoff, now) => settled(() => purge(cutoff, now)),
     isEmpty: () => settled(() => queries.isEmpty()),
+    readiness: () =>
+      settled(() => {
+        if (closed) {
+          throw new Error('store: the store is closed');
+        }
+        return { schemaVersion: userVersion(db), latestSchemaVersion: LATEST_SCHEMA_VERSION };
+      }),
     close: () =>
       settled(() => {
         if (closed) {

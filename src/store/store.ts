@@ -189,6 +189,14 @@ export interface PurgeResult {
   readonly replayIds: number;
 }
 
+/** What a readiness probe needs of the store: the schema version found, and the one this code writes. */
+export interface StoreReadiness {
+  /** The schema version the database holds now (read from the database on every call). */
+  readonly schemaVersion: number;
+  /** The schema version this release writes and reads. */
+  readonly latestSchemaVersion: number;
+}
+
 export interface Store {
   /** Records the cards of one hook call in one transaction; a card uuid already held is left as is. */
   recordAdvisories(records: readonly AdvisoryRecord[]): Promise<void>;
@@ -224,5 +232,11 @@ export interface Store {
   purge(cutoff: Date, now: Date): Promise<PurgeResult>;
   /** True when no advisory has ever been recorded (the demo seeds only an empty store). */
   isEmpty(): Promise<boolean>;
+  /**
+   * One cheap read of the database's schema version, for the readiness probe (/readyz): it rejects
+   * when the database cannot be reached, and its answer shows a schema changed under a running
+   * instance (restored from an older backup, or migrated by a newer release).
+   */
+  readiness(): Promise<StoreReadiness>;
   close(): Promise<void>;
 }

@@ -113,6 +113,7 @@ export function openWorkerStore(options: SqliteStoreOptions): Store {
     facets: () => send('facets', []),
     purge: (cutoff, now) => send('purge', [cutoff, now]),
     isEmpty: () => send('isEmpty', []),
+    readiness: () => send('readiness', []),
     close: () => {
       // The worker commits what is queued, checkpoints the WAL and closes before it answers.
       closing ??= send<void>('close', []).then(async () => {

@@ -40,6 +40,7 @@ describe('parseEnvConfig', () => {
           purgeIntervalMin: 60, // project default
         },
         feedback: { maxItemsPerRequest: 50, maxRecordsPerClientPerDay: 20_000 }, // project defaults
+        metrics: true, // demo mode serves /metrics, on loopback only (docs/security.md)
       },
     });
   });
@@ -67,6 +68,7 @@ describe('parseEnvConfig', () => {
         OXYGEN_CHECKER_MAX_CONCURRENT: '4',
         OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: '6',
         OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: '250',
+        OXYGEN_CHECKER_METRICS: 'on',
         OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
         OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: '8000',
         OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: '4000',
@@ -134,11 +136,22 @@ describe('parseEnvConfig', () => {
           purgeIntervalMin: 15,
         },
         feedback: { maxItemsPerRequest: 10, maxRecordsPerClientPerDay: 500 },
+        metrics: true,
       },
     });
   });
 
   describe('modes', () => {
+    it('serves /metrics in production only when OXYGEN_CHECKER_METRICS is on, and refuses other words', () => {
+      const base = { ...PRODUCTION, OXYGEN_CHECKER_POLICY: 'local/larkspur-bay.yaml' };
+      const unset = parseEnvConfig(base, '/srv');
+      expect(unset.kind === 'ok' && unset.config.metrics).toBe(false);
+      const on = parseEnvConfig({ ...base, OXYGEN_CHECKER_METRICS: 'on' }, '/srv');
+      expect(on.kind === 'ok' && on.config.metrics).toBe(true);
+      const wrong = parseEnvConfig({ ...base, OXYGEN_CHECKER_METRICS: 'yes' }, '/srv');
+      expect(wrong.kind === 'invalid' && wrong.problems.map((p) => p.variable)).toStrictEqual(['OXYGEN_CHECKER_METRICS']);
+    });
+
     it('sends HSTS in production even when OXYGEN_CHECKER_BEHIND_TLS is not set, and not by default in demo mode', () => {
       // RFC 6797: HSTS tells browsers to use HTTPS only; production requires an https public URL.
       const production = parseEnvConfig(

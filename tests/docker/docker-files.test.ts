@@ -116,9 +116,7 @@ describe('probes', () => {
     expect(at(CONTAINER, 'readinessProbe', 'httpGet', 'path')).toBe('/readyz');
   });
 
-  // Expected to fail until the readiness endpoint (issue 10, "Operations") is merged: then this
-  // starts failing as an expected failure, and `it.fails` becomes `it`.
-  it.fails('the app serves /readyz, which the readiness probe asks', () => {
+  it('the app serves /readyz, which the readiness probe asks', () => {
     expect(servedPaths()).toContain('/readyz');
   });
 

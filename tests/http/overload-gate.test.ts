@@ -33,6 +33,8 @@ interface GateApp {
   /** Responses whose handler ended them with the unreadable answer. */
   readonly unread: Response[];
   readonly inFlight: () => number;
+  /** The reasons the gate reported for its refusals, in order (what the metrics count). */
+  readonly refusals: readonly string[];
 }
 
 let server: AppServer | undefined;
@@ -52,7 +54,8 @@ async function gateApp(limits: GateLimits): Promise<GateApp> {
   let held = new Promise<void>((resolve) => {
     releaseHeld = resolve;
   });
-  const gate = createEvaluationGate(limits, { loopDelayMs: () => delayMs });
+  const refusals: string[] = [];
+  const gate = createEvaluationGate(limits, { loopDelayMs: () => delayMs, onRefused: (reason) => refusals.push(reason) });
   const app = express();
   const logger = createLogger({ level: 'silent' });
   let ids = 0;
@@ -89,6 +92,7 @@ async function gateApp(limits: GateLimits): Promise<GateApp> {
     entered: () => entered,
     unread,
     inFlight: gate.inFlight,
+    refusals,
   };
 }
 
@@ -121,6 +125,7 @@ describe('the evaluation gate', () => {
     const refused = await call(`${gate.url}/call`, {});
     expect([refused.status, refused.retryAfter, refused.body]).toStrictEqual([503, String(RETRY_AFTER_SECONDS), OVERLOADED]);
     expect(gate.entered()).toBe(1); // the refused call did no work
+    expect(gate.refusals).toStrictEqual(['loop-delay']);
 
     gate.setDelayMs(100); // at the limit: still admitted
     gate.release();
@@ -136,6 +141,7 @@ describe('the evaluation gate', () => {
     const third = await call(`${gate.url}/call`, {}, CLIENT_A);
     // RFC 6585 §4: 429 Too Many Requests; RFC 9110 §10.2.3: Retry-After in seconds
     expect([third.status, third.retryAfter, third.body]).toStrictEqual([429, String(RETRY_AFTER_SECONDS), CLIENT_BUSY]);
+    expect(gate.refusals).toStrictEqual(['client-share']);
     const other = call(`${gate.url}/call?answer=held`, {}, CLIENT_B);
     await vi.waitFor(() => expect(gate.entered()).toBe(3));
 
@@ -150,6 +156,7 @@ describe('the evaluation gate', () => {
     await vi.waitFor(() => expect(gate.entered()).toBe(2));
     const refused = await call(`${gate.url}/call`, {}, CLIENT_B);
     expect([refused.status, refused.body]).toStrictEqual([503, OVERLOADED]);
+    expect(gate.refusals).toStrictEqual(['shared-cap']);
     gate.release();
     expect((await Promise.all(held)).map((answer) => answer.status)).toStrictEqual([200, 200]);
   });

@@ -25,6 +25,8 @@ export interface ServiceRouteDeps {
   readonly audit: AuditTrail;
   /** The URL of a card's advisory page (src/security/review-link-token.ts); no links when absent. */
   readonly reviewLinkFor?: (cardUuid: string) => string;
+  /** Told the rule and indicator of each card returned (the metrics, src/http/metrics.ts). */
+  readonly onCards?: (cards: HookEvaluation['audit']['cards']) => void;
 }
 
 /**
@@ -82,6 +84,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       { policy: deps.policy, policyContentHash: deps.policyContentHash, templates: deps.templates, now },
     );
     await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res);
+    deps.onCards?.(result.audit.cards);
     const linkFor = deps.reviewLinkFor;
     return {
       status: 200,
