@@ -2,16 +2,12 @@ import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
 import { LOCK_CLASS } from './postgres-pool.js';
 import { feedbackDedupKey, secondsToNextUtcDay } from './sqlite-feedback.js';
-import { instantMs, rowToFeedback, tenantColumn, type FeedbackRow } from './sqlite-rows.js';
+import { FEEDBACK_COLUMNS, instantMs, rowToFeedback, tenantColumn, type FeedbackRow } from './sqlite-rows.js';
 import type { ClientIdentity, FeedbackInput, FeedbackLimits, FeedbackRecord, FeedbackWrite } from './store.js';
 
 const DAY_MS = 86_400_000;
 
 type NewFeedbackRow = FeedbackRow & { readonly dedup_key: string };
-
-const FEEDBACK_COLUMNS = `id, client_iss, client_tenant, service_id, card_uuid, advisory_card_uuid, outcome,
-  accepted_suggestion_ids_json, override_reason_system, override_reason_code, outcome_timestamp,
-  outcome_at_ms, received_at, received_at_ms`;
 
 /** The in-process queue key and the advisory-lock text of one client's feedback quota. */
 export function feedbackClientKey(client: ClientIdentity): string {

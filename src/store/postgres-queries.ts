@@ -1,7 +1,10 @@
 import type pg from 'pg';
 import { inTransaction } from './postgres-pool.js';
 import {
-  instantMs,
+  checkPaging,
+  FEEDBACK_COLUMNS,
+  LIST_COLUMNS,
+  windowMs,
   rowToAdvisory,
   rowToFeedback,
   rowToListItem,
@@ -18,17 +21,6 @@ import type {
   SummaryQuery,
 } from './store.js';
 
-/** Bounds standing in for an open time window, as on SQLite (sqlite-queries.ts). */
-const EARLIEST_MS = -8.64e15;
-const LATEST_MS = 8.64e15 + 1;
-
-const LIST_COLUMNS = `card_uuid, service_id, rule_id, indicator, summary, unit, issued_at, patient_key,
-  latest_outcome, latest_override_reason_code, feedback_count`;
-
-const FEEDBACK_COLUMNS = `id, client_iss, client_tenant, service_id, card_uuid, advisory_card_uuid, outcome,
-  accepted_suggestion_ids_json, override_reason_system, override_reason_code, outcome_timestamp,
-  outcome_at_ms, received_at, received_at_ms`;
-
 const ADVISORY_COLUMNS = `card_uuid, service_id, hook, hook_instance, client_iss, client_tenant, rule_id,
   rule_version, indicator, summary, detail, workings, suggestion_uuids_json, key_numbers_json,
   series_json, policy_id, policy_version, policy_content_hash, unit, issued_at, issued_at_ms, patient_key`;
@@ -43,19 +35,6 @@ export interface PostgresQueries {
   summarise(query: SummaryQuery): Promise<readonly RuleUnitSummary[]>;
   facets(): Promise<{ readonly units: readonly string[]; readonly ruleIds: readonly string[] }>;
   isEmpty(): Promise<boolean>;
-}
-
-function checkPaging(limit: number, offset: number): void {
-  if (!Number.isInteger(limit) || limit < 0 || !Number.isInteger(offset) || offset < 0) {
-    throw new RangeError('store: limit and offset must be non-negative integers');
-  }
-}
-
-function windowMs(query: { readonly from?: string; readonly to?: string }): { from: number; to: number } {
-  return {
-    from: query.from === undefined ? EARLIEST_MS : instantMs(query.from, 'from'),
-    to: query.to === undefined ? LATEST_MS : instantMs(query.to, 'to'),
-  };
 }
 
 /** The advisory list's WHERE clause and its parameters, numbered from $1. */

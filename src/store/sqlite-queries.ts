@@ -1,6 +1,8 @@
 import type Database from 'better-sqlite3';
 import {
-  instantMs,
+  checkPaging,
+  LIST_COLUMNS,
+  windowMs,
   rowToAdvisory,
   rowToFeedback,
   rowToListItem,
@@ -17,13 +19,6 @@ import type {
   SummaryQuery,
 } from './store.js';
 
-/** Bounds standing in for an open time window, so one statement serves with or without one. */
-const EARLIEST_MS = -8.64e15;
-const LATEST_MS = 8.64e15 + 1;
-
-const LIST_COLUMNS = `card_uuid, service_id, rule_id, indicator, summary, unit, issued_at, patient_key,
-  latest_outcome, latest_override_reason_code, feedback_count`;
-
 export interface StoreQueries {
   listAdvisories(query: AdvisoryQuery): AdvisoryPage;
   getAdvisory(cardUuid: string): AdvisoryWithFeedback | undefined;
@@ -31,19 +26,6 @@ export interface StoreQueries {
   summarise(query: SummaryQuery): readonly RuleUnitSummary[];
   facets(): { readonly units: readonly string[]; readonly ruleIds: readonly string[] };
   isEmpty(): boolean;
-}
-
-function checkPaging(limit: number, offset: number): void {
-  if (!Number.isInteger(limit) || limit < 0 || !Number.isInteger(offset) || offset < 0) {
-    throw new RangeError('store: limit and offset must be non-negative integers');
-  }
-}
-
-function windowMs(query: { readonly from?: string; readonly to?: string }): { from: number; to: number } {
-  return {
-    from: query.from === undefined ? EARLIEST_MS : instantMs(query.from, 'from'),
-    to: query.to === undefined ? LATEST_MS : instantMs(query.to, 'to'),
-  };
 }
 
 /**

@@ -76,6 +76,33 @@ export function instantMs(text: string, field: string): number {
   return ms;
 }
 
+/** Bounds standing in for an open time window, so one statement serves with or without one. */
+const EARLIEST_MS = -8.64e15;
+const LATEST_MS = 8.64e15 + 1;
+
+/** A query's time window in epoch ms, open ends as the widest instants a Date can hold. */
+export function windowMs(query: { readonly from?: string; readonly to?: string }): { from: number; to: number } {
+  return {
+    from: query.from === undefined ? EARLIEST_MS : instantMs(query.from, 'from'),
+    to: query.to === undefined ? LATEST_MS : instantMs(query.to, 'to'),
+  };
+}
+
+export function checkPaging(limit: number, offset: number): void {
+  if (!Number.isInteger(limit) || limit < 0 || !Number.isInteger(offset) || offset < 0) {
+    throw new RangeError('store: limit and offset must be non-negative integers');
+  }
+}
+
+/** The columns of an advisory list row (AdvisoryListRow), the same on both stores. */
+export const LIST_COLUMNS = `card_uuid, service_id, rule_id, indicator, summary, unit, issued_at, patient_key,
+  latest_outcome, latest_override_reason_code, feedback_count`;
+
+/** The columns of a feedback row (FeedbackRow), named where a table has more (PostgreSQL's seq, dedup_key). */
+export const FEEDBACK_COLUMNS = `id, client_iss, client_tenant, service_id, card_uuid, advisory_card_uuid, outcome,
+  accepted_suggestion_ids_json, override_reason_system, override_reason_code, outcome_timestamp,
+  outcome_at_ms, received_at, received_at_ms`;
+
 /** The tenant column: '' when the token named none, so (iss, tenant) compares with plain equality. */
 export function tenantColumn(client: ClientIdentity): string {
   return client.tenant ?? '';
