@@ -143,11 +143,11 @@ async function startWithDataDir(
   return server;
 }
 
-/** The plain express JSON echo (bench/json-echo-server.ts) in its own process, like the service. */
-export async function startJsonEcho(root: string, replyFile: string): Promise<ChildServer> {
+/** A bench baseline app (a script in bench/, run by tsx with one file argument) in its own process, like the service. */
+async function startBaselineApp(root: string, name: string, script: string, fileArgument: string): Promise<ChildServer> {
   const server = await startChildServer({
-    name: 'json-echo',
-    nodeArgs: ['--import', 'tsx', join(root, 'bench', 'json-echo-server.ts'), replyFile],
+    name,
+    nodeArgs: ['--import', 'tsx', join(root, 'bench', script), fileArgument],
     env: serviceEnv(root),
     cwd: root,
     startTimeoutMs: 30_000,
@@ -159,6 +159,11 @@ export async function startJsonEcho(root: string, replyFile: string): Promise<Ch
     throw error;
   }
   return server;
+}
+
+/** The plain express JSON echo (bench/json-echo-server.ts). */
+export function startJsonEcho(root: string, replyFile: string): Promise<ChildServer> {
+  return startBaselineApp(root, 'json-echo', 'json-echo-server.ts', replyFile);
 }
 
 /**
@@ -198,20 +203,7 @@ export function productionServiceEnv(root: string, trustFile: string, publicUrl:
   return { ...serviceEnv(root, dataDir), PORT: String(port), ...productionEnv(trustFile, publicUrl) };
 }
 
-/** The bare express + same-token baseline (bench/token-baseline-server.ts) in its own process. */
-export async function startTokenBaseline(root: string, configFile: string): Promise<ChildServer> {
-  const server = await startChildServer({
-    name: 'token-baseline',
-    nodeArgs: ['--import', 'tsx', join(root, 'bench', 'token-baseline-server.ts'), configFile],
-    env: serviceEnv(root),
-    cwd: root,
-    startTimeoutMs: 30_000,
-  });
-  try {
-    await waitForOk(`${server.url}/healthz`, 50);
-  } catch (error) {
-    await server.stop(1000);
-    throw error;
-  }
-  return server;
+/** The bare express + same-token baseline (bench/token-baseline-server.ts). */
+export function startTokenBaseline(root: string, configFile: string): Promise<ChildServer> {
+  return startBaselineApp(root, 'token-baseline', 'token-baseline-server.ts', configFile);
 }
