@@ -1,3 +1,5 @@
+import { writeFileSync } from 'node:fs';
+
 /**
  * What a CLI command gets from the shell and gives back: arguments in, text out, an exit code.
  * Commands never touch process.* themselves, so tests drive them with captured output.
@@ -19,4 +21,19 @@ export type ExitCode = 0 | 1 | 2;
 
 export class UsageError extends Error {
   override readonly name = 'UsageError';
+}
+
+/**
+ * Writes a command's output file; when it cannot, says so on stderr with the system's error code
+ * (never the text) and answers false, so the command can exit 1.
+ */
+export function writeOutputFile(io: CliIo, command: string, file: string, text: string): boolean {
+  try {
+    writeFileSync(file, text);
+    return true;
+  } catch (error) {
+    const code = (error as { code?: unknown } | null)?.code;
+    io.stderr(`oxygen-order-checker ${command}: cannot write ${file}${typeof code === 'string' ? ` (${code})` : ''}\n`);
+    return false;
+  }
 }

@@ -1,7 +1,6 @@
-import { writeFileSync } from 'node:fs';
 import { z } from 'zod';
 import { buildConfigReference, renderConfigReference } from '../config/config-reference.js';
-import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
+import { UsageError, writeOutputFile, type CliIo, type ExitCode } from './cli-io.js';
 import { checkOptions, parseOptions } from './parse-options.js';
 
 export const CONFIG_DOCS_USAGE = `Usage: oxygen-order-checker config docs [--out FILE]
@@ -33,11 +32,7 @@ export function runConfigDocsCommand(args: readonly string[], io: CliIo): ExitCo
     io.stdout(text);
     return 0;
   }
-  try {
-    writeFileSync(options.out, text);
-  } catch (error) {
-    const code = (error as { code?: unknown } | null)?.code;
-    io.stderr(`oxygen-order-checker config docs: cannot write ${options.out}${typeof code === 'string' ? ` (${code})` : ''}\n`);
+  if (!writeOutputFile(io, 'config docs', options.out, text)) {
     return 1;
   }
   io.stderr(`oxygen-order-checker config docs: wrote ${options.out}\n`);

@@ -1,7 +1,6 @@
-import { writeFileSync } from 'node:fs';
 import { z } from 'zod';
 import { policyJsonSchema } from '../policy/policy-json-schema.js';
-import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
+import { UsageError, writeOutputFile, type CliIo, type ExitCode } from './cli-io.js';
 import { checkOptions, parseOptions } from './parse-options.js';
 
 export const POLICY_SCHEMA_USAGE = `Usage: oxygen-order-checker policy schema [--out FILE] [--draft 2020-12|07]
@@ -36,11 +35,7 @@ export function runPolicySchemaCommand(args: readonly string[], io: CliIo): Exit
     io.stdout(text);
     return 0;
   }
-  try {
-    writeFileSync(options.out, text);
-  } catch (error) {
-    const code = (error as { code?: unknown } | null)?.code;
-    io.stderr(`oxygen-order-checker policy schema: cannot write ${options.out}${typeof code === 'string' ? ` (${code})` : ''}\n`);
+  if (!writeOutputFile(io, 'policy schema', options.out, text)) {
     return 1;
   }
   io.stderr(`oxygen-order-checker policy schema: wrote ${options.out}\n`);

@@ -1,4 +1,4 @@
-import { existsSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { z } from 'zod';
 import { buildExportIndex, exportFiles, type ExportIndex } from '../bulk/export-index.js';
 import { runSimulation, type SimulationPolicy } from '../bulk/simulate.js';
@@ -7,7 +7,7 @@ import { formatSimulationSummary, simulationJson } from '../bulk/simulation-summ
 import { describeNdjsonProblem } from '../bulk/ndjson-reader.js';
 import { ENV_DEFAULTS } from '../config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from '../config/load-files.js';
-import { UsageError, type CliIo, type ExitCode } from './cli-io.js';
+import { UsageError, writeOutputFile, type CliIo, type ExitCode } from './cli-io.js';
 import { DEFAULT_POLICY_PATH } from './load-policy.js';
 import { checkOptions, parseOptions } from './parse-options.js';
 import { createProgress } from './progress-bar.js';
@@ -49,17 +49,6 @@ async function loadSide(file: string, cardsDir: string, which: string): Promise<
     throw new UsageError(`the ${which} policy cannot be used:\n${formatLoadProblems(loaded.problems)}`);
   }
   return { file, policy: loaded.policy, policyContentHash: loaded.policyContentHash, templates: loaded.templates };
-}
-
-function writeOutput(file: string, text: string, io: CliIo): boolean {
-  try {
-    writeFileSync(file, text);
-    return true;
-  } catch (error) {
-    const code = (error as { code?: unknown } | null)?.code;
-    io.stderr(`oxygen-order-checker simulate: cannot write ${file}${typeof code === 'string' ? ` (${code})` : ''}\n`);
-    return false;
-  }
 }
 
 export async function runSimulateCommand(args: readonly string[], io: CliIo): Promise<ExitCode> {
@@ -137,8 +126,8 @@ export async function runSimulateCommand(args: readonly string[], io: CliIo): Pr
     say(summary);
   } else {
     io.stdout(summary);
-    if (options.json !== undefined) ok = writeOutput(options.json, `${JSON.stringify(simulationJson(report, exportDir), null, 2)}\n`, io) && ok;
+    if (options.json !== undefined) ok = writeOutputFile(io, 'simulate', options.json, `${JSON.stringify(simulationJson(report, exportDir), null, 2)}\n`) && ok;
   }
-  if (options.html !== undefined) ok = writeOutput(options.html, renderSimulationReport(report, exportDir), io) && ok;
+  if (options.html !== undefined) ok = writeOutputFile(io, 'simulate', options.html, renderSimulationReport(report, exportDir)) && ok;
   return ok ? 0 : 1;
 }
