@@ -51,8 +51,11 @@ function intlLocalParts(at: Date, timeZone: string): LocalParts {
 /** Numeric formatters, to the second, used only to learn a zone's offset from UTC. */
 const OFFSET_FORMATTERS = new Map<string, Intl.DateTimeFormat>();
 
-/** How far the zone's wall clock is ahead of UTC at `ms`, in ms (whole seconds: old local mean times have them). */
-function offsetMsAt(ms: number, timeZone: string): number {
+/**
+ * How far the zone's wall clock is ahead of UTC at `ms`, in ms (whole seconds: old local mean times have
+ * them). The review pages' times use it too (src/review/review-time.ts).
+ */
+export function offsetMsAt(ms: number, timeZone: string): number {
   let formatter = OFFSET_FORMATTERS.get(timeZone);
   if (formatter === undefined) {
     formatter = new Intl.DateTimeFormat('en-GB', {

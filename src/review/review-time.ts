@@ -1,3 +1,5 @@
+import { offsetMsAt } from '../cds/card-time.js';
+
 /**
  * Times on the review pages, always in the site's IANA time zone (`policy.site.timeZone`) and always
  * labelled with it, so a reader on a ward never has to guess whether a time is UTC. Pure: the zone
@@ -53,25 +55,7 @@ export function formatDay(at: Date, timeZone: string): string {
 
 /** The zone's offset from UTC at an instant, in minutes (east positive). */
 export function zoneOffsetMinutes(at: Date, timeZone: string): number {
-  const p = parts(at, {
-    timeZone,
-    year: 'numeric',
-    month: 'numeric',
-    day: 'numeric',
-    hour: 'numeric',
-    minute: 'numeric',
-    second: 'numeric',
-    hourCycle: 'h23',
-  });
-  const asUtc = Date.UTC(
-    Number(p['year']),
-    Number(p['month']) - 1,
-    Number(p['day']),
-    Number(p['hour']),
-    Number(p['minute']),
-    Number(p['second']),
-  );
-  return Math.round((asUtc - Math.floor(at.getTime() / 1000) * 1000) / 60_000);
+  return Math.round(offsetMsAt(at.getTime(), timeZone) / 60_000);
 }
 
 /**
