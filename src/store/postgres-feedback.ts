@@ -1,13 +1,8 @@
-import { randomUUID } from 'node:crypto';
 import type pg from 'pg';
 import { LOCK_CLASS } from './postgres-pool.js';
-import { feedbackDedupKey, secondsToNextUtcDay } from './sqlite-feedback.js';
+import { feedbackDedupKey, newFeedbackRow, secondsToNextUtcDay, utcDayMs, type NewFeedbackRow } from './sqlite-feedback.js';
 import { FEEDBACK_COLUMNS, instantMs, rowToFeedback, tenantColumn, type FeedbackRow } from './sqlite-rows.js';
 import type { ClientIdentity, FeedbackInput, FeedbackLimits, FeedbackRecord, FeedbackWrite } from './store.js';
-
-const DAY_MS = 86_400_000;
-
-type NewFeedbackRow = FeedbackRow & { readonly dedup_key: string };
 
 /** The in-process queue key and the advisory-lock text of one client's feedback quota. */
 export function feedbackClientKey(client: ClientIdentity): string {
@@ -47,8 +42,6 @@ export async function writeFeedback(
   await client.query(`SELECT pg_advisory_xact_lock(${String(LOCK_CLASS.feedback)}, hashtext($1))`, [
     feedbackClientKey(identity),
   ]);
-  const receivedAtMs = receivedAt.getTime();
-  const receivedAtText = receivedAt.toISOString();
   const slots: ({ kind: 'held'; row: FeedbackRow } | { kind: 'new'; row: FeedbackRow })[] = [];
   const newByKey = new Map<string, NewFeedbackRow>();
   for (const item of items) {
@@ -65,32 +58,16 @@ export async function writeFeedback(
         WHERE card_uuid = $1 AND client_iss = $2 AND client_tenant = $3 AND service_id = $4`,
       [item.cardUuid, identity.iss, tenant, item.serviceId],
     );
-    const row: NewFeedbackRow = {
-      id: randomUUID(),
-      dedup_key: dedupKey,
-      client_iss: identity.iss,
-      client_tenant: tenant,
-      service_id: item.serviceId,
-      card_uuid: item.cardUuid,
-      advisory_card_uuid: issued.rowCount === 1 ? item.cardUuid : null,
-      outcome: item.outcome,
-      accepted_suggestion_ids_json: JSON.stringify(item.acceptedSuggestionIds),
-      override_reason_system: item.overrideReason?.system ?? null,
-      override_reason_code: item.overrideReason?.code ?? null,
-      outcome_timestamp: item.outcomeTimestamp,
-      outcome_at_ms: instantMs(item.outcomeTimestamp, 'outcomeTimestamp'),
-      received_at: receivedAtText,
-      received_at_ms: receivedAtMs,
-    };
+    const row = newFeedbackRow(identity, item, dedupKey, issued.rowCount === 1, receivedAt);
     newByKey.set(dedupKey, row);
     slots.push({ kind: 'new', row });
   }
 
-  const dayStartMs = Math.floor(receivedAtMs / DAY_MS) * DAY_MS;
+  const day = utcDayMs(receivedAt.getTime());
   const counted = await client.query<{ n: number }>(
     `SELECT count(*) AS n FROM feedback
       WHERE client_iss = $1 AND client_tenant = $2 AND received_at_ms >= $3 AND received_at_ms < $4`,
-    [identity.iss, tenant, dayStartMs, dayStartMs + DAY_MS],
+    [identity.iss, tenant, day.startMs, day.endMs],
   );
   const already = counted.rows[0]?.n ?? 0;
   if (newByKey.size > 0 && already + newByKey.size > limits.maxRecordsPerClientPerDay) {

@@ -5,7 +5,7 @@ import type { ClientIdentity, FeedbackInput, FeedbackLimits, FeedbackRecord, Fee
 
 const DAY_MS = 86_400_000;
 
-type NewFeedbackRow = FeedbackRow & { readonly dedup_key: string };
+export type NewFeedbackRow = FeedbackRow & { readonly dedup_key: string };
 
 /**
  * What makes two feedback items the same item (CDS Hooks 2.0 §Feedback asks services to be
@@ -30,8 +30,40 @@ export function feedbackDedupKey(client: ClientIdentity, item: FeedbackInput): s
 
 /** Seconds from `at` to the next UTC midnight, when the client's daily quota starts again. */
 export function secondsToNextUtcDay(at: Date): number {
-  const dayStartMs = Math.floor(at.getTime() / DAY_MS) * DAY_MS;
-  return Math.max(1, Math.ceil((dayStartMs + DAY_MS - at.getTime()) / 1000));
+  return Math.max(1, Math.ceil((utcDayMs(at.getTime()).endMs - at.getTime()) / 1000));
+}
+
+/** The UTC day `atMs` falls in, as [start, end) epoch ms: the span a client's daily quota counts. */
+export function utcDayMs(atMs: number): { readonly startMs: number; readonly endMs: number } {
+  const startMs = Math.floor(atMs / DAY_MS) * DAY_MS;
+  return { startMs, endMs: startMs + DAY_MS };
+}
+
+/** A new feedback row for `item`, on either store; `known` says whether the card was issued to this client. */
+export function newFeedbackRow(
+  client: ClientIdentity,
+  item: FeedbackInput,
+  dedupKey: string,
+  known: boolean,
+  receivedAt: Date,
+): NewFeedbackRow {
+  return {
+    id: randomUUID(),
+    dedup_key: dedupKey,
+    client_iss: client.iss,
+    client_tenant: tenantColumn(client),
+    service_id: item.serviceId,
+    card_uuid: item.cardUuid,
+    advisory_card_uuid: known ? item.cardUuid : null,
+    outcome: item.outcome,
+    accepted_suggestion_ids_json: JSON.stringify(item.acceptedSuggestionIds),
+    override_reason_system: item.overrideReason?.system ?? null,
+    override_reason_code: item.overrideReason?.code ?? null,
+    outcome_timestamp: item.outcomeTimestamp,
+    outcome_at_ms: instantMs(item.outcomeTimestamp, 'outcomeTimestamp'),
+    received_at: receivedAt.toISOString(),
+    received_at_ms: receivedAt.getTime(),
+  };
 }
 
 export type RecordFeedbackNow = (
@@ -65,8 +97,6 @@ export function prepareFeedbackWriter(db: Database.Database): RecordFeedbackNow 
   const write = db.transaction(
     (client: ClientIdentity, items: readonly FeedbackInput[], receivedAt: Date, limits: FeedbackLimits) => {
       const tenant = tenantColumn(client);
-      const receivedAtMs = receivedAt.getTime();
-      const receivedAtText = receivedAt.toISOString();
       // Each item is either a repeat of a row held (or of an earlier item in this request) or new.
       const slots: ({ kind: 'held'; row: FeedbackRow } | { kind: 'new'; row: FeedbackRow })[] = [];
       const newByKey = new Map<string, NewFeedbackRow>();
@@ -78,29 +108,13 @@ export function prepareFeedbackWriter(db: Database.Database): RecordFeedbackNow 
           continue;
         }
         const known = isIssuedTo.get(item.cardUuid, client.iss, tenant, item.serviceId) !== undefined;
-        const row: NewFeedbackRow = {
-          id: randomUUID(),
-          dedup_key: dedupKey,
-          client_iss: client.iss,
-          client_tenant: tenant,
-          service_id: item.serviceId,
-          card_uuid: item.cardUuid,
-          advisory_card_uuid: known ? item.cardUuid : null,
-          outcome: item.outcome,
-          accepted_suggestion_ids_json: JSON.stringify(item.acceptedSuggestionIds),
-          override_reason_system: item.overrideReason?.system ?? null,
-          override_reason_code: item.overrideReason?.code ?? null,
-          outcome_timestamp: item.outcomeTimestamp,
-          outcome_at_ms: instantMs(item.outcomeTimestamp, 'outcomeTimestamp'),
-          received_at: receivedAtText,
-          received_at_ms: receivedAtMs,
-        };
+        const row = newFeedbackRow(client, item, dedupKey, known, receivedAt);
         newByKey.set(dedupKey, row);
         slots.push({ kind: 'new', row });
       }
 
-      const dayStartMs = Math.floor(receivedAtMs / DAY_MS) * DAY_MS;
-      const already = addedToday.get(client.iss, tenant, dayStartMs, dayStartMs + DAY_MS)?.n ?? 0;
+      const day = utcDayMs(receivedAt.getTime());
+      const already = addedToday.get(client.iss, tenant, day.startMs, day.endMs)?.n ?? 0;
       if (newByKey.size > 0 && already + newByKey.size > limits.maxRecordsPerClientPerDay) {
         return {
           kind: 'quota-exceeded',
