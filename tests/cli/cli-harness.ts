@@ -9,7 +9,12 @@ export interface CliRun {
 }
 
 /** Runs the CLI in-process with captured output and a fixed clock. */
-export async function runCommandLine(argv: readonly string[], now = new Date('2026-12-01T12:00:00Z')): Promise<CliRun> {
+export async function runCommandLine(
+  argv: readonly string[],
+  now = new Date('2026-12-01T12:00:00Z'),
+  /** The environment and working directory, for the commands that read them. */
+  shell: Pick<CliIo, 'env' | 'cwd'> = {},
+): Promise<CliRun> {
   let stdout = '';
   let stderr = '';
   const io: CliIo = {
@@ -21,6 +26,7 @@ export async function runCommandLine(argv: readonly string[], now = new Date('20
     },
     readFile: (path) => readFileSync(path, 'utf8'),
     now: () => now,
+    ...shell,
   };
   const code = await runCli(argv, io);
   return { code, stdout, stderr };

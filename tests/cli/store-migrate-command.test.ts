@@ -2,28 +2,14 @@ import { chmodSync, existsSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { describe, expect, it } from 'vitest';
-import type { CliIo } from '../../src/cli/cli-io.js';
-import { runCli } from '../../src/cli/run-cli.js';
 import { LATEST_SCHEMA_VERSION } from '../../src/store/migrations.js';
 import { STORE_FILE_NAME } from '../../src/store/open-store.js';
 import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from '../store/support/store-kinds.js';
 import { useTempDirs } from '../store/support/temp-dir.js';
+import { runCommandLine, type CliRun } from './cli-harness.js';
 
-/** Runs the CLI in-process with the given environment and working directory. */
-async function migrate(env: Record<string, string>, cwd: string): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = '';
-  let stderr = '';
-  const io: CliIo = {
-    stdout: (text) => (stdout += text),
-    stderr: (text) => (stderr += text),
-    readFile: () => '',
-    now: () => new Date('2026-12-01T12:00:00Z'),
-    env,
-    cwd,
-  };
-  const code = await runCli(['store', 'migrate'], io);
-  return { code, stdout, stderr };
-}
+/** `store migrate` run in-process with the given environment and working directory. */
+const migrate = (env: Record<string, string>, cwd: string): Promise<CliRun> => runCommandLine(['store', 'migrate'], undefined, { env, cwd });
 
 const userVersion = (file: string): number => {
   const db = new Database(file, { readonly: true });
