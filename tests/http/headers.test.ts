@@ -3,16 +3,9 @@ import { describe, expect, it } from 'vitest';
 import { HSTS_MAX_AGE_SECONDS } from '../../src/http/security-headers.js';
 import { orderSignRequest } from './larkspur-fixtures.js';
 import { buildTestApp } from './test-app.js';
+import { SECURITY_HEADERS } from './support/security-headers.js';
 
-/** Security headers on every response the app writes, success or error alike (section numbers from memory). */
-
-const SECURITY_HEADERS = {
-  'x-content-type-options': 'nosniff', // Fetch Standard §X-Content-Type-Options
-  'cache-control': 'no-store', // RFC 9111 §5.2.2.5
-  'referrer-policy': 'no-referrer', // W3C Referrer Policy §3.1
-  'x-frame-options': 'DENY', // RFC 7034 §2.1
-  'content-security-policy': "default-src 'none'; frame-ancestors 'none'", // CSP Level 2 §7.7
-} as const;
+/** Security headers on every response the app writes, success or error alike (support/security-headers.ts). */
 
 type Call = (app: Parameters<typeof request>[0]) => request.Test;
 

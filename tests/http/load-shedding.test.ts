@@ -5,6 +5,7 @@ import { orderSignRequest } from './larkspur-fixtures.js';
 import { listenApp, type AppServer } from './support/app-server.js';
 import { call, callAtOnce } from './support/many-callers.js';
 import { buildTestApp } from './test-app.js';
+import { SECURITY_HEADERS } from './support/security-headers.js';
 
 /**
  * 300 callers at once, as issue 9 tried them: the service sheds load by how long work waits (the
@@ -17,14 +18,6 @@ import { buildTestApp } from './test-app.js';
 const SERVICE = '/cds-services/oxygen-order-sign';
 const CALLERS = 300; // issue 9: "with 300 concurrent callers ... not one 503 was sent"
 
-// The same headers as on every other answer (tests/http/headers.test.ts; sources there, from memory).
-const SECURITY_HEADERS = {
-  'x-content-type-options': 'nosniff', // Fetch Standard §X-Content-Type-Options
-  'cache-control': 'no-store', // RFC 9111 §5.2.2.5
-  'referrer-policy': 'no-referrer', // W3C Referrer Policy §3.1
-  'x-frame-options': 'DENY', // RFC 7034 §2.1
-  'content-security-policy': "default-src 'none'; frame-ancestors 'none'", // CSP Level 2 §7.7
-} as const;
 
 let server: AppServer | undefined;
 
