@@ -1,3 +1,4 @@
+import { oncePerObject } from '../core/once-per-object.js';
 import type { Policy } from '../core/policy.js';
 
 /**
@@ -10,15 +11,7 @@ import type { Policy } from '../core/policy.js';
 
 /** `build(policy)`, built once for each policy object. */
 export function oncePerPolicy<T>(build: (policy: Policy) => T): (policy: Policy) => T {
-  const built = new WeakMap<Policy, { readonly value: T }>();
-  return (policy) => {
-    let entry = built.get(policy);
-    if (entry === undefined) {
-      entry = { value: build(policy) };
-      built.set(policy, entry);
-    }
-    return entry.value;
-  };
+  return oncePerObject(build);
 }
 
 /**

@@ -1,3 +1,4 @@
+import { oncePerObject } from './once-per-object.js';
 import { buildAssessment } from './assessment/build-assessment.js';
 import type { Assessment } from './assessment/types.js';
 import { policyForEncounter } from './assessment/unit-targets.js';
@@ -48,15 +49,10 @@ const RULES_BY_HOOK: ReadonlyMap<HookName, readonly Rule[]> = new Map(
 );
 
 /** A policy's disabled rule ids as a set, made once per policy (a policy is frozen once loaded). */
-const disabledSets = new WeakMap<readonly string[], ReadonlySet<string>>();
+const disabledSetOf = oncePerObject((ids: readonly string[]): ReadonlySet<string> => new Set(ids));
 
 function disabledRuleIds(policy: Policy): ReadonlySet<string> {
-  let disabled = disabledSets.get(policy.disabledRules);
-  if (disabled === undefined) {
-    disabled = new Set(policy.disabledRules);
-    disabledSets.set(policy.disabledRules, disabled);
-  }
-  return disabled;
+  return disabledSetOf(policy.disabledRules);
 }
 
 /** Keeps `finding` unless the same finding is already kept; `kept` groups them by rule and order. */

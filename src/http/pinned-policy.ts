@@ -1,3 +1,4 @@
+import { oncePerObject } from '../core/once-per-object.js';
 import type { Response } from 'express';
 import type { PolicyHolder, PolicySnapshot } from '../live-policy/policy-snapshot.js';
 
@@ -29,14 +30,5 @@ export function pinnedPolicy(res: Response): PolicySnapshot {
  * snapshot close over its policy, hash and wording only, so they cannot mix two policies.
  */
 export function perSnapshot<T extends object>(build: (snapshot: PolicySnapshot) => T): (snapshot: PolicySnapshot) => T {
-  const built = new WeakMap<PolicySnapshot, T>();
-  return (snapshot) => {
-    const known = built.get(snapshot);
-    if (known !== undefined) {
-      return known;
-    }
-    const made = build(snapshot);
-    built.set(snapshot, made);
-    return made;
-  };
+  return oncePerObject(build);
 }

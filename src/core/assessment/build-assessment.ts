@@ -1,3 +1,4 @@
+import { oncePerObject } from '../once-per-object.js';
 import { stockedVenturiSettings } from '../devices/catalogue.js';
 import { estimateDelivery } from '../devices/index.js';
 import type { DeliveryEstimate } from '../devices/types.js';
@@ -23,20 +24,15 @@ import type { Assessment, BarometricPressureUsed, CurrentValues } from './types.
 import type { UnitMatch } from './unit-targets.js';
 
 /** Each site's pressure, worked out once: it depends on the policy's (frozen) site alone. */
-const pressureOfSite = new WeakMap<Policy['site'], BarometricPressureUsed>();
+const pressureOfSite = oncePerObject(workOutSitePressure);
 
 /** The pressure the site uses: a measured or agreed policy value wins over the altitude model. */
 export function siteBarometricPressure(policy: Policy): BarometricPressureUsed {
-  let pressure = pressureOfSite.get(policy.site);
-  if (pressure === undefined) {
-    pressure = workOutSitePressure(policy);
-    pressureOfSite.set(policy.site, pressure);
-  }
-  return pressure;
+  return pressureOfSite(policy.site);
 }
 
-function workOutSitePressure(policy: Policy): BarometricPressureUsed {
-  const configured = policy.site.barometricPressureMmHg;
+function workOutSitePressure(policySite: Policy['site']): BarometricPressureUsed {
+  const configured = policySite.barometricPressureMmHg;
   if (configured !== undefined) {
     return {
       mmHg: configured,
@@ -45,13 +41,13 @@ function workOutSitePressure(policy: Policy): BarometricPressureUsed {
       computation: {
         name: 'Barometric pressure',
         formula: 'site pressure set in the local policy',
-        substituted: policy.site.name,
+        substituted: policySite.name,
         result: formatMmHg(configured),
         sourceKey: 'local-policy',
       },
     };
   }
-  const altitude = policy.site.altitudeM;
+  const altitude = policySite.altitudeM;
   const site = siteBarometricPressureMmHg(altitude);
   const formula =
     site.model === 'isa-1993'
