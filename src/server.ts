@@ -275,6 +275,19 @@ function logDemoSeed(log: Logger, outcome: DemoSeedOutcome): void {
 }
 
 async function main(): Promise<void> {
+  // SIGHUP is the usual "read your configuration again" signal for a daemon; without a listener
+  // Node would exit on it. It is listened for before start-up, so a SIGHUP sent as soon as the
+  // listening line appears (or while starting) never ends the process; one sent while starting is
+  // carried out once started. Kept through shutdown: a late SIGHUP must not end the process before
+  // calls in flight finish. The outcome is logged by the reloader.
+  const signals: { reload?: () => void; reloadAsked: boolean } = { reloadAsked: false };
+  process.on('SIGHUP', () => {
+    if (signals.reload === undefined) {
+      signals.reloadAsked = true;
+    } else {
+      signals.reload();
+    }
+  });
   const result = await startServer(process.env, process.cwd());
   if (result.kind === 'refused') {
     process.stderr.write(`oxygen-order-checker refused to start:\n${result.problems}\n`);
@@ -282,13 +295,12 @@ async function main(): Promise<void> {
     return;
   }
   const { close, reloadPolicy } = result.started;
-  // SIGHUP is the usual "read your configuration again" signal for a daemon; without a listener
-  // Node would exit on it. The outcome is logged by the reloader.
-  const reload = (): void => {
+  signals.reload = (): void => {
     void reloadPolicy('signal');
   };
-  // Kept through shutdown: a late SIGHUP must not end the process before calls in flight finish.
-  process.on('SIGHUP', reload);
+  if (signals.reloadAsked) {
+    signals.reload();
+  }
   const stop = (): void => {
     void close().then(() => {
       process.exitCode = 0;

@@ -37,17 +37,24 @@ export function runServerProcess(env: Record<string, string>): ServerProcess {
       .split('\n')
       .filter((line) => line.trim() !== '')
       .map((line) => JSON.parse(line) as Record<string, unknown>);
+  let exited: { code: number | null; signal: NodeJS.Signals | null } | undefined;
+  // A process that ends before the line is awaited fails the wait at once, rather than at the test's timeout.
   const waitForLine = (msgStart: string): Promise<Record<string, unknown>> =>
-    new Promise((resolve) => {
+    new Promise((resolve, reject) => {
       const check = (): void => {
         const found = lines().find((line) => String(line['msg']).startsWith(msgStart));
-        if (found === undefined) waiters.push(check);
-        else resolve(found);
+        if (found !== undefined) resolve(found);
+        else if (exited !== undefined) reject(new Error(`the service ended (${String(exited.code ?? exited.signal)}) before logging "${msgStart}"`));
+        else waiters.push(check);
       };
       check();
     });
   const exit = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => {
-    child.on('exit', (code, signal) => resolve({ code, signal }));
+    child.on('exit', (code, signal) => {
+      exited = { code, signal };
+      for (const waiter of waiters.splice(0)) waiter();
+      resolve({ code, signal });
+    });
   });
   return { child, lines, waitForLine, exit };
 }
