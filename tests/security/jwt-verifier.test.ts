@@ -199,6 +199,7 @@ describe('createJwtVerifier', () => {
       // RFC 7519 §7.2 step 10: the claims set must be a JSON object
       ['a payload that is an array', `${head}.${b64(['iss'])}.AA`],
       ['a payload that is a JSON string', `${head}.${b64('iss')}.AA`],
+      ['a payload that is null', `${head}.${b64(null)}.AA`],
       ['a payload that is not JSON', `${head}.${Buffer.from('not json').toString('base64url')}.AA`],
     ])('refuses a token with %s as malformed', async (_name, token) => {
       expect(await reasonFor(token)).toBe('malformed');
