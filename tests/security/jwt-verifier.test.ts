@@ -77,7 +77,7 @@ describe('createJwtVerifier', () => {
       expect(await reasonFor(signToken(EHR_ES384, claims(aud)))).toBe('verified');
     });
 
-    it.each(['ES384', 'RS384'] as const)('accepts a %s token signed by jsonwebtoken, an independent signer', async (alg) => {
+    it.each(['ES384', 'RS384'] as const)('accepts a %s token signed by jsonwebtoken, as a Node client would sign it', async (alg) => {
       const key = alg === 'ES384' ? EHR_ES384 : EHR_RS384;
       const token = jwt.sign(claims(SIGN_AUD), key.privateKey, { algorithm: alg, keyid: key.kid, header: { alg, typ: 'JWT' } });
       expect(await reasonFor(token)).toBe('verified');
