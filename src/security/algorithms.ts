@@ -1,5 +1,3 @@
-import { constants, verify as verifySignatureBytes, type KeyObject } from 'node:crypto';
-
 /**
  * The JWS algorithms a CDS client may sign with. CDS Hooks 2.0 §JWT signing algorithm: `none` and
  * every symmetric algorithm SHALL NOT be used; ES384 and RS384 are RECOMMENDED. Everything here is
@@ -23,25 +21,23 @@ export const DEFAULT_ALGORITHMS: readonly SigningAlgorithm[] = Object.freeze(['E
 
 export type EcCurve = 'P-256' | 'P-384' | 'P-521';
 
+/** The key each algorithm needs; the signature itself is jsonwebtoken's to check. */
 interface AlgorithmSpec {
   readonly kty: 'EC' | 'RSA';
-  readonly hash: 'sha256' | 'sha384' | 'sha512';
-  /** RFC 7518 §3.4: the curve each ES algorithm uses, and its fixed R||S signature length. */
+  /** RFC 7518 §3.4: the curve each ES algorithm uses. */
   readonly curve?: EcCurve;
-  readonly signatureBytes?: number;
-  readonly pss?: boolean;
 }
 
 const SPECS: Readonly<Record<SigningAlgorithm, AlgorithmSpec>> = {
-  ES256: { kty: 'EC', hash: 'sha256', curve: 'P-256', signatureBytes: 64 },
-  ES384: { kty: 'EC', hash: 'sha384', curve: 'P-384', signatureBytes: 96 },
-  ES512: { kty: 'EC', hash: 'sha512', curve: 'P-521', signatureBytes: 132 },
-  RS256: { kty: 'RSA', hash: 'sha256' },
-  RS384: { kty: 'RSA', hash: 'sha384' },
-  RS512: { kty: 'RSA', hash: 'sha512' },
-  PS256: { kty: 'RSA', hash: 'sha256', pss: true },
-  PS384: { kty: 'RSA', hash: 'sha384', pss: true },
-  PS512: { kty: 'RSA', hash: 'sha512', pss: true },
+  ES256: { kty: 'EC', curve: 'P-256' },
+  ES384: { kty: 'EC', curve: 'P-384' },
+  ES512: { kty: 'EC', curve: 'P-521' },
+  RS256: { kty: 'RSA' },
+  RS384: { kty: 'RSA' },
+  RS512: { kty: 'RSA' },
+  PS256: { kty: 'RSA' },
+  PS384: { kty: 'RSA' },
+  PS512: { kty: 'RSA' },
 };
 
 /** RFC 7518 §3.3 and §3.5: RSA keys of 2048 bits or larger MUST be used. */
@@ -87,37 +83,4 @@ export function keySuitsAlgorithm(key: KeyShape, alg: SigningAlgorithm): boolean
     return key.crv === spec.curve;
   }
   return (key.modulusBits ?? 0) >= MIN_RSA_MODULUS_BITS;
-}
-
-/**
- * Checks a JWS signature (RFC 7515 §5.2 step 8) over the ASCII signing input. ES signatures are the
- * raw R||S form of RFC 7518 §3.4 (not DER); PS uses a salt as long as the hash (RFC 7518 §3.5).
- */
-export function verifyJwsSignature(
-  alg: SigningAlgorithm,
-  key: KeyObject,
-  signingInput: Buffer,
-  signature: Buffer,
-): boolean {
-  const spec = SPECS[alg];
-  if (spec.signatureBytes !== undefined && signature.length !== spec.signatureBytes) {
-    return false;
-  }
-  try {
-    if (spec.kty === 'EC') {
-      return verifySignatureBytes(spec.hash, signingInput, { key, dsaEncoding: 'ieee-p1363' }, signature);
-    }
-    if (spec.pss === true) {
-      return verifySignatureBytes(
-        spec.hash,
-        signingInput,
-        { key, padding: constants.RSA_PKCS1_PSS_PADDING, saltLength: constants.RSA_PSS_SALTLEN_DIGEST },
-        signature,
-      );
-    }
-    return verifySignatureBytes(spec.hash, signingInput, key, signature);
-  } catch {
-    // A key node cannot use for this operation is a failed check, not a crash.
-    return false;
-  }
 }

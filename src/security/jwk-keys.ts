@@ -49,8 +49,8 @@ function publicMembers(jwk: Readonly<Record<string, unknown>>): JsonWebKey | und
 
 /**
  * Checks one public signing JWK and builds its KeyObject. Refused: private or symmetric keys, keys
- * without `kid`, `use` other than `sig`, `key_ops` without `verify`, curves and sizes RFC 7518 does not
- * allow for signing, and an `alg` that is not one of ours or does not fit the key.
+ * without a printable ASCII `kid`, `use` other than `sig`, `key_ops` without `verify`, curves and
+ * sizes RFC 7518 does not allow for signing, and an `alg` that is not one of ours or does not fit it.
  */
 export function preparePublicJwk(input: unknown): PrepareOutcome {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) {
@@ -72,6 +72,11 @@ export function preparePublicJwk(input: unknown): PrepareOutcome {
   }
   if (typeof kid !== 'string' || kid === '') {
     return refuse("must have a non-empty 'kid' (tokens name their key by kid)");
+  }
+  // jsonwebtoken (jws) reads a token header byte by byte as Latin-1, so a kid beyond ASCII could
+  // never match the kid a token names: refused here, loudly, rather than never matched.
+  if (!/^[\x20-\x7e]+$/.test(kid)) {
+    return refuse("must have a 'kid' of printable ASCII characters (token headers are read as Latin-1)");
   }
   if (use !== undefined && use !== 'sig') {
     return refuse("has 'use' other than 'sig'");

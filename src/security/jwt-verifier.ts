@@ -1,16 +1,21 @@
-import { isSigningAlgorithm, keySuitsAlgorithm, verifyJwsSignature, type SigningAlgorithm } from './algorithms.js';
+import jwt from 'jsonwebtoken';
+import { isSigningAlgorithm, keySuitsAlgorithm, type SigningAlgorithm } from './algorithms.js';
 import type { PreparedKey } from './jwk-keys.js';
 import type { JwksStore } from './jwks-store.js';
-import { decodeCompactJws } from './jws-compact.js';
-import { checkClaims, type CheckedClaims, type ClaimFailure, type ClaimLimits } from './jwt-claims.js';
+import { checkCdsClaims, type CheckedClaims, type ClaimFailure, type ClaimLimits } from './jwt-claims.js';
 import type { ReplayCache } from './replay-cache.js';
 import type { TrustConfig, TrustedClient } from './trust-config.js';
 
 /**
  * Verifies a CDS client's bearer JWT (CDS Hooks 2.0 §Trusting CDS Clients; RFC 7515 §5.2, RFC 7519
- * §7.2). Order matters: everything that needs no key is checked first; a key is looked up only for a
- * trusted issuer and only from that issuer's own sources; the replay cache is written last, so a
- * forged or otherwise refused token can never fill it or burn a genuine token's `jti`.
+ * §7.2). jsonwebtoken decodes the token and checks the signature, `exp` and `nbf` with the clock skew,
+ * the issuer and the algorithm against the client's list; this file adds only what CDS Hooks asks on
+ * top: the trust file's clients, the key by `kid` from the client's own sources (the `jku`
+ * allowlist), the header rules, the claims jsonwebtoken leaves optional (jwt-claims.ts), the audience
+ * of the endpoint called, the tenant, and the replay cache. Order matters: everything that needs no
+ * key is checked first; a key is looked up only for a trusted issuer and only from that issuer's own
+ * sources; the replay cache is written last, so a forged or otherwise refused token can never fill it
+ * or burn a genuine token's `jti`.
  */
 export type VerifyFailure =
   | 'malformed'
@@ -23,6 +28,8 @@ export type VerifyFailure =
   | 'jwks-unavailable'
   | 'key-unsuitable'
   | 'signature-invalid'
+  | 'expired'
+  | 'nbf-in-future'
   | ClaimFailure
   | 'jti-replayed'
   /** The client holds its whole share of the replay cache: answered 429, not 401. */
@@ -81,6 +88,84 @@ function labelsOf(header: JsonObject, payload: JsonObject): TokenLabels {
   return Object.fromEntries(Object.entries(entries).filter(([, v]) => v !== undefined));
 }
 
+/** Bigger than any CDS client token needs; refused before any decoding work. */
+export const MAX_TOKEN_LENGTH = 8192;
+
+function isJsonObject(value: unknown): value is JsonObject {
+  return value !== null && typeof value === 'object' && !Array.isArray(value);
+}
+
+/**
+ * The header and payload as jsonwebtoken reads them (three base64url segments, RFC 7515 §7.1), so the
+ * key is chosen from the same reading of the header that the signature check uses. Both must be JSON
+ * objects (RFC 7515 §5.2 steps 1-3; RFC 7519 §7.2 step 10); jsonwebtoken would pass an array or a
+ * bare string on. Duplicate member names keep the last, as JSON.parse does (RFC 7515 §5.2 allows it).
+ */
+function decodeToken(token: string): { readonly header: JsonObject; readonly payload: JsonObject } | undefined {
+  if (token.length > MAX_TOKEN_LENGTH) {
+    return undefined;
+  }
+  let decoded: jwt.Jwt | null;
+  try {
+    decoded = jwt.decode(token, { complete: true });
+  } catch {
+    // jws throws on a payload that is not JSON when the header says typ JWT
+    return undefined;
+  }
+  if (decoded === null || !isJsonObject(decoded.header) || !isJsonObject(decoded.payload)) {
+    return undefined;
+  }
+  return { header: decoded.header, payload: decoded.payload };
+}
+
+/**
+ * jsonwebtoken's refusals, for the log's stable reason codes. Its time errors have their own classes;
+ * the rest are plain JsonWebTokenErrors told apart by message only (jsonwebtoken 9, pinned in
+ * package.json; tests/security/jwt-verifier.test.ts meets each message listed here). Anything else
+ * thrown while checking, such as an ES signature of the wrong length (RFC 7518 §3.4), is a bad
+ * signature. Its issuer and algorithm checks repeat ones made above on the same reading of the token,
+ * so they cannot refuse what passed here; any other refusal is logged as `malformed`.
+ */
+const SIGNATURE_MESSAGES: ReadonlySet<string> = new Set(['invalid signature', 'jwt signature is required']);
+const CLAIM_MESSAGES: ReadonlyMap<string, VerifyFailure> = new Map([
+  ['invalid exp value', 'exp-missing'],
+  ['invalid nbf value', 'nbf-in-future'],
+]);
+
+type JwtOptions = jwt.VerifyOptions & { readonly complete: false };
+
+type SignatureCheck =
+  | { readonly kind: 'ok'; readonly payload: JsonObject }
+  | { readonly kind: 'bad-signature' }
+  | { readonly kind: 'refused'; readonly reason: VerifyFailure };
+
+function failureOf(error: unknown): SignatureCheck {
+  if (error instanceof jwt.TokenExpiredError) {
+    return { kind: 'refused', reason: 'expired' };
+  }
+  if (error instanceof jwt.NotBeforeError) {
+    return { kind: 'refused', reason: 'nbf-in-future' };
+  }
+  if (!(error instanceof jwt.JsonWebTokenError) || SIGNATURE_MESSAGES.has(error.message)) {
+    return { kind: 'bad-signature' };
+  }
+  return { kind: 'refused', reason: CLAIM_MESSAGES.get(error.message) ?? 'malformed' };
+}
+
+/**
+ * One key's check by jsonwebtoken: signature with the client's algorithms only, `iss`, `exp` and
+ * `nbf` with the skew, at the injected clock. `aud` is not given to it: see checkCdsClaims.
+ */
+function checkWithKey(token: string, key: PreparedKey, options: JwtOptions): SignatureCheck {
+  let payload: string | jwt.JwtPayload;
+  try {
+    payload = jwt.verify(token, key.keyObject, options);
+  } catch (error) {
+    return failureOf(error);
+  }
+  return isJsonObject(payload) ? { kind: 'ok', payload } : { kind: 'refused', reason: 'malformed' };
+}
+
 /** RFC 7515 §4.1.9 and RFC 7519 §5.1: `JWT`, compared case-insensitively, `application/` optional. */
 function isJwtType(typ: unknown): boolean {
   return typeof typ === 'string' && /^(application\/)?jwt$/i.test(typ);
@@ -103,7 +188,8 @@ type KeyChoice =
  * that is not on the client's allowlist is never fetched (fetching it would be server-side request
  * forgery and trivial key substitution) but does not refuse the token either: EHRs put their own
  * `jku` in every header, and the token is then checked against the keys the trust file gives for
- * this client by `kid`, as if the header had no `jku` (docs/security.md, "What is checked on every call", step 5).
+ * this client by `kid`, as if the header had no `jku` (docs/security.md, "What is checked on every
+ * call", step 5).
  * Keys from the trust file are answered at once, without a promise: most clients list their keys there.
  */
 function chooseKeys(client: TrustedClient, kid: string, jku: unknown, jwks: JwksStore): KeyChoice | Promise<KeyChoice> {
@@ -131,8 +217,9 @@ async function fetchedKeys(url: string, kid: string, iss: string, jwks: JwksStor
 }
 
 export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
+  const { limits } = deps;
   return async (token, audience) => {
-    const decoded = decodeCompactJws(token);
+    const decoded = decodeToken(token);
     if (decoded === undefined) {
       return { kind: 'refused', reason: 'malformed', labels: {} };
     }
@@ -152,6 +239,7 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
       return refuse('kid-missing');
     }
     // RFC 7515 §4.1.11: extensions listed in crit that are not understood MUST make the JWS invalid.
+    // jsonwebtoken ignores crit (and so RFC 7797 b64), so this check is ours.
     if (header['crit'] !== undefined) {
       return refuse('crit-unsupported');
     }
@@ -168,19 +256,35 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
     if (choice.kind === 'refused') {
       return refuse(choice.reason);
     }
+    // jsonwebtoken checks key type and curve as well, but neither RSA size nor the JWK's own alg.
     const suitable = choice.keys.filter((key) => keySuitsAlgorithm(key, alg));
     if (suitable.length === 0) {
       return refuse('key-unsuitable');
     }
-    if (!suitable.some((key) => verifyJwsSignature(alg, key.keyObject, decoded.signingInput, decoded.signature))) {
-      return refuse('signature-invalid');
-    }
     const nowMs = deps.clock().getTime();
-    const checked = checkClaims(payload, {
+    const options: JwtOptions = {
+      // jsonwebtoken only reads the list; the client's frozen list is passed as it is.
+      algorithms: client.algorithms as SigningAlgorithm[],
+      complete: false,
+      issuer: client.iss,
+      clockTimestamp: nowMs / 1000,
+      clockTolerance: limits.clockSkewS,
+    };
+    let verified: SignatureCheck = { kind: 'bad-signature' };
+    for (const key of suitable) {
+      verified = checkWithKey(token, key, options);
+      if (verified.kind !== 'bad-signature') {
+        break;
+      }
+    }
+    if (verified.kind !== 'ok') {
+      return refuse(verified.kind === 'refused' ? verified.reason : 'signature-invalid');
+    }
+    const checked = checkCdsClaims(verified.payload, {
       nowS: nowMs / 1000,
       audience,
       tenants: client.tenants,
-      limits: deps.limits,
+      limits,
     });
     if (checked.kind === 'refused') {
       return refuse(checked.reason);

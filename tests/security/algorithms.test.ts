@@ -1,4 +1,3 @@
-import { constants, generateKeyPairSync, sign } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import {
   DEFAULT_ALGORITHMS,
@@ -6,13 +5,9 @@ import {
   keySuitsAlgorithm,
   refusedAlgorithmReason,
   SIGNING_ALGORITHMS,
-  verifyJwsSignature,
   type KeyShape,
   type SigningAlgorithm,
 } from '../../src/security/algorithms.js';
-import { makeKey, type TestAlg } from './support/keys.js';
-
-const INPUT = Buffer.from('eyJhbGciOiJFUzM4NCJ9.eyJpc3MiOiJsYXJrc3B1ciJ9');
 
 describe('signing algorithms', () => {
   it('defaults to ES384 and RS384', () => {
@@ -42,19 +37,6 @@ describe('signing algorithms', () => {
     expect(refusedAlgorithmReason('PS256')).toBeUndefined();
   });
 
-  // Signatures made by node's own signer for each RFC 7518 algorithm must verify.
-  it.each(['ES256', 'ES384', 'ES512', 'RS256', 'PS384'] as const)('verifies a %s signature', (alg: TestAlg) => {
-    const key = makeKey(alg, `kid-${alg}`);
-    const hash = `sha${alg.slice(2)}`;
-    const signature = alg.startsWith('ES')
-      ? sign(hash, INPUT, { key: key.privateKey, dsaEncoding: 'ieee-p1363' })
-      : alg.startsWith('PS')
-        ? sign(hash, INPUT, { key: key.privateKey, padding: constants.RSA_PKCS1_PSS_PADDING, saltLength: constants.RSA_PSS_SALTLEN_DIGEST }) // RFC 7518 §3.5: salt as long as the hash
-        : sign(hash, INPUT, key.privateKey);
-    expect(verifyJwsSignature(alg, key.publicKey, INPUT, signature)).toBe(true);
-    expect(verifyJwsSignature(alg, key.publicKey, Buffer.from(`${INPUT.toString()}x`), signature)).toBe(false);
-  });
-
   describe('key suitability', () => {
     const ec384: KeyShape = { kty: 'EC', crv: 'P-384', modulusBits: undefined, alg: undefined };
     const rsa2048: KeyShape = { kty: 'RSA', crv: undefined, modulusBits: 2048, alg: undefined };
@@ -73,28 +55,6 @@ describe('signing algorithms', () => {
       ['P-384 declaring ES384, for ES384', { ...ec384, alg: 'ES384' }, 'ES384', true],
     ])('%s: %s', (_name, key, alg, suits) => {
       expect(keySuitsAlgorithm(key, alg)).toBe(suits);
-    });
-  });
-
-  describe('edge cases', () => {
-    it('refuses an ES384 signature in DER form (RFC 7518 §3.4 requires the 96-byte R||S form)', () => {
-      const key = makeKey('ES384', 'der');
-      const der = sign('sha384', INPUT, key.privateKey);
-      expect(der.length).not.toBe(96);
-      expect(verifyJwsSignature('ES384', key.publicKey, INPUT, der)).toBe(false);
-    });
-
-    it('refuses an RS256 signature offered as PS256, and the reverse', () => {
-      const key = makeKey('RS256', 'pkcs1');
-      const pkcs1 = sign('sha256', INPUT, key.privateKey);
-      expect(verifyJwsSignature('PS256', key.publicKey, INPUT, pkcs1)).toBe(false);
-      const pss = sign('sha256', INPUT, { key: key.privateKey, padding: constants.RSA_PKCS1_PSS_PADDING, saltLength: constants.RSA_PSS_SALTLEN_DIGEST });
-      expect(verifyJwsSignature('RS256', key.publicKey, INPUT, pss)).toBe(false);
-    });
-
-    it('answers false, not an exception, for a key node cannot verify with', () => {
-      const { publicKey } = generateKeyPairSync('ed25519');
-      expect(verifyJwsSignature('RS256', publicKey, INPUT, Buffer.alloc(256))).toBe(false);
     });
   });
 });

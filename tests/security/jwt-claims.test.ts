@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { checkClaims, MAX_JTI_LENGTH, type ClaimExpectations } from '../../src/security/jwt-claims.js';
+import { checkCdsClaims, MAX_JTI_LENGTH, type ClaimExpectations } from '../../src/security/jwt-claims.js';
 
 const NOW_S = 1_741_942_800; // 2025-03-14T09:00:00Z, the Larkspur Bay test clock
 const AUD = 'https://cds.larkspur-bay.example/cds-services/oxygen-order-sign';
@@ -14,10 +14,10 @@ const expect0: ClaimExpectations = {
 
 const good = { iss: 'https://ehr.larkspur-bay.example', aud: AUD, iat: NOW_S - 10, exp: NOW_S + 290, jti: 'lbgh-jti-1' };
 
-describe('checkClaims', () => {
+describe('checkCdsClaims', () => {
   it('accepts a token as the sandbox client makes them (exp = iat + 300)', () => {
     // CDS Hooks reference (sandbox): exp = iat + 300
-    expect(checkClaims(good, expect0)).toStrictEqual({
+    expect(checkCdsClaims(good, expect0)).toStrictEqual({
       kind: 'ok',
       claims: { expS: NOW_S + 290, iatS: NOW_S - 10, jti: 'lbgh-jti-1', tenant: undefined },
     });
@@ -27,10 +27,6 @@ describe('checkClaims', () => {
     // RFC 7519 §4.1.4: the current time MUST be before exp (leeway allowed)
     ['no exp', { exp: undefined }, 'exp-missing'],
     ['exp as a string', { exp: String(NOW_S + 60) }, 'exp-missing'],
-    ['exp past the leeway', { iat: NOW_S - 400, exp: NOW_S - 60 }, 'expired'],
-    // RFC 7519 §4.1.5: not before nbf
-    ['nbf past the leeway', { nbf: NOW_S + 61 }, 'nbf-in-future'],
-    ['nbf that is not a number', { nbf: 'soon' }, 'nbf-in-future'],
     // CDS Hooks 2.0 §Trusting CDS Clients: iat is REQUIRED
     ['no iat', { iat: undefined }, 'iat-missing'],
     // common practice: reject far-future iat (cds-hooks.md §7, implementer choice)
@@ -49,7 +45,7 @@ describe('checkClaims', () => {
     ['a numeric jti', { jti: 42 }, 'jti-missing'],
     ['a tenant that is not a string', { tenant: 7 }, 'tenant-invalid'],
   ])('refuses %s', (_name, change, reason) => {
-    expect(checkClaims({ ...good, ...change }, expect0)).toStrictEqual({ kind: 'refused', reason });
+    expect(checkCdsClaims({ ...good, ...change }, expect0)).toStrictEqual({ kind: 'refused', reason });
   });
 
   it.each([
@@ -58,42 +54,41 @@ describe('checkClaims', () => {
     ['a one-element array', [AUD]],
     ['an array with another audience too', ['https://other.example/cds-services/x', AUD]],
   ])('accepts aud as %s', (_name, aud) => {
-    expect(checkClaims({ ...good, aud }, expect0).kind).toBe('ok');
+    expect(checkCdsClaims({ ...good, aud }, expect0).kind).toBe('ok');
   });
 
   it('checks the tenant against the client list when the client has one', () => {
     const withTenants = { ...expect0, tenants: ['north-campus'] };
-    expect(checkClaims({ ...good, tenant: 'north-campus' }, withTenants).kind).toBe('ok');
-    expect(checkClaims({ ...good, tenant: 'south-campus' }, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
-    expect(checkClaims(good, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
-    expect(checkClaims({ ...good, tenant: 'south-campus' }, expect0).kind).toBe('ok');
+    expect(checkCdsClaims({ ...good, tenant: 'north-campus' }, withTenants).kind).toBe('ok');
+    expect(checkCdsClaims({ ...good, tenant: 'south-campus' }, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
+    expect(checkCdsClaims(good, withTenants)).toStrictEqual({ kind: 'refused', reason: 'tenant-not-allowed' });
+    expect(checkCdsClaims({ ...good, tenant: 'south-campus' }, expect0).kind).toBe('ok');
   });
 
   describe('edge cases', () => {
-    it('allows the leeway on each side and not a second more', () => {
-      expect(checkClaims({ ...good, iat: NOW_S - 300, exp: NOW_S - 59 }, expect0).kind).toBe('ok');
-      expect(checkClaims({ ...good, iat: NOW_S - 300, exp: NOW_S - 60 }, expect0).kind).toBe('refused');
-      expect(checkClaims({ ...good, iat: NOW_S + 60, exp: NOW_S + 120 }, expect0).kind).toBe('ok');
-      expect(checkClaims({ ...good, nbf: NOW_S + 60 }, expect0).kind).toBe('ok');
+    it('allows iat the leeway into the future and not a second more', () => {
+      // exp and nbf are jsonwebtoken's, with the same leeway: see jwt-verifier.test.ts
+      expect(checkCdsClaims({ ...good, iat: NOW_S + 60, exp: NOW_S + 120 }, expect0).kind).toBe('ok');
+      expect(checkCdsClaims({ ...good, iat: NOW_S + 61, exp: NOW_S + 120 }, expect0)).toStrictEqual({ kind: 'refused', reason: 'iat-in-future' });
     });
 
     it('accepts a lifetime of exactly the maximum', () => {
-      expect(checkClaims({ ...good, iat: NOW_S - 10, exp: NOW_S - 10 + 3600 }, expect0).kind).toBe('ok');
+      expect(checkCdsClaims({ ...good, iat: NOW_S - 10, exp: NOW_S - 10 + 3600 }, expect0).kind).toBe('ok');
     });
 
     it('accepts non-integer NumericDates (RFC 7519 §2)', () => {
-      expect(checkClaims({ ...good, iat: NOW_S - 0.5, exp: NOW_S + 10.25 }, expect0).kind).toBe('ok');
+      expect(checkCdsClaims({ ...good, iat: NOW_S - 0.5, exp: NOW_S + 10.25 }, expect0).kind).toBe('ok');
     });
 
     it('refuses a jti too long to be a nonce', () => {
-      expect(checkClaims({ ...good, jti: 'j'.repeat(MAX_JTI_LENGTH + 1) }, expect0)).toStrictEqual({
+      expect(checkCdsClaims({ ...good, jti: 'j'.repeat(MAX_JTI_LENGTH + 1) }, expect0)).toStrictEqual({
         kind: 'refused',
         reason: 'jti-missing',
       });
     });
 
     it('refuses an aud array holding a non-string', () => {
-      expect(checkClaims({ ...good, aud: [AUD, 5] }, expect0)).toStrictEqual({ kind: 'refused', reason: 'aud-mismatch' });
+      expect(checkCdsClaims({ ...good, aud: [AUD, 5] }, expect0)).toStrictEqual({ kind: 'refused', reason: 'aud-mismatch' });
     });
   });
 });

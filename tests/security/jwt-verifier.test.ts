@@ -1,7 +1,8 @@
+import { constants, sign, type KeyObject } from 'node:crypto';
 import jwt from 'jsonwebtoken';
 import { describe, expect, it } from 'vitest';
 import { createJwksStore } from '../../src/security/jwks-store.js';
-import { createJwtVerifier, type VerifierDeps } from '../../src/security/jwt-verifier.js';
+import { createJwtVerifier, MAX_TOKEN_LENGTH, type VerifierDeps } from '../../src/security/jwt-verifier.js';
 import { createMemoryReplayCache } from '../../src/security/replay-cache.js';
 import type { TrustConfig } from '../../src/security/trust-config.js';
 import { SPEC_JWKS, SPEC_PAYLOAD, SPEC_TOKEN } from '../fixtures/security/spec-jwt-example.js';
@@ -21,7 +22,7 @@ import {
   theatresClient,
   trustOf,
 } from './support/fixtures.js';
-import { makeKey, signToken, signWith } from './support/keys.js';
+import { makeKey, signToken, signWith, type TestAlg, type TestKey } from './support/keys.js';
 
 // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
 const LIMITS = { clockSkewS: 60, maxLifetimeS: 3600 };
@@ -76,7 +77,7 @@ describe('createJwtVerifier', () => {
       expect(await reasonFor(signToken(EHR_ES384, claims(aud)))).toBe('verified');
     });
 
-    it.each(['ES384', 'RS384'] as const)('accepts a %s token signed by jsonwebtoken, an independent signer', async (alg) => {
+    it.each(['ES384', 'RS384'] as const)('accepts a %s token signed by jsonwebtoken, as a Node client would sign it', async (alg) => {
       const key = alg === 'ES384' ? EHR_ES384 : EHR_RS384;
       const token = jwt.sign(claims(SIGN_AUD), key.privateKey, { algorithm: alg, keyid: key.kid, header: { alg, typ: 'JWT' } });
       expect(await reasonFor(token)).toBe('verified');
@@ -181,6 +182,154 @@ describe('createJwtVerifier', () => {
     });
   });
 
+  describe('the token format, as jsonwebtoken reads it', () => {
+    const head = b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid });
+    const body = b64(claims(SIGN_AUD));
+    it.each([
+      ['two segments', `${head}.${body}`],
+      ['four segments', `${head}.${body}.AA.AA`],
+      // RFC 7515 §2: base64url without padding
+      ['padding', `${head}=.${body}.AA`],
+      ['standard base64 characters', `${head}.${body}.A+/A`],
+      ['whitespace', ` ${head}.${body}.AA`],
+      ['a detached payload (RFC 7515 Appendix F)', `${head}..AA`],
+      ['a header that is not JSON', `bm90IGpzb24.${body}.AA`],
+      ['a header that is null', `${b64(null)}.${body}.AA`],
+      ['a header that is an array', `${b64(['ES384'])}.${body}.AA`],
+      // RFC 7519 §7.2 step 10: the claims set must be a JSON object
+      ['a payload that is an array', `${head}.${b64(['iss'])}.AA`],
+      ['a payload that is a JSON string', `${head}.${b64('iss')}.AA`],
+      ['a payload that is null', `${head}.${b64(null)}.AA`],
+      ['a payload that is not JSON', `${head}.${Buffer.from('not json').toString('base64url')}.AA`],
+    ])('refuses a token with %s as malformed', async (_name, token) => {
+      expect(await reasonFor(token)).toBe('malformed');
+    });
+
+    it('refuses a token longer than the cap as malformed, even when its signature is good', async () => {
+      const long = signToken(EHR_ES384, claims(SIGN_AUD, { pad: 'x'.repeat(MAX_TOKEN_LENGTH) }));
+      expect(long.length).toBeGreaterThan(MAX_TOKEN_LENGTH);
+      expect(await reasonFor(long)).toBe('malformed');
+    });
+
+    it('names an unsigned token (empty signature, RFC 7519 §6.1) by its algorithm', async () => {
+      expect(await reasonFor(`${b64({ alg: 'none', typ: 'JWT', kid: EHR_ES384.kid })}.${body}.`)).toBe('alg-not-allowed');
+    });
+  });
+
+  describe('signatures, checked by jsonwebtoken', () => {
+    // RFC 7518 §3.1: each of these algorithms, for a client that names it
+    it.each(['ES256', 'ES512', 'RS256', 'RS512', 'PS384', 'PS512'] as const)('accepts %s for a client that opts in', async (alg: TestAlg) => {
+      const key = makeKey(alg, `lbgh-${alg.toLowerCase()}`);
+      const optIn = trustOf([ehrClient({ jwks: { keys: [key.publicJwk] }, algorithms: [alg] })]);
+      expect(await reasonFor(signToken(key, claims(SIGN_AUD)), SIGN_AUD, verifier(optIn))).toBe('verified');
+    });
+
+    it('refuses an ES384 signature in DER form (RFC 7518 §3.4 requires the 96-byte R||S form)', async () => {
+      const input = `${b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid })}.${b64(claims(SIGN_AUD))}`;
+      const der = sign('sha384', Buffer.from(input), EHR_ES384.privateKey);
+      expect(der.length).not.toBe(96);
+      expect(await reasonFor(`${input}.${der.toString('base64url')}`)).toBe('signature-invalid');
+    });
+
+    it('refuses an empty signature on a token whose algorithm needs one', async () => {
+      const input = `${b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid })}.${b64(claims(SIGN_AUD))}`;
+      expect(await reasonFor(`${input}.`)).toBe('signature-invalid');
+    });
+
+    it('refuses an RS256 signature offered as PS256, and the reverse', async () => {
+      // RFC 7518 §3.3 and §3.5: PKCS #1 v1.5 and PSS are different schemes over the same key
+      const rsa = makeKey('RS256', 'lbgh-rsa-both');
+      const both = trustOf([ehrClient({ jwks: { keys: [{ ...rsa.publicJwk, alg: undefined }] }, algorithms: ['RS256', 'PS256'] })]);
+      const asPss = signWith('RS256', { alg: 'PS256', typ: 'JWT', kid: rsa.kid }, claims(SIGN_AUD), rsa.privateKey);
+      const asPkcs1 = signWith('PS256', { alg: 'RS256', typ: 'JWT', kid: rsa.kid }, claims(SIGN_AUD), rsa.privateKey);
+      expect(await reasonFor(asPss, SIGN_AUD, verifier(both))).toBe('signature-invalid');
+      expect(await reasonFor(asPkcs1, SIGN_AUD, verifier(both))).toBe('signature-invalid');
+    });
+
+    it('tries each suitable key that shares a kid (RFC 7517 §4.5) and accepts the one that verifies', async () => {
+      // a fetched set may hold two keys under one kid (the trust file refuses that)
+      const first = makeKey('ES384', 'lbgh-shared');
+      const second = makeKey('ES384', 'lbgh-shared');
+      const served = fakeFetch({ [EHR_JKU]: { keys: [first.publicJwk, second.publicJwk] } });
+      const check = verifier(trust, { fetch: served.fetch });
+      expect(await reasonFor(signToken(second, claims(SIGN_AUD), { jku: EHR_JKU }), SIGN_AUD, check)).toBe('verified');
+      expect(await reasonFor(signToken(first, claims(SIGN_AUD), { jku: EHR_JKU }), SIGN_AUD, check)).toBe('verified');
+      expect(await reasonFor(signToken(makeKey('ES384', 'lbgh-shared'), claims(SIGN_AUD), { jku: EHR_JKU }), SIGN_AUD, check)).toBe('signature-invalid');
+    });
+  });
+
+  describe('time, checked by jsonwebtoken with the skew', () => {
+    it.each<[string, Record<string, unknown>, string]>([
+      // RFC 7519 §4.1.4: the current time MUST be before exp, with a small leeway (60 s here)
+      ['exp just inside the leeway', { iat: NOW_S - 300, exp: NOW_S - 59 }, 'verified'],
+      ['exp at the end of the leeway', { iat: NOW_S - 300, exp: NOW_S - 60 }, 'expired'],
+      // RFC 7519 §4.1.5: not before nbf, with the same leeway
+      ['nbf at the end of the leeway', { nbf: NOW_S + 60 }, 'verified'],
+      ['nbf past the leeway', { nbf: NOW_S + 61 }, 'nbf-in-future'],
+      ['nbf that is not a number', { nbf: 'soon' }, 'nbf-in-future'],
+      ['nbf null', { nbf: null }, 'nbf-in-future'],
+      // RFC 7519 §2: NumericDate values may be non-integer
+      ['non-integer NumericDates', { iat: NOW_S - 0.5, exp: NOW_S + 10.25 }, 'verified'],
+      // jsonwebtoken takes a token without exp or iat; CDS Hooks 2.0 §Trusting CDS Clients requires both
+      ['no exp', { exp: undefined }, 'exp-missing'],
+      ['exp as a string', { exp: String(NOW_S + 60) }, 'exp-missing'],
+      ['no iat', { iat: undefined }, 'iat-missing'],
+      // jsonwebtoken does not look at iat; common practice: reject an iat past the leeway
+      ['iat at the end of the leeway', { iat: NOW_S + 60, exp: NOW_S + 120 }, 'verified'],
+      ['iat past the leeway', { iat: NOW_S + 61, exp: NOW_S + 120 }, 'iat-in-future'],
+      ['exp before iat', { iat: NOW_S + 30, exp: NOW_S + 20 }, 'lifetime-invalid'],
+      // CDS Hooks best practices: at most 1 h, however recent iat is
+      ['a lifetime of exactly an hour', { iat: NOW_S - 10, exp: NOW_S - 10 + 3600 }, 'verified'],
+      ['a lifetime a second over an hour', { iat: NOW_S - 10, exp: NOW_S - 10 + 3601 }, 'lifetime-too-long'],
+    ])('%s: %s', async (_name, change, reason) => {
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD, change)))).toBe(reason);
+    });
+  });
+
+  describe('where jsonwebtoken alone would accept more', () => {
+    it.each<[string, Record<string, unknown>]>([
+      // RFC 7515 §4.1.11: jsonwebtoken ignores crit; an extension not understood MUST make the JWS invalid
+      ['crit naming b64 (RFC 7797)', { b64: false, crit: ['b64'] }],
+      ['an empty crit', { crit: [] }],
+      ['crit naming a private extension', { 'urn:larkspur:x': 1, crit: ['urn:larkspur:x'] }],
+    ])('refuses %s, signed correctly', async (_name, header) => {
+      expect(await reasonFor(signToken(EHR_ES384, claims(SIGN_AUD), header))).toBe('crit-unsupported');
+    });
+
+    it('never checks a signature over an unencoded payload (b64 false without crit)', async () => {
+      const header = b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid, b64: false });
+      const payload = JSON.stringify(claims(SIGN_AUD));
+      const overRaw = signRaw(EHR_ES384, `${header}.${payload}`);
+      expect(await reasonFor(`${header}.${Buffer.from(payload).toString('base64url')}.${overRaw}`)).toBe('signature-invalid');
+    });
+
+    it('reads duplicate header names as the last one, for the key choice and the signature alike', async () => {
+      // RFC 7515 §5.2: a parser may use the lexically last duplicate; both readings here are jsonwebtoken's
+      const lastIsEs384 = `{"alg":"none","typ":"JWT","kid":"${EHR_ES384.kid}","alg":"ES384"}`;
+      expect(await reasonFor(rawToken(EHR_ES384, lastIsEs384, claims(SIGN_AUD)))).toBe('verified');
+      const lastIsNone = `{"alg":"ES384","typ":"JWT","kid":"${EHR_ES384.kid}","alg":"none"}`;
+      expect(await reasonFor(rawToken(EHR_ES384, lastIsNone, claims(SIGN_AUD)))).toBe('alg-not-allowed');
+      const lastKidUnknown = `{"alg":"ES384","typ":"JWT","kid":"${EHR_ES384.kid}","kid":"lbgh-not-a-key"}`;
+      expect(await reasonFor(rawToken(EHR_ES384, lastKidUnknown, claims(SIGN_AUD)))).toBe('kid-unknown');
+    });
+
+    it('reads a duplicate iss as the last one, so the key is always that issuer’s', async () => {
+      const payload = `{"iss":"${EHR_ISS}","aud":"${SIGN_AUD}","iat":${NOW_S - 5},"exp":${NOW_S + 295},"jti":"lbgh-dup-iss","iss":"https://theatres.larkspur-bay.example"}`;
+      const header = JSON.stringify({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid });
+      // the EHR's key under the theatres' iss: the theatres have no key of that kid
+      expect(await reasonFor(rawToken(EHR_ES384, header, payload))).toBe('kid-unknown');
+    });
+
+    it('refuses an aud array with a member that is not a string, which jsonwebtoken’s audience option passes', async () => {
+      expect(await reasonFor(signToken(EHR_ES384, claims([SIGN_AUD, 5])))).toBe('aud-mismatch');
+    });
+
+    it('accepts aud spelt with another host case, the default port or a trailing slash, which jsonwebtoken’s option refuses', async () => {
+      // docs/security.md step 8: compared after URL normalisation
+      expect(await reasonFor(signToken(EHR_ES384, claims('https://CDS.larkspur-bay.example:443/cds-services/oxygen-order-sign/')))).toBe('verified');
+    });
+  });
+
   describe('edge cases', () => {
     it('never fetches a jku that is not allowlisted, and checks the token against the configured keys by kid', async () => {
       const attacker = makeKey('ES384', EHR_ES384.kid);
@@ -258,4 +407,27 @@ function tamperSignature(token: string): string {
   const bytes = Buffer.from(sig, 'base64url');
   bytes[10] = (bytes[10] ?? 0) ^ 0x01;
   return `${head}.${body}.${bytes.toString('base64url')}`;
+}
+
+function b64(part: unknown): string {
+  return Buffer.from(JSON.stringify(part)).toString('base64url');
+}
+
+/** An ES/RS signature over exactly `input`, whatever the header says. */
+function signRaw(key: TestKey, input: string): string {
+  const hash = `sha${key.alg.slice(2)}`;
+  const privateKey: KeyObject = key.privateKey;
+  const signature = key.alg.startsWith('ES')
+    ? sign(hash, Buffer.from(input), { key: privateKey, dsaEncoding: 'ieee-p1363' })
+    : key.alg.startsWith('PS')
+      ? sign(hash, Buffer.from(input), { key: privateKey, padding: constants.RSA_PKCS1_PSS_PADDING, saltLength: constants.RSA_PSS_SALTLEN_DIGEST })
+      : sign(hash, Buffer.from(input), privateKey);
+  return signature.toString('base64url');
+}
+
+/** A token from header and payload text as given, duplicate names and all, signed correctly by `key`. */
+function rawToken(key: TestKey, headerJson: string, payload: string | Record<string, unknown>): string {
+  const text = typeof payload === 'string' ? payload : JSON.stringify(payload);
+  const input = `${Buffer.from(headerJson).toString('base64url')}.${Buffer.from(text).toString('base64url')}`;
+  return `${input}.${signRaw(key, input)}`;
 }
