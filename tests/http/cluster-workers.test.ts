@@ -104,6 +104,33 @@ function isRunning(pid: number): boolean {
   }
 }
 
+/** One hook call of its own (card uuids are stable per hookInstance); the uuids of its cards. */
+async function issueCards(url: string): Promise<string[]> {
+  const example = JSON.parse(readFileSync(EXAMPLE, 'utf8')) as unknown;
+  const moment = requestMoment(example);
+  if (moment === undefined) {
+    throw new Error('the example has no moment to retime from');
+  }
+  const hook = await call(url, SIGN_PATH, {
+    method: 'POST',
+    headers: { 'content-type': 'application/json', ...bearer(token(`${PUBLIC_URL}${SIGN_PATH}`)) },
+    body: JSON.stringify({ ...(retimeRequest(example, moment, new Date()) as object), hookInstance: randomUUID() }),
+  });
+  expect(hook.status).toBe(200);
+  const cards = (JSON.parse(hook.text) as { cards: { uuid: string }[] }).cards.map((card) => card.uuid);
+  expect(cards.length).toBeGreaterThan(0);
+  return cards;
+}
+
+/** CDS Hooks 2.0 §Feedback: an overridden outcome may come without a reason. */
+function postFeedback(url: string, card: string, outcomeTimestamp: string): Promise<Answer> {
+  return call(url, `${SIGN_PATH}/feedback`, {
+    method: 'POST',
+    headers: { 'content-type': 'application/json', ...bearer(token(`${PUBLIC_URL}${SIGN_PATH}/feedback`)) },
+    body: JSON.stringify({ feedback: [{ card, outcome: 'overridden', outcomeTimestamp }] }),
+  });
+}
+
 describe('two worker processes sharing one port and one SQLite store', () => {
   let dir = '';
   let folder: PolicyFolder;
@@ -177,25 +204,8 @@ describe('two worker processes sharing one port and one SQLite store', () => {
   }, SLOW_MS);
 
   it('shows feedback posted through one worker on the review API of both', async () => {
-    const example = JSON.parse(readFileSync(EXAMPLE, 'utf8')) as unknown;
-    const moment = requestMoment(example);
-    if (moment === undefined) {
-      throw new Error('the example has no moment to retime from');
-    }
-    const hook = await call(url, SIGN_PATH, {
-      method: 'POST',
-      headers: { 'content-type': 'application/json', ...bearer(token(`${PUBLIC_URL}${SIGN_PATH}`)) },
-      body: JSON.stringify({ ...(retimeRequest(example, moment, new Date()) as object), hookInstance: randomUUID() }),
-    });
-    expect(hook.status).toBe(200);
-    const card = ((JSON.parse(hook.text) as { cards: { uuid: string }[] }).cards[0] ?? { uuid: '' }).uuid;
-    expect(card).not.toBe('');
-    // CDS Hooks 2.0 §Feedback: an overridden outcome may come without a reason
-    const posted = await call(url, `${SIGN_PATH}/feedback`, {
-      method: 'POST',
-      headers: { 'content-type': 'application/json', ...bearer(token(`${PUBLIC_URL}${SIGN_PATH}/feedback`)) },
-      body: JSON.stringify({ feedback: [{ card, outcome: 'overridden', outcomeTimestamp: '2026-03-14T09:41:00.000Z' }] }),
-    });
+    const [card = ''] = await issueCards(url);
+    const posted = await postFeedback(url, card, '2026-03-14T09:41:00.000Z');
     expect(posted.status).toBe(200);
     const postedBy = await workerOf(service, posted.requestId);
     const readBy = new Set<number>();
@@ -239,14 +249,47 @@ describe('two worker processes sharing one port and one SQLite store', () => {
     expect(scrape.text).not.toContain('version="1.0.0"');
   }, SLOW_MS);
 
-  it('replaces a killed worker and keeps answering; SIGTERM then ends every process', async () => {
+  it('loses no acknowledged write when a worker is killed mid-burst, replaces it and keeps answering; SIGTERM then ends every process', async () => {
+    const cards = await issueCards(url);
     const started = service.lines().filter((l) => l['msg'] === 'worker started');
-    const pids = started.map((l) => Number(l['pid']));
-    const victim = pids[0] ?? 0;
-    process.kill(victim, 'SIGKILL');
+    const victim = Number(started[0]?.['pid']);
+    const acknowledged: string[] = [];
+    let sent = 0;
+    let killed = false;
+    const sender = async (): Promise<void> => {
+      while (sent < 160) {
+        const n = sent;
+        sent += 1;
+        // one distinct decision per item: a changed outcome time is a new record, not a repeat
+        const outcomeTimestamp = new Date(Date.UTC(2026, 2, 14, 8, 0, 0) + n * 1000).toISOString();
+        const card = cards[n % cards.length] ?? '';
+        try {
+          const answer = await postFeedback(url, card, outcomeTimestamp);
+          if (answer.status === 200) acknowledged.push(`${card} ${outcomeTimestamp}`);
+        } catch {
+          // the connection went to the worker as it died: not acknowledged, so not owed
+        }
+        if (acknowledged.length >= 40 && !killed) {
+          killed = true;
+          process.kill(victim, 'SIGKILL');
+        }
+      }
+    };
+    await Promise.all([1, 2, 3, 4].map(() => sender()));
+    expect(killed).toBe(true);
     // A connection handed to the worker as it died dies with it; once the primary has seen the
     // death, every new one goes to the survivor, which answers while the replacement starts.
     await waitForLines(service, (lines) => lines.some((l) => String(l['msg']).startsWith('worker stopped unexpectedly')));
+    expect(acknowledged.length).toBeGreaterThan(40);
+    const stored = new Set<string>();
+    for (const card of cards) {
+      const review = await call(url, `/review/api/advisories/${card}`, { headers: REVIEWER });
+      expect(review.status).toBe(200);
+      for (const f of (JSON.parse(review.text) as { feedback: { outcomeTimestamp: string }[] }).feedback) {
+        stored.add(`${card} ${f.outcomeTimestamp}`);
+      }
+    }
+    expect(acknowledged.filter((item) => !stored.has(item))).toStrictEqual([]);
     for (let i = 0; i < 4; i += 1) {
       expect((await call(url, '/healthz')).status).toBe(200);
     }
