@@ -1,14 +1,16 @@
-import { randomUUID } from 'node:crypto';
+import { randomBytes, randomUUID } from 'node:crypto';
 import { request } from 'node:http';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import pg from 'pg';
+import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { requestMoment, retimeRequest } from '../../src/cli/retime-request.js';
 import { larkspurPolicy, policyFolder, type PolicyFolder } from '../live-policy/support/policy-files.js';
 import { EHR_ES384, EHR_ISS } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
+import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from '../store/support/store-kinds.js';
 import { killServerProcesses, runServerProcess, type ServerProcess } from './support/server-process.js';
 
 /**
@@ -18,7 +20,9 @@ import { killServerProcesses, runServerProcess, type ServerProcess } from './sup
  * to the worker that wrote it through its `X-Request-Id` and that worker's request log line. The
  * state the workers share is the store's: a token id used on one worker is refused on the other,
  * feedback posted through one is read through the other. /metrics sums both workers; SIGHUP reloads
- * the policy in both; a killed worker is replaced; SIGTERM ends every process.
+ * the policy in both; a worker killed in the middle of a burst loses no acknowledged write and is
+ * replaced; SIGTERM ends every process. The same on PostgreSQL, when a test database is named: the
+ * primary migrates it once before forking, and the workers share its replay cache and feedback.
  */
 
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -131,6 +135,36 @@ function postFeedback(url: string, card: string, outcomeTimestamp: string): Prom
   });
 }
 
+function writeTrustFile(dir: string): string {
+  const path = join(dir, 'trust.yaml');
+  writeFileSync(
+    path,
+    [
+      'clients:',
+      `  - iss: ${EHR_ISS}`,
+      `    jwks: { keys: [${JSON.stringify(EHR_ES384.publicJwk)}] }`,
+      '    fhirServers: [ https://fhir.larkspur-bay.example/r4 ]',
+      '',
+    ].join('\n'),
+  );
+  return path;
+}
+
+/** Uses `jwt` once, then again until a worker other than the first one's has refused it (401 each time). */
+async function expectReplayRefusedElsewhere(service: ServerProcess, url: string, jwt: string): Promise<void> {
+  const first = await call(url, '/cds-services', { headers: bearer(jwt) });
+  expect(first.status).toBe(200);
+  const firstWorker = await workerOf(service, first.requestId);
+  const refusedBy = new Set<number>();
+  for (let i = 0; i < 6; i += 1) {
+    const replayed = await call(url, '/cds-services', { headers: bearer(jwt) });
+    expect(replayed.status).toBe(401);
+    refusedBy.add(await workerOf(service, replayed.requestId));
+  }
+  // refused by the worker that did not see the first use, not only by the one that did
+  expect([...refusedBy].some((worker) => worker !== firstWorker)).toBe(true);
+}
+
 describe('two worker processes sharing one port and one SQLite store', () => {
   let dir = '';
   let folder: PolicyFolder;
@@ -139,16 +173,7 @@ describe('two worker processes sharing one port and one SQLite store', () => {
 
   beforeAll(async () => {
     dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-cluster-'));
-    writeFileSync(
-      join(dir, 'trust.yaml'),
-      [
-        'clients:',
-        `  - iss: ${EHR_ISS}`,
-        `    jwks: { keys: [${JSON.stringify(EHR_ES384.publicJwk)}] }`,
-        '    fhirServers: [ https://fhir.larkspur-bay.example/r4 ]',
-        '',
-      ].join('\n'),
-    );
+    writeTrustFile(dir);
     folder = policyFolder(larkspurPolicy('1.0.0'));
     // No secret files given: the primary creates them in the data directory once, before forking.
     service = runServerProcess({
@@ -189,18 +214,7 @@ describe('two worker processes sharing one port and one SQLite store', () => {
     expect(ready.size).toBe(2);
 
     // CDS Hooks 2.0 §Trusting CDS Clients: a jti is a nonce; a second use is refused (401)
-    const once = token(discovery);
-    const first = await call(url, '/cds-services', { headers: bearer(once) });
-    expect(first.status).toBe(200);
-    const firstWorker = await workerOf(service, first.requestId);
-    const refusedBy = new Set<number>();
-    for (let i = 0; i < 6; i += 1) {
-      const replayed = await call(url, '/cds-services', { headers: bearer(once) });
-      expect(replayed.status).toBe(401);
-      refusedBy.add(await workerOf(service, replayed.requestId));
-    }
-    // refused by the worker that did not see the first use, not only by the one that did
-    expect(refusedBy.has(firstWorker === 1 ? 2 : 1)).toBe(true);
+    await expectReplayRefusedElsewhere(service, url, token(discovery));
   }, SLOW_MS);
 
   it('shows feedback posted through one worker on the review API of both', async () => {
@@ -334,5 +348,86 @@ describe('a cluster whose settings are wrong', () => {
     expect(stderr).toContain('oxygen-order-checker refused to start:');
     expect(stderr).toContain('OXYGEN_CHECKER_POLICY: production mode needs the local policy file set explicitly');
     expect(service.lines().filter((l) => l['msg'] === 'worker started')).toStrictEqual([]);
+  }, SLOW_MS);
+});
+
+describe('two worker processes sharing one port and one PostgreSQL database', () => {
+  let dir = '';
+  let admin: pg.Client | undefined;
+  let database = '';
+  let databaseUrl = '';
+
+  beforeAll(async () => {
+    if (POSTGRES_SKIP_REASON !== undefined) {
+      return;
+    }
+    const url = requireTestDatabaseUrl();
+    admin = new pg.Client({ connectionString: url });
+    await admin.connect();
+    database = `cluster_test_${randomBytes(6).toString('hex')}`;
+    await admin.query(`CREATE DATABASE ${database}`);
+    const target = new URL(url);
+    target.pathname = `/${database}`;
+    databaseUrl = target.href;
+    dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-cluster-pg-'));
+    writeTrustFile(dir);
+  }, SLOW_MS);
+
+  beforeEach((context) => {
+    context.skip(POSTGRES_SKIP_REASON !== undefined, POSTGRES_SKIP_REASON);
+  });
+
+  afterAll(async () => {
+    killServerProcesses();
+    if (admin !== undefined) {
+      await admin.query(`DROP DATABASE IF EXISTS ${database} WITH (FORCE)`);
+      await admin.end();
+    }
+    if (dir !== '') rmSync(dir, { recursive: true, force: true });
+  });
+
+  it('migrates once in the primary before forking, and shares the replay cache and feedback between workers', async () => {
+    const service = runServerProcess({
+      OXYGEN_CHECKER_WORKERS: '2',
+      OXYGEN_CHECKER_MODE: 'production',
+      OXYGEN_CHECKER_POLICY: join(ROOT, 'policies', 'based-on-bts-2017.yaml'),
+      OXYGEN_CHECKER_TRUST: join(dir, 'trust.yaml'),
+      OXYGEN_CHECKER_PUBLIC_URL: PUBLIC_URL,
+      OXYGEN_CHECKER_REVIEW_IDENTITY_HEADER: 'X-Authenticated-User',
+      OXYGEN_CHECKER_REVIEW_PROXY_ADDRESSES: '127.0.0.1',
+      DATABASE_URL: databaseUrl,
+    });
+    const url = String((await service.waitForLine('oxygen-order-checker cluster listening'))['url']);
+    // every step applied once, all before the first worker was forked
+    const firstFork = Number(service.lines().find((l) => l['msg'] === 'worker started')?.['time']);
+    const direct = new pg.Client({ connectionString: databaseUrl });
+    await direct.connect();
+    const steps = await direct
+      .query<{ version: number; applied_ms: string }>(
+        'SELECT version, (extract(epoch from applied_at) * 1000)::bigint::text AS applied_ms FROM schema_migration',
+      )
+      .finally(() => direct.end());
+    const versions = steps.rows.map((row) => row.version);
+    expect(versions.length).toBeGreaterThan(0);
+    expect(new Set(versions).size).toBe(versions.length);
+    expect(Math.max(...steps.rows.map((row) => Number(row.applied_ms)))).toBeLessThanOrEqual(firstFork);
+
+    // CDS Hooks 2.0 §Trusting CDS Clients: a jti is a nonce; a second use is refused (401)
+    await expectReplayRefusedElsewhere(service, url, token(`${PUBLIC_URL}/cds-services`));
+
+    const [card = ''] = await issueCards(url);
+    expect((await postFeedback(url, card, '2026-03-14T09:41:00.000Z')).status).toBe(200);
+    const readBy = new Set<number>();
+    for (let i = 0; i < 4; i += 1) {
+      const review = await call(url, `/review/api/advisories/${card}`, { headers: REVIEWER });
+      expect(review.status).toBe(200);
+      const feedback = (JSON.parse(review.text) as { feedback: { outcomeTimestamp: string }[] }).feedback;
+      expect(feedback.map((f) => f.outcomeTimestamp)).toStrictEqual(['2026-03-14T09:41:00.000Z']);
+      readBy.add(await workerOf(service, review.requestId));
+    }
+    expect(readBy.size).toBe(2);
+
+    service.child.kill('SIGTERM');
+    expect(await service.exit).toStrictEqual({ code: 0, signal: null });
   }, SLOW_MS);
 });
