@@ -1,3 +1,4 @@
+import cluster from 'node:cluster';
 import { createServer, type Server } from 'node:http';
 import { performance } from 'node:perf_hooks';
 import { pathToFileURL } from 'node:url';
@@ -7,19 +8,21 @@ import { readSecretValueFiles } from './config/secret-variables.js';
 import { formatLoadProblem, formatLoadProblems, loadPolicyAndCards, type LoadedFiles } from './config/load-files.js';
 import { seedDemoStore, type DemoSeedResult } from './demo/seed-demo-store.js';
 import { createApp } from './http/app.js';
-import { createServiceMetrics, measuredStore } from './http/metrics.js';
+import { runPrimary } from './cluster/primary.js';
+import { workerRole, type WorkerRole } from './cluster/worker-side.js';
+import { createServiceMetrics, measuredStore, type ServiceMetrics } from './http/metrics.js';
 import { answerClientErrors } from './http/client-error.js';
 import { serverTimeoutOptions } from './http/connection-timeouts.js';
 import { prepareGracefulClose } from './http/graceful-close.js';
-import { createPolicyHolder, snapshotOf } from './live-policy/policy-snapshot.js';
+import { createPolicyHolder, snapshotOf, type PolicyHolder } from './live-policy/policy-snapshot.js';
 import { createPolicyReloader, type ReloadOutcome, type ReloadTrigger } from './live-policy/reload-policy.js';
 import { watchPolicyFiles, type PolicyWatch } from './live-policy/watch-policy.js';
 import { createLogger, logClientError, type Logger } from './log/logger.js';
 import { createRefusalLimiter } from './log/refusal-limiter.js';
 import { notYetInEffectWarning } from './policy/effective-from.js';
 import { startRetentionPurge } from './retention-purge.js';
-import { setUpAuthentication } from './security/setup-authentication.js';
-import { setUpReviewAccess } from './security/setup-review-access.js';
+import { setUpAuthentication, type AuthenticationSetup } from './security/setup-authentication.js';
+import { setUpReviewAccess, type ReviewSetup } from './security/setup-review-access.js';
 import { openConfiguredStore } from './store/open-store.js';
 import { loadOrCreateSecret, patientKey } from './store/patient-key.js';
 import type { Store } from './store/store.js';
@@ -31,7 +34,9 @@ import type { Store } from './store/store.js';
  * would break the audit trail's promise), build the app, listen, purge expired records on a schedule,
  * reload the policy on SIGHUP (and on file change when `OXYGEN_CHECKER_POLICY_WATCH` is on; see
  * src/live-policy), and close cleanly on SIGTERM or SIGINT: the HTTP server first, then the store.
- * Problems go to stderr as plain lines, since the logger's level may hide them.
+ * Problems go to stderr as plain lines, since the logger's level may hide them. With
+ * `OXYGEN_CHECKER_WORKERS` above 1 the process started is a primary (src/cluster/primary.ts) that
+ * makes the same checks once and forks that many workers, each of which runs this same start.
  */
 
 export const DEMO_MODE_NOTICE =
@@ -63,12 +68,19 @@ function listen(app: ReturnType<typeof createApp>, config: EnvConfig): Promise<S
   });
 }
 
-/** Starts the service, or returns the problems that stop it. Used by `main` and by tests. */
-export async function startServer(
+type Refused = { readonly kind: 'refused'; readonly problems: string };
+
+/** The settings, the review settings and the policy with its cards, each checked in full. */
+interface CheckedSettings {
+  readonly config: EnvConfig;
+  readonly reviewConfig: ReviewConfig;
+  readonly files: Extract<LoadedFiles, { kind: 'ok' }>;
+}
+
+async function checkSettings(
   givenEnv: Readonly<Record<string, string | undefined>>,
   cwd: string,
-  logger?: Logger,
-): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
+): Promise<({ readonly kind: 'checked' } & CheckedSettings) | Refused> {
   // Secret values given as files (`NAME_FILE`, as container secrets are mounted) are read first.
   const secretValues = readSecretValueFiles(givenEnv, cwd);
   if (secretValues.kind === 'invalid') {
@@ -88,17 +100,90 @@ export async function startServer(
   if (files.kind === 'invalid') {
     return { kind: 'refused', problems: formatLoadProblems(files.problems) };
   }
-  const log = logger ?? createLogger({ level: config.logLevel });
+  return { kind: 'checked', config, reviewConfig: reviewParsed.config, files };
+}
+
+/** Opens the configured store, bringing its schema up to date (open-store.ts). */
+async function openStoreOf(config: EnvConfig): Promise<{ readonly kind: 'opened'; readonly store: Store } | Refused> {
   const opened = await openConfiguredStore({
     dataDir: config.store.dataDir,
     ...(config.store.databaseUrl === undefined ? {} : { databaseUrl: config.store.databaseUrl }),
   });
+  return opened.kind === 'refused'
+    ? { kind: 'refused', problems: `${opened.variable}: ${opened.problem}` }
+    : { kind: 'opened', store: opened.store };
+}
+
+/**
+ * The number of worker processes the environment asks for (`OXYGEN_CHECKER_WORKERS`), or 1 when the
+ * settings do not parse: the single-process start then refuses with every problem listed, as always.
+ */
+export function workersWanted(givenEnv: Readonly<Record<string, string | undefined>>, cwd: string): number {
+  const secretValues = readSecretValueFiles(givenEnv, cwd);
+  if (secretValues.kind === 'invalid') {
+    return 1;
+  }
+  const parsed = parseEnvConfig(secretValues.env, cwd);
+  return parsed.kind === 'ok' ? (parsed.config.workers ?? 1) : 1;
+}
+
+/**
+ * What the primary of a cluster (src/cluster/primary.ts) does before it forks: every check a
+ * single process makes at start (settings, policy and cards, the store and its migrations, the
+ * patient-key and review-link secrets, the trust file), once, and the demo seed, so workers find
+ * the store migrated, the secrets written and the seed done, and never race each other to do it.
+ * The store is closed again: the primary serves no request. Returns the settings and a logger
+ * carrying `bindings` on every line.
+ */
+export async function checkServiceStart(
+  givenEnv: Readonly<Record<string, string | undefined>>,
+  cwd: string,
+  bindings: Readonly<Record<string, unknown>>,
+): Promise<{ readonly kind: 'checked'; readonly config: EnvConfig; readonly log: Logger } | Refused> {
+  const checked = await checkSettings(givenEnv, cwd);
+  if (checked.kind === 'refused') {
+    return checked;
+  }
+  const log = createLogger({ level: checked.config.logLevel }).child(bindings);
+  const opened = await openStoreOf(checked.config);
   if (opened.kind === 'refused') {
-    return { kind: 'refused', problems: `${opened.variable}: ${opened.problem}` };
+    return opened;
+  }
+  try {
+    const assembled = await assemble(checked, opened.store, log, { seedDemo: true, processMetrics: false });
+    if (assembled.kind === 'refused') {
+      return assembled;
+    }
+    if (assembled.demoSeed !== undefined) {
+      logDemoSeed(log, assembled.demoSeed);
+    }
+  } finally {
+    await opened.store.close();
+  }
+  return { kind: 'checked', config: checked.config, log };
+}
+
+/** Starts the service, or returns the problems that stop it. Used by `main` and by tests. */
+export async function startServer(
+  givenEnv: Readonly<Record<string, string | undefined>>,
+  cwd: string,
+  logger?: Logger,
+  worker?: WorkerRole,
+): Promise<{ kind: 'started'; started: StartedServer } | Refused> {
+  const checked = await checkSettings(givenEnv, cwd);
+  if (checked.kind === 'refused') {
+    return checked;
+  }
+  const base = logger ?? createLogger({ level: checked.config.logLevel });
+  // A worker's every line says which worker wrote it; the number is the cluster's, never a patient's.
+  const log = worker === undefined ? base : base.child({ role: 'worker', worker: worker.id });
+  const opened = await openStoreOf(checked.config);
+  if (opened.kind === 'refused') {
+    return opened;
   }
   const { store } = opened;
   try {
-    const result = await startWithStore(config, reviewParsed.config, files, store, log);
+    const result = await startWithStore(checked, store, log, worker);
     if (result.kind === 'refused') {
       await store.close();
     }
@@ -109,13 +194,28 @@ export async function startServer(
   }
 }
 
-async function startWithStore(
-  config: EnvConfig,
-  reviewConfig: ReviewConfig,
-  files: Extract<LoadedFiles, { kind: 'ok' }>,
+interface Assembled {
+  readonly kind: 'assembled';
+  readonly policy: PolicyHolder;
+  readonly metrics: ServiceMetrics;
+  readonly auth: Exclude<AuthenticationSetup, { kind: 'refused' }>;
+  readonly review: Extract<ReviewSetup, { kind: 'ready' }>;
+  readonly patientKeyOf: (patient: { readonly fhirServer?: string; readonly patientId: string }) => string;
+  readonly demoSeed: DemoSeedOutcome | undefined;
+}
+
+/**
+ * Everything the app needs apart from the listener: the patient-key secret, the policy holder, the
+ * metrics, the token checks (the trust file read and checked), the review access (its link secret
+ * read or created) and, in demo mode when asked, the demo seed.
+ */
+async function assemble(
+  checked: CheckedSettings,
   store: Store,
   log: Logger,
-): Promise<{ kind: 'started'; started: StartedServer } | { kind: 'refused'; problems: string }> {
+  options: { readonly seedDemo: boolean; readonly processMetrics: boolean },
+): Promise<Assembled | Refused> {
+  const { config, reviewConfig, files } = checked;
   const secret = loadOrCreateSecret({
     dataDir: config.store.dataDir,
     ...(config.store.patientKeyFile === undefined ? {} : { secretFile: config.store.patientKeyFile }),
@@ -125,7 +225,7 @@ async function startWithStore(
   }
   const policy = createPolicyHolder(snapshotOf(files, new Date()));
   // One registry for the app and the token checks, so replay-cache answers count beside the requests.
-  const metrics = createServiceMetrics({ policy, processMetrics: true });
+  const metrics = createServiceMetrics({ policy, processMetrics: options.processMetrics });
   const auth = await setUpAuthentication(config.security, {
     fetch: globalThis.fetch,
     clock: () => new Date(),
@@ -147,7 +247,24 @@ async function startWithStore(
   const patientKeyOf = (patient: { readonly fhirServer?: string; readonly patientId: string }): string =>
     patientKey(secret.secret, patient);
   // Seeded before listening, so the first page opened has content; logged after the listening line.
-  const demoSeed = auth.kind === 'demo' ? await seedDemo(store, config, files, patientKeyOf) : undefined;
+  const demoSeed =
+    auth.kind === 'demo' && options.seedDemo ? await seedDemo(store, config, files, patientKeyOf) : undefined;
+  return { kind: 'assembled', policy, metrics, auth, review, patientKeyOf, demoSeed };
+}
+
+async function startWithStore(
+  checked: CheckedSettings,
+  store: Store,
+  log: Logger,
+  worker: WorkerRole | undefined,
+): Promise<{ kind: 'started'; started: StartedServer } | Refused> {
+  // A worker's primary has seeded the demo store already, once (checkServiceStart).
+  const assembled = await assemble(checked, store, log, { seedDemo: worker === undefined, processMetrics: true });
+  if (assembled.kind === 'refused') {
+    return assembled;
+  }
+  const { config, files } = checked;
+  const { policy, metrics, auth, review, patientKeyOf, demoSeed } = assembled;
   const app = createApp(config, {
     policy,
     metrics,
@@ -158,6 +275,8 @@ async function startWithStore(
     store,
     patientKey: patientKeyOf,
     review: review.review,
+    // In a cluster a scrape reaches one worker: it answers with every worker's metrics summed.
+    ...(worker === undefined ? {} : { metricsText: worker.shareMetrics(metrics.registry) }),
   });
   const server = await listen(app, config);
   const parserRefusals = createRefusalLimiter();
@@ -275,6 +394,16 @@ function logDemoSeed(log: Logger, outcome: DemoSeedOutcome): void {
 }
 
 async function main(): Promise<void> {
+  if (cluster.isPrimary && workersWanted(process.env, process.cwd()) > 1) {
+    process.exitCode = await runPrimary({
+      check: (bindings) => checkServiceStart(process.env, process.cwd(), bindings),
+    });
+    // Exits by itself once the workers are gone; this only ends a process something else holds open.
+    setTimeout(() => process.exit(), 1000).unref();
+    return;
+  }
+  // A cluster's worker (src/cluster): its primary forwards SIGHUP and SIGTERM to it.
+  const worker = cluster.isWorker ? workerRole() : undefined;
   // SIGHUP is the usual "read your configuration again" signal for a daemon; without a listener
   // Node would exit on it. It is listened for before start-up, so a SIGHUP sent as soon as the
   // listening line appears (or while starting) never ends the process; one sent while starting is
@@ -288,10 +417,14 @@ async function main(): Promise<void> {
       signals.reload();
     }
   });
-  const result = await startServer(process.env, process.cwd());
+  const result = await startServer(process.env, process.cwd(), undefined, worker);
   if (result.kind === 'refused') {
     process.stderr.write(`oxygen-order-checker refused to start:\n${result.problems}\n`);
     process.exitCode = 1;
+    if (worker !== undefined) {
+      // The channel to the primary would hold the process open; the primary sees the exit code.
+      process.exit(1);
+    }
     return;
   }
   const { close, reloadPolicy } = result.started;
@@ -304,12 +437,30 @@ async function main(): Promise<void> {
   const stop = (): void => {
     void close().then(() => {
       process.exitCode = 0;
+      if (worker !== undefined) {
+        // The channel to the primary would hold the process open; pino flushes on exit.
+        process.exit(0);
+      }
       // Exits by itself once nothing is left; this only ends a process something else holds open.
       setTimeout(() => process.exit(0), 1000).unref();
     });
   };
-  process.once('SIGTERM', stop);
-  process.once('SIGINT', stop);
+  if (worker === undefined) {
+    process.once('SIGTERM', stop);
+    process.once('SIGINT', stop);
+    return;
+  }
+  // A worker may get the signal twice, from its primary and from a supervisor that signals the whole
+  // process group (systemd's default, Ctrl-C in a terminal): the second must not cut its calls short.
+  let stopping = false;
+  const stopOnce = (): void => {
+    if (!stopping) {
+      stopping = true;
+      stop();
+    }
+  };
+  process.on('SIGTERM', stopOnce);
+  process.on('SIGINT', stopOnce);
 }
 
 /** Run only as the entry point (`node dist/server.js`), not when a test imports startServer. */
@@ -319,5 +470,8 @@ if (entry !== undefined && import.meta.url === pathToFileURL(entry).href) {
     const reason = error instanceof Error ? error.message : String(error);
     process.stderr.write(`oxygen-order-checker failed to start: ${reason}\n`);
     process.exitCode = 1;
+    if (cluster.isWorker) {
+      process.exit(1);
+    }
   });
 }

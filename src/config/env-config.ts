@@ -110,6 +110,10 @@ export const ENV_DEFAULTS = {
   // it is served on the service's own port and must be restricted by the network (docs/security.md).
   // Demo mode serves it anyway: demo mode listens on loopback only.
   OXYGEN_CHECKER_METRICS: 'off',
+  // worker processes on one host sharing the port (node:cluster; src/cluster). 1: one process, no
+  // primary. More: a primary that forks that many workers; one per core is the usual ceiling
+  // (docs/deployment.md, "Several workers on one host").
+  OXYGEN_CHECKER_WORKERS: 1,
 } as const;
 
 export interface FhirFallbackLimits {
@@ -195,6 +199,8 @@ export interface EnvConfig {
   readonly feedback: FeedbackConfig;
   /** GET /metrics is served: `OXYGEN_CHECKER_METRICS=on`, or demo mode (loopback only). */
   readonly metrics?: boolean;
+  /** Worker processes sharing the port (src/cluster); 1, or absent, is one process with no primary. */
+  readonly workers?: number;
 }
 
 export interface EnvProblem {
@@ -348,6 +354,7 @@ export const EnvSchema = z.object({
   OXYGEN_CHECKER_METRICS: textVar(ENV_DEFAULTS.OXYGEN_CHECKER_METRICS).pipe(
     z.enum(METRICS_SETTINGS, { error: `must be one of ${METRICS_SETTINGS.join(', ')}` }),
   ),
+  OXYGEN_CHECKER_WORKERS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_WORKERS, 1, 64),
 });
 
 type ParsedEnv = z.infer<typeof EnvSchema>;
@@ -545,6 +552,7 @@ export function parseEnvConfig(
         maxRecordsPerClientPerDay: v.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
       },
       metrics: v.OXYGEN_CHECKER_METRICS === 'on' || v.OXYGEN_CHECKER_MODE === 'demo',
+      workers: v.OXYGEN_CHECKER_WORKERS,
     }),
   };
 }

@@ -250,4 +250,10 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
     description:
       'The review-link signing secret (at least 32 bytes, owner-only). Without it one is created in the data directory; several instances must share one.',
   },
+  OXYGEN_CHECKER_WORKERS: {
+    group: 'Service',
+    unit: 'processes',
+    description:
+      '`1`: one process, as without it. More: a primary process that checks the settings and policy, migrates the store once, then forks that many worker processes sharing the port, replaces a worker that dies and passes SIGHUP and SIGTERM on. At most one per core; the load limits and per-client shares then apply per worker (docs/deployment.md, "Several workers on one host").',
+  },
 };

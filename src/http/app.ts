@@ -67,6 +67,11 @@ export interface AppDeps {
   readonly metrics?: ServiceMetrics;
   /** The review pages and card links; /review is not served without it. */
   readonly review?: ReviewAppDeps;
+  /**
+   * What GET /metrics answers in a cluster's worker: every worker's metrics summed, from the primary
+   * (src/cluster). Absent, it answers this process's own registry.
+   */
+  readonly metricsText?: () => Promise<string>;
 }
 
 /** What the review pages read from, who may read them, and how cards link to them. */
@@ -191,7 +196,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
 
   if (config.metrics ?? false) {
     // No authentication, as a Prometheus scrape expects: the network restricts it (docs/security.md).
-    app.get(METRICS_ROUTE, metricsHandler(metrics));
+    app.get(METRICS_ROUTE, metricsHandler(metrics, deps.metricsText));
   }
 
   app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)

@@ -201,10 +201,26 @@ export function measuredStore(store: Store, metrics: ServiceMetrics): Store {
 /**
  * `GET /metrics`: the registry in Prometheus text format, served only where the settings allow
  * (app.ts). Not a JSON route, so it writes its own text answer; a failure goes to the error middleware.
+ * In a cluster's worker `clusterText` gives every worker's metrics summed (src/cluster); when it
+ * cannot (a worker did not answer in time), the scrape gets 503, which Prometheus counts as a failed
+ * scrape, rather than a partial sum that would look like counters going back.
  */
-export function metricsHandler(metrics: ServiceMetrics): RequestHandler {
+export function metricsHandler(metrics: ServiceMetrics, clusterText?: () => Promise<string>): RequestHandler {
   return (_req, res, next) => {
     requestState(res).route = 'metrics';
+    if (clusterText !== undefined) {
+      clusterText().then(
+        (text) => {
+          res.status(200).setHeader('Content-Type', metrics.registry.contentType);
+          res.end(text);
+        },
+        () => {
+          res.status(503).setHeader('Content-Type', 'text/plain; charset=utf-8');
+          res.end('metrics unavailable: not every worker answered in time\n');
+        },
+      );
+      return;
+    }
     metrics.registry.metrics().then(
       (text) => {
         res.status(200).setHeader('Content-Type', metrics.registry.contentType);

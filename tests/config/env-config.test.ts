@@ -41,6 +41,7 @@ describe('parseEnvConfig', () => {
         },
         feedback: { maxItemsPerRequest: 50, maxRecordsPerClientPerDay: 20_000 }, // project defaults
         metrics: true, // demo mode serves /metrics, on loopback only (docs/security.md)
+        workers: 1, // one process, no cluster primary (docs/deployment.md)
       },
     });
   });
@@ -69,6 +70,7 @@ describe('parseEnvConfig', () => {
         OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: '6',
         OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: '250',
         OXYGEN_CHECKER_METRICS: 'on',
+        OXYGEN_CHECKER_WORKERS: '2',
         OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
         OXYGEN_CHECKER_REQUEST_TIMEOUT_MS: '8000',
         OXYGEN_CHECKER_HEADERS_TIMEOUT_MS: '4000',
@@ -137,6 +139,7 @@ describe('parseEnvConfig', () => {
         },
         feedback: { maxItemsPerRequest: 10, maxRecordsPerClientPerDay: 500 },
         metrics: true,
+        workers: 2,
       },
     });
   });
@@ -150,6 +153,17 @@ describe('parseEnvConfig', () => {
       expect(on.kind === 'ok' && on.config.metrics).toBe(true);
       const wrong = parseEnvConfig({ ...base, OXYGEN_CHECKER_METRICS: 'yes' }, '/srv');
       expect(wrong.kind === 'invalid' && wrong.problems.map((p) => p.variable)).toStrictEqual(['OXYGEN_CHECKER_METRICS']);
+    });
+
+    it('runs one process unless OXYGEN_CHECKER_WORKERS asks for more, and refuses a count outside 1 to 64', () => {
+      for (const [text, workers] of [['', 1], ['1', 1], ['2', 2], ['64', 64]] as const) {
+        const parsed = parseEnvConfig({ OXYGEN_CHECKER_WORKERS: text }, '/srv');
+        expect(parsed.kind === 'ok' && parsed.config.workers).toBe(workers);
+      }
+      for (const text of ['0', '65', '-1', '2.5', 'two', 'auto']) {
+        const parsed = parseEnvConfig({ OXYGEN_CHECKER_WORKERS: text }, '/srv');
+        expect(parsed.kind === 'invalid' && parsed.problems.map((p) => p.variable)).toStrictEqual(['OXYGEN_CHECKER_WORKERS']);
+      }
     });
 
     it('sends HSTS in production even when OXYGEN_CHECKER_BEHIND_TLS is not set, and not by default in demo mode', () => {
