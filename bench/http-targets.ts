@@ -1,4 +1,4 @@
-import { writeFileSync } from 'node:fs';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { freshHookInstances } from './audit-cases.js';
 import {
@@ -43,6 +43,11 @@ export interface HttpTargetMeasurements {
   readonly halfRatePair: HttpPair;
   /** The examples in the mix. */
   readonly mixExamples: readonly string[];
+  /**
+   * The service process's peak resident memory over the whole run (VmHWM, kB), for sizing a
+   * container's memory; undefined where /proc is not there to read it.
+   */
+  readonly servicePeakRssKb?: number;
   readonly problems: readonly string[];
 }
 
@@ -177,10 +182,29 @@ export async function measureHttpTargets(ctx: HttpTargetContext): Promise<HttpTa
         progress(`${p.label}: the service answered ${p.service.non2xx} calls with other than 2xx; counted against its figure`);
       }
     }
-    return { mix, large, halfRate, halfRatePair, mixExamples: ctx.mixExamples.map((e) => e.name), problems };
+    const servicePeakRssKb = peakRssKb(service.pid);
+    return {
+      mix,
+      large,
+      halfRate,
+      halfRatePair,
+      mixExamples: ctx.mixExamples.map((e) => e.name),
+      ...(servicePeakRssKb === undefined ? {} : { servicePeakRssKb }),
+      problems,
+    };
   } finally {
     await baseline?.stop();
     await service.stop();
     progress('stopped the production service and the baseline');
+  }
+}
+
+/** A live process's peak resident set (VmHWM in /proc/PID/status, kB); undefined off Linux. */
+export function peakRssKb(pid: number): number | undefined {
+  try {
+    const match = /^VmHWM:\s+(\d+) kB$/m.exec(readFileSync(`/proc/${pid}/status`, 'utf8'));
+    return match === null ? undefined : Number(match[1]);
+  } catch {
+    return undefined;
   }
 }

@@ -61,6 +61,14 @@ function httpTable(targets: TargetsReport): string {
   );
 }
 
+/** The service's peak memory over the loads above, the figure docs/deployment.md sizes pods from. */
+function memoryLine(targets: TargetsReport): string {
+  const kb = targets.http?.servicePeakRssKb;
+  return kb === undefined
+    ? 'The service\'s peak memory was not measured in this run.'
+    : `The service process's peak resident memory over all the loads above (VmHWM): ${whole(kb / 1024)} MB.`;
+}
+
 function bulkTable(targets: TargetsReport): string {
   const bulk = targets.bulk;
   if (bulk === undefined) {
@@ -142,6 +150,8 @@ ${targetsTable(targets, before)}
   why every target is a ratio taken within one run, and the load average is printed below.
 
 ${httpTable(targets ?? { figures: [] })}
+
+${memoryLine(targets ?? { figures: [] })}
 
 ${bulkTable(targets ?? { figures: [] })}
 

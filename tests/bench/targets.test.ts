@@ -182,6 +182,15 @@ describe('printing', () => {
     expect(parseBeforeFigures('{"commit":"abc","date":"d","figures":[{"id":"x"}]}')).toBeUndefined();
     expect(renderTargetsSection(undefined, undefined)).toContain(`No before figures were found (\`${BEFORE_FILE}\`)`);
   });
+
+  it('gives the service’s peak memory in MB when it was read, and says so when it was not', () => {
+    const pair = { label: 'x', requestBytes: 1, service: load(100, 20), baseline: load(100, 20) };
+    const http = { mix: pair, large: pair, halfRate: 50, halfRatePair: pair, mixExamples: ['a'] };
+    expect(renderTargetsSection({ figures: [], http: { ...http, servicePeakRssKb: 150 * 1024 } }, undefined)).toContain(
+      'peak resident memory over all the loads above (VmHWM): 150 MB',
+    );
+    expect(renderTargetsSection({ figures: [], http }, undefined)).toContain('peak memory was not measured in this run');
+  });
 });
 
 describe('docs/performance.md', () => {
