@@ -14,7 +14,7 @@ import type { BuiltService } from './service-process.js';
 
 export const LARGE_FACTOR = 4;
 /** The demo export's seed: the same seed and size give the same files. */
-const SEED = 9;
+export const SEED = 9;
 
 export interface BulkMeasurements {
   readonly smallOrders: number;
@@ -25,7 +25,7 @@ export interface BulkMeasurements {
   readonly simulateLarge: BulkChildResult;
 }
 
-function runChild(root: string, args: readonly string[]): BulkChildResult {
+export function runChild(root: string, args: readonly string[]): BulkChildResult {
   const child = spawnSync(process.execPath, ['--import', 'tsx', join(root, 'bench', 'bulk-child.ts'), ...args], {
     cwd: root,
     encoding: 'utf8',

@@ -17,7 +17,7 @@ import type * as SimulateModule from '../src/bulk/simulate.js';
  *     baseline and a proposed policy (here the same file twice), keeping only the tally
  *
  * The service's modules come from CODE_ROOT (the bench's build, or src/), as the rest of the run.
- * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb }.
+ * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb, cpuMs }.
  */
 
 export interface BulkChildResult {
@@ -29,6 +29,8 @@ export interface BulkChildResult {
   /** Oxygen orders replayed (simulate only). */
   readonly orders: number;
   readonly maxRssKb: number;
+  /** CPU time (user + system, all threads) of the timed part: steadier than `ms` on a busy machine. */
+  readonly cpuMs?: number;
 }
 
 export function ndjsonFiles(dir: string): string[] {
@@ -67,10 +69,12 @@ async function simulate(dir: string, codeRoot: string, policyPath: string, cards
   }
   const side = { file: policyPath, policy: loaded.policy, policyContentHash: loaded.policyContentHash, templates: loaded.templates };
   const start = performance.now();
+  const cpuStart = process.cpuUsage();
   const index = await buildExportIndex(dir, {});
   try {
     const report = await runSimulation(index, side, side);
     timedMs = performance.now() - start;
+    timedCpuMs = cpuMs(process.cpuUsage(cpuStart));
     return report.tally.ordersEvaluated;
   } finally {
     index.close();
@@ -78,6 +82,8 @@ async function simulate(dir: string, codeRoot: string, policyPath: string, cards
 }
 
 let timedMs = 0;
+let timedCpuMs = 0;
+const cpuMs = (usage: NodeJS.CpuUsage): number => (usage.user + usage.system) / 1000;
 
 async function main(): Promise<void> {
   const [mode, dir, codeRoot, policyPath, cardsDir] = process.argv.slice(2);
@@ -89,8 +95,10 @@ async function main(): Promise<void> {
   let counted: { lines: number; bytes: number };
   if (mode === 'read') {
     const start = performance.now();
+    const cpuStart = process.cpuUsage();
     counted = await readAndParse(dir);
     timedMs = performance.now() - start;
+    timedCpuMs = cpuMs(process.cpuUsage(cpuStart));
   } else {
     if (policyPath === undefined || cardsDir === undefined) {
       process.stderr.write('simulate needs POLICY and CARDS_DIR\n');
@@ -107,6 +115,7 @@ async function main(): Promise<void> {
     bytes: counted.bytes,
     orders,
     maxRssKb: process.resourceUsage().maxRSS,
+    cpuMs: timedCpuMs,
   };
   process.stdout.write(`${JSON.stringify(result)}\n`);
 }

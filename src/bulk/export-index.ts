@@ -241,8 +241,9 @@ export async function buildExportIndex(exportDir: string, options: ExportIndexOp
     let pending = 0;
     db.exec('BEGIN');
     for (const file of files) {
-      for await (const { resource } of readNdjsonFile(file, problems, options)) {
-        place(resource, JSON.stringify(resource));
+      for await (const { resource, text } of readNdjsonFile(file, problems, options)) {
+        // The line as read is the resource's JSON already: stored as it is, not written out again.
+        place(resource, text);
         pending += 1;
         if (pending >= BATCH_ROWS) {
           db.exec('COMMIT; BEGIN');

@@ -15,6 +15,8 @@ export interface NdjsonRecord {
   readonly resource: FhirResource;
   /** 1-based line number in its file. */
   readonly line: number;
+  /** The line's JSON text as read (a leading BOM dropped): what `resource` was parsed from. */
+  readonly text: string;
 }
 
 export interface NdjsonProblem {
@@ -81,7 +83,8 @@ export async function* readNdjsonFile(
     for await (const text of lines) {
       line += 1;
       // A byte order mark before the first record is an encoding artefact, not part of the JSON.
-      const read = readNdjsonLine(line === 1 ? text.replace(/^\uFEFF/, '') : text);
+      const json = line === 1 ? text.replace(/^\uFEFF/, '') : text;
+      const read = readNdjsonLine(json);
       if (read === undefined) {
         continue;
       }
@@ -89,7 +92,7 @@ export async function* readNdjsonFile(
         problems.add({ file, line, reason: read });
         continue;
       }
-      yield { resource: read, line };
+      yield { resource: read, line, text: json };
     }
   } finally {
     lines.close();

@@ -48,33 +48,50 @@ const searchset = (resources: readonly FhirResource[]): Readonly<Record<string, 
 /** An order in force then was active then, whatever the export says it is now. */
 const asActive = (resource: FhirResource): FhirResource => ({ ...resource, status: 'active' });
 
+/** The hook context of the order-sign call: the order as a draft, for its patient and encounter. */
+export function orderSignContext(order: IndexedOrder): OrderSignReplayContext {
+  return {
+    userId: 'Practitioner/simulation',
+    patientId: order.patientId,
+    ...(order.encounterId === undefined ? {} : { encounterId: order.encounterId }),
+    draftOrders: { resourceType: 'Bundle', type: 'collection', entry: [{ resource: { ...order.resource, status: 'draft' } }] },
+  };
+}
+
+export type OrderSignReplayContext = {
+  readonly userId: string;
+  readonly patientId: string;
+  readonly encounterId?: string;
+  readonly draftOrders: { readonly resourceType: 'Bundle'; readonly type: 'collection'; readonly entry: readonly { readonly resource: FhirResource }[] };
+};
+
 /**
- * The request. The prefetch keys are the order services' (patient, observations, conditions,
- * encounter, medicationRequests, serviceRequests); the serviceRequests search asks for oxygen therapy
- * (SNOMED CT 57485005) only, so other ServiceRequests in force are left out as that search would.
+ * The prefetch the order services declare, filled from the record as it stood. The keys are the order
+ * services' (patient, observations, conditions, encounter, medicationRequests, serviceRequests); the
+ * serviceRequests search asks for oxygen therapy (SNOMED CT 57485005) only, so other ServiceRequests
+ * in force are left out as that search would.
  */
-export function buildOrderSignRequest(order: IndexedOrder, record: RecordAsOf): Readonly<Record<string, unknown>> {
-  const draft: FhirResource = { ...order.resource, status: 'draft' };
+export function orderSignPrefetch(record: RecordAsOf): Readonly<Record<string, unknown>> {
   const medicationRequests = record.ordersInForce.filter((r) => r.resourceType === 'MedicationRequest').map(asActive);
   const serviceRequests = record.ordersInForce
     .filter((r) => r.resourceType === 'ServiceRequest' && hasCode(r['code'], SYSTEMS.snomed, OXYGEN_CODES.oxygenTherapy))
     .map(asActive);
   return {
+    ...(record.patient === undefined ? {} : { patient: record.patient }),
+    observations: searchset(record.observations),
+    conditions: searchset(record.conditions),
+    ...(record.encounter === undefined ? {} : { encounter: record.encounter }),
+    medicationRequests: searchset(medicationRequests),
+    serviceRequests: searchset(serviceRequests),
+  };
+}
+
+/** The whole request, as an EHR would have sent it (hook instance derived from the order). */
+export function buildOrderSignRequest(order: IndexedOrder, record: RecordAsOf): Readonly<Record<string, unknown>> {
+  return {
     hookInstance: replayHookInstance(order.reference),
     hook: 'order-sign',
-    context: {
-      userId: 'Practitioner/simulation',
-      patientId: order.patientId,
-      ...(order.encounterId === undefined ? {} : { encounterId: order.encounterId }),
-      draftOrders: { resourceType: 'Bundle', type: 'collection', entry: [{ resource: draft }] },
-    },
-    prefetch: {
-      ...(record.patient === undefined ? {} : { patient: record.patient }),
-      observations: searchset(record.observations),
-      conditions: searchset(record.conditions),
-      ...(record.encounter === undefined ? {} : { encounter: record.encounter }),
-      medicationRequests: searchset(medicationRequests),
-      serviceRequests: searchset(serviceRequests),
-    },
+    context: orderSignContext(order),
+    prefetch: orderSignPrefetch(record),
   };
 }

@@ -21,14 +21,25 @@ export function fhirTimeMs(value: unknown): number | undefined {
   return Number.isFinite(ms) ? ms : undefined;
 }
 
+/** One pattern per resource type referred to, made on first use rather than on every reference read. */
+const REFERENCE_PATTERNS = new Map<string, RegExp>();
+
+function referencePattern(type: string): RegExp {
+  let pattern = REFERENCE_PATTERNS.get(type);
+  if (pattern === undefined) {
+    pattern = new RegExp(`(?:^|/)${type}/([A-Za-z0-9\\-.]{1,64})(?:/_history/[^/]+)?$`);
+    REFERENCE_PATTERNS.set(type, pattern);
+  }
+  return pattern;
+}
+
 /** The id in a reference to `type` ("Patient/p1", or an absolute URL ending so); undefined otherwise. */
 export function referencedId(reference: unknown, type: string): string | undefined {
   const text = stringAt(reference, 'reference');
   if (text === undefined) {
     return undefined;
   }
-  const match = new RegExp(`(?:^|/)${type}/([A-Za-z0-9\\-.]{1,64})(?:/_history/[^/]+)?$`).exec(text);
-  return match?.[1];
+  return referencePattern(type).exec(text)?.[1];
 }
 
 /** The patient a resource belongs to: the Patient itself, else its subject (or patient) reference. */

@@ -18,15 +18,19 @@ function write(name: string, text: string): string {
   return path;
 }
 
-async function readAll(path: string, chunkBytes?: number): Promise<{ ids: string[]; lines: number[]; problems: NdjsonProblems }> {
+async function readAll(path: string, chunkBytes?: number): Promise<{ ids: string[]; lines: number[]; texts: string[]; problems: NdjsonProblems }> {
   const problems = new NdjsonProblems();
   const ids: string[] = [];
   const lines: number[] = [];
+  const texts: string[] = [];
   for await (const record of readNdjsonFile(path, problems, chunkBytes === undefined ? {} : { chunkBytes })) {
     ids.push(record.resource.id ?? '');
     lines.push(record.line);
+    texts.push(record.text);
+    // The text handed on (the index stores it) is what the resource was read from.
+    expect(JSON.parse(record.text)).toStrictEqual(record.resource);
   }
-  return { ids, lines, problems };
+  return { ids, lines, texts, problems };
 }
 
 const patient = (id: string, extra = ''): string => JSON.stringify({ resourceType: 'Patient', id, name: [{ text: `Invented ${extra}` }] });
@@ -68,6 +72,7 @@ describe('readNdjsonFile', () => {
     const path = write('crlf.ndjson', `\uFEFF${patient('a')}\r\n${patient('b')}\r\n`);
     const read = await readAll(path);
     expect(read.ids).toStrictEqual(['a', 'b']);
+    expect(read.texts).toStrictEqual([patient('a'), patient('b')]);
     expect(read.problems.count).toBe(0);
   });
 
@@ -77,6 +82,7 @@ describe('readNdjsonFile', () => {
     const path = write('split.ndjson', records.join('\n'));
     const read = await readAll(path, 7);
     expect(read.ids).toStrictEqual(records.map((_, i) => `p${i}`));
+    expect(read.texts).toStrictEqual(records);
     expect(read.problems.count).toBe(0);
   });
 
