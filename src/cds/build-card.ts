@@ -7,7 +7,7 @@ import { planOrderChange, type ChangePlan } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
-import { compiledCardTemplate, escapeMarkdown, renderCompiled, type CardTemplate } from './card-templates.js';
+import { compiledCardTemplate, escapeMarkdown, renderCompiled, type BasedOnKind, type CardTemplate } from './card-templates.js';
 import { oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
@@ -277,6 +277,9 @@ function buildSuggestion(
   };
 }
 
+/** The `basedOn` of a template that lists none: one array, so the call's detail renderer sees one list. */
+const NO_INPUTS: readonly BasedOnKind[] = Object.freeze([]);
+
 /**
  * Builds the card for one finding (CDS Hooks 2.0 §Card Attributes), with any problems found.
  * Pure. Optional fields are omitted rather than sent empty (§Use of JSON).
@@ -305,7 +308,7 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     summary: truncateSummary(summary.text.trim()),
     detail: renderDetail({
       ruleText: `${detail.text.trim()}${withheld}`,
-      basedOn: ctx.template.basedOn ?? [],
+      basedOn: ctx.template.basedOn ?? NO_INPUTS,
       finding,
       assessment: ctx.assessment,
     }),
