@@ -21,16 +21,34 @@ interface Timed<T> {
   readonly value: T;
 }
 
-/** Readings from both windows once each (the current window is inside the trend one), oldest first. */
+/**
+ * Readings from both windows once each (the current window is inside the trend one), oldest first: two
+ * readings are one when they agree in time and value. Grouped by time, then by value (`includes` holds
+ * 0 and -0 as one, and NaN as itself, as the text of a number does), with no text made per reading.
+ */
 function mergedReadings(...lists: readonly (readonly Measured[])[]): Timed<number>[] {
-  const byKey = new Map<string, Timed<number>>();
-  for (const reading of lists.flat()) {
-    const ms = Date.parse(reading.at);
-    if (Number.isFinite(ms)) {
-      byKey.set(`${ms}\n${reading.value}`, { ms, value: reading.value });
+  const valuesByMs = new Map<number, number[]>();
+  for (const list of lists) {
+    for (const reading of list) {
+      const ms = Date.parse(reading.at);
+      if (!Number.isFinite(ms)) {
+        continue;
+      }
+      const values = valuesByMs.get(ms);
+      if (values === undefined) {
+        valuesByMs.set(ms, [reading.value]);
+      } else if (!values.includes(reading.value)) {
+        values.push(reading.value);
+      }
     }
   }
-  return [...byKey.values()].sort((a, b) => a.ms - b.ms || a.value - b.value);
+  const merged: Timed<number>[] = [];
+  for (const [ms, values] of valuesByMs) {
+    for (const value of values) {
+      merged.push({ ms, value });
+    }
+  }
+  return merged.sort((a, b) => a.ms - b.ms || a.value - b.value);
 }
 
 const iso = (ms: number): string => new Date(ms).toISOString();

@@ -3,11 +3,11 @@ import { formatFlow, formatRange } from '../core/assessment/format.js';
 import type { Policy } from '../core/policy.js';
 import type { Facts, Finding, OrderChange } from '../core/types.js';
 import { CANONICAL_BASE } from '../fhir/codes.js';
-import { planOrderChange } from '../fhir/apply-change.js';
+import { planOrderChange, type ChangePlan } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
-import { compiledCardTemplate, escapeMarkdown, renderCompiled, type CardTemplate } from './card-templates.js';
+import { compiledCardTemplate, escapeMarkdown, renderCompiled, type BasedOnKind, type CardTemplate } from './card-templates.js';
 import { oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
@@ -178,6 +178,34 @@ function leftAsWrittenNote(values: readonly string[]): string {
   return ` (the order text also gives ${quoted}: left as written and marked for review)`;
 }
 
+/**
+ * The plans of one call's suggestions, by resource and change. A later card about an order carries the
+ * changes of the cards before it, each planned on the resource the one before made (buildSuggestion),
+ * so the first card's plan is the second card's first step: each step is planned once per call, not
+ * once per card. A plan is a new copy that nothing changes afterwards. Kept per call's facts, so no
+ * plan outlives its call.
+ */
+const PLANS_BY_CALL = new WeakMap<Facts, Map<FhirResource, Map<OrderChange, ChangePlan>>>();
+
+function planOnce(facts: Facts, resource: FhirResource, change: OrderChange): ChangePlan {
+  let byResource = PLANS_BY_CALL.get(facts);
+  if (byResource === undefined) {
+    byResource = new Map();
+    PLANS_BY_CALL.set(facts, byResource);
+  }
+  let byChange = byResource.get(resource);
+  if (byChange === undefined) {
+    byChange = new Map();
+    byResource.set(resource, byChange);
+  }
+  let plan = byChange.get(change);
+  if (plan === undefined) {
+    plan = planOrderChange(resource, change);
+    byChange.set(change, plan);
+  }
+  return plan;
+}
+
 function buildSuggestion(
   finding: Finding,
   ctx: CardBuildContext,
@@ -197,7 +225,7 @@ function buildSuggestion(
   let resource: FhirResource = ctx.draftResource;
   const carried: OrderChange[] = [];
   for (const earlier of (ctx.earlierChanges ?? []).filter((e) => !overlaps(e, change))) {
-    const plan = planOrderChange(resource, earlier);
+    const plan = planOnce(ctx.facts, resource, earlier);
     if (plan.kind === 'cannot-copy') {
       problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
       return NONE;
@@ -207,7 +235,7 @@ function buildSuggestion(
       carried.push(earlier);
     }
   }
-  const plan = planOrderChange(resource, change);
+  const plan = planOnce(ctx.facts, resource, change);
   if (plan.kind === 'cannot-copy') {
     problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
     return NONE;
@@ -249,6 +277,9 @@ function buildSuggestion(
   };
 }
 
+/** The `basedOn` of a template that lists none: one array, so the call's detail renderer sees one list. */
+const NO_INPUTS: readonly BasedOnKind[] = Object.freeze([]);
+
 /**
  * Builds the card for one finding (CDS Hooks 2.0 §Card Attributes), with any problems found.
  * Pure. Optional fields are omitted rather than sent empty (§Use of JSON).
@@ -277,7 +308,7 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
     summary: truncateSummary(summary.text.trim()),
     detail: renderDetail({
       ruleText: `${detail.text.trim()}${withheld}`,
-      basedOn: ctx.template.basedOn ?? [],
+      basedOn: ctx.template.basedOn ?? NO_INPUTS,
       finding,
       assessment: ctx.assessment,
     }),

@@ -150,8 +150,24 @@ export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardCl
     }
     return lines;
   };
+  // Cards of one template list the same inputs (its `basedOn`, one array for every card), and cards of
+  // one assessment show the same lines for them: the list is put together once per assessment and array.
+  const listsByAssessment = new Map<Assessment, Map<readonly BasedOnKind[], readonly string[]>>();
+  const inputList = (basedOn: readonly BasedOnKind[], assessment: Assessment): readonly string[] => {
+    let byBasedOn = listsByAssessment.get(assessment);
+    if (byBasedOn === undefined) {
+      byBasedOn = new Map();
+      listsByAssessment.set(assessment, byBasedOn);
+    }
+    let list = byBasedOn.get(basedOn);
+    if (list === undefined) {
+      list = [...new Set(basedOn)].flatMap((kind) => inputLines(kind, assessment));
+      byBasedOn.set(basedOn, list);
+    }
+    return list;
+  };
   return (input) => {
-    const inputs = [...new Set(input.basedOn)].flatMap((kind) => inputLines(kind, input.assessment));
+    const inputs = inputList(input.basedOn, input.assessment);
     const computations = input.finding.computations;
     const shown = keyComputations(computations);
     const arithmetic = shown.map(arithmeticLine);

@@ -3,8 +3,10 @@ import { formatFio2Range, formatFlow, formatGasValue, formatMmHg, formatNumber, 
 import { DEVICE_MODELS } from '../core/devices/index.js';
 import type { Policy } from '../core/policy.js';
 import type { BloodGas, Computation, DeviceKind, Facts, Finding, Measured, OxygenOrder, SetAsideNote } from '../core/types.js';
+import { oncePerObject } from '../core/once-per-object.js';
 import { escapeMarkdown } from './card-templates.js';
 import { cardClock, type CardClock } from './card-time.js';
+import { oncePerPolicy } from './once-per-policy.js';
 
 /**
  * The full workings behind one card, so nothing the advice rests on is lost although the card itself
@@ -173,10 +175,18 @@ export function setAsideSection(notes: readonly SetAsideNote[]): DetailSection {
 
 const SAFE_URL = /^https?:\/\/[^\s<>]+$/;
 
-/** The source keys of a finding: its own, then those of its computations, each once. */
-export function findingSourceKeys(finding: Finding): string[] {
-  return [...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])];
+/**
+ * The source keys of a finding: its own, then those of its computations, each once. Its card, detail
+ * and workings all ask, so they are listed once per finding (a finding never changes).
+ */
+export function findingSourceKeys(finding: Finding): readonly string[] {
+  return sourceKeysOnce(finding);
 }
+
+const sourceKeysOnce = oncePerObject(
+  (finding: Finding): readonly string[] =>
+    Object.freeze([...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])]),
+);
 
 /** "Sources": each key's citation from the policy, then the policy itself. Unknown keys are reported. */
 export function sourcesSection(keys: readonly string[], policy: Policy): DetailSection & { readonly unknownKeys: readonly string[] } {
@@ -228,9 +238,30 @@ export function renderWorkings(input: WorkingsInput): string {
 }
 
 /**
+ * The sources section of a list of keys, rendered once per policy and list: it is made of the policy
+ * alone, and cards of one rule, and often of several, cite the same keys.
+ */
+function sourcesText(keys: readonly string[], policy: Policy): string {
+  const byKeys = sourcesTextsOf(policy);
+  const joinedKeys = keys.join('\n');
+  let text = byKeys.get(joinedKeys);
+  if (text === undefined) {
+    text = renderSections([sourcesSection(keys, policy)]);
+    byKeys.set(joinedKeys, text);
+  }
+  return text;
+}
+
+const sourcesTextsOf = oncePerPolicy(() => new Map<string, string>());
+
+/** The cautions section, rendered once per policy. */
+const cautionsText = oncePerPolicy((policy) => renderSections([cautionsSection(policy)]));
+
+/**
  * `renderWorkings` for every card of one call, with the same output: the sections all cards of one
- * call share (inputs per assessment, set aside, cautions) are built once, not once per card, so that
- * recording each card's workings in the audit trail costs little on a call with many cards.
+ * call share (inputs per assessment, set aside) are built once, not once per card, and those made of
+ * the policy alone (sources, cautions) once per policy, so that recording each card's workings in the
+ * audit trail costs little on a call with many cards.
  */
 export function prepareWorkings(
   facts: Facts,
@@ -240,23 +271,15 @@ export function prepareWorkings(
 ): (finding: Finding, assessment: Assessment) => string {
   // The shared sections are kept as rendered text: only the calculation is rendered per card.
   const inputsByAssessment = new Map<Assessment, string>();
-  // Cards of one rule, and often of several, cite the same keys.
-  const sourcesByKeys = new Map<string, string>();
   const setAside = renderSections([setAsideSection(facts.setAside)]);
-  const cautions = renderSections([cautionsSection(policy)]);
+  const cautions = cautionsText(policy);
   return (finding, assessment) => {
     let inputs = inputsByAssessment.get(assessment);
     if (inputs === undefined) {
       inputs = renderSections([inputsSection(facts, assessment, policy, clock)]);
       inputsByAssessment.set(assessment, inputs);
     }
-    const keys = findingSourceKeys(finding);
-    const joinedKeys = keys.join('\n');
-    let sources = sourcesByKeys.get(joinedKeys);
-    if (sources === undefined) {
-      sources = renderSections([sourcesSection(keys, policy)]);
-      sourcesByKeys.set(joinedKeys, sources);
-    }
+    const sources = sourcesText(findingSourceKeys(finding), policy);
     // renderSections joins sections with a blank line; so do these.
     return [inputs, renderSections([calculationSection(finding.computations, policy)]), setAside, sources, cautions].join('\n\n');
   };

@@ -23,22 +23,28 @@ function uuidBytes(uuid: string): Buffer {
 const CARD_NAMESPACE_BYTES = uuidBytes(CARD_UUID_NAMESPACE);
 
 /**
- * SHA-1 of a few bytes. The one-shot `crypto.hash` (Node 20.12 and later) costs about half of a Hash
- * object for a name this short, and a card call makes several; `engines` still admits older Node 20
- * releases, which lack it.
+ * SHA-1 of a few bytes, as hex. The one-shot `crypto.hash` (Node 20.12 and later) costs about half of a
+ * Hash object for a name this short, and a card call makes several; `engines` still admits older Node 20
+ * releases, which lack it. Hex rather than a Buffer: the digest is wanted as text, and making the string
+ * at once costs less than a Buffer and then its text.
  */
-const sha1: (data: Buffer) => Buffer =
+const sha1Hex: (data: Buffer) => string =
   typeof crypto.hash === 'function'
-    ? (data) => crypto.hash('sha1', data, 'buffer')
-    : (data) => crypto.createHash('sha1').update(data).digest();
+    ? (data) => crypto.hash('sha1', data, 'hex')
+    : (data) => crypto.createHash('sha1').update(data).digest('hex');
 
-/** RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name, version 5, variant 10. */
+/** The variant digit for each value of the top two bits of byte 8 once set to 10 (RFC 9562 §4.1). */
+const VARIANT_DIGITS = '89ab';
+
+/**
+ * RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name; the first 16 bytes, with version 5 in
+ * the high nibble of byte 6 and variant 10 in the top bits of byte 8. Both are set on the hex digits:
+ * digit 12 becomes `5`, digit 16 keeps its low two bits under `10`.
+ */
 function uuidV5FromBytes(namespaceBytes: Buffer, name: string): string {
-  const bytes = sha1(Buffer.concat([namespaceBytes, Buffer.from(name, 'utf8')])).subarray(0, 16);
-  bytes[6] = ((bytes[6] ?? 0) & 0x0f) | 0x50;
-  bytes[8] = ((bytes[8] ?? 0) & 0x3f) | 0x80;
-  const hex = bytes.toString('hex');
-  return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-${hex.slice(12, 16)}-${hex.slice(16, 20)}-${hex.slice(20)}`;
+  const hex = sha1Hex(Buffer.concat([namespaceBytes, Buffer.from(name, 'utf8')]));
+  const variant = VARIANT_DIGITS[Number.parseInt(hex.charAt(16), 16) & 0x3] ?? '';
+  return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-5${hex.slice(13, 16)}-${variant}${hex.slice(17, 20)}-${hex.slice(20, 32)}`;
 }
 
 /** A version 5 UUID of `name` under `namespace` (RFC 9562 §5.5). */

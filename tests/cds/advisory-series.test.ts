@@ -36,6 +36,23 @@ describe('advisorySeries', () => {
     ]);
   });
 
+  it('counts readings as one when they agree in instant and value, however the time is written', () => {
+    // The values only mark the points: the test is about merging the two windows, not about a threshold.
+    const tenAgo = spo2(95, 10);
+    // The same instant with a UTC offset instead of Z (ISO 8601; FHIR dateTime allows either).
+    const sameInstant = { ...tenAgo, at: tenAgo.at.replace('Z', '+00:00') };
+    const otherValue = { ...tenAgo, value: 94 };
+    const facts = buildFacts({
+      spo2Percent: [sameInstant],
+      trendReadings: { spo2Percent: [tenAgo, otherValue, spo2(93, 40)], fio2Fraction: [], o2FlowLPerMin: [] },
+    });
+    expect(seriesOf(facts).spo2).toStrictEqual([
+      { at: at(40), spo2Percent: 93 },
+      { at: at(10), spo2Percent: 94 },
+      { at: at(10), spo2Percent: 95 },
+    ]);
+  });
+
   it('gives recorded flows and FiO2 one step per time, with the recorded device, then the ordered setting now', () => {
     const facts = buildFacts({
       orders: [oxygenOrder({ device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 })],
