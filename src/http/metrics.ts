@@ -37,12 +37,6 @@ export interface ServiceMetrics {
 
 const PREFIX = 'oxygen_checker_';
 
-/** One route and status code's request count and duration histogram. */
-interface RequestSeries {
-  readonly count: { inc: () => void };
-  readonly seconds: { observe: (value: number) => void };
-}
-
 /**
  * Builds the metrics. The policy info gauge reads the holder at each scrape, so a reload shows on the
  * next scrape without the reloader knowing about metrics.
@@ -115,30 +109,12 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
     },
   });
 
-  // Each route's series, resolved once per route name and status code (both from fixed sets), so a
-  // request builds no label object (issue 9: the shell's cost per call).
-  const seriesByRoute = new Map<string, Map<number, RequestSeries>>();
-  const requestSeries = (route: string, status: number): RequestSeries => {
-    let byStatus = seriesByRoute.get(route);
-    if (byStatus === undefined) {
-      byStatus = new Map();
-      seriesByRoute.set(route, byStatus);
-    }
-    let series = byStatus.get(status);
-    if (series === undefined) {
-      const labels = { route, status: String(status) };
-      series = { count: requests.labels(labels), seconds: latency.labels(labels) };
-      byStatus.set(status, series);
-    }
-    return series;
-  };
-
   return {
     registry,
     requestFinished(route, status, durationMs) {
-      const series = requestSeries(route, status);
-      series.count.inc();
-      series.seconds.observe(durationMs / 1000);
+      const labels = { route, status: String(status) };
+      requests.inc(labels);
+      latency.observe(labels, durationMs / 1000);
     },
     cardsIssued(issued) {
       for (const card of issued) {
