@@ -199,13 +199,19 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     app.get(METRICS_ROUTE, metricsHandler(metrics, deps.metricsText));
   }
 
-  app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)
-  app.use('/cds-services', requireAuthentication(deps.authenticate));
-  app.use(parseJsonBody(config.bodyLimitBytes));
+  const authenticated = requireAuthentication(deps.authenticate);
+  const jsonBody = parseJsonBody(config.bodyLimitBytes);
+  // The hook call has its whole chain on one route, in the order the steps below give every other
+  // /cds-services request, so it walks no other layer (issue 9: the shell's cost per call). Shed
+  // before any cost: refused while work waits too long (overload.ts); admitted after the body is
+  // read: the cap counts evaluations, so a slow upload holds no slot.
+  app.post(ROUTES.service, gate.shed, authenticated, jsonBody, gate.admit, (req, res, next) =>
+    handlersFor(pinnedPolicy(res)).service(req, res, next),
+  );
+  app.use('/cds-services', authenticated);
+  app.use(jsonBody);
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
   app.post(ROUTES.feedback, (req, res, next) => handlersFor(pinnedPolicy(res)).feedback(req, res, next));
-  // Admitted after the body is read: the cap counts evaluations, so a slow upload holds no slot.
-  app.post(ROUTES.service, gate.admit, (req, res, next) => handlersFor(pinnedPolicy(res)).service(req, res, next));
 
   app.use(notFound);
   app.use(jsonErrorHandler(deps.logger));

@@ -61,6 +61,65 @@ function pathOf(frame: Frame): (string | number)[] {
 
 /** The first place `value` exceeds `limits`, or undefined when it keeps within them. */
 export function findJsonLimitBreach(value: unknown, limits: JsonLimits = JSON_LIMITS): JsonLimitBreach | undefined {
+  return keepsWithin(value, limits) ? undefined : locateBreach(value, limits);
+}
+
+/**
+ * Whether `value` keeps within `limits`: the same tests as `locateBreach`, run on every body, so it
+ * allocates nothing per value (no frames, no paths) and never pushes a string or other leaf. Only a
+ * body that breaks a limit is walked again to say where.
+ */
+function keepsWithin(value: unknown, limits: JsonLimits): boolean {
+  const maxChars = limits.maxStringChars;
+  if (typeof value === 'string') {
+    return value.length <= maxChars;
+  }
+  if (value === null || typeof value !== 'object') {
+    return true;
+  }
+  const values: object[] = [value];
+  const depths: number[] = [1];
+  for (let current = values.pop(); current !== undefined; current = values.pop()) {
+    const depth = depths.pop() as number;
+    if (depth > limits.maxDepth) {
+      return false;
+    }
+    if (Array.isArray(current)) {
+      if (current.length > limits.maxArrayItems) {
+        return false;
+      }
+      for (const item of current as readonly unknown[]) {
+        if (typeof item === 'string') {
+          if (item.length > maxChars) {
+            return false;
+          }
+        } else if (item !== null && typeof item === 'object') {
+          values.push(item);
+          depths.push(depth + 1);
+        }
+      }
+      continue;
+    }
+    for (const key of Object.keys(current)) {
+      if (key.length > maxChars) {
+        return false;
+      }
+      const inner = (current as Readonly<Record<string, unknown>>)[key];
+      if (typeof inner === 'string') {
+        if (inner.length > maxChars && !limits.longTextKeys.has(key)) {
+          return false;
+        }
+      } else if (inner !== null && typeof inner === 'object') {
+        values.push(inner);
+        depths.push(depth + 1);
+      }
+    }
+  }
+  return true;
+}
+
+/** The first breach in walking order, with its path; undefined when there is none. */
+function locateBreach(value: unknown, limits: JsonLimits): JsonLimitBreach | undefined {
   const stack: Frame[] = [{ value, depth: 1, parent: undefined, key: undefined }];
   for (let frame = stack.pop(); frame !== undefined; frame = stack.pop()) {
     const current = frame.value;

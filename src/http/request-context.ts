@@ -50,16 +50,22 @@ export function requestContext(
     res.setHeader('X-Request-Id', state.requestId);
     res.once('close', () => {
       const nowMs = performance.now();
+      const status = res.statusCode;
+      // Only refusals (4xx) are counted per client (logger.ts), so only they need the client's key.
+      const refusal =
+        status >= 400 && status < 500
+          ? { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs }
+          : undefined;
       logRequestSummary(logger, {
         requestId: state.requestId,
         method: req.method,
         route: state.route,
-        status: res.statusCode,
+        status,
         durationMs: nowMs - state.startedAt,
         errorCode: state.errorCode,
         detail: state.detail,
-      }, { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs });
-      onFinished?.(state.route, res.statusCode, nowMs - state.startedAt);
+      }, refusal);
+      onFinished?.(state.route, status, nowMs - state.startedAt);
     });
   };
 }

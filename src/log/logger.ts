@@ -255,6 +255,11 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary, refus
   if (!refusalWritten(logger, summary.status, summary.errorCode ?? String(summary.status), refusals)) {
     return;
   }
+  const level = summaryLevel(summary);
+  // The line is built only when it is written: at LOG_LEVEL=warn an answered call writes none.
+  if (!logger.isLevelEnabled(level)) {
+    return;
+  }
   const line: Record<string, unknown> = {
     requestId: summary.requestId,
     method: capText(summary.method),
@@ -268,19 +273,20 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary, refus
   if (summary.detail !== undefined) {
     Object.assign(line, pickDetail(summary.detail));
   }
-  const message = summary.detail?.kind === 'hook-call' ? 'hook call' : 'request';
+  logger[level](line, summary.detail?.kind === 'hook-call' ? 'hook call' : 'request');
+}
+
+/** A 5xx is an error; a call that slipped (card problems, a refused server or token, review refused) a warning. */
+function summaryLevel(summary: RequestSummary): 'error' | 'warn' | 'info' {
   const slipped =
     (summary.detail?.kind === 'hook-call' &&
       (summary.detail.cardProblems.length > 0 || summary.detail.fhirServerRefused !== undefined)) ||
     summary.detail?.kind === 'auth-refused' ||
     (summary.detail?.kind === 'review' && summary.detail.refused !== undefined);
   if (summary.status >= 500) {
-    logger.error(line, message);
-  } else if (slipped) {
-    logger.warn(line, message);
-  } else {
-    logger.info(line, message);
+    return 'error';
   }
+  return slipped ? 'warn' : 'info';
 }
 
 /**
