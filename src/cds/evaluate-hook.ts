@@ -18,8 +18,11 @@ import {
   OrderSignContextSchema,
   PatientViewContextSchema,
   type CdsRequest,
+  type OrderSelectContext,
+  type OrderSignContext,
   type CdsResponse,
 } from './schemas.js';
+import { isValidatedContext } from './parse-hook-request.js';
 import { findService } from './services.js';
 
 /**
@@ -83,19 +86,28 @@ function readOrderContext(
   context: unknown,
   data: GatheredData,
 ): { readonly draftOrders: unknown; readonly selections: readonly string[] | undefined } {
+  // A context parseHookRequest validated is not checked again; one built some other way is.
+  const validated = isValidatedContext(context, hook);
   if (hook === 'patient-view') {
-    if (!PatientViewContextSchema.safeParse(context).success) {
+    if (!validated && !PatientViewContextSchema.safeParse(context).success) {
       throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
     }
     return { draftOrders: { resourceType: 'Bundle', entry: data.activeOrders.map((resource) => ({ resource })) }, selections: undefined };
   }
-  const parsed =
-    hook === 'order-select' ? OrderSelectContextSchema.safeParse(context) : OrderSignContextSchema.safeParse(context);
-  if (!parsed.success) {
+  const checked: OrderSignContext | OrderSelectContext | undefined = validated
+    ? (context as OrderSignContext | OrderSelectContext)
+    : checkOrderContext(hook, context);
+  if (checked === undefined) {
     throw new Error('evaluateHook: the request context was not validated (use parseHookRequest first)');
   }
-  const selections = 'selections' in parsed.data ? (parsed.data.selections as readonly string[]) : undefined;
-  return { draftOrders: parsed.data.draftOrders, selections };
+  const selections = 'selections' in checked ? (checked.selections as readonly string[]) : undefined;
+  return { draftOrders: checked.draftOrders, selections };
+}
+
+function checkOrderContext(hook: 'order-sign' | 'order-select', context: unknown): OrderSignContext | OrderSelectContext | undefined {
+  const parsed =
+    hook === 'order-select' ? OrderSelectContextSchema.safeParse(context) : OrderSignContextSchema.safeParse(context);
+  return parsed.success ? parsed.data : undefined;
 }
 
 export function evaluateHook(

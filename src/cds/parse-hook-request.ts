@@ -6,6 +6,7 @@ import {
   type CdsRequest,
   type Issue,
 } from './schemas.js';
+import type { HookName } from '../core/types.js';
 import { findService, type CdsServiceDefinition } from './services.js';
 
 /**
@@ -36,7 +37,21 @@ export function parseHookRequest(serviceId: string, body: unknown): HookRequestP
         ? PatientViewRequestSchema
         : OrderSignRequestSchema;
   const parsed = schema.safeParse(body);
-  return parsed.success
-    ? { kind: 'ok', service, request: parsed.data }
-    : { kind: 'invalid', issues: describeIssues(parsed.error) };
+  if (!parsed.success) {
+    return { kind: 'invalid', issues: describeIssues(parsed.error) };
+  }
+  VALIDATED_CONTEXTS.set(parsed.data.context, service.hook);
+  return { kind: 'ok', service, request: parsed.data };
+}
+
+/**
+ * The contexts this parse has validated against their hook's schema: zod builds each as a new
+ * object, so one found here is exactly what the schema passed and `evaluateHook` need not check it
+ * again. Weakly held: an entry goes when its request does.
+ */
+const VALIDATED_CONTEXTS = new WeakMap<object, HookName>();
+
+/** True when `context` is one that `parseHookRequest` built and validated as the context of `hook`. */
+export function isValidatedContext(context: unknown, hook: HookName): boolean {
+  return typeof context === 'object' && context !== null && VALIDATED_CONTEXTS.get(context) === hook;
 }

@@ -6,7 +6,7 @@ import type { FhirResource } from './gathered-data.js';
 import { isObject } from './json.js';
 import { parameterSays } from './order-parts.js';
 import { readDeviceText } from './read-device-text.js';
-import { readOrder } from './read-order.js';
+import { readTargetWords } from './read-order.js';
 import { readSettingText } from './read-setting-text.js';
 import { readWrittenTarget } from './read-target-text.js';
 import { deviceWords, formatNumber, formatPercent, rewriteDevice, rewriteFlow, rewriteTarget, type Rewrite } from './rewrite-text.js';
@@ -166,13 +166,12 @@ function refusal(resource: FhirResource, change: OrderChange): string | undefine
   if (change.kind !== 'set-target' || (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest')) {
     return undefined;
   }
-  const { order } = readOrder(resource, type, `${type}/${resource.id ?? ''}`, true);
-  const note = order.targetNote;
-  if (note?.kind === 'no-target' || order.purpose === 'comfort') {
+  const { targetNote: note, stopOrComfort } = readTargetWords(resource, type);
+  if (note?.kind === 'no-target' || stopOrComfort === 'comfort') {
     const said = note === undefined ? '' : ` ("${note.text}")`;
     return `the order says it has no SpO2 target or is for comfort${said}; adding a target is the prescriber's decision, so no one-click change is offered.`;
   }
-  if (order.purpose === 'stop') {
+  if (stopOrComfort === 'stop') {
     return 'the order stops oxygen; a target is not added to it by a one-click change.';
   }
   if (note?.kind === 'ambiguous') {

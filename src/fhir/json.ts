@@ -134,5 +134,10 @@ export function hasCode(concept: unknown, system: string, code: string): boolean
 
 /** Removes float noise from a converted value (e.g. 28.000000000000004 → 28). */
 export function tidyNumber(value: number): number {
+  // Most values read are whole numbers (SpO2 95 %, 2 L/min), which are their own 12-digit form: the
+  // string round trip is skipped for them (0 stays 0 and -0 becomes 0, as the round trip gives).
+  if (Number.isSafeInteger(value) && Math.abs(value) < 1e12) {
+    return value === 0 ? 0 : value;
+  }
   return Number(value.toPrecision(12));
 }

@@ -105,34 +105,65 @@ interface Context {
   readonly corrected: boolean;
 }
 
+/** Whether the holder states a result: any `value[x]` element. */
+function hasValueElement(holder: Readonly<Record<string, unknown>>): boolean {
+  for (const key in holder) {
+    if (Object.hasOwn(holder, key) && key.startsWith('value')) {
+      return true;
+    }
+  }
+  return false;
+}
+
+/**
+ * Sets a value aside with its reason. A module function rather than a closure per value: the
+ * readers run once per Observation, hundreds of times on a long stay.
+ */
+function setAside(
+  notes: SetAsideNote[],
+  what: string,
+  reason: SetAsideNote['reason'],
+  detail: string,
+  reference: string | undefined,
+): undefined {
+  notes.push({ what, reason, detail, reference });
+  return undefined;
+}
+
 function readValue(
   code: ObservationCode,
   holder: unknown,
   ctx: Context,
   notes: SetAsideNote[],
 ): Reading | undefined {
-  const hasValue = isObject(holder) && Object.keys(holder).some((k) => k.startsWith('value'));
-  if (!hasValue) {
+  if (!isObject(holder) || !hasValueElement(holder)) {
     return undefined; // no result (dataAbsentReason, or a panel whose values are its members)
   }
   const quantity = quantityOf(objectAt(holder, 'valueQuantity'));
-  const note = (reason: SetAsideNote['reason'], detail: string): undefined => {
-    notes.push({ what: code.label, reason, detail, reference: ctx.reference });
-    return undefined;
-  };
   if (quantity === undefined) {
-    return note('unrecognised', 'The value is not a number with a unit (valueQuantity).');
+    return setAside(notes, code.label, 'unrecognised', 'The value is not a number with a unit (valueQuantity).', ctx.reference);
   }
   const read = readQuantity(quantity, code.kind === 'gas' ? GAS_UNIT_OF[code.field] : UNIT_OF[code.kind]);
   if (read.kind !== 'ok') {
-    return note('unreadable-unit', `${quantity.value} '${read.unit}' is not a unit this value can be read in.`);
+    const detail = `${quantity.value} '${read.unit}' is not a unit this value can be read in.`;
+    return setAside(notes, code.label, 'unreadable-unit', detail, ctx.reference);
   }
   const limits = code.kind === 'gas' ? GAS_LIMITS_OF[code.field] : LIMITS_OF[code.kind];
   if (!isPlausible(read.value, limits)) {
     const shown = `${read.reported.value}${read.reported.unit === '' ? '' : ` ${read.reported.unit}`}`;
-    return note('implausible', `${shown} is outside the plausible range ${describeRange(limits)}.`);
+    return setAside(notes, code.label, 'implausible', `${shown} is outside the plausible range ${describeRange(limits)}.`, ctx.reference);
   }
-  return { code, value: read.value, reported: read.reported, ...ctx };
+  return {
+    code,
+    value: read.value,
+    reported: read.reported,
+    at: ctx.at,
+    atMs: ctx.atMs,
+    reference: ctx.reference,
+    sampleKeys: ctx.sampleKeys,
+    filedMs: ctx.filedMs,
+    corrected: ctx.corrected,
+  };
 }
 
 /**
@@ -157,21 +188,20 @@ export function readObservationValues(
     return []; // not an observation this service reads
   }
   const status = stringAt(obs, 'status')?.toLowerCase();
-  const skip = (reason: SetAsideNote['reason'], detail: string): readonly Reading[] => {
-    notes.push({ what: first.label, reason, detail, reference });
-    return [];
-  };
   if (status !== undefined && ERROR_STATUSES.has(status)) {
-    return skip('error-in-source', `The result has status '${status}' and was not used.`);
+    setAside(notes, first.label, 'error-in-source', `The result has status '${status}' and was not used.`, reference);
+    return [];
   }
   if (status === undefined || !USED_STATUSES.has(status)) {
-    const shown = status ?? '(none)';
-    return skip('unrecognised', `The result status '${shown}' is not preliminary, final, amended or corrected.`);
+    const detail = `The result status '${status ?? '(none)'}' is not preliminary, final, amended or corrected.`;
+    setAside(notes, first.label, 'unrecognised', detail, reference);
+    return [];
   }
   const at = effectiveTime(obs);
   const parsed = parseFhirDateTime(at);
   if (at === undefined || parsed === undefined) {
-    return skip('unrecognised', 'The result has no readable effective time, so its age is unknown.');
+    setAside(notes, first.label, 'unrecognised', 'The result has no readable effective time, so its age is unknown.', reference);
+    return [];
   }
   const specimen = stringAt(objectAt(obs, 'specimen'), 'reference')?.trim();
   const panel = reference === undefined ? undefined : panelOf.get(reference);

@@ -9,7 +9,7 @@ import { readDeviceText } from './read-device-text.js';
 import { readRangeAsTarget, readTargetExtension } from './read-order-target.js';
 import { readQuantity } from './read-quantity.js';
 import { readSettingText, type SettingTextRead } from './read-setting-text.js';
-import { readOrderPurpose } from './read-order-purpose.js';
+import { readOrderPurpose, type PurposeInputs } from './read-order-purpose.js';
 import { findTargetStatements, rangeKeepsBound, readWrittenTarget, type TargetStatements } from './read-target-text.js';
 import { convertUnit, normaliseUnit } from '../units/convert.js';
 
@@ -220,6 +220,31 @@ function readFio2(
   return coded;
 }
 
+/** What a new target written into an order depends on: the note on its target, and whether it stops oxygen or is for comfort. */
+export interface TargetWordsRead {
+  readonly targetNote: TargetNote | undefined;
+  /** 'stop' or 'comfort' when `readOrder` reads the order's purpose so; undefined for any other purpose. */
+  readonly stopOrComfort: 'stop' | 'comfort' | undefined;
+}
+
+/**
+ * The order's target note and whether it stops oxygen or is for comfort, as `readOrder` reads them,
+ * without reading its device or settings: neither the target nor a stop or comfort purpose depends
+ * on them (the flow read only tells room air from titration).
+ */
+export function readTargetWords(resource: FhirResource, type: OrderResourceType): TargetWordsRead {
+  const parts = orderParts(resource, type);
+  const texts = parts.texts.map(currentWords);
+  const reference = `${type}/${resource.id ?? ''}`;
+  const target = readTarget(parts, texts, texts.map(findTargetStatements), reference, new OrderNotes(reference));
+  const purpose = readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin: undefined });
+  return { targetNote: target.note, stopOrComfort: purpose === 'stop' || purpose === 'comfort' ? purpose : undefined };
+}
+
+function purposeWords(resource: FhirResource, texts: readonly string[]): Omit<PurposeInputs, 'flowLPerMin'> {
+  return { status: stringAt(resource, 'status'), doNotPerform: resource['doNotPerform'] === true, texts };
+}
+
 /** Reads an oxygen order; `reference` is its `Type/id`, `isSubject` whether it is under check. */
 export function readOrder(
   resource: FhirResource,
@@ -250,7 +275,7 @@ export function readOrder(
       setFio2Fraction,
       target: target.target,
       targetNote: target.note,
-      purpose: readOrderPurpose({ status, doNotPerform: resource['doNotPerform'] === true, texts, flowLPerMin }),
+      purpose: readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin }),
       authoredOn: stringAt(resource, 'authoredOn'),
       isSubject,
     },

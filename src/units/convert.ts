@@ -1,4 +1,4 @@
-import ucum from '@lhncbc/ucum-lhc';
+import ucum, { type UcumUnit } from '@lhncbc/ucum-lhc';
 
 /**
  * The one place units are converted: at the edge (FHIR reader, policy loader, CLI, card display),
@@ -76,6 +76,11 @@ class UnitMemo<T> {
     return answer;
   }
 
+  /** The remembered answer, or undefined when there is none. */
+  peek(key: string): T | undefined {
+    return this.#answers.get(key);
+  }
+
   set(key: string, answer: T): void {
     if (this.#answers.size >= this.bound) {
       this.#answers.clear();
@@ -89,6 +94,19 @@ const MEMO_BOUND = 1000;
 const normalised = new UnitMemo<string | undefined>(MEMO_BOUND);
 /** Unit pairs the library cannot convert between, whatever the value (e.g. L/min to g). */
 const incommensurable = new UnitMemo<true>(MEMO_BOUND);
+
+/** The library's parsed unit objects for a pair it converted on the plain ratio or offset scale. */
+interface ParsedPair {
+  readonly fromUnit: UcumUnit;
+  readonly toUnit: UcumUnit;
+}
+/**
+ * Pairs already converted once. `convertUnitTo` parses both unit strings on every call; its 'normal'
+ * conversion then calls `toUnit.convertFrom(value, fromUnit)`, which reads the parsed units and
+ * changes nothing, so later values are converted by that same call on the units parsed the first time:
+ * the same arithmetic, without parsing the strings again.
+ */
+const parsedPairs = new UnitMemo<ParsedPair>(MEMO_BOUND);
 
 /** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
 export function normaliseUnit(unit: string): string | undefined {
@@ -141,6 +159,10 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
     }
     return cannot;
   };
+  const parsed = Number.isFinite(value) ? parsedPairs.peek(pair) : undefined;
+  if (parsed !== undefined) {
+    return fromParsed(parsed, value, cannot);
+  }
   let result: ReturnType<typeof utils.convertUnitTo>;
   try {
     result = quietly(() => utils.convertUnitTo(from, value, to));
@@ -150,10 +172,29 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
   if (result.status !== 'succeeded') {
     return unitsFailed();
   }
+  if (result.fromUnit !== undefined && result.toUnit !== undefined && isNormalConversion(result.fromUnit, result.toUnit)) {
+    parsedPairs.set(pair, { fromUnit: result.fromUnit, toUnit: result.toUnit });
+  }
   if (result.toVal === null || !Number.isFinite(result.toVal)) {
     return cannot;
   }
   return { kind: 'ok', value: result.toVal };
+}
+
+/** Whether the library converts this pair by `toUnit.convertFrom` (no molar mass or charge needed). */
+function isNormalConversion(fromUnit: UcumUnit, toUnit: UcumUnit): boolean {
+  return utils.detectConversionType(fromUnit, toUnit) === 'normal';
+}
+
+/** What `convertUnitTo` answers for a finite value of a pair it has converted before. */
+function fromParsed(parsed: ParsedPair, value: number, cannot: Conversion): Conversion {
+  let toVal: number;
+  try {
+    toVal = parsed.toUnit.convertFrom(value, parsed.fromUnit);
+  } catch {
+    return cannot;
+  }
+  return Number.isFinite(toVal) ? { kind: 'ok', value: toVal } : cannot;
 }
 
 /** Convenience for callers that have already checked the units are convertible (e.g. kPa ↔ mm[Hg]). */

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { evaluateHook, missingTemplates } from '../../src/cds/evaluate-hook.js';
+import { parseHookRequest } from '../../src/cds/parse-hook-request.js';
 import { cardUuid } from '../../src/cds/stable-uuid.js';
 import { RULES } from '../../src/core/rules/index.js';
 import { expectConformant } from '../helpers/card-conformance.js';
@@ -231,6 +232,22 @@ describe('evaluateHook', () => {
       expect(() => run('oxygen-order-select')).toThrow("answers order-select, not the request's hook");
       const bad = { ...orderSignRequest(standardOrder), context: { patientId: 'lb-pt-0064' } };
       expect(() => run('oxygen-order-sign', bad)).toThrow('the request context was not validated');
+    });
+
+    it('answers alike whether or not parseHookRequest validated the context first', () => {
+      const request = orderSignRequest(standardOrder);
+      const parsed = parseHookRequest('oxygen-order-sign', JSON.parse(JSON.stringify(request)));
+      expect(parsed.kind).toBe('ok');
+      const viaParse = parsed.kind === 'ok' ? run('oxygen-order-sign', parsed.request) : undefined;
+      expect(viaParse).toStrictEqual(run('oxygen-order-sign', request));
+      expect(viaParse?.response.cards.length).toBeGreaterThan(0);
+    });
+
+    it('checks a validated context again when it is sent with another hook', () => {
+      const parsed = parseHookRequest('oxygen-order-sign', JSON.parse(JSON.stringify(orderSignRequest(standardOrder))));
+      const context = parsed.kind === 'ok' ? parsed.request.context : {};
+      const select = { ...orderSelectRequest(standardOrder), context };
+      expect(() => run('oxygen-order-select', select)).toThrow('the request context was not validated');
     });
 
     it('throws when a rule that fires has no template', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { parseHookRequest } from '../../src/cds/parse-hook-request.js';
+import { isValidatedContext, parseHookRequest } from '../../src/cds/parse-hook-request.js';
 import { cloneJson, loadJsonFixture } from '../helpers/load-fixture.js';
 
 const signRequest = loadJsonFixture('cds/order-sign-request.json') as Record<string, unknown>;
@@ -80,5 +80,26 @@ describe('parseHookRequest', () => {
     it('rejects a body that is not an object', () => {
       expect(parseHookRequest('oxygen-order-sign', [1, 2]).kind).toBe('invalid');
     });
+  });
+});
+
+describe('isValidatedContext', () => {
+  it('knows the context of a request it accepted, for that hook only', () => {
+    const result = parseHookRequest('oxygen-order-sign', signRequest);
+    const context = result.kind === 'ok' ? result.request.context : undefined;
+    expect(isValidatedContext(context, 'order-sign')).toBe(true);
+    expect(isValidatedContext(context, 'order-select')).toBe(false);
+    expect(isValidatedContext(context, 'patient-view')).toBe(false);
+  });
+
+  it('does not know a context it did not build: the body sent, a copy, or a rejected one', () => {
+    const result = parseHookRequest('oxygen-order-sign', signRequest);
+    const context = result.kind === 'ok' ? result.request.context : {};
+    expect(isValidatedContext(signRequest['context'], 'order-sign')).toBe(false);
+    expect(isValidatedContext({ ...context }, 'order-sign')).toBe(false);
+    const bad = { ...cloneJson(signRequest), context: { patientId: 'lb-pt-0064' } };
+    expect(parseHookRequest('oxygen-order-sign', bad).kind).toBe('invalid');
+    expect(isValidatedContext(bad.context, 'order-sign')).toBe(false);
+    expect(isValidatedContext(undefined, 'order-sign')).toBe(false);
   });
 });

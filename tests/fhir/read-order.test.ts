@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { readOrder } from '../../src/fhir/read-order.js';
+import { readOrder, readTargetWords } from '../../src/fhir/read-order.js';
 import type { FhirResource } from '../../src/fhir/gathered-data.js';
 import type { OrderResourceType } from '../../src/fhir/is-oxygen-order.js';
 import { LOINC, SNOMED, oxygenDeviceRequest, oxygenMedicationRequest, oxygenServiceRequest, quantity } from './helpers/larkspur-bay.js';
@@ -342,5 +342,73 @@ describe('readOrder', () => {
       const resource = oxygenServiceRequest('sr-no-device', { patientInstruction: 'O2 2 L/min, target SpO2 94-98%' });
       expect(read(resource).notes).toStrictEqual([]);
     });
+  });
+});
+
+/**
+ * readTargetWords is the part of readOrder a one-click target change needs (src/fhir/apply-change.ts):
+ * it must read every order's target note, and a stop or comfort purpose, exactly as readOrder does.
+ * The order words are invented Larkspur Bay wording; the ranges are BTS 2017 Table 4's.
+ */
+
+const WORDS = [
+  '2 L/min nasal cannula, target SpO2 94-98%', // BTS 2017, Table 4
+  '28% venturi at 4 L/min, aim sats 88-92', // BTS 2017, Table 4
+  'Oxygen for comfort only, no SpO2 target',
+  'Palliative: titrate to comfort via nasal cannula 2L',
+  'Stop oxygen; check SpO2 on air',
+  'Do not stop oxygen. 2L NC target 94-98%',
+  'Target 88-92% if hypercapnic, otherwise 94-98%',
+  'Keep SpO2 >= 92% on 2L NC',
+  'Aim SpO2 92% on 4 L/min simple face mask',
+  'Wean to room air, target 94-98%',
+  'SpO2 90% on RA, 1 L/min nasal prongs',
+  '0 L/min, on air',
+  'No SpO2 target, 15L non-rebreather',
+  '',
+];
+
+function orders(words: string): readonly FhirResource[] {
+  return [
+    oxygenMedicationRequest('mr-w', { dosageInstruction: [{ text: words }] }),
+    oxygenMedicationRequest('mr-x', { extension: [targetExtension(88, 92)], dosageInstruction: [{ text: words }] }),
+    oxygenMedicationRequest('mr-s', { status: 'stopped', dosageInstruction: [{ text: words }] }),
+    oxygenServiceRequest('sr-w', { patientInstruction: words }),
+    oxygenServiceRequest('sr-d', { doNotPerform: true, patientInstruction: words }),
+    oxygenDeviceRequest('dr-w', 'Nasal cannula', { note: [{ text: words }] }),
+  ];
+}
+
+describe('readTargetWords', () => {
+  it('reads the target note and a stop or comfort purpose as readOrder does, for every kind of order and wording', () => {
+    const disagreements: string[] = [];
+    const purposes = new Set<string>();
+    for (const words of WORDS) {
+      for (const resource of orders(words)) {
+        const type = resource.resourceType as OrderResourceType;
+        const { order } = readOrder(resource, type, `${type}/${resource.id ?? ''}`, true);
+        const expected = {
+          targetNote: order.targetNote,
+          stopOrComfort: order.purpose === 'stop' || order.purpose === 'comfort' ? order.purpose : undefined,
+        };
+        purposes.add(order.purpose);
+        const got = readTargetWords(resource, type);
+        if (JSON.stringify(got) !== JSON.stringify(expected)) {
+          disagreements.push(`${type} "${words}": ${JSON.stringify(got)} vs ${JSON.stringify(expected)}`);
+        }
+      }
+    }
+    expect(disagreements).toStrictEqual([]);
+    // The wordings cover every purpose, so the comparison means something for each.
+    expect([...purposes].sort()).toStrictEqual(['comfort', 'room-air', 'stop', 'titrate', 'wean']);
+  });
+
+  it('reads the notes that withhold a new target: no target, and a target with two ranges', () => {
+    const noTarget = oxygenMedicationRequest('mr-n', { dosageInstruction: [{ text: 'No SpO2 target, 15L non-rebreather' }] });
+    expect(readTargetWords(noTarget, 'MedicationRequest').targetNote?.kind).toBe('no-target');
+    const two = oxygenMedicationRequest('mr-a', {
+      dosageInstruction: [{ text: 'Target 88-92% if hypercapnic, otherwise 94-98%' }], // BTS 2017, Table 4
+    });
+    expect(readTargetWords(two, 'MedicationRequest').targetNote?.kind).toBe('ambiguous');
   });
 });

@@ -88,6 +88,18 @@ describe('remembered unit answers', () => {
       expect(after).toStrictEqual({ kind: 'ok', value: library.convertUnitTo('mL/min', 500, 'L/min').toVal });
     });
 
+    it('converts a pair on an offset scale alike the first time and after, as the library does', () => {
+      // Celsius to Fahrenheit is not a plain ratio: 37 Cel is 98.6 [degF] (common practice).
+      const values = [37, -40, 0, 100, 41.5];
+      const first = values.map((value) => convertUnit(value, 'Cel', '[degF]'));
+      const again = values.map((value) => convertUnit(value, 'Cel', '[degF]'));
+      const direct = values.map((value) => ({ kind: 'ok', value: library.convertUnitTo('Cel', value, '[degF]').toVal }));
+      expect(first).toStrictEqual(direct);
+      expect(again).toStrictEqual(direct);
+      expect(first[0]?.kind === 'ok' ? first[0].value : undefined).toBeCloseTo(98.6, 6); // common practice
+      expect(first[1]?.kind === 'ok' ? first[1].value : undefined).toBeCloseTo(-40, 6); // common practice: -40 °C is -40 °F
+    });
+
     it('answers alike once more unit strings have been sent than it remembers', () => {
       const before = ['mm[Hg]', 'kPa', 'L/min', 'mmHg'].map((unit) => normaliseUnit(unit));
       for (let i = 0; i < 2500; i += 1) {

@@ -1,4 +1,5 @@
 import type { DeviceCatalogue, FlowLimitsLPerMin, StockedVenturiSetting } from '../policy.js';
+import { oncePerObject } from '../once-per-object.js';
 import type { DeviceKind, OrderChange } from '../types.js';
 import { cpapNivModel } from './cpap-niv.js';
 import { highFlowNasalCannulaModel } from './high-flow-nasal-cannula.js';
@@ -90,6 +91,18 @@ const LOCAL_VALVE_BASIS = "this hospital's valve label (policy devices)";
  * its published basis; another is the hospital's label.
  */
 export function stockedVenturiSettings(catalogue: DeviceCatalogue): readonly VenturiSetting[] {
+  return venturiSettingsOf(catalogue);
+}
+
+/**
+ * Worked out once per catalogue: a catalogue is part of a loaded policy, which is frozen, and the
+ * assessment, the FiO2 in force at each reading and several rules all ask for the valves.
+ */
+const venturiSettingsOf = oncePerObject(
+  (catalogue: DeviceCatalogue): readonly VenturiSetting[] => Object.freeze(readVenturiSettings(catalogue).map((s) => Object.freeze(s))),
+);
+
+function readVenturiSettings(catalogue: DeviceCatalogue): VenturiSetting[] {
   return catalogue.venturiSettings.map((stocked: StockedVenturiSetting): VenturiSetting => {
     const builtIn = findVenturiSetting(stocked.fio2Fraction);
     return {

@@ -102,6 +102,19 @@ describe('a hospital catalogue', () => {
     expect(v24?.minimumFlowBasis).toBe("this hospital's valve label (policy devices)");
     expect(v28?.minimumFlowBasis).toBe('BTS 2017');
   });
+
+  it("gives each catalogue its own valves every time it is asked, and they cannot be changed", () => {
+    // Invented labels: 28 % printed 4 L/min is BTS 2017 Table 4's; 5 L/min is this hospital's own
+    const usual = policyWithDevices(['devices:', '  reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }', ...venturiLines([[28, 4]])]).devices;
+    const own = policyWithDevices(['devices:', '  reservoir-mask: { flowLPerMin: { from: 10, to: 15 } }', ...venturiLines([[28, 5]])]).devices;
+    const first = stockedVenturiSettings(usual);
+    expect(stockedVenturiSettings(usual)).toBe(first);
+    expect(stockedVenturiSettings(own).map((s) => [s.minimumFlowLPerMin, s.minimumFlowBasis])).toStrictEqual([
+      [5, "this hospital's valve label (policy devices)"],
+    ]);
+    expect(first.map((s) => [s.minimumFlowLPerMin, s.minimumFlowBasis])).toStrictEqual([[4, 'BTS 2017']]);
+    expect(Object.isFrozen(first) && first.every((s) => Object.isFrozen(s))).toBe(true);
+  });
 });
 
 describe('the Venturi model reads the stocked valves first', () => {
