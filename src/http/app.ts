@@ -8,7 +8,7 @@ import { reasonDisplaysFrom } from '../review/override-reasons.js';
 import type { ReviewAccessConfig } from '../security/review-access.js';
 import type { Store } from '../store/store.js';
 import { createAuditTrail, type PatientKeyOf } from './audit-trail.js';
-import { requireAuthentication, type Authenticate } from './auth.js';
+import { commitTokenBeforeError, requireAuthentication, type Authenticate } from './auth.js';
 import { answerPreflight } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createGatherer, type Gather } from './gather-data.js';
@@ -18,7 +18,7 @@ import { perSnapshot, pinnedPolicy } from './pinned-policy.js';
 import { startRequest } from './request-start.js';
 import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
-import { serviceHandler } from './routes/cds-service.js';
+import { isHookCall, serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler, readinessHandler } from './routes/health.js';
@@ -195,7 +195,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   }
 
   app.post(ROUTES.service, gate.shed); // before any cost: refused while work waits too long (overload.ts)
-  app.use('/cds-services', requireAuthentication(deps.authenticate));
+  app.use('/cds-services', requireAuthentication(deps.authenticate, { deferTokenCommit: isHookCall }));
   app.use(parseJsonBody(config.bodyLimitBytes));
   app.get(ROUTES.discovery, route('discovery', discoveryHandler));
   app.post(ROUTES.feedback, (req, res, next) => handlersFor(pinnedPolicy(res)).feedback(req, res, next));
@@ -203,6 +203,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.post(ROUTES.service, gate.admit, (req, res, next) => handlersFor(pinnedPolicy(res)).service(req, res, next));
 
   app.use(notFound);
+  app.use(commitTokenBeforeError);
   app.use(jsonErrorHandler(deps.logger));
   return app;
 }

@@ -67,6 +67,8 @@ export async function setUpAuthentication(security: SecurityConfig, deps: SetupD
       maxPerClient: limits.replayMaxPerClient,
       clock: deps.clock,
       logger: deps.logger,
+      // A hook call commits its token id with its cards, in one transaction (store-replay-cache.ts).
+      deferCommit: true,
     });
   const verify = createJwtVerifier({
     trust: loaded.trust,
