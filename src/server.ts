@@ -131,6 +131,7 @@ async function startWithStore(
     clock: () => new Date(),
     logger: log,
     store: measuredStore(store, metrics),
+    onReplayInMemory: () => metrics.replayChecked('replayed'),
   });
   if (auth.kind === 'refused') {
     return { kind: 'refused', problems: auth.problems };

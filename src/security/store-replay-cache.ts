@@ -23,6 +23,8 @@ export interface StoreReplayCacheOptions {
   readonly logger: Logger;
   /** Hand the commit on with the call (the service does); otherwise commit at the check. */
   readonly deferCommit?: boolean;
+  /** Told of each replay refused from memory, which the store never sees (the replay metric counts it). */
+  readonly onReplayInMemory?: () => void;
   /**
    * Ids kept in memory once committed, so a replay to this process is refused before any work; the
    * oldest committed ones are forgotten past it (the store still refuses them, at the commit). Ids
@@ -155,6 +157,7 @@ export function createStoreReplayCache(options: StoreReplayCacheOptions): Replay
       const key = `${clientKey}\n${jti}`;
       const known = held.get(key);
       if (known !== undefined && known.expiresAt > nowMs) {
+        options.onReplayInMemory?.();
         return Promise.resolve({ kind: 'replayed' });
       }
       const entry: Held = { expiresAt, committed: false };

@@ -42,10 +42,21 @@ describe('createStoreReplayCache', () => {
 
     it('refuses an id this process holds at once, before it is committed, and commits it once', async () => {
       const { store } = openTempStore();
-      const cache = deferred(store);
+      let toldOfReplays = 0;
+      const cache = createStoreReplayCache({
+        store,
+        maxPerClient: 2,
+        clock: () => NOW,
+        logger: silent,
+        deferCommit: true,
+        onReplayInMemory: () => {
+          toldOfReplays += 1;
+        },
+      });
       const pending = pendingOf(await cache.checkAndRemember(ehr, 'jti-1', T0 + 300_000));
       // CDS Hooks 2.0 §Trusting CDS Clients: jti is a nonce for replay protection (RFC 7519 §4.1.7)
       expect(await cache.checkAndRemember(ehr, 'jti-1', T0 + 300_000)).toStrictEqual({ kind: 'replayed' });
+      expect(toldOfReplays).toBe(1);
       expect(pending.started()).toBe(false);
       expect(await pending.commit()).toStrictEqual({ kind: 'fresh' });
       expect(await pending.commit()).toStrictEqual({ kind: 'fresh' });
