@@ -9,6 +9,9 @@ export function withoutAuditWrites(store: Store): Store {
     recordAdvisories: () => Promise.resolve(),
     recordFeedback: (...args) => store.recordFeedback(...args),
     checkAndRememberJti: (...args) => store.checkAndRememberJti(...args),
+    // The token id is still committed; only the cards are left out.
+    rememberJtiAndRecordAdvisories: (token) =>
+      store.checkAndRememberJti(token.clientKey, token.jti, token.expiresAt, token.now, token.maxPerClient),
     listAdvisories: (query) => store.listAdvisories(query),
     getAdvisory: (cardUuid) => store.getAdvisory(cardUuid),
     listUnmatchedFeedback: (limit, offset) => store.listUnmatchedFeedback(limit, offset),

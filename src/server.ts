@@ -231,6 +231,7 @@ async function assemble(
     clock: () => new Date(),
     logger: log,
     store: measuredStore(store, metrics),
+    onReplayInMemory: () => metrics.replayChecked('replayed'),
   });
   if (auth.kind === 'refused') {
     return { kind: 'refused', problems: auth.problems };

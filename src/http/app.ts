@@ -8,7 +8,7 @@ import { reasonDisplaysFrom } from '../review/override-reasons.js';
 import type { ReviewAccessConfig } from '../security/review-access.js';
 import type { Store } from '../store/store.js';
 import { createAuditTrail, type PatientKeyOf } from './audit-trail.js';
-import { requireAuthentication, type Authenticate } from './auth.js';
+import { commitTokenBeforeError, requireAuthentication, type Authenticate } from './auth.js';
 import { answerPreflight } from './cors.js';
 import { jsonErrorHandler, notFound } from './error-handler.js';
 import { createGatherer, type Gather } from './gather-data.js';
@@ -18,7 +18,7 @@ import { perSnapshot, pinnedPolicy } from './pinned-policy.js';
 import { startRequest } from './request-start.js';
 import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
-import { serviceHandler } from './routes/cds-service.js';
+import { isHookCall, serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler, readinessHandler } from './routes/health.js';
@@ -199,7 +199,9 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     app.get(METRICS_ROUTE, metricsHandler(metrics, deps.metricsText));
   }
 
-  const authenticated = requireAuthentication(deps.authenticate);
+  // The hook call commits its token id with its cards (routes/cds-service.ts); every other request
+  // has its id committed at authentication.
+  const authenticated = requireAuthentication(deps.authenticate, { deferTokenCommit: isHookCall });
   const jsonBody = parseJsonBody(config.bodyLimitBytes);
   // The hook call has its whole chain on one route, in the order the steps below give every other
   // /cds-services request, so it walks no other layer (issue 9: the shell's cost per call). Shed
@@ -214,6 +216,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   app.post(ROUTES.feedback, (req, res, next) => handlersFor(pinnedPolicy(res)).feedback(req, res, next));
 
   app.use(notFound);
+  app.use(commitTokenBeforeError);
   app.use(jsonErrorHandler(deps.logger));
   return app;
 }

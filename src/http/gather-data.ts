@@ -34,7 +34,24 @@ export type GatherOutcome =
 export type Gather = (
   request: GatherRequest,
   templates: Readonly<Partial<Record<PrefetchKey, string>>>,
+  options?: GatherOptions,
 ) => Promise<GatherOutcome>;
+
+export interface GatherOptions {
+  /**
+   * Awaited before the first request to `fhirServer` (and so before `fhirAuthorization` leaves the
+   * service); when it rejects, nothing is sent. The hook route commits the call's token id here.
+   */
+  readonly beforeFetch?: () => Promise<void>;
+}
+
+/** `fetch`, each call first waiting for `before`, so a refusal there sends nothing. */
+function fetchAfter(before: () => Promise<void>, fetchFn: typeof fetch): typeof fetch {
+  return async (input, init) => {
+    await before();
+    return fetchFn(input, init);
+  };
+}
 
 function assemble(
   results: ReadonlyMap<PrefetchKey, KeyResult>,
@@ -88,12 +105,13 @@ export interface GatherDeps {
  * a 412).
  */
 export function createGatherer(deps: GatherDeps): Gather {
-  return async (request, templates) => {
+  return async (request, templates, options) => {
     const token = request.fhirAuthorization?.access_token;
+    const before = options?.beforeFetch;
     const scope: FetchScope | undefined =
       request.fhirServer !== undefined && token !== undefined
         ? {
-            fetch: deps.fetch,
+            fetch: before === undefined ? deps.fetch : fetchAfter(before, deps.fetch),
             fhirServer: request.fhirServer,
             accessToken: token,
             deadline: startFallbackDeadline({ budgetMs: deps.limits.budgetMs }),

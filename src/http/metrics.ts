@@ -186,6 +186,12 @@ export function measuredStore(store: Store, metrics: ServiceMetrics): Store {
         metrics.replayChecked(replayOutcome(check));
         return check;
       }),
+    rememberJtiAndRecordAdvisories: (token, records) =>
+      counted('rememberJtiAndRecordAdvisories', async () => {
+        const check = await store.rememberJtiAndRecordAdvisories(token, records);
+        metrics.replayChecked(replayOutcome(check));
+        return check;
+      }),
     listAdvisories: (query) => counted('listAdvisories', () => store.listAdvisories(query)),
     getAdvisory: (cardUuid) => counted('getAdvisory', () => store.getAdvisory(cardUuid)),
     listUnmatchedFeedback: (limit, offset) => counted('listUnmatchedFeedback', () => store.listUnmatchedFeedback(limit, offset)),

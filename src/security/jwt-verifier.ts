@@ -3,7 +3,7 @@ import { isSigningAlgorithm, keySuitsAlgorithm, type SigningAlgorithm } from './
 import type { PreparedKey } from './jwk-keys.js';
 import type { JwksStore } from './jwks-store.js';
 import { checkCdsClaims, type CheckedClaims, type ClaimFailure, type ClaimLimits } from './jwt-claims.js';
-import type { ReplayCache } from './replay-cache.js';
+import type { PendingJti, ReplayCache } from './replay-cache.js';
 import type { TrustConfig, TrustedClient } from './trust-config.js';
 
 /**
@@ -51,6 +51,8 @@ export type VerifyOutcome =
       readonly client: TrustedClient;
       readonly claims: CheckedClaims;
       readonly alg: SigningAlgorithm;
+      /** The token id, held by this process and still to be committed by whoever serves the call. */
+      readonly pendingJti?: PendingJti;
     }
   | {
       readonly kind: 'refused';
@@ -295,7 +297,9 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
     const decision = await deps.replayCache.checkAndRemember(replayShareKey(client, claims.tenant), claims.jti, expiresAt);
     switch (decision.kind) {
       case 'fresh':
-        return { kind: 'verified', client, claims, alg };
+        return decision.pending === undefined
+          ? { kind: 'verified', client, claims, alg }
+          : { kind: 'verified', client, claims, alg, pendingJti: decision.pending };
       case 'replayed':
         return refuse('jti-replayed');
       case 'client-full':

@@ -47,6 +47,8 @@ export function createProductionAuthenticator(options: ProductionAuthOptions): A
       iss: client.iss,
       ...(claims.tenant === undefined ? {} : { tenant: claims.tenant }),
       fhirServers: { kind: 'listed', servers: client.fhirServers, requireHttps: options.requireHttpsFhirServers },
+      // Committed before the answer by requireAuthentication, or by the hook route with its cards.
+      ...(outcome.pendingJti === undefined ? {} : { pendingJti: outcome.pendingJti }),
     };
   };
 }

@@ -29,6 +29,8 @@ export interface SetupDeps {
   readonly logger: Logger;
   /** Holds the replay cache in production, so a token stays refused across restarts. */
   readonly store: Store;
+  /** Told of each replay refused from this process's memory, before the store is asked (the metrics). */
+  readonly onReplayInMemory?: () => void;
   /** Replaces the store-backed replay cache (tests only). */
   readonly replayCache?: ReplayCache;
 }
@@ -67,6 +69,9 @@ export async function setUpAuthentication(security: SecurityConfig, deps: SetupD
       maxPerClient: limits.replayMaxPerClient,
       clock: deps.clock,
       logger: deps.logger,
+      // A hook call commits its token id with its cards, in one transaction (store-replay-cache.ts).
+      deferCommit: true,
+      ...(deps.onReplayInMemory === undefined ? {} : { onReplayInMemory: deps.onReplayInMemory }),
     });
   const verify = createJwtVerifier({
     trust: loaded.trust,

@@ -10,8 +10,8 @@ import {
 } from './postgres-pool.js';
 import { postgresQueries } from './postgres-queries.js';
 import { checkAndRememberJtiIn, checkReplayArguments, lockReplayClient, replayClientKey } from './postgres-replay.js';
-import { advisoryToRow } from './sqlite-rows.js';
-import type { AdvisoryRecord, PurgeResult, Store } from './store.js';
+import { advisoryToRow, type AdvisoryRow } from './sqlite-rows.js';
+import type { PurgeResult, Store } from './store.js';
 
 export type { PostgresStoreOptions } from './postgres-pool.js';
 
@@ -73,51 +73,7 @@ function assemblePostgresStore(pool: pg.Pool): Store {
       track(async () => {
         // Mapped first: a record that cannot be stored refuses the whole call before anything is sent.
         const rows = records.map(advisoryToRow);
-        await inTransaction(pool, async (client) => {
-          for (const row of rows) {
-            await client.query(
-              `INSERT INTO advisory (card_uuid, service_id, hook, hook_instance, client_iss, client_tenant,
-                  rule_id, rule_version, indicator, summary, detail, workings, suggestion_uuids_json,
-                  key_numbers_json, series_json, policy_id, policy_version, policy_content_hash, unit,
-                  issued_at, issued_at_ms, patient_key)
-                VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, $12, $13, $14, $15, $16, $17, $18,
-                  $19, $20, $21, $22)
-                ON CONFLICT (card_uuid) DO NOTHING`,
-              [
-                row.card_uuid,
-                row.service_id,
-                row.hook,
-                row.hook_instance,
-                row.client_iss,
-                row.client_tenant,
-                row.rule_id,
-                row.rule_version,
-                row.indicator,
-                row.summary,
-                row.detail,
-                row.workings,
-                row.suggestion_uuids_json,
-                row.key_numbers_json,
-                row.series_json,
-                row.policy_id,
-                row.policy_version,
-                row.policy_content_hash,
-                row.unit,
-                row.issued_at,
-                row.issued_at_ms,
-                row.patient_key,
-              ],
-            );
-          }
-          const first: AdvisoryRecord | undefined = records[0];
-          if (first !== undefined) {
-            await client.query(
-              `INSERT INTO store_meta (key, value) VALUES ('first_advisory_recorded', $1)
-                ON CONFLICT (key) DO NOTHING`,
-              [first.issuedAt],
-            );
-          }
-        });
+        await inTransaction(pool, (client) => insertAdvisories(client, rows));
       }),
     recordFeedback: (identity, items, receivedAt, limits) =>
       track(async () => {
@@ -131,6 +87,29 @@ function assemblePostgresStore(pool: pg.Pool): Store {
         checkReplayArguments(expiresAt, now, maxPerClient);
         return inOrder(replayClientKey(clientKey), () =>
           inTransaction(pool, (client) => checkAndRememberJtiIn(client, clientKey, jti, expiresAt, now, maxPerClient)),
+        );
+      }),
+    rememberJtiAndRecordAdvisories: (token, records) =>
+      track(async () => {
+        checkReplayArguments(token.expiresAt, token.now, token.maxPerClient);
+        const rows = records.map(advisoryToRow);
+        // Under the client's replay lock and queue, as checkAndRememberJti; the cards in the same
+        // transaction, only after a fresh id.
+        return inOrder(replayClientKey(token.clientKey), () =>
+          inTransaction(pool, async (client) => {
+            const check = await checkAndRememberJtiIn(
+              client,
+              token.clientKey,
+              token.jti,
+              token.expiresAt,
+              token.now,
+              token.maxPerClient,
+            );
+            if (check.kind === 'fresh') {
+              await insertAdvisories(client, rows);
+            }
+            return check;
+          }),
         );
       }),
     listAdvisories: (query) => track(() => queries.listAdvisories(query)),
@@ -153,6 +132,62 @@ function assemblePostgresStore(pool: pg.Pool): Store {
       return closing;
     },
   };
+}
+
+/** The advisory columns in the order `advisoryValues` gives them. */
+const ADVISORY_COLUMNS = `card_uuid, service_id, hook, hook_instance, client_iss, client_tenant, rule_id, rule_version,
+  indicator, summary, detail, workings, suggestion_uuids_json, key_numbers_json, series_json, policy_id,
+  policy_version, policy_content_hash, unit, issued_at, issued_at_ms, patient_key`;
+const ADVISORY_COLUMN_COUNT = 22;
+
+function advisoryValues(row: AdvisoryRow): unknown[] {
+  return [
+    row.card_uuid,
+    row.service_id,
+    row.hook,
+    row.hook_instance,
+    row.client_iss,
+    row.client_tenant,
+    row.rule_id,
+    row.rule_version,
+    row.indicator,
+    row.summary,
+    row.detail,
+    row.workings,
+    row.suggestion_uuids_json,
+    row.key_numbers_json,
+    row.series_json,
+    row.policy_id,
+    row.policy_version,
+    row.policy_content_hash,
+    row.unit,
+    row.issued_at,
+    row.issued_at_ms,
+    row.patient_key,
+  ];
+}
+
+/**
+ * A hook call's cards in one statement (one round trip however many cards), inside the caller's
+ * transaction; a card uuid already held is left as is.
+ */
+async function insertAdvisories(client: pg.ClientBase, rows: readonly AdvisoryRow[]): Promise<void> {
+  const first = rows[0];
+  if (first === undefined) {
+    return;
+  }
+  const tuples = rows.map((_row, r) => {
+    const base = r * ADVISORY_COLUMN_COUNT;
+    return `(${Array.from({ length: ADVISORY_COLUMN_COUNT }, (_unused, c) => `$${String(base + c + 1)}`).join(', ')})`;
+  });
+  await client.query(
+    `INSERT INTO advisory (${ADVISORY_COLUMNS}) VALUES ${tuples.join(', ')} ON CONFLICT (card_uuid) DO NOTHING`,
+    rows.flatMap(advisoryValues),
+  );
+  await client.query(
+    `INSERT INTO store_meta (key, value) VALUES ('first_advisory_recorded', $1) ON CONFLICT (key) DO NOTHING`,
+    [first.issued_at],
+  );
 }
 
 /**

@@ -98,6 +98,16 @@ function assembleStore(db: Database.Database): Store {
       write(() => recordFeedback(client, items, receivedAt, limits)),
     checkAndRememberJti: (clientKey, jti, expiresAt, now, maxPerClient) =>
       write(() => checkAndRememberJti(clientKey, jti, expiresAt, now, maxPerClient)),
+    // One savepoint in the batch's transaction: cards written only after a fresh id, and a failure
+    // of either rolls both back.
+    rememberJtiAndRecordAdvisories: (token, records) =>
+      write(() => {
+        const check = checkAndRememberJti(token.clientKey, token.jti, token.expiresAt, token.now, token.maxPerClient);
+        if (check.kind === 'fresh') {
+          recordAdvisories.immediate(records);
+        }
+        return check;
+      }),
     listAdvisories: (query) => settled(() => queries.listAdvisories(query)),
     getAdvisory: (cardUuid) => settled(() => queries.getAdvisory(cardUuid)),
     listUnmatchedFeedback: (limit, offset) => settled(() => queries.listUnmatchedFeedback(limit, offset)),

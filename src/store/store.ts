@@ -118,6 +118,17 @@ export type ReplayCheck =
   /** The client holds its whole share of unexpired ids; the oldest expires in `retryAfterS`. */
   | { readonly kind: 'client-full'; readonly retryAfterS: number };
 
+/** A token id to check and remember, with what the check needs (the arguments of `checkAndRememberJti`). */
+export interface TokenUse {
+  /** Whose share the id counts against (the issuer, and its listed tenant). */
+  readonly clientKey: string;
+  readonly jti: string;
+  /** Epoch ms until which the id is held. */
+  readonly expiresAt: number;
+  readonly now: Date;
+  readonly maxPerClient: number;
+}
+
 export type AdvisoryOutcomeFilter = 'accepted' | 'overridden' | 'none';
 
 export interface AdvisoryQuery {
@@ -218,6 +229,14 @@ export interface Store {
     now: Date,
     maxPerClient: number,
   ): Promise<ReplayCheck>;
+  /**
+   * One hook call's writes in one transaction, so one commit: the token id is checked and
+   * remembered exactly as `checkAndRememberJti` does and, only when it is `fresh`, the call's cards
+   * are recorded exactly as `recordAdvisories` does. A replayed id or a full share writes nothing
+   * (no cards of a refused call are kept). When either part fails nothing is written and the
+   * promise rejects.
+   */
+  rememberJtiAndRecordAdvisories(token: TokenUse, records: readonly AdvisoryRecord[]): Promise<ReplayCheck>;
   listAdvisories(query: AdvisoryQuery): Promise<AdvisoryPage>;
   getAdvisory(cardUuid: string): Promise<AdvisoryWithFeedback | undefined>;
   /**

@@ -106,6 +106,7 @@ export function openWorkerStore(options: SqliteStoreOptions): Store {
     recordFeedback: (client, items, receivedAt, limits) => send('recordFeedback', [client, items, receivedAt, limits]),
     checkAndRememberJti: (clientKey, jti, expiresAt, now, maxPerClient) =>
       send('checkAndRememberJti', [clientKey, jti, expiresAt, now, maxPerClient]),
+    rememberJtiAndRecordAdvisories: (token, records) => send('rememberJtiAndRecordAdvisories', [token, records]),
     listAdvisories: (query) => send('listAdvisories', [query]),
     getAdvisory: (cardUuid) => send('getAdvisory', [cardUuid]),
     listUnmatchedFeedback: (limit, offset) => send('listUnmatchedFeedback', [limit, offset]),

@@ -65,6 +65,16 @@ describe('openWorkerStore', () => {
     expect(answers.map((a) => a.kind).sort()).toStrictEqual(['fresh', 'replayed']);
   });
 
+  it("commits a call's token id and cards together, and keeps the cards of a replayed id out", async () => {
+    const store = workerStore();
+    const token = { clientKey: EHR.iss, jti: 'y', expiresAt: T0 + 300_000, now: new Date(T0), maxPerClient: 10 };
+    expect(await store.rememberJtiAndRecordAdvisories(token, [advisory(1)])).toStrictEqual({ kind: 'fresh' });
+    // CDS Hooks 2.0 §Trusting CDS Clients: jti is a nonce for replay protection (RFC 7519 §4.1.7)
+    expect(await store.rememberJtiAndRecordAdvisories(token, [advisory(2)])).toStrictEqual({ kind: 'replayed' });
+    expect(await store.getAdvisory(card(1))).toStrictEqual({ ...advisory(1), feedback: [] });
+    expect(await store.getAdvisory(card(2))).toBeUndefined();
+  });
+
   it('rejects with a failure of the same kind, and only the caller that failed', async () => {
     const store = workerStore();
     const [bad, good, refused] = await Promise.allSettled([

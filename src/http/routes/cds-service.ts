@@ -6,7 +6,9 @@ import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { CdsRequest } from '../../cds/schemas.js';
 import type { Policy } from '../../core/policy.js';
 import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
-import { authenticatedClient } from '../auth.js';
+import type { Request } from 'express';
+import type { PendingJti } from '../../security/replay-cache.js';
+import { authenticatedClient, pendingJtiOf, refuseUnlessCommitted } from '../auth.js';
 import type { AuditTrail } from '../audit-trail.js';
 import { AppError } from '../errors.js';
 import { explainRefusal, limitFhirAccess } from '../fhir-server-access.js';
@@ -27,6 +29,16 @@ export interface ServiceRouteDeps {
   readonly reviewLinkFor?: (cardUuid: string) => string;
   /** Told the rule and indicator of each card returned (the metrics, src/http/metrics.ts). */
   readonly onCards?: (cards: HookEvaluation['audit']['cards']) => void;
+}
+
+/**
+ * True for a hook call (`POST /cds-services/{id}`, as seen under the `/cds-services` mount): its
+ * token id is committed by `serviceHandler`, with its cards, not at authentication (auth.ts). A
+ * request this misjudges loses nothing: any call that ends in an error commits its id first
+ * (`commitTokenBeforeError`), and a call taken for another route commits it at authentication.
+ */
+export function isHookCall(req: Request): boolean {
+  return req.method === 'POST' && /^\/[^/]+\/?$/.test(req.path);
 }
 
 /**
@@ -51,7 +63,24 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
     const { service, request } = parsed;
     // A fhirServer this client may not use is never called (server-side request forgery).
     const access = limitFhirAccess(request, authenticatedClient(res).fhirServers);
-    const gathered = await deps.gather(access.request, service.prefetch);
+    // The token id is committed before any FHIR request carries the client's fhirAuthorization token
+    // out (docs/security.md, "The replay cache"); a call answered from prefetch commits it later,
+    // with its cards.
+    const pending = pendingJtiOf(res);
+    if (pending !== undefined && mayFetch(access.request, service.prefetch)) {
+      // A key left out of prefetch will be fetched: commit now, before the fallback's deadline starts,
+      // so the commit does not spend its budget. The wrapper below still guards every request (a
+      // supplied bundle's next page, say).
+      await commitBeforeFetch(res, pending);
+    }
+    const gathered =
+      pending === undefined
+        ? await deps.gather(access.request, service.prefetch)
+        : await deps.gather(access.request, service.prefetch, { beforeFetch: () => commitBeforeFetch(res, pending) });
+    if (pending?.started() === true) {
+      // The fallback ran: answer as the store decided, whatever the fetch made of a refusal.
+      refuseUnlessCommitted(res, pending, await pending.commit());
+    }
     const base = (fallback: FallbackSummary): HookCallSummary => ({
       kind: 'hook-call',
       serviceId: service.id,
@@ -83,7 +112,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
       { serviceId: service.id, request, data: gathered.data },
       { policy: deps.policy, policyContentHash: deps.policyContentHash, templates: deps.templates, now },
     );
-    await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res);
+    await recordCards(deps.audit, result, { serviceId: service.id, hook: service.hook, request, now }, res, pending);
     deps.onCards?.(result.audit.cards);
     const linkFor = deps.reviewLinkFor;
     return {
@@ -102,16 +131,35 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
   };
 }
 
-/** Commits the audit record of every card (a failure is logged and counted; the cards still go). */
+/** True when the request lets the service call its FHIR server and leaves out a key the service prefetches. */
+function mayFetch(request: CdsRequest, templates: Readonly<Record<string, string | undefined>>): boolean {
+  if (request.fhirServer === undefined || request.fhirAuthorization === undefined) {
+    return false;
+  }
+  const supplied = request.prefetch ?? {};
+  return Object.keys(templates).some((key) => supplied[key] === undefined);
+}
+
+/** Commits the call's token id alone; a refusal rejects, so the FHIR request is never sent. */
+async function commitBeforeFetch(res: Response, pending: PendingJti): Promise<void> {
+  refuseUnlessCommitted(res, pending, await pending.commit());
+}
+
+/**
+ * Commits the audit record of every card (a failure is logged and counted; the cards still go), in
+ * one transaction with the call's token id when it is still pending; a token the store refuses there
+ * (replayed on another instance, share full, store failed) refuses the call, and no card is kept.
+ */
 async function recordCards(
   audit: AuditTrail,
   result: HookEvaluation,
   call: { readonly serviceId: string; readonly hook: string; readonly request: CdsRequest; readonly now: Date },
   res: Response,
+  pending: PendingJti | undefined,
 ): Promise<void> {
   const { iss, tenant } = authenticatedClient(res);
   const patientId = call.request.context['patientId'];
-  await audit.record(
+  const outcome = await audit.record(
     result,
     {
       serviceId: call.serviceId,
@@ -123,5 +171,10 @@ async function recordCards(
       patientId: typeof patientId === 'string' ? patientId : '',
     },
     requestState(res).requestId,
+    pending,
   );
+  if (pending !== undefined) {
+    // An audit trail that did not take the id (a stand-in in a test) leaves it to be committed here.
+    refuseUnlessCommitted(res, pending, outcome.token ?? (await pending.commit()));
+  }
 }

@@ -70,6 +70,8 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
       maxPerClient: options.replayMaxPerClient ?? 20_000,
       clock,
       logger: options.replayLogger ?? createLogger({ level: 'silent' }),
+      // as the service sets it up (setup-authentication.ts)
+      deferCommit: true,
     }),
     clock,
     // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
@@ -83,9 +85,9 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
   const gathered: unknown[] = [];
   const fhirFetch = options.fhirFetch ?? globalThis.fetch;
   const real = createGatherer({ fetch: fhirFetch, limits: TEST_CONFIG.fhir });
-  const gather: Gather = (request, templates) => {
+  const gather: Gather = (request, templates, gatherOptions) => {
     gathered.push(request);
-    return real(request, templates);
+    return real(request, templates, gatherOptions);
   };
   const recorded: FeedbackInput[] = [];
   const store: Store = {
