@@ -77,6 +77,20 @@ export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
   return { startMs: ms, endMs: ms, precision: 'time' };
 }
 
+/** A full time (hours and minutes) with no zone: `2026-03-01T08:15`, `2026-03-01T08:15:00.5`. */
+const TIME_WITHOUT_ZONE = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(?::\d{2}(?:\.\d{1,9})?)?$/;
+
+/**
+ * The time as the facts carry it: a full time with no zone gets "Z", so that every later reading
+ * (the core's `Date.parse` among them) takes it as UTC, as `parseFhirDateTime` does, and not as the
+ * host's local time, which would make an answer depend on the server's time zone. Anything else is
+ * returned as given: FHIR R4's dateTime says "if hours and minutes are specified, a time zone SHALL
+ * be populated", so valid data is never changed.
+ */
+export function withUtcIfZoneless(value: string | undefined): string | undefined {
+  return value !== undefined && TIME_WITHOUT_ZONE.test(value) ? `${value}Z` : value;
+}
+
 /** A short plain age for notes: "95 min", "9 h", "3 d". */
 export function describeAge(ageMs: number): string {
   const minutes = Math.round(ageMs / 60_000);

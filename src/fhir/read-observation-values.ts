@@ -6,7 +6,7 @@ import {
   type MeasuredKind,
   type ObservationCode,
 } from './codes.js';
-import { parseFhirDateTime } from './fhir-date.js';
+import { parseFhirDateTime, withUtcIfZoneless } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
 import { codingsOf, isObject, objectAt, objectsAt, quantityOf, stringAt } from './json.js';
 import { PLAUSIBLE, describeRange, isPlausible, type PlausibleRange } from './plausibility.js';
@@ -197,7 +197,7 @@ export function readObservationValues(
     setAside(notes, first.label, 'unrecognised', detail, reference);
     return [];
   }
-  const at = effectiveTime(obs);
+  const at = withUtcIfZoneless(effectiveTime(obs));
   const parsed = parseFhirDateTime(at);
   if (at === undefined || parsed === undefined) {
     setAside(notes, first.label, 'unrecognised', 'The result has no readable effective time, so its age is unknown.', reference);

@@ -1,5 +1,6 @@
 import type { DeviceKind, OrderTarget, OxygenOrder, SetAsideNote, TargetNote } from '../core/types.js';
 import { currentWords } from './change-note.js';
+import { withUtcIfZoneless } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
 import type { OrderResourceType } from './is-oxygen-order.js';
 import { objectAt, quantityOf, stringAt, unitOf } from './json.js';
@@ -276,7 +277,7 @@ export function readOrder(
       target: target.target,
       targetNote: target.note,
       purpose: readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin }),
-      authoredOn: stringAt(resource, 'authoredOn'),
+      authoredOn: withUtcIfZoneless(stringAt(resource, 'authoredOn')),
       isSubject,
     },
     notes: notes.list,

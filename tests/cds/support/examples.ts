@@ -34,13 +34,16 @@ const refuseFetch: typeof fetch = () => Promise.reject(new Error('examples are e
 const gather = createGatherer({ fetch: refuseFetch, limits: { callTimeoutMs: 1, budgetMs: 1, maxResponseBytes: 0, maxPages: 1 } });
 
 /** Evaluates a request body as the CLI would; throws when it is not a valid, answerable request. */
-export async function evaluateExample(body: RequestBody, options: { readonly workings?: boolean } = {}): Promise<HookEvaluation> {
+export async function evaluateExample(
+  body: RequestBody,
+  options: { readonly workings?: boolean; readonly now?: Date } = {},
+): Promise<HookEvaluation> {
   const serviceId = CDS_SERVICES.find((service) => service.hook === body['hook'])?.id ?? 'oxygen-order-sign';
   const request = parseHookRequest(serviceId, body);
   if (request.kind !== 'ok') {
     throw new Error(`not a valid request: ${JSON.stringify(request)}`);
   }
-  const now = requestMoment(body);
+  const now = options.now ?? requestMoment(body);
   if (now === undefined) {
     throw new Error('the request has no authoredOn to run the clock from');
   }
