@@ -1,6 +1,6 @@
 import { performance } from 'node:perf_hooks';
 import type { Request, Response } from 'express';
-import { logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
+import { isRefusal, logRequestSummary, type Logger, type RequestDetail } from '../log/logger.js';
 import { createRefusalLimiter, DEFAULT_REFUSAL_LIMITS, refusalClientKey, type RefusalLimits } from '../log/refusal-limiter.js';
 
 /** Per-request bookkeeping the summary line is written from. */
@@ -51,9 +51,9 @@ export function requestContext(
     res.once('close', () => {
       const nowMs = performance.now();
       const status = res.statusCode;
-      // Only refusals (4xx) are counted per client (logger.ts), so only they need the client's key.
+      // Only refusals (isRefusal) are counted per client (logger.ts), so only they need the client's key.
       const refusal =
-        status >= 400 && status < 500
+        isRefusal(status, state.errorCode)
           ? { limiter: refusals, client: refusalClientKey({ authenticatedIss: state.authenticatedIss, address: req.socket.remoteAddress }), nowMs }
           : undefined;
       logRequestSummary(logger, {

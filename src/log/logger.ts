@@ -230,11 +230,21 @@ export interface RefusalSource {
 }
 
 /**
- * Whether a refusal (a 4xx) is written, after the one summary line of those not written since the
- * client's last window, when there were any. Anything else is always written.
+ * A refusal: a 4xx, or a call shed by the overload gate (503 `CDS_ERR_OVERLOADED`), which is the
+ * service working as designed, not a fault, and comes in floods exactly when the service is busiest.
+ */
+export function isRefusal(status: number, errorCode: string | undefined): boolean {
+  return (status >= 400 && status < 500) || (status === 503 && errorCode === OVERLOAD_CODE);
+}
+
+const OVERLOAD_CODE = 'CDS_ERR_OVERLOADED';
+
+/**
+ * Whether a refusal is written, after the one summary line of those not written since the client's
+ * last window, when there were any. Anything else is always written.
  */
 function refusalWritten(logger: Logger, status: number, reason: string, source: RefusalSource | undefined): boolean {
-  if (source === undefined || status < 400 || status >= 500) {
+  if (source === undefined || !isRefusal(status, reason)) {
     return true;
   }
   const decision = source.limiter.decide(source.client, reason, source.nowMs);
@@ -284,7 +294,8 @@ function summaryLevel(summary: RequestSummary): 'error' | 'warn' | 'info' {
     summary.detail?.kind === 'auth-refused' ||
     (summary.detail?.kind === 'review' && summary.detail.refused !== undefined);
   if (summary.status >= 500) {
-    return 'error';
+    // Shedding load is the gate doing its job: a warning to watch (and a metric), not a fault to page on.
+    return summary.errorCode === OVERLOAD_CODE ? 'warn' : 'error';
   }
   return slipped ? 'warn' : 'info';
 }

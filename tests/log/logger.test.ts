@@ -307,6 +307,23 @@ describe('repeated refusals', () => {
     ]);
   });
 
+  it('count a call shed by the overload gate (503) as a refusal, logged at warn, not error', () => {
+    const log = createMemoryLog();
+    const logger = createLogger({ level: 'info', destination: log.stream });
+    const limiter = createRefusalLimiter({ maxLinesPerWindow: 2, windowMs: 60_000, maxClients: 10 });
+    const shed = (requestId: string) => ({ ...refusal(requestId), status: 503, errorCode: 'CDS_ERR_OVERLOADED' });
+    for (let i = 0; i < 300; i += 1) logRequestSummary(logger, shed(`req-${i}`), { limiter, client: '10.0.0.9', nowMs: 0 });
+    expect(log.lines()).toMatchObject([
+      { level: 40, status: 503, errorCode: 'CDS_ERR_OVERLOADED' },
+      { level: 40, status: 503, errorCode: 'CDS_ERR_OVERLOADED' },
+    ]);
+    logRequestSummary(logger, shed('req-later'), { limiter, client: '10.0.0.9', nowMs: 60_000 });
+    expect(log.lines().slice(2)).toMatchObject([
+      { client: '10.0.0.9', refusal: 'CDS_ERR_OVERLOADED', refusalsNotLogged: 298 },
+      { requestId: 'req-later', level: 40 },
+    ]);
+  });
+
   it('never hold back a line that is not a refusal', () => {
     const log = createMemoryLog();
     const logger = createLogger({ level: 'info', destination: log.stream });
