@@ -18,7 +18,7 @@ import { perSnapshot, pinnedPolicy } from './pinned-policy.js';
 import { startRequest } from './request-start.js';
 import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
-import { isHookCall, serviceHandler } from './routes/cds-service.js';
+import { serviceHandler } from './routes/cds-service.js';
 import { discoveryHandler } from './routes/discovery.js';
 import { feedbackHandler } from './routes/feedback.js';
 import { healthHandler, readinessHandler } from './routes/health.js';
@@ -199,15 +199,17 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     app.get(METRICS_ROUTE, metricsHandler(metrics, deps.metricsText));
   }
 
-  // The hook call commits its token id with its cards (routes/cds-service.ts); every other request
-  // has its id committed at authentication.
-  const authenticated = requireAuthentication(deps.authenticate, { deferTokenCommit: isHookCall });
+  // The hook call commits its token id with its cards, or before any FHIR request
+  // (routes/cds-service.ts); a call that ends in an error commits it first (commitTokenBeforeError).
+  // Every other request has its id committed at authentication.
+  const authenticatedHookCall = requireAuthentication(deps.authenticate, { deferTokenCommit: () => true });
+  const authenticated = requireAuthentication(deps.authenticate);
   const jsonBody = parseJsonBody(config.bodyLimitBytes);
   // The hook call has its whole chain on one route, in the order the steps below give every other
   // /cds-services request, so it walks no other layer (issue 9: the shell's cost per call). Shed
   // before any cost: refused while work waits too long (overload.ts); admitted after the body is
   // read: the cap counts evaluations, so a slow upload holds no slot.
-  app.post(ROUTES.service, gate.shed, authenticated, jsonBody, gate.admit, (req, res, next) =>
+  app.post(ROUTES.service, gate.shed, authenticatedHookCall, jsonBody, gate.admit, (req, res, next) =>
     handlersFor(pinnedPolicy(res)).service(req, res, next),
   );
   app.use('/cds-services', authenticated);

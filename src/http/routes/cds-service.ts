@@ -6,7 +6,6 @@ import { parseHookRequest } from '../../cds/parse-hook-request.js';
 import type { CdsRequest } from '../../cds/schemas.js';
 import type { Policy } from '../../core/policy.js';
 import type { FallbackSummary, HookCallSummary } from '../../log/logger.js';
-import type { Request } from 'express';
 import type { PendingJti } from '../../security/replay-cache.js';
 import { authenticatedClient, pendingJtiOf, refuseUnlessCommitted } from '../auth.js';
 import type { AuditTrail } from '../audit-trail.js';
@@ -29,16 +28,6 @@ export interface ServiceRouteDeps {
   readonly reviewLinkFor?: (cardUuid: string) => string;
   /** Told the rule and indicator of each card returned (the metrics, src/http/metrics.ts). */
   readonly onCards?: (cards: HookEvaluation['audit']['cards']) => void;
-}
-
-/**
- * True for a hook call (`POST /cds-services/{id}`, as seen under the `/cds-services` mount): its
- * token id is committed by `serviceHandler`, with its cards, not at authentication (auth.ts). A
- * request this misjudges loses nothing: any call that ends in an error commits its id first
- * (`commitTokenBeforeError`), and a call taken for another route commits it at authentication.
- */
-export function isHookCall(req: Request): boolean {
-  return req.method === 'POST' && /^\/[^/]+\/?$/.test(req.path);
 }
 
 /**
