@@ -16,6 +16,19 @@ export interface FhirInstant {
   readonly precision: DatePrecision;
 }
 
+/**
+ * Days in a month (1-12) of the proleptic Gregorian calendar, as Date.UTC counts them; Date.UTC reads
+ * a year 0-99 as 1900-1999, so year 0000 counts as 1900, which was not a leap year.
+ */
+function daysInMonth(year: number, month: number): number {
+  if (month === 2) {
+    const y = year <= 99 ? 1900 + year : year;
+    const leap = (y % 4 === 0 && y % 100 !== 0) || y % 400 === 0;
+    return leap ? 29 : 28;
+  }
+  return month === 4 || month === 6 || month === 9 || month === 11 ? 30 : 31;
+}
+
 function inRange(n: number, low: number, high: number): boolean {
   return Number.isInteger(n) && n >= low && n <= high;
 }
@@ -52,8 +65,8 @@ export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
       precision: 'month',
     };
   }
-  const daysInMonth = new Date(Date.UTC(year, month, 0)).getUTCDate();
-  if (!inRange(day, 1, daysInMonth)) {
+  // Counted, not read back from a Date: this runs for every time of every resource read.
+  if (!inRange(day, 1, daysInMonth(year, month))) {
     return undefined;
   }
   if (m[4] === undefined) {

@@ -22,6 +22,24 @@ describe('parseFhirDateTime', () => {
     expect(new Date(parseFhirDateTime('2024-02')?.endMs ?? 0).toISOString()).toBe('2024-02-29T23:59:59.999Z');
   });
 
+  describe('the last day of each month', () => {
+    // Gregorian calendar (ISO 8601): a leap year is divisible by 4, except centuries not divisible by 400.
+    it.each([
+      ['2024-02-29', '2024-02-30'], // 2024 is a leap year
+      ['2000-02-29', '2000-02-30'], // divisible by 400: leap
+      ['2026-02-28', '2026-02-29'], // not divisible by 4
+      ['2100-02-28', '2100-02-29'], // a century not divisible by 400
+      ['2026-04-30', '2026-04-31'], // April has 30 days
+      ['2026-09-30', '2026-09-31'], // September has 30 days
+      ['2026-12-31', '2026-12-32'], // December has 31 days
+    ])('reads %s and rejects %s', (last, beyond) => {
+      expect(parseFhirDateTime(last)?.precision).toBe('day');
+      expect(parseFhirDateTime(`${last}T23:59:59Z`)?.precision).toBe('time');
+      expect(parseFhirDateTime(beyond)).toBeUndefined();
+      expect(parseFhirDateTime(`${beyond}T00:00:00Z`)).toBeUndefined();
+    });
+  });
+
   describe('edge cases', () => {
     it.each([['2026-02-30'], ['2026-13'], ['2026-12-01T25:00:00Z'], ['01/12/2026'], ['today'], [''], [20261201], [null], [{}]])(
       'rejects %j',
