@@ -26,7 +26,8 @@ import { firstObject, objects, ucumQuantity, writeDevice, writeFio2, writeFlow }
  * A resource that is not one of the three order types comes back as an unchanged copy. Never throws.
  * Offers no changed resource when the order cannot be copied whole (e.g. nesting too deep to
  * serialise): an `update` replaces the whole resource, so a partial copy accepted by the user would
- * wipe the rest of the order. No suggestion is better.
+ * wipe the rest of the order. No suggestion is better. A change the words refuse is withheld before
+ * any copy is tried, so an order that is both refused and too deep to copy is withheld with its reason.
  */
 
 export type ChangePlan =
@@ -104,8 +105,17 @@ function currentTexts(resource: Json): string[] {
   return textSlots(resource).map((s) => currentWords(s.text));
 }
 
+/** The first value `read` finds in the texts, reading no further than that text. */
+function firstRead<T>(texts: readonly string[], read: (text: string) => T | undefined): T | undefined {
+  for (const text of texts) {
+    const value = read(text);
+    if (value !== undefined) return value;
+  }
+  return undefined;
+}
+
 function firstFlow(texts: readonly string[]): number | undefined {
-  return texts.map((t) => readSettingText(t, undefined).flowLPerMin).find((f) => f !== undefined);
+  return firstRead(texts, (t) => readSettingText(t, undefined).flowLPerMin);
 }
 
 /** Whether the words alone, read as the reader reads them, state the new value. */
@@ -122,11 +132,13 @@ function wordsState(resource: Json, change: OrderChange): boolean {
     }
     case 'set-flow':
       return firstFlow(texts) === change.flowLPerMin;
-    case 'set-device': {
-      const device = texts.map(readDeviceText).find((r) => r !== undefined)?.device;
-      const fio2 = texts.map((t) => readSettingText(t, change.device).setFio2Fraction).find((f) => f !== undefined);
-      return device === change.device && firstFlow(texts) === change.flowLPerMin && fio2 === change.setFio2Fraction;
-    }
+    case 'set-device':
+      // Each reading stops at the first text that states it, and the next is read only if this agrees.
+      return (
+        firstRead(texts, (t) => readDeviceText(t)?.device) === change.device &&
+        firstFlow(texts) === change.flowLPerMin &&
+        firstRead(texts, (t) => readSettingText(t, change.device).setFio2Fraction) === change.setFio2Fraction
+      );
     case 'stop-oxygen':
       // The status ends the order; the words still give the old setting, so a sentence says it stopped.
       return false;
@@ -202,6 +214,12 @@ function appendToMainText(resource: Json, sentence: string): void {
 
 /** Plans the change: the changed copy with the values left as written, or why there is none. */
 export function planOrderChange(resource: FhirResource, change: OrderChange): ChangePlan {
+  // Whether the words refuse the change is read from the order itself, before anything is copied:
+  // a withheld change needs no copy.
+  const refused = refusal(resource, change);
+  if (refused !== undefined) {
+    return { kind: 'withheld', reason: refused };
+  }
   const copy = clone(resource);
   if (copy === undefined) {
     return { kind: 'cannot-copy' };
@@ -209,10 +227,6 @@ export function planOrderChange(resource: FhirResource, change: OrderChange): Ch
   const type = copy['resourceType'];
   if (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest') {
     return { kind: 'changed', resource: copy as FhirResource, leftAsWritten: [] };
-  }
-  const refused = refusal(resource, change);
-  if (refused !== undefined) {
-    return { kind: 'withheld', reason: refused };
   }
   const what = changedWhat(change);
   let rewritten: TextsRewrite;

@@ -16,6 +16,19 @@ export interface FhirInstant {
   readonly precision: DatePrecision;
 }
 
+/**
+ * Days in a month (1-12) of the proleptic Gregorian calendar, as Date.UTC counts them; Date.UTC reads
+ * a year 0-99 as 1900-1999, so year 0000 counts as 1900, which was not a leap year.
+ */
+function daysInMonth(year: number, month: number): number {
+  if (month === 2) {
+    const y = year <= 99 ? 1900 + year : year;
+    const leap = (y % 4 === 0 && y % 100 !== 0) || y % 400 === 0;
+    return leap ? 29 : 28;
+  }
+  return month === 4 || month === 6 || month === 9 || month === 11 ? 30 : 31;
+}
+
 function inRange(n: number, low: number, high: number): boolean {
   return Number.isInteger(n) && n >= low && n <= high;
 }
@@ -27,6 +40,18 @@ function inRange(n: number, low: number, high: number): boolean {
 export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
   if (typeof value !== 'string') {
     return undefined;
+  }
+  if (isUtcToTheSecond(value)) {
+    return timeInstant(
+      digitsAt(value, 0, 4),
+      digitsAt(value, 5, 2),
+      digitsAt(value, 8, 2),
+      digitsAt(value, 11, 2),
+      digitsAt(value, 14, 2),
+      digitsAt(value, 17, 2),
+      0,
+      0,
+    );
   }
   const m = DATE_TIME.exec(value.trim());
   if (m === null) {
@@ -52,29 +77,74 @@ export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
       precision: 'month',
     };
   }
-  const daysInMonth = new Date(Date.UTC(year, month, 0)).getUTCDate();
-  if (!inRange(day, 1, daysInMonth)) {
-    return undefined;
-  }
   if (m[4] === undefined) {
+    // Counted, not read back from a Date: this runs for every time of every resource read.
+    if (!inRange(day, 1, daysInMonth(year, month))) {
+      return undefined;
+    }
     return {
       startMs: Date.UTC(year, month - 1, day),
       endMs: Date.UTC(year, month - 1, day + 1) - 1,
       precision: 'day',
     };
   }
-  const hour = Number(m[4]);
-  const minute = Number(m[5]);
-  const second = m[6] === undefined ? 0 : Number(m[6]);
-  if (!inRange(hour, 0, 23) || !inRange(minute, 0, 59) || !inRange(second, 0, 60)) {
-    return undefined;
-  }
   const fraction = m[7] === undefined ? 0 : Number(`0.${m[7]}`) * 1000;
   const zone = m[8] ?? 'Z';
   const sign = zone.startsWith('-') ? -1 : 1;
   const offsetMin = zone === 'Z' ? 0 : sign * (Number(zone.slice(1, 3)) * 60 + Number(zone.slice(4, 6)));
-  const ms = Date.UTC(year, month - 1, day, hour, minute, second) + fraction - offsetMin * 60_000;
+  const second = m[6] === undefined ? 0 : Number(m[6]);
+  return timeInstant(year, month, day, Number(m[4]), Number(m[5]), second, fraction, offsetMin);
+}
+
+/** A full time's instant, or undefined when a field is out of range. */
+function timeInstant(
+  year: number,
+  month: number,
+  day: number,
+  hour: number,
+  minute: number,
+  second: number,
+  fractionMs: number,
+  offsetMin: number,
+): FhirInstant | undefined {
+  if (!inRange(month, 1, 12) || !inRange(day, 1, daysInMonth(year, month))) {
+    return undefined;
+  }
+  if (!inRange(hour, 0, 23) || !inRange(minute, 0, 59) || !inRange(second, 0, 60)) {
+    return undefined;
+  }
+  const ms = Date.UTC(year, month - 1, day, hour, minute, second) + fractionMs - offsetMin * 60_000;
   return { startMs: ms, endMs: ms, precision: 'time' };
+}
+
+const ZERO = 48;
+const NINE = 57;
+
+/**
+ * Whether the value is written `YYYY-MM-DDThh:mm:ssZ`, the form nearly every time arrives in; it is
+ * read from its characters, without the regular expression, to the same instant the expression gives.
+ */
+function isUtcToTheSecond(value: string): boolean {
+  if (value.length !== 20) {
+    return false;
+  }
+  for (let i = 0; i < 19; i += 1) {
+    const c = value.charCodeAt(i);
+    const separator = i === 4 || i === 7 ? '-' : i === 10 ? 'T' : i === 13 || i === 16 ? ':' : undefined;
+    if (separator === undefined ? c < ZERO || c > NINE : value[i] !== separator) {
+      return false;
+    }
+  }
+  return value[19] === 'Z';
+}
+
+/** The number written by `count` ASCII digits from `start` (checked by isUtcToTheSecond). */
+function digitsAt(value: string, start: number, count: number): number {
+  let n = 0;
+  for (let i = start; i < start + count; i += 1) {
+    n = n * 10 + (value.charCodeAt(i) - ZERO);
+  }
+  return n;
 }
 
 /** A full time (hours and minutes) with no zone: `2026-03-01T08:15`, `2026-03-01T08:15:00.5`. */
@@ -88,7 +158,12 @@ const TIME_WITHOUT_ZONE = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(?::\d{2}(?:\.\d{1,9})?
  * be populated", so valid data is never changed.
  */
 export function withUtcIfZoneless(value: string | undefined): string | undefined {
-  return value !== undefined && TIME_WITHOUT_ZONE.test(value) ? `${value}Z` : value;
+  if (value === undefined) {
+    return undefined;
+  }
+  // A zoneless time ends in a digit; a time that ends in "Z" or anything else is not scanned.
+  const last = value.charCodeAt(value.length - 1);
+  return last >= ZERO && last <= NINE && TIME_WITHOUT_ZONE.test(value) ? `${value}Z` : value;
 }
 
 /** A short plain age for notes: "95 min", "9 h", "3 d". */

@@ -156,6 +156,32 @@ function preference(cluster: Cluster, unit: Unit): number {
   return 3;
 }
 
+/**
+ * The cluster a unit joins: one whose first value is at most the window before it, of a compatible
+ * specimen, not both tied; the best preference, then the latest anchor, then the earliest made.
+ * Clusters are made oldest first, so only the newest few, back to the window's start, are looked at.
+ */
+function bestCluster(clusters: readonly Cluster[], unit: Unit, windowMs: number): Cluster | undefined {
+  let best: Cluster | undefined;
+  let bestPreference = Number.POSITIVE_INFINITY;
+  for (let i = clusters.length - 1; i >= 0; i -= 1) {
+    const c = clusters[i] as Cluster;
+    if (unit.anchorMs - c.anchorMs > windowMs) {
+      break;
+    }
+    if (!compatible(c.specimen, unit.specimen) || (c.tied && unit.tied)) {
+      continue;
+    }
+    // Walking back, anchors only fall: an equal one found later was made earlier and wins the tie.
+    const p = preference(c, unit);
+    if (best === undefined || p < bestPreference || (p === bestPreference && c.anchorMs >= best.anchorMs)) {
+      best = c;
+      bestPreference = p;
+    }
+  }
+  return best;
+}
+
 /** Groups gas readings into samples, newest first. `groupingMinutes` is the policy's window. */
 export function groupBloodGases(readings: readonly Reading[], groupingMinutes: number): readonly GasSample[] {
   const windowMs = Math.max(0, groupingMinutes) * 60_000;
@@ -175,14 +201,7 @@ export function groupBloodGases(readings: readonly Reading[], groupingMinutes: n
 
   const clusters: Cluster[] = [];
   for (const unit of units) {
-    const best = clusters
-      .filter(
-        (c) =>
-          unit.anchorMs - c.anchorMs <= windowMs &&
-          compatible(c.specimen, unit.specimen) &&
-          !(c.tied && unit.tied),
-      )
-      .sort((a, b) => preference(a, unit) - preference(b, unit) || b.anchorMs - a.anchorMs)[0];
+    const best = bestCluster(clusters, unit, windowMs);
     if (best === undefined) {
       clusters.push({ anchorMs: unit.anchorMs, specimen: unit.specimen, tied: unit.tied, members: [...unit.members] });
       continue;

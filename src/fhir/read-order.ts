@@ -1,4 +1,4 @@
-import type { DeviceKind, OrderTarget, OxygenOrder, SetAsideNote, TargetNote } from '../core/types.js';
+import type { DeviceKind, OrderPurpose, OrderTarget, OxygenOrder, SetAsideNote, TargetNote } from '../core/types.js';
 import { currentWords } from './change-note.js';
 import { withUtcIfZoneless } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
@@ -234,12 +234,27 @@ export interface TargetWordsRead {
  * on them (the flow read only tells room air from titration).
  */
 export function readTargetWords(resource: FhirResource, type: OrderResourceType): TargetWordsRead {
+  const known = readByOrder.get(resource);
+  if (known !== undefined && known.type === type) {
+    return known.read;
+  }
   const parts = orderParts(resource, type);
   const texts = parts.texts.map(currentWords);
   const reference = `${type}/${resource.id ?? ''}`;
   const target = readTarget(parts, texts, texts.map(findTargetStatements), reference, new OrderNotes(reference));
   const purpose = readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin: undefined });
-  return { targetNote: target.note, stopOrComfort: purpose === 'stop' || purpose === 'comfort' ? purpose : undefined };
+  return { targetNote: target.note, stopOrComfort: stopOrComfortOf(purpose) };
+}
+
+/**
+ * What `readOrder` read of each order's target words, so that planning a change to the same order
+ * (apply-change.ts) does not read all its words again. Keyed on the resource object, which nothing
+ * changes once it is read (a change is planned on a copy, and a copy is read afresh); dropped with it.
+ */
+const readByOrder = new WeakMap<FhirResource, { readonly type: OrderResourceType; readonly read: TargetWordsRead }>();
+
+function stopOrComfortOf(purpose: OrderPurpose): TargetWordsRead['stopOrComfort'] {
+  return purpose === 'stop' || purpose === 'comfort' ? purpose : undefined;
 }
 
 function purposeWords(resource: FhirResource, texts: readonly string[]): Omit<PurposeInputs, 'flowLPerMin'> {
@@ -265,6 +280,9 @@ export function readOrder(
   const setFio2Fraction = readFio2(coded.fio2, written, notes);
   const target = readTarget(parts, texts, statements, reference, notes);
   const status = stringAt(resource, 'status');
+  const purpose = readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin });
+  // The flow only tells room air from titration, so a stop or comfort purpose is as readTargetWords reads it.
+  readByOrder.set(resource, { type, read: { targetNote: target.note, stopOrComfort: stopOrComfortOf(purpose) } });
   return {
     order: {
       reference,
@@ -276,7 +294,7 @@ export function readOrder(
       setFio2Fraction,
       target: target.target,
       targetNote: target.note,
-      purpose: readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin }),
+      purpose,
       authoredOn: withUtcIfZoneless(stringAt(resource, 'authoredOn')),
       isSubject,
     },

@@ -67,15 +67,6 @@ class UnitMemo<T> {
     return this.#answers.has(key);
   }
 
-  get(key: string, compute: () => T): T {
-    if (this.#answers.has(key)) {
-      return this.#answers.get(key) as T;
-    }
-    const answer = compute();
-    this.set(key, answer);
-    return answer;
-  }
-
   /** The remembered answer, or undefined when there is none. */
   peek(key: string): T | undefined {
     return this.#answers.get(key);
@@ -111,7 +102,14 @@ const parsedPairs = new UnitMemo<ParsedPair>(MEMO_BOUND);
 /** Returns the UCUM code for a unit as sent, or undefined when it is neither UCUM nor a known alias. */
 export function normaliseUnit(unit: string): string | undefined {
   const trimmed = unit.trim();
-  return normalised.get(trimmed, () => lookUpUnit(trimmed));
+  // Looked up without a closure: this runs for every value read.
+  const known = normalised.peek(trimmed);
+  if (known !== undefined || normalised.has(trimmed)) {
+    return known;
+  }
+  const answer = lookUpUnit(trimmed);
+  normalised.set(trimmed, answer);
+  return answer;
 }
 
 function lookUpUnit(trimmed: string): string | undefined {
@@ -147,38 +145,43 @@ export function convertUnit(value: number, fromUnit: string, toUnit: string): Co
   if (from === to) {
     return { kind: 'ok', value };
   }
-  const cannot: Conversion = { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+  // The failure and its wording are made only on failure: this runs for every value read.
   const pair = `${from}\u0000${to}`;
   if (incommensurable.has(pair)) {
-    return cannot;
+    return cannotConvert(from, to);
   }
-  // With a finite value the library fails only on the units themselves, so such a pair is remembered.
-  const unitsFailed = (): Conversion => {
-    if (Number.isFinite(value)) {
-      incommensurable.set(pair, true);
-    }
-    return cannot;
-  };
   const parsed = Number.isFinite(value) ? parsedPairs.peek(pair) : undefined;
   if (parsed !== undefined) {
-    return fromParsed(parsed, value, cannot);
+    return fromParsed(parsed, value, from, to);
   }
   let result: ReturnType<typeof utils.convertUnitTo>;
   try {
     result = quietly(() => utils.convertUnitTo(from, value, to));
   } catch {
-    return unitsFailed();
+    return unitsFailed(pair, value, from, to);
   }
   if (result.status !== 'succeeded') {
-    return unitsFailed();
+    return unitsFailed(pair, value, from, to);
   }
   if (result.fromUnit !== undefined && result.toUnit !== undefined && isNormalConversion(result.fromUnit, result.toUnit)) {
     parsedPairs.set(pair, { fromUnit: result.fromUnit, toUnit: result.toUnit });
   }
   if (result.toVal === null || !Number.isFinite(result.toVal)) {
-    return cannot;
+    return cannotConvert(from, to);
   }
   return { kind: 'ok', value: result.toVal };
+}
+
+function cannotConvert(from: string, to: string): Conversion {
+  return { kind: 'failed', reason: `cannot convert ${from} to ${to}` };
+}
+
+/** With a finite value the library fails only on the units themselves, so such a pair is remembered. */
+function unitsFailed(pair: string, value: number, from: string, to: string): Conversion {
+  if (Number.isFinite(value)) {
+    incommensurable.set(pair, true);
+  }
+  return cannotConvert(from, to);
 }
 
 /** Whether the library converts this pair by `toUnit.convertFrom` (no molar mass or charge needed). */
@@ -187,14 +190,14 @@ function isNormalConversion(fromUnit: UcumUnit, toUnit: UcumUnit): boolean {
 }
 
 /** What `convertUnitTo` answers for a finite value of a pair it has converted before. */
-function fromParsed(parsed: ParsedPair, value: number, cannot: Conversion): Conversion {
+function fromParsed(parsed: ParsedPair, value: number, from: string, to: string): Conversion {
   let toVal: number;
   try {
     toVal = parsed.toUnit.convertFrom(value, parsed.fromUnit);
   } catch {
-    return cannot;
+    return cannotConvert(from, to);
   }
-  return Number.isFinite(toVal) ? { kind: 'ok', value: toVal } : cannot;
+  return Number.isFinite(toVal) ? { kind: 'ok', value: toVal } : cannotConvert(from, to);
 }
 
 /** Convenience for callers that have already checked the units are convertible (e.g. kPa ↔ mm[Hg]). */

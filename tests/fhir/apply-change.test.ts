@@ -442,3 +442,42 @@ describe('stopping an active order (patient-view)', () => {
   });
 });
 
+
+/**
+ * The facts read each order before any change is planned, and planning reuses what that reading found
+ * of the target words (read-order.ts): the plan must be the one made from the words afresh, whether
+ * the change is withheld or written. Invented Larkspur Bay wording; ranges from BTS 2017 Table 4.
+ */
+describe('planOrderChange after the order was read', () => {
+  const wordings = [
+    '2 L/min nasal cannula, target SpO2 94-98%', // BTS 2017, Table 4
+    'Oxygen for comfort only, no SpO2 target',
+    'Stop oxygen; check SpO2 on air',
+    'Target 88-92% if hypercapnic, otherwise 94-98%', // BTS 2017, Table 4
+    'Keep SpO2 >= 92% on 2L NC',
+    '',
+  ];
+  const changes: readonly OrderChange[] = [HYPERCAPNIC, { kind: 'set-flow', flowLPerMin: 1 }];
+  const ordersOf = (words: string): readonly FhirResource[] => [
+    oxygenMedicationRequest('mr-r', { dosageInstruction: [{ text: words }] }),
+    oxygenServiceRequest('sr-r', { patientInstruction: words }),
+    oxygenDeviceRequest('dr-r', 'Nasal cannula', { note: [{ text: words }] }),
+  ];
+
+  it('plans the same change, withheld or written, as on an order read afresh', () => {
+    const kinds = new Set<string>();
+    for (const words of wordings) {
+      for (const order of ordersOf(words)) {
+        for (const orderChange of changes) {
+          const afresh = planOrderChange(structuredClone(order), orderChange);
+          readBack(order);
+          const afterReading = planOrderChange(order, orderChange);
+          kinds.add(afresh.kind);
+          expect(afterReading, `${order.resourceType} "${words}" ${orderChange.kind}`).toStrictEqual(afresh);
+        }
+      }
+    }
+    // Both outcomes occur, so the comparison covers a withheld change and a written one.
+    expect([...kinds].sort()).toStrictEqual(['changed', 'withheld']);
+  });
+});

@@ -380,7 +380,7 @@ function orders(words: string): readonly FhirResource[] {
 }
 
 describe('readTargetWords', () => {
-  it('reads the target note and a stop or comfort purpose as readOrder does, for every kind of order and wording', () => {
+  it('reads the target note and a stop or comfort purpose as readOrder does, for every kind of order and wording, read afresh or remembered', () => {
     const disagreements: string[] = [];
     const purposes = new Set<string>();
     for (const words of WORDS) {
@@ -392,9 +392,13 @@ describe('readTargetWords', () => {
           stopOrComfort: order.purpose === 'stop' || order.purpose === 'comfort' ? order.purpose : undefined,
         };
         purposes.add(order.purpose);
-        const got = readTargetWords(resource, type);
-        if (JSON.stringify(got) !== JSON.stringify(expected)) {
-          disagreements.push(`${type} "${words}": ${JSON.stringify(got)} vs ${JSON.stringify(expected)}`);
+        // A copy is read from its words afresh; the order itself answers with what readOrder read of it.
+        const fresh = readTargetWords(structuredClone(resource), type);
+        const remembered = readTargetWords(resource, type);
+        for (const [how, got] of [['fresh', fresh], ['remembered', remembered]] as const) {
+          if (JSON.stringify(got) !== JSON.stringify(expected)) {
+            disagreements.push(`${how} ${type} "${words}": ${JSON.stringify(got)} vs ${JSON.stringify(expected)}`);
+          }
         }
       }
     }
