@@ -138,18 +138,33 @@ export function referenceLabel(key: string, policy: Policy): string {
   return policy.references[key]?.label ?? key;
 }
 
-/** "Calculation": each computation's formula, this patient's numbers in it, and the result. */
-export function calculationSection(computations: readonly Computation[], policy: Policy): DetailSection {
-  if (computations.length === 0) {
-    return { heading: 'Calculation', lines: ['- No calculation was needed for this advice.'] };
-  }
-  const lines = computations.flatMap((c) => [
+const NO_CALCULATION_LINE = '- No calculation was needed for this advice.';
+
+/** One computation's lines of the calculation section. */
+function calculationLines(c: Computation, policy: Policy): readonly string[] {
+  return [
     `- **${escapeMarkdown(c.name)}** (${escapeMarkdown(referenceLabel(c.sourceKey, policy))})`,
     `  - Formula: ${escapeMarkdown(c.formula)}`,
     `  - With this patient's values: ${escapeMarkdown(c.substituted)}`,
     `  - Result: **${escapeMarkdown(c.result)}**`,
-  ]);
-  return { heading: 'Calculation', lines };
+  ];
+}
+
+/** "Calculation": each computation's formula, this patient's numbers in it, and the result. */
+export function calculationSection(computations: readonly Computation[], policy: Policy): DetailSection {
+  if (computations.length === 0) {
+    return { heading: 'Calculation', lines: [NO_CALCULATION_LINE] };
+  }
+  return { heading: 'Calculation', lines: computations.flatMap((c) => calculationLines(c, policy)) };
+}
+
+/** {@link calculationSection} as {@link renderSections} renders it, written straight as text. */
+function calculationText(computations: readonly Computation[], policy: Policy): string {
+  let lines = '';
+  for (const computation of computations) {
+    lines += `${lines === '' ? '' : '\n'}${calculationLines(computation, policy).join('\n')}`;
+  }
+  return `**Calculation**\n\n${lines === '' ? NO_CALCULATION_LINE : lines}`;
 }
 
 const SET_ASIDE_REASONS: Readonly<Record<SetAsideNote['reason'], string>> = {
@@ -269,18 +284,26 @@ export function prepareWorkings(
   now: Date,
   clock: CardClock = cardClock(now, policy.site.timeZone),
 ): (finding: Finding, assessment: Assessment) => string {
-  // The shared sections are kept as rendered text: only the calculation is rendered per card.
+  // The shared sections are kept as rendered text: only the calculation is rendered per card. The
+  // sections after it (set aside, sources, cautions) are joined once per call and list of cited keys.
   const inputsByAssessment = new Map<Assessment, string>();
   const setAside = renderSections([setAsideSection(facts.setAside)]);
   const cautions = cautionsText(policy);
+  const endingsByKeys = new Map<string, string>();
   return (finding, assessment) => {
     let inputs = inputsByAssessment.get(assessment);
     if (inputs === undefined) {
       inputs = renderSections([inputsSection(facts, assessment, policy, clock)]);
       inputsByAssessment.set(assessment, inputs);
     }
-    const sources = sourcesText(findingSourceKeys(finding), policy);
+    const keys = findingSourceKeys(finding);
+    const joinedKeys = keys.join('\n');
+    let ending = endingsByKeys.get(joinedKeys);
+    if (ending === undefined) {
+      ending = `${setAside}\n\n${sourcesText(keys, policy)}\n\n${cautions}`;
+      endingsByKeys.set(joinedKeys, ending);
+    }
     // renderSections joins sections with a blank line; so do these.
-    return [inputs, renderSections([calculationSection(finding.computations, policy)]), setAside, sources, cautions].join('\n\n');
+    return `${inputs}\n\n${calculationText(finding.computations, policy)}\n\n${ending}`;
   };
 }
