@@ -3,7 +3,6 @@ import { formatFio2Range, formatFlow, formatGasValue, formatMmHg, formatNumber, 
 import { DEVICE_MODELS } from '../core/devices/index.js';
 import type { Policy } from '../core/policy.js';
 import type { BloodGas, Computation, DeviceKind, Facts, Finding, Measured, OxygenOrder, SetAsideNote } from '../core/types.js';
-import { oncePerObject } from '../core/once-per-object.js';
 import { escapeMarkdown } from './card-templates.js';
 import { cardClock, type CardClock } from './card-time.js';
 import { oncePerPolicy } from './once-per-policy.js';
@@ -192,16 +191,24 @@ const SAFE_URL = /^https?:\/\/[^\s<>]+$/;
 
 /**
  * The source keys of a finding: its own, then those of its computations, each once. Its card, detail
- * and workings all ask, so they are listed once per finding (a finding never changes).
+ * and workings all ask. Most findings already list every key once, their computations' among them, so
+ * their own list is the answer as it is, with nothing made or kept per finding; the others' is built.
  */
 export function findingSourceKeys(finding: Finding): readonly string[] {
-  return sourceKeysOnce(finding);
+  return listsEachSourceKeyOnce(finding)
+    ? finding.sourceKeys
+    : [...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])];
 }
 
-const sourceKeysOnce = oncePerObject(
-  (finding: Finding): readonly string[] =>
-    Object.freeze([...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])]),
-);
+function listsEachSourceKeyOnce(finding: Finding): boolean {
+  const keys = finding.sourceKeys;
+  for (let index = 0; index < keys.length; index += 1) {
+    if (keys.indexOf(keys[index] ?? '') !== index) {
+      return false;
+    }
+  }
+  return finding.computations.every((computation) => keys.includes(computation.sourceKey));
+}
 
 /** "Sources": each key's citation from the policy, then the policy itself. Unknown keys are reported. */
 export function sourcesSection(keys: readonly string[], policy: Policy): DetailSection & { readonly unknownKeys: readonly string[] } {
