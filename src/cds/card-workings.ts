@@ -66,14 +66,24 @@ export function describeOrderAsRead(order: OxygenOrder): string {
   return parts.join(', ');
 }
 
+/** The components a gas line shows, in order, with the names it shows them by. */
+const GAS_COMPONENTS = [
+  ['ph', 'pH'],
+  ['paco2', 'PCO2'],
+  ['pao2', 'PO2'],
+  ['hco3', 'HCO3'],
+] as const;
+
 /** "pH 7.28, PCO2 8.1 kPa, PO2 7.4 kPa, HCO3 31 mmol/L" as the laboratory reported them. */
 export function gasValues(gas: BloodGas): string {
-  const values = (['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((component) => {
+  let values = '';
+  for (const [component, name] of GAS_COMPONENTS) {
     const shown = formatGasValue(gas, component);
-    const name = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[component];
-    return shown === undefined ? [] : [`${name} ${shown}`];
-  });
-  return values.join(', ') || 'no values read';
+    if (shown !== undefined) {
+      values += `${values === '' ? '' : ', '}${name} ${shown}`;
+    }
+  }
+  return values || 'no values read';
 }
 
 function gasLine(gas: BloodGas, clock: CardClock): string {
