@@ -1,4 +1,4 @@
-import type { AdvisoryRecord, ClientIdentity } from '../store/store.js';
+import type { AdvisoryRecord, ClientIdentity, KeyNumber } from '../store/store.js';
 import type { HookEvaluation } from './evaluate-hook.js';
 
 /**
@@ -17,11 +17,23 @@ export interface AuditCall {
   readonly issuedAt: Date;
 }
 
+/** The finding's values as a list, in their order, without a [name, value] pair made for each. */
+function keyNumberList(values: Readonly<Record<string, string>>): KeyNumber[] {
+  const list: KeyNumber[] = [];
+  for (const name of Object.keys(values)) {
+    // An own key of the record always has its value.
+    list.push({ name, value: values[name] as string });
+  }
+  return list;
+}
+
 export function buildAuditRecords(evaluation: HookEvaluation, call: AuditCall): AdvisoryRecord[] {
   const issuedAt = call.issuedAt.toISOString();
   const client: ClientIdentity =
     call.client.tenant === undefined ? { iss: call.client.iss } : { iss: call.client.iss, tenant: call.client.tenant };
   const { unit } = evaluation.audit;
+  // What every record of the call holds alike is made once, as the client is.
+  const policy = { id: evaluation.policyId, version: evaluation.policyVersion, contentHash: call.policyContentHash };
   return evaluation.audit.cards.map((card) => ({
     cardUuid: card.cardUuid,
     suggestionUuids: [...card.suggestionUuids],
@@ -35,8 +47,8 @@ export function buildAuditRecords(evaluation: HookEvaluation, call: AuditCall): 
     summary: card.summary,
     detail: card.detail,
     workings: card.workings,
-    keyNumbers: Object.entries(card.keyNumbers).map(([name, value]) => ({ name, value })),
-    policy: { id: evaluation.policyId, version: evaluation.policyVersion, contentHash: call.policyContentHash },
+    keyNumbers: keyNumberList(card.keyNumbers),
+    policy,
     ...(unit === undefined ? {} : { unit }),
     issuedAt,
     patientKey: call.patientKey,

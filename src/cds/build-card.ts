@@ -7,7 +7,15 @@ import { planOrderChange, type ChangePlan } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
-import { compiledCardTemplate, escapeMarkdown, renderCompiled, type BasedOnKind, type CardTemplate } from './card-templates.js';
+import {
+  compiledCardTemplate,
+  escapeMarkdown,
+  renderCompiled,
+  type BasedOnKind,
+  type CardTemplate,
+  type CompiledText,
+  type Rendered,
+} from './card-templates.js';
 import { oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
@@ -154,10 +162,25 @@ export function describeChange(change: OrderChange): string {
   }
 }
 
-/** The finding's values and the policy's (the guideline cited): the policy's names are its own (policy-card-text.ts). */
-function cardValues(finding: Finding, policy: Policy): Readonly<Record<string, string>> {
-  // Object.assign, not `{ ...a, ...b }`: on Node 20 the two-spread literal cost some 10 µs a card.
-  return Object.assign({}, finding.values, policyCardValues(policy, finding.ruleId));
+/**
+ * The values a card's texts are filled from: the finding's, and the policy's (the guideline cited),
+ * whose names are its own (policy-card-text.ts) and win a clash. Passed to the renderer as two records
+ * rather than merged into a new one per card.
+ */
+interface CardValues {
+  readonly finding: Readonly<Record<string, string>>;
+  readonly policy: Readonly<Record<string, string>>;
+}
+
+function renderWithValues(compiled: CompiledText, values: CardValues, mode: 'markdown' | 'plain'): Rendered {
+  return renderCompiled(compiled, values.finding, mode, values.policy);
+}
+
+/** "ruleId: summary placeholder 'name' has no value" for each name a render found no value for. */
+function reportMissing(problems: string[], ruleId: string, part: string, rendered: Rendered): void {
+  for (const name of rendered.missing) {
+    problems.push(`${ruleId}: ${part} placeholder '${name}' has no value`);
+  }
 }
 
 function lowerFirst(text: string): string {
@@ -209,7 +232,7 @@ function planOnce(facts: Facts, resource: FhirResource, change: OrderChange): Ch
 function buildSuggestion(
   finding: Finding,
   ctx: CardBuildContext,
-  values: Readonly<Record<string, string>>,
+  values: CardValues,
   uuid: string,
   problems: string[],
 ): SuggestionOutcome {
@@ -224,7 +247,10 @@ function buildSuggestion(
   // Earlier changes the words cannot take were never offered, so they are not carried either.
   let resource: FhirResource = ctx.draftResource;
   const carried: OrderChange[] = [];
-  for (const earlier of (ctx.earlierChanges ?? []).filter((e) => !overlaps(e, change))) {
+  for (const earlier of ctx.earlierChanges ?? []) {
+    if (overlaps(earlier, change)) {
+      continue;
+    }
     const plan = planOnce(ctx.facts, resource, earlier);
     if (plan.kind === 'cannot-copy') {
       problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
@@ -248,21 +274,23 @@ function buildSuggestion(
     problems.push(`${finding.ruleId}: the changed resource lost its type or id; suggestion left out`);
     return NONE;
   }
-  const changes = [...carried, change];
-  let label = describeChange(change);
+  // Each change is put in words once, for the label and the action's description alike.
+  const described = describeChange(change);
+  const carriedDescribed = carried.map(describeChange);
+  let label = described;
   const compiledLabel = compiledCardTemplate(ctx.template).suggestionLabel;
   if (compiledLabel === undefined) {
     problems.push(`${finding.ruleId}: template has no suggestionLabel`);
   } else {
-    const rendered = renderCompiled(compiledLabel, values, 'plain');
-    problems.push(...rendered.missing.map((name) => `${finding.ruleId}: suggestionLabel placeholder '${name}' has no value`));
+    const rendered = renderWithValues(compiledLabel, values, 'plain');
+    reportMissing(problems, finding.ruleId, 'suggestionLabel', rendered);
     label = rendered.text;
   }
   if (plan.leftAsWritten.length > 0) {
     label = `${label}${leftAsWrittenNote(plan.leftAsWritten)}`;
   }
   if (carried.length > 0) {
-    label = `${label} (keeps: ${carried.map((c) => lowerFirst(describeChange(c))).join('; ')})`;
+    label = `${label} (keeps: ${carriedDescribed.map(lowerFirst).join('; ')})`;
   }
   return {
     withheldReason: undefined,
@@ -271,7 +299,7 @@ function buildSuggestion(
       uuid: suggestionUuid(uuid, 0),
       isRecommended: true,
       actions: [
-        { type: 'update', description: `${changes.map(describeChange).join('; ')} on the ${ctx.orderWord ?? 'draft order'}.`, resource: changed },
+        { type: 'update', description: `${[...carriedDescribed, described].join('; ')} on the ${ctx.orderWord ?? 'draft order'}.`, resource: changed },
       ],
     },
   };
@@ -288,16 +316,18 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const problems: string[] = [];
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
-  const values = cardValues(finding, ctx.policy);
+  const values: CardValues = { finding: finding.values, policy: policyCardValues(ctx.policy, finding.ruleId) };
   const compiled = compiledCardTemplate(ctx.template);
-  const summary = renderCompiled(compiled.summary, values, 'plain');
-  const detail = renderCompiled(compiled.detail, values, 'markdown');
-  for (const [part, rendered] of [['summary', summary], ['detail', detail]] as const) {
-    problems.push(...rendered.missing.map((name) => `${finding.ruleId}: ${part} placeholder '${name}' has no value`));
-  }
+  const summary = renderWithValues(compiled.summary, values, 'plain');
+  const detail = renderWithValues(compiled.detail, values, 'markdown');
+  reportMissing(problems, finding.ruleId, 'summary', summary);
+  reportMissing(problems, finding.ruleId, 'detail', detail);
 
-  const unknownKeys = findingSourceKeys(finding).filter((key) => ctx.policy.references[key] === undefined);
-  problems.push(...unknownKeys.map((key) => `${finding.ruleId}: source key '${key}' is not in the policy references`));
+  for (const key of findingSourceKeys(finding)) {
+    if (ctx.policy.references[key] === undefined) {
+      problems.push(`${finding.ruleId}: source key '${key}' is not in the policy references`);
+    }
+  }
 
   const { suggestion, withheldReason } = buildSuggestion(finding, ctx, values, uuid, problems);
   const renderDetail =

@@ -113,6 +113,23 @@ export function cautionsParagraph(policy: Policy): string {
 
 const cautionsOnce = oncePerPolicy((policy) => `_${policy.cautions.map((line) => escapeMarkdown(line.trim())).join(' ')}_`);
 
+/**
+ * The end of every card's detail, its sources line and the cautions: made of the policy and the keys
+ * the finding cites alone, so it is put together once per policy and list of keys.
+ */
+function sourcesAndCautions(finding: Finding, policy: Policy): string {
+  const byKeys = endingsOf(policy);
+  const joined = findingSourceKeys(finding).join('\n');
+  let ending = byKeys.get(joined);
+  if (ending === undefined) {
+    ending = `**Sources:** ${sourcesLine(finding, policy)}\n\n${cautionsParagraph(policy)}`;
+    byKeys.set(joined, ending);
+  }
+  return ending;
+}
+
+const endingsOf = oncePerPolicy(() => new Map<string, string>());
+
 /** What one card adds to the parts its call shares: its rule text, inputs named, finding and assessment. */
 export interface CardDetailInput {
   /** The template's detail, already rendered with the finding's values. */
@@ -151,9 +168,10 @@ export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardCl
     return lines;
   };
   // Cards of one template list the same inputs (its `basedOn`, one array for every card), and cards of
-  // one assessment show the same lines for them: the list is put together once per assessment and array.
-  const listsByAssessment = new Map<Assessment, Map<readonly BasedOnKind[], readonly string[]>>();
-  const inputList = (basedOn: readonly BasedOnKind[], assessment: Assessment): readonly string[] => {
+  // one assessment show the same lines for them: the list is put together once per assessment and array,
+  // as the Markdown list it starts the "Based on" block with ('' when it lists nothing).
+  const listsByAssessment = new Map<Assessment, Map<readonly BasedOnKind[], string>>();
+  const inputList = (basedOn: readonly BasedOnKind[], assessment: Assessment): string => {
     let byBasedOn = listsByAssessment.get(assessment);
     if (byBasedOn === undefined) {
       byBasedOn = new Map();
@@ -161,27 +179,28 @@ export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardCl
     }
     let list = byBasedOn.get(basedOn);
     if (list === undefined) {
-      list = [...new Set(basedOn)].flatMap((kind) => inputLines(kind, assessment));
+      list = [...new Set(basedOn)]
+        .flatMap((kind) => inputLines(kind, assessment))
+        .map((line) => `- ${line}`)
+        .join('\n');
       byBasedOn.set(basedOn, list);
     }
     return list;
   };
+  // The blocks (rule text, "Based on", sources, cautions) are joined by a blank line; the card's own
+  // parts (its arithmetic) are added to the shared ones as text, with no list built per card.
   return (input) => {
-    const inputs = inputList(input.basedOn, input.assessment);
+    let list = inputList(input.basedOn, input.assessment);
     const computations = input.finding.computations;
     const shown = keyComputations(computations);
-    const arithmetic = shown.map(arithmeticLine);
-    if (computations.length > shown.length) {
-      arithmetic.push(`${computations.length - shown.length} earlier step(s) not shown`);
+    for (const computation of shown) {
+      list += `${list === '' ? '' : '\n'}- ${arithmeticLine(computation)}`;
     }
-    const list = [...inputs, ...arithmetic];
-    const blocks = [
-      input.ruleText.trim(),
-      ...(list.length === 0 ? [] : [`**Based on:**\n${list.map((line) => `- ${line}`).join('\n')}`]),
-      `**Sources:** ${sourcesLine(input.finding, policy)}`,
-      cautionsParagraph(policy),
-    ];
-    return blocks.join('\n\n');
+    if (computations.length > shown.length) {
+      list += `${list === '' ? '' : '\n'}- ${computations.length - shown.length} earlier step(s) not shown`;
+    }
+    const basedOnBlock = list === '' ? '' : `\n\n**Based on:**\n${list}`;
+    return `${input.ruleText.trim()}${basedOnBlock}\n\n${sourcesAndCautions(input.finding, policy)}`;
   };
 }
 

@@ -167,21 +167,35 @@ export function compileText(templateText: string): CompiledText {
   };
 }
 
+/** The `missing` of a text whose placeholders all had values: one list, as most renders have none. */
+const NONE_MISSING: readonly string[] = Object.freeze([]);
+
 /**
  * Fills a compiled text's placeholders. `markdown` escapes each value for GFM (card detail); `plain`
  * leaves values as they are (summaries and button labels are plain text) but folds line breaks. A
- * value that itself contains `{{…}}` is not expanded again.
+ * value that itself contains `{{…}}` is not expanded again. `overrides`, when given, are looked up
+ * first, as if the two were one record with `overrides` assigned over `values`: a card passes the
+ * finding's values and the policy's without merging them into a new record per card.
  */
 export function renderCompiled(
   compiled: CompiledText,
   values: Readonly<Record<string, string>>,
   mode: 'markdown' | 'plain' = 'markdown',
+  overrides?: Readonly<Record<string, string>>,
 ): Rendered {
-  const missing: string[] = [];
-  let text = compiled.literals[0] ?? '';
-  compiled.names.forEach((name, index) => {
-    const value = Object.hasOwn(values, name) ? values[name] : undefined;
+  const { literals, names } = compiled;
+  let missing: string[] | undefined;
+  let text = literals[0] ?? '';
+  for (let index = 0; index < names.length; index += 1) {
+    const name = names[index] ?? '';
+    const value =
+      overrides !== undefined && Object.hasOwn(overrides, name)
+        ? overrides[name]
+        : Object.hasOwn(values, name)
+          ? values[name]
+          : undefined;
     if (value === undefined || value.trim() === '') {
+      missing ??= [];
       if (!missing.includes(name)) {
         missing.push(name);
       }
@@ -189,9 +203,9 @@ export function renderCompiled(
     } else {
       text += mode === 'markdown' ? escapeMarkdown(value) : foldLines(value);
     }
-    text += compiled.literals[index + 1] ?? '';
-  });
-  return { text, missing };
+    text += literals[index + 1] ?? '';
+  }
+  return { text, missing: missing ?? NONE_MISSING };
 }
 
 /** Fills `{{name}}` placeholders of a template text; see {@link renderCompiled}. */

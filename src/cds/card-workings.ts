@@ -3,7 +3,6 @@ import { formatFio2Range, formatFlow, formatGasValue, formatMmHg, formatNumber, 
 import { DEVICE_MODELS } from '../core/devices/index.js';
 import type { Policy } from '../core/policy.js';
 import type { BloodGas, Computation, DeviceKind, Facts, Finding, Measured, OxygenOrder, SetAsideNote } from '../core/types.js';
-import { oncePerObject } from '../core/once-per-object.js';
 import { escapeMarkdown } from './card-templates.js';
 import { cardClock, type CardClock } from './card-time.js';
 import { oncePerPolicy } from './once-per-policy.js';
@@ -67,14 +66,24 @@ export function describeOrderAsRead(order: OxygenOrder): string {
   return parts.join(', ');
 }
 
+/** The components a gas line shows, in order, with the names it shows them by. */
+const GAS_COMPONENTS = [
+  ['ph', 'pH'],
+  ['paco2', 'PCO2'],
+  ['pao2', 'PO2'],
+  ['hco3', 'HCO3'],
+] as const;
+
 /** "pH 7.28, PCO2 8.1 kPa, PO2 7.4 kPa, HCO3 31 mmol/L" as the laboratory reported them. */
 export function gasValues(gas: BloodGas): string {
-  const values = (['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((component) => {
+  let values = '';
+  for (const [component, name] of GAS_COMPONENTS) {
     const shown = formatGasValue(gas, component);
-    const name = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[component];
-    return shown === undefined ? [] : [`${name} ${shown}`];
-  });
-  return values.join(', ') || 'no values read';
+    if (shown !== undefined) {
+      values += `${values === '' ? '' : ', '}${name} ${shown}`;
+    }
+  }
+  return values || 'no values read';
 }
 
 function gasLine(gas: BloodGas, clock: CardClock): string {
@@ -138,18 +147,33 @@ export function referenceLabel(key: string, policy: Policy): string {
   return policy.references[key]?.label ?? key;
 }
 
-/** "Calculation": each computation's formula, this patient's numbers in it, and the result. */
-export function calculationSection(computations: readonly Computation[], policy: Policy): DetailSection {
-  if (computations.length === 0) {
-    return { heading: 'Calculation', lines: ['- No calculation was needed for this advice.'] };
-  }
-  const lines = computations.flatMap((c) => [
+const NO_CALCULATION_LINE = '- No calculation was needed for this advice.';
+
+/** One computation's lines of the calculation section. */
+function calculationLines(c: Computation, policy: Policy): readonly string[] {
+  return [
     `- **${escapeMarkdown(c.name)}** (${escapeMarkdown(referenceLabel(c.sourceKey, policy))})`,
     `  - Formula: ${escapeMarkdown(c.formula)}`,
     `  - With this patient's values: ${escapeMarkdown(c.substituted)}`,
     `  - Result: **${escapeMarkdown(c.result)}**`,
-  ]);
-  return { heading: 'Calculation', lines };
+  ];
+}
+
+/** "Calculation": each computation's formula, this patient's numbers in it, and the result. */
+export function calculationSection(computations: readonly Computation[], policy: Policy): DetailSection {
+  if (computations.length === 0) {
+    return { heading: 'Calculation', lines: [NO_CALCULATION_LINE] };
+  }
+  return { heading: 'Calculation', lines: computations.flatMap((c) => calculationLines(c, policy)) };
+}
+
+/** {@link calculationSection} as {@link renderSections} renders it, written straight as text. */
+function calculationText(computations: readonly Computation[], policy: Policy): string {
+  let lines = '';
+  for (const computation of computations) {
+    lines += `${lines === '' ? '' : '\n'}${calculationLines(computation, policy).join('\n')}`;
+  }
+  return `**Calculation**\n\n${lines === '' ? NO_CALCULATION_LINE : lines}`;
 }
 
 const SET_ASIDE_REASONS: Readonly<Record<SetAsideNote['reason'], string>> = {
@@ -177,16 +201,24 @@ const SAFE_URL = /^https?:\/\/[^\s<>]+$/;
 
 /**
  * The source keys of a finding: its own, then those of its computations, each once. Its card, detail
- * and workings all ask, so they are listed once per finding (a finding never changes).
+ * and workings all ask. Most findings already list every key once, their computations' among them, so
+ * their own list is the answer as it is, with nothing made or kept per finding; the others' is built.
  */
 export function findingSourceKeys(finding: Finding): readonly string[] {
-  return sourceKeysOnce(finding);
+  return listsEachSourceKeyOnce(finding)
+    ? finding.sourceKeys
+    : [...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])];
 }
 
-const sourceKeysOnce = oncePerObject(
-  (finding: Finding): readonly string[] =>
-    Object.freeze([...new Set([...finding.sourceKeys, ...finding.computations.map((c) => c.sourceKey)])]),
-);
+function listsEachSourceKeyOnce(finding: Finding): boolean {
+  const keys = finding.sourceKeys;
+  for (let index = 0; index < keys.length; index += 1) {
+    if (keys.indexOf(keys[index] ?? '') !== index) {
+      return false;
+    }
+  }
+  return finding.computations.every((computation) => keys.includes(computation.sourceKey));
+}
 
 /** "Sources": each key's citation from the policy, then the policy itself. Unknown keys are reported. */
 export function sourcesSection(keys: readonly string[], policy: Policy): DetailSection & { readonly unknownKeys: readonly string[] } {
@@ -269,18 +301,26 @@ export function prepareWorkings(
   now: Date,
   clock: CardClock = cardClock(now, policy.site.timeZone),
 ): (finding: Finding, assessment: Assessment) => string {
-  // The shared sections are kept as rendered text: only the calculation is rendered per card.
+  // The shared sections are kept as rendered text: only the calculation is rendered per card. The
+  // sections after it (set aside, sources, cautions) are joined once per call and list of cited keys.
   const inputsByAssessment = new Map<Assessment, string>();
   const setAside = renderSections([setAsideSection(facts.setAside)]);
   const cautions = cautionsText(policy);
+  const endingsByKeys = new Map<string, string>();
   return (finding, assessment) => {
     let inputs = inputsByAssessment.get(assessment);
     if (inputs === undefined) {
       inputs = renderSections([inputsSection(facts, assessment, policy, clock)]);
       inputsByAssessment.set(assessment, inputs);
     }
-    const sources = sourcesText(findingSourceKeys(finding), policy);
+    const keys = findingSourceKeys(finding);
+    const joinedKeys = keys.join('\n');
+    let ending = endingsByKeys.get(joinedKeys);
+    if (ending === undefined) {
+      ending = `${setAside}\n\n${sourcesText(keys, policy)}\n\n${cautions}`;
+      endingsByKeys.set(joinedKeys, ending);
+    }
     // renderSections joins sections with a blank line; so do these.
-    return [inputs, renderSections([calculationSection(finding.computations, policy)]), setAside, sources, cautions].join('\n\n');
+    return `${inputs}\n\n${calculationText(finding.computations, policy)}\n\n${ending}`;
   };
 }

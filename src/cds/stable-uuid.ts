@@ -11,12 +11,17 @@ export const CARD_UUID_NAMESPACE = '31201df7-a1bc-50cf-904a-9723497658d9';
 
 const UUID_PATTERN = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
-/** The 16 bytes of a UUID written in the usual 8-4-4-4-12 hex form. */
-function uuidBytes(uuid: string): Buffer {
+/** The 32 hex digits of a UUID written in the usual 8-4-4-4-12 form. */
+function uuidHex(uuid: string): string {
   if (!UUID_PATTERN.test(uuid)) {
     throw new Error('uuidV5: namespace must be a UUID');
   }
-  return Buffer.from(uuid.replaceAll('-', ''), 'hex');
+  return uuid.replaceAll('-', '');
+}
+
+/** The 16 bytes of a UUID written in the usual 8-4-4-4-12 hex form. */
+function uuidBytes(uuid: string): Buffer {
+  return Buffer.from(uuidHex(uuid), 'hex');
 }
 
 /** Our namespace's bytes, read once: every card uuid of every call is hashed under it. */
@@ -37,19 +42,43 @@ const sha1Hex: (data: Buffer) => string =
 const VARIANT_DIGITS = '89ab';
 
 /**
+ * The bytes hashed, namespace then the UTF-8 name, in one buffer (rather than a Buffer of the name and
+ * a third to join the two): the name is written here from byte 16, the caller writes the namespace's
+ * 16 bytes before it.
+ */
+function bufferWithName(name: string): Buffer {
+  const data = Buffer.allocUnsafe(16 + Buffer.byteLength(name, 'utf8'));
+  data.write(name, 16, 'utf8');
+  return data;
+}
+
+/**
  * RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name; the first 16 bytes, with version 5 in
  * the high nibble of byte 6 and variant 10 in the top bits of byte 8. Both are set on the hex digits:
  * digit 12 becomes `5`, digit 16 keeps its low two bits under `10`.
  */
-function uuidV5FromBytes(namespaceBytes: Buffer, name: string): string {
-  const hex = sha1Hex(Buffer.concat([namespaceBytes, Buffer.from(name, 'utf8')]));
+function uuidOfHashed(data: Buffer): string {
+  const hex = sha1Hex(data);
   const variant = VARIANT_DIGITS[Number.parseInt(hex.charAt(16), 16) & 0x3] ?? '';
   return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-5${hex.slice(13, 16)}-${variant}${hex.slice(17, 20)}-${hex.slice(20, 32)}`;
 }
 
+function uuidV5FromBytes(namespaceBytes: Buffer, name: string): string {
+  const data = bufferWithName(name);
+  namespaceBytes.copy(data, 0);
+  return uuidOfHashed(data);
+}
+
 /** A version 5 UUID of `name` under `namespace` (RFC 9562 §5.5). */
 export function uuidV5(namespace: string, name: string): string {
-  return uuidV5FromBytes(namespace === CARD_UUID_NAMESPACE ? CARD_NAMESPACE_BYTES : uuidBytes(namespace), name);
+  if (namespace === CARD_UUID_NAMESPACE) {
+    return uuidV5FromBytes(CARD_NAMESPACE_BYTES, name);
+  }
+  // Any other namespace (a card's uuid, for its suggestions) is written into the hashed bytes as read.
+  const hex = uuidHex(namespace);
+  const data = bufferWithName(name);
+  data.write(hex, 0, 'hex');
+  return uuidOfHashed(data);
 }
 
 /**
@@ -57,11 +86,8 @@ export function uuidV5(namespace: string, name: string): string {
  * same order in one call (0 for the first, and then it is left out of the name).
  */
 export function cardUuid(hookInstance: string, ruleId: string, orderReference: string | undefined, occurrence = 0): string {
-  const parts = [hookInstance, ruleId, orderReference ?? '-'];
-  if (occurrence > 0) {
-    parts.push(String(occurrence));
-  }
-  return uuidV5FromBytes(CARD_NAMESPACE_BYTES, parts.join('\n'));
+  const name = `${hookInstance}\n${ruleId}\n${orderReference ?? '-'}`;
+  return uuidV5FromBytes(CARD_NAMESPACE_BYTES, occurrence > 0 ? `${name}\n${occurrence}` : name);
 }
 
 /** The uuid of a card's suggestion, derived from the card's uuid and the suggestion's position. */
