@@ -25,7 +25,7 @@ export type ReplayOutcome = 'fresh' | 'replayed' | 'refused';
 export interface ServiceMetrics {
   readonly registry: Registry;
   /** One request answered (or dropped), from its summary line: route name, status, duration. */
-  readonly requestFinished: (route: string, status: number, durationMs: number) => void;
+  readonly requestFinished: (route: string, status: number, durationMs: number, serviceId?: string) => void;
   /** The cards of one hook call, by the rule that fired and the card's indicator. */
   readonly cardsIssued: (cards: readonly { readonly ruleId: string; readonly indicator: StoredIndicator }[]) => void;
   readonly fhirFetched: (outcome: FhirFetchOutcome, durationMs: number) => void;
@@ -48,14 +48,14 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
   }
   const requests = new Counter({
     name: `${PREFIX}http_requests_total`,
-    help: 'HTTP requests answered, by route name and status code.',
-    labelNames: ['route', 'status'] as const,
+    help: 'HTTP requests answered, by route name and status code, and for hook calls the CDS service.',
+    labelNames: ['route', 'status', 'service'] as const,
     registers: [registry],
   });
   const latency = new Histogram({
     name: `${PREFIX}http_request_duration_seconds`,
-    help: 'Time from a request arriving to its response closing, by route name and status code.',
-    labelNames: ['route', 'status'] as const,
+    help: 'Time from a request arriving to its response closing, by route name and status code, and for hook calls the CDS service.',
+    labelNames: ['route', 'status', 'service'] as const,
     // CDS Hooks 2.0 asks for answers "on the order of 500 ms": buckets are dense around it.
     buckets: [0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10],
     registers: [registry],
@@ -111,8 +111,9 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
 
   return {
     registry,
-    requestFinished(route, status, durationMs) {
-      const labels = { route, status: String(status) };
+    requestFinished(route, status, durationMs, serviceId) {
+      // The service id is set only once it named one of ours, so the label's values are a fixed set.
+      const labels = serviceId === undefined ? { route, status: String(status) } : { route, status: String(status), service: serviceId };
       requests.inc(labels);
       latency.observe(labels, durationMs / 1000);
     },

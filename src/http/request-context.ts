@@ -12,6 +12,8 @@ export interface RequestState {
   detail: RequestDetail | undefined;
   /** The issuer authentication let through, if it did (set by requireAuthentication). */
   authenticatedIss?: string | undefined;
+  /** The CDS service a hook call named, once it is known to be one of ours (routes/cds-service.ts). */
+  serviceId?: string | undefined;
 }
 
 const STATE_KEY = 'oxygenCheckerRequest';
@@ -34,7 +36,7 @@ export function requestContext(
   newRequestId: () => string,
   refusalLimits: RefusalLimits = DEFAULT_REFUSAL_LIMITS,
   /** Told the same route, status and duration as the summary line (the metrics, src/http/metrics.ts). */
-  onFinished?: (route: string, status: number, durationMs: number) => void,
+  onFinished?: (route: string, status: number, durationMs: number, serviceId: string | undefined) => void,
 ): (req: Request, res: Response) => void {
   // Repeated identical refusals from one client are rate-limited in the log, not in the answer.
   const refusals = createRefusalLimiter(refusalLimits);
@@ -65,7 +67,7 @@ export function requestContext(
         errorCode: state.errorCode,
         detail: state.detail,
       }, refusal);
-      onFinished?.(state.route, status, nowMs - state.startedAt);
+      onFinished?.(state.route, status, nowMs - state.startedAt, state.serviceId);
     });
   };
 }

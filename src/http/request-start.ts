@@ -20,7 +20,7 @@ export interface RequestStartOptions {
   readonly policy: PolicyHolder;
   readonly corsOrigins: '*' | readonly string[];
   /** Told each request's route name, status and duration when it closes (the metrics). */
-  readonly onRequestFinished?: (route: string, status: number, durationMs: number) => void;
+  readonly onRequestFinished?: (route: string, status: number, durationMs: number, serviceId: string | undefined) => void;
 }
 
 export function startRequest(options: RequestStartOptions): RequestHandler {

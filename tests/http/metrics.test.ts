@@ -69,8 +69,10 @@ describe('GET /metrics', () => {
     expect(cards.length).toBeGreaterThan(0);
     const { all } = await scrape(app);
 
-    expect(valueOf(all, 'oxygen_checker_http_requests_total', { route: 'service', status: '200' })).toBe(2);
-    expect(valueOf(all, 'oxygen_checker_http_request_duration_seconds_count', { route: 'service', status: '200' })).toBe(2);
+    // Per CDS service, so the sign, select and view hooks can be watched apart.
+    const signed = { route: 'service', status: '200', service: 'oxygen-order-sign' };
+    expect(valueOf(all, 'oxygen_checker_http_requests_total', signed)).toBe(2);
+    expect(valueOf(all, 'oxygen_checker_http_request_duration_seconds_count', signed)).toBe(2);
     const expected = new Map<string, number>();
     for (const card of cards) {
       const key = `${card.source.topic?.code ?? ''} ${card.indicator}`;
@@ -131,6 +133,17 @@ describe('GET /metrics', () => {
     expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason })).toBe(1);
     expect(valueOf(all, 'oxygen_checker_overload_refusals_total', { reason: other })).toBeUndefined();
     expect(valueOf(all, 'oxygen_checker_http_requests_total', { route: 'service', status: String(status) })).toBe(1);
+  });
+
+  it('labels a hook call with its CDS service only when the id is one of ours, so the label stays a fixed set', async () => {
+    const { app } = await buildTestApp({}, { metrics: true });
+    expect((await request(app).post('/cds-services/lbgh-no-such-service').send(orderSignRequest())).status).toBe(404);
+    expect((await request(app).post(SERVICE).send(orderSignRequest())).status).toBe(200);
+    const { all } = await scrape(app);
+    const services = new Set(all.filter((sample) => sample.name === 'oxygen_checker_http_requests_total').map((sample) => sample.labels['service']));
+    expect(services).toStrictEqual(new Set([undefined, 'oxygen-order-sign']));
+    expect(valueOf(all, 'oxygen_checker_http_requests_total', { route: 'service', status: '404' })).toBe(1);
+    expect(all.some((sample) => JSON.stringify(sample.labels).includes('lbgh-no-such-service'))).toBe(false);
   });
 
   it('counts FHIR requests by outcome, never by URL', async () => {

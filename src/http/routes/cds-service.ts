@@ -50,6 +50,7 @@ export function serviceHandler(deps: ServiceRouteDeps): RouteHandler {
         break;
     }
     const { service, request } = parsed;
+    requestState(res).serviceId = service.id;
     // A fhirServer this client may not use is never called (server-side request forgery).
     const access = limitFhirAccess(request, authenticatedClient(res).fhirServers);
     // The token id is committed before any FHIR request carries the client's fhirAuthorization token
