@@ -148,6 +148,19 @@ describe('ports', () => {
   });
 });
 
+describe('metrics', () => {
+  // /metrics has no authentication (docs/security.md): where the deployment turns it on, the public
+  // side must not reach it.
+  it('are on in compose and Kubernetes, and the load balancer in front never forwards /metrics', () => {
+    for (const [name, service] of checkerServices()) {
+      expect(at(service, 'environment', 'OXYGEN_CHECKER_METRICS'), name).toBe('on');
+    }
+    expect(k8sEnv(CONTAINER).find((e) => e.name === 'OXYGEN_CHECKER_METRICS')?.value).toBe('on');
+    const blocked = /location\s*=\s*\/metrics\s*\{\s*(return\s+404|deny\s+all)\s*;\s*\}/.exec(readDockerFile('nginx.conf'));
+    expect(blocked, 'nginx.conf: location = /metrics { return 404; }').not.toBeNull();
+  });
+});
+
 describe('pods', () => {
   it('run as a user other than root, without privilege escalation', () => {
     for (const [file, pod] of [['deployment', POD], ['migration job', at(MIGRATION, 'spec', 'template', 'spec')]] as const) {
