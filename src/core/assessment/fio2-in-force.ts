@@ -6,14 +6,15 @@ import { ROOM_AIR_FIO2 } from '../physiology/constants.js';
 import type { Policy } from '../policy.js';
 import type { Facts, Measured, Outcome, OxygenOrder } from '../types.js';
 import type { Fio2InForce } from './types.js';
+import { readingMs } from '../time/reading-time.js';
 
 function nearest(items: readonly Measured[], atMs: number, windowMinutes: number): Measured | undefined {
   let best: Measured | undefined;
   let bestGap = Number.POSITIVE_INFINITY;
   for (const item of items) {
-    const gap = Math.abs(Date.parse(item.at) - atMs) / 60_000;
+    const gap = Math.abs(readingMs(item) - atMs) / 60_000;
     // Ties go to the earlier observation: what was running before the sample, not a change after it.
-    const earlierTie = gap === bestGap && best !== undefined && Date.parse(item.at) < Date.parse(best.at);
+    const earlierTie = gap === bestGap && best !== undefined && readingMs(item) < readingMs(best);
     if (gap <= windowMinutes && (gap < bestGap || earlierTie)) {
       best = item;
       bestGap = gap;

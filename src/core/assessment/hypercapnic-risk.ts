@@ -8,6 +8,7 @@ import type { BloodGas, ConditionKind, Facts } from '../types.js';
 import { newestFirst } from './current-values.js';
 import { formatDuration, formatGasValue, formatNumber, minutesBetween } from './format.js';
 import { classifyHypercapnia } from './hypercapnia-classification.js';
+import { readingMs, readWithin } from '../time/reading-time.js';
 import type { CurrentValues, HypercapnicRiskDecision, RiskReason } from './types.js';
 
 /** Conditions that, when documented, mean a previous episode of hypercapnic failure. */
@@ -99,11 +100,10 @@ export function assessHypercapnicRisk(
 
   const historyWindowMinutes = policy.freshness.previousHypercapniaDays * 24 * 60;
   const earlier = newestFirst([...facts.bloodGases, ...facts.historicBloodGases]).filter((g) => {
-    const age = minutesBetween(g.at, now);
-    return g !== gas && age !== undefined && age <= historyWindowMinutes;
+    return g !== gas && readWithin(g, now.getTime(), historyWindowMinutes);
   });
   const earlierHypercapnic = earlier.find(
-    (g) => isHypercapnic(g, policy) && (gas === undefined || Date.parse(g.at) < Date.parse(gas.at)),
+    (g) => isHypercapnic(g, policy) && (gas === undefined || readingMs(g) < readingMs(gas)),
   );
   if (earlierHypercapnic !== undefined) {
     previousFailure = true;
