@@ -332,12 +332,20 @@ export function computeGasInterpretation(
   if (gas === undefined) {
     return { kind: 'unknown', reason: 'no current blood gas', missing: ['blood gas'] };
   }
+  // The values the gas has, by assignment: a missing value is left out (the reading names what is
+  // missing), and a conditional spread per value would cost more than the reading itself.
+  const values: { ph?: number; paco2MmHg?: number; hco3MmolPerL?: number } = {};
+  if (gas.ph !== undefined) {
+    values.ph = gas.ph;
+  }
+  if (gas.paco2MmHg !== undefined) {
+    values.paco2MmHg = gas.paco2MmHg;
+  }
+  if (gas.hco3MmolPerL !== undefined) {
+    values.hco3MmolPerL = gas.hco3MmolPerL;
+  }
   return interpretBloodGas(
-    {
-      ...(gas.ph === undefined ? {} : { ph: gas.ph }),
-      ...(gas.paco2MmHg === undefined ? {} : { paco2MmHg: gas.paco2MmHg }),
-      ...(gas.hco3MmolPerL === undefined ? {} : { hco3MmolPerL: gas.hco3MmolPerL }),
-    },
+    values,
     {
       acidosisPhBelow: policy.thresholds.acidosisPhBelow,
       hypercapniaPaco2MmHg: policy.hypercapnicRisk.hypercapniaPaco2.mmHg,

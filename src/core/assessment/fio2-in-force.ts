@@ -1,6 +1,6 @@
 import type { DeliveryEstimate } from '../devices/types.js';
 import { stockedVenturiSettings } from '../devices/catalogue.js';
-import { estimateDelivery } from '../devices/index.js';
+import { deliveryInput, estimateDelivery } from '../devices/index.js';
 import type { VenturiSetting } from '../devices/venturi-mask.js';
 import { ROOM_AIR_FIO2 } from '../physiology/constants.js';
 import type { Policy } from '../policy.js';
@@ -53,12 +53,7 @@ function estimateAtRecordedFlow(
     return { kind: 'unknown', reason: 'device not recognised' };
   }
   const respRate = orderDelivery.kind === 'ok' ? orderDelivery.value.respRatePerMin : undefined;
-  return estimateDelivery(order.device, {
-    flowLPerMin,
-    ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
-    ...(respRate === undefined ? {} : { respRatePerMin: respRate }),
-    ...(venturiSettings.length === 0 ? {} : { venturiSettings }),
-  });
+  return estimateDelivery(order.device, deliveryInput(flowLPerMin, order.setFio2Fraction, respRate, venturiSettings));
 }
 
 /**
