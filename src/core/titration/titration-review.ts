@@ -1,5 +1,5 @@
 import { formatDuration, formatRange } from '../assessment/format.js';
-import type { Assessment } from '../assessment/types.js';
+import { oncePerAssessment, type AssessmentInputs } from '../assessment/once-per-assessment.js';
 import type { Policy } from '../policy.js';
 import { expectsTarget } from '../rules/support/order-purpose.js';
 import type { Computation, Facts, Measured, OxygenOrder, SaturationRange } from '../types.js';
@@ -69,19 +69,6 @@ export function oxygenSteps(facts: Facts, order: OxygenOrder, now: Date, minutes
   return { steps, onOxygenAtStart: !startedInWindow };
 }
 
-interface ReviewInput {
-  readonly facts: Facts;
-  readonly policy: Policy;
-  readonly assessment: Assessment;
-  readonly now: Date;
-}
-
-/** The last review built for each assessment, with the facts, policy and clock it was built from. */
-const builtReviews = new WeakMap<
-  Assessment,
-  { readonly facts: Facts; readonly policy: Policy; readonly nowMs: number; readonly review: TitrationReview | undefined }
->();
-
 /**
  * The review for the assessment's order, or undefined without an order that titrates to a target or
  * without a range to titrate to (no SpO2 target applies: CO poisoning, pneumothorax, cluster headache).
@@ -89,18 +76,9 @@ const builtReviews = new WeakMap<
  * to step down); it depends only on its inputs and is read-only, so the one built for an assessment is
  * served again while the facts, policy and clock are the same.
  */
-export function reviewTitration(input: ReviewInput): TitrationReview | undefined {
-  const nowMs = input.now.getTime();
-  const built = builtReviews.get(input.assessment);
-  if (built !== undefined && built.facts === input.facts && built.policy === input.policy && built.nowMs === nowMs) {
-    return built.review;
-  }
-  const review = buildReview(input);
-  builtReviews.set(input.assessment, { facts: input.facts, policy: input.policy, nowMs, review });
-  return review;
-}
+export const reviewTitration: (input: AssessmentInputs) => TitrationReview | undefined = oncePerAssessment(buildReview);
 
-function buildReview(input: ReviewInput): TitrationReview | undefined {
+function buildReview(input: AssessmentInputs): TitrationReview | undefined {
   const { facts, policy, assessment, now } = input;
   const { order, titrationTarget } = assessment;
   // Comfort, stop and room-air orders, and orders saying they have no SpO2 target, are not titrated.
