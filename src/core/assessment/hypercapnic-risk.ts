@@ -3,6 +3,7 @@ import {
   COMPENSATION_ALLOWANCE_MMOL_PER_L,
   expectedBicarbonateMmolPerL,
 } from '../physiology/index.js';
+import { oncePerObject } from '../once-per-object.js';
 import type { Policy } from '../policy.js';
 import type { BloodGas, ConditionKind, Facts } from '../types.js';
 import { newestFirst } from './current-values.js';
@@ -16,6 +17,11 @@ const PREVIOUS_FAILURE_CONDITIONS: Readonly<Partial<Record<ConditionKind, RiskRe
   'previous-niv-or-imv': 'previous-ventilation',
   'chronic-hypercapnic-respiratory-failure': 'previous-hypercapnic-failure',
 };
+
+/** The policy's at-risk conditions as a set, made once per policy (a policy is frozen once loaded). */
+const riskConditionSet = oncePerObject(
+  (conditions: readonly ConditionKind[]): ReadonlySet<ConditionKind> => new Set(conditions),
+);
 
 function describeGasPco2(gas: BloodGas, now: Date): string {
   const label = gas.specimen === 'arterial' ? 'PaCO2' : `${gas.specimen} PCO2`;
@@ -52,7 +58,7 @@ export function assessHypercapnicRisk(
   current: CurrentValues,
   now: Date,
 ): HypercapnicRiskDecision {
-  const riskConditions = new Set<ConditionKind>(policy.hypercapnicRisk.conditions);
+  const riskConditions = riskConditionSet(policy.hypercapnicRisk.conditions);
   const reasons: RiskReason[] = [];
   const seen = new Set<ConditionKind>();
   let previousFailure = false;
