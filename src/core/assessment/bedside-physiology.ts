@@ -28,6 +28,7 @@ import { ratioOverFio2Range } from './oxygenation-ratio.js';
 export const RICE_CUTOFFS: readonly number[] = [RICE_SF_CUTOFFS.pf200, RICE_SF_CUTOFFS.pf300];
 import type { Fio2InForce, PhysiologyResults } from './types.js';
 import { sortByTime } from '../time/sort-by-time.js';
+import { readingMs } from '../time/reading-time.js';
 
 /** S/F from the current SpO2 and the FiO2 in force when it was read (Rice 2007; not above 97 %). */
 export function computeSfRatio(
@@ -119,13 +120,13 @@ export function highFlowAtReading(
   if (spo2 === undefined) {
     return undefined;
   }
-  const readAt = Date.parse(spo2.at);
+  const readAt = readingMs(spo2);
   const isHighFlow = (o: OxygenOrder): boolean => o.device === 'high-flow-nasal-cannula';
   const onRecord = activeOrders.filter(isHighFlow);
   const subjectInForce =
     order !== undefined && isHighFlow(order) && order.authoredOn !== undefined && Date.parse(order.authoredOn) <= readAt;
   const recorded = recordedFlows.filter(
-    (flow) => tierShownByRecordedFlow(flow.value) === 'high-flow' && Date.parse(flow.at) <= readAt,
+    (flow) => tierShownByRecordedFlow(flow.value) === 'high-flow' && readingMs(flow) <= readAt,
   );
   const inForce = [...onRecord, ...(subjectInForce && order !== undefined ? [order] : [])];
   if (inForce.length === 0 && recorded.length === 0) {

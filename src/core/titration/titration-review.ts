@@ -98,7 +98,7 @@ function buildReview(input: AssessmentInputs): TitrationReview | undefined {
     onOxygenAtStart,
   });
   const latest = readings[readings.length - 1];
-  const latestMs = latest === undefined ? Number.NaN : Date.parse(latest.at);
+  const latestMs = latest === undefined ? Number.NaN : readingMs(latest);
   // The newest switch at or before the latest reading (oxygen wins a tie, as in timeInRange).
   const before = sortByTime(
     steps.filter((s) => Date.parse(s.at) <= latestMs),
@@ -127,7 +127,7 @@ export function gapBreakingRecentRun(
   review: TitrationReview,
   limits: { readonly maxGapMinutes: number; readonly minSpanMinutes: number; readonly minReadings: number },
 ): number | undefined {
-  const times = review.readings.map((m) => Date.parse(m.at)).filter((ms) => !Number.isNaN(ms));
+  const times = review.readings.map((m) => readingMs(m)).filter((ms) => !Number.isNaN(ms));
   const newest = times[times.length - 1];
   if (newest === undefined) {
     return undefined;
