@@ -1,15 +1,16 @@
-import { oncePerObject } from '../once-per-object.js';
 import { sortByTime } from './sort-by-time.js';
 
 /**
- * The instant a reading's `at` names, in epoch milliseconds (NaN when it does not parse), parsed once
- * per reading. A reading is read-only once the facts are built, so its time cannot change; the
- * assessment and the rules ask for the same readings' times many times a call (current values, the
- * FiO2 in force at each measurement, trends), and `Date.parse` of an ISO string costs about ten times
- * a WeakMap look-up. Times with no zone were given a "Z" where the facts were read (fhir-date.ts), so
- * the answer does not depend on the host's zone.
+ * The instant a reading's `at` names, in epoch milliseconds (NaN when it does not parse). The one place
+ * the core turns a reading's time into a number: times with no zone were given a "Z" where the facts
+ * were read (fhir-date.ts), so the answer does not depend on the host's zone. Not remembered per
+ * reading: each hook call reads new facts, and a WeakMap entry per reading cost more (in allocation and
+ * garbage collection) than the parses it saved. Were the facts to carry the epoch milliseconds the
+ * reader already has, this is where they would be read.
  */
-export const readingMs: (reading: { readonly at: string }) => number = oncePerObject((reading) => Date.parse(reading.at));
+export function readingMs(reading: { readonly at: string }): number {
+  return Date.parse(reading.at);
+}
 
 /**
  * True when `items` are already newest first by time, every time readable: the order the fact reader
