@@ -6,7 +6,7 @@ import type { Policy } from './policy.js';
 import { RULES } from './rules/index.js';
 import { changeUsesStock } from './devices/catalogue.js';
 import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
-import type { Rule } from './rules/support/rule-types.js';
+import type { Rule, RuleContext } from './rules/support/rule-types.js';
 import { findingGroupKey, sameFinding } from './same-finding.js';
 import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
 
@@ -82,6 +82,8 @@ function runRules(
   // for anyone run (data quality, order keeping, and the card saying local paediatric policy applies).
   const childOnly = assessment.population.kind === 'below-minimum-age';
   const noLowering = reasonNotToLowerOxygen(assessment) !== undefined;
+  // Every rule reads the same context (read-only), so it is made once per assessment, not per rule.
+  const context: RuleContext = { facts, policy, assessment, hook: options.hook, now: options.now };
   for (const rule of RULES_BY_HOOK.get(options.hook) ?? []) {
     if (disabled.has(rule.id)) {
       continue;
@@ -90,7 +92,7 @@ function runRules(
       continue;
     }
     const override = policy.severity[rule.id];
-    for (const made of rule.evaluate({ facts, policy, assessment, hook: options.hook, now: options.now })) {
+    for (const made of rule.evaluate(context)) {
       // One safety interlock for every rule: no one-click change lowers the oxygen while the patient
       // may be tiring or is below target (support/oxygen-lowering.ts). The card's advice stays.
       // And none offers a device or Venturi valve the hospital does not stock (policy `devices`).

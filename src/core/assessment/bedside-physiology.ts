@@ -28,6 +28,7 @@ import { ratioOverFio2Range } from './oxygenation-ratio.js';
 export const RICE_CUTOFFS: readonly number[] = [RICE_SF_CUTOFFS.pf200, RICE_SF_CUTOFFS.pf300];
 import type { Fio2InForce, PhysiologyResults } from './types.js';
 import { sortByTime } from '../time/sort-by-time.js';
+import { readingMs } from '../time/reading-time.js';
 
 /** S/F from the current SpO2 and the FiO2 in force when it was read (Rice 2007; not above 97 %). */
 export function computeSfRatio(
@@ -119,13 +120,13 @@ export function highFlowAtReading(
   if (spo2 === undefined) {
     return undefined;
   }
-  const readAt = Date.parse(spo2.at);
+  const readAt = readingMs(spo2);
   const isHighFlow = (o: OxygenOrder): boolean => o.device === 'high-flow-nasal-cannula';
   const onRecord = activeOrders.filter(isHighFlow);
   const subjectInForce =
     order !== undefined && isHighFlow(order) && order.authoredOn !== undefined && Date.parse(order.authoredOn) <= readAt;
   const recorded = recordedFlows.filter(
-    (flow) => tierShownByRecordedFlow(flow.value) === 'high-flow' && Date.parse(flow.at) <= readAt,
+    (flow) => tierShownByRecordedFlow(flow.value) === 'high-flow' && readingMs(flow) <= readAt,
   );
   const inForce = [...onRecord, ...(subjectInForce && order !== undefined ? [order] : [])];
   if (inForce.length === 0 && recorded.length === 0) {
@@ -332,12 +333,20 @@ export function computeGasInterpretation(
   if (gas === undefined) {
     return { kind: 'unknown', reason: 'no current blood gas', missing: ['blood gas'] };
   }
+  // The values the gas has, by assignment: a missing value is left out (the reading names what is
+  // missing), and a conditional spread per value would cost more than the reading itself.
+  const values: { ph?: number; paco2MmHg?: number; hco3MmolPerL?: number } = {};
+  if (gas.ph !== undefined) {
+    values.ph = gas.ph;
+  }
+  if (gas.paco2MmHg !== undefined) {
+    values.paco2MmHg = gas.paco2MmHg;
+  }
+  if (gas.hco3MmolPerL !== undefined) {
+    values.hco3MmolPerL = gas.hco3MmolPerL;
+  }
   return interpretBloodGas(
-    {
-      ...(gas.ph === undefined ? {} : { ph: gas.ph }),
-      ...(gas.paco2MmHg === undefined ? {} : { paco2MmHg: gas.paco2MmHg }),
-      ...(gas.hco3MmolPerL === undefined ? {} : { hco3MmolPerL: gas.hco3MmolPerL }),
-    },
+    values,
     {
       acidosisPhBelow: policy.thresholds.acidosisPhBelow,
       hypercapniaPaco2MmHg: policy.hypercapnicRisk.hypercapniaPaco2.mmHg,

@@ -1,6 +1,6 @@
 import { oncePerObject } from '../once-per-object.js';
 import { stockedVenturiSettings } from '../devices/catalogue.js';
-import { estimateDelivery } from '../devices/index.js';
+import { deliveryInput, estimateDelivery } from '../devices/index.js';
 import type { DeliveryEstimate } from '../devices/types.js';
 import type { VenturiSetting } from '../devices/venturi-mask.js';
 import { siteBarometricPressureMmHg } from '../physiology/index.js';
@@ -88,12 +88,10 @@ export function estimateOrderDelivery(
       missing: ['device'],
     };
   }
-  return estimateDelivery(order.device, {
-    ...(order.flowLPerMin === undefined ? {} : { flowLPerMin: order.flowLPerMin }),
-    ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
-    ...(current.respRate === undefined ? {} : { respRatePerMin: current.respRate.value }),
-    ...(venturiSettings.length === 0 ? {} : { venturiSettings }),
-  });
+  return estimateDelivery(
+    order.device,
+    deliveryInput(order.flowLPerMin, order.setFio2Fraction, current.respRate?.value, venturiSettings),
+  );
 }
 
 /**

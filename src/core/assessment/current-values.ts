@@ -2,6 +2,7 @@ import type { Policy } from '../policy.js';
 import type { BloodGas, Facts, Measured } from '../types.js';
 import { minutesBetween } from './format.js';
 import type { CurrentValues } from './types.js';
+import { isNewestFirst, readWithin } from '../time/reading-time.js';
 import { sortByTime } from '../time/sort-by-time.js';
 
 /** True when `at` is no older than `windowMinutes` before `now` (a slightly future time counts). */
@@ -10,9 +11,12 @@ export function isWithin(at: string, now: Date, windowMinutes: number): boolean 
   return age !== undefined && age <= windowMinutes;
 }
 
-/** Sorted most recent first; the reader promises this order, but the core does not rely on it. */
+/**
+ * Sorted most recent first; the reader promises this order, but the core does not rely on it. A list
+ * already in that order is returned as it is (a stable sort would not move anything).
+ */
 export function newestFirst<T extends { readonly at: string }>(items: readonly T[]): readonly T[] {
-  return sortByTime(items, (item) => item.at, 'newest-first');
+  return isNewestFirst(items) ? items : sortByTime(items, (item) => item.at, 'newest-first');
 }
 
 function latestWithin<T extends { readonly at: string }>(
@@ -20,7 +24,8 @@ function latestWithin<T extends { readonly at: string }>(
   now: Date,
   windowMinutes: number,
 ): T | undefined {
-  return newestFirst(items).find((item) => isWithin(item.at, now, windowMinutes));
+  const nowMs = now.getTime();
+  return newestFirst(items).find((item) => readWithin(item, nowMs, windowMinutes));
 }
 
 /** The first of `tiers` that finds a gas within the window, else undefined. */

@@ -1,19 +1,20 @@
 import type { DeliveryEstimate } from '../devices/types.js';
 import { stockedVenturiSettings } from '../devices/catalogue.js';
-import { estimateDelivery } from '../devices/index.js';
+import { deliveryInput, estimateDelivery } from '../devices/index.js';
 import type { VenturiSetting } from '../devices/venturi-mask.js';
 import { ROOM_AIR_FIO2 } from '../physiology/constants.js';
 import type { Policy } from '../policy.js';
 import type { Facts, Measured, Outcome, OxygenOrder } from '../types.js';
 import type { Fio2InForce } from './types.js';
+import { readingMs } from '../time/reading-time.js';
 
 function nearest(items: readonly Measured[], atMs: number, windowMinutes: number): Measured | undefined {
   let best: Measured | undefined;
   let bestGap = Number.POSITIVE_INFINITY;
   for (const item of items) {
-    const gap = Math.abs(Date.parse(item.at) - atMs) / 60_000;
+    const gap = Math.abs(readingMs(item) - atMs) / 60_000;
     // Ties go to the earlier observation: what was running before the sample, not a change after it.
-    const earlierTie = gap === bestGap && best !== undefined && Date.parse(item.at) < Date.parse(best.at);
+    const earlierTie = gap === bestGap && best !== undefined && readingMs(item) < readingMs(best);
     if (gap <= windowMinutes && (gap < bestGap || earlierTie)) {
       best = item;
       bestGap = gap;
@@ -27,7 +28,10 @@ function fromDelivery(
   basis: 'recorded-flow' | 'order-estimate',
   at: string | undefined,
 ): Fio2InForce {
-  return { ...delivery.fio2, basis, at, onAir: false, source: delivery.fio2Source, delivery };
+  // Field by field rather than by spreading `delivery.fio2`: a spread followed by more fields costs
+  // microseconds a call in V8, and this runs for every measurement the assessment matches an FiO2 to.
+  const { estimate, low, high } = delivery.fio2;
+  return { estimate, low, high, basis, at, onAir: false, source: delivery.fio2Source, delivery };
 }
 
 /**
@@ -49,12 +53,7 @@ function estimateAtRecordedFlow(
     return { kind: 'unknown', reason: 'device not recognised' };
   }
   const respRate = orderDelivery.kind === 'ok' ? orderDelivery.value.respRatePerMin : undefined;
-  return estimateDelivery(order.device, {
-    flowLPerMin,
-    ...(order.setFio2Fraction === undefined ? {} : { setFio2Fraction: order.setFio2Fraction }),
-    ...(respRate === undefined ? {} : { respRatePerMin: respRate }),
-    ...(venturiSettings.length === 0 ? {} : { venturiSettings }),
-  });
+  return estimateDelivery(order.device, deliveryInput(flowLPerMin, order.setFio2Fraction, respRate, venturiSettings));
 }
 
 /**

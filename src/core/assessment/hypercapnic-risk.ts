@@ -3,11 +3,13 @@ import {
   COMPENSATION_ALLOWANCE_MMOL_PER_L,
   expectedBicarbonateMmolPerL,
 } from '../physiology/index.js';
+import { oncePerObject } from '../once-per-object.js';
 import type { Policy } from '../policy.js';
 import type { BloodGas, ConditionKind, Facts } from '../types.js';
 import { newestFirst } from './current-values.js';
 import { formatDuration, formatGasValue, formatNumber, minutesBetween } from './format.js';
 import { classifyHypercapnia } from './hypercapnia-classification.js';
+import { readingMs, readWithin } from '../time/reading-time.js';
 import type { CurrentValues, HypercapnicRiskDecision, RiskReason } from './types.js';
 
 /** Conditions that, when documented, mean a previous episode of hypercapnic failure. */
@@ -15,6 +17,11 @@ const PREVIOUS_FAILURE_CONDITIONS: Readonly<Partial<Record<ConditionKind, RiskRe
   'previous-niv-or-imv': 'previous-ventilation',
   'chronic-hypercapnic-respiratory-failure': 'previous-hypercapnic-failure',
 };
+
+/** The policy's at-risk conditions as a set, made once per policy (a policy is frozen once loaded). */
+const riskConditionSet = oncePerObject(
+  (conditions: readonly ConditionKind[]): ReadonlySet<ConditionKind> => new Set(conditions),
+);
 
 function describeGasPco2(gas: BloodGas, now: Date): string {
   const label = gas.specimen === 'arterial' ? 'PaCO2' : `${gas.specimen} PCO2`;
@@ -51,7 +58,7 @@ export function assessHypercapnicRisk(
   current: CurrentValues,
   now: Date,
 ): HypercapnicRiskDecision {
-  const riskConditions = new Set<ConditionKind>(policy.hypercapnicRisk.conditions);
+  const riskConditions = riskConditionSet(policy.hypercapnicRisk.conditions);
   const reasons: RiskReason[] = [];
   const seen = new Set<ConditionKind>();
   let previousFailure = false;
@@ -99,11 +106,10 @@ export function assessHypercapnicRisk(
 
   const historyWindowMinutes = policy.freshness.previousHypercapniaDays * 24 * 60;
   const earlier = newestFirst([...facts.bloodGases, ...facts.historicBloodGases]).filter((g) => {
-    const age = minutesBetween(g.at, now);
-    return g !== gas && age !== undefined && age <= historyWindowMinutes;
+    return g !== gas && readWithin(g, now.getTime(), historyWindowMinutes);
   });
   const earlierHypercapnic = earlier.find(
-    (g) => isHypercapnic(g, policy) && (gas === undefined || Date.parse(g.at) < Date.parse(gas.at)),
+    (g) => isHypercapnic(g, policy) && (gas === undefined || readingMs(g) < readingMs(gas)),
   );
   if (earlierHypercapnic !== undefined) {
     previousFailure = true;

@@ -178,7 +178,7 @@ export function interpretBloodGas(
   };
   const decision = hypercapnic
     ? decideHypercapnic(reading)
-    : decideNormocapnic({ ...reading, hypocapnic: paco2 < edges.hypocapniaBelow });
+    : decideNormocapnic(reading, paco2 < edges.hypocapniaBelow);
   const bicarbonateWords = lowBicarbonate
     ? 'low'
     : raisedBicarbonate
@@ -256,7 +256,7 @@ function decideHypercapnic(r: Reading): Decision {
   };
 }
 
-function decideNormocapnic(r: Reading & { readonly hypocapnic: boolean }): Decision {
+function decideNormocapnic(r: Reading, hypocapnic: boolean): Decision {
   if (r.acidaemic) {
     if (!r.lowBicarbonate) {
       return { acidBase: 'mixed', note: ' (acidaemia with PaCO2 and bicarbonate in range)' };
@@ -272,10 +272,10 @@ function decideNormocapnic(r: Reading & { readonly hypocapnic: boolean }): Decis
     return { acidBase: 'metabolic-acidosis', note: '' };
   }
   if (r.alkalaemic) {
-    if (r.hypocapnic && r.raisedBicarbonate) {
+    if (hypocapnic && r.raisedBicarbonate) {
       return { acidBase: 'mixed', note: ' (respiratory and metabolic alkalosis)' };
     }
-    if (r.hypocapnic) {
+    if (hypocapnic) {
       return { acidBase: 'respiratory-alkalosis', note: '' };
     }
     if (r.raisedBicarbonate) {
@@ -283,7 +283,7 @@ function decideNormocapnic(r: Reading & { readonly hypocapnic: boolean }): Decis
     }
     return { acidBase: 'mixed', note: ' (alkalaemia with PaCO2 and bicarbonate in range)' };
   }
-  if (r.hypocapnic && r.lowBicarbonate) {
+  if (hypocapnic && r.lowBicarbonate) {
     return r.ph < NEUTRAL_PH
       ? { acidBase: 'metabolic-acidosis', note: ' (compensated)' }
       : { acidBase: 'respiratory-alkalosis', note: ' (compensated)' };

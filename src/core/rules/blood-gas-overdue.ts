@@ -7,6 +7,7 @@ import { makeFinding } from './support/make-finding.js';
 import { givesOxygen } from './support/order-purpose.js';
 import { repeatGasWindow } from './support/repeat-gas-window.js';
 import type { Rule } from './support/rule-types.js';
+import { readingMs } from '../time/reading-time.js';
 
 /** Devices on which a higher recorded flow gives more oxygen; on a Venturi or high flow it does not. */
 const FLOW_RAISES_OXYGEN: readonly (DeviceKind | undefined)[] = [
@@ -40,7 +41,7 @@ function latestRaise(facts: Facts, order: OxygenOrder, now: Date, windowMinutes:
   for (const [i, reading] of fio2.entries()) {
     const before = fio2[i - 1];
     if (before !== undefined && reading.value - before.value >= FIO2_STEP_AT_LEAST) {
-      raises.push({ atMs: Date.parse(reading.at), what: `recorded FiO2 raised ${formatFraction(before.value)} → ${formatFraction(reading.value)}` });
+      raises.push({ atMs: readingMs(reading), what: `recorded FiO2 raised ${formatFraction(before.value)} → ${formatFraction(reading.value)}` });
     }
   }
   const flows = readingsInWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes);
@@ -48,7 +49,7 @@ function latestRaise(facts: Facts, order: OxygenOrder, now: Date, windowMinutes:
     const before = flows[i - 1];
     const restarted = before?.value === 0 && reading.value > 0;
     if (before !== undefined && reading.value > before.value && (restarted || FLOW_RAISES_OXYGEN.includes(order.device))) {
-      raises.push({ atMs: Date.parse(reading.at), what: `recorded O2 flow raised ${formatFlow(before.value)} → ${formatFlow(reading.value)}` });
+      raises.push({ atMs: readingMs(reading), what: `recorded O2 flow raised ${formatFlow(before.value)} → ${formatFlow(reading.value)}` });
     }
   }
   return raises.sort((a, b) => b.atMs - a.atMs)[0];
@@ -83,7 +84,7 @@ export const rule: Rule = {
       return [];
     }
     const latestGas = newestFirst([...facts.bloodGases, ...facts.historicBloodGases])[0];
-    if (latestGas !== undefined && Date.parse(latestGas.at) >= raise.atMs) {
+    if (latestGas !== undefined && readingMs(latestGas) >= raise.atMs) {
       return [];
     }
     const window = repeatGasWindow(raise.atMs, now, policy.thresholds.repeatGasMinutes);

@@ -11,6 +11,7 @@ import { describeAge, describeMeasured, describeOrder } from './support/describe
 import { makeFinding } from './support/make-finding.js';
 import { givesOxygen } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
+import { readingMs } from '../time/reading-time.js';
 
 /** Two FiO2 figures closer than this are the same oxygen (the estimates carry two decimals). */
 const SAME_FIO2_WITHIN = 0.005;
@@ -62,7 +63,7 @@ function findReduction(order: OxygenOrder, assessment: Assessment, facts: Facts,
     spo2At === undefined
       ? undefined
       : newestFirst(facts.fio2Fraction).find(
-          (f) => Date.parse(f.at) >= Date.parse(spo2At) && Date.parse(f.at) <= now.getTime() && f.value > ROOM_AIR_FIO2 + SAME_FIO2_WITHIN,
+          (f) => readingMs(f) >= Date.parse(spo2At) && readingMs(f) <= now.getTime() && f.value > ROOM_AIR_FIO2 + SAME_FIO2_WITHIN,
         );
 
   // 1. A lower level of support (devices/device-tier.ts); a stop or room-air order is below every tier.

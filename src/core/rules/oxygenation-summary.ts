@@ -39,6 +39,9 @@ const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
   'below-235': `at or below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F 200 or less)`,
 };
 
+/** How the gas line names each value. */
+const GAS_LABELS = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' } as const;
+
 const ROX_CUTOFFS = [ROX_LOW_RISK_AT_LEAST, ...Object.values(ROX_HIGH_RISK_BELOW)] as const;
 
 /**
@@ -207,7 +210,7 @@ export const rule: Rule = {
             `${gas.specimen} ${describeAge(gas.at, now)}`,
             ...(['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((c) => {
               const shown = formatGasValue(gas, c);
-              const label = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' }[c];
+              const label = GAS_LABELS[c];
               return shown === undefined ? [] : [`${label} ${shown}`];
             }),
           ].join(', ') + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');

@@ -7,6 +7,7 @@ import { makeFinding } from './support/make-finding.js';
 import { repeatGasWindow } from './support/repeat-gas-window.js';
 import type { Rule } from './support/rule-types.js';
 import { citedGuidelineLabel } from './support/cited-guideline.js';
+import { readingMs } from '../time/reading-time.js';
 
 /**
  * A patient at risk of hypercapnic respiratory failure (including one re-targeted after a normal gas)
@@ -41,7 +42,7 @@ export const rule: Rule = {
     const flowChangedAt = changeIndex < 0 ? undefined : Date.parse(flows[changeIndex]?.at ?? '');
     const changedAt = Math.max(orderedAt, flowChangedAt ?? Number.NEGATIVE_INFINITY);
     const latestGas = newestFirst([...facts.bloodGases, ...facts.historicBloodGases])[0];
-    if (latestGas !== undefined && Date.parse(latestGas.at) >= changedAt) {
+    if (latestGas !== undefined && readingMs(latestGas) >= changedAt) {
       return [];
     }
     const { repeatWindow, closesIn, dueWindow } = repeatGasWindow(changedAt, now, policy.thresholds.repeatGasMinutes);

@@ -9,6 +9,7 @@ import { makeFinding } from './support/make-finding.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { keepTier, patientSupportTier } from './support/support-tier.js';
+import { readingMs } from '../time/reading-time.js';
 
 /** Devices at or near the top of ward oxygen delivery: escalating beyond them needs a senior decision. */
 const TOP_OF_WARD_DEVICES: readonly DeviceKind[] = ['reservoir-mask', 'high-flow-nasal-cannula', 'cpap-niv'];
@@ -70,7 +71,7 @@ export const rule: Rule = {
     const isMaskOrNiv = (o: OxygenOrder): boolean => o.device === 'reservoir-mask' || o.device === 'cpap-niv';
     // Only what the patient was on when the SpO2 was read makes a low reading critical: a new order
     // for high flow or NIV is the response to the reading, not a sign that it has already failed.
-    const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
+    const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= readingMs(spo2);
     // High flow is read from an order in force or a recorded flow only high flow reaches.
     const highFlow = highFlowAtReading(facts.activeOrders, order, facts.o2FlowLPerMin, spo2, now);
     const highFlowFio2 = highFlow === undefined ? undefined : highFlowFio2InWords(assessment, highFlow);

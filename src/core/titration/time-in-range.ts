@@ -1,4 +1,5 @@
 import type { Measured, SaturationRange } from '../types.js';
+import { readingMs } from '../time/reading-time.js';
 
 /**
  * Time in, above and below an SpO2 target range over a look-back window, from spot readings.
@@ -62,7 +63,7 @@ interface Timed {
 
 function timed(items: readonly { readonly at: string; readonly value: number }[]): Timed[] {
   return items
-    .map((item) => ({ ms: Date.parse(item.at), value: item.value }))
+    .map((item) => ({ ms: readingMs(item), value: item.value }))
     .filter((item) => !Number.isNaN(item.ms) && Number.isFinite(item.value));
 }
 
@@ -89,7 +90,7 @@ export function timeInRange(input: TimeInRangeInput): TimeInRange {
     // Air before oxygen at one instant, so oxygen is the state left standing.
     .sort((a, b) => a.ms - b.ms || Number(a.onOxygen) - Number(b.onOxygen));
   // Oldest first; at one instant the higher first, so the lower is the one that stands.
-  const readings = timed(input.readings.map((m) => ({ at: m.at, value: m.value })))
+  const readings = timed(input.readings)
     .filter((r) => r.ms >= startMs && r.ms <= endMs)
     .sort((a, b) => a.ms - b.ms || b.value - a.value);
 

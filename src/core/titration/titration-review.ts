@@ -1,13 +1,14 @@
 import { formatDuration, formatRange } from '../assessment/format.js';
-import type { Assessment } from '../assessment/types.js';
+import { oncePerAssessment, type AssessmentInputs } from '../assessment/once-per-assessment.js';
 import type { Policy } from '../policy.js';
 import { expectsTarget } from '../rules/support/order-purpose.js';
 import type { Computation, Facts, Measured, OxygenOrder, SaturationRange } from '../types.js';
 import { timeInRange, type OxygenStep, type TimeInRange } from './time-in-range.js';
+import { oldestFirst, readingMs } from '../time/reading-time.js';
 import { sortByTime } from '../time/sort-by-time.js';
 
 /**
- * What the titration review on `patient-view` looks at, built once per rule from the facts: the SpO2
+ * What the titration review on `patient-view` looks at, built once per assessment from the facts: the SpO2
  * readings of the look-back window (`titrationReview.lookbackHours`), the oxygen or air they were taken
  * on, the range titrated to (the assessment's titration target: the ordered range, or the one the
  * policy selects for this patient) and the time in, above and below it. Pure.
@@ -30,11 +31,12 @@ const AIR_FIO2_AT_MOST = 0.215;
 export function readingsInWindow(items: readonly Measured[], now: Date, minutes: number): Measured[] {
   const end = now.getTime();
   const start = end - minutes * 60_000;
-  const kept = items.filter((m) => {
-    const at = Date.parse(m.at);
-    return !Number.isNaN(at) && at >= start && at <= end;
-  });
-  return sortByTime(kept, (m) => m.at, 'oldest-first');
+  return oldestFirst(
+    items.filter((m) => {
+      const at = readingMs(m);
+      return !Number.isNaN(at) && at >= start && at <= end;
+    }),
+  );
 }
 
 /** Switches between oxygen and air seen in recorded FiO2 (above 0.21: oxygen) and flow (above 0: oxygen). */
@@ -70,13 +72,13 @@ export function oxygenSteps(facts: Facts, order: OxygenOrder, now: Date, minutes
 /**
  * The review for the assessment's order, or undefined without an order that titrates to a target or
  * without a range to titrate to (no SpO2 target applies: CO poisoning, pneumothorax, cluster headache).
+ * Three rules read it on every patient-view call (time below target, time above target on oxygen, ready
+ * to step down); it depends only on its inputs and is read-only, so the one built for an assessment is
+ * served again while the facts, policy and clock are the same.
  */
-export function reviewTitration(input: {
-  readonly facts: Facts;
-  readonly policy: Policy;
-  readonly assessment: Assessment;
-  readonly now: Date;
-}): TitrationReview | undefined {
+export const reviewTitration: (input: AssessmentInputs) => TitrationReview | undefined = oncePerAssessment(buildReview);
+
+function buildReview(input: AssessmentInputs): TitrationReview | undefined {
   const { facts, policy, assessment, now } = input;
   const { order, titrationTarget } = assessment;
   // Comfort, stop and room-air orders, and orders saying they have no SpO2 target, are not titrated.
@@ -96,7 +98,7 @@ export function reviewTitration(input: {
     onOxygenAtStart,
   });
   const latest = readings[readings.length - 1];
-  const latestMs = latest === undefined ? Number.NaN : Date.parse(latest.at);
+  const latestMs = latest === undefined ? Number.NaN : readingMs(latest);
   // The newest switch at or before the latest reading (oxygen wins a tie, as in timeInRange).
   const before = sortByTime(
     steps.filter((s) => Date.parse(s.at) <= latestMs),
@@ -125,7 +127,7 @@ export function gapBreakingRecentRun(
   review: TitrationReview,
   limits: { readonly maxGapMinutes: number; readonly minSpanMinutes: number; readonly minReadings: number },
 ): number | undefined {
-  const times = review.readings.map((m) => Date.parse(m.at)).filter((ms) => !Number.isNaN(ms));
+  const times = review.readings.map((m) => readingMs(m)).filter((ms) => !Number.isNaN(ms));
   const newest = times[times.length - 1];
   if (newest === undefined) {
     return undefined;

@@ -44,4 +44,20 @@ describe('reviewTitration', () => {
     expect(review(reviewFacts({ order: { purpose: 'comfort' }, spo2: [[90, 10]] }))).toBeUndefined();
     expect(review(reviewFacts({ order: { purpose: 'stop' }, spo2: [[90, 10]] }))).toBeUndefined();
   });
+
+  it('is the same review for every rule of one run, and a fresh one when the clock or facts move on', () => {
+    // 96 % at 180, 120, 60 and 10 min ago on 3 L/min, the first case above: 180 min in range of 8 h.
+    const facts = reviewFacts({ spo2: steady(96, [180, 120, 60, 10]), flows: steady(3, [180, 120, 60, 10]) });
+    const assessment = buildAssessment(facts, BTS, { now: NOW });
+    const first = reviewTitration({ facts, policy: BTS, assessment, now: NOW });
+    expect(reviewTitration({ facts, policy: BTS, assessment, now: new Date(NOW.getTime()) })).toBe(first);
+    // Seven hours on, the readings of 180 and 120 min ago (10 h and 9 h old) are outside the 8 h window:
+    // 60 min ago holds 50 min, 10 min ago holds the 120-min cap (titrationReview.maxReadingHoldMinutes).
+    const later = reviewTitration({ facts, policy: BTS, assessment, now: new Date(NOW.getTime() + 7 * 3_600_000) });
+    expect(later?.readings.length).toBe(2);
+    expect(later?.time.inRangeMinutes).toBe(170);
+    const fewer = reviewFacts({ spo2: steady(96, [60, 10]), flows: steady(3, [60, 10]) });
+    expect(reviewTitration({ facts: fewer, policy: BTS, assessment, now: NOW })?.readings.length).toBe(2);
+    expect(reviewTitration({ facts, policy: BTS, assessment, now: NOW })?.readings.length).toBe(4);
+  });
 });

@@ -9,6 +9,7 @@ import {
 import type { Assessment } from '../../assessment/types.js';
 import { DEVICE_MODELS } from '../../devices/index.js';
 import type { Computation, ConditionFact, ConditionKind, DeviceKind, Facts, Measured, OxygenOrder } from '../../types.js';
+import { readingMs } from '../../time/reading-time.js';
 
 /** "Nasal cannula" for a known kind, the order's own words otherwise. */
 export function deviceLabel(kind: DeviceKind | undefined, text?: string): string {
@@ -103,7 +104,7 @@ export function readOnOxygen(assessment: Assessment, facts: Facts): boolean | un
     return true;
   }
   const authored = assessment.order?.authoredOn;
-  if (spo2 !== undefined && authored !== undefined && Date.parse(authored) <= Date.parse(spo2.at)) {
+  if (spo2 !== undefined && authored !== undefined && Date.parse(authored) <= readingMs(spo2)) {
     return true;
   }
   return undefined;

@@ -1,6 +1,8 @@
 import { highFlowAtReading, highFlowFio2AtReading } from '../../assessment/bedside-physiology.js';
 import type { HighFlowAtReading } from '../../assessment/bedside-physiology.js';
+import { oncePerAssessment } from '../../assessment/once-per-assessment.js';
 import type { Assessment } from '../../assessment/types.js';
+import { readingMs } from '../../time/reading-time.js';
 import type { Policy } from '../../policy.js';
 import type { Facts, Measured, OxygenOrder, SaturationRange } from '../../types.js';
 
@@ -37,9 +39,12 @@ export function highFlowFio2InWords(
 
 function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boolean {
   const isNiv = (o: OxygenOrder): boolean => o.device === 'cpap-niv';
-  const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= Date.parse(spo2.at);
+  const orderInForce = order.authoredOn !== undefined && Date.parse(order.authoredOn) <= readingMs(spo2);
   return facts.activeOrders.some(isNiv) || (orderInForce && isNiv(order));
 }
+
+/** Five rules ask on every order-sign call; the answer depends on the assessment's inputs alone. */
+const failureOnce = oncePerAssessment(({ assessment, facts, policy, now }) => workOutFailure(assessment, facts, policy, now));
 
 /**
  * Whether the patient is failing escalated support: the current SpO2 is below the titration target
@@ -50,6 +55,15 @@ function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boole
  * Not for comfort orders (no titration) or where no SpO2 target applies.
  */
 export function findEscalatedSupportFailure(
+  assessment: Assessment,
+  facts: Facts,
+  policy: Policy,
+  now: Date,
+): EscalatedSupportFailure | undefined {
+  return failureOnce({ assessment, facts, policy, now });
+}
+
+function workOutFailure(
   assessment: Assessment,
   facts: Facts,
   policy: Policy,

@@ -1,9 +1,8 @@
-import { isWithin } from '../../assessment/current-values.js';
 import { formatFlow, formatFraction } from '../../assessment/format.js';
 import { DEVICE_MODELS } from '../../devices/index.js';
 import type { DeviceKind, Facts, Measured, OxygenOrder } from '../../types.js';
 import { deviceLabel } from './describe.js';
-import { sortByTime } from '../../time/sort-by-time.js';
+import { oldestFirst, readingMs, readWithin } from '../../time/reading-time.js';
 
 /**
  * The oxygen given over a window, compared end to end, shared by rising-oxygen-need (order-sign and
@@ -20,8 +19,8 @@ const FLOW_SETS_OXYGEN: readonly DeviceKind[] = ['nasal-cannula', 'simple-face-m
 
 /** Oldest first, within the trend window and not in the future. */
 export function inWindow(items: readonly Measured[], now: Date, windowMinutes: number): readonly Measured[] {
-  const kept = items.filter((m) => isWithin(m.at, now, windowMinutes) && Date.parse(m.at) <= now.getTime());
-  return sortByTime(kept, (m) => m.at, 'oldest-first');
+  const nowMs = now.getTime();
+  return oldestFirst(items.filter((m) => readWithin(m, nowMs, windowMinutes) && readingMs(m) <= nowMs));
 }
 
 /** The oxygen given at the two ends of the window, in one comparable measure. */
@@ -106,7 +105,7 @@ export function oxygenTrend(
  */
 function unchangedByOrder(facts: Facts, since: Measured): boolean {
   const written = facts.activeOrders.map((o) => (o.authoredOn === undefined ? Number.NaN : Date.parse(o.authoredOn)));
-  return written.length === 1 && written.every((t) => !Number.isNaN(t) && t <= Date.parse(since.at));
+  return written.length === 1 && written.every((t) => !Number.isNaN(t) && t <= readingMs(since));
 }
 
 /** A rising oxygen need found over a window, with what the card says about it. */
