@@ -11,6 +11,7 @@ import { makeTempDataDir } from '../helpers/temp-store.js';
 import { createMemoryLog } from '../log/memory-log.js';
 import { EHR_ES384, EHR_ISS } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
+import { larkspurTrustYaml } from './support/trust-file.js';
 
 /** Start-up in both modes, through the same `startServer` the process entry point calls. */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -21,16 +22,7 @@ let trustPath: string;
 beforeAll(async () => {
   dir = await mkdtemp(join(tmpdir(), 'oxygen-order-checker-server-'));
   trustPath = join(dir, 'trust.yaml');
-  await writeFile(
-    trustPath,
-    [
-      'clients:',
-      `  - iss: ${EHR_ISS}`,
-      `    jwks: { keys: [${JSON.stringify(EHR_ES384.publicJwk)}] }`,
-      '    fhirServers: [ https://fhir.larkspur-bay.example/r4 ]',
-      '',
-    ].join('\n'),
-  );
+  await writeFile(trustPath, larkspurTrustYaml());
 });
 
 afterAll(async () => {

@@ -1,6 +1,6 @@
-import { randomBytes, randomUUID } from 'node:crypto';
+import { randomUUID } from 'node:crypto';
 import { request } from 'node:http';
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -10,8 +10,10 @@ import { requestMoment, retimeRequest } from '../../src/cli/retime-request.js';
 import { larkspurPolicy, policyFolder, type PolicyFolder } from '../live-policy/support/policy-files.js';
 import { EHR_ES384, EHR_ISS } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
-import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from '../store/support/store-kinds.js';
+import { createScratchDatabase, type ScratchDatabase } from '../store/support/scratch-database.js';
+import { POSTGRES_SKIP_REASON } from '../store/support/store-kinds.js';
 import { killServerProcesses, runServerProcess, type ServerProcess } from './support/server-process.js';
+import { writeLarkspurTrustFile } from './support/trust-file.js';
 
 /**
  * `OXYGEN_CHECKER_WORKERS=2`: one primary and two worker processes sharing one port, on the embedded
@@ -135,21 +137,6 @@ function postFeedback(url: string, card: string, outcomeTimestamp: string): Prom
   });
 }
 
-function writeTrustFile(dir: string): string {
-  const path = join(dir, 'trust.yaml');
-  writeFileSync(
-    path,
-    [
-      'clients:',
-      `  - iss: ${EHR_ISS}`,
-      `    jwks: { keys: [${JSON.stringify(EHR_ES384.publicJwk)}] }`,
-      '    fhirServers: [ https://fhir.larkspur-bay.example/r4 ]',
-      '',
-    ].join('\n'),
-  );
-  return path;
-}
-
 /** Uses `jwt` once, then again until a worker other than the first one's has refused it (401 each time). */
 async function expectReplayRefusedElsewhere(service: ServerProcess, url: string, jwt: string): Promise<void> {
   const first = await call(url, '/cds-services', { headers: bearer(jwt) });
@@ -173,7 +160,7 @@ describe('two worker processes sharing one port and one SQLite store', () => {
 
   beforeAll(async () => {
     dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-cluster-'));
-    writeTrustFile(dir);
+    writeLarkspurTrustFile(dir);
     folder = policyFolder(larkspurPolicy('1.0.0'));
     // No secret files given: the primary creates them in the data directory once, before forking.
     service = runServerProcess({
@@ -353,24 +340,17 @@ describe('a cluster whose settings are wrong', () => {
 
 describe('two worker processes sharing one port and one PostgreSQL database', () => {
   let dir = '';
-  let admin: pg.Client | undefined;
-  let database = '';
+  let scratch: ScratchDatabase | undefined;
   let databaseUrl = '';
 
   beforeAll(async () => {
     if (POSTGRES_SKIP_REASON !== undefined) {
       return;
     }
-    const url = requireTestDatabaseUrl();
-    admin = new pg.Client({ connectionString: url });
-    await admin.connect();
-    database = `cluster_test_${randomBytes(6).toString('hex')}`;
-    await admin.query(`CREATE DATABASE ${database}`);
-    const target = new URL(url);
-    target.pathname = `/${database}`;
-    databaseUrl = target.href;
+    scratch = await createScratchDatabase('cluster_test');
+    databaseUrl = scratch.url;
     dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-cluster-pg-'));
-    writeTrustFile(dir);
+    writeLarkspurTrustFile(dir);
   }, SLOW_MS);
 
   beforeEach((context) => {
@@ -379,10 +359,7 @@ describe('two worker processes sharing one port and one PostgreSQL database', ()
 
   afterAll(async () => {
     killServerProcesses();
-    if (admin !== undefined) {
-      await admin.query(`DROP DATABASE IF EXISTS ${database} WITH (FORCE)`);
-      await admin.end();
-    }
+    await scratch?.drop();
     if (dir !== '') rmSync(dir, { recursive: true, force: true });
   });
 

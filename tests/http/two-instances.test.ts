@@ -3,14 +3,15 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import pg from 'pg';
 import { afterAll, afterEach, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { requestMoment, retimeRequest } from '../../src/cli/retime-request.js';
 import { larkspurPolicy, policyFolder } from '../live-policy/support/policy-files.js';
 import { EHR_ES384, EHR_ISS } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
-import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from '../store/support/store-kinds.js';
+import { createScratchDatabase, type ScratchDatabase } from '../store/support/scratch-database.js';
+import { POSTGRES_SKIP_REASON } from '../store/support/store-kinds.js';
 import { killServerProcesses, runServerProcess, type ServerProcess } from './support/server-process.js';
+import { writeLarkspurTrustFile } from './support/trust-file.js';
 
 /**
  * Two service processes on different ports sharing one PostgreSQL database, as a hospital group runs
@@ -29,43 +30,24 @@ const SLOW_MS = 120_000;
 
 let dir = '';
 let databaseUrl = '';
-let database = '';
-let admin: pg.Client | undefined;
+let scratch: ScratchDatabase | undefined;
 
 beforeAll(async () => {
   if (POSTGRES_SKIP_REASON !== undefined) {
     return;
   }
-  const url = requireTestDatabaseUrl();
-  admin = new pg.Client({ connectionString: url });
-  await admin.connect();
-  database = `two_instances_test_${randomBytes(6).toString('hex')}`;
-  await admin.query(`CREATE DATABASE ${database}`);
-  const target = new URL(url);
-  target.pathname = `/${database}`;
-  databaseUrl = target.href;
+  scratch = await createScratchDatabase('two_instances_test');
+  databaseUrl = scratch.url;
 
   dir = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-two-instances-'));
-  writeFileSync(
-    join(dir, 'trust.yaml'),
-    [
-      'clients:',
-      `  - iss: ${EHR_ISS}`,
-      `    jwks: { keys: [${JSON.stringify(EHR_ES384.publicJwk)}] }`,
-      '    fhirServers: [ https://fhir.larkspur-bay.example/r4 ]',
-      '',
-    ].join('\n'),
-  );
+  writeLarkspurTrustFile(dir);
   // Instances sharing a database share the secrets too (src/store/README.md, "PostgreSQL").
   writeFileSync(join(dir, 'patient-key.secret'), randomBytes(32).toString('hex'), { mode: 0o600 });
   writeFileSync(join(dir, 'review-link.secret'), randomBytes(32).toString('hex'), { mode: 0o600 });
 }, SLOW_MS);
 
 afterAll(async () => {
-  if (admin !== undefined) {
-    await admin.query(`DROP DATABASE IF EXISTS ${database} WITH (FORCE)`);
-    await admin.end();
-  }
+  await scratch?.drop();
   if (dir !== '') {
     rmSync(dir, { recursive: true, force: true });
   }

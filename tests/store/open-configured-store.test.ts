@@ -1,11 +1,10 @@
-import { randomBytes } from 'node:crypto';
 import { join } from 'node:path';
-import pg from 'pg';
 import { describe, expect, it } from 'vitest';
 import { openConfiguredStore, STORE_FILE_NAME } from '../../src/store/open-store.js';
 import { describeDatabase } from '../../src/store/postgres-pool.js';
 import { advisory, card } from './support/fixtures.js';
-import { POSTGRES_SKIP_REASON, requireTestDatabaseUrl } from './support/store-kinds.js';
+import { createScratchDatabase } from './support/scratch-database.js';
+import { POSTGRES_SKIP_REASON } from './support/store-kinds.js';
 import { useTempDirs } from './support/temp-dir.js';
 
 describe('openConfiguredStore', () => {
@@ -41,30 +40,23 @@ describe('openConfiguredStore', () => {
 
   it('opens the PostgreSQL store when a database URL is given, and a second instance shares it', async (context) => {
     context.skip(POSTGRES_SKIP_REASON !== undefined, POSTGRES_SKIP_REASON);
-    const url = requireTestDatabaseUrl();
-    const admin = new pg.Client({ connectionString: url });
-    await admin.connect();
-    const database = `open_store_test_${randomBytes(6).toString('hex')}`;
-    await admin.query(`CREATE DATABASE ${database}`);
+    const database = await createScratchDatabase('open_store_test');
     try {
-      const target = new URL(url);
-      target.pathname = `/${database}`;
       const dataDir = tempDir();
       const [one, two] = await Promise.all([
-        openConfiguredStore({ dataDir, databaseUrl: target.href }),
-        openConfiguredStore({ dataDir, databaseUrl: target.href }),
+        openConfiguredStore({ dataDir, databaseUrl: database.url }),
+        openConfiguredStore({ dataDir, databaseUrl: database.url }),
       ]);
       if (one?.kind !== 'opened' || two?.kind !== 'opened') {
         throw new Error(`expected both to open: ${JSON.stringify([one, two])}`);
       }
-      expect(one.where).toContain(`/${database}`);
+      expect(one.where).toContain(`/${database.name}`);
       await one.store.recordAdvisories([advisory(1)]);
       expect((await two.store.getAdvisory(card(1)))?.cardUuid).toBe(card(1));
       await one.store.close();
       await two.store.close();
     } finally {
-      await admin.query(`DROP DATABASE ${database} WITH (FORCE)`);
-      await admin.end();
+      await database.drop();
     }
   });
 });
