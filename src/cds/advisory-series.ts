@@ -1,5 +1,6 @@
 import type { Assessment } from '../core/assessment/types.js';
 import { DEVICE_MODELS } from '../core/devices/index.js';
+import { readingMs } from '../core/time/reading-time.js';
 import type { Facts, Measured, OxygenOrder, SaturationRange } from '../core/types.js';
 import type { AdvisorySeries, OxygenStep, Spo2Point } from '../store/store.js';
 
@@ -30,7 +31,7 @@ function mergedReadings(...lists: readonly (readonly Measured[])[]): Timed<numbe
   const valuesByMs = new Map<number, number[]>();
   for (const list of lists) {
     for (const reading of list) {
-      const ms = Date.parse(reading.at);
+      const ms = readingMs(reading);
       if (!Number.isFinite(ms)) {
         continue;
       }

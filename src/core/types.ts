@@ -91,6 +91,11 @@ export interface Measured {
   readonly value: number;
   /** ISO 8601 effective time. */
   readonly at: string;
+  /**
+   * `Date.parse(at)`, worked out once where the facts were read, so the rules need not parse the same
+   * text again and again (core/time/reading-time.ts). Absent on facts made by hand; `at` is then parsed.
+   */
+  readonly atMs?: number;
   /** The value and UCUM unit as the source reported them, for display. */
   readonly reported: { readonly value: number; readonly unit: string };
   /** The FHIR Observation reference, for traceability in cards. */
@@ -100,6 +105,8 @@ export interface Measured {
 /** A blood gas sample; PaO2 and PaCO2 belong together, so they travel together. */
 export interface BloodGas {
   readonly at: string;
+  /** `Date.parse(at)`, as on `Measured`. */
+  readonly atMs?: number;
   readonly specimen: 'arterial' | 'venous' | 'unknown';
   readonly ph: number | undefined;
   readonly pao2MmHg: number | undefined;

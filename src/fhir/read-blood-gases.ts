@@ -65,6 +65,7 @@ function buildSample(readings: readonly Reading[], specimen: Specimen): GasSampl
   return {
     gas: {
       at: first?.at ?? '',
+      ...(first === undefined ? {} : { atMs: Date.parse(first.at) }),
       specimen,
       ph: values.ph,
       pao2MmHg: values.po2,

@@ -91,7 +91,7 @@ function currentOf(
     } else if (ageMs > windowMinutes * 60_000) {
       newestStale ??= r;
     } else {
-      current.push({ value: r.value, at: r.at, reported: r.reported, reference: r.reference });
+      current.push({ value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference });
     }
   }
   if (current.length === 0 && newestStale !== undefined) {
@@ -105,7 +105,7 @@ function trendOf(readings: readonly Reading[], kind: MeasuredKind, windowMinutes
   return readings
     .filter((r) => r.code.kind === kind && nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000)
     .sort((a, b) => b.atMs - a.atMs)
-    .map((r) => ({ value: r.value, at: r.at, reported: r.reported, reference: r.reference }));
+    .map((r) => ({ value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference }));
 }
 
 /**

@@ -18,7 +18,8 @@ describe('readObservations', () => {
   ] as const)('reads LOINC %s into %s (%s %s → %s)', (code, field, value, unit, expected) => {
     const facts = readObservations([observation('o1', code, value, unit, minutesAgo(30))], freshness, TREND_MINUTES, NOW);
     expect(facts[field]).toStrictEqual([
-      { value: expected, at: minutesAgo(30), reported: { value, unit }, reference: 'Observation/o1' },
+      // atMs: the time as epoch ms, read once here so the rules need not parse it again.
+      { value: expected, at: minutesAgo(30), atMs: Date.parse(minutesAgo(30)), reported: { value, unit }, reference: 'Observation/o1' },
     ]);
     expect(facts.notes).toStrictEqual([]);
   });

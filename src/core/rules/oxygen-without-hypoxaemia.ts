@@ -5,6 +5,7 @@ import type { Policy } from '../policy.js';
 import type { ConditionFact, ConditionKind, Facts, Finding, Measured } from '../types.js';
 import { describeAge, describeMeasured, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
+import { readingMs } from '../time/reading-time.js';
 import { isTitration } from './support/order-purpose.js';
 import type { Rule } from './support/rule-types.js';
 import { citedGuidelineLabel } from './support/cited-guideline.js';
@@ -22,9 +23,9 @@ function airAtReading(assessment: Assessment, facts: Facts, spo2: Measured, now:
     return undefined;
   }
   const airMs = Date.parse(fio2.value.at);
-  const readingMs = Date.parse(spo2.at);
-  const from = Math.min(airMs, readingMs);
-  const to = Math.max(airMs, readingMs);
+  const spo2Ms = readingMs(spo2);
+  const from = Math.min(airMs, spo2Ms);
+  const to = Math.max(airMs, spo2Ms);
   const between = (at: string | undefined): boolean => {
     const ms = at === undefined ? Number.NaN : Date.parse(at);
     return ms >= from && ms <= to;

@@ -3,13 +3,13 @@ import { sortByTime } from './sort-by-time.js';
 /**
  * The instant a reading's `at` names, in epoch milliseconds (NaN when it does not parse). The one place
  * the core turns a reading's time into a number: times with no zone were given a "Z" where the facts
- * were read (fhir-date.ts), so the answer does not depend on the host's zone. Not remembered per
- * reading: each hook call reads new facts, and a WeakMap entry per reading cost more (in allocation and
- * garbage collection) than the parses it saved. Were the facts to carry the epoch milliseconds the
- * reader already has, this is where they would be read.
+ * were read (fhir-date.ts), so the answer does not depend on the host's zone. The fact reader gives
+ * each reading its `atMs` (the same `Date.parse`, done once); a reading made by hand without one is
+ * parsed here. Not remembered per reading: a WeakMap entry per reading cost more (in allocation and
+ * garbage collection) than the parses it saved.
  */
-export function readingMs(reading: { readonly at: string }): number {
-  return Date.parse(reading.at);
+export function readingMs(reading: { readonly at: string; readonly atMs?: number }): number {
+  return reading.atMs ?? Date.parse(reading.at);
 }
 
 /**
