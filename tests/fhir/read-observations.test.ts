@@ -386,3 +386,27 @@ describe('readObservations', () => {
     });
   });
 });
+
+describe('reading times carried as epoch ms', () => {
+  // The rules read `atMs` instead of parsing `at` (core/time/reading-time.ts): the two must agree for
+  // every form of time a client sends, including one with no zone (given a "Z" here).
+  it.each([
+    ['UTC', '2026-11-30T09:10:00Z'],
+    ['an offset', '2026-11-30T10:10:00+01:00'],
+    ['a fraction', '2026-11-30T09:10:00.123Z'],
+    ['no zone', '2026-11-30T09:10:00'],
+  ])('agree with Date.parse of the time kept, for a time with %s', (_form, at) => {
+    const facts = readObservations(
+      [observation('s', '59408-5', 94, '%', at), observation('g', '2019-8', 6.1, 'kPa', at)],
+      freshness,
+      TREND_MINUTES,
+      new Date('2026-11-30T10:00:00Z'),
+    );
+    const readings = [...facts.spo2Percent, ...facts.bloodGases];
+    expect(readings).toHaveLength(2);
+    for (const reading of readings) {
+      expect(reading.atMs).toBe(Date.parse(reading.at));
+      expect(reading.atMs).toBe(Date.parse('2026-11-30T09:10:00Z') + (at.includes('.123') ? 123 : 0));
+    }
+  });
+});

@@ -50,6 +50,12 @@ describe('reading times', () => {
     }
   });
 
+  it('takes the epoch ms the fact reader gave a reading, and parses `at` only when there is none', () => {
+    // A reading whose atMs disagrees with its text shows which one was read.
+    expect(readingMs({ at: '2026-11-30T10:00:00Z', atMs: 42 })).toBe(42);
+    expect(readingMs({ at: '2026-11-30T10:00:00Z' })).toBe(Date.parse('2026-11-30T10:00:00Z'));
+  });
+
   it.each([
     ['shuffled, with ties and unreadable times', shuffled(200, true)],
     ['shuffled, readable times with ties', shuffled(200, false)],
