@@ -202,7 +202,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   // The hook call commits its token id with its cards, or before any FHIR request
   // (routes/cds-service.ts); a call that ends in an error commits it first (commitTokenBeforeError).
   // Every other request has its id committed at authentication.
-  const authenticatedHookCall = requireAuthentication(deps.authenticate, { deferTokenCommit: () => true });
+  const authenticatedHookCall = requireAuthentication(deps.authenticate, { deferTokenCommit: true });
   const authenticated = requireAuthentication(deps.authenticate);
   const jsonBody = parseJsonBody(config.bodyLimitBytes);
   // The hook call has its whole chain on one route, in the order the steps below give every other

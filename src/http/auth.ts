@@ -148,10 +148,10 @@ export function refuseUnlessCommitted(res: Response, pending: PendingJti, answer
 
 export interface AuthenticationOptions {
   /**
-   * Requests whose token id commit is left to their route (the hook call, which commits it with its
-   * cards). Every other request has its id committed here, before it goes on.
+   * True on the hook call's route, which commits the token id itself, with its cards. Otherwise the id
+   * is committed here, before the request goes on.
    */
-  readonly deferTokenCommit?: (req: Request) => boolean;
+  readonly deferTokenCommit?: boolean;
 }
 
 /**
@@ -174,7 +174,7 @@ export function requireAuthentication(authenticate: Authenticate, options: Authe
     res.locals[CLIENT_KEY] = client;
     requestState(res).authenticatedIss = client.iss;
     if (pendingJti !== undefined) {
-      if (options.deferTokenCommit?.(req) === true) {
+      if (options.deferTokenCommit === true) {
         res.locals[PENDING_JTI_KEY] = pendingJti;
       } else {
         refuseUnlessCommitted(res, pendingJti, await pendingJti.commit());
