@@ -129,6 +129,23 @@ export const MIGRATIONS: readonly Migration[] = [
       END;
     `,
   },
+  {
+    version: 3,
+    description: 'one covering index on issue time in place of the issue-time, indicator and outcome indexes',
+    sql: `
+      -- Every index on advisory is written on every card recorded, so each one costs the hook call.
+      -- This index holds, after the issue time, every column the review list filters on except the
+      -- patient, and every column the summary reads: a list filtered by indicator or outcome, any
+      -- mix of filters, and the summary are read from the index alone within the time window, and
+      -- the table is read only for the rows shown. The unit, rule and patient indexes stay: they
+      -- serve the unit and rule lists (facets) and a filter on one of them over a long window.
+      CREATE INDEX advisory_window ON advisory
+        (issued_at_ms, unit, rule_id, indicator, latest_outcome, latest_override_reason_code);
+      DROP INDEX advisory_issued;
+      DROP INDEX advisory_indicator;
+      DROP INDEX advisory_outcome;
+    `,
+  },
 ];
 
 /** The schema version this code writes and reads. */

@@ -117,6 +117,19 @@ export const POSTGRES_MIGRATIONS: readonly Migration[] = [
         FOR EACH ROW EXECUTE FUNCTION replay_id_removed();
     `,
   },
+  {
+    version: 3,
+    description: 'one covering index on issue time in place of the issue-time, indicator and outcome indexes',
+    sql: `
+      -- As migrations.ts step 3: fewer indexes written per card, the review filters and the summary
+      -- read from one index within the time window.
+      CREATE INDEX advisory_window ON advisory
+        (issued_at_ms, unit, rule_id, indicator, latest_outcome, latest_override_reason_code);
+      DROP INDEX advisory_issued;
+      DROP INDEX advisory_indicator;
+      DROP INDEX advisory_outcome;
+    `,
+  },
 ];
 
 const CREATE_MIGRATION_TABLE = `CREATE TABLE IF NOT EXISTS schema_migration (

@@ -29,6 +29,62 @@ export interface StoreQueries {
 }
 
 /**
+ * The advisory list's statements for the filters a query sets: the WHERE clause (the key a shape is
+ * kept under), the page and the count. Each filter combination is its own statement, so each runs on
+ * a plan that can use the index of the columns it filters (migrations.ts: the window index holds every
+ * filtered column but the patient after the issue time; unit, rule and patient have their own).
+ */
+export function advisoryListSql(query: AdvisoryQuery): { where: string; page: string; count: string } {
+  const conditions = ['issued_at_ms >= @from', 'issued_at_ms < @to'];
+  if (query.unit !== undefined) {
+    conditions.push('unit = @unit');
+  }
+  if (query.ruleId !== undefined) {
+    conditions.push('rule_id = @ruleId');
+  }
+  if (query.indicator !== undefined) {
+    conditions.push('indicator = @indicator');
+  }
+  if (query.outcome === 'none') {
+    conditions.push('latest_outcome IS NULL');
+  } else if (query.outcome !== undefined) {
+    conditions.push('latest_outcome = @outcome');
+  }
+  if (query.patientKey !== undefined) {
+    conditions.push('patient_key = @patientKey');
+  }
+  const where = conditions.join(' AND ');
+  return {
+    where,
+    page: `SELECT ${LIST_COLUMNS} FROM advisory WHERE ${where}
+          ORDER BY issued_at_ms DESC, card_uuid DESC LIMIT @limit OFFSET @offset`,
+    count: `SELECT count(*) AS n FROM advisory WHERE ${where}`,
+  };
+}
+
+/** The summary's two statements: per rule and unit, the counts by latest outcome and the override reasons. */
+export const SUMMARY_SQL = {
+  counts: `SELECT rule_id, coalesce(unit, '') AS unit, count(*) AS fired,
+        count(*) FILTER (WHERE latest_outcome = 'accepted') AS accepted,
+        count(*) FILTER (WHERE latest_outcome = 'overridden') AS overridden,
+        count(*) FILTER (WHERE latest_outcome IS NULL) AS none
+      FROM advisory WHERE issued_at_ms >= @from AND issued_at_ms < @to
+      GROUP BY rule_id, coalesce(unit, '') ORDER BY rule_id, unit`,
+  reasons: `SELECT rule_id, coalesce(unit, '') AS unit, latest_override_reason_code AS code, count(*) AS n
+      FROM advisory
+      WHERE issued_at_ms >= @from AND issued_at_ms < @to
+        AND latest_outcome = 'overridden' AND latest_override_reason_code IS NOT NULL
+      GROUP BY rule_id, coalesce(unit, ''), latest_override_reason_code
+      ORDER BY n DESC, code`,
+} as const;
+
+/** The units and rule ids on record, offered as filter choices. */
+export const FACET_SQL = {
+  units: 'SELECT DISTINCT unit FROM advisory WHERE unit IS NOT NULL ORDER BY unit',
+  ruleIds: 'SELECT DISTINCT rule_id FROM advisory ORDER BY rule_id',
+} as const;
+
+/**
  * The read side of the SQLite store. Each filter combination of the advisory list gets its own
  * statement, prepared the first time it is used and kept (at most 2^6 × 2 shapes), so every query
  * runs on a plan that can use the index of the column it filters.
@@ -42,37 +98,13 @@ export function prepareQueries(db: Database.Database): StoreQueries {
   const listShapes = new Map<string, { page: Database.Statement; count: Database.Statement }>();
 
   function listStatements(query: AdvisoryQuery): { page: Database.Statement; count: Database.Statement } {
-    const conditions = ['issued_at_ms >= @from', 'issued_at_ms < @to'];
-    if (query.unit !== undefined) {
-      conditions.push('unit = @unit');
-    }
-    if (query.ruleId !== undefined) {
-      conditions.push('rule_id = @ruleId');
-    }
-    if (query.indicator !== undefined) {
-      conditions.push('indicator = @indicator');
-    }
-    if (query.outcome === 'none') {
-      conditions.push('latest_outcome IS NULL');
-    } else if (query.outcome !== undefined) {
-      conditions.push('latest_outcome = @outcome');
-    }
-    if (query.patientKey !== undefined) {
-      conditions.push('patient_key = @patientKey');
-    }
-    const where = conditions.join(' AND ');
-    const cached = listShapes.get(where);
+    const sql = advisoryListSql(query);
+    const cached = listShapes.get(sql.where);
     if (cached !== undefined) {
       return cached;
     }
-    const prepared = {
-      page: db.prepare(
-        `SELECT ${LIST_COLUMNS} FROM advisory WHERE ${where}
-          ORDER BY issued_at_ms DESC, card_uuid DESC LIMIT @limit OFFSET @offset`,
-      ),
-      count: db.prepare(`SELECT count(*) AS n FROM advisory WHERE ${where}`),
-    };
-    listShapes.set(where, prepared);
+    const prepared = { page: db.prepare(sql.page), count: db.prepare(sql.count) };
+    listShapes.set(sql.where, prepared);
     return prepared;
   }
 
@@ -92,28 +124,16 @@ export function prepareQueries(db: Database.Database): StoreQueries {
     { from: number; to: number },
     { rule_id: string; unit: string; fired: number; accepted: number; overridden: number; none: number }
   >(
-    `SELECT rule_id, coalesce(unit, '') AS unit, count(*) AS fired,
-        count(*) FILTER (WHERE latest_outcome = 'accepted') AS accepted,
-        count(*) FILTER (WHERE latest_outcome = 'overridden') AS overridden,
-        count(*) FILTER (WHERE latest_outcome IS NULL) AS none
-      FROM advisory WHERE issued_at_ms >= @from AND issued_at_ms < @to
-      GROUP BY rule_id, coalesce(unit, '') ORDER BY rule_id, unit`,
+    SUMMARY_SQL.counts,
   );
   const summaryReasons = db.prepare<
     { from: number; to: number },
     { rule_id: string; unit: string; code: string; n: number }
   >(
-    `SELECT rule_id, coalesce(unit, '') AS unit, latest_override_reason_code AS code, count(*) AS n
-      FROM advisory
-      WHERE issued_at_ms >= @from AND issued_at_ms < @to
-        AND latest_outcome = 'overridden' AND latest_override_reason_code IS NOT NULL
-      GROUP BY rule_id, coalesce(unit, ''), latest_override_reason_code
-      ORDER BY n DESC, code`,
+    SUMMARY_SQL.reasons,
   );
-  const units = db.prepare<[], { unit: string }>(
-    'SELECT DISTINCT unit FROM advisory WHERE unit IS NOT NULL ORDER BY unit',
-  );
-  const ruleIds = db.prepare<[], { rule_id: string }>('SELECT DISTINCT rule_id FROM advisory ORDER BY rule_id');
+  const units = db.prepare<[], { unit: string }>(FACET_SQL.units);
+  const ruleIds = db.prepare<[], { rule_id: string }>(FACET_SQL.ruleIds);
   const everRecorded = db.prepare<[], { one: number }>(
     "SELECT 1 AS one FROM store_meta WHERE key = 'first_advisory_recorded'",
   );
