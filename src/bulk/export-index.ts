@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import type { FhirResource } from '../fhir/gathered-data.js';
 import { oxygenOrderType, type OrderResourceType } from '../fhir/is-oxygen-order.js';
-import { NdjsonProblems, readNdjsonFile, type NdjsonReadOptions } from './ndjson-reader.js';
+import { NdjsonProblems, readNdjsonBatches, type NdjsonReadOptions } from './ndjson-reader.js';
 import { conditionKnownMs, fhirTimeMs, matchesObservationPrefetch, observationTimes, orderEndMs, patientOf, referencedId } from './resource-times.js';
 import { INDEX_SCHEMA, INDEX_SECONDARY, prepareIndexQueries, toOrder, type IndexQueries } from './index-queries.js';
 
@@ -249,13 +249,15 @@ export async function buildExportIndex(exportDir: string, options: ExportIndexOp
     let pending = 0;
     db.exec('BEGIN');
     for (const file of files) {
-      for await (const { resource, text } of readNdjsonFile(file, problems, options)) {
-        // The line as read is the resource's JSON already: stored as it is, not written out again.
-        place(resource, text);
-        pending += 1;
-        if (pending >= BATCH_ROWS) {
-          db.exec('COMMIT; BEGIN');
-          pending = 0;
+      for await (const records of readNdjsonBatches(file, problems, options)) {
+        for (const { resource, text } of records) {
+          // The line as read is the resource's JSON already: stored as it is, not written out again.
+          place(resource, text);
+          pending += 1;
+          if (pending >= BATCH_ROWS) {
+            db.exec('COMMIT; BEGIN');
+            pending = 0;
+          }
         }
       }
     }
