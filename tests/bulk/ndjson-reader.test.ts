@@ -86,6 +86,30 @@ describe('readNdjsonFile', () => {
     expect(read.problems.count).toBe(0);
   });
 
+  it('reads the same records and line numbers whatever the chunk size, with LF, CRLF and lone CR line ends', async () => {
+    // LF is the Bulk Data Access IG's separator; CRLF and a lone CR are read as line ends too, as
+    // node:readline reads them (common practice for text files from other systems). Every chunk size
+    // from 1 byte puts a chunk boundary between the CR and LF of a CRLF, and inside "é" (2 bytes).
+    const text = `\uFEFF${patient('a', 'é')}\r\n\r\n${patient('b')}\r${patient('c', 'éé')}\n\n{broken\r\n${patient('d')}`;
+    const path = write('mixed.ndjson', text);
+    for (let chunkBytes = 1; chunkBytes <= 40; chunkBytes += 1) {
+      const read = await readAll(path, chunkBytes);
+      expect(read.ids).toStrictEqual(['a', 'b', 'c', 'd']);
+      expect(read.lines).toStrictEqual([1, 3, 4, 7]);
+      expect(read.texts).toStrictEqual([patient('a', 'é'), patient('b'), patient('c', 'éé'), patient('d')]);
+      expect(read.problems.first).toStrictEqual([{ file: 'mixed.ndjson', line: 6, reason: 'not-json' }]);
+    }
+  });
+
+  it('ends the last line at the end of the file, with or without a line end, and makes no line of what follows the last end', async () => {
+    for (const [ending, lines] of [['', [1, 2]], ['\n', [1, 2]], ['\r\n', [1, 2]], ['\r', [1, 2]], ['\n\n', [1, 2]]] as const) {
+      const read = await readAll(write('end.ndjson', `${patient('a')}\n${patient('b')}${ending}`), 3);
+      expect(read.ids).toStrictEqual(['a', 'b']);
+      expect(read.lines).toStrictEqual(lines);
+    }
+    expect((await readAll(write('empty.ndjson', ''))).ids).toStrictEqual([]);
+  });
+
   it('keeps a bounded list of problems but counts them all', async () => {
     const lines = Array.from({ length: NdjsonProblems.KEPT + 25 }, () => '{broken');
     const read = await readAll(write('many.ndjson', lines.join('\n')));
