@@ -75,6 +75,20 @@ function planChain(order: FhirResource, chain: readonly OrderChange[], readings:
   return plans;
 }
 
+function deepFreeze<T>(value: T): T {
+  if (typeof value === 'object' && value !== null) {
+    for (const inner of Object.values(value)) deepFreeze(inner);
+    Object.freeze(value);
+  }
+  return value;
+}
+
+/** Every object and array inside a value, itself included. */
+function objectsIn(value: unknown): object[] {
+  if (typeof value !== 'object' || value === null) return [];
+  return [value, ...Object.values(value).flatMap(objectsIn)];
+}
+
 describe('readings of order words shared by the plans of one call', () => {
   it("give the readers' own answers, read once per text", () => {
     fc.assert(
@@ -88,6 +102,23 @@ describe('readings of order words shared by the plans of one call', () => {
         // asked again, the same reading comes back rather than a new one
         expect(readings.flows(text)).toBe(flows);
         expect(readings.targetStatements(text)).toBe(readings.targetStatements(text));
+      }),
+      { numRuns: 200 },
+    );
+  });
+
+  it('plan on frozen orders without writing to them, and never hand back a part of the input', () => {
+    fc.assert(
+      fc.property(orders, fc.array(changes, { minLength: 1, maxLength: 3 }), (order, chain) => {
+        const before = structuredClone(order);
+        const frozen = deepFreeze(order);
+        // a write to the frozen order throws here (modules run in strict mode)
+        const plans = planChain(frozen, chain, new TextReadings());
+        expect(frozen).toStrictEqual(before);
+        const inputParts = new Set(objectsIn(frozen));
+        for (const plan of plans) {
+          if (plan.kind === 'changed') expect(objectsIn(plan.resource).filter((o) => inputParts.has(o))).toStrictEqual([]);
+        }
       }),
       { numRuns: 200 },
     );
