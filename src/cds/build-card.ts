@@ -5,6 +5,7 @@ import type { Facts, Finding, OrderChange } from '../core/types.js';
 import { CANONICAL_BASE } from '../fhir/codes.js';
 import { planOrderChange, type ChangePlan } from '../fhir/apply-change.js';
 import type { FhirResource } from '../fhir/gathered-data.js';
+import { TextReadings } from '../fhir/text-readings.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import {
@@ -208,14 +209,21 @@ function leftAsWrittenNote(values: readonly string[]): string {
  * once per card. A plan is a new copy that nothing changes afterwards. Kept per call's facts, so no
  * plan outlives its call.
  */
-const PLANS_BY_CALL = new WeakMap<Facts, Map<FhirResource, Map<OrderChange, ChangePlan>>>();
+interface CallPlans {
+  readonly byResource: Map<FhirResource, Map<OrderChange, ChangePlan>>;
+  /** The words the plans read, shared: a later plan reads the texts an earlier one wrote. */
+  readonly readings: TextReadings;
+}
+
+const PLANS_BY_CALL = new WeakMap<Facts, CallPlans>();
 
 function planOnce(facts: Facts, resource: FhirResource, change: OrderChange): ChangePlan {
-  let byResource = PLANS_BY_CALL.get(facts);
-  if (byResource === undefined) {
-    byResource = new Map();
-    PLANS_BY_CALL.set(facts, byResource);
+  let call = PLANS_BY_CALL.get(facts);
+  if (call === undefined) {
+    call = { byResource: new Map(), readings: new TextReadings() };
+    PLANS_BY_CALL.set(facts, call);
   }
+  const byResource = call.byResource;
   let byChange = byResource.get(resource);
   if (byChange === undefined) {
     byChange = new Map();
@@ -223,7 +231,7 @@ function planOnce(facts: Facts, resource: FhirResource, change: OrderChange): Ch
   }
   let plan = byChange.get(change);
   if (plan === undefined) {
-    plan = planOrderChange(resource, change);
+    plan = planOrderChange(resource, change, { readings: call.readings });
     byChange.set(change, plan);
   }
   return plan;

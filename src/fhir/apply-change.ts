@@ -1,5 +1,5 @@
-import type { OrderChange, SaturationRange } from '../core/types.js';
-import { changeNote, currentWords } from './change-note.js';
+import type { DeviceKind, OrderChange, SaturationRange } from '../core/types.js';
+import { CHANGE_NOTE_OPEN, changeNote, currentWords } from './change-note.js';
 import { EXTENSION_URLS, isTargetExtensionUrl } from './codes.js';
 import { copyJson } from './copy-json.js';
 import type { FhirResource } from './gathered-data.js';
@@ -7,9 +7,10 @@ import { isObject } from './json.js';
 import { parameterSays } from './order-parts.js';
 import { readDeviceText } from './read-device-text.js';
 import { readTargetWords } from './read-order.js';
-import { readSettingText } from './read-setting-text.js';
+import { findFio2Mentions, isOrderedSetting } from './read-setting-text.js';
 import { readWrittenTarget } from './read-target-text.js';
 import { deviceWords, formatNumber, formatPercent, rewriteDevice, rewriteFlow, rewriteTarget, type Rewrite } from './rewrite-text.js';
+import { TextReadings } from './text-readings.js';
 import { pruneEmpty, textSlots, type Json } from './text-slots.js';
 import { firstObject, objects, ucumQuantity, writeDevice, writeFio2, writeFlow } from './write-order-fields.js';
 
@@ -73,20 +74,29 @@ interface TextsRewrite {
 
 const CHANGE_NOTES = /\s*\[Advisory change:[^\]]*\]/g;
 
+/** The slot's words as the reader reads them, and the change notes earlier suggestions added to it. */
+function wordsAndNotes(text: string): { readonly words: string; readonly earlierNotes: string } {
+  // Most texts carry no note: then both regexes would find nothing, and are not run.
+  if (!text.includes(CHANGE_NOTE_OPEN)) {
+    return { words: text, earlierNotes: '' };
+  }
+  return { words: currentWords(text), earlierNotes: text.match(CHANGE_NOTES)?.join('') ?? '' };
+}
+
 /**
  * Rewrites every text slot: the words before any earlier change note are rewritten, earlier notes are
  * kept, and a new note is added where the words hold other values of the kind that were left alone.
  * A coding whose display stated the old value is dropped (its code still means the old value), its
  * new words kept in the concept's text.
  */
-function rewriteTexts(resource: Json, rewrite: (text: string) => Rewrite, what: string): TextsRewrite {
+function rewriteTexts(resource: Json, rewrite: (text: string) => Rewrite, change: OrderChange): TextsRewrite {
   let stated = false;
   const left: string[] = [];
   for (const slot of textSlots(resource)) {
-    const earlierNotes = slot.text.match(CHANGE_NOTES)?.join('') ?? '';
-    const result = rewrite(currentWords(slot.text));
+    const { words, earlierNotes } = wordsAndNotes(slot.text);
+    const result = rewrite(words);
     stated ||= result.stated;
-    const note = result.stated && result.leftAsWritten.length > 0 ? ` ${changeNote(what, result.leftAsWritten)}` : '';
+    const note = result.stated && result.leftAsWritten.length > 0 ? ` ${changeNote(changedWhat(change), result.leftAsWritten)}` : '';
     left.push(...(result.stated ? result.leftAsWritten : []));
     const text = `${result.text}${earlierNotes}${note}`;
     if (slot.concept === undefined) {
@@ -102,7 +112,7 @@ function rewriteTexts(resource: Json, rewrite: (text: string) => Rewrite, what: 
 
 /** The words of every text slot, as the reader reads them. */
 function currentTexts(resource: Json): string[] {
-  return textSlots(resource).map((s) => currentWords(s.text));
+  return textSlots(resource).map((s) => wordsAndNotes(s.text).words);
 }
 
 /** The first value `read` finds in the texts, reading no further than that text. */
@@ -114,16 +124,22 @@ function firstRead<T>(texts: readonly string[], read: (text: string) => T | unde
   return undefined;
 }
 
-function firstFlow(texts: readonly string[]): number | undefined {
-  return firstRead(texts, (t) => readSettingText(t, undefined).flowLPerMin);
+/** The ordered flow, as readSettingText reads it, without the FiO2 and target readings it also makes. */
+function firstFlow(texts: readonly string[], readings: TextReadings): number | undefined {
+  return firstRead(texts, (t) => readings.flows(t).ordered?.flowLPerMin);
+}
+
+/** The set FiO2, as readSettingText reads it for `device`, without its flow reading. */
+function setFio2(text: string, device: DeviceKind, readings: TextReadings): number | undefined {
+  return findFio2Mentions(text, device, readings.targetStatements(text)).find((m) => isOrderedSetting(text, m))?.fraction;
 }
 
 /** Whether the words alone, read as the reader reads them, state the new value. */
-function wordsState(resource: Json, change: OrderChange): boolean {
+function wordsState(resource: Json, change: OrderChange, readings: TextReadings): boolean {
   const texts = currentTexts(resource);
   switch (change.kind) {
     case 'set-target': {
-      const written = readWrittenTarget(texts);
+      const written = readWrittenTarget(texts, texts.map((t) => readings.targetStatements(t)));
       return (
         written.note === undefined &&
         written.range?.lowPercent === change.range.lowPercent &&
@@ -131,13 +147,13 @@ function wordsState(resource: Json, change: OrderChange): boolean {
       );
     }
     case 'set-flow':
-      return firstFlow(texts) === change.flowLPerMin;
+      return firstFlow(texts, readings) === change.flowLPerMin;
     case 'set-device':
       // Each reading stops at the first text that states it, and the next is read only if this agrees.
       return (
         firstRead(texts, (t) => readDeviceText(t)?.device) === change.device &&
-        firstFlow(texts) === change.flowLPerMin &&
-        firstRead(texts, (t) => readSettingText(t, change.device).setFio2Fraction) === change.setFio2Fraction
+        firstFlow(texts, readings) === change.flowLPerMin &&
+        firstRead(texts, (t) => setFio2(t, change.device, readings)) === change.setFio2Fraction
       );
     case 'stop-oxygen':
       // The status ends the order; the words still give the old setting, so a sentence says it stopped.
@@ -212,8 +228,16 @@ function appendToMainText(resource: Json, sentence: string): void {
   holder[key] = base === '' ? sentence : `${base}${joiner}${sentence}`;
 }
 
+export interface PlanOptions {
+  /**
+   * The readings of order words shared by the plans of one call (build-card.ts), as a later suggestion
+   * plans its change on the words an earlier one wrote; a plan without it reads for itself.
+   */
+  readonly readings?: TextReadings;
+}
+
 /** Plans the change: the changed copy with the values left as written, or why there is none. */
-export function planOrderChange(resource: FhirResource, change: OrderChange): ChangePlan {
+export function planOrderChange(resource: FhirResource, change: OrderChange, options: PlanOptions = {}): ChangePlan {
   // Whether the words refuse the change is read from the order itself, before anything is copied:
   // a withheld change needs no copy.
   const refused = refusal(resource, change);
@@ -228,19 +252,19 @@ export function planOrderChange(resource: FhirResource, change: OrderChange): Ch
   if (type !== 'MedicationRequest' && type !== 'ServiceRequest' && type !== 'DeviceRequest') {
     return { kind: 'changed', resource: copy as FhirResource, leftAsWritten: [] };
   }
-  const what = changedWhat(change);
+  const readings = options.readings ?? new TextReadings();
   let rewritten: TextsRewrite;
   switch (change.kind) {
     case 'set-target':
       writeTarget(copy, change.range);
-      rewritten = rewriteTexts(copy, (t) => rewriteTarget(t, change.range), what);
+      rewritten = rewriteTexts(copy, (t) => rewriteTarget(t, change.range, readings.targetStatements(t)), change);
       break;
     case 'set-flow':
       writeFlow(copy, change.flowLPerMin);
-      rewritten = rewriteTexts(copy, (t) => rewriteFlow(t, change.flowLPerMin), what);
+      rewritten = rewriteTexts(copy, (t) => rewriteFlow(t, change.flowLPerMin, readings.flows(t)), change);
       break;
     case 'set-device':
-      rewritten = rewriteTexts(copy, (t) => rewriteDevice(t, change), what);
+      rewritten = rewriteTexts(copy, (t) => rewriteDevice(t, change, readings.targetStatements(t), readings.flows(t)), change);
       writeDevice(copy, change.device, change.setFio2Fraction);
       writeFlow(copy, change.flowLPerMin);
       writeFio2(copy, change.setFio2Fraction);
@@ -252,7 +276,7 @@ export function planOrderChange(resource: FhirResource, change: OrderChange): Ch
       rewritten = { stated: false, leftAsWritten: [] };
       break;
   }
-  if (!wordsState(copy, change)) {
+  if (!wordsState(copy, change, readings)) {
     appendToMainText(copy, statement(change));
   }
   pruneEmpty(copy);

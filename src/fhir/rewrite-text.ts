@@ -2,8 +2,9 @@ import type { DeviceKind, SaturationRange } from '../core/types.js';
 import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { findDeviceMentions, isOutsideTheOrder, readDeviceText } from './read-device-text.js';
-import { findFio2Mentions, findFlowMentions, isOrderedSetting } from './read-setting-text.js';
-import { findBoundMentions, findSingleValueMentions, findTargetMentions } from './read-target-text.js';
+import { findFio2Mentions, isOrderedSetting } from './read-setting-text.js';
+import { findSingleValueMentions, findTargetStatements, type TargetStatements } from './read-target-text.js';
+import { readFlows, type FlowsRead } from './text-readings.js';
 
 /**
  * Rewrites the values an order's words state, keeping the writer's wording: "target SpO2 94-98%"
@@ -87,9 +88,12 @@ export function deviceWords(device: DeviceKind, setFio2Fraction: number | undefi
  * ("88-92%"); a range in fractions stays in fractions. Trigger thresholds ("if SpO2
  * below 85 % call doctor") are left as written and listed.
  */
-export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
-  const mentions = findTargetMentions(text);
-  const bounds = findBoundMentions(text, mentions);
+export function rewriteTarget(
+  text: string,
+  range: SaturationRange,
+  statements: TargetStatements = findTargetStatements(text),
+): Rewrite {
+  const { ranges: mentions, bounds } = statements;
   // A single value is replaced only where no range or bound is written: then it is the target.
   const singles =
     mentions.length === 0 && bounds.targets.length === 0 ? findSingleValueMentions(text, bounds.triggers) : [];
@@ -112,9 +116,8 @@ export function rewriteTarget(text: string, range: SaturationRange): Rewrite {
 }
 
 /** Rewrites the flow the order states (the first outside history, plans and step sizes); lists the others. */
-export function rewriteFlow(text: string, flowLPerMin: number): Rewrite {
-  const all = findFlowMentions(text);
-  const read = all.find((m) => isOrderedSetting(text, m));
+export function rewriteFlow(text: string, flowLPerMin: number, flows: FlowsRead = readFlows(text)): Rewrite {
+  const { all, ordered: read } = flows;
   const edits = read === undefined ? [] : [{ start: read.valueStart, end: read.valueEnd, with: formatNumber(flowLPerMin) }];
   return {
     text: applyEdits(text, edits),
@@ -135,15 +138,16 @@ export function rewriteDevice(
     readonly flowLPerMin: number;
     readonly setFio2Fraction?: number | undefined;
   },
+  statements: TargetStatements = findTargetStatements(text),
+  flows: FlowsRead = readFlows(text),
 ): Rewrite {
   const oldDevice = readDeviceText(text)?.device;
   const devices = findDeviceMentions(text).filter((m) => !isOutsideTheOrder(text, m.start));
   // A setting inside a device phrase ("28% mask") is rewritten with the phrase, not on its own.
-  const allFio2s = findFio2Mentions(text, oldDevice).filter((m) => !devices.some((d) => m.start < d.end && m.end > d.start));
+  const allFio2s = findFio2Mentions(text, oldDevice, statements).filter((m) => !devices.some((d) => m.start < d.end && m.end > d.start));
   const readFio2 = allFio2s.find((m) => isOrderedSetting(text, m));
   const fio2s = readFio2 === undefined ? [] : [readFio2];
-  const allFlows = findFlowMentions(text);
-  const readFlow = allFlows.find((m) => isOrderedSetting(text, m));
+  const { all: allFlows, ordered: readFlow } = flows;
   const newFio2 = change.setFio2Fraction;
   const label = deviceWords(change.device, fio2s.length > 0 ? undefined : newFio2);
   const edits: Edit[] = [

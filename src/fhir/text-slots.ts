@@ -69,14 +69,17 @@ export function textSlots(resource: Json): readonly TextSlot[] {
   }
 }
 
+/** Whether the object has no own enumerable key, found without listing its keys. */
+function hasNoKeys(value: Json): boolean {
+  for (const key in value) {
+    if (Object.hasOwn(value, key)) return false;
+  }
+  return true;
+}
+
 /** What FHIR JSON does not allow as a value: null, blank strings, empty arrays and objects. */
 function isEmptyValue(value: unknown): boolean {
-  return (
-    value === null ||
-    value === '' ||
-    (Array.isArray(value) && value.length === 0) ||
-    (isObject(value) && Object.keys(value).length === 0)
-  );
+  return value === null || value === '' || (Array.isArray(value) ? value.length === 0 : isObject(value) && hasNoKeys(value));
 }
 
 /** Own property, even for `__proto__`, where plain assignment would set the prototype instead. */
@@ -85,37 +88,50 @@ function setOwn(holder: Json, key: string, value: unknown): void {
 }
 
 /**
- * An array with its empty items removed. Nulls stay where a `name`/`_name` pair of equal length
- * sits side by side: FHIR R4 JSON keeps a primitive array and its extensions aligned by position
- * with nulls (from memory).
+ * The array with its empty items removed, their insides pruned in place. Nulls stay where a
+ * `name`/`_name` pair of equal length sits side by side: FHIR R4 JSON keeps a primitive array and its
+ * extensions aligned by position with nulls (from memory). The same array when nothing is removed, so
+ * a draft with nothing to prune is walked without building anything.
  */
-function prunedItems(items: readonly unknown[], keepNulls: boolean): unknown[] {
-  const kept: unknown[] = [];
-  for (const item of items) {
+function prunedItems(items: readonly unknown[], keepNulls: boolean): readonly unknown[] {
+  let kept: unknown[] | undefined;
+  for (let index = 0; index < items.length; index += 1) {
+    const item = items[index];
     const pruned = Array.isArray(item) ? prunedItems(item, false) : item;
     if (isObject(pruned)) pruneEmpty(pruned);
-    if (!isEmptyValue(pruned) || (pruned === null && keepNulls)) kept.push(pruned);
+    const keep = !isEmptyValue(pruned) || (pruned === null && keepNulls);
+    if (kept === undefined) {
+      if (keep && pruned === item) continue;
+      kept = items.slice(0, index);
+    }
+    if (keep) kept.push(pruned);
   }
-  return kept;
+  return kept ?? items;
 }
+
+const hasText = (n: unknown): boolean => isObject(n) && typeof n['text'] === 'string' && n['text'].trim() !== '';
+const isNoteWithoutText = (n: unknown): boolean => isObject(n) && !hasText(n);
 
 /**
  * Removes what FHIR does not allow to be empty (null, blank strings, empty arrays and objects) and
  * notes left without text (Annotation.text is required), after a rewrite removed words. A draft that
  * arrived with such values is written back without them, so a suggestion carries no null beyond the
- * ones FHIR's array alignment needs.
+ * ones FHIR's array alignment needs. Keys are visited in order, each once; removing the key being
+ * visited does not disturb the walk.
  */
 export function pruneEmpty(value: Json): void {
-  for (const [key, inner] of Object.entries(value)) {
-    if (key === 'note' && Array.isArray(inner)) {
-      const hasText = (n: unknown): boolean => isObject(n) && typeof n['text'] === 'string' && n['text'].trim() !== '';
-      value[key] = inner.filter((n) => !isObject(n) || hasText(n));
+  for (const key in value) {
+    if (!Object.hasOwn(value, key)) continue;
+    const inner = value[key];
+    if (key === 'note' && Array.isArray(inner) && inner.some(isNoteWithoutText)) {
+      value[key] = inner.filter((n) => !isNoteWithoutText(n));
     }
     const current = value[key];
     if (Array.isArray(current)) {
-      const partner = /^_[A-Za-z]/.test(key) ? value[key.slice(1)] : value[`_${key}`];
+      const partner = key.charCodeAt(0) === 95 /* _ */ && /^_[A-Za-z]/.test(key) ? value[key.slice(1)] : value[`_${key}`];
       const aligned = Array.isArray(partner) && partner.length === current.length;
-      setOwn(value, key, prunedItems(current, aligned));
+      const pruned = prunedItems(current, aligned);
+      if (pruned !== current) setOwn(value, key, pruned);
     } else if (isObject(current)) {
       pruneEmpty(current);
     }
