@@ -1,5 +1,6 @@
 import type { DeviceKind } from '../core/types.js';
 import { clauseBefore } from './read-target-text.js';
+import { allMatches } from '../text/all-matches.js';
 
 /**
  * Finds the device named in order words and maps the trade's words onto our device kinds (the
@@ -120,7 +121,7 @@ export function findDeviceMentions(text: string): readonly DeviceMention[] {
     if (!needs.some((word) => lower.includes(word))) {
       continue;
     }
-    for (const m of text.matchAll(pattern)) {
+    for (const m of allMatches(pattern, text)) {
       const start = m.index;
       const end = start + m[0].length;
       const overlaps = found.some((f) => start < f.end && end > f.start);
