@@ -1,6 +1,6 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { DEVICE_PATTERNS, findDeviceMentions } from '../../src/fhir/read-device-text.js';
+import { DEVICE_PATTERNS, GATED_DEVICE_PATTERNS, findDeviceMentions } from '../../src/fhir/read-device-text.js';
 
 /**
  * Each device pattern is run only on texts holding one of its `needs` words. That is safe only if
@@ -37,11 +37,12 @@ describe('device pattern gates', () => {
   it('find a needed word in every match of every pattern', () => {
     const missed: string[] = [];
     let matches = 0;
-    for (const { device, pattern, needs } of DEVICE_PATTERNS) {
+    for (const { device, pattern, needs, gate } of GATED_DEVICE_PATTERNS) {
       for (const text of texts) {
         for (const m of text.matchAll(pattern)) {
           matches += 1;
-          if (!needs.some((word) => m[0].toLowerCase().includes(word))) {
+          // The words, and the compiled test findDeviceMentions runs: both must hold.
+          if (!needs.some((word) => m[0].toLowerCase().includes(word)) || !gate.test(m[0])) {
             missed.push(`${device}: '${m[0]}' in '${text}'`);
           }
         }
@@ -51,6 +52,17 @@ describe('device pattern gates', () => {
     // The corpus names every device kind many times over, so the check means something.
     expect(matches).toBeGreaterThan(500);
     expect(new Set(texts.flatMap((t) => findDeviceMentions(t).map((m) => m.device))).size).toBe(7);
+  });
+
+  it('compile each pattern\'s own words into its test, in the same order', () => {
+    expect(GATED_DEVICE_PATTERNS.map((p) => p.pattern)).toStrictEqual(DEVICE_PATTERNS.map((p) => p.pattern));
+    for (const { needs, gate } of GATED_DEVICE_PATTERNS) {
+      for (const word of needs) {
+        expect(gate.test(`x ${word.toUpperCase()} x`)).toBe(true);
+      }
+      // A text of none of the words passes no test.
+      expect(gate.test('Oxygen therapy as charted, see notes')).toBe(false);
+    }
   });
 
   describe('edge cases', () => {
