@@ -1,4 +1,5 @@
 import type { OrderPurpose } from '../core/types.js';
+import { allMatches } from '../text/all-matches.js';
 
 /**
  * What an oxygen order is for, from its FHIR status and doNotPerform and from its words: a titration
@@ -20,14 +21,14 @@ const WEAN = /\bwean(?:ing|ed)?\b/i;
 const ROOM_AIR = /\b(?:room|ambient)\s+air\b|\bon\s+air\b|\bRA\b/;
 const TO_AIR = /\b(?:wean(?:ing|ed)?|step(?:ped)?\s+down)\s+(?:off\s+|to\s+|onto\s+)?(?:room\s+air|air|RA|off)\b/i;
 
-/** Each pattern with the `g` flag that `matchAll` needs, compiled once rather than on every call. */
+/** Each pattern with the `g` flag that finding every match needs, compiled once rather than on every call. */
 const EVERY_MATCH = new Map<RegExp, RegExp>(
   [STOP, COMFORT, WEAN, ROOM_AIR, TO_AIR].map((pattern) => [pattern, new RegExp(pattern.source, `${pattern.flags}g`)]),
 );
 
 function statesUnnegated(text: string, pattern: RegExp): boolean {
   const everyMatch = EVERY_MATCH.get(pattern) ?? new RegExp(pattern.source, `${pattern.flags.replace('g', '')}g`);
-  for (const m of text.matchAll(everyMatch)) {
+  for (const m of allMatches(everyMatch, text)) {
     if (!NEGATED.test(text.slice(Math.max(0, m.index - 30), m.index))) {
       return true;
     }

@@ -3,6 +3,7 @@ import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { isOutsideTheOrder } from './read-device-text.js';
 import { findTargetStatements, type TargetStatements } from './read-target-text.js';
+import { allMatches } from '../text/all-matches.js';
 
 /**
  * Finds the oxygen flow and set FiO2 written in order words: "2 L/min", "2L", "15 litres per minute",
@@ -54,7 +55,7 @@ const SET_FIO2_DEVICES: ReadonlySet<DeviceKind> = new Set([
 
 export function findFlowMentions(text: string): readonly FlowMention[] {
   const mentions: FlowMention[] = [];
-  for (const m of text.matchAll(FLOW_RANGE)) {
+  for (const m of allMatches(FLOW_RANGE, text)) {
     const low = Number(m[1]);
     const high = Number(m[2]);
     const valueEnd = m.index + m[0].search(/\s*(?:L|litre|liter|lpm)/i);
@@ -67,7 +68,7 @@ export function findFlowMentions(text: string): readonly FlowMention[] {
       valueEnd,
     });
   }
-  for (const m of text.matchAll(FLOW)) {
+  for (const m of allMatches(FLOW, text)) {
     const start = m.index;
     if (mentions.some((r) => start >= r.start && start < r.end)) {
       continue;
@@ -96,7 +97,7 @@ export function findFio2Mentions(
   statements: TargetStatements = findTargetStatements(text),
 ): readonly Fio2Mention[] {
   const mentions: Fio2Mention[] = [];
-  for (const m of text.matchAll(FIO2_KEYWORD)) {
+  for (const m of allMatches(FIO2_KEYWORD, text)) {
     const number = m[1] ?? '';
     const value = Number(number);
     // "FiO2 45" without a sign is a percent; "FiO2 0.45" a fraction.
@@ -108,7 +109,7 @@ export function findFio2Mentions(
       mentions.push({ start: m.index, end, fraction, style, valueStart, valueEnd: valueStart + number.length });
     }
   }
-  for (const m of text.matchAll(VENTURI_SHORTHAND)) {
+  for (const m of allMatches(VENTURI_SHORTHAND, text)) {
     const number = m[1] ?? '';
     const fraction = fractionOf(Number(number), 'percent');
     const valueStart = m.index + m[0].length - number.length;
@@ -121,7 +122,7 @@ export function findFio2Mentions(
   const { ranges, bounds } = statements;
   // A saturation written as a range or a bound ("≥ 92 %", "if SpO2 below 85 %") is never a setting.
   const targets = [...ranges, ...bounds.targets, ...bounds.triggers];
-  for (const m of text.matchAll(PERCENT)) {
+  for (const m of allMatches(PERCENT, text)) {
     const start = m.index;
     const end = start + m[0].length;
     const inOther = [...mentions, ...targets].some((o) => start < o.end && end > o.start);

@@ -1,5 +1,6 @@
 import type { SaturationRange, TargetNote } from '../core/types.js';
 import { PLAUSIBLE, isPlausible } from './plausibility.js';
+import { allMatches } from '../text/all-matches.js';
 
 /**
  * Finds target SpO2 statements in order text, in the notations prescribers use:
@@ -126,7 +127,7 @@ export function clauseBefore(text: string, index: number): string {
   const from = Math.max(0, index - CLAUSE_LOOK_BACK_CHARS);
   const window = text.slice(from, index);
   let start = 0;
-  for (const m of window.matchAll(CLAUSE_BREAK)) {
+  for (const m of allMatches(CLAUSE_BREAK, window)) {
     start = m.index + m[0].length;
   }
   return window.slice(start);
@@ -169,7 +170,7 @@ const plausible = (value: number): boolean => isPlausible(value, PLAUSIBLE.targe
 
 export function findTargetMentions(text: string): readonly TargetMention[] {
   const mentions: TargetMention[] = [];
-  for (const m of text.matchAll(RANGE)) {
+  for (const m of allMatches(RANGE, text)) {
     const [whole, lead, lowText = '', gap = '', highText = '', percent] = m;
     const low = Number(lowText);
     const high = Number(highText);
@@ -195,7 +196,7 @@ export function findTargetMentions(text: string): readonly TargetMention[] {
       fraction: false,
     });
   }
-  for (const m of text.matchAll(FRACTION_RANGE)) {
+  for (const m of allMatches(FRACTION_RANGE, text)) {
     const [whole, lowText = '', gap = '', highText = ''] = m;
     const low = Number(lowText);
     const high = Number(highText);
@@ -226,7 +227,7 @@ export function findTargetMentions(text: string): readonly TargetMention[] {
 /** Whether the clause before `index` ends in a target word and only saturation words after it. */
 function followsTargetWord(text: string, index: number): boolean {
   const before = clauseBefore(text, index).slice(-40);
-  const last = [...before.matchAll(TARGET_WORD)].pop();
+  const last = allMatches(TARGET_WORD, before).at(-1);
   if (last === undefined || TRIGGER.test(before)) {
     return false;
   }
@@ -243,7 +244,7 @@ export function findSingleValueMentions(
   taken: readonly { readonly start: number; readonly end: number }[],
 ): readonly SingleValueMention[] {
   const found: SingleValueMention[] = [];
-  for (const m of text.matchAll(SINGLE)) {
+  for (const m of allMatches(SINGLE, text)) {
     const percent = Number(m[1]);
     const start = m.index;
     const end = start + m[0].length;
@@ -279,7 +280,7 @@ function boundOf(m: RegExpMatchArray): Bound {
 export function findBoundMentions(text: string, ranges: readonly TargetMention[] = findTargetMentions(text)): BoundsFound {
   const targets: BoundMention[] = [];
   const triggers: BoundMention[] = [];
-  for (const m of text.matchAll(BOUND)) {
+  for (const m of allMatches(BOUND, text)) {
     const percent = Number(m[5]);
     const start = m.index;
     const end = start + m[0].length;
