@@ -8,6 +8,7 @@ import type { FhirResource } from '../fhir/gathered-data.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import {
+  bindFixedValues,
   compiledCardTemplate,
   escapeMarkdown,
   renderCompiled,
@@ -176,6 +177,46 @@ function renderWithValues(compiled: CompiledText, values: CardValues, mode: 'mar
   return renderCompiled(compiled, values.finding, mode, values.policy);
 }
 
+/**
+ * A card text ready for a finding's values: the policy's values (the same on every card of the rule)
+ * filled in once, or, when one is blank and must be reported missing in its place, given at each render.
+ */
+interface CardText {
+  readonly compiled: CompiledText;
+  readonly policyValues: Readonly<Record<string, string>> | undefined;
+}
+
+interface CardTexts {
+  readonly summary: CardText;
+  readonly detail: CardText;
+}
+
+function cardText(compiled: CompiledText, policyValues: Readonly<Record<string, string>>, mode: 'markdown' | 'plain'): CardText {
+  const bound = bindFixedValues(compiled, policyValues, mode);
+  return bound === undefined ? { compiled, policyValues } : { compiled: bound, policyValues: undefined };
+}
+
+/** Per template (a local wording file may give a rule its own), per policy and rule id. */
+const CARD_TEXTS = new WeakMap<CardTemplate, (policy: Policy, ruleId: string) => CardTexts>();
+
+/** The summary and detail of a rule's cards under one policy, its values filled in once. */
+function cardTexts(template: CardTemplate, policy: Policy, ruleId: string): CardTexts {
+  let forTemplate = CARD_TEXTS.get(template);
+  if (forTemplate === undefined) {
+    const compiled = compiledCardTemplate(template);
+    forTemplate = oncePerPolicyAndKey((p, id): CardTexts => {
+      const policyValues = policyCardValues(p, id);
+      return { summary: cardText(compiled.summary, policyValues, 'plain'), detail: cardText(compiled.detail, policyValues, 'markdown') };
+    });
+    CARD_TEXTS.set(template, forTemplate);
+  }
+  return forTemplate(policy, ruleId);
+}
+
+function renderCardText(text: CardText, finding: Finding, mode: 'markdown' | 'plain'): Rendered {
+  return renderCompiled(text.compiled, finding.values, mode, text.policyValues);
+}
+
 /** "ruleId: summary placeholder 'name' has no value" for each name a render found no value for. */
 function reportMissing(problems: string[], ruleId: string, part: string, rendered: Rendered): void {
   for (const name of rendered.missing) {
@@ -317,9 +358,9 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
   const values: CardValues = { finding: finding.values, policy: policyCardValues(ctx.policy, finding.ruleId) };
-  const compiled = compiledCardTemplate(ctx.template);
-  const summary = renderWithValues(compiled.summary, values, 'plain');
-  const detail = renderWithValues(compiled.detail, values, 'markdown');
+  const texts = cardTexts(ctx.template, ctx.policy, finding.ruleId);
+  const summary = renderCardText(texts.summary, finding, 'plain');
+  const detail = renderCardText(texts.detail, finding, 'markdown');
   reportMissing(problems, finding.ruleId, 'summary', summary);
   reportMissing(problems, finding.ruleId, 'detail', detail);
 
