@@ -14,6 +14,7 @@ import type { CardTemplates } from './card-templates.js';
 import { cardClock } from './card-time.js';
 import { prepareWorkings } from './card-workings.js';
 import {
+  type Card,
   OrderSelectContextSchema,
   OrderSignContextSchema,
   PatientViewContextSchema,
@@ -135,10 +136,13 @@ export function evaluateHook(
   const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
   const evaluation = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
   const { assessment, assessments, findings } = evaluation;
-  // A draft may hold two subject orders; each card shows the inputs of its own order's assessment.
-  const assessmentFor = (reference: string | undefined) =>
-    assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??
-    assessment;
+  // A draft may hold two subject orders; each card shows the inputs of its own order's assessment. With
+  // one assessment (most calls) there is nothing to search.
+  const assessmentFor = (reference: string | undefined): Assessment =>
+    assessments.length <= 1 && (assessments[0] ?? assessment) === assessment
+      ? assessment
+      : (assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??
+        assessment);
 
   const seen = new Map<string, number>();
   const offered = new Map<string, OrderChange[]>();
@@ -193,14 +197,16 @@ export function evaluateHook(
     if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
     }
-    problems.push(...report.problems);
+    if (report.problems.length > 0) {
+      problems.push(...report.problems);
+    }
     const markdown = renderWorkings(finding, cardAssessment);
     if (deps.workings === true) {
       workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
     }
     audit.push({
       cardUuid: report.card.uuid ?? '',
-      suggestionUuids: (report.card.suggestions ?? []).flatMap((s) => (s.uuid === undefined ? [] : [s.uuid])),
+      suggestionUuids: suggestionUuidsOf(report.card),
       ruleId: finding.ruleId,
       ruleVersion: finding.ruleVersion,
       indicator: report.card.indicator,
@@ -222,6 +228,17 @@ export function evaluateHook(
     ...(deps.workings === true ? { workings } : {}),
     audit: { unit: facts.encounterUnit, cards: audit },
   };
+}
+
+/** The uuids of a card's suggestions, in order (a suggestion without one is left out). */
+function suggestionUuidsOf(card: Card): readonly string[] {
+  const uuids: string[] = [];
+  for (const suggestion of card.suggestions ?? []) {
+    if (suggestion.uuid !== undefined) {
+      uuids.push(suggestion.uuid);
+    }
+  }
+  return uuids;
 }
 
 /** Rule ids in the registry with no card template; the http layer refuses to start if any. */
