@@ -196,6 +196,8 @@ interface CardText {
 }
 
 interface CardTexts {
+  /** The policy's values for the rule (policy-card-text.ts), for the texts rendered per card. */
+  readonly policyValues: Readonly<Record<string, string>>;
   readonly summary: CardText;
   readonly detail: CardText;
 }
@@ -215,7 +217,11 @@ function cardTexts(template: CardTemplate, policy: Policy, ruleId: string): Card
     const compiled = compiledCardTemplate(template);
     forTemplate = oncePerPolicyAndKey((p, id): CardTexts => {
       const policyValues = policyCardValues(p, id);
-      return { summary: cardText(compiled.summary, policyValues, 'plain'), detail: cardText(compiled.detail, policyValues, 'markdown') };
+      return {
+        policyValues,
+        summary: cardText(compiled.summary, policyValues, 'plain'),
+        detail: cardText(compiled.detail, policyValues, 'markdown'),
+      };
     });
     CARD_TEXTS.set(template, forTemplate);
   }
@@ -366,8 +372,8 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const problems: string[] = [];
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
-  const values: CardValues = { finding: finding.values, policy: policyCardValues(ctx.policy, finding.ruleId) };
   const texts = cardTexts(ctx.template, ctx.policy, finding.ruleId);
+  const values: CardValues = { finding: finding.values, policy: texts.policyValues };
   const summary = renderCardText(texts.summary, finding, 'plain');
   const detail = renderCardText(texts.detail, finding, 'markdown');
   reportMissing(problems, finding.ruleId, 'summary', summary);
@@ -383,20 +389,30 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const renderDetail =
     ctx.compactDetail ?? ((input) => compactDetail({ ...input, facts: ctx.facts, policy: ctx.policy, now: ctx.now }));
   const withheld = withheldReason === undefined ? '' : `\n\nNo one-click change is offered: ${escapeMarkdown(withheldReason)}`;
-  const card: Card = {
-    uuid,
-    summary: truncateSummary(summary.text.trim()),
-    detail: renderDetail({
-      ruleText: `${detail.text.trim()}${withheld}`,
-      basedOn: ctx.template.basedOn ?? NO_INPUTS,
-      finding,
-      assessment: ctx.assessment,
-    }),
-    indicator: finding.indicator,
-    source: cardSource(ctx.policy, ctx.policyContentHash, finding.ruleId),
-    ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
-    overrideReasons: cardOverrideReasons(ctx.policy, finding.ruleId, ctx.template),
-  };
+  const cardSummary = truncateSummary(summary.text.trim());
+  const cardDetail = renderDetail({
+    ruleText: `${detail.text.trim()}${withheld}`,
+    basedOn: ctx.template.basedOn ?? NO_INPUTS,
+    finding,
+    assessment: ctx.assessment,
+  });
+  const source = cardSource(ctx.policy, ctx.policyContentHash, finding.ruleId);
+  const overrideReasons = cardOverrideReasons(ctx.policy, finding.ruleId, ctx.template);
+  // Two literal shapes, one with a suggestion and one without, in the order the card is sent in, rather
+  // than one literal spreading a short-lived object into it.
+  const card: Card =
+    suggestion === undefined
+      ? { uuid, summary: cardSummary, detail: cardDetail, indicator: finding.indicator, source, overrideReasons }
+      : {
+          uuid,
+          summary: cardSummary,
+          detail: cardDetail,
+          indicator: finding.indicator,
+          source,
+          suggestions: [suggestion],
+          selectionBehavior: 'at-most-one',
+          overrideReasons,
+        };
   return { card, problems };
 }
 
