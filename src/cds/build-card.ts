@@ -9,6 +9,7 @@ import { TextReadings } from '../fhir/text-readings.js';
 import { compactDetail, type CompactDetailRenderer } from './card-detail.js';
 import { deviceLabel, findingSourceKeys } from './card-workings.js';
 import {
+  bindFixedValues,
   compiledCardTemplate,
   escapeMarkdown,
   renderCompiled,
@@ -17,7 +18,7 @@ import {
   type CompiledText,
   type Rendered,
 } from './card-templates.js';
-import { oncePerPolicyAndKey } from './once-per-policy.js';
+import { oncePerPolicy, oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
@@ -86,15 +87,24 @@ export function sourceLabel(policy: Policy, policyContentHash: string | undefine
 }
 
 /**
- * The card's `source`, the same object for every card of a rule under one policy file: keyed by rule
- * id and content hash (a rule id holds no line break). Frozen, as cards of many calls share it.
+ * The card's `source`, the same object for every card of a rule under one policy file: kept per policy,
+ * content hash and rule id, in maps keyed by the strings the caller already holds (no key is put
+ * together per card). Frozen, as cards of many calls share it.
  */
 function cardSource(policy: Policy, policyContentHash: string | undefined, ruleId: string): Card['source'] {
-  return sourceOnce(policy, policyContentHash === undefined ? ruleId : `${ruleId}\n${policyContentHash}`);
+  const byRule = policyContentHash === undefined ? sourcesWithoutHash(policy) : sourcesByHash(policy, policyContentHash);
+  let source = byRule.get(ruleId);
+  if (source === undefined) {
+    source = buildCardSource(policy, policyContentHash, ruleId);
+    byRule.set(ruleId, source);
+  }
+  return source;
 }
 
-const sourceOnce = oncePerPolicyAndKey((policy, key): Card['source'] => {
-  const [ruleId = '', policyContentHash] = key.split('\n');
+const sourcesWithoutHash = oncePerPolicy(() => new Map<string, Card['source']>());
+const sourcesByHash = oncePerPolicyAndKey(() => new Map<string, Card['source']>());
+
+function buildCardSource(policy: Policy, policyContentHash: string | undefined, ruleId: string): Card['source'] {
   // The link of the guideline the card cites, else of the primary.
   const url = policy.references[citedGuidelineKey(policy, ruleId)]?.url ?? policy.references[policy.basisKey]?.url;
   return Object.freeze({
@@ -102,7 +112,7 @@ const sourceOnce = oncePerPolicyAndKey((policy, key): Card['source'] => {
     ...(url === undefined ? {} : { url }),
     topic: Object.freeze({ system: RULE_TOPIC_SYSTEM, code: ruleId }),
   });
-});
+}
 
 type CardOverrideReasons = NonNullable<Card['overrideReasons']>;
 
@@ -175,6 +185,52 @@ interface CardValues {
 
 function renderWithValues(compiled: CompiledText, values: CardValues, mode: 'markdown' | 'plain'): Rendered {
   return renderCompiled(compiled, values.finding, mode, values.policy);
+}
+
+/**
+ * A card text ready for a finding's values: the policy's values (the same on every card of the rule)
+ * filled in once, or, when one is blank and must be reported missing in its place, given at each render.
+ */
+interface CardText {
+  readonly compiled: CompiledText;
+  readonly policyValues: Readonly<Record<string, string>> | undefined;
+}
+
+interface CardTexts {
+  /** The policy's values for the rule (policy-card-text.ts), for the texts rendered per card. */
+  readonly policyValues: Readonly<Record<string, string>>;
+  readonly summary: CardText;
+  readonly detail: CardText;
+}
+
+function cardText(compiled: CompiledText, policyValues: Readonly<Record<string, string>>, mode: 'markdown' | 'plain'): CardText {
+  const bound = bindFixedValues(compiled, policyValues, mode);
+  return bound === undefined ? { compiled, policyValues } : { compiled: bound, policyValues: undefined };
+}
+
+/** Per template (a local wording file may give a rule its own), per policy and rule id. */
+const CARD_TEXTS = new WeakMap<CardTemplate, (policy: Policy, ruleId: string) => CardTexts>();
+
+/** The summary and detail of a rule's cards under one policy, its values filled in once. */
+function cardTexts(template: CardTemplate, policy: Policy, ruleId: string): CardTexts {
+  let forTemplate = CARD_TEXTS.get(template);
+  if (forTemplate === undefined) {
+    const compiled = compiledCardTemplate(template);
+    forTemplate = oncePerPolicyAndKey((p, id): CardTexts => {
+      const policyValues = policyCardValues(p, id);
+      return {
+        policyValues,
+        summary: cardText(compiled.summary, policyValues, 'plain'),
+        detail: cardText(compiled.detail, policyValues, 'markdown'),
+      };
+    });
+    CARD_TEXTS.set(template, forTemplate);
+  }
+  return forTemplate(policy, ruleId);
+}
+
+function renderCardText(text: CardText, finding: Finding, mode: 'markdown' | 'plain'): Rendered {
+  return renderCompiled(text.compiled, finding.values, mode, text.policyValues);
 }
 
 /** "ruleId: summary placeholder 'name' has no value" for each name a render found no value for. */
@@ -324,10 +380,10 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const problems: string[] = [];
   const uuid = cardUuid(ctx.hookInstance, finding.ruleId, finding.orderReference, ctx.occurrence ?? 0);
 
-  const values: CardValues = { finding: finding.values, policy: policyCardValues(ctx.policy, finding.ruleId) };
-  const compiled = compiledCardTemplate(ctx.template);
-  const summary = renderWithValues(compiled.summary, values, 'plain');
-  const detail = renderWithValues(compiled.detail, values, 'markdown');
+  const texts = cardTexts(ctx.template, ctx.policy, finding.ruleId);
+  const values: CardValues = { finding: finding.values, policy: texts.policyValues };
+  const summary = renderCardText(texts.summary, finding, 'plain');
+  const detail = renderCardText(texts.detail, finding, 'markdown');
   reportMissing(problems, finding.ruleId, 'summary', summary);
   reportMissing(problems, finding.ruleId, 'detail', detail);
 
@@ -341,20 +397,30 @@ export function buildCardReport(finding: Finding, ctx: CardBuildContext): CardRe
   const renderDetail =
     ctx.compactDetail ?? ((input) => compactDetail({ ...input, facts: ctx.facts, policy: ctx.policy, now: ctx.now }));
   const withheld = withheldReason === undefined ? '' : `\n\nNo one-click change is offered: ${escapeMarkdown(withheldReason)}`;
-  const card: Card = {
-    uuid,
-    summary: truncateSummary(summary.text.trim()),
-    detail: renderDetail({
-      ruleText: `${detail.text.trim()}${withheld}`,
-      basedOn: ctx.template.basedOn ?? NO_INPUTS,
-      finding,
-      assessment: ctx.assessment,
-    }),
-    indicator: finding.indicator,
-    source: cardSource(ctx.policy, ctx.policyContentHash, finding.ruleId),
-    ...(suggestion === undefined ? {} : { suggestions: [suggestion], selectionBehavior: 'at-most-one' as const }),
-    overrideReasons: cardOverrideReasons(ctx.policy, finding.ruleId, ctx.template),
-  };
+  const cardSummary = truncateSummary(summary.text.trim());
+  const cardDetail = renderDetail({
+    ruleText: `${detail.text.trim()}${withheld}`,
+    basedOn: ctx.template.basedOn ?? NO_INPUTS,
+    finding,
+    assessment: ctx.assessment,
+  });
+  const source = cardSource(ctx.policy, ctx.policyContentHash, finding.ruleId);
+  const overrideReasons = cardOverrideReasons(ctx.policy, finding.ruleId, ctx.template);
+  // Two literal shapes, one with a suggestion and one without, in the order the card is sent in, rather
+  // than one literal spreading a short-lived object into it.
+  const card: Card =
+    suggestion === undefined
+      ? { uuid, summary: cardSummary, detail: cardDetail, indicator: finding.indicator, source, overrideReasons }
+      : {
+          uuid,
+          summary: cardSummary,
+          detail: cardDetail,
+          indicator: finding.indicator,
+          source,
+          suggestions: [suggestion],
+          selectionBehavior: 'at-most-one',
+          overrideReasons,
+        };
   return { card, problems };
 }
 

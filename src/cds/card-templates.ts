@@ -208,6 +208,39 @@ export function renderCompiled(
   return { text, missing: missing ?? NONE_MISSING };
 }
 
+/**
+ * `compiled` with the placeholders `fixed` holds filled in for good, each value escaped (`markdown`) or
+ * folded (`plain`) once and joined to the wording around it, so that rendering the result with the other
+ * values gives what `renderCompiled(compiled, values, mode, fixed)` gives, without looking up or
+ * escaping the fixed values again. For values that are the same for every render of a text, such as the
+ * guideline a policy cites for a rule. Undefined when a fixed value is blank: a render reports that one
+ * missing in its place, so the text is left to be rendered with `fixed` as overrides.
+ */
+export function bindFixedValues(
+  compiled: CompiledText,
+  fixed: Readonly<Record<string, string>>,
+  mode: 'markdown' | 'plain',
+): CompiledText | undefined {
+  const literals: string[] = [compiled.literals[0] ?? ''];
+  const names: string[] = [];
+  for (let index = 0; index < compiled.names.length; index += 1) {
+    const name = compiled.names[index] ?? '';
+    const next = compiled.literals[index + 1] ?? '';
+    if (!Object.hasOwn(fixed, name)) {
+      names.push(name);
+      literals.push(next);
+      continue;
+    }
+    const value = fixed[name];
+    if (value === undefined || value.trim() === '') {
+      return undefined;
+    }
+    const last = literals.length - 1;
+    literals[last] = `${literals[last] ?? ''}${mode === 'markdown' ? escapeMarkdown(value) : foldLines(value)}${next}`;
+  }
+  return { literals, names };
+}
+
 /** Fills `{{name}}` placeholders of a template text; see {@link renderCompiled}. */
 export function renderTemplate(
   templateText: string,

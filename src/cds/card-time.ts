@@ -172,13 +172,12 @@ export function formatClockTime(atIso: string, now: Date, timeZone: string): str
 /** "15 min ago", "3 h 10 min ago", "2 days ago"; "after this check" for a time later than `now`. */
 export function formatAgo(atIso: string, now: Date): string | undefined {
   const minutes = minutesBetween(atIso, now);
-  if (minutes === undefined) {
-    return undefined;
-  }
-  if (minutes < 0) {
-    return 'later than this check';
-  }
-  return `${formatDuration(minutes)} ago`;
+  return minutes === undefined ? undefined : agoText(minutes);
+}
+
+/** {@link formatAgo} of a time this many minutes before `now`. */
+function agoText(minutes: number): string {
+  return minutes < 0 ? 'later than this check' : `${formatDuration(minutes)} ago`;
 }
 
 function whenText(clock: string | undefined, ago: string | undefined, atIso: string): string {
@@ -212,10 +211,14 @@ export function cardClock(now: Date, timeZone: string): CardClock {
   const when = (atIso: string): string => {
     let text = shown.get(atIso);
     if (text === undefined) {
-      const at = readTime(atIso);
-      today ??= localParts(now, timeZone);
-      const clock = at === undefined ? undefined : clockTimeBeside(localParts(at, timeZone), today);
-      text = whenText(clock, formatAgo(atIso, now), atIso);
+      // Read once for the clock time and the time since, as formatWhen reads it twice.
+      const atMs = Date.parse(atIso);
+      if (Number.isNaN(atMs)) {
+        text = whenText(undefined, undefined, atIso);
+      } else {
+        today ??= localParts(now, timeZone);
+        text = whenText(clockTimeBeside(localParts(new Date(atMs), timeZone), today), agoText((now.getTime() - atMs) / 60_000), atIso);
+      }
       shown.set(atIso, text);
     }
     return text;

@@ -24,16 +24,13 @@ function uuidBytes(uuid: string): Buffer {
   return Buffer.from(uuidHex(uuid), 'hex');
 }
 
-/** Our namespace's bytes, read once: every card uuid of every call is hashed under it. */
-const CARD_NAMESPACE_BYTES = uuidBytes(CARD_UUID_NAMESPACE);
-
 /**
  * SHA-1 of a few bytes, as hex. The one-shot `crypto.hash` (Node 20.12 and later) costs about half of a
  * Hash object for a name this short, and a card call makes several; `engines` still admits older Node 20
  * releases, which lack it. Hex rather than a Buffer: the digest is wanted as text, and making the string
  * at once costs less than a Buffer and then its text.
  */
-const sha1Hex: (data: Buffer) => string =
+const sha1Hex: (data: Uint8Array) => string =
   typeof crypto.hash === 'function'
     ? (data) => crypto.hash('sha1', data, 'hex')
     : (data) => crypto.createHash('sha1').update(data).digest('hex');
@@ -42,43 +39,48 @@ const sha1Hex: (data: Buffer) => string =
 const VARIANT_DIGITS = '89ab';
 
 /**
- * The bytes hashed, namespace then the UTF-8 name, in one buffer (rather than a Buffer of the name and
- * a third to join the two): the name is written here from byte 16, the caller writes the namespace's
- * 16 bytes before it.
+ * Where the bytes to hash are written, namespace then the UTF-8 name, reused by every uuid: a card call
+ * makes several, and a Buffer made for each (its byte count worked out first) cost a third of the uuid.
+ * Nothing runs between writing it and hashing it (all synchronous), so one is enough. A name that might
+ * not fit (a UTF-16 unit is at most 3 bytes of UTF-8) gets a buffer of its own.
  */
-function bufferWithName(name: string): Buffer {
-  const data = Buffer.allocUnsafe(16 + Buffer.byteLength(name, 'utf8'));
-  data.write(name, 16, 'utf8');
-  return data;
-}
+const SCRATCH = Buffer.alloc(1024);
+const SCRATCH_NAME_ROOM = SCRATCH.length - 16;
+
+/** Our namespace's bytes, read once: every card uuid of every call is hashed under it. */
+const CARD_NAMESPACE_BYTES = uuidBytes(CARD_UUID_NAMESPACE);
 
 /**
  * RFC 9562 §5.5: SHA-1 over namespace bytes then the UTF-8 name; the first 16 bytes, with version 5 in
  * the high nibble of byte 6 and variant 10 in the top bits of byte 8. Both are set on the hex digits:
  * digit 12 becomes `5`, digit 16 keeps its low two bits under `10`.
  */
-function uuidOfHashed(data: Buffer): string {
+function uuidOfHashed(data: Uint8Array): string {
   const hex = sha1Hex(data);
   const variant = VARIANT_DIGITS[Number.parseInt(hex.charAt(16), 16) & 0x3] ?? '';
   return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-5${hex.slice(13, 16)}-${variant}${hex.slice(17, 20)}-${hex.slice(20, 32)}`;
 }
 
-function uuidV5FromBytes(namespaceBytes: Buffer, name: string): string {
-  const data = bufferWithName(name);
-  namespaceBytes.copy(data, 0);
-  return uuidOfHashed(data);
+/**
+ * The uuid of `name` under our namespace, or under the namespace whose 32 hex digits are given. The
+ * namespace's 16 bytes are written first each time (another namespace may have used the scratch since).
+ */
+function uuidOfName(name: string, namespaceHex?: string): string {
+  const fits = name.length * 3 <= SCRATCH_NAME_ROOM;
+  const data = fits ? SCRATCH : Buffer.allocUnsafe(16 + Buffer.byteLength(name, 'utf8'));
+  if (namespaceHex === undefined) {
+    CARD_NAMESPACE_BYTES.copy(data, 0);
+  } else {
+    data.write(namespaceHex, 0, 'hex');
+  }
+  const written = data.write(name, 16, 'utf8');
+  return uuidOfHashed(fits ? data.subarray(0, 16 + written) : data);
 }
 
 /** A version 5 UUID of `name` under `namespace` (RFC 9562 §5.5). */
 export function uuidV5(namespace: string, name: string): string {
-  if (namespace === CARD_UUID_NAMESPACE) {
-    return uuidV5FromBytes(CARD_NAMESPACE_BYTES, name);
-  }
-  // Any other namespace (a card's uuid, for its suggestions) is written into the hashed bytes as read.
-  const hex = uuidHex(namespace);
-  const data = bufferWithName(name);
-  data.write(hex, 0, 'hex');
-  return uuidOfHashed(data);
+  // Any namespace but ours (a card's uuid, for its suggestions) is written into the hashed bytes as read.
+  return namespace === CARD_UUID_NAMESPACE ? uuidOfName(name) : uuidOfName(name, uuidHex(namespace));
 }
 
 /**
@@ -87,7 +89,7 @@ export function uuidV5(namespace: string, name: string): string {
  */
 export function cardUuid(hookInstance: string, ruleId: string, orderReference: string | undefined, occurrence = 0): string {
   const name = `${hookInstance}\n${ruleId}\n${orderReference ?? '-'}`;
-  return uuidV5FromBytes(CARD_NAMESPACE_BYTES, occurrence > 0 ? `${name}\n${occurrence}` : name);
+  return uuidOfName(occurrence > 0 ? `${name}\n${occurrence}` : name);
 }
 
 /** The uuid of a card's suggestion, derived from the card's uuid and the suggestion's position. */

@@ -3,6 +3,7 @@ import { join } from 'node:path';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
+  bindFixedValues,
   compiledCardTemplate,
   compileText,
   escapeMarkdown,
@@ -215,6 +216,51 @@ describe('compiled card templates', () => {
         expect(renderTemplate(text, values, mode)).toStrictEqual(referenceRender(text, values, mode));
       }),
     );
+  });
+});
+
+describe('bindFixedValues', () => {
+  it('renders any text as rendering it with the fixed values as overrides does, or declines', () => {
+    const name = fc.constantFrom('a', 'b', 'guideline', 'toString');
+    const piece = fc.oneof(fc.string(), name.map((n) => `{{${n}}}`), name.map((n) => `{{ ${n} }}`));
+    // Values with GFM specials and line breaks (GFM spec, backslash escapes and line endings), blanks too.
+    const value = fc.oneof(fc.string(), fc.constantFrom('', '  ', 'BTS 2017', 'a*b_c', 'x\n  y', '[link](u) | #'));
+    fc.assert(
+      fc.property(
+        fc.array(piece, { maxLength: 8 }),
+        fc.dictionary(name, value),
+        fc.dictionary(name, value),
+        fc.constantFrom<'markdown' | 'plain'>('markdown', 'plain'),
+        (pieces, values, fixed, mode) => {
+          const compiled = compileText(pieces.join(''));
+          const expected = renderCompiled(compiled, values, mode, fixed);
+          const bound = bindFixedValues(compiled, fixed, mode);
+          const usesBlankFixed = compiled.names.some((n) => Object.hasOwn(fixed, n) && (fixed[n] ?? '').trim() === '');
+          // It declines exactly when a fixed value it would fill in is blank (to be reported missing in place).
+          expect(bound === undefined).toBe(usesBlankFixed);
+          if (bound !== undefined) {
+            expect(bound.names.every((n) => !Object.hasOwn(fixed, n))).toBe(true);
+            expect(renderCompiled(bound, values, mode)).toStrictEqual(expected);
+          }
+        },
+      ),
+    );
+  });
+
+  it('fills the guideline into every bundled card text once, leaving the finding placeholders', () => {
+    const fixed = { guideline: 'BTS 2017', guidelines: 'BTS 2017, TSANZ 2015' };
+    let filled = 0;
+    for (const [file, template] of bundledTemplates()) {
+      const compiled = compiledCardTemplate(template);
+      for (const [text, mode] of [[compiled.summary, 'plain'], [compiled.detail, 'markdown']] as const) {
+        const bound = bindFixedValues(text, fixed, mode);
+        expect(bound, file).toBeDefined();
+        expect(bound?.names).toStrictEqual(text.names.filter((n) => !Object.hasOwn(fixed, n)));
+        filled += text.names.length - (bound?.names.length ?? 0);
+      }
+    }
+    // 21 of the bundled card files cite {{guideline}} (cards/*.yaml).
+    expect(filled).toBeGreaterThanOrEqual(21);
   });
 });
 

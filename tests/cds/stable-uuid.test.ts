@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import { CARD_UUID_NAMESPACE, cardUuid, suggestionUuid, uuidV5 } from '../../src/cds/stable-uuid.js';
 
@@ -15,6 +16,42 @@ describe('uuidV5', () => {
     [NAMESPACE_URL, 'urn:oxygen-order-checker', CARD_UUID_NAMESPACE],
   ])('derives uuidv5(%s, %s) = %s', (namespace, name, expected) => {
     expect(uuidV5(namespace, name)).toBe(expected);
+  });
+
+  /** RFC 9562 §5.5 as written: SHA-1 of the namespace's 16 bytes then the name's UTF-8, version and variant set. */
+  function rfcV5(namespace: string, name: string): string {
+    const digest = createHash('sha1')
+      .update(Buffer.from(namespace.replaceAll('-', ''), 'hex'))
+      .update(Buffer.from(name, 'utf8'))
+      .digest();
+    digest[6] = ((digest[6] ?? 0) & 0x0f) | 0x50;
+    digest[8] = ((digest[8] ?? 0) & 0x3f) | 0x80;
+    const hex = digest.subarray(0, 16).toString('hex');
+    return `${hex.slice(0, 8)}-${hex.slice(8, 12)}-${hex.slice(12, 16)}-${hex.slice(16, 20)}-${hex.slice(20)}`;
+  }
+
+  it.each([
+    ['a short ASCII name', 'hook-1\nrule-a\nServiceRequest/1'],
+    ['an empty name', ''],
+    ['non-ASCII text (2- and 3-byte UTF-8)', 'Ward Ōtautahi – SpO2 ≥ 94 %'],
+    ['a character outside the BMP (4-byte UTF-8)', 'order 😀 1'],
+    ['a lone surrogate (written as U+FFFD)', 'bad \ud800 half'],
+    ['a name longer than any card uuid name', 'x'.repeat(5000)],
+    ['a long name of 3-byte characters', '–'.repeat(400)],
+  ])('hashes %s as RFC 9562 §5.5 defines, under any namespace', (_what, name) => {
+    for (const namespace of [CARD_UUID_NAMESPACE, NAMESPACE_DNS, NAMESPACE_URL]) {
+      expect(uuidV5(namespace, name)).toBe(rfcV5(namespace, name));
+    }
+  });
+
+  it('gives each uuid its own namespace when namespaces take turns', () => {
+    // Names hashed under one namespace, then another, then the first again: none borrows the other's bytes.
+    const name = 'hook-1\nrule-a\nServiceRequest/1';
+    const turns = [CARD_UUID_NAMESPACE, NAMESPACE_DNS, CARD_UUID_NAMESPACE, NAMESPACE_URL, CARD_UUID_NAMESPACE];
+    expect(turns.map((namespace) => uuidV5(namespace, name))).toEqual(turns.map((namespace) => rfcV5(namespace, name)));
+    const card = cardUuid('hook-1', 'rule-a', 'ServiceRequest/1');
+    expect(suggestionUuid(card, 0)).toBe(rfcV5(card, 'suggestion\n0'));
+    expect(cardUuid('hook-1', 'rule-a', 'ServiceRequest/1')).toBe(card);
   });
 
   it('throws on a namespace that is not a UUID (a programmer error)', () => {
