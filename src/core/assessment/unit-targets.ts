@@ -86,13 +86,17 @@ export function matchUnit(units: readonly UnitTargets[], location: EncounterLoca
   if (units.length === 0) return { kind: 'none', reason: 'no-units' };
   if (location.name === undefined && location.ids.length === 0) return { kind: 'none', reason: 'no-location' };
   const normalisedName = location.name === undefined ? undefined : normaliseUnitName(location.name);
-  const matches = units.flatMap((unit, index) => {
+  let first: { readonly unit: UnitTargets; readonly index: number; readonly matchedBy: string } | undefined;
+  const alsoMatched: string[] = [];
+  for (let index = 0; index < units.length; index += 1) {
+    const unit = units[index] as UnitTargets;
     const matchedBy = howMatched(unit, normalisedName, location.ids);
-    return matchedBy === undefined ? [] : [{ unit, index, matchedBy }];
-  });
-  const [first, ...later] = matches;
+    if (matchedBy === undefined) continue;
+    if (first === undefined) first = { unit, index, matchedBy };
+    else alsoMatched.push(unit.name);
+  }
   if (first === undefined) return { kind: 'none', reason: 'no-match' };
-  return { kind: 'matched', ...first, alsoMatched: later.map((m) => m.unit.name) };
+  return { kind: 'matched', unit: first.unit, index: first.index, matchedBy: first.matchedBy, alsoMatched };
 }
 
 /**
