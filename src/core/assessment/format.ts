@@ -1,3 +1,4 @@
+import { readingMs } from '../time/reading-time.js';
 import type { BloodGas, SaturationRange } from '../types.js';
 
 /**
@@ -187,10 +188,13 @@ export function formatGasValue(gas: BloodGas, component: GasComponent): string |
   }
 }
 
-/** Minutes between two ISO times (positive when `later` is after `earlier`); undefined if unreadable. */
-export function minutesBetween(earlierIso: string, later: Date): number | undefined {
-  const earlier = Date.parse(earlierIso);
-  return Number.isNaN(earlier) ? undefined : (later.getTime() - earlier) / 60_000;
+/** A time as ISO text, or a reading, whose time is read from the epoch ms it carries (readingMs). */
+export type TimeOrReading = string | { readonly at: string; readonly atMs?: number };
+
+/** Minutes between two times (positive when `later` is after `earlier`); undefined if unreadable. */
+export function minutesBetween(earlier: TimeOrReading, later: Date): number | undefined {
+  const earlierMs = typeof earlier === 'string' ? Date.parse(earlier) : readingMs(earlier);
+  return Number.isNaN(earlierMs) ? undefined : (later.getTime() - earlierMs) / 60_000;
 }
 
 /** A duration in words: "45 min", "3 h 10 min", "2 days". */

@@ -248,7 +248,7 @@ export const rule: Rule = {
     const gasUsed =
       gas === undefined
         ? `none within the last ${formatNumber(policy.freshness.bloodGasMinutes / 60, 1)} h`
-        : gasLine(gas, describeAge(gas.at, now)) + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
+        : gasLine(gas, describeAge(gas, now)) + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
     const expected =
       p.expectedAaGradient.kind === 'ok'
         ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
