@@ -43,17 +43,39 @@ export function oncePerPatient(findings: readonly Finding[]): Finding[] {
   });
 }
 
-/** The registry's rules for each hook, in registry order, picked once rather than on every call. */
-const RULES_BY_HOOK: ReadonlyMap<HookName, readonly Rule[]> = new Map(
-  (['order-sign', 'order-select', 'patient-view'] as const).map((hook) => [hook, RULES.filter((r) => r.hooks.includes(hook))]),
-);
-
-/** A policy's disabled rule ids as a set, made once per policy (a policy is frozen once loaded). */
-const disabledSetOf = oncePerObject((ids: readonly string[]): ReadonlySet<string> => new Set(ids));
-
-function disabledRuleIds(policy: Policy): ReadonlySet<string> {
-  return disabledSetOf(policy.disabledRules);
+/** A rule as a policy runs it: the rule and the indicator the policy gives its findings, if it overrides it. */
+interface PlannedRule {
+  readonly rule: Rule;
+  readonly severity: Indicator | undefined;
 }
+
+/** The rules a policy runs for one hook: for adults, and below the policy's minimum age. */
+interface HookPlan {
+  readonly adults: readonly PlannedRule[];
+  readonly childOnly: readonly PlannedRule[];
+}
+
+const HOOKS: readonly HookName[] = ['order-sign', 'order-select', 'patient-view'];
+
+/**
+ * Which rules run for each hook under a policy, in registry order, with each one's severity
+ * override: made once per policy object rather than re-decided rule by rule on every call. A policy
+ * is frozen once loaded, and a unit's effective policy is one object per unit (unit-targets.ts), so
+ * this is made once per policy and unit. The guidelines encoded are for adults: below the policy's
+ * minimum age only the rules that hold for anyone run (data quality, order keeping, and the card
+ * saying local paediatric policy applies).
+ */
+const hookPlansOf = oncePerObject((policy: Policy): ReadonlyMap<HookName, HookPlan> => {
+  const disabled = new Set(policy.disabledRules);
+  return new Map(
+    HOOKS.map((hook) => {
+      const adults = RULES.filter((rule) => rule.hooks.includes(hook) && !disabled.has(rule.id)).map(
+        (rule): PlannedRule => ({ rule, severity: policy.severity[rule.id] }),
+      );
+      return [hook, { adults, childOnly: adults.filter(({ rule }) => (rule.appliesTo ?? 'adults') !== 'adults') }];
+    }),
+  );
+});
 
 /** Keeps `finding` unless the same finding is already kept; `kept` groups them by rule and order. */
 function keepOnce(kept: Map<string, Finding[]>, finding: Finding): boolean {
@@ -76,22 +98,16 @@ function runRules(
   assessment: Assessment,
   options: { readonly hook: HookName; readonly now: Date },
 ): Finding[] {
-  const disabled = disabledRuleIds(policy);
+  const plan = hookPlansOf(policy).get(options.hook);
   const findings: Finding[] = [];
-  // The guidelines encoded are for adults: below the policy's minimum age only the rules that hold
-  // for anyone run (data quality, order keeping, and the card saying local paediatric policy applies).
-  const childOnly = assessment.population.kind === 'below-minimum-age';
+  if (plan === undefined) {
+    return findings;
+  }
+  const rules = assessment.population.kind === 'below-minimum-age' ? plan.childOnly : plan.adults;
   const noLowering = reasonNotToLowerOxygen(assessment) !== undefined;
   // Every rule reads the same context (read-only), so it is made once per assessment, not per rule.
   const context: RuleContext = { facts, policy, assessment, hook: options.hook, now: options.now };
-  for (const rule of RULES_BY_HOOK.get(options.hook) ?? []) {
-    if (disabled.has(rule.id)) {
-      continue;
-    }
-    if (childOnly && (rule.appliesTo ?? 'adults') === 'adults') {
-      continue;
-    }
-    const override = policy.severity[rule.id];
+  for (const { rule, severity } of rules) {
     for (const made of rule.evaluate(context)) {
       // One safety interlock for every rule: no one-click change lowers the oxygen while the patient
       // may be tiring or is below target (support/oxygen-lowering.ts). The card's advice stays.
@@ -101,7 +117,7 @@ function runRules(
         ((noLowering && changeLowersOxygen(made.change, assessment, facts)) || !changeUsesStock(made.change, policy.devices))
           ? { ...made, change: undefined }
           : made;
-      findings.push(override === undefined ? finding : { ...finding, indicator: override });
+      findings.push(severity === undefined ? finding : { ...finding, indicator: severity });
     }
   }
   return findings;

@@ -76,6 +76,35 @@ describe('evaluateOrder', () => {
     ]);
   });
 
+  it("keeps each policy's disabled rules and severities to itself, and applies them on a unit with its own range", () => {
+    const ward = 'Larkspur Bay General Hospital, Ward 9 (demo)';
+    const onWard = { ...workedCase, encounterUnit: ward };
+    const units = [
+      {
+        name: 'Ward 9',
+        match: { names: [ward], patterns: [], locations: [] },
+        targets: { standard: { lowPercent: 92, highPercent: 96 }, hypercapnicRisk: undefined }, // PILOT 2022 intermediate arm
+        basisKey: undefined,
+      },
+    ];
+    const quiet = withPolicy(BTS, { units, disabledRules: ['oxygenation-summary'] });
+    const loud = withPolicy(BTS, { units, severity: { 'repeat-blood-gas-due': 'critical' } });
+    const run = (policy: typeof BTS) =>
+      evaluateOrder(onWard, policy, { hook: 'order-sign', now: NOW }).findings.map((f) => [f.ruleId, f.indicator]);
+    // Taking turns, so a choice remembered for one policy would show under the other.
+    for (let round = 0; round < 2; round += 1) {
+      expect(run(quiet)).toStrictEqual([
+        ['target-above-hypercapnic-range', 'critical'], // BTS 2017, Table 4 (88-92 %)
+        ['repeat-blood-gas-due', 'info'], // BTS 2017, Tables 2-4 (repeat gas in 30-60 min)
+      ]);
+      expect(run(loud)).toStrictEqual([
+        ['target-above-hypercapnic-range', 'critical'], // BTS 2017, Table 4 (88-92 %)
+        ['repeat-blood-gas-due', 'critical'],
+        ['oxygenation-summary', 'info'],
+      ]);
+    }
+  });
+
   it('evaluates each subject order and states patient-level findings once', () => {
     const facts = buildFacts({
       orders: [

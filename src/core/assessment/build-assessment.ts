@@ -110,14 +110,14 @@ export function buildAssessment(
   const current = pickCurrentValues(facts, policy, now);
   const barometricPressure = siteBarometricPressure(policy);
   const delivery = estimateOrderDelivery(order, current, stockedVenturiSettings(policy.devices));
-  const fio2AtGas = fio2InForceAt(current.arterialGas?.at, facts, order, delivery, policy);
-  const fio2AtSpo2 = fio2InForceAt(current.spo2?.at, facts, order, delivery, policy);
+  const fio2AtGas = fio2InForceAt(current.arterialGas, facts, order, delivery, policy);
+  const fio2AtSpo2 = fio2InForceAt(current.spo2, facts, order, delivery, policy);
 
   // An earlier arterial gas on a different FiO2 lets the mechanism hint test for shunt.
   const earlierArterial = newestFirst(facts.bloodGases).find(
     (g) => g.specimen === 'arterial' && g !== current.arterialGas && g.pao2MmHg !== undefined,
   );
-  const earlierFio2 = fio2InForceAt(earlierArterial?.at, facts, order, delivery, policy);
+  const earlierFio2 = fio2InForceAt(earlierArterial, facts, order, delivery, policy);
   const previous =
     earlierArterial?.pao2MmHg !== undefined &&
     earlierFio2.kind === 'ok' &&

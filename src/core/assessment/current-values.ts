@@ -1,12 +1,12 @@
 import type { Policy } from '../policy.js';
 import type { BloodGas, Facts, Measured } from '../types.js';
-import { minutesBetween } from './format.js';
+import { minutesBetween, type TimeOrReading } from './format.js';
 import type { CurrentValues } from './types.js';
 import { isNewestFirst, readWithin } from '../time/reading-time.js';
 import { sortByTime } from '../time/sort-by-time.js';
 
 /** True when `at` is no older than `windowMinutes` before `now` (a slightly future time counts). */
-export function isWithin(at: string, now: Date, windowMinutes: number): boolean {
+export function isWithin(at: TimeOrReading, now: Date, windowMinutes: number): boolean {
   const age = minutesBetween(at, now);
   return age !== undefined && age <= windowMinutes;
 }

@@ -57,22 +57,22 @@ function estimateAtRecordedFlow(
 }
 
 /**
- * The FiO2 being breathed at `at` (a gas or an SpO2 time): the recorded FiO2 observation nearest that
- * time (within the vital-signs window), else the recorded O2 flow nearest it on the ordered device,
- * else the order's own estimate. The basis and source travel with the value so a card can say which
- * was used.
+ * The FiO2 being breathed at `at` (a gas or an SpO2, or its time): the recorded FiO2 observation
+ * nearest that time (within the vital-signs window), else the recorded O2 flow nearest it on the
+ * ordered device, else the order's own estimate. The basis and source travel with the value so a card
+ * can say which was used. Given the reading itself, its time is read from the epoch ms it carries.
  */
 export function fio2InForceAt(
-  at: string | undefined,
+  at: string | { readonly at: string; readonly atMs?: number } | undefined,
   facts: Facts,
   order: OxygenOrder | undefined,
   orderDelivery: Outcome<DeliveryEstimate>,
   policy: Policy,
 ): Outcome<Fio2InForce> {
-  if (at === undefined || Number.isNaN(Date.parse(at))) {
+  const atMs = at === undefined ? Number.NaN : typeof at === 'string' ? Date.parse(at) : readingMs(at);
+  if (Number.isNaN(atMs)) {
     return { kind: 'unknown', reason: 'no measurement time to match an FiO2 to' };
   }
-  const atMs = Date.parse(at);
   const windowMinutes = policy.freshness.vitalSignsMinutes;
   const recordedFio2 = nearest(facts.fio2Fraction, atMs, windowMinutes);
   if (recordedFio2 !== undefined) {

@@ -1,3 +1,4 @@
+import { readingMs } from '../time/reading-time.js';
 import type { BloodGas, SaturationRange } from '../types.js';
 
 /**
@@ -6,11 +7,54 @@ import type { BloodGas, SaturationRange } from '../types.js';
  * mmHg, the unit the physiology is published in.
  */
 
+/** Powers of ten for the places {@link roundedAwayFromTie} handles. */
+const SCALE = [1, 10, 100, 1000] as const;
+
+/**
+ * `|value| × 10^decimals` rounded to a whole number as `toFixed(decimals)` rounds it, or undefined
+ * when only `toFixed` can tell: more than 3 places, not finite, 1e6 or more once scaled, or within
+ * 1e-9 of a half, where the multiplication's rounding (under 1.2e-10 below 1e6) might have moved the
+ * value across the half that the exact decimal reading of the double decides (ECMA-262,
+ * Number.prototype.toFixed). Everywhere else the nearest whole number is the same either way.
+ * `toFixed` runs the exact algorithm on every call and is several times slower; the cards call this
+ * dozens of times a check.
+ */
+function roundedAwayFromTie(value: number, decimals: number): number | undefined {
+  const scale = SCALE[decimals];
+  if (scale === undefined) {
+    return undefined;
+  }
+  const scaled = Math.abs(value) * scale;
+  if (!(scaled < 1e6)) {
+    return undefined;
+  }
+  const fraction = scaled - Math.floor(scaled);
+  return Math.abs(fraction - 0.5) > 1e-9 ? Math.round(scaled) : undefined;
+}
+
 /** Rounds to at most `decimals` places and drops trailing zeros: 6.70 → "6.7", 3.0 → "3". */
 export function formatNumber(value: number, decimals: number): string {
   // Whole numbers (most card values) need no rounding; below 1e21 String() writes them as toFixed does.
   if (Number.isInteger(value) && Math.abs(value) < 1e21) {
     return String(value === 0 ? 0 : value);
+  }
+  const rounded = roundedAwayFromTie(value, decimals);
+  if (rounded !== undefined) {
+    // The digits toFixed would write, with the trailing zeros (and a bare point) already dropped.
+    let digits = rounded;
+    let places = decimals;
+    while (places > 0 && digits % 10 === 0) {
+      digits /= 10;
+      places -= 1;
+    }
+    // toFixed keeps the minus sign of a negative value that rounds to zero ("-0.00", trimmed "-0").
+    const sign = value < 0 ? '-' : '';
+    if (places === 0) {
+      return `${sign}${digits}`;
+    }
+    const scale = SCALE[places] ?? 1;
+    const whole = Math.floor(digits / scale);
+    return `${sign}${whole}.${String(digits - whole * scale).padStart(places, '0')}`;
   }
   const fixed = value.toFixed(decimals);
   if (!fixed.includes('.')) {
@@ -33,9 +77,13 @@ export function formatPercent(percent: number): string {
   return `${formatNumber(percent, 1)} %`;
 }
 
-/** FiO2 as a fraction to two places: "0.32". */
+/** "0.00" to "1.00", each written once: every FiO2 a card shows is one of them. */
+const FRACTIONS: readonly string[] = Array.from({ length: 101 }, (_, hundredths) => (hundredths / 100).toFixed(2));
+
+/** FiO2 as a fraction to two places: "0.32" (exactly as `toFixed(2)` writes it). */
 export function formatFraction(fraction: number): string {
-  return fraction.toFixed(2);
+  const hundredths = fraction >= 0 && fraction <= 1 ? roundedAwayFromTie(fraction, 2) : undefined;
+  return (hundredths === undefined ? undefined : FRACTIONS[hundredths]) ?? fraction.toFixed(2);
 }
 
 /** "0.32 (0.28–0.36)": an estimate with its plausible range. */
@@ -140,10 +188,13 @@ export function formatGasValue(gas: BloodGas, component: GasComponent): string |
   }
 }
 
-/** Minutes between two ISO times (positive when `later` is after `earlier`); undefined if unreadable. */
-export function minutesBetween(earlierIso: string, later: Date): number | undefined {
-  const earlier = Date.parse(earlierIso);
-  return Number.isNaN(earlier) ? undefined : (later.getTime() - earlier) / 60_000;
+/** A time as ISO text, or a reading, whose time is read from the epoch ms it carries (readingMs). */
+export type TimeOrReading = string | { readonly at: string; readonly atMs?: number };
+
+/** Minutes between two times (positive when `later` is after `earlier`); undefined if unreadable. */
+export function minutesBetween(earlier: TimeOrReading, later: Date): number | undefined {
+  const earlierMs = typeof earlier === 'string' ? Date.parse(earlier) : readingMs(earlier);
+  return Number.isNaN(earlierMs) ? undefined : (later.getTime() - earlierMs) / 60_000;
 }
 
 /** A duration in words: "45 min", "3 h 10 min", "2 days". */

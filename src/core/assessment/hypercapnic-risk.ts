@@ -25,7 +25,7 @@ const riskConditionSet = oncePerObject(
 
 function describeGasPco2(gas: BloodGas, now: Date): string {
   const label = gas.specimen === 'arterial' ? 'PaCO2' : `${gas.specimen} PCO2`;
-  const age = minutesBetween(gas.at, now);
+  const age = minutesBetween(gas, now);
   const when = age === undefined ? '' : ` ${formatDuration(age)} ago`;
   return `${label} ${formatGasValue(gas, 'paco2') ?? ''}${when}`.trim();
 }

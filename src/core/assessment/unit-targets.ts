@@ -1,3 +1,4 @@
+import { oncePerObject } from '../once-per-object.js';
 import type { Policy, UnitTargets } from '../policy.js';
 import type { Facts } from '../types.js';
 
@@ -38,24 +39,40 @@ export function normaliseUnitName(name: string): string {
 }
 
 /** A name pattern as a whole-name, case-blind test; `*` stands for any text, everything else is literal. */
-function patternMatches(pattern: string, name: string): boolean {
+function patternRegExp(pattern: string): RegExp {
   const body = normaliseUnitName(pattern)
     .split('*')
     .map((part) => part.replace(/[.+?^${}()|[\]\\]/g, '\\$&'))
     .join('.*');
-  return new RegExp(`^${body}$`).test(normaliseUnitName(name));
+  return new RegExp(`^${body}$`);
 }
 
-/** How one unit matches the location, or undefined. Exact names first, then patterns, then ids. */
-function howMatched(unit: UnitTargets, location: EncounterLocation): string | undefined {
-  const { name } = location;
-  if (name !== undefined) {
-    const exact = unit.match.names.find((n) => normaliseUnitName(n) === normaliseUnitName(name));
-    if (exact !== undefined) return `name '${exact}'`;
-    const pattern = unit.match.patterns.find((p) => patternMatches(p, name));
-    if (pattern !== undefined) return `pattern '${pattern}'`;
+/** A unit's names normalised and its patterns compiled, each once per unit (a policy is frozen once loaded). */
+interface UnitMatcher {
+  readonly names: readonly { readonly written: string; readonly normalised: string }[];
+  readonly patterns: readonly { readonly written: string; readonly test: RegExp }[];
+}
+
+const matcherOf = oncePerObject(
+  (match: UnitTargets['match']): UnitMatcher => ({
+    names: match.names.map((written) => ({ written, normalised: normaliseUnitName(written) })),
+    patterns: match.patterns.map((written) => ({ written, test: patternRegExp(written) })),
+  }),
+);
+
+/**
+ * How one unit matches the location, or undefined. Exact names first, then patterns, then ids.
+ * `normalisedName` is the location's name through `normaliseUnitName`, worked out once per lookup.
+ */
+function howMatched(unit: UnitTargets, normalisedName: string | undefined, ids: readonly string[]): string | undefined {
+  if (normalisedName !== undefined) {
+    const { names, patterns } = matcherOf(unit.match);
+    const exact = names.find((n) => n.normalised === normalisedName);
+    if (exact !== undefined) return `name '${exact.written}'`;
+    const pattern = patterns.find((p) => p.test.test(normalisedName));
+    if (pattern !== undefined) return `pattern '${pattern.written}'`;
   }
-  const id = unit.match.locations.find((l) => location.ids.includes(l));
+  const id = unit.match.locations.find((l) => ids.includes(l));
   return id === undefined ? undefined : `location '${id}'`;
 }
 
@@ -68,28 +85,51 @@ function howMatched(unit: UnitTargets, location: EncounterLocation): string | un
 export function matchUnit(units: readonly UnitTargets[], location: EncounterLocation): UnitMatch {
   if (units.length === 0) return { kind: 'none', reason: 'no-units' };
   if (location.name === undefined && location.ids.length === 0) return { kind: 'none', reason: 'no-location' };
-  const matches = units.flatMap((unit, index) => {
-    const matchedBy = howMatched(unit, location);
-    return matchedBy === undefined ? [] : [{ unit, index, matchedBy }];
-  });
-  const [first, ...later] = matches;
+  const normalisedName = location.name === undefined ? undefined : normaliseUnitName(location.name);
+  let first: { readonly unit: UnitTargets; readonly index: number; readonly matchedBy: string } | undefined;
+  const alsoMatched: string[] = [];
+  for (let index = 0; index < units.length; index += 1) {
+    const unit = units[index] as UnitTargets;
+    const matchedBy = howMatched(unit, normalisedName, location.ids);
+    if (matchedBy === undefined) continue;
+    if (first === undefined) first = { unit, index, matchedBy };
+    else alsoMatched.push(unit.name);
+  }
   if (first === undefined) return { kind: 'none', reason: 'no-match' };
-  return { kind: 'matched', ...first, alsoMatched: later.map((m) => m.unit.name) };
+  return { kind: 'matched', unit: first.unit, index: first.index, matchedBy: first.matchedBy, alsoMatched };
 }
+
+/**
+ * The effective policy of each unit, made once per base policy and unit: every call from one ward
+ * gets the same object back, so what is built once per policy object downstream (WeakMap caches in
+ * the engine and the card builder) is built once per unit too, not again on every call.
+ */
+const unitPolicies = oncePerObject((): Map<UnitTargets, Policy> => new Map());
 
 /** The policy with the matched unit's ranges in `targets`; the same policy when no unit matched. */
 export function policyForUnit(policy: Policy, match: UnitMatch): Policy {
   if (match.kind === 'none') return policy;
-  const { standard, hypercapnicRisk } = match.unit.targets;
-  return {
+  const made = unitPolicies(policy);
+  let effective = made.get(match.unit);
+  if (effective === undefined) {
+    effective = unitPolicy(policy, match.unit);
+    made.set(match.unit, effective);
+  }
+  return effective;
+}
+
+function unitPolicy(policy: Policy, unit: UnitTargets): Policy {
+  const { standard, hypercapnicRisk } = unit.targets;
+  // Frozen like the parsed policy it comes from: it is shared by every call from the unit.
+  return Object.freeze({
     ...policy,
-    targets: {
+    targets: Object.freeze({
       standard: standard ?? policy.targets.standard,
       hypercapnicRisk: hypercapnicRisk ?? policy.targets.hypercapnicRisk,
       // Not a unit's to set: the range that limits oxygen for paraquat or bleomycin (BTS 2017 Table 3).
       oxygenToxicityRisk: policy.targets.oxygenToxicityRisk,
-    },
-  };
+    }),
+  });
 }
 
 /** The encounter's location as the facts give it. */

@@ -58,7 +58,7 @@ export const rule: Rule = {
         values: {
           ph: formatGasValue(gas, 'ph') ?? formatNumber(ph, 2),
           paco2: formatGasValue(gas, 'paco2') ?? '',
-          gasAge: describeAge(gas.at, now),
+          gasAge: describeAge(gas, now),
           specimen: gas.specimen === 'arterial' ? 'arterial' : `${gas.specimen} (confirm with an arterial sample)`,
           acidosisPh: formatNumber(t.acidosisPhBelow, 2),
           hypercapniaThreshold: hypercapnia.display,

@@ -100,7 +100,7 @@ export const rule: Rule = {
           raisedAt,
           repeatWindow: window.repeatWindow,
           dueWindow: window.dueWindow,
-          lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas.at, now),
+          lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas, now),
           riskReasons: describeRiskReasons(assessment),
           orderDescription: describeOrder(order),
         },

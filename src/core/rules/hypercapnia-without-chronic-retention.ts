@@ -76,7 +76,7 @@ export const rule: Rule = {
         values: {
           ph: formatGasValue(gas, 'ph') ?? formatNumber(gas.ph, 2),
           paco2: formatGasValue(gas, 'paco2') ?? '',
-          gasAge: describeAge(gas.at, now),
+          gasAge: describeAge(gas, now),
           specimen: gas.specimen === 'arterial' ? 'arterial' : `${gas.specimen} (confirm with an arterial sample)`,
           classification: classification.summary,
           acidosisPh: formatNumber(policy.thresholds.acidosisPhBelow, 2),

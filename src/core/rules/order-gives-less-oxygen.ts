@@ -57,7 +57,7 @@ function findReduction(order: OxygenOrder, assessment: Assessment, facts: Facts,
   const spo2At = assessment.current.spo2?.at;
   const gives = orderGives(order, assessment);
   const onRecord = facts.activeOrders.filter((o) => o.reference !== order.reference && givesOxygen(o));
-  const freshFlows = newestFirst(facts.o2FlowLPerMin).filter((f) => isWithin(f.at, now, policy.freshness.vitalSignsMinutes));
+  const freshFlows = newestFirst(facts.o2FlowLPerMin).filter((f) => isWithin(f, now, policy.freshness.vitalSignsMinutes));
   const latestFlow = freshFlows[0];
   const recordedFio2 =
     spo2At === undefined
@@ -78,7 +78,7 @@ function findReduction(order: OxygenOrder, assessment: Assessment, facts: Facts,
   // 2. A recorded FiO2 at or after the SpO2 reading above the most the order can give.
   if (recordedFio2 !== undefined && gives.highFio2 !== undefined && gives.highFio2 < recordedFio2.value - SAME_FIO2_WITHIN) {
     return {
-      onNow: `FiO2 ${formatFraction(recordedFio2.value)} (recorded ${describeAge(recordedFio2.at, now)})`,
+      onNow: `FiO2 ${formatFraction(recordedFio2.value)} (recorded ${describeAge(recordedFio2, now)})`,
       because: gives.noOxygen ? 'it stops the oxygen' : `it gives FiO2 at most about ${formatFraction(gives.highFio2)}`,
     };
   }

@@ -68,7 +68,7 @@ export const rule: Rule = {
           orderDescription: describeOrder(order),
           dueWindow,
           repeatWindow,
-          lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas.at, now),
+          lastGas: latestGas === undefined ? 'none on record' : describeAge(latestGas, now),
           riskReasons: describeRiskReasons(assessment),
           headline,
           gasAdvice,

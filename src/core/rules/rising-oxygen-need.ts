@@ -48,7 +48,7 @@ export const rule: Rule = {
     }
     const { firstSpo2, lastSpo2, twoSpo2, fall, trend, fellDespite } = rising;
 
-    const at = (m: Measured): string => describeAge(m.at, now);
+    const at = (m: Measured): string => describeAge(m, now);
     const spo2Words = (m: Measured): string => formatPercent(m.value);
     const oxygenChange =
       trend === undefined

@@ -98,7 +98,7 @@ export const rule: Rule = {
       return [];
     }
     const latestFlow = newestFirst(facts.o2FlowLPerMin).find((f) =>
-      isWithin(f.at, now, policy.freshness.vitalSignsMinutes),
+      isWithin(f, now, policy.freshness.vitalSignsMinutes),
     )?.value;
     if (withinHigherAdvisedRange(assessment, spo2.value) || orderAlreadyLowers(order, assessment, facts, latestFlow)) {
       return [];

@@ -52,7 +52,7 @@ export const rule: Rule = {
     const gasStatus =
       gas === undefined || gas.paco2MmHg === undefined
         ? 'none yet'
-        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas.at, now)} (hypercapnia at or above ${
+        : `${label} ${formatGasValue(gas, 'paco2') ?? ''} ${describeAge(gas, now)} (hypercapnia at or above ${
             policy.hypercapnicRisk.hypercapniaPaco2.display
           })${confirm}`;
     const computation = deliveryComputation(assessment);

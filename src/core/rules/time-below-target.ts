@@ -42,7 +42,7 @@ export const rule: Rule = {
     const t = review.time;
     const settings = policy.titrationReview;
     const share = shareOfPercent(t.belowMinutes, t.observedMinutes);
-    const latestBelow = latest.value < review.range.lowPercent && isWithin(latest.at, now, policy.freshness.vitalSignsMinutes);
+    const latestBelow = latest.value < review.range.lowPercent && isWithin(latest, now, policy.freshness.vitalSignsMinutes);
     const earlierBelow =
       !latestBelow &&
       latest.value >= review.range.lowPercent &&

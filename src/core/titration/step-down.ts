@@ -95,7 +95,7 @@ export function reasonNotToStepDown(input: {
     return 'the oxygen was raised within the look-back window';
   }
   const latest = latestReading(review);
-  if (latest === undefined || !isWithin(latest.at, now, policy.freshness.vitalSignsMinutes)) {
+  if (latest === undefined || !isWithin(latest, now, policy.freshness.vitalSignsMinutes)) {
     return 'there is no current SpO2 reading';
   }
   return undefined;

@@ -61,6 +61,15 @@ describe('format', () => {
       expect(minutesBetween(minutesAgo(15), NOW)).toBe(15);
     });
 
+    it("gives a reading's age from the epoch ms it carries, and from its time text when it carries none", () => {
+      const at = minutesAgo(15);
+      expect(minutesBetween({ at }, NOW)).toBe(15);
+      expect(minutesBetween({ at, atMs: Date.parse(at) }, NOW)).toBe(15);
+      // The fact reader sets atMs from the same text; where both are given, the parsed number is the one read.
+      expect(minutesBetween({ at: 'not a date', atMs: Date.parse(at) }, NOW)).toBe(15);
+      expect(minutesBetween({ at: 'not a date' }, NOW)).toBeUndefined();
+    });
+
     it('falls back to mmHg when a gas has no reported form', () => {
       const gas = { ...bloodGas({ ageMinutes: 5, paco2MmHg: 50 }), reported: {} };
       expect(formatGasValue(gas, 'paco2')).toBe('50 mmHg');

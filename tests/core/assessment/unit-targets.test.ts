@@ -113,6 +113,29 @@ describe('policyForUnit', () => {
     });
     expect(policyForUnit(larkspur, matchUnit(larkspur.units, at(WARD_NAME)))).toBe(larkspur);
   });
+
+  it('gives back the same policy object on every call from one unit, and its own to each unit and each policy', () => {
+    // The same unit found by name, by another spelling of it and by location is the same unit.
+    const fromIcu = [at(ICU_NAME), at(ICU_NAME.toUpperCase()), at(undefined, ['Location/lbgh-icu'])].map((where) =>
+      policyForUnit(larkspur, matchUnit(larkspur.units, where)),
+    );
+    for (const effective of fromIcu) {
+      expect(effective).toBe(fromIcu[0]);
+      expect(effective).not.toBe(larkspur);
+      expect(effective.targets.standard).toStrictEqual(range(92, 96)); // the ICU's (PILOT 2022 intermediate arm)
+    }
+    const fromHdu = policyForUnit(larkspur, matchUnit(larkspur.units, at('Larkspur Bay General Hospital, High Dependency Unit')));
+    expect(fromHdu).not.toBe(fromIcu[0]);
+    expect(fromHdu.targets.standard).toStrictEqual(range(90, 94)); // the HDU's (ICU-ROX 2020 90 %; ICONIC 2023 94 %)
+    expect(policyForUnit(larkspur, matchUnit(larkspur.units, at('Larkspur Bay General Hospital, High Dependency Unit')))).toBe(fromHdu);
+
+    // Another policy listing the same unit object gets its own effective policy, built from its own values.
+    const stricter = withPolicy(larkspur, { disabledRules: ['oxygenation-summary'] });
+    const fromStricterIcu = policyForUnit(stricter, matchUnit(stricter.units, at(ICU_NAME)));
+    expect(fromStricterIcu).not.toBe(fromIcu[0]);
+    expect(fromStricterIcu.disabledRules).toStrictEqual(['oxygenation-summary']);
+    expect(fromStricterIcu.targets.standard).toStrictEqual(range(92, 96)); // the ICU's (PILOT 2022 intermediate arm)
+  });
 });
 
 describe('unit targets in the engine', () => {

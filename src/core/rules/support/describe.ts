@@ -5,6 +5,7 @@ import {
   formatNumber,
   formatPercent,
   minutesBetween,
+  type TimeOrReading,
 } from '../../assessment/format.js';
 import type { Assessment } from '../../assessment/types.js';
 import { DEVICE_MODELS } from '../../devices/index.js';
@@ -64,7 +65,7 @@ export function deliveryComputation(assessment: Assessment): Computation | undef
 }
 
 /** "25 min ago" for a measurement, relative to the call's clock. */
-export function describeAge(at: string, now: Date): string {
+export function describeAge(at: TimeOrReading, now: Date): string {
   const minutes = minutesBetween(at, now);
   if (minutes === undefined) {
     return 'at an unreadable time';
@@ -75,7 +76,7 @@ export function describeAge(at: string, now: Date): string {
 /** "93 % (25 min ago)". */
 export function describeMeasured(measured: Measured, now: Date, unit: '%' | '/min'): string {
   const value = unit === '%' ? formatPercent(measured.value) : `${formatNumber(measured.value, 0)}/min`;
-  return `${value} (${describeAge(measured.at, now)})`;
+  return `${value} (${describeAge(measured, now)})`;
 }
 
 /** The first documented condition of one of `kinds`, if any. */

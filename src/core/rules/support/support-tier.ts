@@ -17,7 +17,7 @@ export function patientSupportTier(
 ): SupportTier | undefined {
   const orders = [...facts.activeOrders, ...(order === undefined ? [] : [order])];
   const recorded = facts.o2FlowLPerMin
-    .filter((flow) => isWithin(flow.at, now, policy.freshness.vitalSignsMinutes))
+    .filter((flow) => isWithin(flow, now, policy.freshness.vitalSignsMinutes))
     .map((flow) => tierShownByRecordedFlow(flow.value));
   return highestTier([
     ...orders.map((o) => (o.device === undefined ? undefined : deviceTier(o.device))),
