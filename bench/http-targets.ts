@@ -125,7 +125,7 @@ export async function measureHttpTargets(ctx: HttpTargetContext): Promise<HttpTa
     };
     const configFile = join(ctx.scratch, 'token-baseline.json');
     writeFileSync(configFile, JSON.stringify(config));
-    baseline = await startTokenBaseline(ctx.root, configFile);
+    baseline = await startTokenBaseline(ctx.root, configFile, ctx.built);
     for (const call of signCalls(client, [...mixSources, ...largeSources], mixSources.length + 1)) {
       const answer = await sendSigned(baseline.url, call);
       if (answer.status !== 200 || Buffer.byteLength(answer.text) !== Buffer.byteLength(answers[call.caseName] ?? '')) {

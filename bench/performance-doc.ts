@@ -132,7 +132,7 @@ Do not edit the numbers by hand: run the bench again.
 - Service: ${s.runner === 'dist' ? `built with tsc and run as \`node dist/server.js\` (build took ${(s.buildS ?? 0).toFixed(0)} s)` : 'run from source with `node --import tsx src/server.ts`'}, demo mode, \`LOG_LEVEL=warn\`, default limits
 - Load: autocannon, ${s.connections} connections, ${s.warmupS} s warm-up (discarded) then ${s.durationS} s measured, per case, after a throwaway load on each process
 - Micro-benchmark: ${s.microIterations} timed iterations per loop per example, ${inProcessCode(s.runner)}${s.microPrimeCalls === undefined ? '' : `, after ${s.microPrimeCalls} throwaway calls of the pure path over all the examples`}
-${s.primeCalls === undefined ? '' : `- Issue-9 HTTP loads: ${s.primeCalls} throwaway signed calls to the service and to the token baseline alike (the mix and the 70 KB request) before the first\n`}${s.elapsedS === undefined ? '' : `- The whole run took ${Math.round(s.elapsedS / 60)} min (${Math.round(s.elapsedS)} s), build included\n`}
+${s.primeCalls === undefined ? '' : `- Issue-9 HTTP loads: ${s.primeCalls} throwaway signed calls to the service and to the token baseline alike (the mix and the 70 KB request) before the first measured load\n`}${s.elapsedS === undefined ? '' : `- The whole run took ${Math.round(s.elapsedS / 60)} min (${Math.round(s.elapsedS)} s), build included\n`}
 ### HTTP load
 
 ${loadTable(report)}
@@ -189,7 +189,9 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
   and the read-and-parse loop) each run in a child process on the service's own build: their entries
   (\`bench/micro-child.ts\`, \`bench/profile-micro.ts\`, \`bench/bulk-child.ts\`) are compiled in the same
   tsc run, into the same folder, and run by plain \`node\`, so they time the JavaScript production runs.
-  With \`--runner tsx\` they run through tsx, as the service then does.
+  With \`--runner tsx\` they run through tsx, as the service then does. The JSON echo and the token
+  baseline run the same way as the service (from the build by plain \`node\`, or through tsx), so
+  neither side of a ratio pays for a loader the other has not.
 - **Processes.** The service and the JSON echo each run in their own process group on 127.0.0.1 with
   port 0 (the address is read from the start-up log line and must be loopback). The bench waits for
   \`/healthz\`, and at the end sends SIGTERM to each group, then SIGKILL if it has not gone within a

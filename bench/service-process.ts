@@ -32,8 +32,12 @@ export interface BuiltService {
 
 const BUILD_TIMEOUT_MS = 240_000;
 
-/** The bench's entries that run the service's code in a process of their own (files in bench/). */
-export const BENCH_CHILD_ENTRIES = ['micro-child', 'profile-micro', 'bulk-child'] as const;
+/**
+ * The bench's entries that run in a process of their own (files in bench/): those that run the
+ * service's code, and the baselines the service is compared with, which run as the service does (plain
+ * node from the build, or through tsx) so that neither side of a ratio pays for a loader the other has not.
+ */
+export const BENCH_CHILD_ENTRIES = ['micro-child', 'profile-micro', 'bulk-child', 'token-baseline-server', 'json-echo-server'] as const;
 export type BenchChildEntry = (typeof BENCH_CHILD_ENTRIES)[number];
 
 export function prepareService(root: string, runner: ServiceRunner): BuiltService {
@@ -176,11 +180,20 @@ async function startWithDataDir(
   return server;
 }
 
-/** A bench baseline app (a script in bench/, run by tsx with one file argument) in its own process, like the service. */
-async function startBaselineApp(root: string, name: string, script: string, fileArgument: string): Promise<ChildServer> {
+/**
+ * A bench baseline app (an entry in bench/ with one file argument) in its own process, like the service:
+ * from the same build by plain node when `built` is given, else through tsx.
+ */
+async function startBaselineApp(
+  root: string,
+  name: string,
+  entry: 'token-baseline-server' | 'json-echo-server',
+  fileArgument: string,
+  built: BuiltService | undefined,
+): Promise<ChildServer> {
   const server = await startChildServer({
     name,
-    nodeArgs: ['--import', 'tsx', join(root, 'bench', script), fileArgument],
+    nodeArgs: [...(built?.benchEntry(entry) ?? ['--import', 'tsx', join(root, 'bench', `${entry}.ts`)]), fileArgument],
     env: serviceEnv(root),
     cwd: root,
     startTimeoutMs: 30_000,
@@ -195,8 +208,8 @@ async function startBaselineApp(root: string, name: string, script: string, file
 }
 
 /** The plain express JSON echo (bench/json-echo-server.ts). */
-export function startJsonEcho(root: string, replyFile: string): Promise<ChildServer> {
-  return startBaselineApp(root, 'json-echo', 'json-echo-server.ts', replyFile);
+export function startJsonEcho(root: string, replyFile: string, built?: BuiltService): Promise<ChildServer> {
+  return startBaselineApp(root, 'json-echo', 'json-echo-server', replyFile, built);
 }
 
 /**
@@ -237,6 +250,6 @@ export function productionServiceEnv(root: string, trustFile: string, publicUrl:
 }
 
 /** The bare express + same-token baseline (bench/token-baseline-server.ts). */
-export function startTokenBaseline(root: string, configFile: string): Promise<ChildServer> {
-  return startBaselineApp(root, 'token-baseline', 'token-baseline-server.ts', configFile);
+export function startTokenBaseline(root: string, configFile: string, built?: BuiltService): Promise<ChildServer> {
+  return startBaselineApp(root, 'token-baseline', 'token-baseline-server', configFile, built);
 }
