@@ -51,7 +51,7 @@ try {
     // Each round starts with a different arm, so a machine getting busier favours none.
     const order = names.map((_, i) => names[(i + round) % names.length] ?? 'read');
     for (const name of order) {
-      const result = runChild(ROOT, arms[name] ?? []);
+      const result = runChild(ROOT, built, arms[name] ?? []);
       process.stdout.write(`${name}: ${Math.round(result.ms)} ms, ${Math.round(result.cpuMs ?? 0)} ms CPU, peak ${Math.round(result.maxRssKb / 1024)} MB\n`);
       const kept = best.get(name);
       if (kept === undefined || result.ms < kept.ms) best.set(name, result);

@@ -25,15 +25,16 @@ export interface BulkMeasurements {
   readonly simulateLarge: BulkChildResult;
 }
 
-export function runChild(root: string, args: readonly string[]): BulkChildResult {
-  const child = spawnSync(process.execPath, ['--import', 'tsx', join(root, 'bench', 'bulk-child.ts'), ...args], {
+/** One bulk child on the same code as the service: the private build by plain node, or through tsx. */
+export function runChild(root: string, built: BuiltService, args: readonly string[]): BulkChildResult {
+  const child = spawnSync(process.execPath, [...built.benchEntry('bulk-child'), ...args], {
     cwd: root,
     encoding: 'utf8',
     timeout: 600_000,
     maxBuffer: 1024 * 1024,
   });
   if (child.status !== 0) {
-    throw new Error(`bench/bulk-child.ts ${args[0] ?? ''} failed (exit ${String(child.status)}): ${child.stderr.slice(0, 1200)}`);
+    throw new Error(`bench/bulk-child ${args[0] ?? ''} failed (exit ${String(child.status)}): ${child.stderr.slice(0, 1200)}`);
   }
   const line = child.stdout.trim().split('\n').at(-1) ?? '';
   return JSON.parse(line) as BulkChildResult;
@@ -64,7 +65,7 @@ export async function measureBulk(
       // Turns alternate, so a machine getting busier does not favour one side.
       const order = round % 2 === 0 ? (['read', 'simulate'] as const) : (['simulate', 'read'] as const);
       for (const mode of order) {
-        const result = runChild(root, mode === 'read' ? [mode, smallDir, built.codeRoot] : [mode, smallDir, built.codeRoot, policy, cards]);
+        const result = runChild(root, built, mode === 'read' ? [mode, smallDir, built.codeRoot] : [mode, smallDir, built.codeRoot, policy, cards]);
         progress(`bulk ${mode}, ${smallOrders} orders: ${Math.round(result.ms)} ms, ${result.lines} lines, peak ${Math.round(result.maxRssKb / 1024)} MB`);
         if (mode === 'read') {
           read = faster(read, result);
@@ -73,7 +74,7 @@ export async function measureBulk(
         }
       }
     }
-    const simulateLarge = runChild(root, ['simulate', largeDir, built.codeRoot, policy, cards]);
+    const simulateLarge = runChild(root, built, ['simulate', largeDir, built.codeRoot, policy, cards]);
     progress(`bulk simulate, ${largeOrders} orders: ${Math.round(simulateLarge.ms)} ms, peak ${Math.round(simulateLarge.maxRssKb / 1024)} MB`);
     if (read === undefined || simulate === undefined) {
       throw new Error('the bulk rounds measured nothing');

@@ -10,13 +10,16 @@ import type * as SimulateModule from '../src/bulk/simulate.js';
 /**
  * One bulk measurement in a process of its own, so its peak memory (maxRSS) is its own:
  *
- *   node --import tsx bench/bulk-child.ts read EXPORT_DIR CODE_ROOT
+ *   node BUILD/bench/bulk-child.js read EXPORT_DIR CODE_ROOT
  *     the floor: read every NDJSON line of the export and JSON.parse it, nothing else
- *   node --import tsx bench/bulk-child.ts simulate EXPORT_DIR CODE_ROOT POLICY CARDS_DIR
+ *   node BUILD/bench/bulk-child.js simulate EXPORT_DIR CODE_ROOT POLICY CARDS_DIR
  *     what `oxygen-order-checker simulate` does: index the export, then replay every order under a
  *     baseline and a proposed policy (here the same file twice), keeping only the tally
  *
- * The service's modules come from CODE_ROOT (the bench's build, or src/), as the rest of the run.
+ * The service's modules come from CODE_ROOT (the bench's build, or src/), as the rest of the run. The
+ * bench runs this file from the same build by plain node (`--runner dist`, both modes alike, so
+ * neither side pays for a loader), or through tsx as `node --import tsx bench/bulk-child.ts ...`
+ * (`--runner tsx`).
  * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb, cpuMs }.
  */
 

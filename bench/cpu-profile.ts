@@ -89,7 +89,8 @@ function locate(frame: CallFrame, codeRoots: readonly string[]): Location {
     }
   }
   if (path.includes('/bench/')) {
-    return { area: 'bench harness', file: `bench/${path.slice(path.lastIndexOf('/bench/') + 7)}`, line: undefined };
+    // Named by its source file, whether it ran through tsx or from the bench's build.
+    return { area: 'bench harness', file: `bench/${path.slice(path.lastIndexOf('/bench/') + 7).replace(/\.js$/, '.ts')}`, line: undefined };
   }
   if (path.startsWith('node:')) {
     return { area: 'node internals', file: path, line: jsLine };

@@ -52,7 +52,7 @@ export async function measureHttp(ctx: HttpContext): Promise<HttpMeasurements> {
     }
     const replyFile = join(ctx.scratch, 'echo-reply.json');
     writeFileSync(replyFile, largest.body);
-    echo = await startJsonEcho(ctx.root, replyFile);
+    echo = await startJsonEcho(ctx.root, replyFile, ctx.built);
     const echoUrl = `${echo.url}/echo`;
     const echoCheck = await checkCall(echoUrl, { method: 'POST', body: examples.largestSign.body }, 'cards');
 

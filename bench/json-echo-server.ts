@@ -7,7 +7,8 @@ import express from 'express';
  * and out match the order-sign case it is compared with. No middleware, no validation, no logging.
  * Run by the bench in its own process on 127.0.0.1 and a free port; it prints one listening line.
  *
- *   node --import tsx bench/json-echo-server.ts REPLY.json
+ *   node BUILD/bench/json-echo-server.js REPLY.json     (--runner dist: from the bench's build, as the service runs)
+ *   node --import tsx bench/json-echo-server.ts REPLY.json   (--runner tsx, and the smoke tests)
  */
 
 const replyFile = process.argv[2];

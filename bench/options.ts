@@ -16,6 +16,14 @@ export interface BenchOptions {
   readonly profileS: number;
   /** Seconds of throwaway load on each process before the first measurement (JIT, caches). */
   readonly primeS: number;
+  /**
+   * Throwaway signed calls sent to each process (the service and the token baseline alike) before the
+   * issue-9 HTTP loads: a count, not a time, so both sides are primed by the same calls. V8 was still
+   * optimising the service's code some 750 calls into a load, hence thousands.
+   */
+  readonly primeCalls: number;
+  /** Throwaway calls of the pure path over all examples in the micro-benchmark's process before its loops. */
+  readonly microPrimeCalls: number;
   /** Orders in the smaller bulk export (the larger has LARGE_FACTOR times as many). */
   readonly bulkOrders: number;
   /** Rounds of read-and-parse against simulate at the smaller size. */
@@ -94,6 +102,8 @@ export function parseBenchOptions(args: readonly string[]): BenchOptions | undef
     microIterations: wholeNumber(values.iterations, quick ? 200 : 2000, 10, 100_000, 'iterations'),
     profileS: quick ? 2 : 5,
     primeS: quick ? 1 : 3,
+    primeCalls: quick ? 300 : 5000,
+    microPrimeCalls: quick ? 400 : 5000,
     bulkOrders: quick ? 20 : 300,
     bulkRounds: quick ? 1 : 2,
     coldStarts: quick ? 1 : 3,

@@ -25,6 +25,13 @@ import type { BeforeFigures } from './targets.js';
  * given a meaning here: the audit-on / audit-off throughput ratio within the run-to-run noise, and p99
  * with the audit on well inside the CDS Hooks budget.
  */
+/** Which code the in-process figures (micro-benchmarks, pure-path profile, bulk) ran, as a phrase. */
+export function inProcessCode(runner: string): string {
+  return runner === 'dist'
+    ? "in a child process on the service's own tsc build, run by plain `node` (the code production runs)"
+    : 'in a child process from source through tsx (`--runner tsx`: slower than the build, which production runs)';
+}
+
 export function renderAuditSection(audit: AuditReport | undefined, baselineReqPerSec: number, micro: RunReport['micro']): string {
   if (audit === undefined) {
     return '### Audit trail\n\nNot measured in this run.';
@@ -124,8 +131,8 @@ Do not edit the numbers by hand: run the bench again.
 - Code: commit ${m.commit}${m.uncommitted.length > 0 ? `, with uncommitted changes to ${m.uncommitted.map((path) => `\`${path}\``).join(', ')}` : ', no uncommitted changes to src/, cards/, policies/ or examples/'}
 - Service: ${s.runner === 'dist' ? `built with tsc and run as \`node dist/server.js\` (build took ${(s.buildS ?? 0).toFixed(0)} s)` : 'run from source with `node --import tsx src/server.ts`'}, demo mode, \`LOG_LEVEL=warn\`, default limits
 - Load: autocannon, ${s.connections} connections, ${s.warmupS} s warm-up (discarded) then ${s.durationS} s measured, per case, after a throwaway load on each process
-- Micro-benchmark: ${s.microIterations} timed iterations per loop per example
-${s.elapsedS === undefined ? '' : `- The whole run took ${Math.round(s.elapsedS / 60)} min (${Math.round(s.elapsedS)} s), build included\n`}
+- Micro-benchmark: ${s.microIterations} timed iterations per loop per example, ${inProcessCode(s.runner)}${s.microPrimeCalls === undefined ? '' : `, after ${s.microPrimeCalls} throwaway calls of the pure path over all the examples`}
+${s.primeCalls === undefined ? '' : `- Issue-9 HTTP loads: ${s.primeCalls} throwaway signed calls to the service and to the token baseline alike (the mix and the 70 KB request) before the first measured load\n`}${s.elapsedS === undefined ? '' : `- The whole run took ${Math.round(s.elapsedS / 60)} min (${Math.round(s.elapsedS)} s), build included\n`}
 ### HTTP load
 
 ${loadTable(report)}
@@ -134,7 +141,7 @@ ${findings(report).map((line) => `- ${line}`).join('\n')}
 
 ### Pure pipeline, in process
 
-\`evaluateHook\` (src/cds/evaluate-hook.ts) over the data gathered from the request's prefetch, against
+These loops ran ${inProcessCode(s.runner)}. \`evaluateHook\` (src/cds/evaluate-hook.ts) over the data gathered from the request's prefetch, against
 \`JSON.parse\` + \`JSON.stringify\` of the same request text as the baseline, and against \`JSON.parse\`
 alone (issue 9's yardstick). The last row is the 70 KB request of \`bench/large-request.ts\`. "Whole pure path" is what
 the service does per call apart from HTTP: parse the text, validate it (\`parseHookRequest\`), gather
@@ -175,7 +182,16 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
 - **Why a build.** Production runs \`npm start\`: tsc, then \`node dist/server.js\`. The bench does the
   same into a private temporary folder (so it never rewrites the shared \`dist/\` under another
   process), pointing \`OXYGEN_CHECKER_POLICY\` and \`OXYGEN_CHECKER_CARDS_DIR\` at the bundled files. \`--runner tsx\`
-  runs the same code through tsx; after start-up the difference is the loader only.
+  runs the same code through tsx, which is slower than the build: its transform (esbuild with
+  \`keepNames\`) adds a \`__name\` call each time an inner function is created, which tsc's output has not.
+- **Which code the in-process figures run.** The micro-benchmarks (\`evaluateHook\` × \`JSON.parse\`, the
+  whole pure path, \`store.recordAdvisories\`), the pure-path profile and both bulk processes (simulate
+  and the read-and-parse loop) each run in a child process on the service's own build: their entries
+  (\`bench/micro-child.ts\`, \`bench/profile-micro.ts\`, \`bench/bulk-child.ts\`) are compiled in the same
+  tsc run, into the same folder, and run by plain \`node\`, so they time the JavaScript production runs.
+  With \`--runner tsx\` they run through tsx, as the service then does. The JSON echo and the token
+  baseline run the same way as the service (from the build by plain \`node\`, or through tsx), so
+  neither side of a ratio pays for a loader the other has not.
 - **Processes.** The service and the JSON echo each run in their own process group on 127.0.0.1 with
   port 0 (the address is read from the start-up log line and must be loopback). The bench waits for
   \`/healthz\`, and at the end sends SIGTERM to each group, then SIGKILL if it has not gone within a
@@ -187,7 +203,13 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
   before and once after its load.
 - **Priming.** Before the first measurement each process gets a throwaway load (the service's
   \`/healthz\` and its largest order-sign call, the echo), so that neither the JIT's first work nor
-  autocannon's own start lands on the first baseline.
+  autocannon's own start lands on the first baseline. Before the issue-9 HTTP loads the production
+  service and the token baseline each get the same count of throwaway signed calls
+  (${s.primeCalls === undefined ? 'a few seconds each' : `${s.primeCalls} each`}), a count rather than a
+  time so the faster side is not primed more: V8 was still optimising the service's code about 750
+  calls into a load primed with a few hundred. The micro-benchmark's process runs the pure path over
+  all the examples (${s.microPrimeCalls === undefined ? 'a short warm-up' : `${s.microPrimeCalls} calls`}) before
+  its first timed loop, then each example's own warm-up.
 - **Bounds.** Every load stops after its duration, after a cap on requests, and by a watchdog if
   autocannon overruns. The micro-benchmark loops stop at their iteration count or a time cap.
 - **Micro-benchmark.** The three loops (baseline, \`evaluateHook\`, whole path) take turns in rounds

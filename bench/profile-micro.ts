@@ -8,7 +8,10 @@ import { loadBundledFiles, runWholePath } from './micro.js';
  * gather, evaluate, serialise) on one retimed example until a time or iteration cap, then exits so that
  * `node --cpu-prof` writes its profile. The bench starts it; it is not meant to be run by hand.
  *
- *   node --cpu-prof --cpu-prof-dir=DIR --import tsx bench/profile-micro.ts EXAMPLE.json SECONDS
+ *   node --cpu-prof --cpu-prof-dir=DIR BUILD/bench/profile-micro.js EXAMPLE.json SECONDS
+ *
+ * BUILD is the bench's private build (`--runner dist`: the service's code as tsc emits it, by plain
+ * node); under `--runner tsx`, and by hand, `node --cpu-prof ... --import tsx bench/profile-micro.ts`.
  */
 
 const [exampleFile, secondsText] = process.argv.slice(2);

@@ -1,6 +1,6 @@
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, writeFileSync } from 'node:fs';
-import { join, sep } from 'node:path';
+import { join } from 'node:path';
 import type { HookExample } from './cases.js';
 import { readProfiles, summariseThreadOf, type ProfileSummary } from './cpu-profile.js';
 import { runLoad } from './load-test.js';
@@ -53,6 +53,7 @@ export async function profileService(input: {
 
 export function profileMicro(input: {
   readonly root: string;
+  readonly built: BuiltService;
   readonly example: HookExample;
   readonly options: BenchOptions;
   readonly scratch: string;
@@ -66,9 +67,8 @@ export function profileMicro(input: {
     [
       '--cpu-prof',
       `--cpu-prof-dir=${folder}`,
-      '--import',
-      'tsx',
-      join(input.root, 'bench', 'profile-micro.ts'),
+      // On the service's own code: the private build by plain node, or src/ through tsx.
+      ...input.built.benchEntry('profile-micro'),
       exampleFile,
       String(input.options.profileS),
     ],
@@ -78,7 +78,7 @@ export function profileMicro(input: {
     return { kind: 'failed', reason: `the profiled child exited ${String(child.status)}: ${child.stderr.slice(0, 300)}` };
   }
   try {
-    return { kind: 'ok', summary: summariseThreadOf(readProfiles(folder), [join(input.root, 'src', sep)], {
+    return { kind: 'ok', summary: summariseThreadOf(readProfiles(folder), [input.built.codeRoot], {
       file: 'bench/profile-micro.ts',
       functionName: 'profiledLoop',
     }) };

@@ -65,6 +65,10 @@ export interface RunReport {
     readonly warmupS: number;
     readonly buildS: number | undefined;
     readonly microIterations: number;
+    /** Throwaway signed calls to each process before the issue-9 HTTP loads; absent from older runs. */
+    readonly primeCalls?: number;
+    /** Throwaway pure-path calls in the micro-benchmark's process before its loops; absent from older runs. */
+    readonly microPrimeCalls?: number;
     /** Wall time of the whole run up to its report, seconds; absent from older runs. */
     readonly elapsedS?: number;
   };

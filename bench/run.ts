@@ -5,7 +5,6 @@ import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
 import { fileURLToPath } from 'node:url';
 import { measureAudit } from './audit-cases.js';
-import { runAuditMicro, type AuditMicroResult } from './audit-micro.js';
 import { auditFindings, auditLoadTable, auditMicroFinding, auditMicroTable, feedbackTable } from './audit-report.js';
 import { createBenchClient, writeTrustFile } from './bench-client.js';
 import { measureBulk } from './bulk-cases.js';
@@ -16,7 +15,7 @@ import { largeExample } from './large-request.js';
 import { bulkFigures, coldStartFigures, engineFigures, httpFigures, judgeAll, targetLines, type TargetFigure } from './targets.js';
 import { killAllChildServers } from './child-server.js';
 import { measureHttp } from './http-cases.js';
-import { loadBundledFiles, runMicro, type MicroResult } from './micro.js';
+import { runMicroChild } from './micro-process.js';
 import { BENCH_USAGE, parseBenchOptions, type BenchOptions } from './options.js';
 import { renderPerformanceDoc } from './performance-doc.js';
 import { BEFORE_FILE, beforeFileText, loadBeforeFigures } from './targets-doc.js';
@@ -97,33 +96,31 @@ async function runBench(options: BenchOptions): Promise<number> {
   progress('bulk simulation against a read-and-parse loop over the same NDJSON');
   const bulk = await measureBulk(ROOT, built, scratch, options.bulkOrders, options.bulkRounds, progress);
 
-  progress('micro-benchmark of the pure pipeline');
-  const files = await loadBundledFiles();
+  progress(
+    options.runner === 'dist'
+      ? 'micro-benchmarks of the pure pipeline and the audit write, in a child on the same build (plain node)'
+      : 'micro-benchmarks of the pure pipeline and the audit write, in a child through tsx',
+  );
   const microNow = new Date();
-  const micro: MicroResult[] = [];
-  for (const example of [...examples.sign, ...examples.select, large]) {
-    micro.push(
-      await runMicro(example, files, microNow, {
-        iterations: options.microIterations,
-        rounds: 4,
-        warmupIterations: Math.min(200, options.microIterations),
-        maxMsPerLoop: 15_000,
-      }),
-    );
-  }
-
-  progress('micro-benchmark of the audit write (store.recordAdvisories)');
-  const auditMicro: AuditMicroResult[] = [];
-  for (const example of examples.sign) {
-    auditMicro.push(
-      await runAuditMicro(example, files, microNow, scratch, {
-        // One fsync a call: a few hundred calls give a steady median without minutes of disk work.
-        iterations: Math.min(options.microIterations, 500),
-        warmupIterations: Math.min(20, options.microIterations),
-        maxMsPerLoop: 10_000,
-      }),
-    );
-  }
+  const { micro, auditMicro } = runMicroChild(ROOT, built, {
+    examples: [...examples.sign, ...examples.select, large],
+    auditExamples: examples.sign,
+    now: microNow.toISOString(),
+    micro: {
+      iterations: options.microIterations,
+      rounds: 4,
+      warmupIterations: Math.min(200, options.microIterations),
+      maxMsPerLoop: 15_000,
+    },
+    audit: {
+      // One fsync a call: a few hundred calls give a steady median without minutes of disk work.
+      iterations: Math.min(options.microIterations, 500),
+      warmupIterations: Math.min(20, options.microIterations),
+      maxMsPerLoop: 10_000,
+    },
+    primeCalls: options.microPrimeCalls,
+    scratch,
+  });
 
   const notes: string[] = [];
   let serviceProfile: RunReport['serviceProfile'];
@@ -131,7 +128,7 @@ async function runBench(options: BenchOptions): Promise<number> {
   if (options.profile) {
     progress(`profiling the service and the pure path on ${examples.largestSign.name}`);
     const service = await profileService({ root: ROOT, built, example: examples.largestSign, options, scratch });
-    const pure = profileMicro({ root: ROOT, example: examples.largestSign, options, scratch });
+    const pure = profileMicro({ root: ROOT, built, example: examples.largestSign, options, scratch });
     if (service.kind === 'ok') {
       serviceProfile = service.summary;
     } else {
@@ -166,6 +163,8 @@ async function runBench(options: BenchOptions): Promise<number> {
       warmupS: options.warmupS,
       buildS,
       microIterations: options.microIterations,
+      primeCalls: options.primeCalls,
+      microPrimeCalls: options.microPrimeCalls,
       elapsedS: (performance.now() - runStart) / 1000,
     },
     rows: http.rows,

@@ -1,5 +1,5 @@
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, sep } from 'node:path';
 import { ENV_DEFAULTS } from '../src/config/env-config.js';
@@ -10,7 +10,12 @@ import { freePort, startChildServer, waitForOk, type ChildServer } from './child
  * How the service under test runs. `dist` is what `npm start` runs (tsc, then `node dist/server.js`),
  * so it is the default; it compiles into a private temporary folder, not the shared `dist/`, so a
  * bench never swaps files under another process. `tsx` runs `src/server.ts` through tsx, as
- * `npm run dev` does: no build, the same code after load.
+ * `npm run dev` does: no build, the same code after load except for what tsx's transform adds (a
+ * `__name` call each time an inner function is created, which the tsc output has not).
+ *
+ * The bench's own in-process children (the micro-benchmarks, the pure-path profile, the bulk
+ * children: `BENCH_CHILD_ENTRIES`) run on the same code as the service: under `dist` they are compiled
+ * in the same tsc run into the same folder, beside the service's modules, and run by plain `node`.
  */
 export type ServiceRunner = 'dist' | 'tsx';
 
@@ -19,11 +24,21 @@ export interface BuiltService {
   readonly nodeArgs: readonly string[];
   /** The folder our code runs from (ends in a separator), for naming profile frames. */
   readonly codeRoot: string;
+  /** Node arguments that run one of `BENCH_CHILD_ENTRIES` on the same code as the service. */
+  readonly benchEntry: (entry: BenchChildEntry) => readonly string[];
   /** Removes the private build folder (nothing for tsx). */
   readonly cleanUp: () => void;
 }
 
 const BUILD_TIMEOUT_MS = 240_000;
+
+/**
+ * The bench's entries that run in a process of their own (files in bench/): those that run the
+ * service's code, and the baselines the service is compared with, which run as the service does (plain
+ * node from the build, or through tsx) so that neither side of a ratio pays for a loader the other has not.
+ */
+export const BENCH_CHILD_ENTRIES = ['micro-child', 'profile-micro', 'bulk-child', 'token-baseline-server', 'json-echo-server'] as const;
+export type BenchChildEntry = (typeof BENCH_CHILD_ENTRIES)[number];
 
 export function prepareService(root: string, runner: ServiceRunner): BuiltService {
   if (runner === 'tsx') {
@@ -31,18 +46,33 @@ export function prepareService(root: string, runner: ServiceRunner): BuiltServic
       runner,
       nodeArgs: ['--import', 'tsx', join(root, 'src', 'server.ts')],
       codeRoot: join(root, 'src', sep),
+      benchEntry: (entry) => ['--import', 'tsx', join(root, 'bench', `${entry}.ts`)],
       cleanUp: () => undefined,
     };
   }
   const folder = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bench-'));
   const cleanUp = (): void => rmSync(folder, { recursive: true, force: true });
-  const outDir = join(folder, 'dist');
-  mkdirSync(outDir);
   // The emitted ES modules need a `type: module` scope, and their bare imports the project's packages.
   writeFileSync(join(folder, 'package.json'), '{ "type": "module", "private": true }\n');
   symlinkSync(join(root, 'node_modules'), join(folder, 'node_modules'), 'dir');
+  // The bundled files beside the build, as in the published package, for code that finds them from its
+  // own place (the defaults of OXYGEN_CHECKER_POLICY and _CARDS_DIR): the bench's in-process children.
+  for (const shipped of ['policies', 'cards', 'examples']) {
+    symlinkSync(join(root, shipped), join(folder, shipped), 'dir');
+  }
+  // tsconfig.build.json's compiler options, with the package root as rootDir so that the bench's child
+  // entries land beside the service's modules: FOLDER/src/** (what `npm run build` writes to dist/,
+  // file for file) and FOLDER/bench/**, whose `../src/` imports then load those very modules. The
+  // service's files sit two levels under FOLDER as they sit under the package root after a build.
+  const config = {
+    extends: join(root, 'tsconfig.build.json'),
+    compilerOptions: { rootDir: root, outDir: folder },
+    include: [join(root, 'src'), ...BENCH_CHILD_ENTRIES.map((entry) => join(root, 'bench', `${entry}.ts`))],
+  };
+  const configFile = join(folder, 'tsconfig.bench-build.json');
+  writeFileSync(configFile, `${JSON.stringify(config, null, 2)}\n`);
   const tsc = join(root, 'node_modules', 'typescript', 'bin', 'tsc');
-  const build = spawnSync(process.execPath, [tsc, '-p', join(root, 'tsconfig.build.json'), '--outDir', outDir], {
+  const build = spawnSync(process.execPath, [tsc, '-p', configFile], {
     cwd: root,
     encoding: 'utf8',
     timeout: BUILD_TIMEOUT_MS,
@@ -52,7 +82,14 @@ export function prepareService(root: string, runner: ServiceRunner): BuiltServic
     const output = `${build.stdout}${build.stderr}`.trim().split('\n').slice(0, 20).join('\n');
     throw new Error(`the build failed (tsc exit ${String(build.status)}); fix it or run with --runner tsx\n${output}`);
   }
-  return { runner, nodeArgs: [join(outDir, 'server.js')], codeRoot: join(outDir, sep), cleanUp };
+  const codeRoot = join(folder, 'src', sep);
+  return {
+    runner,
+    nodeArgs: [join(codeRoot, 'server.js')],
+    codeRoot,
+    benchEntry: (entry) => [join(folder, 'bench', `${entry}.js`)],
+    cleanUp,
+  };
 }
 
 /** The environment the service runs in: demo mode, loopback, a free port, quiet logs, bundled files. */
@@ -143,11 +180,20 @@ async function startWithDataDir(
   return server;
 }
 
-/** A bench baseline app (a script in bench/, run by tsx with one file argument) in its own process, like the service. */
-async function startBaselineApp(root: string, name: string, script: string, fileArgument: string): Promise<ChildServer> {
+/**
+ * A bench baseline app (an entry in bench/ with one file argument) in its own process, like the service:
+ * from the same build by plain node when `built` is given, else through tsx.
+ */
+async function startBaselineApp(
+  root: string,
+  name: string,
+  entry: 'token-baseline-server' | 'json-echo-server',
+  fileArgument: string,
+  built: BuiltService | undefined,
+): Promise<ChildServer> {
   const server = await startChildServer({
     name,
-    nodeArgs: ['--import', 'tsx', join(root, 'bench', script), fileArgument],
+    nodeArgs: [...(built?.benchEntry(entry) ?? ['--import', 'tsx', join(root, 'bench', `${entry}.ts`)]), fileArgument],
     env: serviceEnv(root),
     cwd: root,
     startTimeoutMs: 30_000,
@@ -162,8 +208,8 @@ async function startBaselineApp(root: string, name: string, script: string, file
 }
 
 /** The plain express JSON echo (bench/json-echo-server.ts). */
-export function startJsonEcho(root: string, replyFile: string): Promise<ChildServer> {
-  return startBaselineApp(root, 'json-echo', 'json-echo-server.ts', replyFile);
+export function startJsonEcho(root: string, replyFile: string, built?: BuiltService): Promise<ChildServer> {
+  return startBaselineApp(root, 'json-echo', 'json-echo-server', replyFile, built);
 }
 
 /**
@@ -204,6 +250,6 @@ export function productionServiceEnv(root: string, trustFile: string, publicUrl:
 }
 
 /** The bare express + same-token baseline (bench/token-baseline-server.ts). */
-export function startTokenBaseline(root: string, configFile: string): Promise<ChildServer> {
-  return startBaselineApp(root, 'token-baseline', 'token-baseline-server.ts', configFile);
+export function startTokenBaseline(root: string, configFile: string, built?: BuiltService): Promise<ChildServer> {
+  return startBaselineApp(root, 'token-baseline', 'token-baseline-server', configFile, built);
 }

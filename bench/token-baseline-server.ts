@@ -12,7 +12,8 @@ import jwt from 'jsonwebtoken';
  * logging. Run by the bench in its own process on 127.0.0.1 and a free port; it prints one listening
  * line.
  *
- *   node --import tsx bench/token-baseline-server.ts CONFIG.json
+ *   node BUILD/bench/token-baseline-server.js CONFIG.json     (--runner dist: from the bench's build, as the service runs)
+ *   node --import tsx bench/token-baseline-server.ts CONFIG.json   (--runner tsx, and the smoke tests)
  */
 
 export interface TokenBaselineConfig {

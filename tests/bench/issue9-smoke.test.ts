@@ -88,7 +88,7 @@ describe('the production service and the token baseline', () => {
 
 describe('measureHttpTargets', () => {
   it('loads both processes on the mix, the large request and half the rate, with every call answered 2xx', async () => {
-    const options = { ...(parseBenchOptions(['--quick']) ?? fail()), durationS: 1, warmupS: 0, primeS: 1, connections: 2 };
+    const options = { ...(parseBenchOptions(['--quick']) ?? fail()), durationS: 1, warmupS: 0, primeS: 1, primeCalls: 40, connections: 2 };
     const examples = selectExamples(ROOT, new Date(), false);
     const mixExamples = [examples.largestSign, ...examples.select];
     const measured = await measureHttpTargets({ root: ROOT, built, examples, options, scratch, progress, mixExamples, large: largeExample(new Date()) });

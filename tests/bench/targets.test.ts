@@ -229,6 +229,51 @@ describe('docs/performance.md', () => {
     // 754 s of wall time is 13 min.
     expect(page).toContain('- The whole run took 13 min (754 s), build included');
   });
+
+  it('says which code the in-process figures ran, and how each side was primed', () => {
+    const report = (runner: string, primed: boolean): RunReport => ({
+      machine: {
+        date: '2026-12-05T00:30:00.000Z',
+        node: 'v20.0.0',
+        cpus: 2,
+        cpuModel: 'invented CPU',
+        loadAverage: [1, 1, 1],
+        loadAverageEnd: [1, 1, 1],
+        platform: 'linux',
+        commit: 'def5678',
+        uncommitted: [],
+      },
+      settings: {
+        runner,
+        connections: 10,
+        durationS: 8,
+        warmupS: 2,
+        buildS: 30,
+        microIterations: 2000,
+        ...(primed ? { primeCalls: 5000, microPrimeCalls: 4000 } : {}),
+      },
+      rows: [],
+      baseline: { first: load(4000, 5), last: load(4000, 5), meanReqPerSec: 4000, driftPercent: 0 },
+      echo: undefined,
+      logLinesDuringLoad: 0,
+      micro: [micro('sign-a', 10, 25)],
+      serviceProfile: undefined,
+      microProfile: undefined,
+      profiledExample: undefined,
+    });
+    const pureSection = (page: string): string => page.slice(page.indexOf('### Pure pipeline, in process'), page.indexOf('### Audit trail'));
+    const built = renderPerformanceDoc(report('dist', true));
+    expect(pureSection(built)).toContain("These loops ran in a child process on the service's own tsc build, run by plain `node`");
+    expect(built).toContain('- Issue-9 HTTP loads: 5000 throwaway signed calls to the service and to the token baseline alike');
+    expect(built).toContain('after 4000 throwaway calls of the pure path over all the examples');
+    const throughTsx = renderPerformanceDoc(report('tsx', true));
+    expect(pureSection(throughTsx)).toContain('These loops ran in a child process from source through tsx');
+    expect(pureSection(throughTsx)).not.toContain('tsc build');
+    // A report from before the counts were kept says nothing about them.
+    const older = renderPerformanceDoc(report('dist', false));
+    expect(older).not.toContain('throwaway signed calls to the service');
+    expect(older).toContain("These loops ran in a child process on the service's own tsc build");
+  });
 });
 
 describe(BEFORE_FILE, () => {
