@@ -7,6 +7,7 @@ import { startFallbackDeadline } from './fhir-deadline.js';
 import {
   DESTINATION,
   gatherKey,
+  settleFromPrefetch,
   type FetchScope,
   type Field,
   type GatherRequest,
@@ -105,69 +106,117 @@ export interface GatherDeps {
  * a 412).
  */
 export function createGatherer(deps: GatherDeps): Gather {
-  return async (request, templates, options) => {
-    const token = request.fhirAuthorization?.access_token;
-    const before = options?.beforeFetch;
-    const scope: FetchScope | undefined =
-      request.fhirServer !== undefined && token !== undefined
-        ? {
-            fetch: before === undefined ? deps.fetch : fetchAfter(before, deps.fetch),
-            fhirServer: request.fhirServer,
-            accessToken: token,
-            deadline: startFallbackDeadline({ budgetMs: deps.limits.budgetMs }),
-            limits: deps.limits,
-            calls: { count: 0 },
-          }
-        : undefined;
-    const keys = Object.keys(templates).filter(isPrefetchKey);
-    let settled: (readonly [PrefetchKey, KeyResult])[];
+  return (request, templates, options) => {
+    // With every key settled by the prefetch (the usual call), the answer is ready at once: one
+    // resolved promise, rather than one per key and the deadline's start and close.
+    let settled: ReadonlyMap<PrefetchKey, KeyResult> | undefined;
     try {
-      settled = await Promise.all(
-        keys.map(async (key) => {
-          const result = await gatherKey(key, templates[key] ?? '', request, scope);
-          return [key, result] as const;
-        }),
-      );
-    } finally {
-      scope?.deadline.close();
+      settled = settleAllFromPrefetch(request, templates);
+    } catch {
+      // The general path meets the same fault and rejects with it, as a promise should.
+      settled = undefined;
     }
-    const results = new Map(settled);
-    const unavailable: UnavailablePrefetch[] = [];
-    const missing: string[] = [];
-    const keysFetched: string[] = [];
-    const keysFailed: string[] = [];
-    const keysIncomplete: string[] = [];
-    for (const [key, result] of results) {
-      if (result.kind === 'not-applicable') {
-        continue;
-      }
-      if (result.fetched && result.kind === 'had') {
-        keysFetched.push(key);
-      }
-      if (result.kind === 'had' && result.incomplete) {
-        keysIncomplete.push(key);
-        // Named on the card like a missing key: a risk factor on an unread page can change the target.
-        missing.push(incompleteEntry(key));
-      }
-      if (result.kind === 'unobtainable') {
-        if (result.fetched) {
-          keysFailed.push(key);
-        }
-        if (PREFETCH_KEYS[key].required) {
-          unavailable.push({ key, reason: result.reason });
-        } else {
-          missing.push(key);
-        }
-      }
-    }
-    const fallback: FallbackSummary = {
-      used: (scope?.calls.count ?? 0) > 0,
-      keysFetched,
-      keysFailed,
-      keysIncomplete,
-    };
-    return unavailable.length > 0
-      ? { kind: 'unavailable', unavailable, fallback }
-      : { kind: 'gathered', data: assemble(results, missing), fallback };
+    return settled === undefined
+      ? gatherWithFallback(deps, request, templates, options)
+      : Promise.resolve(summarise(settled, 0));
   };
+}
+
+function canFetch(request: GatherRequest): boolean {
+  return request.fhirServer !== undefined && request.fhirAuthorization?.access_token !== undefined;
+}
+
+/** Every key's result from the prefetch alone, or undefined when any key needs the FHIR server. */
+function settleAllFromPrefetch(
+  request: GatherRequest,
+  templates: Readonly<Partial<Record<PrefetchKey, string>>>,
+): Map<PrefetchKey, KeyResult> | undefined {
+  const fetchAllowed = canFetch(request);
+  const results = new Map<PrefetchKey, KeyResult>();
+  for (const key of Object.keys(templates)) {
+    if (!isPrefetchKey(key)) {
+      continue;
+    }
+    const result = settleFromPrefetch(key, templates[key] ?? '', request, fetchAllowed);
+    if (result === undefined) {
+      return undefined;
+    }
+    results.set(key, result);
+  }
+  return results;
+}
+
+async function gatherWithFallback(
+  deps: GatherDeps,
+  request: GatherRequest,
+  templates: Readonly<Partial<Record<PrefetchKey, string>>>,
+  options: GatherOptions | undefined,
+): Promise<GatherOutcome> {
+  const token = request.fhirAuthorization?.access_token;
+  const before = options?.beforeFetch;
+  const scope: FetchScope | undefined =
+    request.fhirServer !== undefined && token !== undefined
+      ? {
+          fetch: before === undefined ? deps.fetch : fetchAfter(before, deps.fetch),
+          fhirServer: request.fhirServer,
+          accessToken: token,
+          deadline: startFallbackDeadline({ budgetMs: deps.limits.budgetMs }),
+          limits: deps.limits,
+          calls: { count: 0 },
+        }
+      : undefined;
+  const keys = Object.keys(templates).filter(isPrefetchKey);
+  let settled: (readonly [PrefetchKey, KeyResult])[];
+  try {
+    settled = await Promise.all(
+      keys.map(async (key) => {
+        const result = await gatherKey(key, templates[key] ?? '', request, scope);
+        return [key, result] as const;
+      }),
+    );
+  } finally {
+    scope?.deadline.close();
+  }
+  return summarise(new Map(settled), scope?.calls.count ?? 0);
+}
+
+/** The outcome from each key's result: a 412 when a required key could not be had, else the data. */
+function summarise(results: ReadonlyMap<PrefetchKey, KeyResult>, fhirCalls: number): GatherOutcome {
+  const unavailable: UnavailablePrefetch[] = [];
+  const missing: string[] = [];
+  const keysFetched: string[] = [];
+  const keysFailed: string[] = [];
+  const keysIncomplete: string[] = [];
+  for (const [key, result] of results) {
+    if (result.kind === 'not-applicable') {
+      continue;
+    }
+    if (result.fetched && result.kind === 'had') {
+      keysFetched.push(key);
+    }
+    if (result.kind === 'had' && result.incomplete) {
+      keysIncomplete.push(key);
+      // Named on the card like a missing key: a risk factor on an unread page can change the target.
+      missing.push(incompleteEntry(key));
+    }
+    if (result.kind === 'unobtainable') {
+      if (result.fetched) {
+        keysFailed.push(key);
+      }
+      if (PREFETCH_KEYS[key].required) {
+        unavailable.push({ key, reason: result.reason });
+      } else {
+        missing.push(key);
+      }
+    }
+  }
+  const fallback: FallbackSummary = {
+    used: fhirCalls > 0,
+    keysFetched,
+    keysFailed,
+    keysIncomplete,
+  };
+  return unavailable.length > 0
+    ? { kind: 'unavailable', unavailable, fallback }
+    : { kind: 'gathered', data: assemble(results, missing), fallback };
 }

@@ -8,7 +8,7 @@ import {
   type FhirFetchOutcome,
 } from './fhir-client.js';
 import type { FallbackDeadline } from './fhir-deadline.js';
-import { followPages, type PagingOptions } from './gather-pages.js';
+import { followPages, MAX_RESOURCES_PER_KEY, type PagingOptions } from './gather-pages.js';
 import { readPrefetchKey, readPrefetchValue, type PrefetchReading } from './read-prefetch.js';
 import { belongsToPatient } from './same-patient.js';
 
@@ -143,14 +143,62 @@ function pagingOptions(target: KeyTarget, scope: FetchScope | undefined, firstUr
   };
 }
 
+function keyTarget(key: PrefetchKey, request: GatherRequest): KeyTarget {
+  const patientId = request.context['patientId'];
+  return { key, patientId: typeof patientId === 'string' ? patientId : undefined };
+}
+
+/**
+ * The key's result from what the client sent alone, when that settles it: a value with no further
+ * page, or no usable value where the service could not ask the FHIR server anyway (the template does
+ * not expand, or the request gave no FHIR server access). Undefined when the FHIR server must be
+ * asked; then {@link gatherKey} gives the same result as this for every key this settles, so a call
+ * whose prefetch is complete needs no promise per key.
+ */
+export function settleFromPrefetch(
+  key: PrefetchKey,
+  template: string,
+  request: GatherRequest,
+  canFetch: boolean,
+): KeyResult | undefined {
+  const supplied = vet(readPrefetchKey(request.prefetch, key), keyTarget(key, request));
+  if (supplied.kind === 'empty') {
+    return { kind: 'had', resources: [], fetched: false, incomplete: false };
+  }
+  if (supplied.kind === 'resources') {
+    if (supplied.nextUrl !== undefined && canFetch) {
+      return undefined;
+    }
+    // As followPages: at most MAX_RESOURCES_PER_KEY kept; a next page that cannot be read makes the key incomplete.
+    const { resources } = supplied;
+    return {
+      kind: 'had',
+      resources: resources.slice(0, MAX_RESOURCES_PER_KEY),
+      fetched: false,
+      incomplete: resources.length > MAX_RESOURCES_PER_KEY || supplied.nextUrl !== undefined,
+    };
+  }
+  if (expandPrefetchTemplate(template, request.context) === undefined) {
+    return { kind: 'not-applicable' };
+  }
+  if (canFetch) {
+    return undefined;
+  }
+  const why = supplied.kind === 'absent' ? 'was not prefetched' : `was unusable: ${supplied.reason}`;
+  return {
+    kind: 'unobtainable',
+    fetched: false,
+    reason: `${why}, and the request gave no FHIR server access (fhirServer with fhirAuthorization)`,
+  };
+}
+
 export async function gatherKey(
   key: PrefetchKey,
   template: string,
   request: GatherRequest,
   scope: FetchScope | undefined,
 ): Promise<KeyResult> {
-  const patientId = request.context['patientId'];
-  const target: KeyTarget = { key, patientId: typeof patientId === 'string' ? patientId : undefined };
+  const target = keyTarget(key, request);
   const supplied = vet(readPrefetchKey(request.prefetch, key), target);
   if (supplied.kind === 'empty') {
     return { kind: 'had', resources: [], fetched: false, incomplete: false };
