@@ -4,6 +4,9 @@ import {
   classifyPfBerlin,
   expectedAaGradientMmHg,
   hypoxaemiaMechanism,
+  hypoxaemiaMechanismKind,
+  type HypoxaemiaMechanismInput,
+  type HypoxaemiaMechanismKind,
   inspiredPo2MmHg,
   mechanismAcrossFio2Range,
   pfRatioMmHg,
@@ -181,29 +184,41 @@ export function computeGasPhysiology(input: {
           },
         }
       : expectedOnAir;
-  const mechanismAt = (fraction: number, inspired: number, alveolar: number): Outcome<MechanismHint> =>
+  const mechanismInput = (
+    expected: number,
+    fraction: number,
+    inspired: number,
+    alveolar: number,
+  ): HypoxaemiaMechanismInput => ({
+    inspiredPo2MmHg: inspired,
+    aaGradientMmHg: alveolar - pao2MmHg,
+    expectedAaGradientMmHg: expected,
+    paco2MmHg,
+    hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
+    fio2Fraction: fraction,
+    pao2MmHg,
+    ...(input.previous === undefined ? {} : { previous: input.previous }),
+  });
+  // At the ends of the FiO2 range only whether the kind agrees is read, so no explanation is written.
+  const kindAt = (expected: number, fraction: number, alveolar: number): Outcome<{ readonly kind: HypoxaemiaMechanismKind }> =>
+    hypoxaemiaMechanismKind(
+      mechanismInput(expected, fraction, inspiredPo2MmHg(fraction, pb, WATER_VAPOUR_PRESSURE_37C_MMHG), alveolar),
+    );
+  const atEstimate: Outcome<MechanismHint> =
     expectedOnAir.kind === 'ok'
-      ? hypoxaemiaMechanism({
-          inspiredPo2MmHg: inspired,
-          aaGradientMmHg: alveolar - pao2MmHg,
-          expectedAaGradientMmHg: expectedOnAir.value,
-          paco2MmHg,
-          hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
-          fio2Fraction: fraction,
-          pao2MmHg,
-          ...(input.previous === undefined ? {} : { previous: input.previous }),
-        })
+      ? hypoxaemiaMechanism(mechanismInput(expectedOnAir.value, fio2.estimate, pio2Value, pao2Alveolar))
       : unknown(`mechanism needs the age-expected A-a gradient: ${expectedOnAir.reason}`, expectedOnAir.missing);
   // A mechanism is stated only when it holds at both ends of the FiO2 range as well as at the estimate.
-  const mechanism: Outcome<MechanismHint> = uncertain
-    ? mechanismAcrossFio2Range({
-        atLow: mechanismAt(fio2.low, inspiredPo2MmHg(fio2.low, pb, WATER_VAPOUR_PRESSURE_37C_MMHG), alveolarLow),
-        atEstimate: mechanismAt(fio2.estimate, pio2Value, pao2Alveolar),
-        atHigh: mechanismAt(fio2.high, inspiredPo2MmHg(fio2.high, pb, WATER_VAPOUR_PRESSURE_37C_MMHG), alveolarHigh),
-        fio2Low: fio2.low,
-        fio2High: fio2.high,
-      })
-    : mechanismAt(fio2.estimate, pio2Value, pao2Alveolar);
+  const mechanism: Outcome<MechanismHint> =
+    uncertain && expectedOnAir.kind === 'ok' && atEstimate.kind === 'ok'
+      ? mechanismAcrossFio2Range({
+          atLow: kindAt(expectedOnAir.value, fio2.low, alveolarLow),
+          atEstimate,
+          atHigh: kindAt(expectedOnAir.value, fio2.high, alveolarHigh),
+          fio2Low: fio2.low,
+          fio2High: fio2.high,
+        })
+      : atEstimate;
   return {
     inspiredPo2,
     alveolarPo2: {
