@@ -1,6 +1,19 @@
 import type { Computation, Finding, Indicator, OrderChange } from '../../types.js';
 import type { Rule } from './rule-types.js';
 
+/**
+ * Each key once, in the order first given (as `[...new Set(keys)]` gives them); the list itself when
+ * nothing repeats, as in most findings, rather than a Set and a new array for every finding.
+ */
+function firstOfEach(keys: readonly string[]): readonly string[] {
+  for (let i = 1; i < keys.length; i += 1) {
+    if (keys.lastIndexOf(keys[i] as string, i - 1) >= 0) {
+      return [...new Set(keys)];
+    }
+  }
+  return keys;
+}
+
 /** Builds a Finding for `rule`, so id and version always match the rule that made it. */
 export function makeFinding(
   rule: Pick<Rule, 'id' | 'version' | 'defaultIndicator'>,
@@ -20,7 +33,7 @@ export function makeFinding(
     orderReference: parts.orderReference,
     values: parts.values,
     computations: parts.computations ?? [],
-    sourceKeys: [...new Set(parts.sourceKeys)],
+    sourceKeys: firstOfEach(parts.sourceKeys),
     change: parts.change,
   };
 }
