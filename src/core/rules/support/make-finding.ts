@@ -6,12 +6,21 @@ import type { Rule } from './rule-types.js';
  * nothing repeats, as in most findings, rather than a Set and a new array for every finding.
  */
 function firstOfEach(keys: readonly string[]): readonly string[] {
-  for (let i = 1; i < keys.length; i += 1) {
-    if (keys.lastIndexOf(keys[i] as string, i - 1) >= 0) {
-      return [...new Set(keys)];
+  // Plain comparisons: a finding names a few sources, too few for a Set to pay for itself.
+  let unique: string[] | undefined;
+  for (let i = 0; i < keys.length; i += 1) {
+    const key = keys[i] as string;
+    let seen = false;
+    for (let j = 0; j < i && !seen; j += 1) {
+      seen = keys[j] === key;
+    }
+    if (seen) {
+      unique ??= keys.slice(0, i);
+    } else if (unique !== undefined) {
+      unique.push(key);
     }
   }
-  return keys;
+  return unique ?? keys;
 }
 
 /** Builds a Finding for `rule`, so id and version always match the rule that made it. */
