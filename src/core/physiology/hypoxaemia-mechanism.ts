@@ -151,6 +151,7 @@ type Judgement = {
   | { readonly kind: Exclude<HypoxaemiaMechanismKind, 'not-determined' | 'shunt-likely'> }
 );
 
+/** The checks and comparisons behind the mechanism: unknown with the reason, or what was found. */
 function judgeMechanism(input: HypoxaemiaMechanismInput): Outcome<Judgement> {
   const checked = checkPhysiologyInputs({
     inspiredPo2MmHg: input.inspiredPo2MmHg,
