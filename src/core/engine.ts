@@ -7,7 +7,7 @@ import { RULES } from './rules/index.js';
 import { changeUsesStock } from './devices/catalogue.js';
 import { changeLowersOxygen, reasonNotToLowerOxygen } from './rules/support/oxygen-lowering.js';
 import type { Rule, RuleContext } from './rules/support/rule-types.js';
-import { findingGroupKey, sameFinding } from './same-finding.js';
+import { sameFinding } from './same-finding.js';
 import type { Facts, Finding, HookName, Indicator, OxygenOrder } from './types.js';
 
 export type { Rule, RuleContext } from './rules/support/rule-types.js';
@@ -77,19 +77,18 @@ const hookPlansOf = oncePerObject((policy: Policy): ReadonlyMap<HookName, HookPl
   );
 });
 
-/** Keeps `finding` unless the same finding is already kept; `kept` groups them by rule and order. */
-function keepOnce(kept: Map<string, Finding[]>, finding: Finding): boolean {
-  const key = findingGroupKey(finding);
-  const group = kept.get(key);
-  if (group === undefined) {
-    kept.set(key, [finding]);
-    return true;
+/**
+ * Adds `finding` to `kept` unless the same finding is already there. A check keeps a handful of
+ * findings, and `sameFinding` tells most apart by rule id at once, so a scan costs less than grouping
+ * them under a key string made for every finding.
+ */
+function keepOnce(kept: Finding[], finding: Finding): void {
+  for (const other of kept) {
+    if (sameFinding(other, finding)) {
+      return;
+    }
   }
-  if (group.some((other) => sameFinding(other, finding))) {
-    return false;
-  }
-  group.push(finding);
-  return true;
+  kept.push(finding);
 }
 
 function runRules(
@@ -104,7 +103,8 @@ function runRules(
     return findings;
   }
   const rules = assessment.population.kind === 'below-minimum-age' ? plan.childOnly : plan.adults;
-  const noLowering = reasonNotToLowerOxygen(assessment) !== undefined;
+  // Whether no change may lower the oxygen, worked out at the first finding that offers a change.
+  let noLowering: boolean | undefined;
   // Every rule reads the same context (read-only), so it is made once per assessment, not per rule.
   const context: RuleContext = { facts, policy, assessment, hook: options.hook, now: options.now };
   for (const { rule, severity } of rules) {
@@ -112,9 +112,13 @@ function runRules(
       // One safety interlock for every rule: no one-click change lowers the oxygen while the patient
       // may be tiring or is below target (support/oxygen-lowering.ts). The card's advice stays.
       // And none offers a device or Venturi valve the hospital does not stock (policy `devices`).
+      if (made.change !== undefined) {
+        noLowering ??= reasonNotToLowerOxygen(assessment) !== undefined;
+      }
       const finding =
         made.change !== undefined &&
-        ((noLowering && changeLowersOxygen(made.change, assessment, facts)) || !changeUsesStock(made.change, policy.devices))
+        ((noLowering === true && changeLowersOxygen(made.change, assessment, facts)) ||
+          !changeUsesStock(made.change, policy.devices))
           ? { ...made, change: undefined }
           : made;
       findings.push(severity === undefined ? finding : { ...finding, indicator: severity });
@@ -146,13 +150,10 @@ export function evaluateOrder(
   const assessments = (subjects.length === 0 ? [undefined] : subjects).map((order) =>
     buildAssessment(facts, policy, { now: options.now, order, unit }),
   );
-  const kept = new Map<string, Finding[]>();
   const findings: Finding[] = [];
   for (const assessment of assessments) {
     for (const finding of runRules(facts, policy, assessment, options)) {
-      if (keepOnce(kept, finding)) {
-        findings.push(finding);
-      }
+      keepOnce(findings, finding);
     }
   }
   // Array.prototype.sort is stable, so registry order survives within each indicator.

@@ -139,11 +139,10 @@ export function formatRatio(
   ratio: { readonly ratio: number; readonly low: number; readonly high: number },
   cutoffsLowerInclusive: readonly number[],
 ): string {
-  const whole = (x: number): string => formatWholeBesideCutoffs(x, cutoffsLowerInclusive);
-  if (whole(ratio.low) === whole(ratio.high)) {
-    return whole(ratio.ratio);
-  }
-  return `about ${whole(ratio.ratio)} (${whole(ratio.low)}–${whole(ratio.high)})`;
+  const low = formatWholeBesideCutoffs(ratio.low, cutoffsLowerInclusive);
+  const high = formatWholeBesideCutoffs(ratio.high, cutoffsLowerInclusive);
+  const shown = formatWholeBesideCutoffs(ratio.ratio, cutoffsLowerInclusive);
+  return low === high ? shown : `about ${shown} (${low}–${high})`;
 }
 
 /** "3 L/min", "22.5 L/min". */

@@ -4,6 +4,9 @@ import {
   classifyPfBerlin,
   expectedAaGradientMmHg,
   hypoxaemiaMechanism,
+  hypoxaemiaMechanismKind,
+  type HypoxaemiaMechanismInput,
+  type HypoxaemiaMechanismKind,
   inspiredPo2MmHg,
   mechanismAcrossFio2Range,
   pfRatioMmHg,
@@ -107,6 +110,10 @@ export function computeGasPhysiology(input: {
   }
   const checked = checkPhysiologyInputs({ paco2MmHg: gas.paco2MmHg, pao2MmHg: gas.pao2MmHg });
   const pio2Value = inspiredPo2MmHg(fio2.estimate, pb, WATER_VAPOUR_PRESSURE_37C_MMHG);
+  // The texts the workings share, each formatted once: "0.28 × (760 − 47" and " (FiO2 as recorded …)".
+  const fio2Text = formatFraction(fio2.estimate);
+  const inspiredText = `${fio2Text} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}`;
+  const basisText = ` (${basis})`;
   const inspiredPo2: Outcome<Calculated<number>> = {
     kind: 'ok',
     value: {
@@ -114,7 +121,7 @@ export function computeGasPhysiology(input: {
       computation: {
         name: 'Inspired PO2',
         formula: 'PIO2 = FiO2 × (PB − PH2O)',
-        substituted: `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) (${basis})`,
+        substituted: `${inspiredText})${basisText}`,
         result: formatMmHg(pio2Value),
         sourceKey: 'alveolar-gas',
       },
@@ -135,6 +142,7 @@ export function computeGasPhysiology(input: {
     form: 'simplified',
   });
   const gradient = aaGradientMmHg(pao2Alveolar, pao2MmHg);
+  const pao2Text = mm(pao2MmHg);
   const alveolarAt = (fraction: number): number =>
     alveolarPo2MmHg({
       fio2Fraction: fraction,
@@ -145,9 +153,12 @@ export function computeGasPhysiology(input: {
     });
   const uncertain = fio2IsUncertain(fio2);
   // PAO2 and the A-a gradient rise with FiO2, so the ends of the FiO2 range give the ends of theirs.
-  const alveolarRange = uncertain ? { range: { low: alveolarAt(fio2.low), high: alveolarAt(fio2.high) } } : {};
+  // Each worked out once: the ranges and the mechanism at each end of the FiO2 range read them all.
+  const alveolarLow = uncertain ? alveolarAt(fio2.low) : pao2Alveolar;
+  const alveolarHigh = uncertain ? alveolarAt(fio2.high) : pao2Alveolar;
+  const alveolarRange = uncertain ? { range: { low: alveolarLow, high: alveolarHigh } } : {};
   const gradientRange = uncertain
-    ? { range: { low: alveolarAt(fio2.low) - pao2MmHg, high: alveolarAt(fio2.high) - pao2MmHg } }
+    ? { range: { low: alveolarLow - pao2MmHg, high: alveolarHigh - pao2MmHg } }
     : {};
   const pf = ratioOverFio2Range({
     numerator: pao2MmHg,
@@ -173,29 +184,41 @@ export function computeGasPhysiology(input: {
           },
         }
       : expectedOnAir;
-  const mechanismAt = (fraction: number): Outcome<MechanismHint> =>
+  const mechanismInput = (
+    expected: number,
+    fraction: number,
+    inspired: number,
+    alveolar: number,
+  ): HypoxaemiaMechanismInput => ({
+    inspiredPo2MmHg: inspired,
+    aaGradientMmHg: alveolar - pao2MmHg,
+    expectedAaGradientMmHg: expected,
+    paco2MmHg,
+    hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
+    fio2Fraction: fraction,
+    pao2MmHg,
+    ...(input.previous === undefined ? {} : { previous: input.previous }),
+  });
+  // At the ends of the FiO2 range only whether the kind agrees is read, so no explanation is written.
+  const kindAt = (expected: number, fraction: number, alveolar: number): Outcome<{ readonly kind: HypoxaemiaMechanismKind }> =>
+    hypoxaemiaMechanismKind(
+      mechanismInput(expected, fraction, inspiredPo2MmHg(fraction, pb, WATER_VAPOUR_PRESSURE_37C_MMHG), alveolar),
+    );
+  const atEstimate: Outcome<MechanismHint> =
     expectedOnAir.kind === 'ok'
-      ? hypoxaemiaMechanism({
-          inspiredPo2MmHg: inspiredPo2MmHg(fraction, pb, WATER_VAPOUR_PRESSURE_37C_MMHG),
-          aaGradientMmHg: alveolarAt(fraction) - pao2MmHg,
-          expectedAaGradientMmHg: expectedOnAir.value,
-          paco2MmHg,
-          hypercapniaPaco2MmHg: input.policy.hypercapnicRisk.hypercapniaPaco2.mmHg,
-          fio2Fraction: fraction,
-          pao2MmHg,
-          ...(input.previous === undefined ? {} : { previous: input.previous }),
-        })
+      ? hypoxaemiaMechanism(mechanismInput(expectedOnAir.value, fio2.estimate, pio2Value, pao2Alveolar))
       : unknown(`mechanism needs the age-expected A-a gradient: ${expectedOnAir.reason}`, expectedOnAir.missing);
   // A mechanism is stated only when it holds at both ends of the FiO2 range as well as at the estimate.
-  const mechanism: Outcome<MechanismHint> = uncertain
-    ? mechanismAcrossFio2Range({
-        atLow: mechanismAt(fio2.low),
-        atEstimate: mechanismAt(fio2.estimate),
-        atHigh: mechanismAt(fio2.high),
-        fio2Low: fio2.low,
-        fio2High: fio2.high,
-      })
-    : mechanismAt(fio2.estimate);
+  const mechanism: Outcome<MechanismHint> =
+    uncertain && expectedOnAir.kind === 'ok' && atEstimate.kind === 'ok'
+      ? mechanismAcrossFio2Range({
+          atLow: kindAt(expectedOnAir.value, fio2.low, alveolarLow),
+          atEstimate,
+          atHigh: kindAt(expectedOnAir.value, fio2.high, alveolarHigh),
+          fio2Low: fio2.low,
+          fio2High: fio2.high,
+        })
+      : atEstimate;
   return {
     inspiredPo2,
     alveolarPo2: {
@@ -205,9 +228,7 @@ export function computeGasPhysiology(input: {
         computation: {
           name: 'Alveolar PO2 (alveolar gas equation)',
           formula: 'PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
-          substituted:
-            `${formatFraction(fio2.estimate)} × (${mm(pb)} − ${WATER_VAPOUR_PRESSURE_37C_MMHG}) − ` +
-            `${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT} (${basis})`,
+          substituted: `${inspiredText}) − ${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT}${basisText}`,
           result: formatMmHg(pao2Alveolar),
           sourceKey: 'alveolar-gas',
         },
@@ -221,7 +242,7 @@ export function computeGasPhysiology(input: {
         computation: {
           name: 'A-a gradient',
           formula: 'A-a = PAO2 − PaO2',
-          substituted: `${mm(pao2Alveolar)} − ${mm(pao2MmHg)}`,
+          substituted: `${mm(pao2Alveolar)} − ${pao2Text}`,
           result: formatMmHg(gradient),
           sourceKey: 'alveolar-gas',
         },
@@ -236,7 +257,7 @@ export function computeGasPhysiology(input: {
         computation: {
           name: 'P/F ratio',
           formula: 'P/F = PaO2 / FiO2',
-          substituted: `${mm(pao2MmHg)} / ${formatFraction(fio2.estimate)} (${basis})`,
+          substituted: `${pao2Text} / ${fio2Text}${basisText}`,
           result: `${formatRatio(pf, BERLIN_CUTOFFS_MMHG)} mmHg`,
           sourceKey: 'berlin-2012',
         },

@@ -40,6 +40,19 @@ export function alveolarPo2MmHg(input: AlveolarGasInput): number {
   return result.value;
 }
 
+/** `problems` with why `value` is out of range for `name` added, when it is. */
+function withProblem(
+  problems: string[] | undefined,
+  name: keyof typeof PHYSIOLOGY_VALID_RANGES,
+  value: number,
+): string[] | undefined {
+  const problem = describeOutOfRange(name, value, PHYSIOLOGY_VALID_RANGES[name]);
+  if (problem === undefined) {
+    return problems;
+  }
+  return problems === undefined ? [problem] : [...problems, problem];
+}
+
 /**
  * The same calculation as {@link alveolarPo2MmHg}, returning `unknown` with the reason instead of
  * throwing when an input is out of range or the inputs give an impossible PAO2.
@@ -47,17 +60,13 @@ export function alveolarPo2MmHg(input: AlveolarGasInput): number {
 export function alveolarPo2OrUnknown(input: AlveolarGasInput): Outcome<number> {
   const respiratoryQuotient = input.respiratoryQuotient ?? RESPIRATORY_QUOTIENT_DEFAULT;
   const waterVapourMmHg = input.waterVapourMmHg ?? WATER_VAPOUR_PRESSURE_37C_MMHG;
-  const checks = {
-    fio2Fraction: input.fio2Fraction,
-    barometricPressureMmHg: input.barometricPressureMmHg,
-    paco2MmHg: input.paco2MmHg,
-    respiratoryQuotient,
-    waterVapourMmHg,
-  } as const;
-  const problems = (Object.keys(checks) as (keyof typeof checks)[])
-    .map((name) => describeOutOfRange(name, checks[name], PHYSIOLOGY_VALID_RANGES[name]))
-    .filter((problem): problem is string => problem !== undefined);
-  if (problems.length > 0) {
+  // Checked one by one, with a list made only when something is out of range.
+  let problems = withProblem(undefined, 'fio2Fraction', input.fio2Fraction);
+  problems = withProblem(problems, 'barometricPressureMmHg', input.barometricPressureMmHg);
+  problems = withProblem(problems, 'paco2MmHg', input.paco2MmHg);
+  problems = withProblem(problems, 'respiratoryQuotient', respiratoryQuotient);
+  problems = withProblem(problems, 'waterVapourMmHg', waterVapourMmHg);
+  if (problems !== undefined) {
     return { kind: 'unknown', reason: problems.join('; ') };
   }
   const inspired = inspiredPo2MmHg(input.fio2Fraction, input.barometricPressureMmHg, waterVapourMmHg);

@@ -83,6 +83,76 @@ const IMPOSSIBLE_GRADIENT_BELOW_MMHG = -10;
 export function hypoxaemiaMechanism(
   input: HypoxaemiaMechanismInput,
 ): Outcome<HypoxaemiaMechanism> {
+  const judged = judgeMechanism(input);
+  if (judged.kind === 'unknown') {
+    return judged;
+  }
+  const j = judged.value;
+  const { aaGradientMmHg: gradient, fio2Fraction: fio2, paco2MmHg: paco2 } = input;
+  const [gradientShown, allowanceShown] = comparedPair(gradient, j.allowance);
+  const gradientWords = j.onAir
+    ? `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg expected for age on air`
+    : `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg allowed on FiO2 ` +
+      `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
+  const paco2Words = `PaCO2 ${whole(paco2)} mmHg`;
+  const inspired = input.inspiredPo2MmHg;
+  const alsoInspired = j.lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
+  const gasExchange = 'V/Q mismatch, shunt or diffusion limitation';
+
+  switch (j.kind) {
+    case 'shunt-likely':
+      return ok('shunt-likely', `${gradientWords}. ${shuntWords(input, j.shunt)}${alsoInspired}`);
+    case 'hypoventilation-plus-gradient': {
+      const words = `${paco2Words} (raised: CO2 not cleared) and ${gradientWords}: reduced alveolar ventilation plus`;
+      return ok('hypoventilation-plus-gradient', `${words} ${gasExchange}.${alsoInspired}`);
+    }
+    case 'vq-mismatch-shunt-or-diffusion':
+      return ok('vq-mismatch-shunt-or-diffusion', `${gradientWords}: ${gasExchange}.${alsoInspired}`);
+    case 'hypoventilation': {
+      const words = `${paco2Words} with ${gradientWords}: reduced alveolar ventilation (CO2 not cleared) explains the low PaO2.`;
+      return ok('hypoventilation', `${words}${alsoInspired}`);
+    }
+    case 'low-inspired-po2': {
+      const words = `Inspired PO2 ${fmt(inspired)} mmHg is low (e.g. altitude), with ${gradientWords}`;
+      return ok('low-inspired-po2', `${words} and ${paco2Words}: the inspired gas explains the PaO2.`);
+    }
+    case 'none': {
+      const words = `${gradientWords}, ${paco2Words} and inspired PO2 ${fmt(inspired)} mmHg`;
+      return ok('none', `${words}: no mechanism of hypoxaemia found.`);
+    }
+  }
+}
+
+/**
+ * The kind {@link hypoxaemiaMechanism} finds, without its explanation: for the ends of an FiO2 range,
+ * where only whether the kind agrees with the estimate's is read (mechanismAcrossFio2Range).
+ */
+export function hypoxaemiaMechanismKind(
+  input: HypoxaemiaMechanismInput,
+): Outcome<{ readonly kind: HypoxaemiaMechanismKind }> {
+  const judged = judgeMechanism(input);
+  return judged.kind === 'unknown' ? judged : { kind: 'ok', value: { kind: judged.value.kind } };
+}
+
+/** The earlier FiO2 and the PaO2 and alveolar PO2 rises, when they meet the shunt heuristic. */
+interface ShuntRise {
+  readonly previousFio2Fraction: number;
+  readonly alveolarRise: number;
+  readonly arterialRise: number;
+}
+
+/** What the mechanism was judged on, shared by the kind and its explanation so they cannot disagree. */
+type Judgement = {
+  readonly onAir: boolean;
+  readonly allowance: number;
+  readonly lowInspired: boolean;
+} & (
+  | { readonly kind: 'shunt-likely'; readonly shunt: ShuntRise }
+  | { readonly kind: Exclude<HypoxaemiaMechanismKind, 'not-determined' | 'shunt-likely'> }
+);
+
+/** The checks and comparisons behind the mechanism: unknown with the reason, or what was found. */
+function judgeMechanism(input: HypoxaemiaMechanismInput): Outcome<Judgement> {
   const checked = checkPhysiologyInputs({
     inspiredPo2MmHg: input.inspiredPo2MmHg,
     aaGradientMmHg: input.aaGradientMmHg,
@@ -114,43 +184,25 @@ export function hypoxaemiaMechanism(
   const allowance = input.expectedAaGradientMmHg + (onAir ? 0 : oxygenAllowance);
   const gradientRaised = gradient > allowance;
   const hypoventilation = paco2 >= input.hypercapniaPaco2MmHg;
-  const inspired = input.inspiredPo2MmHg;
-  const lowInspired = inspired < LOW_INSPIRED_PO2_BELOW_MMHG;
-
-  const [gradientShown, allowanceShown] = comparedPair(gradient, allowance);
-  const gradientWords = onAir
-    ? `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg expected for age on air`
-    : `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg allowed on FiO2 ` +
-      `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
-  const paco2Words = `PaCO2 ${whole(paco2)} mmHg`;
-  const alsoInspired = lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
-  const gasExchange = 'V/Q mismatch, shunt or diffusion limitation';
-
-  if (gradientRaised) {
-    const shunt = shuntEvidence(input);
-    if (shunt !== undefined) {
-      return ok('shunt-likely', `${gradientWords}. ${shunt}${alsoInspired}`);
-    }
-    if (hypoventilation) {
-      const words = `${paco2Words} (raised: CO2 not cleared) and ${gradientWords}: reduced alveolar ventilation plus`;
-      return ok('hypoventilation-plus-gradient', `${words} ${gasExchange}.${alsoInspired}`);
-    }
-    return ok('vq-mismatch-shunt-or-diffusion', `${gradientWords}: ${gasExchange}.${alsoInspired}`);
+  const lowInspired = input.inspiredPo2MmHg < LOW_INSPIRED_PO2_BELOW_MMHG;
+  const shunt = gradientRaised ? shuntRise(input) : undefined;
+  if (shunt !== undefined) {
+    return { kind: 'ok', value: { kind: 'shunt-likely', shunt, onAir, allowance, lowInspired } };
   }
-  if (hypoventilation) {
-    const words = `${paco2Words} with ${gradientWords}: reduced alveolar ventilation (CO2 not cleared) explains the low PaO2.`;
-    return ok('hypoventilation', `${words}${alsoInspired}`);
-  }
-  if (lowInspired) {
-    const words = `Inspired PO2 ${fmt(inspired)} mmHg is low (e.g. altitude), with ${gradientWords}`;
-    return ok('low-inspired-po2', `${words} and ${paco2Words}: the inspired gas explains the PaO2.`);
-  }
-  const words = `${gradientWords}, ${paco2Words} and inspired PO2 ${fmt(inspired)} mmHg`;
-  return ok('none', `${words}: no mechanism of hypoxaemia found.`);
+  const kind = gradientRaised
+    ? hypoventilation
+      ? 'hypoventilation-plus-gradient'
+      : 'vq-mismatch-shunt-or-diffusion'
+    : hypoventilation
+      ? 'hypoventilation'
+      : lowInspired
+        ? 'low-inspired-po2'
+        : 'none';
+  return { kind: 'ok', value: { kind, onAir, allowance, lowInspired } };
 }
 
-/** The shunt sentence when the response to a rise in FiO2 meets the heuristic, else undefined. */
-function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
+/** The rises when the response to a rise in FiO2 meets the shunt heuristic, else undefined. */
+function shuntRise(input: HypoxaemiaMechanismInput): ShuntRise | undefined {
   const previous = input.previous;
   // Rounded so that 0.60 − 0.50 (0.09999999999999998 in floating point) counts as a rise of 0.10.
   const fio2Rise =
@@ -165,8 +217,14 @@ function shuntEvidence(input: HypoxaemiaMechanismInput): string | undefined {
   if (arterialRise >= SHUNT_PAO2_RISE_FRACTION_BELOW * alveolarRise) {
     return undefined;
   }
+  return { previousFio2Fraction: previous.fio2Fraction, alveolarRise, arterialRise };
+}
+
+/** The shunt sentence for rises that met the heuristic. */
+function shuntWords(input: HypoxaemiaMechanismInput, rise: ShuntRise): string {
+  const { previousFio2Fraction, alveolarRise, arterialRise } = rise;
   return (
-    `FiO2 rose from ${previous.fio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
+    `FiO2 rose from ${previousFio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
     `but PaO2 changed by ${whole(arterialRise)} mmHg, under 20 % of the ${whole(alveolarRise)} mmHg ` +
     'rise in alveolar PO2: a shunt is likely (a heuristic, common practice).'
   );
@@ -189,9 +247,9 @@ const KIND_WORDS: Readonly<Record<HypoxaemiaMechanismKind, string>> = {
  * with both readings named, never one of them as fact.
  */
 export function mechanismAcrossFio2Range(input: {
-  readonly atLow: Outcome<HypoxaemiaMechanism>;
+  readonly atLow: Outcome<{ readonly kind: HypoxaemiaMechanismKind }>;
   readonly atEstimate: Outcome<HypoxaemiaMechanism>;
-  readonly atHigh: Outcome<HypoxaemiaMechanism>;
+  readonly atHigh: Outcome<{ readonly kind: HypoxaemiaMechanismKind }>;
   readonly fio2Low: number;
   readonly fio2High: number;
 }): Outcome<HypoxaemiaMechanism> {

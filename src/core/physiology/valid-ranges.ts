@@ -98,18 +98,24 @@ export function assertInRange(
 export function checkPhysiologyInputs<K extends PhysiologyInputName>(values: {
   readonly [P in K]: number | undefined;
 }): Outcome<{ readonly [P in K]: number }> {
-  const names = Object.keys(values) as K[];
-  const missing = names.filter((name) => {
+  // One pass, with the lists made only when something is wrong: this runs several times a check.
+  let missing: K[] | undefined;
+  let problems: string[] | undefined;
+  for (const name of Object.keys(values) as K[]) {
     const value = values[name];
-    return value === undefined || Number.isNaN(value);
-  });
-  if (missing.length > 0) {
+    if (value === undefined || Number.isNaN(value)) {
+      (missing ??= []).push(name);
+    } else if (missing === undefined) {
+      const problem = describeOutOfRange(name, value, PHYSIOLOGY_VALID_RANGES[name]);
+      if (problem !== undefined) {
+        (problems ??= []).push(problem);
+      }
+    }
+  }
+  if (missing !== undefined) {
     return { kind: 'unknown', reason: `missing ${missing.join(', ')}`, missing };
   }
-  const problems = names
-    .map((name) => describeOutOfRange(name, values[name] as number, PHYSIOLOGY_VALID_RANGES[name]))
-    .filter((problem): problem is string => problem !== undefined);
-  if (problems.length > 0) {
+  if (problems !== undefined) {
     return { kind: 'unknown', reason: problems.join('; ') };
   }
   return { kind: 'ok', value: values as { readonly [P in K]: number } };

@@ -206,8 +206,13 @@ function mechanismWords(explanation: string): string {
 
 /** Each working's source, the device model's, and the acid-base reading's when there is one. */
 function sourceKeysOf(computations: readonly Computation[], deliveryKeys: readonly string[], gasRead: boolean): string[] {
-  const keys = computations.map((c) => c.sourceKey);
-  keys.push(...deliveryKeys);
+  const keys: string[] = [];
+  for (const computation of computations) {
+    keys.push(computation.sourceKey);
+  }
+  for (const key of deliveryKeys) {
+    keys.push(key);
+  }
   if (gasRead) {
     keys.push('rcem-abg');
   }
@@ -233,7 +238,12 @@ export const rule: Rule = {
     const { order, physiology: p, delivery, current, barometricPressure: pb } = assessment;
     const anything =
       delivery.kind === 'ok' ||
-      [p.alveolarPo2, p.pfRatio, p.sfRatio, p.rox, p.oxygenContent, p.gasInterpretation].some((o) => o.kind === 'ok');
+      p.alveolarPo2.kind === 'ok' ||
+      p.pfRatio.kind === 'ok' ||
+      p.sfRatio.kind === 'ok' ||
+      p.rox.kind === 'ok' ||
+      p.oxygenContent.kind === 'ok' ||
+      p.gasInterpretation.kind === 'ok';
     if (!anything) {
       return [];
     }

@@ -47,18 +47,18 @@ export function deliveryComputation(assessment: Assessment): Computation | undef
     return undefined;
   }
   const rr = assessment.current.respRate;
-  const inputs = [
-    order.flowLPerMin === undefined ? undefined : `O2 flow ${formatFlow(order.flowLPerMin)}`,
-    order.setFio2Fraction === undefined ? undefined : `set FiO2 ${order.setFio2Fraction.toFixed(2)}`,
+  // The inputs the model read, joined as they are written: no list built and filtered on every call.
+  const flow = order.flowLPerMin === undefined ? '' : `O2 flow ${formatFlow(order.flowLPerMin)}, `;
+  const setting = order.setFio2Fraction === undefined ? '' : `set FiO2 ${order.setFio2Fraction.toFixed(2)}, `;
+  const breathing =
     rr === undefined
       ? 'respiratory rate not recorded (resting pattern assumed)'
-      : `respiratory rate ${formatNumber(rr.value, 0)}/min`,
-  ].filter((part): part is string => part !== undefined);
+      : `respiratory rate ${formatNumber(rr.value, 0)}/min`;
   const { model, envelope, fio2Source } = delivery.value;
   return {
     name: fio2Source === 'set' ? 'Delivered FiO2 (device setting)' : 'Delivered FiO2 (estimate)',
     formula: `${deviceLabel(order.device)}: ${model.name}; published range used: ${envelope.basis}`,
-    substituted: inputs.join(', '),
+    substituted: `${flow}${setting}${breathing}`,
     result: formatDeliveredFio2(delivery.value),
     sourceKey: model.sourceKey,
   };
