@@ -18,11 +18,6 @@ export function sameFinding(a: Finding, b: Finding): boolean {
   );
 }
 
-/** The key under which findings that may be the same are grouped: rule and order. */
-export function findingGroupKey(finding: Finding): string {
-  return `${finding.ruleId}\n${finding.orderReference ?? ''}`;
-}
-
 function sameValues(a: Readonly<Record<string, string>>, b: Readonly<Record<string, string>>): boolean {
   const keys = Object.keys(a);
   if (keys.length !== Object.keys(b).length) {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { findingGroupKey, sameFinding } from '../../src/core/same-finding.js';
+import { sameFinding } from '../../src/core/same-finding.js';
 import type { Finding, OrderChange } from '../../src/core/types.js';
 
 /**
@@ -103,13 +103,6 @@ describe('sameFinding', () => {
       const withFio2 = finding({ change: { kind: 'set-device', device: 'venturi-mask', flowLPerMin: 4, setFio2Fraction: 0.28 } });
       expect(sameFinding(without, withFio2)).toBe(false);
       expect(sameFinding(withFio2, without)).toBe(false);
-    });
-
-    it('groups by rule and order only, so same findings always share a group', () => {
-      const all = everyFinding();
-      const split = all.flatMap((a) => all.filter((b) => sameFinding(a, b) && findingGroupKey(a) !== findingGroupKey(b)));
-      expect(split).toStrictEqual([]);
-      expect(findingGroupKey(finding({ orderReference: undefined }))).not.toBe(findingGroupKey(finding()));
     });
   });
 });
