@@ -1,7 +1,6 @@
 import { createReadStream, readdirSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { performance } from 'node:perf_hooks';
-import { createInterface } from 'node:readline';
 import { pathToFileURL } from 'node:url';
 import type * as LoadFilesModule from '../src/config/load-files.js';
 import type * as ExportIndexModule from '../src/bulk/export-index.js';
@@ -43,20 +42,35 @@ export function ndjsonFiles(dir: string): string[] {
     .map((file) => join(dir, file));
 }
 
+/**
+ * The floor reads each file a chunk at a time and splits the lines itself, as simulate's own reader
+ * does (src/bulk/ndjson-reader.ts), so the floor is no slower than the reading inside what it is
+ * compared with (node:readline, awaited once per line, cost more than the JSON.parse).
+ */
 async function readAndParse(dir: string): Promise<{ lines: number; bytes: number }> {
   let lines = 0;
   let bytes = 0;
+  const parseLine = (text: string): void => {
+    const line = text.endsWith('\r') ? text.slice(0, -1) : text;
+    if (line.trim() === '') {
+      return;
+    }
+    const parsed = JSON.parse(line) as { resourceType?: unknown };
+    if (typeof parsed.resourceType === 'string') {
+      lines += 1;
+    }
+  };
   for (const file of ndjsonFiles(dir)) {
     bytes += statSync(file).size;
-    for await (const line of createInterface({ input: createReadStream(file, 'utf8'), crlfDelay: Infinity })) {
-      if (line.trim() === '') {
-        continue;
-      }
-      const parsed = JSON.parse(line) as { resourceType?: unknown };
-      if (typeof parsed.resourceType === 'string') {
-        lines += 1;
+    let rest = '';
+    for await (const chunk of createReadStream(file, { encoding: 'utf8' })) {
+      const parts = (rest + (chunk as string)).split('\n');
+      rest = parts.pop() ?? '';
+      for (const part of parts) {
+        parseLine(part);
       }
     }
+    parseLine(rest);
   }
   return { lines, bytes };
 }

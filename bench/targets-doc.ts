@@ -139,7 +139,8 @@ ${targetsTable(targets, before)}
   interleaved loops (the pure-pipeline table below also keeps the older parse + stringify yardstick);
   the median of the examples' ratios, and the ratio on the 70 KB request.
 - **Bulk.** \`demo-export\` writes an invented export; a process that only reads and \`JSON.parse\`s every
-  NDJSON line of it, and one that runs what \`simulate\` runs (index the export, replay every order under
+  NDJSON line of it (a 64 KB chunk at a time, split into lines, as simulate's own reader does; the
+  "before" column's floor awaited node:readline once a line, which made it slower), and one that runs what \`simulate\` runs (index the export, replay every order under
   two policies, here the bundled one twice), take turns; the faster of each is kept. Throughput is
   NDJSON lines a second. Peak memory is each simulate process's maxRSS; "flat" is read here as the larger
   export (4 × the orders) peaking at no more than 1.2 × the smaller's.
