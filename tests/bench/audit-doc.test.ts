@@ -6,6 +6,7 @@ import type { LoadResult } from '../../bench/load-test.js';
 import type { MicroResult, Timing } from '../../bench/micro.js';
 import { renderAuditSection, renderPerformanceDoc } from '../../bench/performance-doc.js';
 import type { AuditReport, RunReport } from '../../bench/report.js';
+import { inventedMachine } from './support/invented-machine.js';
 
 /**
  * How the audit section reads given numbers: the ratios and differences it prints are those of the
@@ -131,17 +132,7 @@ describe('the audit section of docs/performance.md', () => {
 
   it('sits in the whole page after the pure pipeline', () => {
     const report: RunReport = {
-      machine: {
-        date: '2026-03-14T10:00:00.000Z',
-        node: 'v20.0.0',
-        cpus: 2,
-        cpuModel: 'invented CPU',
-        loadAverage: [1, 1, 1],
-        loadAverageEnd: [1, 1, 1],
-        platform: 'linux',
-        commit: 'abc1234',
-        uncommitted: [],
-      },
+      machine: inventedMachine('2026-03-14T10:00:00.000Z', 'abc1234'),
       settings: { runner: 'dist', connections: 10, durationS: 8, warmupS: 2, buildS: 30, microIterations: 2000 },
       rows: [],
       baseline: { first: load('first', 3900, 2, 5), last: load('last', 4100, 2, 5), meanReqPerSec: BASELINE, driftPercent: 5 },

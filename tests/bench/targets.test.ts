@@ -6,6 +6,7 @@ import type { LoadResult } from '../../bench/load-test.js';
 import type { MicroResult, Timing } from '../../bench/micro.js';
 import { renderPerformanceDoc } from '../../bench/performance-doc.js';
 import type { RunReport } from '../../bench/report.js';
+import { inventedMachine } from './support/invented-machine.js';
 import { BEFORE_FILE, beforeFileText, parseBeforeFigures, renderTargetsSection, targetsTable } from '../../bench/targets-doc.js';
 import {
   TARGETS,
@@ -194,30 +195,26 @@ describe('printing', () => {
 });
 
 describe('docs/performance.md', () => {
+  /** A run with one example's micro figures and nothing else measured, under the settings given. */
+  const pageReport = (settings: Partial<RunReport['settings']>, extra: Partial<RunReport> = {}): RunReport => ({
+    machine: inventedMachine('2026-12-05T00:30:00.000Z', 'def5678'),
+    settings: { runner: 'dist', connections: 10, durationS: 8, warmupS: 2, buildS: 30, microIterations: 2000, ...settings },
+    rows: [],
+    baseline: { first: load(4000, 5), last: load(4000, 5), meanReqPerSec: 4000, driftPercent: 0 },
+    echo: undefined,
+    logLinesDuringLoad: 0,
+    micro: [micro('sign-a', 10, 25)],
+    serviceProfile: undefined,
+    microProfile: undefined,
+    profiledExample: undefined,
+    ...extra,
+  });
+
   it('opens with the targets, before and after side by side, ahead of the latest run’s tables', () => {
-    const report: RunReport = {
-      machine: {
-        date: '2026-12-05T00:30:00.000Z',
-        node: 'v20.0.0',
-        cpus: 2,
-        cpuModel: 'invented CPU',
-        loadAverage: [1, 1, 1],
-        loadAverageEnd: [1, 1, 1],
-        platform: 'linux',
-        commit: 'def5678',
-        uncommitted: [],
-      },
-      settings: { runner: 'dist', connections: 10, durationS: 8, warmupS: 2, buildS: 30, microIterations: 2000, elapsedS: 754 },
-      rows: [],
-      baseline: { first: load(4000, 5), last: load(4000, 5), meanReqPerSec: 4000, driftPercent: 0 },
-      echo: undefined,
-      logLinesDuringLoad: 0,
-      micro: [micro('sign-a', 10, 25)],
-      serviceProfile: undefined,
-      microProfile: undefined,
-      profiledExample: undefined,
-      targets: { figures: [{ id: 'engine-examples', value: 2.5, basis: 'median of 1 example' }] },
-    };
+    const report = pageReport(
+      { elapsedS: 754 },
+      { targets: { figures: [{ id: 'engine-examples', value: 2.5, basis: 'median of 1 example' }] } },
+    );
     const before = parseBeforeFigures(
       beforeFileText([{ id: 'engine-examples', value: 47, basis: 'x' }], 'abc1234', '2026-12-04T23:40:00.000Z', 'invented'),
     );
@@ -231,36 +228,8 @@ describe('docs/performance.md', () => {
   });
 
   it('says which code the in-process figures ran, and how each side was primed', () => {
-    const report = (runner: string, primed: boolean): RunReport => ({
-      machine: {
-        date: '2026-12-05T00:30:00.000Z',
-        node: 'v20.0.0',
-        cpus: 2,
-        cpuModel: 'invented CPU',
-        loadAverage: [1, 1, 1],
-        loadAverageEnd: [1, 1, 1],
-        platform: 'linux',
-        commit: 'def5678',
-        uncommitted: [],
-      },
-      settings: {
-        runner,
-        connections: 10,
-        durationS: 8,
-        warmupS: 2,
-        buildS: 30,
-        microIterations: 2000,
-        ...(primed ? { primeCalls: 5000, microPrimeCalls: 4000 } : {}),
-      },
-      rows: [],
-      baseline: { first: load(4000, 5), last: load(4000, 5), meanReqPerSec: 4000, driftPercent: 0 },
-      echo: undefined,
-      logLinesDuringLoad: 0,
-      micro: [micro('sign-a', 10, 25)],
-      serviceProfile: undefined,
-      microProfile: undefined,
-      profiledExample: undefined,
-    });
+    const report = (runner: string, primed: boolean): RunReport =>
+      pageReport({ runner, ...(primed ? { primeCalls: 5000, microPrimeCalls: 4000 } : {}) });
     const pureSection = (page: string): string => page.slice(page.indexOf('### Pure pipeline, in process'), page.indexOf('### Audit trail'));
     const built = renderPerformanceDoc(report('dist', true));
     expect(pureSection(built)).toContain("These loops ran in a child process on the service's own tsc build, run by plain `node`");
