@@ -23,27 +23,23 @@ export function readFlows(text: string): FlowsRead {
   return { all, ordered: all.find((m) => isOrderedSetting(text, m)) };
 }
 
-export class TextReadings {
-  readonly #statements = new Map<string, TargetStatements>();
-  readonly #flows = new Map<string, FlowsRead>();
-
-  /** The target ranges and bounds the text states (read-target-text.ts). */
-  targetStatements(text: string): TargetStatements {
-    let read = this.#statements.get(text);
-    if (read === undefined) {
-      read = findTargetStatements(text);
-      this.#statements.set(text, read);
+/** `read(text)`, read once for each distinct text. */
+function oncePerText<T>(read: (text: string) => T): (text: string) => T {
+  const held = new Map<string, T>();
+  return (text) => {
+    let value = held.get(text);
+    if (value === undefined) {
+      value = read(text);
+      held.set(text, value);
     }
-    return read;
-  }
+    return value;
+  };
+}
+
+export class TextReadings {
+  /** The target ranges and bounds the text states (read-target-text.ts). */
+  readonly targetStatements: (text: string) => TargetStatements = oncePerText(findTargetStatements);
 
   /** The flows the text states, and the ordered one, as readSettingText picks it. */
-  flows(text: string): FlowsRead {
-    let read = this.#flows.get(text);
-    if (read === undefined) {
-      read = readFlows(text);
-      this.#flows.set(text, read);
-    }
-    return read;
-  }
+  readonly flows: (text: string) => FlowsRead = oncePerText(readFlows);
 }
