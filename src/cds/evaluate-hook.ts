@@ -1,7 +1,7 @@
-import { evaluateOrder, type Evaluation } from '../core/engine.js';
+import { evaluateOrder } from '../core/engine.js';
 import type { Assessment } from '../core/assessment/types.js';
 import type { Policy } from '../core/policy.js';
-import type { Facts, HookName, OrderChange } from '../core/types.js';
+import type { HookName, OrderChange } from '../core/types.js';
 import { RULES } from '../core/rules/index.js';
 import { extractFacts } from '../fhir/extract-facts.js';
 import { findDraftResource } from '../fhir/find-order-resource.js';
@@ -14,7 +14,6 @@ import type { CardTemplates } from './card-templates.js';
 import { cardClock } from './card-time.js';
 import { prepareWorkings } from './card-workings.js';
 import {
-  type Card,
   OrderSelectContextSchema,
   OrderSignContextSchema,
   PatientViewContextSchema,
@@ -135,21 +134,39 @@ export function evaluateHook(
 
   const facts = extractFacts({ hook, draftOrders, selections, data: input.data }, deps.policy, deps.now);
   const evaluation = evaluateOrder(facts, deps.policy, { hook, now: deps.now });
-  const { findings } = evaluation;
+  const { assessment, assessments, findings } = evaluation;
+  // A draft may hold two subject orders; each card shows the inputs of its own order's assessment.
+  const assessmentFor = (reference: string | undefined) =>
+    assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ??
+    assessment;
+
   const seen = new Map<string, number>();
   const offered = new Map<string, OrderChange[]>();
   const problems: string[] = [];
   const workings: CardWorkings[] = [];
   const audit: CardAudit[] = [];
-  const cards: Card[] = [];
   // What the cards of this call share is built once: its clock, each assessment's inputs and chart.
   const clock = cardClock(deps.now, deps.policy.site.timeZone);
   const renderWorkings = prepareWorkings(facts, deps.policy, deps.now, clock);
   const renderDetail = prepareCompactDetail(facts, deps.policy, clock);
   // Several cards may be about one order: the draft bundle is searched once per order reference.
-  const draftByReference = new Map<string, DraftResource>();
+  const draftByReference = new Map<string, ReturnType<typeof findDraftResource>>();
+  const draftResourceFor = (reference: string): ReturnType<typeof findDraftResource> => {
+    if (!draftByReference.has(reference)) {
+      draftByReference.set(reference, findDraftResource(draftOrders, reference));
+    }
+    return draftByReference.get(reference);
+  };
   const seriesByAssessment = new Map<Assessment, AdvisorySeries>();
-  for (const finding of findings) {
+  const seriesFor = (cardAssessment: Assessment): AdvisorySeries => {
+    let series = seriesByAssessment.get(cardAssessment);
+    if (series === undefined) {
+      series = advisorySeries(facts, cardAssessment, deps.now);
+      seriesByAssessment.set(cardAssessment, series);
+    }
+    return series;
+  };
+  const cards = findings.map((finding) => {
     const template = deps.templates.get(finding.ruleId);
     if (template === undefined) {
       throw new Error(`evaluateHook: no card template for rule '${finding.ruleId}' (check missingTemplates at start-up)`);
@@ -157,14 +174,14 @@ export function evaluateHook(
     const key = `${finding.ruleId}\n${finding.orderReference ?? ''}`;
     const occurrence = seen.get(key) ?? 0;
     seen.set(key, occurrence + 1);
-    const cardAssessment = assessmentOf(evaluation, finding.orderReference);
+    const cardAssessment = assessmentFor(finding.orderReference);
     const report = buildCardReport(finding, {
       template,
       policy: deps.policy,
       ...(deps.policyContentHash === undefined ? {} : { policyContentHash: deps.policyContentHash }),
       hookInstance: input.request.hookInstance,
       draftResource:
-        finding.orderReference === undefined ? undefined : draftOnce(draftByReference, draftOrders, finding.orderReference),
+        finding.orderReference === undefined ? undefined : draftResourceFor(finding.orderReference),
       facts,
       assessment: cardAssessment,
       now: deps.now,
@@ -176,16 +193,14 @@ export function evaluateHook(
     if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);
     }
-    if (report.problems.length > 0) {
-      problems.push(...report.problems);
-    }
+    problems.push(...report.problems);
     const markdown = renderWorkings(finding, cardAssessment);
     if (deps.workings === true) {
       workings.push({ cardUuid: report.card.uuid ?? '', ruleId: finding.ruleId, markdown });
     }
     audit.push({
       cardUuid: report.card.uuid ?? '',
-      suggestionUuids: suggestionUuidsOf(report.card),
+      suggestionUuids: (report.card.suggestions ?? []).flatMap((s) => (s.uuid === undefined ? [] : [s.uuid])),
       ruleId: finding.ruleId,
       ruleVersion: finding.ruleVersion,
       indicator: report.card.indicator,
@@ -193,10 +208,10 @@ export function evaluateHook(
       detail: report.card.detail ?? '',
       keyNumbers: finding.values,
       workings: markdown,
-      series: seriesOnce(seriesByAssessment, facts, cardAssessment, deps.now),
+      series: seriesFor(cardAssessment),
     });
-    cards.push(report.card);
-  }
+    return report.card;
+  });
 
   return {
     response: { cards },
@@ -207,51 +222,6 @@ export function evaluateHook(
     ...(deps.workings === true ? { workings } : {}),
     audit: { unit: facts.encounterUnit, cards: audit },
   };
-}
-
-/**
- * The assessment a card about `reference` shows the inputs of: a draft may hold two subject orders, each
- * with its own. With one assessment (most calls) there is nothing to search.
- */
-function assessmentOf(evaluation: Evaluation, reference: string | undefined): Assessment {
-  const { assessment, assessments } = evaluation;
-  if (assessments.length <= 1 && (assessments[0] ?? assessment) === assessment) {
-    return assessment;
-  }
-  return assessments.find((candidate) => candidate.order !== undefined && candidate.order.reference === reference) ?? assessment;
-}
-
-type DraftResource = ReturnType<typeof findDraftResource>;
-
-/** The draft resource `reference` names, the bundle searched once per reference in a call. */
-function draftOnce(found: Map<string, DraftResource>, draftOrders: unknown, reference: string): DraftResource {
-  let resource = found.get(reference);
-  if (resource === undefined && !found.has(reference)) {
-    resource = findDraftResource(draftOrders, reference);
-    found.set(reference, resource);
-  }
-  return resource;
-}
-
-/** An assessment's chart for the audit, built once per assessment in a call. */
-function seriesOnce(built: Map<Assessment, AdvisorySeries>, facts: Facts, assessment: Assessment, now: Date): AdvisorySeries {
-  let series = built.get(assessment);
-  if (series === undefined) {
-    series = advisorySeries(facts, assessment, now);
-    built.set(assessment, series);
-  }
-  return series;
-}
-
-/** The uuids of a card's suggestions, in order (a suggestion without one is left out). */
-function suggestionUuidsOf(card: Card): readonly string[] {
-  const uuids: string[] = [];
-  for (const suggestion of card.suggestions ?? []) {
-    if (suggestion.uuid !== undefined) {
-      uuids.push(suggestion.uuid);
-    }
-  }
-  return uuids;
 }
 
 /** Rule ids in the registry with no card template; the http layer refuses to start if any. */
