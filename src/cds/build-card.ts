@@ -18,7 +18,7 @@ import {
   type CompiledText,
   type Rendered,
 } from './card-templates.js';
-import { oncePerPolicy, oncePerPolicyAndKey } from './once-per-policy.js';
+import { oncePerPolicyAndKey } from './once-per-policy.js';
 import { citedGuidelineKey, offeredOverrideReasons, policyCardValues } from './policy-card-text.js';
 import type { Card, Suggestion } from './schemas.js';
 import { cardUuid, suggestionUuid } from './stable-uuid.js';
@@ -87,24 +87,15 @@ export function sourceLabel(policy: Policy, policyContentHash: string | undefine
 }
 
 /**
- * The card's `source`, the same object for every card of a rule under one policy file: kept per policy,
- * content hash and rule id, in maps keyed by the strings the caller already holds (no key is put
- * together per card). Frozen, as cards of many calls share it.
+ * The card's `source`, the same object for every card of a rule under one policy file: keyed by rule
+ * id and content hash (a rule id holds no line break). Frozen, as cards of many calls share it.
  */
 function cardSource(policy: Policy, policyContentHash: string | undefined, ruleId: string): Card['source'] {
-  const byRule = policyContentHash === undefined ? sourcesWithoutHash(policy) : sourcesByHash(policy, policyContentHash);
-  let source = byRule.get(ruleId);
-  if (source === undefined) {
-    source = buildCardSource(policy, policyContentHash, ruleId);
-    byRule.set(ruleId, source);
-  }
-  return source;
+  return sourceOnce(policy, policyContentHash === undefined ? ruleId : `${ruleId}\n${policyContentHash}`);
 }
 
-const sourcesWithoutHash = oncePerPolicy(() => new Map<string, Card['source']>());
-const sourcesByHash = oncePerPolicyAndKey(() => new Map<string, Card['source']>());
-
-function buildCardSource(policy: Policy, policyContentHash: string | undefined, ruleId: string): Card['source'] {
+const sourceOnce = oncePerPolicyAndKey((policy, key): Card['source'] => {
+  const [ruleId = '', policyContentHash] = key.split('\n');
   // The link of the guideline the card cites, else of the primary.
   const url = policy.references[citedGuidelineKey(policy, ruleId)]?.url ?? policy.references[policy.basisKey]?.url;
   return Object.freeze({
@@ -112,7 +103,7 @@ function buildCardSource(policy: Policy, policyContentHash: string | undefined, 
     ...(url === undefined ? {} : { url }),
     topic: Object.freeze({ system: RULE_TOPIC_SYSTEM, code: ruleId }),
   });
-}
+});
 
 type CardOverrideReasons = NonNullable<Card['overrideReasons']>;
 

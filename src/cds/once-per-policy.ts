@@ -22,12 +22,9 @@ export function oncePerPolicyAndKey<T>(build: (policy: Policy, key: string) => T
   const perPolicy = oncePerPolicy(() => new Map<string, T>());
   return (policy, key) => {
     const built = perPolicy(policy);
-    // One lookup for a value already built; `has` only to tell a built undefined from none.
-    let value = built.get(key);
-    if (value === undefined && !built.has(key)) {
-      value = build(policy, key);
-      built.set(key, value);
+    if (!built.has(key)) {
+      built.set(key, build(policy, key));
     }
-    return value as T;
+    return built.get(key) as T;
   };
 }
