@@ -19,7 +19,7 @@ import type {
   RoxInterpretation,
 } from '../assessment/types.js';
 import { RICE_SF_CUTOFFS, ROX_HIGH_RISK_BELOW, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
-import type { BloodGas, Computation, Finding, Outcome } from '../types.js';
+import type { Computation, Finding, Outcome } from '../types.js';
 import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
@@ -39,9 +39,8 @@ const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
   'below-235': `at or below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F 200 or less)`,
 };
 
-/** How the gas line names each value, in the order it lists them. */
+/** How the gas line names each value. */
 const GAS_LABELS = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' } as const;
-const GAS_COMPONENTS = ['ph', 'paco2', 'pao2', 'hco3'] as const;
 
 const ROX_CUTOFFS = [ROX_LOW_RISK_AT_LEAST, ...Object.values(ROX_HIGH_RISK_BELOW)] as const;
 
@@ -169,54 +168,8 @@ function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): s
   return outcome.kind === 'ok' ? text(outcome.value.value) : `not available (${outcome.reason})`;
 }
 
-/** Adds the working behind a calculated value, when there is one. */
-function addComputation<T>(computations: Computation[], outcome: Outcome<Calculated<T>>): void {
-  if (outcome.kind === 'ok') {
-    computations.push(outcome.value.computation);
-  }
-}
-
-/** "arterial 25 min ago, pH 7.30, PCO2 7.5 kPa, …": each value the gas has, as the laboratory reported it. */
-function gasLine(gas: BloodGas, age: string): string {
-  let line = `${gas.specimen} ${age}`;
-  for (const component of GAS_COMPONENTS) {
-    const shown = formatGasValue(gas, component);
-    if (shown !== undefined) {
-      line += `, ${GAS_LABELS[component]} ${shown}`;
-    }
-  }
-  return line;
-}
-
-const LESS_RELIABLE_ON_OXYGEN = ' (the age norm applies on air only, so this comparison is less reliable)';
-
-/** The mechanism hint in the summary's words: the caveat on oxygen said briefly, no closing full stop. */
-function mechanismWords(explanation: string): string {
-  const caveat = explanation.indexOf(LESS_RELIABLE_ON_OXYGEN);
-  const words =
-    caveat < 0
-      ? explanation
-      : `${explanation.slice(0, caveat)} (a looser comparison on oxygen)${explanation.slice(caveat + LESS_RELIABLE_ON_OXYGEN.length)}`;
-  let end = words.length;
-  while (end > 0 && words[end - 1] === '.') {
-    end -= 1;
-  }
-  return end === words.length ? words : words.slice(0, end);
-}
-
-/** Each working's source, the device model's, and the acid-base reading's when there is one. */
-function sourceKeysOf(computations: readonly Computation[], deliveryKeys: readonly string[], gasRead: boolean): string[] {
-  const keys: string[] = [];
-  for (const computation of computations) {
-    keys.push(computation.sourceKey);
-  }
-  for (const key of deliveryKeys) {
-    keys.push(key);
-  }
-  if (gasRead) {
-    keys.push('rcem-abg');
-  }
-  return keys;
+function computationOf<T>(outcome: Outcome<Calculated<T>>): readonly Computation[] {
+  return outcome.kind === 'ok' ? [outcome.value.computation] : [];
 }
 
 /**
@@ -238,12 +191,7 @@ export const rule: Rule = {
     const { order, physiology: p, delivery, current, barometricPressure: pb } = assessment;
     const anything =
       delivery.kind === 'ok' ||
-      p.alveolarPo2.kind === 'ok' ||
-      p.pfRatio.kind === 'ok' ||
-      p.sfRatio.kind === 'ok' ||
-      p.rox.kind === 'ok' ||
-      p.oxygenContent.kind === 'ok' ||
-      p.gasInterpretation.kind === 'ok';
+      [p.alveolarPo2, p.pfRatio, p.sfRatio, p.rox, p.oxygenContent, p.gasInterpretation].some((o) => o.kind === 'ok');
     if (!anything) {
       return [];
     }
@@ -258,24 +206,28 @@ export const rule: Rule = {
     const gasUsed =
       gas === undefined
         ? `none within the last ${formatNumber(policy.freshness.bloodGasMinutes / 60, 1)} h`
-        : gasLine(gas, describeAge(gas, now)) + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
+        : [
+            `${gas.specimen} ${describeAge(gas, now)}`,
+            ...(['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((c) => {
+              const shown = formatGasValue(gas, c);
+              const label = GAS_LABELS[c];
+              return shown === undefined ? [] : [`${label} ${shown}`];
+            }),
+          ].join(', ') + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
     const expected =
       p.expectedAaGradient.kind === 'ok'
         ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
         : 'the age norm applies on air only, so it is not compared';
     const deliveryCalc = deliveryComputation(assessment);
-    // In the order the card's workings list them: delivery, pressure, the gas equations, the ratios.
-    const computations: Computation[] = [];
-    if (deliveryCalc !== undefined) computations.push(deliveryCalc);
-    if (p.alveolarPo2.kind === 'ok') computations.push(pb.computation);
-    addComputation(computations, p.inspiredPo2);
-    addComputation(computations, p.alveolarPo2);
-    addComputation(computations, p.aaGradient);
-    addComputation(computations, p.expectedAaGradient);
-    addComputation(computations, p.pfRatio);
-    addComputation(computations, p.sfRatio);
-    addComputation(computations, p.rox);
-    addComputation(computations, p.oxygenContent);
+    const computations: Computation[] = [
+      ...(deliveryCalc === undefined ? [] : [deliveryCalc]),
+      ...(p.alveolarPo2.kind === 'ok' ? [pb.computation] : []),
+      ...[p.inspiredPo2, p.alveolarPo2, p.aaGradient, p.expectedAaGradient].flatMap((o) => computationOf(o)),
+      ...computationOf(p.pfRatio),
+      ...computationOf(p.sfRatio),
+      ...computationOf(p.rox),
+      ...computationOf(p.oxygenContent),
+    ];
     const pfWords = show(
       p.pfRatio,
       (v) =>
@@ -324,7 +276,11 @@ export const rule: Rule = {
               ? p.gasInterpretation.value.summary
               : `not available (${p.gasInterpretation.reason})`,
           mechanism:
-            p.mechanism.kind === 'ok' ? mechanismWords(p.mechanism.value.explanation) : `not available (${p.mechanism.reason})`,
+            p.mechanism.kind === 'ok'
+              ? p.mechanism.value.explanation
+                  .replace(' (the age norm applies on air only, so this comparison is less reliable)', ' (a looser comparison on oxygen)')
+                  .replace(/\.+$/, '')
+              : `not available (${p.mechanism.reason})`,
           keyFigures: keyFigures(assessment),
           // ROX belongs to high flow; on other devices the card leaves it out.
           gradientAndRox:
@@ -333,7 +289,11 @@ export const rule: Rule = {
           oxygenationRatio: p.pfRatio.kind === 'ok' ? `P/F ${pfWords}` : `S/F ${sfWords}`,
         },
         computations,
-        sourceKeys: sourceKeysOf(computations, delivery.kind === 'ok' ? delivery.value.sourceKeys : [], p.gasInterpretation.kind === 'ok'),
+        sourceKeys: [
+          ...computations.map((c) => c.sourceKey),
+          ...(delivery.kind === 'ok' ? delivery.value.sourceKeys : []),
+          ...(p.gasInterpretation.kind === 'ok' ? ['rcem-abg'] : []),
+        ],
       }),
     ];
   },
