@@ -40,11 +40,11 @@ export function loadOrCreateSecret(options: LoadSecretOptions): SecretResult {
   return loaded.kind === 'loaded' ? { ...loaded, file } : loaded;
 }
 
-function lengthPrefixed(text: string): Buffer {
-  const bytes = Buffer.from(text, 'utf8');
-  const length = Buffer.alloc(4);
-  length.writeUInt32BE(bytes.length);
-  return Buffer.concat([length, bytes]);
+/** A text's length in UTF-8 bytes, as the 4 big-endian bytes that go before it in the MAC. */
+function lengthPrefix(text: string): Buffer {
+  const prefix = Buffer.alloc(4);
+  prefix.writeUInt32BE(Buffer.byteLength(text, 'utf8'));
+  return prefix;
 }
 
 export interface PatientRef {
@@ -60,9 +60,12 @@ export interface PatientRef {
  */
 export function patientKey(secret: Buffer, patient: PatientRef): string {
   const server = (patient.fhirServer ?? '').replace(/\/+$/, '');
+  // Each text goes into the MAC as it is, after its length: no buffer is built to join them.
   return createHmac('sha256', secret)
-    .update(lengthPrefixed(server))
-    .update(lengthPrefixed(patient.patientId))
+    .update(lengthPrefix(server))
+    .update(server, 'utf8')
+    .update(lengthPrefix(patient.patientId))
+    .update(patient.patientId, 'utf8')
     .digest('hex')
     .slice(0, 32);
 }

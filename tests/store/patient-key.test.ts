@@ -92,6 +92,29 @@ describe('patientKey', () => {
     expect(expected).toMatch(/^[0-9a-f]{32}$/);
   });
 
+  it.each([
+    ['an id in ASCII', 'lbgh-pt-20417'],
+    ['an id with two-byte UTF-8 characters', 'patiënt-ø-20417'],
+    ['an id with three-byte UTF-8 characters', '患者-20417'],
+    ['an id with a four-byte UTF-8 character', 'pt-\u{1F600}-20417'],
+    ['an id with a lone surrogate (written as U+FFFD)', 'pt-\uD800-20417'],
+  ])('prefixes %s with its length in UTF-8 bytes, not in characters', (_label, patientId) => {
+    // RFC 3629 (UTF-8): the MAC reads the bytes, so the length before each text counts bytes too;
+    // the expected key is built from the encoded bytes themselves, independently of the code under test
+    const prefixed = (text: string): Buffer => {
+      const bytes = Buffer.from(text, 'utf8');
+      const length = Buffer.alloc(4);
+      length.writeUInt32BE(bytes.length);
+      return Buffer.concat([length, bytes]);
+    };
+    const server = 'https://fhir.larkspur-bay.example/r4/é';
+    const expected = createHmac('sha256', SECRET)
+      .update(Buffer.concat([prefixed(server), prefixed(patientId)]))
+      .digest('hex')
+      .slice(0, 32);
+    expect(patientKey(SECRET, { fhirServer: server, patientId })).toBe(expected);
+  });
+
   it('is the same for one patient on the same server, trailing slash or not', () => {
     const a = patientKey(SECRET, { fhirServer: SERVER, patientId: 'lbgh-pt-20417' });
     expect(patientKey(SECRET, { fhirServer: `${SERVER}/`, patientId: 'lbgh-pt-20417' })).toBe(a);
