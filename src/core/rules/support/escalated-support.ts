@@ -43,7 +43,7 @@ function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boole
   return facts.activeOrders.some(isNiv) || (orderInForce && isNiv(order));
 }
 
-/** Five rules ask on every order-sign call; the answer depends on the assessment's inputs alone. */
+/** For an SpO2 below target, worked out once per assessment: five rules ask, and the answer depends on its inputs alone. */
 const failureOnce = oncePerAssessment(({ assessment, facts, policy, now }) => workOutFailure(assessment, facts, policy, now));
 
 /**
