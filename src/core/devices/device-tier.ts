@@ -53,16 +53,19 @@ export function isLowerTier(offered: DeviceKind, current: SupportTier | undefine
   return current !== undefined && tierRank(deviceTier(offered)) < tierRank(current);
 }
 
+/** Worked out once when the module loads: the device models are fixed. */
+const CONVENTIONAL_FLOW_CEILING_L_PER_MIN = Math.max(
+  ...Object.values(DEVICE_MODELS)
+    .filter((model) => deviceTier(model.kind) === 'conventional-oxygen')
+    .map((model) => model.flowRangeLPerMin.max),
+);
+
 /**
  * The highest O2 flow any conventional device is run at in adults (the top of each model's usual
  * range; a Venturi's 60 % setting raised by half for tachypnoea, 22.5 L/min, is the largest).
  */
 export function conventionalFlowCeilingLPerMin(): number {
-  return Math.max(
-    ...Object.values(DEVICE_MODELS)
-      .filter((model) => deviceTier(model.kind) === 'conventional-oxygen')
-      .map((model) => model.flowRangeLPerMin.max),
-  );
+  return CONVENTIONAL_FLOW_CEILING_L_PER_MIN;
 }
 
 /**

@@ -34,9 +34,8 @@ export const rule: Rule = {
     if (order === undefined || !hypercapnicRisk.atRisk || !givesOxygen(order) || order.purpose === 'comfort') {
       return [];
     }
-    const orderedAt = order.authoredOn !== undefined && !Number.isNaN(Date.parse(order.authoredOn))
-      ? Date.parse(order.authoredOn)
-      : now.getTime();
+    const authored = order.authoredOn === undefined ? Number.NaN : Date.parse(order.authoredOn);
+    const orderedAt = Number.isNaN(authored) ? now.getTime() : authored;
     const flows = newestFirst(facts.o2FlowLPerMin);
     const changeIndex = flows.findIndex((f, i) => flows[i + 1] !== undefined && flows[i + 1]?.value !== f.value);
     const flowChangedAt = changeIndex < 0 ? undefined : Date.parse(flows[changeIndex]?.at ?? '');

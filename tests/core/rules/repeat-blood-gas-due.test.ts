@@ -92,5 +92,11 @@ describe('repeat-blood-gas-due', () => {
       expect(finding.values.lastGas).toBe('none on record');
       expect(finding.values.dueWindow).toBe('in 30–60 min');
     });
+
+    it('treats an order whose time cannot be read as written now, as one without a time', () => {
+      // BTS 2017 Tables 2-4: a repeat gas 30-60 min after starting or changing oxygen
+      const unreadable = buildFacts({ conditions: copd, orders: [oxygenOrder({ authoredOn: 'yesterday' })] });
+      expect(onlyFinding(runRule(rule, unreadable, { now: NOW })).values.dueWindow).toBe('in 30–60 min');
+    });
   });
 });

@@ -167,6 +167,16 @@ describe('rising-oxygen-need', () => {
       expect(runRule(rule, onRecord)).toStrictEqual([]);
     });
 
+    it('does not call a fall "on unchanged oxygen" when a setting was recorded in the window but shows no trend', () => {
+      // SpO2 96 → 92 % is a fall of 4 (BTS 2017 summary: >= 3); one recorded flow is no trend, yet it
+      // says the oxygen was set in the window, so "unchanged" is not known (common practice). Without
+      // it, the one order running throughout makes the same fall a card.
+      const fall = { ...onCannula, spo2Percent: series(spo2, [[96, 200], [92, 15]]) };
+      expect(runRule(rule, buildFacts({ ...fall, o2FlowLPerMin: [o2Flow(2, 100)] }))).toStrictEqual([]);
+      expect(runRule(rule, buildFacts({ ...fall, fio2Fraction: [fio2(0.28, 100)] }))).toStrictEqual([]);
+      expect(runRule(rule, buildFacts(fall)).length).toBe(1);
+    });
+
     it('does not call SpO2 a fall on unchanged oxygen when the oxygen was lowered', () => {
       // Recorded FiO2 0.40 → 0.28 with SpO2 97 → 93 %: weaning, expected
       const facts = buildFacts({ ...onCannula, fio2Fraction: series(fio2, [[0.4, 200], [0.28, 20]]), spo2Percent: series(spo2, [[97, 200], [93, 10]]) });

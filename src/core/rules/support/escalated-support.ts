@@ -43,7 +43,7 @@ function cpapNivInForce(facts: Facts, order: OxygenOrder, spo2: Measured): boole
   return facts.activeOrders.some(isNiv) || (orderInForce && isNiv(order));
 }
 
-/** Five rules ask on every order-sign call; the answer depends on the assessment's inputs alone. */
+/** For an SpO2 below target, worked out once per assessment: five rules ask, and the answer depends on its inputs alone. */
 const failureOnce = oncePerAssessment(({ assessment, facts, policy, now }) => workOutFailure(assessment, facts, policy, now));
 
 /**
@@ -60,7 +60,19 @@ export function findEscalatedSupportFailure(
   policy: Policy,
   now: Date,
 ): EscalatedSupportFailure | undefined {
-  return failureOnce({ assessment, facts, policy, now });
+  // Most calls stop at the SpO2 against the target, read straight off the assessment: only a patient
+  // below target is worth the remembered look at the support in force.
+  return belowTarget(assessment) === undefined ? undefined : failureOnce({ assessment, facts, policy, now });
+}
+
+/** The current SpO2 and the range it is below, for an order that titrates to one; else undefined. */
+function belowTarget(assessment: Assessment): { readonly spo2: Measured; readonly target: SaturationRange } | undefined {
+  const { order, titrationTarget } = assessment;
+  const spo2 = assessment.current.spo2;
+  if (order === undefined || spo2 === undefined || titrationTarget === undefined || order.purpose === 'comfort') {
+    return undefined;
+  }
+  return spo2.value < titrationTarget.range.lowPercent ? { spo2, target: titrationTarget.range } : undefined;
 }
 
 function workOutFailure(
@@ -69,15 +81,12 @@ function workOutFailure(
   policy: Policy,
   now: Date,
 ): EscalatedSupportFailure | undefined {
-  const { order, titrationTarget } = assessment;
-  const spo2 = assessment.current.spo2;
-  if (order === undefined || spo2 === undefined || titrationTarget === undefined || order.purpose === 'comfort') {
+  const order = assessment.order;
+  const base = belowTarget(assessment);
+  if (order === undefined || base === undefined) {
     return undefined;
   }
-  if (spo2.value >= titrationTarget.range.lowPercent) {
-    return undefined;
-  }
-  const base = { spo2, target: titrationTarget.range };
+  const { spo2 } = base;
   if (cpapNivInForce(facts, order, spo2)) {
     return { ...base, support: 'cpap-niv', fio2AtReading: undefined, orderedHighFio2: undefined };
   }

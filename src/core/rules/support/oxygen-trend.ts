@@ -108,6 +108,27 @@ function unchangedByOrder(facts: Facts, since: Measured): boolean {
   return written.length === 1 && written.every((t) => !Number.isNaN(t) && t <= readingMs(since));
 }
 
+/**
+ * The oxygen was not lowered over the window: by the trend when there is one; with no setting
+ * recorded in the window, when one order on record was running throughout.
+ */
+function notLowered(
+  facts: Facts,
+  trend: OxygenTrend | undefined,
+  firstSpo2: Measured,
+  now: Date,
+  windowMinutes: number,
+): boolean {
+  if (trend !== undefined) {
+    return trend.direction >= 0;
+  }
+  const settingsRecorded =
+    inWindow(facts.trendReadings.fio2Fraction, now, windowMinutes).length +
+      inWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes).length >
+    0;
+  return !settingsRecorded && unchangedByOrder(facts, firstSpo2);
+}
+
 /** A rising oxygen need found over a window, with what the card says about it. */
 export interface RisingNeed {
   readonly firstSpo2: Measured;
@@ -142,14 +163,9 @@ export function findRisingOxygenNeed(
   const fall = twoSpo2 ? firstSpo2.value - lastSpo2.value : 0;
   const rise = -fall;
   const trend = oxygenTrend(facts, order, now, windowMinutes);
-  const settingsRecorded =
-    inWindow(facts.trendReadings.fio2Fraction, now, windowMinutes).length +
-      inWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes).length >
-    0;
   const moreOxygen = trend !== undefined && trend.direction > 0 && rise < spo2FallPoints;
-  const notLowered =
-    trend !== undefined ? trend.direction >= 0 : !settingsRecorded && unchangedByOrder(facts, firstSpo2);
-  const fellDespite = twoSpo2 && fall >= spo2FallPoints && notLowered;
+  // Whether the oxygen was lowered is asked only once SpO2 has fallen far enough to matter.
+  const fellDespite = twoSpo2 && fall >= spo2FallPoints && notLowered(facts, trend, firstSpo2, now, windowMinutes);
   if (!moreOxygen && !fellDespite) {
     return undefined;
   }
