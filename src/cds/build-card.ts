@@ -65,6 +65,11 @@ export interface CardBuildContext {
    * sections its cards share are built once; without it, the detail is built for this card alone.
    */
   readonly compactDetail?: CompactDetailRenderer;
+  /**
+   * The call's plans (one {@link CallPlans} for all its cards), so the changes a later card carries are
+   * planned once per call; without it, this card plans its own.
+   */
+  readonly plans?: CallPlans;
 }
 
 /** A flow change and a device change both set the flow; the later one wins. */
@@ -253,35 +258,27 @@ function leftAsWrittenNote(values: readonly string[]): string {
  * The plans of one call's suggestions, by resource and change. A later card about an order carries the
  * changes of the cards before it, each planned on the resource the one before made (buildSuggestion),
  * so the first card's plan is the second card's first step: each step is planned once per call, not
- * once per card. A plan is a new copy that nothing changes afterwards. Kept per call's facts, so no
- * plan outlives its call.
+ * once per card. A plan is a new copy that nothing changes afterwards. Made per call (evaluateHook), so
+ * no plan outlives its call.
  */
-interface CallPlans {
-  readonly byResource: Map<FhirResource, Map<OrderChange, ChangePlan>>;
+export class CallPlans {
+  private readonly byResource = new Map<FhirResource, Map<OrderChange, ChangePlan>>();
   /** The words the plans read, shared: a later plan reads the texts an earlier one wrote. */
-  readonly readings: TextReadings;
-}
+  private readonly readings = new TextReadings();
 
-const PLANS_BY_CALL = new WeakMap<Facts, CallPlans>();
-
-function planOnce(facts: Facts, resource: FhirResource, change: OrderChange): ChangePlan {
-  let call = PLANS_BY_CALL.get(facts);
-  if (call === undefined) {
-    call = { byResource: new Map(), readings: new TextReadings() };
-    PLANS_BY_CALL.set(facts, call);
+  plan(resource: FhirResource, change: OrderChange): ChangePlan {
+    let byChange = this.byResource.get(resource);
+    if (byChange === undefined) {
+      byChange = new Map();
+      this.byResource.set(resource, byChange);
+    }
+    let plan = byChange.get(change);
+    if (plan === undefined) {
+      plan = planOrderChange(resource, change, { readings: this.readings });
+      byChange.set(change, plan);
+    }
+    return plan;
   }
-  const byResource = call.byResource;
-  let byChange = byResource.get(resource);
-  if (byChange === undefined) {
-    byChange = new Map();
-    byResource.set(resource, byChange);
-  }
-  let plan = byChange.get(change);
-  if (plan === undefined) {
-    plan = planOrderChange(resource, change, { readings: call.readings });
-    byChange.set(change, plan);
-  }
-  return plan;
 }
 
 function buildSuggestion(
@@ -299,6 +296,7 @@ function buildSuggestion(
     problems.push(`${finding.ruleId}: change offered but its order is not in draftOrders; suggestion left out`);
     return NONE;
   }
+  const plans = ctx.plans ?? new CallPlans();
   // Earlier changes the words cannot take were never offered, so they are not carried either.
   let resource: FhirResource = ctx.draftResource;
   const carried: OrderChange[] = [];
@@ -306,7 +304,7 @@ function buildSuggestion(
     if (overlaps(earlier, change)) {
       continue;
     }
-    const plan = planOnce(ctx.facts, resource, earlier);
+    const plan = plans.plan(resource, earlier);
     if (plan.kind === 'cannot-copy') {
       problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
       return NONE;
@@ -316,7 +314,7 @@ function buildSuggestion(
       carried.push(earlier);
     }
   }
-  const plan = planOnce(ctx.facts, resource, change);
+  const plan = plans.plan(resource, change);
   if (plan.kind === 'cannot-copy') {
     problems.push(`${finding.ruleId}: the draft order could not be copied whole; suggestion left out`);
     return NONE;

@@ -8,7 +8,7 @@ import { findDraftResource } from '../fhir/find-order-resource.js';
 import type { GatheredData } from '../fhir/gathered-data.js';
 import type { AdvisorySeries, StoredIndicator } from '../store/store.js';
 import { advisorySeries } from './advisory-series.js';
-import { buildCardReport } from './build-card.js';
+import { buildCardReport, CallPlans } from './build-card.js';
 import { prepareCompactDetail } from './card-detail.js';
 import type { CardTemplates } from './card-templates.js';
 import { cardClock } from './card-time.js';
@@ -149,6 +149,7 @@ export function evaluateHook(
   const clock = cardClock(deps.now, deps.policy.site.timeZone);
   const renderWorkings = prepareWorkings(facts, deps.policy, deps.now, clock);
   const renderDetail = prepareCompactDetail(facts, deps.policy, clock);
+  const plans = new CallPlans();
   // Several cards may be about one order: the draft bundle is searched once per order reference.
   const draftByReference = new Map<string, ReturnType<typeof findDraftResource>>();
   const draftResourceFor = (reference: string): ReturnType<typeof findDraftResource> => {
@@ -189,6 +190,7 @@ export function evaluateHook(
       earlierChanges: finding.orderReference === undefined ? [] : (offered.get(finding.orderReference) ?? []),
       orderWord: hook === 'patient-view' ? 'active order' : 'draft order',
       compactDetail: renderDetail,
+      plans,
     });
     if (finding.change !== undefined && finding.orderReference !== undefined && report.card.suggestions !== undefined) {
       offered.set(finding.orderReference, [...(offered.get(finding.orderReference) ?? []), finding.change]);

@@ -19,54 +19,66 @@ export interface TextSlot {
   readonly concept?: Json;
 }
 
-function objects(holder: unknown, key: string): Json[] {
-  if (!isObject(holder)) return [];
-  const value = holder[key];
-  return Array.isArray(value) ? value.filter((v): v is Json => isObject(v)) : [];
+/** The array at `holder[key]`, or none. */
+function items(holder: unknown, key: string): readonly unknown[] {
+  const value = isObject(holder) ? holder[key] : undefined;
+  return Array.isArray(value) ? value : [];
 }
 
-function slot(holder: unknown, key: string): TextSlot[] {
-  if (!isObject(holder)) return [];
-  const text = holder[key];
-  return typeof text === 'string' ? [{ holder: holder, key, text }] : [];
-}
+/**
+ * The slots of one resource, added in the order the reader reads them into one list: a change reads
+ * the slots before and after writing, so no list is built per field and joined.
+ */
+class SlotList {
+  readonly slots: TextSlot[] = [];
 
-/** The concept's text, then each coding's display. */
-function conceptSlots(concept: unknown): TextSlot[] {
-  if (!isObject(concept)) return [];
-  const displays = objects(concept, 'coding').flatMap((c) => slot(c, 'display').map((s) => ({ ...s, concept })));
-  return [...slot(concept, 'text'), ...displays];
+  /** `holder[key]`, when the holder is an object and the value a string. */
+  add(holder: unknown, key: string, concept?: Json): void {
+    if (!isObject(holder)) return;
+    const text = holder[key];
+    if (typeof text !== 'string') return;
+    this.slots.push(concept === undefined ? { holder, key, text } : { holder, key, text, concept });
+  }
+
+  /** The concept's text, then each coding's display. */
+  addConcept(concept: unknown): void {
+    if (!isObject(concept)) return;
+    this.add(concept, 'text');
+    for (const coding of items(concept, 'coding')) this.add(coding, 'display', concept);
+  }
+
+  addNotes(resource: Json): void {
+    for (const note of items(resource, 'note')) this.add(note, 'text');
+  }
 }
 
 export function textSlots(resource: Json): readonly TextSlot[] {
-  const notes = objects(resource, 'note').flatMap((n) => slot(n, 'text'));
+  const list = new SlotList();
   switch (resource['resourceType']) {
     case 'MedicationRequest':
-      return [
-        ...objects(resource, 'dosageInstruction').flatMap((d) => [
-          ...slot(d, 'text'),
-          ...slot(d, 'patientInstruction'),
-          ...objects(d, 'additionalInstruction').flatMap(conceptSlots),
-        ]),
-        ...notes,
-        ...slot(resource['medicationCodeableConcept'], 'text'),
-      ];
+      for (const dosage of items(resource, 'dosageInstruction')) {
+        list.add(dosage, 'text');
+        list.add(dosage, 'patientInstruction');
+        for (const instruction of items(dosage, 'additionalInstruction')) list.addConcept(instruction);
+      }
+      list.addNotes(resource);
+      list.add(resource['medicationCodeableConcept'], 'text');
+      break;
     case 'ServiceRequest':
-      return [
-        ...objects(resource, 'orderDetail').flatMap(conceptSlots),
-        ...slot(resource, 'patientInstruction'),
-        ...notes,
-        ...slot(resource['code'], 'text'),
-      ];
+      for (const detail of items(resource, 'orderDetail')) list.addConcept(detail);
+      list.add(resource, 'patientInstruction');
+      list.addNotes(resource);
+      list.add(resource['code'], 'text');
+      break;
     case 'DeviceRequest':
-      return [
-        ...objects(resource, 'parameter').flatMap((p) => conceptSlots(p['valueCodeableConcept'])),
-        ...notes,
-        ...slot(resource['codeCodeableConcept'], 'text'),
-      ];
-    default:
-      return [];
+      for (const parameter of items(resource, 'parameter')) {
+        if (isObject(parameter)) list.addConcept(parameter['valueCodeableConcept']);
+      }
+      list.addNotes(resource);
+      list.add(resource['codeCodeableConcept'], 'text');
+      break;
   }
+  return list.slots;
 }
 
 /** Whether the object has no own enumerable key, found without listing its keys. */

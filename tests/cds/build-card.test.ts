@@ -4,12 +4,14 @@ import { describe, expect, it } from 'vitest';
 import {
   buildCard,
   buildCardReport,
+  CallPlans,
   OVERRIDE_REASON_SYSTEM,
   SHORT_HASH_LENGTH,
   truncateSummary,
   type CardBuildContext,
 } from '../../src/cds/build-card.js';
 import { cardUuid, suggestionUuid } from '../../src/cds/stable-uuid.js';
+import { planOrderChange } from '../../src/fhir/apply-change.js';
 import { expectConformant } from '../helpers/card-conformance.js';
 import { fhirSchemaErrors } from '../helpers/fhir-schema.js';
 import {
@@ -273,6 +275,37 @@ describe('buildCard: a suggestion that changes only what it says', () => {
     expect(label).not.toContain('keeps:');
     const resource = card.suggestions?.[0]?.actions?.[0]?.resource as Record<string, unknown>;
     expect(resource['patientInstruction']).toBe('Oxygen 2 L/min via nasal cannula, SpO2 94–98 % until the gas is back');
+  });
+});
+
+describe('CallPlans', () => {
+  // BTS 2017 Table 4: 88-92 % for the patient at risk of hypercapnia, nasal cannulae at 1-2 L/min.
+  const setTarget = { kind: 'set-target', range: { lowPercent: 88, highPercent: 92 } } as const;
+  const setFlow = { kind: 'set-flow', flowLPerMin: 2 } as const;
+  const flowFinding = { ...finding, ruleId: 'target-above-hypercapnic-range', change: setFlow };
+
+  it('plans each change on each resource once, the plan a plan made alone would be', () => {
+    const plans = new CallPlans();
+    const first = plans.plan(draftServiceRequest, setTarget);
+    expect(plans.plan(draftServiceRequest, setTarget)).toBe(first);
+    expect(first).toStrictEqual(planOrderChange(draftServiceRequest, setTarget));
+    expect(first.kind).toBe('changed');
+    if (first.kind !== 'changed') return;
+    const second = plans.plan(first.resource, setFlow);
+    expect(plans.plan(first.resource, setFlow)).toBe(second);
+    expect(second).toStrictEqual(planOrderChange(first.resource, setFlow));
+  });
+
+  it('gives the cards of a call the cards each makes with plans of its own', () => {
+    const plans = new CallPlans();
+    const earlierChanges = [setTarget];
+    const shared = [buildCard(finding, { ...ctx, plans }), buildCard(flowFinding, { ...ctx, plans, earlierChanges })];
+    const alone = [buildCard(finding, ctx), buildCard(flowFinding, { ...ctx, earlierChanges })];
+    expect(shared).toStrictEqual(alone);
+    // The later card carries the earlier change: the order's words state both.
+    expect(shared[1]?.suggestions?.[0]?.label).toContain('keeps: set the target SpO2 range to 88–92 %');
+    const resource = shared[1]?.suggestions?.[0]?.actions?.[0]?.resource as Record<string, unknown>;
+    expect(resource['patientInstruction']).toBe('Oxygen 2 L/min via nasal cannula, target SpO2 88-92%');
   });
 });
 

@@ -24,6 +24,26 @@ describe('textSlots', () => {
     expect(textSlots(dr).map((s) => s.text)).toStrictEqual(['a', 'b', 'c']);
   });
 
+  it('lists a concept’s text, then each coding’s display with its concept, and skips what is not an object', () => {
+    // FHIR R4 CodeableConcept (from memory): `text`, and `coding[]` whose items may carry a `display`.
+    const detail = { text: 'a', coding: [{ display: 'b' }, 'junk', { code: 'x' }, { display: 'c' }] };
+    const dr = {
+      resourceType: 'DeviceRequest',
+      parameter: [null, { valueCodeableConcept: detail }, 'junk', { valueCodeableConcept: 'junk' }],
+      note: ['junk', { text: 'd' }, { text: 5 }],
+    };
+    const slots = textSlots(dr);
+    expect(slots.map((s) => [s.key, s.text, s.concept === detail])).toStrictEqual([
+      ['text', 'a', false],
+      ['display', 'b', true],
+      ['display', 'c', true],
+      ['text', 'd', false],
+    ]);
+    for (const resourceType of ['MedicationRequest', 'ServiceRequest', 'DeviceRequest', 'Observation']) {
+      expect(textSlots({ resourceType, dosageInstruction: 'x', orderDetail: {}, parameter: 7, note: null })).toStrictEqual([]);
+    }
+  });
+
   it('gives slots that write back into the resource', () => {
     const resource = { resourceType: 'ServiceRequest', patientInstruction: 'old' };
     const [slot] = textSlots(resource);
