@@ -107,6 +107,9 @@ interface Context {
 
 /** Whether the holder states a result: any `value[x]` element. */
 function hasValueElement(holder: Readonly<Record<string, unknown>>): boolean {
+  if (Object.hasOwn(holder, 'valueQuantity')) {
+    return true; // the value[x] nearly every result this service reads has, found without a walk over every key
+  }
   for (const key in holder) {
     if (Object.hasOwn(holder, key) && key.startsWith('value')) {
       return true;
