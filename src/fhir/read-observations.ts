@@ -143,7 +143,8 @@ export function readObservations(
   for (const obs of observations) {
     readings.push(...readObservationValues(obs, panelOf, notes));
   }
-  // Each kind is picked out once, and sorted once for both its current and its trend readings.
+  // Each kind is picked out once, and sorted (in place, in its own list) once for both its current and
+  // its trend readings. Gas readings are not sorted here: they are grouped in the order read.
   const kinds = byKind(readings);
   const newest = (kind: MeasuredKind): Reading[] => (kinds.get(kind) ?? []).sort(newestFirst);
   const [spo2, fio2, flow] = [newest('spo2'), newest('fio2'), newest('o2-flow')];
