@@ -41,7 +41,7 @@ export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
   if (typeof value !== 'string') {
     return undefined;
   }
-  if (isUtcToTheSecond(value)) {
+  if (isUtcInstant(value)) {
     return timeInstant(
       digitsAt(value, 0, 4),
       digitsAt(value, 5, 2),
@@ -49,7 +49,7 @@ export function parseFhirDateTime(value: unknown): FhirInstant | undefined {
       digitsAt(value, 11, 2),
       digitsAt(value, 14, 2),
       digitsAt(value, 17, 2),
-      0,
+      value.length === WITH_MILLISECONDS ? digitsAt(value, 20, 3) : 0,
       0,
     );
   }
@@ -120,25 +120,31 @@ function timeInstant(
 const ZERO = 48;
 const NINE = 57;
 
+/** The lengths of `YYYY-MM-DDThh:mm:ssZ` and of `YYYY-MM-DDThh:mm:ss.sssZ` (what toISOString writes). */
+const TO_THE_SECOND = 20;
+const WITH_MILLISECONDS = 24;
+
 /**
- * Whether the value is written `YYYY-MM-DDThh:mm:ssZ`, the form nearly every time arrives in; it is
- * read from its characters, without the regular expression, to the same instant the expression gives.
+ * Whether the value is written `YYYY-MM-DDThh:mm:ssZ` or `YYYY-MM-DDThh:mm:ss.sssZ`, the forms nearly
+ * every time arrives in; it is read from its characters, without the regular expression, to the same
+ * instant the expression gives (three fraction digits d make `Number("0.d") * 1000` exactly d).
  */
-function isUtcToTheSecond(value: string): boolean {
-  if (value.length !== 20) {
+function isUtcInstant(value: string): boolean {
+  if (value.length !== TO_THE_SECOND && value.length !== WITH_MILLISECONDS) {
     return false;
   }
-  for (let i = 0; i < 19; i += 1) {
+  const last = value.length - 1;
+  for (let i = 0; i < last; i += 1) {
     const c = value.charCodeAt(i);
-    const separator = i === 4 || i === 7 ? '-' : i === 10 ? 'T' : i === 13 || i === 16 ? ':' : undefined;
+    const separator = i === 4 || i === 7 ? '-' : i === 10 ? 'T' : i === 13 || i === 16 ? ':' : i === 19 ? '.' : undefined;
     if (separator === undefined ? c < ZERO || c > NINE : value[i] !== separator) {
       return false;
     }
   }
-  return value[19] === 'Z';
+  return value[last] === 'Z';
 }
 
-/** The number written by `count` ASCII digits from `start` (checked by isUtcToTheSecond). */
+/** The number written by `count` ASCII digits from `start` (checked by isUtcInstant). */
 function digitsAt(value: string, start: number, count: number): number {
   let n = 0;
   for (let i = start; i < start + count; i += 1) {

@@ -8,7 +8,7 @@ import {
 } from './codes.js';
 import { parseFhirDateTime, withUtcIfZoneless } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
-import { codingsOf, isObject, objectAt, objectsAt, quantityOf, stringAt } from './json.js';
+import { codingsOf, isObject, objectAt, objectsAt, quantityOf, stringAt, type JsonObject } from './json.js';
 import { PLAUSIBLE, describeRange, isPlausible, type PlausibleRange } from './plausibility.js';
 import { readQuantity, type TargetUnit } from './read-quantity.js';
 
@@ -107,6 +107,9 @@ interface Context {
 
 /** Whether the holder states a result: any `value[x]` element. */
 function hasValueElement(holder: Readonly<Record<string, unknown>>): boolean {
+  if (Object.hasOwn(holder, 'valueQuantity')) {
+    return true; // the value[x] nearly every result this service reads has, found without a walk over every key
+  }
   for (const key in holder) {
     if (Object.hasOwn(holder, key) && key.startsWith('value')) {
       return true;
@@ -180,9 +183,13 @@ export function readObservationValues(
   }
   const reference = obs.id === undefined ? undefined : `Observation/${obs.id}`;
   const top = observationCodeOf(obs['code']);
-  const components = objectsAt(obs, 'component')
-    .map((c) => ({ code: observationCodeOf(c['code']), holder: c }))
-    .filter((c): c is { code: ObservationCode; holder: typeof c.holder } => c.code !== undefined);
+  const components: { readonly code: ObservationCode; readonly holder: JsonObject }[] = [];
+  for (const holder of objectsAt(obs, 'component')) {
+    const code = observationCodeOf(holder['code']);
+    if (code !== undefined) {
+      components.push({ code, holder });
+    }
+  }
   const first = top ?? components[0]?.code;
   if (first === undefined) {
     return []; // not an observation this service reads
@@ -205,10 +212,13 @@ export function readObservationValues(
   }
   const specimen = stringAt(objectAt(obs, 'specimen'), 'reference')?.trim();
   const panel = reference === undefined ? undefined : panelOf.get(reference);
-  const sampleKeys = [
-    ...(panel === undefined ? [] : [`panel:${panel}`]),
-    ...(specimen === undefined || specimen === '' ? [] : [`specimen:${specimen}`]),
-  ];
+  const sampleKeys: string[] = [];
+  if (panel !== undefined) {
+    sampleKeys.push(`panel:${panel}`);
+  }
+  if (specimen !== undefined && specimen !== '') {
+    sampleKeys.push(`specimen:${specimen}`);
+  }
   const filedMs = parseFhirDateTime(stringAt(obs, 'issued'))?.startMs ?? parsed.startMs;
   const corrected = status === 'corrected' || status === 'amended';
   const ctx: Context = { at, atMs: parsed.startMs, reference, sampleKeys, filedMs, corrected };

@@ -1,6 +1,6 @@
 import type { Policy } from '../core/policy.js';
 import type { BloodGas, Measured, SetAsideNote, TrendReadings } from '../core/types.js';
-import type { MeasuredKind } from './codes.js';
+import type { MeasuredKind, ObservationCode } from './codes.js';
 import { describeAge } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
 import { arrayAt, stringAt } from './json.js';
@@ -74,17 +74,36 @@ function staleNote(
   return { what, reason: 'stale', detail, reference };
 }
 
+/** Later effective time first. */
+function newestFirst(a: Reading, b: Reading): number {
+  return b.atMs - a.atMs;
+}
+
+/** The readings of each kind, in the order read. */
+function byKind(readings: readonly Reading[]): Map<ObservationCode['kind'], Reading[]> {
+  const groups = new Map<ObservationCode['kind'], Reading[]>();
+  for (const r of readings) {
+    const group = groups.get(r.code.kind);
+    if (group === undefined) {
+      groups.set(r.code.kind, [r]);
+    } else {
+      group.push(r);
+    }
+  }
+  return groups;
+}
+
+/** The current readings of one kind, given newest first; a stale or future one gets a note. */
 function currentOf(
-  readings: readonly Reading[],
+  newest: readonly Reading[],
   kind: MeasuredKind,
   windowMinutes: number,
   nowMs: number,
   notes: SetAsideNote[],
 ): Measured[] {
-  const own = readings.filter((r) => r.code.kind === kind).sort((a, b) => b.atMs - a.atMs);
   const current: Measured[] = [];
   let newestStale: Reading | undefined;
-  for (const r of own) {
+  for (const r of newest) {
     const ageMs = nowMs - r.atMs;
     if (ageMs < -FUTURE_SKEW_MS) {
       notes.push(futureNote(LABEL[kind], ageMs, r.reference));
@@ -100,11 +119,10 @@ function currentOf(
   return current;
 }
 
-/** Readings of `kind` no older than `windowMinutes` and not in the future, most recent first. */
-function trendOf(readings: readonly Reading[], kind: MeasuredKind, windowMinutes: number, nowMs: number): Measured[] {
-  return readings
-    .filter((r) => r.code.kind === kind && nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000)
-    .sort((a, b) => b.atMs - a.atMs)
+/** Readings, given newest first, no older than `windowMinutes` and not in the future. */
+function trendOf(newest: readonly Reading[], windowMinutes: number, nowMs: number): Measured[] {
+  return newest
+    .filter((r) => nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000)
     .map((r) => ({ value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference }));
 }
 
@@ -121,13 +139,19 @@ export function readObservations(
   const nowMs = now.getTime();
   const notes: SetAsideNote[] = [];
   const panelOf = panelMembership(observations);
-  const readings = observations.flatMap((obs) => readObservationValues(obs, panelOf, notes));
+  const readings: Reading[] = [];
+  for (const obs of observations) {
+    readings.push(...readObservationValues(obs, panelOf, notes));
+  }
+  // Each kind is picked out once, and sorted (in place, in its own list) once for both its current and
+  // its trend readings. Gas readings are not sorted here: they are grouped in the order read.
+  const kinds = byKind(readings);
+  const newest = (kind: MeasuredKind): Reading[] => (kinds.get(kind) ?? []).sort(newestFirst);
+  const [spo2, fio2, flow] = [newest('spo2'), newest('fio2'), newest('o2-flow')];
 
   const vitals = freshness.vitalSignsMinutes;
   const trendWindow = Math.max(vitals, trendMinutes);
-  const bmi = readings
-    .filter((r) => r.code.kind === 'bmi' && r.atMs - nowMs <= FUTURE_SKEW_MS)
-    .sort((a, b) => b.atMs - a.atMs)[0];
+  const bmi = newest('bmi').find((r) => r.atMs - nowMs <= FUTURE_SKEW_MS);
 
   const bloodGases: BloodGas[] = [];
   const historicBloodGases: BloodGas[] = [];
@@ -135,7 +159,7 @@ export function readObservations(
   // A gas value dated in the future is set aside before grouping: tied to a sample by its specimen or
   // caught by the window, it would otherwise be used under the sample's earlier collection time.
   const gasReadings: Reading[] = [];
-  for (const r of readings.filter((g) => g.code.kind === 'gas')) {
+  for (const r of kinds.get('gas') ?? []) {
     if (r.atMs - nowMs > FUTURE_SKEW_MS) {
       notes.push(futureNote(r.code.label, nowMs - r.atMs, r.reference));
     } else {
@@ -169,15 +193,15 @@ export function readObservations(
   }
 
   return {
-    spo2Percent: currentOf(readings, 'spo2', vitals, nowMs, notes),
-    fio2Fraction: currentOf(readings, 'fio2', vitals, nowMs, notes),
-    o2FlowLPerMin: currentOf(readings, 'o2-flow', vitals, nowMs, notes),
-    respRatePerMin: currentOf(readings, 'resp-rate', vitals, nowMs, notes),
-    haemoglobinGPerDL: currentOf(readings, 'haemoglobin', freshness.haemoglobinHours * 60, nowMs, notes),
+    spo2Percent: currentOf(spo2, 'spo2', vitals, nowMs, notes),
+    fio2Fraction: currentOf(fio2, 'fio2', vitals, nowMs, notes),
+    o2FlowLPerMin: currentOf(flow, 'o2-flow', vitals, nowMs, notes),
+    respRatePerMin: currentOf(newest('resp-rate'), 'resp-rate', vitals, nowMs, notes),
+    haemoglobinGPerDL: currentOf(newest('haemoglobin'), 'haemoglobin', freshness.haemoglobinHours * 60, nowMs, notes),
     trendReadings: {
-      spo2Percent: trendOf(readings, 'spo2', trendWindow, nowMs),
-      fio2Fraction: trendOf(readings, 'fio2', trendWindow, nowMs),
-      o2FlowLPerMin: trendOf(readings, 'o2-flow', trendWindow, nowMs),
+      spo2Percent: trendOf(spo2, trendWindow, nowMs),
+      fio2Fraction: trendOf(fio2, trendWindow, nowMs),
+      o2FlowLPerMin: trendOf(flow, trendWindow, nowMs),
     },
     bloodGases,
     historicBloodGases,

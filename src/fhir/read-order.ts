@@ -1,4 +1,13 @@
-import type { DeviceKind, OrderPurpose, OrderTarget, OxygenOrder, SetAsideNote, TargetNote } from '../core/types.js';
+import type {
+  DeviceKind,
+  OrderPurpose,
+  OrderTarget,
+  OxygenOrder,
+  ReadFrom,
+  SaturationRange,
+  SetAsideNote,
+  TargetNote,
+} from '../core/types.js';
 import { currentWords } from './change-note.js';
 import { withUtcIfZoneless } from './fhir-date.js';
 import type { FhirResource } from './gathered-data.js';
@@ -135,6 +144,14 @@ function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
   return { device: chosen.device, text: chosen.text };
 }
 
+/**
+ * The range as the order's target. Written out rather than spread (`{ ...range, readFrom }`): on
+ * Node 20 (measured on 20.20) a spread followed by a key the source lacks costs about a microsecond.
+ */
+function targetOf(range: SaturationRange, readFrom: ReadFrom): OrderTarget {
+  return { lowPercent: range.lowPercent, highPercent: range.highPercent, readFrom };
+}
+
 interface TargetRead {
   readonly target: OrderTarget | undefined;
   readonly note: TargetNote | undefined;
@@ -155,10 +172,10 @@ function readTarget(
   notes.list.push(...structured.notes);
   const written = readWrittenTarget(texts, statements);
   if (structured.range === undefined) {
-    return { target: written.range === undefined ? undefined : { ...written.range, readFrom: 'text' }, note: written.note };
+    return { target: written.range === undefined ? undefined : targetOf(written.range, 'text'), note: written.note };
   }
   const { lowPercent: low, highPercent: high } = structured.range;
-  const target: OrderTarget = { ...structured.range, readFrom: 'structured' };
+  const target = targetOf(structured.range, 'structured');
   const note = written.note;
   if (note?.kind === 'one-sided') {
     // A coded range with a bound in the words that it keeps is one target; one it breaks is two.
@@ -242,7 +259,7 @@ export function readTargetWords(resource: FhirResource, type: OrderResourceType)
   const texts = parts.texts.map(currentWords);
   const reference = `${type}/${resource.id ?? ''}`;
   const target = readTarget(parts, texts, texts.map(findTargetStatements), reference, new OrderNotes(reference));
-  const purpose = readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin: undefined });
+  const purpose = readOrderPurpose(purposeInputs(resource, texts, undefined));
   return { targetNote: target.note, stopOrComfort: stopOrComfortOf(purpose) };
 }
 
@@ -257,8 +274,9 @@ function stopOrComfortOf(purpose: OrderPurpose): TargetWordsRead['stopOrComfort'
   return purpose === 'stop' || purpose === 'comfort' ? purpose : undefined;
 }
 
-function purposeWords(resource: FhirResource, texts: readonly string[]): Omit<PurposeInputs, 'flowLPerMin'> {
-  return { status: stringAt(resource, 'status'), doNotPerform: resource['doNotPerform'] === true, texts };
+/** What the order's purpose is read from (made whole here rather than spread with the flow, as targetOf says). */
+function purposeInputs(resource: FhirResource, texts: readonly string[], flowLPerMin: number | undefined): PurposeInputs {
+  return { status: stringAt(resource, 'status'), doNotPerform: resource['doNotPerform'] === true, texts, flowLPerMin };
 }
 
 /** Reads an oxygen order; `reference` is its `Type/id`, `isSubject` whether it is under check. */
@@ -280,7 +298,7 @@ export function readOrder(
   const setFio2Fraction = readFio2(coded.fio2, written, notes);
   const target = readTarget(parts, texts, statements, reference, notes);
   const status = stringAt(resource, 'status');
-  const purpose = readOrderPurpose({ ...purposeWords(resource, texts), flowLPerMin });
+  const purpose = readOrderPurpose(purposeInputs(resource, texts, flowLPerMin));
   // The flow only tells room air from titration, so a stop or comfort purpose is as readTargetWords reads it.
   readByOrder.set(resource, { type, read: { targetNote: target.note, stopOrComfort: stopOrComfortOf(purpose) } });
   return {

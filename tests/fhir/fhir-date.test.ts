@@ -79,14 +79,39 @@ describe('parseFhirDateTime reads a time however it is spaced', () => {
     );
   });
 
+  // The form JavaScript's toISOString writes, with three fraction digits, is read the same way.
+  const withMilliseconds = fc
+    .tuple(utcTime, fc.integer({ min: 0, max: 999 }))
+    .map(([text, ms]) => `${text.slice(0, -1)}.${String(ms).padStart(3, '0')}Z`);
+
+  it('gives the same instant, or none, as the expression does with milliseconds', () => {
+    fc.assert(
+      fc.property(withMilliseconds, (text) => {
+        expect(parseFhirDateTime(text)).toStrictEqual(parseFhirDateTime(` ${text}`));
+      }),
+      { numRuns: 2000 },
+    );
+  });
+
   it.each([
     ['2026-11-30T09:25:00Z', '2026-11-30T09:25:00.000Z'],
+    ['2026-11-30T09:25:00.007Z', '2026-11-30T09:25:00.007Z'], // ECMA-262 Date Time String Format
+    ['2026-11-30T09:25:00.999Z', '2026-11-30T09:25:00.999Z'], // ECMA-262 Date Time String Format
     ['2024-02-29T23:59:60Z', '2024-03-01T00:00:00.000Z'], // a leap second reads as the next minute
   ])('reads %s as %s', (text, iso) => {
     expect(new Date(parseFhirDateTime(text)?.startMs ?? Number.NaN).toISOString()).toBe(iso);
   });
 
-  it.each([['2026-02-29T09:25:00Z'], ['2026-13-01T09:25:00Z'], ['2026-11-30T24:00:00Z'], ['2026-11-30T09:60:00Z'], ['2026-11-30T09:25:61Z']])(
+  it.each([
+    ['2026-02-29T09:25:00Z'],
+    ['2026-13-01T09:25:00Z'],
+    ['2026-11-30T24:00:00Z'],
+    ['2026-11-30T09:60:00Z'],
+    ['2026-11-30T09:25:61Z'],
+    ['2026-02-29T09:25:00.000Z'],
+    ['2026-11-30T09:25:00,000Z'], // the fraction follows "." (FHIR R4 dateTime; from memory)
+    ['2026-11-30T09:25:00.0a0Z'],
+  ])(
     'rejects %s',
     (text) => {
       expect(parseFhirDateTime(text)).toBeUndefined();

@@ -52,6 +52,21 @@ describe('readObservationValues', () => {
       expect(notes).toStrictEqual([]);
     });
 
+    // Observation.value[x] (FHIR R4, from memory): a result stated in a form other than a Quantity is
+    // noted as unreadable; an Observation stating no value at all is read silently as nothing.
+    it.each([
+      ['valueString', 'negative', ['unrecognised']],
+      ['valueCodeableConcept', { text: 'Probe off' }, ['unrecognised']],
+      ['valueInteger', 94, ['unrecognised']],
+      ['note', [{ text: 'Probe off' }], []],
+    ])('with %s and no valueQuantity notes %j', (key, value, reasons) => {
+      const notes: SetAsideNote[] = [];
+      const obs: Record<string, unknown> = { ...observation('v', '59408-5', 0, '%', '2026-12-01T10:00:00Z'), [key]: value };
+      delete obs['valueQuantity'];
+      expect(readObservationValues(obs as typeof obs & { resourceType: string }, new Map(), notes)).toStrictEqual([]);
+      expect(notes.map((n) => n.reason)).toStrictEqual(reasons);
+    });
+
     it('recognises a code only with the LOINC system', () => {
       expect(observationCodeOf({ coding: [{ system: LOINC, code: '2708-6' }] })?.kind).toBe('spo2');
       expect(observationCodeOf({ coding: [{ system: 'urn:local', code: '2708-6' }] })).toBeUndefined();

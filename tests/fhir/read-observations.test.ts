@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { readObservations } from '../../src/fhir/read-observations.js';
 import { LOINC, NOW, btsPolicy, minutesAgo, observation, quantity } from './helpers/larkspur-bay.js';
@@ -408,5 +409,51 @@ describe('reading times carried as epoch ms', () => {
       expect(reading.atMs).toBe(Date.parse(reading.at));
       expect(reading.atMs).toBe(Date.parse('2026-11-30T09:10:00Z') + (at.includes('.123') ? 123 : 0));
     }
+  });
+});
+
+describe('readings of many kinds sent together', () => {
+  // Each kind is read apart from the others: mixing in other kinds changes none of its lists, which
+  // hold its readings within the window (not beyond the 5 min clock-skew allowance), newest first,
+  // readings of the same time in the order sent. Times fall on whole 30 min steps so that many tie.
+  const KINDS = [
+    ['59408-5', 94, '%'], // SpO2 (LOINC, check-values §6)
+    ['3150-0', 28, '%'], // FiO2
+    ['3151-8', 2, 'L/min'], // O2 flow
+    ['9279-1', 22, '/min'], // respiratory rate
+  ] as const;
+  const sent = fc.array(fc.tuple(fc.integer({ min: 0, max: 3 }), fc.integer({ min: -1, max: 14 })), { maxLength: 40, size: 'medium' });
+  // Ids run against the order sent, so no order by id can pass for the order sent.
+  const idOf = (i: number): string => `o${99 - i}`;
+
+  function expected(items: readonly (readonly [number, number])[], kind: number, windowMinutes: number): string[] {
+    const own = items.flatMap(([k, steps], i) => (k === kind ? [{ ref: `Observation/${idOf(i)}`, minutes: steps * 30 }] : []));
+    return own
+      .filter((r) => r.minutes >= -5 && r.minutes <= windowMinutes)
+      .sort((a, b) => a.minutes - b.minutes)
+      .map((r) => r.ref);
+  }
+
+  it('keeps each kind newest first, ties in the order sent, whatever else is sent with it', () => {
+    fc.assert(
+      fc.property(sent, (items) => {
+        const observations = items.map(([k, steps], i) => {
+          const [code, value, unit] = KINDS[k] ?? KINDS[0];
+          return observation(idOf(i), code, value, unit, minutesAgo(steps * 30));
+        });
+        const facts = readObservations(observations, freshness, TREND_MINUTES, NOW);
+        const refs = (list: readonly { readonly reference: string | undefined }[]) => list.map((m) => m.reference);
+        const vitals = freshness.vitalSignsMinutes;
+        const trend = Math.max(vitals, TREND_MINUTES);
+        expect(refs(facts.spo2Percent)).toStrictEqual(expected(items, 0, vitals));
+        expect(refs(facts.fio2Fraction)).toStrictEqual(expected(items, 1, vitals));
+        expect(refs(facts.o2FlowLPerMin)).toStrictEqual(expected(items, 2, vitals));
+        expect(refs(facts.respRatePerMin)).toStrictEqual(expected(items, 3, vitals));
+        expect(refs(facts.trendReadings.spo2Percent)).toStrictEqual(expected(items, 0, trend));
+        expect(refs(facts.trendReadings.fio2Fraction)).toStrictEqual(expected(items, 1, trend));
+        expect(refs(facts.trendReadings.o2FlowLPerMin)).toStrictEqual(expected(items, 2, trend));
+      }),
+      { numRuns: 300 },
+    );
   });
 });
