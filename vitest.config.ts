@@ -47,6 +47,7 @@ export default defineConfig({
         extends: true,
         test: {
           name: 'waiting',
+          globalSetup: ['tests/store-worker-setup.ts'],
           include: WAITING.map((pattern) => (pattern.endsWith('.ts') ? pattern : `${pattern}/*.test.ts`)),
           maxWorkers: 1,
           sequence: { groupOrder: 1 },
