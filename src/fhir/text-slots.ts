@@ -99,19 +99,23 @@ function setOwn(holder: Json, key: string, value: unknown): void {
   Object.defineProperty(holder, key, { value, enumerable: true, writable: true, configurable: true });
 }
 
+/** The item with its insides pruned: arrays copied without their empty items, objects in place. */
+function prunedItem(item: unknown): unknown {
+  const pruned = Array.isArray(item) ? prunedItems(item) : item;
+  if (isObject(pruned)) pruneEmpty(pruned);
+  return pruned;
+}
+
 /**
- * The array with its empty items removed, their insides pruned in place. Nulls stay where a
- * `name`/`_name` pair of equal length sits side by side: FHIR R4 JSON keeps a primitive array and its
- * extensions aligned by position with nulls (from memory). The same array when nothing is removed, so
- * a draft with nothing to prune is walked without building anything.
+ * The array with its empty items removed, their insides pruned in place. The same array when nothing
+ * is removed, so a draft with nothing to prune is walked without building anything.
  */
-function prunedItems(items: readonly unknown[], keepNulls: boolean): readonly unknown[] {
+function prunedItems(items: readonly unknown[]): readonly unknown[] {
   let kept: unknown[] | undefined;
   for (let index = 0; index < items.length; index += 1) {
     const item = items[index];
-    const pruned = Array.isArray(item) ? prunedItems(item, false) : item;
-    if (isObject(pruned)) pruneEmpty(pruned);
-    const keep = !isEmptyValue(pruned) || (pruned === null && keepNulls);
+    const pruned = prunedItem(item);
+    const keep = !isEmptyValue(pruned);
     if (kept === undefined) {
       if (keep && pruned === item) continue;
       kept = items.slice(0, index);
@@ -119,6 +123,49 @@ function prunedItems(items: readonly unknown[], keepNulls: boolean): readonly un
     if (keep) kept.push(pruned);
   }
   return kept ?? items;
+}
+
+/**
+ * A primitive array `name` and its extensions `_name`, of equal length, pruned together by position:
+ * FHIR R4 JSON keeps the two aligned, with null where one side has nothing (from memory). A position
+ * goes only when both sides are empty there; elsewhere an empty side holds the aligning null. An
+ * extension side left with nothing but nulls goes whole. Pruning both at once keeps them aligned, and
+ * a second pass finds nothing more to remove.
+ */
+function pruneAlignedPair(holder: Json, valuesKey: string, extensionsKey: string): void {
+  const values = holder[valuesKey] as readonly unknown[];
+  const extensions = holder[extensionsKey] as readonly unknown[];
+  const keptValues: unknown[] = [];
+  const keptExtensions: unknown[] = [];
+  let changed = false;
+  for (let index = 0; index < values.length; index += 1) {
+    const value = prunedItem(values[index]);
+    const extension = prunedItem(extensions[index]);
+    const valueEmpty = isEmptyValue(value);
+    const extensionEmpty = isEmptyValue(extension);
+    if (valueEmpty && extensionEmpty) {
+      changed = true;
+      continue;
+    }
+    const keptValue = valueEmpty ? null : value;
+    const keptExtension = extensionEmpty ? null : extension;
+    changed ||= keptValue !== values[index] || keptExtension !== extensions[index];
+    keptValues.push(keptValue);
+    keptExtensions.push(keptExtension);
+  }
+  if (!changed) return;
+  setOwn(holder, valuesKey, keptValues);
+  if (keptExtensions.every((extension) => extension === null)) {
+    delete holder[extensionsKey];
+  } else {
+    setOwn(holder, extensionsKey, keptExtensions);
+  }
+}
+
+/** The `name`/`_name` pair a key belongs to, values key first; undefined for `note` and plain keys. */
+function alignedKeys(key: string): readonly [string, string] | undefined {
+  const valuesKey = key.charCodeAt(0) === 95 /* _ */ && /^_[A-Za-z]/.test(key) ? key.slice(1) : key;
+  return valuesKey === 'note' ? undefined : [valuesKey, `_${valuesKey}`];
 }
 
 const hasText = (n: unknown): boolean => isObject(n) && typeof n['text'] === 'string' && n['text'].trim() !== '';
@@ -132,6 +179,9 @@ const isNoteWithoutText = (n: unknown): boolean => isObject(n) && !hasText(n);
  * visited does not disturb the walk.
  */
 export function pruneEmpty(value: Json): void {
+  // A `name`/`_name` pair is settled at the first of its keys, as the two arrive: once one is pruned
+  // alone, their lengths no longer say whether they were aligned.
+  let settled: Set<string> | undefined;
   for (const key in value) {
     if (!Object.hasOwn(value, key)) continue;
     const inner = value[key];
@@ -139,14 +189,31 @@ export function pruneEmpty(value: Json): void {
       value[key] = inner.filter((n) => !isNoteWithoutText(n));
     }
     const current = value[key];
-    if (Array.isArray(current)) {
-      const partner = key.charCodeAt(0) === 95 /* _ */ && /^_[A-Za-z]/.test(key) ? value[key.slice(1)] : value[`_${key}`];
-      const aligned = Array.isArray(partner) && partner.length === current.length;
-      const pruned = prunedItems(current, aligned);
-      if (pruned !== current) setOwn(value, key, pruned);
+    if (Array.isArray(current) && settled?.has(key) !== true) {
+      const pair = alignedKeys(key);
+      const partnerKey = pair === undefined ? undefined : pair[0] === key ? pair[1] : pair[0];
+      const partner = partnerKey === undefined ? undefined : value[partnerKey];
+      if (pair !== undefined && partnerKey !== undefined && Array.isArray(partner)) {
+        (settled ??= new Set()).add(partnerKey);
+        if (partner.length === current.length) {
+          pruneAlignedPair(value, pair[0], pair[1]);
+        } else {
+          pruneArray(value, key);
+          pruneArray(value, partnerKey);
+        }
+      } else {
+        pruneArray(value, key);
+      }
     } else if (isObject(current)) {
       pruneEmpty(current);
     }
     if (isEmptyValue(value[key])) delete value[key];
   }
+}
+
+/** `holder[key]`, an array, without its empty items (an emptied array is left for the caller to drop). */
+function pruneArray(holder: Json, key: string): void {
+  const current = holder[key] as readonly unknown[];
+  const pruned = prunedItems(current);
+  if (pruned !== current) setOwn(holder, key, pruned);
 }
