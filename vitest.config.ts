@@ -1,27 +1,5 @@
 import { configDefaults, defineConfig } from 'vitest/config';
-
-/**
- * Test files that start something and wait on it: a server, a child process, the store's worker
- * thread, Chromium, PostgreSQL, a file watcher, or timers (real or faked). Several of them check
- * deadlines, load shedding, fairness, a cluster or a cold start, so they run as the whole suite used
- * to: one file at a time, each in a fresh process, after the other files, with nothing of this suite
- * competing with them for the 2 cores of a CI machine.
- */
-const WAITING = [
-  'tests/http/**',
-  'tests/bench/**',
-  'tests/browser/**',
-  'tests/cluster/**',
-  'tests/store/**',
-  'tests/security/**',
-  'tests/live-policy/**',
-  'tests/demo/**',
-  'tests/build/package-scripts.test.ts',
-  'tests/cli/simulate-memory.test.ts',
-  'tests/cli/store-migrate-command.test.ts',
-  'tests/log/refusal-limiter.test.ts',
-  'tests/retention-purge.test.ts',
-];
+import { WAITING } from './tests/test-groups.js';
 
 export default defineConfig({
   test: {
