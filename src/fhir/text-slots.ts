@@ -162,10 +162,15 @@ function pruneAlignedPair(holder: Json, valuesKey: string, extensionsKey: string
   }
 }
 
-/** The `name`/`_name` pair a key belongs to, values key first; undefined for `note` and plain keys. */
-function alignedKeys(key: string): readonly [string, string] | undefined {
+/**
+ * The `name`/`_name` pair an array under `key` may belong to, and which of the two `key` is not; none
+ * for `note` (Annotations, not a primitive array).
+ */
+function alignedPair(key: string): { readonly valuesKey: string; readonly extensionsKey: string; readonly partnerKey: string } | undefined {
   const valuesKey = key.charCodeAt(0) === 95 /* _ */ && /^_[A-Za-z]/.test(key) ? key.slice(1) : key;
-  return valuesKey === 'note' ? undefined : [valuesKey, `_${valuesKey}`];
+  if (valuesKey === 'note') return undefined;
+  const extensionsKey = `_${valuesKey}`;
+  return { valuesKey, extensionsKey, partnerKey: key === valuesKey ? extensionsKey : valuesKey };
 }
 
 const hasText = (n: unknown): boolean => isObject(n) && typeof n['text'] === 'string' && n['text'].trim() !== '';
@@ -190,16 +195,15 @@ export function pruneEmpty(value: Json): void {
     }
     const current = value[key];
     if (Array.isArray(current) && settled?.has(key) !== true) {
-      const pair = alignedKeys(key);
-      const partnerKey = pair === undefined ? undefined : pair[0] === key ? pair[1] : pair[0];
-      const partner = partnerKey === undefined ? undefined : value[partnerKey];
-      if (pair !== undefined && partnerKey !== undefined && Array.isArray(partner)) {
-        (settled ??= new Set()).add(partnerKey);
+      const pair = alignedPair(key);
+      const partner = pair === undefined ? undefined : value[pair.partnerKey];
+      if (pair !== undefined && Array.isArray(partner)) {
+        (settled ??= new Set()).add(pair.partnerKey);
         if (partner.length === current.length) {
-          pruneAlignedPair(value, pair[0], pair[1]);
+          pruneAlignedPair(value, pair.valuesKey, pair.extensionsKey);
         } else {
           pruneArray(value, key);
-          pruneArray(value, partnerKey);
+          pruneArray(value, pair.partnerKey);
         }
       } else {
         pruneArray(value, key);
