@@ -83,12 +83,9 @@ const hookPlansOf = oncePerObject((policy: Policy): ReadonlyMap<HookName, HookPl
  * them under a key string made for every finding.
  */
 function keepOnce(kept: Finding[], finding: Finding): void {
-  for (const other of kept) {
-    if (sameFinding(other, finding)) {
-      return;
-    }
+  if (!kept.some((other) => sameFinding(other, finding))) {
+    kept.push(finding);
   }
-  kept.push(finding);
 }
 
 function runRules(
