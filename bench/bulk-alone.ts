@@ -2,7 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
-import { runChild, SEED } from './bulk-cases.js';
+import { BULK_POLICIES, runChild, SEED } from './bulk-cases.js';
 import type { BulkChildResult } from './bulk-child.js';
 import { prepareService } from './service-process.js';
 import { writeDemoExport } from '../src/bulk/write-demo-export.js';
@@ -38,12 +38,13 @@ const scratch = mkdtempSync(join(tmpdir(), 'oxygen-order-checker-bulk-alone-'));
 try {
   const exportDir = join(scratch, 'export');
   await writeDemoExport(exportDir, orders, SEED);
-  const policy = join(ROOT, 'policies', 'based-on-bts-2017.yaml');
+  const policy = join(ROOT, 'policies', BULK_POLICIES[0]);
+  const proposed = join(ROOT, 'policies', BULK_POLICIES[1]);
   const cards = join(ROOT, 'cards');
   const arms: Record<string, string[]> = {
     read: ['read', exportDir, built.codeRoot],
-    simulate: ['simulate', exportDir, built.codeRoot, policy, cards],
-    ...(values.before === undefined ? {} : { 'simulate (before)': ['simulate', exportDir, values.before, policy, cards] }),
+    simulate: ['simulate', exportDir, built.codeRoot, policy, cards, proposed],
+    ...(values.before === undefined ? {} : { 'simulate (before)': ['simulate', exportDir, values.before, policy, cards, proposed] }),
   };
   const names = Object.keys(arms);
   const best = new Map<string, BulkChildResult>();

@@ -16,6 +16,13 @@ export const LARGE_FACTOR = 4;
 /** The demo export's seed: the same seed and size give the same files. */
 export const SEED = 9;
 
+/**
+ * The baseline and proposed policies of the replay: two bundled policies with different targets, as an
+ * oxygen team comparing two target sets would run it (one file twice would measure a replay whose two
+ * sides always agree).
+ */
+export const BULK_POLICIES = ['based-on-bts-2017.yaml', 'based-on-tsanz-2015.yaml'] as const;
+
 export interface BulkMeasurements {
   readonly smallOrders: number;
   readonly largeOrders: number;
@@ -50,7 +57,8 @@ export async function measureBulk(
   rounds: number,
   progress: (line: string) => void,
 ): Promise<BulkMeasurements> {
-  const policy = join(root, 'policies', 'based-on-bts-2017.yaml');
+  const policy = join(root, 'policies', BULK_POLICIES[0]);
+  const proposed = join(root, 'policies', BULK_POLICIES[1]);
   const cards = join(root, 'cards');
   const largeOrders = smallOrders * LARGE_FACTOR;
   const smallDir = mkdtempSync(join(scratch, 'bulk-small-'));
@@ -65,7 +73,7 @@ export async function measureBulk(
       // Turns alternate, so a machine getting busier does not favour one side.
       const order = round % 2 === 0 ? (['read', 'simulate'] as const) : (['simulate', 'read'] as const);
       for (const mode of order) {
-        const result = runChild(root, built, mode === 'read' ? [mode, smallDir, built.codeRoot] : [mode, smallDir, built.codeRoot, policy, cards]);
+        const result = runChild(root, built, mode === 'read' ? [mode, smallDir, built.codeRoot] : [mode, smallDir, built.codeRoot, policy, cards, proposed]);
         progress(`bulk ${mode}, ${smallOrders} orders: ${Math.round(result.ms)} ms, ${result.lines} lines, peak ${Math.round(result.maxRssKb / 1024)} MB`);
         if (mode === 'read') {
           read = faster(read, result);
@@ -74,7 +82,7 @@ export async function measureBulk(
         }
       }
     }
-    const simulateLarge = runChild(root, built, ['simulate', largeDir, built.codeRoot, policy, cards]);
+    const simulateLarge = runChild(root, built, ['simulate', largeDir, built.codeRoot, policy, cards, proposed]);
     progress(`bulk simulate, ${largeOrders} orders: ${Math.round(simulateLarge.ms)} ms, peak ${Math.round(simulateLarge.maxRssKb / 1024)} MB`);
     if (read === undefined || simulate === undefined) {
       throw new Error('the bulk rounds measured nothing');

@@ -11,9 +11,9 @@ import type * as SimulateModule from '../src/bulk/simulate.js';
  *
  *   node BUILD/bench/bulk-child.js read EXPORT_DIR CODE_ROOT
  *     the floor: read every NDJSON line of the export and JSON.parse it, nothing else
- *   node BUILD/bench/bulk-child.js simulate EXPORT_DIR CODE_ROOT POLICY CARDS_DIR
+ *   node BUILD/bench/bulk-child.js simulate EXPORT_DIR CODE_ROOT POLICY CARDS_DIR [PROPOSED_POLICY]
  *     what `oxygen-order-checker simulate` does: index the export, then replay every order under a
- *     baseline and a proposed policy (here the same file twice), keeping only the tally
+ *     baseline (POLICY) and a proposed policy (PROPOSED_POLICY, or POLICY again), keeping only the tally
  *
  * The service's modules come from CODE_ROOT (the bench's build, or src/), as the rest of the run. The
  * bench runs this file from the same build by plain node (`--runner dist`, both modes alike, so
@@ -75,21 +75,25 @@ async function readAndParse(dir: string): Promise<{ lines: number; bytes: number
   return { lines, bytes };
 }
 
-async function simulate(dir: string, codeRoot: string, policyPath: string, cardsDir: string): Promise<number> {
+async function simulate(dir: string, codeRoot: string, policyPaths: readonly [string, string], cardsDir: string): Promise<number> {
   const load = async <T>(path: string): Promise<T> => (await import(pathToFileURL(join(codeRoot, path)).href)) as T;
   const { loadPolicyAndCards } = await load<typeof LoadFilesModule>('config/load-files.js');
   const { buildExportIndex } = await load<typeof ExportIndexModule>('bulk/export-index.js');
   const { runSimulation } = await load<typeof SimulateModule>('bulk/simulate.js');
-  const loaded = await loadPolicyAndCards({ policyPath, cardsDir });
-  if (loaded.kind === 'invalid') {
-    throw new Error('the bundled policy does not load');
-  }
-  const side = { file: policyPath, policy: loaded.policy, policyContentHash: loaded.policyContentHash, templates: loaded.templates };
+  const side = async (policyPath: string): Promise<SimulateModule.SimulationPolicy> => {
+    const loaded = await loadPolicyAndCards({ policyPath, cardsDir });
+    if (loaded.kind === 'invalid') {
+      throw new Error(`${policyPath} does not load`);
+    }
+    return { file: policyPath, policy: loaded.policy, policyContentHash: loaded.policyContentHash, templates: loaded.templates };
+  };
+  const baseline = await side(policyPaths[0]);
+  const proposed = await side(policyPaths[1]);
   const start = performance.now();
   const cpuStart = process.cpuUsage();
   const index = await buildExportIndex(dir, {});
   try {
-    const report = await runSimulation(index, side, side);
+    const report = await runSimulation(index, baseline, proposed);
     timedMs = performance.now() - start;
     timedCpuMs = cpuMs(process.cpuUsage(cpuStart));
     return report.tally.ordersEvaluated;
@@ -103,9 +107,9 @@ let timedCpuMs = 0;
 const cpuMs = (usage: NodeJS.CpuUsage): number => (usage.user + usage.system) / 1000;
 
 async function main(): Promise<void> {
-  const [mode, dir, codeRoot, policyPath, cardsDir] = process.argv.slice(2);
+  const [mode, dir, codeRoot, policyPath, cardsDir, proposedPath] = process.argv.slice(2);
   if ((mode !== 'read' && mode !== 'simulate') || dir === undefined || codeRoot === undefined) {
-    process.stderr.write('usage: bulk-child.ts read|simulate EXPORT_DIR CODE_ROOT [POLICY CARDS_DIR]\n');
+    process.stderr.write('usage: bulk-child.ts read|simulate EXPORT_DIR CODE_ROOT [POLICY CARDS_DIR [PROPOSED_POLICY]]\n');
     process.exit(2);
   }
   let orders = 0;
@@ -121,7 +125,7 @@ async function main(): Promise<void> {
       process.stderr.write('simulate needs POLICY and CARDS_DIR\n');
       process.exit(2);
     }
-    orders = await simulate(dir, codeRoot, policyPath, cardsDir);
+    orders = await simulate(dir, codeRoot, [policyPath, proposedPath ?? policyPath], cardsDir);
     // Counted after the timed part, so the count is not in the figure.
     counted = await readAndParse(dir);
   }

@@ -141,7 +141,7 @@ ${targetsTable(targets, before)}
 - **Bulk.** \`demo-export\` writes an invented export; a process that only reads and \`JSON.parse\`s every
   NDJSON line of it (a 64 KB chunk at a time, split into lines, as simulate's own reader does; the
   "before" column's floor awaited node:readline once a line, which made it slower), and one that runs what \`simulate\` runs (index the export, replay every order under
-  two policies, here the bundled one twice), take turns; the faster of each is kept. Throughput is
+  two bundled policies: based-on-bts-2017 as the baseline, based-on-tsanz-2015 as the proposed), take turns; the faster of each is kept. Throughput is
   NDJSON lines a second. Peak memory is each simulate process's maxRSS; "flat" is read here as the larger
   export (4 × the orders) peaking at no more than 1.2 × the smaller's.
 - **Cold start.** From spawning \`node dist/server.js\` in production mode with a new data directory to
