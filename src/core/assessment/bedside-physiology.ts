@@ -321,7 +321,7 @@ export function computeOxygenContent(input: {
         name: 'Arterial oxygen content',
         formula: OXYGEN_CONTENT_FORMULA,
         substituted:
-          `${HUFNER_TEXT} × ${formatNumber(hb, 1)} × ${saFraction.toFixed(2)} + ` +
+          `${HUFNER_TEXT} × ${formatNumber(hb, 1)} × ${formatFraction(saFraction)} + ` +
           `${SOLUBILITY_TEXT} × ${formatNumber(po2MmHg, 1)} (${saNote}; ${poNote})`,
         result: `${formatNumber(content, 1)} mL/dL`,
         sourceKey: 'oxygen-content',
