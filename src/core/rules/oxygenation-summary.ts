@@ -86,8 +86,9 @@ function bandWords<C extends string>(
     return words[band];
   }
   const cutoffs = ratio.spannedCutoffs.map((c) => String(c));
-  return ratio.spannedCutoffs.length === 1
-    ? `around ${cutoffs.join('')}: the range spans the ${scale} ${cutoffs.join('')} cut-off, so no band is stated`
+  const [only] = cutoffs;
+  return cutoffs.length === 1 && only !== undefined
+    ? `around ${only}: the range spans the ${scale} ${only} cut-off, so no band is stated`
     : `the range spans the ${scale} ${joinWords(cutoffs)} cut-offs, so no band is stated`;
 }
 
@@ -180,6 +181,23 @@ function keyFigures(assessment: Assessment, figures: FigureTexts): string {
     parts.push(`ROX ${figures.rox}`);
   }
   return parts.length === 0 ? 'figures not available' : parts.join(', ');
+}
+
+/**
+ * The mechanism hint as the card's sentence holds it: the shorter caveat, and no full stop of its own
+ * (the card adds one). The stops are trimmed by a scan from the end, which costs less than a regular
+ * expression run on every check.
+ */
+function mechanismWords(explanation: string): string {
+  const text = explanation.replace(
+    ' (the age norm applies on air only, so this comparison is less reliable)',
+    ' (a looser comparison on oxygen)',
+  );
+  let end = text.length;
+  while (end > 0 && text[end - 1] === '.') {
+    end -= 1;
+  }
+  return text.slice(0, end);
 }
 
 function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
@@ -299,9 +317,7 @@ export const rule: Rule = {
               : `not available (${p.gasInterpretation.reason})`,
           mechanism:
             p.mechanism.kind === 'ok'
-              ? p.mechanism.value.explanation
-                  .replace(' (the age norm applies on air only, so this comparison is less reliable)', ' (a looser comparison on oxygen)')
-                  .replace(/\.+$/, '')
+              ? mechanismWords(p.mechanism.value.explanation)
               : `not available (${p.mechanism.reason})`,
           keyFigures: keyFigures(assessment, figures),
           // ROX belongs to high flow; on other devices the card leaves it out.
