@@ -243,6 +243,7 @@ export const rule: Rule = {
       p.expectedAaGradient.kind === 'ok'
         ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
         : 'the age norm applies on air only, so it is not compared';
+    // Its result is the delivered FiO2 as describeDelivery writes it: the line below reuses it.
     const deliveryCalc = deliveryComputation(assessment);
     const computations: Computation[] = deliveryCalc === undefined ? [] : [deliveryCalc];
     if (p.alveolarPo2.kind === 'ok') {
@@ -300,7 +301,7 @@ export const rule: Rule = {
           orderDescription: order === undefined ? 'no oxygen order' : describeOrder(order),
           deliveredFio2:
             delivery.kind === 'ok'
-              ? `${describeDelivery(assessment)}; ${delivery.value.fio2Source === 'set' ? 'from the' : 'estimated by the'} ${delivery.value.model.name}`
+              ? `${deliveryCalc?.result ?? describeDelivery(assessment)}; ${delivery.value.fio2Source === 'set' ? 'from the' : 'estimated by the'} ${delivery.value.model.name}`
               : describeDelivery(assessment),
           deviceNotes: delivery.kind === 'ok' && delivery.value.notes.length > 0 ? delivery.value.notes.join(' ') : 'none',
           barometricPressure: `${formatMmHg(pb.mmHg)} (${MODEL_WORDS[pb.model]})`,
