@@ -270,6 +270,11 @@ function describeRoxThreshold(
   return `${formatNumber(hours, 1)} h on high flow (${startBasis}): the ${threshold.timePoint}-h threshold, ${threshold.failureBelow}`;
 }
 
+/** The oxygen content formula and its constants as the working writes them, each written once. */
+const HUFNER_TEXT = String(HUFNER_CLINICAL_ML_PER_G);
+const SOLUBILITY_TEXT = String(OXYGEN_SOLUBILITY_ML_PER_DL_PER_MMHG);
+const OXYGEN_CONTENT_FORMULA = `CaO2 = ${HUFNER_TEXT} × Hb × SaO2 + ${SOLUBILITY_TEXT} × PaO2`;
+
 /**
  * Arterial oxygen content (1.34 × Hb × SaO2 + 0.003 × PaO2). SaO2 is the current SpO2, else derived
  * from PaO2 (Severinghaus 1979); PaO2 is the arterial value, else derived from SpO2 (Ellis 1989).
@@ -314,10 +319,10 @@ export function computeOxygenContent(input: {
       value: content,
       computation: {
         name: 'Arterial oxygen content',
-        formula: `CaO2 = ${HUFNER_CLINICAL_ML_PER_G} × Hb × SaO2 + ${OXYGEN_SOLUBILITY_ML_PER_DL_PER_MMHG} × PaO2`,
+        formula: OXYGEN_CONTENT_FORMULA,
         substituted:
-          `${HUFNER_CLINICAL_ML_PER_G} × ${formatNumber(hb, 1)} × ${saFraction.toFixed(2)} + ` +
-          `${OXYGEN_SOLUBILITY_ML_PER_DL_PER_MMHG} × ${formatNumber(po2MmHg, 1)} (${saNote}; ${poNote})`,
+          `${HUFNER_TEXT} × ${formatNumber(hb, 1)} × ${formatFraction(saFraction)} + ` +
+          `${SOLUBILITY_TEXT} × ${formatNumber(po2MmHg, 1)} (${saNote}; ${poNote})`,
         result: `${formatNumber(content, 1)} mL/dL`,
         sourceKey: 'oxygen-content',
       },

@@ -14,7 +14,7 @@ import {
   highFlowAtReading,
 } from './bedside-physiology.js';
 import { newestFirst, pickCurrentValues } from './current-values.js';
-import { fio2InForceAt } from './fio2-in-force.js';
+import { deliveryAtRecordedFlows, fio2InForceAt } from './fio2-in-force.js';
 import { formatMmHg, formatNumber } from './format.js';
 import { computeGasPhysiology } from './gas-physiology.js';
 import { assessHypercapnicRisk } from './hypercapnic-risk.js';
@@ -109,15 +109,18 @@ export function buildAssessment(
   const order = 'order' in options ? options.order : facts.orders.find((o) => o.isSubject);
   const current = pickCurrentValues(facts, policy, now);
   const barometricPressure = siteBarometricPressure(policy);
-  const delivery = estimateOrderDelivery(order, current, stockedVenturiSettings(policy.devices));
-  const fio2AtGas = fio2InForceAt(current.arterialGas, facts, order, delivery, policy);
-  const fio2AtSpo2 = fio2InForceAt(current.spo2, facts, order, delivery, policy);
+  const venturiSettings = stockedVenturiSettings(policy.devices);
+  const delivery = estimateOrderDelivery(order, current, venturiSettings);
+  // The gas and the SpO2 are often matched to one recorded flow: its estimate is worked out once.
+  const atFlow = deliveryAtRecordedFlows(order, delivery, venturiSettings);
+  const fio2AtGas = fio2InForceAt(current.arterialGas, facts, order, delivery, policy, atFlow);
+  const fio2AtSpo2 = fio2InForceAt(current.spo2, facts, order, delivery, policy, atFlow);
 
   // An earlier arterial gas on a different FiO2 lets the mechanism hint test for shunt.
   const earlierArterial = newestFirst(facts.bloodGases).find(
     (g) => g.specimen === 'arterial' && g !== current.arterialGas && g.pao2MmHg !== undefined,
   );
-  const earlierFio2 = fio2InForceAt(earlierArterial, facts, order, delivery, policy);
+  const earlierFio2 = fio2InForceAt(earlierArterial, facts, order, delivery, policy, atFlow);
   const previous =
     earlierArterial?.pao2MmHg !== undefined &&
     earlierFio2.kind === 'ok' &&

@@ -34,26 +34,38 @@ function fromDelivery(
   return { estimate, low, high, basis, at, onAir: false, source: delivery.fio2Source, delivery };
 }
 
+/** The ordered device's delivered-FiO2 estimate at a recorded O2 flow. */
+export type DeliveryAtFlow = (flowLPerMin: number) => Outcome<DeliveryEstimate>;
+
 /**
- * The estimate for the ordered device at a recorded flow. One device at one setting shows one FiO2
- * in one response: at the order's own flow this is the order's estimate itself, and at another flow
- * it is worked out at the same respiratory rate the order's estimate used, so a figure never differs
- * only because one path knew the breathing rate and another did not.
+ * The estimates for the ordered device at recorded flows, each worked out once: the assessment
+ * matches an FiO2 to the gas, the SpO2 and an earlier gas, and these are often read at one recorded
+ * flow. One device at one setting shows one FiO2 in one response: at the order's own flow this is the
+ * order's estimate itself, and at another flow it is worked out at the same respiratory rate the
+ * order's estimate used, so a figure never differs only because one path knew the breathing rate and
+ * another did not.
  */
-function estimateAtRecordedFlow(
-  flowLPerMin: number,
-  order: OxygenOrder,
+export function deliveryAtRecordedFlows(
+  order: OxygenOrder | undefined,
   orderDelivery: Outcome<DeliveryEstimate>,
   venturiSettings: readonly VenturiSetting[],
-): Outcome<DeliveryEstimate> {
-  if (orderDelivery.kind === 'ok' && order.flowLPerMin === flowLPerMin) {
-    return orderDelivery;
-  }
-  if (order.device === undefined) {
-    return { kind: 'unknown', reason: 'device not recognised' };
-  }
+): DeliveryAtFlow {
+  const byFlow = new Map<number, Outcome<DeliveryEstimate>>();
   const respRate = orderDelivery.kind === 'ok' ? orderDelivery.value.respRatePerMin : undefined;
-  return estimateDelivery(order.device, deliveryInput(flowLPerMin, order.setFio2Fraction, respRate, venturiSettings));
+  return (flowLPerMin) => {
+    if (orderDelivery.kind === 'ok' && order?.flowLPerMin === flowLPerMin) {
+      return orderDelivery;
+    }
+    if (order?.device === undefined) {
+      return { kind: 'unknown', reason: 'device not recognised' };
+    }
+    let estimate = byFlow.get(flowLPerMin);
+    if (estimate === undefined) {
+      estimate = estimateDelivery(order.device, deliveryInput(flowLPerMin, order.setFio2Fraction, respRate, venturiSettings));
+      byFlow.set(flowLPerMin, estimate);
+    }
+    return estimate;
+  };
 }
 
 /**
@@ -61,6 +73,7 @@ function estimateAtRecordedFlow(
  * nearest that time (within the vital-signs window), else the recorded O2 flow nearest it on the
  * ordered device, else the order's own estimate. The basis and source travel with the value so a card
  * can say which was used. Given the reading itself, its time is read from the epoch ms it carries.
+ * `atFlow`: the estimates at recorded flows; an assessment passes one for all its readings.
  */
 export function fio2InForceAt(
   at: string | { readonly at: string; readonly atMs?: number } | undefined,
@@ -68,6 +81,7 @@ export function fio2InForceAt(
   order: OxygenOrder | undefined,
   orderDelivery: Outcome<DeliveryEstimate>,
   policy: Policy,
+  atFlow: DeliveryAtFlow = deliveryAtRecordedFlows(order, orderDelivery, stockedVenturiSettings(policy.devices)),
 ): Outcome<Fio2InForce> {
   const atMs = at === undefined ? Number.NaN : typeof at === 'string' ? Date.parse(at) : readingMs(at);
   if (Number.isNaN(atMs)) {
@@ -108,7 +122,7 @@ export function fio2InForceAt(
     };
   }
   if (recordedFlow !== undefined && order?.device !== undefined) {
-    const estimate = estimateAtRecordedFlow(recordedFlow.value, order, orderDelivery, stockedVenturiSettings(policy.devices));
+    const estimate = atFlow(recordedFlow.value);
     if (estimate.kind === 'ok') {
       return { kind: 'ok', value: fromDelivery(estimate.value, 'recorded-flow', recordedFlow.at) };
     }

@@ -75,6 +75,9 @@ export function fio2IsUncertain(fio2: Fio2InForce): boolean {
 
 const mm = (value: number): string => formatNumber(value, 1);
 
+/** " / 0.8": the respiratory quotient as the alveolar working divides by it, written once. */
+const DIVIDED_BY_QUOTIENT = ` / ${RESPIRATORY_QUOTIENT_DEFAULT}`;
+
 /**
  * The PaO2-based numbers for the current arterial gas, at the FiO2 in force when it was taken and
  * the site's barometric pressure: inspired PO2, PAO2 (simplified alveolar gas equation, R 0.8,
@@ -228,7 +231,7 @@ export function computeGasPhysiology(input: {
         computation: {
           name: 'Alveolar PO2 (alveolar gas equation)',
           formula: 'PAO2 = FiO2 × (PB − PH2O) − PaCO2 / R',
-          substituted: `${inspiredText}) − ${mm(paco2MmHg)} / ${RESPIRATORY_QUOTIENT_DEFAULT}${basisText}`,
+          substituted: `${inspiredText}) − ${mm(paco2MmHg)}${DIVIDED_BY_QUOTIENT}${basisText}`,
           result: formatMmHg(pao2Alveolar),
           sourceKey: 'alveolar-gas',
         },

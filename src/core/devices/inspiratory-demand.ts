@@ -121,22 +121,24 @@ export function estimateInspiratoryDemand(respRatePerMin: number | undefined): I
   };
 }
 
+// The two notes read only constants, so each is written once rather than on every estimate.
+const ASSUMED_PATTERN_NOTE =
+  `Respiratory rate not given: a resting pattern of ${DEFAULT_RESP_RATE_PER_MIN}/min and ` +
+  `${RESTING_TIDAL_VOLUME_L} L breaths was assumed and the range widened to cover ` +
+  `${UNKNOWN_RESP_RATE_BAND_PER_MIN.low}-${UNKNOWN_RESP_RATE_BAND_PER_MIN.high}/min (common practice).`;
+const FAST_BREATHING_NOTE =
+  `Breathing faster than ${TACHYPNOEA_RESP_RATE_ABOVE_PER_MIN}/min: a distressed adult may draw ` +
+  `${DISTRESSED_PEAK_INSPIRATORY_FLOW_L_PER_MIN.low}-${DISTRESSED_PEAK_INSPIRATORY_FLOW_L_PER_MIN.high} ` +
+  'L/min at peak, more than most oxygen devices supply, so less oxygen reaches the lungs (common practice).';
+
 /** The notes every model adds about the breathing pattern it assumed. */
 export function demandNotes(demand: InspiratoryDemand): readonly string[] {
   const notes: string[] = [];
   if (!demand.respRateKnown) {
-    notes.push(
-      `Respiratory rate not given: a resting pattern of ${DEFAULT_RESP_RATE_PER_MIN}/min and ` +
-        `${RESTING_TIDAL_VOLUME_L} L breaths was assumed and the range widened to cover ` +
-        `${UNKNOWN_RESP_RATE_BAND_PER_MIN.low}-${UNKNOWN_RESP_RATE_BAND_PER_MIN.high}/min (common practice).`,
-    );
+    notes.push(ASSUMED_PATTERN_NOTE);
   }
   if (demand.tachypnoea) {
-    notes.push(
-      `Breathing faster than ${TACHYPNOEA_RESP_RATE_ABOVE_PER_MIN}/min: a distressed adult may draw ` +
-        `${DISTRESSED_PEAK_INSPIRATORY_FLOW_L_PER_MIN.low}-${DISTRESSED_PEAK_INSPIRATORY_FLOW_L_PER_MIN.high} ` +
-        'L/min at peak, more than most oxygen devices supply, so less oxygen reaches the lungs (common practice).',
-    );
+    notes.push(FAST_BREATHING_NOTE);
   }
   return notes;
 }

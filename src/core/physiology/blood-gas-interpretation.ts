@@ -1,3 +1,4 @@
+import { formatNumber as formatDecimals } from '../assessment/format.js';
 import type { Outcome } from '../types.js';
 import {
   expectedBicarbonateMmolPerL,
@@ -294,7 +295,12 @@ function decideNormocapnic(r: Reading, hypocapnic: boolean): Decision {
   return { acidBase: 'normal', note: '' };
 }
 
-/** One decimal place at most, without a trailing zero: 45.004 → "45", 26.27 → "26.3". */
+/**
+ * One decimal place at most, without a trailing zero: 45.004 → "45", 26.27 → "26.3". The shared
+ * formatter writes the digits `toFixed(1)` would, without running its exact algorithm and parsing the
+ * text back; every value shown here has passed the range checks, so none is a negative that rounds
+ * to "-0".
+ */
 function formatNumber(value: number): string {
-  return String(Number(value.toFixed(1)));
+  return formatDecimals(value, 1);
 }

@@ -1,3 +1,4 @@
+import { formatFraction } from '../assessment/format.js';
 import type { Outcome } from '../types.js';
 import {
   ROOM_AIR_FIO2,
@@ -93,7 +94,7 @@ export function hypoxaemiaMechanism(
   const gradientWords = j.onAir
     ? `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg expected for age on air`
     : `A-a gradient ${gradientShown} mmHg against ${allowanceShown} mmHg allowed on FiO2 ` +
-      `${fio2.toFixed(2)} (the age norm applies on air only, so this comparison is less reliable)`;
+      `${formatFraction(fio2)} (the age norm applies on air only, so this comparison is less reliable)`;
   const paco2Words = `PaCO2 ${whole(paco2)} mmHg`;
   const inspired = input.inspiredPo2MmHg;
   const alsoInspired = j.lowInspired ? ` Low inspired PO2 (${fmt(inspired)} mmHg) also contributes.` : '';
@@ -224,7 +225,7 @@ function shuntRise(input: HypoxaemiaMechanismInput): ShuntRise | undefined {
 function shuntWords(input: HypoxaemiaMechanismInput, rise: ShuntRise): string {
   const { previousFio2Fraction, alveolarRise, arterialRise } = rise;
   return (
-    `FiO2 rose from ${previousFio2Fraction.toFixed(2)} to ${input.fio2Fraction.toFixed(2)} ` +
+    `FiO2 rose from ${formatFraction(previousFio2Fraction)} to ${formatFraction(input.fio2Fraction)} ` +
     `but PaO2 changed by ${whole(arterialRise)} mmHg, under 20 % of the ${whole(alveolarRise)} mmHg ` +
     'rise in alveolar PO2: a shunt is likely (a heuristic, common practice).'
   );
@@ -257,7 +258,7 @@ export function mechanismAcrossFio2Range(input: {
   if (atEstimate.kind === 'unknown') {
     return atEstimate;
   }
-  const range = `${input.fio2Low.toFixed(2)}–${input.fio2High.toFixed(2)}`;
+  const range = `${formatFraction(input.fio2Low)}–${formatFraction(input.fio2High)}`;
   if (atLow.kind === 'unknown' || atHigh.kind === 'unknown') {
     const reason = atLow.kind === 'unknown' ? atLow.reason : atHigh.kind === 'unknown' ? atHigh.reason : '';
     return ok(
@@ -274,8 +275,8 @@ export function mechanismAcrossFio2Range(input: {
   }
   return ok(
     'not-determined',
-    `The FiO2 is only known as ${range}: at ${input.fio2Low.toFixed(2)} the gas reads as ` +
-      `${KIND_WORDS[atLow.value.kind]}, at ${input.fio2High.toFixed(2)} as ${KIND_WORDS[atHigh.value.kind]}. ` +
+    `The FiO2 is only known as ${range}: at ${formatFraction(input.fio2Low)} the gas reads as ` +
+      `${KIND_WORDS[atLow.value.kind]}, at ${formatFraction(input.fio2High)} as ${KIND_WORDS[atHigh.value.kind]}. ` +
       'The margin is smaller than the FiO2 uncertainty, so no mechanism is stated; a gas taken on a known ' +
       'FiO2 (recorded, or a fixed-performance device) would settle it.',
   );

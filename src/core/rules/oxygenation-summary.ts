@@ -19,7 +19,7 @@ import type {
   RoxInterpretation,
 } from '../assessment/types.js';
 import { RICE_SF_CUTOFFS, ROX_HIGH_RISK_BELOW, ROX_LOW_RISK_AT_LEAST } from '../physiology/index.js';
-import type { Computation, Finding, Outcome } from '../types.js';
+import type { BloodGas, Computation, Finding, Outcome } from '../types.js';
 import { deliveryComputation, describeAge, describeDelivery, describeOrder } from './support/describe.js';
 import { makeFinding } from './support/make-finding.js';
 import type { Rule } from './support/rule-types.js';
@@ -39,8 +39,20 @@ const RICE_WORDS: Readonly<Record<RiceClass, string>> = {
   'below-235': `at or below ${RICE_SF_CUTOFFS.pf200} (Rice: about P/F 200 or less)`,
 };
 
-/** How the gas line names each value. */
+/** How the gas line names each value, in the order it shows them. */
 const GAS_LABELS = { ph: 'pH', paco2: 'PCO2', pao2: 'PO2', hco3: 'HCO3' } as const;
+
+/** "arterial 25 min ago, pH 7.28, PCO2 8.1 kPa, PO2 7.9 kPa, HCO3 28": the values the gas has. */
+function describeGas(gas: BloodGas, now: Date): string {
+  let line = `${gas.specimen} ${describeAge(gas, now)}`;
+  for (const component of ['ph', 'paco2', 'pao2', 'hco3'] as const) {
+    const shown = formatGasValue(gas, component);
+    if (shown !== undefined) {
+      line += `, ${GAS_LABELS[component]} ${shown}`;
+    }
+  }
+  return line;
+}
 
 const ROX_CUTOFFS = [ROX_LOW_RISK_AT_LEAST, ...Object.values(ROX_HIGH_RISK_BELOW)] as const;
 
@@ -74,8 +86,9 @@ function bandWords<C extends string>(
     return words[band];
   }
   const cutoffs = ratio.spannedCutoffs.map((c) => String(c));
-  return ratio.spannedCutoffs.length === 1
-    ? `around ${cutoffs.join('')}: the range spans the ${scale} ${cutoffs.join('')} cut-off, so no band is stated`
+  const [only] = cutoffs;
+  return cutoffs.length === 1 && only !== undefined
+    ? `around ${only}: the range spans the ${scale} ${only} cut-off, so no band is stated`
     : `the range spans the ${scale} ${joinWords(cutoffs)} cut-offs, so no band is stated`;
 }
 
@@ -136,8 +149,16 @@ function pressureWithRange(calculated: Calculated<number>): string {
   return `about ${formatNumber(calculated.value, 0)} (${formatNumber(range.low, 0)}–${formatNumber(range.high, 0)}) mmHg`;
 }
 
+/** A figure's text as the detail lines show it, formatted once: the key figures repeat it. */
+interface FigureTexts {
+  readonly pf: string | undefined;
+  readonly sf: string | undefined;
+  readonly aa: string | undefined;
+  readonly rox: string | undefined;
+}
+
 /** The two or three numbers a respiratory therapist looks for first, for the card summary. */
-function keyFigures(assessment: Assessment): string {
+function keyFigures(assessment: Assessment, figures: FigureTexts): string {
   const { delivery, physiology: p } = assessment;
   const parts: string[] = [];
   const shown = delivery.kind === 'ok' ? delivery.value.fio2.estimate : undefined;
@@ -149,27 +170,38 @@ function keyFigures(assessment: Assessment): string {
     );
   }
   if (p.pfRatio.kind === 'ok') {
-    const pf = p.pfRatio.value.value;
-    parts.push(`P/F ${formatRatio(pf, BERLIN_CUTOFFS_MMHG)}${atFio2(pf.fio2, shown)}`);
+    parts.push(`P/F ${figures.pf}${atFio2(p.pfRatio.value.value.fio2, shown)}`);
   } else if (p.sfRatio.kind === 'ok') {
-    const sf = p.sfRatio.value.value;
-    parts.push(`S/F ${formatRatio(sf, RICE_CUTOFFS)}${atFio2(sf.fio2, shown)}`);
+    parts.push(`S/F ${figures.sf}${atFio2(p.sfRatio.value.value.fio2, shown)}`);
   }
-  if (p.aaGradient.kind === 'ok') {
-    parts.push(`A-a ${pressureWithRange(p.aaGradient.value)}`);
+  if (figures.aa !== undefined) {
+    parts.push(`A-a ${figures.aa}`);
   }
-  if (p.rox.kind === 'ok') {
-    parts.push(`ROX ${formatBesideCutoffs(p.rox.value.value.index, 2, ROX_CUTOFFS)}`);
+  if (figures.rox !== undefined) {
+    parts.push(`ROX ${figures.rox}`);
   }
   return parts.length === 0 ? 'figures not available' : parts.join(', ');
 }
 
-function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
-  return outcome.kind === 'ok' ? text(outcome.value.value) : `not available (${outcome.reason})`;
+/**
+ * The mechanism hint as the card's sentence holds it: the shorter caveat, and no full stop of its own
+ * (the card adds one). The stops are trimmed by a scan from the end, which costs less than a regular
+ * expression run on every check.
+ */
+function mechanismWords(explanation: string): string {
+  const text = explanation.replace(
+    ' (the age norm applies on air only, so this comparison is less reliable)',
+    ' (a looser comparison on oxygen)',
+  );
+  let end = text.length;
+  while (end > 0 && text[end - 1] === '.') {
+    end -= 1;
+  }
+  return text.slice(0, end);
 }
 
-function computationOf<T>(outcome: Outcome<Calculated<T>>): readonly Computation[] {
-  return outcome.kind === 'ok' ? [outcome.value.computation] : [];
+function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
+  return outcome.kind === 'ok' ? text(outcome.value.value) : `not available (${outcome.reason})`;
 }
 
 /**
@@ -206,43 +238,52 @@ export const rule: Rule = {
     const gasUsed =
       gas === undefined
         ? `none within the last ${formatNumber(policy.freshness.bloodGasMinutes / 60, 1)} h`
-        : [
-            `${gas.specimen} ${describeAge(gas, now)}`,
-            ...(['ph', 'paco2', 'pao2', 'hco3'] as const).flatMap((c) => {
-              const shown = formatGasValue(gas, c);
-              const label = GAS_LABELS[c];
-              return shown === undefined ? [] : [`${label} ${shown}`];
-            }),
-          ].join(', ') + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
+        : describeGas(gas, now) + (gas.specimen === 'arterial' ? `; taken on ${fio2AtGas}` : '');
     const expected =
       p.expectedAaGradient.kind === 'ok'
         ? `age norm on air ${formatMmHg(p.expectedAaGradient.value.value)}`
         : 'the age norm applies on air only, so it is not compared';
+    // Its result is the delivered FiO2 as describeDelivery writes it: the line below reuses it.
     const deliveryCalc = deliveryComputation(assessment);
-    const computations: Computation[] = [
-      ...(deliveryCalc === undefined ? [] : [deliveryCalc]),
-      ...(p.alveolarPo2.kind === 'ok' ? [pb.computation] : []),
-      ...[p.inspiredPo2, p.alveolarPo2, p.aaGradient, p.expectedAaGradient].flatMap((o) => computationOf(o)),
-      ...computationOf(p.pfRatio),
-      ...computationOf(p.sfRatio),
-      ...computationOf(p.rox),
-      ...computationOf(p.oxygenContent),
+    const computations: Computation[] = deliveryCalc === undefined ? [] : [deliveryCalc];
+    if (p.alveolarPo2.kind === 'ok') {
+      computations.push(pb.computation);
+    }
+    const calculated = [
+      p.inspiredPo2,
+      p.alveolarPo2,
+      p.aaGradient,
+      p.expectedAaGradient,
+      p.pfRatio,
+      p.sfRatio,
+      p.rox,
+      p.oxygenContent,
     ];
+    for (const outcome of calculated) {
+      if (outcome.kind === 'ok') {
+        computations.push(outcome.value.computation);
+      }
+    }
+    // Each figure is formatted once: the detail lines and the key figures show the same text.
+    const figures: FigureTexts = {
+      pf: p.pfRatio.kind === 'ok' ? formatRatio(p.pfRatio.value.value, BERLIN_CUTOFFS_MMHG) : undefined,
+      sf: p.sfRatio.kind === 'ok' ? formatRatio(p.sfRatio.value.value, RICE_CUTOFFS) : undefined,
+      aa: p.aaGradient.kind === 'ok' ? pressureWithRange(p.aaGradient.value) : undefined,
+      rox: p.rox.kind === 'ok' ? formatBesideCutoffs(p.rox.value.value.index, 2, ROX_CUTOFFS) : undefined,
+    };
     const pfWords = show(
       p.pfRatio,
-      (v) =>
-        `${formatRatio(v, BERLIN_CUTOFFS_MMHG)} mmHg at ${describeFio2Used(v.fio2)}; ` +
-        bandWords(v, v.berlin, BERLIN_WORDS, 'Berlin'),
+      (v) => `${figures.pf} mmHg at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.berlin, BERLIN_WORDS, 'Berlin'),
     );
     const sfWords = show(
       p.sfRatio,
-      (v) => `${formatRatio(v, RICE_CUTOFFS)} at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.rice, RICE_WORDS, 'Rice'),
+      (v) => `${figures.sf} at ${describeFio2Used(v.fio2)}; ` + bandWords(v, v.rice, RICE_WORDS, 'Rice'),
     );
     const aaWords =
       p.aaGradient.kind === 'ok'
         ? p.aaGradient.value.range === undefined
           ? `${formatBesideCutoffs(p.aaGradient.value.value, 0, p.expectedAaGradient.kind === 'ok' ? [p.expectedAaGradient.value.value] : [])} mmHg; ${expected}`
-          : `${pressureWithRange(p.aaGradient.value)} over the FiO2 range; ${expected}`
+          : `${figures.aa} over the FiO2 range; ${expected}`
         : `not available (${p.aaGradient.reason})`;
     const roxWords = show(p.rox, (v) => {
       const after =
@@ -251,7 +292,7 @@ export const rule: Rule = {
           : v.hoursOnHighFlow === 0
             ? ' at the start of high flow'
             : ` after ${formatNumber(v.hoursOnHighFlow, 1)} h`;
-      return `${formatBesideCutoffs(v.index, 2, ROX_CUTOFFS)}${after}, ${ROX_WORDS[v.interpretation]}`;
+      return `${figures.rox}${after}, ${ROX_WORDS[v.interpretation]}`;
     });
     return [
       makeFinding(rule, {
@@ -260,7 +301,7 @@ export const rule: Rule = {
           orderDescription: order === undefined ? 'no oxygen order' : describeOrder(order),
           deliveredFio2:
             delivery.kind === 'ok'
-              ? `${describeDelivery(assessment)}; ${delivery.value.fio2Source === 'set' ? 'from the' : 'estimated by the'} ${delivery.value.model.name}`
+              ? `${deliveryCalc?.result ?? describeDelivery(assessment)}; ${delivery.value.fio2Source === 'set' ? 'from the' : 'estimated by the'} ${delivery.value.model.name}`
               : describeDelivery(assessment),
           deviceNotes: delivery.kind === 'ok' && delivery.value.notes.length > 0 ? delivery.value.notes.join(' ') : 'none',
           barometricPressure: `${formatMmHg(pb.mmHg)} (${MODEL_WORDS[pb.model]})`,
@@ -277,11 +318,9 @@ export const rule: Rule = {
               : `not available (${p.gasInterpretation.reason})`,
           mechanism:
             p.mechanism.kind === 'ok'
-              ? p.mechanism.value.explanation
-                  .replace(' (the age norm applies on air only, so this comparison is less reliable)', ' (a looser comparison on oxygen)')
-                  .replace(/\.+$/, '')
+              ? mechanismWords(p.mechanism.value.explanation)
               : `not available (${p.mechanism.reason})`,
-          keyFigures: keyFigures(assessment),
+          keyFigures: keyFigures(assessment, figures),
           // ROX belongs to high flow; on other devices the card leaves it out.
           gradientAndRox:
             p.rox.kind === 'ok' || order?.device === 'high-flow-nasal-cannula' ? `${aaWords}. ROX: ${roxWords}` : aaWords,

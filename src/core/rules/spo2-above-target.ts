@@ -22,11 +22,15 @@ const SAME_FIO2_WITHIN = 0.005;
  */
 function orderAlreadyLowers(order: OxygenOrder, assessment: Assessment, facts: Facts, latestFlow: number | undefined): boolean {
   const ordered = assessment.delivery.kind === 'ok' ? assessment.delivery.value.fio2.estimate : undefined;
-  const onRecord = facts.activeOrders
-    .filter((o) => o.reference !== order.reference)
-    .map((o) => estimateOrderDelivery(o, assessment.current))
-    .flatMap((d) => (d.kind === 'ok' ? [d.value.fio2.estimate] : []));
-  if (ordered !== undefined && onRecord.some((fio2) => fio2 > ordered + SAME_FIO2_WITHIN)) {
+  // Each active order's estimate is worked out only until one answers, and none without an ordered figure.
+  const givesMore = (o: OxygenOrder): boolean => {
+    if (ordered === undefined || o.reference === order.reference) {
+      return false;
+    }
+    const onRecord = estimateOrderDelivery(o, assessment.current);
+    return onRecord.kind === 'ok' && onRecord.value.fio2.estimate > ordered + SAME_FIO2_WITHIN;
+  };
+  if (facts.activeOrders.some(givesMore)) {
     return true;
   }
   const atReading = assessment.physiology.fio2AtSpo2;

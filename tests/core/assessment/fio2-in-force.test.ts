@@ -1,9 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { estimateOrderDelivery } from '../../../src/core/assessment/build-assessment.js';
 import { pickCurrentValues } from '../../../src/core/assessment/current-values.js';
-import { fio2InForceAt } from '../../../src/core/assessment/fio2-in-force.js';
+import { buildAssessment } from '../../../src/core/assessment/build-assessment.js';
+import { deliveryAtRecordedFlows, fio2InForceAt } from '../../../src/core/assessment/fio2-in-force.js';
+import { estimateDelivery } from '../../../src/core/devices/index.js';
 import type { Facts } from '../../../src/core/types.js';
-import { BTS, NOW, buildFacts, fio2, minutesAgo, o2Flow, oxygenOrder } from '../facts-builder.js';
+import { BTS, NOW, bloodGas, buildFacts, fio2, minutesAgo, o2Flow, oxygenOrder, respRate, spo2 } from '../facts-builder.js';
 
 function at(facts: Facts, time: string) {
   const order = facts.orders[0];
@@ -78,6 +80,50 @@ describe('fio2InForceAt', () => {
         kind: 'unknown',
         reason: 'no measurement time to match an FiO2 to',
       });
+    });
+  });
+
+  describe('estimates at recorded flows', () => {
+    it('works out each recorded flow once, at the order estimate\'s breathing rate, and gives the order estimate at its own flow', () => {
+      const facts = buildFacts({ orders: [oxygenOrder({ flowLPerMin: 2 })], respRatePerMin: [respRate(28)] });
+      const order = facts.orders[0];
+      const delivery = estimateOrderDelivery(order, pickCurrentValues(facts, BTS, NOW));
+      expect(delivery.kind === 'ok' && delivery.value.respRatePerMin).toBe(28);
+      const atFlow = deliveryAtRecordedFlows(order, delivery, []);
+      const atFour = atFlow(4);
+      // Nasal cannula 4 L/min ≈ 0.36 ± 0.05 (check-values 2a, rule of 4: common practice / V2)
+      expect(atFour.kind === 'ok' && Math.abs(atFour.value.fio2.estimate - 0.36) <= 0.05).toBe(true);
+      expect(atFour).toStrictEqual(estimateDelivery('nasal-cannula', { flowLPerMin: 4, respRatePerMin: 28 }));
+      expect(atFlow(4)).toBe(atFour);
+      expect(atFlow(2)).toBe(delivery);
+      expect(atFlow(3)).not.toStrictEqual(atFour);
+    });
+
+    it('is unknown at any flow when the ordered device is not recognised', () => {
+      const order = oxygenOrder({ device: undefined, deviceText: 'O2 via mask' });
+      expect(deliveryAtRecordedFlows(order, { kind: 'unknown', reason: 'x' }, [])(4)).toStrictEqual({
+        kind: 'unknown',
+        reason: 'device not recognised',
+      });
+    });
+
+    it('gives a gas and an SpO2 read at one recorded flow the same estimate, unlike the order\'s own', () => {
+      // Nasal cannula 4 L/min ≈ 0.36 and 2 L/min ≈ 0.28, each ± 0.05 (check-values 2a, rule of 4: common practice / V2)
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 2, authoredOn: minutesAgo(5) })],
+        o2FlowLPerMin: [o2Flow(4, 30)],
+        spo2Percent: [spo2(93, 25)],
+        bloodGases: [bloodGas({ ageMinutes: 35, ph: 7.4, paco2Kpa: 5.3, pao2Kpa: 9 })],
+      });
+      const { physiology, delivery } = buildAssessment(facts, BTS, { now: NOW });
+      const { fio2AtGas, fio2AtSpo2 } = physiology;
+      expect(fio2AtGas.kind === 'ok' && fio2AtGas.value.basis).toBe('recorded-flow');
+      expect(fio2AtSpo2.kind === 'ok' && fio2AtSpo2.value.basis).toBe('recorded-flow');
+      const atGas = fio2AtGas.kind === 'ok' ? fio2AtGas.value.delivery : undefined;
+      expect(atGas).toBeDefined();
+      expect(fio2AtSpo2.kind === 'ok' && fio2AtSpo2.value.delivery).toBe(atGas);
+      expect(atGas?.fio2.estimate).toBeCloseTo(0.36, 1);
+      expect(delivery.kind === 'ok' && delivery.value.fio2.estimate).toBeCloseTo(0.28, 1);
     });
   });
 });

@@ -268,4 +268,16 @@ describe('interpretBloodGas', () => {
       expect(result.kind === 'unknown' && result.reason).toMatch(/do not agree/);
     });
   });
+
+  it('writes PaCO2 to one decimal place at most, as toFixed(1) rounds it, near ties included', () => {
+    // The summary's figures are display text: toFixed(1) without a trailing zero (ECMA-262,
+    // Number.prototype.toFixed). pH 7.40 keeps each gas in range; the bicarbonate is calculated.
+    for (let tenths = 350; tenths <= 800; tenths += 1) {
+      for (const paco2 of [tenths / 10, tenths / 10 + 0.05, tenths / 10 + 0.04999]) {
+        const { summary } = read({ ph: 7.4, paco2MmHg: paco2 });
+        expect(summary).toContain(`PaCO2 ${String(Number(paco2.toFixed(1)))} mmHg`);
+      }
+    }
+  });
 });
+

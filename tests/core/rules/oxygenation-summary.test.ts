@@ -133,6 +133,38 @@ describe('oxygenation-summary', () => {
     expect(onlyFinding(runRule(rule, facts)).values.pfRatio).toBe('201 mmHg at FiO2 0.30, as recorded; Berlin mild band (200–300)');
   });
 
+  describe('the mechanism line and the key figures', () => {
+    it('gives the mechanism hint on oxygen with the shorter caveat and no full stop of its own', () => {
+      // check-values 3a (D): FiO2 0.28, PB 760, PaCO2 50 -> PAO2 137; PaO2 70 -> A-a 67 mmHg, raised
+      // against the age norm widened on oxygen (age/4 + 4, C; 7 mmHg per 0.10 FiO2, from memory)
+      const facts = buildFacts({
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 50, pao2MmHg: 70 })],
+        fio2Fraction: [fio2(0.28, 30)],
+      });
+      const mechanism = onlyFinding(runRule(rule, facts, { policy: seaLevel })).values.mechanism ?? '';
+      expect(mechanism).toContain('allowed on FiO2 0.28 (a looser comparison on oxygen)');
+      expect(mechanism).not.toContain('less reliable');
+      expect(mechanism).not.toMatch(/\.$/);
+      expect(mechanism.length).toBeGreaterThan(0);
+    });
+
+    it('shows in the key figures the same P/F, A-a and ROX texts as the detail lines', () => {
+      // PaO2 64 mmHg on nasal cannula 3 L/min ≈ 0.32 ± 0.05 (rule of 4, FCCS: C / V2): P/F and A-a are ranges
+      const facts = buildFacts({
+        orders: [oxygenOrder({ flowLPerMin: 3 })],
+        respRatePerMin: [respRate(20)],
+        bloodGases: [bloodGas({ ageMinutes: 30, ph: 7.4, paco2MmHg: 40, pao2MmHg: 64 })],
+      });
+      const { values } = onlyFinding(runRule(rule, facts, { policy: seaLevel }));
+      const pfShown = /^(about \d+ \(\d+–\d+\)) mmHg/.exec(values.pfRatio ?? '')?.[1];
+      const aaShown = /^(about \d+ \(\d+–\d+\) mmHg)/.exec(values.aaGradient ?? '')?.[1];
+      expect(pfShown).toBeDefined();
+      expect(aaShown).toBeDefined();
+      expect(values.keyFigures).toContain(`P/F ${pfShown ?? ''}`);
+      expect(values.keyFigures).toContain(`A-a ${aaShown ?? ''}`);
+    });
+  });
+
   describe('ratios on an FiO2 that is not exact', () => {
     it('shows P/F as "about" a range on an estimated FiO2 and states no Berlin band when the range spans 200', () => {
       // Nasal cannula 3 L/min ≈ 0.32 ± 0.05 (rule of 4, FCCS: C / V2); PaO2 64 mmHg → P/F about 195, its

@@ -2,6 +2,7 @@ import {
   formatDeliveredFio2,
   formatDuration,
   formatFlow,
+  formatFraction,
   formatNumber,
   formatPercent,
   minutesBetween,
@@ -28,7 +29,7 @@ export function describeOrder(order: OxygenOrder): string {
       ? ''
       : order.device === 'venturi-mask'
         ? ` ${formatPercent(order.setFio2Fraction * 100)}`
-        : ` FiO2 ${order.setFio2Fraction.toFixed(2)}`;
+        : ` FiO2 ${formatFraction(order.setFio2Fraction)}`;
   const flow = order.flowLPerMin === undefined ? '' : ` at ${formatFlow(order.flowLPerMin)}`;
   return `${label}${setting}${flow}`;
 }
@@ -49,7 +50,7 @@ export function deliveryComputation(assessment: Assessment): Computation | undef
   const rr = assessment.current.respRate;
   // The inputs the model read, joined as they are written: no list built and filtered on every call.
   const flow = order.flowLPerMin === undefined ? '' : `O2 flow ${formatFlow(order.flowLPerMin)}, `;
-  const setting = order.setFio2Fraction === undefined ? '' : `set FiO2 ${order.setFio2Fraction.toFixed(2)}, `;
+  const setting = order.setFio2Fraction === undefined ? '' : `set FiO2 ${formatFraction(order.setFio2Fraction)}, `;
   const breathing =
     rr === undefined
       ? 'respiratory rate not recorded (resting pattern assumed)'

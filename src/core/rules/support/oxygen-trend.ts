@@ -48,9 +48,9 @@ interface FlowDevice {
  */
 function flowDevice(facts: Facts, order: OxygenOrder | undefined, flows: readonly Measured[]): FlowDevice | undefined {
   const fromRecord = facts.activeOrders.length > 0;
-  const devices = new Set((fromRecord ? facts.activeOrders : order === undefined ? [] : [order]).map((o) => o.device));
-  const [device] = [...devices];
-  if (devices.size !== 1 || device === undefined || !FLOW_SETS_OXYGEN.includes(device)) {
+  const orders = fromRecord ? facts.activeOrders : order === undefined ? [] : [order];
+  const device = orders[0]?.device;
+  if (device === undefined || orders.some((o) => o.device !== device) || !FLOW_SETS_OXYGEN.includes(device)) {
     return undefined;
   }
   const top = DEVICE_MODELS[device].flowRangeLPerMin.max;
@@ -69,7 +69,8 @@ export function oxygenTrend(
 ): OxygenTrend | undefined {
   const fio2 = inWindow(facts.trendReadings.fio2Fraction, now, windowMinutes);
   const compare = (first: Measured, last: Measured): number => Math.round(last.value * 100) - Math.round(first.value * 100);
-  const [firstFio2, lastFio2] = [fio2[0], fio2[fio2.length - 1]];
+  const firstFio2 = fio2[0];
+  const lastFio2 = fio2[fio2.length - 1];
   if (fio2.length >= 2 && firstFio2 !== undefined && lastFio2 !== undefined) {
     return {
       first: firstFio2,
@@ -81,7 +82,8 @@ export function oxygenTrend(
     };
   }
   const flows = inWindow(facts.trendReadings.o2FlowLPerMin, now, windowMinutes);
-  const [firstFlow, lastFlow] = [flows[0], flows[flows.length - 1]];
+  const firstFlow = flows[0];
+  const lastFlow = flows[flows.length - 1];
   const named = flowDevice(facts, order, flows);
   if (named === undefined || flows.length < 2 || firstFlow === undefined || lastFlow === undefined) {
     return undefined;
@@ -155,7 +157,8 @@ export function findRisingOxygenNeed(
   spo2FallPoints: number,
 ): RisingNeed | undefined {
   const readings = inWindow(facts.trendReadings.spo2Percent, now, windowMinutes);
-  const [firstSpo2, lastSpo2] = [readings[0], readings[readings.length - 1]];
+  const firstSpo2 = readings[0];
+  const lastSpo2 = readings[readings.length - 1];
   if (firstSpo2 === undefined || lastSpo2 === undefined) {
     return undefined;
   }
