@@ -112,12 +112,16 @@ function medicationParts(resource: FhirResource): OrderParts {
 
 function serviceParts(resource: FhirResource): OrderParts {
   const details = objectsAt(resource, 'orderDetail');
+  const detailWords: string[] = [];
+  for (const d of details) {
+    detailWords.push(...wordsOf(d));
+  }
   const codeText = stringAt(objectAt(resource, 'code'), 'text');
   const patientInstruction = stringAt(resource, 'patientInstruction');
   return {
     deviceFromCode: codedDevice(resource['code']),
     deviceName: undefined,
-    deviceWords: details.flatMap((d) => wordsOf(d)),
+    deviceWords: detailWords,
     quantities: isObject(resource['quantityQuantity'])
       ? [{ value: resource['quantityQuantity'], says: 'either', where: 'quantityQuantity' }]
       : [],
