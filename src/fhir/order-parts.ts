@@ -72,7 +72,17 @@ export function parameterSays(code: unknown): 'flow' | 'fio2' | 'target' | undef
 
 function medicationParts(resource: FhirResource): OrderParts {
   const dosages = objectsAt(resource, 'dosageInstruction');
-  const doseAndRates = dosages.flatMap((d) => objectsAt(d, 'doseAndRate'));
+  // What each dosage lists, gathered in one pass: on Node 20 a flatMap costs several times this loop.
+  const doseAndRates: JsonObject[] = [];
+  const deviceWords: string[] = [];
+  const instructionWords: string[] = [];
+  for (const d of dosages) {
+    doseAndRates.push(...objectsAt(d, 'doseAndRate'));
+    deviceWords.push(...wordsOf(d['method']), ...wordsOf(d['route']), ...wordsOf(d['site']));
+    for (const instruction of objectsAt(d, 'additionalInstruction')) {
+      instructionWords.push(...wordsOf(instruction));
+    }
+  }
   const quantities: FoundQuantity[] = [];
   for (const [i, dr] of doseAndRates.entries()) {
     for (const key of ['rateQuantity', 'doseQuantity']) {
@@ -85,7 +95,7 @@ function medicationParts(resource: FhirResource): OrderParts {
   return {
     deviceFromCode: undefined,
     deviceName: dosages.map((d) => wordsOf(d['method'])[0]).find((w) => w !== undefined),
-    deviceWords: dosages.flatMap((d) => ['method', 'route', 'site'].flatMap((k) => wordsOf(d[k]))),
+    deviceWords,
     quantities,
     flowRanges: doseAndRates.map((dr) => dr['rateRange']).filter(isObject),
     targetHolders: [resource, ...dosages],
@@ -93,7 +103,7 @@ function medicationParts(resource: FhirResource): OrderParts {
     texts: [
       ...textsOf(dosages, 'text'),
       ...textsOf(dosages, 'patientInstruction'),
-      ...dosages.flatMap((d) => objectsAt(d, 'additionalInstruction').flatMap((c) => wordsOf(c))),
+      ...instructionWords,
       ...textsOf(objectsAt(resource, 'note'), 'text'),
       ...(medicationText === undefined ? [] : [medicationText]),
     ],
@@ -102,12 +112,16 @@ function medicationParts(resource: FhirResource): OrderParts {
 
 function serviceParts(resource: FhirResource): OrderParts {
   const details = objectsAt(resource, 'orderDetail');
+  const detailWords: string[] = [];
+  for (const d of details) {
+    detailWords.push(...wordsOf(d));
+  }
   const codeText = stringAt(objectAt(resource, 'code'), 'text');
   const patientInstruction = stringAt(resource, 'patientInstruction');
   return {
     deviceFromCode: codedDevice(resource['code']),
     deviceName: undefined,
-    deviceWords: details.flatMap((d) => wordsOf(d)),
+    deviceWords: detailWords,
     quantities: isObject(resource['quantityQuantity'])
       ? [{ value: resource['quantityQuantity'], says: 'either', where: 'quantityQuantity' }]
       : [],

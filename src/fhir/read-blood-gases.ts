@@ -214,7 +214,9 @@ export function groupBloodGases(readings: readonly Reading[], groupingMinutes: n
     }
   }
   const order: Readonly<Record<Specimen, number>> = { arterial: 0, venous: 1, unknown: 2 };
-  return clusters
-    .flatMap((c) => splitBySpecimen(c.members))
-    .sort((a, b) => b.atMs - a.atMs || order[a.gas.specimen] - order[b.gas.specimen]);
+  const samples: GasSample[] = [];
+  for (const c of clusters) {
+    samples.push(...splitBySpecimen(c.members));
+  }
+  return samples.sort((a, b) => b.atMs - a.atMs || order[a.gas.specimen] - order[b.gas.specimen]);
 }

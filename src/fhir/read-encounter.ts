@@ -32,16 +32,16 @@ export function readEncounterLocationIds(encounter: FhirResource | undefined): s
   const locations = objectsAt(encounter, 'location');
   const active = locations.filter((l) => stringAt(l, 'status') === 'active');
   const current = active.length > 0 ? active : locations.filter((l) => stringAt(l, 'status') === undefined);
-  const ids = current.flatMap((l) => {
+  const ids = new Set<string>();
+  for (const l of current) {
     const location = objectAt(l, 'location');
     const reference = stringAt(location, 'reference');
     const identifier = objectAt(location, 'identifier');
     const value = stringAt(identifier, 'value');
     const system = stringAt(identifier, 'system');
-    return [
-      ...(reference === undefined ? [] : [reference]),
-      ...(value === undefined ? [] : system === undefined ? [value] : [`${system}|${value}`, value]),
-    ];
-  });
-  return [...new Set(ids)];
+    if (reference !== undefined) ids.add(reference);
+    if (value !== undefined && system !== undefined) ids.add(`${system}|${value}`);
+    if (value !== undefined) ids.add(value);
+  }
+  return [...ids];
 }

@@ -211,7 +211,8 @@ export function readObservationValues(
     return [];
   }
   const specimen = stringAt(objectAt(obs, 'specimen'), 'reference')?.trim();
-  const panel = reference === undefined ? undefined : panelOf.get(reference);
+  // Most requests list no panel, and looking a reference up hashes it first.
+  const panel = reference === undefined || panelOf.size === 0 ? undefined : panelOf.get(reference);
   const sampleKeys: string[] = [];
   if (panel !== undefined) {
     sampleKeys.push(`panel:${panel}`);

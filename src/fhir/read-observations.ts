@@ -93,13 +93,24 @@ function byKind(readings: readonly Reading[]): Map<ObservationCode['kind'], Read
   return groups;
 }
 
-/** The current readings of one kind, given newest first; a stale or future one gets a note. */
+/** A reading as the facts carry it. */
+function measuredOf(r: Reading): Measured {
+  return { value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference };
+}
+
+/**
+ * The current readings of one kind, given newest first; a stale or future one gets a note. `trend`,
+ * when given, is trendOf of the same readings over a window at least as long: newest first, its
+ * first readings are the current ones, so they are listed from it rather than made (and their times
+ * parsed) again.
+ */
 function currentOf(
   newest: readonly Reading[],
   kind: MeasuredKind,
   windowMinutes: number,
   nowMs: number,
   notes: SetAsideNote[],
+  trend: readonly Measured[] = [],
 ): Measured[] {
   const current: Measured[] = [];
   let newestStale: Reading | undefined;
@@ -110,7 +121,7 @@ function currentOf(
     } else if (ageMs > windowMinutes * 60_000) {
       newestStale ??= r;
     } else {
-      current.push({ value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference });
+      current.push(trend[current.length] ?? measuredOf(r));
     }
   }
   if (current.length === 0 && newestStale !== undefined) {
@@ -121,9 +132,7 @@ function currentOf(
 
 /** Readings, given newest first, no older than `windowMinutes` and not in the future. */
 function trendOf(newest: readonly Reading[], windowMinutes: number, nowMs: number): Measured[] {
-  return newest
-    .filter((r) => nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000)
-    .map((r) => ({ value: r.value, at: r.at, atMs: Date.parse(r.at), reported: r.reported, reference: r.reference }));
+  return newest.filter((r) => nowMs - r.atMs >= -FUTURE_SKEW_MS && nowMs - r.atMs <= windowMinutes * 60_000).map(measuredOf);
 }
 
 /**
@@ -192,17 +201,18 @@ export function readObservations(
     notes.push(staleNote('Blood gas', newestOld.ageMs, freshness.bloodGasMinutes, newestOld.reference, kept));
   }
 
+  const trendReadings = {
+    spo2Percent: trendOf(spo2, trendWindow, nowMs),
+    fio2Fraction: trendOf(fio2, trendWindow, nowMs),
+    o2FlowLPerMin: trendOf(flow, trendWindow, nowMs),
+  };
   return {
-    spo2Percent: currentOf(spo2, 'spo2', vitals, nowMs, notes),
-    fio2Fraction: currentOf(fio2, 'fio2', vitals, nowMs, notes),
-    o2FlowLPerMin: currentOf(flow, 'o2-flow', vitals, nowMs, notes),
+    spo2Percent: currentOf(spo2, 'spo2', vitals, nowMs, notes, trendReadings.spo2Percent),
+    fio2Fraction: currentOf(fio2, 'fio2', vitals, nowMs, notes, trendReadings.fio2Fraction),
+    o2FlowLPerMin: currentOf(flow, 'o2-flow', vitals, nowMs, notes, trendReadings.o2FlowLPerMin),
     respRatePerMin: currentOf(newest('resp-rate'), 'resp-rate', vitals, nowMs, notes),
     haemoglobinGPerDL: currentOf(newest('haemoglobin'), 'haemoglobin', freshness.haemoglobinHours * 60, nowMs, notes),
-    trendReadings: {
-      spo2Percent: trendOf(spo2, trendWindow, nowMs),
-      fio2Fraction: trendOf(fio2, trendWindow, nowMs),
-      o2FlowLPerMin: trendOf(flow, trendWindow, nowMs),
-    },
+    trendReadings,
     bloodGases,
     historicBloodGases,
     bmiKgPerM2: bmi?.value,

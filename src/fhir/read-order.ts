@@ -135,7 +135,11 @@ function readDevice(parts: OrderParts, notes: OrderNotes): DeviceRead {
     }
     return { device: undefined, text: parts.deviceName };
   }
-  const named = new Set(reads.flatMap((r) => [r.device, ...r.alsoNamed]));
+  const named = new Set<DeviceKind>();
+  for (const r of reads) {
+    named.add(r.device);
+    for (const d of r.alsoNamed) named.add(d);
+  }
   const others = [...named].filter((d) => d !== chosen.device);
   if (others.length > 0) {
     const detail = `The order also names ${others.join(', ')}; it was read as ${chosen.device} ('${chosen.text}').`;

@@ -53,7 +53,11 @@ const SET_FIO2_DEVICES: ReadonlySet<DeviceKind> = new Set([
   'tracheostomy-mask',
 ]);
 
+/** Every flow and FiO2 found below holds a number: a text without a digit is not searched for them. */
+const DIGIT = /\d/;
+
 export function findFlowMentions(text: string): readonly FlowMention[] {
+  if (!DIGIT.test(text)) return [];
   const mentions: FlowMention[] = [];
   for (const m of allMatches(FLOW_RANGE, text)) {
     const low = Number(m[1]);
@@ -96,6 +100,7 @@ export function findFio2Mentions(
   device: DeviceKind | undefined,
   statements: TargetStatements = findTargetStatements(text),
 ): readonly Fio2Mention[] {
+  if (!DIGIT.test(text)) return [];
   const mentions: Fio2Mention[] = [];
   for (const m of allMatches(FIO2_KEYWORD, text)) {
     const number = m[1] ?? '';

@@ -111,6 +111,12 @@ const IF_IS_TRIGGER =
 const NO_TARGET =
   /\bno\s+(?:spo2\s+|sp02\s+|sats?\s+|saturation\s+|oxygen\s+|o2\s+)?target(?:\s+range)?\b|\btarget\s*(?::|-|=)?\s*(?:none|n\/a|not applicable)\b|\btitrat(?:e|ed|ing)\s+to\s+comfort\b|\bdo\s+not\s+(?:monitor|check|measure|record|titrate to)\s+(?:the\s+)?(?:spo2|sats?|saturations?|oximetry)\b|\b(?:spo2|sats?|saturation|oximetry)\s+(?:monitoring\s+)?not\s+(?:required|needed|necessary|indicated)\b|\bno\s+(?:need\s+to\s+(?:monitor|check)\s+|)(?:spo2|sats?|saturation|oximetry)\s+monitoring\b/i;
 
+/**
+ * Every range, bound and single value found below holds a number, so a text without a digit (most
+ * orders carry their name, "Oxygen therapy", as one of their texts) is not searched for them.
+ */
+const DIGIT = /\d/;
+
 const CLAUSE_BREAK = /[;\n]|\.(?:\s|$)/g;
 const SENTENCE_END = /[;\n]|\.(?:\s|$)/;
 
@@ -169,6 +175,7 @@ function saysSaturation(text: string, index: number, hasPercent: boolean): boole
 const plausible = (value: number): boolean => isPlausible(value, PLAUSIBLE.targetPercent);
 
 export function findTargetMentions(text: string): readonly TargetMention[] {
+  if (!DIGIT.test(text)) return [];
   const mentions: TargetMention[] = [];
   for (const m of allMatches(RANGE, text)) {
     const [whole, lead, lowText = '', gap = '', highText = '', percent] = m;
@@ -243,6 +250,7 @@ export function findSingleValueMentions(
   text: string,
   taken: readonly { readonly start: number; readonly end: number }[],
 ): readonly SingleValueMention[] {
+  if (!DIGIT.test(text)) return [];
   const found: SingleValueMention[] = [];
   for (const m of allMatches(SINGLE, text)) {
     const percent = Number(m[1]);
@@ -278,6 +286,7 @@ function boundOf(m: RegExpMatchArray): Bound {
 }
 
 export function findBoundMentions(text: string, ranges: readonly TargetMention[] = findTargetMentions(text)): BoundsFound {
+  if (!DIGIT.test(text)) return { targets: [], triggers: [] };
   const targets: BoundMention[] = [];
   const triggers: BoundMention[] = [];
   for (const m of allMatches(BOUND, text)) {

@@ -16,6 +16,36 @@ describe('orderParts', () => {
     expect(parts.texts).toStrictEqual(['a', 'b', 'c', 'Oxygen']);
   });
 
+  it('lists the words and rates of several dosages dosage by dosage, each in its element order', () => {
+    const parts = orderParts(
+      oxygenMedicationRequest('m', {
+        dosageInstruction: [
+          {
+            text: 'a1',
+            method: { text: 'Venturi mask' },
+            route: { text: 'Respiratory tract' },
+            site: { text: 'Nose' },
+            additionalInstruction: [{ text: 'x1' }, { text: 'x2' }],
+            doseAndRate: [{ rateQuantity: quantity(4, 'L/min') }, { rateRange: { low: quantity(2, 'L/min') } }],
+          },
+          {
+            text: 'a2',
+            route: { text: 'Inhalation' },
+            method: { text: 'Nasal cannula' },
+            additionalInstruction: [{ text: 'x3' }],
+            doseAndRate: [{ doseQuantity: quantity(28, '%') }],
+          },
+        ],
+      }),
+      'MedicationRequest',
+    );
+    expect(parts.deviceWords).toStrictEqual(['Venturi mask', 'Respiratory tract', 'Nose', 'Nasal cannula', 'Inhalation']);
+    expect(parts.deviceName).toBe('Venturi mask');
+    expect(parts.texts).toStrictEqual(['a1', 'a2', 'x1', 'x2', 'x3', 'Oxygen']);
+    expect(parts.quantities.map((q) => q.where)).toStrictEqual(['doseAndRate[0].rateQuantity', 'doseAndRate[2].doseQuantity']);
+    expect(parts.flowRanges).toStrictEqual([{ low: quantity(2, 'L/min') }]);
+  });
+
   it('takes the device from SNOMED CT 371907003 on a ServiceRequest', () => {
     const parts = orderParts(oxygenServiceRequest('s', { code: { coding: [{ system: SNOMED, code: '371907003' }] } }), 'ServiceRequest');
     expect(parts.deviceFromCode).toStrictEqual({ device: 'nasal-cannula', text: 'SNOMED CT 371907003' });

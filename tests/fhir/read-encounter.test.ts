@@ -62,6 +62,18 @@ describe('readEncounterLocationIds', () => {
     expect(readEncounterLocationIds(encounter)).toStrictEqual(['W4']);
   });
 
+  it('lists the ids of several current locations once each, in the order first named', () => {
+    const encounter = {
+      resourceType: 'Encounter',
+      location: [
+        { location: { reference: 'Location/lbgh-hdu', identifier: { value: 'HDU' } } },
+        { location: { reference: 'Location/lbgh-hdu-bay-2', identifier: { system: 'urn:lbgh:beds', value: 'HDU' } } },
+        { location: { reference: 'Location/lbgh-hdu' } },
+      ],
+    };
+    expect(readEncounterLocationIds(encounter)).toStrictEqual(['Location/lbgh-hdu', 'HDU', 'Location/lbgh-hdu-bay-2', 'urn:lbgh:beds|HDU']);
+  });
+
   describe('edge cases', () => {
     it('gives no ids for a missing or odd encounter', () => {
       expect(readEncounterLocationIds(undefined)).toStrictEqual([]);

@@ -456,4 +456,34 @@ describe('readings of many kinds sent together', () => {
       { numRuns: 300 },
     );
   });
+
+  it('lists the same current readings whatever the trend window, each with its own time, as the trend lists them', () => {
+    // Trend windows shorter than, equal to and longer than the 240 min vitals window (a local choice).
+    fc.assert(
+      fc.property(sent, fc.constantFrom(0, 120, 240, 270, 360, 600), (items, trendMinutes) => {
+        const observations = items.map(([k, steps], i) => {
+          const [code, value, unit] = KINDS[k] ?? KINDS[0];
+          return observation(idOf(i), code, value, unit, minutesAgo(steps * 30));
+        });
+        const facts = readObservations(observations, freshness, trendMinutes, NOW);
+        const vitals = freshness.vitalSignsMinutes;
+        // The values as read: SpO2 94 %, FiO2 28 % as 0.28 (UCUM), flow 2 L/min.
+        const lists = [
+          [facts.spo2Percent, facts.trendReadings.spo2Percent, 0, 94],
+          [facts.fio2Fraction, facts.trendReadings.fio2Fraction, 1, 0.28],
+          [facts.o2FlowLPerMin, facts.trendReadings.o2FlowLPerMin, 2, 2],
+        ] as const;
+        for (const [current, trend, kind, value] of lists) {
+          expect(current.map((m) => m.reference)).toStrictEqual(expected(items, kind, vitals));
+          expect(trend.map((m) => m.reference)).toStrictEqual(expected(items, kind, Math.max(vitals, trendMinutes)));
+          expect(current).toStrictEqual(trend.slice(0, current.length));
+          for (const m of current) {
+            expect(m.atMs).toBe(Date.parse(m.at));
+            expect(m.value).toBe(value);
+          }
+        }
+      }),
+      { numRuns: 300 },
+    );
+  });
 });
