@@ -9,7 +9,6 @@ import {
 } from './codes.js';
 import type { FhirResource } from './gathered-data.js';
 import { codingsOf, objectAt, wordsOf } from './json.js';
-import { leadWordFinder } from '../text/lead-words.js';
 
 /**
  * Maps the patient's Conditions onto the kinds that change the oxygen target or advice (BTS 2017
@@ -19,11 +18,8 @@ import { leadWordFinder } from '../text/lead-words.js';
  * failure, which count when resolved too; nothing refuted or entered in error counts.
  */
 
-/**
- * Words for each kind. Matched case-insensitively; a match after "no", "not" or "ruled out" is skipped.
- * Exported for the test that checks each kind's lead words.
- */
-export const TEXT_PATTERNS: ReadonlyArray<readonly [ConditionKind, RegExp]> = [
+/** Words for each kind. Matched case-insensitively; a match after "no", "not" or "ruled out" is skipped. */
+const TEXT_PATTERNS: ReadonlyArray<readonly [ConditionKind, RegExp]> = [
   ['copd', /\bCOPD\b|\bchronic obstructive (?:pulmonary|lung|airways?) disease\b|\bemphysema\b|\bCOAD\b/i],
   ['bronchiectasis', /\bbronchiectasis\b/i],
   ['cystic-fibrosis', /\bcystic fibrosis\b/i],
@@ -83,51 +79,6 @@ export const TEXT_PATTERNS: ReadonlyArray<readonly [ConditionKind, RegExp]> = [
     /\bhyperventilat\w*|\bpanic attack|\bdysfunctional breathing\b|\b(?:anxiety|panic)\b[^.;]{0,30}?\b(?:breathless\w*|dyspn\w*|short(?:ness)? of breath)|\b(?:breathless\w*|dyspn\w*)\b[^.;]{0,30}?\b(?:anxiety|panic)\b/i,
   ],
 ];
-
-/**
- * For each kind, the words every match of its pattern starts a word with (a prefix of the word will
- * do: "pregnan" for "pregnant" and "pregnancy"). A condition's words are scanned once for all of
- * them, and only the kinds found are matched against their patterns: most conditions name one kind,
- * and running all the patterns on each cost about what the rest of reading the condition did.
- * tests/fhir/read-conditions-leads.test.ts checks that every match starts a word with one of them.
- */
-export const LEAD_WORDS: Readonly<Record<ConditionKind, readonly string[]>> = {
-  copd: ['copd', 'chronic', 'emphysema', 'coad'],
-  bronchiectasis: ['bronchiectasis'],
-  'cystic-fibrosis': ['cystic'],
-  'chest-wall-deformity': ['kyphoscoliosis', 'scoliosis', 'chest', 'thoracoplasty'],
-  'neuromuscular-disease': [
-    'motor', 'mnd', 'amyotrophic', 'muscular', 'myasthenia', 'neuromuscular', 'guillain', 'spinal', 'myopathy',
-    'diaphragm', 'post',
-  ],
-  'obesity-hypoventilation': ['obesity', 'pickwickian'],
-  'morbid-obesity': ['morbid', 'severe', 'class'],
-  'chronic-hypercapnic-respiratory-failure': ['type', 'hypercapnic', 'respiratory', 'co2', 'carbon'],
-  'previous-niv-or-imv': [
-    'home', 'previous', 'prior', 'history', 'required', 'requiring', 'needed', 'needing', 'treated', 'received',
-    'ventilator',
-  ],
-  'carbon-monoxide-poisoning': ['carbon', 'co', 'carboxyh'],
-  'paraquat-poisoning': ['paraquat'],
-  'bleomycin-lung-injury': ['bleomycin'],
-  'cluster-headache': ['cluster'],
-  pneumothorax: ['pneumothora'],
-  'sickle-cell-crisis': ['sickle', 'vaso', 'acute'],
-  pregnancy: ['pregnan', 'gravid'],
-  // Every form names asthma in a word of its own ("status asthmaticus" too).
-  'acute-asthma': ['asthma'],
-  'sedative-or-opioid-toxicity': [
-    'opioid', 'opiate', 'narcotic', 'heroin', 'morphine', 'diamorphine', 'methadone', 'fentanyl', 'oxycodone',
-    'codeine', 'tramadol', 'buprenorphine', 'benzodiazepine', 'diazepam', 'midazolam', 'lorazepam', 'temazepam',
-    'sedat', 'hypnotic', 'over',
-  ],
-  // "N-STEMI" starts a word with "stemi" after its hyphen.
-  'acute-coronary-syndrome': ['non', 'nstemi', 'stemi', 'acute', 'myocardial', 'unstable', 'heart'],
-  stroke: ['stroke', 'cva', 'cerebr', 'intracerebral'],
-  hyperventilation: ['hyperventilat', 'panic', 'dysfunctional', 'anxiety'],
-};
-
-const kindsLedIn = leadWordFinder(new Map(Object.entries(LEAD_WORDS) as [ConditionKind, readonly string[]][]));
 
 /**
  * Kinds that name an acute illness: "previous stroke", "old MI" or "history of asthma attacks" is a
@@ -239,9 +190,8 @@ export function readConditions(resources: readonly FhirResource[]): ConditionsRe
         });
       }
     }
-    const led = kindsLedIn(words);
     for (const [kind, pattern] of TEXT_PATTERNS) {
-      const matched = found.has(kind) || !led.has(kind) ? undefined : textMatches(words, pattern, ACUTE_KINDS.has(kind));
+      const matched = found.has(kind) ? undefined : textMatches(words, pattern, ACUTE_KINDS.has(kind));
       if (matched !== undefined) {
         found.set(kind, `text: '${matched}'`);
       }
