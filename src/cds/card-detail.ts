@@ -153,23 +153,28 @@ export type CompactDetailRenderer = (input: CardDetailInput) => string;
  * lines are built and escaped once, whichever cards list them.
  */
 export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardClock): CompactDetailRenderer {
-  const linesByAssessment = new Map<Assessment, Map<BasedOnKind, readonly string[]>>();
-  const inputLines = (kind: BasedOnKind, assessment: Assessment): readonly string[] => {
-    let byKind = linesByAssessment.get(assessment);
+  // Each input's lines as the Markdown list items they are shown as ('' when it has none), built and
+  // escaped once per assessment, whichever cards list the input.
+  const itemsByAssessment = new Map<Assessment, Map<BasedOnKind, string>>();
+  const inputItems = (kind: BasedOnKind, assessment: Assessment): string => {
+    let byKind = itemsByAssessment.get(assessment);
     if (byKind === undefined) {
       byKind = new Map();
-      linesByAssessment.set(assessment, byKind);
+      itemsByAssessment.set(assessment, byKind);
     }
-    let lines = byKind.get(kind);
-    if (lines === undefined) {
-      lines = basedOnLines(kind, facts, assessment, clock).map(escapeMarkdown);
-      byKind.set(kind, lines);
+    let items = byKind.get(kind);
+    if (items === undefined) {
+      items = basedOnLines(kind, facts, assessment, clock)
+        .map((line) => `- ${escapeMarkdown(line)}`)
+        .join('\n');
+      byKind.set(kind, items);
     }
-    return lines;
+    return items;
   };
   // Cards of one template list the same inputs (its `basedOn`, one array for every card), and cards of
   // one assessment show the same lines for them: the list is put together once per assessment and array,
-  // as the Markdown list it starts the "Based on" block with ('' when it lists nothing).
+  // as the Markdown list it starts the "Based on" block with ('' when it lists nothing). An input the
+  // template names twice is shown once.
   const listsByAssessment = new Map<Assessment, Map<readonly BasedOnKind[], string>>();
   const inputList = (basedOn: readonly BasedOnKind[], assessment: Assessment): string => {
     let byBasedOn = listsByAssessment.get(assessment);
@@ -179,10 +184,13 @@ export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardCl
     }
     let list = byBasedOn.get(basedOn);
     if (list === undefined) {
-      list = [...new Set(basedOn)]
-        .flatMap((kind) => inputLines(kind, assessment))
-        .map((line) => `- ${line}`)
-        .join('\n');
+      list = '';
+      for (const [index, kind] of basedOn.entries()) {
+        const items = basedOn.indexOf(kind) === index ? inputItems(kind, assessment) : '';
+        if (items !== '') {
+          list += `${list === '' ? '' : '\n'}${items}`;
+        }
+      }
       byBasedOn.set(basedOn, list);
     }
     return list;

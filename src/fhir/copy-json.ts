@@ -61,8 +61,13 @@ function copyObject(value: object | null, depth: number): unknown {
     throw NEEDS_ROUND_TRIP;
   }
   const copy: Record<string, unknown> = {};
-  for (const [key, inner] of Object.entries(value)) {
-    const copied = copyValue(inner, depth + 1);
+  // The own keys in the order Object.entries lists them (the prototype was checked above), without an
+  // array of entries made for every object of the order.
+  for (const key in value) {
+    if (!Object.hasOwn(value, key)) {
+      continue;
+    }
+    const copied = copyValue((value as Record<string, unknown>)[key], depth + 1);
     if (copied === undefined) {
       continue;
     }

@@ -19,6 +19,22 @@ describe('prepareCompactDetail', () => {
     }
   });
 
+  it('lists each input a template names once, in the order first named, and nothing for an input with no reading', () => {
+    // No recorded FiO2 or flow: that input has no line to show.
+    const withoutRecordedOxygen = { ...facts, o2FlowLPerMin: [] };
+    const render = prepareCompactDetail(withoutRecordedOxygen, policy, cardClock(NOW, policy.site.timeZone));
+    const detail = render({ ruleText: 'x', basedOn: ['spo2', 'recorded-oxygen', 'blood-gas', 'spo2'], finding, assessment });
+    const list = detail.slice(detail.indexOf('**Based on:**\n') + '**Based on:**\n'.length).split('\n\n')[0]?.split('\n');
+    // Invented demo readings; NOW is 08:10 UTC on 14 March 2025, GMT in Europe/London (the UK keeps GMT
+    // until the last Sunday of March: common practice).
+    expect(list?.slice(0, 2)).toStrictEqual([
+      '- SpO2 93 % at 07:50 (20 min ago)',
+      '- Blood gas (arterial) at 06:40 (1 h 30 min ago): pH 7.37, PCO2 6.7 kPa, PO2 8.1 kPa, HCO3 29 mmol/L',
+    ]);
+    expect(list?.filter((line) => line.startsWith('- SpO2'))).toHaveLength(1);
+    expect(detail).not.toMatch(/Recorded (?:FiO2|oxygen flow)/);
+  });
+
   it('keeps the cautions on every card: advisory only, pulse oximetry limits (docs/safety.md)', () => {
     const render = prepareCompactDetail(facts, policy, cardClock(NOW, policy.site.timeZone));
     const detail = render({ ruleText: 'x', basedOn: ['spo2'], finding, assessment });

@@ -65,6 +65,17 @@ describe('copyJson', () => {
       expectSameCopy(value);
     });
 
+    it('copies own keys only, as the round trip does, when Object.prototype has an enumerable key', () => {
+      Object.defineProperty(Object.prototype, 'injected', { value: 'inherited', enumerable: true, configurable: true, writable: true });
+      try {
+        const source = { resourceType: 'MedicationRequest', dosageInstruction: [{ text: '2 L/min' }] };
+        expectSameCopy(source);
+        expect(Object.hasOwn(copyJson(source) as object, 'injected')).toBe(false);
+      } finally {
+        delete (Object.prototype as Record<string, unknown>)['injected'];
+      }
+    });
+
     it('keeps a __proto__ key as an own key, as JSON.parse does', () => {
       const source = JSON.parse('{"__proto__": {"polluted": true}, "id": "x"}') as Record<string, unknown>;
       const copy = copyJson(source) as Record<string, unknown>;
