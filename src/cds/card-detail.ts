@@ -184,13 +184,10 @@ export function prepareCompactDetail(facts: Facts, policy: Policy, clock: CardCl
     }
     let list = byBasedOn.get(basedOn);
     if (list === undefined) {
-      list = '';
-      for (const [index, kind] of basedOn.entries()) {
-        const items = basedOn.indexOf(kind) === index ? inputItems(kind, assessment) : '';
-        if (items !== '') {
-          list += `${list === '' ? '' : '\n'}${items}`;
-        }
-      }
+      list = [...new Set(basedOn)]
+        .map((kind) => inputItems(kind, assessment))
+        .filter((items) => items !== '')
+        .join('\n');
       byBasedOn.set(basedOn, list);
     }
     return list;
