@@ -137,6 +137,21 @@ describe('buildExportIndex', () => {
     expect(order).toStrictEqual(['earliest', 'earlier-ended', 'earlier-in-error', 'earlier-running', 'this-order', 'later']);
   });
 
+  it('streams each order once whatever the page size, also when a page ends between orders authored at the same time', () => {
+    // Three orders share one authoredOn (ties broken by type, then id): every page size puts a page
+    // end somewhere among them or around them.
+    for (let pageSize = 1; pageSize <= 7; pageSize += 1) {
+      expect([...index.orders(pageSize)].map((o) => o.id)).toStrictEqual([
+        'earliest',
+        'earlier-ended',
+        'earlier-in-error',
+        'earlier-running',
+        'this-order',
+        'later',
+      ]);
+    }
+  });
+
   it('counts what it could not use: a malformed line, an undated Observation, an order without authoredOn, a non-oxygen order', () => {
     expect(index.problems.count).toBe(1);
     expect(index.problems.first[0]).toStrictEqual({ file: 'Observation.ndjson', line: 8, reason: 'not-json' });
