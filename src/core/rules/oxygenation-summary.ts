@@ -185,19 +185,12 @@ function keyFigures(assessment: Assessment, figures: FigureTexts): string {
 
 /**
  * The mechanism hint as the card's sentence holds it: the shorter caveat, and no full stop of its own
- * (the card adds one). The stops are trimmed by a scan from the end, which costs less than a regular
- * expression run on every check.
+ * (the card adds one).
  */
 function mechanismWords(explanation: string): string {
-  const text = explanation.replace(
-    ' (the age norm applies on air only, so this comparison is less reliable)',
-    ' (a looser comparison on oxygen)',
-  );
-  let end = text.length;
-  while (end > 0 && text[end - 1] === '.') {
-    end -= 1;
-  }
-  return text.slice(0, end);
+  return explanation
+    .replace(' (the age norm applies on air only, so this comparison is less reliable)', ' (a looser comparison on oxygen)')
+    .replace(/\.+$/, '');
 }
 
 function show<T>(outcome: Outcome<Calculated<T>>, text: (value: T) => string): string {
