@@ -2,7 +2,7 @@ import type { DeviceKind } from '../core/types.js';
 import { convertUnit } from '../units/convert.js';
 import { tidyNumber } from './json.js';
 import { isOutsideTheOrder } from './read-device-text.js';
-import { findTargetStatements, type TargetStatements } from './read-target-text.js';
+import { DIGIT, findTargetStatements, type TargetStatements } from './read-target-text.js';
 import { allMatches } from '../text/all-matches.js';
 
 /**
@@ -52,9 +52,6 @@ const SET_FIO2_DEVICES: ReadonlySet<DeviceKind> = new Set([
   'cpap-niv',
   'tracheostomy-mask',
 ]);
-
-/** Every flow and FiO2 found below holds a number: a text without a digit is not searched for them. */
-const DIGIT = /\d/;
 
 export function findFlowMentions(text: string): readonly FlowMention[] {
   if (!DIGIT.test(text)) return [];

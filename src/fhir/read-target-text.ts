@@ -113,9 +113,10 @@ const NO_TARGET =
 
 /**
  * Every range, bound and single value found below holds a number, so a text without a digit (most
- * orders carry their name, "Oxygen therapy", as one of their texts) is not searched for them.
+ * orders carry their name, "Oxygen therapy", as one of their texts) is not searched for them; the
+ * flow and FiO2 readers (read-setting-text.ts) use it the same way.
  */
-const DIGIT = /\d/;
+export const DIGIT = /\d/;
 
 const CLAUSE_BREAK = /[;\n]|\.(?:\s|$)/g;
 const SENTENCE_END = /[;\n]|\.(?:\s|$)/;
