@@ -19,10 +19,16 @@ export type CheckAndRememberNow = (
  * (never by forgetting a live id, which would let its token be replayed) and no other client notices.
  */
 export function prepareReplayCheck(db: Database.Database): CheckAndRememberNow {
-  const sweep = db.prepare<[number, number]>(
-    `DELETE FROM replay_id WHERE rowid IN
-      (SELECT rowid FROM replay_id WHERE expires_at_ms <= ? ORDER BY expires_at_ms LIMIT ?)`,
-  );
+  // The sweep looks up the oldest expired ids, then deletes each by rowid: a DELETE taking its rowids
+  // from a subquery opens a temporary table on every call, ids found or none. Measured on the 2-core
+  // VM, one call a transaction: 17–21 µs a call against 6–12 µs with nothing expired, 28–40 against
+  // 17–21 µs with one id expired.
+  const expired = db
+    .prepare<[number, number], number>(
+      'SELECT rowid FROM replay_id WHERE expires_at_ms <= ? ORDER BY expires_at_ms LIMIT ?',
+    )
+    .pluck();
+  const forget = db.prepare<[number]>('DELETE FROM replay_id WHERE rowid = ?');
   const held = db.prepare<[string, string], { expires_at_ms: number }>(
     'SELECT expires_at_ms FROM replay_id WHERE client_key = ? AND jti = ?',
   );
@@ -43,7 +49,9 @@ export function prepareReplayCheck(db: Database.Database): CheckAndRememberNow {
 
   const check = db.transaction(
     (clientKey: string, jti: string, expiresAt: number, nowMs: number, maxPerClient: number): ReplayCheck => {
-      sweep.run(nowMs, SWEEP_PER_CALL);
+      for (const rowid of expired.all(nowMs, SWEEP_PER_CALL)) {
+        forget.run(rowid);
+      }
       const heldUntil = held.get(clientKey, jti)?.expires_at_ms;
       if (heldUntil !== undefined && heldUntil > nowMs) {
         return { kind: 'replayed' };

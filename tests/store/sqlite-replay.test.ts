@@ -102,6 +102,31 @@ describe.each(STORE_KINDS)('checkAndRememberJti on the $name store', (kind) => {
     });
   });
 
+  it('sweeps the oldest expired ids, eight on a call, and never a live one', async () => {
+    const store = await trackedStore();
+    // ten ids expiring 100 ms apart, and one that lives on
+    for (let i = 0; i < 10; i += 1) {
+      await store.checkAndRememberJti(THEATRES.iss, `short-${String(i)}`, T0 + 1000 + i * 100, at(0), 20);
+    }
+    await store.checkAndRememberJti(THEATRES.iss, 'live', T0 + 600_000, at(0), 20);
+    // all ten have expired by this call of the same client: it sweeps eight of them, the oldest
+    await store.checkAndRememberJti(THEATRES.iss, 'sweeper', T0 + 600_000, at(5000), 20);
+    // left: the ids expiring at +1800 and +1900 ms; a purge at +1800 ms finds only the first
+    expect(await store.purge(new Date('2026-01-01T00:00:00Z'), at(1800))).toStrictEqual({
+      advisories: 0,
+      feedback: 0,
+      replayIds: 1,
+    });
+    expect(await store.purge(new Date('2026-01-01T00:00:00Z'), at(5000))).toStrictEqual({
+      advisories: 0,
+      feedback: 0,
+      replayIds: 1,
+    });
+    expect(await store.checkAndRememberJti(THEATRES.iss, 'live', T0 + 600_000, at(5000), 20)).toStrictEqual({
+      kind: 'replayed',
+    });
+  });
+
   it('purges expired ids and keeps live ones', async () => {
     const store = await trackedStore();
     await store.checkAndRememberJti(EHR.iss, 'old', T0 + 1000, at(0), 10);
