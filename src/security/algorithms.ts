@@ -21,7 +21,7 @@ export const DEFAULT_ALGORITHMS: readonly SigningAlgorithm[] = Object.freeze(['E
 
 export type EcCurve = 'P-256' | 'P-384' | 'P-521';
 
-/** The key each algorithm needs; the signature itself is jsonwebtoken's to check. */
+/** The key each algorithm needs; the signature scheme itself is in jws-signature.ts. */
 interface AlgorithmSpec {
   readonly kty: 'EC' | 'RSA';
   /** RFC 7518 §3.4: the curve each ES algorithm uses. */

@@ -73,10 +73,11 @@ export function preparePublicJwk(input: unknown): PrepareOutcome {
   if (typeof kid !== 'string' || kid === '') {
     return refuse("must have a non-empty 'kid' (tokens name their key by kid)");
   }
-  // jsonwebtoken (jws) reads a token header byte by byte as Latin-1, so a kid beyond ASCII could
-  // never match the kid a token names: refused here, loudly, rather than never matched.
+  // A kid is matched to the token's as an exact string. Beyond printable ASCII the same name has
+  // several spellings (Unicode normalisation forms; libraries that read headers as Latin-1), and a
+  // key only one of them reaches would fail at random: refused here, loudly, rather than never matched.
   if (!/^[\x20-\x7e]+$/.test(kid)) {
-    return refuse("must have a 'kid' of printable ASCII characters (token headers are read as Latin-1)");
+    return refuse("must have a 'kid' of printable ASCII characters");
   }
   if (use !== undefined && use !== 'sig') {
     return refuse("has 'use' other than 'sig'");

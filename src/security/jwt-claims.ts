@@ -1,11 +1,10 @@
 import { audienceMatches } from './public-url.js';
 
 /**
- * The claim checks CDS Hooks adds to what jsonwebtoken does, on a token whose signature, `exp` and
- * `nbf` jsonwebtoken has already checked (CDS Hooks 2.0 §Trusting CDS Clients and its best
- * practices): `exp`, `iat` and `jti` required (jsonwebtoken leaves them optional), `iat` not in the
- * future, a lifetime cap, the audience of the endpoint called, the tenant. Pure: the time comes in as
- * `nowS`.
+ * The claim checks on a token whose signature has verified: `nbf` and `exp` with the clock skew
+ * (RFC 7519 §4.1.4, §4.1.5), then what CDS Hooks 2.0 §Trusting CDS Clients and its best practices
+ * add: `exp`, `iat` and `jti` required, `iat` not in the future, a lifetime cap, the audience of the
+ * endpoint called, the tenant. Pure: the time comes in as `nowS`.
  */
 export interface ClaimLimits {
   /** Leeway for clocks that disagree, in seconds (RFC 7519 §4.1.4 "small leeway"); 60 by default. */
@@ -15,6 +14,8 @@ export interface ClaimLimits {
 }
 
 export type ClaimFailure =
+  | 'nbf-in-future'
+  | 'expired'
   | 'exp-missing'
   | 'iat-missing'
   | 'iat-in-future'
@@ -53,10 +54,34 @@ function numericDate(value: unknown): number | undefined {
   return typeof value === 'number' && Number.isFinite(value) ? value : undefined;
 }
 
+/**
+ * RFC 7519 §4.1.5 and §4.1.4 with the skew as the "small leeway" both allow, in the order and at the
+ * boundaries the service has always used (those of jsonwebtoken 9, which checked them before): a
+ * present `nbf` or `exp` must be a number; refused when `nbf > now + skew` or `now >= exp + skew`.
+ * A token without `exp` passes here and is refused below as `exp-missing`.
+ */
+function checkValidityWindow(payload: Readonly<Record<string, unknown>>, nowS: number, skewS: number): ClaimFailure | undefined {
+  const { nbf, exp } = payload;
+  if (nbf !== undefined && (typeof nbf !== 'number' || nbf > nowS + skewS)) {
+    return 'nbf-in-future';
+  }
+  if (exp !== undefined && typeof exp !== 'number') {
+    return 'exp-missing';
+  }
+  if (exp !== undefined && nowS >= exp + skewS) {
+    return 'expired';
+  }
+  return undefined;
+}
+
 export function checkCdsClaims(payload: Readonly<Record<string, unknown>>, expect: ClaimExpectations): ClaimCheck {
   const refuse = (reason: ClaimFailure): ClaimCheck => ({ kind: 'refused', reason });
   const { nowS, limits } = expect;
-  // jsonwebtoken refuses an exp in the past (RFC 7519 §4.1.4) but takes a token without one.
+  const outsideWindow = checkValidityWindow(payload, nowS, limits.clockSkewS);
+  if (outsideWindow !== undefined) {
+    return refuse(outsideWindow);
+  }
+  // RFC 7519 makes exp optional; CDS Hooks 2.0 requires it.
   const expS = numericDate(payload['exp']);
   if (expS === undefined) {
     return refuse('exp-missing');

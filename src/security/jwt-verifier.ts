@@ -1,21 +1,19 @@
-import jwt from 'jsonwebtoken';
 import { isSigningAlgorithm, keySuitsAlgorithm, type SigningAlgorithm } from './algorithms.js';
 import type { PreparedKey } from './jwk-keys.js';
 import type { JwksStore } from './jwks-store.js';
+import { verifyJwsSignature } from './jws-signature.js';
 import { checkCdsClaims, type CheckedClaims, type ClaimFailure, type ClaimLimits } from './jwt-claims.js';
 import type { PendingJti, ReplayCache } from './replay-cache.js';
 import type { TrustConfig, TrustedClient } from './trust-config.js';
 
 /**
  * Verifies a CDS client's bearer JWT (CDS Hooks 2.0 §Trusting CDS Clients; RFC 7515 §5.2, RFC 7519
- * §7.2). jsonwebtoken decodes the token and checks the signature, `exp` and `nbf` with the clock skew,
- * the issuer and the algorithm against the client's list; this file adds only what CDS Hooks asks on
- * top: the trust file's clients, the key by `kid` from the client's own sources (the `jku`
- * allowlist), the header rules, the claims jsonwebtoken leaves optional (jwt-claims.ts), the audience
- * of the endpoint called, the tenant, and the replay cache. Order matters: everything that needs no
- * key is checked first; a key is looked up only for a trusted issuer and only from that issuer's own
- * sources; the replay cache is written last, so a forged or otherwise refused token can never fill it
- * or burn a genuine token's `jti`.
+ * §7.2): the trust file's clients, the header rules, the key by `kid` from the client's own sources
+ * (the `jku` allowlist), the signature (jws-signature.ts, on the thread pool), `nbf`, `exp` and the
+ * claims CDS Hooks requires (jwt-claims.ts), the audience of the endpoint called, the tenant, and the
+ * replay cache. Order matters: everything that needs no key is checked first; a key is looked up only
+ * for a trusted issuer and only from that issuer's own sources; the replay cache is written last, so a
+ * forged or otherwise refused token can never fill it or burn a genuine token's `jti`.
  */
 export type VerifyFailure =
   | 'malformed'
@@ -28,8 +26,6 @@ export type VerifyFailure =
   | 'jwks-unavailable'
   | 'key-unsuitable'
   | 'signature-invalid'
-  | 'expired'
-  | 'nbf-in-future'
   | ClaimFailure
   | 'jti-replayed'
   /** The client holds its whole share of the replay cache: answered 429, not 401. */
@@ -97,75 +93,76 @@ function isJsonObject(value: unknown): value is JsonObject {
   return value !== null && typeof value === 'object' && !Array.isArray(value);
 }
 
+interface DecodedToken {
+  readonly header: JsonObject;
+  readonly payload: JsonObject;
+  /** RFC 7515 §5.2 step 8: ASCII(BASE64URL(header) || '.' || BASE64URL(payload)), as received. */
+  readonly signingInput: Buffer;
+  readonly signature: Buffer;
+}
+
 /**
- * The header and payload as jsonwebtoken reads them (three base64url segments, RFC 7515 §7.1), so the
- * key is chosen from the same reading of the header that the signature check uses. Both must be JSON
- * objects (RFC 7515 §5.2 steps 1-3; RFC 7519 §7.2 step 10); jsonwebtoken would pass an array or a
- * bare string on. Duplicate member names keep the last, as JSON.parse does (RFC 7515 §5.2 allows it).
+ * The bytes of one base64url segment (RFC 7515 §2: no padding, no other characters), or undefined
+ * when the text is not exactly the encoding of those bytes. Node's decoder passes over characters
+ * outside the alphabet and ignores the spare bits of the last character; the round trip leaves each
+ * token one spelling, so the signature checked is exactly the one received.
  */
-function decodeToken(token: string): { readonly header: JsonObject; readonly payload: JsonObject } | undefined {
+function base64urlBytes(segment: string): Buffer | undefined {
+  const bytes = Buffer.from(segment, 'base64url');
+  return bytes.toString('base64url') === segment ? bytes : undefined;
+}
+
+// RFC 7515 §5.2 steps 4 and 6: the header and payload are UTF-8. Invalid UTF-8 is refused rather than
+// replaced, and a byte-order mark is kept, so JSON.parse refuses it (RFC 8259 §8.1).
+const UTF8 = new TextDecoder('utf-8', { fatal: true, ignoreBOM: true });
+
+function jsonObjectOf(bytes: Buffer): JsonObject | undefined {
+  try {
+    const value: unknown = JSON.parse(UTF8.decode(bytes));
+    return isJsonObject(value) ? value : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
+/**
+ * The JWS Compact Serialization (RFC 7515 §7.1): three base64url segments; header and payload
+ * must be JSON objects (RFC 7515 §5.2 steps 1-5; RFC 7519 §7.2 step 10). Duplicate
+ * member names keep the last, as JSON.parse does (RFC 7515 §5.2 allows it); the key choice and the
+ * signature check use this one reading.
+ */
+function decodeToken(token: string): DecodedToken | undefined {
   if (token.length > MAX_TOKEN_LENGTH) {
     return undefined;
   }
-  let decoded: jwt.Jwt | null;
-  try {
-    decoded = jwt.decode(token, { complete: true });
-  } catch {
-    // jws throws on a payload that is not JSON when the header says typ JWT
+  const segments = token.split('.');
+  if (segments.length !== 3) {
     return undefined;
   }
-  if (decoded === null || !isJsonObject(decoded.header) || !isJsonObject(decoded.payload)) {
+  const [encodedHeader = '', encodedPayload = '', encodedSignature = ''] = segments;
+  const headerBytes = base64urlBytes(encodedHeader);
+  const payloadBytes = base64urlBytes(encodedPayload);
+  const signature = base64urlBytes(encodedSignature);
+  if (headerBytes === undefined || payloadBytes === undefined || signature === undefined) {
     return undefined;
   }
-  return { header: decoded.header, payload: decoded.payload };
+  const header = jsonObjectOf(headerBytes);
+  const payload = jsonObjectOf(payloadBytes);
+  if (header === undefined || payload === undefined) {
+    return undefined;
+  }
+  const signingInput = Buffer.from(`${encodedHeader}.${encodedPayload}`, 'ascii');
+  return { header, payload, signingInput, signature };
 }
 
-/**
- * jsonwebtoken's refusals, for the log's stable reason codes. Its time errors have their own classes;
- * the rest are plain JsonWebTokenErrors told apart by message only (jsonwebtoken 9, pinned in
- * package.json; tests/security/jwt-verifier.test.ts meets each message listed here). Anything else
- * thrown while checking, such as an ES signature of the wrong length (RFC 7518 §3.4), is a bad
- * signature. Its issuer and algorithm checks repeat ones made above on the same reading of the token,
- * so they cannot refuse what passed here; any other refusal is logged as `malformed`.
- */
-const SIGNATURE_MESSAGES: ReadonlySet<string> = new Set(['invalid signature', 'jwt signature is required']);
-const CLAIM_MESSAGES: ReadonlyMap<string, VerifyFailure> = new Map([
-  ['invalid exp value', 'exp-missing'],
-  ['invalid nbf value', 'nbf-in-future'],
-]);
-
-type JwtOptions = jwt.VerifyOptions & { readonly complete: false };
-
-type SignatureCheck =
-  | { readonly kind: 'ok'; readonly payload: JsonObject }
-  | { readonly kind: 'bad-signature' }
-  | { readonly kind: 'refused'; readonly reason: VerifyFailure };
-
-function failureOf(error: unknown): SignatureCheck {
-  if (error instanceof jwt.TokenExpiredError) {
-    return { kind: 'refused', reason: 'expired' };
+/** RFC 7517 §4.5: keys may share a `kid`; the token is good when one of them verifies it. */
+async function signedByOneOf(token: DecodedToken, alg: SigningAlgorithm, keys: readonly PreparedKey[]): Promise<boolean> {
+  for (const key of keys) {
+    if (await verifyJwsSignature(alg, token.signingInput, token.signature, key.keyObject)) {
+      return true;
+    }
   }
-  if (error instanceof jwt.NotBeforeError) {
-    return { kind: 'refused', reason: 'nbf-in-future' };
-  }
-  if (!(error instanceof jwt.JsonWebTokenError) || SIGNATURE_MESSAGES.has(error.message)) {
-    return { kind: 'bad-signature' };
-  }
-  return { kind: 'refused', reason: CLAIM_MESSAGES.get(error.message) ?? 'malformed' };
-}
-
-/**
- * One key's check by jsonwebtoken: signature with the client's algorithms only, `iss`, `exp` and
- * `nbf` with the skew, at the injected clock. `aud` is not given to it: see checkCdsClaims.
- */
-function checkWithKey(token: string, key: PreparedKey, options: JwtOptions): SignatureCheck {
-  let payload: string | jwt.JwtPayload;
-  try {
-    payload = jwt.verify(token, key.keyObject, options);
-  } catch (error) {
-    return failureOf(error);
-  }
-  return isJsonObject(payload) ? { kind: 'ok', payload } : { kind: 'refused', reason: 'malformed' };
+  return false;
 }
 
 /** RFC 7515 §4.1.9 and RFC 7519 §5.1: `JWT`, compared case-insensitively, `application/` optional. */
@@ -241,10 +238,12 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
       return refuse('kid-missing');
     }
     // RFC 7515 §4.1.11: extensions listed in crit that are not understood MUST make the JWS invalid.
-    // jsonwebtoken ignores crit (and so RFC 7797 b64), so this check is ours.
+    // This service understands none (RFC 7797 b64 among them), so any crit is refused.
     if (header['crit'] !== undefined) {
       return refuse('crit-unsupported');
     }
+    // Clients are found by their exact `iss` (RFC 7519 §4.1.1), so the issuer is checked here, once,
+    // and only that client's keys can verify the token.
     const iss = payload['iss'];
     const client = typeof iss === 'string' ? deps.trust.clients.get(iss) : undefined;
     if (client === undefined) {
@@ -258,32 +257,15 @@ export function createJwtVerifier(deps: VerifierDeps): VerifyToken {
     if (choice.kind === 'refused') {
       return refuse(choice.reason);
     }
-    // jsonwebtoken checks key type and curve as well, but neither RSA size nor the JWK's own alg.
     const suitable = choice.keys.filter((key) => keySuitsAlgorithm(key, alg));
     if (suitable.length === 0) {
       return refuse('key-unsuitable');
     }
-    const nowMs = deps.clock().getTime();
-    const options: JwtOptions = {
-      // jsonwebtoken only reads the list; the client's frozen list is passed as it is.
-      algorithms: client.algorithms as SigningAlgorithm[],
-      complete: false,
-      issuer: client.iss,
-      clockTimestamp: nowMs / 1000,
-      clockTolerance: limits.clockSkewS,
-    };
-    let verified: SignatureCheck = { kind: 'bad-signature' };
-    for (const key of suitable) {
-      verified = checkWithKey(token, key, options);
-      if (verified.kind !== 'bad-signature') {
-        break;
-      }
+    if (!(await signedByOneOf(decoded, alg, suitable))) {
+      return refuse('signature-invalid');
     }
-    if (verified.kind !== 'ok') {
-      return refuse(verified.kind === 'refused' ? verified.reason : 'signature-invalid');
-    }
-    const checked = checkCdsClaims(verified.payload, {
-      nowS: nowMs / 1000,
+    const checked = checkCdsClaims(payload, {
+      nowS: deps.clock().getTime() / 1000,
       audience,
       tenants: client.tenants,
       limits,

@@ -65,9 +65,37 @@ describe('checkCdsClaims', () => {
     expect(checkCdsClaims({ ...good, tenant: 'south-campus' }, expect0).kind).toBe('ok');
   });
 
+  describe('the validity window, nbf and exp with the leeway', () => {
+    it.each<[string, Record<string, unknown>, string]>([
+      // RFC 7519 §4.1.4: the current time MUST be before exp, with a small leeway (60 s here);
+      // refused from now = exp + leeway on, the boundary the service kept from jsonwebtoken 9
+      ['exp a millisecond inside the leeway', { iat: NOW_S - 300, exp: NOW_S - 60 + 0.001 }, 'ok'],
+      ['exp exactly at the end of the leeway', { iat: NOW_S - 300, exp: NOW_S - 60 }, 'expired'],
+      ['exp long past', { iat: NOW_S - 900, exp: NOW_S - 600 }, 'expired'],
+      // RFC 7519 §4.1.5: not before nbf, with the same leeway; nbf exactly now + leeway is taken
+      ['nbf exactly at the end of the leeway', { nbf: NOW_S + 60 }, 'ok'],
+      ['nbf a millisecond past the leeway', { nbf: NOW_S + 60 + 0.001 }, 'nbf-in-future'],
+      ['nbf in the past', { nbf: NOW_S - 3600 }, 'ok'],
+      // RFC 7519 §2: NumericDate is a JSON number; anything else present is refused
+      ['nbf as a string', { nbf: String(NOW_S) }, 'nbf-in-future'],
+      ['nbf null', { nbf: null }, 'nbf-in-future'],
+      ['nbf as an array', { nbf: [NOW_S] }, 'nbf-in-future'],
+      ['exp as a string', { exp: String(NOW_S + 60) }, 'exp-missing'],
+      ['exp null', { exp: null }, 'exp-missing'],
+      ['exp true', { exp: true }, 'exp-missing'],
+      // nbf is looked at before exp, as it always was: the log keeps the same reason
+      ['a bad nbf and a past exp', { nbf: 'soon', iat: NOW_S - 900, exp: NOW_S - 600 }, 'nbf-in-future'],
+      ['a future nbf and an exp that is not a number', { nbf: NOW_S + 600, exp: 'later' }, 'nbf-in-future'],
+      // the window comes before the claims CDS Hooks adds
+      ['an expired token with no jti', { iat: NOW_S - 900, exp: NOW_S - 600, jti: undefined }, 'expired'],
+    ])('%s', (_name, change, verdict) => {
+      const outcome = checkCdsClaims({ ...good, ...change }, expect0);
+      expect(outcome.kind === 'ok' ? 'ok' : outcome.reason).toBe(verdict);
+    });
+  });
+
   describe('edge cases', () => {
     it('allows iat the leeway into the future and not a second more', () => {
-      // exp and nbf are jsonwebtoken's, with the same leeway: see jwt-verifier.test.ts
       expect(checkCdsClaims({ ...good, iat: NOW_S + 60, exp: NOW_S + 120 }, expect0).kind).toBe('ok');
       expect(checkCdsClaims({ ...good, iat: NOW_S + 61, exp: NOW_S + 120 }, expect0)).toStrictEqual({ kind: 'refused', reason: 'iat-in-future' });
     });

@@ -182,7 +182,7 @@ describe('createJwtVerifier', () => {
     });
   });
 
-  describe('the token format, as jsonwebtoken reads it', () => {
+  describe('the token format (RFC 7515 §7.1, compact serialization)', () => {
     const head = b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid });
     const body = b64(claims(SIGN_AUD));
     it.each([
@@ -201,6 +201,11 @@ describe('createJwtVerifier', () => {
       ['a payload that is a JSON string', `${head}.${b64('iss')}.AA`],
       ['a payload that is null', `${head}.${b64(null)}.AA`],
       ['a payload that is not JSON', `${head}.${Buffer.from('not json').toString('base64url')}.AA`],
+      ['an empty header', `.${body}.AA`],
+      // RFC 7515 §5.2 step 4: the header is UTF-8; invalid bytes are not replaced and read on
+      ['a header that is not UTF-8', `${Buffer.concat([Buffer.from('{"alg":"ES384","typ":"JWT","kid":"'), Buffer.from([0xff]), Buffer.from('"}')]).toString('base64url')}.${body}.AA`],
+      // RFC 8259 §8.1: JSON text is not sent with a byte-order mark
+      ['a header with a byte-order mark', `${Buffer.from(`\uFEFF${JSON.stringify({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid })}`).toString('base64url')}.${body}.AA`],
     ])('refuses a token with %s as malformed', async (_name, token) => {
       expect(await reasonFor(token)).toBe('malformed');
     });
@@ -211,12 +216,35 @@ describe('createJwtVerifier', () => {
       expect(await reasonFor(long)).toBe('malformed');
     });
 
+    it('refuses a segment whose last character carries spare bits, so the signature checked is the one received', async () => {
+      // RFC 4648 §3.5: the pad bits are zero in the canonical encoding. A 64-byte ES256 signature is
+      // 86 characters with 4 spare bits; setting one gives other text for the same bytes.
+      const es256 = makeKey('ES256', 'lbgh-es256-spare');
+      const optIn = trustOf([ehrClient({ jwks: { keys: [es256.publicJwk] }, algorithms: ['ES256'] })]);
+      const token = signToken(es256, claims(SIGN_AUD));
+      const [input, sig = ''] = [token.slice(0, token.lastIndexOf('.')), token.slice(token.lastIndexOf('.') + 1)];
+      expect(sig.length).toBe(86);
+      const spare = withSpareBitSet(sig);
+      expect(Buffer.from(spare, 'base64url')).toStrictEqual(Buffer.from(sig, 'base64url'));
+      expect(await reasonFor(`${input}.${sig}`, SIGN_AUD, verifier(optIn))).toBe('verified');
+      expect(await reasonFor(`${input}.${spare}`, SIGN_AUD, verifier(optIn))).toBe('malformed');
+    });
+
+    it('refuses a header or payload segment that is not the canonical encoding of its bytes', async () => {
+      // a length that is not a multiple of 3 bytes leaves spare bits in the last character
+      const canonical = Buffer.from(JSON.stringify(claims(SIGN_AUD, { pad: 'x' }))).toString('base64url');
+      expect(canonical.length % 4).not.toBe(0);
+      const altered = withSpareBitSet(canonical);
+      expect(Buffer.from(altered, 'base64url')).toStrictEqual(Buffer.from(canonical, 'base64url'));
+      expect(await reasonFor(`${head}.${altered}.AA`)).toBe('malformed');
+    });
+
     it('names an unsigned token (empty signature, RFC 7519 §6.1) by its algorithm', async () => {
       expect(await reasonFor(`${b64({ alg: 'none', typ: 'JWT', kid: EHR_ES384.kid })}.${body}.`)).toBe('alg-not-allowed');
     });
   });
 
-  describe('signatures, checked by jsonwebtoken', () => {
+  describe('signatures (RFC 7518 §3.3-3.5), checked on the thread pool', () => {
     // RFC 7518 §3.1: each of these algorithms, for a client that names it
     it.each(['ES256', 'ES512', 'RS256', 'RS512', 'PS384', 'PS512'] as const)('accepts %s for a client that opts in', async (alg: TestAlg) => {
       const key = makeKey(alg, `lbgh-${alg.toLowerCase()}`);
@@ -234,6 +262,19 @@ describe('createJwtVerifier', () => {
     it('refuses an empty signature on a token whose algorithm needs one', async () => {
       const input = `${b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid })}.${b64(claims(SIGN_AUD))}`;
       expect(await reasonFor(`${input}.`)).toBe('signature-invalid');
+      const rsInput = `${b64({ alg: 'RS384', typ: 'JWT', kid: EHR_RS384.kid })}.${b64(claims(SIGN_AUD))}`;
+      expect(await reasonFor(`${rsInput}.`)).toBe('signature-invalid');
+    });
+
+    it('refuses an ES384 signature of another curve’s size, and an RSA signature longer than the key', async () => {
+      // RFC 7518 §3.4: R || S is exactly 96 octets for P-384; RFC 8017 §8.2.2: k octets for RSA
+      const input = `${b64({ alg: 'ES384', typ: 'JWT', kid: EHR_ES384.kid })}.${b64(claims(SIGN_AUD))}`;
+      const good = sign('sha384', Buffer.from(input), { key: EHR_ES384.privateKey, dsaEncoding: 'ieee-p1363' });
+      expect(await reasonFor(`${input}.${good.toString('base64url')}`)).toBe('verified');
+      expect(await reasonFor(`${input}.${Buffer.concat([good, Buffer.alloc(36)]).toString('base64url')}`)).toBe('signature-invalid');
+      expect(await reasonFor(`${input}.${good.subarray(0, 64).toString('base64url')}`)).toBe('signature-invalid');
+      const rs = signToken(EHR_RS384, claims(SIGN_AUD));
+      expect(await reasonFor(`${rs}AAAA`)).toBe('signature-invalid');
     });
 
     it('refuses an RS256 signature offered as PS256, and the reverse', async () => {
@@ -258,7 +299,7 @@ describe('createJwtVerifier', () => {
     });
   });
 
-  describe('time, checked by jsonwebtoken with the skew', () => {
+  describe('time, with the skew (RFC 7519 §4.1.4, §4.1.5)', () => {
     it.each<[string, Record<string, unknown>, string]>([
       // RFC 7519 §4.1.4: the current time MUST be before exp, with a small leeway (60 s here)
       ['exp just inside the leeway', { iat: NOW_S - 300, exp: NOW_S - 59 }, 'verified'],
@@ -270,11 +311,11 @@ describe('createJwtVerifier', () => {
       ['nbf null', { nbf: null }, 'nbf-in-future'],
       // RFC 7519 §2: NumericDate values may be non-integer
       ['non-integer NumericDates', { iat: NOW_S - 0.5, exp: NOW_S + 10.25 }, 'verified'],
-      // jsonwebtoken takes a token without exp or iat; CDS Hooks 2.0 §Trusting CDS Clients requires both
+      // RFC 7519 makes exp and iat optional; CDS Hooks 2.0 §Trusting CDS Clients requires both
       ['no exp', { exp: undefined }, 'exp-missing'],
       ['exp as a string', { exp: String(NOW_S + 60) }, 'exp-missing'],
       ['no iat', { iat: undefined }, 'iat-missing'],
-      // jsonwebtoken does not look at iat; common practice: reject an iat past the leeway
+      // common practice: reject an iat past the leeway
       ['iat at the end of the leeway', { iat: NOW_S + 60, exp: NOW_S + 120 }, 'verified'],
       ['iat past the leeway', { iat: NOW_S + 61, exp: NOW_S + 120 }, 'iat-in-future'],
       ['exp before iat', { iat: NOW_S + 30, exp: NOW_S + 20 }, 'lifetime-invalid'],
@@ -286,9 +327,9 @@ describe('createJwtVerifier', () => {
     });
   });
 
-  describe('where jsonwebtoken alone would accept more', () => {
+  describe('where a general JWT library would accept more', () => {
     it.each<[string, Record<string, unknown>]>([
-      // RFC 7515 §4.1.11: jsonwebtoken ignores crit; an extension not understood MUST make the JWS invalid
+      // RFC 7515 §4.1.11: an extension not understood MUST make the JWS invalid (jsonwebtoken ignores crit)
       ['crit naming b64 (RFC 7797)', { b64: false, crit: ['b64'] }],
       ['an empty crit', { crit: [] }],
       ['crit naming a private extension', { 'urn:larkspur:x': 1, crit: ['urn:larkspur:x'] }],
@@ -304,7 +345,7 @@ describe('createJwtVerifier', () => {
     });
 
     it('reads duplicate header names as the last one, for the key choice and the signature alike', async () => {
-      // RFC 7515 §5.2: a parser may use the lexically last duplicate; both readings here are jsonwebtoken's
+      // RFC 7515 §5.2: a parser may use the lexically last duplicate; the key choice and the signature use one reading
       const lastIsEs384 = `{"alg":"none","typ":"JWT","kid":"${EHR_ES384.kid}","alg":"ES384"}`;
       expect(await reasonFor(rawToken(EHR_ES384, lastIsEs384, claims(SIGN_AUD)))).toBe('verified');
       const lastIsNone = `{"alg":"ES384","typ":"JWT","kid":"${EHR_ES384.kid}","alg":"none"}`;
@@ -407,6 +448,15 @@ function tamperSignature(token: string): string {
   const bytes = Buffer.from(sig, 'base64url');
   bytes[10] = (bytes[10] ?? 0) ^ 0x01;
   return `${head}.${body}.${bytes.toString('base64url')}`;
+}
+
+const BASE64URL = 'ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789-_';
+
+/** The same segment with the lowest bit of its last character set otherwise: a spare bit when the
+ * segment's byte count is not a multiple of 3 (RFC 4648 §3.5). */
+function withSpareBitSet(segment: string): string {
+  const last = BASE64URL.indexOf(segment.slice(-1));
+  return segment.slice(0, -1) + BASE64URL.charAt(last ^ 0b1);
 }
 
 function b64(part: unknown): string {
