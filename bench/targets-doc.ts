@@ -125,7 +125,12 @@ ${targetsTable(targets, before)}
   inserts its cards) against \`bench/token-baseline-server.ts\`: a bare express 5 app in its own
   process that parses the same body, verifies the same token with jsonwebtoken (signature, issuer,
   audience, expiry; its KeyObject built once) and answers with the service's own answer to that case,
-  byte for byte. The tokens are signed before each load, never during it; the baseline keeps no replay
+  byte for byte. The two check the same signature in different places: the service with node:crypto's
+  asynchronous \`verify\`, on libuv's thread pool (docs/security.md, "The signature check runs off the
+  event loop"), the baseline with jsonwebtoken's synchronous check on its event loop, as issue 9 defines
+  it. On these 2 cores, shared with the load generator, the service can therefore spend part of the
+  second core on signatures while its event loop serves other calls; the baseline cannot.
+  The tokens are signed before each load, never during it; the baseline keeps no replay
   cache, so it is sent the same tokens in turn. The examples mix sends every chosen example in turn; the
   70 KB request is \`bench/large-request.ts\`: an invented Larkspur Bay patient's order-sign call with
   200 SpO2, respiratory-rate and blood gas observations. Loads take turns (service first, then baseline
