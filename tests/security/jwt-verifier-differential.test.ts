@@ -2,11 +2,10 @@ import { constants, randomUUID, sign } from 'node:crypto';
 import fc from 'fast-check';
 import jwt from 'jsonwebtoken';
 import { describe, expect, it } from 'vitest';
-import { createJwksStore } from '../../src/security/jwks-store.js';
-import { createJwtVerifier, type VerifyFailure, type VerifyOutcome } from '../../src/security/jwt-verifier.js';
-import { createMemoryReplayCache } from '../../src/security/replay-cache.js';
-import { EHR_ISS, ehrClient, fakeFetch, NOW, NOW_S, SIGN_AUD, THEATRES_ISS, trustOf } from './support/fixtures.js';
+import type { VerifyFailure, VerifyOutcome, VerifyToken } from '../../src/security/jwt-verifier.js';
+import { EHR_ISS, ehrClient, NOW_S, SIGN_AUD, THEATRES_ISS, trustOf } from './support/fixtures.js';
 import { makeKey, signWith, type TestAlg, type TestKey } from './support/keys.js';
+import { LIMITS, testVerifier } from './support/test-verifier.js';
 
 /**
  * The verifier against jsonwebtoken 9, the library that checked signatures, `nbf` and `exp` here
@@ -16,8 +15,6 @@ import { makeKey, signWith, type TestAlg, type TestKey } from './support/keys.js
  */
 
 const ALGS: readonly TestAlg[] = ['ES256', 'ES384', 'ES512', 'RS256', 'RS384', 'RS512', 'PS256', 'PS384', 'PS512'];
-// common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
-const LIMITS = { clockSkewS: 60, maxLifetimeS: 3600 };
 
 const TRUSTED = new Map(ALGS.map((alg) => [alg, makeKey(alg, `lbgh-diff-${alg.toLowerCase()}`)] as const));
 // Key pairs nobody trusts, used under a trusted kid (the swapped-key forgery)
@@ -45,24 +42,7 @@ const trust = trustOf([
   }),
 ]);
 
-function freshVerifier(): ReturnType<typeof createJwtVerifier> {
-  const clock = (): Date => NOW;
-  return createJwtVerifier({
-    trust,
-    jwks: createJwksStore({
-      fetch: fakeFetch({}).fetch,
-      clock,
-      timeoutMs: 1000,
-      maxBytes: 65_536,
-      requireHttps: true,
-      ttlMs: 300_000,
-      minRefreshIntervalMs: 60_000,
-    }),
-    replayCache: createMemoryReplayCache({ maxEntries: 1000, clock }),
-    clock,
-    limits: LIMITS,
-  });
-}
+const freshVerifier = (): VerifyToken => testVerifier(trust);
 
 /** Verdicts both sides can name. `before-signature` is the verifier's alone: see agreement below. */
 type Verdict = 'accept' | 'signature' | 'expired' | 'not-before' | 'exp-not-a-number' | 'before-signature' | `unexpected: ${string}`;

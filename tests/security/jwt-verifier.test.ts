@@ -1,10 +1,7 @@
 import { constants, sign, type KeyObject } from 'node:crypto';
 import jwt from 'jsonwebtoken';
 import { describe, expect, it } from 'vitest';
-import { createJwksStore } from '../../src/security/jwks-store.js';
-import { createJwtVerifier, MAX_TOKEN_LENGTH, type VerifierDeps } from '../../src/security/jwt-verifier.js';
-import { createMemoryReplayCache } from '../../src/security/replay-cache.js';
-import type { TrustConfig } from '../../src/security/trust-config.js';
+import { MAX_TOKEN_LENGTH } from '../../src/security/jwt-verifier.js';
 import { SPEC_JWKS, SPEC_PAYLOAD, SPEC_TOKEN } from '../fixtures/security/spec-jwt-example.js';
 import {
   claims,
@@ -15,7 +12,6 @@ import {
   EHR_RS384,
   ehrClient,
   fakeFetch,
-  NOW,
   NOW_S,
   SIGN_AUD,
   THEATRES_ES384,
@@ -23,29 +19,7 @@ import {
   trustOf,
 } from './support/fixtures.js';
 import { makeKey, signToken, signWith, type TestAlg, type TestKey } from './support/keys.js';
-
-// common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
-const LIMITS = { clockSkewS: 60, maxLifetimeS: 3600 };
-
-function verifier(trust: TrustConfig, options: { fetch?: typeof fetch; clock?: () => Date; limits?: VerifierDeps['limits'] } = {}) {
-  const clock = options.clock ?? (() => NOW);
-  const jwks = createJwksStore({
-    fetch: options.fetch ?? fakeFetch({}).fetch,
-    clock,
-    timeoutMs: 1000,
-    maxBytes: 65_536,
-    requireHttps: true,
-    ttlMs: 300_000,
-    minRefreshIntervalMs: 60_000,
-  });
-  return createJwtVerifier({
-    trust,
-    jwks,
-    replayCache: createMemoryReplayCache({ maxEntries: 1000, clock }),
-    clock,
-    limits: options.limits ?? LIMITS,
-  });
-}
+import { testVerifier as verifier } from './support/test-verifier.js';
 
 const trust = trustOf([ehrClient(), theatresClient()]);
 
