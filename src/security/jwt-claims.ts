@@ -57,18 +57,15 @@ function numericDate(value: unknown): number | undefined {
 /**
  * RFC 7519 §4.1.5 and §4.1.4 with the skew as the "small leeway" both allow, in the order and at the
  * boundaries the service has always used (those of jsonwebtoken 9, which checked them before): a
- * present `nbf` or `exp` must be a number; refused when `nbf > now + skew` or `now >= exp + skew`.
- * A token without `exp` passes here and is refused below as `exp-missing`.
+ * present `nbf` must be a number; refused when `nbf > now + skew` or `now >= exp + skew`. An `exp`
+ * that is absent or not a number passes here and is refused below as `exp-missing`.
  */
 function checkValidityWindow(payload: Readonly<Record<string, unknown>>, nowS: number, skewS: number): ClaimFailure | undefined {
   const { nbf, exp } = payload;
   if (nbf !== undefined && (typeof nbf !== 'number' || nbf > nowS + skewS)) {
     return 'nbf-in-future';
   }
-  if (exp !== undefined && typeof exp !== 'number') {
-    return 'exp-missing';
-  }
-  if (exp !== undefined && nowS >= exp + skewS) {
+  if (typeof exp === 'number' && nowS >= exp + skewS) {
     return 'expired';
   }
   return undefined;
