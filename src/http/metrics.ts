@@ -3,6 +3,7 @@ import type { RequestHandler } from 'express';
 import { collectDefaultMetrics, Counter, Gauge, Histogram, Registry } from 'prom-client';
 import type { PolicyHolder } from '../live-policy/policy-snapshot.js';
 import type { ReplayCheck, StoredIndicator, Store } from '../store/store.js';
+import type { OverloadReason } from './overload.js';
 import { requestState } from './request-context.js';
 
 /**
@@ -13,8 +14,7 @@ import { requestState } from './request-context.js';
  * hash. Nothing a client sends (no patient id, token, URL or free text) ever becomes a label.
  */
 
-/** Why a hook call was refused before evaluation (overload.ts). */
-export type OverloadReason = 'loop-delay' | 'shared-cap' | 'client-share';
+export type { OverloadReason } from './overload.js';
 
 /** How one request to a FHIR server ended: a 2xx, another status, or no answer (network, timeout, abort). */
 export type FhirFetchOutcome = 'ok' | 'http-error' | 'failed';
@@ -81,7 +81,7 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
   });
   const refusals = new Counter({
     name: `${PREFIX}overload_refusals_total`,
-    help: 'Hook calls refused before evaluation: loop-delay (503), shared-cap (503), client-share (429).',
+    help: 'Hook calls refused before evaluation: loop-delay (503), waited (503), shared-cap (503), client-share (429).',
     labelNames: ['reason'] as const,
     registers: [registry],
   });
