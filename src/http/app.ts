@@ -121,7 +121,11 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
   const waitClock = deps.waitClock ?? PROCESS_WAIT_CLOCK;
-  const gate = createEvaluationGate(gateLimitsFrom(config), { clock: waitClock, onRefused: metrics.overloadRefused });
+  const gate = createEvaluationGate(gateLimitsFrom(config), {
+    clock: waitClock,
+    onRefused: metrics.overloadRefused,
+    onAdmitted: metrics.hookAdmitted,
+  });
   // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
   const handlersFor = perSnapshot((snapshot) => ({
     review:

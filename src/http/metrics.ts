@@ -30,6 +30,8 @@ export interface ServiceMetrics {
   readonly cardsIssued: (cards: readonly { readonly ruleId: string; readonly indicator: StoredIndicator }[]) => void;
   readonly fhirFetched: (outcome: FhirFetchOutcome, durationMs: number) => void;
   readonly overloadRefused: (reason: OverloadReason) => void;
+  /** How long a hook call had waited when it was admitted to evaluation (overload.ts). */
+  readonly hookAdmitted: (waitedMs: number) => void;
   readonly replayChecked: (outcome: ReplayOutcome) => void;
   /** A store call that rejected, by method name. */
   readonly storeFailed: (operation: keyof Store) => void;
@@ -85,6 +87,13 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
     labelNames: ['reason'] as const,
     registers: [registry],
   });
+  const waited = new Histogram({
+    name: `${PREFIX}hook_wait_seconds`,
+    help: 'Time hook calls admitted to evaluation had waited: the event loop delay when each arrived plus the time to its admission.',
+    // Dense below OXYGEN_CHECKER_MAX_WAIT_MS (250 ms by default), which a call passes only while none is evaluated.
+    buckets: [0.005, 0.01, 0.025, 0.05, 0.1, 0.15, 0.2, 0.25, 0.5, 1, 2.5],
+    registers: [registry],
+  });
   const replay = new Counter({
     name: `${PREFIX}replay_checks_total`,
     help: 'Token ids checked against the replay cache, by outcome: fresh, replayed, or refused (client share full).',
@@ -129,6 +138,7 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
       }
     },
     overloadRefused: (reason) => refusals.inc({ reason }),
+    hookAdmitted: (waitedMs) => waited.observe(waitedMs / 1000),
     replayChecked: (outcome) => replay.inc({ outcome }),
     storeFailed: (operation) => storeErrors.inc({ operation }),
   };

@@ -68,6 +68,8 @@ export interface GateDeps {
   readonly clock?: WaitClock;
   /** Told each refusal's reason (the metrics, src/http/metrics.ts). */
   readonly onRefused?: (reason: OverloadReason) => void;
+  /** Told how long each admitted call had waited, in milliseconds (the metrics). */
+  readonly onAdmitted?: (waitedMs: number) => void;
 }
 
 export interface EvaluationGate {
@@ -131,6 +133,7 @@ export function createEvaluationGate(limits: GateLimits, deps: GateDeps = {}): E
     if (reason !== undefined) {
       refuse(res, reason, waitedMs);
     }
+    deps.onAdmitted?.(waitedMs);
     inFlight += 1;
     perClient.set(client, (perClient.get(client) ?? 0) + 1);
     let released = false;

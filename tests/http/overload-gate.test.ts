@@ -41,6 +41,8 @@ interface GateApp {
   readonly inFlight: () => number;
   /** The reasons the gate reported for its refusals, in order (what the metrics count). */
   readonly refusals: readonly string[];
+  /** How long each admitted call had waited, in order, on the test's clock. */
+  readonly admittedWaits: readonly number[];
   /** The summary lines written, in order. */
   readonly lines: () => Record<string, unknown>[];
 }
@@ -65,7 +67,12 @@ async function gateApp(limits: GateLimits): Promise<GateApp> {
   const refusals: string[] = [];
   let nowMs = 1_000;
   const clock: WaitClock = { now: () => nowMs, loopDelayMs: () => delayMs };
-  const gate = createEvaluationGate(limits, { clock, onRefused: (reason) => refusals.push(reason) });
+  const admittedWaits: number[] = [];
+  const gate = createEvaluationGate(limits, {
+    clock,
+    onRefused: (reason) => refusals.push(reason),
+    onAdmitted: (waitedMs) => admittedWaits.push(waitedMs),
+  });
   const app = express();
   const log = createMemoryLog();
   const logger = createLogger({ level: 'info', destination: log.stream });
@@ -111,6 +118,7 @@ async function gateApp(limits: GateLimits): Promise<GateApp> {
     unread,
     inFlight: gate.inFlight,
     refusals,
+    admittedWaits,
     lines: log.lines,
   };
 }
@@ -229,6 +237,8 @@ describe('the evaluation gate', () => {
       expect((await call(`${gate.url}/call?waitMs=249`, {})).status).toBe(200);
       expect((await call(`${gate.url}/call?waitMs=250`, {})).status).toBe(200);
       expect(gate.refusals).toStrictEqual([]);
+      // What the wait histogram is told: the held call waited nothing, the others their own waits.
+      expect(gate.admittedWaits).toStrictEqual([0, 249, 250]);
       expect(gate.inFlight()).toBe(1); // the held call was in flight throughout
       gate.release();
       expect((await gate.inside).status).toBe(200);

@@ -169,5 +169,9 @@ describe('signed hook calls that wait in the thread pool', () => {
     expect(await app.metrics.registry.getSingleMetricAsString('oxygen_checker_overload_refusals_total')).toContain(
       `oxygen_checker_overload_refusals_total{reason="waited"} ${HELD_CALLS}`,
     );
+    // The three admitted calls had waited nothing on the test's clock.
+    const waits = await app.metrics.registry.getSingleMetricAsString('oxygen_checker_hook_wait_seconds');
+    expect(waits).toContain('oxygen_checker_hook_wait_seconds_count 3');
+    expect(waits).toContain('oxygen_checker_hook_wait_seconds_sum 0');
   });
 });
