@@ -102,6 +102,14 @@ export const ENV_DEFAULTS = {
   // for each turn it still needs (its store write, its answer), so a fifth of the budget keeps a call
   // admitted now within it; past that, a quick 503 serves the EHR better than a late answer.
   OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: 100,
+  // milliseconds a hook call may have waited, from before Node read it (the loop's delay then) through
+  // authentication (its signature check queues on libuv's thread pool) and its body, before it is
+  // evaluated; past it, 503 with Retry-After (src/http/overload.ts). Half of the "on the order of
+  // 500 ms" CDS Hooks 2.0 asks for, leaving the other half for what comes after admission: the
+  // evaluation (about a millisecond of CPU, behind at most OXYGEN_CHECKER_MAX_CONCURRENT others), the
+  // audit commit (a few milliseconds on SQLite, more on a networked PostgreSQL) and, when prefetch is
+  // missing, one round of FHIR searches (commonly 100-200 ms on a hospital network, from memory).
+  OXYGEN_CHECKER_MAX_WAIT_MS: 250,
   // The store (docs/api.md, "Settings"; src/store/README.md): a postgres:// URL puts the audit trail,
   // feedback and replay cache in one PostgreSQL database shared by every instance; empty keeps the
   // embedded SQLite store in OXYGEN_CHECKER_DATA_DIR (one instance).
@@ -190,6 +198,8 @@ export interface EnvConfig {
   readonly maxConcurrentPerClient: number;
   /** Event-loop delay past which new hook calls are refused (src/http/loop-delay.ts). */
   readonly maxLoopDelayMs: number;
+  /** Time a hook call may have waited before evaluation, past which it is refused (src/http/overload.ts). */
+  readonly maxWaitMs: number;
   readonly shutdownGraceMs: number;
   readonly timeouts: ConnectionTimeouts;
   /** Clients reach the service over HTTPS only (TLS here or at a proxy), so HSTS is sent. */
@@ -346,6 +356,7 @@ export const EnvSchema = z.object({
   OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_REPLAY_MAX_PER_CLIENT, 100, 10_000_000),
   OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT, 1, 10_000),
   OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS, 10, 60_000),
+  OXYGEN_CHECKER_MAX_WAIT_MS: integerVar(ENV_DEFAULTS.OXYGEN_CHECKER_MAX_WAIT_MS, 10, 60_000),
   DATABASE_URL: textVar(ENV_DEFAULTS.DATABASE_URL).refine(
     (url) => url === '' || /^postgres(ql)?:\/\/./i.test(url),
     // The value is not echoed: it may carry a password.
@@ -530,6 +541,7 @@ export function parseEnvConfig(
       maxConcurrentEvaluations: v.OXYGEN_CHECKER_MAX_CONCURRENT,
       maxConcurrentPerClient: Math.min(v.OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT, v.OXYGEN_CHECKER_MAX_CONCURRENT),
       maxLoopDelayMs: v.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS,
+      maxWaitMs: v.OXYGEN_CHECKER_MAX_WAIT_MS,
       shutdownGraceMs: v.OXYGEN_CHECKER_SHUTDOWN_GRACE_MS,
       timeouts: {
         requestTimeoutMs: v.OXYGEN_CHECKER_REQUEST_TIMEOUT_MS,

@@ -111,6 +111,10 @@ export const VARIABLE_DOCS: Readonly<Record<string, VariableDoc>> = {
     group: 'Load, limits and timeouts',
     description: 'How late the event loop may run before new hook calls are shed with 503 and Retry-After: the measure of time spent waiting, so a call is refused early rather than answered past the CDS Hooks budget of about 500 ms (docs/api.md, "Load and shutdown").',
   },
+  OXYGEN_CHECKER_MAX_WAIT_MS: {
+    group: 'Load, limits and timeouts',
+    description: 'How long a hook call may have waited before it is evaluated (the event loop\'s delay when it arrived, plus the time since, spent in authentication, where the token\'s signature check can queue on the thread pool, and reading its body); past it the call gets 503 with Retry-After, so it is refused rather than answered past the CDS Hooks budget of about 500 ms (docs/deployment.md, "Load shedding").',
+  },
   OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: {
     group: 'Load, limits and timeouts',
     description: 'How long calls in flight may take to finish after SIGTERM. Keep it below the orchestrator\'s termination grace period.',

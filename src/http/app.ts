@@ -15,6 +15,7 @@ import { createGatherer, type Gather } from './gather-data.js';
 import { parseJsonBody } from './json-body.js';
 import { createEvaluationGate, gateLimitsFrom } from './overload.js';
 import { perSnapshot, pinnedPolicy } from './pinned-policy.js';
+import { PROCESS_WAIT_CLOCK, type WaitClock } from './request-context.js';
 import { startRequest } from './request-start.js';
 import { reviewHeaders } from './review-headers.js';
 import { route } from './respond.js';
@@ -33,7 +34,7 @@ import type { RefusalLimits } from '../log/refusal-limiter.js';
  */
 export type AppConfig = Pick<EnvConfig, 'bodyLimitBytes' | 'corsOrigins' | 'fhir'> &
   Partial<Pick<EnvConfig, 'maxConcurrentEvaluations' | 'behindTls' | 'feedback'>> &
-  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs' | 'metrics'>>;
+  Partial<Pick<EnvConfig, 'maxConcurrentPerClient' | 'maxLoopDelayMs' | 'maxWaitMs' | 'metrics'>>;
 
 export interface AppDeps {
   /**
@@ -56,6 +57,11 @@ export interface AppDeps {
   readonly patientKey: PatientKeyOf;
   /** Defaults to random UUIDs. */
   readonly newRequestId?: () => string;
+  /**
+   * The clock each request's arrival, duration and wait are measured on (request-context.ts);
+   * defaults to the process's. Tests of the overload gate pass their own.
+   */
+  readonly waitClock?: WaitClock;
   /** How many identical refusals per client are logged one by one; defaults in src/log/refusal-limiter.ts. */
   readonly refusalLogLimits?: RefusalLimits;
   /** How long /readyz waits for the store; defaults to READINESS_STORE_TIMEOUT_MS (routes/health.ts). */
@@ -114,7 +120,12 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
     maxItemsPerRequest: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_ITEMS,
     maxRecordsPerClientPerDay: ENV_DEFAULTS.OXYGEN_CHECKER_FEEDBACK_MAX_PER_CLIENT_DAY,
   };
-  const gate = createEvaluationGate(gateLimitsFrom(config), { onRefused: metrics.overloadRefused });
+  const waitClock = deps.waitClock ?? PROCESS_WAIT_CLOCK;
+  const gate = createEvaluationGate(gateLimitsFrom(config), {
+    clock: waitClock,
+    onRefused: metrics.overloadRefused,
+    onAdmitted: metrics.hookAdmitted,
+  });
   // Built once per policy snapshot: each closes over that snapshot's policy, hash and wording only.
   const handlersFor = perSnapshot((snapshot) => ({
     review:
@@ -169,6 +180,7 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
       policy: deps.policy,
       corsOrigins: config.corsOrigins,
       onRequestFinished: metrics.requestFinished,
+      clock: waitClock,
     }),
   );
   // Browsers send preflights without credentials, so they are answered before authentication.
@@ -207,8 +219,9 @@ export function createApp(config: AppConfig, deps: AppDeps): Express {
   const jsonBody = parseJsonBody(config.bodyLimitBytes);
   // The hook call has its whole chain on one route, in the order the steps below give every other
   // /cds-services request, so it walks no other layer (issue 9: the shell's cost per call). Shed
-  // before any cost: refused while work waits too long (overload.ts); admitted after the body is
-  // read: the cap counts evaluations, so a slow upload holds no slot.
+  // before any cost while the loop runs late; admitted after authentication and the body, when the
+  // call's whole wait is known (the signature check can queue on the thread pool) and the cap counts
+  // evaluations, so a slow upload holds no slot (overload.ts).
   app.post(ROUTES.service, gate.shed, authenticatedHookCall, jsonBody, gate.admit, (req, res, next) =>
     handlersFor(pinnedPolicy(res)).service(req, res, next),
   );

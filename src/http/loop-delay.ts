@@ -4,13 +4,15 @@ import { performance } from 'node:perf_hooks';
  * How long work is waiting for the CPU right now: the event loop's delay, measured with a timer that
  * asks to run every `SAMPLE_INTERVAL_MS` and notes how late it ran.
  *
- * Why the loop and not the requests: a hook call with its prefetch runs from socket to answer in one
- * turn of the loop (each step is a promise or a nextTick, which never yields to other sockets), so a
- * call admitted to evaluation has hardly waited at all by any clock the request carries. The waiting
- * happens before Node reads the request, while its bytes sit in the kernel behind the sockets being
- * served; the loop's delay is exactly that wait, and it does not count a client's slow upload
- * against the service. `perf_hooks.monitorEventLoopDelay` measures the same thing, but only as a
- * histogram of turns already over; the gauge here also sees the turn in progress.
+ * What it measures: the wait before Node reads a request, while its bytes sit in the kernel behind
+ * the sockets being served. No clock the request carries can see that wait, since the request's
+ * clock starts when Node reads it; the loop's delay at that moment stands for it. It is not the only
+ * wait: the token's signature is checked on libuv's thread pool (src/security/jws-signature.ts), and
+ * under load a call can queue there while the loop keeps time. So the overload gate uses this gauge
+ * twice (overload.ts): alone, to shed before authentication while the loop runs late, and noted at
+ * each request's arrival (request-context.ts), added to the time since, to refuse at admission a call
+ * that has waited too long in all. `perf_hooks.monitorEventLoopDelay` measures the same thing, but
+ * only as a histogram of turns already over; the gauge here also sees the turn in progress.
  */
 
 /** Often enough that a sample is never stale by more than a small part of the 500 ms budget. */
@@ -50,8 +52,8 @@ export function startLoopDelayGauge(now: () => number = () => performance.now())
 let shared: LoopDelayGauge | undefined;
 
 /**
- * The process has one event loop, so every app in it shares one gauge, started by the first call
- * that asks (an app that never serves a hook call starts no timer).
+ * The process has one event loop, so every app in it shares one gauge, started by the first request
+ * that asks (an app that serves no request starts no timer; the timer never holds the process up).
  */
 export function sharedLoopDelayMs(): number {
   shared ??= startLoopDelayGauge();

@@ -3,6 +3,7 @@ import type { RequestHandler } from 'express';
 import { collectDefaultMetrics, Counter, Gauge, Histogram, Registry } from 'prom-client';
 import type { PolicyHolder } from '../live-policy/policy-snapshot.js';
 import type { ReplayCheck, StoredIndicator, Store } from '../store/store.js';
+import type { OverloadReason } from './overload.js';
 import { requestState } from './request-context.js';
 
 /**
@@ -13,8 +14,7 @@ import { requestState } from './request-context.js';
  * hash. Nothing a client sends (no patient id, token, URL or free text) ever becomes a label.
  */
 
-/** Why a hook call was refused before evaluation (overload.ts). */
-export type OverloadReason = 'loop-delay' | 'shared-cap' | 'client-share';
+export type { OverloadReason } from './overload.js';
 
 /** How one request to a FHIR server ended: a 2xx, another status, or no answer (network, timeout, abort). */
 export type FhirFetchOutcome = 'ok' | 'http-error' | 'failed';
@@ -30,6 +30,8 @@ export interface ServiceMetrics {
   readonly cardsIssued: (cards: readonly { readonly ruleId: string; readonly indicator: StoredIndicator }[]) => void;
   readonly fhirFetched: (outcome: FhirFetchOutcome, durationMs: number) => void;
   readonly overloadRefused: (reason: OverloadReason) => void;
+  /** How long a hook call had waited when it was admitted to evaluation (overload.ts). */
+  readonly hookAdmitted: (waitedMs: number) => void;
   readonly replayChecked: (outcome: ReplayOutcome) => void;
   /** A store call that rejected, by method name. */
   readonly storeFailed: (operation: keyof Store) => void;
@@ -81,8 +83,15 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
   });
   const refusals = new Counter({
     name: `${PREFIX}overload_refusals_total`,
-    help: 'Hook calls refused before evaluation: loop-delay (503), shared-cap (503), client-share (429).',
+    help: 'Hook calls refused before evaluation: loop-delay (503), waited (503), shared-cap (503), client-share (429).',
     labelNames: ['reason'] as const,
+    registers: [registry],
+  });
+  const waited = new Histogram({
+    name: `${PREFIX}hook_wait_seconds`,
+    help: 'Time hook calls admitted to evaluation had waited: the event loop delay when each arrived plus the time to its admission.',
+    // Dense below OXYGEN_CHECKER_MAX_WAIT_MS (250 ms by default), which a call passes only while none is evaluated.
+    buckets: [0.005, 0.01, 0.025, 0.05, 0.1, 0.15, 0.2, 0.25, 0.5, 1, 2.5],
     registers: [registry],
   });
   const replay = new Counter({
@@ -129,6 +138,7 @@ export function createServiceMetrics(options: { readonly policy: PolicyHolder; r
       }
     },
     overloadRefused: (reason) => refusals.inc({ reason }),
+    hookAdmitted: (waitedMs) => waited.observe(waitedMs / 1000),
     replayChecked: (outcome) => replay.inc({ outcome }),
     storeFailed: (operation) => storeErrors.inc({ operation }),
   };

@@ -4,7 +4,7 @@ import type { Logger } from '../log/logger.js';
 import type { RefusalLimits } from '../log/refusal-limiter.js';
 import { corsHeaderSetter } from './cors.js';
 import { pinPolicy } from './pinned-policy.js';
-import { requestContext } from './request-context.js';
+import { requestContext, type WaitClock } from './request-context.js';
 import { securityHeaderSetter, type SecurityHeaderOptions } from './security-headers.js';
 
 /**
@@ -21,6 +21,8 @@ export interface RequestStartOptions {
   readonly corsOrigins: '*' | readonly string[];
   /** Told each request's route name, status and duration when it closes (the metrics). */
   readonly onRequestFinished?: (route: string, status: number, durationMs: number, serviceId: string | undefined) => void;
+  /** When each request arrived and how late the loop ran then (request-context.ts); the process's by default. */
+  readonly clock?: WaitClock;
 }
 
 export function startRequest(options: RequestStartOptions): RequestHandler {
@@ -30,6 +32,7 @@ export function startRequest(options: RequestStartOptions): RequestHandler {
     options.newRequestId,
     options.refusalLimits,
     options.onRequestFinished,
+    options.clock,
   );
   const pin = pinPolicy(options.policy);
   const setCorsHeaders = corsHeaderSetter(options.corsOrigins);

@@ -150,6 +150,16 @@ export interface ReviewAccessSummary {
 
 export type RequestDetail = HookCallSummary | FeedbackSummary | AuthRefusedSummary | ReviewAccessSummary;
 
+/**
+ * A hook call the overload gate refused (src/http/overload.ts): its reason word (`loop-delay`,
+ * `waited`, `shared-cap`, `client-share`, as in the metrics) and, once the call had reached admission,
+ * how long it had waited.
+ */
+export interface OverloadRefusal {
+  readonly reason: string;
+  readonly waitedMs?: number;
+}
+
 export interface RequestSummary {
   readonly requestId: string;
   readonly method: string;
@@ -159,6 +169,7 @@ export interface RequestSummary {
   readonly durationMs: number;
   readonly errorCode: string | undefined;
   readonly detail: RequestDetail | undefined;
+  readonly overload?: OverloadRefusal;
 }
 
 /**
@@ -282,6 +293,12 @@ export function logRequestSummary(logger: Logger, summary: RequestSummary, refus
   }
   if (summary.detail !== undefined) {
     Object.assign(line, pickDetail(summary.detail));
+  }
+  if (summary.overload !== undefined) {
+    line['overloadReason'] = summary.overload.reason;
+    if (summary.overload.waitedMs !== undefined) {
+      line['waitedMs'] = Math.round(summary.overload.waitedMs * 10) / 10;
+    }
   }
   logger[level](line, summary.detail?.kind === 'hook-call' ? 'hook call' : 'request');
 }

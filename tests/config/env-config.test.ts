@@ -28,6 +28,8 @@ describe('parseEnvConfig', () => {
         maxConcurrentPerClient: 8, // project default: half the shared cap (docs/api.md, Robustness)
         // project default: a fifth of the "on the order of 500 ms" of CDS Hooks 2.0 (docs/api.md, Robustness)
         maxLoopDelayMs: 100,
+        // project default: half the "on the order of 500 ms" of CDS Hooks 2.0, the rest for the call's own work
+        maxWaitMs: 250,
         shutdownGraceMs: 10_000, // project default
         // project defaults: CDS Hooks 2.0 asks for answers "on the order of 500 ms"; Node's 300 s is far too long
         timeouts: { requestTimeoutMs: 10_000, headersTimeoutMs: 5_000, keepAliveTimeoutMs: 5_000, socketIdleTimeoutMs: 30_000 },
@@ -69,6 +71,7 @@ describe('parseEnvConfig', () => {
         OXYGEN_CHECKER_MAX_CONCURRENT: '4',
         OXYGEN_CHECKER_MAX_CONCURRENT_PER_CLIENT: '6',
         OXYGEN_CHECKER_MAX_LOOP_DELAY_MS: '250',
+        OXYGEN_CHECKER_MAX_WAIT_MS: '400',
         OXYGEN_CHECKER_METRICS: 'on',
         OXYGEN_CHECKER_WORKERS: '2',
         OXYGEN_CHECKER_SHUTDOWN_GRACE_MS: '2500',
@@ -112,6 +115,7 @@ describe('parseEnvConfig', () => {
         maxConcurrentEvaluations: 4,
         maxConcurrentPerClient: 4, // 6 was asked for: a client's share is at most the shared cap
         maxLoopDelayMs: 250,
+        maxWaitMs: 400,
         shutdownGraceMs: 2500,
         timeouts: { requestTimeoutMs: 8000, headersTimeoutMs: 4000, keepAliveTimeoutMs: 65_000, socketIdleTimeoutMs: 20_000 },
         behindTls: true,

@@ -33,6 +33,9 @@ export const TEST_CONFIG: AppConfig = {
   // Shedding by waiting time off: a loaded test machine runs the event loop late for reasons of its
   // own, which would refuse calls in tests about other things. load-shedding.test.ts turns it on.
   maxLoopDelayMs: 600_000,
+  // Likewise for the time a call waited before evaluation; overload-gate.test.ts and
+  // signed-wait-shedding.test.ts turn it on.
+  maxWaitMs: 600_000,
 };
 
 export interface TestApp {

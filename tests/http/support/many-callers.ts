@@ -21,9 +21,14 @@ export interface CallerAnswer {
  * hundreds would take turns with the service on one event loop and pace themselves to it, so they
  * never arrive together as real callers do. `callAtOnce` sends those from a thread of their own.
  */
-export function call(url: string, body: unknown, localAddress = '127.0.0.1'): Promise<CallerAnswer> {
+export function call(
+  url: string,
+  body: unknown,
+  localAddress = '127.0.0.1',
+  headers: Readonly<Record<string, string>> = {},
+): Promise<CallerAnswer> {
   return new Promise((resolve, reject) => {
-    sendOne(url, JSON.stringify(body), localAddress, resolve, reject);
+    sendOne(url, JSON.stringify(body), localAddress, headers, resolve, reject);
   });
 }
 
@@ -31,6 +36,7 @@ function sendOne(
   url: string,
   raw: string,
   localAddress: string,
+  headers: Readonly<Record<string, string>>,
   resolve: (answer: CallerAnswer) => void,
   reject: (error: Error) => void,
 ): void {
@@ -41,7 +47,7 @@ function sendOne(
       method: 'POST',
       agent: false,
       localAddress,
-      headers: { 'Content-Type': 'application/json', 'Content-Length': String(Buffer.byteLength(raw)) },
+      headers: { ...headers, 'Content-Type': 'application/json', 'Content-Length': String(Buffer.byteLength(raw)) },
     },
     (res) => {
       const chunks: Buffer[] = [];
