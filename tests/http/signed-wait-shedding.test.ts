@@ -1,24 +1,18 @@
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { ENV_DEFAULTS } from '../../src/config/env-config.js';
-import { createGatherer, type Gather } from '../../src/http/gather-data.js';
 import { createServiceMetrics } from '../../src/http/metrics.js';
 import { RETRY_AFTER_SECONDS } from '../../src/http/overload.js';
 import type { WaitClock } from '../../src/http/request-context.js';
 import { createPolicyHolder } from '../../src/live-policy/policy-snapshot.js';
-import { createLogger } from '../../src/log/logger.js';
-import { createJwksStore } from '../../src/security/jwks-store.js';
-import { createJwtVerifier } from '../../src/security/jwt-verifier.js';
-import { createProductionAuthenticator } from '../../src/security/production-authenticator.js';
-import { createStoreReplayCache } from '../../src/security/store-replay-cache.js';
-import { openTempStore } from '../helpers/temp-store.js';
-import { claims, EHR_ES384, ehrClient, NOW, PUBLIC_BASE, SIGN_AUD, SIGN_PATH, trustOf } from '../security/support/fixtures.js';
+import { claims, EHR_ES384, SIGN_AUD, SIGN_PATH } from '../security/support/fixtures.js';
 import { signToken } from '../security/support/keys.js';
+import { buildProductionApp } from '../security/support/production-app.js';
 import { orderSignRequest } from './larkspur-fixtures.js';
 import { listenApp, type AppServer } from './support/app-server.js';
 import { call, type CallerAnswer } from './support/many-callers.js';
 import { SECURITY_HEADERS } from './support/security-headers.js';
 import { holdThreadPool } from './support/thread-pool-hold.js';
-import { bundledSnapshot, buildTestApp, TEST_CONFIG } from './test-app.js';
+import { bundledSnapshot } from './test-app.js';
 
 /**
  * Signed hook calls that wait after the loop-delay check, as they do under load now that the token's
@@ -43,27 +37,6 @@ afterEach(async () => {
 async function buildSignedApp() {
   let nowMs = 0;
   const clock: WaitClock = { now: () => nowMs, loopDelayMs: () => 0 };
-  const { store } = openTempStore();
-  const logger = createLogger({ level: 'silent' });
-  const jwks = createJwksStore({
-    fetch: globalThis.fetch,
-    clock: () => NOW,
-    timeoutMs: 1000,
-    maxBytes: 65_536,
-    requireHttps: true,
-    ttlMs: 300_000,
-    minRefreshIntervalMs: 60_000,
-  });
-  const verify = createJwtVerifier({
-    trust: trustOf([ehrClient()]),
-    jwks,
-    // as the service sets it up (setup-authentication.ts), with the project default share
-    replayCache: createStoreReplayCache({ store, maxPerClient: 20_000, clock: () => NOW, logger, deferCommit: true }),
-    clock: () => NOW,
-    // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
-    limits: { clockSkewS: 60, maxLifetimeS: 3600 },
-  });
-  const authenticate = createProductionAuthenticator({ verify, publicBaseUrl: PUBLIC_BASE, requireHttpsFhirServers: true });
   let authenticating = 0;
   let authenticated = 0;
   // The first call to reach the gather step is held there, so one call is in flight while the others wait.
@@ -71,33 +44,25 @@ async function buildSignedApp() {
   const firstHeld = new Promise<void>((resolve) => {
     releaseFirst = resolve;
   });
-  const real = createGatherer({ fetch: globalThis.fetch, limits: TEST_CONFIG.fhir });
   let gathered = 0;
-  const gather: Gather = async (request, templates, options) => {
-    gathered += 1;
-    if (gathered === 1) {
-      await firstHeld;
-    }
-    return real(request, templates, options);
-  };
   const policy = createPolicyHolder(await bundledSnapshot());
   const metrics = createServiceMetrics({ policy });
-  const built = await buildTestApp(
-    {
-      policy,
-      store,
-      metrics,
-      gather,
-      waitClock: clock,
-      authenticate: async (req) => {
-        authenticating += 1;
-        const result = await authenticate(req);
-        authenticated += 1;
-        return result;
-      },
+  const built = await buildProductionApp({
+    watchAuthenticate: (authenticate) => async (req) => {
+      authenticating += 1;
+      const result = await authenticate(req);
+      authenticated += 1;
+      return result;
     },
-    { maxWaitMs: LIMIT_MS, maxLoopDelayMs: ENV_DEFAULTS.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS },
-  );
+    beforeGather: async () => {
+      gathered += 1;
+      if (gathered === 1) {
+        await firstHeld;
+      }
+    },
+    appDeps: { policy, metrics, waitClock: clock },
+    appConfig: { maxWaitMs: LIMIT_MS, maxLoopDelayMs: ENV_DEFAULTS.OXYGEN_CHECKER_MAX_LOOP_DELAY_MS },
+  });
   server = await listenApp(built.app);
   return {
     url: `${server.url}${SIGN_PATH}`,

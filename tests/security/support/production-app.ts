@@ -4,6 +4,8 @@ import { createJwtVerifier } from '../../../src/security/jwt-verifier.js';
 import { createProductionAuthenticator } from '../../../src/security/production-authenticator.js';
 import { createStoreReplayCache } from '../../../src/security/store-replay-cache.js';
 import type { FeedbackInput, Store } from '../../../src/store/store.js';
+import type { AppConfig, AppDeps } from '../../../src/http/app.js';
+import type { Authenticate } from '../../../src/http/auth.js';
 import { createGatherer, type Gather } from '../../../src/http/gather-data.js';
 import { createLogger, type Logger } from '../../../src/log/logger.js';
 import { openTempStore } from '../../helpers/temp-store.js';
@@ -45,6 +47,14 @@ export interface ProductionAppOptions {
   readonly replayStore?: (real: Store) => Store;
   /** Where the replay cache logs a store failure; silent otherwise. */
   readonly replayLogger?: Logger;
+  /** Wraps the production authenticator (to count the calls that enter and leave it, say). */
+  readonly watchAuthenticate?: (authenticate: Authenticate) => Authenticate;
+  /** Awaited before a service call's data is gathered (to hold a call inside the app, say). */
+  readonly beforeGather?: () => Promise<void>;
+  /** Further dependencies of the app (its metrics, the overload gate's clock), as buildTestApp takes them. */
+  readonly appDeps?: Partial<AppDeps>;
+  /** Settings over TEST_CONFIG (the overload gate's limits, say). */
+  readonly appConfig?: Partial<AppConfig>;
 }
 
 export async function buildProductionApp(options: ProductionAppOptions = {}): Promise<ProductionApp> {
@@ -77,16 +87,19 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
     // common practice: 60 s leeway; CDS Hooks best practices: client JWTs live at most 1 h
     limits: options.limits ?? { clockSkewS: 60, maxLifetimeS: 3600 },
   });
-  const authenticate = createProductionAuthenticator({
+  const production = createProductionAuthenticator({
     verify,
     publicBaseUrl: options.publicBase ?? PUBLIC_BASE,
     requireHttpsFhirServers: options.requireHttpsFhirServers ?? requireHttps,
   });
+  const authenticate = options.watchAuthenticate?.(production) ?? production;
   const gathered: unknown[] = [];
   const fhirFetch = options.fhirFetch ?? globalThis.fetch;
   const real = createGatherer({ fetch: fhirFetch, limits: TEST_CONFIG.fhir });
-  const gather: Gather = (request, templates, gatherOptions) => {
+  const beforeGather = options.beforeGather;
+  const gather: Gather = async (request, templates, gatherOptions) => {
     gathered.push(request);
+    await beforeGather?.();
     return real(request, templates, gatherOptions);
   };
   const recorded: FeedbackInput[] = [];
@@ -97,6 +110,6 @@ export async function buildProductionApp(options: ProductionAppOptions = {}): Pr
       return realStore.recordFeedback(client, items, receivedAt, limits);
     },
   };
-  const built = await buildTestApp({ authenticate, gather, store, clock, fetch: fhirFetch });
+  const built = await buildTestApp({ ...options.appDeps, authenticate, gather, store, clock, fetch: fhirFetch }, options.appConfig);
   return { ...built, gathered, recorded, store: realStore, dataDir };
 }
