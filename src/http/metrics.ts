@@ -14,8 +14,6 @@ import { requestState } from './request-context.js';
  * hash. Nothing a client sends (no patient id, token, URL or free text) ever becomes a label.
  */
 
-export type { OverloadReason } from './overload.js';
-
 /** How one request to a FHIR server ended: a 2xx, another status, or no answer (network, timeout, abort). */
 export type FhirFetchOutcome = 'ok' | 'http-error' | 'failed';
 
