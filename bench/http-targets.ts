@@ -134,9 +134,10 @@ export async function measureHttpTargets(ctx: HttpTargetContext): Promise<HttpTa
     }
 
     const seconds = options.warmupS + options.durationS;
-    const load = (label: string, url: string, calls: readonly SignedCall[], cycle: boolean, overallRate?: number): LoadSpec => ({
+    const load = (label: string, url: string, calls: readonly SignedCall[], cycle: boolean, overallRate?: number, cpuPid?: number): LoadSpec => ({
       label,
       url,
+      ...(cpuPid === undefined ? {} : { cpuPid }),
       method: 'POST',
       ...callFeed(calls, cycle, options.connections),
       ...(overallRate === undefined ? {} : { overallRate }),
@@ -164,8 +165,9 @@ export async function measureHttpTargets(ctx: HttpTargetContext): Promise<HttpTa
     const pair = async (label: string, sources: readonly CallSource[], rate: number, serviceFirst: boolean, overallRate?: number): Promise<HttpPair> => {
       progress(`signing tokens for ${label}`);
       const calls = signCalls(client, sources, overallRate === undefined ? poolFor(rate) : Math.ceil(overallRate * seconds * 1.1) + 4 * options.connections);
-      const runService = (): Promise<LoadResult> => measure(load(`${label} (service)`, service.url, calls, false, overallRate));
-      const runBaseline = (): Promise<LoadResult> => measure(load(`${label} (baseline)`, baseline?.url ?? '', calls, true, overallRate));
+      const runService = (): Promise<LoadResult> => measure(load(`${label} (service)`, service.url, calls, false, overallRate, service.pid));
+      const runBaseline = (): Promise<LoadResult> =>
+        measure(load(`${label} (baseline)`, baseline?.url ?? '', calls, true, overallRate, baseline?.pid));
       const first = serviceFirst ? await runService() : await runBaseline();
       const second = serviceFirst ? await runBaseline() : await runService();
       const requestBytes = Math.round(calls.reduce((sum, call) => sum + Buffer.byteLength(call.body), 0) / calls.length);

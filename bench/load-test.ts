@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import autocannon from 'autocannon';
 
 /**
@@ -28,6 +29,11 @@ export interface LoadSpec {
   readonly connections: number;
   readonly durationS: number;
   readonly warmupS: number;
+  /**
+   * A process whose CPU time (all its threads) to count over the measured run, per answered call:
+   * what a call costs the server whatever else shares the cores. Linux only (/proc).
+   */
+  readonly cpuPid?: number;
 }
 
 export interface LoadResult {
@@ -46,6 +52,10 @@ export interface LoadResult {
   readonly timeouts: number;
   /** Answers by status code, when any was not 2xx (to say which in a problem). */
   readonly statusCodes?: Readonly<Record<string, number>>;
+  /** `cpuPid`'s CPU ms over the measured run per answered call; undefined without /proc. */
+  readonly serverCpuMsPerCall?: number;
+  /** This process's CPU ms over the measured run per answered call: the load generator's share. */
+  readonly clientCpuMsPerCall?: number;
 }
 
 /** Far above what one node process on a small machine can answer in a run; a bound, not a target. */
@@ -106,7 +116,17 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
   if (spec.warmupS > 0) {
     await fire(spec, spec.warmupS);
   }
+  const serverCpuBefore = spec.cpuPid === undefined ? undefined : processCpuMs(spec.cpuPid);
+  const clientCpuBefore = process.cpuUsage();
   const result = await fire(spec, spec.durationS);
+  const clientCpu = process.cpuUsage(clientCpuBefore);
+  const serverCpuAfter = spec.cpuPid === undefined ? undefined : processCpuMs(spec.cpuPid);
+  // Every answer cost the server its work, a refusal too (if less): CPU is shared over all of them.
+  const answered = result['2xx'] + result.non2xx;
+  const perCall = (ms: number): number | undefined => (answered > 0 ? ms / answered : undefined);
+  const serverCpuMsPerCall =
+    serverCpuBefore === undefined || serverCpuAfter === undefined ? undefined : perCall(serverCpuAfter - serverCpuBefore);
+  const clientCpuMsPerCall = perCall((clientCpu.user + clientCpu.system) / 1000);
   return {
     label: spec.label,
     url: spec.url,
@@ -128,7 +148,33 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
     ...(result.non2xx > 0
       ? { statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, stat]) => [code, stat.count ?? 0])) }
       : {}),
+    ...(serverCpuMsPerCall === undefined ? {} : { serverCpuMsPerCall }),
+    ...(clientCpuMsPerCall === undefined ? {} : { clientCpuMsPerCall }),
   };
+}
+
+/**
+ * /proc reports a process's CPU time in clock ticks of sysconf(_SC_CLK_TCK) (proc(5)), which is
+ * USER_HZ, 100 a second, on Linux's mainstream architectures.
+ */
+const TICKS_PER_SECOND = 100;
+
+/** A live process's CPU time so far, user + system over all its threads (proc(5), /proc/PID/stat). */
+export function processCpuMs(pid: number): number | undefined {
+  try {
+    return cpuMsFromStat(readFileSync(`/proc/${pid}/stat`, 'utf8'));
+  } catch {
+    return undefined;
+  }
+}
+
+/** Fields 14 and 15 (utime, stime) of a /proc/PID/stat line; the name in field 2 may hold spaces. */
+export function cpuMsFromStat(stat: string): number | undefined {
+  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  // After the name, the line goes on at field 3 (state): utime is field 14, so index 11 here.
+  const utime = Number(fields[11]);
+  const stime = Number(fields[12]);
+  return Number.isFinite(utime) && Number.isFinite(stime) ? ((utime + stime) * 1000) / TICKS_PER_SECOND : undefined;
 }
 
 /** Problems that make a load result unusable as a measurement. */

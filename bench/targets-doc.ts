@@ -46,8 +46,19 @@ function httpTable(targets: TargetsReport): string {
   if (http === undefined) {
     return 'Not measured in this run.';
   }
+  const cpu = (ms: number | undefined): string => (ms === undefined ? '–' : ms.toFixed(2));
   return markdownTable(
-    ['case', 'request B (mean)', 'service 2xx/s', 'baseline 2xx/s', 'service × baseline', 'service not 2xx', 'p50 ms service / baseline', 'p99 ms service / baseline'],
+    [
+      'case',
+      'request B (mean)',
+      'service 2xx/s',
+      'baseline 2xx/s',
+      'service × baseline',
+      'service not 2xx',
+      'p50 ms service / baseline',
+      'p99 ms service / baseline',
+      'CPU ms a call service / baseline / load generator',
+    ],
     [http.mix, http.large, http.halfRatePair].map((pair) => [
       pair.label,
       whole(pair.requestBytes),
@@ -57,7 +68,31 @@ function httpTable(targets: TargetsReport): string {
       whole(pair.service.non2xx),
       `${pair.service.latencyMs.p50} / ${pair.baseline.latencyMs.p50}`,
       `${pair.service.latencyMs.p99} / ${pair.baseline.latencyMs.p99}`,
+      `${cpu(pair.service.serverCpuMsPerCall)} / ${cpu(pair.baseline.serverCpuMsPerCall)} / ${cpu(pair.service.clientCpuMsPerCall)}`,
     ]),
+  );
+}
+
+/**
+ * What the throughput target asks of the CPU, from the mix's figures: the service at 0.85 × the
+ * baseline's rate, with the load generator sending it, needs this many cores' worth of CPU time. On a
+ * machine with fewer cores than that, no change short of cheaper calls can meet the target.
+ */
+export function throughputCpuLine(targets: TargetsReport): string | undefined {
+  const mix = targets.http?.mix;
+  const service = mix?.service.serverCpuMsPerCall;
+  const client = mix?.service.clientCpuMsPerCall;
+  if (mix === undefined || service === undefined || client === undefined) {
+    return undefined;
+  }
+  const baseline = mix.baseline.serverCpuMsPerCall;
+  const rate = 0.85 * answeredPerSecond(mix.baseline);
+  const cores = (rate * (service + client)) / 1000;
+  return (
+    `On the mix a call cost the service ${service.toFixed(2)} ms of CPU (all its threads: ` +
+    `the signature check, the evaluation, the audit write)${baseline === undefined ? '' : ` against the baseline's ${baseline.toFixed(2)} ms`}, ` +
+    `and the load generator spent ${client.toFixed(2)} ms sending it. 0.85 × the baseline's rate is ${whole(rate)} calls a second, ` +
+    `which at these costs needs ${cores.toFixed(2)} cores' worth of CPU for the service and the load generator together.`
   );
 }
 
@@ -137,6 +172,9 @@ ${targetsTable(targets, before)}
   first). The bench raises the replay cache's per-client share so a whole run's tokens fit. Throughput
   counts calls answered 2xx; a call the service refuses (503 when overloaded or its store is slow) is
   no throughput, and any refusal fails the target it happened in, with the count beside it.
+- **CPU a call.** Each process's CPU time over each measured load (user + system, all its threads, from
+  \`/proc/PID/stat\`), divided by the calls it answered; the load generator's is the bench process's
+  own (autocannon runs in it). It shows what a call costs whatever else shares the cores.
 - **Latency at half saturation.** The service's saturating rate is its throughput on the mix above;
   half of it is then sent to each process at an even pace (autocannon \`overallRate\`), and the p99s
   compared. autocannon records whole milliseconds; a p99 under 1 ms counts as 1 ms.
@@ -157,7 +195,7 @@ ${targetsTable(targets, before)}
 
 ${httpTable(targets ?? { figures: [] })}
 
-${memoryLine(targets ?? { figures: [] })}
+${[memoryLine(targets ?? { figures: [] }), throughputCpuLine(targets ?? { figures: [] })].filter((line) => line !== undefined).join(' ')}
 
 ${bulkTable(targets ?? { figures: [] })}
 

@@ -102,6 +102,14 @@ describe('measureHttpTargets', () => {
       expect(Object.keys(pair.service.statusCodes ?? {}).filter((code) => !code.startsWith('2') && code !== '503')).toEqual([]);
       expect(pair.service.non2xx).toBeLessThanOrEqual(Math.ceil(pair.service.completed / 10));
       expect(pair.baseline.non2xx).toBe(0);
+      if (process.platform === 'linux') {
+        // Each side's CPU a call is read from /proc: a call costs some, and not seconds.
+        for (const side of [pair.service, pair.baseline]) {
+          expect(side.serverCpuMsPerCall).toBeGreaterThan(0);
+          expect(side.serverCpuMsPerCall).toBeLessThan(1000);
+        }
+      }
+      expect(pair.service.clientCpuMsPerCall).toBeGreaterThan(0);
     }
     expect(measured.halfRate).toBe(Math.max(1, Math.floor(measured.mix.service.reqPerSec / 2)));
     expect(measured.mixExamples).toEqual(mixExamples.map((e) => e.name));

@@ -1,13 +1,14 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import type { LoadResult } from '../../bench/load-test.js';
+import { cpuMsFromStat, processCpuMs, type LoadResult } from '../../bench/load-test.js';
 import type { MicroResult, Timing } from '../../bench/micro.js';
 import { renderPerformanceDoc } from '../../bench/performance-doc.js';
 import type { RunReport } from '../../bench/report.js';
 import { inventedMachine } from './support/invented-machine.js';
-import { BEFORE_FILE, beforeFileText, parseBeforeFigures, renderTargetsSection, targetsTable } from '../../bench/targets-doc.js';
+import { BEFORE_FILE, beforeFileText, parseBeforeFigures, renderTargetsSection, targetsTable, throughputCpuLine } from '../../bench/targets-doc.js';
 import {
   TARGETS,
   bulkFigures,
@@ -191,6 +192,37 @@ describe('printing', () => {
       'peak resident memory over all the loads above (VmHWM): 150 MB',
     );
     expect(renderTargetsSection({ figures: [], http }, undefined)).toContain('peak memory was not measured in this run');
+  });
+
+  it('gives CPU a call for each side, and the cores the throughput target needs at those costs', () => {
+    // Invented figures: the baseline answers 1000 calls/s; 0.85 × that at (2.0 + 0.5) ms of CPU a call
+    // is 850 × 2.5 ms = 2125 ms of CPU a second, 2.13 cores.
+    const service: LoadResult = { ...load(400, 40), serverCpuMsPerCall: 2, clientCpuMsPerCall: 0.5 };
+    const baseline: LoadResult = { ...load(1000, 20), serverCpuMsPerCall: 0.9, clientCpuMsPerCall: 0.4 };
+    const pair = { label: 'mix', requestBytes: 1, service, baseline };
+    const report = { figures: [], http: { mix: pair, large: pair, halfRate: 200, halfRatePair: pair, mixExamples: ['a'] } };
+    expect(throughputCpuLine(report)).toContain('0.85 × the baseline\'s rate is 850 calls a second');
+    expect(throughputCpuLine(report)).toContain('needs 2.13 cores\' worth of CPU');
+    expect(renderTargetsSection(report, undefined)).toContain('| 2.00 / 0.90 / 0.50 |');
+    // A run without /proc (or an older saved run) has no CPU figures: a dash, and no sentence.
+    const bare = { mix: { ...pair, service: load(400, 40), baseline: load(1000, 20) } };
+    const old = { figures: [], http: { ...report.http, ...bare, large: bare.mix, halfRatePair: bare.mix } };
+    expect(throughputCpuLine(old)).toBeUndefined();
+    expect(renderTargetsSection(old, undefined)).toContain('| – / – / – |');
+  });
+
+  it('reads utime and stime from a /proc/PID/stat line, whatever the process name holds', () => {
+    // proc(5): field 2 is the name in parentheses (it may hold spaces and parentheses), fields 14 and
+    // 15 are utime and stime in clock ticks (100 a second).
+    const stat = '4242 (node (x) y) S 1 4242 4242 0 -1 4194304 100 0 0 0 250 30 0 0 20 0 11 0 1543573 3133440 414';
+    expect(cpuMsFromStat(stat)).toBe(2800);
+    expect(cpuMsFromStat('4242 (node) S 1')).toBeUndefined();
+    const own = processCpuMs(process.pid);
+    if (own !== undefined) {
+      // On Linux: this process has used some CPU, and no more than its wall time on every core.
+      expect(own).toBeGreaterThan(0);
+      expect(own).toBeLessThanOrEqual(process.uptime() * 1000 * availableParallelism() + 10);
+    }
   });
 });
 
