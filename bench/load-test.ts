@@ -54,6 +54,8 @@ export interface LoadResult {
   readonly statusCodes?: Readonly<Record<string, number>>;
   /** `cpuPid`'s CPU ms over the measured run per answered call; undefined without /proc. */
   readonly serverCpuMsPerCall?: number;
+  /** The part of it on `cpuPid`'s main thread (its event loop), per answered call. */
+  readonly serverMainThreadCpuMsPerCall?: number;
   /** This process's CPU ms over the measured run per answered call: the load generator's share. */
   readonly clientCpuMsPerCall?: number;
 }
@@ -116,17 +118,18 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
   if (spec.warmupS > 0) {
     await fire(spec, spec.warmupS);
   }
-  const serverCpuBefore = spec.cpuPid === undefined ? undefined : processCpuMs(spec.cpuPid);
+  const serverBefore = spec.cpuPid === undefined ? undefined : serverCpuMs(spec.cpuPid);
   const clientCpuBefore = process.cpuUsage();
   const result = await fire(spec, spec.durationS);
   const clientCpu = process.cpuUsage(clientCpuBefore);
-  const serverCpuAfter = spec.cpuPid === undefined ? undefined : processCpuMs(spec.cpuPid);
+  const serverAfter = spec.cpuPid === undefined ? undefined : serverCpuMs(spec.cpuPid);
   // Every answer cost the server its work, a refusal too (if less): CPU is shared over all of them.
   const answered = result['2xx'] + result.non2xx;
-  const perCall = (ms: number): number | undefined => (answered > 0 ? ms / answered : undefined);
-  const serverCpuMsPerCall =
-    serverCpuBefore === undefined || serverCpuAfter === undefined ? undefined : perCall(serverCpuAfter - serverCpuBefore);
-  const clientCpuMsPerCall = perCall((clientCpu.user + clientCpu.system) / 1000);
+  const perCall = (before: number | undefined, after: number | undefined): number | undefined =>
+    before === undefined || after === undefined || answered === 0 ? undefined : (after - before) / answered;
+  const serverCpuMsPerCall = perCall(serverBefore?.all, serverAfter?.all);
+  const serverMainThreadCpuMsPerCall = perCall(serverBefore?.mainThread, serverAfter?.mainThread);
+  const clientCpuMsPerCall = perCall(0, (clientCpu.user + clientCpu.system) / 1000);
   return {
     label: spec.label,
     url: spec.url,
@@ -149,6 +152,7 @@ export async function runLoad(spec: LoadSpec): Promise<LoadResult> {
       ? { statusCodes: Object.fromEntries(Object.entries(result.statusCodeStats ?? {}).map(([code, stat]) => [code, stat.count ?? 0])) }
       : {}),
     ...(serverCpuMsPerCall === undefined ? {} : { serverCpuMsPerCall }),
+    ...(serverMainThreadCpuMsPerCall === undefined ? {} : { serverMainThreadCpuMsPerCall }),
     ...(clientCpuMsPerCall === undefined ? {} : { clientCpuMsPerCall }),
   };
 }
@@ -161,12 +165,26 @@ const TICKS_PER_SECOND = 100;
 
 /** A live process's CPU time so far, user + system over all its threads (proc(5), /proc/PID/stat). */
 export function processCpuMs(pid: number): number | undefined {
+  return statCpuMs(`/proc/${pid}/stat`);
+}
+
+/** The same for its main thread alone, which runs node's event loop (/proc/PID/task/PID/stat). */
+export function mainThreadCpuMs(pid: number): number | undefined {
+  return statCpuMs(`/proc/${pid}/task/${pid}/stat`);
+}
+
+function statCpuMs(path: string): number | undefined {
   try {
-    return cpuMsFromStat(readFileSync(`/proc/${pid}/stat`, 'utf8'));
+    return cpuMsFromStat(readFileSync(path, 'utf8'));
   } catch {
     return undefined;
   }
 }
+
+const serverCpuMs = (pid: number): { all: number | undefined; mainThread: number | undefined } => ({
+  all: processCpuMs(pid),
+  mainThread: mainThreadCpuMs(pid),
+});
 
 /** Fields 14 and 15 (utime, stime) of a /proc/PID/stat line; the name in field 2 may hold spaces. */
 export function cpuMsFromStat(stat: string): number | undefined {

@@ -57,7 +57,7 @@ function httpTable(targets: TargetsReport): string {
       'service not 2xx',
       'p50 ms service / baseline',
       'p99 ms service / baseline',
-      'CPU ms a call service / baseline / load generator',
+      'CPU ms a call: service (its event loop) / baseline / load generator',
     ],
     [http.mix, http.large, http.halfRatePair].map((pair) => [
       pair.label,
@@ -68,7 +68,7 @@ function httpTable(targets: TargetsReport): string {
       whole(pair.service.non2xx),
       `${pair.service.latencyMs.p50} / ${pair.baseline.latencyMs.p50}`,
       `${pair.service.latencyMs.p99} / ${pair.baseline.latencyMs.p99}`,
-      `${cpu(pair.service.serverCpuMsPerCall)} / ${cpu(pair.baseline.serverCpuMsPerCall)} / ${cpu(pair.service.clientCpuMsPerCall)}`,
+      `${cpu(pair.service.serverCpuMsPerCall)} (${cpu(pair.service.serverMainThreadCpuMsPerCall)}) / ${cpu(pair.baseline.serverCpuMsPerCall)} / ${cpu(pair.service.clientCpuMsPerCall)}`,
     ]),
   );
 }
@@ -86,11 +86,13 @@ export function throughputCpuLine(targets: TargetsReport): string | undefined {
     return undefined;
   }
   const baseline = mix.baseline.serverCpuMsPerCall;
+  const eventLoop = mix.service.serverMainThreadCpuMsPerCall;
   const rate = 0.85 * answeredPerSecond(mix.baseline);
   const cores = (rate * (service + client)) / 1000;
   return (
-    `On the mix a call cost the service ${service.toFixed(2)} ms of CPU (all its threads: ` +
-    `the signature check, the evaluation, the audit write)${baseline === undefined ? '' : ` against the baseline's ${baseline.toFixed(2)} ms`}, ` +
+    `On the mix a call cost the service ${service.toFixed(2)} ms of CPU over all its threads` +
+    `${eventLoop === undefined ? '' : ` (${eventLoop.toFixed(2)} ms on its event loop; the rest on the thread pool's signature checks, the store's worker thread and V8's helper threads)`}` +
+    `${baseline === undefined ? '' : `, against the baseline's ${baseline.toFixed(2)} ms`}, ` +
     `and the load generator spent ${client.toFixed(2)} ms sending it. 0.85 × the baseline's rate is ${whole(rate)} calls a second, ` +
     `which at these costs needs ${cores.toFixed(2)} cores' worth of CPU for the service and the load generator together.`
   );
@@ -173,8 +175,10 @@ ${targetsTable(targets, before)}
   counts calls answered 2xx; a call the service refuses (503 when overloaded or its store is slow) is
   no throughput, and any refusal fails the target it happened in, with the count beside it.
 - **CPU a call.** Each process's CPU time over each measured load (user + system, all its threads, from
-  \`/proc/PID/stat\`), divided by the calls it answered; the load generator's is the bench process's
-  own (autocannon runs in it). It shows what a call costs whatever else shares the cores.
+  \`/proc/PID/stat\`; the main thread's alone from \`/proc/PID/task/PID/stat\`), divided by the calls it
+  answered; the load generator's is the bench process's own (autocannon runs in it). It shows what a
+  call costs whatever else shares the cores; CPU time also grows when cores are contended, so compare
+  the two sides of one run, not runs.
 - **Latency at half saturation.** The service's saturating rate is its throughput on the mix above;
   half of it is then sent to each process at an even pace (autocannon \`overallRate\`), and the p99s
   compared. autocannon records whole milliseconds; a p99 under 1 ms counts as 1 ms.

@@ -107,6 +107,8 @@ describe('measureHttpTargets', () => {
         for (const side of [pair.service, pair.baseline]) {
           expect(side.serverCpuMsPerCall).toBeGreaterThan(0);
           expect(side.serverCpuMsPerCall).toBeLessThan(1000);
+          expect(side.serverMainThreadCpuMsPerCall).toBeGreaterThan(0);
+          expect(side.serverMainThreadCpuMsPerCall).toBeLessThanOrEqual(side.serverCpuMsPerCall ?? 0);
         }
       }
       expect(pair.service.clientCpuMsPerCall).toBeGreaterThan(0);

@@ -3,7 +3,7 @@ import { join } from 'node:path';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { cpuMsFromStat, processCpuMs, type LoadResult } from '../../bench/load-test.js';
+import { cpuMsFromStat, mainThreadCpuMs, processCpuMs, type LoadResult } from '../../bench/load-test.js';
 import type { MicroResult, Timing } from '../../bench/micro.js';
 import { renderPerformanceDoc } from '../../bench/performance-doc.js';
 import type { RunReport } from '../../bench/report.js';
@@ -197,18 +197,19 @@ describe('printing', () => {
   it('gives CPU a call for each side, and the cores the throughput target needs at those costs', () => {
     // Invented figures: the baseline answers 1000 calls/s; 0.85 × that at (2.0 + 0.5) ms of CPU a call
     // is 850 × 2.5 ms = 2125 ms of CPU a second, 2.13 cores.
-    const service: LoadResult = { ...load(400, 40), serverCpuMsPerCall: 2, clientCpuMsPerCall: 0.5 };
+    const service: LoadResult = { ...load(400, 40), serverCpuMsPerCall: 2, serverMainThreadCpuMsPerCall: 1.25, clientCpuMsPerCall: 0.5 };
     const baseline: LoadResult = { ...load(1000, 20), serverCpuMsPerCall: 0.9, clientCpuMsPerCall: 0.4 };
     const pair = { label: 'mix', requestBytes: 1, service, baseline };
     const report = { figures: [], http: { mix: pair, large: pair, halfRate: 200, halfRatePair: pair, mixExamples: ['a'] } };
     expect(throughputCpuLine(report)).toContain('0.85 × the baseline\'s rate is 850 calls a second');
     expect(throughputCpuLine(report)).toContain('needs 2.13 cores\' worth of CPU');
-    expect(renderTargetsSection(report, undefined)).toContain('| 2.00 / 0.90 / 0.50 |');
+    expect(throughputCpuLine(report)).toContain('2.00 ms of CPU over all its threads (1.25 ms on its event loop;');
+    expect(renderTargetsSection(report, undefined)).toContain('| 2.00 (1.25) / 0.90 / 0.50 |');
     // A run without /proc (or an older saved run) has no CPU figures: a dash, and no sentence.
     const bare = { mix: { ...pair, service: load(400, 40), baseline: load(1000, 20) } };
     const old = { figures: [], http: { ...report.http, ...bare, large: bare.mix, halfRatePair: bare.mix } };
     expect(throughputCpuLine(old)).toBeUndefined();
-    expect(renderTargetsSection(old, undefined)).toContain('| – / – / – |');
+    expect(renderTargetsSection(old, undefined)).toContain('| – (–) / – / – |');
   });
 
   it('reads utime and stime from a /proc/PID/stat line, whatever the process name holds', () => {
@@ -217,8 +218,11 @@ describe('printing', () => {
     const stat = '4242 (node (x) y) S 1 4242 4242 0 -1 4194304 100 0 0 0 250 30 0 0 20 0 11 0 1543573 3133440 414';
     expect(cpuMsFromStat(stat)).toBe(2800);
     expect(cpuMsFromStat('4242 (node) S 1')).toBeUndefined();
+    const main = mainThreadCpuMs(process.pid);
     const own = processCpuMs(process.pid);
-    if (own !== undefined) {
+    if (own !== undefined && main !== undefined) {
+      // The main thread's CPU, read first, is part of the whole process's, read after it.
+      expect(main).toBeLessThanOrEqual(own);
       // On Linux: this process has used some CPU, and no more than its wall time on every core.
       expect(own).toBeGreaterThan(0);
       expect(own).toBeLessThanOrEqual(process.uptime() * 1000 * availableParallelism() + 10);
