@@ -6,7 +6,10 @@ import type { CdsRequest } from '../src/cds/schemas.js';
 import type { PrefetchKey } from '../src/cds/services.js';
 import { ENV_DEFAULTS } from '../src/config/env-config.js';
 import { formatLoadProblems, loadPolicyAndCards } from '../src/config/load-files.js';
+import { evaluateOrder } from '../src/core/engine.js';
 import type { Policy } from '../src/core/policy.js';
+import type { Facts, HookName } from '../src/core/types.js';
+import { extractFacts } from '../src/fhir/extract-facts.js';
 import type { GatheredData } from '../src/fhir/gathered-data.js';
 import { createGatherer } from '../src/http/gather-data.js';
 import type { HookExample } from './cases.js';
@@ -43,6 +46,7 @@ const gather = createGatherer({
 
 export interface PreparedCase {
   readonly example: HookExample;
+  readonly hook: HookName;
   readonly request: CdsRequest;
   readonly prefetchTemplates: Readonly<Partial<Record<PrefetchKey, string>>>;
   readonly data: GatheredData;
@@ -62,7 +66,13 @@ export async function prepareCase(example: HookExample): Promise<PreparedCase> {
   if (gathered.kind !== 'gathered') {
     throw new Error(`${example.name}: required prefetch is missing`);
   }
-  return { example, request: parsed.request, prefetchTemplates: parsed.service.prefetch, data: gathered.data };
+  return {
+    example,
+    hook: parsed.service.hook,
+    request: parsed.request,
+    prefetchTemplates: parsed.service.prefetch,
+    data: gathered.data,
+  };
 }
 
 export function evaluatePrepared(prepared: PreparedCase, files: LoadedFiles, now: Date): number {
@@ -71,6 +81,36 @@ export function evaluatePrepared(prepared: PreparedCase, files: LoadedFiles, now
     { policy: files.policy, templates: files.templates, now },
   );
   return result.response.cards.length;
+}
+
+/**
+ * The orders and selections `evaluateHook` hands `extractFacts`, read from the validated context as
+ * its private `readOrderContext` reads them (copied, so that the bench leaves src/ as it is). Built on
+ * every call, as evaluateHook builds it, so the facts loop pays what evaluateHook pays.
+ */
+function factsInput(prepared: PreparedCase): Parameters<typeof extractFacts>[0] {
+  const context = prepared.request.context as { readonly draftOrders?: unknown; readonly selections?: readonly string[] };
+  if (prepared.hook === 'patient-view') {
+    const entry = prepared.data.activeOrders.map((resource) => ({ resource }));
+    return { hook: prepared.hook, draftOrders: { resourceType: 'Bundle', entry }, selections: undefined, data: prepared.data };
+  }
+  const selections = prepared.hook === 'order-select' ? context.selections : undefined;
+  return { hook: prepared.hook, draftOrders: context.draftOrders, selections, data: prepared.data };
+}
+
+function readFacts(prepared: PreparedCase, files: LoadedFiles, now: Date): Facts {
+  return extractFacts(factsInput(prepared), files.policy, now);
+}
+
+/** The first phase of `evaluateHook` alone; the count only keeps the work from being optimised away. */
+export function readFactsPrepared(prepared: PreparedCase, files: LoadedFiles, now: Date): number {
+  return readFacts(prepared, files, now).setAside.length + 1;
+}
+
+/** Its first two phases, facts then rules, with the same policy and clock; returns the findings. */
+export function runRulesPrepared(prepared: PreparedCase, files: LoadedFiles, now: Date): number {
+  const facts = readFacts(prepared, files, now);
+  return evaluateOrder(facts, files.policy, { hook: prepared.hook, now }).findings.length;
 }
 
 /** What the service does per call minus HTTP: parse, validate, gather, evaluate, serialise. */
@@ -137,6 +177,10 @@ export interface MicroResult {
   /** `JSON.parse` of the request text alone; absent from runs before issue 9. */
   readonly parseOnly?: Timing;
   readonly evaluate: Timing;
+  /** `extractFacts` alone, as evaluateHook calls it; absent from runs before the phases were timed. */
+  readonly facts?: Timing;
+  /** `extractFacts` then `evaluateOrder`, as evaluateHook calls them; absent likewise. */
+  readonly factsAndRules?: Timing;
   readonly wholePath: Timing;
 }
 
@@ -147,13 +191,21 @@ export async function runMicro(
   settings: MicroSettings,
 ): Promise<MicroResult> {
   const prepared = await prepareCase(example);
+  const cards = evaluatePrepared(prepared, files, now);
+  // evaluateHook builds one card per finding: the same count says the phase loops run its calls.
+  if (runRulesPrepared(prepared, files, now) !== cards) {
+    throw new Error(`${example.name}: facts + rules found other than evaluateHook's ${cards} cards`);
+  }
   let sink = 0;
   for (let i = 0; i < settings.warmupIterations; i += 1) {
     sink += jsonRoundTrip(example.body) + jsonParseOnly(example.body) + evaluatePrepared(prepared, files, now);
+    sink += readFactsPrepared(prepared, files, now) + runRulesPrepared(prepared, files, now);
     sink += await runWholePath(example, files, now);
   }
   const baseline = new Samples();
   const parseOnly = new Samples();
+  const facts = new Samples();
+  const factsAndRules = new Samples();
   const evaluate = new Samples();
   const wholePath = new Samples();
   const perRound = Math.max(1, Math.ceil(settings.iterations / settings.rounds));
@@ -167,6 +219,16 @@ export async function runMicro(
       const start = performance.now();
       sink += jsonParseOnly(example.body);
       parseOnly.add(performance.now() - start);
+    }
+    for (let i = 0; i < perRound && facts.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += readFactsPrepared(prepared, files, now);
+      facts.add(performance.now() - start);
+    }
+    for (let i = 0; i < perRound && factsAndRules.elapsedMs < settings.maxMsPerLoop; i += 1) {
+      const start = performance.now();
+      sink += runRulesPrepared(prepared, files, now);
+      factsAndRules.add(performance.now() - start);
     }
     for (let i = 0; i < perRound && evaluate.elapsedMs < settings.maxMsPerLoop; i += 1) {
       const start = performance.now();
@@ -185,10 +247,12 @@ export async function runMicro(
   return {
     name: example.name,
     requestBytes: example.requestBytes,
-    cards: evaluatePrepared(prepared, files, now),
+    cards,
     baseline: baseline.timing(),
     parseOnly: parseOnly.timing(),
     evaluate: evaluate.timing(),
+    facts: facts.timing(),
+    factsAndRules: factsAndRules.timing(),
     wholePath: wholePath.timing(),
   };
 }

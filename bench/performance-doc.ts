@@ -1,10 +1,13 @@
 import {
   CDS_HOOKS_BUDGET_MS,
   NOISE_PERCENT,
+  engineLimit,
   findings,
   loadTable,
   microFinding,
   microTable,
+  phaseFindings,
+  phaseTable,
   type RunReport,
 } from './report.js';
 import { dominantAreas, profileSection } from './profile-report.js';
@@ -76,6 +79,29 @@ ${auditFindings(audit, baselineReqPerSec).map((line) => `- ${line}`).join('\n')}
 ${auditMicroTable(audit.micro, micro)}
 
 - ${auditMicroFinding(audit.micro, micro)}`;
+}
+
+/**
+ * Under the pure-pipeline table: its evaluateHook median split into phases, so issue 9's engine target
+ * can be checked phase by phase. Only facts and facts + rules are timed on their own; the cards' share
+ * is left as a difference because evaluateHook does not expose them as a separate call.
+ */
+export function renderPhasesSection(micro: RunReport['micro']): string {
+  return `#### Where an evaluation's time goes
+
+The same rounds also time the first two phases of \`evaluateHook\` on their own, on the same gathered
+data, policy and clock, called as it calls them: reading the facts (\`extractFacts\`,
+src/fhir/extract-facts.ts), and reading the facts then running the rules (\`evaluateOrder\`,
+src/core/engine.ts). "Cards and the rest" is \`evaluateHook\`'s median minus the facts + rules median:
+a difference of medians, so an estimate rather than a timed loop (noise can even make it negative). It
+covers building the cards, each card's workings and audit record, and finding the service and reading
+the context. Every figure is a median in µs, with its multiple of the same example's \`JSON.parse\`
+median in brackets. Issue 9's engine target is \`evaluateHook\` ≤ ${engineLimit()} × \`JSON.parse\`, on the median
+over the examples and on the 70 KB request (the last row) by itself.
+
+${phaseTable(micro)}
+
+${phaseFindings(micro).map((line) => `- ${line}`).join('\n')}`;
 }
 
 /** docs/performance.md, written whole from one run (`npm run bench -- --write-doc`). */
@@ -153,6 +179,8 @@ ${microTable(report.micro)}
 
 - ${microFinding(report.micro)}
 
+${renderPhasesSection(report.micro)}
+
 ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}`);
 
   const profiles: string[] = ['### What dominates', ''];
@@ -212,9 +240,9 @@ ${renderAuditSection(report.audit, report.baseline.meanReqPerSec, report.micro)}
   its first timed loop, then each example's own warm-up.
 - **Bounds.** Every load stops after its duration, after a cap on requests, and by a watchdog if
   autocannon overruns. The micro-benchmark loops stop at their iteration count or a time cap.
-- **Micro-benchmark.** The three loops (baseline, \`evaluateHook\`, whole path) take turns in rounds
-  after a warm-up, so a slow moment on a shared machine falls on all three; each iteration is timed
-  with \`performance.now()\`.
+- **Micro-benchmark.** The six loops (parse + stringify, \`JSON.parse\`, facts, facts + rules,
+  \`evaluateHook\`, whole path) take turns in rounds after a warm-up, so a slow moment on a shared
+  machine falls on all of them; each iteration is timed with \`performance.now()\`.
 - **Profiles.** The service is started a second time with \`--cpu-prof\` and loaded with the largest
   order-sign example; the pure path runs in a child process with \`--cpu-prof\`. Both are read by
   \`bench/cpu-profile.ts\`. Line numbers are those of the JavaScript that ran (tsc's or tsx's output).

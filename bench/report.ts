@@ -6,7 +6,7 @@ import type { MicroResult } from './micro.js';
 import type { BulkMeasurements } from './bulk-cases.js';
 import type { ColdStartResult } from './cold-start.js';
 import type { HttpTargetMeasurements } from './http-targets.js';
-import type { TargetFigure } from './targets.js';
+import { TARGETS, type TargetFigure } from './targets.js';
 
 /**
  * Turns one run's measurements into ratios and plain statements. Nothing here is a figure of its
@@ -251,4 +251,108 @@ export function microFinding(micro: readonly MicroResult[]): string {
     `the time of a JSON parse and stringify of the same request (medians)` +
     (slowest === undefined ? '.' : `; the slowest example's median was ${micros(slowest.evaluate.p50Us)} µs a call.`)
   );
+}
+
+/** Issue 9's engine limit, evaluateHook ≤ this × JSON.parse, as bench/targets.ts judges it. */
+export function engineLimit(): number {
+  const spec = TARGETS.find((t) => t.id === 'engine-examples');
+  if (spec === undefined) {
+    throw new Error('bench/targets.ts has no engine-examples target');
+  }
+  return spec.limit;
+}
+
+/** A difference of medians can come out below zero when the loops are noisy: print its sign. */
+const signedMicros = (us: number): string => (us < 0 ? `−${micros(-us)}` : micros(us));
+const signedRatio = (value: number): string => (value < 0 ? `−${ratio(-value)}` : ratio(value));
+
+/** "480 (6.00 ×)": a median in µs and as a multiple of the same example's `JSON.parse` median. */
+function phaseCell(us: number, parseUs: number | undefined): string {
+  return parseUs === undefined ? signedMicros(us) : `${signedMicros(us)} (${signedRatio(us / parseUs)})`;
+}
+
+interface Phases {
+  readonly name: string;
+  readonly parseUs: number;
+  readonly factsUs: number;
+  readonly factsAndRulesUs: number;
+  /** evaluateHook's median minus facts + rules' median: an estimate, not a timed loop. */
+  readonly cardsAndRestUs: number;
+  readonly evaluateUs: number;
+}
+
+/** The phase medians of one example, or undefined for a run that did not time them. */
+function phasesOf(m: MicroResult): Phases | undefined {
+  if (m.parseOnly === undefined || m.facts === undefined || m.factsAndRules === undefined) {
+    return undefined;
+  }
+  return {
+    name: m.name,
+    parseUs: m.parseOnly.p50Us,
+    factsUs: m.facts.p50Us,
+    factsAndRulesUs: m.factsAndRules.p50Us,
+    cardsAndRestUs: m.evaluate.p50Us - m.factsAndRules.p50Us,
+    evaluateUs: m.evaluate.p50Us,
+  };
+}
+
+/** Where an evaluation's time goes, per example: medians, each also as a multiple of `JSON.parse`. */
+export function phaseTable(micro: readonly MicroResult[]): string {
+  const notMeasured = 'not measured';
+  return markdownTable(
+    [
+      'example',
+      'JSON.parse µs',
+      'facts µs (× parse)',
+      'facts + rules µs (× parse)',
+      'cards and the rest µs (× parse)',
+      'evaluateHook µs (× parse)',
+    ],
+    micro.map((m) => {
+      const p = phasesOf(m);
+      const parseUs = m.parseOnly?.p50Us;
+      if (p === undefined) {
+        const parse = parseUs === undefined ? notMeasured : micros(parseUs);
+        return [m.name, parse, notMeasured, notMeasured, notMeasured, phaseCell(m.evaluate.p50Us, parseUs)];
+      }
+      return [
+        p.name,
+        micros(p.parseUs),
+        phaseCell(p.factsUs, p.parseUs),
+        phaseCell(p.factsAndRulesUs, p.parseUs),
+        phaseCell(p.cardsAndRestUs, p.parseUs),
+        phaseCell(p.evaluateUs, p.parseUs),
+      ];
+    }),
+  );
+}
+
+/** What each example's evaluateHook would have to lose to meet the engine limit, and whether facts + rules alone exceed it. */
+export function phaseFindings(micro: readonly MicroResult[]): string[] {
+  const phases = micro.flatMap((m) => phasesOf(m) ?? []);
+  if (phases.length === 0) {
+    return ['The phases of evaluateHook were not timed in this run.'];
+  }
+  const limit = engineLimit();
+  const allowedUs = (p: Phases): number => limit * p.parseUs;
+  const over = phases.filter((p) => p.evaluateUs > allowedUs(p));
+  const within = phases.filter((p) => p.evaluateUs <= allowedUs(p));
+  const losses = over.map(
+    (p) => `${micros(p.evaluateUs - allowedUs(p))} µs of ${micros(p.evaluateUs)} in ${p.name} (to ${micros(allowedUs(p))} µs)`,
+  );
+  const lines: string[] = [
+    over.length === 0
+      ? `evaluateHook's median is within ${limit} × JSON.parse in every example.`
+      : `To reach ${limit} × JSON.parse, evaluateHook's median would have to lose ${losses.join(', ')}` +
+        (within.length === 0 ? '.' : `; ${within.map((p) => p.name).join(', ')} ${within.length === 1 ? 'is' : 'are'} already within it.`),
+  ];
+  const rulesOver = phases.filter((p) => p.factsAndRulesUs > allowedUs(p));
+  lines.push(
+    rulesOver.length === 0
+      ? `Facts + rules alone take at most ${limit} × JSON.parse in every example.`
+      : `Facts + rules alone already take more than ${limit} × JSON.parse in ${rulesOver.length} of ${phases.length} examples ` +
+          `(${rulesOver.map((p) => `${p.name} ${ratio(p.factsAndRulesUs / p.parseUs)}`).join(', ')}): ` +
+          'there evaluateHook would stay above the target even if the cards cost nothing.',
+  );
+  return lines;
 }

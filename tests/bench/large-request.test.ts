@@ -1,6 +1,10 @@
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import { selectExamples } from '../../bench/cases.js';
 import { LARGE_REQUEST_OBSERVATIONS, largeExample, largeObservationSeries } from '../../bench/large-request.js';
-import { evaluatePrepared, loadBundledFiles, prepareCase, runMicro } from '../../bench/micro.js';
+import { evaluatePrepared, loadBundledFiles, prepareCase, runMicro, runRulesPrepared } from '../../bench/micro.js';
+
+const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 
 /**
  * The bench's large request (issue 9: "a 70 KB request with 200 observations") must be a call the
@@ -57,5 +61,29 @@ describe('runMicro', () => {
     expect(result.baseline.iterations).toBe(4);
     expect(result.evaluate.iterations).toBe(4);
     expect(result.cards).toBeGreaterThan(0);
+  });
+
+  it('times the facts and facts + rules phases as often as evaluateHook, each taking some time', async () => {
+    const files = await loadBundledFiles();
+    const now = new Date();
+    const result = await runMicro(largeExample(now, 20), files, now, { iterations: 4, rounds: 2, warmupIterations: 1, maxMsPerLoop: 60_000 });
+    for (const phase of [result.facts, result.factsAndRules]) {
+      expect(phase?.iterations).toBe(4);
+      expect(phase?.p50Us).toBeGreaterThan(0);
+    }
+  });
+});
+
+describe('the phase loops', () => {
+  it('find as many findings as evaluateHook builds cards, for order-sign and order-select alike', async () => {
+    const files = await loadBundledFiles();
+    const now = new Date();
+    const { sign, select } = selectExamples(ROOT, now, false);
+    expect(select.length).toBeGreaterThan(0);
+    for (const example of [...sign, ...select]) {
+      const prepared = await prepareCase(example);
+      // evaluateHook builds one card per finding (src/cds/evaluate-hook.ts), so the counts agree.
+      expect(runRulesPrepared(prepared, files, now), example.name).toBe(evaluatePrepared(prepared, files, now));
+    }
   });
 });
