@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { runAuditMicro, type AuditMicroResult, type AuditMicroSettings } from './audit-micro.js';
 import type { HookExample } from './cases.js';
-import { loadBundledFiles, runMicro, type MicroResult, type MicroSettings } from './micro.js';
+import { loadBundledFiles, prepareCase, runMicro, runPhases, type MicroResult, type MicroSettings } from './micro.js';
 
 /**
  * Child entry for the in-process micro-benchmarks (bench/micro.ts, bench/audit-micro.ts), so that they
@@ -57,7 +57,13 @@ async function main(jobFile: string): Promise<MicroChildOutput> {
   for (const example of job.auditExamples) {
     auditMicro.push(await runAuditMicro(example, files, now, job.scratch, job.audit));
   }
-  return { micro, auditMicro };
+  // Last, so that nothing the target loops above measured ran after calls to the phases alone.
+  const withPhases: MicroResult[] = [];
+  for (const [index, example] of job.examples.entries()) {
+    const phases = runPhases(example, await prepareCase(example), files, now, job.micro);
+    withPhases.push({ ...(micro[index] as MicroResult), phases });
+  }
+  return { micro: withPhases, auditMicro };
 }
 
 const [jobFile] = process.argv.slice(2);

@@ -283,16 +283,17 @@ interface Phases {
 
 /** The phase medians of one example, or undefined for a run that did not time them. */
 function phasesOf(m: MicroResult): Phases | undefined {
-  if (m.parseOnly === undefined || m.facts === undefined || m.factsAndRules === undefined) {
+  const p = m.phases;
+  if (p === undefined) {
     return undefined;
   }
   return {
     name: m.name,
-    parseUs: m.parseOnly.p50Us,
-    factsUs: m.facts.p50Us,
-    factsAndRulesUs: m.factsAndRules.p50Us,
-    cardsAndRestUs: m.evaluate.p50Us - m.factsAndRules.p50Us,
-    evaluateUs: m.evaluate.p50Us,
+    parseUs: p.parseOnly.p50Us,
+    factsUs: p.facts.p50Us,
+    factsAndRulesUs: p.factsAndRules.p50Us,
+    cardsAndRestUs: p.evaluate.p50Us - p.factsAndRules.p50Us,
+    evaluateUs: p.evaluate.p50Us,
   };
 }
 

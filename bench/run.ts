@@ -21,7 +21,7 @@ import { renderPerformanceDoc } from './performance-doc.js';
 import { BEFORE_FILE, beforeFileText, loadBeforeFigures } from './targets-doc.js';
 import { profileMicro, profileService } from './profiles.js';
 import { dominantAreas, profileSection } from './profile-report.js';
-import { findings, loadTable, microFinding, microTable, type AuditReport, type Machine, type RunReport, type TargetsReport } from './report.js';
+import { findings, loadTable, microFinding, microTable, phaseFindings, phaseTable, type AuditReport, type Machine, type RunReport, type TargetsReport } from './report.js';
 import { prepareService } from './service-process.js';
 
 /**
@@ -194,6 +194,10 @@ async function runBench(options: BenchOptions): Promise<number> {
     microTable(micro),
     '',
     `- ${microFinding(micro)}`,
+    '',
+    phaseTable(micro),
+    '',
+    ...phaseFindings(micro).map((line) => `- ${line}`),
     '',
     auditLoadTable(audit.pairs, http.baseline.meanReqPerSec),
     '',

@@ -19,11 +19,12 @@ function phased(name: string, us: { parse: number; facts: number; factsAndRules:
     requestBytes: 1000,
     cards: 2,
     baseline: timing(us.parse * 2),
-    parseOnly: timing(us.parse),
-    facts: timing(us.facts),
-    factsAndRules: timing(us.factsAndRules),
-    evaluate: timing(us.evaluate),
+    // The target loops' figures differ from the phase pass's, as two passes' medians do: the
+    // phase table must read the phase pass.
+    parseOnly: timing(us.parse + 1),
+    evaluate: timing(us.evaluate + 7),
     wholePath: timing(us.evaluate * 2),
+    phases: { parseOnly: timing(us.parse), facts: timing(us.facts), factsAndRules: timing(us.factsAndRules), evaluate: timing(us.evaluate) },
   };
 }
 
