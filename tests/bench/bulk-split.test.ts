@@ -12,6 +12,8 @@ import { bulkFigures } from '../../bench/targets.js';
  */
 
 const read: BulkChildResult = { mode: 'read', ms: 100, lines: 1000, bytes: 500_000, orders: 0, maxRssKb: 60_000 };
+/** The loop over the larger export: 0.05 ms a line, twice the smaller's pace, as the loop warms up too. */
+const readLarge: BulkChildResult = { ...read, ms: 200, lines: 4000, bytes: 2_000_000 };
 
 function simulate(lines: number, indexMs: number, blocks: readonly ReplayBlock[]): BulkChildResult {
   const replayMs = blocks.reduce((sum, b) => sum + b.ms, 0);
@@ -24,7 +26,7 @@ const block = (orders: number, ms: number): ReplayBlock => ({ orders, ms });
 /** 300 orders in blocks of 75, then 1200 in blocks of 300 whose last runs three times the first's pace. */
 const small = simulate(1000, 150, [block(75, 200), block(75, 100), block(75, 80), block(75, 70)]);
 const large = simulate(4000, 400, [block(300, 360), block(300, 150), block(300, 130), block(300, 120)]);
-const measured: BulkMeasurements = { smallOrders: 300, largeOrders: 1200, read, simulate: small, simulateLarge: large };
+const measured: BulkMeasurements = { smallOrders: 300, largeOrders: 1200, read, simulate: small, simulateLarge: large, readLarge };
 
 describe('the split of simulate against the read-and-parse loop', () => {
   it('gives each part as a multiple of the loop’s time for as many lines, adding up to the inverse of the target’s ratio', () => {
@@ -39,14 +41,14 @@ describe('the split of simulate against the read-and-parse loop', () => {
   });
 
   it('estimates the ratio on a very large export from the index build and the last block’s pace', () => {
-    const steady = steadyState(large, read);
+    const steady = steadyState(large, readLarge);
     // First block 1.2 ms an order, last 0.4: three times the pace.
     expect(steady?.firstOverLast).toBeCloseTo(3, 10);
-    // Index 400 ms over the loop's 400 ms for 4000 lines.
-    expect(steady?.indexTimesFloor).toBe(1);
-    // 1200 orders at 0.4 ms is 480 ms, over 400: 1.2; the ratio is 1 / (1 + 1.2).
-    expect(steady?.lastPaceReplayTimesFloor).toBeCloseTo(1.2, 10);
-    expect(steady?.estimatedRatio).toBeCloseTo(1 / 2.2, 10);
+    // Index 400 ms over the larger loop's 200 ms.
+    expect(steady?.indexTimesFloor).toBe(2);
+    // 1200 orders at 0.4 ms is 480 ms, over 200: 2.4; the ratio is 1 / (2 + 2.4).
+    expect(steady?.lastPaceReplayTimesFloor).toBeCloseTo(2.4, 10);
+    expect(steady?.estimatedRatio).toBeCloseTo(1 / 4.4, 10);
   });
 
   it('has nothing to split in a run from before the parts were kept, or with one block only', () => {
@@ -61,12 +63,14 @@ describe('the bulk part of the page', () => {
   it('shows each part, the blocks, the warm-up and the estimate, computed from the run', () => {
     const page = renderTargetsSection({ figures: [], bulk: measured }, undefined);
     expect(page).toContain('| 300 orders (the run above) | 150 ms, 1.50 × | 450 ms, 4.50 × | 200, 100, 80, 70 (75 orders each) |');
-    expect(page).toContain('| 1,200 orders | 400 ms, 1.00 × | 760 ms, 1.90 × | 360, 150, 130, 120 (300 orders each) |');
+    // Against the larger export's own loop, 200 ms: 400 / 200 and 760 / 200.
+    expect(page).toContain('| 1,200 orders | 400 ms, 2.00 × | 760 ms, 3.80 × | 360, 150, 130, 120 (300 orders each) |');
+    expect(page).toContain('| read and JSON.parse every line, 1200 orders (one turn) | 4,000 | 1,953 | 200 | 20,000 | 59 |');
     expect(page).toContain(
       'The last 300 orders of the 1,200-order run replayed 3.00 × faster than the first 300 (0.40 ms an order against 1.20 ms an order): the first ones run before V8 has optimised',
     );
-    expect(page).toContain("the index build's 1.00 × the loop's time (as in the 1,200-order run)");
-    expect(page).toContain("its last block's pace, 1.20 ×: 2.20 × in all, a throughput of about 0.45 × the loop's");
+    expect(page).toContain("the index build's 2.00 × the loop's time (as in the 1,200-order run)");
+    expect(page).toContain("its last block's pace, 2.40 ×: 4.40 × in all (the loop's own time per line taken as at 1,200 orders), a throughput of about 0.23 × the loop's");
   });
 
   it('says when the blocks ran at one pace, and names unequal blocks by their sizes', () => {
@@ -79,10 +83,12 @@ describe('the bulk part of the page', () => {
 
   it('still renders a run from before the parts were kept, saying the split is missing', () => {
     const strip = ({ indexMs: _i, replayMs: _r, replayBlocks: _b, ...rest }: BulkChildResult): BulkChildResult => rest;
-    const page = renderTargetsSection({ figures: [], bulk: { ...measured, simulate: strip(small), simulateLarge: strip(large) } }, undefined);
+    const { readLarge: _l, ...older } = measured;
+    const page = renderTargetsSection({ figures: [], bulk: { ...older, simulate: strip(small), simulateLarge: strip(large) } }, undefined);
     expect(page).toContain('| simulate, 1200 orders | 4,000 |');
     expect(page).toContain("Simulate's time was not split into index build and replay in this run.");
     expect(page).not.toContain('replayed');
+    expect(page).not.toContain('(one turn)');
     expect(renderTargetsSection({ figures: [] }, undefined)).not.toContain('not split');
   });
 });
