@@ -71,6 +71,8 @@ describe('the bulk part of the page', () => {
     );
     expect(page).toContain("the index build's 2.00 × the loop's time (as in the 1,200-order run)");
     expect(page).toContain("its last block's pace, 2.40 ×: 4.40 × in all (the loop's own time per line taken as at 1,200 orders), a throughput of about 0.23 × the loop's");
+    // 1 / 2: the index build's 2 × alone.
+    expect(page).toContain("even a replay that cost nothing would leave the index build's 2.00 ×, at most 0.50 × the loop's throughput.");
   });
 
   it('says when the blocks ran at one pace, and names unequal blocks by their sizes', () => {
