@@ -95,7 +95,7 @@ function bulkTable(targets: TargetsReport): string {
   );
 }
 
-/** "75 orders" for equal blocks, "300, 300 and 100 orders" otherwise. */
+/** "75 orders each" for equal blocks, "300, 300, 300, 100 orders" otherwise. */
 function blockSizes(r: BulkChildResult): string {
   const sizes = (r.replayBlocks ?? []).map((b) => b.orders);
   return new Set(sizes).size === 1 ? `${whole(sizes[0] ?? 0)} orders each` : `${sizes.map(whole).join(', ')} orders`;
@@ -175,7 +175,9 @@ function bulkSplitPart(targets: TargetsReport): string {
   const reading =
     '"× loop" is the part\'s time over the read-and-parse loop\'s time over the same export (for the larger export,' +
     ' the loop\'s one turn just before it: the loop warms up too, so each size has a floor of its own). The parts add up to' +
-    " simulate's time over the loop's, the inverse of the throughput ratio, so the target needs them to add up to 2 × or less.";
+    " simulate's time over the loop's, the inverse of the throughput ratio, so the target needs them to add up to 2 × or less." +
+    ' The replay asks V8 for a full garbage collection once indexing is done and every 250 orders (src/bulk/simulate.ts,' +
+    ' to keep its memory flat); each block carries those that fell in it, the first block the one after indexing too.';
   return [table, reading, warmUpSentence(bulk), steadyStateSentence(bulk)].filter((text) => text !== '').join('\n\n');
 }
 
