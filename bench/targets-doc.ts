@@ -131,7 +131,7 @@ function warmUpSentence(bulk: BulkMeasurements): string {
   if (firstOverLast <= 1 / 1.2) {
     return `${which} ${ratio(1 / firstOverLast)} slower than ${against}: warm-up does not explain that; other work on the machine may.`;
   }
-  return `${which} at about the pace of ${against}: no warm-up shows at this size.`;
+  return `${which} at about the pace of ${against}: no warm-up shows in this run.`;
 }
 
 function steadyStateSentence(bulk: BulkMeasurements): string {
