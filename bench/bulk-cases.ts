@@ -2,7 +2,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { writeDemoExport } from '../src/bulk/write-demo-export.js';
-import type { BulkChildResult } from './bulk-child.js';
+import type { BulkChildResult, ReplayBlock } from './bulk-child.js';
 import type { BuiltService } from './service-process.js';
 
 /**
@@ -30,6 +30,11 @@ export interface BulkMeasurements {
   readonly read: BulkChildResult;
   readonly simulate: BulkChildResult;
   readonly simulateLarge: BulkChildResult;
+  /**
+   * The read-and-parse loop once over the larger export, just before `simulateLarge`, so the larger
+   * export's parts are set against a floor of its own size; absent from older runs.
+   */
+  readonly readLarge?: BulkChildResult;
 }
 
 /** One bulk child on the same code as the service: the private build by plain node, or through tsx. */
@@ -82,14 +87,88 @@ export async function measureBulk(
         }
       }
     }
+    const readLarge = runChild(root, built, ['read', largeDir, built.codeRoot]);
+    progress(`bulk read, ${largeOrders} orders: ${Math.round(readLarge.ms)} ms, ${readLarge.lines} lines`);
     const simulateLarge = runChild(root, built, ['simulate', largeDir, built.codeRoot, policy, cards, proposed]);
     progress(`bulk simulate, ${largeOrders} orders: ${Math.round(simulateLarge.ms)} ms, peak ${Math.round(simulateLarge.maxRssKb / 1024)} MB`);
     if (read === undefined || simulate === undefined) {
       throw new Error('the bulk rounds measured nothing');
     }
-    return { smallOrders, largeOrders, read, simulate, simulateLarge };
+    return { smallOrders, largeOrders, read, simulate, simulateLarge, readLarge };
   } finally {
     rmSync(smallDir, { recursive: true, force: true });
     rmSync(largeDir, { recursive: true, force: true });
   }
+}
+
+/**
+ * A part's time as a multiple of the read-and-parse floor's time for as many NDJSON lines. Each export
+ * size needs a floor of its own size: the loop warms up too (it ran 86,000 lines a second at 300
+ * orders and 187,000 at 1200 in one hand run), so a floor scaled by lines would flatter the larger
+ * export's parts. Because the floor's throughput over simulate's is the inverse of simulate's time
+ * over the floor's, the parts add up: index + replay = 1 / the ratio issue 9 judges.
+ */
+export function timesFloor(ms: number, lines: number, floor: BulkChildResult): number {
+  return ms / ((floor.ms * lines) / floor.lines);
+}
+
+export interface BulkSplit {
+  readonly indexMs: number;
+  readonly replayMs: number;
+  readonly indexTimesFloor: number;
+  readonly replayTimesFloor: number;
+  readonly blocks: readonly ReplayBlock[];
+}
+
+/** One simulate run split into its parts; undefined for a run from before the parts were kept. */
+export function bulkSplit(simulate: BulkChildResult, floor: BulkChildResult): BulkSplit | undefined {
+  const { indexMs, replayMs, replayBlocks } = simulate;
+  if (indexMs === undefined || replayMs === undefined || replayBlocks === undefined) {
+    return undefined;
+  }
+  return {
+    indexMs,
+    replayMs,
+    indexTimesFloor: timesFloor(indexMs, simulate.lines, floor),
+    replayTimesFloor: timesFloor(replayMs, simulate.lines, floor),
+    blocks: replayBlocks,
+  };
+}
+
+export interface SteadyState {
+  readonly first: ReplayBlock;
+  readonly last: ReplayBlock;
+  /** The first block's ms per order over the last's: above 1 when the last ran faster. */
+  readonly firstOverLast: number;
+  readonly indexTimesFloor: number;
+  /** The whole replay at the last block's ms per order, as a multiple of the floor. */
+  readonly lastPaceReplayTimesFloor: number;
+  /** 1 / (index + replay at the last block's pace): the ratio a very large export would tend to. */
+  readonly estimatedRatio: number;
+}
+
+const msPerOrder = (block: ReplayBlock): number => block.ms / block.orders;
+
+/**
+ * What the ratio would be on an export so large that the replay's warm-up no longer counts: the index
+ * build at the cost per line this run measured, the replay at its last block's pace. An estimate that
+ * assumes the index build's cost per line stays as measured; undefined without two blocks to compare.
+ */
+export function steadyState(simulate: BulkChildResult, floor: BulkChildResult): SteadyState | undefined {
+  const split = bulkSplit(simulate, floor);
+  const first = split?.blocks[0];
+  const last = split?.blocks.at(-1);
+  if (split === undefined || first === undefined || last === undefined || split.blocks.length < 2 || first.orders === 0 || last.orders === 0) {
+    return undefined;
+  }
+  const orders = split.blocks.reduce((sum, block) => sum + block.orders, 0);
+  const lastPaceReplayTimesFloor = timesFloor(msPerOrder(last) * orders, simulate.lines, floor);
+  return {
+    first,
+    last,
+    firstOverLast: msPerOrder(first) / msPerOrder(last),
+    indexTimesFloor: split.indexTimesFloor,
+    lastPaceReplayTimesFloor,
+    estimatedRatio: 1 / (split.indexTimesFloor + lastPaceReplayTimesFloor),
+  };
 }

@@ -19,7 +19,8 @@ import type * as SimulateModule from '../src/bulk/simulate.js';
  * bench runs this file from the same build by plain node (`--runner dist`, both modes alike, so
  * neither side pays for a loader), or through tsx as `node --import tsx bench/bulk-child.ts ...`
  * (`--runner tsx`).
- * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb, cpuMs }.
+ * Prints one JSON line: { mode, ms, lines, bytes, orders, maxRssKb, cpuMs }, and in simulate mode also
+ * { indexMs, replayMs, replayBlocks }.
  */
 
 export interface BulkChildResult {
@@ -33,6 +34,58 @@ export interface BulkChildResult {
   readonly maxRssKb: number;
   /** CPU time (user + system, all threads) of the timed part: steadier than `ms` on a busy machine. */
   readonly cpuMs?: number;
+  /**
+   * Simulate only, absent from older runs: `ms` split into building the index (read, parse, insert into
+   * SQLite) and replaying the orders, so each part can be set against the read-and-parse floor.
+   */
+  readonly indexMs?: number;
+  readonly replayMs?: number;
+  /**
+   * Simulate only, absent from older runs: the replay's ms for each successive block of orders, in the
+   * order replayed. V8 optimises the replay's functions only after they have run many times, so on a
+   * larger export the first block against the last shows what that warm-up costs. The first block also
+   * carries the full garbage collection the replay makes of what indexing left behind.
+   */
+  readonly replayBlocks?: readonly ReplayBlock[];
+}
+
+export interface ReplayBlock {
+  /** Orders streamed in this block, skipped ones included (each costs its share of the replay). */
+  readonly orders: number;
+  readonly ms: number;
+}
+
+/** Blocks of 300 orders, or a quarter of the export when it is smaller, so a short run still has four. */
+const MAX_BLOCK_ORDERS = 300;
+const blockOrders = (total: number): number => Math.max(1, Math.min(MAX_BLOCK_ORDERS, Math.ceil(total / 4)));
+
+/**
+ * A progress listener for runSimulation that closes a block every `size` orders and at the last one;
+ * `finish` closes a block the count of orders never reached (should the index's count ever differ).
+ */
+function blockClock(size: number): { blocks: ReplayBlock[]; onProgress: (done: number, total: number) => void; finish: () => void } {
+  const blocks: ReplayBlock[] = [];
+  let blockStart = performance.now();
+  let blockStartDone = 0;
+  let lastDone = 0;
+  const close = (): void => {
+    const now = performance.now();
+    blocks.push({ orders: lastDone - blockStartDone, ms: now - blockStart });
+    blockStart = now;
+    blockStartDone = lastDone;
+  };
+  const onProgress = (done: number, total: number): void => {
+    lastDone = done;
+    if (done % size === 0 || done === total) {
+      close();
+    }
+  };
+  const finish = (): void => {
+    if (lastDone > blockStartDone) {
+      close();
+    }
+  };
+  return { blocks, onProgress, finish };
 }
 
 export function ndjsonFiles(dir: string): string[] {
@@ -75,7 +128,14 @@ async function readAndParse(dir: string): Promise<{ lines: number; bytes: number
   return { lines, bytes };
 }
 
-async function simulate(dir: string, codeRoot: string, policyPaths: readonly [string, string], cardsDir: string): Promise<number> {
+interface SimulateParts {
+  readonly orders: number;
+  readonly indexMs: number;
+  readonly replayMs: number;
+  readonly replayBlocks: readonly ReplayBlock[];
+}
+
+async function simulate(dir: string, codeRoot: string, policyPaths: readonly [string, string], cardsDir: string): Promise<SimulateParts> {
   const load = async <T>(path: string): Promise<T> => (await import(pathToFileURL(join(codeRoot, path)).href)) as T;
   const { loadPolicyAndCards } = await load<typeof LoadFilesModule>('config/load-files.js');
   const { buildExportIndex } = await load<typeof ExportIndexModule>('bulk/export-index.js');
@@ -92,11 +152,15 @@ async function simulate(dir: string, codeRoot: string, policyPaths: readonly [st
   const start = performance.now();
   const cpuStart = process.cpuUsage();
   const index = await buildExportIndex(dir, {});
+  const indexed = performance.now();
   try {
-    const report = await runSimulation(index, baseline, proposed);
-    timedMs = performance.now() - start;
+    const clock = blockClock(blockOrders(index.counts.oxygenOrders));
+    const report = await runSimulation(index, baseline, proposed, clock.onProgress);
+    const end = performance.now();
+    clock.finish();
+    timedMs = end - start;
     timedCpuMs = cpuMs(process.cpuUsage(cpuStart));
-    return report.tally.ordersEvaluated;
+    return { orders: report.tally.ordersEvaluated, indexMs: indexed - start, replayMs: end - indexed, replayBlocks: clock.blocks };
   } finally {
     index.close();
   }
@@ -112,7 +176,7 @@ async function main(): Promise<void> {
     process.stderr.write('usage: bulk-child.ts read|simulate EXPORT_DIR CODE_ROOT [POLICY CARDS_DIR [PROPOSED_POLICY]]\n');
     process.exit(2);
   }
-  let orders = 0;
+  let parts: SimulateParts | undefined;
   let counted: { lines: number; bytes: number };
   if (mode === 'read') {
     const start = performance.now();
@@ -125,7 +189,7 @@ async function main(): Promise<void> {
       process.stderr.write('simulate needs POLICY and CARDS_DIR\n');
       process.exit(2);
     }
-    orders = await simulate(dir, codeRoot, [policyPath, proposedPath ?? policyPath], cardsDir);
+    parts = await simulate(dir, codeRoot, [policyPath, proposedPath ?? policyPath], cardsDir);
     // Counted after the timed part, so the count is not in the figure.
     counted = await readAndParse(dir);
   }
@@ -134,9 +198,10 @@ async function main(): Promise<void> {
     ms: timedMs,
     lines: counted.lines,
     bytes: counted.bytes,
-    orders,
+    orders: parts?.orders ?? 0,
     maxRssKb: process.resourceUsage().maxRSS,
     cpuMs: timedCpuMs,
+    ...(parts === undefined ? {} : { indexMs: parts.indexMs, replayMs: parts.replayMs, replayBlocks: parts.replayBlocks }),
   };
   process.stdout.write(`${JSON.stringify(result)}\n`);
 }

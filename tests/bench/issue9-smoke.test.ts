@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { BENCH_ISSUER, BENCH_PUBLIC_URL, createBenchClient, signCalls, signToken, writeTrustFile } from '../../bench/bench-client.js';
-import { measureBulk } from '../../bench/bulk-cases.js';
+import { measureBulk, steadyState } from '../../bench/bulk-cases.js';
 import { selectExamples } from '../../bench/cases.js';
 import type { ChildServer } from '../../bench/child-server.js';
 import { measureColdStart } from '../../bench/cold-start.js';
@@ -152,6 +152,19 @@ describe('measureBulk', () => {
     expect(bulk.simulateLarge.orders).toBe(12);
     expect(bulk.simulate.maxRssKb).toBeGreaterThan(0);
     expect(bulkFigures(bulk).every((f) => Number.isFinite(f.value) && f.value > 0)).toBe(true);
+    // Simulate's time split into index build and replay, the replay in blocks of a quarter of the
+    // orders (3 orders: blocks of 1; 12 orders: blocks of 3), every order in one block.
+    for (const [run, blocks] of [[bulk.simulate, [1, 1, 1]], [bulk.simulateLarge, [3, 3, 3, 3]]] as const) {
+      expect((run.indexMs ?? 0) + (run.replayMs ?? 0)).toBeCloseTo(run.ms, 6);
+      expect(run.indexMs).toBeGreaterThan(0);
+      expect(run.replayBlocks?.map((b) => b.orders)).toEqual(blocks);
+      const blocksMs = (run.replayBlocks ?? []).reduce((sum, b) => sum + b.ms, 0);
+      expect(blocksMs).toBeGreaterThan(0);
+      expect(blocksMs).toBeLessThanOrEqual((run.replayMs ?? 0) + 1e-6);
+    }
+    // The larger export's own floor, over the same lines as its simulate.
+    expect(bulk.readLarge?.lines).toBe(bulk.simulateLarge.lines);
+    expect(steadyState(bulk.simulateLarge, bulk.readLarge ?? bulk.read)?.estimatedRatio).toBeGreaterThan(0);
   }, 180_000);
 });
 
