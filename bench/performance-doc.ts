@@ -151,7 +151,7 @@ Do not edit the numbers by hand: run the bench again.
   count differed between the check before its load and the check after. The one exception is the
   service's answers in the issue-9 target loads: a call it refuses there counts against its target.`);
 
-  sections.push(renderTargetsSection(report.targets, before));
+  sections.push(renderTargetsSection(report.targets, before, { micro: report.micro, cpus: report.machine.cpus }));
 
   sections.push(`## Latest run
 

@@ -1,7 +1,8 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { bulkSplit, steadyState, type BulkMeasurements } from './bulk-cases.js';
 import type { BulkChildResult } from './bulk-child.js';
-import { markdownTable, ratio, whole, type TargetsReport } from './report.js';
+import type { MicroResult } from './micro.js';
+import { markdownTable, phaseFindings, ratio, whole, type TargetsReport } from './report.js';
 import { TARGETS, answeredPerSecond, formatLimit, formatValue, judge, judgeAll, type BeforeFigures, type TargetFigure } from './targets.js';
 
 /**
@@ -233,7 +234,47 @@ function coldTable(targets: TargetsReport): string {
   );
 }
 
-export function renderTargetsSection(targets: TargetsReport | undefined, before: BeforeFigures | undefined): string {
+/** What the summary of failing targets reads besides the targets' own figures. */
+export interface RunContext {
+  /** The pure pipeline's results, for the phase split (bench/micro.ts). */
+  readonly micro?: readonly MicroResult[];
+  /** The machine's cores, to set the CPU the throughput target needs against. */
+  readonly cpus?: number;
+}
+
+/**
+ * For each target this run failed, one line on what meeting it would take, from this run's figures:
+ * the arithmetic behind the verdicts, set out where the reader meets them. The details sit under
+ * each target's own table further down.
+ */
+export function failingTargetsSummary(targets: TargetsReport | undefined, run: RunContext): string[] {
+  const failed = new Set(judgeAll(targets?.figures ?? []).filter((t) => t.verdict === 'FAIL').map((t) => t.id));
+  const lines: string[] = [];
+  const cpu = targets === undefined ? undefined : throughputCpuLine(targets);
+  if ((failed.has('http-mix-throughput') || failed.has('http-large-throughput')) && cpu !== undefined) {
+    const cores = run.cpus === undefined ? '' : ` This machine has ${run.cpus} cores in all.`;
+    lines.push(`**Throughput.** ${cpu}${cores}`);
+  }
+  if ((failed.has('engine-examples') || failed.has('engine-large')) && run.micro !== undefined && run.micro.some((m) => m.phases !== undefined)) {
+    lines.push(`**Engine.** ${phaseFindings(run.micro).join(' ')} (Where an evaluation's time goes, below.)`);
+  }
+  const bulk = targets?.bulk;
+  const split = bulk === undefined ? undefined : bulkSplit(bulk.simulate, bulk.read);
+  if (failed.has('bulk-throughput') && split !== undefined) {
+    lines.push(
+      `**Bulk.** Building the export's index alone (read, parse, insert into SQLite, so that memory stays flat) took ` +
+        `${ratio(split.indexTimesFloor)} the read-and-parse loop's time, and the replay ${ratio(split.replayTimesFloor)}; ` +
+        `the target needs the two to add up to 2 × or less, and even a replay that cost nothing would leave at most ` +
+        `${(1 / split.indexTimesFloor).toFixed(2)} × the loop's throughput.`,
+    );
+  }
+  return lines;
+}
+
+export function renderTargetsSection(targets: TargetsReport | undefined, before: BeforeFigures | undefined, run: RunContext = {}): string {
+  const summary = failingTargetsSummary(targets, run);
+  const summaryText =
+    summary.length === 0 ? '' : `\n\nWhat the targets this run failed would take, from its own figures:\n\n${summary.map((line) => `- ${line}`).join('\n')}`;
   const beforeText =
     before === undefined
       ? `No before figures were found (\`${BEFORE_FILE}\`).`
@@ -243,7 +284,7 @@ export function renderTargetsSection(targets: TargetsReport | undefined, before:
 Each target is a ratio measured side by side in one run (or, for cold start, a time), so a busy
 machine falls on both sides of it. The bench prints each with PASS or FAIL. ${beforeText}
 
-${targetsTable(targets, before)}
+${targetsTable(targets, before)}${summaryText}
 
 - **Hook throughput.** The service in production mode (\`node dist/server.js\`, a trust file naming the
   bench's own client with an ES384 key pair made at bench start, a valid token with its own \`jti\` on

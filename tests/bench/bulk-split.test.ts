@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { bulkSplit, steadyState, timesFloor, type BulkMeasurements } from '../../bench/bulk-cases.js';
 import type { BulkChildResult, ReplayBlock } from '../../bench/bulk-child.js';
-import { renderTargetsSection } from '../../bench/targets-doc.js';
+import type { MicroResult } from '../../bench/micro.js';
+import { failingTargetsSummary, renderTargetsSection } from '../../bench/targets-doc.js';
 import { bulkFigures } from '../../bench/targets.js';
 
 /**
@@ -94,5 +95,43 @@ describe('the bulk part of the page', () => {
     expect(page).not.toContain('replayed');
     expect(page).not.toContain('(one turn)');
     expect(renderTargetsSection({ figures: [] }, undefined)).not.toContain('not split');
+  });
+});
+
+describe('the summary of failing targets under the targets table', () => {
+  const timing = (p50Us: number) => ({ iterations: 10, meanUs: p50Us, p50Us, p99Us: p50Us * 2 });
+  const phased = (name: string, parseUs: number, factsAndRulesUs: number, evaluateUs: number): MicroResult => ({
+    name,
+    requestBytes: 1000,
+    cards: 2,
+    baseline: timing(parseUs * 2),
+    parseOnly: timing(parseUs),
+    evaluate: timing(evaluateUs),
+    wholePath: timing(evaluateUs * 2),
+    phases: { parseOnly: timing(parseUs), facts: timing(factsAndRulesUs / 2), factsAndRules: timing(factsAndRulesUs), evaluate: timing(evaluateUs) },
+  });
+  const micro = [phased('sign-a', 10, 20, 80)];
+
+  it('says what each failed target would take, from the run’s own figures', () => {
+    const figures = [...bulkFigures(measured), { id: 'engine-examples' as const, value: 8, basis: '' }];
+    const lines = failingTargetsSummary({ figures, bulk: measured }, { micro, cpus: 2 });
+    // Bulk: index 1.5 × the loop, replay 4.5 ×; a free replay leaves at most 1 / 1.5 = 0.67 ×.
+    expect(lines.find((l) => l.startsWith('**Bulk.**'))).toContain('took 1.50 × the read-and-parse loop\'s time, and the replay 4.50 ×');
+    expect(lines.find((l) => l.startsWith('**Bulk.**'))).toContain('at most 0.67 × the loop\'s throughput');
+    // Engine: 3 × 10 µs allowed, 80 − 30 = 50 µs to lose.
+    expect(lines.find((l) => l.startsWith('**Engine.**'))).toContain('would have to lose 50.0 µs of 80.0 in sign-a');
+    expect(renderTargetsSection({ figures, bulk: measured }, undefined, { micro, cpus: 2 })).toContain(
+      'What the targets this run failed would take, from its own figures:\n\n- **Engine.**',
+    );
+  });
+
+  it('says nothing of targets that passed, or whose parts were not measured', () => {
+    const passing = [{ id: 'engine-examples' as const, value: 2, basis: '' }, { id: 'bulk-throughput' as const, value: 0.6, basis: '' }];
+    expect(failingTargetsSummary({ figures: passing, bulk: measured }, { micro, cpus: 2 })).toEqual([]);
+    expect(renderTargetsSection({ figures: passing }, undefined)).not.toContain('What the targets this run failed would take');
+    // Failed, but from a run without the phase pass or the bulk split: nothing to say.
+    const failing = [{ id: 'engine-examples' as const, value: 8, basis: '' }];
+    const { phases: _dropped, ...older } = phased('old', 10, 20, 80);
+    expect(failingTargetsSummary({ figures: failing }, { micro: [older] })).toEqual([]);
   });
 });
