@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { bulkSplit, steadyState, timesFloor, type BulkMeasurements } from '../../bench/bulk-cases.js';
 import type { BulkChildResult, ReplayBlock } from '../../bench/bulk-child.js';
-import type { MicroResult } from '../../bench/micro.js';
 import { failingTargetsSummary, renderTargetsSection } from '../../bench/targets-doc.js';
 import { bulkFigures } from '../../bench/targets.js';
+import { inventedPhased } from './support/invented-micro.js';
 
 /**
  * Where simulate's time goes, from figures it is given: the index build and the replay each against
@@ -99,18 +99,7 @@ describe('the bulk part of the page', () => {
 });
 
 describe('the summary of failing targets under the targets table', () => {
-  const timing = (p50Us: number) => ({ iterations: 10, meanUs: p50Us, p50Us, p99Us: p50Us * 2 });
-  const phased = (name: string, parseUs: number, factsAndRulesUs: number, evaluateUs: number): MicroResult => ({
-    name,
-    requestBytes: 1000,
-    cards: 2,
-    baseline: timing(parseUs * 2),
-    parseOnly: timing(parseUs),
-    evaluate: timing(evaluateUs),
-    wholePath: timing(evaluateUs * 2),
-    phases: { parseOnly: timing(parseUs), facts: timing(factsAndRulesUs / 2), factsAndRules: timing(factsAndRulesUs), evaluate: timing(evaluateUs) },
-  });
-  const micro = [phased('sign-a', 10, 20, 80)];
+  const micro = [inventedPhased('sign-a', { parse: 10, facts: 10, factsAndRules: 20, evaluate: 80 })];
 
   it('says what each failed target would take, from the run’s own figures', () => {
     const figures = [...bulkFigures(measured), { id: 'engine-examples' as const, value: 8, basis: '' }];
@@ -131,7 +120,7 @@ describe('the summary of failing targets under the targets table', () => {
     expect(renderTargetsSection({ figures: passing }, undefined)).not.toContain('What the targets this run failed would take');
     // Failed, but from a run without the phase pass or the bulk split: nothing to say.
     const failing = [{ id: 'engine-examples' as const, value: 8, basis: '' }];
-    const { phases: _dropped, ...older } = phased('old', 10, 20, 80);
+    const { phases: _dropped, ...older } = inventedPhased('old', { parse: 10, facts: 10, factsAndRules: 20, evaluate: 80 });
     expect(failingTargetsSummary({ figures: failing }, { micro: [older] })).toEqual([]);
   });
 });

@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import type { LoadResult } from '../../bench/load-test.js';
-import type { MicroResult, Timing } from '../../bench/micro.js';
+import type { MicroResult } from '../../bench/micro.js';
 import { renderPerformanceDoc } from '../../bench/performance-doc.js';
 import { engineLimit, phaseFindings, phaseTable, type RunReport } from '../../bench/report.js';
 import { inventedMachine } from './support/invented-machine.js';
+import { inventedPhased, inventedTiming } from './support/invented-micro.js';
 
 /**
  * How the page splits evaluateHook's median into phases, from figures it is given. No timing is taken
@@ -11,22 +12,8 @@ import { inventedMachine } from './support/invented-machine.js';
  * the same request text.
  */
 
-const timing = (p50Us: number): Timing => ({ iterations: 10, meanUs: p50Us, p50Us, p99Us: p50Us * 2 });
-
-function phased(name: string, us: { parse: number; facts: number; factsAndRules: number; evaluate: number }): MicroResult {
-  return {
-    name,
-    requestBytes: 1000,
-    cards: 2,
-    baseline: timing(us.parse * 2),
-    // The target loops' figures differ from the phase pass's, as two passes' medians do: the
-    // phase table must read the phase pass.
-    parseOnly: timing(us.parse + 1),
-    evaluate: timing(us.evaluate + 7),
-    wholePath: timing(us.evaluate * 2),
-    phases: { parseOnly: timing(us.parse), facts: timing(us.facts), factsAndRules: timing(us.factsAndRules), evaluate: timing(us.evaluate) },
-  };
-}
+const timing = inventedTiming;
+const phased = inventedPhased;
 
 /** A result saved before the phases were timed, as older runs hold it. */
 const older = (name: string, evaluateUs: number, parseUs?: number): MicroResult => ({

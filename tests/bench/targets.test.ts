@@ -4,10 +4,10 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { cpuMsFromStat, mainThreadCpuMs, processCpuMs, type LoadResult } from '../../bench/load-test.js';
-import type { MicroResult, Timing } from '../../bench/micro.js';
 import { renderPerformanceDoc } from '../../bench/performance-doc.js';
 import type { RunReport } from '../../bench/report.js';
 import { inventedMachine } from './support/invented-machine.js';
+import { inventedMicro } from './support/invented-micro.js';
 import { BEFORE_FILE, beforeFileText, parseBeforeFigures, renderTargetsSection, targetsTable, throughputCpuLine } from '../../bench/targets-doc.js';
 import {
   TARGETS,
@@ -50,16 +50,7 @@ function load(reqPerSec: number, p99: number): LoadResult {
   };
 }
 
-const timing = (p50Us: number): Timing => ({ iterations: 10, meanUs: p50Us, p50Us, p99Us: p50Us * 2 });
-const micro = (name: string, parseUs: number, evaluateUs: number): MicroResult => ({
-  name,
-  requestBytes: 1000,
-  cards: 2,
-  baseline: timing(parseUs * 2),
-  parseOnly: timing(parseUs),
-  evaluate: timing(evaluateUs),
-  wholePath: timing(evaluateUs * 1.2),
-});
+const micro = inventedMicro;
 
 describe('judge', () => {
   it('passes a "at least" target at and above its limit and fails it below', () => {
