@@ -60,7 +60,7 @@ async function main(jobFile: string): Promise<MicroChildOutput> {
   // Last, so that nothing the target loops above measured ran after calls to the phases alone.
   const withPhases: MicroResult[] = [];
   for (const [index, example] of job.examples.entries()) {
-    const phases = runPhases(example, await prepareCase(example), files, now, job.micro);
+    const phases = runPhases(await prepareCase(example), files, now, job.micro);
     withPhases.push({ ...(micro[index] as MicroResult), phases });
   }
   return { micro: withPhases, auditMicro };

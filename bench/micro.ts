@@ -1,5 +1,5 @@
 import { performance } from 'node:perf_hooks';
-import { evaluateHook } from '../src/cds/evaluate-hook.js';
+import { evaluateHook, readOrderContext } from '../src/cds/evaluate-hook.js';
 import { parseHookRequest } from '../src/cds/parse-hook-request.js';
 import type { CardTemplates } from '../src/cds/card-templates.js';
 import type { CdsRequest } from '../src/cds/schemas.js';
@@ -83,19 +83,10 @@ export function evaluatePrepared(prepared: PreparedCase, files: LoadedFiles, now
   return result.response.cards.length;
 }
 
-/**
- * The orders and selections `evaluateHook` hands `extractFacts`, read from the validated context as
- * its private `readOrderContext` reads them (copied, so that the bench leaves src/ as it is). Built on
- * every call, as evaluateHook builds it, so the facts loop pays what evaluateHook pays.
- */
+/** What `evaluateHook` hands `extractFacts`, built on every call as it builds it. */
 function factsInput(prepared: PreparedCase): Parameters<typeof extractFacts>[0] {
-  const context = prepared.request.context as { readonly draftOrders?: unknown; readonly selections?: readonly string[] };
-  if (prepared.hook === 'patient-view') {
-    const entry = prepared.data.activeOrders.map((resource) => ({ resource }));
-    return { hook: prepared.hook, draftOrders: { resourceType: 'Bundle', entry }, selections: undefined, data: prepared.data };
-  }
-  const selections = prepared.hook === 'order-select' ? context.selections : undefined;
-  return { hook: prepared.hook, draftOrders: context.draftOrders, selections, data: prepared.data };
+  const { draftOrders, selections } = readOrderContext(prepared.hook, prepared.request.context, prepared.data);
+  return { hook: prepared.hook, draftOrders, selections, data: prepared.data };
 }
 
 function readFacts(prepared: PreparedCase, files: LoadedFiles, now: Date): Facts {
@@ -252,7 +243,8 @@ export async function runMicro(
  * target loops, lowered the 70 KB request's evaluateHook figure (1.56–1.75 × parse without them,
  * 1.24–1.42 × with them, in four runs), and the target must be measured as it was defined.
  */
-export function runPhases(example: HookExample, prepared: PreparedCase, files: LoadedFiles, now: Date, settings: MicroSettings): PhaseTimings {
+export function runPhases(prepared: PreparedCase, files: LoadedFiles, now: Date, settings: MicroSettings): PhaseTimings {
+  const { example } = prepared;
   const cards = evaluatePrepared(prepared, files, now);
   // evaluateHook builds one card per finding: the same count says the phase loops run its calls.
   if (runRulesPrepared(prepared, files, now) !== cards) {

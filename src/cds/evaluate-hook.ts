@@ -79,9 +79,9 @@ export interface CardWorkings {
  * The orders a hook call is about, as a Bundle, and the selections. order-sign and order-select carry
  * them in `context.draftOrders`; patient-view has none, so its orders on record stand in for them: the
  * rules' subject is the active oxygen order, and a suggestion's `update` carries that whole resource
- * revised (src/fhir/apply-change.ts).
+ * revised (src/fhir/apply-change.ts). Exported for the bench, which times the facts phase alone.
  */
-function readOrderContext(
+export function readOrderContext(
   hook: HookName,
   context: unknown,
   data: GatheredData,

@@ -67,7 +67,7 @@ describe('runMicro', () => {
     const files = await loadBundledFiles();
     const now = new Date();
     const example = largeExample(now, 20);
-    const phases = runPhases(example, await prepareCase(example), files, now, { iterations: 4, rounds: 2, warmupIterations: 1, maxMsPerLoop: 60_000 });
+    const phases = runPhases(await prepareCase(example), files, now, { iterations: 4, rounds: 2, warmupIterations: 1, maxMsPerLoop: 60_000 });
     for (const phase of [phases.parseOnly, phases.facts, phases.factsAndRules, phases.evaluate]) {
       expect(phase.iterations).toBe(4);
       expect(phase.p50Us).toBeGreaterThan(0);
