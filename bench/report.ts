@@ -6,7 +6,7 @@ import type { MicroResult } from './micro.js';
 import type { BulkMeasurements } from './bulk-cases.js';
 import type { ColdStartResult } from './cold-start.js';
 import type { HttpTargetMeasurements } from './http-targets.js';
-import { TARGETS, type TargetFigure } from './targets.js';
+import { targetLimit, type TargetFigure } from './targets.js';
 
 /**
  * Turns one run's measurements into ratios and plain statements. Nothing here is a figure of its
@@ -254,13 +254,7 @@ export function microFinding(micro: readonly MicroResult[]): string {
 }
 
 /** Issue 9's engine limit, evaluateHook ≤ this × JSON.parse, as bench/targets.ts judges it. */
-export function engineLimit(): number {
-  const spec = TARGETS.find((t) => t.id === 'engine-examples');
-  if (spec === undefined) {
-    throw new Error('bench/targets.ts has no engine-examples target');
-  }
-  return spec.limit;
-}
+export const engineLimit = (): number => targetLimit('engine-examples');
 
 /** A difference of medians can come out below zero when the loops are noisy: print its sign. */
 const signedMicros = (us: number): string => (us < 0 ? `−${micros(-us)}` : micros(us));

@@ -3,7 +3,7 @@ import { bulkSplit, steadyState, type BulkMeasurements } from './bulk-cases.js';
 import type { BulkChildResult } from './bulk-child.js';
 import type { MicroResult } from './micro.js';
 import { markdownTable, phaseFindings, ratio, whole, type TargetsReport } from './report.js';
-import { TARGETS, answeredPerSecond, formatLimit, formatValue, judge, judgeAll, type BeforeFigures, type TargetFigure } from './targets.js';
+import { TARGETS, answeredPerSecond, formatLimit, formatValue, judge, judgeAll, targetLimit, type BeforeFigures, type TargetFigure } from './targets.js';
 
 /**
  * The issue-9 section of docs/performance.md: every target with its limit, the "before" figure kept
@@ -77,8 +77,8 @@ function httpTable(targets: TargetsReport): string {
 }
 
 /**
- * What the throughput target asks of the CPU, from the mix's figures: the service at 0.85 × the
- * baseline's rate, with the load generator sending it, needs this many cores' worth of CPU time. On a
+ * What the throughput target asks of the CPU, from the mix's figures: the service at the target's
+ * multiple of the baseline's rate, with the load generator sending it, needs this many cores' worth of CPU time. On a
  * machine with fewer cores than that, no change short of cheaper calls can meet the target.
  */
 export function throughputCpuLine(targets: TargetsReport): string | undefined {
@@ -90,13 +90,14 @@ export function throughputCpuLine(targets: TargetsReport): string | undefined {
   }
   const baseline = mix.baseline.serverCpuMsPerCall;
   const eventLoop = mix.service.serverMainThreadCpuMsPerCall;
-  const rate = 0.85 * answeredPerSecond(mix.baseline);
+  const limit = targetLimit('http-mix-throughput');
+  const rate = limit * answeredPerSecond(mix.baseline);
   const cores = (rate * (service + client)) / 1000;
   return (
     `On the mix a call cost the service ${service.toFixed(2)} ms of CPU over all its threads` +
     `${eventLoop === undefined ? '' : ` (${eventLoop.toFixed(2)} ms on its event loop; the rest on the thread pool's signature checks, the store's worker thread and V8's helper threads)`}` +
     `${baseline === undefined ? '' : `, against the baseline's ${baseline.toFixed(2)} ms`}, ` +
-    `and the load generator spent ${client.toFixed(2)} ms sending it. 0.85 × the baseline's rate is ${whole(rate)} calls a second, ` +
+    `and the load generator spent ${client.toFixed(2)} ms sending it. ${limit} × the baseline's rate is ${whole(rate)} calls a second, ` +
     `which at these costs needs ${cores.toFixed(2)} cores' worth of CPU for the service and the load generator together.`
   );
 }
@@ -152,6 +153,9 @@ function splitRow(label: string, r: BulkChildResult, read: BulkChildResult | und
   ];
 }
 
+/** Issue 9's bulk limit: simulate's throughput at least this × the read-and-parse loop's. */
+const bulkLimit = (): number => targetLimit('bulk-throughput');
+
 /** One plain sentence on the larger export's first block against its last, from this run's figures. */
 function warmUpSentence(bulk: BulkMeasurements): string {
   const steady = bulk.readLarge === undefined ? undefined : steadyState(bulk.simulateLarge, bulk.readLarge);
@@ -183,7 +187,7 @@ function steadyStateSentence(bulk: BulkMeasurements): string {
     ` the index build's ${ratio(steady.indexTimesFloor)} the loop's time (as in the ${whole(bulk.largeOrders)}-order run)` +
     ` plus the replay at its last block's pace, ${ratio(steady.lastPaceReplayTimesFloor)}: ${ratio(sum)} in all` +
     ` (the loop's own time per line taken as at ${whole(bulk.largeOrders)} orders),` +
-    ` a throughput of about ${steady.estimatedRatio.toFixed(2)} × the loop's (the target, 0.5 ×, needs 2.00 × or less in all).` +
+    ` a throughput of about ${steady.estimatedRatio.toFixed(2)} × the loop's (the target, ${bulkLimit()} ×, needs ${(1 / bulkLimit()).toFixed(2)} × or less in all).` +
     // Part of the last block may still run before V8 has optimised the engine, so the estimate can
     // lean low; the index build's share does not depend on the replay at all, hence the bound.
     ` If the last block was itself still warming up, the figure would be somewhat higher; but even a replay that cost` +
@@ -213,7 +217,7 @@ function bulkSplitPart(targets: TargetsReport): string {
   const reading =
     '"× loop" is the part\'s time over the read-and-parse loop\'s time over the same export (for the larger export,' +
     ' the loop\'s one turn just before it: the loop warms up too, so each size has a floor of its own). The parts add up to' +
-    " simulate's time over the loop's, the inverse of the throughput ratio, so the target needs them to add up to 2 × or less." +
+    ` simulate's time over the loop's, the inverse of the throughput ratio, so the target needs them to add up to ${1 / bulkLimit()} × or less.` +
     ' The replay asks V8 for a full garbage collection once indexing is done and every 250 orders (src/bulk/simulate.ts,' +
     ' to keep its memory flat); each block carries those that fell in it, the first block the one after indexing too.';
   return [table, reading, warmUpSentence(bulk), steadyStateSentence(bulk)].filter((text) => text !== '').join('\n\n');
@@ -264,7 +268,7 @@ export function failingTargetsSummary(targets: TargetsReport | undefined, run: R
     lines.push(
       `**Bulk.** Building the export's index alone (read, parse, insert into SQLite, so that memory stays flat) took ` +
         `${ratio(split.indexTimesFloor)} the read-and-parse loop's time, and the replay ${ratio(split.replayTimesFloor)}; ` +
-        `the target needs the two to add up to 2 × or less, and even a replay that cost nothing would leave at most ` +
+        `the target needs the two to add up to ${1 / bulkLimit()} × or less, and even a replay that cost nothing would leave at most ` +
         `${(1 / split.indexTimesFloor).toFixed(2)} × the loop's throughput.`,
     );
   }

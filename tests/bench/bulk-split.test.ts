@@ -72,6 +72,9 @@ describe('the bulk part of the page', () => {
     );
     expect(page).toContain("the index build's 2.00 × the loop's time (as in the 1,200-order run)");
     expect(page).toContain("its last block's pace, 2.40 ×: 4.40 × in all (the loop's own time per line taken as at 1,200 orders), a throughput of about 0.23 × the loop's");
+    // Issue 9's bulk target, 0.5 × the loop's throughput, is simulate's time at most 1 / 0.5 = 2 × the loop's.
+    expect(page).toContain("a throughput of about 0.23 × the loop's (the target, 0.5 ×, needs 2.00 × or less in all)");
+    expect(page).toContain('so the target needs them to add up to 2 × or less.');
     // 1 / 2: the index build's 2 × alone.
     expect(page).toContain("even a replay that cost nothing would leave the index build's 2.00 ×, at most 0.50 × the loop's throughput.");
   });
