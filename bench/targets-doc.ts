@@ -1,5 +1,5 @@
 import { existsSync, readFileSync } from 'node:fs';
-import { bulkSplit, steadyState, type BulkMeasurements } from './bulk-cases.js';
+import { bulkSplit, steadyState, type BulkMeasurements, type SteadyState } from './bulk-cases.js';
 import type { BulkChildResult } from './bulk-child.js';
 import type { MicroResult } from './micro.js';
 import { markdownTable, phaseFindings, ratio, whole, type TargetsReport } from './report.js';
@@ -157,11 +157,7 @@ function splitRow(label: string, r: BulkChildResult, read: BulkChildResult | und
 const bulkLimit = (): number => targetLimit('bulk-throughput');
 
 /** One plain sentence on the larger export's first block against its last, from this run's figures. */
-function warmUpSentence(bulk: BulkMeasurements): string {
-  const steady = bulk.readLarge === undefined ? undefined : steadyState(bulk.simulateLarge, bulk.readLarge);
-  if (steady === undefined) {
-    return '';
-  }
+function warmUpSentence(bulk: BulkMeasurements, steady: SteadyState): string {
   const { first, last, firstOverLast } = steady;
   const pace = (b: typeof first): string => `${(b.ms / b.orders).toFixed(2)} ms an order`;
   const which = `The last ${whole(last.orders)} orders of the ${whole(bulk.largeOrders)}-order run replayed`;
@@ -176,11 +172,7 @@ function warmUpSentence(bulk: BulkMeasurements): string {
   return `${which} at about the pace of ${against}: no warm-up shows in this run.`;
 }
 
-function steadyStateSentence(bulk: BulkMeasurements): string {
-  const steady = bulk.readLarge === undefined ? undefined : steadyState(bulk.simulateLarge, bulk.readLarge);
-  if (steady === undefined) {
-    return '';
-  }
+function steadyStateSentence(bulk: BulkMeasurements, steady: SteadyState): string {
   const sum = steady.indexTimesFloor + steady.lastPaceReplayTimesFloor;
   return (
     `An estimate, not a measurement: on an export large enough for the warm-up not to count, simulate would take` +
@@ -220,7 +212,9 @@ function bulkSplitPart(targets: TargetsReport): string {
     ` simulate's time over the loop's, the inverse of the throughput ratio, so the target needs them to add up to ${1 / bulkLimit()} × or less.` +
     ' The replay asks V8 for a full garbage collection once indexing is done and every 250 orders (src/bulk/simulate.ts,' +
     ' to keep its memory flat); each block carries those that fell in it, the first block the one after indexing too.';
-  return [table, reading, warmUpSentence(bulk), steadyStateSentence(bulk)].filter((text) => text !== '').join('\n\n');
+  const steady = bulk.readLarge === undefined ? undefined : steadyState(bulk.simulateLarge, bulk.readLarge);
+  const sentences = steady === undefined ? [] : [warmUpSentence(bulk, steady), steadyStateSentence(bulk, steady)];
+  return [table, reading, ...sentences].join('\n\n');
 }
 
 function coldTable(targets: TargetsReport): string {
